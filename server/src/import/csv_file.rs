@@ -1,0 +1,196 @@
+//! CSV alert files: a header row, comma or semicolon separated.
+
+use super::{
+    CONFIDENCE_NAMES, DATE_NAMES, LAT_NAMES, LON_NAMES, Parsed, ReadOptions, RowError, build_row,
+};
+
+fn file_error(file: &str, line: usize, field: &str, message: String) -> RowError {
+    RowError {
+        file: file.into(),
+        line,
+        unit: "line",
+        field: field.into(),
+        message,
+    }
+}
+
+/// Find a column by the name the user gave, or by the usual names.
+fn find_column(
+    headers: &[String],
+    given: Option<&str>,
+    usual: &[&str],
+    what: &str,
+) -> Result<usize, String> {
+    let norm = |s: &str| s.trim().trim_start_matches('\u{feff}').to_ascii_lowercase();
+    if let Some(g) = given {
+        return headers
+            .iter()
+            .position(|h| norm(h) == norm(g))
+            .ok_or_else(|| format!("the {what} column '{g}' is not in the header"));
+    }
+    headers
+        .iter()
+        .position(|h| usual.contains(&norm(h).as_str()))
+        .ok_or_else(|| {
+            format!(
+                "no {what} column: expected one of {} (or name it with a flag)",
+                usual.join(", ")
+            )
+        })
+}
+
+pub fn parse(file: &str, bytes: &[u8], opts: &ReadOptions) -> Parsed {
+    let mut out = Parsed {
+        rows_read: 0,
+        alerts: Vec::new(),
+        errors: Vec::new(),
+    };
+    let Ok(text) = std::str::from_utf8(bytes) else {
+        out.errors
+            .push(file_error(file, 0, "(file)", "file is not UTF-8 text".into()));
+        return out;
+    };
+    let first_line = text.lines().next().unwrap_or("");
+    let delimiter = if first_line.matches(';').count() > first_line.matches(',').count() {
+        b';'
+    } else {
+        b','
+    };
+    let mut reader = csv::ReaderBuilder::new()
+        .delimiter(delimiter)
+        .flexible(true)
+        .from_reader(text.as_bytes());
+    let headers: Vec<String> = match reader.headers() {
+        Ok(h) if !h.is_empty() && !(h.len() == 1 && h[0].trim().is_empty()) => {
+            h.iter().map(str::to_string).collect()
+        }
+        _ => {
+            out.errors
+                .push(file_error(file, 1, "(header)", "the file has no header row".into()));
+            return out;
+        }
+    };
+    let cols = [
+        find_column(&headers, opts.lon_column.as_deref(), LON_NAMES, "longitude"),
+        find_column(&headers, opts.lat_column.as_deref(), LAT_NAMES, "latitude"),
+        find_column(&headers, opts.date_column.as_deref(), DATE_NAMES, "date"),
+        find_column(
+            &headers,
+            opts.confidence_column.as_deref(),
+            CONFIDENCE_NAMES,
+            "confidence",
+        ),
+    ];
+    let mut idx = [0usize; 4];
+    for (i, c) in cols.into_iter().enumerate() {
+        match c {
+            Ok(v) => idx[i] = v,
+            Err(m) => out.errors.push(file_error(file, 1, "(header)", m)),
+        }
+    }
+    if !out.errors.is_empty() {
+        return out;
+    }
+    // Line numbers from byte offsets: the csv crate does not count the
+    // blank lines it skips.
+    let newlines: Vec<usize> = text.match_indices('\n').map(|(i, _)| i).collect();
+    let line_at = |byte: u64| {
+        let mut b = byte as usize;
+        while matches!(text.as_bytes().get(b), Some(b'\n' | b'\r')) {
+            b += 1;
+        }
+        newlines.partition_point(|&nl| nl < b) + 1
+    };
+    let names = idx.map(|i| headers[i].trim().to_string());
+    let fields = [
+        names[0].as_str(),
+        names[1].as_str(),
+        names[2].as_str(),
+        names[3].as_str(),
+    ];
+    for rec in reader.records() {
+        let rec = match rec {
+            Ok(r) => r,
+            Err(e) => {
+                let line = e.position().map(|p| line_at(p.byte())).unwrap_or(0);
+                out.rows_read += 1;
+                out.errors
+                    .push(file_error(file, line, "(row)", format!("unreadable CSV: {e}")));
+                continue;
+            }
+        };
+        if rec.iter().all(|c| c.trim().is_empty()) {
+            continue;
+        }
+        out.rows_read += 1;
+        let line = rec.position().map(|p| line_at(p.byte())).unwrap_or(0);
+        let cell = |i: usize| rec.get(i);
+        let raw = match (cell(idx[0]), cell(idx[1]), cell(idx[2]), cell(idx[3])) {
+            (Some(a), Some(b), Some(c), Some(d)) => [a, b, c, d],
+            _ => {
+                out.errors.push(file_error(
+                    file,
+                    line,
+                    "(row)",
+                    format!("expected {} columns, found {}", headers.len(), rec.len()),
+                ));
+                continue;
+            }
+        };
+        match build_row(raw, opts, line, fields) {
+            Ok(a) => out.alerts.push(a),
+            Err((field, message)) => out.errors.push(file_error(file, line, &field, message)),
+        }
+    }
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::domain::{Confidence, ConfidenceMap};
+
+    #[test]
+    fn reads_usual_names_and_semicolons() {
+        let text = "LAT;LON;date;confidence\n-3.1;-60.2;2026-02-01;confirmed\n\n-3.2;-60.3;2026-02-02;tentative\n";
+        let p = parse("a.csv", text.as_bytes(), &ReadOptions::default());
+        assert!(p.errors.is_empty(), "{:?}", p.errors);
+        assert_eq!(p.rows_read, 2);
+        assert_eq!(p.alerts[0].at.lon(), -60.2);
+        assert_eq!(p.alerts[1].line, 4);
+        assert_eq!(p.alerts[1].confidence, Confidence::Tentative);
+    }
+
+    #[test]
+    fn errors_name_line_and_field() {
+        let text = "longitude,latitude,detected_on,confidence\n-60,-3,2026-01-01,confirmed\n-60,95,2026-01-01,confirmed\nabc,-3,2026-01-01,confirmed\n-60,-3,2026-13-01,confirmed\n-60,-3,2026-01-01,7\n";
+        let p = parse("bad.csv", text.as_bytes(), &ReadOptions::default());
+        let got: Vec<(usize, &str)> = p.errors.iter().map(|e| (e.line, e.field.as_str())).collect();
+        assert_eq!(
+            got,
+            vec![(3, "latitude"), (4, "longitude"), (5, "detected_on"), (6, "confidence")]
+        );
+        assert_eq!(p.alerts.len(), 1);
+        assert!(p.errors[0].to_string().starts_with("bad.csv: line 3: field 'latitude'"));
+    }
+
+    #[test]
+    fn flags_name_columns_and_map_numbers() {
+        let text = "px,py,when,score\n10,20,2026-01-01,80\n";
+        let opts = ReadOptions {
+            lon_column: Some("px".into()),
+            lat_column: Some("py".into()),
+            date_column: Some("when".into()),
+            confidence_column: Some("score".into()),
+            confidence: ConfidenceMap {
+                numeric_threshold: Some(50.0),
+            },
+        };
+        let p = parse("f.csv", text.as_bytes(), &opts);
+        assert!(p.errors.is_empty(), "{:?}", p.errors);
+        assert_eq!(p.alerts[0].confidence, Confidence::Confirmed);
+        let missing = parse("f.csv", text.as_bytes(), &ReadOptions::default());
+        assert_eq!(missing.errors.len(), 4);
+        assert!(missing.errors[0].message.contains("longitude"));
+    }
+}

@@ -1,0 +1,18 @@
+//! Groundproof office server: alert import, clearing events, and the HTTP
+//! API. The binary (`main.rs`) is a thin command line over this library.
+//!
+//! Data flows one way: `import` parses files into validated alerts,
+//! `events` keeps clearing events in step with them using the pure
+//! `cluster` functions, `storage` is the only module that speaks SQL, and
+//! `web` is the only module that knows HTTP.
+
+pub mod cluster;
+pub mod domain;
+pub mod geodesy;
+pub mod error;
+pub mod events;
+pub mod import;
+pub mod stats;
+pub mod storage;
+
+pub use error::{Error, Result};

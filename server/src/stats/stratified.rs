@@ -1,0 +1,308 @@
+//! Stratified estimate of a proportion (Cochran-style), for example "share of
+//! alerts confirmed" when the visits are a stratified random sample with
+//! strata such as source × confidence.
+//!
+//! p̂_st = Σ W_h p̂_h with W_h = N_h / N, and
+//! V̂(p̂_st) = Σ W_h² · fpc_h · p̂_h(1 − p̂_h)/(n_h − 1), fpc_h = 1 − n_h/N_h
+//! (statistics.md §1.2a). The total is N·p̂_st with SE N·SE(p̂_st); the 95%
+//! interval is estimate ± z·SE, clipped to [0, 1] (to [0, N] for the total).
+//!
+//! Strata that cannot be used as they are, and what this module does:
+//! - n_h = 0 (unsampled): left out. The estimate then describes only the
+//!   population of the sampled strata; `population_covered` says how much.
+//! - n_h = 1: its p̂_h enters the estimate, but its variance cannot be
+//!   estimated, so the SE and interval are `None` (unless the stratum is a
+//!   census, n_h = N_h with the fpc, whose variance is exactly 0).
+//! - N_h = 0: weight 0; it changes nothing.
+//!
+//! The status of each stratum is reported in the result.
+
+use serde::Serialize;
+
+use super::StatsError;
+use super::interval::Estimate;
+
+/// Whether to apply the finite-population correction 1 − n_h/N_h. Use
+/// `Ignore` when N_h is an area rather than a count of units.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Fpc {
+    Apply,
+    Ignore,
+}
+
+/// One stratum of the sample: its population size and the visited counts.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct StratumCount {
+    pub label: String,
+    /// N_h: units (alerts) in the stratum, or its area when `Fpc::Ignore`.
+    pub population: f64,
+    /// n_h: units sampled and visited.
+    pub sampled: u64,
+    /// x_h: sampled units with the attribute (for example confirmed).
+    pub successes: u64,
+}
+
+/// How a stratum entered the estimate.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum StratumStatus {
+    /// n_h ≥ 2: estimate and variance.
+    Estimated,
+    /// n_h = N_h with the fpc applied: known exactly, variance 0.
+    Census,
+    /// n_h = 1: in the estimate, variance not estimable.
+    SingleUnit,
+    /// n_h = 0 and N_h > 0: left out of the estimate.
+    Unsampled,
+    /// N_h = 0: weight 0.
+    Empty,
+}
+
+/// Per-stratum detail of a [`StratifiedProportion`].
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct StratumResult {
+    pub label: String,
+    pub population: f64,
+    /// W_h = N_h / (population of the sampled strata); 0 when left out.
+    pub weight: f64,
+    pub sampled: u64,
+    pub successes: u64,
+    /// p̂_h, `None` when unsampled.
+    pub proportion: Option<f64>,
+    /// W_h² · fpc_h · p̂_h(1 − p̂_h)/(n_h − 1), `None` when not estimable.
+    pub variance_contribution: Option<f64>,
+    pub status: StratumStatus,
+}
+
+/// Result of [`stratified_proportion`].
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct StratifiedProportion {
+    /// p̂_st with SE and 95% interval (clipped to [0, 1]).
+    pub proportion: Estimate,
+    /// N_covered · p̂_st with SE and 95% interval (clipped to [0, N_covered]).
+    pub total: Estimate,
+    /// Σ N_h over all strata.
+    pub population: f64,
+    /// Σ N_h over the strata that were sampled (what the estimate describes).
+    pub population_covered: f64,
+    pub fpc: Fpc,
+    pub strata: Vec<StratumResult>,
+}
+
+/// Stratified proportion with optional finite-population correction.
+///
+/// Returns `Ok(None)` when no stratum with N_h > 0 has a sampled unit (no
+/// data). Errors: x_h > n_h; N_h negative or not finite; n_h > N_h when the
+/// fpc is applied.
+pub fn stratified_proportion(
+    strata: &[StratumCount],
+    fpc: Fpc,
+) -> Result<Option<StratifiedProportion>, StatsError> {
+    for (index, s) in strata.iter().enumerate() {
+        if s.successes > s.sampled {
+            return Err(StatsError::SuccessesExceedTrials {
+                successes: s.successes,
+                trials: s.sampled,
+            });
+        }
+        if !s.population.is_finite() {
+            return Err(StatsError::NotFinite {
+                what: "stratum population",
+            });
+        }
+        if s.population < 0.0 {
+            return Err(StatsError::Negative {
+                what: "stratum population",
+            });
+        }
+        if fpc == Fpc::Apply && s.sampled as f64 > s.population {
+            return Err(StatsError::SampleExceedsPopulation {
+                stratum: index,
+                sampled: s.sampled,
+                population: s.population,
+            });
+        }
+    }
+    let status_of = |s: &StratumCount| {
+        if s.population == 0.0 {
+            StratumStatus::Empty
+        } else if s.sampled == 0 {
+            StratumStatus::Unsampled
+        } else if fpc == Fpc::Apply && s.sampled as f64 == s.population {
+            StratumStatus::Census
+        } else if s.sampled == 1 {
+            StratumStatus::SingleUnit
+        } else {
+            StratumStatus::Estimated
+        }
+    };
+    let population: f64 = strata.iter().map(|s| s.population).sum();
+    let covered: f64 = strata
+        .iter()
+        .filter(|s| s.population > 0.0 && s.sampled > 0)
+        .map(|s| s.population)
+        .sum();
+    if covered <= 0.0 {
+        return Ok(None);
+    }
+    let mut estimate = 0.0;
+    let mut variance = Some(0.0);
+    let mut results = Vec::with_capacity(strata.len());
+    for s in strata {
+        let status = status_of(s);
+        let in_estimate = !matches!(status, StratumStatus::Empty | StratumStatus::Unsampled);
+        let weight = if in_estimate {
+            s.population / covered
+        } else {
+            0.0
+        };
+        let proportion = (s.sampled > 0).then(|| s.successes as f64 / s.sampled as f64);
+        let contribution = match (status, proportion) {
+            (StratumStatus::Estimated, Some(p)) => {
+                let n = s.sampled as f64;
+                let correction = match fpc {
+                    Fpc::Apply => 1.0 - n / s.population,
+                    Fpc::Ignore => 1.0,
+                };
+                Some(weight * weight * correction * p * (1.0 - p) / (n - 1.0))
+            }
+            (StratumStatus::SingleUnit, _) => None,
+            _ => Some(0.0),
+        };
+        if in_estimate {
+            estimate += weight * proportion.unwrap_or(0.0);
+            variance = variance.zip(contribution).map(|(v, c)| v + c);
+        }
+        results.push(StratumResult {
+            label: s.label.clone(),
+            population: s.population,
+            weight,
+            sampled: s.sampled,
+            successes: s.successes,
+            proportion,
+            variance_contribution: contribution,
+            status,
+        });
+    }
+    let se = variance.map(|v| v.max(0.0).sqrt());
+    let proportion = Estimate::normal(estimate, se, 0.0, 1.0);
+    Ok(Some(StratifiedProportion {
+        proportion,
+        total: proportion.scaled(covered),
+        population,
+        population_covered: covered,
+        fpc,
+        strata: results,
+    }))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn stratum(label: &str, population: f64, sampled: u64, successes: u64) -> StratumCount {
+        StratumCount {
+            label: label.to_string(),
+            population,
+            sampled,
+            successes,
+        }
+    }
+
+    /// statistics.md §2.4, a constructed alert example (not from a publication).
+    fn alert_example() -> Vec<StratumCount> {
+        vec![
+            stratum("corroborated", 400.0, 40, 34),
+            stratum("confirmed", 1000.0, 50, 30),
+            stratum("tentative", 600.0, 30, 9),
+        ]
+    }
+
+    #[test]
+    fn alert_example_with_and_without_fpc() {
+        // Values [C] in statistics.md §2.4: hand formula = samplics 0.6.0
+        // TaylorEstimator(PopParam.mean), 7 dp.
+        let with = stratified_proportion(&alert_example(), Fpc::Apply)
+            .expect("valid")
+            .expect("data");
+        let p = with.proportion;
+        assert!((p.estimate - 0.56).abs() < 1e-12);
+        assert!((p.se.expect("se") - 0.0435901).abs() < 5e-8);
+        let ci = p.ci95.expect("ci");
+        assert!((ci.lower - 0.4745650).abs() < 5e-8 && (ci.upper - 0.6454350).abs() < 5e-8);
+        assert!((with.total.estimate - 1120.0).abs() < 1e-9);
+        assert!((with.total.se.expect("se") - 2000.0 * 0.0435901).abs() < 2000.0 * 5e-8);
+
+        let without = stratified_proportion(&alert_example(), Fpc::Ignore)
+            .expect("valid")
+            .expect("data");
+        let p = without.proportion;
+        assert!((p.se.expect("se") - 0.0447994).abs() < 5e-8);
+        let ci = p.ci95.expect("ci");
+        assert!((ci.lower - 0.4721949).abs() < 5e-8 && (ci.upper - 0.6478051).abs() < 5e-8);
+        assert!(
+            with.strata
+                .iter()
+                .all(|s| s.status == StratumStatus::Estimated)
+        );
+    }
+
+    #[test]
+    fn single_stratum_reduces_to_simple_random_sample() {
+        // One stratum without fpc: SE = √(p(1−p)/(n−1)) (common practice).
+        let r = stratified_proportion(&[stratum("all", 1e6, 50, 20)], Fpc::Ignore)
+            .expect("valid")
+            .expect("data");
+        let expected = (0.4_f64 * 0.6 / 49.0).sqrt();
+        assert!((r.proportion.se.expect("se") - expected).abs() < 1e-15);
+    }
+
+    #[test]
+    fn awkward_strata_are_reported() {
+        let mut strata = alert_example();
+        strata.push(stratum("never-visited", 500.0, 0, 0));
+        strata.push(stratum("empty", 0.0, 0, 0));
+        let r = stratified_proportion(&strata, Fpc::Apply)
+            .expect("valid")
+            .expect("data");
+        // The unsampled stratum is left out: same estimate, covered population 2000 of 2500.
+        assert!((r.proportion.estimate - 0.56).abs() < 1e-12);
+        assert_eq!(r.population, 2500.0);
+        assert_eq!(r.population_covered, 2000.0);
+        assert_eq!(r.strata[3].status, StratumStatus::Unsampled);
+        assert_eq!(r.strata[4].status, StratumStatus::Empty);
+
+        strata.push(stratum("lonely", 50.0, 1, 1));
+        let r = stratified_proportion(&strata, Fpc::Apply)
+            .expect("valid")
+            .expect("data");
+        assert_eq!(r.strata[5].status, StratumStatus::SingleUnit);
+        assert_eq!(r.proportion.se, None);
+        assert_eq!(r.proportion.ci95, None);
+        // 0.56·2000/2050 + 1·50/2050.
+        assert!((r.proportion.estimate - (1120.0 + 50.0) / 2050.0).abs() < 1e-12);
+
+        // A census stratum (n_h = N_h) has zero variance even with n_h = 1.
+        let census = [stratum("a", 1.0, 1, 1), stratum("b", 10.0, 10, 3)];
+        let r = stratified_proportion(&census, Fpc::Apply)
+            .expect("valid")
+            .expect("data");
+        assert_eq!(r.proportion.se, Some(0.0));
+        assert_eq!(r.strata[0].status, StratumStatus::Census);
+    }
+
+    #[test]
+    fn no_data_and_bad_input() {
+        assert_eq!(stratified_proportion(&[], Fpc::Apply), Ok(None));
+        assert_eq!(
+            stratified_proportion(&[stratum("a", 10.0, 0, 0)], Fpc::Apply),
+            Ok(None)
+        );
+        assert!(stratified_proportion(&[stratum("a", 10.0, 3, 4)], Fpc::Apply).is_err());
+        assert!(stratified_proportion(&[stratum("a", 2.0, 3, 1)], Fpc::Apply).is_err());
+        assert!(stratified_proportion(&[stratum("a", 2.0, 3, 1)], Fpc::Ignore).is_ok());
+        assert!(stratified_proportion(&[stratum("a", f64::NAN, 3, 1)], Fpc::Ignore).is_err());
+        assert!(stratified_proportion(&[stratum("a", -1.0, 0, 0)], Fpc::Ignore).is_err());
+    }
+}

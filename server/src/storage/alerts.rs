@@ -1,0 +1,175 @@
+//! Alerts: insertion (batched; secondary indexes rebuilt after a bulk
+//! load) and the neighbourhood queries the event update needs.
+
+use super::{Reader, Tx};
+use crate::domain::{Confidence, Day};
+use crate::error::Result;
+use rusqlite::params;
+
+/// Above this many new rows an import drops the alert indexes, loads, and
+/// builds them again: building once is far cheaper than keeping a random
+/// key index up to date row by row (measured in the benchmark).
+const BULK_ROWS: usize = 100_000;
+
+/// A validated alert ready to store, with the event it joins.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct NewAlert {
+    pub source_id: i64,
+    pub lon: f64,
+    pub lat: f64,
+    pub day: Day,
+    pub confidence: Confidence,
+    pub event_id: i64,
+}
+
+/// An alert as stored.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct StoredAlert {
+    pub id: i64,
+    pub source_id: i64,
+    pub pixel_m: f64,
+    pub lon: f64,
+    pub lat: f64,
+    pub day: Day,
+    pub confidence: Confidence,
+    pub event_id: i64,
+}
+
+/// Integer micro-degrees ×10 (1e-7°, about 1 cm): the pixel identity used
+/// for duplicates.
+pub fn e7(v: f64) -> i64 {
+    (v * 1e7).round() as i64
+}
+
+/// Side of the coarse cells used to find stored alerts near new ones.
+pub const CELL_DEG: f64 = 0.01;
+
+/// The coarse cell of a position.
+pub fn cell_of(lon: f64, lat: f64) -> i64 {
+    let cy = ((lat + 90.0) / CELL_DEG).floor() as i64;
+    let cx = ((lon + 180.0) / CELL_DEG).floor() as i64;
+    cy * 100_000 + cx
+}
+
+fn stored(r: &rusqlite::Row<'_>) -> rusqlite::Result<StoredAlert> {
+    Ok(StoredAlert {
+        id: r.get(0)?,
+        source_id: r.get(1)?,
+        pixel_m: r.get(2)?,
+        lon: r.get(3)?,
+        lat: r.get(4)?,
+        day: Day::from_days(r.get(5)?),
+        confidence: Confidence::from_i64(r.get(6)?).unwrap_or(Confidence::Tentative),
+        event_id: r.get(7)?,
+    })
+}
+
+const SELECT: &str = "SELECT a.id, a.source_id, s.pixel_size_m, a.lon, a.lat, a.day, a.confidence, a.event_id
+     FROM alerts a JOIN sources s ON s.id = a.source_id";
+
+impl Tx<'_> {
+    /// Insert alerts of one import.
+    pub fn insert_alerts(&self, import_id: i64, alerts: &[NewAlert]) -> Result<()> {
+        let bulk = alerts.len() >= BULK_ROWS;
+        if bulk {
+            self.tx.execute_batch(
+                "DROP INDEX alerts_pixel; DROP INDEX alerts_cell; DROP INDEX alerts_event;",
+            )?;
+        }
+        {
+            let mut st = self.tx.prepare_cached(
+                "INSERT INTO alerts (source_id, import_id, lon, lat, lon_e7, lat_e7, day, confidence, cell, event_id)
+                 VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10)",
+            )?;
+            for a in alerts {
+                st.execute(params![
+                    a.source_id,
+                    import_id,
+                    a.lon,
+                    a.lat,
+                    e7(a.lon),
+                    e7(a.lat),
+                    a.day.days(),
+                    a.confidence.as_i64(),
+                    cell_of(a.lon, a.lat),
+                    a.event_id
+                ])?;
+            }
+        }
+        if bulk {
+            self.tx.execute_batch(
+                "CREATE UNIQUE INDEX alerts_pixel ON alerts(source_id, lon_e7, lat_e7, day);
+                 CREATE INDEX alerts_cell ON alerts(cell);
+                 CREATE INDEX alerts_event ON alerts(event_id);",
+            )?;
+        }
+        Ok(())
+    }
+
+    /// Move all alerts of `from` events to `to`.
+    pub fn reassign_alerts(&self, from: &[i64], to: i64) -> Result<()> {
+        let mut st = self
+            .tx
+            .prepare_cached("UPDATE alerts SET event_id = ?1 WHERE event_id = ?2")?;
+        for f in from {
+            st.execute(params![to, f])?;
+        }
+        Ok(())
+    }
+}
+
+impl Reader<'_> {
+    /// Alerts whose coarse cell is one of `cells`.
+    pub fn alerts_in_cells(&self, cells: &[i64]) -> Result<Vec<StoredAlert>> {
+        let mut st = self
+            .conn
+            .prepare_cached(&format!("{SELECT} WHERE a.cell = ?1"))?;
+        let mut out = Vec::new();
+        for c in cells {
+            for a in st.query_map([c], stored)? {
+                out.push(a?);
+            }
+        }
+        Ok(out)
+    }
+
+    /// All alerts of the given events.
+    pub fn alerts_of_events(&self, events: &[i64]) -> Result<Vec<StoredAlert>> {
+        let mut st = self
+            .conn
+            .prepare_cached(&format!("{SELECT} WHERE a.event_id = ?1 ORDER BY a.id"))?;
+        let mut out = Vec::new();
+        for e in events {
+            for a in st.query_map([e], stored)? {
+                out.push(a?);
+            }
+        }
+        Ok(out)
+    }
+
+    pub fn alert_count(&self) -> Result<i64> {
+        Ok(self
+            .conn
+            .query_row("SELECT COUNT(*) FROM alerts", [], |r| r.get(0))?)
+    }
+}
+
+/// The coarse cells to search for stored alerts that may link to new
+/// alerts at `points` (lon, lat), given the longest link distance.
+pub fn alerts_cells(points: &[(f64, f64)], max_link_m: f64) -> Vec<i64> {
+    let mut cells = std::collections::BTreeSet::new();
+    let dlat = max_link_m / 110_574.0; // metres per degree of latitude at the equator (WGS 84 minimum)
+    for &(lon, lat) in points {
+        let coslat = lat.to_radians().cos().max(0.01);
+        let dlon = dlat / coslat;
+        let ky = (dlat / CELL_DEG).ceil() as i64;
+        let kx = (dlon / CELL_DEG).ceil() as i64;
+        let c = cell_of(lon, lat);
+        for dy in -ky..=ky {
+            for dx in -kx..=kx {
+                cells.insert(c + dy * 100_000 + dx);
+            }
+        }
+    }
+    cells.into_iter().collect()
+}

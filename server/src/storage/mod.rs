@@ -1,0 +1,179 @@
+//! Storage: the only module that speaks SQL.
+//!
+//! One SQLite file in the data directory. At open, a bootstrap connection
+//! sets the busy timeout first, then WAL mode (once, outside any
+//! transaction), then applies the versioned migrations in one `BEGIN
+//! IMMEDIATE` transaction and refuses a database newer than this binary.
+//! Every connection gets `foreign_keys=ON` and `synchronous=FULL` (field
+//! data cannot be collected twice, so a commit must survive a power cut).
+//! All writes go through one writer connection behind a mutex, each in a
+//! `BEGIN IMMEDIATE` transaction so the busy timeout applies; reads use a
+//! small pool. Callers on the async executor wrap calls in
+//! `web::block`/`spawn_blocking`.
+
+mod alerts;
+mod events;
+mod schema;
+mod sources;
+mod zones;
+
+pub use alerts::{NewAlert, StoredAlert, alerts_cells, e7};
+pub use events::{EventFilter, EventRecord, EventWrite};
+pub use sources::Source;
+pub use zones::ZoneRecord;
+
+use crate::error::{Error, Result};
+use rusqlite::{Connection, OpenFlags, TransactionBehavior};
+use std::path::{Path, PathBuf};
+use std::sync::Mutex;
+use std::time::Duration;
+
+/// Busy timeout for every connection (rusqlite's own default, made explicit).
+const BUSY_TIMEOUT: Duration = Duration::from_secs(5);
+/// Read connections kept open for reuse.
+const READ_POOL: usize = 4;
+
+/// The database of one data directory.
+pub struct Db {
+    path: PathBuf,
+    writer: Mutex<Connection>,
+    readers: Mutex<Vec<Connection>>,
+}
+
+/// A write transaction (`BEGIN IMMEDIATE`); dropped without `commit` it
+/// rolls back.
+pub struct Tx<'a> {
+    tx: rusqlite::Transaction<'a>,
+}
+
+/// A read-only view of the database.
+pub struct Reader<'a> {
+    conn: &'a Connection,
+}
+
+fn configure(conn: &Connection) -> Result<()> {
+    conn.busy_timeout(BUSY_TIMEOUT)?;
+    conn.pragma_update(None, "foreign_keys", "ON")?;
+    conn.pragma_update(None, "synchronous", "FULL")?;
+    Ok(())
+}
+
+impl Db {
+    /// Open (creating if needed) the database in `data_dir`.
+    pub fn open(data_dir: &Path) -> Result<Db> {
+        std::fs::create_dir_all(data_dir)
+            .map_err(|e| Error::io(format!("creating data directory {}", data_dir.display()), e))?;
+        let path = data_dir.join("groundproof.sqlite3");
+        let mut boot = Connection::open(&path)?;
+        boot.busy_timeout(BUSY_TIMEOUT)?;
+        let mode: String = boot.query_row("PRAGMA journal_mode=WAL", [], |r| r.get(0))?;
+        if !mode.eq_ignore_ascii_case("wal") {
+            return Err(Error::Invalid(format!(
+                "the database at {} refused WAL mode (got '{mode}'); is it on a network file system?",
+                path.display()
+            )));
+        }
+        configure(&boot)?;
+        schema::migrate(&mut boot)?;
+        Ok(Db {
+            path,
+            writer: Mutex::new(boot),
+            readers: Mutex::new(Vec::new()),
+        })
+    }
+
+    pub fn path(&self) -> &Path {
+        &self.path
+    }
+
+    /// Run `f` in one write transaction; commit when it returns `Ok`.
+    pub fn write<T>(&self, f: impl FnOnce(&Tx<'_>) -> Result<T>) -> Result<T> {
+        let mut conn = self.writer.lock().unwrap_or_else(|p| p.into_inner());
+        let tx = conn.transaction_with_behavior(TransactionBehavior::Immediate)?;
+        let wrapped = Tx { tx };
+        let out = f(&wrapped)?;
+        wrapped.tx.commit()?;
+        Ok(out)
+    }
+
+    /// Run `f` on a read connection.
+    pub fn read<T>(&self, f: impl FnOnce(&Reader<'_>) -> Result<T>) -> Result<T> {
+        let pooled = self
+            .readers
+            .lock()
+            .unwrap_or_else(|p| p.into_inner())
+            .pop();
+        let conn = match pooled {
+            Some(c) => c,
+            None => {
+                let c = Connection::open_with_flags(
+                    &self.path,
+                    OpenFlags::SQLITE_OPEN_READ_ONLY | OpenFlags::SQLITE_OPEN_NO_MUTEX,
+                )?;
+                configure(&c)?;
+                c
+            }
+        };
+        let out = f(&Reader { conn: &conn });
+        let mut pool = self.readers.lock().unwrap_or_else(|p| p.into_inner());
+        if pool.len() < READ_POOL {
+            pool.push(conn);
+        }
+        out
+    }
+}
+
+impl<'a> Tx<'a> {
+    /// Reads inside this transaction (they see its own writes).
+    pub fn reader(&self) -> Reader<'_> {
+        Reader { conn: &self.tx }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn opens_with_the_promised_settings() {
+        let dir = tempfile::tempdir().unwrap();
+        let db = Db::open(dir.path()).unwrap();
+        db.read(|r| {
+            let mode: String = r.conn.query_row("PRAGMA journal_mode", [], |x| x.get(0))?;
+            let fk: i64 = r.conn.query_row("PRAGMA foreign_keys", [], |x| x.get(0))?;
+            let sync: i64 = r.conn.query_row("PRAGMA synchronous", [], |x| x.get(0))?;
+            assert_eq!((mode.as_str(), fk, sync), ("wal", 1, 2));
+            Ok(())
+        })
+        .unwrap();
+        drop(db);
+        // Reopening applies no migration twice.
+        Db::open(dir.path()).unwrap();
+    }
+
+    #[test]
+    fn refuses_a_newer_database() {
+        let dir = tempfile::tempdir().unwrap();
+        drop(Db::open(dir.path()).unwrap());
+        let c = Connection::open(dir.path().join("groundproof.sqlite3")).unwrap();
+        c.pragma_update(None, "user_version", 999).unwrap();
+        drop(c);
+        match Db::open(dir.path()) {
+            Err(Error::SchemaTooNew { found: 999, .. }) => {}
+            Err(other) => panic!("unexpected error {other}"),
+            Ok(_) => panic!("opened a database newer than the binary"),
+        }
+    }
+
+    #[test]
+    fn failed_write_leaves_nothing() {
+        let dir = tempfile::tempdir().unwrap();
+        let db = Db::open(dir.path()).unwrap();
+        let r: Result<()> = db.write(|tx| {
+            tx.add_source("optical-10m", 10.0, 5)?;
+            Err(Error::Invalid("stop".into()))
+        });
+        assert!(r.is_err());
+        assert!(db.read(|r| r.sources()).unwrap().is_empty());
+    }
+}
