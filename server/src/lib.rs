@@ -7,12 +7,17 @@
 //! `web` is the only module that knows HTTP.
 
 pub mod cluster;
+pub mod coords;
+pub mod demo;
 pub mod domain;
 pub mod geodesy;
 pub mod error;
 pub mod events;
 pub mod import;
+pub mod plan;
+pub mod settings;
 pub mod stats;
 pub mod storage;
+pub mod web;
 
 pub use error::{Error, Result};

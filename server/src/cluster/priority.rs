@@ -16,7 +16,7 @@ use serde::{Deserialize, Serialize};
 
 /// Weights and scales of the priority score.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
-#[serde(default)]
+#[serde(default, deny_unknown_fields)]
 pub struct PriorityWeights {
     pub area: f64,
     pub recency: f64,

@@ -4,7 +4,7 @@
 //! Svalbard, latitude limits, ±180°) was made by `tests/reference/coords/make_fixture.py` with
 //! GeoConvert from GeographicLib 2.1.2 (the version is in the file's header).
 
-use super::{to_mgrs, to_utm, Hemisphere, MgrsPrecision};
+use super::{Hemisphere, MgrsPrecision, to_mgrs, to_utm};
 
 const FIXTURE: &str = include_str!(concat!(
     env!("CARGO_MANIFEST_DIR"),
@@ -33,7 +33,11 @@ fn rows() -> Vec<Row<'static>> {
                 lat: f[0].parse().unwrap(),
                 lon: f[1].parse().unwrap(),
                 zone: f[2].parse().unwrap(),
-                hemi: if f[3] == "n" { Hemisphere::North } else { Hemisphere::South },
+                hemi: if f[3] == "n" {
+                    Hemisphere::North
+                } else {
+                    Hemisphere::South
+                },
                 easting: f[4].parse().unwrap(),
                 northing: f[5].parse().unwrap(),
                 mgrs: [f[6], f[7], f[8], f[9]],
@@ -49,12 +53,27 @@ fn utm_matches_geoconvert_to_the_millimetre() {
     let mut worst: f64 = 0.0;
     for r in &rows {
         let u = to_utm(r.lat, r.lon).unwrap();
-        assert_eq!((u.zone, u.hemisphere), (r.zone, r.hemi), "{} {}", r.lat, r.lon);
+        assert_eq!(
+            (u.zone, u.hemisphere),
+            (r.zone, r.hemi),
+            "{} {}",
+            r.lat,
+            r.lon
+        );
         // GeoConvert printed to 1 mm (-p 3), so agreement to the millimetre means the
         // difference is within half a millimetre plus float noise.
-        let d = (u.easting - r.easting).abs().max((u.northing - r.northing).abs());
+        let d = (u.easting - r.easting)
+            .abs()
+            .max((u.northing - r.northing).abs());
         worst = worst.max(d);
-        assert!(d <= 0.000_501, "{} {}: {u} vs {} {}", r.lat, r.lon, r.easting, r.northing);
+        assert!(
+            d <= 0.000_501,
+            "{} {}: {u} vs {} {}",
+            r.lat,
+            r.lon,
+            r.easting,
+            r.northing
+        );
     }
     assert!(worst <= 0.000_501, "worst {worst}");
 }
@@ -69,7 +88,13 @@ fn mgrs_matches_geoconvert_exactly() {
     ];
     for r in rows() {
         for (p, want) in precisions.iter().zip(r.mgrs) {
-            assert_eq!(to_mgrs(r.lat, r.lon, *p).unwrap(), want, "{} {}", r.lat, r.lon);
+            assert_eq!(
+                to_mgrs(r.lat, r.lon, *p).unwrap(),
+                want,
+                "{} {}",
+                r.lat,
+                r.lon
+            );
         }
     }
 }

@@ -13,8 +13,8 @@
 //! just inside it, and a latitude within 2⁻⁴⁶ degrees of the equator takes its band (M or N)
 //! from the hemisphere.
 
-use super::utm::{latitude_band, to_utm, Hemisphere, Utm};
 use super::CoordsError;
+use super::utm::{Hemisphere, Utm, latitude_band, to_utm};
 
 const BAND_LETTERS: &[u8; 20] = b"CDEFGHJKLMNPQRSTUVWX";
 const COLUMN_LETTERS: [&[u8; 8]; 3] = [b"ABCDEFGH", b"JKLMNPQR", b"STUVWXYZ"];
@@ -101,12 +101,14 @@ pub fn mgrs_from_utm(utm: &Utm, lat: f64, precision: MgrsPrecision) -> Result<St
     };
     let col_set = COLUMN_LETTERS[usize::from((zone - 1) % 3)];
     let col = usize::try_from(xh - 1).map_err(|_| outside())?;
-    let row_shift = if zone % 2 == 0 { 5 } else { 0 };
+    let row_shift = if zone.is_multiple_of(2) { 5 } else { 0 };
     let row = usize::try_from((yh + row_shift).rem_euclid(20)).map_err(|_| outside())?;
     let band_idx = usize::try_from(band + 10).map_err(|_| outside())?;
-    let (Some(&b), Some(&c), Some(&r)) =
-        (BAND_LETTERS.get(band_idx), col_set.get(col), ROW_LETTERS.get(row))
-    else {
+    let (Some(&b), Some(&c), Some(&r)) = (
+        BAND_LETTERS.get(band_idx),
+        col_set.get(col),
+        ROW_LETTERS.get(row),
+    ) else {
         return Err(outside());
     };
     let mut s = format!("{zone:02}{}{}{}", b as char, c as char, r as char);
@@ -131,7 +133,11 @@ fn to_micrometres(x: f64, lo: i64, hi: i64) -> Option<i64> {
     }
     let v = (x * MICRO).floor() as i64;
     let hi_um = hi * TILE_UM;
-    Some(if v >= hi_um { hi_um - 1 } else { v.max(lo * TILE_UM) })
+    Some(if v >= hi_um {
+        hi_um - 1
+    } else {
+        v.max(lo * TILE_UM)
+    })
 }
 
 /// Writes an MGRS reference in the grouped field style, e.g. `20MRB3071056888` →
@@ -144,7 +150,7 @@ pub fn group_mgrs(mgrs: &str) -> String {
         && b[..2].iter().all(u8::is_ascii_digit)
         && b[2..5].iter().all(u8::is_ascii_uppercase)
         && b[5..].iter().all(u8::is_ascii_digit)
-        && (b.len() - 5) % 2 == 0;
+        && (b.len() - 5).is_multiple_of(2);
     if !ok {
         return mgrs.to_string();
     }
@@ -173,10 +179,19 @@ mod tests {
         // GeoConvert 2.1.2 outputs recorded in the reference formats-and-crates §5.1/§5.3.
         let one_m = MgrsPrecision::ONE_METRE;
         assert_eq!(to_mgrs(33.3, 44.4, one_m).unwrap(), "38SMB4414084706");
-        assert_eq!(to_mgrs(40.748333, -73.985278, one_m).unwrap(), "18TWL8566411315");
+        assert_eq!(
+            to_mgrs(40.748333, -73.985278, one_m).unwrap(),
+            "18TWL8566411315"
+        );
         assert_eq!(to_mgrs(-3.1, -60.025, one_m).unwrap(), "20MRB3071056888");
-        assert_eq!(to_mgrs(-3.1, -60.025, MgrsPrecision::TEN_METRES).unwrap(), "20MRB30715688");
-        assert_eq!(to_mgrs(-3.1, -60.025, MgrsPrecision::HUNDRED_METRES).unwrap(), "20MRB307568");
+        assert_eq!(
+            to_mgrs(-3.1, -60.025, MgrsPrecision::TEN_METRES).unwrap(),
+            "20MRB30715688"
+        );
+        assert_eq!(
+            to_mgrs(-3.1, -60.025, MgrsPrecision::HUNDRED_METRES).unwrap(),
+            "20MRB307568"
+        );
         assert_eq!(to_mgrs(0.0, 10.0, one_m).unwrap(), "32NPF1128000000");
     }
 
@@ -193,7 +208,12 @@ mod tests {
             to_mgrs(84.0, 0.0, MgrsPrecision::ONE_METRE),
             Err(CoordsError::OutsideUtm(_))
         ));
-        let far = Utm { zone: 31, hemisphere: Hemisphere::North, easting: 950_000.0, northing: 0.0 };
+        let far = Utm {
+            zone: 31,
+            hemisphere: Hemisphere::North,
+            easting: 950_000.0,
+            northing: 0.0,
+        };
         assert!(matches!(
             mgrs_from_utm(&far, 0.0, MgrsPrecision::ONE_METRE),
             Err(CoordsError::OutsideZone { .. })

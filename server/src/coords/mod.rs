@@ -27,9 +27,9 @@ pub mod tm;
 pub mod utm;
 
 pub use format::format_dd;
-pub use mgrs::{group_mgrs, mgrs_from_utm, to_mgrs, MgrsPrecision};
+pub use mgrs::{MgrsPrecision, group_mgrs, mgrs_from_utm, to_mgrs};
 pub use tm::{Ellipsoid, TransverseMercator};
-pub use utm::{from_utm, to_utm, utm_zone, Hemisphere, Utm};
+pub use utm::{Hemisphere, Utm, from_utm, to_utm, utm_zone};
 
 /// A WGS 84 geographic position in decimal degrees.
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
@@ -63,7 +63,9 @@ pub enum CoordsError {
     #[error("longitude {0} is not a finite number of degrees")]
     BadLongitude(f64),
     /// Latitude is outside the UTM band −80° ≤ φ < 84° (the poles use UPS, not provided).
-    #[error("latitude {0} is outside the UTM band (-80 <= lat < 84); polar (UPS) references are not supported")]
+    #[error(
+        "latitude {0} is outside the UTM band (-80 <= lat < 84); polar (UPS) references are not supported"
+    )]
     OutsideUtm(f64),
     /// An ellipsoid with a non-positive semi-major axis or a flattening outside [0, 1).
     #[error("invalid ellipsoid: a = {a}, f = {f}")]
@@ -76,7 +78,11 @@ pub enum CoordsError {
     BadZone(u8),
     /// Easting/northing not finite, or outside the area an MGRS reference can name.
     #[error("UTM coordinates ({easting}, {northing}) are outside the range of zone {zone}")]
-    OutsideZone { zone: u8, easting: f64, northing: f64 },
+    OutsideZone {
+        zone: u8,
+        easting: f64,
+        northing: f64,
+    },
     /// MGRS precision other than 0..=5 digits per coordinate.
     #[error("MGRS precision {0} is not in 0..=5 digits")]
     BadPrecision(u8),

@@ -8,7 +8,7 @@
 //! Within 3 900 km of the central meridian the error is a few nanometres (Karney 2011, §6; from
 //! memory of the paper), so UTM and national grids are far inside the accurate region.
 
-use super::{check_lat_lon, CoordsError};
+use super::{CoordsError, check_lat_lon};
 
 /// A reference ellipsoid given by semi-major axis `a` (metres) and flattening `f`.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -84,16 +84,28 @@ impl TransverseMercator {
     ) -> Result<Self, CoordsError> {
         let ellipsoid = Ellipsoid::new(ellipsoid.a, ellipsoid.f)?;
         if !(-90.0..=90.0).contains(&lat0) {
-            return Err(CoordsError::BadParameter { name: "lat0", value: lat0 });
+            return Err(CoordsError::BadParameter {
+                name: "lat0",
+                value: lat0,
+            });
         }
         if !lon0.is_finite() {
-            return Err(CoordsError::BadParameter { name: "lon0", value: lon0 });
+            return Err(CoordsError::BadParameter {
+                name: "lon0",
+                value: lon0,
+            });
         }
         if !(k0.is_finite() && k0 > 0.0) {
-            return Err(CoordsError::BadParameter { name: "k0", value: k0 });
+            return Err(CoordsError::BadParameter {
+                name: "k0",
+                value: k0,
+            });
         }
         if !false_easting.is_finite() {
-            return Err(CoordsError::BadParameter { name: "false_easting", value: false_easting });
+            return Err(CoordsError::BadParameter {
+                name: "false_easting",
+                value: false_easting,
+            });
         }
         if !false_northing.is_finite() {
             return Err(CoordsError::BadParameter {
@@ -115,7 +127,8 @@ impl TransverseMercator {
                 + 7891.0 * n6 / 37800.0,
             13.0 * n2 / 48.0 - 3.0 * n3 / 5.0 + 557.0 * n4 / 1440.0 + 281.0 * n5 / 630.0
                 - 1983433.0 * n6 / 1935360.0,
-            61.0 * n3 / 240.0 - 103.0 * n4 / 140.0 + 15061.0 * n5 / 26880.0
+            61.0 * n3 / 240.0 - 103.0 * n4 / 140.0
+                + 15061.0 * n5 / 26880.0
                 + 167603.0 * n6 / 181440.0,
             49561.0 * n4 / 161280.0 - 179.0 * n5 / 168.0 + 6601661.0 * n6 / 7257600.0,
             34729.0 * n5 / 80640.0 - 3418889.0 * n6 / 1995840.0,
@@ -194,10 +207,16 @@ impl TransverseMercator {
     /// longitude wrapped to −180..180.
     pub fn inverse(&self, easting: f64, northing: f64) -> Result<(f64, f64), CoordsError> {
         if !easting.is_finite() {
-            return Err(CoordsError::BadParameter { name: "easting", value: easting });
+            return Err(CoordsError::BadParameter {
+                name: "easting",
+                value: easting,
+            });
         }
         if !northing.is_finite() {
-            return Err(CoordsError::BadParameter { name: "northing", value: northing });
+            return Err(CoordsError::BadParameter {
+                name: "northing",
+                value: northing,
+            });
         }
         let scale = self.k0 * self.big_a;
         let xi = (northing - self.false_northing) / scale + self.xi0;
@@ -272,7 +291,9 @@ mod tests {
         let airy = Ellipsoid::from_inverse_flattening(6_377_563.396, 299.324_964_6).unwrap();
         let tm = TransverseMercator::new(airy, 49.0, -2.0, 0.999_601_271_7, 400_000.0, -100_000.0)
             .unwrap();
-        let (e, n) = tm.forward(dms(50.0, 30.0, 0.0), dms(0.0, 30.0, 0.0)).unwrap();
+        let (e, n) = tm
+            .forward(dms(50.0, 30.0, 0.0), dms(0.0, 30.0, 0.0))
+            .unwrap();
         // The published figures come from the Guidance Note's own (USGS-style) series, which
         // PROJ and this Krüger series differ from by up to 6 mm here: allow 1 cm.
         assert!((e - 577_274.99).abs() < 0.01, "E = {e}");
@@ -305,14 +326,17 @@ mod tests {
     #[test]
     fn inverse_undoes_forward_to_a_micrometre() {
         // Round trip (no outside value): 30° either side of the central meridian.
-        let tm = TransverseMercator::new(Ellipsoid::WGS84, 0.0, 9.0, 0.9996, 500_000.0, 0.0)
-            .unwrap();
+        let tm =
+            TransverseMercator::new(Ellipsoid::WGS84, 0.0, 9.0, 0.9996, 500_000.0, 0.0).unwrap();
         for lat in [-89.0, -80.0, -45.5, -0.3, 0.0, 12.25, 56.0, 83.9] {
             for dlon in [-30.0, -3.0, -0.001, 0.0, 2.9, 7.5, 30.0] {
                 let (e, n) = tm.forward(lat, 9.0 + dlon).unwrap();
                 let (la, lo) = tm.inverse(e, n).unwrap();
                 let (e2, n2) = tm.forward(la, lo).unwrap();
-                assert!((e - e2).abs() < 1e-6 && (n - n2).abs() < 1e-6, "{lat} {dlon}");
+                assert!(
+                    (e - e2).abs() < 1e-6 && (n - n2).abs() < 1e-6,
+                    "{lat} {dlon}"
+                );
                 assert!((la - lat).abs() < 1e-10 && (lo - 9.0 - dlon).abs() < 1e-10);
             }
         }

@@ -13,8 +13,8 @@
 //!   Svalbard: band X (72°–84°N) and 0°E ≤ λ < 42°E → zones 31, 33, 35, 37;
 //! - the hemisphere is south when the latitude's sign bit is set, so −0.0 is south.
 
-use super::tm::{wrap_degrees, Ellipsoid, TransverseMercator};
-use super::{check_lat_lon, CoordsError};
+use super::tm::{Ellipsoid, TransverseMercator, wrap_degrees};
+use super::{CoordsError, check_lat_lon};
 
 /// Which false northing applies.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
@@ -148,18 +148,50 @@ mod tests {
         // GeoConvert (GeographicLib 2.1.2) outputs recorded in the reference
         // formats-and-crates §5.3 ("GeoConvert, extra points", verified).
         let cases = [
-            (33.3, 44.4, 38, Hemisphere::North, 444_140.545, 3_684_706.356),
-            (40.748333, -73.985278, 18, Hemisphere::North, 585_664.121, 4_511_315.422),
-            (-3.1, -60.025, 20, Hemisphere::South, 830_710.588, 9_656_888.872),
+            (
+                33.3,
+                44.4,
+                38,
+                Hemisphere::North,
+                444_140.545,
+                3_684_706.356,
+            ),
+            (
+                40.748333,
+                -73.985278,
+                18,
+                Hemisphere::North,
+                585_664.121,
+                4_511_315.422,
+            ),
+            (
+                -3.1,
+                -60.025,
+                20,
+                Hemisphere::South,
+                830_710.588,
+                9_656_888.872,
+            ),
             (0.0, 10.0, 32, Hemisphere::North, 611_280.651, 0.0),
         ];
         for (lat, lon, zone, hemi, e, n) in cases {
             let u = to_utm(lat, lon).unwrap();
             assert_eq!((u.zone, u.hemisphere), (zone, hemi), "{lat} {lon}");
-            assert!((u.easting - e).abs() < 0.0006, "{lat} {lon} E {}", u.easting);
-            assert!((u.northing - n).abs() < 0.0006, "{lat} {lon} N {}", u.northing);
+            assert!(
+                (u.easting - e).abs() < 0.0006,
+                "{lat} {lon} E {}",
+                u.easting
+            );
+            assert!(
+                (u.northing - n).abs() < 0.0006,
+                "{lat} {lon} N {}",
+                u.northing
+            );
         }
-        assert_eq!(to_utm(33.3, 44.4).unwrap().to_string(), "38n 444140.545 3684706.356");
+        assert_eq!(
+            to_utm(33.3, 44.4).unwrap().to_string(),
+            "38n 444140.545 3684706.356"
+        );
     }
 
     #[test]
@@ -186,10 +218,24 @@ mod tests {
         assert!(to_utm(-80.0, 0.0).is_ok());
         assert!(to_utm(83.999_999, 0.0).is_ok());
         assert_eq!(to_utm(84.0, 0.0), Err(CoordsError::OutsideUtm(84.0)));
-        assert!(matches!(to_utm(-80.000_001, 0.0), Err(CoordsError::OutsideUtm(_))));
-        assert!(matches!(to_utm(f64::NAN, 0.0), Err(CoordsError::BadLatitude(_))));
-        assert!(matches!(to_utm(0.0, f64::NAN), Err(CoordsError::BadLongitude(_))));
-        let bad = Utm { zone: 0, hemisphere: Hemisphere::North, easting: 5e5, northing: 0.0 };
+        assert!(matches!(
+            to_utm(-80.000_001, 0.0),
+            Err(CoordsError::OutsideUtm(_))
+        ));
+        assert!(matches!(
+            to_utm(f64::NAN, 0.0),
+            Err(CoordsError::BadLatitude(_))
+        ));
+        assert!(matches!(
+            to_utm(0.0, f64::NAN),
+            Err(CoordsError::BadLongitude(_))
+        ));
+        let bad = Utm {
+            zone: 0,
+            hemisphere: Hemisphere::North,
+            easting: 5e5,
+            northing: 0.0,
+        };
         assert_eq!(from_utm(&bad), Err(CoordsError::BadZone(0)));
     }
 
@@ -207,7 +253,10 @@ mod tests {
         for (lat, lon) in [(33.3, 44.4), (-3.1, -60.025), (78.0, 20.9), (-79.5, 179.9)] {
             let u = to_utm(lat, lon).unwrap();
             let (la, lo) = from_utm(&u).unwrap();
-            assert!((la - lat).abs() < 1e-9 && (lo - lon).abs() < 1e-9, "{lat} {lon}");
+            assert!(
+                (la - lat).abs() < 1e-9 && (lo - lon).abs() < 1e-9,
+                "{lat} {lon}"
+            );
         }
     }
 }

@@ -10,9 +10,11 @@
 //! alerts, so an event never depends on the order alerts arrived in.
 
 mod apply;
+mod query;
 mod zones;
 
 pub use apply::{ImportOutcome, ImportRequest, import_alerts};
+pub use query::{RankedEvent, event_feature, events_collection, priority_of, ranked_events};
 pub use zones::{ZoneOutcome, import_zones};
 
 use crate::cluster::LinkRule;
@@ -20,7 +22,7 @@ use serde::{Deserialize, Serialize};
 
 /// How alerts are joined into events (configurable in `settings.toml`).
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
-#[serde(default)]
+#[serde(default, deny_unknown_fields)]
 pub struct ClusterSettings {
     /// Link distance as a multiple of the larger pixel size.
     pub link_factor: f64,
@@ -44,4 +46,19 @@ impl ClusterSettings {
             window_days: (self.window_days > 0).then_some(self.window_days),
         }
     }
+}
+
+/// Check a source's pixel size and revisit interval.
+pub fn validate_source(pixel_size_m: f64, revisit_days: i64) -> crate::Result<()> {
+    if !(pixel_size_m.is_finite() && pixel_size_m > 0.0 && pixel_size_m <= 1000.0) {
+        return Err(crate::Error::Invalid(format!(
+            "pixel size {pixel_size_m} m: expected a number of metres in (0, 1000]"
+        )));
+    }
+    if !(1..=366).contains(&revisit_days) {
+        return Err(crate::Error::Invalid(format!(
+            "revisit interval {revisit_days} days: expected 1 to 366"
+        )));
+    }
+    Ok(())
 }

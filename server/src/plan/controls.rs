@@ -58,7 +58,11 @@ impl AlertGrid {
         let mut pts = Vec::with_capacity(alerts.len());
         for (index, a) in alerts.iter().enumerate() {
             if LatLon::checked(a.lat, a.lon).is_err() {
-                return Err(PlanError::BadAlert { index, lat: a.lat, lon: a.lon });
+                return Err(PlanError::BadAlert {
+                    index,
+                    lat: a.lat,
+                    lon: a.lon,
+                });
             }
             pts.push(LatLon::new(a.lat, wrap_lon(a.lon)));
         }
@@ -69,9 +73,20 @@ impl AlertGrid {
         let mut rows: HashMap<i64, BTreeMap<i64, Vec<u32>>> = HashMap::new();
         for (i, p) in pts.iter().enumerate() {
             let (r, c) = (row_of(p.lat, cell), col_of(p.lon, cell, ncols));
-            rows.entry(r).or_default().entry(c).or_default().push(i as u32);
+            rows.entry(r)
+                .or_default()
+                .entry(c)
+                .or_default()
+                .push(i as u32);
         }
-        Ok(Self { alerts: pts, radius_m, dlat, cell, rows, ncols })
+        Ok(Self {
+            alerts: pts,
+            radius_m,
+            dlat,
+            cell,
+            rows,
+            ncols,
+        })
     }
 
     /// The query radius in metres.
@@ -94,8 +109,8 @@ impl AlertGrid {
         } else {
             (self.radius_m / (WGS84_A * phi_max.to_radians().cos())).to_degrees() * 1.000_001
         };
-        let r0 = row_of(p.lat - self.dlat, self.cell);
-        let r1 = row_of(p.lat + self.dlat, self.cell);
+        let r0 = row_of((p.lat - self.dlat).max(-90.0), self.cell);
+        let r1 = row_of((p.lat + self.dlat).min(90.0), self.cell);
         let col_ranges: Vec<(i64, i64)> = if 2.0 * dlon >= 360.0 {
             vec![(0, self.ncols - 1)]
         } else {
@@ -110,7 +125,9 @@ impl AlertGrid {
             }
         };
         for r in r0..=r1 {
-            let Some(row) = self.rows.get(&r) else { continue };
+            let Some(row) = self.rows.get(&r) else {
+                continue;
+            };
             for &(c0, c1) in &col_ranges {
                 if c0 > c1 {
                     continue;
@@ -158,7 +175,9 @@ pub fn place_controls(
         return Err(PlanError::EmptyZone);
     };
     let (lon0, lon1, lat0, lat1) = (bbox.min().x, bbox.max().x, bbox.min().y, bbox.max().y);
-    if !(lon0.is_finite() && lon1.is_finite() && lat0 >= -90.0 && lat1 <= 90.0) {
+    // Longitudes may run past ±180 for a zone drawn across the antimeridian, but not by more
+    // than a turn.
+    if !(lon0 >= -540.0 && lon1 <= 540.0 && lat0 >= -90.0 && lat1 <= 90.0) {
         return Err(PlanError::BadZone);
     }
     if count == 0 {
@@ -170,11 +189,23 @@ pub fn place_controls(
     let mut tries = 0usize;
     while placed.len() < count {
         if tries >= max_tries {
-            return Err(PlanError::ControlsNotPlaced { placed: placed.len(), wanted: count, tries });
+            return Err(PlanError::ControlsNotPlaced {
+                placed: placed.len(),
+                wanted: count,
+                tries,
+            });
         }
         tries += 1;
-        let lon = if lon1 > lon0 { rng.random_range(lon0..lon1) } else { lon0 };
-        let z: f64 = if z1 > z0 { rng.random_range(z0..z1) } else { z0 };
+        let lon = if lon1 > lon0 {
+            rng.random_range(lon0..lon1)
+        } else {
+            lon0
+        };
+        let z: f64 = if z1 > z0 {
+            rng.random_range(z0..z1)
+        } else {
+            z0
+        };
         let lat = z.clamp(-1.0, 1.0).asin().to_degrees();
         if !zone.contains(&Point::new(lon, lat)) {
             continue;
@@ -191,7 +222,7 @@ pub fn place_controls(
 #[cfg(test)]
 mod tests {
     use super::*;
-    use geo::{polygon, MultiPolygon};
+    use geo::{MultiPolygon, polygon};
 
     fn square(lon0: f64, lat0: f64, size: f64) -> MultiPolygon<f64> {
         MultiPolygon::new(vec![polygon![
@@ -215,7 +246,12 @@ mod tests {
     fn random_points(seed: u64, n: usize, lat: (f64, f64), lon: (f64, f64)) -> Vec<LatLon> {
         let mut rng = ChaCha8Rng::seed_from_u64(seed);
         (0..n)
-            .map(|_| LatLon::new(rng.random_range(lat.0..lat.1), rng.random_range(lon.0..lon.1)))
+            .map(|_| {
+                LatLon::new(
+                    rng.random_range(lat.0..lat.1),
+                    rng.random_range(lon.0..lon.1),
+                )
+            })
             .collect()
     }
 
@@ -236,7 +272,11 @@ mod tests {
             }
             let grid = AlertGrid::new(&alerts, d).unwrap();
             for q in random_points(seed + 100, 500, lat, lon) {
-                assert_eq!(grid.any_within(q), brute_within(&alerts, q, d), "{seed} {q:?}");
+                assert_eq!(
+                    grid.any_within(q),
+                    brute_within(&alerts, q, d),
+                    "{seed} {q:?}"
+                );
             }
         }
     }
@@ -257,8 +297,14 @@ mod tests {
         // Generous bound for a debug build on 2 cores; the point is "not quadratic".
         assert!(elapsed.as_secs() < 20, "{elapsed:?}");
         // Reproducible from the seed.
-        assert_eq!(place_controls(&zone, &alerts, 20, 150.0, 99, 200_000).unwrap(), ctl);
-        assert_ne!(place_controls(&zone, &alerts, 20, 150.0, 100, 200_000).unwrap(), ctl);
+        assert_eq!(
+            place_controls(&zone, &alerts, 20, 150.0, 99, 200_000).unwrap(),
+            ctl
+        );
+        assert_ne!(
+            place_controls(&zone, &alerts, 20, 150.0, 100, 200_000).unwrap(),
+            ctl
+        );
     }
 
     #[test]
@@ -267,12 +313,26 @@ mod tests {
         let zone = square(10.0, 0.0, 0.01);
         let alerts = [LatLon::new(0.005, 10.005)];
         let err = place_controls(&zone, &alerts, 3, 5_000.0, 1, 500).unwrap_err();
-        assert_eq!(err, PlanError::ControlsNotPlaced { placed: 0, wanted: 3, tries: 500 });
+        assert_eq!(
+            err,
+            PlanError::ControlsNotPlaced {
+                placed: 0,
+                wanted: 3,
+                tries: 500
+            }
+        );
         assert!(err.to_string().contains("0 of 3"));
         assert_eq!(
             place_controls(&MultiPolygon::new(vec![]), &alerts, 1, 10.0, 1, 10),
             Err(PlanError::EmptyZone)
         );
+        assert_eq!(
+            place_controls(&square(0.0, 80.0, 20.0), &alerts, 1, 1.0, 1, 10),
+            Err(PlanError::BadZone)
+        );
+        // A huge radius is answered quickly (rows are clamped to the globe).
+        let far = AlertGrid::new(&alerts, 1e300).unwrap();
+        assert!(far.any_within(LatLon::new(-80.0, -170.0)));
         assert!(matches!(
             place_controls(&zone, &alerts, 1, -1.0, 1, 10),
             Err(PlanError::BadMinDistance(_))

@@ -20,15 +20,15 @@ pub mod controls;
 pub mod route;
 pub mod sample;
 
-pub use controls::{place_controls, AlertGrid, DEFAULT_TRIES_PER_POINT};
+pub use controls::{AlertGrid, DEFAULT_TRIES_PER_POINT, place_controls};
 pub use route::{
-    plan_route, solve, DistanceMatrix, Method, PathKind, Route, Tour, EXACT_MAX_STOPS,
-    STRAIGHT_LINE_NOTE,
+    DistanceMatrix, EXACT_MAX_STOPS, Method, PathKind, Route, STRAIGHT_LINE_NOTE, Tour, plan_route,
+    solve,
 };
 pub use sample::{
-    allocate, cochran_n0, cochran_sample_size, design_stratified, draw_stratified,
-    finite_population_correction, olofsson_n, StratifiedDesign, StratumDraw, StratumSpec, Z_90,
-    Z_95, Z_99,
+    StratifiedDesign, StratumDraw, StratumSpec, Z_90, Z_95, Z_99, allocate, cochran_n0,
+    cochran_sample_size, design_stratified, draw_stratified, finite_population_correction,
+    olofsson_n,
 };
 
 /// Everything that can go wrong while planning.
@@ -43,6 +43,9 @@ pub enum PlanError {
     /// The start position is not a valid latitude/longitude.
     #[error("the start position ({lat}, {lon}) is invalid")]
     BadStart { lat: f64, lon: f64 },
+    /// A visiting order that does not list every node once starting with node 0.
+    #[error("the order must list every node exactly once, starting with node 0")]
+    BadOrder,
     /// Walking speed not a finite number > 0.
     #[error("walking speed {0} km/h must be a finite number greater than 0")]
     BadSpeed(f64),
@@ -50,7 +53,9 @@ pub enum PlanError {
     #[error("{stops} stops is more than the exact solver's limit of {max}")]
     TooManyStopsForExact { stops: usize, max: usize },
     /// Margin of error (or target standard error) outside the open interval (0, 0.5).
-    #[error("margin of error {0} must be greater than 0 and less than 0.5 (e.g. 0.05 for ±5 points)")]
+    #[error(
+        "margin of error {0} must be greater than 0 and less than 0.5 (e.g. 0.05 for ±5 points)"
+    )]
     BadMarginOfError(f64),
     /// Normal quantile z not a finite number > 0.
     #[error("z = {0} must be a finite number greater than 0 (1.96 for 95 %)")]
@@ -69,10 +74,17 @@ pub enum PlanError {
     NoStrata,
     /// Strata sizes and allocation of different lengths.
     #[error("{populations} strata sizes but {allocation} allocations")]
-    LengthMismatch { populations: usize, allocation: usize },
+    LengthMismatch {
+        populations: usize,
+        allocation: usize,
+    },
     /// More units asked for than a stratum holds.
     #[error("stratum {stratum}: cannot draw {n} units from {population}")]
-    SampleExceedsPopulation { stratum: usize, n: u64, population: u64 },
+    SampleExceedsPopulation {
+        stratum: usize,
+        n: u64,
+        population: u64,
+    },
     /// Control distance not a finite number >= 0.
     #[error("minimum distance {0} m must be a finite number >= 0")]
     BadMinDistance(f64),
@@ -89,7 +101,13 @@ pub enum PlanError {
     #[error("the zone's coordinates are not valid longitude/latitude degrees")]
     BadZone,
     /// The try budget ran out before all control points were placed.
-    #[error("placed only {placed} of {wanted} control points after {tries} tries: the zone may be \
-             too small or too close to alerts everywhere; lower the distance or the count")]
-    ControlsNotPlaced { placed: usize, wanted: usize, tries: usize },
+    #[error(
+        "placed only {placed} of {wanted} control points after {tries} tries: the zone may be \
+             too small or too close to alerts everywhere; lower the distance or the count"
+    )]
+    ControlsNotPlaced {
+        placed: usize,
+        wanted: usize,
+        tries: usize,
+    },
 }

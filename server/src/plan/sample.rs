@@ -98,7 +98,11 @@ pub fn cochran_sample_size(
 /// (common practice: 323.0000000001 is 323).
 fn ceil_count(n: f64) -> u64 {
     let r = n.round();
-    if (n - r).abs() < 1e-9 { r as u64 } else { n.ceil() as u64 }
+    if (n - r).abs() < 1e-9 {
+        r as u64
+    } else {
+        n.ceil() as u64
+    }
 }
 
 /// One stratum of a stratified design.
@@ -167,7 +171,11 @@ pub fn design_stratified(
 /// capped at Nₕ with the excess passed on. If the minimums alone exceed `total`, the
 /// minimums are returned (the sum is then larger than `total`); if `total` ≥ ΣNₕ every unit
 /// is taken.
-pub fn allocate(populations: &[u64], total: u64, min_per_stratum: u64) -> Result<Vec<u64>, PlanError> {
+pub fn allocate(
+    populations: &[u64],
+    total: u64,
+    min_per_stratum: u64,
+) -> Result<Vec<u64>, PlanError> {
     if populations.is_empty() {
         return Err(PlanError::NoStrata);
     }
@@ -175,7 +183,10 @@ pub fn allocate(populations: &[u64], total: u64, min_per_stratum: u64) -> Result
     if u128::from(total) >= pop_total {
         return Ok(populations.to_vec());
     }
-    let mut alloc: Vec<u64> = populations.iter().map(|&p| p.min(min_per_stratum)).collect();
+    let mut alloc: Vec<u64> = populations
+        .iter()
+        .map(|&p| p.min(min_per_stratum))
+        .collect();
     let base: u128 = alloc.iter().map(|&a| u128::from(a)).sum();
     if base >= u128::from(total) {
         return Ok(alloc);
@@ -202,7 +213,12 @@ pub fn allocate(populations: &[u64], total: u64, min_per_stratum: u64) -> Result
         let given: u128 = share.iter().map(|s| s.1).sum();
         let mut left = remaining - given;
         let mut by_rem: Vec<usize> = (0..share.len()).collect();
-        by_rem.sort_by(|&a, &b| share[b].2.cmp(&share[a].2).then(share[a].0.cmp(&share[b].0)));
+        by_rem.sort_by(|&a, &b| {
+            share[b]
+                .2
+                .cmp(&share[a].2)
+                .then(share[a].0.cmp(&share[b].0))
+        });
         for &i in &by_rem {
             if left == 0 {
                 break;
@@ -256,7 +272,11 @@ pub fn draw_stratified(
     }
     for (h, (&pop, &n)) in populations.iter().zip(allocation).enumerate() {
         if n > pop {
-            return Err(PlanError::SampleExceedsPopulation { stratum: h, n, population: pop });
+            return Err(PlanError::SampleExceedsPopulation {
+                stratum: h,
+                n,
+                population: pop,
+            });
         }
     }
     let mut rng = ChaCha8Rng::seed_from_u64(seed);
@@ -268,7 +288,11 @@ pub fn draw_stratified(
             stratum,
             population,
             indices: floyd_sample(&mut rng, population, n),
-            inclusion_probability: if population == 0 { 0.0 } else { n as f64 / population as f64 },
+            inclusion_probability: if population == 0 {
+                0.0
+            } else {
+                n as f64 / population as f64
+            },
         })
         .collect())
 }
@@ -298,13 +322,21 @@ mod tests {
         let n0 = cochran_n0(1.96, 0.5, 0.05).unwrap();
         assert!((n0 - 384.16).abs() < 1e-9);
         assert_eq!(cochran_sample_size(1.96, 0.5, 0.05, None).unwrap(), 385);
-        assert_eq!(cochran_sample_size(1.96, 0.5, 0.05, Some(2000)).unwrap(), 323);
-        assert_eq!(cochran_sample_size(Z_95, 0.5, 0.05, Some(2000)).unwrap(), 323);
+        assert_eq!(
+            cochran_sample_size(1.96, 0.5, 0.05, Some(2000)).unwrap(),
+            323
+        );
+        assert_eq!(
+            cochran_sample_size(Z_95, 0.5, 0.05, Some(2000)).unwrap(),
+            323
+        );
         // Python 3.11: z = NormalDist().inv_cdf(0.975) → n0 = 384.1458820694123,
         // fpc with N = 2000 → 322.385536663696.
         let n0 = cochran_n0(Z_95, 0.5, 0.05).unwrap();
         assert!((n0 - 384.145_882_069_412_3).abs() < 1e-9);
-        assert!((finite_population_correction(n0, 2000).unwrap() - 322.385_536_663_696).abs() < 1e-9);
+        assert!(
+            (finite_population_correction(n0, 2000).unwrap() - 322.385_536_663_696).abs() < 1e-9
+        );
     }
 
     #[test]
@@ -320,8 +352,14 @@ mod tests {
                 "{bad}"
             );
         }
-        assert!(matches!(cochran_n0(Z_95, 1.5, 0.05), Err(PlanError::BadProportion(_))));
-        assert!(matches!(cochran_n0(-1.0, 0.5, 0.05), Err(PlanError::BadZ(_))));
+        assert!(matches!(
+            cochran_n0(Z_95, 1.5, 0.05),
+            Err(PlanError::BadProportion(_))
+        ));
+        assert!(matches!(
+            cochran_n0(-1.0, 0.5, 0.05),
+            Err(PlanError::BadZ(_))
+        ));
         assert_eq!(
             cochran_sample_size(Z_95, 0.5, 0.05, Some(0)),
             Err(PlanError::EmptyPopulation)
@@ -333,13 +371,18 @@ mod tests {
         // stable non-forest) with the anticipated user's accuracies 0.70, 0.60, 0.90, 0.95 of
         // their §5.1 sample-size example (inputs as in the project reference statistics.md §2.1
         // and in a public implementation's test of this example).
-        [(200_000, 0.70), (150_000, 0.60), (3_200_000, 0.90), (6_450_000, 0.95)]
-            .into_iter()
-            .map(|(population, expected_users_accuracy)| StratumSpec {
-                population,
-                expected_users_accuracy,
-            })
-            .collect()
+        [
+            (200_000, 0.70),
+            (150_000, 0.60),
+            (3_200_000, 0.90),
+            (6_450_000, 0.95),
+        ]
+        .into_iter()
+        .map(|(population, expected_users_accuracy)| StratumSpec {
+            population,
+            expected_users_accuracy,
+        })
+        .collect()
     }
 
     #[test]
@@ -354,7 +397,10 @@ mod tests {
         // 75 each, then 641 − 300 = 341 shared by Nₕ/N with largest remainder:
         // 6.82 → 7, 5.115 → 5, 109.12 → 109, 219.945 → 220 (hand computation).
         assert_eq!(d.allocation, vec![82, 80, 184, 295]);
-        assert!(matches!(olofsson_n(&olofsson_strata(), 0.5), Err(PlanError::BadMarginOfError(_))));
+        assert!(matches!(
+            olofsson_n(&olofsson_strata(), 0.5),
+            Err(PlanError::BadMarginOfError(_))
+        ));
         assert!(matches!(olofsson_n(&[], 0.01), Err(PlanError::NoStrata)));
     }
 
@@ -394,9 +440,16 @@ mod tests {
         assert_eq!(a[3].inclusion_probability, 0.0);
         assert_eq!(
             draw_stratified(&[5], &[6], 1),
-            Err(PlanError::SampleExceedsPopulation { stratum: 0, n: 6, population: 5 })
+            Err(PlanError::SampleExceedsPopulation {
+                stratum: 0,
+                n: 6,
+                population: 5
+            })
         );
-        assert!(matches!(draw_stratified(&[5], &[], 1), Err(PlanError::LengthMismatch { .. })));
+        assert!(matches!(
+            draw_stratified(&[5], &[], 1),
+            Err(PlanError::LengthMismatch { .. })
+        ));
     }
 
     #[test]

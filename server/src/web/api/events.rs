@@ -1,0 +1,91 @@
+//! `GET /api/v1/events` (GeoJSON FeatureCollection, filterable) and
+//! `GET /api/v1/events/{id}` (follows merges).
+
+use crate::domain::{Day, SourceName, ZoneName};
+use crate::error::Error;
+use crate::events::{RankedEvent, event_feature, events_collection, priority_of, ranked_events};
+use crate::storage::EventFilter;
+use crate::web::AppState;
+use crate::web::error::ApiError;
+use actix_web::{HttpResponse, web};
+use serde::Deserialize;
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct EventQuery {
+    zone: Option<String>,
+    from: Option<String>,
+    to: Option<String>,
+    source: Option<String>,
+    min_area_ha: Option<f64>,
+    limit: Option<usize>,
+    as_of: Option<String>,
+}
+
+fn day(name: &str, v: &Option<String>) -> Result<Option<Day>, Error> {
+    v.as_deref()
+        .map(|s| Day::parse(s).map_err(|m| Error::Invalid(format!("parameter '{name}': {m}"))))
+        .transpose()
+}
+
+pub async fn list(
+    state: web::Data<AppState>,
+    q: web::Query<EventQuery>,
+) -> Result<HttpResponse, ApiError> {
+    let q = q.into_inner();
+    let filter = EventFilter {
+        zone: q
+            .zone
+            .as_deref()
+            .map(|z| ZoneName::parse(z).map(|n| n.to_string()))
+            .transpose()
+            .map_err(Error::Invalid)?,
+        from: day("from", &q.from)?,
+        to: day("to", &q.to)?,
+        source: q
+            .source
+            .as_deref()
+            .map(|s| SourceName::parse(s).map(|n| n.to_string()))
+            .transpose()
+            .map_err(Error::Invalid)?,
+        min_area_ha: q.min_area_ha,
+        limit: q.limit,
+    };
+    let as_of = day("as_of", &q.as_of)?.unwrap_or_else(Day::today);
+    let state = state.into_inner();
+    let events = web::block(move || {
+        if let Some(z) = &filter.zone {
+            let known = state.db.read(|r| r.zones())?.iter().any(|k| &k.name == z);
+            if !known {
+                return Err(Error::NotFound(format!("unknown zone '{z}'")));
+            }
+        }
+        ranked_events(&state.db, &filter, &state.settings.priority, as_of)
+    })
+    .await??;
+    Ok(HttpResponse::Ok()
+        .content_type("application/geo+json")
+        .json(events_collection(&events)))
+}
+
+pub async fn one(
+    state: web::Data<AppState>,
+    path: web::Path<String>,
+) -> Result<HttpResponse, ApiError> {
+    let id: i64 = path
+        .parse()
+        .map_err(|_| Error::Invalid(format!("event id '{path}' is not a number")))?;
+    let state = state.into_inner();
+    let record = web::block(move || {
+        let rec = state
+            .db
+            .read(|r| r.event_resolved(id))?
+            .ok_or_else(|| Error::NotFound(format!("no event {id}")))?;
+        let priority = priority_of(&rec, &state.settings.priority, Day::today());
+        Ok::<_, Error>(RankedEvent { record: rec, priority })
+    })
+    .await??;
+    let mut f = event_feature(&record);
+    f["properties"]["requested_id"] = serde_json::json!(id);
+    Ok(HttpResponse::Ok().content_type("application/geo+json").json(f))
+}

@@ -1,0 +1,49 @@
+//! HTTP: the only module that knows actix-web. Handlers parse requests
+//! into domain types, run blocking database work off the executor with
+//! `web::block`, and map [`crate::Error`] to status codes in one place
+//! ([`error`]).
+
+mod api;
+mod error;
+
+use crate::settings::Settings;
+use crate::storage::Db;
+use actix_web::{App, HttpServer, dev::Server, web};
+use std::net::TcpListener;
+use std::sync::Arc;
+
+/// Largest request body accepted for an alert or zone file upload (bytes).
+pub const MAX_UPLOAD_BYTES: usize = 64 * 1024 * 1024;
+/// Largest JSON request body (bytes).
+pub const MAX_JSON_BYTES: usize = 256 * 1024;
+
+/// What every handler can reach.
+#[derive(Clone)]
+pub struct AppState {
+    pub db: Arc<Db>,
+    pub settings: Arc<Settings>,
+}
+
+/// Register all routes (used by the server and by tests).
+pub fn configure(cfg: &mut web::ServiceConfig) {
+    cfg.app_data(web::PayloadConfig::new(MAX_UPLOAD_BYTES))
+        .app_data(web::JsonConfig::default().limit(MAX_JSON_BYTES))
+        .app_data(web::QueryConfig::default().error_handler(error::query_error))
+        .service(web::scope("/api/v1").configure(api::configure))
+        .route("/healthz", web::get().to(api::health));
+}
+
+/// Start serving on an already bound listener (port 0 in tests).
+pub fn run(listener: TcpListener, state: AppState) -> std::io::Result<Server> {
+    let data = web::Data::new(state);
+    let server = HttpServer::new(move || {
+        App::new()
+            .app_data(data.clone())
+            .wrap(actix_web::middleware::Logger::new("%r %s %b %Dms"))
+            .configure(configure)
+    })
+    .workers(2)
+    .listen(listener)?
+    .run();
+    Ok(server)
+}

@@ -1,0 +1,15 @@
+//! The office–field contract of Groundproof: the formats that cross between
+//! the server and the field kit. The bundle format (what a field team takes
+//! offline) lives in [`bundle`]; the return format lands here as it is built
+//! (see DEVELOPERS.md). Every fallible function of the crate returns
+//! [`SyncError`].
+
+pub mod bundle;
+pub mod error;
+
+pub use error::SyncError;
+
+/// Format name written into every bundle manifest.
+pub const BUNDLE_FORMAT: &str = "groundproof-bundle";
+/// Bundle format version this build writes and reads.
+pub const BUNDLE_FORMAT_VERSION: u32 = 1;
