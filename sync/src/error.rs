@@ -4,7 +4,8 @@
 
 use chrono::{DateTime, Utc};
 
-/// Everything that can go wrong while writing or opening a bundle.
+/// Everything that can go wrong while writing or opening a bundle or a return,
+/// keeping the field outbox, running a field command or pushing a return.
 #[derive(Debug, thiserror::Error)]
 pub enum SyncError {
     /// The caller's data cannot go into a bundle (bad code, date, coordinate…).
@@ -49,11 +50,11 @@ pub enum SyncError {
     UnsupportedVersion { found: u64, supported: u32 },
 
     /// The bundle file is larger than the reader accepts.
-    #[error("bundle file is {size} bytes, more than the limit of {max} bytes")]
+    #[error("package file is {size} bytes, more than the limit of {max} bytes")]
     BundleTooLarge { size: u64, max: u64 },
 
     /// The ZIP holds more entries than the reader accepts.
-    #[error("bundle holds {count} entries, more than the limit of {max}")]
+    #[error("package holds {count} entries, more than the limit of {max}")]
     TooManyEntries { count: usize, max: usize },
 
     /// An entry whose name or kind is not allowed in a bundle.
@@ -77,7 +78,7 @@ pub enum SyncError {
     EntryTooLarge { name: String, max: u64 },
 
     /// All entries together decompress past the total limit.
-    #[error("bundle entries decompress to more than {max} bytes in total")]
+    #[error("package entries decompress to more than {max} bytes in total")]
     TotalTooLarge { max: u64 },
 
     /// An entry's size differs from the one in manifest.json.
@@ -101,6 +102,33 @@ pub enum SyncError {
     /// An entry could be read but its content is wrong.
     #[error("entry {name:?} is invalid: {reason}")]
     InvalidEntry { name: String, reason: String },
+
+    /// A return's `signature.json` is malformed or its MAC does not match.
+    #[error("signature.json: {reason}")]
+    BadSignature { reason: String },
+
+    /// The server knows no (unrevoked) upload key for this bundle and key id.
+    #[error("no valid upload key {key_id:?} for bundle {bundle_id}; the bundle may be cancelled")]
+    UnknownKey {
+        bundle_id: uuid::Uuid,
+        key_id: String,
+    },
+
+    /// The field outbox database failed.
+    #[error("outbox database: {context}: {source}")]
+    Database {
+        context: String,
+        #[source]
+        source: rusqlite::Error,
+    },
+
+    /// A field command was refused: bad arguments, unknown code, checklist rule…
+    #[error("{0}")]
+    Usage(String),
+
+    /// Pushing a return to the server failed.
+    #[error("push: {0}")]
+    Push(String),
 
     /// The bundle is past its expiry time.
     #[error("bundle expired at {expires_at} (now {now}); ask the office for a new bundle")]
@@ -130,6 +158,14 @@ impl SyncError {
     /// A [`SyncError::GeoPackage`] with a short description of the operation.
     pub(crate) fn gpkg(context: impl Into<String>, source: rusqlite::Error) -> Self {
         SyncError::GeoPackage {
+            context: context.into(),
+            source,
+        }
+    }
+
+    /// A [`SyncError::Database`] with a short description of the operation.
+    pub(crate) fn db(context: impl Into<String>, source: rusqlite::Error) -> Self {
+        SyncError::Database {
             context: context.into(),
             source,
         }

@@ -1,8 +1,8 @@
 //! The outline of an event: the union of its pixel squares, with its
 //! geodesic area and centroid.
 
-use crate::geodesy::pixel_square;
-use geo::{Centroid, GeodesicArea, MultiPolygon, Orient, orient::Direction};
+use crate::geodesy::pixel_half_extent_deg;
+use geo::{Centroid, Coord, GeodesicArea, LineString, MultiPolygon, Orient, Polygon, orient::Direction};
 
 /// One pixel: centre (lon, lat) and side in metres.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -35,10 +35,7 @@ pub fn footprint(pixels: &[Pixel]) -> Footprint {
             .unwrap_or(std::cmp::Ordering::Equal)
     });
     uniq.dedup();
-    let squares: Vec<_> = uniq
-        .iter()
-        .map(|p| pixel_square(p.lon, p.lat, p.size_m))
-        .collect();
+    let squares = snapped_squares(&uniq);
     let shape = match squares.as_slice() {
         [] => MultiPolygon::new(vec![]),
         [one] => MultiPolygon::new(vec![one.clone()]),
@@ -56,6 +53,69 @@ pub fn footprint(pixels: &[Pixel]) -> Footprint {
         area_ha,
         centroid,
     }
+}
+
+/// Edges closer than this share of the pixel side are one edge.
+pub const EDGE_SNAP_SHARE: f64 = 0.01;
+
+/// The pixel squares, with nearly coincident edges made exactly equal.
+///
+/// Alert products lay pixels on a grid in degrees, while our squares are
+/// laid out in metres, so neighbouring squares can leave gaps or overlaps
+/// of millimetres. Edge coordinates of each axis that lie within 1% of the
+/// pixel side of each other are replaced by their mean, so that the union
+/// is one outline; an edge moves by at most a few millimetres, which keeps
+/// areas within 0.01%.
+fn snapped_squares(pixels: &[Pixel]) -> Vec<Polygon<f64>> {
+    let boxes: Vec<[f64; 4]> = pixels
+        .iter()
+        .map(|p| {
+            let (dlon, dlat) = pixel_half_extent_deg(p.lat, p.size_m);
+            [p.lon - dlon, p.lon + dlon, p.lat - dlat, p.lat + dlat]
+        })
+        .collect();
+    let min_side = |axis: usize| {
+        boxes
+            .iter()
+            .map(|b| b[2 * axis + 1] - b[2 * axis])
+            .fold(f64::INFINITY, f64::min)
+    };
+    let xs = snap_axis(boxes.iter().flat_map(|b| [b[0], b[1]]).collect(), min_side(0) * EDGE_SNAP_SHARE);
+    let ys = snap_axis(boxes.iter().flat_map(|b| [b[2], b[3]]).collect(), min_side(1) * EDGE_SNAP_SHARE);
+    (0..boxes.len())
+        .map(|i| {
+            let (w, e, s, n) = (xs[2 * i], xs[2 * i + 1], ys[2 * i], ys[2 * i + 1]);
+            Polygon::new(
+                LineString::new(vec![
+                    Coord { x: w, y: s },
+                    Coord { x: e, y: s },
+                    Coord { x: e, y: n },
+                    Coord { x: w, y: n },
+                    Coord { x: w, y: s },
+                ]),
+                vec![],
+            )
+        })
+        .collect()
+}
+
+/// Replace runs of values closer than `tol` to their neighbour by the run's mean.
+fn snap_axis(values: Vec<f64>, tol: f64) -> Vec<f64> {
+    let mut order: Vec<usize> = (0..values.len()).collect();
+    order.sort_by(|&a, &b| values[a].total_cmp(&values[b]));
+    let mut out = values.clone();
+    let mut start = 0;
+    for k in 1..=order.len() {
+        if k == order.len() || values[order[k]] - values[order[k - 1]] > tol {
+            let run = &order[start..k];
+            let mean = run.iter().map(|&i| values[i]).sum::<f64>() / run.len() as f64;
+            for &i in run {
+                out[i] = mean;
+            }
+            start = k;
+        }
+    }
+    out
 }
 
 #[cfg(test)]
@@ -117,6 +177,23 @@ mod tests {
         px.push(px[0]);
         let f = footprint(&px);
         assert!(((f.area_ha - 0.09) / 0.09).abs() < 0.001, "{}", f.area_ha);
+    }
+
+    /// Pixels on a grid in degrees (0.00009°, as the 10 m products are)
+    /// leave millimetre gaps between our metric squares; they still make
+    /// one outline.
+    #[test]
+    fn degree_grid_pixels_make_one_outline() {
+        let px: Vec<Pixel> = (0..5)
+            .flat_map(|i| (0..3).map(move |j| (i, j)))
+            .map(|(i, j)| Pixel { lon: -60.0 + 0.00009 * f64::from(i), lat: -3.0 + 0.00009 * f64::from(j), size_m: 10.0 })
+            .collect();
+        let f = footprint(&px);
+        assert_eq!(f.shape.0.len(), 1, "{:?}", f.shape);
+        assert!(f.shape.is_valid());
+        // 0.00009° of latitude is 9.95 m here, so neighbouring 10 m
+        // squares overlap by 5 cm north-south: the union is 50.1 m × 29.9 m.
+        assert!(((f.area_ha - 0.1498) / 0.1498).abs() < 0.002, "{}", f.area_ha);
     }
 
     #[test]

@@ -75,10 +75,14 @@ fn bbox_of(f: &Footprint) -> (f64, f64, f64, f64) {
 }
 
 /// Whether pixel squares of two different sources overlap or touch. The
-/// squares are compared as boxes in degrees with a 1e-8° (about 1 mm)
-/// tolerance for touching edges; pairs are swept in longitude order.
+/// squares are compared as boxes in degrees; edges closer than 1% of the
+/// smaller pixel side touch (the tolerance the footprint snaps edges with);
+/// pairs are swept in longitude order.
 fn sources_touch(alerts: &[AlertFact]) -> bool {
-    const TOUCH: f64 = 1e-8;
+    let min_pixel = alerts.iter().map(|a| a.pixel_m).fold(f64::INFINITY, f64::min);
+    let max_abs_lat = alerts.iter().map(|a| a.lat.abs()).fold(0.0, f64::max);
+    let (dlon, dlat) = crate::geodesy::pixel_half_extent_deg(max_abs_lat, min_pixel);
+    let touch = 2.0 * dlon.min(dlat) * super::footprint::EDGE_SNAP_SHARE;
     let mut boxes: Vec<(f64, f64, f64, f64, i64)> = alerts
         .iter()
         .map(|a| {
@@ -90,10 +94,10 @@ fn sources_touch(alerts: &[AlertFact]) -> bool {
     for i in 0..boxes.len() {
         let a = boxes[i];
         for b in &boxes[i + 1..] {
-            if b.0 > a.1 + TOUCH {
+            if b.0 > a.1 + touch {
                 break;
             }
-            if b.4 != a.4 && b.2 <= a.3 + TOUCH && a.2 <= b.3 + TOUCH {
+            if b.4 != a.4 && b.2 <= a.3 + touch && a.2 <= b.3 + touch {
                 return true;
             }
         }
