@@ -1,1 +1,115 @@
-//! Helpers shared by the end-to-end tests.
+//! Helpers shared by the end-to-end tests: the real server, started
+//! through the production `web::run` on 127.0.0.1 port 0 with a fresh data
+//! directory, and a small HTTP client that never treats a status as an
+//! error (tests assert on statuses).
+
+use groundproof::settings::Settings;
+use groundproof::storage::Db;
+use groundproof::web::{self, AppState};
+use std::net::{SocketAddr, TcpListener};
+use std::path::{Path, PathBuf};
+use std::sync::Arc;
+
+/// A running server and its data directory (removed on drop).
+pub struct TestServer {
+    pub addr: SocketAddr,
+    pub db: Arc<Db>,
+    handle: actix_web::dev::ServerHandle,
+    thread: Option<std::thread::JoinHandle<()>>,
+    dir: tempfile::TempDir,
+}
+
+impl TestServer {
+    /// Start on a random loopback port with an empty data directory.
+    pub fn start() -> TestServer {
+        let dir = tempfile::tempdir().expect("temp dir");
+        let db = Arc::new(Db::open(dir.path()).expect("database opens"));
+        let listener = TcpListener::bind("127.0.0.1:0").expect("bind loopback");
+        let addr = listener.local_addr().expect("address");
+        let state = AppState {
+            db: db.clone(),
+            settings: Arc::new(Settings::default()),
+        };
+        let (tx, rx) = std::sync::mpsc::channel();
+        let thread = std::thread::spawn(move || {
+            actix_web::rt::System::new().block_on(async move {
+                let server = web::run(listener, state).expect("server builds");
+                tx.send(server.handle()).expect("handle sent");
+                let _ = server.await;
+            });
+        });
+        let handle = rx.recv().expect("server started");
+        TestServer {
+            addr,
+            db,
+            handle,
+            thread: Some(thread),
+            dir,
+        }
+    }
+
+    pub fn url(&self, path: &str) -> String {
+        format!("http://{}{}", self.addr, path)
+    }
+
+    pub fn data_dir(&self) -> &Path {
+        self.dir.path()
+    }
+
+    pub fn data_path(&self) -> PathBuf {
+        self.dir.path().to_path_buf()
+    }
+}
+
+impl Drop for TestServer {
+    fn drop(&mut self) {
+        let h = self.handle.clone();
+        let stopper = std::thread::spawn(move || {
+            actix_web::rt::System::new().block_on(h.stop(false));
+        });
+        let _ = stopper.join();
+        if let Some(t) = self.thread.take() {
+            let _ = t.join();
+        }
+    }
+}
+
+/// A response: status and body text.
+pub struct Reply {
+    pub status: u16,
+    pub body: String,
+}
+
+impl Reply {
+    pub fn json(&self) -> serde_json::Value {
+        serde_json::from_str(&self.body).unwrap_or_else(|e| panic!("not JSON ({e}): {}", self.body))
+    }
+}
+
+fn agent() -> ureq::Agent {
+    ureq::Agent::config_builder()
+        .http_status_as_error(false)
+        .timeout_global(Some(std::time::Duration::from_secs(30)))
+        .build()
+        .into()
+}
+
+fn reply(r: Result<ureq::http::Response<ureq::Body>, ureq::Error>) -> Reply {
+    let mut r = r.expect("request reaches the server");
+    Reply {
+        status: r.status().as_u16(),
+        body: r.body_mut().read_to_string().unwrap_or_default(),
+    }
+}
+
+pub fn get(url: &str) -> Reply {
+    reply(agent().get(url).call())
+}
+
+pub fn post_bytes(url: &str, content_type: &str, body: &[u8]) -> Reply {
+    reply(agent().post(url).header("Content-Type", content_type).send(body))
+}
+
+pub fn post_json(url: &str, body: &serde_json::Value) -> Reply {
+    reply(agent().post(url).send_json(body))
+}

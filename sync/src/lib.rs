@@ -1,11 +1,17 @@
 //! The office–field contract of Groundproof: the formats that cross between
 //! the server and the field kit. The bundle format (what a field team takes
-//! offline) lives in [`bundle`]; the return format lands here as it is built
-//! (see DEVELOPERS.md). Every fallible function of the crate returns
+//! offline) lives in [`bundle`]; the return format (what comes back) in
+//! [`returns`]; the field kit's outbox, commands and push client in
+//! [`outbox`], [`field`] and [`client`]. Every fallible function of the crate returns
 //! [`SyncError`].
 
 pub mod bundle;
+pub mod client;
 pub mod error;
+pub mod field;
+pub mod outbox;
+pub mod returns;
+pub mod safezip;
 
 pub use error::SyncError;
 

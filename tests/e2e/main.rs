@@ -1,1 +1,3 @@
-//! End-to-end tests.
+//! End-to-end tests: the real server on a random loopback port.
+
+mod alerts_api;

@@ -44,6 +44,13 @@ pub struct ImportOutcome {
 /// Parse, validate and store an alert file; events follow in the same
 /// transaction.
 pub fn import_alerts(db: &Db, req: &ImportRequest<'_>, cfg: &ClusterSettings) -> Result<ImportOutcome> {
+    let unknown = || {
+        Error::NotFound(format!(
+            "unknown source '{}': register it first (groundproof sources add {} --pixel-size M --revisit-days D)",
+            req.source, req.source
+        ))
+    };
+    db.read(|r| r.source_by_name(req.source.as_str()))?.ok_or_else(unknown)?;
     let parsed = parse_alerts(req.file_name, req.bytes, req.format, &req.read);
     let file_level = parsed.errors.iter().any(|e| e.line == 0 || e.field.starts_with('('));
     if !parsed.errors.is_empty() && (!req.skip_invalid || file_level && parsed.alerts.is_empty()) {
@@ -56,12 +63,7 @@ pub fn import_alerts(db: &Db, req: &ImportRequest<'_>, cfg: &ClusterSettings) ->
     }
     let skipped = parsed.errors.len();
     db.write(|tx| {
-        let source = tx.reader().source_by_name(req.source.as_str())?.ok_or_else(|| {
-            Error::NotFound(format!(
-                "unknown source '{}': register it first (groundproof sources add {} --pixel-size M --revisit-days D)",
-                req.source, req.source
-            ))
-        })?;
+        let source = tx.reader().source_by_name(req.source.as_str())?.ok_or_else(unknown)?;
         let mut outcome = ImportOutcome {
             file: req.file_name.to_string(),
             source: source.name.clone(),

@@ -1,0 +1,257 @@
+//! Renders the field sheet: checks and orders a [`SheetInput`], turns it into the view
+//! structs of the askama template `templates/field-sheet.html`, and renders it.
+
+use askama::Template;
+use groundproof_sync::bundle::{
+    BundleEvent, BundleHeader, Checklist, ControlPoint, MODE_ASSESSMENT, StartPoint,
+    is_valid_code,
+};
+
+use super::SheetError;
+use super::base64::png_data_uri;
+use super::palette::SourcePalette;
+use super::view::{PositionText, area_text, humanise, km_text, position_text};
+
+/// Most event cards plus control cards on one sheet (our choice: a trip of a few hundred
+/// stops; the bundle holds at most 256 ZIP entries anyway).
+pub const MAX_SHEET_CARDS: usize = 1000;
+/// Largest preview PNG accepted on the sheet, bytes (our choice; a 2048² preview of flat
+/// colours compresses far below this).
+pub const MAX_PREVIEW_PNG_BYTES: usize = 4 << 20;
+/// Size of the legend swatches, pixels.
+const SWATCH_PX: u32 = 16;
+/// The eight bytes every PNG starts with (PNG specification, 3rd ed., §5.2).
+const PNG_SIGNATURE: [u8; 8] = [0x89, b'P', b'N', b'G', 0x0d, 0x0a, 0x1a, 0x0a];
+
+/// One event with its preview image.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SheetEvent {
+    /// The event as shipped in the bundle.
+    pub event: BundleEvent,
+    /// Its preview PNG (see [`super::render_preview_with_palette`]); empty for none.
+    pub preview_png: Vec<u8>,
+}
+
+/// One leg of the route, from the previous stop (or the start) to this one.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RouteLeg {
+    /// Stop number along the route (1 = first stop after the start).
+    pub stop: u32,
+    /// Event or control code of the stop.
+    pub code: String,
+    /// Distance of the leg, kilometres.
+    pub leg_km: f64,
+}
+
+/// Everything the sheet shows.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SheetInput {
+    /// The bundle the sheet belongs to.
+    pub header: BundleHeader,
+    /// Name of the reserve or area of the trip, as shown to the team.
+    pub reserve: String,
+    /// Team label as shown to the team (may say more than `header.team`).
+    pub team_label: String,
+    /// Where the trip starts.
+    pub start: StartPoint,
+    /// Events with previews; shown in visit order whatever order they come in.
+    pub events: Vec<SheetEvent>,
+    /// Control points; shown in visit order.
+    pub controls: Vec<ControlPoint>,
+    /// The route, one leg per stop.
+    pub legs: Vec<RouteLeg>,
+    /// The checklist the tick boxes show.
+    pub checklist: Checklist,
+    /// Source colours used by the previews, listed as the legend.
+    pub palette: SourcePalette,
+}
+
+/// A source named with its legend swatch.
+struct LegendEntry {
+    name: String,
+    hex: String,
+    swatch: String,
+}
+
+struct EventCard {
+    code: String,
+    order: u32,
+    pos: PositionText,
+    area: String,
+    first: String,
+    last: String,
+    confidence: String,
+    corroborated: bool,
+    sources: Vec<LegendEntry>,
+    stratum: Option<String>,
+    preview: Option<String>,
+}
+
+struct ControlCard {
+    code: String,
+    order: u32,
+    pos: PositionText,
+}
+
+struct RouteRow {
+    stop: u32,
+    code: String,
+    leg: String,
+}
+
+struct ChecklistView {
+    version: u32,
+    outcomes: Vec<String>,
+    false_alarm_reasons: Vec<String>,
+    not_reached_reasons: Vec<String>,
+    causes: Vec<String>,
+    photos: String,
+}
+
+#[derive(Template)]
+#[template(path = "field-sheet.html")]
+struct FieldSheetPage {
+    bundle_id: String,
+    team: String,
+    team_label: String,
+    reserve: String,
+    mode: String,
+    assessment: bool,
+    seed: Option<String>,
+    issued: String,
+    due: String,
+    expires: String,
+    start_name: String,
+    start: PositionText,
+    legend: Vec<LegendEntry>,
+    route: Vec<RouteRow>,
+    total: String,
+    events: Vec<EventCard>,
+    controls: Vec<ControlCard>,
+    checklist: ChecklistView,
+}
+
+/// Renders the field sheet of one bundle as a self-contained HTML page.
+///
+/// Fails when a code is not a valid event/control code, there are more than
+/// [`MAX_SHEET_CARDS`] cards, a preview is larger than [`MAX_PREVIEW_PNG_BYTES`] or is not a
+/// PNG, or a leg distance is negative or not finite.
+pub fn render_field_sheet(input: &SheetInput) -> Result<String, SheetError> {
+    let bad = |m: String| Err(SheetError::InvalidInput(m));
+    let cards = input.events.len() + input.controls.len();
+    if cards > MAX_SHEET_CARDS {
+        return bad(format!("{cards} cards, more than {MAX_SHEET_CARDS}"));
+    }
+    let mut events: Vec<&SheetEvent> = input.events.iter().collect();
+    events.sort_by_key(|e| e.event.visit_order);
+    let mut controls: Vec<&ControlPoint> = input.controls.iter().collect();
+    controls.sort_by_key(|c| c.visit_order);
+
+    let mut event_cards = Vec::with_capacity(events.len());
+    for e in events {
+        let ev = &e.event;
+        if !is_valid_code(&ev.code) {
+            return bad(format!("event code {:?} is not a letter and 4 digits", ev.code));
+        }
+        let preview = match e.preview_png.as_slice() {
+            [] => None,
+            png if png.len() > MAX_PREVIEW_PNG_BYTES => {
+                return bad(format!(
+                    "preview of {} has {} bytes, more than {MAX_PREVIEW_PNG_BYTES}",
+                    ev.code,
+                    png.len()
+                ));
+            }
+            png if !png.starts_with(&PNG_SIGNATURE) => {
+                return bad(format!("preview of {} is not a PNG", ev.code));
+            }
+            png => Some(png_data_uri(png)),
+        };
+        event_cards.push(EventCard {
+            code: ev.code.clone(),
+            order: ev.visit_order,
+            pos: position_text(ev.centroid.y(), ev.centroid.x()),
+            area: area_text(ev.area_ha),
+            first: ev.first_detected.clone(),
+            last: ev.last_detected.clone(),
+            confidence: ev.confidence.clone(),
+            corroborated: ev.corroborated,
+            sources: legend(&input.palette, &ev.sources)?,
+            stratum: ev.stratum.clone(),
+            preview,
+        });
+    }
+
+    let mut control_cards = Vec::with_capacity(controls.len());
+    for c in controls {
+        if !is_valid_code(&c.code) {
+            return bad(format!("control code {:?} is not a letter and 4 digits", c.code));
+        }
+        control_cards.push(ControlCard {
+            code: c.code.clone(),
+            order: c.visit_order,
+            pos: position_text(c.point.y(), c.point.x()),
+        });
+    }
+
+    let mut route = Vec::with_capacity(input.legs.len());
+    let mut total = 0.0;
+    for leg in &input.legs {
+        if !(leg.leg_km.is_finite() && leg.leg_km >= 0.0) {
+            return bad(format!("leg to {} has distance {} km", leg.code, leg.leg_km));
+        }
+        total += leg.leg_km;
+        route.push(RouteRow {
+            stop: leg.stop,
+            code: leg.code.clone(),
+            leg: km_text(leg.leg_km),
+        });
+    }
+
+    let h = &input.header;
+    let when = |t: &chrono::DateTime<chrono::Utc>| t.format("%Y-%m-%d %H:%M UTC").to_string();
+    let cl = &input.checklist;
+    let all_sources = input.palette.sources().to_vec();
+    let page = FieldSheetPage {
+        bundle_id: h.bundle_id.to_string(),
+        team: h.team.clone(),
+        team_label: input.team_label.clone(),
+        reserve: input.reserve.clone(),
+        mode: h.mode.clone(),
+        assessment: h.mode == MODE_ASSESSMENT,
+        seed: h.seed.map(|s| s.to_string()),
+        issued: when(&h.issued_at),
+        due: when(&h.due_at),
+        expires: when(&h.expires_at),
+        start_name: input.start.name.clone(),
+        start: position_text(input.start.point.y(), input.start.point.x()),
+        legend: legend(&input.palette, &all_sources)?,
+        route,
+        total: km_text(total),
+        events: event_cards,
+        controls: control_cards,
+        checklist: ChecklistView {
+            version: cl.version,
+            outcomes: cl.outcomes.iter().map(|s| humanise(s)).collect(),
+            false_alarm_reasons: cl.false_alarm_reasons.iter().map(|s| humanise(s)).collect(),
+            not_reached_reasons: cl.not_reached_reasons.iter().map(|s| humanise(s)).collect(),
+            causes: cl.causes.iter().map(|s| humanise(s)).collect(),
+            photos: format!("photos taken (min {})", cl.min_photos_confirmed),
+        },
+    };
+    Ok(page.render()?)
+}
+
+fn legend(palette: &SourcePalette, sources: &[String]) -> Result<Vec<LegendEntry>, SheetError> {
+    sources
+        .iter()
+        .map(|name| {
+            let style = palette.style(name);
+            Ok(LegendEntry {
+                name: name.clone(),
+                hex: style.hex(),
+                swatch: png_data_uri(&style.swatch_png(SWATCH_PX)?),
+            })
+        })
+        .collect()
+}

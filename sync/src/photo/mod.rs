@@ -1,0 +1,24 @@
+//! Field photo intake: EXIF time and position, safe JPEG decoding with size
+//! limits, SHA-256 and a small thumbnail.
+//!
+//! [`read_photo_meta`] reads what a photo's EXIF says about when, where and
+//! which way it was taken; [`inspect_jpeg`] checks an uploaded JPEG (format,
+//! declared size, decoder memory, panics) and returns its hash, size, EXIF
+//! and a 320-pixel thumbnail. Every fallible function here returns
+//! [`PhotoError`], except `read_photo_meta`, whose only failure ("not a
+//! JPEG") is a `String`.
+
+mod decode;
+mod error;
+mod exif;
+mod header;
+#[cfg(test)]
+mod reference_tests;
+
+pub use decode::{
+    PhotoCheck, PhotoLimits, THUMBNAIL_MAX_SIDE, THUMBNAIL_QUALITY, check_limits, inspect_jpeg,
+    thumbnail_size,
+};
+pub use error::PhotoError;
+pub use exif::{PhotoMeta, read_photo_meta};
+pub use header::{JpegHeader, JpegProcess, read_jpeg_header};

@@ -1,0 +1,213 @@
+//! Writing a return: reports sorted by id into `reports.json`, each photo
+//! once under `photos/<sha256>.jpg` (stored, since JPEG does not deflate),
+//! the manifest listing every entry, and the HMAC-SHA256 signature over the
+//! manifest bytes. Entries are sorted by name, dated 1980-01-01 00:00 with
+//! permissions 0644, JSON deflated at level 6, so the same inputs (including
+//! `created_at`) give the same bytes.
+
+use std::collections::{BTreeMap, BTreeSet};
+use std::fs::File;
+use std::io::{self, BufReader, Read, Seek, Write};
+use std::path::PathBuf;
+
+use sha2::{Digest, Sha256};
+use zip::write::SimpleFileOptions;
+use zip::{CompressionMethod, DateTime, System, ZipWriter};
+
+use super::limits::ReturnLimits;
+use super::manifest::{RETURN_FORMAT, RETURN_FORMAT_VERSION, ReturnHeader, ReturnManifest};
+use super::names::{REPORTS, RETURN_MANIFEST, SIGNATURE, photo_entry_name};
+use super::report::Report;
+use super::sign::sign_manifest;
+use super::validate::check_report_shape;
+use crate::SyncError;
+use crate::bundle::{ManifestEntry, UploadKey, sha256_hex};
+
+fn options(method: CompressionMethod) -> SimpleFileOptions {
+    let o = SimpleFileOptions::default()
+        .compression_method(method)
+        .last_modified_time(DateTime::DEFAULT)
+        .unix_permissions(0o644)
+        .system(System::Unix)
+        .large_file(false);
+    if method == CompressionMethod::Deflated {
+        o.compression_level(Some(6))
+    } else {
+        o
+    }
+}
+
+/// SHA-256 and size of a photo file, refusing one past `max` bytes.
+pub(crate) fn hash_photo(path: &std::path::Path, max: u64) -> Result<(String, u64), SyncError> {
+    let file = File::open(path)
+        .map_err(|e| SyncError::io(format!("open photo {}", path.display()), e))?;
+    let mut reader = BufReader::new(file).take(max.saturating_add(1));
+    let mut hasher = Sha256::new();
+    let mut buf = [0u8; 64 * 1024];
+    let mut size = 0u64;
+    loop {
+        let n = reader
+            .read(&mut buf)
+            .map_err(|e| SyncError::io(format!("read photo {}", path.display()), e))?;
+        if n == 0 {
+            break;
+        }
+        size += n as u64;
+        hasher.update(&buf[..n]);
+    }
+    if size > max {
+        return Err(SyncError::InvalidInput(format!(
+            "photo {} is larger than {max} bytes",
+            path.display()
+        )));
+    }
+    Ok((hex::encode(hasher.finalize()), size))
+}
+
+/// Writes the return of `reports` with the photo files `photos` to `out`, signed
+/// with `key`, and returns its manifest. Every report must belong to
+/// `header.bundle_id`, pass [`check_report_shape`], and have a distinct id; every
+/// photo a report names must be among `photos` (matched by SHA-256) and every
+/// photo given must be named by some report. Photos given twice are stored once.
+pub fn pack_return<W: Write + Seek>(
+    out: W,
+    header: &ReturnHeader,
+    key: &UploadKey,
+    reports: &[Report],
+    photos: &[PathBuf],
+) -> Result<ReturnManifest, SyncError> {
+    let limits = ReturnLimits::default();
+    let bad = |m: String| SyncError::InvalidInput(m);
+    if reports.len() > limits.max_reports {
+        return Err(bad(format!(
+            "{} reports, more than a return holds ({})",
+            reports.len(),
+            limits.max_reports
+        )));
+    }
+    let mut sorted: Vec<&Report> = reports.iter().collect();
+    sorted.sort_by_key(|r| r.report_id);
+    let mut referenced = BTreeSet::new();
+    for (i, r) in sorted.iter().enumerate() {
+        if i > 0 && sorted[i - 1].report_id == r.report_id {
+            return Err(bad(format!("report {} given twice", r.report_id)));
+        }
+        if r.bundle_id != header.bundle_id {
+            return Err(bad(format!(
+                "report {} belongs to bundle {}, not {}",
+                r.report_id, r.bundle_id, header.bundle_id
+            )));
+        }
+        check_report_shape(r).map_err(|m| bad(format!("report {}: {m}", r.report_id)))?;
+        referenced.extend(r.photos.iter().map(|p| p.sha256.clone()));
+    }
+    let mut photo_files: BTreeMap<String, (PathBuf, u64)> = BTreeMap::new();
+    for path in photos {
+        let (sha, size) = hash_photo(path, limits.max_photo_bytes)?;
+        if !referenced.contains(&sha) {
+            return Err(bad(format!(
+                "photo {} (SHA-256 {sha}) is not named by any report",
+                path.display()
+            )));
+        }
+        photo_files.insert(sha, (path.clone(), size));
+    }
+    if let Some(missing) = referenced.iter().find(|s| !photo_files.contains_key(*s)) {
+        return Err(bad(format!(
+            "a report names photo {missing}, but no such photo file was given"
+        )));
+    }
+    if photo_files.len() + 3 > limits.max_entries {
+        return Err(bad(format!(
+            "{} photos, more than a return holds",
+            photo_files.len()
+        )));
+    }
+
+    let reports_json = serde_json::to_vec_pretty(&sorted)
+        .map_err(|e| bad(format!("reports: {e}")))?;
+    if reports_json.len() as u64 > limits.max_reports_bytes {
+        return Err(bad(format!(
+            "reports.json would have {} bytes, more than {}",
+            reports_json.len(),
+            limits.max_reports_bytes
+        )));
+    }
+    let mut entries: Vec<ManifestEntry> = photo_files
+        .iter()
+        .map(|(sha, (_, size))| ManifestEntry {
+            name: photo_entry_name(sha),
+            sha256: sha.clone(),
+            size: *size,
+        })
+        .collect();
+    entries.push(ManifestEntry {
+        name: REPORTS.into(),
+        sha256: sha256_hex(&reports_json),
+        size: reports_json.len() as u64,
+    });
+    entries.sort_by(|a, b| a.name.cmp(&b.name));
+    let count = |n: usize| u32::try_from(n).map_err(|_| bad("too many items".into()));
+    let manifest = ReturnManifest {
+        format: RETURN_FORMAT.into(),
+        format_version: RETURN_FORMAT_VERSION,
+        bundle_id: header.bundle_id,
+        upload_key_id: key.key_id.clone(),
+        team: header.team.clone(),
+        created_at: header.created_at,
+        checklist_version: header.checklist_version,
+        report_count: count(sorted.len())?,
+        photo_count: count(photo_files.len())?,
+        entries,
+    };
+    let manifest_json =
+        serde_json::to_vec_pretty(&manifest).map_err(|e| bad(format!("manifest: {e}")))?;
+    let signature = sign_manifest(&key.key_id, &key.key, &manifest_json);
+    let signature_json =
+        serde_json::to_vec_pretty(&signature).map_err(|e| bad(format!("signature: {e}")))?;
+
+    let mut zip = ZipWriter::new(out);
+    for (sha, (path, size)) in &photo_files {
+        let name = photo_entry_name(sha);
+        zip.start_file(name.as_str(), options(CompressionMethod::Stored))
+            .map_err(|e| SyncError::zip(format!("start entry {name:?}"), e))?;
+        let file = File::open(path)
+            .map_err(|e| SyncError::io(format!("open photo {}", path.display()), e))?;
+        // Hash again while copying: a photo changed since it was hashed must not slip in.
+        let mut hasher = Sha256::new();
+        let mut reader = BufReader::new(file).take(size.saturating_add(1));
+        let mut buf = [0u8; 64 * 1024];
+        let mut copied = 0u64;
+        loop {
+            let n = reader
+                .read(&mut buf)
+                .map_err(|e| SyncError::io(format!("read photo {}", path.display()), e))?;
+            if n == 0 {
+                break;
+            }
+            hasher.update(&buf[..n]);
+            copied += n as u64;
+            zip.write_all(&buf[..n])
+                .map_err(|e| SyncError::io(format!("write entry {name:?}"), e))?;
+        }
+        if copied != *size || hex::encode(hasher.finalize()) != *sha {
+            return Err(SyncError::io(
+                format!("photo {}", path.display()),
+                io::Error::other("changed while the return was packed"),
+            ));
+        }
+    }
+    for (name, bytes) in [
+        (REPORTS, &reports_json),
+        (RETURN_MANIFEST, &manifest_json),
+        (SIGNATURE, &signature_json),
+    ] {
+        zip.start_file(name, options(CompressionMethod::Deflated))
+            .map_err(|e| SyncError::zip(format!("start entry {name:?}"), e))?;
+        zip.write_all(bytes)
+            .map_err(|e| SyncError::io(format!("write entry {name:?}"), e))?;
+    }
+    let mut out = zip.finish().map_err(|e| SyncError::zip("finish return", e))?;
+    out.flush().map_err(|e| SyncError::io("flush return", e))?;
+    Ok(manifest)
+}
