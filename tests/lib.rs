@@ -107,7 +107,12 @@ pub fn get(url: &str) -> Reply {
 }
 
 pub fn post_bytes(url: &str, content_type: &str, body: &[u8]) -> Reply {
-    reply(agent().post(url).header("Content-Type", content_type).send(body))
+    reply(
+        agent()
+            .post(url)
+            .header("Content-Type", content_type)
+            .send(body),
+    )
 }
 
 pub fn post_json(url: &str, body: &serde_json::Value) -> Reply {

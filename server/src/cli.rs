@@ -14,7 +14,11 @@ use std::process::ExitCode;
 use std::sync::Arc;
 
 #[derive(Parser)]
-#[command(name = "groundproof", version, about = "Check satellite deforestation alerts on the ground")]
+#[command(
+    name = "groundproof",
+    version,
+    about = "Check satellite deforestation alerts on the ground"
+)]
 struct Cli {
     #[command(subcommand)]
     command: Command,
@@ -154,7 +158,8 @@ pub fn init_logging() {
 
 fn open(data: &Path) -> Result<(Db, Settings)> {
     let settings = Settings::load(data)?;
-    let db = Db::open(data).with_context(|| format!("opening the data directory {}", data.display()))?;
+    let db =
+        Db::open(data).with_context(|| format!("opening the data directory {}", data.display()))?;
     Ok((db, settings))
 }
 
@@ -164,7 +169,11 @@ pub fn run() -> Result<ExitCode> {
             let (db, settings) = open(&data.data)?;
             serve(db, settings, &bind)?;
         }
-        Command::Demo { data, bind, no_serve } => {
+        Command::Demo {
+            data,
+            bind,
+            no_serve,
+        } => {
             let dir = match data {
                 Some(d) => d,
                 None => demo::fresh_dir()?,
@@ -178,12 +187,20 @@ pub fn run() -> Result<ExitCode> {
             }
         }
         Command::Sources { command } => match command {
-            SourcesCommand::Add { name, pixel_size, revisit_days, data } => {
+            SourcesCommand::Add {
+                name,
+                pixel_size,
+                revisit_days,
+                data,
+            } => {
                 let name = SourceName::parse(&name).map_err(Error::Invalid)?;
                 groundproof::events::validate_source(pixel_size, revisit_days)?;
                 let (db, _) = open(&data.data)?;
                 let s = db.write(|tx| tx.add_source(name.as_str(), pixel_size, revisit_days))?;
-                println!("source '{}' registered: {} m pixels, {} day revisit", s.name, s.pixel_size_m, s.revisit_days);
+                println!(
+                    "source '{}' registered: {} m pixels, {} day revisit",
+                    s.name, s.pixel_size_m, s.revisit_days
+                );
             }
             SourcesCommand::List { data } => {
                 let (db, _) = open(&data.data)?;
@@ -195,24 +212,44 @@ pub fn run() -> Result<ExitCode> {
         Command::Import { command } => match command {
             ImportCommand::Alerts(a) => return import_alert_file(a),
             ImportCommand::Zones { file, data } => {
-                let bytes = std::fs::read(&file).with_context(|| format!("reading {}", file.display()))?;
+                let bytes =
+                    std::fs::read(&file).with_context(|| format!("reading {}", file.display()))?;
                 let (db, _) = open(&data.data)?;
                 let out = import_zones(&db, &file.display().to_string(), &bytes)?;
-                println!("zones imported: {} ({} events relinked)", out.zones.join(", "), out.events_relinked);
+                println!(
+                    "zones imported: {} ({} events relinked)",
+                    out.zones.join(", "),
+                    out.events_relinked
+                );
             }
         },
         Command::Events { command } => match command {
-            EventsCommand::List { zone, source, min_area_ha, limit, data } => {
+            EventsCommand::List {
+                zone,
+                source,
+                min_area_ha,
+                limit,
+                data,
+            } => {
                 let (db, settings) = open(&data.data)?;
                 let filter = EventFilter {
-                    zone: zone.map(|z| ZoneName::parse(&z).map(|n| n.to_string())).transpose().map_err(Error::Invalid)?,
-                    source: source.map(|s| SourceName::parse(&s).map(|n| n.to_string())).transpose().map_err(Error::Invalid)?,
+                    zone: zone
+                        .map(|z| ZoneName::parse(&z).map(|n| n.to_string()))
+                        .transpose()
+                        .map_err(Error::Invalid)?,
+                    source: source
+                        .map(|s| SourceName::parse(&s).map(|n| n.to_string()))
+                        .transpose()
+                        .map_err(Error::Invalid)?,
                     min_area_ha,
                     limit,
                     ..Default::default()
                 };
                 let events = ranked_events(&db, &filter, &settings.priority, Day::today())?;
-                println!("{}", serde_json::to_string_pretty(&groundproof::events::events_collection(&events))?);
+                println!(
+                    "{}",
+                    serde_json::to_string_pretty(&groundproof::events::events_collection(&events))?
+                );
             }
         },
     }
@@ -248,7 +285,9 @@ fn import_alert_file(a: AlertArgs) -> Result<ExitCode> {
             lat_column: a.lat_column,
             date_column: a.date_column,
             confidence_column: a.confidence_column,
-            confidence: ConfidenceMap { numeric_threshold: a.confidence_threshold },
+            confidence: ConfidenceMap {
+                numeric_threshold: a.confidence_threshold,
+            },
         },
         skip_invalid: a.skip_invalid,
     };
@@ -256,7 +295,14 @@ fn import_alert_file(a: AlertArgs) -> Result<ExitCode> {
         Ok(o) => {
             println!(
                 "{}: {} rows read, {} imported, {} duplicates, {} skipped; events: {} created, {} grown, {} merged",
-                o.file, o.rows_read, o.imported, o.duplicates, o.skipped, o.events_created, o.events_grown, o.events_merged
+                o.file,
+                o.rows_read,
+                o.imported,
+                o.duplicates,
+                o.skipped,
+                o.events_created,
+                o.events_grown,
+                o.events_merged
             );
             for e in &o.skipped_rows {
                 println!("  skipped {e}");
@@ -274,7 +320,10 @@ fn import_alert_file(a: AlertArgs) -> Result<ExitCode> {
 fn serve(db: Db, settings: Settings, bind: &str) -> Result<()> {
     let listener = TcpListener::bind(bind).with_context(|| format!("binding {bind}"))?;
     let addr = listener.local_addr()?;
-    let state = web::AppState { db: Arc::new(db), settings: Arc::new(settings) };
+    let state = web::AppState {
+        db: Arc::new(db),
+        settings: Arc::new(settings),
+    };
     println!("Groundproof is serving on http://{addr}/ (press Ctrl-C to stop)");
     println!("  events:  http://{addr}/api/v1/events");
     println!("  zones:   http://{addr}/api/v1/zones");

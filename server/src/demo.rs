@@ -17,7 +17,8 @@ pub const DEMO_SEED: u64 = 42;
 pub fn fresh_dir() -> Result<PathBuf> {
     let stamp = chrono::Utc::now().format("%Y%m%dT%H%M%S");
     let dir = std::env::temp_dir().join(format!("groundproof-demo-{stamp}-{}", std::process::id()));
-    std::fs::create_dir_all(&dir).map_err(|e| Error::io(format!("creating {}", dir.display()), e))?;
+    std::fs::create_dir_all(&dir)
+        .map_err(|e| Error::io(format!("creating {}", dir.display()), e))?;
     Ok(dir)
 }
 

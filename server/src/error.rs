@@ -20,7 +20,9 @@ pub enum Error {
     #[error("{0}")]
     ImportRejected(ImportFailure),
     /// The database file is newer than this binary.
-    #[error("database schema version {found} is newer than this binary supports ({supported}); use a newer groundproof")]
+    #[error(
+        "database schema version {found} is newer than this binary supports ({supported}); use a newer groundproof"
+    )]
     SchemaTooNew { found: i64, supported: i64 },
     #[error("database: {0}")]
     Db(#[from] rusqlite::Error),

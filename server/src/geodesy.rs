@@ -84,12 +84,20 @@ mod tests {
     fn haversine_close_to_geodesic() {
         let g = Geodesic::wgs84();
         for lat in [0.0, 60.0] {
-            for (dlon, dlat) in [(0.00009, 0.0), (0.0, 0.00009), (0.00009, 0.00009), (0.01, 0.02)] {
+            for (dlon, dlat) in [
+                (0.00009, 0.0),
+                (0.0, 0.00009),
+                (0.00009, 0.00009),
+                (0.01, 0.02),
+            ] {
                 let a = (10.0, lat);
                 let b = (10.0 + dlon, lat + dlat);
                 let ours = haversine_m(a, b);
                 let s12: f64 = g.inverse(a.1, a.0, b.1, b.0);
-                assert!(((ours - s12) / s12).abs() < 0.006, "lat {lat}: {ours} vs {s12}");
+                assert!(
+                    ((ours - s12) / s12).abs() < 0.006,
+                    "lat {lat}: {ours} vs {s12}"
+                );
             }
         }
     }
@@ -102,7 +110,10 @@ mod tests {
         for lat in [0.0, -3.2, 60.0] {
             for (size, ha) in [(10.0, 0.01), (30.0, 0.09)] {
                 let a = pixel_square(-60.0, lat, size).geodesic_area_unsigned() / 10_000.0;
-                assert!(((a - ha) / ha).abs() < 0.001, "lat {lat} size {size}: {a} ha");
+                assert!(
+                    ((a - ha) / ha).abs() < 0.001,
+                    "lat {lat} size {size}: {a} ha"
+                );
             }
         }
     }

@@ -44,7 +44,11 @@ mod tests {
     fn defaults_and_overrides() {
         let dir = tempfile::tempdir().unwrap();
         assert_eq!(Settings::load(dir.path()).unwrap(), Settings::default());
-        std::fs::write(dir.path().join("settings.toml"), "[cluster]\nwindow_days = 30\n").unwrap();
+        std::fs::write(
+            dir.path().join("settings.toml"),
+            "[cluster]\nwindow_days = 30\n",
+        )
+        .unwrap();
         let s = Settings::load(dir.path()).unwrap();
         assert_eq!((s.cluster.window_days, s.cluster.link_factor), (30, 1.5));
         std::fs::write(dir.path().join("settings.toml"), "[cluster]\nbogus = 1\n").unwrap();

@@ -1,11 +1,13 @@
 //! Alert import and event identity through the real storage, in a temp
 //! data directory.
 
+use groundproof::Error;
 use groundproof::domain::SourceName;
-use groundproof::events::{ClusterSettings, ImportOutcome, ImportRequest, import_alerts, import_zones};
+use groundproof::events::{
+    ClusterSettings, ImportOutcome, ImportRequest, import_alerts, import_zones,
+};
 use groundproof::import::{Format, ReadOptions};
 use groundproof::storage::{Db, EventFilter};
-use groundproof::Error;
 use std::collections::BTreeSet;
 
 const G: f64 = 0.00009; // the 10 m grid of the test source, in degrees
@@ -13,7 +15,8 @@ const G: f64 = 0.00009; // the 10 m grid of the test source, in degrees
 fn db() -> (tempfile::TempDir, Db) {
     let dir = tempfile::tempdir().unwrap();
     let db = Db::open(dir.path()).unwrap();
-    db.write(|tx| tx.add_source("optical-10m", 10.0, 5)).unwrap();
+    db.write(|tx| tx.add_source("optical-10m", 10.0, 5))
+        .unwrap();
     db.write(|tx| tx.add_source("radar-10m", 10.0, 12)).unwrap();
     (dir, db)
 }
@@ -45,16 +48,47 @@ fn import(db: &Db, source: &str, text: &str, skip: bool) -> groundproof::Result<
 #[test]
 fn events_grow_merge_and_keep_the_oldest_id() {
     let (_d, db) = db();
-    let west = import(&db, "optical-10m", &csv(&[(-60.0, -3.0, "2026-01-01"), (-60.0 + G, -3.0, "2026-01-06")]), false).unwrap();
+    let west = import(
+        &db,
+        "optical-10m",
+        &csv(&[(-60.0, -3.0, "2026-01-01"), (-60.0 + G, -3.0, "2026-01-06")]),
+        false,
+    )
+    .unwrap();
     assert_eq!((west.imported, west.events_created), (2, 1));
-    let east = import(&db, "optical-10m", &csv(&[(-60.0 + 4.0 * G, -3.0, "2026-01-11")]), false).unwrap();
+    let east = import(
+        &db,
+        "optical-10m",
+        &csv(&[(-60.0 + 4.0 * G, -3.0, "2026-01-11")]),
+        false,
+    )
+    .unwrap();
     assert_eq!(east.events_created, 1);
     let events = db.read(|r| r.events(&EventFilter::default())).unwrap();
-    let (a, b) = (events.iter().map(|e| e.id).min().unwrap(), events.iter().map(|e| e.id).max().unwrap());
+    let (a, b) = (
+        events.iter().map(|e| e.id).min().unwrap(),
+        events.iter().map(|e| e.id).max().unwrap(),
+    );
 
     // A radar pixel between them links both (10 m grid, 8-neighbours).
-    let bridge = import(&db, "radar-10m", &csv(&[(-60.0 + 2.0 * G, -3.0, "2026-01-12"), (-60.0 + 3.0 * G, -3.0, "2026-01-12")]), false).unwrap();
-    assert_eq!((bridge.events_created, bridge.events_grown, bridge.events_merged), (0, 0, 1));
+    let bridge = import(
+        &db,
+        "radar-10m",
+        &csv(&[
+            (-60.0 + 2.0 * G, -3.0, "2026-01-12"),
+            (-60.0 + 3.0 * G, -3.0, "2026-01-12"),
+        ]),
+        false,
+    )
+    .unwrap();
+    assert_eq!(
+        (
+            bridge.events_created,
+            bridge.events_grown,
+            bridge.events_merged
+        ),
+        (0, 0, 1)
+    );
     let live = db.read(|r| r.events(&EventFilter::default())).unwrap();
     assert_eq!(live.len(), 1);
     let e = &live[0];
@@ -62,14 +96,27 @@ fn events_grow_merge_and_keep_the_oldest_id() {
     assert_eq!(e.attrs.alert_count, 5);
     assert!(e.attrs.corroborated, "radar touches optical");
     assert_eq!(e.attrs.first.to_string(), "2026-01-01");
-    assert!((e.attrs.area_ha - 0.05).abs() < 0.0001, "{}", e.attrs.area_ha);
+    assert!(
+        (e.attrs.area_ha - 0.05).abs() < 0.0001,
+        "{}",
+        e.attrs.area_ha
+    );
     // The absorbed id still resolves to the survivor.
     let resolved = db.read(|r| r.event_resolved(b)).unwrap().unwrap();
     assert_eq!(resolved.id, a);
 
     // A re-detection of a known pixel grows nothing new; the same row again is a duplicate.
-    let again = import(&db, "optical-10m", &csv(&[(-60.0, -3.0, "2026-01-01"), (-60.0, -3.0, "2026-01-16")]), false).unwrap();
-    assert_eq!((again.duplicates, again.imported, again.events_grown), (1, 1, 1));
+    let again = import(
+        &db,
+        "optical-10m",
+        &csv(&[(-60.0, -3.0, "2026-01-01"), (-60.0, -3.0, "2026-01-16")]),
+        false,
+    )
+    .unwrap();
+    assert_eq!(
+        (again.duplicates, again.imported, again.events_grown),
+        (1, 1, 1)
+    );
 }
 
 /// Arrival order changes nothing: the same alerts in one file or in three
@@ -96,7 +143,12 @@ fn partition_does_not_depend_on_arrival_order() {
                     .read(|r| r.alerts_of_events(&[e.id]))
                     .unwrap()
                     .iter()
-                    .map(|a| ((a.lon * 1e6).round() as i64, (a.lat * 1e6).round() as i64 * 100_000 + i64::from(a.day.days())))
+                    .map(|a| {
+                        (
+                            (a.lon * 1e6).round() as i64,
+                            (a.lat * 1e6).round() as i64 * 100_000 + i64::from(a.day.days()),
+                        )
+                    })
                     .collect();
                 v.sort();
                 v
@@ -116,41 +168,91 @@ fn partition_does_not_depend_on_arrival_order() {
 #[test]
 fn a_bad_file_imports_nothing_unless_told_to_skip() {
     let (_d, db) = db();
-    import(&db, "optical-10m", &csv(&[(-60.0, -3.0, "2026-01-01")]), false).unwrap();
-    let before = db.read(|r| Ok((r.alert_count()?, r.event_counts()?))).unwrap();
+    import(
+        &db,
+        "optical-10m",
+        &csv(&[(-60.0, -3.0, "2026-01-01")]),
+        false,
+    )
+    .unwrap();
+    let before = db
+        .read(|r| Ok((r.alert_count()?, r.event_counts()?)))
+        .unwrap();
     let bad = "longitude,latitude,detected_on,confidence\n-60.1,-3.1,2026-02-01,confirmed\n-60.2,-93,2026-02-01,confirmed\n-60.3,-3.3,2026-02-31,confirmed\n";
     match import(&db, "optical-10m", bad, false) {
         Err(Error::ImportRejected(f)) => {
             assert_eq!(f.error_count, 2);
-            assert_eq!((f.errors[0].line, f.errors[0].field.as_str()), (3, "latitude"));
-            assert_eq!((f.errors[1].line, f.errors[1].field.as_str()), (4, "detected_on"));
+            assert_eq!(
+                (f.errors[0].line, f.errors[0].field.as_str()),
+                (3, "latitude")
+            );
+            assert_eq!(
+                (f.errors[1].line, f.errors[1].field.as_str()),
+                (4, "detected_on")
+            );
         }
         other => panic!("expected a refusal, got {other:?}"),
     }
-    assert_eq!(db.read(|r| Ok((r.alert_count()?, r.event_counts()?))).unwrap(), before);
+    assert_eq!(
+        db.read(|r| Ok((r.alert_count()?, r.event_counts()?)))
+            .unwrap(),
+        before
+    );
     let skipped = import(&db, "optical-10m", bad, true).unwrap();
-    assert_eq!((skipped.imported, skipped.skipped, skipped.skipped_rows.len()), (1, 2, 2));
+    assert_eq!(
+        (
+            skipped.imported,
+            skipped.skipped,
+            skipped.skipped_rows.len()
+        ),
+        (1, 2, 2)
+    );
     // An unknown source is refused before anything is written.
-    assert!(matches!(import(&db, "nosuch", bad, true), Err(Error::NotFound(_))));
+    assert!(matches!(
+        import(&db, "nosuch", bad, true),
+        Err(Error::NotFound(_))
+    ));
 }
 
 #[test]
 fn zones_link_events_and_filter_them() {
     let (_d, db) = db();
-    import(&db, "optical-10m", &csv(&[(-60.0, -3.0, "2026-01-01"), (-59.0, -3.0, "2026-01-01")]), false).unwrap();
+    import(
+        &db,
+        "optical-10m",
+        &csv(&[(-60.0, -3.0, "2026-01-01"), (-59.0, -3.0, "2026-01-01")]),
+        false,
+    )
+    .unwrap();
     let zones = r#"{"type":"FeatureCollection","features":[{"type":"Feature","properties":{"name":"Core","priority":true},
       "geometry":{"type":"Polygon","coordinates":[[[-60.1,-3.1],[-59.9,-3.1],[-59.9,-2.9],[-60.1,-2.9],[-60.1,-3.1]]]}}]}"#;
     import_zones(&db, "z.geojson", zones.as_bytes()).unwrap();
     let core = db
-        .read(|r| r.events(&EventFilter { zone: Some("Core".into()), ..Default::default() }))
+        .read(|r| {
+            r.events(&EventFilter {
+                zone: Some("Core".into()),
+                ..Default::default()
+            })
+        })
         .unwrap();
     assert_eq!(core.len(), 1);
     assert!(core[0].in_priority_zone);
     assert_eq!(core[0].zones, vec!["Core".to_string()]);
     // Events created after the zones are linked at once.
-    import(&db, "optical-10m", &csv(&[(-60.05, -3.05, "2026-03-01")]), false).unwrap();
+    import(
+        &db,
+        "optical-10m",
+        &csv(&[(-60.05, -3.05, "2026-03-01")]),
+        false,
+    )
+    .unwrap();
     let core = db
-        .read(|r| r.events(&EventFilter { zone: Some("Core".into()), ..Default::default() }))
+        .read(|r| {
+            r.events(&EventFilter {
+                zone: Some("Core".into()),
+                ..Default::default()
+            })
+        })
         .unwrap();
     assert_eq!(core.len(), 2);
 }

@@ -68,8 +68,8 @@ impl SafeZip {
         max_total: u64,
         allow: &dyn Fn(&str) -> Result<(), String>,
     ) -> Result<Self, SyncError> {
-        let file = File::open(path)
-            .map_err(|e| SyncError::io(format!("open {}", path.display()), e))?;
+        let file =
+            File::open(path).map_err(|e| SyncError::io(format!("open {}", path.display()), e))?;
         let size = file
             .metadata()
             .map_err(|e| SyncError::io(format!("stat {}", path.display()), e))?
@@ -218,7 +218,10 @@ fn scan(
             .to_owned();
         allow(&name).map_err(|r| refuse(&name, r))?;
         if entry.is_dir() || entry.is_symlink() || !entry.is_file() {
-            return Err(refuse(&name, "only regular files are allowed, no directories or links"));
+            return Err(refuse(
+                &name,
+                "only regular files are allowed, no directories or links",
+            ));
         }
         if entry
             .unix_mode()
@@ -248,10 +251,10 @@ fn scan(
         }
         ranges.push((start..end, name));
     }
+    check_overlap(&mut ranges)?;
     archive
         .validate_header_consistency()
         .map_err(|e| SyncError::zip("local headers disagree with the central directory", e))?;
-    check_overlap(&mut ranges)?;
     Ok(names)
 }
 

@@ -13,7 +13,11 @@ fn load_scenario(s: &TestServer) {
         );
         assert_eq!(r.status, 201, "{}", r.body);
     }
-    let z = post_bytes(&s.url("/api/v1/zones"), "application/geo+json", mock_patrols::zones_geojson(&scenario).as_bytes());
+    let z = post_bytes(
+        &s.url("/api/v1/zones"),
+        "application/geo+json",
+        mock_patrols::zones_geojson(&scenario).as_bytes(),
+    );
     assert_eq!(z.status, 200, "{}", z.body);
     for (source, rows) in mock_patrols::generate_alerts(&scenario, 42) {
         let body = if source == "radar-10m" {
@@ -21,7 +25,11 @@ fn load_scenario(s: &TestServer) {
         } else {
             mock_patrols::alerts_csv(&rows)
         };
-        let r = post_bytes(&s.url(&format!("/api/v1/alerts?source={source}")), "text/plain", body.as_bytes());
+        let r = post_bytes(
+            &s.url(&format!("/api/v1/alerts?source={source}")),
+            "text/plain",
+            body.as_bytes(),
+        );
         assert_eq!(r.status, 200, "{}", r.body);
         let out = r.json();
         assert_eq!(out["imported"].as_u64(), Some(rows.len() as u64));
@@ -55,10 +63,22 @@ fn events_by_zone_over_http() {
     let big = get(&s.url("/api/v1/events?zone=Core&min_area_ha=1&source=optical-30m")).json();
     for f in big["features"].as_array().unwrap() {
         assert!(f["properties"]["area_ha"].as_f64().unwrap() >= 1.0);
-        assert!(f["properties"]["sources"].as_array().unwrap().iter().any(|x| x == "optical-30m"));
+        assert!(
+            f["properties"]["sources"]
+                .as_array()
+                .unwrap()
+                .iter()
+                .any(|x| x == "optical-30m")
+        );
     }
     // Corroboration shows up on some events of the scenario.
-    assert!(all["features"].as_array().unwrap().iter().any(|f| f["properties"]["corroborated"] == true));
+    assert!(
+        all["features"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .any(|f| f["properties"]["corroborated"] == true)
+    );
 
     // One event by id.
     let id = features[0]["id"].as_i64().unwrap();
@@ -74,22 +94,55 @@ fn bad_requests_get_clear_errors_and_change_nothing() {
     let before = get(&s.url("/api/v1/events")).body;
 
     let bad = "longitude,latitude,detected_on,confidence\n-60.8,-3.5,2025-03-01,confirmed\n-60.8,x,2025-03-01,confirmed\n";
-    let r = post_bytes(&s.url("/api/v1/alerts?source=optical-10m"), "text/csv", bad.as_bytes());
+    let r = post_bytes(
+        &s.url("/api/v1/alerts?source=optical-10m"),
+        "text/csv",
+        bad.as_bytes(),
+    );
     assert_eq!(r.status, 422);
     let j = r.json();
     assert_eq!(j["rejected"]["errors"][0]["line"], 3);
     assert_eq!(j["rejected"]["errors"][0]["field"], "latitude");
 
-    assert_eq!(post_bytes(&s.url("/api/v1/alerts?source=nosuch"), "text/csv", bad.as_bytes()).status, 404);
-    assert_eq!(post_bytes(&s.url("/api/v1/alerts?source=optical-10m"), "text/csv", b"").status, 400);
+    assert_eq!(
+        post_bytes(
+            &s.url("/api/v1/alerts?source=nosuch"),
+            "text/csv",
+            bad.as_bytes()
+        )
+        .status,
+        404
+    );
+    assert_eq!(
+        post_bytes(&s.url("/api/v1/alerts?source=optical-10m"), "text/csv", b"").status,
+        400
+    );
     assert_eq!(get(&s.url("/api/v1/events?zone=Nowhere")).status, 404);
     assert_eq!(get(&s.url("/api/v1/events?from=yesterday")).status, 400);
     assert_eq!(get(&s.url("/api/v1/events/abc")).status, 400);
-    let dup = post_json(&s.url("/api/v1/sources"), &json!({"name": "optical-10m", "pixel_size_m": 10, "revisit_days": 5}));
+    let dup = post_json(
+        &s.url("/api/v1/sources"),
+        &json!({"name": "optical-10m", "pixel_size_m": 10, "revisit_days": 5}),
+    );
     assert_eq!(dup.status, 409);
-    let neg = post_json(&s.url("/api/v1/sources"), &json!({"name": "x", "pixel_size_m": -1, "revisit_days": 5}));
+    let neg = post_json(
+        &s.url("/api/v1/sources"),
+        &json!({"name": "x", "pixel_size_m": -1, "revisit_days": 5}),
+    );
     assert_eq!(neg.status, 400);
-    assert_eq!(post_bytes(&s.url("/api/v1/zones"), "application/json", b"{\"type\":\"Point\"}").status, 400);
+    assert_eq!(
+        post_bytes(
+            &s.url("/api/v1/zones"),
+            "application/json",
+            b"{\"type\":\"Point\"}"
+        )
+        .status,
+        400
+    );
 
-    assert_eq!(get(&s.url("/api/v1/events")).body, before, "nothing changed");
+    assert_eq!(
+        get(&s.url("/api/v1/events")).body,
+        before,
+        "nothing changed"
+    );
 }

@@ -2,7 +2,9 @@
 //! geodesic area and centroid.
 
 use crate::geodesy::pixel_half_extent_deg;
-use geo::{Centroid, Coord, GeodesicArea, LineString, MultiPolygon, Orient, Polygon, orient::Direction};
+use geo::{
+    Centroid, Coord, GeodesicArea, LineString, MultiPolygon, Orient, Polygon, orient::Direction,
+};
 
 /// One pixel: centre (lon, lat) and side in metres.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -80,8 +82,14 @@ fn snapped_squares(pixels: &[Pixel]) -> Vec<Polygon<f64>> {
             .map(|b| b[2 * axis + 1] - b[2 * axis])
             .fold(f64::INFINITY, f64::min)
     };
-    let xs = snap_axis(boxes.iter().flat_map(|b| [b[0], b[1]]).collect(), min_side(0) * EDGE_SNAP_SHARE);
-    let ys = snap_axis(boxes.iter().flat_map(|b| [b[2], b[3]]).collect(), min_side(1) * EDGE_SNAP_SHARE);
+    let xs = snap_axis(
+        boxes.iter().flat_map(|b| [b[0], b[1]]).collect(),
+        min_side(0) * EDGE_SNAP_SHARE,
+    );
+    let ys = snap_axis(
+        boxes.iter().flat_map(|b| [b[2], b[3]]).collect(),
+        min_side(1) * EDGE_SNAP_SHARE,
+    );
     (0..boxes.len())
         .map(|i| {
             let (w, e, s, n) = (xs[2 * i], xs[2 * i + 1], ys[2 * i], ys[2 * i + 1]);
@@ -186,21 +194,37 @@ mod tests {
     fn degree_grid_pixels_make_one_outline() {
         let px: Vec<Pixel> = (0..5)
             .flat_map(|i| (0..3).map(move |j| (i, j)))
-            .map(|(i, j)| Pixel { lon: -60.0 + 0.00009 * f64::from(i), lat: -3.0 + 0.00009 * f64::from(j), size_m: 10.0 })
+            .map(|(i, j)| Pixel {
+                lon: -60.0 + 0.00009 * f64::from(i),
+                lat: -3.0 + 0.00009 * f64::from(j),
+                size_m: 10.0,
+            })
             .collect();
         let f = footprint(&px);
         assert_eq!(f.shape.0.len(), 1, "{:?}", f.shape);
         assert!(f.shape.is_valid());
         // 0.00009° of latitude is 9.95 m here, so neighbouring 10 m
         // squares overlap by 5 cm north-south: the union is 50.1 m × 29.9 m.
-        assert!(((f.area_ha - 0.1498) / 0.1498).abs() < 0.002, "{}", f.area_ha);
+        assert!(
+            ((f.area_ha - 0.1498) / 0.1498).abs() < 0.002,
+            "{}",
+            f.area_ha
+        );
     }
 
     #[test]
     fn separate_pixels_stay_separate() {
         let px = vec![
-            Pixel { lon: 0.0, lat: 0.0, size_m: 10.0 },
-            Pixel { lon: 0.001, lat: 0.0, size_m: 10.0 },
+            Pixel {
+                lon: 0.0,
+                lat: 0.0,
+                size_m: 10.0,
+            },
+            Pixel {
+                lon: 0.001,
+                lat: 0.0,
+                size_m: 10.0,
+            },
         ];
         let f = footprint(&px);
         assert_eq!(f.shape.0.len(), 2);

@@ -187,9 +187,7 @@ mod tests {
             for j in i + 1..points.len() {
                 let (a, b) = (points[i], points[j]);
                 let d = haversine_m((a.lon, a.lat), (b.lon, b.lat));
-                let ok_t = rule
-                    .window_days
-                    .is_none_or(|w| (a.day - b.day).abs() <= w);
+                let ok_t = rule.window_days.is_none_or(|w| (a.day - b.day).abs() <= w);
                 if ok_t && d <= rule.factor * a.pixel_m.max(b.pixel_m) {
                     uf.union(i as u32, j as u32);
                 }

@@ -110,8 +110,14 @@ mod tests {
             confirmed: false,
             in_priority_zone: false,
         };
-        let bigger = PriorityInput { area_ha: 5.0, ..base };
-        let older = PriorityInput { age_days: 100.0, ..base };
+        let bigger = PriorityInput {
+            area_ha: 5.0,
+            ..base
+        };
+        let older = PriorityInput {
+            age_days: 100.0,
+            ..base
+        };
         assert!(score(&w, &bigger) > score(&w, &base));
         assert!(score(&w, &older) < score(&w, &base));
     }

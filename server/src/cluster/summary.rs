@@ -79,7 +79,10 @@ fn bbox_of(f: &Footprint) -> (f64, f64, f64, f64) {
 /// smaller pixel side touch (the tolerance the footprint snaps edges with);
 /// pairs are swept in longitude order.
 fn sources_touch(alerts: &[AlertFact]) -> bool {
-    let min_pixel = alerts.iter().map(|a| a.pixel_m).fold(f64::INFINITY, f64::min);
+    let min_pixel = alerts
+        .iter()
+        .map(|a| a.pixel_m)
+        .fold(f64::INFINITY, f64::min);
     let max_abs_lat = alerts.iter().map(|a| a.lat.abs()).fold(0.0, f64::max);
     let (dlon, dlat) = crate::geodesy::pixel_half_extent_deg(max_abs_lat, min_pixel);
     let touch = 2.0 * dlon.min(dlat) * super::footprint::EDGE_SNAP_SHARE;
@@ -87,7 +90,13 @@ fn sources_touch(alerts: &[AlertFact]) -> bool {
         .iter()
         .map(|a| {
             let (dlon, dlat) = crate::geodesy::pixel_half_extent_deg(a.lat, a.pixel_m);
-            (a.lon - dlon, a.lon + dlon, a.lat - dlat, a.lat + dlat, a.source_id)
+            (
+                a.lon - dlon,
+                a.lon + dlon,
+                a.lat - dlat,
+                a.lat + dlat,
+                a.source_id,
+            )
         })
         .collect();
     boxes.sort_by(|a, b| a.0.total_cmp(&b.0));
@@ -129,7 +138,10 @@ mod tests {
             fact(2, 2.0 * g, 110, Confidence::Confirmed),
         ];
         let s = summarize(&alerts).unwrap();
-        assert_eq!((s.first.days(), s.last.days(), s.alert_count), (100, 110, 3));
+        assert_eq!(
+            (s.first.days(), s.last.days(), s.alert_count),
+            (100, 110, 3)
+        );
         assert_eq!(s.per_source.get(&1), Some(&2));
         assert_eq!(s.highest_confidence, Confidence::Confirmed);
         assert!(s.corroborated, "source 2 touches source 1's second pixel");

@@ -88,7 +88,12 @@ mod tests {
         let plain = ConfidenceMap::default();
         assert_eq!(plain.parse(" Confirmed "), Ok(Confidence::Confirmed));
         assert_eq!(plain.parse("tentative"), Ok(Confidence::Tentative));
-        assert!(plain.parse("3").unwrap_err().contains("--confidence-threshold"));
+        assert!(
+            plain
+                .parse("3")
+                .unwrap_err()
+                .contains("--confidence-threshold")
+        );
         assert!(plain.parse("maybe").unwrap_err().contains("expected"));
         let mapped = ConfidenceMap {
             numeric_threshold: Some(3.0),

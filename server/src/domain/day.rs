@@ -82,7 +82,10 @@ mod tests {
         // 2026-03-01 is 20513 days after 1970-01-01 (checked with Python's
         // datetime.date(2026,3,1).toordinal() - date(1970,1,1).toordinal()).
         assert_eq!(d.days(), 20513);
-        assert_eq!(Day::parse("2026-03-01T23:30:00-02:00").unwrap().to_string(), "2026-03-02");
+        assert_eq!(
+            Day::parse("2026-03-01T23:30:00-02:00").unwrap().to_string(),
+            "2026-03-02"
+        );
         assert_eq!(Day::parse("2026-03-01T10:00:00").unwrap(), d);
         assert!(Day::parse("01/03/2026").unwrap_err().contains("ISO 8601"));
         assert!(Day::parse("2026-02-30").is_err());

@@ -25,7 +25,9 @@ impl LonLat {
     pub fn parse_lat_lon(raw: &str) -> Result<Self, String> {
         let mut parts = raw.split(',').map(str::trim);
         let (Some(a), Some(b), None) = (parts.next(), parts.next(), parts.next()) else {
-            return Err(format!("expected LAT,LON in decimal degrees, found '{raw}'"));
+            return Err(format!(
+                "expected LAT,LON in decimal degrees, found '{raw}'"
+            ));
         };
         let lat = a
             .parse::<f64>()

@@ -6,11 +6,13 @@ use std::fmt;
 fn check(kind: &str, raw: &str, allow_space: bool) -> Result<String, String> {
     let s = raw.trim();
     if s.is_empty() || s.chars().count() > 64 {
-        return Err(format!("{kind} name must be 1 to 64 characters, found '{s}'"));
+        return Err(format!(
+            "{kind} name must be 1 to 64 characters, found '{s}'"
+        ));
     }
-    let ok = s.chars().all(|c| {
-        c.is_alphanumeric() || matches!(c, '-' | '_' | '.') || (allow_space && c == ' ')
-    });
+    let ok = s
+        .chars()
+        .all(|c| c.is_alphanumeric() || matches!(c, '-' | '_' | '.') || (allow_space && c == ' '));
     if !ok {
         return Err(format!(
             "{kind} name '{s}' may hold only letters, digits, '-', '_', '.'{}",

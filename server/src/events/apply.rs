@@ -8,7 +8,9 @@ use crate::cluster::summary::{AlertFact, summarize};
 use crate::cluster::{LinkPoint, UnionFind};
 use crate::domain::SourceName;
 use crate::error::{Error, Result};
-use crate::import::{Format, ImportFailure, MAX_LISTED_ERRORS, ReadOptions, RowError, parse_alerts};
+use crate::import::{
+    Format, ImportFailure, MAX_LISTED_ERRORS, ReadOptions, RowError, parse_alerts,
+};
 use crate::storage::{Db, EventWrite, NewAlert, StoredAlert, Tx, alerts_cells};
 use serde::Serialize;
 use std::collections::{BTreeMap, BTreeSet, HashMap, HashSet};
@@ -43,27 +45,45 @@ pub struct ImportOutcome {
 
 /// Parse, validate and store an alert file; events follow in the same
 /// transaction.
-pub fn import_alerts(db: &Db, req: &ImportRequest<'_>, cfg: &ClusterSettings) -> Result<ImportOutcome> {
+pub fn import_alerts(
+    db: &Db,
+    req: &ImportRequest<'_>,
+    cfg: &ClusterSettings,
+) -> Result<ImportOutcome> {
     let unknown = || {
         Error::NotFound(format!(
             "unknown source '{}': register it first (groundproof sources add {} --pixel-size M --revisit-days D)",
             req.source, req.source
         ))
     };
-    db.read(|r| r.source_by_name(req.source.as_str()))?.ok_or_else(unknown)?;
+    db.read(|r| r.source_by_name(req.source.as_str()))?
+        .ok_or_else(unknown)?;
+    let t0 = std::time::Instant::now();
     let parsed = parse_alerts(req.file_name, req.bytes, req.format, &req.read);
-    let file_level = parsed.errors.iter().any(|e| e.line == 0 || e.field.starts_with('('));
+    let parse_ms = t0.elapsed().as_millis();
+    let file_level = parsed
+        .errors
+        .iter()
+        .any(|e| e.line == 0 || e.field.starts_with('('));
     if !parsed.errors.is_empty() && (!req.skip_invalid || file_level && parsed.alerts.is_empty()) {
         return Err(Error::ImportRejected(ImportFailure {
             file: req.file_name.to_string(),
             rows_read: parsed.rows_read,
             error_count: parsed.errors.len(),
-            errors: parsed.errors.iter().take(MAX_LISTED_ERRORS).cloned().collect(),
+            errors: parsed
+                .errors
+                .iter()
+                .take(MAX_LISTED_ERRORS)
+                .cloned()
+                .collect(),
         }));
     }
     let skipped = parsed.errors.len();
     db.write(|tx| {
-        let source = tx.reader().source_by_name(req.source.as_str())?.ok_or_else(unknown)?;
+        let source = tx
+            .reader()
+            .source_by_name(req.source.as_str())?
+            .ok_or_else(unknown)?;
         let mut outcome = ImportOutcome {
             file: req.file_name.to_string(),
             source: source.name.clone(),
@@ -71,7 +91,12 @@ pub fn import_alerts(db: &Db, req: &ImportRequest<'_>, cfg: &ClusterSettings) ->
             imported: 0,
             duplicates: 0,
             skipped,
-            skipped_rows: parsed.errors.iter().take(MAX_LISTED_ERRORS).cloned().collect(),
+            skipped_rows: parsed
+                .errors
+                .iter()
+                .take(MAX_LISTED_ERRORS)
+                .cloned()
+                .collect(),
             events_created: 0,
             events_grown: 0,
             events_merged: 0,
@@ -85,12 +110,17 @@ pub fn import_alerts(db: &Db, req: &ImportRequest<'_>, cfg: &ClusterSettings) ->
         let nearby = if tx.reader().alert_count()? == 0 {
             Vec::new()
         } else {
-            let pts: Vec<(f64, f64)> = parsed.alerts.iter().map(|a| (a.at.lon(), a.at.lat())).collect();
+            let pts: Vec<(f64, f64)> = parsed
+                .alerts
+                .iter()
+                .map(|a| (a.at.lon(), a.at.lat()))
+                .collect();
             tx.reader()
                 .alerts_in_cells(&alerts_cells(&pts, cfg.link_factor * max_pixel))?
         };
         // Duplicates: the same source, pixel and day, in the file or stored.
-        let key = |lon: f64, lat: f64, day: i32| (crate::storage::e7(lon), crate::storage::e7(lat), day);
+        let key =
+            |lon: f64, lat: f64, day: i32| (crate::storage::e7(lon), crate::storage::e7(lat), day);
         let mut seen: HashSet<(i64, i64, i32)> = nearby
             .iter()
             .filter(|a| a.source_id == source.id)
@@ -106,7 +136,12 @@ pub fn import_alerts(db: &Db, req: &ImportRequest<'_>, cfg: &ClusterSettings) ->
         let import_id = tx.add_import(
             source.id,
             req.file_name,
-            [outcome.rows_read, outcome.imported, outcome.duplicates, outcome.skipped],
+            [
+                outcome.rows_read,
+                outcome.imported,
+                outcome.duplicates,
+                outcome.skipped,
+            ],
         )?;
         if fresh.is_empty() {
             return Ok(outcome);
@@ -116,7 +151,12 @@ pub fn import_alerts(db: &Db, req: &ImportRequest<'_>, cfg: &ClusterSettings) ->
         // stay together whatever the local subset shows.
         let mut points: Vec<LinkPoint> = nearby
             .iter()
-            .map(|a| LinkPoint { lon: a.lon, lat: a.lat, day: a.day.days(), pixel_m: a.pixel_m })
+            .map(|a| LinkPoint {
+                lon: a.lon,
+                lat: a.lat,
+                day: a.day.days(),
+                pixel_m: a.pixel_m,
+            })
             .collect();
         points.extend(fresh.iter().map(|a| LinkPoint {
             lon: a.at.lon(),
@@ -124,7 +164,9 @@ pub fn import_alerts(db: &Db, req: &ImportRequest<'_>, cfg: &ClusterSettings) ->
             day: a.day.days(),
             pixel_m: source.pixel_size_m,
         }));
+        let t1 = std::time::Instant::now();
         let mut uf = link(&points, &cfg.rule());
+        let link_ms = t1.elapsed().as_millis();
         let mut first_of_event: HashMap<i64, u32> = HashMap::new();
         for (i, a) in nearby.iter().enumerate() {
             let first = *first_of_event.entry(a.event_id).or_insert(i as u32);
@@ -132,10 +174,17 @@ pub fn import_alerts(db: &Db, req: &ImportRequest<'_>, cfg: &ClusterSettings) ->
         }
         let groups = groups_with_new(&mut uf, nearby.len());
 
-        let names: HashMap<i64, String> =
-            tx.reader().sources()?.into_iter().map(|s| (s.id, s.name)).collect();
+        let names: HashMap<i64, String> = tx
+            .reader()
+            .sources()?
+            .into_iter()
+            .map(|s| (s.id, s.name))
+            .collect();
         let zones = load_zone_shapes(tx)?;
-        let mut new_rows = Vec::with_capacity(fresh.len());
+        // Gather each touched set's alerts (reads), summarise them on all
+        // cores (pure), then write in one pass.
+        let mut work: Vec<(BTreeSet<i64>, Vec<usize>, Vec<AlertFact>)> =
+            Vec::with_capacity(groups.len());
         for members in groups.values() {
             let existing: BTreeSet<i64> = members
                 .iter()
@@ -151,7 +200,11 @@ pub fn import_alerts(db: &Db, req: &ImportRequest<'_>, cfg: &ClusterSettings) ->
                 Vec::new()
             } else {
                 let ids: Vec<i64> = existing.iter().copied().collect();
-                tx.reader().alerts_of_events(&ids)?.iter().map(fact_of).collect()
+                tx.reader()
+                    .alerts_of_events(&ids)?
+                    .iter()
+                    .map(fact_of)
+                    .collect()
             };
             facts.extend(new_idx.iter().map(|&j| AlertFact {
                 source_id: source.id,
@@ -161,7 +214,12 @@ pub fn import_alerts(db: &Db, req: &ImportRequest<'_>, cfg: &ClusterSettings) ->
                 confidence: fresh[j].confidence,
                 pixel_m: source.pixel_size_m,
             }));
-            let Some(summary) = summarize(&facts) else { continue };
+            work.push((existing, new_idx, facts));
+        }
+        let summaries = summarize_all(&work);
+        let mut new_rows = Vec::with_capacity(fresh.len());
+        for ((existing, new_idx, _), summary) in work.iter().zip(summaries) {
+            let Some(summary) = summary else { continue };
             let write = EventWrite {
                 footprint: footprint_geojson(&summary.footprint),
                 area_ha: summary.footprint.area_ha,
@@ -196,7 +254,10 @@ pub fn import_alerts(db: &Db, req: &ImportRequest<'_>, cfg: &ClusterSettings) ->
                     survivor
                 }
             };
-            tx.set_event_zones(event_id, &zones_hit(&zones, &summary.footprint.shape, summary.bbox))?;
+            let hit = zones_hit(&zones, &summary.footprint.shape, summary.bbox);
+            if !hit.is_empty() || !existing.is_empty() {
+                tx.set_event_zones(event_id, &hit)?;
+            }
             new_rows.extend(new_idx.iter().map(|&j| NewAlert {
                 source_id: source.id,
                 lon: fresh[j].at.lon(),
@@ -206,8 +267,40 @@ pub fn import_alerts(db: &Db, req: &ImportRequest<'_>, cfg: &ClusterSettings) ->
                 event_id,
             }));
         }
+        let events_ms = t1.elapsed().as_millis() - link_ms;
+        let t2 = std::time::Instant::now();
         insert_sorted(tx, import_id, new_rows)?;
+        tracing::info!(
+            file = req.file_name,
+            rows = outcome.rows_read,
+            parse_ms,
+            link_ms,
+            events_ms,
+            insert_ms = t2.elapsed().as_millis(),
+            "alerts imported"
+        );
         Ok(outcome)
+    })
+}
+
+/// Summaries of every work item, computed on up to two threads (the
+/// machine this is sized for has two cores).
+fn summarize_all(
+    work: &[(BTreeSet<i64>, Vec<usize>, Vec<AlertFact>)],
+) -> Vec<Option<crate::cluster::summary::EventSummary>> {
+    let threads = std::thread::available_parallelism()
+        .map_or(1, |n| n.get())
+        .clamp(1, 2);
+    if threads == 1 || work.len() < 64 {
+        return work.iter().map(|w| summarize(&w.2)).collect();
+    }
+    let mid = work.len() / 2;
+    let (a, b) = work.split_at(mid);
+    std::thread::scope(|s| {
+        let h = s.spawn(|| b.iter().map(|w| summarize(&w.2)).collect::<Vec<_>>());
+        let mut out: Vec<_> = a.iter().map(|w| summarize(&w.2)).collect();
+        out.extend(h.join().unwrap_or_default());
+        out
     })
 }
 

@@ -46,8 +46,12 @@ pub fn parse(file: &str, bytes: &[u8], opts: &ReadOptions) -> Parsed {
         errors: Vec::new(),
     };
     let Ok(text) = std::str::from_utf8(bytes) else {
-        out.errors
-            .push(file_error(file, 0, "(file)", "file is not UTF-8 text".into()));
+        out.errors.push(file_error(
+            file,
+            0,
+            "(file)",
+            "file is not UTF-8 text".into(),
+        ));
         return out;
     };
     let first_line = text.lines().next().unwrap_or("");
@@ -61,12 +65,16 @@ pub fn parse(file: &str, bytes: &[u8], opts: &ReadOptions) -> Parsed {
         .flexible(true)
         .from_reader(text.as_bytes());
     let headers: Vec<String> = match reader.headers() {
-        Ok(h) if !h.is_empty() && !(h.len() == 1 && h[0].trim().is_empty()) => {
+        Ok(h) if !(h.is_empty() || h.len() == 1 && h[0].trim().is_empty()) => {
             h.iter().map(str::to_string).collect()
         }
         _ => {
-            out.errors
-                .push(file_error(file, 1, "(header)", "the file has no header row".into()));
+            out.errors.push(file_error(
+                file,
+                1,
+                "(header)",
+                "the file has no header row".into(),
+            ));
             return out;
         }
     };
@@ -114,8 +122,12 @@ pub fn parse(file: &str, bytes: &[u8], opts: &ReadOptions) -> Parsed {
             Err(e) => {
                 let line = e.position().map(|p| line_at(p.byte())).unwrap_or(0);
                 out.rows_read += 1;
-                out.errors
-                    .push(file_error(file, line, "(row)", format!("unreadable CSV: {e}")));
+                out.errors.push(file_error(
+                    file,
+                    line,
+                    "(row)",
+                    format!("unreadable CSV: {e}"),
+                ));
                 continue;
             }
         };
@@ -165,13 +177,26 @@ mod tests {
     fn errors_name_line_and_field() {
         let text = "longitude,latitude,detected_on,confidence\n-60,-3,2026-01-01,confirmed\n-60,95,2026-01-01,confirmed\nabc,-3,2026-01-01,confirmed\n-60,-3,2026-13-01,confirmed\n-60,-3,2026-01-01,7\n";
         let p = parse("bad.csv", text.as_bytes(), &ReadOptions::default());
-        let got: Vec<(usize, &str)> = p.errors.iter().map(|e| (e.line, e.field.as_str())).collect();
+        let got: Vec<(usize, &str)> = p
+            .errors
+            .iter()
+            .map(|e| (e.line, e.field.as_str()))
+            .collect();
         assert_eq!(
             got,
-            vec![(3, "latitude"), (4, "longitude"), (5, "detected_on"), (6, "confidence")]
+            vec![
+                (3, "latitude"),
+                (4, "longitude"),
+                (5, "detected_on"),
+                (6, "confidence")
+            ]
         );
         assert_eq!(p.alerts.len(), 1);
-        assert!(p.errors[0].to_string().starts_with("bad.csv: line 3: field 'latitude'"));
+        assert!(
+            p.errors[0]
+                .to_string()
+                .starts_with("bad.csv: line 3: field 'latitude'")
+        );
     }
 
     #[test]

@@ -14,12 +14,16 @@ fn err(file: &str, line: usize, field: &str, message: String) -> RowError {
     }
 }
 
-fn prop<'a>(props: &'a serde_json::Map<String, Value>, given: Option<&str>, usual: &[&str]) -> Option<(&'a str, String)> {
-    let pick = |k: &str| props.get_key_value(k).or_else(|| {
+fn prop<'a>(
+    props: &'a serde_json::Map<String, Value>,
+    given: Option<&str>,
+    usual: &[&str],
+) -> Option<(&'a str, String)> {
+    let pick = |k: &str| {
         props
-            .iter()
-            .find(|(name, _)| name.eq_ignore_ascii_case(k))
-    });
+            .get_key_value(k)
+            .or_else(|| props.iter().find(|(name, _)| name.eq_ignore_ascii_case(k)))
+    };
     let found = match given {
         Some(g) => pick(g),
         None => usual.iter().find_map(|k| pick(k)),
@@ -43,7 +47,8 @@ pub fn parse(file: &str, bytes: &[u8], opts: &ReadOptions) -> Parsed {
     let doc: Value = match serde_json::from_slice(bytes) {
         Ok(v) => v,
         Err(e) => {
-            out.errors.push(err(file, 0, "(file)", format!("not valid JSON: {e}")));
+            out.errors
+                .push(err(file, 0, "(file)", format!("not valid JSON: {e}")));
             return out;
         }
     };
@@ -76,21 +81,33 @@ pub fn parse(file: &str, bytes: &[u8], opts: &ReadOptions) -> Parsed {
             continue;
         };
         let (Some(lon), Some(lat)) = (c[0].as_f64(), c[1].as_f64()) else {
-            out.errors.push(err(file, i, "geometry", "coordinates must be numbers".into()));
+            out.errors.push(err(
+                file,
+                i,
+                "geometry",
+                "coordinates must be numbers".into(),
+            ));
             continue;
         };
         let empty = serde_json::Map::new();
-        let props = f.get("properties").and_then(Value::as_object).unwrap_or(&empty);
+        let props = f
+            .get("properties")
+            .and_then(Value::as_object)
+            .unwrap_or(&empty);
         let Some((date_key, date)) = prop(props, opts.date_column.as_deref(), DATE_NAMES) else {
             out.errors.push(err(
                 file,
                 i,
                 "properties",
-                format!("no date property: expected one of {}", DATE_NAMES.join(", ")),
+                format!(
+                    "no date property: expected one of {}",
+                    DATE_NAMES.join(", ")
+                ),
             ));
             continue;
         };
-        let Some((conf_key, conf)) = prop(props, opts.confidence_column.as_deref(), CONFIDENCE_NAMES)
+        let Some((conf_key, conf)) =
+            prop(props, opts.confidence_column.as_deref(), CONFIDENCE_NAMES)
         else {
             out.errors.push(err(
                 file,
@@ -131,8 +148,14 @@ mod tests {
         let p = parse("a.geojson", text.as_bytes(), &ReadOptions::default());
         assert_eq!(p.rows_read, 3);
         assert_eq!(p.alerts.len(), 1);
-        assert_eq!((p.errors[0].line, p.errors[0].field.as_str()), (1, "geometry"));
-        assert_eq!((p.errors[1].line, p.errors[1].field.as_str()), (2, "coordinates[0]"));
+        assert_eq!(
+            (p.errors[0].line, p.errors[0].field.as_str()),
+            (1, "geometry")
+        );
+        assert_eq!(
+            (p.errors[1].line, p.errors[1].field.as_str()),
+            (2, "coordinates[0]")
+        );
     }
 
     #[test]

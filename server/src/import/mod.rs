@@ -176,14 +176,21 @@ pub(crate) fn build_row(
 ) -> Result<ParsedAlert, (String, String)> {
     let [lon_s, lat_s, date_s, conf_s] = raw;
     let num = |s: &str, f: &str| -> Result<f64, (String, String)> {
-        s.trim()
-            .parse::<f64>()
-            .map_err(|_| (f.to_string(), format!("expected a number in decimal degrees, found '{s}'")))
+        s.trim().parse::<f64>().map_err(|_| {
+            (
+                f.to_string(),
+                format!("expected a number in decimal degrees, found '{s}'"),
+            )
+        })
     };
     let lon = num(lon_s, fields[0])?;
     let lat = num(lat_s, fields[1])?;
     let at = LonLat::new(lon, lat).map_err(|m| {
-        let f = if m.starts_with("longitude") { fields[0] } else { fields[1] };
+        let f = if m.starts_with("longitude") {
+            fields[0]
+        } else {
+            fields[1]
+        };
         (f.to_string(), m)
     })?;
     let day = Day::parse(date_s).map_err(|m| (fields[2].to_string(), m))?;

@@ -62,12 +62,17 @@ pub fn parse_zones(file: &str, bytes: &[u8]) -> Result<Vec<ParsedZone>, Vec<Stri
             Ok(geo::Geometry::Polygon(p)) => MultiPolygon::new(vec![p]),
             Ok(geo::Geometry::MultiPolygon(m)) => m,
             _ => {
-                errors.push(at("field 'geometry': expected a Polygon or MultiPolygon".into()));
+                errors.push(at(
+                    "field 'geometry': expected a Polygon or MultiPolygon".into()
+                ));
                 continue;
             }
         };
         if !shape.is_valid() {
-            errors.push(at("field 'geometry': the polygon is not valid (self-intersecting or open ring)".into()));
+            errors.push(at(
+                "field 'geometry': the polygon is not valid (self-intersecting or open ring)"
+                    .into(),
+            ));
             continue;
         }
         let Some(r) = shape.bounding_rect() else {
@@ -76,7 +81,9 @@ pub fn parse_zones(file: &str, bytes: &[u8]) -> Result<Vec<ParsedZone>, Vec<Stri
         };
         let (w, s, e, n) = (r.min().x, r.min().y, r.max().x, r.max().y);
         if w < -180.0 || e > 180.0 || s < -90.0 || n > 90.0 {
-            errors.push(at("field 'geometry': coordinates out of range (longitude, latitude order)".into()));
+            errors.push(at(
+                "field 'geometry': coordinates out of range (longitude, latitude order)".into(),
+            ));
             continue;
         }
         zones.push(ParsedZone {
@@ -87,7 +94,11 @@ pub fn parse_zones(file: &str, bytes: &[u8]) -> Result<Vec<ParsedZone>, Vec<Stri
             bbox: (w, s, e, n),
         });
     }
-    if errors.is_empty() { Ok(zones) } else { Err(errors) }
+    if errors.is_empty() {
+        Ok(zones)
+    } else {
+        Err(errors)
+    }
 }
 
 #[cfg(test)]

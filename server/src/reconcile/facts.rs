@@ -7,9 +7,7 @@ use serde::{Deserialize, Serialize};
 use uuid::Uuid;
 
 /// Outcome of one visit (or of an adjudication).
-#[derive(
-    Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Deserialize,
-)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum Outcome {
     Confirmed,

@@ -84,7 +84,7 @@ pub fn distinct_reports(reports: &[ReportFact]) -> Vec<ReportFact> {
             .or_insert(r);
     }
     let mut out: Vec<ReportFact> = by_id.into_values().cloned().collect();
-    out.sort_by(|a, b| (a.observed_at, a.report_id).cmp(&(b.observed_at, b.report_id)));
+    out.sort_by_key(|r| (r.observed_at, r.report_id));
     out
 }
 
@@ -216,13 +216,16 @@ pub fn event_status(
     status_from_counted(&counted_reports(reports), adjudications, window_days)
 }
 
-/// Rules 4–8 on reports already reduced by [`counted_reports`] (sorted by
-/// (`observed_at`, `report_id`)).
+/// Rules 4–8 on reports already reduced by [`counted_reports`] (they are
+/// sorted again by (`observed_at`, `report_id`) here, so any order works).
 pub fn status_from_counted(
     counted: &[ReportFact],
     adjudications: &[Adjudication],
     window_days: u32,
 ) -> StatusOutcome {
+    let mut sorted = counted.to_vec();
+    sorted.sort_by_key(|r| (r.observed_at, r.report_id));
+    let counted = sorted.as_slice();
     let reached: Vec<&ReportFact> = counted.iter().filter(|r| r.outcome.reached()).collect();
     let decisive: Vec<&ReportFact> = reached
         .iter()

@@ -9,7 +9,10 @@ use uuid::Uuid;
 use super::*;
 
 fn day(d: i64) -> DateTime<Utc> {
-    Utc.with_ymd_and_hms(2025, 3, 1, 9, 0, 0).single().expect("valid time") + Duration::days(d)
+    Utc.with_ymd_and_hms(2025, 3, 1, 9, 0, 0)
+        .single()
+        .expect("valid time")
+        + Duration::days(d)
 }
 
 fn id(n: u128) -> Uuid {
@@ -94,7 +97,9 @@ fn duplicates_count_once_and_keep_first_received() {
 fn superseded_report_does_not_count_along_a_chain() {
     // 1 (false alarm) <- 2 (confirmed) <- 3 (confirmed, with cause): only 3 counts.
     let r1 = report(1, Outcome::FalseAlarm, 0);
-    let r2 = with(report(2, Outcome::Confirmed, 0), |r| r.supersedes = Some(id(1)));
+    let r2 = with(report(2, Outcome::Confirmed, 0), |r| {
+        r.supersedes = Some(id(1))
+    });
     let r3 = with(report(3, Outcome::Confirmed, 0), |r| {
         r.supersedes = Some(id(2));
         r.cause = Some("mining".into());
@@ -107,8 +112,12 @@ fn superseded_report_does_not_count_along_a_chain() {
 
 #[test]
 fn superseding_an_unknown_or_itself_still_counts() {
-    let r1 = with(report(1, Outcome::Confirmed, 0), |r| r.supersedes = Some(id(99)));
-    let r2 = with(report(2, Outcome::Confirmed, 1), |r| r.supersedes = Some(id(2)));
+    let r1 = with(report(1, Outcome::Confirmed, 0), |r| {
+        r.supersedes = Some(id(99))
+    });
+    let r2 = with(report(2, Outcome::Confirmed, 1), |r| {
+        r.supersedes = Some(id(2))
+    });
     let s = status(&[r1, r2]);
     assert_eq!(s.counted_reports, vec![id(1), id(2)]);
 }
@@ -116,11 +125,20 @@ fn superseding_an_unknown_or_itself_still_counts() {
 #[test]
 fn supersession_cycle_keeps_the_last_member() {
     // 1 -> 2 -> 1: both named; the one sorting last by (observed_at, id) is 2.
-    let r1 = with(report(1, Outcome::FalseAlarm, 0), |r| r.supersedes = Some(id(2)));
-    let r2 = with(report(2, Outcome::Confirmed, 0), |r| r.supersedes = Some(id(1)));
-    assert_eq!(status(&[r1.clone(), r2.clone()]).counted_reports, vec![id(2)]);
+    let r1 = with(report(1, Outcome::FalseAlarm, 0), |r| {
+        r.supersedes = Some(id(2))
+    });
+    let r2 = with(report(2, Outcome::Confirmed, 0), |r| {
+        r.supersedes = Some(id(1))
+    });
+    assert_eq!(
+        status(&[r1.clone(), r2.clone()]).counted_reports,
+        vec![id(2)]
+    );
     // An outside report 3 naming 1 replaces the whole cycle.
-    let r3 = with(report(3, Outcome::Inconclusive, 0), |r| r.supersedes = Some(id(1)));
+    let r3 = with(report(3, Outcome::Inconclusive, 0), |r| {
+        r.supersedes = Some(id(1))
+    });
     assert_eq!(status(&[r1, r2, r3]).counted_reports, vec![id(3)]);
 }
 

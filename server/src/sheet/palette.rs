@@ -96,10 +96,7 @@ impl SourcePalette {
         I: IntoIterator<Item = S>,
         S: AsRef<str>,
     {
-        let mut sources: Vec<String> = sources
-            .into_iter()
-            .map(|s| s.as_ref().to_owned())
-            .collect();
+        let mut sources: Vec<String> = sources.into_iter().map(|s| s.as_ref().to_owned()).collect();
         sources.sort();
         sources.dedup();
         SourcePalette { sources }
@@ -127,7 +124,9 @@ impl SourcePalette {
 
     /// Position of `source` in the palette.
     pub fn index(&self, source: &str) -> Option<usize> {
-        self.sources.binary_search_by(|s| s.as_str().cmp(source)).ok()
+        self.sources
+            .binary_search_by(|s| s.as_str().cmp(source))
+            .ok()
     }
 
     /// The sources in palette order.

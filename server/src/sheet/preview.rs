@@ -117,7 +117,11 @@ pub fn fit_view(event: &BundleEvent, pixels: &[PreviewPixel], size_px: u32) -> L
         }
     }
     for p in pixels {
-        let pad = if p.size_m.is_finite() { p.size_m.max(0.0) / 2.0 } else { 0.0 };
+        let pad = if p.size_m.is_finite() {
+            p.size_m.max(0.0) / 2.0
+        } else {
+            0.0
+        };
         grow(view.metres(p.lon, p.lat), pad);
     }
     let half = (reach * MARGIN_FACTOR).clamp(MIN_HALF_EXTENT_M, MAX_HALF_EXTENT_M);
@@ -212,7 +216,7 @@ pub fn render_preview_with_palette(
             canvas.thick_line(a, b, 2 * unit, OUTLINE);
         }
     }
-    draw_centroid(&mut canvas, view.to_px(cx, cy), unit);
+    draw_centroid(&mut canvas, view.to_px(cx, cy), (size_px / 40).max(4), unit);
     draw_north_arrow(&mut canvas, unit);
     draw_scale_bar(&mut canvas, &view, unit);
     for (x0, y0, x1, y1) in [(0, 0, last, 0), (0, last, last, last), (0, 0, 0, last)] {
@@ -238,7 +242,11 @@ fn draw_pixels(
     for p in order {
         let style = palette.style(&p.source);
         let (x, y) = view.to_px(p.lon, p.lat);
-        let size = if p.size_m.is_finite() { p.size_m.max(0.0) } else { 0.0 };
+        let size = if p.size_m.is_finite() {
+            p.size_m.max(0.0)
+        } else {
+            0.0
+        };
         let half = size / view.metres_per_px() / 2.0;
         let lim = |v: f64| v.clamp(-1e6, 1e6).floor() as i64;
         let (x0, x1) = (lim(x - half), lim(x + half - 1e-9).max(lim(x - half)));
@@ -247,13 +255,28 @@ fn draw_pixels(
     }
 }
 
-fn draw_centroid(canvas: &mut Canvas, (x, y): (f64, f64), unit: u32) {
-    let (x, y) = (x.clamp(-1e6, 1e6).floor() as i64, y.clamp(-1e6, 1e6).floor() as i64);
+fn draw_centroid(canvas: &mut Canvas, (x, y): (f64, f64), arm: u32, unit: u32) {
+    let (x, y) = (
+        x.clamp(-1e6, 1e6).floor() as i64,
+        y.clamp(-1e6, 1e6).floor() as i64,
+    );
     let u = i64::from(unit);
-    let (arm, half) = (6 * u, u);
+    let (arm, half) = (i64::from(arm), u);
     // White halo one unit around the cross, then the cross.
-    canvas.fill_rect(x - arm - u, y - half - u, x + arm + u, y + half + u, BACKGROUND);
-    canvas.fill_rect(x - half - u, y - arm - u, x + half + u, y + arm + u, BACKGROUND);
+    canvas.fill_rect(
+        x - arm - u,
+        y - half - u,
+        x + arm + u,
+        y + half + u,
+        BACKGROUND,
+    );
+    canvas.fill_rect(
+        x - half - u,
+        y - arm - u,
+        x + half + u,
+        y + arm + u,
+        BACKGROUND,
+    );
     canvas.fill_rect(x - arm, y - half, x + arm, y + half, MARKER);
     canvas.fill_rect(x - half, y - arm, x + half, y + arm, MARKER);
 }
@@ -261,12 +284,14 @@ fn draw_centroid(canvas: &mut Canvas, (x, y): (f64, f64), unit: u32) {
 fn draw_north_arrow(canvas: &mut Canvas, unit: u32) {
     let size = i64::from(canvas.width());
     let u = i64::from(unit);
-    let scale = 2 * unit;
+    let scale = text_scale(canvas.width()) + 1;
     let pad = 6 * u;
     let letter_h = i64::from(GLYPH_H * scale);
     let letter_w = i64::from(text_width("N", scale));
-    let arrow_len = 22 * u;
-    let box_w = letter_w.max(10 * u) + 4 * u;
+    let arrow_len = size / 10;
+    let head = arrow_len * 2 / 5;
+    let head_half = (head / 2).max(3);
+    let box_w = letter_w.max(2 * head_half) + 4 * u;
     let (x1, y0) = (size - pad, pad);
     let x0 = x1 - box_w;
     let y1 = y0 + letter_h + 3 * u + arrow_len + 2 * u;
@@ -274,13 +299,20 @@ fn draw_north_arrow(canvas: &mut Canvas, unit: u32) {
     let mid = (x0 + x1) / 2;
     draw_text(canvas, mid - letter_w / 2, y0 + u, "N", scale, INK);
     let tip = y0 + letter_h + 3 * u;
-    let head = 8 * u;
     let (midf, tipf, headf) = (mid as f64 + 0.5, tip as f64, (tip + head) as f64);
-    canvas.fill_triangle(
-        [(midf, tipf), (midf - 4.0 * u as f64, headf), (midf + 4.0 * u as f64, headf)],
+    let hh = head_half as f64;
+    canvas.fill_triangle([(midf, tipf), (midf - hh, headf), (midf + hh, headf)], INK);
+    canvas.thick_line(
+        (midf, headf),
+        (midf, (tip + arrow_len) as f64),
+        2 * unit,
         INK,
     );
-    canvas.thick_line((midf, headf), (midf, (tip + arrow_len) as f64), 2 * unit, INK);
+}
+
+/// Font scale of labels: 1 below 320 px, 2 from 320 px, 3 from 480 px, ...
+fn text_scale(size_px: u32) -> u32 {
+    (size_px / 160).max(1)
 }
 
 fn draw_scale_bar(canvas: &mut Canvas, view: &LocalView, unit: u32) {
@@ -291,7 +323,7 @@ fn draw_scale_bar(canvas: &mut Canvas, view: &LocalView, unit: u32) {
     let length_m = round_scale_length(max_len_px * view.metres_per_px());
     let len_px = (length_m / view.metres_per_px()).round() as i64;
     let label = scale_label(length_m);
-    let scale = unit;
+    let scale = text_scale(canvas.width());
     let label_h = i64::from(GLYPH_H * scale);
     let label_w = i64::from(text_width(&label, scale));
     let x0 = pad + 2 * u;
@@ -346,7 +378,12 @@ mod tests {
         assert!((y - 111_195.08).abs() < 0.01, "{y}");
         assert!((x - 55_597.54).abs() < 0.01, "{x}");
         // Across the antimeridian: 179.9 -> -179.9 is +0.2° east.
-        let view = LocalView { lon0: 179.9, lat0: 0.0, cos_lat0: 1.0, ..view };
+        let view = LocalView {
+            lon0: 179.9,
+            lat0: 0.0,
+            cos_lat0: 1.0,
+            ..view
+        };
         let (x, _) = view.metres(-179.9, 0.0);
         assert!((x - 0.2 * 111_195.08).abs() < 0.01, "{x}");
         // North is up: a point north of the centre has a smaller row.

@@ -123,9 +123,17 @@ impl Canvas {
         }
         let (w, h) = (f64::from(self.width()), f64::from(self.height()));
         let xmin = p.iter().map(|q| q.0).fold(f64::INFINITY, f64::min).max(0.0);
-        let xmax = p.iter().map(|q| q.0).fold(f64::NEG_INFINITY, f64::max).min(w);
+        let xmax = p
+            .iter()
+            .map(|q| q.0)
+            .fold(f64::NEG_INFINITY, f64::max)
+            .min(w);
         let ymin = p.iter().map(|q| q.1).fold(f64::INFINITY, f64::min).max(0.0);
-        let ymax = p.iter().map(|q| q.1).fold(f64::NEG_INFINITY, f64::max).min(h);
+        let ymax = p
+            .iter()
+            .map(|q| q.1)
+            .fold(f64::NEG_INFINITY, f64::max)
+            .min(h);
         if xmin > xmax || ymin > ymax {
             return;
         }

@@ -3,8 +3,7 @@
 
 use askama::Template;
 use groundproof_sync::bundle::{
-    BundleEvent, BundleHeader, Checklist, ControlPoint, MODE_ASSESSMENT, StartPoint,
-    is_valid_code,
+    BundleEvent, BundleHeader, Checklist, ControlPoint, MODE_ASSESSMENT, StartPoint, is_valid_code,
 };
 
 use super::SheetError;
@@ -151,7 +150,10 @@ pub fn render_field_sheet(input: &SheetInput) -> Result<String, SheetError> {
     for e in events {
         let ev = &e.event;
         if !is_valid_code(&ev.code) {
-            return bad(format!("event code {:?} is not a letter and 4 digits", ev.code));
+            return bad(format!(
+                "event code {:?} is not a letter and 4 digits",
+                ev.code
+            ));
         }
         let preview = match e.preview_png.as_slice() {
             [] => None,
@@ -185,7 +187,10 @@ pub fn render_field_sheet(input: &SheetInput) -> Result<String, SheetError> {
     let mut control_cards = Vec::with_capacity(controls.len());
     for c in controls {
         if !is_valid_code(&c.code) {
-            return bad(format!("control code {:?} is not a letter and 4 digits", c.code));
+            return bad(format!(
+                "control code {:?} is not a letter and 4 digits",
+                c.code
+            ));
         }
         control_cards.push(ControlCard {
             code: c.code.clone(),
@@ -198,7 +203,10 @@ pub fn render_field_sheet(input: &SheetInput) -> Result<String, SheetError> {
     let mut total = 0.0;
     for leg in &input.legs {
         if !(leg.leg_km.is_finite() && leg.leg_km >= 0.0) {
-            return bad(format!("leg to {} has distance {} km", leg.code, leg.leg_km));
+            return bad(format!(
+                "leg to {} has distance {} km",
+                leg.code, leg.leg_km
+            ));
         }
         total += leg.leg_km;
         route.push(RouteRow {

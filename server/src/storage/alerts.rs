@@ -64,7 +64,8 @@ fn stored(r: &rusqlite::Row<'_>) -> rusqlite::Result<StoredAlert> {
     })
 }
 
-const SELECT: &str = "SELECT a.id, a.source_id, s.pixel_size_m, a.lon, a.lat, a.day, a.confidence, a.event_id
+const SELECT: &str =
+    "SELECT a.id, a.source_id, s.pixel_size_m, a.lon, a.lat, a.day, a.confidence, a.event_id
      FROM alerts a JOIN sources s ON s.id = a.source_id";
 
 impl Tx<'_> {

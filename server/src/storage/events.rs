@@ -73,13 +73,13 @@ fn params_of(e: &EventWrite) -> Result<[rusqlite::types::Value; 15]> {
 impl Tx<'_> {
     pub fn insert_event(&self, e: &EventWrite) -> Result<i64> {
         let p = params_of(e)?;
-        self.tx.execute(
+        self.tx.prepare_cached(
             "INSERT INTO events (footprint, area_ha, centroid_lon, centroid_lat, west, south, east, north,
                 first_day, last_day, alert_count, highest_confidence, corroborated, per_source,
                 created_at, updated_at)
              VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?15)",
-            rusqlite::params_from_iter(p.iter()),
-        )?;
+        )?
+        .execute(rusqlite::params_from_iter(p.iter()))?;
         Ok(self.tx.last_insert_rowid())
     }
 
@@ -156,8 +156,7 @@ fn record(r: &rusqlite::Row<'_>) -> rusqlite::Result<EventRecord> {
             first: Day::from_days(r.get(11)?),
             last: Day::from_days(r.get(12)?),
             alert_count: r.get(13)?,
-            highest_confidence: Confidence::from_i64(r.get(14)?)
-                .unwrap_or(Confidence::Tentative),
+            highest_confidence: Confidence::from_i64(r.get(14)?).unwrap_or(Confidence::Tentative),
             corroborated: r.get::<_, i64>(15)? != 0,
             per_source: serde_json::from_str(&per_source).unwrap_or_default(),
         },
@@ -213,9 +212,9 @@ impl Reader<'_> {
     /// One event by id, following `merged_into` to the event that holds it
     /// now (so an old id in a bundle or report still resolves).
     pub fn event_resolved(&self, id: i64) -> Result<Option<EventRecord>> {
-        let mut st = self
-            .conn
-            .prepare_cached(&format!("SELECT {EVENT_COLS} FROM events e WHERE e.id = ?1"))?;
+        let mut st = self.conn.prepare_cached(&format!(
+            "SELECT {EVENT_COLS} FROM events e WHERE e.id = ?1"
+        ))?;
         let mut current = id;
         for _ in 0..64 {
             let Some(rec) = st.query_row([current], record).optional()? else {

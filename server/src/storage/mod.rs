@@ -74,6 +74,9 @@ impl Db {
             )));
         }
         configure(&boot)?;
+        // The writer does bulk imports: a 64 MiB page cache keeps a large
+        // transaction from spilling to the WAL early.
+        boot.pragma_update(None, "cache_size", -65_536)?;
         schema::migrate(&mut boot)?;
         Ok(Db {
             path,
@@ -98,11 +101,7 @@ impl Db {
 
     /// Run `f` on a read connection.
     pub fn read<T>(&self, f: impl FnOnce(&Reader<'_>) -> Result<T>) -> Result<T> {
-        let pooled = self
-            .readers
-            .lock()
-            .unwrap_or_else(|p| p.into_inner())
-            .pop();
+        let pooled = self.readers.lock().unwrap_or_else(|p| p.into_inner()).pop();
         let conn = match pooled {
             Some(c) => c,
             None => {

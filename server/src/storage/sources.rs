@@ -42,12 +42,7 @@ impl Tx<'_> {
     }
 
     /// Record one import and return its id.
-    pub fn add_import(
-        &self,
-        source_id: i64,
-        file_name: &str,
-        counts: [usize; 4],
-    ) -> Result<i64> {
+    pub fn add_import(&self, source_id: i64, file_name: &str, counts: [usize; 4]) -> Result<i64> {
         let [read, imported, duplicates, skipped] = counts.map(|c| c as i64);
         self.tx.execute(
             "INSERT INTO imports (source_id, file_name, imported_at, rows_read, imported, duplicates, skipped)
@@ -63,7 +58,9 @@ impl Reader<'_> {
         let mut st = self
             .conn
             .prepare("SELECT id, name, pixel_size_m, revisit_days FROM sources ORDER BY name")?;
-        let v = st.query_map([], row)?.collect::<rusqlite::Result<Vec<_>>>()?;
+        let v = st
+            .query_map([], row)?
+            .collect::<rusqlite::Result<Vec<_>>>()?;
         Ok(v)
     }
 

@@ -30,7 +30,16 @@ impl Tx<'_> {
              ON CONFLICT(name) DO UPDATE SET priority=excluded.priority, geometry=excluded.geometry,
                west=excluded.west, south=excluded.south, east=excluded.east, north=excluded.north,
                imported_at=excluded.imported_at",
-            params![name, priority, geometry, bbox.0, bbox.1, bbox.2, bbox.3, chrono::Utc::now().to_rfc3339()],
+            params![
+                name,
+                priority,
+                geometry,
+                bbox.0,
+                bbox.1,
+                bbox.2,
+                bbox.3,
+                chrono::Utc::now().to_rfc3339()
+            ],
         )?;
         Ok(self
             .tx

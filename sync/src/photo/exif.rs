@@ -59,8 +59,22 @@ pub(crate) fn is_jpeg(bytes: &[u8]) -> bool {
 fn meta_from_exif(exif: &Exif) -> PhotoMeta {
     PhotoMeta {
         taken_at: taken_at(exif),
-        lat: coordinate(exif, Tag::GPSLatitude, Tag::GPSLatitudeRef, 90.0, b'N', b'S'),
-        lon: coordinate(exif, Tag::GPSLongitude, Tag::GPSLongitudeRef, 180.0, b'E', b'W'),
+        lat: coordinate(
+            exif,
+            Tag::GPSLatitude,
+            Tag::GPSLatitudeRef,
+            90.0,
+            b'N',
+            b'S',
+        ),
+        lon: coordinate(
+            exif,
+            Tag::GPSLongitude,
+            Tag::GPSLongitudeRef,
+            180.0,
+            b'E',
+            b'W',
+        ),
         direction_deg: direction(exif),
     }
 }
@@ -89,13 +103,14 @@ fn taken_at(exif: &Exif) -> Option<DateTime<Utc>> {
     {
         dt.offset = None;
     }
-    let local = NaiveDate::from_ymd_opt(i32::from(dt.year), u32::from(dt.month), u32::from(dt.day))?
-        .and_hms_nano_opt(
-            u32::from(dt.hour),
-            u32::from(dt.minute),
-            u32::from(dt.second),
-            dt.nanosecond.unwrap_or(0),
-        )?;
+    let local =
+        NaiveDate::from_ymd_opt(i32::from(dt.year), u32::from(dt.month), u32::from(dt.day))?
+            .and_hms_nano_opt(
+                u32::from(dt.hour),
+                u32::from(dt.minute),
+                u32::from(dt.second),
+                dt.nanosecond.unwrap_or(0),
+            )?;
     let offset_s = i64::from(dt.offset.unwrap_or(0)) * 60;
     let utc = local.checked_sub_signed(chrono::TimeDelta::try_seconds(offset_s)?)?;
     Some(utc.and_utc())
@@ -143,8 +158,8 @@ fn direction(exif: &Exif) -> Option<f64> {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use exif::experimental::Writer;
     use exif::Rational;
+    use exif::experimental::Writer;
 
     /// Builds a minimal JPEG (SOI, APP1 Exif, EOI) around the given fields.
     /// Not decodable as an image, but a valid EXIF container.
@@ -166,12 +181,24 @@ mod tests {
     }
 
     fn ascii(tag: Tag, s: &str) -> Field {
-        Field { tag, ifd_num: In::PRIMARY, value: Value::Ascii(vec![s.as_bytes().to_vec()]) }
+        Field {
+            tag,
+            ifd_num: In::PRIMARY,
+            value: Value::Ascii(vec![s.as_bytes().to_vec()]),
+        }
     }
 
     fn rationals(tag: Tag, v: &[(u32, u32)]) -> Field {
-        let value = Value::Rational(v.iter().map(|&(num, denom)| Rational { num, denom }).collect());
-        Field { tag, ifd_num: In::PRIMARY, value }
+        let value = Value::Rational(
+            v.iter()
+                .map(|&(num, denom)| Rational { num, denom })
+                .collect(),
+        );
+        Field {
+            tag,
+            ifd_num: In::PRIMARY,
+            value,
+        }
     }
 
     #[test]
@@ -187,7 +214,9 @@ mod tests {
         let bare = [0xFF, 0xD8, 0xFF, 0xD9];
         assert_eq!(read_photo_meta(&bare), Ok(PhotoMeta::default()));
         // Garbage after SOI is still "a JPEG with no readable EXIF".
-        let garbled = [0xFF, 0xD8, 0xFF, 0xE1, 0x00, 0x10, b'E', b'x', b'i', b'f', 0, 0, 1, 2];
+        let garbled = [
+            0xFF, 0xD8, 0xFF, 0xE1, 0x00, 0x10, b'E', b'x', b'i', b'f', 0, 0, 1, 2,
+        ];
         assert_eq!(read_photo_meta(&garbled), Ok(PhotoMeta::default()));
     }
 
@@ -220,7 +249,10 @@ mod tests {
     fn time_without_offset_is_taken_as_utc() {
         let f = [ascii(Tag::DateTimeOriginal, "2025:01:02 03:04:05")];
         let m = read_photo_meta(&jpeg_with_fields(&f)).expect("jpeg");
-        assert_eq!(m.taken_at.map(|t| t.to_rfc3339()).as_deref(), Some("2025-01-02T03:04:05+00:00"));
+        assert_eq!(
+            m.taken_at.map(|t| t.to_rfc3339()).as_deref(),
+            Some("2025-01-02T03:04:05+00:00")
+        );
         assert_eq!((m.lat, m.lon, m.direction_deg), (None, None, None));
     }
 
@@ -244,6 +276,9 @@ mod tests {
             ascii(Tag::GPSLatitudeRef, "N"),
             rationals(Tag::GPSLatitude, &[(91, 1), (0, 1), (0, 1)]),
         ];
-        assert_eq!(read_photo_meta(&jpeg_with_fields(&f)).expect("jpeg").lat, None);
+        assert_eq!(
+            read_photo_meta(&jpeg_with_fields(&f)).expect("jpeg").lat,
+            None
+        );
     }
 }

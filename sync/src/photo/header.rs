@@ -67,7 +67,11 @@ pub fn read_jpeg_header(bytes: &[u8]) -> Result<JpegHeader, PhotoError> {
     let mut i = 2usize;
     loop {
         // Skip to the next marker; T.81 B.1.1.2 allows any number of FF fill bytes.
-        if *bytes.get(i).ok_or_else(|| bad("ended before a frame header"))? != 0xFF {
+        if *bytes
+            .get(i)
+            .ok_or_else(|| bad("ended before a frame header"))?
+            != 0xFF
+        {
             return Err(bad("expected a marker"));
         }
         while bytes.get(i) == Some(&0xFF) {
@@ -81,12 +85,16 @@ pub fn read_jpeg_header(bytes: &[u8]) -> Result<JpegHeader, PhotoError> {
             0xD9 | 0xDA => return Err(bad("no frame header before the image data")),
             _ => {}
         }
-        let len_bytes = bytes.get(i..i + 2).ok_or_else(|| bad("truncated segment length"))?;
+        let len_bytes = bytes
+            .get(i..i + 2)
+            .ok_or_else(|| bad("truncated segment length"))?;
         let len = usize::from(u16::from_be_bytes([len_bytes[0], len_bytes[1]]));
         if len < 2 {
             return Err(bad("segment length below 2"));
         }
-        let seg = bytes.get(i + 2..i + len).ok_or_else(|| bad("truncated segment"))?;
+        let seg = bytes
+            .get(i + 2..i + len)
+            .ok_or_else(|| bad("truncated segment"))?;
         let process = match marker {
             0xC0 => Some(JpegProcess::Baseline),
             0xC1 => Some(JpegProcess::Extended),
@@ -123,12 +131,26 @@ fn parse_sof(seg: &[u8], process: JpegProcess) -> Result<JpegHeader, PhotoError>
     if !matches!(nf, 1 | 3 | 4) {
         return Err(PhotoError::Unsupported(format!("{nf} colour components")));
     }
-    let comps = rest.get(..3 * nf).ok_or_else(|| bad("frame header components truncated"))?;
-    let sampling: Vec<(u8, u8)> = comps.chunks_exact(3).map(|c| (c[1] >> 4, c[1] & 0x0F)).collect();
-    if sampling.iter().any(|&(h, v)| !(1..=4).contains(&h) || !(1..=4).contains(&v)) {
+    let comps = rest
+        .get(..3 * nf)
+        .ok_or_else(|| bad("frame header components truncated"))?;
+    let sampling: Vec<(u8, u8)> = comps
+        .chunks_exact(3)
+        .map(|c| (c[1] >> 4, c[1] & 0x0F))
+        .collect();
+    if sampling
+        .iter()
+        .any(|&(h, v)| !(1..=4).contains(&h) || !(1..=4).contains(&v))
+    {
         return Err(bad("sampling factor outside 1..=4"));
     }
-    Ok(JpegHeader { width, height, precision: *precision, process, sampling })
+    Ok(JpegHeader {
+        width,
+        height,
+        precision: *precision,
+        process,
+        sampling,
+    })
 }
 
 #[cfg(test)]
@@ -138,7 +160,9 @@ pub(super) mod tests {
     /// A JPEG made of SOI, one APP0-like filler segment and a SOF with the
     /// given marker and size, three components at 4:2:0 (T.81 B.2.2 layout).
     pub(in super::super) fn crafted_sof(marker: u8, width: u16, height: u16) -> Vec<u8> {
-        let mut v = vec![0xFF, 0xD8, 0xFF, 0xE0, 0x00, 0x04, 0x00, 0x00, 0xFF, 0xFF, marker];
+        let mut v = vec![
+            0xFF, 0xD8, 0xFF, 0xE0, 0x00, 0x04, 0x00, 0x00, 0xFF, 0xFF, marker,
+        ];
         v.extend_from_slice(&[0x00, 17, 8]);
         v.extend_from_slice(&height.to_be_bytes());
         v.extend_from_slice(&width.to_be_bytes());
@@ -171,11 +195,23 @@ pub(super) mod tests {
             read_jpeg_header(&crafted_sof(0xC3, 10, 10)),
             Err(PhotoError::Unsupported(_))
         ));
-        assert!(matches!(read_jpeg_header(&crafted_sof(0xC0, 0, 10)), Err(PhotoError::BadHeader(_))));
+        assert!(matches!(
+            read_jpeg_header(&crafted_sof(0xC0, 0, 10)),
+            Err(PhotoError::BadHeader(_))
+        ));
         let mut cut = crafted_sof(0xC0, 10, 10);
         cut.truncate(14);
-        assert!(matches!(read_jpeg_header(&cut), Err(PhotoError::BadHeader(_))));
-        assert!(matches!(read_jpeg_header(&[0xFF, 0xD8, 0xFF, 0xDA]), Err(PhotoError::BadHeader(_))));
-        assert!(matches!(read_jpeg_header(b"GIF89a"), Err(PhotoError::NotJpeg)));
+        assert!(matches!(
+            read_jpeg_header(&cut),
+            Err(PhotoError::BadHeader(_))
+        ));
+        assert!(matches!(
+            read_jpeg_header(&[0xFF, 0xD8, 0xFF, 0xDA]),
+            Err(PhotoError::BadHeader(_))
+        ));
+        assert!(matches!(
+            read_jpeg_header(b"GIF89a"),
+            Err(PhotoError::NotJpeg)
+        ));
     }
 }

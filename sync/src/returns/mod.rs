@@ -63,7 +63,7 @@ pub use names::{
 };
 pub use open::{OpenedReturn, RejectedReport, open_return};
 pub use pack::pack_return;
-pub(crate) use pack::hash_photo;
+pub use pack::sha256_file;
 pub use report::{
     OUTCOME_CONFIRMED, OUTCOME_FALSE_ALARM, OUTCOME_INCONCLUSIVE, OUTCOME_NOT_REACHED, Position,
     PositionSource, Report, ReportPhoto, Target,

@@ -31,7 +31,10 @@ pub fn is_sha256_hex(s: &str) -> bool {
 
 /// Accepts the names allowed in a return; the error says why a name is refused.
 pub fn check_return_entry_name(name: &str) -> Result<(), String> {
-    if name == RETURN_MANIFEST || name == REPORTS || name == SIGNATURE || photo_sha_of(name).is_some()
+    if name == RETURN_MANIFEST
+        || name == REPORTS
+        || name == SIGNATURE
+        || photo_sha_of(name).is_some()
     {
         Ok(())
     } else {

@@ -166,11 +166,12 @@ pub fn open_return(
 
     // 1. Signature, before anything in the manifest is believed.
     let sig_bytes = zip.read_to_vec(SIGNATURE, limits.json(limits.max_signature_bytes))?;
-    let signature: Signature = serde_json::from_slice(&sig_bytes)
-        .map_err(|e| SyncError::BadSignature {
+    let signature: Signature =
+        serde_json::from_slice(&sig_bytes).map_err(|e| SyncError::BadSignature {
             reason: e.to_string(),
         })?;
-    let manifest_bytes = zip.read_to_vec(RETURN_MANIFEST, limits.json(limits.max_manifest_bytes))?;
+    let manifest_bytes =
+        zip.read_to_vec(RETURN_MANIFEST, limits.json(limits.max_manifest_bytes))?;
     let bad_manifest = |r: String| SyncError::invalid_entry(RETURN_MANIFEST, r);
     let value: serde_json::Value =
         serde_json::from_slice(&manifest_bytes).map_err(|e| bad_manifest(e.to_string()))?;
@@ -310,10 +311,17 @@ fn check_one(
         ));
     }
     if seen.contains(&r.report_id) {
-        return Err(format!("report {} appears twice in the return", r.report_id));
+        return Err(format!(
+            "report {} appears twice in the return",
+            r.report_id
+        ));
     }
     check_report_shape(r)?;
-    if let Some(p) = r.photos.iter().find(|p| !photos.contains(p.sha256.as_str())) {
+    if let Some(p) = r
+        .photos
+        .iter()
+        .find(|p| !photos.contains(p.sha256.as_str()))
+    {
         return Err(format!("photo {} is not in the return", p.sha256));
     }
     Ok(())
@@ -332,9 +340,14 @@ fn check_listing(
     let mut total = 0u64;
     let mut photo_count = 0u32;
     for e in &manifest.entries {
-        if e.name == RETURN_MANIFEST || e.name == SIGNATURE || check_return_entry_name(&e.name).is_err()
+        if e.name == RETURN_MANIFEST
+            || e.name == SIGNATURE
+            || check_return_entry_name(&e.name).is_err()
         {
-            return Err(bad(format!("lists an entry that is not allowed: {:?}", e.name)));
+            return Err(bad(format!(
+                "lists an entry that is not allowed: {:?}",
+                e.name
+            )));
         }
         if !listed.insert(e.name.as_str()) {
             return Err(bad(format!("lists {:?} twice", e.name)));

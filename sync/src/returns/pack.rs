@@ -39,8 +39,8 @@ fn options(method: CompressionMethod) -> SimpleFileOptions {
 
 /// SHA-256 and size of a photo file, refusing one past `max` bytes.
 pub(crate) fn hash_photo(path: &std::path::Path, max: u64) -> Result<(String, u64), SyncError> {
-    let file = File::open(path)
-        .map_err(|e| SyncError::io(format!("open photo {}", path.display()), e))?;
+    let file =
+        File::open(path).map_err(|e| SyncError::io(format!("open photo {}", path.display()), e))?;
     let mut reader = BufReader::new(file).take(max.saturating_add(1));
     let mut hasher = Sha256::new();
     let mut buf = [0u8; 64 * 1024];
@@ -124,8 +124,8 @@ pub fn pack_return<W: Write + Seek>(
         )));
     }
 
-    let reports_json = serde_json::to_vec_pretty(&sorted)
-        .map_err(|e| bad(format!("reports: {e}")))?;
+    let reports_json =
+        serde_json::to_vec_pretty(&sorted).map_err(|e| bad(format!("reports: {e}")))?;
     if reports_json.len() as u64 > limits.max_reports_bytes {
         return Err(bad(format!(
             "reports.json would have {} bytes, more than {}",
@@ -207,7 +207,14 @@ pub fn pack_return<W: Write + Seek>(
         zip.write_all(bytes)
             .map_err(|e| SyncError::io(format!("write entry {name:?}"), e))?;
     }
-    let mut out = zip.finish().map_err(|e| SyncError::zip("finish return", e))?;
+    let mut out = zip
+        .finish()
+        .map_err(|e| SyncError::zip("finish return", e))?;
     out.flush().map_err(|e| SyncError::io("flush return", e))?;
     Ok(manifest)
+}
+
+/// SHA-256 (lowercase hex) and size of the file at `path`.
+pub fn sha256_file(path: &std::path::Path) -> Result<(String, u64), SyncError> {
+    hash_photo(path, u64::MAX - 1)
 }

@@ -33,7 +33,9 @@ fn check_position(p: &Position) -> Result<(), String> {
     if let Some(a) = p.accuracy_m
         && !(a.is_finite() && a >= 0.0)
     {
-        return Err(format!("position accuracy_m {a} is not a non-negative number"));
+        return Err(format!(
+            "position accuracy_m {a} is not a non-negative number"
+        ));
     }
     Ok(())
 }
@@ -52,10 +54,11 @@ pub fn check_report_shape(r: &Report) -> Result<(), String> {
         return Err("a report cannot supersede itself".into());
     }
     if r.notes.chars().count() > MAX_NOTES_CHARS {
-        return Err(format!("notes are longer than {MAX_NOTES_CHARS} characters"));
+        return Err(format!(
+            "notes are longer than {MAX_NOTES_CHARS} characters"
+        ));
     }
-    if r
-        .notes
+    if r.notes
         .chars()
         .any(|c| c.is_control() && c != '\n' && c != '\t' && c != '\r')
     {
@@ -77,9 +80,7 @@ pub fn check_report_shape(r: &Report) -> Result<(), String> {
     }
     for (i, p) in r.photos.iter().enumerate() {
         if !is_sha256_hex(&p.sha256) {
-            return Err(format!(
-                "photo {i}: sha256 is not 64 lowercase hex digits"
-            ));
+            return Err(format!("photo {i}: sha256 is not 64 lowercase hex digits"));
         }
         if r.photos[..i].iter().any(|q| q.sha256 == p.sha256) {
             return Err(format!("photo {i}: the same photo is listed twice"));
@@ -146,7 +147,11 @@ pub fn validate_report(r: &Report, checklist: &Checklist) -> Result<(), String> 
     }
     match &r.cause {
         Some(cause) if outcome == OUTCOME_CONFIRMED => one_of("cause", cause, &checklist.causes)?,
-        Some(_) => return Err(format!("a cause is only given with confirmed, not {outcome}")),
+        Some(_) => {
+            return Err(format!(
+                "a cause is only given with confirmed, not {outcome}"
+            ));
+        }
         None => {}
     }
     if outcome == OUTCOME_CONFIRMED && r.photos.len() < checklist.min_photos_confirmed as usize {
@@ -203,7 +208,10 @@ mod tests {
     }
 
     fn good() -> Report {
-        let t = Utc.with_ymd_and_hms(2026, 9, 3, 10, 0, 0).single().expect("t");
+        let t = Utc
+            .with_ymd_and_hms(2026, 9, 3, 10, 0, 0)
+            .single()
+            .expect("t");
         Report {
             report_id: Uuid::from_u128(1),
             bundle_id: Uuid::from_u128(2),
@@ -233,7 +241,8 @@ mod tests {
     fn checklist_rules() {
         let c = Checklist::default_v1();
         assert_eq!(validate_report(&good(), &c), Ok(()));
-        let cases: Vec<(Box<dyn Fn(&mut Report)>, &str)> = vec![
+        type Change = Box<dyn Fn(&mut Report)>;
+        let cases: Vec<(Change, &str)> = vec![
             (Box::new(|r| r.outcome = "maybe".into()), "outcome"),
             (Box::new(|r| r.cause = Some("aliens".into())), "cause"),
             (Box::new(|r| r.photos.truncate(1)), "at least 2 photos"),

@@ -34,7 +34,10 @@ pub async fn import(
     let q = q.into_inner();
     let source = SourceName::parse(&q.source).map_err(Error::Invalid)?;
     if body.is_empty() {
-        return Err(Error::Invalid("the request body is empty: send the alert file as the body".into()).into());
+        return Err(Error::Invalid(
+            "the request body is empty: send the alert file as the body".into(),
+        )
+        .into());
     }
     let file_name = q.file_name.unwrap_or_else(|| "upload".into());
     let format = match &q.format {

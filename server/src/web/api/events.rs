@@ -82,10 +82,15 @@ pub async fn one(
             .read(|r| r.event_resolved(id))?
             .ok_or_else(|| Error::NotFound(format!("no event {id}")))?;
         let priority = priority_of(&rec, &state.settings.priority, Day::today());
-        Ok::<_, Error>(RankedEvent { record: rec, priority })
+        Ok::<_, Error>(RankedEvent {
+            record: rec,
+            priority,
+        })
     })
     .await??;
     let mut f = event_feature(&record);
     f["properties"]["requested_id"] = serde_json::json!(id);
-    Ok(HttpResponse::Ok().content_type("application/geo+json").json(f))
+    Ok(HttpResponse::Ok()
+        .content_type("application/geo+json")
+        .json(f))
 }

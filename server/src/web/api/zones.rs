@@ -23,7 +23,10 @@ pub async fn list(state: web::Data<AppState>) -> Result<HttpResponse, ApiError> 
     Ok(HttpResponse::Ok().json(json!({"type": "FeatureCollection", "features": features})))
 }
 
-pub async fn import(state: web::Data<AppState>, body: web::Bytes) -> Result<HttpResponse, ApiError> {
+pub async fn import(
+    state: web::Data<AppState>,
+    body: web::Bytes,
+) -> Result<HttpResponse, ApiError> {
     let db = state.db.clone();
     let out = web::block(move || import_zones(&db, "upload", &body)).await??;
     Ok(HttpResponse::Ok().json(out))
