@@ -26,9 +26,10 @@ pub struct UtmText {
     /// `north` or `south`: written out, because a single `S` is easily read as the MGRS
     /// latitude band S, which lies in the northern hemisphere.
     pub hemisphere: &'static str,
-    /// Easting in whole metres (rounded).
+    /// Easting in whole metres, truncated like the MGRS digits so that the two agree digit
+    /// for digit (rounding would put them 1 m apart half of the time).
     pub easting: String,
-    /// Northing in whole metres (rounded).
+    /// Northing in whole metres, truncated like the easting.
     pub northing: String,
 }
 
@@ -40,8 +41,8 @@ pub fn position_text(lat: f64, lon: f64) -> PositionText {
             Hemisphere::North => "north",
             Hemisphere::South => "south",
         },
-        easting: format!("{:.0}", u.easting),
-        northing: format!("{:.0}", u.northing),
+        easting: format!("{:.0}", u.easting.floor()),
+        northing: format!("{:.0}", u.northing.floor()),
     });
     let mgrs = to_mgrs(lat, lon, MgrsPrecision::ONE_METRE)
         .map(|m| group_mgrs(&m))
@@ -81,11 +82,16 @@ mod tests {
         let exact = to_utm(-3.1, -60.025).expect("inside the UTM band");
         assert_eq!(u.zone, "20");
         assert_eq!(u.hemisphere, "south");
-        assert_eq!(u.easting, format!("{:.0}", exact.easting));
-        assert_eq!(u.northing, format!("{:.0}", exact.northing));
+        assert_eq!(u.easting, format!("{:.0}", exact.easting.floor()));
+        assert_eq!(u.northing, format!("{:.0}", exact.northing.floor()));
         let mgrs = to_mgrs(-3.1, -60.025, MgrsPrecision::ONE_METRE).expect("inside");
         assert_eq!(p.mgrs, group_mgrs(&mgrs));
         assert!(p.mgrs.starts_with("20M "), "{}", p.mgrs);
+        // MGRS digits are the UTM metres modulo 100 km (NGA.SIG.0012 MGRS definition), so
+        // the truncated UTM text ends with the same five digits.
+        let groups: Vec<&str> = p.mgrs.split(' ').collect();
+        assert_eq!(&u.easting[u.easting.len() - 5..], groups[2]);
+        assert_eq!(&u.northing[u.northing.len() - 5..], groups[3]);
     }
 
     #[test]

@@ -79,11 +79,11 @@ fn meta_from_exif(exif: &Exif) -> PhotoMeta {
     }
 }
 
-fn field<'a>(exif: &'a Exif, tag: Tag) -> Option<&'a Field> {
+fn field(exif: &Exif, tag: Tag) -> Option<&Field> {
     exif.get_field(tag, In::PRIMARY)
 }
 
-fn first_ascii<'a>(exif: &'a Exif, tag: Tag) -> Option<&'a [u8]> {
+fn first_ascii(exif: &Exif, tag: Tag) -> Option<&[u8]> {
     match &field(exif, tag)?.value {
         Value::Ascii(v) => v.first().map(Vec::as_slice),
         _ => None,
