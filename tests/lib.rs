@@ -28,6 +28,7 @@ impl TestServer {
         let addr = listener.local_addr().expect("address");
         let state = AppState {
             db: db.clone(),
+            data_dir: dir.path().to_path_buf(),
             settings: Arc::new(Settings::default()),
         };
         let (tx, rx) = std::sync::mpsc::channel();
@@ -117,4 +118,64 @@ pub fn post_bytes(url: &str, content_type: &str, body: &[u8]) -> Reply {
 
 pub fn post_json(url: &str, body: &serde_json::Value) -> Reply {
     reply(agent().post(url).send_json(body))
+}
+
+/// Register the demo scenario's sources, zones, teams and alerts over HTTP.
+pub fn load_scenario(s: &TestServer) {
+    use serde_json::json;
+    let scenario = mock_patrols::scenario();
+    for src in &scenario.sources {
+        let r = post_json(
+            &s.url("/api/v1/sources"),
+            &json!({"name": src.name, "pixel_size_m": src.pixel_size_m, "revisit_days": src.revisit_days}),
+        );
+        assert_eq!(r.status, 201, "{}", r.body);
+    }
+    let z = post_bytes(
+        &s.url("/api/v1/zones"),
+        "application/geo+json",
+        mock_patrols::zones_geojson(&scenario).as_bytes(),
+    );
+    assert_eq!(z.status, 200, "{}", z.body);
+    for t in &scenario.teams {
+        let r = post_json(&s.url("/api/v1/teams"), &json!({"name": t}));
+        assert_eq!(r.status, 201, "{}", r.body);
+    }
+    for (source, rows) in mock_patrols::generate_alerts(&scenario, 42) {
+        let body = if source == "radar-10m" {
+            mock_patrols::alerts_geojson(&rows)
+        } else {
+            mock_patrols::alerts_csv(&rows)
+        };
+        let r = post_bytes(
+            &s.url(&format!("/api/v1/alerts?source={source}")),
+            "text/plain",
+            body.as_bytes(),
+        );
+        assert_eq!(r.status, 200, "{}", r.body);
+    }
+}
+
+/// Bytes of a response (for downloads).
+pub fn get_bytes(url: &str) -> (u16, Vec<u8>) {
+    let mut r = agent().get(url).call().expect("request reaches the server");
+    let status = r.status().as_u16();
+    let bytes = r
+        .body_mut()
+        .with_config()
+        .limit(1 << 30)
+        .read_to_vec()
+        .unwrap_or_default();
+    (status, bytes)
+}
+
+/// Run an outside tool; `None` (with a printed SKIP) when it is not installed.
+pub fn tool(program: &str, args: &[&str]) -> Option<std::process::Output> {
+    match std::process::Command::new(program).args(args).output() {
+        Ok(o) => Some(o),
+        Err(_) => {
+            println!("SKIP: {program} is not installed (CI installs it; see .ci/run)");
+            None
+        }
+    }
 }

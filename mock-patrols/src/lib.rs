@@ -15,6 +15,7 @@ mod clumped;
 mod export;
 mod fasthash;
 mod layout;
+pub mod photos;
 mod planar;
 mod scenario;
 

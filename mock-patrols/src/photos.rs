@@ -360,15 +360,29 @@ mod tests {
     }
 
     #[test]
-    fn twelve_megapixel_photo_is_photo_sized() {
-        // The performance notes' 4000x3000 q90 test photo was 3,710,202 bytes;
-        // a texture that compresses like a photo should land within 2x of it.
-        let jpeg = make_photo(3, 4000, 3000, &meta());
-        assert!(
-            (1_850_000..7_500_000).contains(&jpeg.len()),
-            "{} bytes",
-            jpeg.len()
-        );
+    fn photo_compresses_like_a_photo() {
+        // The performance notes' 4000x3000 q90 4:2:0 test photo was
+        // 3,710,202 bytes, 0.309 bytes per pixel; this texture should land
+        // within 2x of that rate (1000x750 keeps the debug-build test short;
+        // 4000x3000 gives 3,333,314 bytes on average in the photo_intake bench).
+        let jpeg = make_photo(3, 1000, 750, &meta());
+        let per_px = jpeg.len() as f64 / 750_000.0;
+        assert!((0.155..0.62).contains(&per_px), "{} bytes", jpeg.len());
+    }
+
+    /// The APP1 "Exif" segment payload of a JPEG (empty if none is found
+    /// among the segments before the first scan).
+    fn exif_segment(jpeg: &[u8]) -> &[u8] {
+        let mut i = 2;
+        while i + 4 <= jpeg.len() && jpeg[i] == 0xFF && jpeg[i + 1] != 0xDA {
+            let len = usize::from(u16::from_be_bytes([jpeg[i + 2], jpeg[i + 3]]));
+            let seg = &jpeg[i + 4..(i + 2 + len).min(jpeg.len())];
+            if jpeg[i + 1] == 0xE1 && seg.starts_with(b"Exif\0\0") {
+                return seg;
+            }
+            i += 2 + len;
+        }
+        &[]
     }
 
     /// Inputs of the reference photos in tests/reference/photo/ (invented
@@ -491,12 +505,16 @@ mod tests {
                 t.format("%Y:%m:%d %H:%M:%S").to_string()
             );
             assert_eq!(e["OffsetTimeOriginal"], t.format("%:z").to_string());
-            // The committed bytes are what make_photo makes today.
+            // The committed EXIF segment is what make_photo writes today (the
+            // pixels are not compared: jpeg-encoder's SIMD and scalar paths
+            // need not give identical bytes on every CPU).
             let bytes = std::fs::read(reference_dir().join(name)).expect("photo");
+            let now = make_photo(*seed, *w, *h, meta);
+            assert!(exif_segment(&bytes).len() > 100, "{name}: no EXIF segment");
             assert_eq!(
-                bytes,
-                make_photo(*seed, *w, *h, meta),
-                "{name} differs: regenerate"
+                exif_segment(&bytes),
+                exif_segment(&now),
+                "{name}: regenerate"
             );
         }
     }

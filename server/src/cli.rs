@@ -67,6 +67,99 @@ enum Command {
         #[command(subcommand)]
         command: EventsCommand,
     },
+    /// Field teams.
+    Team {
+        #[command(subcommand)]
+        command: TeamCommand,
+    },
+    /// Trips: issue, list and cancel offline bundles.
+    Bundle {
+        #[command(subcommand)]
+        command: BundleCommand,
+    },
+}
+
+#[derive(Subcommand)]
+enum TeamCommand {
+    /// Add a field team.
+    Add {
+        name: String,
+        #[command(flatten)]
+        data: DataArg,
+    },
+    /// List the teams.
+    List {
+        #[command(flatten)]
+        data: DataArg,
+    },
+}
+
+#[derive(Subcommand)]
+enum BundleCommand {
+    /// Choose events, order a route, and write the bundle for one trip.
+    Issue(Box<IssueArgs>),
+    /// List bundles.
+    List {
+        #[command(flatten)]
+        data: DataArg,
+    },
+    /// Cancel a bundle (its upload key is refused from then on).
+    Cancel {
+        id: String,
+        #[command(flatten)]
+        data: DataArg,
+    },
+}
+
+#[derive(Args)]
+struct IssueArgs {
+    #[arg(long)]
+    team: String,
+    /// Start point (station or trailhead) as LAT,LON.
+    #[arg(long, allow_hyphen_values = true)]
+    start: String,
+    /// response (priority order) or assessment (stratified random sample).
+    #[arg(long, default_value = "response")]
+    mode: String,
+    #[arg(long)]
+    zone: Option<String>,
+    /// A GeoJSON file with a Polygon or MultiPolygon geometry (or a Feature holding one).
+    #[arg(long)]
+    extent: Option<PathBuf>,
+    #[arg(long)]
+    from: Option<String>,
+    #[arg(long)]
+    to: Option<String>,
+    #[arg(long)]
+    source: Option<String>,
+    #[arg(long)]
+    confidence: Option<String>,
+    #[arg(long)]
+    min_area_ha: Option<f64>,
+    /// Most events (response default 20; assessment: the sample must fit under it).
+    #[arg(long)]
+    max: Option<usize>,
+    /// Assessment: target margin of error of the confirmation rate per stratum, in (0, 0.5).
+    #[arg(long, default_value_t = 0.1)]
+    margin: f64,
+    /// Assessment: control points (random places with no alert nearby).
+    #[arg(long, default_value_t = 0)]
+    controls: usize,
+    #[arg(long, default_value_t = 250.0)]
+    control_min_distance_m: f64,
+    #[arg(long)]
+    seed: Option<u64>,
+    #[arg(long, default_value_t = 3.0)]
+    walking_kmh: f64,
+    #[arg(long, default_value_t = 7)]
+    due_days: i64,
+    #[arg(long, default_value_t = 30)]
+    expires_days: i64,
+    /// Where to write a copy of the bundle (it is also kept in the data directory).
+    #[arg(long)]
+    out: Option<PathBuf>,
+    #[command(flatten)]
+    data: DataArg,
 }
 
 #[derive(Subcommand)]
@@ -167,7 +260,7 @@ pub fn run() -> Result<ExitCode> {
     match Cli::parse().command {
         Command::Serve { data, bind } => {
             let (db, settings) = open(&data.data)?;
-            serve(db, settings, &bind)?;
+            serve(db, settings, &data.data, &bind)?;
         }
         Command::Demo {
             data,
@@ -179,11 +272,11 @@ pub fn run() -> Result<ExitCode> {
                 None => demo::fresh_dir()?,
             };
             let (db, settings) = open_fresh(&dir)?;
-            let summary = demo::load(&db, &settings)?;
+            let summary = demo::load(&db, &dir, &settings)?;
             println!("{summary}");
             println!("data directory: {}", dir.display());
             if !no_serve {
-                serve(db, settings, &bind)?;
+                serve(db, settings, &dir, &bind)?;
             }
         }
         Command::Sources { command } => match command {
@@ -252,8 +345,94 @@ pub fn run() -> Result<ExitCode> {
                 );
             }
         },
+        Command::Team { command } => match command {
+            TeamCommand::Add { name, data } => {
+                let name = ZoneName::parse(&name)
+                    .map_err(|m| Error::Invalid(m.replace("zone", "team")))?;
+                let (db, _) = open(&data.data)?;
+                let t = db.write(|tx| tx.add_team(name.as_str()))?;
+                println!("team '{}' added", t.name);
+            }
+            TeamCommand::List { data } => {
+                let (db, _) = open(&data.data)?;
+                for t in db.read(|r| r.teams())? {
+                    println!("{}", t.name);
+                }
+            }
+        },
+        Command::Bundle { command } => match command {
+            BundleCommand::Issue(a) => issue(*a)?,
+            BundleCommand::List { data } => {
+                let (db, _) = open(&data.data)?;
+                for b in db.read(|r| r.bundles())? {
+                    let state = if b.cancelled_at.is_some() {
+                        "cancelled"
+                    } else {
+                        "issued"
+                    };
+                    println!(
+                        "{}\t{}\t{}\t{} events, {} controls\t{}\t{}",
+                        b.id, b.team, b.mode, b.events, b.controls, b.issued_at, state
+                    );
+                }
+            }
+            BundleCommand::Cancel { id, data } => {
+                let (db, _) = open(&data.data)?;
+                groundproof::trips::cancel_bundle(&db, id.trim())?;
+                println!("bundle {id} cancelled; its upload key is revoked");
+            }
+        },
     }
     Ok(ExitCode::SUCCESS)
+}
+
+fn issue(a: IssueArgs) -> Result<()> {
+    let body = serde_json::json!({
+        "team": a.team,
+        "start": start_json(&a.start)?,
+        "mode": a.mode, "zone": a.zone, "from": a.from, "to": a.to, "source": a.source,
+        "confidence": a.confidence, "min_area_ha": a.min_area_ha, "max": a.max, "margin": a.margin,
+        "controls": a.controls, "control_min_distance_m": a.control_min_distance_m, "seed": a.seed,
+        "walking_kmh": a.walking_kmh, "due_days": a.due_days, "expires_days": a.expires_days,
+        "extent": match &a.extent {
+            None => None,
+            Some(p) => {
+                let v: serde_json::Value = serde_json::from_slice(&std::fs::read(p).with_context(|| format!("reading {}", p.display()))?)
+                    .with_context(|| format!("{} is not JSON", p.display()))?;
+                Some(if v["type"] == "Feature" { v["geometry"].clone() } else { v })
+            }
+        },
+    });
+    let req = web::api::bundles::trip_request(serde_json::from_value(body)?)?;
+    let (db, settings) = open(&a.data.data)?;
+    let out = groundproof::trips::issue_bundle(&db, &a.data.data, &settings, &req)?;
+    if let Some(o) = &a.out {
+        std::fs::copy(&out.path, o)
+            .with_context(|| format!("copying the bundle to {}", o.display()))?;
+    }
+    println!(
+        "bundle {} for team {}: {} events, {} control points; route {:.1} km straight-line, about {:.1} h walking ({})",
+        out.bundle.id,
+        out.bundle.team,
+        out.bundle.events,
+        out.bundle.controls,
+        out.route_m / 1000.0,
+        out.walking_hours,
+        out.route_note
+    );
+    for s in &out.strata {
+        println!(
+            "  stratum {}: {} of {} (inclusion probability {:.3})",
+            s.stratum, s.sample, s.population, s.inclusion_probability
+        );
+    }
+    println!("  file: {}", a.out.as_ref().unwrap_or(&out.path).display());
+    Ok(())
+}
+
+fn start_json(raw: &str) -> Result<serde_json::Value> {
+    let p = groundproof::domain::LonLat::parse_lat_lon(raw).map_err(Error::Invalid)?;
+    Ok(serde_json::json!({"lat": p.lat(), "lon": p.lon()}))
 }
 
 fn open_fresh(dir: &Path) -> Result<(Db, Settings)> {
@@ -317,16 +496,18 @@ fn import_alert_file(a: AlertArgs) -> Result<ExitCode> {
     }
 }
 
-fn serve(db: Db, settings: Settings, bind: &str) -> Result<()> {
+fn serve(db: Db, settings: Settings, data_dir: &Path, bind: &str) -> Result<()> {
     let listener = TcpListener::bind(bind).with_context(|| format!("binding {bind}"))?;
     let addr = listener.local_addr()?;
     let state = web::AppState {
         db: Arc::new(db),
+        data_dir: data_dir.to_path_buf(),
         settings: Arc::new(settings),
     };
     println!("Groundproof is serving on http://{addr}/ (press Ctrl-C to stop)");
     println!("  events:  http://{addr}/api/v1/events");
     println!("  zones:   http://{addr}/api/v1/zones");
+    println!("  bundles: http://{addr}/api/v1/bundles");
     actix_web::rt::System::new().block_on(async move { web::run(listener, state)?.await })?;
     Ok(())
 }

@@ -2,13 +2,15 @@
 //! same import code a coordinator uses.
 
 use crate::domain::{ConfidenceMap, SourceName};
+use crate::domain::{Day, LonLat};
 use crate::error::{Error, Result};
 use crate::events::{ImportRequest, import_alerts, import_zones};
 use crate::import::{Format, ReadOptions};
 use crate::settings::Settings;
 use crate::storage::Db;
+use crate::trips::{Mode, TripRequest, issue_bundle};
 use std::fmt;
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 
 /// Seed of the demo's alert files.
 pub const DEMO_SEED: u64 = 42;
@@ -30,6 +32,8 @@ pub struct DemoSummary {
     pub alerts: Vec<(String, usize)>,
     pub live_events: i64,
     pub merged_events: i64,
+    /// (team, mode, events, controls, file)
+    pub bundles: Vec<(String, String, i64, i64, PathBuf)>,
 }
 
 impl fmt::Display for DemoSummary {
@@ -43,12 +47,20 @@ impl fmt::Display for DemoSummary {
             f,
             "  clearing events: {} ({} absorbed by merges)",
             self.live_events, self.merged_events
-        )
+        )?;
+        for (team, mode, events, controls, path) in &self.bundles {
+            write!(
+                f,
+                "\n  bundle for {team} ({mode}): {events} events, {controls} control points: {}",
+                path.display()
+            )?;
+        }
+        Ok(())
     }
 }
 
-/// Load sources, zones and a year of alerts.
-pub fn load(db: &Db, settings: &Settings) -> Result<DemoSummary> {
+/// Load sources, zones, teams and a year of alerts, then issue trips.
+pub fn load(db: &Db, data_dir: &Path, settings: &Settings) -> Result<DemoSummary> {
     let scenario = mock_patrols::scenario();
     for s in &scenario.sources {
         db.write(|tx| tx.add_source(s.name, s.pixel_size_m, i64::from(s.revisit_days)))?;
@@ -74,12 +86,49 @@ pub fn load(db: &Db, settings: &Settings) -> Result<DemoSummary> {
         let out = import_alerts(db, &req, &settings.cluster)?;
         alerts.push((source.to_string(), out.imported));
     }
+    for t in &scenario.teams {
+        db.write(|tx| tx.add_team(t))?;
+    }
     let (live_events, merged_events) = db.read(|r| r.event_counts())?;
+    let start = LonLat::new(scenario.station.0, scenario.station.1).map_err(Error::Invalid)?;
+    let as_of = Day::parse(&scenario.end_date).map_err(Error::Invalid)?;
+    let mut bundles = Vec::new();
+    let response = TripRequest {
+        zone: Some("Core".into()),
+        max: Some(8),
+        start_name: "field station".into(),
+        as_of,
+        ..TripRequest::response(&scenario.teams[0], start)
+    };
+    bundles.push(issue_bundle(db, data_dir, settings, &response)?);
+    let assessment = TripRequest {
+        mode: Mode::Assessment,
+        zone: Some("Riverside Community Land".into()),
+        margin: 0.3,
+        controls: 3,
+        seed: Some(DEMO_SEED),
+        start_name: "field station".into(),
+        as_of,
+        ..TripRequest::response(&scenario.teams[1], start)
+    };
+    bundles.push(issue_bundle(db, data_dir, settings, &assessment)?);
     Ok(DemoSummary {
         reserve: scenario.reserve_name,
         zones: scenario.zones.len(),
         alerts,
         live_events,
         merged_events,
+        bundles: bundles
+            .iter()
+            .map(|b| {
+                (
+                    b.bundle.team.clone(),
+                    b.bundle.mode.clone(),
+                    b.bundle.events,
+                    b.bundle.controls,
+                    b.path.clone(),
+                )
+            })
+            .collect(),
     })
 }

@@ -24,6 +24,9 @@ pub enum Error {
         "database schema version {found} is newer than this binary supports ({supported}); use a newer groundproof"
     )]
     SchemaTooNew { found: i64, supported: i64 },
+    /// Something that should not happen did (a bug or a broken file).
+    #[error("internal error: {0}")]
+    Internal(String),
     #[error("database: {0}")]
     Db(#[from] rusqlite::Error),
     #[error("{context}: {source}")]

@@ -13,13 +13,16 @@ pub mod domain;
 pub mod error;
 pub mod events;
 pub mod figures;
+pub mod files;
 pub mod geodesy;
 pub mod import;
 pub mod plan;
 pub mod reconcile;
 pub mod settings;
+pub mod sheet;
 pub mod stats;
 pub mod storage;
+pub mod trips;
 pub mod web;
 
 pub use error::{Error, Result};

@@ -10,6 +10,7 @@ pub mod client;
 pub mod error;
 pub mod field;
 pub mod outbox;
+pub mod photo;
 pub mod returns;
 pub mod safezip;
 

@@ -1,41 +1,8 @@
 //! Sources, zones, alert import and event queries over HTTP, on the demo
 //! scenario's files.
 
-use groundproof_e2e::{TestServer, get, post_bytes, post_json};
+use groundproof_e2e::{TestServer, get, load_scenario, post_bytes, post_json};
 use serde_json::json;
-
-fn load_scenario(s: &TestServer) {
-    let scenario = mock_patrols::scenario();
-    for src in &scenario.sources {
-        let r = post_json(
-            &s.url("/api/v1/sources"),
-            &json!({"name": src.name, "pixel_size_m": src.pixel_size_m, "revisit_days": src.revisit_days}),
-        );
-        assert_eq!(r.status, 201, "{}", r.body);
-    }
-    let z = post_bytes(
-        &s.url("/api/v1/zones"),
-        "application/geo+json",
-        mock_patrols::zones_geojson(&scenario).as_bytes(),
-    );
-    assert_eq!(z.status, 200, "{}", z.body);
-    for (source, rows) in mock_patrols::generate_alerts(&scenario, 42) {
-        let body = if source == "radar-10m" {
-            mock_patrols::alerts_geojson(&rows)
-        } else {
-            mock_patrols::alerts_csv(&rows)
-        };
-        let r = post_bytes(
-            &s.url(&format!("/api/v1/alerts?source={source}")),
-            "text/plain",
-            body.as_bytes(),
-        );
-        assert_eq!(r.status, 200, "{}", r.body);
-        let out = r.json();
-        assert_eq!(out["imported"].as_u64(), Some(rows.len() as u64));
-        assert_eq!(out["duplicates"].as_u64(), Some(0));
-    }
-}
 
 #[test]
 fn events_by_zone_over_http() {

@@ -1,3 +1,4 @@
 //! End-to-end tests: the real server on a random loopback port.
 
 mod alerts_api;
+mod bundles;

@@ -12,6 +12,7 @@
 mod apply;
 mod query;
 mod zones;
+pub use zones::parse_multipolygon;
 
 pub use apply::{ImportOutcome, ImportRequest, import_alerts};
 pub use query::{RankedEvent, event_feature, events_collection, priority_of, ranked_events};

@@ -189,8 +189,14 @@ fn check_position(card: ElementRef<'_>, lon: f64, lat: f64) {
     };
     assert_eq!(text(card, ".utm-hemisphere"), hemi);
     // Whole metres, truncated like MGRS (see `view::UtmText`).
-    assert_eq!(text(card, ".utm-easting"), format!("{:.0}", utm.easting.floor()));
-    assert_eq!(text(card, ".utm-northing"), format!("{:.0}", utm.northing.floor()));
+    assert_eq!(
+        text(card, ".utm-easting"),
+        format!("{:.0}", utm.easting.floor())
+    );
+    assert_eq!(
+        text(card, ".utm-northing"),
+        format!("{:.0}", utm.northing.floor())
+    );
     let mgrs = to_mgrs(lat, lon, MgrsPrecision::ONE_METRE).expect("inside the UTM band");
     assert_eq!(text(card, ".mgrs"), group_mgrs(&mgrs));
 }

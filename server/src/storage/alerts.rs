@@ -174,3 +174,18 @@ pub fn alerts_cells(points: &[(f64, f64)], max_link_m: f64) -> Vec<i64> {
     }
     cells.into_iter().collect()
 }
+
+impl Reader<'_> {
+    /// Positions (lon, lat) of all stored alerts inside a bounding box.
+    pub fn alert_positions_in(&self, bbox: (f64, f64, f64, f64)) -> Result<Vec<(f64, f64)>> {
+        let mut st = self.conn.prepare(
+            "SELECT lon, lat FROM alerts WHERE lon BETWEEN ?1 AND ?3 AND lat BETWEEN ?2 AND ?4",
+        )?;
+        let v = st
+            .query_map(params![bbox.0, bbox.1, bbox.2, bbox.3], |r| {
+                Ok((r.get(0)?, r.get(1)?))
+            })?
+            .collect::<rusqlite::Result<Vec<_>>>()?;
+        Ok(v)
+    }
+}

@@ -12,12 +12,14 @@
 //! `web::block`/`spawn_blocking`.
 
 mod alerts;
+mod bundles;
 mod events;
 mod schema;
 mod sources;
 mod zones;
 
 pub use alerts::{NewAlert, StoredAlert, alerts_cells, e7};
+pub use bundles::{BundleItem, BundleRecord, NewBundle, Team};
 pub use events::{EventFilter, EventRecord, EventWrite};
 pub use sources::Source;
 pub use zones::ZoneRecord;

@@ -76,6 +76,48 @@ const MIGRATIONS: &[&str] = &[
     ) WITHOUT ROWID;
     CREATE INDEX event_zones_zone ON event_zones(zone_id, event_id);
     "#,
+    // 2: teams and bundles (trips).
+    r#"
+    CREATE TABLE teams (
+        id INTEGER PRIMARY KEY,
+        name TEXT NOT NULL UNIQUE,
+        created_at TEXT NOT NULL
+    );
+    CREATE TABLE bundles (
+        id TEXT PRIMARY KEY,
+        team_id INTEGER NOT NULL REFERENCES teams(id),
+        mode TEXT NOT NULL CHECK (mode IN ('response', 'assessment')),
+        issued_at TEXT NOT NULL,
+        due_at TEXT NOT NULL,
+        expires_at TEXT NOT NULL,
+        seed INTEGER,
+        margin REAL,
+        selection TEXT NOT NULL,
+        start_lon REAL NOT NULL,
+        start_lat REAL NOT NULL,
+        route_m REAL NOT NULL,
+        upload_key_id TEXT NOT NULL UNIQUE,
+        upload_key BLOB NOT NULL,
+        file_name TEXT NOT NULL,
+        file_sha256 TEXT NOT NULL,
+        file_size INTEGER NOT NULL,
+        cancelled_at TEXT
+    );
+    CREATE TABLE bundle_items (
+        bundle_id TEXT NOT NULL REFERENCES bundles(id),
+        visit_order INTEGER NOT NULL,
+        code TEXT NOT NULL,
+        kind TEXT NOT NULL CHECK (kind IN ('event', 'control')),
+        event_id INTEGER REFERENCES events(id),
+        lon REAL NOT NULL,
+        lat REAL NOT NULL,
+        stratum TEXT,
+        stratum_population INTEGER,
+        inclusion_probability REAL,
+        PRIMARY KEY (bundle_id, code)
+    ) WITHOUT ROWID;
+    CREATE INDEX bundle_items_event ON bundle_items(event_id);
+    "#,
 ];
 
 /// The schema version this binary writes.

@@ -34,7 +34,7 @@ impl ResponseError for ApiError {
             Error::ImportRejected(_) => StatusCode::UNPROCESSABLE_ENTITY,
             Error::NotFound(_) => StatusCode::NOT_FOUND,
             Error::Conflict(_) => StatusCode::CONFLICT,
-            Error::SchemaTooNew { .. } | Error::Db(_) | Error::Io { .. } => {
+            Error::SchemaTooNew { .. } | Error::Internal(_) | Error::Db(_) | Error::Io { .. } => {
                 StatusCode::INTERNAL_SERVER_ERROR
             }
         }

@@ -3,7 +3,7 @@
 //! `web::block`, and map [`crate::Error`] to status codes in one place
 //! ([`error`]).
 
-mod api;
+pub mod api;
 mod error;
 
 use crate::settings::Settings;
@@ -21,6 +21,8 @@ pub const MAX_JSON_BYTES: usize = 256 * 1024;
 #[derive(Clone)]
 pub struct AppState {
     pub db: Arc<Db>,
+    /// The data directory (bundles, evidence).
+    pub data_dir: std::path::PathBuf,
     pub settings: Arc<Settings>,
 }
 

@@ -6,7 +6,6 @@
 mod cli;
 mod commands;
 mod geo_calc;
-pub mod photo_meta;
 mod record;
 pub mod workspace;
 

@@ -1,5 +1,5 @@
 //! Turning command-line report fields into a [`Report`]: reading each photo
-//! (size bound, JPEG magic, EXIF via [`super::photo_meta`]), taking the
+//! (size bound, JPEG magic, EXIF via [`crate::photo::read_photo_meta`]), taking the
 //! position from `--at` or else from the photos' GPS, the time from `--time`
 //! or else the earliest photo time, and checking the result against the
 //! bundle's checklist before anything is stored.
@@ -13,8 +13,8 @@ use uuid::Uuid;
 
 use super::cli::ReportArgs;
 use super::geo_calc::parse_lat_lon;
-use super::photo_meta::read_photo_meta;
 use crate::SyncError;
+use crate::photo::read_photo_meta;
 use crate::returns::{
     Position, PositionSource, Report, ReportPhoto, ReturnLimits, Target, validate_report,
 };

@@ -1,6 +1,7 @@
 //! JSON API under `/api/v1`.
 
 mod alerts;
+pub mod bundles;
 mod events;
 mod sources;
 mod zones;
@@ -14,7 +15,14 @@ pub fn configure(cfg: &mut web::ServiceConfig) {
         .route("/zones", web::get().to(zones::list))
         .route("/zones", web::post().to(zones::import))
         .route("/events", web::get().to(events::list))
-        .route("/events/{id}", web::get().to(events::one));
+        .route("/events/{id}", web::get().to(events::one))
+        .route("/teams", web::get().to(bundles::teams))
+        .route("/teams", web::post().to(bundles::add_team))
+        .route("/bundles", web::get().to(bundles::list))
+        .route("/bundles", web::post().to(bundles::issue))
+        .route("/bundles/{id}", web::get().to(bundles::one))
+        .route("/bundles/{id}/download", web::get().to(bundles::download))
+        .route("/bundles/{id}/cancel", web::post().to(bundles::cancel));
 }
 
 pub async fn health() -> HttpResponse {

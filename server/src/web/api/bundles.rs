@@ -1,0 +1,216 @@
+//! Teams and bundles:
+//! `GET/POST /api/v1/teams`, `GET/POST /api/v1/bundles`,
+//! `GET /api/v1/bundles/{id}`, `GET /api/v1/bundles/{id}/download`,
+//! `POST /api/v1/bundles/{id}/cancel`.
+
+use crate::domain::{Confidence, Day, LonLat, ZoneName};
+use crate::error::Error;
+use crate::trips::{Mode, TripRequest, cancel_bundle, issue_bundle};
+use crate::web::AppState;
+use crate::web::error::ApiError;
+use actix_web::{HttpResponse, web};
+use serde::Deserialize;
+use serde_json::json;
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct NewTeam {
+    name: String,
+}
+
+pub async fn teams(state: web::Data<AppState>) -> Result<HttpResponse, ApiError> {
+    let db = state.db.clone();
+    Ok(HttpResponse::Ok().json(web::block(move || db.read(|r| r.teams())).await??))
+}
+
+pub async fn add_team(
+    state: web::Data<AppState>,
+    body: web::Json<NewTeam>,
+) -> Result<HttpResponse, ApiError> {
+    let name =
+        ZoneName::parse(&body.name).map_err(|m| Error::Invalid(m.replace("zone", "team")))?;
+    let db = state.db.clone();
+    let t = web::block(move || db.write(|tx| tx.add_team(name.as_str()))).await??;
+    Ok(HttpResponse::Created().json(t))
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Start {
+    lat: f64,
+    lon: f64,
+    name: Option<String>,
+}
+
+/// The body of `POST /api/v1/bundles`.
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct IssueBody {
+    team: String,
+    start: Start,
+    mode: Option<String>,
+    zone: Option<String>,
+    /// A GeoJSON Polygon or MultiPolygon geometry.
+    extent: Option<serde_json::Value>,
+    from: Option<String>,
+    to: Option<String>,
+    source: Option<String>,
+    confidence: Option<String>,
+    min_area_ha: Option<f64>,
+    max: Option<usize>,
+    margin: Option<f64>,
+    controls: Option<usize>,
+    control_min_distance_m: Option<f64>,
+    seed: Option<u64>,
+    walking_kmh: Option<f64>,
+    due_days: Option<i64>,
+    expires_days: Option<i64>,
+    as_of: Option<String>,
+}
+
+fn day(name: &str, v: &Option<String>) -> Result<Option<Day>, Error> {
+    v.as_deref()
+        .map(|s| Day::parse(s).map_err(|m| Error::Invalid(format!("field '{name}': {m}"))))
+        .transpose()
+}
+
+/// Turn the body into a validated trip request.
+pub fn trip_request(b: IssueBody) -> Result<TripRequest, Error> {
+    let start = LonLat::new(b.start.lon, b.start.lat)
+        .map_err(|m| Error::Invalid(format!("field 'start': {m}")))?;
+    let mut r = TripRequest::response(&b.team, start);
+    if let Some(n) = b.start.name {
+        r.start_name = n;
+    }
+    if let Some(m) = &b.mode {
+        r.mode = Mode::parse(m)?;
+    }
+    r.zone = b.zone;
+    r.extent = match b.extent {
+        None => None,
+        Some(v) => Some(
+            crate::events::parse_multipolygon(&v.to_string()).ok_or_else(|| {
+                Error::Invalid("field 'extent': expected a GeoJSON Polygon or MultiPolygon".into())
+            })?,
+        ),
+    };
+    r.from = day("from", &b.from)?;
+    r.to = day("to", &b.to)?;
+    r.source = b.source;
+    r.confidence = match b.confidence.as_deref() {
+        None => None,
+        Some("tentative") => Some(Confidence::Tentative),
+        Some("confirmed") => Some(Confidence::Confirmed),
+        Some(o) => {
+            return Err(Error::Invalid(format!(
+                "field 'confidence': '{o}' is not tentative or confirmed"
+            )));
+        }
+    };
+    r.min_area_ha = b.min_area_ha;
+    r.max = b.max;
+    if let Some(m) = b.margin {
+        r.margin = m;
+    }
+    r.controls = b.controls.unwrap_or(0);
+    if let Some(d) = b.control_min_distance_m {
+        r.control_min_distance_m = d;
+    }
+    r.seed = b.seed;
+    if let Some(w) = b.walking_kmh {
+        r.walking_kmh = w;
+    }
+    if let Some(d) = b.due_days {
+        r.due_days = d;
+    }
+    if let Some(d) = b.expires_days {
+        r.expires_days = d;
+    }
+    if let Some(d) = day("as_of", &b.as_of)? {
+        r.as_of = d;
+    }
+    Ok(r)
+}
+
+pub async fn issue(
+    state: web::Data<AppState>,
+    body: web::Json<IssueBody>,
+) -> Result<HttpResponse, ApiError> {
+    let req = trip_request(body.into_inner())?;
+    let state = state.into_inner();
+    let out = web::block(move || issue_bundle(&state.db, &state.data_dir, &state.settings, &req))
+        .await??;
+    let id = out.bundle.id.clone();
+    Ok(HttpResponse::Created()
+        .insert_header(("Location", format!("/api/v1/bundles/{id}")))
+        .json(json!({"bundle": out, "download": format!("/api/v1/bundles/{id}/download")})))
+}
+
+pub async fn list(state: web::Data<AppState>) -> Result<HttpResponse, ApiError> {
+    let db = state.db.clone();
+    Ok(HttpResponse::Ok().json(web::block(move || db.read(|r| r.bundles())).await??))
+}
+
+fn bundle_id(raw: &str) -> Result<String, Error> {
+    uuid::Uuid::parse_str(raw)
+        .map(|u| u.to_string())
+        .map_err(|_| Error::Invalid(format!("bundle id '{raw}' is not a UUID")))
+}
+
+pub async fn one(
+    state: web::Data<AppState>,
+    path: web::Path<String>,
+) -> Result<HttpResponse, ApiError> {
+    let id = bundle_id(&path)?;
+    let db = state.db.clone();
+    let (b, items) = web::block(move || {
+        let b = db
+            .read(|r| r.bundle(&id))?
+            .ok_or_else(|| Error::NotFound(format!("no bundle {id}")))?;
+        let items = db.read(|r| r.bundle_items(&id))?;
+        Ok::<_, Error>((b, items))
+    })
+    .await??;
+    Ok(HttpResponse::Ok().json(json!({"bundle": b, "items": items})))
+}
+
+pub async fn download(
+    state: web::Data<AppState>,
+    path: web::Path<String>,
+) -> Result<HttpResponse, ApiError> {
+    let id = bundle_id(&path)?;
+    let state = state.into_inner();
+    let (name, bytes) = web::block(move || {
+        let b = state
+            .db
+            .read(|r| r.bundle(&id))?
+            .ok_or_else(|| Error::NotFound(format!("no bundle {id}")))?;
+        if b.cancelled_at.is_some() {
+            return Err(Error::Conflict(format!("bundle {id} was cancelled")));
+        }
+        let p = state.data_dir.join("bundles").join(&b.file_name);
+        let bytes =
+            std::fs::read(&p).map_err(|e| Error::io(format!("reading {}", p.display()), e))?;
+        Ok((b.file_name, bytes))
+    })
+    .await??;
+    Ok(HttpResponse::Ok()
+        .content_type("application/zip")
+        .insert_header((
+            "Content-Disposition",
+            format!("attachment; filename=\"{name}\""),
+        ))
+        .insert_header(("Cache-Control", "no-store"))
+        .body(bytes))
+}
+
+pub async fn cancel(
+    state: web::Data<AppState>,
+    path: web::Path<String>,
+) -> Result<HttpResponse, ApiError> {
+    let id = bundle_id(&path)?;
+    let db = state.db.clone();
+    let idc = id.clone();
+    web::block(move || cancel_bundle(&db, &idc)).await??;
+    Ok(HttpResponse::Ok().json(json!({"cancelled": id})))
+}
