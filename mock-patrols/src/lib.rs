@@ -14,6 +14,7 @@ mod calendar;
 mod clumped;
 mod export;
 mod fasthash;
+pub mod field;
 mod layout;
 pub mod photos;
 mod planar;

@@ -6,8 +6,10 @@
 //! `cluster` functions, `storage` is the only module that speaks SQL, and
 //! `web` is the only module that knows HTTP.
 
+pub mod charts;
 pub mod cluster;
 pub mod coords;
+pub mod dashboard;
 pub mod demo;
 pub mod domain;
 pub mod error;
@@ -16,6 +18,7 @@ pub mod figures;
 pub mod files;
 pub mod geodesy;
 pub mod import;
+pub mod intake;
 pub mod plan;
 pub mod reconcile;
 pub mod settings;

@@ -2,3 +2,4 @@
 
 mod alerts_api;
 mod bundles;
+mod stats_api;

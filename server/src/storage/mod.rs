@@ -14,14 +14,21 @@
 mod alerts;
 mod bundles;
 mod events;
+mod returns;
 mod schema;
 mod sources;
+pub(crate) mod stats;
 mod zones;
 
 pub use alerts::{NewAlert, StoredAlert, alerts_cells, e7};
 pub use bundles::{BundleItem, BundleRecord, NewBundle, Team};
 pub use events::{EventFilter, EventRecord, EventWrite};
+pub use returns::{
+    PhotoCheckRow, PhotoRow, RETURNS_MIGRATION, ReportPhotoRow, ReportRow, ResultRow, ReturnRecord,
+    UploadRecord,
+};
 pub use sources::Source;
+pub use stats::{AdjudicationRow, ControlRow, StatsEventRow, StatsReportRow};
 pub use zones::ZoneRecord;
 
 use crate::error::{Error, Result};

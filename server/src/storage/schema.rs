@@ -118,6 +118,10 @@ const MIGRATIONS: &[&str] = &[
     ) WITHOUT ROWID;
     CREATE INDEX bundle_items_event ON bundle_items(event_id);
     "#,
+    // 3: uploads, returns, reports, photos, evidence checks, per-report results.
+    crate::storage::returns::RETURNS_MIGRATION,
+    // 4: adjudications.
+    crate::storage::stats::ADJUDICATIONS_MIGRATION,
 ];
 
 /// The schema version this binary writes.

@@ -19,12 +19,12 @@ pub struct BundleLimits {
 }
 
 impl Default for BundleLimits {
-    /// 512 MiB file, 256 entries, 128 MiB per entry, 1 MiB manifest, 512 MiB in total.
-    /// Our choice: a trip of a few hundred events with preview images stays far below.
+    /// 512 MiB file, 2,100 entries (a preview per event for up to 2,000 events, plus the
+    /// fixed entries), 128 MiB per entry, 1 MiB manifest, 512 MiB in total. Our choice.
     fn default() -> Self {
         BundleLimits {
             max_bundle_bytes: 512 << 20,
-            max_entries: 256,
+            max_entries: 2_100,
             max_entry_bytes: 128 << 20,
             max_manifest_bytes: 1 << 20,
             max_total_bytes: 512 << 20,

@@ -4,6 +4,7 @@ mod alerts;
 pub mod bundles;
 mod events;
 mod sources;
+mod stats;
 mod zones;
 
 use actix_web::{HttpResponse, web};
@@ -16,6 +17,11 @@ pub fn configure(cfg: &mut web::ServiceConfig) {
         .route("/zones", web::post().to(zones::import))
         .route("/events", web::get().to(events::list))
         .route("/events/{id}", web::get().to(events::one))
+        .route("/stats", web::get().to(stats::all))
+        .route("/stats/{name}", web::get().to(stats::one))
+        .route("/disputes", web::get().to(stats::disputes))
+        .route("/events/{id}/adjudications", web::post().to(stats::adjudicate))
+        .route("/exports/events.geojson", web::get().to(stats::export_events))
         .route("/teams", web::get().to(bundles::teams))
         .route("/teams", web::post().to(bundles::add_team))
         .route("/bundles", web::get().to(bundles::list))

@@ -1,0 +1,236 @@
+//! Bar charts: grouped vertical bars (categories such as months, one bar
+//! per series in each group, 1-2-5 count ticks, legend) and horizontal
+//! bars (one labelled bar per item with its value and unit, e.g. causes).
+
+use super::axis::{self, Scale, format_number, nice_ticks};
+use super::palette::{BLUE, series_colour};
+use super::svg::{self, escape, px, text};
+use super::types::{BarChart, HBarChart};
+use std::fmt::{self, Write};
+
+const W: f64 = 800.0;
+const LEFT: f64 = 70.0;
+const RIGHT: f64 = W - 20.0;
+const TOP: f64 = 48.0;
+const PLOT_H: f64 = 260.0;
+/// Rough width of one character at the 12 px label size.
+const CHAR_W: f64 = 6.5;
+const LEGEND_COLS: usize = 4;
+
+/// A drawable value: finite, and negative counts shown as zero.
+fn usable(v: f64) -> Option<f64> {
+    v.is_finite().then_some(v.max(0.0))
+}
+
+/// Label for a value: no decimals for whole numbers, else one.
+fn value_text(v: f64) -> String {
+    let step = if (v - v.round()).abs() < 1e-9 {
+        1.0
+    } else {
+        0.1
+    };
+    format_number(v, step)
+}
+
+/// Upper end of a value axis: whole-number data get at least 0–5 so that
+/// small counts do not get fractional ticks.
+fn axis_ticks(max: f64, all_whole: bool) -> Vec<f64> {
+    let top = if all_whole { max.max(5.0) } else { max };
+    nice_ticks(0.0, top, 6)
+}
+
+/// Grouped vertical bars. Values past the last category are ignored;
+/// non-finite values draw no bar. Empty input gives a "no data" SVG.
+pub fn render_grouped_bars(input: &BarChart) -> String {
+    let n = input.categories.len();
+    let values: Vec<(usize, usize, f64)> = input
+        .series
+        .iter()
+        .enumerate()
+        .flat_map(|(s, ser)| {
+            ser.values
+                .iter()
+                .take(n)
+                .enumerate()
+                .filter_map(move |(c, &v)| usable(v).map(|v| (s, c, v)))
+        })
+        .collect();
+    if values.is_empty() {
+        return svg::no_data(&input.title);
+    }
+    let max = values.iter().map(|v| v.2).fold(0.0, f64::max);
+    let whole = values.iter().all(|v| (v.2 - v.2.round()).abs() < 1e-9);
+    let ticks = axis_ticks(max, whole);
+    let y = Scale {
+        d0: 0.0,
+        d1: ticks.last().copied().unwrap_or(1.0),
+        r0: TOP + PLOT_H,
+        r1: TOP,
+    };
+    let group_w = (RIGHT - LEFT) / n as f64;
+    let longest = input
+        .categories
+        .iter()
+        .map(|c| c.chars().count().min(40))
+        .max()
+        .unwrap_or(0) as f64;
+    let rotate = longest * CHAR_W > group_w - 4.0;
+    let label_h = if rotate {
+        longest * CHAR_W * 0.71 + 16.0
+    } else {
+        20.0
+    };
+    let axis_title_y = TOP + PLOT_H + label_h + 18.0;
+    let legend_top = axis_title_y + 26.0;
+    let rows = input.series.len().div_ceil(LEGEND_COLS).max(1);
+    let h = legend_top + rows as f64 * 20.0 + 6.0;
+    let k = input.series.len().max(1) as f64;
+    let bar_w = group_w * 0.8 / k;
+
+    svg::render_with(&input.title, |out| {
+        svg::open(out, W, h, &input.title)?;
+        svg::heading(out, &input.title)?;
+        axis::y_axis(out, y, &ticks, (LEFT, RIGHT), &input.y_label)?;
+        for &(s, c, v) in &values {
+            let bx = LEFT + c as f64 * group_w + group_w * 0.1 + s as f64 * bar_w;
+            let top = y.map(v);
+            write!(
+                out,
+                "<rect class=\"bar\" x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\" fill=\"{}\"><title>{}, {}: {}</title></rect>",
+                px(bx),
+                px(top),
+                px(bar_w),
+                px(y.r0 - top),
+                series_colour(s).hex(),
+                escape(&input.categories[c]),
+                escape(&input.series[s].label),
+                value_text(v)
+            )?;
+        }
+        axis::axis_line(out, (LEFT, y.r0), (RIGHT, y.r0))?;
+        for (c, cat) in input.categories.iter().enumerate() {
+            let cx = LEFT + (c as f64 + 0.5) * group_w;
+            let ly = y.r0 + 16.0;
+            if rotate {
+                write!(out, "<g transform=\"rotate(-45 {} {})\">", px(cx), px(ly))?;
+                text(out, cx, ly, "end", "category", cat)?;
+                out.write_str("</g>")?;
+            } else {
+                text(out, cx, ly, "middle", "category", cat)?;
+            }
+        }
+        text(
+            out,
+            (LEFT + RIGHT) / 2.0,
+            axis_title_y,
+            "middle",
+            "axis-title",
+            &input.x_label,
+        )?;
+        let col_w = (RIGHT - LEFT) / LEGEND_COLS as f64;
+        for (s, ser) in input.series.iter().enumerate() {
+            let lx = LEFT + (s % LEGEND_COLS) as f64 * col_w;
+            let ly = legend_top + (s / LEGEND_COLS) as f64 * 20.0;
+            write!(
+                out,
+                "<g class=\"legend-entry\"><rect x=\"{}\" y=\"{}\" width=\"14\" height=\"14\" fill=\"{}\"/>",
+                px(lx),
+                px(ly - 11.0),
+                series_colour(s).hex()
+            )?;
+            text(out, lx + 20.0, ly, "start", "legend-label", &ser.label)?;
+            out.write_str("</g>")?;
+        }
+        svg::close(out)
+    })
+}
+
+const ROW_H: f64 = 26.0;
+const BAR_H: f64 = 16.0;
+/// Room right of the longest bar for its value label.
+const VALUE_ROOM: f64 = 110.0;
+
+/// Horizontal bars with the value and unit after each bar. Non-finite
+/// values are left out. Empty input gives a "no data" SVG.
+pub fn render_horizontal_bars(input: &HBarChart) -> String {
+    let bars: Vec<(&str, f64)> = input
+        .bars
+        .iter()
+        .filter_map(|b| usable(b.value).map(|v| (b.label.as_str(), v)))
+        .collect();
+    if bars.is_empty() {
+        return svg::no_data(&input.title);
+    }
+    let longest = bars.iter().map(|b| b.0.chars().count()).max().unwrap_or(0) as f64;
+    let left = (longest * CHAR_W + 20.0).clamp(80.0, 280.0);
+    let right = W - VALUE_ROOM;
+    let max = bars.iter().map(|b| b.1).fold(0.0, f64::max);
+    let whole = bars.iter().all(|b| (b.1 - b.1.round()).abs() < 1e-9);
+    let ticks = axis_ticks(max, whole);
+    let x = Scale {
+        d0: 0.0,
+        d1: ticks.last().copied().unwrap_or(1.0),
+        r0: left,
+        r1: right,
+    };
+    let plot_bottom = TOP + bars.len() as f64 * ROW_H;
+    let h = plot_bottom + 48.0;
+    let unit = input.unit.trim();
+    let title = if unit.is_empty() {
+        input.value_label.clone()
+    } else {
+        format!("{} ({unit})", input.value_label)
+    };
+
+    svg::render_with(&input.title, |out| -> fmt::Result {
+        svg::open(out, W, h, &input.title)?;
+        svg::heading(out, &input.title)?;
+        axis::x_axis(out, x, &ticks, (plot_bottom, TOP), &title)?;
+        for (i, &(label, v)) in bars.iter().enumerate() {
+            let top = TOP + i as f64 * ROW_H + (ROW_H - BAR_H) / 2.0;
+            let end = x.map(v);
+            let shown = if unit.is_empty() {
+                value_text(v)
+            } else {
+                format!("{} {unit}", value_text(v))
+            };
+            // Long labels are cut so they cannot run into the bars.
+            let max_chars = ((left - 14.0) / CHAR_W).max(4.0) as usize;
+            let cut: String = if label.chars().count() > max_chars {
+                label
+                    .chars()
+                    .take(max_chars.saturating_sub(1))
+                    .chain(std::iter::once('…'))
+                    .collect()
+            } else {
+                label.to_string()
+            };
+            text(out, left - 8.0, top + BAR_H - 3.0, "end", "bar-label", &cut)?;
+            write!(
+                out,
+                "<rect class=\"bar\" x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\" fill=\"{}\"><title>{}: {}</title></rect>",
+                px(left),
+                px(top),
+                px(end - left),
+                px(BAR_H),
+                BLUE.hex(),
+                escape(label),
+                escape(&shown)
+            )?;
+            text(
+                out,
+                end + 6.0,
+                top + BAR_H - 3.0,
+                "start",
+                "bar-value",
+                &shown,
+            )?;
+        }
+        axis::axis_line(out, (left, TOP), (left, plot_bottom))?;
+        svg::close(out)
+    })
+}
+
+#[cfg(test)]
+#[path = "bars_tests.rs"]
+mod tests;

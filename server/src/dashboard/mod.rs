@@ -1,0 +1,61 @@
+//! From stored facts to the figures managers read.
+//!
+//! Loads events, reports, bundles, controls and adjudications from
+//! storage, reconciles each event's status with [`crate::reconcile`], and
+//! computes every figure with [`crate::figures`]. Nothing here is stored:
+//! every call recomputes from the facts (invariant 2).
+
+mod csv_tables;
+mod load;
+
+pub use csv_tables::{TABLES, table};
+pub use load::{Loaded, StatsFilter, load};
+
+use crate::error::{Error, Result};
+use crate::figures::{FigureOptions, Figures, all_figures};
+use crate::storage::Db;
+
+/// Settle-window of disagreeing reports, days (DESIGN: default 30).
+pub const DISPUTE_WINDOW_DAYS: u32 = crate::reconcile::DEFAULT_WINDOW_DAYS;
+
+/// Every figure for the selection.
+pub fn figures(db: &Db, filter: &StatsFilter, options: &FigureOptions) -> Result<Figures> {
+    let l = load(db, filter, DISPUTE_WINDOW_DAYS)?;
+    all_figures(&l.events, &l.reports, &l.bundle_issued_at, &l.controls, options)
+        .map_err(|e| Error::Invalid(format!("statistics: {e}")))
+}
+
+/// An outcome word as stored.
+pub fn parse_outcome(s: &str) -> Option<crate::reconcile::Outcome> {
+    load::outcome(s)
+}
+
+/// Every live event as a GeoJSON Feature with its reconciled status and an
+/// evidence summary (reports counted, reports with evidence that passes).
+pub fn events_with_status(
+    db: &Db,
+    weights: &crate::cluster::priority::PriorityWeights,
+) -> Result<serde_json::Value> {
+    let l = load(db, &StatsFilter::default(), DISPUTE_WINDOW_DAYS)?;
+    let events = crate::events::ranked_events(db, &Default::default(), weights, crate::domain::Day::today())?;
+    let features: Vec<serde_json::Value> = events
+        .iter()
+        .map(|e| {
+            let mut f = crate::events::event_feature(e);
+            let s = l.statuses.get(&e.record.id);
+            let counted = s.map(|s| s.counted_reports.clone()).unwrap_or_default();
+            let ok = l
+                .reports
+                .iter()
+                .filter(|r| counted.contains(&r.report_id) && r.evidence_ok)
+                .count();
+            f["properties"]["status"] = serde_json::json!(s.map_or("unvisited", |s| s.status.as_str()));
+            f["properties"]["new_clearing"] = serde_json::json!(s.is_some_and(|s| s.new_clearing));
+            f["properties"]["cause"] = serde_json::json!(s.and_then(|s| s.cause.clone()));
+            f["properties"]["reports_counted"] = serde_json::json!(counted.len());
+            f["properties"]["reports_evidence_ok"] = serde_json::json!(ok);
+            f
+        })
+        .collect();
+    Ok(serde_json::json!({"type": "FeatureCollection", "features": features}))
+}

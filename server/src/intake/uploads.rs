@@ -1,0 +1,396 @@
+//! Resumable uploads (RETURN-SPEC "Resumable push", after the IETF draft
+//! "Resumable Uploads for HTTP"): create with the declared size and SHA-256,
+//! ask the offset, append at the offset, complete.
+//!
+//! Bytes are appended to `uploads/<id>.part` and fsynced before the new
+//! offset is stored and acknowledged; before an append the file is cut back
+//! to the stored offset, so bytes written but never acknowledged (a crash
+//! between the write and the commit) are dropped and sent again. The offset
+//! never decreases. An interrupted append keeps the bytes that arrived.
+//!
+//! # Bounds (documented limits, reliability.md §3)
+//!
+//! | bound | value | anchor |
+//! |---|---|---|
+//! | one package (declared size) | 1 GiB | `ReturnLimits::max_file_bytes`, resumable `max-size` |
+//! | one append (PATCH body) | 8 MiB | RETURN-SPEC, `max-append-size` |
+//! | open uploads, whole server | 64 | our choice (Slowloris mitigation of the draft) |
+//! | open uploads per bundle | 4 | reliability.md §3 "Concurrent resumable uploads per user" |
+//! | declared bytes of all open uploads | 8 GiB | our choice: disk reserve for 8 full packages |
+//! | lifetime of an idle open upload | 7 days | reliability.md §3 `max-age` |
+
+use super::files::{UPLOADS_DIR, incoming_path, move_durably, upload_path};
+use super::pipeline::{ReturnDocument, return_document, take_in};
+use super::{IntakeError, IntakeOptions};
+use crate::storage::{Db, UploadRecord};
+use sha2::{Digest, Sha256};
+use std::collections::HashSet;
+use std::io::{Read, Seek, SeekFrom, Write};
+use std::path::Path;
+use std::sync::Mutex;
+
+/// Largest append (PATCH body), bytes.
+pub const MAX_APPEND_BYTES: usize = 8 << 20;
+/// Most open uploads on the server.
+pub const MAX_OPEN_UPLOADS: u64 = 64;
+/// Most open uploads for one bundle.
+pub const MAX_OPEN_UPLOADS_PER_BUNDLE: u64 = 4;
+/// Most declared bytes over all open uploads.
+pub const MAX_OPEN_UPLOAD_BYTES: u64 = 8 << 30;
+/// Days an open upload may stay untouched before the clean-up removes it.
+pub const UPLOAD_MAX_AGE_DAYS: i64 = 7;
+
+/// Uploads with an append in progress (one at a time per upload).
+static APPENDING: Mutex<Option<HashSet<String>>> = Mutex::new(None);
+
+struct AppendGuard(String);
+
+impl AppendGuard {
+    fn take(id: &str) -> Option<AppendGuard> {
+        let mut g = APPENDING.lock().unwrap_or_else(|p| p.into_inner());
+        let set = g.get_or_insert_with(HashSet::new);
+        set.insert(id.to_string()).then(|| AppendGuard(id.to_string()))
+    }
+}
+
+impl Drop for AppendGuard {
+    fn drop(&mut self) {
+        let mut g = APPENDING.lock().unwrap_or_else(|p| p.into_inner());
+        if let Some(set) = g.as_mut() {
+            set.remove(&self.0);
+        }
+    }
+}
+
+/// True for a server-made upload id (32 lowercase hex digits).
+pub fn is_upload_id(s: &str) -> bool {
+    s.len() == 32 && s.bytes().all(|c| c.is_ascii_digit() || (b'a'..=b'f').contains(&c))
+}
+
+/// The result of [`create`]: the upload, and whether it was made now.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Created {
+    pub upload: UploadRecord,
+    pub new: bool,
+}
+
+/// Creates an upload for a package of `size` bytes with SHA-256 `sha256`,
+/// or finds the one made before for the same bundle and SHA-256.
+pub fn create(
+    db: &Db,
+    data_dir: &Path,
+    options: &IntakeOptions,
+    bundle_id: &str,
+    size: u64,
+    sha256: &str,
+) -> Result<Created, IntakeError> {
+    if !super::files::is_sha256(sha256) {
+        return Err(IntakeError::Invalid(
+            "sha256 must be 64 lowercase hex digits".into(),
+        ));
+    }
+    let max = options.return_limits.max_file_bytes;
+    if size == 0 || size > max {
+        return Err(IntakeError::TooLarge(format!(
+            "a package must be 1 to {max} bytes, not {size}"
+        )));
+    }
+    let bundle = db
+        .read(|r| r.bundle(bundle_id))?
+        .ok_or_else(|| IntakeError::NotFound(format!("no bundle {bundle_id}")))?;
+    if bundle.cancelled_at.is_some() {
+        return Err(IntakeError::Refused(format!(
+            "bundle {bundle_id} was cancelled: its upload key is revoked"
+        )));
+    }
+    let _guard = super::pipeline::intake_lock();
+    if let Some(u) = db.read(|r| r.upload_by_sha(bundle_id, sha256))? {
+        if u.size != size {
+            return Err(IntakeError::Invalid(format!(
+                "an upload of this package was made with size {}, not {size}",
+                u.size
+            )));
+        }
+        return Ok(Created { upload: u, new: false });
+    }
+    let upload = UploadRecord {
+        id: uuid::Uuid::new_v4().simple().to_string(),
+        bundle_id: bundle_id.to_string(),
+        sha256: sha256.to_string(),
+        size,
+        offset: 0,
+        state: "open".into(),
+        return_id: None,
+        error: None,
+        error_status: None,
+        created_at: chrono::Utc::now().to_rfc3339(),
+    };
+    let taken = db.read(|r| r.return_by_sha(sha256))?;
+    if taken.is_none() {
+        let (count, bytes, for_bundle) = db.read(|r| r.open_uploads(bundle_id))?;
+        if count >= MAX_OPEN_UPLOADS || bytes.saturating_add(size) > MAX_OPEN_UPLOAD_BYTES {
+            return Err(IntakeError::Limit(format!(
+                "the server holds {count} open uploads ({bytes} bytes); try again later"
+            )));
+        }
+        if for_bundle >= MAX_OPEN_UPLOADS_PER_BUNDLE {
+            return Err(IntakeError::Limit(format!(
+                "bundle {bundle_id} already has {for_bundle} open uploads; finish them first"
+            )));
+        }
+        crate::files::write_durably(&upload_path(data_dir, &upload.id), |_| Ok(()))?;
+    }
+    db.write(|tx| {
+        tx.insert_upload(&upload)?;
+        if let Some(r) = &taken {
+            // Taken in already (e.g. through the browser): nothing to send.
+            tx.finish_upload(&upload.id, r.id)?;
+        }
+        Ok(())
+    })?;
+    let upload = db
+        .read(|r| r.upload(&upload.id))?
+        .ok_or_else(|| IntakeError::Server(crate::Error::Internal("upload vanished".into())))?;
+    Ok(Created { upload, new: true })
+}
+
+/// The upload `id`.
+pub fn get(db: &Db, id: &str) -> Result<UploadRecord, IntakeError> {
+    if !is_upload_id(id) {
+        return Err(IntakeError::NotFound(format!("no upload {id}")));
+    }
+    db.read(|r| r.upload(id))?
+        .ok_or_else(|| IntakeError::NotFound(format!("no upload {id}")))
+}
+
+/// Appends `bytes` at `offset` to upload `id`; returns the new offset.
+pub fn append(
+    db: &Db,
+    data_dir: &Path,
+    id: &str,
+    offset: u64,
+    bytes: &[u8],
+) -> Result<u64, IntakeError> {
+    let u = get(db, id)?;
+    let Some(_guard) = AppendGuard::take(id) else {
+        return Err(IntakeError::Busy { offset: u.offset });
+    };
+    // Read again under the guard: another append may just have finished.
+    let u = get(db, id)?;
+    if u.state != "open" {
+        return if offset == u.size && bytes.is_empty() {
+            Ok(u.size)
+        } else {
+            Err(IntakeError::OffsetMismatch {
+                offset: u.size,
+                sent: offset,
+            })
+        };
+    }
+    if offset != u.offset {
+        return Err(IntakeError::OffsetMismatch {
+            offset: u.offset,
+            sent: offset,
+        });
+    }
+    if bytes.len() > MAX_APPEND_BYTES {
+        return Err(IntakeError::TooLarge(format!(
+            "an append is at most {MAX_APPEND_BYTES} bytes"
+        )));
+    }
+    let end = offset.saturating_add(bytes.len() as u64);
+    if end > u.size {
+        return Err(IntakeError::Invalid(format!(
+            "{} bytes at offset {offset} go past the declared size {}",
+            bytes.len(),
+            u.size
+        )));
+    }
+    if bytes.is_empty() {
+        return Ok(offset);
+    }
+    let path = upload_path(data_dir, id);
+    let io = |e| crate::Error::io(format!("appending to {}", path.display()), e);
+    let mut f = match std::fs::OpenOptions::new().write(true).open(&path) {
+        Ok(f) => f,
+        Err(e) if e.kind() == std::io::ErrorKind::NotFound => {
+            db.write(|tx| tx.delete_upload(id))?;
+            return Err(IntakeError::Gone(format!(
+                "the data of upload {id} is lost; start a new upload"
+            )));
+        }
+        Err(e) => return Err(io(e).into()),
+    };
+    f.set_len(offset).map_err(io)?;
+    f.seek(SeekFrom::Start(offset)).map_err(io)?;
+    f.write_all(bytes).map_err(io)?;
+    f.sync_data().map_err(io)?;
+    db.write(|tx| tx.set_upload_offset(id, end))?;
+    Ok(end)
+}
+
+fn sha256_of(path: &Path, len: u64) -> Result<String, IntakeError> {
+    let io = |e| crate::Error::io(format!("reading {}", path.display()), e);
+    let f = std::fs::File::open(path).map_err(io)?;
+    let mut h = Sha256::new();
+    let mut r = f.take(len);
+    let mut buf = vec![0u8; 1 << 16];
+    loop {
+        let n = r.read(&mut buf).map_err(io)?;
+        if n == 0 {
+            break;
+        }
+        h.update(&buf[..n]);
+    }
+    Ok(hex::encode(h.finalize()))
+}
+
+fn replay(u: &UploadRecord) -> IntakeError {
+    let msg = u.error.clone().unwrap_or_else(|| "the package was refused".into());
+    match u.error_status {
+        Some(403) => IntakeError::Refused(msg),
+        _ => IntakeError::Package(msg),
+    }
+}
+
+/// Completes upload `id`: checks size and SHA-256, takes the return in and
+/// answers its results (the same results when called again).
+pub fn complete(
+    db: &Db,
+    data_dir: &Path,
+    options: &IntakeOptions,
+    id: &str,
+) -> Result<ReturnDocument, IntakeError> {
+    let u = get(db, id)?;
+    match u.state.as_str() {
+        "done" => {
+            let rid = u
+                .return_id
+                .ok_or_else(|| IntakeError::Server(crate::Error::Internal("done upload without return".into())))?;
+            return return_document(db, rid);
+        }
+        "failed" => return Err(replay(&u)),
+        _ => {}
+    }
+    if u.offset != u.size {
+        return Err(IntakeError::Invalid(format!(
+            "upload {id} holds {} of {} bytes; send the rest first",
+            u.offset, u.size
+        )));
+    }
+    let incoming = incoming_path(data_dir, &u.sha256);
+    if !incoming.exists() {
+        let part = upload_path(data_dir, id);
+        let len = std::fs::metadata(&part).map(|m| m.len()).unwrap_or(0);
+        if len < u.size {
+            db.write(|tx| tx.delete_upload(id))?;
+            return Err(IntakeError::Gone(format!(
+                "the data of upload {id} is lost; start a new upload"
+            )));
+        }
+        let actual = sha256_of(&part, u.size)?;
+        if actual != u.sha256 {
+            db.write(|tx| tx.delete_upload(id))?;
+            let _ = std::fs::remove_file(&part);
+            return Err(IntakeError::Gone(format!(
+                "the bytes received have SHA-256 {actual}, not the declared {}; start a new upload",
+                u.sha256
+            )));
+        }
+        if len > u.size {
+            let f = std::fs::OpenOptions::new()
+                .write(true)
+                .open(&part)
+                .and_then(|f| f.set_len(u.size).and_then(|_| f.sync_all()));
+            f.map_err(|e| crate::Error::io(format!("trimming {}", part.display()), e))?;
+        }
+        move_durably(&part, &incoming)?;
+    }
+    take_in(db, data_dir, options, &incoming, &u.sha256, u.size, Some(&u))
+}
+
+/// Folder of upload data (for the clean-up and tests).
+pub fn uploads_dir(data_dir: &Path) -> std::path::PathBuf {
+    data_dir.join(UPLOADS_DIR)
+}
+
+/// A package received in one request body (the browser or USB path),
+/// written to a temp file in `returns/incoming/` while its SHA-256 is
+/// computed, then fsynced and renamed to `<sha256>.zip`.
+pub struct IncomingFile {
+    tmp: tempfile::NamedTempFile,
+    hasher: Sha256,
+    size: u64,
+    max: u64,
+}
+
+impl IncomingFile {
+    /// A new temp file; at most `max` bytes are accepted.
+    pub fn new(data_dir: &Path, max: u64) -> Result<IncomingFile, IntakeError> {
+        let dir = data_dir.join(super::files::INCOMING_DIR);
+        std::fs::create_dir_all(&dir)
+            .map_err(|e| crate::Error::io(format!("creating {}", dir.display()), e))?;
+        let tmp = tempfile::Builder::new()
+            .prefix(".receiving-")
+            .tempfile_in(&dir)
+            .map_err(|e| crate::Error::io("creating a temp file for a package", e))?;
+        Ok(IncomingFile {
+            tmp,
+            hasher: Sha256::new(),
+            size: 0,
+            max,
+        })
+    }
+
+    /// Appends `bytes`; refuses to grow past the bound.
+    pub fn write(&mut self, bytes: &[u8]) -> Result<(), IntakeError> {
+        self.size = self.size.saturating_add(bytes.len() as u64);
+        if self.size > self.max {
+            return Err(IntakeError::TooLarge(format!(
+                "a package is at most {} bytes",
+                self.max
+            )));
+        }
+        self.hasher.update(bytes);
+        self.tmp
+            .as_file_mut()
+            .write_all(bytes)
+            .map_err(|e| crate::Error::io("writing a received package", e))?;
+        Ok(())
+    }
+
+    /// Makes the package durable at `returns/incoming/<sha256>.zip`; returns
+    /// its path, SHA-256 and size.
+    pub fn finish(self, data_dir: &Path) -> Result<(std::path::PathBuf, String, u64), IntakeError> {
+        if self.size == 0 {
+            return Err(IntakeError::Invalid("the request body is empty".into()));
+        }
+        let sha = hex::encode(self.hasher.finalize());
+        let path = incoming_path(data_dir, &sha);
+        self.tmp
+            .as_file()
+            .sync_all()
+            .map_err(|e| crate::Error::io("syncing a received package", e))?;
+        if path.exists() {
+            return Ok((path, sha, self.size));
+        }
+        self.tmp
+            .persist(&path)
+            .map_err(|e| crate::Error::io(format!("renaming into {}", path.display()), e.error))?;
+        if let Some(dir) = path.parent() {
+            crate::files::sync_dir(dir)?;
+        }
+        Ok((path, sha, self.size))
+    }
+}
+
+/// Takes in a package received whole (see [`IncomingFile`]).
+pub fn take_in_whole(
+    db: &Db,
+    data_dir: &Path,
+    options: &IntakeOptions,
+    file: IncomingFile,
+) -> Result<ReturnDocument, IntakeError> {
+    let (path, sha, size) = file.finish(data_dir)?;
+    take_in(db, data_dir, options, &path, &sha, size, None)
+}

@@ -1,0 +1,256 @@
+//! The stored facts that statistics are computed from (invariant 2: no
+//! stored counter, every figure comes from these rows), and the
+//! adjudication log.
+
+use super::{Reader, Tx};
+use crate::error::Result;
+use rusqlite::params;
+use std::collections::HashMap;
+
+/// Adjudications: an append-only audit log of a manager's decisions.
+pub const ADJUDICATIONS_MIGRATION: &str = r#"
+    CREATE TABLE adjudications (
+        id INTEGER PRIMARY KEY,
+        event_id INTEGER NOT NULL REFERENCES events(id),
+        outcome TEXT NOT NULL CHECK (outcome IN ('confirmed', 'false_alarm', 'inconclusive', 'not_reached')),
+        reason TEXT NOT NULL,
+        decided_by TEXT NOT NULL,
+        decided_at TEXT NOT NULL
+    );
+    CREATE INDEX adjudications_event ON adjudications(event_id, decided_at);
+    CREATE TRIGGER adjudications_append_only_u BEFORE UPDATE ON adjudications
+        BEGIN SELECT RAISE(ABORT, 'adjudications are an audit log and cannot change'); END;
+    CREATE TRIGGER adjudications_append_only_d BEFORE DELETE ON adjudications
+        BEGIN SELECT RAISE(ABORT, 'adjudications are an audit log and cannot be deleted'); END;
+"#;
+
+/// One live event with what the statistics need.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StatsEventRow {
+    pub id: i64,
+    pub origin: String,
+    pub zones: Vec<String>,
+    pub sources: Vec<String>,
+    pub highest_confidence: i64,
+    pub corroborated: bool,
+    pub area_ha: f64,
+    pub first_day: i32,
+    pub first_issued_at: Option<String>,
+    pub teams_issued: Vec<String>,
+    /// From the first assessment bundle that sampled the event.
+    pub sample: Option<(String, f64, i64)>,
+}
+
+/// One report as stored by intake.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StatsReportRow {
+    pub report_id: String,
+    pub bundle_id: String,
+    pub event_id: Option<i64>,
+    pub control_code: Option<String>,
+    pub kind: String,
+    pub supersedes: Option<String>,
+    pub outcome: String,
+    pub reason: Option<String>,
+    pub cause: Option<String>,
+    pub observed_at: String,
+    pub received_at: String,
+    pub evidence_ok: bool,
+    pub team: String,
+    pub area_ha: Option<f64>,
+}
+
+/// One adjudication.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct AdjudicationRow {
+    pub id: i64,
+    pub event_id: i64,
+    pub outcome: String,
+    pub reason: String,
+    pub decided_by: String,
+    pub decided_at: String,
+}
+
+/// A control point of an assessment bundle.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ControlRow {
+    pub bundle_id: String,
+    pub code: String,
+    pub lon: f64,
+    pub lat: f64,
+}
+
+impl Tx<'_> {
+    pub fn add_adjudication(&self, event_id: i64, outcome: &str, reason: &str, by: &str) -> Result<AdjudicationRow> {
+        let at = chrono::Utc::now().to_rfc3339();
+        self.tx.execute(
+            "INSERT INTO adjudications (event_id, outcome, reason, decided_by, decided_at) VALUES (?1, ?2, ?3, ?4, ?5)",
+            params![event_id, outcome, reason, by, at],
+        )?;
+        Ok(AdjudicationRow {
+            id: self.tx.last_insert_rowid(),
+            event_id,
+            outcome: outcome.into(),
+            reason: reason.into(),
+            decided_by: by.into(),
+            decided_at: at,
+        })
+    }
+}
+
+fn split(s: Option<String>) -> Vec<String> {
+    let mut v: Vec<String> = s
+        .map(|z| z.split('\u{1f}').filter(|x| !x.is_empty()).map(str::to_string).collect())
+        .unwrap_or_default();
+    v.sort();
+    v.dedup();
+    v
+}
+
+impl Reader<'_> {
+    /// Every live event with its zones, sources, first issue and sample.
+    pub fn stats_events(&self) -> Result<Vec<StatsEventRow>> {
+        let mut st = self.conn.prepare(
+            "SELECT e.id, e.origin, e.highest_confidence, e.corroborated, e.area_ha, e.first_day, e.per_source,
+               (SELECT group_concat(z.name, char(31)) FROM event_zones ez JOIN zones z ON z.id = ez.zone_id WHERE ez.event_id = e.id),
+               (SELECT MIN(b.issued_at) FROM bundle_items i JOIN bundles b ON b.id = i.bundle_id
+                  WHERE i.event_id = e.id AND b.cancelled_at IS NULL),
+               (SELECT group_concat(t.name, char(31)) FROM bundle_items i JOIN bundles b ON b.id = i.bundle_id
+                  JOIN teams t ON t.id = b.team_id WHERE i.event_id = e.id AND b.cancelled_at IS NULL),
+               (SELECT i.stratum || char(31) || i.inclusion_probability || char(31) || i.stratum_population
+                  FROM bundle_items i JOIN bundles b ON b.id = i.bundle_id
+                  WHERE i.event_id = e.id AND b.mode = 'assessment' AND b.cancelled_at IS NULL
+                    AND i.inclusion_probability IS NOT NULL
+                  ORDER BY b.issued_at, b.id LIMIT 1)
+             FROM events e WHERE e.merged_into IS NULL ORDER BY e.id",
+        )?;
+        let rows = st
+            .query_map([], |r| {
+                let per_source: String = r.get(6)?;
+                let sources: Vec<String> = serde_json::from_str::<std::collections::BTreeMap<String, u32>>(&per_source)
+                    .map(|m| m.into_keys().collect())
+                    .unwrap_or_default();
+                let sample: Option<String> = r.get(10)?;
+                let sample = sample.and_then(|s| {
+                    let p: Vec<&str> = s.split('\u{1f}').collect();
+                    match p.as_slice() {
+                        [name, prob, pop] => Some((name.to_string(), prob.parse().ok()?, pop.parse().ok()?)),
+                        _ => None,
+                    }
+                });
+                Ok(StatsEventRow {
+                    id: r.get(0)?,
+                    origin: r.get(1)?,
+                    highest_confidence: r.get(2)?,
+                    corroborated: r.get::<_, i64>(3)? != 0,
+                    area_ha: r.get(4)?,
+                    first_day: r.get(5)?,
+                    sources,
+                    zones: split(r.get(7)?),
+                    first_issued_at: r.get(8)?,
+                    teams_issued: split(r.get(9)?),
+                    sample,
+                })
+            })?
+            .collect::<rusqlite::Result<Vec<_>>>()?;
+        Ok(rows)
+    }
+
+    /// Where merged events went: id → the live event that holds it now.
+    pub fn merge_map(&self) -> Result<HashMap<i64, i64>> {
+        let mut st = self.conn.prepare("SELECT id, merged_into FROM events WHERE merged_into IS NOT NULL")?;
+        let direct: HashMap<i64, i64> = st
+            .query_map([], |r| Ok((r.get(0)?, r.get(1)?)))?
+            .collect::<rusqlite::Result<_>>()?;
+        let mut out = HashMap::new();
+        for (&id, &next) in &direct {
+            let mut cur = next;
+            for _ in 0..64 {
+                match direct.get(&cur) {
+                    Some(&n) => cur = n,
+                    None => break,
+                }
+            }
+            out.insert(id, cur);
+        }
+        Ok(out)
+    }
+
+    /// Every report intake stored (none before the first return).
+    pub fn stats_reports(&self) -> Result<Vec<StatsReportRow>> {
+        let exists: i64 = self.conn.query_row(
+            "SELECT COUNT(*) FROM sqlite_master WHERE type = 'table' AND name = 'reports'",
+            [],
+            |r| r.get(0),
+        )?;
+        if exists == 0 {
+            return Ok(Vec::new());
+        }
+        let mut st = self.conn.prepare(
+            "SELECT report_id, bundle_id, event_id, control_code, kind, supersedes, outcome, reason, cause,
+                    observed_at, received_at, evidence_ok, team, area_ha
+             FROM reports ORDER BY report_id",
+        )?;
+        let v = st
+            .query_map([], |r| {
+                Ok(StatsReportRow {
+                    report_id: r.get(0)?,
+                    bundle_id: r.get(1)?,
+                    event_id: r.get(2)?,
+                    control_code: r.get(3)?,
+                    kind: r.get(4)?,
+                    supersedes: r.get(5)?,
+                    outcome: r.get(6)?,
+                    reason: r.get(7)?,
+                    cause: r.get(8)?,
+                    observed_at: r.get(9)?,
+                    received_at: r.get(10)?,
+                    evidence_ok: r.get::<_, i64>(11)? != 0,
+                    team: r.get(12)?,
+                    area_ha: r.get(13)?,
+                })
+            })?
+            .collect::<rusqlite::Result<Vec<_>>>()?;
+        Ok(v)
+    }
+
+    pub fn adjudications(&self) -> Result<Vec<AdjudicationRow>> {
+        let mut st = self.conn.prepare(
+            "SELECT id, event_id, outcome, reason, decided_by, decided_at FROM adjudications ORDER BY decided_at, id",
+        )?;
+        let v = st
+            .query_map([], |r| {
+                Ok(AdjudicationRow {
+                    id: r.get(0)?,
+                    event_id: r.get(1)?,
+                    outcome: r.get(2)?,
+                    reason: r.get(3)?,
+                    decided_by: r.get(4)?,
+                    decided_at: r.get(5)?,
+                })
+            })?
+            .collect::<rusqlite::Result<Vec<_>>>()?;
+        Ok(v)
+    }
+
+    /// Control points of assessment bundles not cancelled.
+    pub fn controls(&self) -> Result<Vec<ControlRow>> {
+        let mut st = self.conn.prepare(
+            "SELECT i.bundle_id, i.code, i.lon, i.lat FROM bundle_items i JOIN bundles b ON b.id = i.bundle_id
+             WHERE i.kind = 'control' AND b.cancelled_at IS NULL ORDER BY i.bundle_id, i.code",
+        )?;
+        let v = st
+            .query_map([], |r| Ok(ControlRow { bundle_id: r.get(0)?, code: r.get(1)?, lon: r.get(2)?, lat: r.get(3)? }))?
+            .collect::<rusqlite::Result<Vec<_>>>()?;
+        Ok(v)
+    }
+
+    /// Issue time of every bundle not cancelled.
+    pub fn bundle_issue_times(&self) -> Result<Vec<(String, String)>> {
+        let mut st = self.conn.prepare("SELECT id, issued_at FROM bundles WHERE cancelled_at IS NULL")?;
+        let v = st
+            .query_map([], |r| Ok((r.get(0)?, r.get(1)?)))?
+            .collect::<rusqlite::Result<Vec<_>>>()?;
+        Ok(v)
+    }
+}
