@@ -40,6 +40,17 @@ impl TestServer {
             });
         });
         let handle = rx.recv().expect("server started");
+        let (_, token) = groundproof::auth::issue_api_token(
+            &db,
+            groundproof::auth::Role::Admin,
+            "end-to-end tests",
+            groundproof::auth::now_unix(),
+        )
+        .expect("admin token");
+        tokens()
+            .lock()
+            .unwrap_or_else(|p| p.into_inner())
+            .insert(addr.to_string(), token);
         TestServer {
             addr,
             db,
@@ -87,6 +98,74 @@ impl Reply {
     }
 }
 
+/// Admin API tokens of the running test servers, by "host:port": the
+/// request helpers below send it, so tests act as an admin unless they
+/// use [`anonymous`] or pass their own token.
+fn tokens() -> &'static std::sync::Mutex<std::collections::HashMap<String, String>> {
+    static T: std::sync::OnceLock<std::sync::Mutex<std::collections::HashMap<String, String>>> =
+        std::sync::OnceLock::new();
+    T.get_or_init(Default::default)
+}
+
+fn token_for(url: &str) -> Option<String> {
+    let host = url.strip_prefix("http://")?.split('/').next()?;
+    tokens()
+        .lock()
+        .unwrap_or_else(|p| p.into_inner())
+        .get(host)
+        .cloned()
+}
+
+/// The admin token the helpers send to this server.
+pub fn admin_token(s: &TestServer) -> String {
+    token_for(&s.url("/")).unwrap_or_default()
+}
+
+fn with_auth(
+    r: ureq::RequestBuilder<ureq::typestate::WithoutBody>,
+    url: &str,
+) -> ureq::RequestBuilder<ureq::typestate::WithoutBody> {
+    match token_for(url) {
+        Some(t) => r.header("Authorization", format!("Bearer {t}")),
+        None => r,
+    }
+}
+
+fn with_auth_body(
+    r: ureq::RequestBuilder<ureq::typestate::WithBody>,
+    url: &str,
+) -> ureq::RequestBuilder<ureq::typestate::WithBody> {
+    match token_for(url) {
+        Some(t) => r.header("Authorization", format!("Bearer {t}")),
+        None => r,
+    }
+}
+
+/// A request with no credentials at all.
+pub fn anonymous_get(url: &str) -> Reply {
+    reply(agent().get(url).call())
+}
+
+/// A request with the given bearer token (or none).
+pub fn get_as(url: &str, token: Option<&str>) -> Reply {
+    let r = agent().get(url);
+    reply(match token {
+        Some(t) => r.header("Authorization", format!("Bearer {t}")).call(),
+        None => r.call(),
+    })
+}
+
+/// A JSON POST with the given bearer token (or none).
+pub fn post_json_as(url: &str, token: Option<&str>, body: &serde_json::Value) -> Reply {
+    let r = agent().post(url);
+    reply(match token {
+        Some(t) => r
+            .header("Authorization", format!("Bearer {t}"))
+            .send_json(body),
+        None => r.send_json(body),
+    })
+}
+
 fn agent() -> ureq::Agent {
     ureq::Agent::config_builder()
         .http_status_as_error(false)
@@ -104,20 +183,19 @@ fn reply(r: Result<ureq::http::Response<ureq::Body>, ureq::Error>) -> Reply {
 }
 
 pub fn get(url: &str) -> Reply {
-    reply(agent().get(url).call())
+    reply(with_auth(agent().get(url), url).call())
 }
 
 pub fn post_bytes(url: &str, content_type: &str, body: &[u8]) -> Reply {
     reply(
-        agent()
-            .post(url)
+        with_auth_body(agent().post(url), url)
             .header("Content-Type", content_type)
             .send(body),
     )
 }
 
 pub fn post_json(url: &str, body: &serde_json::Value) -> Reply {
-    reply(agent().post(url).send_json(body))
+    reply(with_auth_body(agent().post(url), url).send_json(body))
 }
 
 /// Register the demo scenario's sources, zones, teams and alerts over HTTP.
@@ -158,7 +236,9 @@ pub fn load_scenario(s: &TestServer) {
 
 /// Bytes of a response (for downloads).
 pub fn get_bytes(url: &str) -> (u16, Vec<u8>) {
-    let mut r = agent().get(url).call().expect("request reaches the server");
+    let mut r = with_auth(agent().get(url), url)
+        .call()
+        .expect("request reaches the server");
     let status = r.status().as_u16();
     let bytes = r
         .body_mut()

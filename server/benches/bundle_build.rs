@@ -17,12 +17,19 @@ use std::time::Instant;
 fn peak_rss_mb() -> f64 {
     std::fs::read_to_string("/proc/self/status")
         .ok()
-        .and_then(|s| s.lines().find(|l| l.starts_with("VmHWM:")).and_then(|l| l.split_whitespace().nth(1)?.parse::<f64>().ok()))
+        .and_then(|s| {
+            s.lines()
+                .find(|l| l.starts_with("VmHWM:"))
+                .and_then(|l| l.split_whitespace().nth(1)?.parse::<f64>().ok())
+        })
         .map_or(f64::NAN, |kb| kb / 1024.0)
 }
 
 fn main() {
-    let n: usize = std::env::args().skip(1).find_map(|a| a.parse().ok()).unwrap_or(300);
+    let n: usize = std::env::args()
+        .skip(1)
+        .find_map(|a| a.parse().ok())
+        .unwrap_or(300);
     let dir = tempfile::tempdir().expect("temp dir");
     let db = Db::open(dir.path()).expect("db");
     let settings = Settings::default();
@@ -46,6 +53,11 @@ fn main() {
     let b = last.expect("one bundle");
     println!(
         "{{\"events\":{},\"bytes\":{},\"median_seconds\":{:.3},\"min_seconds\":{:.3},\"peak_rss_mb\":{:.0},\"rss_before_mb\":{:.0}}}",
-        b.bundle.events, b.bundle.file_size, times[2], times[0], peak_rss_mb(), rss_before
+        b.bundle.events,
+        b.bundle.file_size,
+        times[2],
+        times[0],
+        peak_rss_mb(),
+        rss_before
     );
 }

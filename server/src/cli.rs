@@ -77,6 +77,46 @@ enum Command {
         #[command(subcommand)]
         command: BundleCommand,
     },
+    /// User accounts.
+    User {
+        #[command(subcommand)]
+        command: UserCommand,
+    },
+    /// API tokens (for scripts) and team tokens (for the field kit).
+    Token {
+        #[command(subcommand)]
+        command: TokenCommand,
+    },
+}
+
+#[derive(Subcommand)]
+enum UserCommand {
+    /// Add a user; the password comes from GROUNDPROOF_PASSWORD or a prompt on standard input.
+    Add {
+        name: String,
+        /// admin, coordinator or manager.
+        #[arg(long)]
+        role: String,
+        #[command(flatten)]
+        data: DataArg,
+    },
+}
+
+#[derive(Subcommand)]
+enum TokenCommand {
+    /// Print a new token (shown once; only its SHA-256 is stored).
+    Create {
+        /// An API token with this role (admin, coordinator, manager).
+        #[arg(long, conflicts_with = "team")]
+        role: Option<String>,
+        /// A team token for this team's field kit.
+        #[arg(long)]
+        team: Option<String>,
+        #[arg(long, default_value = "script")]
+        label: String,
+        #[command(flatten)]
+        data: DataArg,
+    },
 }
 
 #[derive(Subcommand)]
@@ -360,6 +400,57 @@ pub fn run() -> Result<ExitCode> {
                 }
             }
         },
+        Command::User { command } => match command {
+            UserCommand::Add { name, role, data } => {
+                let role: groundproof::auth::Role = role.parse()?;
+                let password = match std::env::var("GROUNDPROOF_PASSWORD") {
+                    Ok(p) => p,
+                    Err(_) => {
+                        eprint!(
+                            "password for {name} (at least {} characters): ",
+                            groundproof::auth::MIN_PASSWORD_CHARS
+                        );
+                        let mut line = String::new();
+                        std::io::stdin().read_line(&mut line)?;
+                        line.trim_end_matches(['\r', '\n']).to_string()
+                    }
+                };
+                let (db, _) = open(&data.data)?;
+                let u = groundproof::auth::create_user(
+                    &db,
+                    &name,
+                    role,
+                    &password,
+                    groundproof::auth::now_unix(),
+                )?;
+                println!("user '{}' added with role {}", u.name, role);
+            }
+        },
+        Command::Token { command } => match command {
+            TokenCommand::Create {
+                role,
+                team,
+                label,
+                data,
+            } => {
+                let (db, _) = open(&data.data)?;
+                let now = groundproof::auth::now_unix();
+                let token = match (role, team) {
+                    (Some(r), None) => {
+                        groundproof::auth::issue_api_token(&db, r.parse()?, &label, now)?.1
+                    }
+                    (None, Some(t)) => {
+                        if db.read(|r| r.team_by_name(&t))?.is_none() {
+                            bail!("unknown team '{t}': add it first (groundproof team add)");
+                        }
+                        groundproof::auth::issue_team_token(&db, &t, now)?.1
+                    }
+                    _ => bail!("give --role R for an API token or --team T for a team token"),
+                };
+                println!("{token}");
+                eprintln!("keep it safe: it is shown only this once");
+            }
+        },
         Command::Bundle { command } => match command {
             BundleCommand::Issue(a) => issue(*a)?,
             BundleCommand::List { data } => {
@@ -497,6 +588,27 @@ fn import_alert_file(a: AlertArgs) -> Result<ExitCode> {
 }
 
 fn serve(db: Db, settings: Settings, data_dir: &Path, bind: &str) -> Result<()> {
+    match groundproof::auth::ensure_first_admin(
+        &db,
+        groundproof::auth::admin_password_from_env().as_deref(),
+        groundproof::auth::now_unix(),
+    )? {
+        groundproof::auth::FirstAdmin::Created {
+            name,
+            generated_password: Some(p),
+        } => {
+            println!("first run: created user '{name}' with password {p}  (shown once; change it)");
+        }
+        groundproof::auth::FirstAdmin::Created {
+            name,
+            generated_password: None,
+        } => {
+            println!(
+                "first run: created user '{name}' with the password from GROUNDPROOF_ADMIN_PASSWORD"
+            );
+        }
+        groundproof::auth::FirstAdmin::AlreadySetUp => {}
+    }
     let listener = TcpListener::bind(bind).with_context(|| format!("binding {bind}"))?;
     let addr = listener.local_addr()?;
     let state = web::AppState {

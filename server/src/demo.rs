@@ -15,6 +15,21 @@ use std::path::{Path, PathBuf};
 /// Seed of the demo's alert files.
 pub const DEMO_SEED: u64 = 42;
 
+/// The demo's logins (invented; for the demo only, never for real data).
+pub const DEMO_LOGINS: &[(&str, crate::auth::Role, &str)] = &[
+    ("admin", crate::auth::Role::Admin, "demo-admin-password"),
+    (
+        "coordinator",
+        crate::auth::Role::Coordinator,
+        "demo-coordinator-password",
+    ),
+    (
+        "manager",
+        crate::auth::Role::Manager,
+        "demo-manager-password",
+    ),
+];
+
 /// A new, empty folder for a demo under the system temp directory.
 pub fn fresh_dir() -> Result<PathBuf> {
     let stamp = chrono::Utc::now().format("%Y%m%dT%H%M%S");
@@ -48,6 +63,9 @@ impl fmt::Display for DemoSummary {
             "  clearing events: {} ({} absorbed by merges)",
             self.live_events, self.merged_events
         )?;
+        for (name, role, password) in DEMO_LOGINS {
+            write!(f, "\n  demo login: {name} / {password} ({role})")?;
+        }
         for (team, mode, events, controls, path) in &self.bundles {
             write!(
                 f,
@@ -88,6 +106,10 @@ pub fn load(db: &Db, data_dir: &Path, settings: &Settings) -> Result<DemoSummary
     }
     for t in &scenario.teams {
         db.write(|tx| tx.add_team(t))?;
+    }
+    let now = crate::auth::now_unix();
+    for (name, role, password) in DEMO_LOGINS {
+        crate::auth::create_user(db, name, *role, password, now)?;
     }
     let (live_events, merged_events) = db.read(|r| r.event_counts())?;
     let start = LonLat::new(scenario.station.0, scenario.station.1).map_err(Error::Invalid)?;

@@ -6,6 +6,7 @@
 //! `cluster` functions, `storage` is the only module that speaks SQL, and
 //! `web` is the only module that knows HTTP.
 
+pub mod auth;
 pub mod charts;
 pub mod cluster;
 pub mod coords;

@@ -1,5 +1,8 @@
 //! End-to-end tests: the real server on a random loopback port.
 
+mod access;
 mod alerts_api;
 mod bundles;
+mod intake;
+mod pages;
 mod stats_api;

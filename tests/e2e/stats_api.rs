@@ -17,21 +17,43 @@ fn coverage_counts_issued_events_and_csv_matches_json() {
     assert_eq!(overall["rows"][0]["unvisited"].as_u64(), Some(events));
 
     let station = mock_patrols::scenario().station;
-    let r = post_json(&s.url("/api/v1/bundles"), &json!({"team": "Team Amber", "zone": "Core", "max": 6,
-        "start": {"lat": station.1, "lon": station.0}}));
+    let r = post_json(
+        &s.url("/api/v1/bundles"),
+        &json!({"team": "Team Amber", "zone": "Core", "max": 6,
+        "start": {"lat": station.1, "lon": station.0}}),
+    );
     assert_eq!(r.status, 201, "{}", r.body);
     let after = get(&s.url("/api/v1/stats/coverage?team=Team%20Amber")).json();
-    let overall = after["coverage"].as_array().unwrap().iter().find(|g| g["key"] == "all").unwrap().clone();
-    assert_eq!(overall["rows"][0]["events"], 6, "the team filter keeps the team's events");
+    let overall = after["coverage"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|g| g["key"] == "all")
+        .unwrap()
+        .clone();
+    assert_eq!(
+        overall["rows"][0]["events"], 6,
+        "the team filter keeps the team's events"
+    );
     assert_eq!(overall["rows"][0]["issued"], 6);
 
     let csv = get(&s.url("/api/v1/stats/coverage?format=csv&team=Team%20Amber"));
     assert_eq!(csv.status, 200);
-    let line = csv.body.lines().find(|l| l.starts_with("all,all,")).unwrap().to_string();
+    let line = csv
+        .body
+        .lines()
+        .find(|l| l.starts_with("all,all,"))
+        .unwrap()
+        .to_string();
     assert_eq!(line, "all,all,6,6,0,0,6");
     // Time to visit: two labelled curves, all events and issued events only.
     let t = get(&s.url("/api/v1/stats/time-to-visit")).json();
-    let labels: Vec<&str> = t["time_to_visit"]["curves"].as_array().unwrap().iter().map(|c| c["label"].as_str().unwrap()).collect();
+    let labels: Vec<&str> = t["time_to_visit"]["curves"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|c| c["label"].as_str().unwrap())
+        .collect();
     assert_eq!(labels.len(), 2, "{labels:?}");
     assert_eq!(get(&s.url("/api/v1/stats/nonsense")).status, 404);
     assert_eq!(get(&s.url("/api/v1/stats/coverage?format=xml")).status, 400);
@@ -41,14 +63,45 @@ fn coverage_counts_issued_events_and_csv_matches_json() {
 fn adjudications_are_validated_and_logged() {
     let s = TestServer::start();
     load_scenario(&s);
-    let id = get(&s.url("/api/v1/events?limit=1")).json()["features"][0]["id"].as_i64().unwrap();
+    let id = get(&s.url("/api/v1/events?limit=1")).json()["features"][0]["id"]
+        .as_i64()
+        .unwrap();
     let url = s.url(&format!("/api/v1/events/{id}/adjudications"));
-    assert_eq!(post_json(&url, &json!({"outcome": "maybe", "reason": "x", "by": "m"})).status, 400);
-    assert_eq!(post_json(&url, &json!({"outcome": "confirmed", "reason": " ", "by": "m"})).status, 400);
-    assert_eq!(post_json(&s.url("/api/v1/events/999999/adjudications"), &json!({"outcome": "confirmed", "reason": "r", "by": "m"})).status, 404);
-    let ok = post_json(&url, &json!({"outcome": "false_alarm", "reason": "photos show standing forest", "by": "manager one"}));
+    assert_eq!(
+        post_json(&url, &json!({"outcome": "maybe", "reason": "x", "by": "m"})).status,
+        400
+    );
+    assert_eq!(
+        post_json(
+            &url,
+            &json!({"outcome": "confirmed", "reason": " ", "by": "m"})
+        )
+        .status,
+        400
+    );
+    assert_eq!(
+        post_json(
+            &s.url("/api/v1/events/999999/adjudications"),
+            &json!({"outcome": "confirmed", "reason": "r", "by": "m"})
+        )
+        .status,
+        404
+    );
+    let ok = post_json(
+        &url,
+        &json!({"outcome": "false_alarm", "reason": "photos show standing forest", "by": "manager one"}),
+    );
     assert_eq!(ok.status, 201, "{}", ok.body);
     let geo = get(&s.url("/api/v1/exports/events.geojson")).json();
-    let f = geo["features"].as_array().unwrap().iter().find(|f| f["id"] == id).unwrap().clone();
-    assert_eq!(f["properties"]["status"], "false_alarm", "an adjudication settles the status");
+    let f = geo["features"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|f| f["id"] == id)
+        .unwrap()
+        .clone();
+    assert_eq!(
+        f["properties"]["status"], "false_alarm",
+        "an adjudication settles the status"
+    );
 }

@@ -179,3 +179,8 @@ mod tests {
         assert!(!Identity::Anonymous.may(Action::ViewEvents));
     }
 }
+
+/// The CSRF token of the current browser session, put into the request's
+/// extensions by the web layer so pages can embed it in their forms.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct CsrfToken(pub String);

@@ -134,14 +134,14 @@ pub fn link(points: &[LinkPoint], rule: &LinkRule) -> UnionFind {
                 linked(&mut uf, a as usize, b as usize);
             }
         }
-        let mut neighbours = vec![(cy << 32) | (cx + 1)];
-        for dx in [-1i64, 0, 1] {
-            let nx = cx as i64 + dx;
-            if nx >= 0 {
-                neighbours.push(((cy + 1) << 32) | nx as u64);
-            }
-        }
-        for nk in neighbours {
+        // Half of the eight neighbours: east, and the three cells north.
+        let neighbours = [
+            Some((cy << 32) | (cx + 1)),
+            cx.checked_sub(1).map(|w| ((cy + 1) << 32) | w),
+            Some(((cy + 1) << 32) | cx),
+            Some(((cy + 1) << 32) | (cx + 1)),
+        ];
+        for nk in neighbours.into_iter().flatten() {
             if let Some((t0, t1)) = find_cell(nk) {
                 for a in s0..s1 {
                     for b in t0..t1 {

@@ -34,7 +34,9 @@ pub struct Loaded {
 }
 
 fn time(s: &str) -> Option<DateTime<Utc>> {
-    DateTime::parse_from_rfc3339(s).ok().map(|t| t.with_timezone(&Utc))
+    DateTime::parse_from_rfc3339(s)
+        .ok()
+        .map(|t| t.with_timezone(&Utc))
 }
 
 pub(crate) fn outcome(s: &str) -> Option<Outcome> {
@@ -53,18 +55,19 @@ pub const CONTROL_PLOT_HA: f64 = 1.0;
 
 /// Load everything, reconcile, and apply the filter.
 pub fn load(db: &Db, filter: &StatsFilter, window_days: u32) -> Result<Loaded> {
-    let (events, report_rows, merges, adjudications, issue_times, controls, zones, bundles) = db.read(|r| {
-        Ok((
-            r.stats_events()?,
-            r.stats_reports()?,
-            r.merge_map()?,
-            r.adjudications()?,
-            r.bundle_issue_times()?,
-            r.controls()?,
-            r.zones()?,
-            r.bundles()?,
-        ))
-    })?;
+    let (events, report_rows, merges, adjudications, issue_times, controls, zones, bundles) = db
+        .read(|r| {
+            Ok((
+                r.stats_events()?,
+                r.stats_reports()?,
+                r.merge_map()?,
+                r.adjudications()?,
+                r.bundle_issue_times()?,
+                r.controls()?,
+                r.zones()?,
+                r.bundles()?,
+            ))
+        })?;
     let live = |id: i64| merges.get(&id).copied().unwrap_or(id);
     let bundle_issued_at: BTreeMap<Uuid, DateTime<Utc>> = issue_times
         .iter()
@@ -79,7 +82,10 @@ pub fn load(db: &Db, filter: &StatsFilter, window_days: u32) -> Result<Loaded> {
             Some(ReportFact {
                 report_id: Uuid::parse_str(&r.report_id).ok()?,
                 event_id: live(r.event_id?),
-                supersedes: r.supersedes.as_deref().and_then(|s| Uuid::parse_str(s).ok()),
+                supersedes: r
+                    .supersedes
+                    .as_deref()
+                    .and_then(|s| Uuid::parse_str(s).ok()),
                 outcome: outcome(&r.outcome)?,
                 reason: r.reason.clone(),
                 cause: r.cause.clone(),
@@ -114,7 +120,11 @@ pub fn load(db: &Db, filter: &StatsFilter, window_days: u32) -> Result<Loaded> {
         if filter.zone.as_ref().is_some_and(|z| !e.zones.contains(z)) {
             continue;
         }
-        if filter.source.as_ref().is_some_and(|s| !e.sources.contains(s)) {
+        if filter
+            .source
+            .as_ref()
+            .is_some_and(|s| !e.sources.contains(s))
+        {
             continue;
         }
         let status = statuses.get(&e.id);
@@ -127,7 +137,11 @@ pub fn load(db: &Db, filter: &StatsFilter, window_days: u32) -> Result<Loaded> {
         let mut f = EventFacts {
             event_id: e.id,
             zone_names: e.zones.clone(),
-            sources: if e.origin == "field" { vec!["field".into()] } else { e.sources.clone() },
+            sources: if e.origin == "field" {
+                vec!["field".into()]
+            } else {
+                e.sources.clone()
+            },
             highest_confidence: Confidence::from_i64(e.highest_confidence)
                 .unwrap_or(Confidence::Tentative)
                 .to_string(),
@@ -156,7 +170,12 @@ pub fn load(db: &Db, filter: &StatsFilter, window_days: u32) -> Result<Loaded> {
     // Control points: reached or not, clearing found or not.
     let zone_area: HashMap<String, f64> = zones
         .iter()
-        .filter_map(|z| Some((z.name.clone(), crate::events::parse_multipolygon(&z.geometry)?.geodesic_area_unsigned() / 1e4)))
+        .filter_map(|z| {
+            Some((
+                z.name.clone(),
+                crate::events::parse_multipolygon(&z.geometry)?.geodesic_area_unsigned() / 1e4,
+            ))
+        })
         .collect();
     let bundle_zone: HashMap<String, (Option<String>, i64)> = bundles
         .iter()
@@ -167,26 +186,47 @@ pub fn load(db: &Db, filter: &StatsFilter, window_days: u32) -> Result<Loaded> {
             (b.id.clone(), (zone, b.controls))
         })
         .collect();
-    let mut control_reports: BTreeMap<(String, String), Vec<&crate::storage::StatsReportRow>> = BTreeMap::new();
+    let mut control_reports: BTreeMap<(String, String), Vec<&crate::storage::StatsReportRow>> =
+        BTreeMap::new();
     for r in report_rows.iter().filter(|r| r.kind == "control") {
         if let Some(code) = &r.control_code {
-            control_reports.entry((r.bundle_id.clone(), code.clone())).or_default().push(r);
+            control_reports
+                .entry((r.bundle_id.clone(), code.clone()))
+                .or_default()
+                .push(r);
         }
     }
     let mut out_controls = Vec::new();
     for c in &controls {
-        let Some((zone, k)) = bundle_zone.get(&c.bundle_id) else { continue };
-        if filter.zone.as_ref().is_some_and(|z| zone.as_ref() != Some(z)) {
+        let Some((zone, k)) = bundle_zone.get(&c.bundle_id) else {
+            continue;
+        };
+        if filter
+            .zone
+            .as_ref()
+            .is_some_and(|z| zone.as_ref() != Some(z))
+        {
             continue;
         }
-        let area = zone.as_ref().and_then(|z| zone_area.get(z)).copied().unwrap_or(0.0);
+        let area = zone
+            .as_ref()
+            .and_then(|z| zone_area.get(z))
+            .copied()
+            .unwrap_or(0.0);
         if area <= 0.0 || *k <= 0 {
             continue;
         }
-        let superseded: std::collections::HashSet<&str> = report_rows.iter().filter_map(|r| r.supersedes.as_deref()).collect();
+        let superseded: std::collections::HashSet<&str> = report_rows
+            .iter()
+            .filter_map(|r| r.supersedes.as_deref())
+            .collect();
         let latest = control_reports
             .get(&(c.bundle_id.clone(), c.code.clone()))
-            .and_then(|v| v.iter().filter(|r| !superseded.contains(r.report_id.as_str())).max_by(|a, b| a.observed_at.cmp(&b.observed_at)));
+            .and_then(|v| {
+                v.iter()
+                    .filter(|r| !superseded.contains(r.report_id.as_str()))
+                    .max_by(|a, b| a.observed_at.cmp(&b.observed_at))
+            });
         let found = latest.and_then(|r| match r.outcome.as_str() {
             "confirmed" => Some(true),
             "false_alarm" => Some(false),

@@ -21,8 +21,14 @@ pub const DISPUTE_WINDOW_DAYS: u32 = crate::reconcile::DEFAULT_WINDOW_DAYS;
 /// Every figure for the selection.
 pub fn figures(db: &Db, filter: &StatsFilter, options: &FigureOptions) -> Result<Figures> {
     let l = load(db, filter, DISPUTE_WINDOW_DAYS)?;
-    all_figures(&l.events, &l.reports, &l.bundle_issued_at, &l.controls, options)
-        .map_err(|e| Error::Invalid(format!("statistics: {e}")))
+    all_figures(
+        &l.events,
+        &l.reports,
+        &l.bundle_issued_at,
+        &l.controls,
+        options,
+    )
+    .map_err(|e| Error::Invalid(format!("statistics: {e}")))
 }
 
 /// An outcome word as stored.
@@ -37,7 +43,12 @@ pub fn events_with_status(
     weights: &crate::cluster::priority::PriorityWeights,
 ) -> Result<serde_json::Value> {
     let l = load(db, &StatsFilter::default(), DISPUTE_WINDOW_DAYS)?;
-    let events = crate::events::ranked_events(db, &Default::default(), weights, crate::domain::Day::today())?;
+    let events = crate::events::ranked_events(
+        db,
+        &Default::default(),
+        weights,
+        crate::domain::Day::today(),
+    )?;
     let features: Vec<serde_json::Value> = events
         .iter()
         .map(|e| {
@@ -49,7 +60,8 @@ pub fn events_with_status(
                 .iter()
                 .filter(|r| counted.contains(&r.report_id) && r.evidence_ok)
                 .count();
-            f["properties"]["status"] = serde_json::json!(s.map_or("unvisited", |s| s.status.as_str()));
+            f["properties"]["status"] =
+                serde_json::json!(s.map_or("unvisited", |s| s.status.as_str()));
             f["properties"]["new_clearing"] = serde_json::json!(s.is_some_and(|s| s.new_clearing));
             f["properties"]["cause"] = serde_json::json!(s.and_then(|s| s.cause.clone()));
             f["properties"]["reports_counted"] = serde_json::json!(counted.len());

@@ -66,7 +66,7 @@ pub fn point_segment_m(lat: f64, lon: f64, a: (f64, f64), b: (f64, f64)) -> f64 
     let (len, azi, _, _): (f64, f64, f64, f64) = g.inverse(a.1, a.0, b.1, b.0);
     let da = geodesic_m(lat, lon, a.1, a.0);
     let db = geodesic_m(lat, lon, b.1, b.0);
-    if !(len > 0.0) {
+    if len.is_nan() || len <= 0.0 {
         return da.min(db);
     }
     let at = |t: f64| {
@@ -203,7 +203,10 @@ pub fn check_photo(ctx: &CheckContext, p: &PhotoFacts) -> PhotoVerdict {
 }
 
 /// Checks the reported (lat, lon): its distance to the footprint and the flags.
-pub fn check_position(ctx: &CheckContext, position: Option<(f64, f64)>) -> (Option<f64>, Vec<String>) {
+pub fn check_position(
+    ctx: &CheckContext,
+    position: Option<(f64, f64)>,
+) -> (Option<f64>, Vec<String>) {
     let Some((lat, lon)) = position else {
         return (None, vec!["position_missing".into()]);
     };

@@ -31,7 +31,9 @@ pub const THUMBS_DIR: &str = "thumbs";
 
 /// True for 64 lowercase hex digits (a SHA-256 as we name files).
 pub fn is_sha256(s: &str) -> bool {
-    s.len() == 64 && s.bytes().all(|c| c.is_ascii_digit() || (b'a'..=b'f').contains(&c))
+    s.len() == 64
+        && s.bytes()
+            .all(|c| c.is_ascii_digit() || (b'a'..=b'f').contains(&c))
 }
 
 /// `evidence/ab/<sha>.jpg` under `data_dir`; `sha` must pass [`is_sha256`].
@@ -72,10 +74,7 @@ pub fn move_durably(from: &Path, to: &Path) -> Result<(), IntakeError> {
     std::fs::create_dir_all(dir)
         .map_err(|e| crate::Error::io(format!("creating {}", dir.display()), e))?;
     std::fs::rename(from, to).map_err(|e| {
-        crate::Error::io(
-            format!("moving {} to {}", from.display(), to.display()),
-            e,
-        )
+        crate::Error::io(format!("moving {} to {}", from.display(), to.display()), e)
     })?;
     crate::files::sync_dir(dir)?;
     if let Some(src) = from.parent()
@@ -167,7 +166,9 @@ pub fn cleanup(db: &Db, data_dir: &Path) -> Result<CleanupSummary, IntakeError> 
             .file_name()
             .map(|n| n.to_string_lossy().into_owned())
             .unwrap_or_default();
-        let keep = name.strip_suffix(".part").is_some_and(|id| open.contains(id));
+        let keep = name
+            .strip_suffix(".part")
+            .is_some_and(|id| open.contains(id));
         if !keep {
             remove(&f)?;
             out.upload_files += 1;

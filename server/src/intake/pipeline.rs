@@ -69,12 +69,17 @@ pub struct ReturnDocument {
 
 /// The stored results document of return `return_id`.
 pub fn return_document(db: &Db, return_id: i64) -> Result<ReturnDocument, IntakeError> {
-    let (ret, rows) = db.read(|r| Ok((r.return_by_id(return_id)?, r.return_results(return_id)?)))?;
+    let (ret, rows) =
+        db.read(|r| Ok((r.return_by_id(return_id)?, r.return_results(return_id)?)))?;
     let ret = ret.ok_or_else(|| IntakeError::NotFound(format!("no return {return_id}")))?;
     let mut results = Vec::new();
     let mut unreadable = Vec::new();
     for row in rows {
-        match row.report_id.as_deref().and_then(|s| Uuid::parse_str(s).ok()) {
+        match row
+            .report_id
+            .as_deref()
+            .and_then(|s| Uuid::parse_str(s).ok())
+        {
             Some(report_id) => results.push(ReportResult {
                 report_id,
                 status: row.status,
@@ -166,7 +171,7 @@ fn clearing_square(lon: f64, lat: f64, area_ha: f64) -> geo::MultiPolygon<f64> {
 }
 
 fn footprint_json(mp: &geo::MultiPolygon<f64>) -> String {
-    geojson::Geometry::new(geojson::Value::from(mp)).to_string()
+    geojson::Geometry::new(geojson::GeometryValue::from(mp)).to_string()
 }
 
 struct Context<'a> {
@@ -242,19 +247,31 @@ impl Context<'_> {
         let (kind, event_id, control_code, footprint, first, new_event) = match &r.target {
             Target::Event { code, event_id } => {
                 let Some(item) = self.item(code, "event") else {
-                    return Ok(Verdict::Reject(format!("event {code} is not in bundle {bid}")));
+                    return Ok(Verdict::Reject(format!(
+                        "event {code} is not in bundle {bid}"
+                    )));
                 };
                 if item.event_id != Some(*event_id) {
                     return Ok(Verdict::Reject(format!(
                         "event {code} of bundle {bid} is event id {}, the report names {event_id}",
-                        item.event_id.map(|e| e.to_string()).unwrap_or_else(|| "none".into())
+                        item.event_id
+                            .map(|e| e.to_string())
+                            .unwrap_or_else(|| "none".into())
                     )));
                 }
                 let Some(ev) = self.db.read(|x| x.event_resolved(*event_id))? else {
                     return Ok(Verdict::Reject(format!("unknown event id {event_id}")));
                 };
-                let fp = crate::events::parse_multipolygon(&ev.attrs.footprint).map(Footprint::Area);
-                ("event", Some(*event_id), None, fp, Some(ev.attrs.first.date()), None)
+                let fp =
+                    crate::events::parse_multipolygon(&ev.attrs.footprint).map(Footprint::Area);
+                (
+                    "event",
+                    Some(*event_id),
+                    None,
+                    fp,
+                    Some(ev.attrs.first.date()),
+                    None,
+                )
             }
             Target::Control { code } => {
                 let Some(item) = self.item(code, "control") else {
@@ -286,7 +303,14 @@ impl Context<'_> {
                     corroborated: false,
                     per_source: BTreeMap::new(),
                 });
-                ("new_clearing", None, None, Some(Footprint::Area(mp)), None, write)
+                (
+                    "new_clearing",
+                    None,
+                    None,
+                    Some(Footprint::Area(mp)),
+                    None,
+                    write,
+                )
             }
         };
         let ctx = CheckContext {
@@ -478,7 +502,10 @@ fn run(
     let mut users: BTreeMap<String, BTreeSet<Uuid>> = BTreeMap::new();
     for r in &opened.reports {
         for p in &r.photos {
-            users.entry(p.sha256.clone()).or_default().insert(r.report_id);
+            users
+                .entry(p.sha256.clone())
+                .or_default()
+                .insert(r.report_id);
         }
     }
     let received_at = Utc::now().to_rfc3339();

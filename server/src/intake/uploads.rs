@@ -49,7 +49,8 @@ impl AppendGuard {
     fn take(id: &str) -> Option<AppendGuard> {
         let mut g = APPENDING.lock().unwrap_or_else(|p| p.into_inner());
         let set = g.get_or_insert_with(HashSet::new);
-        set.insert(id.to_string()).then(|| AppendGuard(id.to_string()))
+        set.insert(id.to_string())
+            .then(|| AppendGuard(id.to_string()))
     }
 }
 
@@ -64,7 +65,9 @@ impl Drop for AppendGuard {
 
 /// True for a server-made upload id (32 lowercase hex digits).
 pub fn is_upload_id(s: &str) -> bool {
-    s.len() == 32 && s.bytes().all(|c| c.is_ascii_digit() || (b'a'..=b'f').contains(&c))
+    s.len() == 32
+        && s.bytes()
+            .all(|c| c.is_ascii_digit() || (b'a'..=b'f').contains(&c))
 }
 
 /// The result of [`create`]: the upload, and whether it was made now.
@@ -111,7 +114,10 @@ pub fn create(
                 u.size
             )));
         }
-        return Ok(Created { upload: u, new: false });
+        return Ok(Created {
+            upload: u,
+            new: false,
+        });
     }
     let upload = UploadRecord {
         id: uuid::Uuid::new_v4().simple().to_string(),
@@ -246,7 +252,10 @@ fn sha256_of(path: &Path, len: u64) -> Result<String, IntakeError> {
 }
 
 fn replay(u: &UploadRecord) -> IntakeError {
-    let msg = u.error.clone().unwrap_or_else(|| "the package was refused".into());
+    let msg = u
+        .error
+        .clone()
+        .unwrap_or_else(|| "the package was refused".into());
     match u.error_status {
         Some(403) => IntakeError::Refused(msg),
         _ => IntakeError::Package(msg),
@@ -264,9 +273,9 @@ pub fn complete(
     let u = get(db, id)?;
     match u.state.as_str() {
         "done" => {
-            let rid = u
-                .return_id
-                .ok_or_else(|| IntakeError::Server(crate::Error::Internal("done upload without return".into())))?;
+            let rid = u.return_id.ok_or_else(|| {
+                IntakeError::Server(crate::Error::Internal("done upload without return".into()))
+            })?;
             return return_document(db, rid);
         }
         "failed" => return Err(replay(&u)),
@@ -306,7 +315,15 @@ pub fn complete(
         }
         move_durably(&part, &incoming)?;
     }
-    take_in(db, data_dir, options, &incoming, &u.sha256, u.size, Some(&u))
+    take_in(
+        db,
+        data_dir,
+        options,
+        &incoming,
+        &u.sha256,
+        u.size,
+        Some(&u),
+    )
 }
 
 /// Folder of upload data (for the clean-up and tests).

@@ -12,8 +12,10 @@
 //! `web::block`/`spawn_blocking`.
 
 mod alerts;
+mod auth;
 mod bundles;
 mod events;
+mod pages;
 mod returns;
 mod schema;
 mod sources;
@@ -21,6 +23,7 @@ pub(crate) mod stats;
 mod zones;
 
 pub use alerts::{NewAlert, StoredAlert, alerts_cells, e7};
+pub use auth::{ApiTokenRecord, LoginAttempt, SessionRecord, TeamTokenRecord, User};
 pub use bundles::{BundleItem, BundleRecord, NewBundle, Team};
 pub use events::{EventFilter, EventRecord, EventWrite};
 pub use returns::{

@@ -213,7 +213,8 @@ fn flags_of(text: &str) -> Vec<String> {
     serde_json::from_str(text).unwrap_or_default()
 }
 
-const UPLOAD_COLS: &str = "id, bundle_id, sha256, size, offset_bytes, state, return_id, error, error_status, created_at";
+const UPLOAD_COLS: &str =
+    "id, bundle_id, sha256, size, offset_bytes, state, return_id, error, error_status, created_at";
 
 fn upload_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<UploadRecord> {
     Ok(UploadRecord {
@@ -287,7 +288,14 @@ impl Tx<'_> {
         self.tx.execute(
             "INSERT INTO returns (bundle_id, sha256, size, team, received_at, path)
              VALUES (?1, ?2, ?3, ?4, ?5, ?6)",
-            params![r.bundle_id, r.sha256, r.size as i64, r.team, r.received_at, r.path],
+            params![
+                r.bundle_id,
+                r.sha256,
+                r.size as i64,
+                r.team,
+                r.received_at,
+                r.path
+            ],
         )?;
         Ok(self.tx.last_insert_rowid())
     }
@@ -366,8 +374,10 @@ impl Tx<'_> {
 
     /// Mark an event as found in the field (origin `field`).
     pub fn mark_event_field_found(&self, event_id: i64) -> Result<()> {
-        self.tx
-            .execute("UPDATE events SET origin = 'field' WHERE id = ?1", [event_id])?;
+        self.tx.execute(
+            "UPDATE events SET origin = 'field' WHERE id = ?1",
+            [event_id],
+        )?;
         Ok(())
     }
 }
@@ -527,9 +537,9 @@ impl Reader<'_> {
 
     /// Every stored report, by report id (the facts statistics are built from).
     pub fn report_facts(&self) -> Result<Vec<ReportRow>> {
-        let mut st = self
-            .conn
-            .prepare(&format!("SELECT {REPORT_COLS} FROM reports ORDER BY report_id"))?;
+        let mut st = self.conn.prepare(&format!(
+            "SELECT {REPORT_COLS} FROM reports ORDER BY report_id"
+        ))?;
         let v = st
             .query_map([], report_row)?
             .collect::<rusqlite::Result<Vec<_>>>()?;
@@ -571,6 +581,13 @@ impl Reader<'_> {
                 },
             )
             .optional()?)
+    }
+
+    /// `PRAGMA integrity_check` (`"ok"` when the file is sound).
+    pub fn integrity_check(&self) -> Result<String> {
+        Ok(self
+            .conn
+            .query_row("PRAGMA integrity_check", [], |r| r.get(0))?)
     }
 
     /// SHA-256 of every stored photo.

@@ -122,6 +122,8 @@ const MIGRATIONS: &[&str] = &[
     crate::storage::returns::RETURNS_MIGRATION,
     // 4: adjudications.
     crate::storage::stats::ADJUDICATIONS_MIGRATION,
+    // 5: users, sessions, API and team tokens, login attempts.
+    crate::storage::auth::AUTH_MIGRATION,
 ];
 
 /// The schema version this binary writes.

@@ -81,7 +81,13 @@ pub struct ControlRow {
 }
 
 impl Tx<'_> {
-    pub fn add_adjudication(&self, event_id: i64, outcome: &str, reason: &str, by: &str) -> Result<AdjudicationRow> {
+    pub fn add_adjudication(
+        &self,
+        event_id: i64,
+        outcome: &str,
+        reason: &str,
+        by: &str,
+    ) -> Result<AdjudicationRow> {
         let at = chrono::Utc::now().to_rfc3339();
         self.tx.execute(
             "INSERT INTO adjudications (event_id, outcome, reason, decided_by, decided_at) VALUES (?1, ?2, ?3, ?4, ?5)",
@@ -100,7 +106,12 @@ impl Tx<'_> {
 
 fn split(s: Option<String>) -> Vec<String> {
     let mut v: Vec<String> = s
-        .map(|z| z.split('\u{1f}').filter(|x| !x.is_empty()).map(str::to_string).collect())
+        .map(|z| {
+            z.split('\u{1f}')
+                .filter(|x| !x.is_empty())
+                .map(str::to_string)
+                .collect()
+        })
         .unwrap_or_default();
     v.sort();
     v.dedup();
@@ -127,14 +138,17 @@ impl Reader<'_> {
         let rows = st
             .query_map([], |r| {
                 let per_source: String = r.get(6)?;
-                let sources: Vec<String> = serde_json::from_str::<std::collections::BTreeMap<String, u32>>(&per_source)
-                    .map(|m| m.into_keys().collect())
-                    .unwrap_or_default();
+                let sources: Vec<String> =
+                    serde_json::from_str::<std::collections::BTreeMap<String, u32>>(&per_source)
+                        .map(|m| m.into_keys().collect())
+                        .unwrap_or_default();
                 let sample: Option<String> = r.get(10)?;
                 let sample = sample.and_then(|s| {
                     let p: Vec<&str> = s.split('\u{1f}').collect();
                     match p.as_slice() {
-                        [name, prob, pop] => Some((name.to_string(), prob.parse().ok()?, pop.parse().ok()?)),
+                        [name, prob, pop] => {
+                            Some((name.to_string(), prob.parse().ok()?, pop.parse().ok()?))
+                        }
                         _ => None,
                     }
                 });
@@ -158,7 +172,9 @@ impl Reader<'_> {
 
     /// Where merged events went: id → the live event that holds it now.
     pub fn merge_map(&self) -> Result<HashMap<i64, i64>> {
-        let mut st = self.conn.prepare("SELECT id, merged_into FROM events WHERE merged_into IS NOT NULL")?;
+        let mut st = self
+            .conn
+            .prepare("SELECT id, merged_into FROM events WHERE merged_into IS NOT NULL")?;
         let direct: HashMap<i64, i64> = st
             .query_map([], |r| Ok((r.get(0)?, r.get(1)?)))?
             .collect::<rusqlite::Result<_>>()?;
@@ -240,14 +256,23 @@ impl Reader<'_> {
              WHERE i.kind = 'control' AND b.cancelled_at IS NULL ORDER BY i.bundle_id, i.code",
         )?;
         let v = st
-            .query_map([], |r| Ok(ControlRow { bundle_id: r.get(0)?, code: r.get(1)?, lon: r.get(2)?, lat: r.get(3)? }))?
+            .query_map([], |r| {
+                Ok(ControlRow {
+                    bundle_id: r.get(0)?,
+                    code: r.get(1)?,
+                    lon: r.get(2)?,
+                    lat: r.get(3)?,
+                })
+            })?
             .collect::<rusqlite::Result<Vec<_>>>()?;
         Ok(v)
     }
 
     /// Issue time of every bundle not cancelled.
     pub fn bundle_issue_times(&self) -> Result<Vec<(String, String)>> {
-        let mut st = self.conn.prepare("SELECT id, issued_at FROM bundles WHERE cancelled_at IS NULL")?;
+        let mut st = self
+            .conn
+            .prepare("SELECT id, issued_at FROM bundles WHERE cancelled_at IS NULL")?;
         let v = st
             .query_map([], |r| Ok((r.get(0)?, r.get(1)?)))?
             .collect::<rusqlite::Result<Vec<_>>>()?;

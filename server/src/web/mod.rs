@@ -3,8 +3,11 @@
 //! `web::block`, and map [`crate::Error`] to status codes in one place
 //! ([`error`]).
 
+mod access;
 pub mod api;
 mod error;
+mod login;
+pub mod pages;
 
 use crate::settings::Settings;
 use crate::storage::Db;
@@ -32,7 +35,11 @@ pub fn configure(cfg: &mut web::ServiceConfig) {
         .app_data(web::JsonConfig::default().limit(MAX_JSON_BYTES))
         .app_data(web::QueryConfig::default().error_handler(error::query_error))
         .service(web::scope("/api/v1").configure(api::configure))
-        .route("/healthz", web::get().to(api::health));
+        .route("/healthz", web::get().to(api::health))
+        .route("/login", web::get().to(login::form))
+        .route("/login", web::post().to(login::submit))
+        .route("/logout", web::post().to(login::logout))
+        .configure(pages::configure);
 }
 
 /// Start serving on an already bound listener (port 0 in tests).
@@ -41,6 +48,7 @@ pub fn run(listener: TcpListener, state: AppState) -> std::io::Result<Server> {
     let server = HttpServer::new(move || {
         App::new()
             .app_data(data.clone())
+            .wrap(actix_web::middleware::from_fn(access::enforce))
             .wrap(actix_web::middleware::Logger::new("%r %s %b %Dms"))
             .configure(configure)
     })
@@ -48,4 +56,13 @@ pub fn run(listener: TcpListener, state: AppState) -> std::io::Result<Server> {
     .listen(listener)?
     .run();
     Ok(server)
+}
+
+/// Escape text for HTML.
+pub fn html_escape(s: &str) -> String {
+    s.replace('&', "&amp;")
+        .replace('<', "&lt;")
+        .replace('>', "&gt;")
+        .replace('"', "&quot;")
+        .replace('\'', "&#39;")
 }

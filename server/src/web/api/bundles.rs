@@ -146,9 +146,26 @@ pub async fn issue(
         .json(json!({"bundle": out, "download": format!("/api/v1/bundles/{id}/download")})))
 }
 
-pub async fn list(state: web::Data<AppState>) -> Result<HttpResponse, ApiError> {
+/// The team a request speaks for, when it holds a team token.
+fn team_of(req: &actix_web::HttpRequest) -> Option<String> {
+    use actix_web::HttpMessage;
+    match req.extensions().get::<crate::auth::Identity>() {
+        Some(crate::auth::Identity::Team { team_name, .. }) => Some(team_name.clone()),
+        _ => None,
+    }
+}
+
+pub async fn list(
+    req: actix_web::HttpRequest,
+    state: web::Data<AppState>,
+) -> Result<HttpResponse, ApiError> {
     let db = state.db.clone();
-    Ok(HttpResponse::Ok().json(web::block(move || db.read(|r| r.bundles())).await??))
+    let mut v = web::block(move || db.read(|r| r.bundles())).await??;
+    // A team token sees only its own team's bundles, and not cancelled ones.
+    if let Some(team) = team_of(&req) {
+        v.retain(|b| b.team == team && b.cancelled_at.is_none());
+    }
+    Ok(HttpResponse::Ok().json(v))
 }
 
 fn bundle_id(raw: &str) -> Result<String, Error> {
@@ -175,16 +192,21 @@ pub async fn one(
 }
 
 pub async fn download(
+    req: actix_web::HttpRequest,
     state: web::Data<AppState>,
     path: web::Path<String>,
 ) -> Result<HttpResponse, ApiError> {
     let id = bundle_id(&path)?;
+    let team = team_of(&req);
     let state = state.into_inner();
     let (name, bytes) = web::block(move || {
         let b = state
             .db
             .read(|r| r.bundle(&id))?
             .ok_or_else(|| Error::NotFound(format!("no bundle {id}")))?;
+        if team.as_ref().is_some_and(|t| t != &b.team) {
+            return Err(Error::NotFound(format!("no bundle {id}")));
+        }
         if b.cancelled_at.is_some() {
             return Err(Error::Conflict(format!("bundle {id} was cancelled")));
         }

@@ -5,6 +5,7 @@ pub mod bundles;
 mod events;
 mod sources;
 mod stats;
+pub mod uploads;
 mod zones;
 
 use actix_web::{HttpResponse, web};
@@ -20,15 +21,22 @@ pub fn configure(cfg: &mut web::ServiceConfig) {
         .route("/stats", web::get().to(stats::all))
         .route("/stats/{name}", web::get().to(stats::one))
         .route("/disputes", web::get().to(stats::disputes))
-        .route("/events/{id}/adjudications", web::post().to(stats::adjudicate))
-        .route("/exports/events.geojson", web::get().to(stats::export_events))
+        .route(
+            "/events/{id}/adjudications",
+            web::post().to(stats::adjudicate),
+        )
+        .route(
+            "/exports/events.geojson",
+            web::get().to(stats::export_events),
+        )
         .route("/teams", web::get().to(bundles::teams))
         .route("/teams", web::post().to(bundles::add_team))
         .route("/bundles", web::get().to(bundles::list))
         .route("/bundles", web::post().to(bundles::issue))
         .route("/bundles/{id}", web::get().to(bundles::one))
         .route("/bundles/{id}/download", web::get().to(bundles::download))
-        .route("/bundles/{id}/cancel", web::post().to(bundles::cancel));
+        .route("/bundles/{id}/cancel", web::post().to(bundles::cancel))
+        .configure(uploads::configure);
 }
 
 pub async fn health() -> HttpResponse {

@@ -44,20 +44,29 @@ fn parse(q: &StatsQuery) -> Result<(StatsFilter, FigureOptions), Error> {
         source: q.source.clone(),
     };
     let as_of = match day("as_of", &q.as_of)? {
-        Some(d) => d.date().and_hms_opt(23, 59, 59).map(|t| t.and_utc()).unwrap_or_else(chrono::Utc::now),
+        Some(d) => d
+            .date()
+            .and_hms_opt(23, 59, 59)
+            .map(|t| t.and_utc())
+            .unwrap_or_else(chrono::Utc::now),
         None => chrono::Utc::now(),
     };
     let mut opts = FigureOptions::new(as_of);
     if let Some(w) = q.within_days {
         if !(w.is_finite() && w > 0.0 && w <= 3650.0) {
-            return Err(Error::Invalid(format!("parameter 'within_days': {w} is not in (0, 3650]")));
+            return Err(Error::Invalid(format!(
+                "parameter 'within_days': {w} is not in (0, 3650]"
+            )));
         }
         opts.within_days = w;
     }
     Ok((filter, opts))
 }
 
-pub async fn all(state: web::Data<AppState>, q: web::Query<StatsQuery>) -> Result<HttpResponse, ApiError> {
+pub async fn all(
+    state: web::Data<AppState>,
+    q: web::Query<StatsQuery>,
+) -> Result<HttpResponse, ApiError> {
     let (filter, opts) = parse(&q)?;
     let db = state.db.clone();
     let f = web::block(move || figures(&db, &filter, &opts)).await??;
@@ -74,15 +83,23 @@ pub async fn one(
     let csv = match q.format.as_deref() {
         None | Some("json") => false,
         Some("csv") => true,
-        Some(o) => return Err(Error::Invalid(format!("parameter 'format': '{o}' is not json or csv")).into()),
+        Some(o) => {
+            return Err(
+                Error::Invalid(format!("parameter 'format': '{o}' is not json or csv")).into(),
+            );
+        }
     };
     let db = state.db.clone();
     let f = web::block(move || figures(&db, &filter, &opts)).await??;
     if csv {
-        let body = table(&f, &name)?.ok_or_else(|| Error::NotFound(format!("no CSV table '{name}'")))?;
+        let body =
+            table(&f, &name)?.ok_or_else(|| Error::NotFound(format!("no CSV table '{name}'")))?;
         return Ok(HttpResponse::Ok()
             .content_type("text/csv; charset=utf-8")
-            .insert_header(("Content-Disposition", format!("attachment; filename=\"{name}.csv\"")))
+            .insert_header((
+                "Content-Disposition",
+                format!("attachment; filename=\"{name}.csv\""),
+            ))
             .body(body));
     }
     let v: Value = match name.as_str() {
@@ -128,7 +145,9 @@ pub async fn adjudicate(
     path: web::Path<String>,
     body: web::Json<AdjudicationBody>,
 ) -> Result<HttpResponse, ApiError> {
-    let id: i64 = path.parse().map_err(|_| Error::Invalid(format!("event id '{path}' is not a number")))?;
+    let id: i64 = path
+        .parse()
+        .map_err(|_| Error::Invalid(format!("event id '{path}' is not a number")))?;
     let b = body.into_inner();
     if crate::dashboard::parse_outcome(&b.outcome).is_none() {
         return Err(Error::Invalid(format!(
@@ -138,7 +157,9 @@ pub async fn adjudicate(
         .into());
     }
     if b.reason.trim().is_empty() || b.reason.chars().count() > 2000 {
-        return Err(Error::Invalid("field 'reason': say why, in 1 to 2000 characters".into()).into());
+        return Err(
+            Error::Invalid("field 'reason': say why, in 1 to 2000 characters".into()).into(),
+        );
     }
     if b.by.trim().is_empty() || b.by.chars().count() > 100 {
         return Err(Error::Invalid("field 'by': who decided, 1 to 100 characters".into()).into());
@@ -157,9 +178,15 @@ pub async fn adjudicate(
 /// Events with their status and an evidence summary, as GeoJSON.
 pub async fn export_events(state: web::Data<AppState>) -> Result<HttpResponse, ApiError> {
     let state = state.into_inner();
-    let body = web::block(move || crate::dashboard::events_with_status(&state.db, &state.settings.priority)).await??;
+    let body = web::block(move || {
+        crate::dashboard::events_with_status(&state.db, &state.settings.priority)
+    })
+    .await??;
     Ok(HttpResponse::Ok()
         .content_type("application/geo+json")
-        .insert_header(("Content-Disposition", "attachment; filename=\"events.geojson\""))
+        .insert_header((
+            "Content-Disposition",
+            "attachment; filename=\"events.geojson\"",
+        ))
         .json(body))
 }

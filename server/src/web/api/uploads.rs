@@ -1,0 +1,341 @@
+//! Field returns over HTTP (RETURN-SPEC):
+//! `POST /api/v1/uploads`, `HEAD`/`PATCH /api/v1/uploads/{id}`,
+//! `POST /api/v1/uploads/{id}/complete`, `GET /api/v1/returns/{id}`,
+//! `POST /api/v1/returns` (a whole package in one body: the station's
+//! browser or USB path), `GET /api/v1/events/{id}/reports`,
+//! `GET /api/v1/photos/{sha}/thumbnail` and `/original`.
+//!
+//! Bounds: a PATCH body is read up to 8 MiB (counted while streaming, not
+//! taken from `Content-Length`), a whole package up to 1 GiB; see
+//! [`crate::intake::uploads`]. A team may send `Authorization: Bearer`; it
+//! is not required yet: the package's HMAC signature is the gate.
+
+use crate::intake::uploads::{self, IncomingFile, MAX_APPEND_BYTES};
+use crate::intake::{IntakeError, IntakeOptions, files};
+use crate::web::AppState;
+use actix_web::http::StatusCode;
+use actix_web::{HttpRequest, HttpResponse, ResponseError, web};
+use futures_util::StreamExt;
+use serde::Deserialize;
+use serde_json::json;
+
+/// The HTTP face of [`IntakeError`].
+#[derive(Debug)]
+pub struct IntakeHttpError(pub IntakeError);
+
+impl std::fmt::Display for IntakeHttpError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        self.0.fmt(f)
+    }
+}
+
+impl From<IntakeError> for IntakeHttpError {
+    fn from(e: IntakeError) -> Self {
+        IntakeHttpError(e)
+    }
+}
+
+impl From<crate::Error> for IntakeHttpError {
+    fn from(e: crate::Error) -> Self {
+        IntakeHttpError(IntakeError::Server(e))
+    }
+}
+
+impl From<actix_web::error::BlockingError> for IntakeHttpError {
+    fn from(_: actix_web::error::BlockingError) -> Self {
+        IntakeHttpError(IntakeError::Server(crate::Error::Internal(
+            "the server is shutting down".into(),
+        )))
+    }
+}
+
+impl ResponseError for IntakeHttpError {
+    fn status_code(&self) -> StatusCode {
+        StatusCode::from_u16(self.0.status()).unwrap_or(StatusCode::INTERNAL_SERVER_ERROR)
+    }
+
+    fn error_response(&self) -> HttpResponse {
+        let status = self.status_code();
+        let mut b = HttpResponse::build(status);
+        if let IntakeError::OffsetMismatch { offset, .. } | IntakeError::Busy { offset } = &self.0 {
+            b.insert_header(("Upload-Offset", offset.to_string()));
+        }
+        if status.is_server_error() {
+            tracing::error!(error = %self.0, "intake request failed");
+            return b.json(json!({"error": "internal error; see the server log"}));
+        }
+        b.json(json!({"error": self.0.to_string()}))
+    }
+}
+
+type Reply = Result<HttpResponse, IntakeHttpError>;
+
+/// The body of `POST /api/v1/uploads`.
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct CreateBody {
+    bundle_id: String,
+    size: u64,
+    sha256: String,
+}
+
+fn bundle_id(raw: &str) -> Result<String, IntakeError> {
+    uuid::Uuid::parse_str(raw)
+        .map(|u| u.to_string())
+        .map_err(|_| IntakeError::Invalid(format!("bundle id '{raw}' is not a UUID")))
+}
+
+pub async fn create(state: web::Data<AppState>, body: web::Json<CreateBody>) -> Reply {
+    let b = body.into_inner();
+    let bid = bundle_id(&b.bundle_id)?;
+    let st = state.into_inner();
+    let c = web::block(move || {
+        uploads::create(
+            &st.db,
+            &st.data_dir,
+            &IntakeOptions::default(),
+            &bid,
+            b.size,
+            &b.sha256,
+        )
+    })
+    .await??;
+    let u = &c.upload;
+    let done = u.state != "open";
+    let mut resp = if c.new && !done {
+        HttpResponse::Created()
+    } else {
+        HttpResponse::Ok()
+    };
+    resp.insert_header(("Location", format!("/api/v1/uploads/{}", u.id)))
+        .insert_header(("Upload-Offset", u.offset.to_string()))
+        .insert_header(("Upload-Length", u.size.to_string()));
+    let body = if done {
+        json!({"upload_id": u.id, "offset": u.size, "complete": true})
+    } else {
+        json!({"upload_id": u.id, "offset": u.offset})
+    };
+    Ok(resp.json(body))
+}
+
+pub async fn head(state: web::Data<AppState>, path: web::Path<String>) -> Reply {
+    let id = path.into_inner();
+    let db = state.db.clone();
+    let u = web::block(move || uploads::get(&db, &id)).await??;
+    let offset = if u.state == "open" { u.offset } else { u.size };
+    Ok(HttpResponse::NoContent()
+        .insert_header(("Upload-Offset", offset.to_string()))
+        .insert_header(("Upload-Length", u.size.to_string()))
+        .insert_header((
+            "Upload-Complete",
+            if u.state == "open" { "?0" } else { "?1" },
+        ))
+        .insert_header(("Cache-Control", "no-store"))
+        .finish())
+}
+
+fn header_u64(req: &HttpRequest, name: &str) -> Result<u64, IntakeError> {
+    req.headers()
+        .get(name)
+        .and_then(|v| v.to_str().ok())
+        .and_then(|s| s.trim().parse().ok())
+        .ok_or_else(|| IntakeError::Invalid(format!("header {name} is missing or not a number")))
+}
+
+pub async fn patch(
+    state: web::Data<AppState>,
+    path: web::Path<String>,
+    req: HttpRequest,
+    mut payload: web::Payload,
+) -> Reply {
+    let id = path.into_inner();
+    let offset = header_u64(&req, "Upload-Offset")?;
+    let ct = req
+        .headers()
+        .get("Content-Type")
+        .and_then(|v| v.to_str().ok())
+        .unwrap_or("");
+    if !ct.starts_with("application/partial-upload")
+        && !ct.starts_with("application/offset+octet-stream")
+    {
+        return Err(
+            IntakeError::Invalid("Content-Type must be application/partial-upload".into()).into(),
+        );
+    }
+    // Read the body, bounded; on a cut connection keep what arrived.
+    let mut buf: Vec<u8> = Vec::new();
+    let mut broken: Option<String> = None;
+    while let Some(chunk) = payload.next().await {
+        match chunk {
+            Ok(c) => {
+                if buf.len() + c.len() > MAX_APPEND_BYTES {
+                    return Err(IntakeError::TooLarge(format!(
+                        "an append is at most {MAX_APPEND_BYTES} bytes"
+                    ))
+                    .into());
+                }
+                buf.extend_from_slice(&c);
+            }
+            Err(e) => {
+                broken = Some(e.to_string());
+                break;
+            }
+        }
+    }
+    let st = state.into_inner();
+    let new =
+        web::block(move || uploads::append(&st.db, &st.data_dir, &id, offset, &buf)).await??;
+    if let Some(e) = broken {
+        tracing::info!(offset = new, error = %e, "append interrupted; kept the bytes that arrived");
+        return Err(IntakeError::Invalid(format!("the request body was cut: {e}")).into());
+    }
+    Ok(HttpResponse::NoContent()
+        .insert_header(("Upload-Offset", new.to_string()))
+        .finish())
+}
+
+pub async fn complete(state: web::Data<AppState>, path: web::Path<String>) -> Reply {
+    let id = path.into_inner();
+    let st = state.into_inner();
+    let doc =
+        web::block(move || uploads::complete(&st.db, &st.data_dir, &IntakeOptions::default(), &id))
+            .await??;
+    Ok(HttpResponse::Ok().json(doc))
+}
+
+pub async fn get_return(state: web::Data<AppState>, path: web::Path<String>) -> Reply {
+    let raw = path.into_inner();
+    let id: i64 = raw
+        .parse()
+        .map_err(|_| IntakeError::NotFound(format!("no return {raw}")))?;
+    let db = state.db.clone();
+    let doc = web::block(move || crate::intake::return_document(&db, id)).await??;
+    Ok(HttpResponse::Ok().json(doc))
+}
+
+/// Bytes gathered before one blocking write of a whole-package body.
+const WRITE_BATCH: usize = 4 << 20;
+
+pub async fn post_return(state: web::Data<AppState>, mut payload: web::Payload) -> Reply {
+    let options = IntakeOptions::default();
+    let max = options.return_limits.max_file_bytes;
+    let st = state.into_inner();
+    let dir = st.data_dir.clone();
+    let mut file = web::block(move || IncomingFile::new(&dir, max)).await??;
+    let mut batch: Vec<u8> = Vec::new();
+    loop {
+        let next = payload.next().await;
+        let end = next.is_none();
+        if let Some(chunk) = next {
+            let c = chunk
+                .map_err(|e| IntakeError::Invalid(format!("the request body was cut: {e}")))?;
+            batch.extend_from_slice(&c);
+        }
+        if batch.len() >= WRITE_BATCH || (end && !batch.is_empty()) {
+            let bytes = std::mem::take(&mut batch);
+            file = web::block(move || file.write(&bytes).map(|()| file)).await??;
+        }
+        if end {
+            break;
+        }
+    }
+    let doc =
+        web::block(move || uploads::take_in_whole(&st.db, &st.data_dir, &options, file)).await??;
+    Ok(HttpResponse::Ok().json(doc))
+}
+
+pub async fn event_reports(state: web::Data<AppState>, path: web::Path<String>) -> Reply {
+    let raw = path.into_inner();
+    let id: i64 = raw
+        .parse()
+        .map_err(|_| IntakeError::NotFound(format!("no event {raw}")))?;
+    let db = state.db.clone();
+    let out = web::block(move || {
+        db.read(|r| {
+            if r.event_resolved(id)?.is_none() {
+                return Ok(None);
+            }
+            let mut list = Vec::new();
+            for rep in r.event_reports(id)? {
+                let photos = r.report_photos(&rep.report_id)?;
+                let checks = r.photo_checks(&rep.report_id)?;
+                let photos: Vec<_> = photos
+                    .iter()
+                    .map(|p| {
+                        let c = checks.iter().find(|c| c.sha256 == p.sha256);
+                        json!({
+                            "sha256": p.sha256,
+                            "original_name": p.original_name,
+                            "thumbnail": format!("/api/v1/photos/{}/thumbnail", p.sha256),
+                            "original": format!("/api/v1/photos/{}/original", p.sha256),
+                            "check": c,
+                        })
+                    })
+                    .collect();
+                list.push(json!({"report": rep, "photos": photos}));
+            }
+            Ok(Some(list))
+        })
+    })
+    .await??;
+    match out {
+        Some(list) => Ok(HttpResponse::Ok().json(json!({"event_id": id, "reports": list}))),
+        None => Err(IntakeError::NotFound(format!("no event {id}")).into()),
+    }
+}
+
+async fn photo_file(state: web::Data<AppState>, sha: String, thumb: bool) -> Reply {
+    if !files::is_sha256(&sha) {
+        return Err(IntakeError::NotFound(format!("no photo {sha}")).into());
+    }
+    let st = state.into_inner();
+    let shac = sha.clone();
+    let bytes = web::block(move || {
+        if st.db.read(|r| r.photo(&shac))?.is_none() {
+            return Err(IntakeError::NotFound(format!("no photo {shac}")));
+        }
+        let p = if thumb {
+            files::thumb_path(&st.data_dir, &shac)
+        } else {
+            files::photo_path(&st.data_dir, &shac)
+        };
+        std::fs::read(&p)
+            .map_err(|e| crate::Error::io(format!("reading {}", p.display()), e).into())
+    })
+    .await??;
+    let name = if thumb {
+        format!("{sha}-thumbnail.jpg")
+    } else {
+        format!("{sha}.jpg")
+    };
+    Ok(HttpResponse::Ok()
+        .content_type("image/jpeg")
+        .insert_header(("X-Content-Type-Options", "nosniff"))
+        .insert_header((
+            "Content-Disposition",
+            format!("inline; filename=\"{name}\""),
+        ))
+        .insert_header(("Cache-Control", "private, max-age=31536000, immutable"))
+        .body(bytes))
+}
+
+pub async fn thumbnail(state: web::Data<AppState>, path: web::Path<String>) -> Reply {
+    photo_file(state, path.into_inner(), true).await
+}
+
+pub async fn original(state: web::Data<AppState>, path: web::Path<String>) -> Reply {
+    photo_file(state, path.into_inner(), false).await
+}
+
+/// Register the routes of this module (inside the `/api/v1` scope).
+pub fn configure(cfg: &mut web::ServiceConfig) {
+    cfg.route("/uploads", web::post().to(create))
+        .route("/uploads/{id}", web::head().to(head))
+        .route("/uploads/{id}", web::patch().to(patch))
+        .route("/uploads/{id}/complete", web::post().to(complete))
+        .route("/returns", web::post().to(post_return))
+        .route("/returns/{id}", web::get().to(get_return))
+        .route("/events/{id}/reports", web::get().to(event_reports))
+        .route("/photos/{sha}/thumbnail", web::get().to(thumbnail))
+        .route("/photos/{sha}/original", web::get().to(original));
+}

@@ -1,0 +1,140 @@
+//! Static assets of the pages, embedded in the binary and served from
+//! `/static/`: the style sheet only (the pages need no script). The test
+//! here holds the style sheet to its own rule: every rule that sets a text
+//! `color` sets its `background-color` too, and each pair passes WCAG AA.
+
+use actix_web::{HttpResponse, web};
+
+/// The style sheet (`server/static/app.css`).
+pub const APP_CSS: &str = include_str!("../../../static/app.css");
+
+/// `GET /static/{name}`.
+pub async fn asset(path: web::Path<String>) -> HttpResponse {
+    match path.as_str() {
+        "app.css" => HttpResponse::Ok()
+            .content_type("text/css; charset=utf-8")
+            .insert_header(("Cache-Control", "public, max-age=300"))
+            .body(APP_CSS),
+        _ => HttpResponse::NotFound()
+            .content_type("text/plain; charset=utf-8")
+            .body("no such asset"),
+    }
+}
+
+/// One CSS rule's selector and its `color` / `background-color` values.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ColourRule {
+    pub selector: String,
+    pub color: Option<String>,
+    pub background: Option<String>,
+}
+
+/// The rules of a (flat or `@media`-nested) style sheet that set `color`
+/// or `background-color`. Comments are dropped; `@media` blocks are read
+/// as if their rules stood at the top level.
+pub fn colour_rules(css: &str) -> Vec<ColourRule> {
+    let mut text = String::new();
+    let mut rest = css;
+    while let Some(i) = rest.find("/*") {
+        text.push_str(&rest[..i]);
+        rest = rest[i + 2..]
+            .find("*/")
+            .map_or("", |j| &rest[i + 2 + j + 2..]);
+    }
+    text.push_str(rest);
+    let mut out = Vec::new();
+    let mut selector = String::new();
+    let mut chars = text.chars().peekable();
+    while let Some(c) = chars.next() {
+        match c {
+            '{' => {
+                let sel = selector.trim().to_string();
+                selector.clear();
+                if sel.starts_with('@') {
+                    continue; // descend into @media: its rules follow
+                }
+                let mut body = String::new();
+                for d in chars.by_ref() {
+                    if d == '}' {
+                        break;
+                    }
+                    body.push(d);
+                }
+                let mut rule = ColourRule {
+                    selector: sel,
+                    color: None,
+                    background: None,
+                };
+                for decl in body.split(';') {
+                    if let Some((k, v)) = decl.split_once(':') {
+                        match k.trim() {
+                            "color" => rule.color = Some(v.trim().to_string()),
+                            "background-color" | "background" => {
+                                rule.background = Some(v.trim().to_string())
+                            }
+                            _ => {}
+                        }
+                    }
+                }
+                if rule.color.is_some() || rule.background.is_some() {
+                    out.push(rule);
+                }
+            }
+            '}' => selector.clear(),
+            _ => selector.push(c),
+        }
+    }
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::charts::{Rgb, contrast_ratio};
+
+    #[test]
+    fn contrast_ratio_matches_the_wcag_definition() {
+        // WCAG 2.x: black on white is 21:1; #767676 on white is about 4.54:1
+        // (the lightest grey that passes AA, common practice).
+        let white = Rgb(255, 255, 255);
+        assert!((contrast_ratio(Rgb(0, 0, 0), white) - 21.0).abs() < 1e-9);
+        let r = contrast_ratio(Rgb(0x76, 0x76, 0x76), white);
+        assert!((r - 4.54).abs() < 0.01, "{r}");
+        assert!(contrast_ratio(Rgb(0x77, 0x77, 0x77), white) < 4.5);
+    }
+
+    #[test]
+    fn the_parser_finds_pairs_in_media_blocks_and_skips_comments() {
+        let css = "/* a { color: #ffffff; } */ p { color: #111111; background-color: #eeeeee; }\n\
+                   @media print { h1 { color: #000000; background: #ffffff } }";
+        let rules = colour_rules(css);
+        assert_eq!(rules.len(), 2, "{rules:?}");
+        assert_eq!(rules[0].selector, "p");
+        assert_eq!(rules[1].selector, "h1");
+        assert_eq!(rules[1].background.as_deref(), Some("#ffffff"));
+    }
+
+    #[test]
+    fn every_text_colour_of_the_style_sheet_passes_wcag_aa() {
+        let rules = colour_rules(APP_CSS);
+        let with_text: Vec<&ColourRule> = rules.iter().filter(|r| r.color.is_some()).collect();
+        assert!(
+            with_text.len() > 20,
+            "the parser found the rules: {}",
+            with_text.len()
+        );
+        for r in with_text {
+            let fg = r.color.as_deref().and_then(Rgb::from_hex);
+            let bg = r.background.as_deref().and_then(Rgb::from_hex);
+            let (Some(fg), Some(bg)) = (fg, bg) else {
+                panic!(
+                    "rule '{}' must set color and background-color as #rrggbb: {r:?}",
+                    r.selector
+                );
+            };
+            let ratio = contrast_ratio(fg, bg);
+            // WCAG 2.1 success criterion 1.4.3 (AA): at least 4.5:1 for text.
+            assert!(ratio >= 4.5, "'{}' has contrast {ratio:.2}:1", r.selector);
+        }
+    }
+}

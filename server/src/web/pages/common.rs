@@ -1,0 +1,384 @@
+//! What every page shares: who is asking (from the request extensions the
+//! auth layer sets), the access check, the layout fields of
+//! `templates/base.html`, the page error type and its HTML rendering, and
+//! small text formatters.
+//!
+//! Access: when the auth layer has put a [`Principal`] (or an
+//! [`Identity`]) on the request, every page checks
+//! [`crate::auth::allowed`] for its action and answers 403 with a page
+//! otherwise. With neither (auth not wired, as in the API today) pages are
+//! open, like the API.
+
+use crate::auth::{Action, Identity, Principal, allowed};
+use actix_web::http::StatusCode;
+use actix_web::{HttpMessage, HttpRequest, HttpResponse};
+use askama::Template;
+
+/// Largest text field of a form, bytes (our choice: names, dates, numbers
+/// and a 2,000-character reason fit).
+pub const MAX_TEXT_FIELD_BYTES: usize = 8 * 1024;
+
+/// Who is asking.
+#[derive(Debug, Clone, PartialEq, Eq, Default)]
+pub struct Viewer {
+    /// The user (or token label, or team) name, when known.
+    pub name: Option<String>,
+    /// The access-matrix column; `None` when no auth layer ran.
+    pub principal: Option<Principal>,
+}
+
+impl Viewer {
+    /// Read the viewer from the request extensions (an [`Identity`] first,
+    /// for its name; else a bare [`Principal`]).
+    pub fn of(req: &HttpRequest) -> Viewer {
+        let ext = req.extensions();
+        if let Some(id) = ext.get::<Identity>() {
+            let name = match id {
+                Identity::User { name, .. } => Some(name.clone()),
+                Identity::ApiToken { label, .. } => Some(label.clone()),
+                Identity::Team { team_name, .. } => Some(team_name.clone()),
+                Identity::Anonymous => None,
+            };
+            return Viewer {
+                name,
+                principal: Some(id.principal()),
+            };
+        }
+        Viewer {
+            name: None,
+            principal: ext.get::<Principal>().copied(),
+        }
+    }
+
+    /// May this viewer do `action`? (Open when no auth layer ran.)
+    pub fn may(&self, action: Action) -> bool {
+        self.principal.is_none_or(|p| allowed(p, action))
+    }
+
+    /// `Err` with a 403 page error unless the viewer may do `action`.
+    pub fn require(&self, action: Action) -> Result<(), PageError> {
+        if self.may(action) {
+            return Ok(());
+        }
+        let who = self.principal.map_or("anonymous", Principal::as_str);
+        let status = if self.principal == Some(Principal::Anonymous) {
+            StatusCode::UNAUTHORIZED
+        } else {
+            StatusCode::FORBIDDEN
+        };
+        Err(PageError::new(
+            status,
+            format!(
+                "Your role ({who}) may not {}. Ask an administrator if you need to.",
+                action.describe()
+            ),
+        ))
+    }
+}
+
+/// The pages of the navigation bar: (path, label, action needed).
+pub const NAV: [(&str, &str, Action); 6] = [
+    ("/events", "Events", Action::ViewEvents),
+    ("/import", "Import", Action::ImportAlerts),
+    ("/trips", "Trips", Action::ViewEvents),
+    ("/station", "Station upload", Action::UploadReturn),
+    ("/dashboard", "Dashboard", Action::ViewStatistics),
+    ("/disputes", "Disputes", Action::ViewStatistics),
+];
+
+/// One link of the navigation bar.
+pub struct NavItem {
+    pub href: &'static str,
+    pub label: &'static str,
+    pub current: bool,
+}
+
+/// The fields `templates/base.html` reads.
+pub struct Layout {
+    pub title: String,
+    pub nav: Vec<NavItem>,
+    pub user: Option<String>,
+    pub role: Option<String>,
+    /// The CSRF hidden field (HTML), empty when there is no session.
+    pub csrf: String,
+}
+
+impl Layout {
+    pub fn new(req: &HttpRequest, viewer: &Viewer, title: &str, current: &str) -> Layout {
+        Layout {
+            title: title.to_string(),
+            nav: NAV
+                .iter()
+                .filter(|(_, _, a)| viewer.may(*a))
+                .map(|(href, label, _)| NavItem {
+                    href,
+                    label,
+                    current: *href == current,
+                })
+                .collect(),
+            user: viewer.name.clone(),
+            role: viewer.principal.map(|p| p.as_str().to_string()),
+            csrf: super::csrf_field(req),
+        }
+    }
+}
+
+/// Why a page could not be shown; rendered as an HTML page with the status.
+#[derive(Debug, thiserror::Error)]
+#[error("{message}")]
+pub struct PageError {
+    pub status: StatusCode,
+    pub message: String,
+    /// More lines (for example the errors of a file, with line numbers).
+    pub details: Vec<String>,
+}
+
+impl PageError {
+    pub fn new(status: StatusCode, message: impl Into<String>) -> PageError {
+        PageError {
+            status,
+            message: message.into(),
+            details: Vec::new(),
+        }
+    }
+
+    pub fn bad_request(message: impl Into<String>) -> PageError {
+        PageError::new(StatusCode::BAD_REQUEST, message)
+    }
+
+    pub fn too_large(message: impl Into<String>) -> PageError {
+        PageError::new(StatusCode::PAYLOAD_TOO_LARGE, message)
+    }
+
+    pub fn unprocessable(message: impl Into<String>) -> PageError {
+        PageError::new(StatusCode::UNPROCESSABLE_ENTITY, message)
+    }
+}
+
+impl From<crate::Error> for PageError {
+    fn from(e: crate::Error) -> Self {
+        use crate::Error as E;
+        let status = match &e {
+            E::Invalid(_) => StatusCode::BAD_REQUEST,
+            E::ImportRejected(_) => StatusCode::UNPROCESSABLE_ENTITY,
+            E::NotFound(_) => StatusCode::NOT_FOUND,
+            E::Conflict(_) => StatusCode::CONFLICT,
+            _ => StatusCode::INTERNAL_SERVER_ERROR,
+        };
+        if status.is_server_error() {
+            tracing::error!(error = %e, "page failed");
+            return PageError::new(status, "Internal error; see the server log.");
+        }
+        match e {
+            E::ImportRejected(f) => PageError {
+                status,
+                message: format!(
+                    "{}: {} error(s) in {} row(s); nothing was imported. Tick \"skip invalid rows\" to import the valid rows.",
+                    f.file, f.error_count, f.rows_read
+                ),
+                details: f.errors.iter().map(|r| r.to_string()).collect(),
+            },
+            other => PageError::new(status, other.to_string()),
+        }
+    }
+}
+
+impl From<crate::intake::IntakeError> for PageError {
+    fn from(e: crate::intake::IntakeError) -> Self {
+        let status = StatusCode::from_u16(e.status()).unwrap_or(StatusCode::INTERNAL_SERVER_ERROR);
+        if status.is_server_error() {
+            tracing::error!(error = %e, "return intake failed");
+            return PageError::new(status, "Internal error; see the server log.");
+        }
+        PageError::new(status, e.to_string())
+    }
+}
+
+impl From<actix_web::error::BlockingError> for PageError {
+    fn from(_: actix_web::error::BlockingError) -> Self {
+        PageError::new(
+            StatusCode::SERVICE_UNAVAILABLE,
+            "The server is shutting down; try again.",
+        )
+    }
+}
+
+impl From<askama::Error> for PageError {
+    fn from(e: askama::Error) -> Self {
+        tracing::error!(error = %e, "template failed");
+        PageError::new(
+            StatusCode::INTERNAL_SERVER_ERROR,
+            "Internal error; see the server log.",
+        )
+    }
+}
+
+#[derive(Template)]
+#[template(path = "pages/error.html")]
+struct ErrorPage<'a> {
+    layout: Layout,
+    status: u16,
+    reason: &'a str,
+    message: &'a str,
+    details: &'a [String],
+}
+
+/// An HTML response with `status`.
+pub fn html(status: StatusCode, body: String) -> HttpResponse {
+    HttpResponse::build(status)
+        .content_type("text/html; charset=utf-8")
+        .insert_header(("Cache-Control", "no-store"))
+        .body(body)
+}
+
+/// Render a template as a 200 page (or the error page if rendering fails).
+pub fn page(t: &impl Template) -> Result<HttpResponse, PageError> {
+    Ok(html(StatusCode::OK, t.render()?))
+}
+
+/// The error page for `e`.
+pub fn error_page(req: &HttpRequest, viewer: &Viewer, e: &PageError) -> HttpResponse {
+    let reason = e.status.canonical_reason().unwrap_or("Error");
+    let t = ErrorPage {
+        layout: Layout::new(req, viewer, reason, ""),
+        status: e.status.as_u16(),
+        reason,
+        message: &e.message,
+        details: &e.details,
+    };
+    match t.render() {
+        Ok(body) => html(e.status, body),
+        Err(_) => HttpResponse::build(e.status)
+            .content_type("text/plain; charset=utf-8")
+            .body(e.message.clone()),
+    }
+}
+
+/// Turn a handler result into a response (errors become error pages).
+pub fn respond(
+    req: &HttpRequest,
+    viewer: &Viewer,
+    r: Result<HttpResponse, PageError>,
+) -> HttpResponse {
+    r.unwrap_or_else(|e| error_page(req, viewer, &e))
+}
+
+/// A 303 redirect (after a POST).
+pub fn see_other(location: &str) -> HttpResponse {
+    HttpResponse::SeeOther()
+        .insert_header(("Location", location))
+        .finish()
+}
+
+/// A trimmed optional text: `None` for absent or blank.
+pub fn non_empty(v: &Option<String>) -> Option<String> {
+    v.as_deref()
+        .map(str::trim)
+        .filter(|s| !s.is_empty())
+        .map(str::to_string)
+}
+
+/// Parse an optional form number; a clear message names the field.
+pub fn opt_number<T: std::str::FromStr>(
+    label: &str,
+    v: &Option<String>,
+) -> Result<Option<T>, PageError> {
+    match non_empty(v) {
+        None => Ok(None),
+        Some(s) => s
+            .parse::<T>()
+            .map(Some)
+            .map_err(|_| PageError::bad_request(format!("{label}: '{s}' is not a valid number"))),
+    }
+}
+
+/// Parse an optional form date (YYYY-MM-DD).
+pub fn opt_day(label: &str, v: &Option<String>) -> Result<Option<crate::domain::Day>, PageError> {
+    non_empty(v)
+        .map(|s| {
+            crate::domain::Day::parse(&s)
+                .map_err(|m| PageError::bad_request(format!("{label}: {m}")))
+        })
+        .transpose()
+}
+
+/// A number with `decimals` decimals, or "–" when not finite.
+pub fn fixed(v: f64, decimals: usize) -> String {
+    if v.is_finite() {
+        format!("{v:.decimals$}")
+    } else {
+        "–".to_string()
+    }
+}
+
+/// A proportion as a percentage with one decimal.
+pub fn percent(p: f64) -> String {
+    if p.is_finite() {
+        format!("{:.1}%", p * 100.0)
+    } else {
+        "–".to_string()
+    }
+}
+
+/// The date part of an RFC 3339 time, with the time to the minute.
+pub fn short_time(rfc3339: &str) -> String {
+    match chrono::DateTime::parse_from_rfc3339(rfc3339) {
+        Ok(t) => t
+            .with_timezone(&chrono::Utc)
+            .format("%Y-%m-%d %H:%M UTC")
+            .to_string(),
+        Err(_) => rfc3339.to_string(),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn numbers_and_times_are_formatted_for_people() {
+        assert_eq!(fixed(1.23456, 2), "1.23");
+        assert_eq!(fixed(f64::NAN, 2), "–");
+        assert_eq!(percent(0.1234), "12.3%");
+        assert_eq!(
+            short_time("2026-03-01T10:05:59+02:00"),
+            "2026-03-01 08:05 UTC"
+        );
+        assert_eq!(short_time("not a time"), "not a time");
+    }
+
+    #[test]
+    fn form_values_are_parsed_with_their_label() {
+        assert_eq!(opt_number::<f64>("max", &Some(" ".into())).unwrap(), None);
+        assert_eq!(
+            opt_number::<u32>("max", &Some("12".into())).unwrap(),
+            Some(12)
+        );
+        let e = opt_number::<u32>("Most events", &Some("many".into())).unwrap_err();
+        assert_eq!(e.status, StatusCode::BAD_REQUEST);
+        assert!(e.message.contains("Most events: 'many'"), "{}", e.message);
+        assert!(opt_day("From", &Some("2026-13-01".into())).is_err());
+    }
+
+    #[test]
+    fn access_is_open_without_auth_and_checked_with_it() {
+        let open = Viewer::default();
+        assert!(open.may(Action::IssueBundle));
+        let mgr = Viewer {
+            name: Some("m".into()),
+            principal: Some(Principal::Manager),
+        };
+        // Access matrix (server/src/auth/access.rs): managers may not issue bundles.
+        let e = mgr.require(Action::IssueBundle).unwrap_err();
+        assert_eq!(e.status, StatusCode::FORBIDDEN);
+        assert!(mgr.require(Action::ViewStatistics).is_ok());
+        let anon = Viewer {
+            name: None,
+            principal: Some(Principal::Anonymous),
+        };
+        assert_eq!(
+            anon.require(Action::ViewEvents).unwrap_err().status,
+            StatusCode::UNAUTHORIZED
+        );
+    }
+}

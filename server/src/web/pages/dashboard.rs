@@ -1,0 +1,610 @@
+//! `/dashboard`: the manager's figures for a selection (from, to, zone,
+//! team, source): coverage, confirmation rates with Wilson intervals and
+//! the basis they rest on, the Kaplan–Meier time-to-visit curves, a monthly
+//! chart of issued, visited and confirmed events, causes, response times,
+//! the team table, the assessment estimates when a sample exists, and
+//! export links. Everything is computed from the stored facts on each
+//! request ([`crate::dashboard`]).
+
+use super::common::{Layout, PageError, Viewer, fixed, non_empty, opt_day, page, percent, respond};
+use super::events::{Choice, urlencode};
+use crate::auth::Action;
+use crate::charts::{
+    BarChart, BarSeries, HBar, HBarChart, Step, StepChart, StepSeries, render_grouped_bars,
+    render_horizontal_bars, render_step_curve,
+};
+use crate::dashboard::{DISPUTE_WINDOW_DAYS, StatsFilter, TABLES, load};
+use crate::error::Error;
+use crate::figures::{
+    EventFacts, FigureOptions, Figures, GroupKey, VisitCurve, all_figures, month_of,
+};
+use crate::reconcile::Status;
+use crate::stats::{DurationSummary, Estimate};
+use crate::web::AppState;
+use actix_web::{HttpRequest, HttpResponse, web};
+use askama::Template;
+use serde::Deserialize;
+use std::collections::BTreeMap;
+
+#[derive(Debug, Deserialize, Default)]
+pub struct DashboardQuery {
+    pub from: Option<String>,
+    pub to: Option<String>,
+    pub zone: Option<String>,
+    pub team: Option<String>,
+    pub source: Option<String>,
+}
+
+/// Issued, visited and confirmed events per month of first detection.
+/// "Visited" is an event a counted report reached (any status but
+/// unvisited and not reached).
+pub fn monthly_chart(events: &[EventFacts]) -> BarChart {
+    let mut counts: BTreeMap<String, [f64; 3]> = BTreeMap::new();
+    for e in events {
+        let c = counts.entry(month_of(e.first_detected)).or_default();
+        if e.issued_at.is_some() {
+            c[0] += 1.0;
+        }
+        if e.first_visit.is_some() {
+            c[1] += 1.0;
+        }
+        if e.status == Status::Confirmed {
+            c[2] += 1.0;
+        }
+    }
+    let series = ["issued", "visited", "confirmed"]
+        .iter()
+        .enumerate()
+        .map(|(i, label)| BarSeries {
+            label: label.to_string(),
+            values: counts.values().map(|c| c[i]).collect(),
+        })
+        .collect();
+    BarChart {
+        title: "Events issued, visited and confirmed, by month of first detection".into(),
+        categories: counts.keys().cloned().collect(),
+        x_label: "month of first detection".into(),
+        series,
+        y_label: "events (count)".into(),
+    }
+}
+
+/// A Kaplan–Meier curve as a labelled step series: it starts at (0, 1),
+/// steps at each observed time, and marks censored times.
+pub fn km_series(c: &VisitCurve) -> StepSeries {
+    let mut steps = vec![Step {
+        x_days: 0.0,
+        y: 1.0,
+        band: Some((1.0, 1.0)),
+    }];
+    let mut censored = Vec::new();
+    if let Some(km) = &c.curve {
+        for s in &km.steps {
+            steps.push(Step {
+                x_days: s.time,
+                y: s.survival,
+                band: Some((s.ci95.lower, s.ci95.upper)),
+            });
+            if s.censored > 0 {
+                censored.push(s.time);
+            }
+        }
+    }
+    let n = c.curve.as_ref().map_or(0, |k| k.subjects);
+    StepSeries {
+        label: format!("{} (n = {n})", c.label),
+        steps,
+        censored,
+    }
+}
+
+fn key_label(k: GroupKey) -> &'static str {
+    match k {
+        GroupKey::All => "all events",
+        GroupKey::Zone => "by zone",
+        GroupKey::Team => "by team",
+        GroupKey::DetectionMonth => "by month of first detection",
+        GroupKey::Source => "by source",
+        GroupKey::Confidence => "by confidence",
+        GroupKey::Corroborated => "by corroboration",
+        GroupKey::Cause => "by cause",
+        GroupKey::Stratum => "by stratum",
+    }
+}
+
+/// "0.812 (SE 0.031; 95% CI 0.751–0.873)".
+pub fn estimate_text(e: &Estimate, decimals: usize) -> String {
+    let mut s = fixed(e.estimate, decimals);
+    match (e.se, e.ci95) {
+        (Some(se), Some(ci)) => s.push_str(&format!(
+            " (SE {}; 95% CI {}–{})",
+            fixed(se, decimals),
+            fixed(ci.lower, decimals),
+            fixed(ci.upper, decimals)
+        )),
+        (Some(se), None) => s.push_str(&format!(" (SE {})", fixed(se, decimals))),
+        _ => s.push_str(" (no standard error: too few visits)"),
+    }
+    s
+}
+
+fn duration_text(d: &Option<DurationSummary>) -> (String, String, String) {
+    match d {
+        Some(d) => (d.count.to_string(), fixed(d.median, 1), fixed(d.p90, 1)),
+        None => ("0".into(), "–".into(), "–".into()),
+    }
+}
+
+struct CoverageTable {
+    title: &'static str,
+    rows: Vec<[String; 6]>,
+}
+
+struct RateTable {
+    title: &'static str,
+    basis: &'static str,
+    rows: Vec<[String; 7]>,
+}
+
+struct Numbers {
+    events: u64,
+    issued: u64,
+    visited: u64,
+    not_reached: u64,
+    unvisited: u64,
+    visited_within: String,
+}
+
+#[derive(Template)]
+#[template(path = "pages/dashboard.html")]
+struct DashboardPage {
+    layout: Layout,
+    zones: Vec<Choice>,
+    teams: Vec<Choice>,
+    sources: Vec<Choice>,
+    from: String,
+    to: String,
+    as_of: String,
+    numbers: Numbers,
+    coverage: Vec<CoverageTable>,
+    rates: Vec<RateTable>,
+    km_chart: String,
+    km_notes: Vec<String>,
+    monthly: String,
+    causes_chart: String,
+    causes: Vec<[String; 3]>,
+    times: Vec<[String; 4]>,
+    team_rows: Vec<[String; 7]>,
+    assessment: Option<AssessmentView>,
+    exports: Vec<(String, String)>,
+}
+
+struct AssessmentView {
+    basis: &'static str,
+    users_accuracy: String,
+    strata: Vec<[String; 7]>,
+    area: Vec<(String, String)>,
+}
+
+fn assessment_view(f: &Figures) -> Option<AssessmentView> {
+    let a = f.assessment.as_ref()?;
+    let mut area = Vec::new();
+    if let Some(ar) = &a.area {
+        area.push((
+            "overall accuracy".to_string(),
+            estimate_text(&ar.overall_accuracy, 3),
+        ));
+        if let Some(e) = &ar.users_accuracy_alert {
+            area.push((
+                "user's accuracy of the alerts (area weighted)".into(),
+                estimate_text(e, 3),
+            ));
+        }
+        if let Some(e) = &ar.producers_accuracy_clearing {
+            area.push((
+                "producer's accuracy for clearing".into(),
+                estimate_text(e, 3),
+            ));
+        }
+        area.push((
+            "share of the area cleared".into(),
+            estimate_text(&ar.clearing_proportion, 4),
+        ));
+        area.push((
+            "cleared area (ha)".into(),
+            estimate_text(&ar.clearing_area_ha, 1),
+        ));
+    }
+    Some(AssessmentView {
+        basis: a.basis.label(),
+        users_accuracy: a.users_accuracy_of_alerts.as_ref().map_or_else(
+            || "no respondents yet".to_string(),
+            |p| estimate_text(&p.proportion, 3),
+        ),
+        strata: a
+            .alert_strata
+            .iter()
+            .map(|s| {
+                [
+                    s.stratum.clone(),
+                    s.population.to_string(),
+                    s.selected.to_string(),
+                    s.confirmed.to_string(),
+                    s.false_alarm.to_string(),
+                    s.non_response.total().to_string(),
+                    s.users_accuracy
+                        .as_ref()
+                        .map_or_else(|| "–".into(), |e| estimate_text(e, 3)),
+                ]
+            })
+            .collect(),
+        area,
+    })
+}
+
+fn build(
+    req: &HttpRequest,
+    viewer: &Viewer,
+    q: &DashboardQuery,
+    filter: &StatsFilter,
+    f: &Figures,
+    events: &[EventFacts],
+    lists: &Lists,
+) -> DashboardPage {
+    let all_cov = f
+        .coverage
+        .iter()
+        .find(|g| g.key == GroupKey::All)
+        .and_then(|g| g.rows.first());
+    let issued_curve = f.time_to_visit.curves.get(1);
+    let within = f.time_to_visit.within_days;
+    let numbers = Numbers {
+        events: all_cov.map_or(0, |r| r.events),
+        issued: all_cov.map_or(0, |r| r.issued),
+        visited: all_cov.map_or(0, |r| r.visited),
+        not_reached: all_cov.map_or(0, |r| r.not_reached),
+        unvisited: all_cov.map_or(0, |r| r.unvisited),
+        visited_within: issued_curve
+            .and_then(|c| c.visited_within.as_ref())
+            .map_or_else(
+                || "–".to_string(),
+                |s| {
+                    format!(
+                        "{} (95% CI {}–{})",
+                        percent(s.share),
+                        percent(s.ci95.lower),
+                        percent(s.ci95.upper)
+                    )
+                },
+            ),
+    };
+    let coverage = f
+        .coverage
+        .iter()
+        .filter(|g| g.key != GroupKey::All)
+        .map(|g| CoverageTable {
+            title: key_label(g.key),
+            rows: g
+                .rows
+                .iter()
+                .map(|r| {
+                    [
+                        r.group.clone(),
+                        r.events.to_string(),
+                        r.issued.to_string(),
+                        r.visited.to_string(),
+                        r.not_reached.to_string(),
+                        r.unvisited.to_string(),
+                    ]
+                })
+                .collect(),
+        })
+        .collect();
+    let rates = f
+        .confirmation
+        .iter()
+        .map(|g| RateTable {
+            title: key_label(g.key),
+            basis: g
+                .rows
+                .first()
+                .map_or("descriptive (response visits)", |r| r.basis.label()),
+            rows: g
+                .rows
+                .iter()
+                .map(|r| {
+                    let (rate, ci) = match &r.rate {
+                        Some(p) => (
+                            percent(p.estimate),
+                            format!("{}–{}", percent(p.ci95.lower), percent(p.ci95.upper)),
+                        ),
+                        None => ("–".into(), "–".into()),
+                    };
+                    [
+                        r.group.clone(),
+                        r.confirmed.to_string(),
+                        r.false_alarm.to_string(),
+                        r.inconclusive.to_string(),
+                        r.disputed.to_string(),
+                        rate,
+                        ci,
+                    ]
+                })
+                .collect(),
+        })
+        .collect();
+    let series: Vec<StepSeries> = f.time_to_visit.curves.iter().map(km_series).collect();
+    let km_chart = render_step_curve(&StepChart::time_to_visit(
+        "Time from detection to first visit (Kaplan–Meier; unvisited events censored)",
+        series,
+        Some(within),
+    ));
+    let km_notes = f
+        .time_to_visit
+        .curves
+        .iter()
+        .map(|c| {
+            let median = c
+                .curve
+                .as_ref()
+                .and_then(|k| k.median)
+                .map_or_else(|| "not reached".into(), |m| format!("{} days", fixed(m, 1)));
+            let share = c
+                .visited_within
+                .as_ref()
+                .map_or_else(|| "–".into(), |s| percent(s.share));
+            format!(
+                "{}: median time to visit {median}; visited within {} days: {share}",
+                c.label,
+                fixed(within, 0)
+            )
+        })
+        .collect();
+    let causes_chart = render_horizontal_bars(&HBarChart {
+        title: "Causes of confirmed clearing".into(),
+        value_label: "confirmed events".into(),
+        unit: "events".into(),
+        bars: f
+            .causes
+            .by_cause
+            .iter()
+            .map(|c| HBar {
+                label: c.cause.replace('_', " "),
+                value: c.events as f64,
+            })
+            .collect(),
+    });
+    let rt = &f.response_times;
+    let times = [
+        ("detection to issue", &rt.detection_to_issue),
+        ("issue to visit", &rt.issue_to_visit),
+        ("detection to visit", &rt.detection_to_visit),
+        ("visit to received", &rt.visit_to_received),
+    ]
+    .iter()
+    .map(|(label, d)| {
+        let (n, med, p90) = duration_text(d);
+        [label.to_string(), n, med, p90]
+    })
+    .collect();
+    let mut params = Vec::new();
+    for (k, v) in [
+        ("from", &q.from),
+        ("to", &q.to),
+        ("zone", &filter.zone),
+        ("team", &filter.team),
+        ("source", &filter.source),
+    ] {
+        if let Some(v) = non_empty(v) {
+            params.push(format!("{k}={}", urlencode(&v)));
+        }
+    }
+    let suffix = params.iter().map(|p| format!("&{p}")).collect::<String>();
+    let mut exports: Vec<(String, String)> = TABLES
+        .iter()
+        .map(|t| {
+            (
+                format!("/api/v1/stats/{t}?format=csv{suffix}"),
+                format!("{t} (CSV)"),
+            )
+        })
+        .collect();
+    exports.push((
+        "/api/v1/exports/events.geojson".into(),
+        "events with status (GeoJSON)".into(),
+    ));
+    DashboardPage {
+        layout: Layout::new(req, viewer, "Dashboard", "/dashboard"),
+        zones: lists.choices(&lists.zones, &filter.zone),
+        teams: lists.choices(&lists.teams, &filter.team),
+        sources: lists.choices(&lists.sources, &filter.source),
+        from: q.from.clone().unwrap_or_default(),
+        to: q.to.clone().unwrap_or_default(),
+        as_of: f.as_of.format("%Y-%m-%d %H:%M UTC").to_string(),
+        numbers,
+        coverage,
+        rates,
+        km_chart,
+        km_notes,
+        monthly: render_grouped_bars(&monthly_chart(events)),
+        causes_chart,
+        causes: f
+            .causes
+            .by_cause
+            .iter()
+            .map(|c| {
+                [
+                    c.cause.replace('_', " "),
+                    c.events.to_string(),
+                    fixed(c.area_ha, 2),
+                ]
+            })
+            .collect(),
+        times,
+        team_rows: f
+            .teams
+            .iter()
+            .map(|t| {
+                [
+                    t.team.clone(),
+                    t.trips.to_string(),
+                    t.events_visited.to_string(),
+                    t.reports.to_string(),
+                    t.evidence_ok.to_string(),
+                    t.evidence_ok_share.map_or_else(|| "–".into(), percent),
+                    t.median_issue_to_visit_days
+                        .map_or_else(|| "–".into(), |d| fixed(d, 1)),
+                ]
+            })
+            .collect(),
+        assessment: assessment_view(f),
+        exports,
+    }
+}
+
+struct Lists {
+    zones: Vec<String>,
+    teams: Vec<String>,
+    sources: Vec<String>,
+}
+
+impl Lists {
+    fn choices(&self, values: &[String], current: &Option<String>) -> Vec<Choice> {
+        values
+            .iter()
+            .map(|v| Choice {
+                value: v.clone(),
+                label: v.clone(),
+                selected: current.as_deref() == Some(v.as_str()),
+            })
+            .collect()
+    }
+}
+
+async fn dashboard_page(
+    req: &HttpRequest,
+    state: &AppState,
+    viewer: &Viewer,
+    q: DashboardQuery,
+) -> Result<HttpResponse, PageError> {
+    let filter = StatsFilter {
+        from: opt_day("From", &q.from)?,
+        to: opt_day("To", &q.to)?,
+        zone: non_empty(&q.zone),
+        team: non_empty(&q.team),
+        source: non_empty(&q.source),
+    };
+    let opts = FigureOptions::new(chrono::Utc::now());
+    let db = state.db.clone();
+    let fl = filter.clone();
+    let (figs, events, lists) = web::block(move || {
+        let l = load(&db, &fl, DISPUTE_WINDOW_DAYS)?;
+        let f = all_figures(
+            &l.events,
+            &l.reports,
+            &l.bundle_issued_at,
+            &l.controls,
+            &opts,
+        )
+        .map_err(|e| Error::Invalid(format!("statistics: {e}")))?;
+        let lists = db.read(|r| {
+            Ok(Lists {
+                zones: r.zones()?.into_iter().map(|z| z.name).collect(),
+                teams: r.teams()?.into_iter().map(|t| t.name).collect(),
+                sources: r.sources()?.into_iter().map(|s| s.name).collect(),
+            })
+        })?;
+        Ok::<_, Error>((f, l.events, lists))
+    })
+    .await??;
+    page(&build(req, viewer, &q, &filter, &figs, &events, &lists))
+}
+
+/// `GET /dashboard`.
+pub async fn show(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    q: Result<web::Query<DashboardQuery>, actix_web::Error>,
+) -> HttpResponse {
+    let viewer = Viewer::of(&req);
+    let r = async {
+        viewer.require(Action::ViewStatistics)?;
+        let q = q.map_err(|e| PageError::bad_request(format!("bad filter: {e}")))?;
+        dashboard_page(&req, &state, &viewer, q.into_inner()).await
+    }
+    .await;
+    respond(&req, &viewer, r)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use chrono::{NaiveDate, TimeZone, Utc};
+
+    fn event(id: i64, month: u32, issued: bool, visited: bool, status: Status) -> EventFacts {
+        let t = Utc.with_ymd_and_hms(2026, month, 20, 0, 0, 0).single();
+        EventFacts {
+            event_id: id,
+            zone_names: vec![],
+            sources: vec!["optical-10m".into()],
+            highest_confidence: "confirmed".into(),
+            corroborated: false,
+            area_ha: 1.0,
+            first_detected: NaiveDate::from_ymd_opt(2026, month, 1).unwrap_or_default(),
+            issued_at: if issued { t } else { None },
+            status,
+            new_clearing: false,
+            first_visit: if visited { t } else { None },
+            first_received: None,
+            cause: None,
+            teams: vec![],
+            sampled: None,
+        }
+    }
+
+    #[test]
+    fn the_monthly_chart_counts_each_event_once_per_series() {
+        // Hand-counted from the five events below.
+        let events = vec![
+            event(1, 1, true, true, Status::Confirmed),
+            event(2, 1, true, false, Status::Unvisited),
+            event(3, 1, false, false, Status::Unvisited),
+            event(4, 2, true, true, Status::FalseAlarm),
+            event(5, 2, true, true, Status::Confirmed),
+        ];
+        let c = monthly_chart(&events);
+        assert_eq!(c.categories, vec!["2026-01", "2026-02"]);
+        let v: Vec<Vec<f64>> = c.series.iter().map(|s| s.values.clone()).collect();
+        assert_eq!(v, vec![vec![2.0, 2.0], vec![1.0, 2.0], vec![1.0, 1.0]]);
+        assert_eq!(c.series[2].label, "confirmed");
+    }
+
+    #[test]
+    fn a_curve_starts_at_one_and_marks_censoring() {
+        // Kaplan–Meier of durations 2 (visited), 5 (censored), 7 (visited):
+        // S(2) = 2/3, S(7) = 0 (Kaplan & Meier 1958 product-limit, worked by hand).
+        let km = crate::stats::kaplan_meier(&[(2.0, true), (5.0, false), (7.0, true)])
+            .unwrap()
+            .unwrap();
+        let c = VisitCurve {
+            label: "issued events".into(),
+            curve: Some(km),
+            visited_within: None,
+            detected_after_as_of: 0,
+            visit_before_detection: 0,
+        };
+        let s = km_series(&c);
+        assert_eq!(s.label, "issued events (n = 3)");
+        assert_eq!((s.steps[0].x_days, s.steps[0].y), (0.0, 1.0));
+        assert!((s.steps[1].y - 2.0 / 3.0).abs() < 1e-12);
+        assert_eq!(s.censored, vec![5.0]);
+        assert_eq!(s.steps.last().map(|x| x.y), Some(0.0));
+    }
+
+    #[test]
+    fn estimates_read_with_their_uncertainty() {
+        let e = Estimate::normal(0.8, Some(0.05), 0.0, 1.0);
+        // 0.8 ± 1.96 × 0.05 = 0.702 to 0.898 (normal interval, z = 1.959964).
+        assert_eq!(estimate_text(&e, 3), "0.800 (SE 0.050; 95% CI 0.702–0.898)");
+    }
+}

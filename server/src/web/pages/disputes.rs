@@ -1,0 +1,267 @@
+//! `/disputes`: events whose counted reports disagree, with the reports
+//! side by side, and an adjudication form per event;
+//! `POST /disputes/{id}/adjudicate` records the decision (outcome, reason,
+//! by = the logged-in user) and redirects back.
+
+use super::common::{Layout, PageError, Viewer, fixed, html, respond, see_other};
+use super::views::{ReportView, report_view};
+use crate::auth::Action;
+use crate::dashboard::{DISPUTE_WINDOW_DAYS, StatsFilter, load, parse_outcome};
+use crate::error::Error;
+use crate::reconcile::Status;
+use crate::trips::codes::event_code;
+use crate::web::AppState;
+use actix_web::http::StatusCode;
+use actix_web::{HttpRequest, HttpResponse, web};
+use askama::Template;
+use serde::Deserialize;
+
+/// Longest reason, characters (the API's bound).
+pub const MAX_REASON_CHARS: usize = 2000;
+/// Longest decider name, characters (the API's bound).
+pub const MAX_BY_CHARS: usize = 100;
+
+/// The outcomes an adjudication may settle on: (stored word, label).
+pub const OUTCOMES: [(&str, &str); 4] = [
+    ("confirmed", "confirmed loss"),
+    ("false_alarm", "false alarm"),
+    ("inconclusive", "inconclusive"),
+    ("not_reached", "not reached"),
+];
+
+struct Dispute {
+    id: i64,
+    code: String,
+    area: String,
+    note: String,
+    teams: String,
+    reports: Vec<ReportView>,
+}
+
+#[derive(Template)]
+#[template(path = "pages/disputes.html")]
+struct DisputesPage {
+    layout: Layout,
+    disputes: Vec<Dispute>,
+    outcomes: Vec<(&'static str, &'static str)>,
+    may_adjudicate: bool,
+    /// Ask for the decider's name when no user is logged in.
+    ask_name: bool,
+    error: Option<PageError>,
+    error_event: i64,
+    done: Option<i64>,
+}
+
+#[derive(Debug, Deserialize, Default)]
+pub struct DisputesQuery {
+    pub done: Option<i64>,
+}
+
+/// The adjudication form as typed.
+#[derive(Debug, Deserialize, Default)]
+pub struct AdjudicationForm {
+    pub outcome: Option<String>,
+    pub reason: Option<String>,
+    pub by: Option<String>,
+}
+
+/// Check the form; `by` comes from the logged-in user when known.
+pub fn validate(
+    f: &AdjudicationForm,
+    user: Option<&str>,
+) -> Result<(String, String, String), PageError> {
+    let outcome = f.outcome.as_deref().map(str::trim).unwrap_or_default();
+    if parse_outcome(outcome).is_none() {
+        return Err(PageError::bad_request(
+            "Outcome: choose confirmed, false alarm, inconclusive or not reached.",
+        ));
+    }
+    let reason = f.reason.as_deref().map(str::trim).unwrap_or_default();
+    if reason.is_empty() || reason.chars().count() > MAX_REASON_CHARS {
+        return Err(PageError::bad_request(format!(
+            "Reason: say why, in 1 to {MAX_REASON_CHARS} characters."
+        )));
+    }
+    let by = user
+        .map(str::to_string)
+        .or_else(|| f.by.as_deref().map(|s| s.trim().to_string()))
+        .unwrap_or_default();
+    if by.is_empty() || by.chars().count() > MAX_BY_CHARS {
+        return Err(PageError::bad_request(format!(
+            "Decided by: your name, 1 to {MAX_BY_CHARS} characters."
+        )));
+    }
+    Ok((outcome.to_string(), reason.to_string(), by))
+}
+
+async fn disputes_page(
+    req: &HttpRequest,
+    state: &AppState,
+    viewer: &Viewer,
+    error: Option<(i64, PageError)>,
+    done: Option<i64>,
+) -> Result<HttpResponse, PageError> {
+    let db = state.db.clone();
+    let disputes = web::block(move || {
+        let l = load(&db, &StatsFilter::default(), DISPUTE_WINDOW_DAYS)?;
+        let mut out = Vec::new();
+        for (id, s) in l
+            .statuses
+            .iter()
+            .filter(|(_, s)| s.status == Status::Disputed)
+        {
+            let d = db.read(|r| {
+                let area = r
+                    .event_resolved(*id)?
+                    .map(|e| e.attrs.area_ha)
+                    .unwrap_or(f64::NAN);
+                let mut reports = Vec::new();
+                for row in r.event_reports(*id)? {
+                    let counted = uuid::Uuid::parse_str(&row.report_id)
+                        .is_ok_and(|u| s.counted_reports.contains(&u));
+                    if counted {
+                        reports.push(report_view(r, &row, true)?);
+                    }
+                }
+                Ok(Dispute {
+                    id: *id,
+                    code: event_code(*id),
+                    area: fixed(area, 2),
+                    note: s.note.clone(),
+                    teams: s.teams.join(", "),
+                    reports,
+                })
+            })?;
+            out.push(d);
+        }
+        Ok::<_, Error>(out)
+    })
+    .await??;
+    let status = error.as_ref().map_or(StatusCode::OK, |(_, e)| e.status);
+    let (error_event, error) = match error {
+        Some((id, e)) => (id, Some(e)),
+        None => (0, None),
+    };
+    let t = DisputesPage {
+        layout: Layout::new(req, viewer, "Disputes", "/disputes"),
+        disputes,
+        outcomes: OUTCOMES.to_vec(),
+        may_adjudicate: viewer.may(Action::Adjudicate),
+        ask_name: viewer.name.is_none(),
+        error,
+        error_event,
+        done,
+    };
+    Ok(html(status, t.render()?))
+}
+
+/// `GET /disputes`.
+pub async fn list(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    q: Result<web::Query<DisputesQuery>, actix_web::Error>,
+) -> HttpResponse {
+    let viewer = Viewer::of(&req);
+    let r = async {
+        viewer.require(Action::ViewStatistics)?;
+        let done = q.ok().and_then(|q| q.done);
+        disputes_page(&req, &state, &viewer, None, done).await
+    }
+    .await;
+    respond(&req, &viewer, r)
+}
+
+/// `POST /disputes/{id}/adjudicate` (form: outcome, reason, [by], CSRF).
+pub async fn adjudicate(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    path: web::Path<String>,
+    form: Result<web::Form<AdjudicationForm>, actix_web::Error>,
+) -> HttpResponse {
+    let viewer = Viewer::of(&req);
+    if let Err(e) = viewer.require(Action::Adjudicate) {
+        return respond(&req, &viewer, Err(e));
+    }
+    let id: i64 = match path.parse() {
+        Ok(id) => id,
+        Err(_) => {
+            let e = PageError::bad_request(format!("event id '{path}' is not a number"));
+            return respond(&req, &viewer, Err(e));
+        }
+    };
+    let r = async {
+        let f =
+            form.map_err(|e| PageError::bad_request(format!("The form could not be read: {e}")))?;
+        let (outcome, reason, by) = validate(&f, viewer.name.as_deref())?;
+        let db = state.db.clone();
+        let live = web::block(move || {
+            let ev = db
+                .read(|r| r.event_resolved(id))?
+                .ok_or_else(|| Error::NotFound(format!("no event {id}")))?;
+            db.write(|tx| tx.add_adjudication(ev.id, &outcome, &reason, &by))?;
+            Ok::<_, Error>(ev.id)
+        })
+        .await??;
+        Ok::<_, PageError>(see_other(&format!("/disputes?done={live}")))
+    }
+    .await;
+    match r {
+        Ok(resp) => resp,
+        Err(e) => {
+            let r = disputes_page(&req, &state, &viewer, Some((id, e)), None).await;
+            respond(&req, &viewer, r)
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn form(outcome: &str, reason: &str, by: &str) -> AdjudicationForm {
+        AdjudicationForm {
+            outcome: Some(outcome.into()),
+            reason: Some(reason.into()),
+            by: Some(by.into()),
+        }
+    }
+
+    #[test]
+    fn the_logged_in_user_decides() {
+        let (o, r, by) = validate(
+            &form("false_alarm", " standing forest ", "typed"),
+            Some("mgr one"),
+        )
+        .unwrap();
+        assert_eq!(
+            (o.as_str(), r.as_str(), by.as_str()),
+            ("false_alarm", "standing forest", "mgr one")
+        );
+        let (_, _, by) = validate(&form("confirmed", "fresh stumps", " Ana "), None).unwrap();
+        assert_eq!(by, "Ana");
+    }
+
+    #[test]
+    fn missing_fields_are_refused_with_their_name() {
+        assert!(
+            validate(&form("maybe", "x", "m"), None)
+                .unwrap_err()
+                .message
+                .starts_with("Outcome")
+        );
+        assert!(
+            validate(&form("confirmed", "  ", "m"), None)
+                .unwrap_err()
+                .message
+                .starts_with("Reason")
+        );
+        assert!(
+            validate(&form("confirmed", "ok", ""), None)
+                .unwrap_err()
+                .message
+                .starts_with("Decided by")
+        );
+        let long = "x".repeat(MAX_REASON_CHARS + 1);
+        assert!(validate(&form("confirmed", &long, "m"), None).is_err());
+    }
+}

@@ -1,0 +1,390 @@
+//! `/events` (filters, the map coloured by status, the table in priority
+//! order) and `/events/{id}` (attributes, alerts, reports with photo
+//! thumbnails and their evidence checks).
+
+use super::common::{
+    Layout, PageError, Viewer, fixed, non_empty, opt_day, opt_number, page, respond,
+};
+use super::views::{
+    Badge, ReportView, badge, map_events, map_input, map_status, map_zones, report_view,
+};
+use crate::auth::Action;
+use crate::charts::{EventStatus, render_map};
+use crate::dashboard::{DISPUTE_WINDOW_DAYS, StatsFilter, load};
+use crate::domain::Day;
+use crate::error::Error;
+use crate::events::{RankedEvent, priority_of, ranked_events};
+use crate::storage::EventFilter;
+use crate::trips::codes::event_code;
+use crate::web::AppState;
+use actix_web::{HttpRequest, HttpResponse, web};
+use askama::Template;
+use serde::Deserialize;
+
+/// Most rows in the events table (the map shows every event).
+pub const MAX_TABLE_ROWS: usize = 500;
+
+/// The filters of `/events` as typed.
+#[derive(Debug, Deserialize, Default)]
+pub struct EventsQuery {
+    pub zone: Option<String>,
+    pub source: Option<String>,
+    pub from: Option<String>,
+    pub to: Option<String>,
+    pub min_area_ha: Option<String>,
+    pub status: Option<String>,
+}
+
+pub struct Choice {
+    pub value: String,
+    pub label: String,
+    pub selected: bool,
+}
+
+fn choices(
+    values: impl IntoIterator<Item = (String, String)>,
+    current: &Option<String>,
+) -> Vec<Choice> {
+    values
+        .into_iter()
+        .map(|(value, label)| Choice {
+            selected: current.as_deref() == Some(value.as_str()),
+            value,
+            label,
+        })
+        .collect()
+}
+
+struct EventRow {
+    rank: usize,
+    id: i64,
+    code: String,
+    area: String,
+    first: String,
+    last: String,
+    sources: String,
+    confidence: String,
+    corroborated: bool,
+    zones: String,
+    priority: String,
+    status: Badge,
+}
+
+#[derive(Template)]
+#[template(path = "pages/events.html")]
+struct EventsPage {
+    layout: Layout,
+    zones: Vec<Choice>,
+    sources: Vec<Choice>,
+    statuses: Vec<Choice>,
+    from: String,
+    to: String,
+    min_area: String,
+    map: String,
+    rows: Vec<EventRow>,
+    total: usize,
+    shown: usize,
+    api_link: String,
+}
+
+fn row(rank: usize, e: &RankedEvent, status: EventStatus) -> EventRow {
+    let a = &e.record.attrs;
+    EventRow {
+        rank,
+        id: e.record.id,
+        code: event_code(e.record.id),
+        area: fixed(a.area_ha, 2),
+        first: a.first.to_string(),
+        last: a.last.to_string(),
+        sources: a.per_source.keys().cloned().collect::<Vec<_>>().join(", "),
+        confidence: a.highest_confidence.to_string(),
+        corroborated: a.corroborated,
+        zones: e.record.zones.join(", "),
+        priority: fixed(e.priority, 3),
+        status: badge(status),
+    }
+}
+
+async fn list_page(
+    req: &HttpRequest,
+    state: &AppState,
+    q: EventsQuery,
+) -> Result<HttpResponse, PageError> {
+    let filter = EventFilter {
+        zone: non_empty(&q.zone),
+        from: opt_day("From", &q.from)?,
+        to: opt_day("To", &q.to)?,
+        source: non_empty(&q.source),
+        min_area_ha: opt_number::<f64>("Minimum area", &q.min_area_ha)?,
+        limit: None,
+    };
+    if filter
+        .min_area_ha
+        .is_some_and(|a| !(a.is_finite() && a >= 0.0))
+    {
+        return Err(PageError::bad_request(
+            "Minimum area: expected a number of hectares, 0 or more",
+        ));
+    }
+    let status = match non_empty(&q.status) {
+        None => None,
+        Some(s) => Some(
+            EventStatus::parse(&s)
+                .ok_or_else(|| PageError::bad_request(format!("Status: '{s}' is not a status")))?,
+        ),
+    };
+    let st = state.clone();
+    let f2 = filter.clone();
+    let (events, zones, sources, statuses) = web::block(move || {
+        let (zones, sources) = st.db.read(|r| Ok((r.zones()?, r.sources()?)))?;
+        let events = ranked_events(&st.db, &f2, &st.settings.priority, Day::today())?;
+        let statuses = load(&st.db, &StatsFilter::default(), DISPUTE_WINDOW_DAYS)?.statuses;
+        Ok::<_, Error>((events, zones, sources, statuses))
+    })
+    .await??;
+    let events: Vec<RankedEvent> = events
+        .into_iter()
+        .filter(|e| status.is_none_or(|s| map_status(statuses.get(&e.record.id)) == s))
+        .collect();
+    let map = render_map(&map_input(
+        "Clearing events by status",
+        map_zones(&zones),
+        map_events(&events, &statuses),
+    ));
+    let rows: Vec<EventRow> = events
+        .iter()
+        .take(MAX_TABLE_ROWS)
+        .enumerate()
+        .map(|(i, e)| row(i + 1, e, map_status(statuses.get(&e.record.id))))
+        .collect();
+    let viewer = Viewer::of(req);
+    let mut api = Vec::new();
+    for (k, v) in [("zone", &filter.zone), ("source", &filter.source)] {
+        if let Some(v) = v {
+            api.push(format!("{k}={}", urlencode(v)));
+        }
+    }
+    let t = EventsPage {
+        layout: Layout::new(req, &viewer, "Events", "/events"),
+        zones: choices(
+            zones.iter().map(|z| (z.name.clone(), z.name.clone())),
+            &filter.zone,
+        ),
+        sources: choices(
+            sources.iter().map(|s| (s.name.clone(), s.name.clone())),
+            &filter.source,
+        ),
+        statuses: choices(
+            EventStatus::ALL
+                .iter()
+                .map(|s| (s.as_str().to_string(), s.label().to_string())),
+            &status.map(|s| s.as_str().to_string()),
+        ),
+        from: q.from.clone().unwrap_or_default(),
+        to: q.to.clone().unwrap_or_default(),
+        min_area: q.min_area_ha.clone().unwrap_or_default(),
+        map,
+        total: events.len(),
+        shown: rows.len(),
+        rows,
+        api_link: format!("/api/v1/events?{}", api.join("&")),
+    };
+    page(&t)
+}
+
+/// Percent-encode a query value (RFC 3986 unreserved characters kept).
+pub fn urlencode(s: &str) -> String {
+    s.bytes()
+        .map(|b| match b {
+            b'A'..=b'Z' | b'a'..=b'z' | b'0'..=b'9' | b'-' | b'_' | b'.' | b'~' => {
+                (b as char).to_string()
+            }
+            _ => format!("%{b:02X}"),
+        })
+        .collect()
+}
+
+/// `GET /events`.
+pub async fn list(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    q: Result<web::Query<EventsQuery>, actix_web::Error>,
+) -> HttpResponse {
+    let viewer = Viewer::of(&req);
+    let r = async {
+        viewer.require(Action::ViewEvents)?;
+        let q = q.map_err(|e| PageError::bad_request(format!("bad filter: {e}")))?;
+        list_page(&req, &state, q.into_inner()).await
+    }
+    .await;
+    respond(&req, &viewer, r)
+}
+
+struct AlertRow {
+    day: String,
+    source: String,
+    confidence: String,
+    lon: String,
+    lat: String,
+}
+
+#[derive(Template)]
+#[template(path = "pages/event.html")]
+struct EventPage {
+    layout: Layout,
+    id: i64,
+    code: String,
+    merged_from: Option<i64>,
+    origin: String,
+    area: String,
+    first: String,
+    last: String,
+    alert_count: u32,
+    sources: String,
+    confidence: String,
+    corroborated: bool,
+    zones: String,
+    priority: String,
+    centroid: String,
+    status: Badge,
+    status_note: String,
+    map: String,
+    alerts: Vec<AlertRow>,
+    reports: Vec<ReportView>,
+}
+
+async fn one_page(
+    req: &HttpRequest,
+    state: &AppState,
+    raw: &str,
+) -> Result<HttpResponse, PageError> {
+    let id: i64 = raw
+        .parse()
+        .map_err(|_| PageError::bad_request(format!("event id '{raw}' is not a number")))?;
+    let st = state.clone();
+    let (rec, alerts, sources, zones, reports, status) = web::block(move || {
+        let rec = st
+            .db
+            .read(|r| r.event_resolved(id))?
+            .ok_or_else(|| Error::NotFound(format!("no event {id}")))?;
+        let status = load(&st.db, &StatsFilter::default(), DISPUTE_WINDOW_DAYS)?
+            .statuses
+            .remove(&rec.id);
+        let counted = status
+            .as_ref()
+            .map(|s| s.counted_reports.clone())
+            .unwrap_or_default();
+        let (alerts, sources, zones, reports) = st.db.read(|r| {
+            let rows = r.event_reports(rec.id)?;
+            let mut reports = Vec::new();
+            for row in &rows {
+                let is_counted =
+                    uuid::Uuid::parse_str(&row.report_id).is_ok_and(|u| counted.contains(&u));
+                reports.push(report_view(r, row, is_counted)?);
+            }
+            Ok((
+                r.alerts_of_events(&[rec.id])?,
+                r.sources()?,
+                r.zones()?,
+                reports,
+            ))
+        })?;
+        Ok::<_, Error>((rec, alerts, sources, zones, reports, status))
+    })
+    .await??;
+    let priority = priority_of(&rec, &state.settings.priority, Day::today());
+    let ranked = RankedEvent {
+        record: rec,
+        priority,
+    };
+    let mut statuses = std::collections::BTreeMap::new();
+    if let Some(s) = &status {
+        statuses.insert(ranked.record.id, s.clone());
+    }
+    let in_zones: Vec<_> = zones
+        .into_iter()
+        .filter(|z| ranked.record.zones.contains(&z.name))
+        .collect();
+    let map = render_map(&map_input(
+        &format!("Event {}", event_code(ranked.record.id)),
+        map_zones(&in_zones),
+        map_events(std::slice::from_ref(&ranked), &statuses),
+    ));
+    let source_name = |sid: i64| {
+        sources
+            .iter()
+            .find(|s| s.id == sid)
+            .map_or_else(|| format!("source {sid}"), |s| s.name.clone())
+    };
+    let a = &ranked.record.attrs;
+    let viewer = Viewer::of(req);
+    let t = EventPage {
+        layout: Layout::new(
+            req,
+            &viewer,
+            &format!("Event {}", event_code(ranked.record.id)),
+            "/events",
+        ),
+        id: ranked.record.id,
+        code: event_code(ranked.record.id),
+        merged_from: (ranked.record.id != id).then_some(id),
+        origin: ranked.record.origin.clone(),
+        area: fixed(a.area_ha, 3),
+        first: a.first.to_string(),
+        last: a.last.to_string(),
+        alert_count: a.alert_count,
+        sources: a
+            .per_source
+            .iter()
+            .map(|(k, v)| format!("{k} ({v})"))
+            .collect::<Vec<_>>()
+            .join(", "),
+        confidence: a.highest_confidence.to_string(),
+        corroborated: a.corroborated,
+        zones: ranked.record.zones.join(", "),
+        priority: fixed(priority, 3),
+        centroid: format!("{}, {}", fixed(a.centroid.1, 6), fixed(a.centroid.0, 6)),
+        status: badge(map_status(status.as_ref())),
+        status_note: status.as_ref().map(|s| s.note.clone()).unwrap_or_default(),
+        map,
+        alerts: alerts
+            .iter()
+            .map(|al| AlertRow {
+                day: al.day.to_string(),
+                source: source_name(al.source_id),
+                confidence: al.confidence.to_string(),
+                lon: fixed(al.lon, 6),
+                lat: fixed(al.lat, 6),
+            })
+            .collect(),
+        reports,
+    };
+    page(&t)
+}
+
+/// `GET /events/{id}`.
+pub async fn one(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    path: web::Path<String>,
+) -> HttpResponse {
+    let viewer = Viewer::of(&req);
+    let r = async {
+        viewer.require(Action::ViewEvents)?;
+        one_page(&req, &state, &path).await
+    }
+    .await;
+    respond(&req, &viewer, r)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn query_values_are_percent_encoded() {
+        // RFC 3986 §2.3 unreserved characters stay; a space is %20.
+        assert_eq!(urlencode("Core Zone-1.a~"), "Core%20Zone-1.a~");
+        assert_eq!(urlencode("a&b=c"), "a%26b%3Dc");
+    }
+}

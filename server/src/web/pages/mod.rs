@@ -1,0 +1,101 @@
+//! Server-rendered HTML pages (askama templates under `templates/pages/`,
+//! one layout `templates/base.html`, one embedded style sheet). They work
+//! without JavaScript and load nothing from outside the server. Each page
+//! calls the same services as the JSON API.
+//!
+//! | method and path | page |
+//! |---|---|
+//! | `GET /` | redirect: managers to `/dashboard`, everyone else to `/events` |
+//! | `GET /events`, `GET /events/{id}` | events: filters, map, table; one event |
+//! | `GET /import`, `POST /import/alerts`, `POST /import/zones` | import files |
+//! | `GET /trips`, `POST /trips`, `POST /trips/{id}/cancel` | bundles |
+//! | `GET /station`, `POST /station` | upload a return package |
+//! | `GET /dashboard` | figures for managers |
+//! | `GET /disputes`, `POST /disputes/{id}/adjudicate` | disputes |
+//! | `GET /static/app.css` | the style sheet |
+//!
+//! Who is asking comes from request extensions the auth layer sets
+//! ([`crate::auth::Identity`] or [`crate::auth::Principal`]); every POST
+//! form carries [`csrf_field`].
+
+mod assets;
+mod common;
+mod dashboard;
+mod disputes;
+mod events;
+mod form;
+mod import;
+mod station;
+mod trips;
+mod views;
+
+pub use common::{PageError, Viewer};
+
+use actix_web::{HttpMessage, HttpRequest, HttpResponse, web};
+
+/// The hidden CSRF input of every POST form: the token from the request
+/// extension [`crate::auth::CsrfToken`], escaped, or an empty string when
+/// the request has none.
+pub fn csrf_field(req: &HttpRequest) -> String {
+    match req.extensions().get::<crate::auth::CsrfToken>() {
+        Some(t) if !t.0.is_empty() => format!(
+            r#"<input type="hidden" name="{}" value="{}">"#,
+            crate::auth::CSRF_FIELD,
+            crate::charts::escape(&t.0)
+        ),
+        _ => String::new(),
+    }
+}
+
+/// `GET /`: where a user starts.
+pub async fn home(req: HttpRequest) -> HttpResponse {
+    let viewer = Viewer::of(&req);
+    let to = if viewer.principal == Some(crate::auth::Principal::Manager) {
+        "/dashboard"
+    } else {
+        "/events"
+    };
+    HttpResponse::SeeOther()
+        .insert_header(("Location", to))
+        .finish()
+}
+
+/// Register the page routes (after the `/api/v1` scope).
+pub fn configure(cfg: &mut web::ServiceConfig) {
+    cfg.route("/", web::get().to(home))
+        .route("/static/{name}", web::get().to(assets::asset))
+        .route("/events", web::get().to(events::list))
+        .route("/events/{id}", web::get().to(events::one))
+        .route("/import", web::get().to(import::form))
+        .route("/import/alerts", web::post().to(import::alerts))
+        .route("/import/zones", web::post().to(import::zones))
+        .route("/trips", web::get().to(trips::list))
+        .route("/trips", web::post().to(trips::issue))
+        .route("/trips/{id}/cancel", web::post().to(trips::cancel))
+        .route("/station", web::get().to(station::form))
+        .route("/station", web::post().to(station::upload))
+        .route("/dashboard", web::get().to(dashboard::show))
+        .route("/disputes", web::get().to(disputes::list))
+        .route(
+            "/disputes/{id}/adjudicate",
+            web::post().to(disputes::adjudicate),
+        );
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use actix_web::test::TestRequest;
+
+    #[test]
+    fn the_csrf_field_is_escaped_and_absent_without_a_token() {
+        let req = TestRequest::default().to_http_request();
+        assert_eq!(csrf_field(&req), "");
+        req.extensions_mut()
+            .insert(crate::auth::CsrfToken("a\"b<c".into()));
+        assert_eq!(
+            csrf_field(&req),
+            r#"<input type="hidden" name="csrf_token" value="a&quot;b&lt;c">"#
+        );
+    }
+}

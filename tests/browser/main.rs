@@ -1,0 +1,138 @@
+//! Browser test: headless Chromium renders each main page of a server
+//! loaded with the demo scenario; the rendered DOM must hold the page's key
+//! elements (`--dump-dom`), and a screenshot of each page is saved under
+//! `CARGO_TARGET_TMPDIR/browser-screenshots/` for a person to look at.
+//! Skips with a printed SKIP line when Chromium is not installed
+//! (`apt-get install -y chromium`).
+
+use groundproof_e2e::{TestServer, get, load_scenario, post_json};
+use serde_json::json;
+use std::path::{Path, PathBuf};
+use std::process::{Command, Stdio};
+use std::time::{Duration, Instant};
+
+/// Longest a single Chromium run may take before it is stopped.
+const CHROMIUM_TIMEOUT: Duration = Duration::from_secs(90);
+
+fn chromium() -> Option<PathBuf> {
+    ["/usr/bin/chromium", "/usr/bin/chromium-browser"]
+        .iter()
+        .map(PathBuf::from)
+        .find(|p| p.exists())
+}
+
+/// Run Chromium headless with `extra` arguments on `url`; stdout as text.
+fn run_chromium(bin: &Path, profile: &Path, extra: &[String], url: &str) -> String {
+    let mut cmd = Command::new(bin);
+    cmd.args([
+        "--headless",
+        "--no-sandbox",
+        "--disable-gpu",
+        "--disable-quic",
+        "--no-first-run",
+        "--disable-background-networking",
+        "--disable-component-update",
+        "--disable-sync",
+        "--hide-scrollbars",
+    ])
+    .arg(format!("--user-data-dir={}", profile.display()))
+    .args(extra)
+    .arg(url)
+    .stdout(Stdio::piped())
+    .stderr(Stdio::null());
+    let mut child = cmd.spawn().expect("chromium starts");
+    let start = Instant::now();
+    loop {
+        match child.try_wait().expect("chromium runs") {
+            Some(_) => break,
+            None if start.elapsed() > CHROMIUM_TIMEOUT => {
+                let _ = child.kill();
+                panic!("chromium took longer than {CHROMIUM_TIMEOUT:?} on {url}");
+            }
+            None => std::thread::sleep(Duration::from_millis(100)),
+        }
+    }
+    let out = child.wait_with_output().expect("chromium output");
+    String::from_utf8_lossy(&out.stdout).into_owned()
+}
+
+#[test]
+fn main_pages_render_in_headless_chromium() {
+    let Some(bin) = chromium() else {
+        println!("SKIP: chromium is not installed (apt-get install -y chromium)");
+        return;
+    };
+    let s = TestServer::start();
+    load_scenario(&s);
+    let station = mock_patrols::scenario().station;
+    let r = post_json(
+        &s.url("/api/v1/bundles"),
+        &json!({"team": "Team Amber", "zone": "Core", "max": 6, "start": {"lat": station.1, "lon": station.0}}),
+    );
+    assert_eq!(r.status, 201, "{}", r.body);
+    let id = get(&s.url("/api/v1/events?limit=1")).json()["features"][0]["id"]
+        .as_i64()
+        .expect("an event");
+
+    let out_dir = Path::new(env!("CARGO_TARGET_TMPDIR")).join("browser-screenshots");
+    std::fs::create_dir_all(&out_dir).expect("screenshot folder");
+    let profile = tempfile::tempdir().expect("profile dir");
+    let event_path = format!("/events/{id}");
+    // (path, file stem, what the rendered DOM must contain)
+    let pages: Vec<(&str, &str, Vec<&str>)> = vec![
+        (
+            "/events",
+            "events",
+            vec!["<svg", "Events in priority order", "Safety first"],
+        ),
+        (&event_path, "event", vec!["Attributes", "Alerts ("]),
+        (
+            "/import",
+            "import",
+            vec!["Alert file", "Zone file", "optical-10m"],
+        ),
+        (
+            "/trips",
+            "trips",
+            vec!["Issue a bundle", "st-issued", "Download"],
+        ),
+        ("/station", "station", vec!["Upload a return package"]),
+        (
+            "/dashboard",
+            "dashboard",
+            vec!["<svg", "Kaplan", "descriptive (response visits)"],
+        ),
+        ("/disputes", "disputes", vec!["Disputes"]),
+    ];
+    for (path, stem, needles) in &pages {
+        let url = s.url(path);
+        let dom = run_chromium(&bin, profile.path(), &["--dump-dom".to_string()], &url);
+        for n in needles {
+            assert!(dom.contains(n), "{path}: the rendered DOM lacks {n:?}");
+        }
+        assert!(
+            dom.contains("/static/app.css"),
+            "{path}: the style sheet is linked"
+        );
+        let shot = out_dir.join(format!("{stem}.png"));
+        let _ = std::fs::remove_file(&shot);
+        run_chromium(
+            &bin,
+            profile.path(),
+            &[
+                format!("--screenshot={}", shot.display()),
+                "--window-size=1280,1800".to_string(),
+            ],
+            &url,
+        );
+        let bytes = std::fs::read(&shot).unwrap_or_else(|e| panic!("{path}: no screenshot ({e})"));
+        // PNG signature (PNG specification, 3rd ed., §5.2).
+        assert_eq!(&bytes[..8], b"\x89PNG\r\n\x1a\n", "{path}: a PNG");
+        assert!(
+            bytes.len() > 10_000,
+            "{path}: the screenshot is not blank ({} bytes)",
+            bytes.len()
+        );
+        println!("screenshot: {}", shot.display());
+    }
+}
