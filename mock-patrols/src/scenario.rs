@@ -112,8 +112,8 @@ pub fn scenario() -> Scenario {
             "Team Cedar".to_string(),
         ],
         station: (round6(slon), round6(slat)),
-        start_date: "2025-01-01".to_string(),
-        end_date: "2025-12-31".to_string(),
+        start_date: "2025-11-01".to_string(),
+        end_date: "2026-10-31".to_string(),
     }
 }
 

@@ -315,9 +315,7 @@ pub fn run() -> Result<ExitCode> {
             let summary = demo::load(&db, &dir, &settings)?;
             println!("{summary}");
             println!("data directory: {}", dir.display());
-            if !no_serve {
-                serve(db, settings, &dir, &bind)?;
-            }
+            serve_demo(db, settings, &dir, &bind, summary, no_serve)?;
         }
         Command::Sources { command } => match command {
             SourcesCommand::Add {
@@ -585,6 +583,52 @@ fn import_alert_file(a: AlertArgs) -> Result<ExitCode> {
         }
         Err(e) => Err(e.into()),
     }
+}
+
+/// Serve the demo and, meanwhile, play its field teams against it through
+/// the real push; with `no_serve`, stop once the returns are in.
+fn serve_demo(
+    db: Db,
+    settings: Settings,
+    dir: &Path,
+    bind: &str,
+    summary: demo::DemoSummary,
+    no_serve: bool,
+) -> Result<()> {
+    let listener = TcpListener::bind(bind).with_context(|| format!("binding {bind}"))?;
+    let addr = listener.local_addr()?;
+    let db = Arc::new(db);
+    let state = web::AppState {
+        db: db.clone(),
+        data_dir: dir.to_path_buf(),
+        settings: Arc::new(settings),
+    };
+    let work = dir.join("demo-field");
+    let url = format!("http://{addr}");
+    actix_web::rt::System::new().block_on(async move {
+        let server = web::run(listener, state)?;
+        let handle = server.handle();
+        let trips = actix_web::rt::task::spawn_blocking(move || demo::run_trips(&db, &summary, &work, &url));
+        let serving = actix_web::rt::spawn(server);
+        match trips.await {
+            Ok(Ok(lines)) => {
+                for l in lines {
+                    println!("{l}");
+                }
+            }
+            Ok(Err(e)) => eprintln!("demo trips failed: {e}"),
+            Err(e) => eprintln!("demo trips failed: {e}"),
+        }
+        if no_serve {
+            handle.stop(true).await;
+        } else {
+            println!("Groundproof demo is serving on http://{addr}/ (press Ctrl-C to stop)");
+            println!("  log in as coordinator / demo-coordinator-password, or manager / demo-manager-password");
+        }
+        let _ = serving.await;
+        Ok::<_, std::io::Error>(())
+    })?;
+    Ok(())
 }
 
 fn serve(db: Db, settings: Settings, data_dir: &Path, bind: &str) -> Result<()> {

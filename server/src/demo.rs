@@ -115,7 +115,11 @@ pub fn load(db: &Db, data_dir: &Path, settings: &Settings) -> Result<DemoSummary
     let start = LonLat::new(scenario.station.0, scenario.station.1).map_err(Error::Invalid)?;
     let as_of = Day::parse(&scenario.end_date).map_err(Error::Invalid)?;
     let mut bundles = Vec::new();
+    // The demo's trips were issued two weeks ago, so their visits are in
+    // the past and the statistics have something to show.
+    let issued_at = Some(chrono::Utc::now() - chrono::Duration::days(14));
     let response = TripRequest {
+        issued_at,
         zone: Some("Core".into()),
         max: Some(8),
         start_name: "field station".into(),
@@ -124,6 +128,7 @@ pub fn load(db: &Db, data_dir: &Path, settings: &Settings) -> Result<DemoSummary
     };
     bundles.push(issue_bundle(db, data_dir, settings, &response)?);
     let assessment = TripRequest {
+        issued_at,
         mode: Mode::Assessment,
         zone: Some("Riverside Community Land".into()),
         margin: 0.3,
@@ -153,4 +158,44 @@ pub fn load(db: &Db, data_dir: &Path, settings: &Settings) -> Result<DemoSummary
             })
             .collect(),
     })
+}
+
+/// Play the demo's field teams: for each demo bundle, the field kit
+/// records the visits (with generated photos) and pushes the return to the
+/// server at `server_url` through the real resumable upload. Returns one
+/// line per pushed return.
+pub fn run_trips(
+    db: &Db,
+    summary: &DemoSummary,
+    work: &Path,
+    server_url: &str,
+) -> Result<Vec<String>> {
+    let mut lines = Vec::new();
+    for (i, (team, mode, _, _, bundle)) in summary.bundles.iter().enumerate() {
+        let (_, token) = crate::auth::issue_team_token(db, team, crate::auth::now_unix())?;
+        let plan = mock_patrols::field::TripPlan {
+            disputed_pair: i == 0,
+            ..Default::default()
+        };
+        let dir = work.join(format!("trip-{}", i + 1));
+        let outcome =
+            mock_patrols::field::make_trip_return(bundle, &dir, &plan, DEMO_SEED + i as u64)
+                .map_err(|e| Error::Internal(format!("demo trip {}: {e}", i + 1)))?;
+        for device in &outcome.returns {
+            let pushed = groundproof_sync::client::push(
+                &device.workspace,
+                server_url,
+                Some(&token),
+                &groundproof_sync::client::PushOptions::default(),
+            )
+            .map_err(|e| Error::Internal(format!("demo push of trip {}: {e}", i + 1)))?;
+            lines.push(format!(
+                "  return from {team} ({mode}): {} accepted, {} duplicate, {} rejected",
+                pushed.accepted,
+                pushed.duplicate,
+                pushed.rejected.len()
+            ));
+        }
+    }
+    Ok(lines)
 }

@@ -608,9 +608,15 @@ fn bad_photos_bad_signatures_and_bad_archives_are_refused_with_reasons() {
 
     // --- One corrupt photo and one pixel flood: those reports refused, the rest kept. ---
     let ok_photo = std::fs::read(&photos[0]).unwrap();
-    let mut corrupt = ok_photo[..ok_photo.len() * 2 / 5].to_vec();
-    corrupt.extend_from_slice(&[0x12; 64]);
-    corrupt.extend_from_slice(&[0xFF, 0xD9]);
+    // A broken Huffman table: the 16 code-length counts of the first DHT
+    // segment (FFC4, length, class/id, counts) all set to 255, far more
+    // codes than 16-bit code lengths allow (ITU-T T.81 Annex C).
+    let mut corrupt = ok_photo.clone();
+    let dht = corrupt
+        .windows(2)
+        .position(|w| w == [0xFF, 0xC4])
+        .expect("a DHT segment");
+    corrupt[dht + 5..dht + 21].copy_from_slice(&[0xFF; 16]);
     let corrupt_path = tmp.path().join("corrupt.jpg");
     std::fs::write(&corrupt_path, &corrupt).unwrap();
     let flood_path = tmp.path().join("flood.jpg");

@@ -149,7 +149,7 @@ pub fn issue_bundle(
     order.sort();
     let route_codes: Vec<String> = order.iter().map(|(_, c)| c.clone()).collect();
 
-    let issued_at = chrono::Utc::now();
+    let issued_at = req.issued_at.unwrap_or_else(chrono::Utc::now);
     let bundle_id = uuid::Uuid::new_v4();
     let mut key = [0u8; 32];
     rand::fill(&mut key);

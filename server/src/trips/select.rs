@@ -69,6 +69,9 @@ pub struct TripRequest {
     pub due_days: i64,
     pub expires_days: i64,
     pub as_of: Day,
+    /// Issue time to record instead of now (for recording a trip made
+    /// earlier, and for the demo's past trips); due and expiry count from it.
+    pub issued_at: Option<chrono::DateTime<chrono::Utc>>,
 }
 
 impl TripRequest {
@@ -95,6 +98,7 @@ impl TripRequest {
             due_days: 7,
             expires_days: 30,
             as_of: Day::today(),
+            issued_at: None,
         }
     }
 }

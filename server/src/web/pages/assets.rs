@@ -21,6 +21,7 @@ pub async fn asset(path: web::Path<String>) -> HttpResponse {
     }
 }
 
+#[cfg(test)]
 /// One CSS rule's selector and its `color` / `background-color` values.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ColourRule {
@@ -29,6 +30,7 @@ pub struct ColourRule {
     pub background: Option<String>,
 }
 
+#[cfg(test)]
 /// The rules of a (flat or `@media`-nested) style sheet that set `color`
 /// or `background-color`. Comments are dropped; `@media` blocks are read
 /// as if their rules stood at the top level.

@@ -98,7 +98,6 @@ struct TripsPage {
     assessment: bool,
     f: FormView,
     may_issue: bool,
-    may_cancel: bool,
     error: Option<PageError>,
     cancelled: Option<String>,
 }
@@ -219,7 +218,6 @@ async fn trips_page(
         assessment: form.mode.as_deref() == Some("assessment"),
         f: FormView::of(&form),
         may_issue: viewer.may(Action::IssueBundle),
-        may_cancel,
         error,
         cancelled,
     };
