@@ -584,17 +584,16 @@ fn assign_roles(
     } else {
         None
     };
+    // Amend a report with clean evidence if there is one (a confirmed cause, else a
+    // false-alarm reason), so the correction is not mixed up with a flag.
     let amend = if plan.amend {
-        let others: Vec<usize> = confirmed
+        let free = |i: &usize| Some(*i) != dispute && !flagged.contains(i);
+        confirmed
             .iter()
             .copied()
-            .filter(|i| Some(*i) != dispute)
-            .collect();
-        others
-            .iter()
-            .find(|i| !flagged.contains(i))
-            .or(others.first())
-            .copied()
+            .find(free)
+            .or(false_alarms.iter().copied().find(free))
+            .or(confirmed.iter().copied().find(|i| Some(*i) != dispute))
     } else {
         None
     };
@@ -1147,7 +1146,8 @@ impl Device {
         Ok(())
     }
 
-    /// `amend ID --cause OTHER --notes ...` on the newest report of event `code`.
+    /// `amend ID --cause OTHER` (a confirmed report) or `--reason OTHER` (a false alarm),
+    /// with a note, on the newest report of event `code`.
     fn amend(&mut self, code: &str, checklist: &Checklist) -> Result<(), String> {
         let Some(base) = self
             .reports
@@ -1158,19 +1158,27 @@ impl Device {
         else {
             return Ok(());
         };
-        let other = checklist
-            .causes
-            .iter()
-            .find(|c| Some(c.as_str()) != base.cause.as_deref())
-            .cloned();
         let mut args: Vec<OsString> = vec!["amend".into(), base.report_id.to_string().into()];
-        if let Some(c) = &other {
-            args.extend(["--cause".into(), c.into()]);
-        }
-        args.extend([
-            "--notes".into(),
-            "Cause corrected at camp after talking with the people working the plot.".into(),
-        ]);
+        let note = if base.outcome == OUTCOME_FALSE_ALARM {
+            let other = checklist
+                .false_alarm_reasons
+                .iter()
+                .find(|c| Some(c.as_str()) != base.reason.as_deref());
+            if let Some(r) = other {
+                args.extend(["--reason".into(), r.into()]);
+            }
+            "Reason corrected at camp after looking at the photos again."
+        } else {
+            let other = checklist
+                .causes
+                .iter()
+                .find(|c| Some(c.as_str()) != base.cause.as_deref());
+            if let Some(c) = other {
+                args.extend(["--cause".into(), c.into()]);
+            }
+            "Cause corrected at camp after talking with the people working the plot."
+        };
+        args.extend(["--notes".into(), note.into()]);
         kit(&self.ws, &args)?;
         let r = self.last_report()?;
         if r.supersedes != Some(base.report_id) {
@@ -1495,7 +1503,8 @@ mod tests {
             .find(|r| Some(r.report_id) == amended[0].supersedes)
             .expect("superseded report in the return");
         assert_eq!(base.target, amended[0].target);
-        assert_ne!(base.cause, amended[0].cause);
+        assert_eq!(base.outcome, amended[0].outcome);
+        assert!(base.cause != amended[0].cause || base.reason != amended[0].reason);
         // Controls: all visited; confirmed = clearing found, else false_alarm/no_change.
         let controls: Vec<_> = first
             .reports
@@ -1629,7 +1638,14 @@ mod tests {
                 ..
             })
         ));
-        assert_ne!(roles.amend, roles.dispute);
+        // The three confirmed events carry the far photo, the early photo and the
+        // dispute, so the amendment goes to a false alarm.
+        let amend = roles.amend.clone().expect("amend");
+        assert_ne!(amend, dispute);
+        assert!(matches!(
+            roles.event(&amend),
+            Some(EventVisit::FalseAlarm { .. })
+        ));
         let found = roles
             .controls
             .iter()

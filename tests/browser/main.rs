@@ -4,12 +4,80 @@
 //! `CARGO_TARGET_TMPDIR/browser-screenshots/` for a person to look at.
 //! Skips with a printed SKIP line when Chromium is not installed
 //! (`apt-get install -y chromium`).
+//!
+//! Chromium's command line cannot log in, so it talks to the server through
+//! a small loopback relay that adds the test's admin bearer token to each
+//! request (and asks for one request per connection, so every request
+//! passes the relay's rewrite).
 
-use groundproof_e2e::{TestServer, get, load_scenario, post_json};
+use groundproof_e2e::{TestServer, admin_token, get, load_scenario, post_json};
 use serde_json::json;
+use std::io::{Read, Write};
+use std::net::{Shutdown, SocketAddr, TcpListener, TcpStream};
 use std::path::{Path, PathBuf};
 use std::process::{Command, Stdio};
 use std::time::{Duration, Instant};
+
+/// Largest request head the relay reads.
+const MAX_HEAD_BYTES: usize = 64 * 1024;
+
+/// Relay one connection: rewrite the request head (bearer token added,
+/// `Connection: close`), then copy bytes both ways.
+fn relay(mut client: TcpStream, target: SocketAddr, token: &str) -> std::io::Result<()> {
+    client.set_read_timeout(Some(Duration::from_secs(30)))?;
+    let mut head = Vec::new();
+    let mut buf = [0u8; 4096];
+    let end = loop {
+        let n = client.read(&mut buf)?;
+        if n == 0 {
+            return Ok(());
+        }
+        head.extend_from_slice(&buf[..n]);
+        if let Some(i) = head.windows(4).position(|w| w == b"\r\n\r\n") {
+            break i + 4;
+        }
+        if head.len() > MAX_HEAD_BYTES {
+            return Ok(());
+        }
+    };
+    let text = String::from_utf8_lossy(&head[..end]).into_owned();
+    let mut out = String::new();
+    for (i, line) in text.split("\r\n").filter(|l| !l.is_empty()).enumerate() {
+        let lower = line.to_ascii_lowercase();
+        let dropped = ["connection:", "keep-alive:", "authorization:"];
+        if i > 0 && dropped.iter().any(|d| lower.starts_with(d)) {
+            continue;
+        }
+        out.push_str(line);
+        out.push_str("\r\n");
+    }
+    out.push_str(&format!("Authorization: Bearer {token}\r\nConnection: close\r\n\r\n"));
+    let mut server = TcpStream::connect(target)?;
+    server.write_all(out.as_bytes())?;
+    server.write_all(&head[end..])?;
+    let (mut c2, mut s2) = (client.try_clone()?, server.try_clone()?);
+    std::thread::spawn(move || {
+        let _ = std::io::copy(&mut c2, &mut s2);
+    });
+    std::io::copy(&mut server, &mut client)?;
+    let _ = client.shutdown(Shutdown::Both);
+    Ok(())
+}
+
+/// Start the relay on a loopback port; its address.
+fn start_relay(target: SocketAddr, token: String) -> SocketAddr {
+    let listener = TcpListener::bind("127.0.0.1:0").expect("relay binds");
+    let addr = listener.local_addr().expect("relay address");
+    std::thread::spawn(move || {
+        for conn in listener.incoming().flatten() {
+            let token = token.clone();
+            std::thread::spawn(move || {
+                let _ = relay(conn, target, &token);
+            });
+        }
+    });
+    addr
+}
 
 /// Longest a single Chromium run may take before it is stopped.
 const CHROMIUM_TIMEOUT: Duration = Duration::from_secs(90);
@@ -104,8 +172,9 @@ fn main_pages_render_in_headless_chromium() {
         ),
         ("/disputes", "disputes", vec!["Disputes"]),
     ];
+    let relay = start_relay(s.addr, admin_token(&s));
     for (path, stem, needles) in &pages {
-        let url = s.url(path);
+        let url = format!("http://{relay}{path}");
         let dom = run_chromium(&bin, profile.path(), &["--dump-dom".to_string()], &url);
         for n in needles {
             assert!(dom.contains(n), "{path}: the rendered DOM lacks {n:?}");

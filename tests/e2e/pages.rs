@@ -3,7 +3,7 @@
 //! bundle is issued and cancelled through the forms, the dashboard draws
 //! its charts, and bad input on every form gets a page with a 4xx status.
 
-use groundproof_e2e::{Reply, TestServer, get, load_scenario, post_bytes};
+use groundproof_e2e::{Reply, TestServer, admin_token, get, load_scenario, post_bytes};
 
 const BOUNDARY: &str = "----groundproof-test-boundary";
 
@@ -44,20 +44,27 @@ fn post_form(url: &str, body: &str) -> Reply {
     post_bytes(url, "application/x-www-form-urlencoded", body.as_bytes())
 }
 
-/// Status and Location of a request that is not followed.
-fn no_follow(method: &str, url: &str, form: &str) -> (u16, String) {
-    let agent: ureq::Agent = ureq::Agent::config_builder()
+/// A client that does not follow redirects.
+fn raw_agent() -> ureq::Agent {
+    ureq::Agent::config_builder()
         .http_status_as_error(false)
         .max_redirects(0)
         .build()
-        .into();
+        .into()
+}
+
+/// Status and Location of a request (as the admin token) that is not followed.
+fn no_follow(s: &TestServer, method: &str, path: &str, form: &str) -> (u16, String) {
+    let auth = format!("Bearer {}", admin_token(s));
+    let url = s.url(path);
     let r = if method == "POST" {
-        agent
-            .post(url)
+        raw_agent()
+            .post(&url)
+            .header("Authorization", &auth)
             .header("Content-Type", "application/x-www-form-urlencoded")
             .send(form.as_bytes())
     } else {
-        agent.get(url).call()
+        raw_agent().get(&url).header("Authorization", &auth).call()
     }
     .expect("request reaches the server");
     let loc = r
@@ -67,6 +74,48 @@ fn no_follow(method: &str, url: &str, form: &str) -> (u16, String) {
         .unwrap_or_default()
         .to_string();
     (r.status().as_u16(), loc)
+}
+
+/// Log in through the login form; the `gp_session` cookie pair.
+fn login(s: &TestServer, name: &str, role: groundproof::auth::Role) -> String {
+    let password = "a long test password, 2026";
+    groundproof::auth::create_user(&s.db, name, role, password, groundproof::auth::now_unix()).expect("user");
+    let body = format!("name={name}&password={}&next=/", password.replace(' ', "+").replace(',', "%2C"));
+    let r = raw_agent()
+        .post(&s.url("/login"))
+        .header("Origin", &s.url(""))
+        .header("Content-Type", "application/x-www-form-urlencoded")
+        .send(body.as_bytes())
+        .expect("login reaches the server");
+    assert_eq!(r.status().as_u16(), 303, "logged in");
+    let cookie = r
+        .headers()
+        .get_all("set-cookie")
+        .iter()
+        .filter_map(|v| v.to_str().ok())
+        .find(|c| c.starts_with("gp_session="))
+        .expect("session cookie");
+    cookie.split(';').next().unwrap_or_default().to_string()
+}
+
+/// A request with a session cookie from our own origin.
+fn with_session(s: &TestServer, cookie: &str, method: &str, path: &str, content_type: &str, body: &[u8]) -> Reply {
+    let url = s.url(path);
+    let r = if method == "POST" {
+        raw_agent()
+            .post(&url)
+            .header("Cookie", cookie)
+            .header("Origin", &s.url(""))
+            .header("Content-Type", content_type)
+            .send(body)
+    } else {
+        raw_agent().get(&url).header("Cookie", cookie).call()
+    };
+    let mut r = r.expect("request reaches the server");
+    Reply {
+        status: r.status().as_u16(),
+        body: r.body_mut().read_to_string().unwrap_or_default(),
+    }
 }
 
 fn event_count(s: &TestServer) -> usize {
@@ -98,11 +147,11 @@ fn assert_page(r: &Reply, status: u16, needles: &[&str]) {
 fn every_page_renders_with_its_key_elements() {
     let s = TestServer::start();
     load_scenario(&s);
-    let (status, loc) = no_follow("GET", &s.url("/"), "");
+    let (status, loc) = no_follow(&s, "GET", "/", "");
     assert_eq!(
         (status, loc.as_str()),
         (303, "/events"),
-        "no principal: events"
+        "an admin starts at the events"
     );
 
     let events = get(&s.url("/events"));
@@ -362,8 +411,9 @@ fn a_bundle_is_issued_and_cancelled_through_the_forms() {
         &[&id, "st-issued", &format!("action=\"/trips/{id}/cancel\"")],
     );
     let (status, loc) = no_follow(
+        &s,
         "POST",
-        &s.url(&format!("/trips/{id}/cancel")),
+        &format!("/trips/{id}/cancel"),
         "csrf_token=",
     );
     assert_eq!(
@@ -419,8 +469,9 @@ fn station_and_disputes_forms_refuse_bad_input_with_a_page() {
         &["Decided by"],
     );
     let (status, loc) = no_follow(
+        &s,
         "POST",
-        &url,
+        &format!("/disputes/{id}/adjudicate"),
         "outcome=false_alarm&reason=standing+forest+in+photos&by=Manager+One",
     );
     assert_eq!(
@@ -444,4 +495,52 @@ fn station_and_disputes_forms_refuse_bad_input_with_a_page() {
         200,
         &["st-false_alarm"],
     );
+}
+
+#[test]
+fn a_session_user_sees_their_name_and_forms_carry_the_csrf_token() {
+    use groundproof::auth::Role;
+    let s = TestServer::start();
+    load_scenario(&s);
+    let coord = login(&s, "coord-one", Role::Coordinator);
+    let page = with_session(&s, &coord, "GET", "/import", "", b"");
+    assert_page(&page, 200, &["Signed in as <strong>coord-one</strong> (coordinator)", "action=\"/logout\""]);
+    // The token: a hidden field in the urlencoded forms, in the query of the multipart ones.
+    let doc = scraper::Html::parse_document(&page.body);
+    let sel = scraper::Selector::parse("form[action^=\"/import/alerts?csrf_token=\"]").unwrap();
+    let action = doc.select(&sel).next().expect("multipart form with token").value().attr("action").unwrap().to_string();
+    let hidden = scraper::Selector::parse("form[action=\"/logout\"] input[type=hidden][name=csrf_token]").unwrap();
+    assert!(doc.select(&hidden).next().is_some(), "logout form has the token");
+    let csv = b"longitude,latitude,date,confidence\nwest,-3.20,2026-01-05,confirmed\n";
+    let body = multipart(&[("source", "optical-10m")], &[("file", "one.csv", csv)]);
+    let ct = format!("multipart/form-data; boundary={BOUNDARY}");
+    let r = with_session(&s, &coord, "POST", &action, &ct, &body);
+    assert_page(&r, 422, &["one.csv: line 2: field"]);
+    // Without the token the access layer refuses the form.
+    let r = with_session(&s, &coord, "POST", "/import/alerts", &ct, &body);
+    assert_eq!(r.status, 403, "{}", r.body);
+
+    // A manager starts at the dashboard and sees no import link.
+    let mgr = login(&s, "mgr-one", Role::Manager);
+    let r = raw_agent().get(&s.url("/")).header("Cookie", &mgr).call().expect("reply");
+    assert_eq!(r.headers().get("location").and_then(|v| v.to_str().ok()), Some("/dashboard"));
+    let dash = with_session(&s, &mgr, "GET", "/disputes", "", b"");
+    assert_page(&dash, 200, &["Signed in as <strong>mgr-one</strong> (manager)"]);
+    assert!(!dash.body.contains("href=\"/import\""), "managers do not import (access matrix)");
+    // The manager's name is the decider: no name field is asked for.
+    let id = get(&s.url("/api/v1/events?limit=1")).json()["features"][0]["id"].as_i64().unwrap();
+    let form = doc_token(&dash.body);
+    let r = with_session(&s, &mgr, "POST", &format!("/disputes/{id}/adjudicate"), "application/x-www-form-urlencoded",
+        format!("csrf_token={form}&outcome=confirmed&reason=fresh+stumps+in+photos").as_bytes());
+    assert_eq!(r.status, 303, "{}", r.body);
+    let log = s.db.read(|r| r.adjudications()).expect("adjudications");
+    let last = log.last().expect("one decision");
+    assert_eq!((last.event_id, last.outcome.as_str(), last.decided_by.as_str()), (id, "confirmed", "mgr-one"));
+}
+
+/// The CSRF token of the first hidden csrf_token field of a page.
+fn doc_token(body: &str) -> String {
+    let doc = scraper::Html::parse_document(body);
+    let sel = scraper::Selector::parse("input[type=hidden][name=csrf_token]").unwrap();
+    doc.select(&sel).next().and_then(|e| e.value().attr("value")).expect("a token").to_string()
 }

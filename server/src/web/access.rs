@@ -137,17 +137,19 @@ pub async fn enforce(
             if let Some(t) = bearer {
                 return Ok((auth::authenticate_bearer(&db, &t)?, None));
             }
-            if let Some(t) = cookie {
-                if let Some(s) = auth::authenticate_session(
+            let session = match cookie {
+                Some(t) => auth::authenticate_session(
                     &db,
                     &t,
                     auth::now_unix(),
                     &auth::AuthConfig::default(),
-                )? {
-                    return Ok((s.identity(), Some(s)));
-                }
-            }
-            Ok((Identity::Anonymous, None))
+                )?,
+                None => None,
+            };
+            Ok(match session {
+                Some(s) => (s.identity(), Some(s)),
+                None => (Identity::Anonymous, None),
+            })
         },
     )
     .await;
@@ -162,10 +164,8 @@ pub async fn enforce(
         }
     };
     let principal = identity.principal();
-    if let Some(s) = &session {
-        if let Ok(t) = s.csrf_token() {
-            req.extensions_mut().insert(CsrfToken(t));
-        }
+    if let Some(t) = session.as_ref().and_then(|s| s.csrf_token().ok()) {
+        req.extensions_mut().insert(CsrfToken(t));
     }
     req.extensions_mut().insert(identity.clone());
     req.extensions_mut().insert(principal);

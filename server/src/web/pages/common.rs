@@ -101,6 +101,9 @@ pub struct Layout {
     pub role: Option<String>,
     /// The CSRF hidden field (HTML), empty when there is no session.
     pub csrf: String,
+    /// `?csrf_token=…` for the action URL of multipart forms (the access
+    /// layer reads the token of a multipart form from the query), or empty.
+    pub csrf_query: String,
 }
 
 impl Layout {
@@ -119,6 +122,7 @@ impl Layout {
             user: viewer.name.clone(),
             role: viewer.principal.map(|p| p.as_str().to_string()),
             csrf: super::csrf_field(req),
+            csrf_query: super::csrf_query(req),
         }
     }
 }

@@ -47,6 +47,17 @@ pub fn csrf_field(req: &HttpRequest) -> String {
     }
 }
 
+/// `?csrf_token=TOKEN` (percent-encoded) for the action URL of a
+/// multipart form, or an empty string when the request has no token.
+pub fn csrf_query(req: &HttpRequest) -> String {
+    match req.extensions().get::<crate::auth::CsrfToken>() {
+        Some(t) if !t.0.is_empty() => {
+            format!("?{}={}", crate::auth::CSRF_FIELD, events::urlencode(&t.0))
+        }
+        _ => String::new(),
+    }
+}
+
 /// `GET /`: where a user starts.
 pub async fn home(req: HttpRequest) -> HttpResponse {
     let viewer = Viewer::of(&req);
@@ -91,11 +102,13 @@ mod tests {
     fn the_csrf_field_is_escaped_and_absent_without_a_token() {
         let req = TestRequest::default().to_http_request();
         assert_eq!(csrf_field(&req), "");
+        assert_eq!(csrf_query(&req), "");
         req.extensions_mut()
             .insert(crate::auth::CsrfToken("a\"b<c".into()));
         assert_eq!(
             csrf_field(&req),
             r#"<input type="hidden" name="csrf_token" value="a&quot;b&lt;c">"#
         );
+        assert_eq!(csrf_query(&req), "?csrf_token=a%22b%3Cc");
     }
 }
