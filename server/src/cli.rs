@@ -633,7 +633,8 @@ fn serve_demo(
 
 fn serve(db: Db, settings: Settings, data_dir: &Path, bind: &str) -> Result<()> {
     // Files a crash left without a row (invariant 3) go before serving.
-    let cleaned = groundproof::intake::cleanup(&db, data_dir).map_err(|e| anyhow::anyhow!("cleaning up after a crash: {e}"))?;
+    let cleaned = groundproof::intake::cleanup(&db, data_dir)
+        .map_err(|e| anyhow::anyhow!("cleaning up after a crash: {e}"))?;
     tracing::info!(?cleaned, "start-up cleanup done");
     match groundproof::auth::ensure_first_admin(
         &db,

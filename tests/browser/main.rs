@@ -51,7 +51,9 @@ fn relay(mut client: TcpStream, target: SocketAddr, token: &str) -> std::io::Res
         out.push_str(line);
         out.push_str("\r\n");
     }
-    out.push_str(&format!("Authorization: Bearer {token}\r\nConnection: close\r\n\r\n"));
+    out.push_str(&format!(
+        "Authorization: Bearer {token}\r\nConnection: close\r\n\r\n"
+    ));
     let mut server = TcpStream::connect(target)?;
     server.write_all(out.as_bytes())?;
     server.write_all(&head[end..])?;
@@ -109,19 +111,27 @@ fn run_chromium(bin: &Path, profile: &Path, extra: &[String], url: &str) -> Stri
     .stdout(Stdio::piped())
     .stderr(Stdio::null());
     let mut child = cmd.spawn().expect("chromium starts");
+    // Read stdout while Chromium runs: a large DOM would fill the pipe.
+    let mut stdout = child.stdout.take().expect("piped stdout");
+    let reader = std::thread::spawn(move || {
+        let mut out = Vec::new();
+        let _ = stdout.read_to_end(&mut out);
+        out
+    });
     let start = Instant::now();
     loop {
         match child.try_wait().expect("chromium runs") {
             Some(_) => break,
             None if start.elapsed() > CHROMIUM_TIMEOUT => {
                 let _ = child.kill();
+                let _ = child.wait();
                 panic!("chromium took longer than {CHROMIUM_TIMEOUT:?} on {url}");
             }
             None => std::thread::sleep(Duration::from_millis(100)),
         }
     }
-    let out = child.wait_with_output().expect("chromium output");
-    String::from_utf8_lossy(&out.stdout).into_owned()
+    let out = reader.join().unwrap_or_default();
+    String::from_utf8_lossy(&out).into_owned()
 }
 
 #[test]

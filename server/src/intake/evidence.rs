@@ -22,13 +22,13 @@
 //! | flag | when |
 //! |---|---|
 //! | `position_missing` | an event or control report without a position |
-//! | `position_far_from_target` | the reported position is more than the tolerance from the footprint |
+//! | `position_far_from_target` | the reported position is more than the tolerance from the footprint (not raised for `not_reached`: far is what it means) |
 //! | `photo_no_gps:<sha>` | the photo carries no GPS position |
 //! | `photo_far_from_target:<sha>` | the photo's GPS position is more than the tolerance from the footprint |
 //! | `photo_no_time:<sha>` | the photo carries no time |
 //! | `photo_before_detection:<sha>` | taken on a day before the event's first detection |
 //! | `photo_outside_window:<sha>` | taken before the bundle was issued or after it expired |
-//! | `photo_reused:<sha>` | the same photo is stored under another report |
+//! | `photo_reused:<sha>` | the same photo is stored under another report (other than the report it supersedes or that supersedes it) |
 //!
 //! The tolerance defaults to [`DEFAULT_TOLERANCE_M`] = 100 m (common
 //! practice: consumer GPS under canopy errs by tens of metres, and a team

@@ -321,8 +321,28 @@ impl Context<'_> {
         };
         let (distance_m, mut flags) = match kind {
             "new_clearing" => (Some(0.0), Vec::new()),
+            // A team that turned back reports where it turned back: the
+            // distance is kept, but being far is what not reached means.
+            _ if r.outcome == "not_reached" => (
+                evidence::check_position(&ctx, r.position.map(|p| (p.lat, p.lon))).0,
+                Vec::new(),
+            ),
             _ => evidence::check_position(&ctx, r.position.map(|p| (p.lat, p.lon))),
         };
+        // An amendment keeps the photos of the report it replaces: sharing
+        // them within that line of reports is not reuse.
+        let lineage: BTreeSet<Uuid> = r
+            .supersedes
+            .into_iter()
+            .chain(
+                self.opened
+                    .reports
+                    .iter()
+                    .filter(|o| o.supersedes == Some(r.report_id))
+                    .map(|o| o.report_id),
+            )
+            .collect();
+        let supersedes = r.supersedes.map(|u| u.to_string()).unwrap_or_default();
         let mut photos = Vec::new();
         let mut checks = Vec::new();
         let mut rows = Vec::new();
@@ -351,8 +371,11 @@ impl Context<'_> {
             let in_package = self
                 .users
                 .get(&p.sha256)
-                .is_some_and(|u| u.iter().any(|o| *o != r.report_id));
-            let reused = in_package || self.db.read(|x| x.photo_used_by_other(&p.sha256, &id))?;
+                .is_some_and(|u| u.iter().any(|o| *o != r.report_id && !lineage.contains(o)));
+            let reused = in_package
+                || self
+                    .db
+                    .read(|x| x.photo_used_by_other(&p.sha256, &id, &supersedes))?;
             let v = evidence::check_photo(
                 &ctx,
                 &PhotoFacts {

@@ -600,10 +600,19 @@ impl Reader<'_> {
     }
 
     /// Reports (other than `report_id`) that already hold photo `sha256`.
-    pub fn photo_used_by_other(&self, sha256: &str, report_id: &str) -> Result<bool> {
+    /// Whether a photo is stored under a report other than `report_id`,
+    /// the report it supersedes, and the reports that supersede it.
+    pub fn photo_used_by_other(
+        &self,
+        sha256: &str,
+        report_id: &str,
+        supersedes: &str,
+    ) -> Result<bool> {
         Ok(self.conn.query_row(
-            "SELECT EXISTS (SELECT 1 FROM report_photos WHERE sha256 = ?1 AND report_id <> ?2)",
-            [sha256, report_id],
+            "SELECT EXISTS (SELECT 1 FROM report_photos rp WHERE rp.sha256 = ?1 AND rp.report_id <> ?2
+                AND rp.report_id <> ?3
+                AND rp.report_id NOT IN (SELECT report_id FROM reports WHERE supersedes = ?2))",
+            [sha256, report_id, supersedes],
             |r| r.get::<_, i64>(0),
         )? != 0)
     }

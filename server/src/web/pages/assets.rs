@@ -97,7 +97,7 @@ mod tests {
     #[test]
     fn contrast_ratio_matches_the_wcag_definition() {
         // WCAG 2.x: black on white is 21:1; #767676 on white is about 4.54:1
-        // (the lightest grey that passes AA, common practice).
+        // (the lightest grey that passes AA; common practice, value recalled from memory).
         let white = Rgb(255, 255, 255);
         assert!((contrast_ratio(Rgb(0, 0, 0), white) - 21.0).abs() < 1e-9);
         let r = contrast_ratio(Rgb(0x76, 0x76, 0x76), white);

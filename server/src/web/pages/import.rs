@@ -5,7 +5,7 @@
 //! a refused file shows every error with its line number and imports
 //! nothing.
 
-use super::common::{Layout, PageError, Viewer, error_page, fixed, html, respond};
+use super::common::{Layout, PageError, Viewer, error_page, fixed, html};
 use super::form::{FileSpec, Parts, human_bytes, read_parts};
 use crate::auth::Action;
 use crate::domain::{ConfidenceMap, SourceName};
@@ -272,8 +272,7 @@ pub async fn zones(req: HttpRequest, state: web::Data<AppState>, mp: Multipart) 
         Ok(z) => Shown::Zones(z),
         Err(e) => Shown::Error(e),
     };
-    let r = render(&req, &state, &viewer, None, shown).await;
-    respond(&req, &viewer, Ok(r))
+    render(&req, &state, &viewer, None, shown).await
 }
 
 #[cfg(test)]
