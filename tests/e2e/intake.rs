@@ -258,7 +258,7 @@ fn ten_reports_through_a_connection_cut_twice_and_whole_through_the_station() {
     let summary = push(
         &ws,
         &proxy.url(),
-        Some("team-token-not-checked-yet"),
+        Some(&groundproof_e2e::admin_token(&s)),
         &fast_push(),
     )
     .expect("push completes through the cuts");
@@ -726,7 +726,12 @@ fn bad_photos_bad_signatures_and_bad_archives_are_refused_with_reasons() {
     );
     assert_eq!(c.status, 200, "{}", c.body);
     record_events_from(&ws, 2, 1, 77);
-    let r = push(&ws, &s.url(""), None, &fast_push());
+    let r = push(
+        &ws,
+        &s.url(""),
+        Some(&groundproof_e2e::admin_token(&s)),
+        &fast_push(),
+    );
     let err = r
         .expect_err("a cancelled bundle's push is refused")
         .to_string();
@@ -772,7 +777,13 @@ fn a_far_photo_and_a_photo_from_before_the_detection_are_flagged_not_rejected() 
     ]);
     let (far_sha, _) = sha256_file(&far).unwrap();
     let (old_sha, _) = sha256_file(&old).unwrap();
-    let summary = push(&ws, &s.url(""), None, &fast_push()).unwrap();
+    let summary = push(
+        &ws,
+        &s.url(""),
+        Some(&groundproof_e2e::admin_token(&s)),
+        &fast_push(),
+    )
+    .unwrap();
     assert_eq!(summary.accepted, 1, "flagged, not rejected");
     let rows = facts(&s.db);
     assert_eq!(rows.len(), 1);
@@ -859,7 +870,13 @@ fn spawn_server(data: &Path) -> (std::process::Child, SocketAddr) {
     let mut text = String::new();
     let mut buf = [0u8; 256];
     let deadline = Instant::now() + Duration::from_secs(30);
-    while !text.contains('\n') && Instant::now() < deadline {
+    // The first run prints the admin's password before the address line.
+    while !text
+        .split("http://")
+        .nth(1)
+        .is_some_and(|t| t.contains('\n'))
+        && Instant::now() < deadline
+    {
         let n = out.read(&mut buf).unwrap_or(0);
         if n == 0 {
             break;
@@ -884,12 +901,13 @@ fn kill_9_during_intake_loses_no_acknowledged_report_and_leaves_no_half_rows() {
     // Prepare a data directory with a bundle through the in-process server.
     let tmp = tempfile::tempdir().unwrap();
     let data = tmp.path().join("data");
-    let bundle = {
+    let (bundle, token) = {
         let s = TestServer::start();
         load_scenario(&s);
         let (_, bundle) = issue_bundle(&s.url(""), "Team Amber");
         copy_data(s.data_dir(), &data);
-        bundle
+        // The admin token is in the copied database too.
+        (bundle, groundproof_e2e::admin_token(&s))
     };
     let ws = open_workspace(tmp.path(), "ws", &bundle);
     record_events(&ws, 10, 1);
@@ -898,10 +916,11 @@ fn kill_9_during_intake_loses_no_acknowledged_report_and_leaves_no_half_rows() {
     let proxy = CutProxy::start(addr, vec![]);
     let url = proxy.url();
     let ws2 = ws.clone();
+    let token2 = token.clone();
     let pusher = std::thread::spawn(move || {
         let mut o = fast_push();
         o.chunk_bytes = 16 << 10;
-        push(&ws2, &url, None, &o)
+        push(&ws2, &url, Some(&token2), &o)
     });
     // Kill the server three times while the push runs, restarting it each time.
     for k in 0..3u64 {
@@ -914,7 +933,7 @@ fn kill_9_during_intake_loses_no_acknowledged_report_and_leaves_no_half_rows() {
     }
     let first = pusher.join().unwrap();
     // Push again (the outbox resends whatever was not acknowledged).
-    let again = push(&ws, &proxy.url(), None, &fast_push());
+    let again = push(&ws, &proxy.url(), Some(&token), &fast_push());
     let acknowledged: Vec<String> = groundproof_sync::outbox::Outbox::open(&ws)
         .unwrap()
         .reports()

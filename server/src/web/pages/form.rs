@@ -57,11 +57,11 @@ pub fn human_bytes(n: u64) -> String {
     const KIB: u64 = 1024;
     const MIB: u64 = 1024 * KIB;
     const GIB: u64 = 1024 * MIB;
-    if n >= GIB && n % GIB == 0 {
+    if n >= GIB && n.is_multiple_of(GIB) {
         format!("{} GiB", n / GIB)
-    } else if n >= MIB && n % MIB == 0 {
+    } else if n >= MIB && n.is_multiple_of(MIB) {
         format!("{} MiB", n / MIB)
-    } else if n >= KIB && n % KIB == 0 {
+    } else if n >= KIB && n.is_multiple_of(KIB) {
         format!("{} KiB", n / KIB)
     } else {
         format!("{n} bytes")
