@@ -176,6 +176,9 @@ struct IssueArgs {
     confidence: Option<String>,
     #[arg(long)]
     min_area_ha: Option<f64>,
+    /// Only events with this status (repeatable): unvisited, not_reached, confirmed, false_alarm, inconclusive, disputed.
+    #[arg(long)]
+    status: Vec<String>,
     /// Most events (response default 20; assessment: the sample must fit under it).
     #[arg(long)]
     max: Option<usize>,
@@ -481,6 +484,7 @@ fn issue(a: IssueArgs) -> Result<()> {
         "start": start_json(&a.start)?,
         "mode": a.mode, "zone": a.zone, "from": a.from, "to": a.to, "source": a.source,
         "confidence": a.confidence, "min_area_ha": a.min_area_ha, "max": a.max, "margin": a.margin,
+        "status": (!a.status.is_empty()).then_some(&a.status),
         "controls": a.controls, "control_min_distance_m": a.control_min_distance_m, "seed": a.seed,
         "walking_kmh": a.walking_kmh, "due_days": a.due_days, "expires_days": a.expires_days,
         "extent": match &a.extent {

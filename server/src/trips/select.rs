@@ -55,6 +55,9 @@ pub struct TripRequest {
     pub source: Option<String>,
     pub confidence: Option<Confidence>,
     pub min_area_ha: Option<f64>,
+    /// Only events whose reconciled status is one of these (e.g.
+    /// `unvisited`, `inconclusive`, `disputed`); empty takes any status.
+    pub statuses: Vec<String>,
     /// Most events to take (response mode default 20; in assessment mode a
     /// cap that the sample must fit under).
     pub max: Option<usize>,
@@ -87,6 +90,7 @@ impl TripRequest {
             source: None,
             confidence: None,
             min_area_ha: None,
+            statuses: Vec::new(),
             max: None,
             start,
             start_name: "start".into(),
@@ -179,6 +183,34 @@ pub fn select(db: &Db, settings: &Settings, req: &TripRequest) -> Result<Selecti
     let mut pool = ranked_events(db, &filter, &settings.priority, req.as_of)?;
     if let Some(c) = req.confidence {
         pool.retain(|e| e.record.attrs.highest_confidence == c);
+    }
+    if !req.statuses.is_empty() {
+        const KNOWN: [&str; 6] = [
+            "unvisited",
+            "not_reached",
+            "confirmed",
+            "false_alarm",
+            "inconclusive",
+            "disputed",
+        ];
+        if let Some(bad) = req.statuses.iter().find(|s| !KNOWN.contains(&s.as_str())) {
+            return Err(Error::Invalid(format!(
+                "status '{bad}': expected one of {}",
+                KNOWN.join(", ")
+            )));
+        }
+        let statuses = crate::dashboard::load(
+            db,
+            &Default::default(),
+            crate::dashboard::DISPUTE_WINDOW_DAYS,
+        )?
+        .statuses;
+        pool.retain(|e| {
+            let s = statuses
+                .get(&e.record.id)
+                .map_or("unvisited", |s| s.status.as_str());
+            req.statuses.iter().any(|w| w == s)
+        });
     }
     if let Some(extent) = &req.extent {
         pool.retain(|e| {

@@ -57,6 +57,8 @@ pub struct IssueBody {
     source: Option<String>,
     confidence: Option<String>,
     min_area_ha: Option<f64>,
+    /// Only events with one of these statuses.
+    status: Option<Vec<String>>,
     max: Option<usize>,
     margin: Option<f64>,
     controls: Option<usize>,
@@ -108,6 +110,7 @@ pub fn trip_request(b: IssueBody) -> Result<TripRequest, Error> {
         }
     };
     r.min_area_ha = b.min_area_ha;
+    r.statuses = b.status.unwrap_or_default();
     r.max = b.max;
     if let Some(m) = b.margin {
         r.margin = m;
