@@ -152,18 +152,14 @@ pub fn link(points: &[LinkPoint], rule: &LinkRule) -> UnionFind {
         }
     }
 
-    // Re-express the sets over the caller's point indices.
-    let mut by_point = UnionFind::new(n);
-    let mut root_slot_point = vec![u32::MAX; n];
+    // Re-express the sets over the caller's point indices: every point
+    // points at the point of its slot's root (a forest of depth one).
+    let mut parent = vec![0u32; n];
     for (slot, &p) in slot_point.iter().enumerate() {
-        let r = uf.find(slot as u32) as usize;
-        if root_slot_point[r] == u32::MAX {
-            root_slot_point[r] = p;
-        } else {
-            by_point.union(root_slot_point[r], p);
-        }
+        let root = uf.find(slot as u32);
+        parent[p as usize] = slot_point[root as usize];
     }
-    by_point
+    UnionFind::from_parents(parent)
 }
 
 #[cfg(test)]

@@ -15,6 +15,20 @@ impl UnionFind {
         }
     }
 
+    /// A forest given by parent pointers (each entry a valid index whose
+    /// chain ends at a root pointing to itself).
+    pub fn from_parents(parent: Vec<u32>) -> Self {
+        let mut uf = UnionFind {
+            size: vec![0; parent.len()],
+            parent,
+        };
+        for i in 0..uf.parent.len() as u32 {
+            let r = uf.find(i);
+            uf.size[r as usize] += 1;
+        }
+        uf
+    }
+
     pub fn len(&self) -> usize {
         self.parent.len()
     }
