@@ -1,217 +1,367 @@
-//! Browser test: headless Chromium renders each main page of a server
-//! loaded with the demo scenario; the rendered DOM must hold the page's key
-//! elements (`--dump-dom`), and a screenshot of each page is saved under
-//! `CARGO_TARGET_TMPDIR/browser-screenshots/` for a person to look at.
-//! Skips with a printed SKIP line when Chromium is not installed
-//! (`apt-get install -y chromium`).
+//! Browser test: a coordinator and a manager work through the real pages
+//! in headless Chromium, driven over WebDriver (Debian's `chromium` and
+//! `chromium-driver`; `.ci/run` installs both). The server is the real one
+//! on a random loopback port, loaded with the invented scenario.
 //!
-//! Chromium's command line cannot log in, so it talks to the server through
-//! a small loopback relay that adds the test's admin bearer token to each
-//! request (and asks for one request per connection, so every request
-//! passes the relay's rewrite).
+//! The walk: the login page guards every page; the coordinator logs in
+//! through the form, imports an alert file (and sees a bad one refused
+//! with its line), issues a bundle and downloads it with the session; the
+//! field kit records two devices' visits (one event disputed) and packs
+//! their returns; the station page takes both returns (and refuses a file
+//! that is not one); the coordinator logs out, the manager logs in,
+//! settles the dispute and opens the dashboard.
+//!
+//! The server is loaded as the demo loads it, and the logins are the
+//! demo's, so this walk is also the README's tour.
+//!
+//! On every page: its key elements are there, the browser console logged
+//! no error (failed loads included), every form control has a label, and a
+//! screenshot is saved under `CARGO_TARGET_TMPDIR/browser-screenshots/`
+//! (and, when `GROUNDPROOF_TOUR_DIR` is set, there too: the README's tour
+//! pictures are made this way).
+//!
+//! Skips with a printed SKIP line when Chromium or ChromeDriver is missing.
 
-use groundproof_e2e::{TestServer, admin_token, get, load_scenario, post_json};
-use serde_json::json;
-use std::io::{Read, Write};
-use std::net::{Shutdown, SocketAddr, TcpListener, TcpStream};
+mod webdriver;
+
+use groundproof::demo::{DEMO_LOGINS, load, run_trips};
+use groundproof::settings::Settings;
+use groundproof_e2e::TestServer;
 use std::path::{Path, PathBuf};
-use std::process::{Command, Stdio};
-use std::time::{Duration, Instant};
+use webdriver::Browser;
 
-/// Largest request head the relay reads.
-const MAX_HEAD_BYTES: usize = 64 * 1024;
-
-/// Relay one connection: rewrite the request head (bearer token added,
-/// `Connection: close`), then copy bytes both ways.
-fn relay(mut client: TcpStream, target: SocketAddr, token: &str) -> std::io::Result<()> {
-    client.set_read_timeout(Some(Duration::from_secs(30)))?;
-    let mut head = Vec::new();
-    let mut buf = [0u8; 4096];
-    let end = loop {
-        let n = client.read(&mut buf)?;
-        if n == 0 {
-            return Ok(());
-        }
-        head.extend_from_slice(&buf[..n]);
-        if let Some(i) = head.windows(4).position(|w| w == b"\r\n\r\n") {
-            break i + 4;
-        }
-        if head.len() > MAX_HEAD_BYTES {
-            return Ok(());
-        }
-    };
-    let text = String::from_utf8_lossy(&head[..end]).into_owned();
-    let mut out = String::new();
-    for (i, line) in text.split("\r\n").filter(|l| !l.is_empty()).enumerate() {
-        let lower = line.to_ascii_lowercase();
-        let dropped = ["connection:", "keep-alive:", "authorization:"];
-        if i > 0 && dropped.iter().any(|d| lower.starts_with(d)) {
-            continue;
-        }
-        out.push_str(line);
-        out.push_str("\r\n");
-    }
-    out.push_str(&format!(
-        "Authorization: Bearer {token}\r\nConnection: close\r\n\r\n"
-    ));
-    let mut server = TcpStream::connect(target)?;
-    server.write_all(out.as_bytes())?;
-    server.write_all(&head[end..])?;
-    let (mut c2, mut s2) = (client.try_clone()?, server.try_clone()?);
-    std::thread::spawn(move || {
-        let _ = std::io::copy(&mut c2, &mut s2);
-    });
-    std::io::copy(&mut server, &mut client)?;
-    let _ = client.shutdown(Shutdown::Both);
-    Ok(())
-}
-
-/// Start the relay on a loopback port; its address.
-fn start_relay(target: SocketAddr, token: String) -> SocketAddr {
-    let listener = TcpListener::bind("127.0.0.1:0").expect("relay binds");
-    let addr = listener.local_addr().expect("relay address");
-    std::thread::spawn(move || {
-        for conn in listener.incoming().flatten() {
-            let token = token.clone();
-            std::thread::spawn(move || {
-                let _ = relay(conn, target, &token);
-            });
-        }
-    });
-    addr
-}
-
-/// Longest a single Chromium run may take before it is stopped.
-const CHROMIUM_TIMEOUT: Duration = Duration::from_secs(90);
-
-fn chromium() -> Option<PathBuf> {
-    ["/usr/bin/chromium", "/usr/bin/chromium-browser"]
+/// A demo login's password (the README's tour uses the same).
+fn password_of(name: &str) -> &'static str {
+    DEMO_LOGINS
         .iter()
-        .map(PathBuf::from)
-        .find(|p| p.exists())
+        .find(|(n, _, _)| *n == name)
+        .map(|(_, _, p)| *p)
+        .unwrap_or_else(|| panic!("no demo login {name}"))
 }
 
-/// Run Chromium headless with `extra` arguments on `url`; stdout as text.
-fn run_chromium(bin: &Path, profile: &Path, extra: &[String], url: &str) -> String {
-    let mut cmd = Command::new(bin);
-    cmd.args([
-        "--headless",
-        "--no-sandbox",
-        "--disable-gpu",
-        "--disable-quic",
-        "--no-first-run",
-        "--disable-background-networking",
-        "--disable-component-update",
-        "--disable-sync",
-        "--hide-scrollbars",
-    ])
-    .arg(format!("--user-data-dir={}", profile.display()))
-    .args(extra)
-    .arg(url)
-    .stdout(Stdio::piped())
-    .stderr(Stdio::null());
-    let mut child = cmd.spawn().expect("chromium starts");
-    // Read stdout while Chromium runs: a large DOM would fill the pipe.
-    let mut stdout = child.stdout.take().expect("piped stdout");
-    let reader = std::thread::spawn(move || {
-        let mut out = Vec::new();
-        let _ = stdout.read_to_end(&mut out);
-        out
-    });
-    let start = Instant::now();
-    loop {
-        match child.try_wait().expect("chromium runs") {
-            Some(_) => break,
-            None if start.elapsed() > CHROMIUM_TIMEOUT => {
-                let _ = child.kill();
-                let _ = child.wait();
-                panic!("chromium took longer than {CHROMIUM_TIMEOUT:?} on {url}");
-            }
-            None => std::thread::sleep(Duration::from_millis(100)),
+/// Where screenshots go.
+struct Shots {
+    dirs: Vec<PathBuf>,
+}
+
+impl Shots {
+    fn new() -> Shots {
+        let mut dirs = vec![Path::new(env!("CARGO_TARGET_TMPDIR")).join("browser-screenshots")];
+        if let Some(d) = std::env::var_os("GROUNDPROOF_TOUR_DIR") {
+            dirs.push(PathBuf::from(d));
+        }
+        for d in &dirs {
+            std::fs::create_dir_all(d).expect("screenshot folder");
+        }
+        Shots { dirs }
+    }
+
+    /// Save the viewport as `stem.png`; it must be a real, non-blank PNG.
+    fn take(&self, b: &Browser, stem: &str) {
+        for d in &self.dirs {
+            let path = d.join(format!("{stem}.png"));
+            b.screenshot(&path);
+            let bytes = std::fs::read(&path).expect("screenshot written");
+            // PNG signature (PNG specification, 3rd ed., §5.2).
+            assert_eq!(&bytes[..8], b"\x89PNG\r\n\x1a\n", "{stem}: a PNG");
+            assert!(
+                bytes.len() > 10_000,
+                "{stem}: the screenshot is not blank ({} bytes)",
+                bytes.len()
+            );
+            println!("screenshot: {}", path.display());
         }
     }
-    let out = reader.join().unwrap_or_default();
-    String::from_utf8_lossy(&out).into_owned()
+}
+
+/// What every page must satisfy: no console error since the last check
+/// (a failed request for a style sheet, icon or image logs one), and a
+/// label for every visible form control (WCAG 2.x success criterion 1.3.1
+/// / 4.1.2: each control has an accessible name).
+fn assert_clean(b: &Browser, page: &str) {
+    assert_clean_with_status(b, page, None);
+}
+
+/// As [`assert_clean`], for a page that answers a refused form with an
+/// error status on purpose (422): Chromium logs that status for the page
+/// itself, and only that entry is allowed.
+fn assert_clean_with_status(b: &Browser, page: &str, status: Option<u16>) {
+    let url = b.current_url();
+    let allowed = |e: &webdriver::LogEntry| {
+        status.is_some_and(|st| {
+            e.source == "network"
+                && e.message.starts_with(&url)
+                && e.message.contains(&format!("status of {st} "))
+        })
+    };
+    let errors: Vec<String> = b
+        .console()
+        .into_iter()
+        .filter(|e| e.level == "SEVERE" && !allowed(e))
+        .map(|e| e.message)
+        .collect();
+    assert!(errors.is_empty(), "{page}: console errors: {errors:#?}");
+    let unlabelled = b.script(
+        "return Array.from(document.querySelectorAll(\
+           'input:not([type=hidden]), select, textarea'))\
+         .filter(e => !(e.labels && e.labels.length) && !e.getAttribute('aria-label'))\
+         .map(e => e.outerHTML.slice(0, 160));",
+    );
+    assert_eq!(
+        unlabelled.as_array().map_or(0, Vec::len),
+        0,
+        "{page}: form controls without a label: {unlabelled}"
+    );
+}
+
+fn assert_has(b: &Browser, page: &str, needles: &[&str]) {
+    let dom = b.source();
+    for n in needles {
+        assert!(dom.contains(n), "{page}: the page lacks {n:?}");
+    }
+    assert!(
+        dom.contains("/static/app.css"),
+        "{page}: the style sheet is linked"
+    );
+}
+
+fn log_in(b: &Browser, name: &str, password: &str) {
+    b.find("form[action=\"/login\"]");
+    b.type_into("#name", name);
+    b.type_into("#password", password);
+    b.click("form[action=\"/login\"] button[type=submit]");
+    let who = b.text(".who");
+    assert!(who.contains(name), "signed in as {name}: {who:?}");
+}
+
+/// Submit the form whose `action` starts with `action`.
+fn submit(b: &Browser, action: &str) {
+    b.click(&format!("form[action^=\"{action}\"] button[type=submit]"));
+}
+
+/// Download `href` with the browser's session cookie, as the link does.
+fn download_with_session(b: &Browser, s: &TestServer, href: &str) -> Vec<u8> {
+    let cookies = b.script("return document.cookie;");
+    // The session cookie is HttpOnly: scripts cannot read it (that is the
+    // point), so it is taken from WebDriver's cookie store instead.
+    assert!(
+        !cookies.as_str().unwrap_or_default().contains("gp_session"),
+        "the session cookie is hidden from scripts"
+    );
+    let session = b.cookie("gp_session").expect("a session cookie");
+    let agent: ureq::Agent = ureq::Agent::config_builder()
+        .http_status_as_error(false)
+        .build()
+        .into();
+    let mut r = agent
+        .get(&s.url(href))
+        .header("Cookie", format!("gp_session={session}"))
+        .call()
+        .expect("download reaches the server");
+    assert_eq!(r.status().as_u16(), 200, "download {href}");
+    r.body_mut()
+        .with_config()
+        .limit(256 << 20)
+        .read_to_vec()
+        .expect("download body")
 }
 
 #[test]
-fn main_pages_render_in_headless_chromium() {
-    let Some(bin) = chromium() else {
-        println!("SKIP: chromium is not installed (apt-get install -y chromium)");
-        return;
-    };
-    let s = TestServer::start();
-    load_scenario(&s);
-    let station = mock_patrols::scenario().station;
-    let r = post_json(
-        &s.url("/api/v1/bundles"),
-        &json!({"team": "Team Amber", "zone": "Core", "max": 6, "start": {"lat": station.1, "lon": station.0}}),
-    );
-    assert_eq!(r.status, 201, "{}", r.body);
-    let id = get(&s.url("/api/v1/events?limit=1")).json()["features"][0]["id"]
-        .as_i64()
-        .expect("an event");
-
-    let out_dir = Path::new(env!("CARGO_TARGET_TMPDIR")).join("browser-screenshots");
-    std::fs::create_dir_all(&out_dir).expect("screenshot folder");
-    let profile = tempfile::tempdir().expect("profile dir");
-    let event_path = format!("/events/{id}");
-    // (path, file stem, what the rendered DOM must contain)
-    let pages: Vec<(&str, &str, Vec<&str>)> = vec![
-        (
-            "/events",
-            "events",
-            vec!["<svg", "Events in priority order", "Safety first"],
-        ),
-        (&event_path, "event", vec!["Attributes", "Alerts ("]),
-        (
-            "/import",
-            "import",
-            vec!["Alert file", "Zone file", "optical-10m"],
-        ),
-        (
-            "/trips",
-            "trips",
-            vec!["Issue a bundle", "st-issued", "Download"],
-        ),
-        ("/station", "station", vec!["Upload a return package"]),
-        (
-            "/dashboard",
-            "dashboard",
-            vec!["<svg", "Kaplan", "descriptive (response visits)"],
-        ),
-        ("/disputes", "disputes", vec!["Disputes"]),
-    ];
-    let relay = start_relay(s.addr, admin_token(&s));
-    for (path, stem, needles) in &pages {
-        let url = format!("http://{relay}{path}");
-        let dom = run_chromium(&bin, profile.path(), &["--dump-dom".to_string()], &url);
-        for n in needles {
-            assert!(dom.contains(n), "{path}: the rendered DOM lacks {n:?}");
+fn coordinator_and_manager_work_through_the_pages_in_chromium() {
+    let b = match Browser::start() {
+        Ok(b) => b,
+        Err(e) => {
+            println!("SKIP: {e}");
+            return;
         }
-        assert!(
-            dom.contains("/static/app.css"),
-            "{path}: the style sheet is linked"
-        );
-        let shot = out_dir.join(format!("{stem}.png"));
-        let _ = std::fs::remove_file(&shot);
-        run_chromium(
-            &bin,
-            profile.path(),
-            &[
-                format!("--screenshot={}", shot.display()),
-                "--window-size=1280,1800".to_string(),
-            ],
-            &url,
-        );
-        let bytes = std::fs::read(&shot).unwrap_or_else(|e| panic!("{path}: no screenshot ({e})"));
-        // PNG signature (PNG specification, 3rd ed., §5.2).
-        assert_eq!(&bytes[..8], b"\x89PNG\r\n\x1a\n", "{path}: a PNG");
-        assert!(
-            bytes.len() > 10_000,
-            "{path}: the screenshot is not blank ({} bytes)",
-            bytes.len()
-        );
-        println!("screenshot: {}", shot.display());
+    };
+    // The server holds what `cargo run --release -- demo` shows: the
+    // scenario, the demo's logins, and its trips pushed back by the field kit.
+    let s = TestServer::start();
+    let work = tempfile::tempdir().expect("work folder");
+    let summary = load(&s.db, s.data_dir(), &Settings::default()).expect("demo loads");
+    run_trips(&s.db, &summary, &work.path().join("demo"), &s.url("")).expect("demo trips");
+    let shots = Shots::new();
+
+    // Nobody unauthenticated sees a page: the events page sends to the login.
+    b.goto(&s.url("/events"));
+    assert!(b.current_url().contains("/login"), "{}", b.current_url());
+    assert_has_login(&b);
+    assert_clean(&b, "login");
+    shots.take(&b, "login");
+
+    // The coordinator logs in and lands where they were going.
+    log_in(&b, "coordinator", password_of("coordinator"));
+    assert!(b.current_url().ends_with("/events"), "{}", b.current_url());
+    assert_has(
+        &b,
+        "events",
+        &["<svg", "Events in priority order", "Safety first"],
+    );
+    assert_clean(&b, "events");
+    shots.take(&b, "events");
+
+    // Import: a good alert file, then a bad one.
+    let station = mock_patrols::scenario().station;
+    let good = work.path().join("new-alerts.csv");
+    std::fs::write(
+        &good,
+        format!(
+            "longitude,latitude,date,confidence\n{:.6},{:.6},2026-11-20,confirmed\n{:.6},{:.6},2026-11-20,tentative\n",
+            station.0 - 0.05,
+            station.1,
+            station.0 - 0.05,
+            station.1 + 0.0001
+        ),
+    )
+    .expect("alert file");
+    b.goto(&s.url("/import"));
+    assert_clean(&b, "import form");
+    b.choose("#alert-source", "optical-10m");
+    b.choose_file("#alert-file", &good);
+    submit(&b, "/import/alerts");
+    let ok = b.text(".ok-box");
+    assert!(ok.contains("alerts imported 2"), "import result: {ok}");
+    assert!(ok.contains("events created 1"), "import result: {ok}");
+    assert_clean(&b, "import result");
+    shots.take(&b, "import");
+
+    let bad = work.path().join("bad-alerts.csv");
+    std::fs::write(
+        &bad,
+        "longitude,latitude,date,confidence\n-60.5,-3.6,2026-11-20,confirmed\n-60.5,95.0,2026-11-20,confirmed\n",
+    )
+    .expect("bad file");
+    b.goto(&s.url("/import"));
+    b.choose("#alert-source", "optical-10m");
+    b.choose_file("#alert-file", &bad);
+    submit(&b, "/import/alerts");
+    let err = b.text(".error-box");
+    assert!(err.contains("Nothing was imported"), "{err}");
+    assert!(err.contains("line 3"), "the error names the line: {err}");
+    assert!(err.contains("latitude"), "the error names the field: {err}");
+    assert_clean_with_status(&b, "import refused", Some(422));
+
+    // Issue a bundle for Team Amber in the Core zone.
+    b.goto(&s.url("/trips"));
+    assert_clean(&b, "trips form");
+    b.choose("#t-team", "Team Amber");
+    b.choose("#t-zone", "Core");
+    b.type_into("#t-max", "6");
+    b.type_into("#t-lat", &format!("{:.6}", station.1));
+    b.type_into("#t-lon", &format!("{:.6}", station.0));
+    submit(&b, "/trips");
+    assert_eq!(b.text("h1"), "Bundle issued");
+    assert_has(&b, "bundle issued", &["<svg", "Stops in visit order"]);
+    assert_clean(&b, "bundle issued");
+    shots.take(&b, "trip");
+    let href = b
+        .script("return document.querySelector('a[href$=\"/download\"]').getAttribute('href');")
+        .as_str()
+        .expect("a download link")
+        .to_string();
+    let zip = download_with_session(&b, &s, &href);
+    let bundle = work.path().join("bundle.zip");
+    std::fs::write(&bundle, &zip).expect("bundle saved");
+
+    // The field kit plays the team: two devices, one event they disagree on.
+    let plan = mock_patrols::field::TripPlan {
+        disputed_pair: true,
+        ..Default::default()
+    };
+    let trip = mock_patrols::field::make_trip_return(&bundle, &work.path().join("field"), &plan, 7)
+        .expect("field returns");
+    assert_eq!(trip.returns.len(), 2, "two devices");
+    let disputed = trip.disputed.clone().expect("a disputed event");
+
+    // The station takes both returns.
+    for (i, ret) in trip.returns.iter().enumerate() {
+        b.goto(&s.url("/station"));
+        b.choose_file("#s-package", &ret.zip);
+        submit(&b, "/station");
+        let ok = b.text(".ok-box");
+        let expected = format!("{} accepted, 0 duplicate, 0 rejected", ret.reports.len());
+        assert!(ok.contains(&expected), "return {i}: {ok}");
+        assert_has(&b, "station result", &["<table"]);
+        assert_clean(&b, "station result");
+        if i == 0 {
+            shots.take(&b, "station");
+        }
     }
+    // A file that is not a return is refused on the page.
+    b.goto(&s.url("/station"));
+    b.choose_file("#s-package", &good);
+    submit(&b, "/station");
+    let err = b.text(".error-box");
+    assert!(err.contains("not taken in"), "{err}");
+    assert_clean_with_status(&b, "station refused", Some(422));
+
+    // Log out: the login page again, and a page asks for it.
+    submit(&b, "/logout");
+    b.goto(&s.url("/dashboard"));
+    assert!(b.current_url().contains("/login"), "{}", b.current_url());
+
+    // The manager settles the dispute.
+    log_in(&b, "manager", password_of("manager"));
+    b.goto(&s.url("/disputes"));
+    assert_has(&b, "disputes", &["Disputes", &disputed]);
+    assert_clean(&b, "disputes");
+    shots.take(&b, "disputes");
+    let section = b
+        .script(&format!(
+            "return Array.from(document.querySelectorAll('section.card'))\
+               .find(s => s.querySelector('h2').textContent.includes('{disputed}')).id;"
+        ))
+        .as_str()
+        .expect("the disputed event's section")
+        .to_string();
+    b.choose(&format!("#{section} select[name=outcome]"), "confirmed");
+    b.type_into(
+        &format!("#{section} textarea[name=reason]"),
+        "Both photo sets show fresh stumps; the second visit looked at the wrong patch.",
+    );
+    b.click(&format!("#{section} button[type=submit]"));
+    let ok = b.text(".ok-box");
+    assert!(ok.contains("was recorded"), "{ok}");
+    assert!(
+        !b.source().contains(&format!("Event {disputed}<")),
+        "the settled event leaves the queue"
+    );
+    assert_clean(&b, "dispute settled");
+
+    // Its event page now says confirmed.
+    b.click(".ok-box a");
+    assert!(b.text("h1").contains("confirmed"), "{}", b.text("h1"));
+    assert_has(&b, "event", &["Attributes", "Alerts ("]);
+    assert_clean(&b, "event");
+    shots.take(&b, "event");
+
+    // The dashboard.
+    b.goto(&s.url("/dashboard"));
+    assert_has(
+        &b,
+        "dashboard",
+        &["<svg", "Kaplan", "descriptive (response visits)"],
+    );
+    assert_clean(&b, "dashboard");
+    shots.take(&b, "dashboard");
+
+    // A manager may not issue bundles: the page says so, nothing changes.
+    let before = s.db.read(|r| r.bundles()).expect("bundles").len();
+    b.goto(&s.url("/trips"));
+    assert!(
+        b.find_all("form[action=\"/trips\"] button[type=submit]")
+            .is_empty()
+            || b.source().contains("not allowed"),
+        "a manager sees no issue form"
+    );
+    assert_eq!(s.db.read(|r| r.bundles()).expect("bundles").len(), before);
+}
+
+fn assert_has_login(b: &Browser) {
+    let dom = b.source();
+    assert!(
+        dom.contains("User name") && dom.contains("Password"),
+        "{dom}"
+    );
 }

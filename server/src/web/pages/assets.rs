@@ -1,5 +1,6 @@
 //! Static assets of the pages, embedded in the binary and served from
-//! `/static/`: the style sheet only (the pages need no script). The test
+//! `/static/`: the style sheet and the site icon (the pages need no
+//! script). The test
 //! here holds the style sheet to its own rule: every rule that sets a text
 //! `color` sets its `background-color` too, and each pair passes WCAG AA.
 
@@ -8,6 +9,10 @@ use actix_web::{HttpResponse, web};
 /// The style sheet (`server/static/app.css`).
 pub const APP_CSS: &str = include_str!("../../../static/app.css");
 
+/// The site icon (`server/static/icon.svg`); linked from every page so that
+/// browsers do not ask for a `/favicon.ico` we do not have.
+pub const ICON_SVG: &str = include_str!("../../../static/icon.svg");
+
 /// `GET /static/{name}`.
 pub async fn asset(path: web::Path<String>) -> HttpResponse {
     match path.as_str() {
@@ -15,6 +20,10 @@ pub async fn asset(path: web::Path<String>) -> HttpResponse {
             .content_type("text/css; charset=utf-8")
             .insert_header(("Cache-Control", "public, max-age=300"))
             .body(APP_CSS),
+        "icon.svg" => HttpResponse::Ok()
+            .content_type("image/svg+xml")
+            .insert_header(("Cache-Control", "public, max-age=86400"))
+            .body(ICON_SVG),
         _ => HttpResponse::NotFound()
             .content_type("text/plain; charset=utf-8")
             .body("no such asset"),
