@@ -29,6 +29,7 @@
 //! | `photo_before_detection:<sha>` | taken on a day before the event's first detection |
 //! | `photo_outside_window:<sha>` | taken before the bundle was issued or after it expired |
 //! | `photo_reused:<sha>` | the same photo is stored under another report (other than the report it supersedes or that supersedes it) |
+//! | `observed_after_receipt` | the report says it was observed more than [`CLOCK_SKEW_MINUTES`] after the server received it: the device's clock is wrong, so its times (and the photos' times) cannot be trusted |
 //!
 //! The tolerance defaults to [`DEFAULT_TOLERANCE_M`] = 100 m (common
 //! practice: consumer GPS under canopy errs by tens of metres, and a team
@@ -40,6 +41,11 @@ use geographiclib_rs::{DirectGeodesic, Geodesic, InverseGeodesic};
 
 /// Default distance tolerance in metres (common practice, see the module docs).
 pub const DEFAULT_TOLERANCE_M: f64 = 100.0;
+
+/// How far ahead of the server's clock a device's clock may run before its
+/// report is flagged, in minutes (our choice: phones that set their clock
+/// from the network are within seconds; one set by hand drifts by minutes).
+pub const CLOCK_SKEW_MINUTES: i64 = 10;
 
 /// Golden-section steps per edge.
 const SEARCH_STEPS: usize = 60;
@@ -222,6 +228,15 @@ pub fn check_position(
     (d, flags)
 }
 
+/// Checks the report's observation time against the time it was received.
+pub fn check_report_time(observed_at: DateTime<Utc>, received_at: DateTime<Utc>) -> Vec<String> {
+    if observed_at > received_at + chrono::Duration::minutes(CLOCK_SKEW_MINUTES) {
+        vec!["observed_after_receipt".into()]
+    } else {
+        Vec::new()
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -309,5 +324,17 @@ mod tests {
         assert_eq!((d, f.len()), (Some(0.0), 0));
         let (_, f) = check_position(&ctx, None);
         assert_eq!(f, vec!["position_missing"]);
+    }
+
+    #[test]
+    fn a_report_from_the_future_is_flagged_beyond_the_skew() {
+        let t = |s: &str| DateTime::parse_from_rfc3339(s).unwrap().with_timezone(&Utc);
+        let received = t("2026-03-14T12:00:00Z");
+        assert!(check_report_time(t("2026-03-14T09:00:00Z"), received).is_empty());
+        assert!(check_report_time(t("2026-03-14T12:10:00Z"), received).is_empty());
+        assert_eq!(
+            check_report_time(t("2026-03-14T12:10:01Z"), received),
+            vec!["observed_after_receipt"]
+        );
     }
 }

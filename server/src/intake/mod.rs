@@ -40,6 +40,16 @@ pub struct IntakeOptions {
     pub return_limits: ReturnLimits,
 }
 
+impl IntakeOptions {
+    /// The defaults with the data directory's evidence settings.
+    pub fn from_settings(settings: &crate::settings::Settings) -> Self {
+        IntakeOptions {
+            tolerance_m: settings.evidence.tolerance_m,
+            ..IntakeOptions::default()
+        }
+    }
+}
+
 impl Default for IntakeOptions {
     fn default() -> Self {
         IntakeOptions {

@@ -182,7 +182,7 @@ struct Context<'a> {
     bundle: &'a BundleRecord,
     items: &'a [BundleItem],
     window: (DateTime<Utc>, DateTime<Utc>),
-    received_at: String,
+    received_at: DateTime<Utc>,
     /// Reports of this package using each photo.
     users: BTreeMap<String, BTreeSet<Uuid>>,
     photos: HashMap<String, Result<PhotoInfo, String>>,
@@ -220,7 +220,7 @@ impl Context<'_> {
                 lon: check.meta.lon,
                 direction_deg: check.meta.direction_deg,
                 bytes: bytes.len() as u64,
-                stored_at: self.received_at.clone(),
+                stored_at: self.received_at.to_rfc3339(),
             },
             thumb: Some(check.thumbnail_jpeg),
         })
@@ -329,6 +329,7 @@ impl Context<'_> {
             ),
             _ => evidence::check_position(&ctx, r.position.map(|p| (p.lat, p.lon))),
         };
+        flags.extend(evidence::check_report_time(r.observed_at, self.received_at));
         // An amendment keeps the photos of the report it replaces: sharing
         // them within that line of reports is not reuse.
         let lineage: BTreeSet<Uuid> = r
@@ -423,7 +424,7 @@ impl Context<'_> {
             distance_m,
             observed_at: r.observed_at.to_rfc3339(),
             recorded_at: r.recorded_at.to_rfc3339(),
-            received_at: self.received_at.clone(),
+            received_at: self.received_at.to_rfc3339(),
             area_ha: r.area_ha,
             notes: r.notes.clone(),
             team: self.bundle.team.clone(),
@@ -531,7 +532,8 @@ fn run(
                 .insert(r.report_id);
         }
     }
-    let received_at = Utc::now().to_rfc3339();
+    let received = Utc::now();
+    let received_at = received.to_rfc3339();
     let mut ctx = Context {
         db,
         data_dir,
@@ -540,7 +542,7 @@ fn run(
         bundle: &bundle,
         items: &items,
         window,
-        received_at: received_at.clone(),
+        received_at: received,
         users,
         photos: HashMap::new(),
     };

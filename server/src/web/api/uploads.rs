@@ -93,7 +93,7 @@ pub async fn create(state: web::Data<AppState>, body: web::Json<CreateBody>) -> 
         uploads::create(
             &st.db,
             &st.data_dir,
-            &IntakeOptions::default(),
+            &IntakeOptions::from_settings(&st.settings),
             &bid,
             b.size,
             &b.sha256,
@@ -197,9 +197,15 @@ pub async fn patch(
 pub async fn complete(state: web::Data<AppState>, path: web::Path<String>) -> Reply {
     let id = path.into_inner();
     let st = state.into_inner();
-    let doc =
-        web::block(move || uploads::complete(&st.db, &st.data_dir, &IntakeOptions::default(), &id))
-            .await??;
+    let doc = web::block(move || {
+        uploads::complete(
+            &st.db,
+            &st.data_dir,
+            &IntakeOptions::from_settings(&st.settings),
+            &id,
+        )
+    })
+    .await??;
     Ok(HttpResponse::Ok().json(doc))
 }
 
@@ -217,7 +223,7 @@ pub async fn get_return(state: web::Data<AppState>, path: web::Path<String>) -> 
 const WRITE_BATCH: usize = 4 << 20;
 
 pub async fn post_return(state: web::Data<AppState>, mut payload: web::Payload) -> Reply {
-    let options = IntakeOptions::default();
+    let options = IntakeOptions::from_settings(&state.settings);
     let max = options.return_limits.max_file_bytes;
     let st = state.into_inner();
     let dir = st.data_dir.clone();

@@ -129,7 +129,12 @@ async fn receive(state: &AppState, mut mp: Multipart) -> Result<Received, PageEr
         }
         let st = state.clone();
         let d = web::block(move || {
-            take_in_whole(&st.db, &st.data_dir, &IntakeOptions::default(), file)
+            take_in_whole(
+                &st.db,
+                &st.data_dir,
+                &IntakeOptions::from_settings(&st.settings),
+                file,
+            )
         })
         .await??;
         doc = Some(d);
