@@ -9,13 +9,11 @@
 //! the manifest.
 
 use std::collections::{BTreeMap, BTreeSet};
-use std::fs::File;
-use std::io::{BufReader, Read, Write};
+use std::io::Write;
 use std::path::{Path, PathBuf};
 
 use chrono::{DateTime, Utc};
 use sha2::{Digest, Sha256};
-use zip::{CompressionMethod, ZipArchive};
 
 use super::geojson::{parse_events, parse_points};
 use super::limits::BundleLimits;
@@ -26,9 +24,8 @@ use super::types::{
     normalise_event, normalise_start,
 };
 use super::write::check_route;
+use crate::safezip::{EntryLimit, HARD_MAX_RATIO, SafeZip};
 use crate::{BUNDLE_FORMAT, BUNDLE_FORMAT_VERSION, SyncError};
-
-type Archive = ZipArchive<BufReader<File>>;
 
 /// A bundle that passed every check, with its content parsed.
 #[derive(Debug, Clone)]
@@ -118,7 +115,7 @@ pub fn open_bundle_with_limits(
 ) -> Result<OpenedBundle, SyncError> {
     let path = path.as_ref();
     let mut archive = open_archive(path, &limits)?;
-    let in_zip = scan_entries(&mut archive, &limits)?;
+    let in_zip = archive.names().clone();
 
     // 1. Format name and version, before anything else.
     let mut manifest_bytes = Vec::new();
@@ -238,123 +235,46 @@ pub fn open_bundle_with_limits(
     })
 }
 
-fn open_archive(path: &Path, limits: &BundleLimits) -> Result<Archive, SyncError> {
-    let file = File::open(path)
-        .map_err(|e| SyncError::io(format!("open bundle {}", path.display()), e))?;
-    let size = file
-        .metadata()
-        .map_err(|e| SyncError::io(format!("stat bundle {}", path.display()), e))?
-        .len();
-    if size > limits.max_bundle_bytes {
-        return Err(SyncError::BundleTooLarge {
-            size,
-            max: limits.max_bundle_bytes,
-        });
-    }
-    ZipArchive::new(BufReader::new(file)).map_err(|e| SyncError::zip("read the ZIP directory", e))
+/// Opens the bundle through the crate's safe ZIP reader: size, entry count,
+/// names against the bundle's allow-list, regular files only, stored or
+/// deflated, unique names, local headers that agree with the central
+/// directory, and no overlapping entries.
+fn open_archive(path: &Path, limits: &BundleLimits) -> Result<SafeZip, SyncError> {
+    SafeZip::open(
+        path,
+        limits.max_bundle_bytes,
+        limits.max_entries,
+        limits.max_total_bytes,
+        &check_bundle_entry_name,
+    )
 }
 
-/// Checks the count, names and kinds of all entries; returns the names.
-fn scan_entries(
-    archive: &mut Archive,
-    limits: &BundleLimits,
-) -> Result<BTreeSet<String>, SyncError> {
-    if archive.len() > limits.max_entries {
-        return Err(SyncError::TooManyEntries {
-            count: archive.len(),
-            max: limits.max_entries,
-        });
+fn check_bundle_entry_name(name: &str) -> Result<(), String> {
+    if names::is_allowed_entry_name(name) {
+        Ok(())
+    } else {
+        Err("not a bundle entry name (core entries, or extras/<stem>.<html|css|png|svg>)".into())
     }
-    let mut found = BTreeSet::new();
-    for i in 0..archive.len() {
-        let entry = archive
-            .by_index_data(i)
-            .map_err(|e| SyncError::zip(format!("read entry {i}"), e))?;
-        let raw = entry.name_raw();
-        let name = std::str::from_utf8(raw).map_err(|_| SyncError::EntryNotAllowed {
-            name: String::from_utf8_lossy(raw).into_owned(),
-            reason: "name is not UTF-8".into(),
-        })?;
-        let refuse = |reason: &str| SyncError::EntryNotAllowed {
-            name: name.to_owned(),
-            reason: reason.to_owned(),
-        };
-        if !names::is_allowed_entry_name(name) {
-            return Err(refuse(
-                "not a bundle entry name (core entries, or extras/<stem>.<html|css|png|svg>)",
-            ));
-        }
-        if entry.is_dir() || entry.is_symlink() || !entry.is_file() {
-            return Err(refuse(
-                "only regular files are allowed, no directories or links",
-            ));
-        }
-        if entry
-            .unix_mode()
-            .is_some_and(|m| m & 0o170000 != 0 && m & 0o170000 != 0o100000)
-        {
-            return Err(refuse("only regular files are allowed (Unix mode)"));
-        }
-        if entry.encrypted() {
-            return Err(refuse("encrypted entries are not allowed"));
-        }
-        if !matches!(
-            entry.compression(),
-            CompressionMethod::Stored | CompressionMethod::Deflated
-        ) {
-            return Err(refuse("only stored or deflated entries are allowed"));
-        }
-        if !found.insert(name.to_owned()) {
-            return Err(SyncError::DuplicateEntry {
-                name: name.to_owned(),
-            });
-        }
-    }
-    if archive
-        .has_overlapping_entries()
-        .map_err(|e| SyncError::zip("check entry overlap", e))?
-    {
-        return Err(SyncError::EntryNotAllowed {
-            name: "(several)".into(),
-            reason: "entries overlap in the ZIP file".into(),
-        });
-    }
-    Ok(found)
 }
 
-/// Streams entry `name` into `sink`, failing once more than `max` bytes come out.
+/// Streams entry `name` into `sink`, failing once more than `max` bytes come
+/// out. Bundle entries are checked by size and checksum, so the ratio bound
+/// is only DEFLATE's own ceiling: a GeoPackage's empty pages compress far
+/// better than the 100:1 a return's photos are held to.
 fn read_entry(
-    archive: &mut Archive,
+    archive: &mut SafeZip,
     name: &str,
     max: u64,
     sink: &mut dyn FnMut(&[u8]) -> std::io::Result<()>,
 ) -> Result<u64, SyncError> {
-    let entry = archive.by_name(name).map_err(|e| match e {
-        zip::result::ZipError::FileNotFound => SyncError::MissingEntry {
-            name: name.to_owned(),
+    archive.read_entry(
+        name,
+        EntryLimit {
+            max_bytes: max,
+            max_ratio: HARD_MAX_RATIO,
         },
-        other => SyncError::zip(format!("open entry {name:?}"), other),
-    })?;
-    let mut reader = entry.take(max.saturating_add(1));
-    let mut buf = [0u8; 64 * 1024];
-    let mut total = 0u64;
-    loop {
-        let n = reader
-            .read(&mut buf)
-            .map_err(|e| SyncError::invalid_entry(name, format!("cannot be decompressed: {e}")))?;
-        if n == 0 {
-            break;
-        }
-        total += n as u64;
-        if total > max {
-            return Err(SyncError::EntryTooLarge {
-                name: name.to_owned(),
-                max,
-            });
-        }
-        sink(&buf[..n]).map_err(|e| SyncError::io(format!("copy entry {name:?}"), e))?;
-    }
-    Ok(total)
+        sink,
+    )
 }
 
 fn check_digest(
