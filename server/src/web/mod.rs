@@ -29,6 +29,13 @@ pub struct AppState {
     pub settings: Arc<Settings>,
 }
 
+impl AppState {
+    /// Intake's knobs for this data directory (its evidence settings).
+    pub fn intake_options(&self) -> crate::intake::IntakeOptions {
+        crate::intake::IntakeOptions::from_settings(&self.settings)
+    }
+}
+
 /// Register all routes (used by the server and by tests).
 pub fn configure(cfg: &mut web::ServiceConfig) {
     cfg.app_data(web::PayloadConfig::new(MAX_UPLOAD_BYTES))

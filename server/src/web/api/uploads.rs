@@ -11,7 +11,7 @@
 //! is not required yet: the package's HMAC signature is the gate.
 
 use crate::intake::uploads::{self, IncomingFile, MAX_APPEND_BYTES};
-use crate::intake::{IntakeError, IntakeOptions, files};
+use crate::intake::{IntakeError, files};
 use crate::web::AppState;
 use actix_web::http::StatusCode;
 use actix_web::{HttpRequest, HttpResponse, ResponseError, web};
@@ -93,7 +93,7 @@ pub async fn create(state: web::Data<AppState>, body: web::Json<CreateBody>) -> 
         uploads::create(
             &st.db,
             &st.data_dir,
-            &IntakeOptions::from_settings(&st.settings),
+            &st.intake_options(),
             &bid,
             b.size,
             &b.sha256,
@@ -197,15 +197,9 @@ pub async fn patch(
 pub async fn complete(state: web::Data<AppState>, path: web::Path<String>) -> Reply {
     let id = path.into_inner();
     let st = state.into_inner();
-    let doc = web::block(move || {
-        uploads::complete(
-            &st.db,
-            &st.data_dir,
-            &IntakeOptions::from_settings(&st.settings),
-            &id,
-        )
-    })
-    .await??;
+    let doc =
+        web::block(move || uploads::complete(&st.db, &st.data_dir, &st.intake_options(), &id))
+            .await??;
     Ok(HttpResponse::Ok().json(doc))
 }
 
@@ -223,7 +217,7 @@ pub async fn get_return(state: web::Data<AppState>, path: web::Path<String>) -> 
 const WRITE_BATCH: usize = 4 << 20;
 
 pub async fn post_return(state: web::Data<AppState>, mut payload: web::Payload) -> Reply {
-    let options = IntakeOptions::from_settings(&state.settings);
+    let options = state.intake_options();
     let max = options.return_limits.max_file_bytes;
     let st = state.into_inner();
     let dir = st.data_dir.clone();

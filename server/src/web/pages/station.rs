@@ -128,15 +128,8 @@ async fn receive(state: &AppState, mut mp: Multipart) -> Result<Received, PageEr
             ));
         }
         let st = state.clone();
-        let d = web::block(move || {
-            take_in_whole(
-                &st.db,
-                &st.data_dir,
-                &IntakeOptions::from_settings(&st.settings),
-                file,
-            )
-        })
-        .await??;
+        let d = web::block(move || take_in_whole(&st.db, &st.data_dir, &st.intake_options(), file))
+            .await??;
         doc = Some(d);
     }
     let doc = doc.ok_or_else(|| {
