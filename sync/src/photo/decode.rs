@@ -2,13 +2,17 @@
 //! 320-pixel thumbnail.
 //!
 //! [`inspect_jpeg`] never guesses the format: the bytes must start with the
-//! JPEG SOI marker and are decoded only by a JPEG decoder (jpeg-decoder 0.3).
-//! The frame size declared in the SOF header is checked against
-//! [`PhotoLimits`] before any decoder is built, together with an estimate of
-//! the decoder's allocations. The pixels are decoded at a reduced DCT scale
-//! (1/2, 1/4 or 1/8, T.81 IDCT scaling as in jpeg-decoder's `scale()`), the
-//! smallest that still covers the thumbnail, so a 12 MP photo is decoded to
-//! about 500 x 375 and never to a full 36 MB bitmap (performance notes §1).
+//! JPEG SOI marker and are decoded only by a JPEG decoder. The frame size
+//! declared in the SOF header is checked against [`PhotoLimits`] before any
+//! decoder is built, together with an estimate of the decoder's allocations.
+//! The pixels are decoded at a reduced DCT scale (1/2, 1/4 or 1/8, T.81 IDCT
+//! scaling as in jpeg-decoder's `scale()`), the smallest that still covers
+//! the thumbnail, so a 12 MP photo is decoded to about 500 x 375 and never to
+//! a full 36 MB bitmap (performance notes §1). At 1/8 (photos of 2560 px and
+//! more on the long side) a sequential photo goes through the DC-only decoder
+//! in `eighth.rs`, which was about twice as fast as jpeg-decoder and starts
+//! no threads; every other JPEG, and any layout that decoder does not take,
+//! goes through jpeg-decoder 0.3.
 //! Decoder panics are caught and returned as [`PhotoError::DecoderPanic`]
 //! (reliability notes §1.3: treat decoder panics as expected); this needs
 //! `panic = "unwind"`, Rust's default.
@@ -21,6 +25,7 @@ use jpeg_decoder::{Decoder, PixelFormat};
 use sha2::{Digest, Sha256};
 
 use super::PhotoError;
+use super::eighth::decode_eighth;
 use super::exif::{PhotoMeta, read_photo_meta};
 use super::header::{JpegHeader, read_jpeg_header};
 
@@ -134,13 +139,20 @@ pub fn thumbnail_size(width: u32, height: u32) -> (u32, u32) {
 /// smallest of 1/8, 1/4, 1/2, 1/1 whose width or height covers the request
 /// (`idct::choose_idct_size`, sizes rounded up).
 fn scaled_size(w: u32, h: u32, tw: u32, th: u32) -> (u32, u32) {
-    let scaled = |len: u32, s: u32| (len * s).div_ceil(8);
-    for s in [1, 2, 4] {
-        if scaled(w, s) >= tw || scaled(h, s) >= th {
-            return (scaled(w, s), scaled(h, s));
-        }
-    }
-    (w, h)
+    let s = dct_scale(w, h, tw, th);
+    (
+        (u64::from(w) * u64::from(s)).div_ceil(8) as u32,
+        (u64::from(h) * u64::from(s)).div_ceil(8) as u32,
+    )
+}
+
+/// The numerator of that scale: 1, 2, 4 or 8 (eighths).
+fn dct_scale(w: u32, h: u32, tw: u32, th: u32) -> u32 {
+    let scaled = |len: u32, s: u32| (u64::from(len) * u64::from(s)).div_ceil(8);
+    [1, 2, 4]
+        .into_iter()
+        .find(|&s| scaled(w, s) >= u64::from(tw) || scaled(h, s) >= u64::from(th))
+        .unwrap_or(8)
 }
 
 /// Output bytes plus the per-component planes jpeg-decoder keeps while
@@ -158,6 +170,16 @@ fn thumbnail(
     th: u32,
     limits: &PhotoLimits,
 ) -> Result<Vec<u8>, PhotoError> {
+    if dct_scale(header.width, header.height, tw, th) == 1
+        && let Some(e) = decode_eighth(bytes, header.width, header.height)?
+    {
+        if (e.width, e.height) != scaled_size(header.width, header.height, tw, th) {
+            return Err(PhotoError::Decode("1/8-scale size mismatch".into()));
+        }
+        let rgb = RgbImage::from_raw(e.width, e.height, e.rgb)
+            .ok_or_else(|| PhotoError::Decode("1/8-scale buffer size".into()))?;
+        return encode_thumbnail(rgb, tw, th);
+    }
     let mut dec = Decoder::new(bytes);
     dec.set_max_decoding_buffer_size(usize::try_from(limits.max_alloc_bytes).unwrap_or(usize::MAX));
     let req = |v: u32| u16::try_from(v).unwrap_or(u16::MAX);
@@ -174,7 +196,12 @@ fn thumbnail(
         return Err(PhotoError::Decode(format!("decoder returned {sw}x{sh}")));
     }
     let rgb = to_rgb(pixels, info.pixel_format, sw, sh)?;
-    let small = if (sw, sh) == (tw, th) {
+    encode_thumbnail(rgb, tw, th)
+}
+
+/// Resizes a decoded (scaled) image to the thumbnail size and encodes it.
+fn encode_thumbnail(rgb: RgbImage, tw: u32, th: u32) -> Result<Vec<u8>, PhotoError> {
+    let small = if rgb.dimensions() == (tw, th) {
         rgb
     } else {
         image::imageops::thumbnail(&rgb, tw, th)
@@ -404,6 +431,22 @@ mod tests {
         let c = inspect_jpeg(&big, &PhotoLimits::default()).expect("inspect");
         let h = read_jpeg_header(&c.thumbnail_jpeg).expect("thumb");
         assert_eq!((h.width, h.height), (320, 240));
+    }
+
+    #[test]
+    fn photo_scaled_by_an_eighth_takes_the_dc_path() {
+        // 2600 x 1950: 1/8 gives 325 x 244, which covers 320 x 240.
+        assert_eq!(dct_scale(2600, 1950, 320, 240), 1);
+        let big = small_jpeg(2600, 1950);
+        let h = read_jpeg_header(&big).expect("header");
+        assert!(
+            decode_eighth(&big, h.width, h.height)
+                .expect("decode")
+                .is_some()
+        );
+        let c = inspect_jpeg(&big, &PhotoLimits::default()).expect("inspect");
+        let t = read_jpeg_header(&c.thumbnail_jpeg).expect("thumb");
+        assert_eq!((t.width, t.height), (320, 240));
     }
 
     #[test]

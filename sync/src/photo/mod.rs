@@ -9,6 +9,7 @@
 //! JPEG") is a `String`.
 
 mod decode;
+mod eighth;
 mod error;
 mod exif;
 mod header;
