@@ -8,22 +8,13 @@
 //! (default 300) events five times and reports the median seconds and the
 //! peak memory (VmHWM) of the process.
 
+mod common;
+use common::peak_rss_mb;
 use groundproof::domain::{Day, LonLat};
 use groundproof::settings::Settings;
 use groundproof::storage::Db;
 use groundproof::trips::{TripRequest, issue_bundle};
 use std::time::Instant;
-
-fn peak_rss_mb() -> f64 {
-    std::fs::read_to_string("/proc/self/status")
-        .ok()
-        .and_then(|s| {
-            s.lines()
-                .find(|l| l.starts_with("VmHWM:"))
-                .and_then(|l| l.split_whitespace().nth(1)?.parse::<f64>().ok())
-        })
-        .map_or(f64::NAN, |kb| kb / 1024.0)
-}
 
 fn main() {
     let n: usize = std::env::args()

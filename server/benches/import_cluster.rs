@@ -14,6 +14,8 @@
 //! bench_sklearn.py; needs `pip install scikit-learn`), checks that the
 //! partitions are identical, and prints the ratio.
 
+mod common;
+use common::peak_rss_mb;
 use groundproof::cluster::link::link;
 use groundproof::cluster::{LinkPoint, LinkRule};
 use groundproof::domain::SourceName;
@@ -22,20 +24,6 @@ use groundproof::import::{Format, ReadOptions};
 use groundproof::storage::Db;
 use std::io::Write;
 use std::time::Instant;
-
-fn peak_rss_mb() -> f64 {
-    std::fs::read_to_string("/proc/self/status")
-        .ok()
-        .and_then(|s| {
-            s.lines().find(|l| l.starts_with("VmHWM:")).and_then(|l| {
-                l.split_whitespace()
-                    .nth(1)
-                    .and_then(|v| v.parse::<f64>().ok())
-            })
-        })
-        .map(|kb| kb / 1024.0)
-        .unwrap_or(f64::NAN)
-}
 
 fn median(mut v: Vec<f64>) -> f64 {
     v.sort_by(f64::total_cmp);

@@ -4,10 +4,10 @@ use crate::domain::{Confidence, Day};
 use crate::error::Result;
 use crate::figures::{ControlFacts, EventFacts, SampleInfo};
 use crate::reconcile::{Adjudication, Outcome, ReportFact, StatusOutcome, event_statuses};
-use crate::storage::Db;
+use crate::storage::{Db, StatsReportRef};
 use chrono::{DateTime, Utc};
 use geo::GeodesicArea;
-use std::collections::{BTreeMap, HashMap};
+use std::collections::{BTreeMap, HashMap, HashSet};
 use uuid::Uuid;
 
 /// Which facts the figures rest on. Empty fields select everything.
@@ -34,9 +34,7 @@ pub struct Loaded {
 }
 
 fn time(s: &str) -> Option<DateTime<Utc>> {
-    DateTime::parse_from_rfc3339(s)
-        .ok()
-        .map(|t| t.with_timezone(&Utc))
+    super::rfc3339::parse_utc(s)
 }
 
 pub(crate) fn outcome(s: &str) -> Option<Outcome> {
@@ -53,62 +51,101 @@ pub(crate) fn outcome(s: &str) -> Option<Outcome> {
 /// it (our choice, stated in the README).
 pub const CONTROL_PLOT_HA: f64 = 1.0;
 
+/// A control point's report, kept while reading every report.
+struct ControlReport {
+    report_id: String,
+    observed_at: String,
+    outcome: String,
+}
+
+/// What one pass over the stored reports keeps.
+#[derive(Default)]
+struct ReportScan {
+    /// The reports of the selection, as reconciliation reads them.
+    facts: Vec<ReportFact>,
+    /// Every report id that another report names as superseded.
+    superseded: HashSet<String>,
+    /// Reports on control points, by (bundle, control code), in id order.
+    controls: BTreeMap<(String, String), Vec<ControlReport>>,
+}
+
+impl ReportScan {
+    fn add(&mut self, r: StatsReportRef<'_>, team: Option<&str>, live: impl Fn(i64) -> i64) {
+        if let Some(s) = r.supersedes {
+            self.superseded.insert(s.to_string());
+        }
+        if r.kind == "control"
+            && let Some(code) = r.control_code
+        {
+            self.controls
+                .entry((r.bundle_id.to_string(), code.to_string()))
+                .or_default()
+                .push(ControlReport {
+                    report_id: r.report_id.to_string(),
+                    observed_at: r.observed_at.to_string(),
+                    outcome: r.outcome.to_string(),
+                });
+        }
+        if team.is_some_and(|t| t != r.team) {
+            return;
+        }
+        if let Some(f) = report_fact(&r, live) {
+            self.facts.push(f);
+        }
+    }
+}
+
+fn report_fact(r: &StatsReportRef<'_>, live: impl Fn(i64) -> i64) -> Option<ReportFact> {
+    Some(ReportFact {
+        report_id: Uuid::parse_str(r.report_id).ok()?,
+        event_id: live(r.event_id?),
+        supersedes: r.supersedes.and_then(|s| Uuid::parse_str(s).ok()),
+        outcome: outcome(r.outcome)?,
+        reason: r.reason.map(str::to_string),
+        cause: r.cause.map(str::to_string),
+        observed_at: time(r.observed_at)?,
+        received_at: time(r.received_at)?,
+        evidence_ok: r.evidence_ok,
+        team: r.team.to_string(),
+        bundle_id: Uuid::parse_str(r.bundle_id).ok()?,
+    })
+}
+
 /// Load everything, reconcile, and apply the filter.
 pub fn load(db: &Db, filter: &StatsFilter, window_days: u32) -> Result<Loaded> {
-    let (events, report_rows, merges, adjudications, issue_times, controls, zones, bundles) = db
-        .read(|r| {
-            Ok((
-                r.stats_events()?,
-                r.stats_reports()?,
-                r.merge_map()?,
-                r.adjudications()?,
-                r.bundle_issue_times()?,
-                r.controls()?,
-                r.zones()?,
-                r.bundles()?,
-            ))
-        })?;
-    let live = |id: i64| merges.get(&id).copied().unwrap_or(id);
+    let (events, scan, adjudications, issue_times, controls, zones, bundles) = db.read(|r| {
+        let merges = r.merge_map()?;
+        let live = |id: i64| merges.get(&id).copied().unwrap_or(id);
+        let mut scan = ReportScan::default();
+        r.each_stats_report(|row| scan.add(row, filter.team.as_deref(), live))?;
+        let adjudications: Vec<Adjudication> = r
+            .adjudications()?
+            .iter()
+            .filter_map(|a| {
+                Some(Adjudication {
+                    event_id: live(a.event_id),
+                    outcome: outcome(&a.outcome)?,
+                    reason: a.reason.clone(),
+                    by: a.decided_by.clone(),
+                    at: time(&a.decided_at)?,
+                })
+            })
+            .collect();
+        Ok((
+            r.stats_events()?,
+            scan,
+            adjudications,
+            r.bundle_issue_times()?,
+            r.controls()?,
+            r.zones()?,
+            r.bundles()?,
+        ))
+    })?;
     let bundle_issued_at: BTreeMap<Uuid, DateTime<Utc>> = issue_times
         .iter()
         .filter_map(|(id, t)| Some((Uuid::parse_str(id).ok()?, time(t)?)))
         .collect();
-    let team_filter = |team: &str| filter.team.as_deref().is_none_or(|t| t == team);
-
-    let reports: Vec<ReportFact> = report_rows
-        .iter()
-        .filter(|r| team_filter(&r.team))
-        .filter_map(|r| {
-            Some(ReportFact {
-                report_id: Uuid::parse_str(&r.report_id).ok()?,
-                event_id: live(r.event_id?),
-                supersedes: r
-                    .supersedes
-                    .as_deref()
-                    .and_then(|s| Uuid::parse_str(s).ok()),
-                outcome: outcome(&r.outcome)?,
-                reason: r.reason.clone(),
-                cause: r.cause.clone(),
-                observed_at: time(&r.observed_at)?,
-                received_at: time(&r.received_at)?,
-                evidence_ok: r.evidence_ok,
-                team: r.team.clone(),
-                bundle_id: Uuid::parse_str(&r.bundle_id).ok()?,
-            })
-        })
-        .collect();
-    let adjudications: Vec<Adjudication> = adjudications
-        .iter()
-        .filter_map(|a| {
-            Some(Adjudication {
-                event_id: live(a.event_id),
-                outcome: outcome(&a.outcome)?,
-                reason: a.reason.clone(),
-                by: a.decided_by.clone(),
-                at: time(&a.decided_at)?,
-            })
-        })
-        .collect();
+    let reports = scan.facts;
     let statuses = event_statuses(&reports, &adjudications, window_days);
 
     let mut out_events = Vec::new();
@@ -186,16 +223,6 @@ pub fn load(db: &Db, filter: &StatsFilter, window_days: u32) -> Result<Loaded> {
             (b.id.clone(), (zone, b.controls))
         })
         .collect();
-    let mut control_reports: BTreeMap<(String, String), Vec<&crate::storage::StatsReportRow>> =
-        BTreeMap::new();
-    for r in report_rows.iter().filter(|r| r.kind == "control") {
-        if let Some(code) = &r.control_code {
-            control_reports
-                .entry((r.bundle_id.clone(), code.clone()))
-                .or_default()
-                .push(r);
-        }
-    }
     let mut out_controls = Vec::new();
     for c in &controls {
         let Some((zone, k)) = bundle_zone.get(&c.bundle_id) else {
@@ -216,15 +243,12 @@ pub fn load(db: &Db, filter: &StatsFilter, window_days: u32) -> Result<Loaded> {
         if area <= 0.0 || *k <= 0 {
             continue;
         }
-        let superseded: std::collections::HashSet<&str> = report_rows
-            .iter()
-            .filter_map(|r| r.supersedes.as_deref())
-            .collect();
-        let latest = control_reports
+        let latest = scan
+            .controls
             .get(&(c.bundle_id.clone(), c.code.clone()))
             .and_then(|v| {
                 v.iter()
-                    .filter(|r| !superseded.contains(r.report_id.as_str()))
+                    .filter(|r| !scan.superseded.contains(&r.report_id))
                     .max_by(|a, b| a.observed_at.cmp(&b.observed_at))
             });
         let found = latest.and_then(|r| match r.outcome.as_str() {

@@ -7,6 +7,7 @@
 
 mod csv_tables;
 mod load;
+mod rfc3339;
 
 pub use csv_tables::{TABLES, table};
 pub use load::{Loaded, StatsFilter, load};

@@ -1,6 +1,7 @@
 //! Every figure of the manager pages in one value, from the event rows, the
 //! report facts and the control points.
 
+use std::borrow::Cow;
 use std::collections::BTreeMap;
 
 use chrono::{DateTime, Utc};
@@ -83,9 +84,15 @@ pub fn all_figures(
     controls: &[ControlFacts],
     options: &FigureOptions,
 ) -> Result<Figures, FiguresError> {
-    let mut sorted: Vec<EventFacts> = events.to_vec();
-    sorted.sort_by_key(|e| e.event_id);
-    let events = sorted.as_slice();
+    // Storage gives the events in id order: copy and sort only when not.
+    let sorted: Cow<'_, [EventFacts]> = if events.is_sorted_by_key(|e| e.event_id) {
+        Cow::Borrowed(events)
+    } else {
+        let mut v = events.to_vec();
+        v.sort_by_key(|e| e.event_id);
+        Cow::Owned(v)
+    };
+    let events = &*sorted;
     Ok(Figures {
         as_of: options.as_of,
         coverage: COVERAGE_KEYS

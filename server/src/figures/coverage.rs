@@ -29,7 +29,20 @@ pub struct CoverageRow {
 
 /// Coverage per group of `key`, groups sorted by name.
 pub fn coverage(events: &[EventFacts], key: GroupKey) -> Vec<CoverageRow> {
-    coverage_by(events, |e| key.groups(e))
+    let mut rows: BTreeMap<String, CoverageRow> = BTreeMap::new();
+    for e in events {
+        key.each_group(e, |group| {
+            // Look up before inserting: a key is allocated once per group.
+            let row = match rows.get_mut(group) {
+                Some(row) => row,
+                None => rows
+                    .entry(group.to_string())
+                    .or_insert_with(|| empty(group)),
+            };
+            count(row, e);
+        });
+    }
+    rows.into_values().collect()
 }
 
 /// Coverage per group of any key function (an event counts once in each
@@ -41,27 +54,36 @@ pub fn coverage_by(
     let mut rows: BTreeMap<String, CoverageRow> = BTreeMap::new();
     for e in events {
         for group in key(e) {
-            let row = rows.entry(group.clone()).or_insert_with(|| CoverageRow {
-                group,
-                events: 0,
-                issued: 0,
-                visited: 0,
-                not_reached: 0,
-                unvisited: 0,
-                issued_and_visited: 0,
-            });
-            row.events += 1;
-            let issued = e.issued_at.is_some();
-            row.issued += u64::from(issued);
-            if e.first_visit.is_some() {
-                row.visited += 1;
-                row.issued_and_visited += u64::from(issued);
-            } else if e.status == Status::NotReached {
-                row.not_reached += 1;
-            } else {
-                row.unvisited += 1;
-            }
+            let row = rows.entry(group.clone()).or_insert_with(|| empty(&group));
+            count(row, e);
         }
     }
     rows.into_values().collect()
+}
+
+fn empty(group: &str) -> CoverageRow {
+    CoverageRow {
+        group: group.to_string(),
+        events: 0,
+        issued: 0,
+        visited: 0,
+        not_reached: 0,
+        unvisited: 0,
+        issued_and_visited: 0,
+    }
+}
+
+/// Adds one event to its group's row.
+fn count(row: &mut CoverageRow, e: &EventFacts) {
+    row.events += 1;
+    let issued = e.issued_at.is_some();
+    row.issued += u64::from(issued);
+    if e.first_visit.is_some() {
+        row.visited += 1;
+        row.issued_and_visited += u64::from(issued);
+    } else if e.status == Status::NotReached {
+        row.not_reached += 1;
+    } else {
+        row.unvisited += 1;
+    }
 }

@@ -67,11 +67,15 @@ pub fn confirmation_rates(
             Status::Disputed => 3,
             Status::Unvisited | Status::NotReached => continue,
         };
-        for group in key.groups(e) {
-            let c = counts.entry(group).or_default();
+        key.each_group(e, |group| {
+            // Look up before inserting: a key is allocated once per group.
+            let c = match counts.get_mut(group) {
+                Some(c) => c,
+                None => counts.entry(group.to_string()).or_default(),
+            };
             c[slot] += 1;
             c[4] += u64::from(slot == 0 && e.new_clearing);
-        }
+        });
     }
     counts
         .into_iter()

@@ -9,7 +9,7 @@ use uuid::Uuid;
 
 use super::FiguresError;
 use super::facts::days_between;
-use crate::reconcile::{ReportFact, counted_reports, distinct_reports};
+use crate::reconcile::{ReportFact, counts, distinct_refs};
 use crate::stats::median;
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -38,14 +38,17 @@ pub fn team_table(
     bundle_issued_at: &BTreeMap<Uuid, DateTime<Utc>>,
 ) -> Result<Vec<TeamRow>, FiguresError> {
     let mut trips: BTreeMap<&str, BTreeSet<Uuid>> = BTreeMap::new();
-    let distinct = distinct_reports(reports);
+    let distinct = distinct_refs(reports).reports;
     for r in &distinct {
         trips.entry(&r.team).or_default().insert(r.bundle_id);
     }
-    let counted = counted_reports(reports);
+    let counted = distinct
+        .iter()
+        .zip(counts(&distinct))
+        .filter_map(|(r, c)| c.then_some(*r));
     // Per team: (counted, evidence ok, first reaching visit per event).
     let mut per_team: BTreeMap<&str, (u64, u64, BTreeMap<i64, &ReportFact>)> = BTreeMap::new();
-    for r in &counted {
+    for r in counted {
         let t = per_team.entry(&r.team).or_default();
         t.0 += 1;
         t.1 += u64::from(r.evidence_ok);

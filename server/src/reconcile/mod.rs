@@ -58,13 +58,15 @@
 //! them first (an amendment may move a report to another event), then
 //! groups by `event_id`.
 
+mod counted;
 mod facts;
 mod status;
 
+pub use counted::{counted_reports, distinct_reports};
+pub(crate) use counted::{counts, distinct as distinct_refs};
 pub use facts::{Adjudication, Outcome, ReportFact};
 pub use status::{
-    DEFAULT_WINDOW_DAYS, Status, StatusOutcome, counted_reports, distinct_reports, event_status,
-    event_statuses, status_from_counted,
+    DEFAULT_WINDOW_DAYS, Status, StatusOutcome, event_status, event_statuses, status_from_counted,
 };
 
 #[cfg(test)]

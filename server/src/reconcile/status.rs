@@ -7,6 +7,7 @@ use chrono::{DateTime, Duration, Utc};
 use serde::Serialize;
 use uuid::Uuid;
 
+use super::counted::{counted_refs, counts, distinct};
 use super::facts::{Adjudication, Outcome, ReportFact};
 
 /// Reports of disagreeing outcomes within this many days are one episode.
@@ -67,89 +68,6 @@ pub struct StatusOutcome {
     pub adjudicated: bool,
     /// A sentence saying which rule decided.
     pub note: String,
-}
-
-/// Rule 1: one copy per `report_id` (the first received), sorted by
-/// (`observed_at`, `report_id`).
-pub fn distinct_reports(reports: &[ReportFact]) -> Vec<ReportFact> {
-    let mut by_id: BTreeMap<Uuid, &ReportFact> = BTreeMap::new();
-    for r in reports {
-        by_id
-            .entry(r.report_id)
-            .and_modify(|kept| {
-                if (r.received_at, r) < (kept.received_at, *kept) {
-                    *kept = r;
-                }
-            })
-            .or_insert(r);
-    }
-    let mut out: Vec<ReportFact> = by_id.into_values().cloned().collect();
-    out.sort_by_key(|r| (r.observed_at, r.report_id));
-    out
-}
-
-/// Rules 1–3: the reports that count, sorted by (`observed_at`, `report_id`).
-pub fn counted_reports(reports: &[ReportFact]) -> Vec<ReportFact> {
-    let distinct = distinct_reports(reports);
-    let index: BTreeMap<Uuid, usize> = distinct
-        .iter()
-        .enumerate()
-        .map(|(i, r)| (r.report_id, i))
-        .collect();
-    // The report each one supersedes, when that one is known and not itself.
-    let target: Vec<Option<usize>> = distinct
-        .iter()
-        .map(|r| {
-            r.supersedes
-                .filter(|id| *id != r.report_id)
-                .and_then(|id| index.get(&id).copied())
-        })
-        .collect();
-    let mut named = vec![false; distinct.len()];
-    for t in target.iter().flatten() {
-        named[*t] = true;
-    }
-    let mut counts: Vec<bool> = named.iter().map(|n| !n).collect();
-    // Cycles: every member is named; keep the last member unless an outside
-    // report names one of them.
-    let mut seen = vec![false; distinct.len()];
-    for start in 0..distinct.len() {
-        if seen[start] {
-            continue;
-        }
-        let mut path = Vec::new();
-        let mut on_path = BTreeSet::new();
-        let mut at = Some(start);
-        while let Some(i) = at {
-            if seen[i] || !on_path.insert(i) {
-                break;
-            }
-            path.push(i);
-            at = target[i];
-        }
-        if let Some(i) = at
-            && on_path.contains(&i)
-        {
-            let cycle: BTreeSet<usize> = path.iter().copied().skip_while(|&p| p != i).collect();
-            let named_from_outside = target
-                .iter()
-                .enumerate()
-                .any(|(s, t)| !cycle.contains(&s) && t.is_some_and(|t| cycle.contains(&t)));
-            if !named_from_outside && let Some(&last) = cycle.iter().max() {
-                // `distinct` is sorted by (observed_at, report_id): the largest
-                // index sorts last.
-                counts[last] = true;
-            }
-        }
-        for i in path {
-            seen[i] = true;
-        }
-    }
-    distinct
-        .into_iter()
-        .zip(counts)
-        .filter_map(|(r, c)| c.then_some(r))
-        .collect()
 }
 
 /// How one episode of decisive reports resolved.
@@ -213,7 +131,8 @@ pub fn event_status(
     adjudications: &[Adjudication],
     window_days: u32,
 ) -> StatusOutcome {
-    status_from_counted(&counted_reports(reports), adjudications, window_days)
+    let adjudications: Vec<&Adjudication> = adjudications.iter().collect();
+    status_of_sorted(&counted_refs(reports), &adjudications, window_days)
 }
 
 /// Rules 4–8 on reports already reduced by [`counted_reports`] (they are
@@ -223,16 +142,30 @@ pub fn status_from_counted(
     adjudications: &[Adjudication],
     window_days: u32,
 ) -> StatusOutcome {
-    let mut sorted = counted.to_vec();
+    let mut sorted: Vec<&ReportFact> = counted.iter().collect();
     sorted.sort_by_key(|r| (r.observed_at, r.report_id));
-    let counted = sorted.as_slice();
-    let reached: Vec<&ReportFact> = counted.iter().filter(|r| r.outcome.reached()).collect();
+    let adjudications: Vec<&Adjudication> = adjudications.iter().collect();
+    status_of_sorted(&sorted, &adjudications, window_days)
+}
+
+/// Rules 4–8 on counted reports already sorted by (`observed_at`,
+/// `report_id`).
+fn status_of_sorted(
+    counted: &[&ReportFact],
+    adjudications: &[&Adjudication],
+    window_days: u32,
+) -> StatusOutcome {
+    let reached: Vec<&ReportFact> = counted
+        .iter()
+        .copied()
+        .filter(|r| r.outcome.reached())
+        .collect();
     let decisive: Vec<&ReportFact> = reached
         .iter()
         .copied()
         .filter(|r| r.outcome.decisive())
         .collect();
-    let teams: BTreeSet<String> = counted.iter().map(|r| r.team.clone()).collect();
+    let teams: BTreeSet<&str> = counted.iter().map(|r| r.team.as_str()).collect();
     let (mut status, mut new_clearing, mut note) = if counted.is_empty() {
         (Status::Unvisited, false, "no counted report".to_string())
     } else if reached.is_empty() {
@@ -253,7 +186,7 @@ pub fn status_from_counted(
     let mut adjudicated = false;
     let latest = adjudications
         .iter()
-        .max_by(|a, b| (a.at, *a).cmp(&(b.at, *b)));
+        .max_by(|a, b| (a.at, **a).cmp(&(b.at, **b)));
     if let Some(adj) = latest {
         adjudicated = true;
         note = format!(
@@ -283,7 +216,7 @@ pub fn status_from_counted(
         first_visit: reached.first().map(|r| r.observed_at),
         first_received: reached.iter().map(|r| r.received_at).min(),
         cause,
-        teams: teams.into_iter().collect(),
+        teams: teams.into_iter().map(str::to_string).collect(),
         counted_reports: counted.iter().map(|r| r.report_id).collect(),
         adjudicated,
         note,
@@ -347,23 +280,53 @@ pub fn event_statuses(
     adjudications: &[Adjudication],
     window_days: u32,
 ) -> BTreeMap<i64, StatusOutcome> {
-    let mut counted: BTreeMap<i64, Vec<ReportFact>> = BTreeMap::new();
-    for r in reports {
-        counted.entry(r.event_id).or_default();
+    let d = distinct(reports);
+    let counts = counts(&d.reports);
+    // Counted reports grouped by event; within an event they keep the
+    // (observed_at, report_id) order of `d.reports` (the index breaks ties).
+    let mut counted: Vec<(i64, usize)> = d
+        .reports
+        .iter()
+        .zip(&counts)
+        .enumerate()
+        .filter(|(_, (_, c))| **c)
+        .map(|(i, (r, _))| (r.event_id, i))
+        .collect();
+    counted.sort_unstable();
+    // Every event named by a report that does not count, or by a copy that
+    // rule 1 dropped, still gets an entry.
+    let mut events: Vec<i64> = d
+        .reports
+        .iter()
+        .zip(&counts)
+        .filter(|(_, c)| !**c)
+        .map(|(r, _)| r.event_id)
+        .chain(adjudications.iter().map(|a| a.event_id))
+        .collect();
+    if d.had_copies {
+        events.extend(reports.iter().map(|r| r.event_id));
     }
-    for r in counted_reports(reports) {
-        counted.entry(r.event_id).or_default().push(r);
+    events.extend(counted.iter().map(|&(e, _)| e));
+    events.sort_unstable();
+    events.dedup();
+    let mut adj: Vec<&Adjudication> = adjudications.iter().collect();
+    adj.sort_by_key(|a| a.event_id);
+
+    let mut out = Vec::with_capacity(events.len());
+    let (mut ci, mut ai) = (0, 0);
+    let mut group: Vec<&ReportFact> = Vec::new();
+    for event in events {
+        group.clear();
+        while ci < counted.len() && counted[ci].0 == event {
+            group.push(d.reports[counted[ci].1]);
+            ci += 1;
+        }
+        let a0 = ai;
+        while ai < adj.len() && adj[ai].event_id == event {
+            ai += 1;
+        }
+        out.push((event, status_of_sorted(&group, &adj[a0..ai], window_days)));
     }
-    let mut adj: BTreeMap<i64, Vec<Adjudication>> = BTreeMap::new();
-    for a in adjudications {
-        adj.entry(a.event_id).or_default().push(a.clone());
-        counted.entry(a.event_id).or_default();
-    }
-    counted
-        .into_iter()
-        .map(|(event, rs)| {
-            let a = adj.get(&event).map(Vec::as_slice).unwrap_or(&[]);
-            (event, status_from_counted(&rs, a, window_days))
-        })
-        .collect()
+    // Sorted by event id: the map is built in one pass.
+    out.into_iter().collect()
 }

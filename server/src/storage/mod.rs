@@ -31,7 +31,7 @@ pub use returns::{
     UploadRecord,
 };
 pub use sources::Source;
-pub use stats::{AdjudicationRow, ControlRow, StatsEventRow, StatsReportRow};
+pub use stats::{AdjudicationRow, ControlRow, StatsEventRow, StatsReportRef};
 pub use zones::ZoneRecord;
 
 use crate::error::{Error, Result};

@@ -124,6 +124,8 @@ const MIGRATIONS: &[&str] = &[
     crate::storage::stats::ADJUDICATIONS_MIGRATION,
     // 5: users, sessions, API and team tokens, login attempts.
     crate::storage::auth::AUTH_MIGRATION,
+    // 6: covering indexes for the statistics.
+    crate::storage::stats::STATS_INDEXES_MIGRATION,
 ];
 
 /// The schema version this binary writes.

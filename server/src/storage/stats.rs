@@ -5,6 +5,7 @@
 use super::{Reader, Tx};
 use crate::error::Result;
 use rusqlite::params;
+use rusqlite::types::Type;
 use std::collections::HashMap;
 
 /// Adjudications: an append-only audit log of a manager's decisions.
@@ -24,6 +25,18 @@ pub const ADJUDICATIONS_MIGRATION: &str = r#"
         BEGIN SELECT RAISE(ABORT, 'adjudications are an audit log and cannot be deleted'); END;
 "#;
 
+/// Covering indexes for the statistics, which read every live event and
+/// every report on each request: each read walks one index in order and
+/// never visits the table rows, whose other columns (footprints, notes,
+/// positions, flags) the statistics do not need. Without them, reading the
+/// reports in id order cost a table lookup per report.
+pub const STATS_INDEXES_MIGRATION: &str = r#"
+    CREATE INDEX reports_stats ON reports(report_id, event_id, bundle_id, kind, control_code,
+        supersedes, outcome, reason, cause, observed_at, received_at, evidence_ok, team);
+    CREATE INDEX events_stats ON events(merged_into, id, origin, highest_confidence, corroborated,
+        area_ha, first_day, per_source);
+"#;
+
 /// One live event with what the statistics need.
 #[derive(Debug, Clone, PartialEq)]
 pub struct StatsEventRow {
@@ -41,23 +54,24 @@ pub struct StatsEventRow {
     pub sample: Option<(String, f64, i64)>,
 }
 
-/// One report as stored by intake.
-#[derive(Debug, Clone, PartialEq)]
-pub struct StatsReportRow {
-    pub report_id: String,
-    pub bundle_id: String,
+/// One report as stored by intake, borrowed from the row being read: the
+/// statistics read every report on each request, so nothing is copied that
+/// the caller does not keep.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct StatsReportRef<'a> {
+    pub report_id: &'a str,
+    pub bundle_id: &'a str,
     pub event_id: Option<i64>,
-    pub control_code: Option<String>,
-    pub kind: String,
-    pub supersedes: Option<String>,
-    pub outcome: String,
-    pub reason: Option<String>,
-    pub cause: Option<String>,
-    pub observed_at: String,
-    pub received_at: String,
+    pub control_code: Option<&'a str>,
+    pub kind: &'a str,
+    pub supersedes: Option<&'a str>,
+    pub outcome: &'a str,
+    pub reason: Option<&'a str>,
+    pub cause: Option<&'a str>,
+    pub observed_at: &'a str,
+    pub received_at: &'a str,
     pub evidence_ok: bool,
-    pub team: String,
-    pub area_ha: Option<f64>,
+    pub team: &'a str,
 }
 
 /// One adjudication.
@@ -102,6 +116,20 @@ impl Tx<'_> {
             decided_at: at,
         })
     }
+}
+
+/// A TEXT column borrowed from the row.
+fn text<'r>(row: &'r rusqlite::Row<'_>, i: usize) -> rusqlite::Result<&'r str> {
+    row.get_ref(i)?
+        .as_str()
+        .map_err(|e| rusqlite::Error::FromSqlConversionFailure(i, Type::Text, Box::new(e)))
+}
+
+/// A nullable TEXT column borrowed from the row.
+fn opt_text<'r>(row: &'r rusqlite::Row<'_>, i: usize) -> rusqlite::Result<Option<&'r str>> {
+    row.get_ref(i)?
+        .as_str_or_null()
+        .map_err(|e| rusqlite::Error::FromSqlConversionFailure(i, Type::Text, Box::new(e)))
 }
 
 fn split(s: Option<String>) -> Vec<String> {
@@ -192,42 +220,41 @@ impl Reader<'_> {
         Ok(out)
     }
 
-    /// Every report intake stored (none before the first return).
-    pub fn stats_reports(&self) -> Result<Vec<StatsReportRow>> {
+    /// Calls `f` with every report intake stored (none before the first
+    /// return), in `report_id` order.
+    pub fn each_stats_report(&self, mut f: impl FnMut(StatsReportRef<'_>)) -> Result<()> {
         let exists: i64 = self.conn.query_row(
             "SELECT COUNT(*) FROM sqlite_master WHERE type = 'table' AND name = 'reports'",
             [],
             |r| r.get(0),
         )?;
         if exists == 0 {
-            return Ok(Vec::new());
+            return Ok(());
         }
         let mut st = self.conn.prepare(
             "SELECT report_id, bundle_id, event_id, control_code, kind, supersedes, outcome, reason, cause,
-                    observed_at, received_at, evidence_ok, team, area_ha
+                    observed_at, received_at, evidence_ok, team
              FROM reports ORDER BY report_id",
         )?;
-        let v = st
-            .query_map([], |r| {
-                Ok(StatsReportRow {
-                    report_id: r.get(0)?,
-                    bundle_id: r.get(1)?,
-                    event_id: r.get(2)?,
-                    control_code: r.get(3)?,
-                    kind: r.get(4)?,
-                    supersedes: r.get(5)?,
-                    outcome: r.get(6)?,
-                    reason: r.get(7)?,
-                    cause: r.get(8)?,
-                    observed_at: r.get(9)?,
-                    received_at: r.get(10)?,
-                    evidence_ok: r.get::<_, i64>(11)? != 0,
-                    team: r.get(12)?,
-                    area_ha: r.get(13)?,
-                })
-            })?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
-        Ok(v)
+        let mut rows = st.query([])?;
+        while let Some(r) = rows.next()? {
+            f(StatsReportRef {
+                report_id: text(r, 0)?,
+                bundle_id: text(r, 1)?,
+                event_id: r.get(2)?,
+                control_code: opt_text(r, 3)?,
+                kind: text(r, 4)?,
+                supersedes: opt_text(r, 5)?,
+                outcome: text(r, 6)?,
+                reason: opt_text(r, 7)?,
+                cause: opt_text(r, 8)?,
+                observed_at: text(r, 9)?,
+                received_at: text(r, 10)?,
+                evidence_ok: r.get::<_, i64>(11)? != 0,
+                team: text(r, 12)?,
+            });
+        }
+        Ok(())
     }
 
     pub fn adjudications(&self) -> Result<Vec<AdjudicationRow>> {

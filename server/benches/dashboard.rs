@@ -1,0 +1,458 @@
+//! The data behind the manager's dashboard (`/dashboard`, `/api/v1/stats`)
+//! on a large data directory.
+//!
+//! ```text
+//! cargo bench -p groundproof-server --bench dashboard -- [EVENTS] [REPORTS] [RUNS]
+//! ```
+//! Fills a temp data directory, through the storage module's own insert
+//! functions in one transaction, with EVENTS (default 200,000) seeded
+//! invented events in four zones and REPORTS (default 1,000,000) reports,
+//! plus the bundles (response trips of 100 events, and assessment trips with
+//! sampled events and control points), returns, merges and adjudications
+//! those reports need. Then it runs the dashboard's data path (load the
+//! facts, reconcile, compute every figure: what both handlers call) twice to
+//! warm up and RUNS (default 20) times measured, and prints the median,
+//! 95th percentile and maximum with the split between loading and figures,
+//! and the peak memory (VmHWM) of the process. Target: p95 under 200 ms.
+
+mod common;
+use chrono::{DateTime, Duration, TimeZone, Utc};
+use common::peak_rss_mb;
+use groundproof::dashboard::{DISPUTE_WINDOW_DAYS, StatsFilter, load};
+use groundproof::domain::{Confidence, Day};
+use groundproof::figures::{FigureOptions, all_figures};
+use groundproof::storage::{BundleItem, Db, EventWrite, NewBundle, ReportRow, ReturnRecord, Tx};
+use rand::{RngExt, SeedableRng};
+use rand_chacha::ChaCha8Rng;
+use std::collections::BTreeMap;
+use std::time::Instant;
+
+const TARGET_P95_MS: f64 = 200.0;
+const SEED: u64 = 2026;
+/// Events per response trip.
+const TRIP_EVENTS: usize = 100;
+/// Assessment trips, each with sampled events and control points.
+const ASSESSMENT_TRIPS: usize = 20;
+const SAMPLED_PER_TRIP: usize = 25;
+const CONTROLS_PER_TRIP: usize = 10;
+const SOURCES: [(&str, f64, i64); 3] = [
+    ("optical-10m", 10.0, 5),
+    ("radar-10m", 10.0, 12),
+    ("optical-30m", 30.0, 8),
+];
+/// Invented zones: (name, west, south, east, north) in a 1° box.
+const ZONES: [(&str, f64, f64, f64, f64); 4] = [
+    ("Lowland Block", -60.0, -10.0, -59.5, -9.5),
+    ("Ridge Block", -59.5, -10.0, -59.0, -9.5),
+    ("River Block", -60.0, -9.5, -59.5, -9.0),
+    ("Plateau Block", -59.5, -9.5, -59.0, -9.0),
+];
+const CAUSES: [&str; 5] = [
+    "smallholder_clearing",
+    "pasture_conversion",
+    "logging_road",
+    "mining",
+    "fire",
+];
+
+/// The value at quantile `q` of sorted `v` (nearest rank).
+fn quantile(v: &[f64], q: f64) -> f64 {
+    let rank = ((q * v.len() as f64).ceil() as usize).clamp(1, v.len());
+    v[rank - 1]
+}
+
+fn uuid(rng: &mut ChaCha8Rng) -> String {
+    uuid::Builder::from_random_bytes(rng.random())
+        .into_uuid()
+        .to_string()
+}
+
+fn square(lon: f64, lat: f64, half: f64) -> String {
+    let (w, s, e, n) = (lon - half, lat - half, lon + half, lat + half);
+    format!(
+        "{{\"type\":\"Polygon\",\"coordinates\":[[[{w},{s}],[{e},{s}],[{e},{n}],[{w},{n}],[{w},{s}]]]}}"
+    )
+}
+
+/// What the generator made.
+#[derive(Default)]
+struct Made {
+    events: usize,
+    merged: usize,
+    bundles: usize,
+    reports: usize,
+    adjudications: usize,
+}
+
+/// One generated trip: its bundle, return and reports, written through `tx`.
+struct Trip<'a> {
+    team_id: i64,
+    team: &'a str,
+    mode: &'a str,
+    issued: DateTime<Utc>,
+    items: Vec<BundleItem>,
+}
+
+impl Trip<'_> {
+    fn write(
+        self,
+        tx: &Tx<'_>,
+        rng: &mut ChaCha8Rng,
+        reports: &[usize],
+    ) -> groundproof::Result<usize> {
+        let id = uuid(rng);
+        let issued = self.issued.to_rfc3339();
+        tx.insert_bundle(&NewBundle {
+            id: &id,
+            team_id: self.team_id,
+            mode: self.mode,
+            issued_at: &issued,
+            due_at: &(self.issued + Duration::days(14)).to_rfc3339(),
+            expires_at: &(self.issued + Duration::days(60)).to_rfc3339(),
+            seed: None,
+            margin: None,
+            selection: "{\"zone\":\"Lowland Block\"}",
+            start: (-59.5, -9.5),
+            route_m: 25_000.0,
+            upload_key_id: &uuid(rng),
+            upload_key: &rng.random(),
+            file_name: &format!("bundle-{id}.zip"),
+            file_sha256: &"0".repeat(64),
+            file_size: 1_000_000,
+            items: &self.items,
+        })?;
+        let received = self.issued
+            + Duration::days(rng.random_range(15..25))
+            + Duration::nanoseconds(rng.random_range(0..86_400_000_000_000));
+        let return_id = tx.insert_return(&ReturnRecord {
+            id: 0,
+            bundle_id: id.clone(),
+            sha256: format!("{:064x}", rng.random::<u128>()),
+            size: 50_000,
+            team: self.team.into(),
+            received_at: received.to_rfc3339(),
+            path: format!("returns/{id}.zip"),
+        })?;
+        let mut written = 0;
+        for (item, &n) in self.items.iter().zip(reports) {
+            let mut previous: Option<String> = None;
+            for _ in 0..n {
+                let report_id = uuid(rng);
+                let outcome = match rng.random_range(0..100) {
+                    0..50 => "confirmed",
+                    50..75 => "false_alarm",
+                    75..85 => "inconclusive",
+                    _ => "not_reached",
+                };
+                let observed = self.issued
+                    + Duration::days(rng.random_range(1..14))
+                    + Duration::seconds(rng.random_range(0..86_400));
+                // A few corrections name the report they replace.
+                let supersedes = previous.take().filter(|_| rng.random_bool(0.03));
+                tx.insert_report(
+                    &ReportRow {
+                        report_id: report_id.clone(),
+                        bundle_id: id.clone(),
+                        event_id: item.event_id,
+                        control_code: (item.kind == "control").then(|| item.code.clone()),
+                        kind: item.kind.clone(),
+                        supersedes,
+                        outcome: outcome.into(),
+                        reason: match outcome {
+                            "false_alarm" => Some("no_change".into()),
+                            "not_reached" => Some("access".into()),
+                            _ => None,
+                        },
+                        cause: (outcome == "confirmed")
+                            .then(|| CAUSES[rng.random_range(0..CAUSES.len())].into()),
+                        lat: Some(item.lat),
+                        lon: Some(item.lon),
+                        accuracy_m: Some(8.0),
+                        position_source: Some("gnss".into()),
+                        distance_m: Some(rng.random_range(0.0..40.0)),
+                        observed_at: observed.to_rfc3339(),
+                        recorded_at: observed.to_rfc3339(),
+                        received_at: received.to_rfc3339(),
+                        area_ha: None,
+                        notes: String::new(),
+                        team: self.team.into(),
+                        evidence_ok: rng.random_bool(0.85),
+                        flags: Vec::new(),
+                        return_id,
+                    },
+                    "0",
+                )?;
+                previous = Some(report_id);
+                written += 1;
+            }
+        }
+        Ok(written)
+    }
+}
+
+/// Fill the database with `n_events` events and `n_reports` reports.
+fn generate(db: &Db, n_events: usize, n_reports: usize) -> groundproof::Result<Made> {
+    let mut rng = ChaCha8Rng::seed_from_u64(SEED);
+    let start = Utc
+        .with_ymd_and_hms(2025, 11, 1, 0, 0, 0)
+        .single()
+        .unwrap_or_default();
+    let first_day = Day::from_date(start.date_naive()).days();
+    db.write(|tx| {
+        let mut made = Made::default();
+        for (name, px, revisit) in SOURCES {
+            tx.add_source(name, px, revisit)?;
+        }
+        let teams: Vec<_> = (1..=12)
+            .map(|i| tx.add_team(&format!("Team {i:02}")))
+            .collect::<groundproof::Result<_>>()?;
+        let zone_ids: Vec<i64> = ZONES
+            .iter()
+            .map(|&(name, w, s, e, n)| {
+                let ring = format!(
+                    "{{\"type\":\"Polygon\",\"coordinates\":[[[{w},{s}],[{e},{s}],[{e},{n}],[{w},{n}],[{w},{s}]]]}}"
+                );
+                tx.upsert_zone(name, name.starts_with('R'), &ring, (w, s, e, n))
+            })
+            .collect::<groundproof::Result<_>>()?;
+
+        // Events, each with the days and the position its bundle items need.
+        let mut days = Vec::with_capacity(n_events);
+        let mut ids = Vec::with_capacity(n_events);
+        let mut positions = Vec::with_capacity(n_events);
+        for _ in 0..n_events {
+            let (lon, lat) = (rng.random_range(-60.0..-59.0), rng.random_range(-10.0..-9.0));
+            let first = first_day + rng.random_range(0..330);
+            let mut per_source = BTreeMap::new();
+            for (name, _, _) in SOURCES {
+                if rng.random_bool(0.45) {
+                    per_source.insert(name.to_string(), rng.random_range(1..20u32));
+                }
+            }
+            if per_source.is_empty() {
+                per_source.insert(SOURCES[0].0.to_string(), 1);
+            }
+            let id = tx.insert_event(&EventWrite {
+                footprint: square(lon, lat, 0.0005),
+                area_ha: rng.random_range(0.05..20.0),
+                centroid: (lon, lat),
+                bbox: (lon - 0.0005, lat - 0.0005, lon + 0.0005, lat + 0.0005),
+                first: Day::from_days(first),
+                last: Day::from_days(first + rng.random_range(0..30)),
+                alert_count: per_source.values().sum(),
+                highest_confidence: if rng.random_bool(0.6) {
+                    Confidence::Confirmed
+                } else {
+                    Confidence::Tentative
+                },
+                corroborated: per_source.len() >= 2,
+                per_source,
+            })?;
+            let zone = ZONES
+                .iter()
+                .position(|&(_, w, s, e, n)| lon >= w && lon < e && lat >= s && lat < n);
+            if let Some(z) = zone.filter(|_| rng.random_bool(0.8)) {
+                tx.set_event_zones(id, &[zone_ids[z]])?;
+            }
+            days.push(first);
+            ids.push(id);
+            positions.push((lon, lat));
+        }
+        made.events = n_events;
+
+        // Response trips: events in id order, 100 a trip, each event with 2
+        // to 10 reports, until the reports run out (the rest stay unvisited).
+        let mut next = 0;
+        let mut trip_no = 0usize;
+        let control_reports = ASSESSMENT_TRIPS * CONTROLS_PER_TRIP;
+        let sampled_reports = ASSESSMENT_TRIPS * SAMPLED_PER_TRIP;
+        let response_reports = n_reports.saturating_sub(control_reports + sampled_reports);
+        while next < ids.len() && made.reports < response_reports {
+            let chunk = next..(next + TRIP_EVENTS).min(ids.len());
+            next = chunk.end;
+            let team = &teams[trip_no % teams.len()];
+            let latest = chunk.clone().map(|i| days[i]).max().unwrap_or(first_day);
+            let issued = Day::from_days(latest + 3).date().and_hms_opt(8, 0, 0).unwrap_or_default().and_utc();
+            let mut counts = Vec::new();
+            let mut left = response_reports - made.reports;
+            let items: Vec<BundleItem> = chunk
+                .enumerate()
+                .map(|(k, i)| {
+                    let n = rng.random_range(2..=10usize).min(left);
+                    left -= n;
+                    counts.push(n);
+                    BundleItem {
+                        visit_order: k as u32,
+                        code: format!("E{:03}", k + 1),
+                        kind: "event".into(),
+                        event_id: Some(ids[i]),
+                        lon: positions[i].0,
+                        lat: positions[i].1,
+                        stratum: None,
+                        stratum_population: None,
+                        inclusion_probability: None,
+                    }
+                })
+                .collect();
+            let trip = Trip { team_id: team.id, team: &team.name, mode: "response", issued, items };
+            made.reports += trip.write(tx, &mut rng, &counts)?;
+            made.bundles += 1;
+            trip_no += 1;
+        }
+
+        // Assessment trips: sampled events with their weights, and control
+        // points, one report each.
+        let strata = ["optical-10m x confirmed", "radar-10m x tentative", "control"];
+        for a in 0..ASSESSMENT_TRIPS {
+            let team = &teams[a % teams.len()];
+            let mut items: Vec<BundleItem> = (0..SAMPLED_PER_TRIP)
+                .map(|k| {
+                    let i = rng.random_range(0..ids.len());
+                    BundleItem {
+                        visit_order: k as u32,
+                        code: format!("S{:03}", k + 1),
+                        kind: "event".into(),
+                        event_id: Some(ids[i]),
+                        lon: positions[i].0,
+                        lat: positions[i].1,
+                        stratum: Some(strata[k % 2].into()),
+                        stratum_population: Some(40_000),
+                        inclusion_probability: Some(SAMPLED_PER_TRIP as f64 / 80_000.0),
+                    }
+                })
+                .collect();
+            items.extend((0..CONTROLS_PER_TRIP).map(|k| BundleItem {
+                visit_order: (SAMPLED_PER_TRIP + k) as u32,
+                code: format!("C{:03}", k + 1),
+                kind: "control".into(),
+                event_id: None,
+                lon: rng.random_range(-60.0..-59.5),
+                lat: rng.random_range(-10.0..-9.5),
+                stratum: Some(strata[2].into()),
+                stratum_population: None,
+                inclusion_probability: None,
+            }));
+            let issued = Utc.with_ymd_and_hms(2026, 10, 1, 8, 0, 0).single().unwrap_or_default()
+                + Duration::days(a as i64);
+            let counts = vec![1; items.len()];
+            let trip = Trip { team_id: team.id, team: &team.name, mode: "assessment", issued, items };
+            made.reports += trip.write(tx, &mut rng, &counts)?;
+            made.bundles += 1;
+        }
+
+        // One event in a hundred was later merged into its predecessor:
+        // reports naming it must resolve to the live one.
+        for k in (100..ids.len()).step_by(100) {
+            tx.mark_merged(&[ids[k]], ids[k - 1])?;
+            made.merged += 1;
+        }
+        // A manager settled a few hundred events by hand.
+        for _ in 0..500.min(ids.len()) {
+            let id = ids[rng.random_range(0..ids.len())];
+            tx.add_adjudication(id, "confirmed", "seen on a later image", "Manager Bench")?;
+            made.adjudications += 1;
+        }
+        Ok(made)
+    })
+}
+
+fn main() {
+    let args: Vec<usize> = std::env::args()
+        .skip(1)
+        .filter_map(|a| a.parse().ok())
+        .collect();
+    let n_events = args.first().copied().unwrap_or(200_000);
+    let n_reports = args.get(1).copied().unwrap_or(1_000_000);
+    let runs = args.get(2).copied().unwrap_or(20).max(1);
+    let dir = tempfile::tempdir().expect("temp dir");
+    let db = Db::open(dir.path()).expect("db");
+    let t = Instant::now();
+    let made = generate(&db, n_events, n_reports).expect("generated data");
+    let fill_s = t.elapsed().as_secs_f64();
+    let rss_after_fill = peak_rss_mb();
+
+    let as_of = Utc
+        .with_ymd_and_hms(2026, 11, 30, 0, 0, 0)
+        .single()
+        .unwrap_or_default();
+    let options = FigureOptions::new(as_of);
+    let filter = StatsFilter::default();
+    let run = || {
+        let t0 = Instant::now();
+        let l = load(&db, &filter, DISPUTE_WINDOW_DAYS).expect("load");
+        let t1 = Instant::now();
+        let f = all_figures(
+            &l.events,
+            &l.reports,
+            &l.bundle_issued_at,
+            &l.controls,
+            &options,
+        )
+        .expect("figures");
+        let t2 = Instant::now();
+        let ms = |a: Instant, b: Instant| (b - a).as_secs_f64() * 1000.0;
+        (ms(t0, t2), ms(t0, t1), ms(t1, t2), f)
+    };
+    let mut totals = Vec::new();
+    let mut loads = Vec::new();
+    let mut figs = Vec::new();
+    let mut last = None;
+    for i in 0..runs + 2 {
+        let (total, load_ms, fig_ms, f) = run();
+        if i >= 2 {
+            totals.push(total);
+            loads.push(load_ms);
+            figs.push(fig_ms);
+        }
+        last = Some(f);
+    }
+    for v in [&mut totals, &mut loads, &mut figs] {
+        v.sort_by(f64::total_cmp);
+    }
+    let f = last.expect("one run");
+    let visited = f
+        .coverage
+        .first()
+        .and_then(|g| g.rows.first())
+        .map_or(0, |r| r.visited);
+    // A fingerprint of every figure, to check that a speed-up changed no result.
+    let digest = {
+        use sha2::Digest;
+        let json = serde_json::to_string(&f).unwrap_or_default();
+        hex::encode(&sha2::Sha256::digest(json.as_bytes())[..8])
+    };
+    let p95 = quantile(&totals, 0.95);
+    println!(
+        "data: {} events ({} merged), {} reports, {} bundles, {} adjudications; filled in {fill_s:.1} s",
+        made.events, made.merged, made.reports, made.bundles, made.adjudications
+    );
+    println!("dashboard data path over {runs} runs (after 2 warm-up runs):");
+    println!(
+        "  total  median {:.0} ms  p95 {p95:.0} ms  max {:.0} ms  (target p95 < {TARGET_P95_MS:.0} ms: {})",
+        quantile(&totals, 0.5),
+        quantile(&totals, 1.0),
+        if p95 < TARGET_P95_MS { "met" } else { "MISSED" }
+    );
+    println!(
+        "  load + reconcile  median {:.0} ms  p95 {:.0} ms",
+        quantile(&loads, 0.5),
+        quantile(&loads, 0.95)
+    );
+    println!(
+        "  figures           median {:.0} ms  p95 {:.0} ms",
+        quantile(&figs, 0.5),
+        quantile(&figs, 0.95)
+    );
+    println!(
+        "  peak memory (VmHWM) {:.0} MB (after filling {rss_after_fill:.0} MB); events visited {visited}; figures digest {digest}",
+        peak_rss_mb()
+    );
+    println!(
+        "{{\"events\":{},\"reports\":{},\"runs\":{runs},\"median_ms\":{:.1},\"p95_ms\":{p95:.1},\"max_ms\":{:.1},\"target_p95_ms\":{TARGET_P95_MS:.0},\"peak_rss_mb\":{:.0}}}",
+        made.events,
+        made.reports,
+        quantile(&totals, 0.5),
+        quantile(&totals, 1.0),
+        peak_rss_mb()
+    );
+}
