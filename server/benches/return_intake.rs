@@ -17,7 +17,7 @@
 //! The target (issue 4): a 200-photo return of about 800 MB under 200 MB.
 
 mod common;
-use common::peak_rss_mb;
+use common::{peak_rss_mb, status_mb};
 use groundproof::domain::LonLat;
 use groundproof::intake::{IntakeOptions, take_in};
 use groundproof::settings::Settings;
@@ -25,17 +25,6 @@ use groundproof::storage::Db;
 use groundproof::trips::{TripRequest, issue_bundle};
 use sha2::{Digest, Sha256};
 use std::time::Instant;
-
-fn rss_mb() -> f64 {
-    std::fs::read_to_string("/proc/self/status")
-        .ok()
-        .and_then(|s| {
-            s.lines()
-                .find(|l| l.starts_with("VmRSS:"))
-                .and_then(|l| l.split_whitespace().nth(1)?.parse::<f64>().ok())
-        })
-        .map_or(f64::NAN, |kb| kb / 1024.0)
-}
 
 fn main() {
     let events: usize = std::env::args()
@@ -84,7 +73,7 @@ fn main() {
         .len();
 
     let reset = std::fs::write("/proc/self/clear_refs", "5").is_ok();
-    let before = rss_mb();
+    let before = status_mb("VmRSS:");
     let t = Instant::now();
     let doc = take_in(
         &db,
