@@ -20,7 +20,7 @@ use chrono::{DateTime, Duration, TimeZone, Utc};
 use common::peak_rss_mb;
 use groundproof::dashboard::{DISPUTE_WINDOW_DAYS, StatsFilter, load};
 use groundproof::domain::{Confidence, Day};
-use groundproof::figures::{FigureOptions, all_figures};
+use groundproof::figures::{FigureOptions, all_figures_counted};
 use groundproof::storage::{BundleItem, Db, EventWrite, NewBundle, ReportRow, ReturnRecord, Tx};
 use rand::{RngExt, SeedableRng};
 use rand_chacha::ChaCha8Rng;
@@ -381,9 +381,10 @@ fn main() {
         let t0 = Instant::now();
         let l = load(&db, &filter, DISPUTE_WINDOW_DAYS).expect("load");
         let t1 = Instant::now();
-        let f = all_figures(
+        let f = all_figures_counted(
             &l.events,
             &l.reports,
+            &l.counted,
             &l.bundle_issued_at,
             &l.controls,
             &options,

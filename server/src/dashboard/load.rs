@@ -3,7 +3,9 @@
 use crate::domain::{Confidence, Day};
 use crate::error::Result;
 use crate::figures::{ControlFacts, EventFacts, SampleInfo};
-use crate::reconcile::{Adjudication, Outcome, ReportFact, StatusOutcome, event_statuses};
+use crate::reconcile::{
+    Adjudication, CountedIndex, Outcome, ReportFact, StatusOutcome, event_statuses_counted,
+};
 use crate::storage::{Db, StatsReportRef};
 use chrono::{DateTime, Utc};
 use geo::GeodesicArea;
@@ -31,6 +33,10 @@ pub struct Loaded {
     pub bundle_issued_at: BTreeMap<Uuid, DateTime<Utc>>,
     pub controls: Vec<ControlFacts>,
     pub statuses: BTreeMap<i64, StatusOutcome>,
+    /// Which of `reports` count (rules 1–3 of [`crate::reconcile`]), decided
+    /// once: the statuses were made from it and the team table reads it
+    /// (pass it to [`crate::figures::all_figures_counted`]).
+    pub counted: CountedIndex,
 }
 
 fn time(s: &str) -> Option<DateTime<Utc>> {
@@ -146,7 +152,8 @@ pub fn load(db: &Db, filter: &StatsFilter, window_days: u32) -> Result<Loaded> {
         .filter_map(|(id, t)| Some((Uuid::parse_str(id).ok()?, time(t)?)))
         .collect();
     let reports = scan.facts;
-    let statuses = event_statuses(&reports, &adjudications, window_days);
+    let counted = CountedIndex::of(&reports);
+    let statuses = event_statuses_counted(&reports, &counted, &adjudications, window_days);
 
     let mut out_events = Vec::new();
     for e in &events {
@@ -269,5 +276,6 @@ pub fn load(db: &Db, filter: &StatsFilter, window_days: u32) -> Result<Loaded> {
         bundle_issued_at,
         controls: out_controls,
         statuses,
+        counted,
     })
 }

@@ -13,7 +13,7 @@ pub use csv_tables::{TABLES, table};
 pub use load::{Loaded, StatsFilter, load};
 
 use crate::error::{Error, Result};
-use crate::figures::{FigureOptions, Figures, all_figures};
+use crate::figures::{FigureOptions, Figures, all_figures_counted};
 use crate::storage::Db;
 
 /// Settle-window of disagreeing reports, days (DESIGN: default 30).
@@ -22,9 +22,10 @@ pub const DISPUTE_WINDOW_DAYS: u32 = crate::reconcile::DEFAULT_WINDOW_DAYS;
 /// Every figure for the selection.
 pub fn figures(db: &Db, filter: &StatsFilter, options: &FigureOptions) -> Result<Figures> {
     let l = load(db, filter, DISPUTE_WINDOW_DAYS)?;
-    all_figures(
+    all_figures_counted(
         &l.events,
         &l.reports,
+        &l.counted,
         &l.bundle_issued_at,
         &l.controls,
         options,
@@ -50,17 +51,20 @@ pub fn events_with_status(
         weights,
         crate::domain::Day::today(),
     )?;
+    // Reports whose evidence passes, by id (copies included, as counted
+    // before): one pass, not a scan of every report per event.
+    let mut evidence_ok: std::collections::HashMap<uuid::Uuid, usize> =
+        std::collections::HashMap::new();
+    for r in l.reports.iter().filter(|r| r.evidence_ok) {
+        *evidence_ok.entry(r.report_id).or_default() += 1;
+    }
     let features: Vec<serde_json::Value> = events
         .iter()
         .map(|e| {
             let mut f = crate::events::event_feature(e);
             let s = l.statuses.get(&e.record.id);
-            let counted = s.map(|s| s.counted_reports.clone()).unwrap_or_default();
-            let ok = l
-                .reports
-                .iter()
-                .filter(|r| counted.contains(&r.report_id) && r.evidence_ok)
-                .count();
+            let counted = s.map_or(&[][..], |s| &s.counted_reports[..]);
+            let ok: usize = counted.iter().filter_map(|id| evidence_ok.get(id)).sum();
             f["properties"]["status"] =
                 serde_json::json!(s.map_or("unvisited", |s| s.status.as_str()));
             f["properties"]["new_clearing"] = serde_json::json!(s.is_some_and(|s| s.new_clearing));

@@ -14,11 +14,11 @@ use super::causes::{CauseTable, causes};
 use super::coverage::{CoverageRow, coverage};
 use super::facts::{ControlFacts, EventFacts, GroupKey};
 use super::rates::{RateRow, confirmation_rates};
-use super::teams::{TeamRow, team_table};
+use super::teams::{TeamRow, team_table_counted};
 use super::times::{
     DEFAULT_WITHIN_DAYS, ResponseTimes, TimeToVisit, response_times, time_to_visit,
 };
-use crate::reconcile::ReportFact;
+use crate::reconcile::{CountedIndex, ReportFact};
 
 /// Keys of the coverage tables in [`Figures`].
 pub const COVERAGE_KEYS: [GroupKey; 5] = [
@@ -84,6 +84,27 @@ pub fn all_figures(
     controls: &[ControlFacts],
     options: &FigureOptions,
 ) -> Result<Figures, FiguresError> {
+    all_figures_counted(
+        events,
+        reports,
+        &CountedIndex::of(reports),
+        bundle_issued_at,
+        controls,
+        options,
+    )
+}
+
+/// [`all_figures`] with rules 1–3 of [`crate::reconcile`] already applied to
+/// `reports` (what [`crate::dashboard::load`] keeps in `Loaded::counted`), so
+/// that a request reconciles once.
+pub fn all_figures_counted(
+    events: &[EventFacts],
+    reports: &[ReportFact],
+    counted: &CountedIndex,
+    bundle_issued_at: &BTreeMap<Uuid, DateTime<Utc>>,
+    controls: &[ControlFacts],
+    options: &FigureOptions,
+) -> Result<Figures, FiguresError> {
     // Storage gives the events in id order: copy and sort only when not.
     let sorted: Cow<'_, [EventFacts]> = if events.is_sorted_by_key(|e| e.event_id) {
         Cow::Borrowed(events)
@@ -114,7 +135,7 @@ pub fn all_figures(
         response_times: response_times(events)?,
         time_to_visit: time_to_visit(events, options.as_of, options.within_days)?,
         causes: causes(events),
-        teams: team_table(reports, bundle_issued_at)?,
+        teams: team_table_counted(reports, counted, bundle_issued_at)?,
         assessment: assessment(events, controls)?,
     })
 }

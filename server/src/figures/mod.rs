@@ -59,7 +59,9 @@ use thiserror::Error;
 
 use crate::stats::StatsError;
 
-pub use all::{COVERAGE_KEYS, FigureOptions, Figures, Grouped, RATE_KEYS, all_figures};
+pub use all::{
+    COVERAGE_KEYS, FigureOptions, Figures, Grouped, RATE_KEYS, all_figures, all_figures_counted,
+};
 pub use assessment::{
     AlertStratum, AreaAssessment, Assessment, ControlStratum, ErrorMatrixRow, MapClass,
     NonResponse, assessment,
@@ -68,7 +70,7 @@ pub use causes::{CAUSE_NOT_RECORDED, CauseRow, CauseTable, causes};
 pub use coverage::{CoverageRow, coverage, coverage_by};
 pub use facts::{ControlFacts, EventFacts, GroupKey, NO_VALUE, SampleInfo, days_between, month_of};
 pub use rates::{Basis, RateRow, confirmation_rates};
-pub use teams::{TeamRow, team_table};
+pub use teams::{TeamRow, team_table, team_table_counted};
 pub use times::{
     DEFAULT_WITHIN_DAYS, ResponseTimes, TimeToVisit, VisitCurve, response_times, time_to_visit,
 };

@@ -1,7 +1,7 @@
 //! Team figures from the report facts, after reconciliation has dropped
 //! duplicates and superseded reports.
 
-use std::collections::{BTreeMap, BTreeSet};
+use std::collections::{BTreeMap, HashMap, HashSet};
 
 use chrono::{DateTime, Utc};
 use serde::Serialize;
@@ -9,7 +9,7 @@ use uuid::Uuid;
 
 use super::FiguresError;
 use super::facts::days_between;
-use crate::reconcile::{ReportFact, counts, distinct_refs};
+use crate::reconcile::{CountedIndex, ReportFact};
 use crate::stats::median;
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -32,51 +32,101 @@ pub struct TeamRow {
     pub median_issue_to_visit_days: Option<f64>,
 }
 
+/// The per-report maps below hash with rustc's Fx hash: their keys are
+/// server-made (team names, bundle ids, event ids), and SipHash cost more
+/// than the rest of the work per report.
+type FxBuild = rustc_hash::FxBuildHasher;
+
 /// One row per team, sorted by team name.
 pub fn team_table(
     reports: &[ReportFact],
     bundle_issued_at: &BTreeMap<Uuid, DateTime<Utc>>,
 ) -> Result<Vec<TeamRow>, FiguresError> {
-    let mut trips: BTreeMap<&str, BTreeSet<Uuid>> = BTreeMap::new();
-    let distinct = distinct_refs(reports).reports;
-    for r in &distinct {
-        trips.entry(&r.team).or_default().insert(r.bundle_id);
+    team_table_counted(reports, &CountedIndex::of(reports), bundle_issued_at)
+}
+
+/// [`team_table`] with rules 1–3 of [`crate::reconcile`] already applied to
+/// `reports` by [`CountedIndex::of`] (recomputed when `counted` does not fit
+/// `reports`).
+pub fn team_table_counted(
+    reports: &[ReportFact],
+    counted: &CountedIndex,
+    bundle_issued_at: &BTreeMap<Uuid, DateTime<Utc>>,
+) -> Result<Vec<TeamRow>, FiguresError> {
+    if !counted.fits(reports) {
+        return team_table(reports, bundle_issued_at);
     }
-    let counted = distinct
-        .iter()
-        .zip(counts(&distinct))
-        .filter_map(|(r, c)| c.then_some(*r));
-    // Per team: (counted, evidence ok, first reaching visit per event).
-    let mut per_team: BTreeMap<&str, (u64, u64, BTreeMap<i64, &ReportFact>)> = BTreeMap::new();
-    for r in counted {
-        let t = per_team.entry(&r.team).or_default();
-        t.0 += 1;
-        t.1 += u64::from(r.evidence_ok);
+    // Teams by position in a sorted list: the per-report work below is on
+    // small integers, and reports are read in slice order (in memory order).
+    let mut names: Vec<&str> = Vec::new();
+    let mut index: HashMap<&str, u32, FxBuild> = HashMap::default();
+    let mut team_of = Vec::with_capacity(reports.len());
+    for r in reports {
+        let next = index.len() as u32;
+        let k = *index.entry(r.team.as_str()).or_insert_with(|| {
+            names.push(&r.team);
+            next
+        });
+        team_of.push(k);
+    }
+    // Trips: distinct (team, bundle) among the distinct reports. Per team:
+    // counted reports, with passing evidence, and the first reaching visit
+    // per event (smallest (observed_at, report_id), the order of rule 3).
+    let mut trips: HashSet<(u32, u128), FxBuild> = HashSet::default();
+    let mut tally = vec![(0u64, 0u64); names.len()];
+    let mut visits: HashMap<(u32, i64), &ReportFact, FxBuild> = HashMap::default();
+    for ((r, state), &t) in reports.iter().zip(counted.by_position()).zip(&team_of) {
+        let Some(counts) = state else {
+            continue;
+        };
+        trips.insert((t, r.bundle_id.as_u128()));
+        if !counts {
+            continue;
+        }
+        tally[t as usize].0 += 1;
+        tally[t as usize].1 += u64::from(r.evidence_ok);
         if r.outcome.reached() {
-            // `counted` is sorted by (observed_at, report_id): the first wins.
-            t.2.entry(r.event_id).or_insert(r);
+            visits
+                .entry((t, r.event_id))
+                .and_modify(|v| {
+                    if (r.observed_at, r.report_id) < (v.observed_at, v.report_id) {
+                        *v = r;
+                    }
+                })
+                .or_insert(r);
         }
     }
-    trips
+    let mut trip_count = vec![0u64; names.len()];
+    for (t, _) in &trips {
+        trip_count[*t as usize] += 1;
+    }
+    // Visits in (team, event) order, as the waits were listed before.
+    let mut visits: Vec<((u32, i64), &ReportFact)> = visits.into_iter().collect();
+    visits.sort_unstable_by_key(|(k, _)| *k);
+    let mut waits: Vec<Vec<f64>> = vec![Vec::new(); names.len()];
+    let mut visited = vec![0u64; names.len()];
+    for ((t, _), r) in visits {
+        visited[t as usize] += 1;
+        if let Some(issued) = bundle_issued_at.get(&r.bundle_id) {
+            waits[t as usize].push(days_between(*issued, r.observed_at));
+        }
+    }
+    // A team has a row when it has a distinct report (a team named only on
+    // copies that rule 1 dropped has none).
+    let mut order: Vec<usize> = (0..names.len()).filter(|&t| trip_count[t] > 0).collect();
+    order.sort_unstable_by_key(|&t| names[t]);
+    order
         .into_iter()
-        .map(|(team, bundles)| {
-            let (n, ok, visits) = per_team.remove(team).unwrap_or_default();
-            let waits: Vec<f64> = visits
-                .values()
-                .filter_map(|r| {
-                    bundle_issued_at
-                        .get(&r.bundle_id)
-                        .map(|issued| days_between(*issued, r.observed_at))
-                })
-                .collect();
+        .map(|t| {
+            let (n, ok) = tally[t];
             Ok(TeamRow {
-                team: team.to_string(),
-                trips: bundles.len() as u64,
-                events_visited: visits.len() as u64,
+                team: names[t].to_string(),
+                trips: trip_count[t],
+                events_visited: visited[t],
                 reports: n,
                 evidence_ok: ok,
                 evidence_ok_share: (n > 0).then(|| ok as f64 / n as f64),
-                median_issue_to_visit_days: median(&waits)?,
+                median_issue_to_visit_days: median(&waits[t])?,
             })
         })
         .collect()

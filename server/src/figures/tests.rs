@@ -669,3 +669,77 @@ proptest! {
         prop_assert_eq!(figures_for(&input), expected);
     }
 }
+
+/// The team table as first written (ordered maps over the reports of
+/// `crate::reconcile`'s public rules), to check the faster one against.
+fn team_table_reference(
+    reports: &[ReportFact],
+    issued: &BTreeMap<Uuid, DateTime<Utc>>,
+) -> Vec<TeamRow> {
+    use std::collections::BTreeSet;
+    let mut trips: BTreeMap<String, BTreeSet<Uuid>> = BTreeMap::new();
+    for r in crate::reconcile::distinct_reports(reports) {
+        trips.entry(r.team.clone()).or_default().insert(r.bundle_id);
+    }
+    let mut per_team: BTreeMap<String, (u64, u64, BTreeMap<i64, ReportFact>)> = BTreeMap::new();
+    for r in crate::reconcile::counted_reports(reports) {
+        let t = per_team.entry(r.team.clone()).or_default();
+        t.0 += 1;
+        t.1 += u64::from(r.evidence_ok);
+        if r.outcome.reached() {
+            t.2.entry(r.event_id).or_insert(r);
+        }
+    }
+    trips
+        .into_iter()
+        .map(|(team, bundles)| {
+            let (n, ok, visits) = per_team.remove(&team).unwrap_or_default();
+            let waits: Vec<f64> = visits
+                .values()
+                .filter_map(|r| {
+                    issued
+                        .get(&r.bundle_id)
+                        .map(|i| days_between(*i, r.observed_at))
+                })
+                .collect();
+            TeamRow {
+                team,
+                trips: bundles.len() as u64,
+                events_visited: visits.len() as u64,
+                reports: n,
+                evidence_ok: ok,
+                evidence_ok_share: (n > 0).then(|| ok as f64 / n as f64),
+                median_issue_to_visit_days: crate::stats::median(&waits).expect("finite"),
+            }
+        })
+        .collect()
+}
+
+proptest! {
+    /// Copies (also with another team), supersession (also across teams and
+    /// in cycles) and ties of time: the team table equals the reference.
+    #[test]
+    fn team_table_matches_the_reference(
+        rows in prop::collection::vec(
+            (0..30u128, 0..5i64, 0..4u8, 0..6u32, any::<bool>(), 0..3u8, 0..4u128, prop::option::of(0..30u128)),
+            0..60,
+        )
+    ) {
+        let outcomes = [Outcome::Confirmed, Outcome::FalseAlarm, Outcome::Inconclusive, Outcome::NotReached];
+        let reports: Vec<ReportFact> = rows
+            .iter()
+            .map(|&(n, event, o, d, ok, team, bundle, sup)| {
+                let mut r = fact(n, event, outcomes[o as usize], at(3, 1 + d), ok, &format!("t{team}"), 100 + bundle);
+                r.supersedes = sup.map(Uuid::from_u128);
+                r.received_at = at(4, 1 + (n as u32 + d) % 5);
+                r
+            })
+            .collect();
+        let issued: BTreeMap<Uuid, DateTime<Utc>> =
+            [(100, at(2, 20)), (101, at(2, 25)), (102, at(3, 2))]
+                .into_iter()
+                .map(|(b, t)| (Uuid::from_u128(b), t))
+                .collect();
+        prop_assert_eq!(team_table(&reports, &issued).expect("valid"), team_table_reference(&reports, &issued));
+    }
+}

@@ -12,30 +12,101 @@ pub(crate) struct Distinct<'a> {
     /// One copy per `report_id` (the kept one), sorted by
     /// (`observed_at`, `report_id`).
     pub reports: Vec<&'a ReportFact>,
-    /// More than one copy of some `report_id` was given.
-    pub had_copies: bool,
 }
 
 /// Rule 1: one copy per `report_id` (the first received; a full comparison
 /// breaks a tie), sorted by (`observed_at`, `report_id`).
 pub(crate) fn distinct(reports: &[ReportFact]) -> Distinct<'_> {
-    let mut by_id: Vec<&ReportFact> = reports.iter().collect();
+    let (order, _) = distinct_positions(reports);
+    Distinct {
+        reports: order.into_iter().map(|i| &reports[i as usize]).collect(),
+    }
+}
+
+/// Rule 1 as positions in `reports`: one per `report_id` (the kept copy),
+/// sorted by (`observed_at`, `report_id`); and whether copies were dropped.
+fn distinct_positions(reports: &[ReportFact]) -> (Vec<u32>, bool) {
+    let mut by_id: Vec<u32> = (0..reports.len() as u32).collect();
+    let at = |i: &u32| &reports[*i as usize];
     // Copies of one id become neighbours with the kept copy first. Storage
     // reads reports in id order, so this sort only checks the order.
     by_id.sort_by(|a, b| {
+        let (a, b) = (at(a), at(b));
         a.report_id
             .cmp(&b.report_id)
-            .then_with(|| (a.received_at, *a).cmp(&(b.received_at, *b)))
+            .then_with(|| (a.received_at, a).cmp(&(b.received_at, b)))
     });
-    by_id.dedup_by_key(|r| r.report_id);
+    by_id.dedup_by_key(|i| at(i).report_id);
     let had_copies = by_id.len() < reports.len();
     let mut out = by_id;
     // The keys are copied out once: sorting on them beats chasing a pointer
     // per comparison. Ids are distinct now, so the order is total.
-    out.sort_by_cached_key(|r| (r.observed_at, r.report_id));
-    Distinct {
-        reports: out,
-        had_copies,
+    out.sort_by_cached_key(|i| (at(i).observed_at, at(i).report_id));
+    (out, had_copies)
+}
+
+/// Rules 1–3 over a slice of report facts, kept as positions in that slice
+/// so that the result can travel beside it: the statistics decide once per
+/// request which reports count, and both the event statuses and the team
+/// table read that one decision.
+#[derive(Debug, Clone, Default, PartialEq, Eq)]
+pub struct CountedIndex {
+    /// Length of the slice this was computed from.
+    len: usize,
+    /// Position of each distinct report (the kept copy), sorted by
+    /// (`observed_at`, `report_id`).
+    distinct: Vec<u32>,
+    /// Whether each of `distinct` counts (rules 2–3).
+    counts: Vec<bool>,
+    /// Rule 1 dropped some copy.
+    had_copies: bool,
+}
+
+impl CountedIndex {
+    /// Rules 1–3 over `reports`.
+    pub fn of(reports: &[ReportFact]) -> Self {
+        let (distinct, had_copies) = distinct_positions(reports);
+        let refs: Vec<&ReportFact> = distinct.iter().map(|&i| &reports[i as usize]).collect();
+        let counts = counts(&refs);
+        CountedIndex {
+            len: reports.len(),
+            distinct,
+            counts,
+            had_copies,
+        }
+    }
+
+    /// True when this was computed from a slice of `reports`' length (the
+    /// caller's promise is that it was computed from `reports` itself).
+    pub fn fits(&self, reports: &[ReportFact]) -> bool {
+        self.len == reports.len() && self.distinct.iter().all(|&i| (i as usize) < self.len)
+    }
+
+    /// Rule 1 dropped some copy.
+    pub(crate) fn had_copies(&self) -> bool {
+        self.had_copies
+    }
+
+    /// For each report of the slice, in slice order: `None` for a copy rule 1
+    /// dropped, else whether it counts.
+    pub(crate) fn by_position(&self) -> Vec<Option<bool>> {
+        let mut out = vec![None; self.len];
+        for (&i, &c) in self.distinct.iter().zip(&self.counts) {
+            out[i as usize] = Some(c);
+        }
+        out
+    }
+
+    /// The distinct reports in (`observed_at`, `report_id`) order, each
+    /// with whether it counts.
+    pub(crate) fn iter<'a>(
+        &'a self,
+        reports: &'a [ReportFact],
+    ) -> impl Iterator<Item = (&'a ReportFact, bool)> + 'a {
+        self.distinct
+            .iter()
+            .zip(&self.counts)
+            .map(move |(&i, &c)| (&reports[i as usize], c))
     }
 }
 

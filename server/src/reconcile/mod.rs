@@ -62,11 +62,11 @@ mod counted;
 mod facts;
 mod status;
 
-pub use counted::{counted_reports, distinct_reports};
-pub(crate) use counted::{counts, distinct as distinct_refs};
+pub use counted::{CountedIndex, counted_reports, distinct_reports};
 pub use facts::{Adjudication, Outcome, ReportFact};
 pub use status::{
-    DEFAULT_WINDOW_DAYS, Status, StatusOutcome, event_status, event_statuses, status_from_counted,
+    DEFAULT_WINDOW_DAYS, Status, StatusOutcome, event_status, event_statuses,
+    event_statuses_counted, status_from_counted,
 };
 
 #[cfg(test)]

@@ -7,7 +7,7 @@ use chrono::{DateTime, Duration, Utc};
 use serde::Serialize;
 use uuid::Uuid;
 
-use super::counted::{counted_refs, counts, distinct};
+use super::counted::{CountedIndex, counted_refs};
 use super::facts::{Adjudication, Outcome, ReportFact};
 
 /// Reports of disagreeing outcomes within this many days are one episode.
@@ -280,30 +280,48 @@ pub fn event_statuses(
     adjudications: &[Adjudication],
     window_days: u32,
 ) -> BTreeMap<i64, StatusOutcome> {
-    let d = distinct(reports);
-    let counts = counts(&d.reports);
+    event_statuses_counted(
+        reports,
+        &CountedIndex::of(reports),
+        adjudications,
+        window_days,
+    )
+}
+
+/// [`event_statuses`] with rules 1–3 already applied to `reports` by
+/// [`CountedIndex::of`] (recomputed when `counted` does not fit `reports`).
+pub fn event_statuses_counted(
+    reports: &[ReportFact],
+    counted: &CountedIndex,
+    adjudications: &[Adjudication],
+    window_days: u32,
+) -> BTreeMap<i64, StatusOutcome> {
+    let fresh;
+    let index = if counted.fits(reports) {
+        counted
+    } else {
+        fresh = CountedIndex::of(reports);
+        &fresh
+    };
+    let distinct: Vec<(&ReportFact, bool)> = index.iter(reports).collect();
     // Counted reports grouped by event; within an event they keep the
-    // (observed_at, report_id) order of `d.reports` (the index breaks ties).
-    let mut counted: Vec<(i64, usize)> = d
-        .reports
+    // (observed_at, report_id) order of `distinct` (the index breaks ties).
+    let mut counted: Vec<(i64, usize)> = distinct
         .iter()
-        .zip(&counts)
         .enumerate()
-        .filter(|(_, (_, c))| **c)
+        .filter(|(_, (_, c))| *c)
         .map(|(i, (r, _))| (r.event_id, i))
         .collect();
     counted.sort_unstable();
     // Every event named by a report that does not count, or by a copy that
     // rule 1 dropped, still gets an entry.
-    let mut events: Vec<i64> = d
-        .reports
+    let mut events: Vec<i64> = distinct
         .iter()
-        .zip(&counts)
-        .filter(|(_, c)| !**c)
+        .filter(|(_, c)| !*c)
         .map(|(r, _)| r.event_id)
         .chain(adjudications.iter().map(|a| a.event_id))
         .collect();
-    if d.had_copies {
+    if index.had_copies() {
         events.extend(reports.iter().map(|r| r.event_id));
     }
     events.extend(counted.iter().map(|&(e, _)| e));
@@ -318,7 +336,7 @@ pub fn event_statuses(
     for event in events {
         group.clear();
         while ci < counted.len() && counted[ci].0 == event {
-            group.push(d.reports[counted[ci].1]);
+            group.push(distinct[counted[ci].1].0);
             ci += 1;
         }
         let a0 = ai;

@@ -367,3 +367,32 @@ proptest! {
         prop_assert_eq!(counted.is_empty(), reports.is_empty());
     }
 }
+
+#[test]
+fn statuses_from_a_kept_index_match_and_a_stale_index_is_not_used() {
+    // Copies, a chain and a second event: every rule 1–3 path.
+    let reports = vec![
+        report(1, Outcome::Confirmed, 0),
+        with(report(1, Outcome::Confirmed, 0), |r| {
+            r.received_at = day(9);
+        }),
+        with(report(2, Outcome::FalseAlarm, 3), |r| {
+            r.supersedes = Some(id(1));
+        }),
+        with(report(3, Outcome::NotReached, 4), |r| r.event_id = 8),
+    ];
+    let direct = event_statuses(&reports, &[], DEFAULT_WINDOW_DAYS);
+    let index = CountedIndex::of(&reports);
+    assert!(index.fits(&reports));
+    assert_eq!(
+        event_statuses_counted(&reports, &index, &[], DEFAULT_WINDOW_DAYS),
+        direct
+    );
+    // An index of another slice is recomputed, never trusted.
+    let stale = CountedIndex::of(&reports[..1]);
+    assert!(!stale.fits(&reports));
+    assert_eq!(
+        event_statuses_counted(&reports, &stale, &[], DEFAULT_WINDOW_DAYS),
+        direct
+    );
+}

@@ -132,54 +132,34 @@ fn opt_text<'r>(row: &'r rusqlite::Row<'_>, i: usize) -> rusqlite::Result<Option
         .map_err(|e| rusqlite::Error::FromSqlConversionFailure(i, Type::Text, Box::new(e)))
 }
 
-fn split(s: Option<String>) -> Vec<String> {
-    let mut v: Vec<String> = s
-        .map(|z| {
-            z.split('\u{1f}')
-                .filter(|x| !x.is_empty())
-                .map(str::to_string)
-                .collect()
-        })
-        .unwrap_or_default();
-    v.sort();
-    v.dedup();
-    v
+/// Adds the non-empty parts of `s` (split at the unit separator, which
+/// joined the values in the queries this replaced) to `out`.
+fn push_split(out: &mut Vec<String>, s: &str) {
+    out.extend(
+        s.split('\u{1f}')
+            .filter(|x| !x.is_empty())
+            .map(str::to_string),
+    );
 }
 
 impl Reader<'_> {
     /// Every live event with its zones, sources, first issue and sample.
+    ///
+    /// Three passes, each one scan (the events, the zone links, the items of
+    /// the bundles not cancelled), merged here by event id: a subquery per
+    /// event cost three index searches for each of 200,000 events.
     pub fn stats_events(&self) -> Result<Vec<StatsEventRow>> {
         let mut st = self.conn.prepare(
-            "SELECT e.id, e.origin, e.highest_confidence, e.corroborated, e.area_ha, e.first_day, e.per_source,
-               (SELECT group_concat(z.name, char(31)) FROM event_zones ez JOIN zones z ON z.id = ez.zone_id WHERE ez.event_id = e.id),
-               (SELECT MIN(b.issued_at) FROM bundle_items i JOIN bundles b ON b.id = i.bundle_id
-                  WHERE i.event_id = e.id AND b.cancelled_at IS NULL),
-               (SELECT group_concat(t.name, char(31)) FROM bundle_items i JOIN bundles b ON b.id = i.bundle_id
-                  JOIN teams t ON t.id = b.team_id WHERE i.event_id = e.id AND b.cancelled_at IS NULL),
-               (SELECT i.stratum || char(31) || i.inclusion_probability || char(31) || i.stratum_population
-                  FROM bundle_items i JOIN bundles b ON b.id = i.bundle_id
-                  WHERE i.event_id = e.id AND b.mode = 'assessment' AND b.cancelled_at IS NULL
-                    AND i.inclusion_probability IS NOT NULL
-                  ORDER BY b.issued_at, b.id LIMIT 1)
-             FROM events e WHERE e.merged_into IS NULL ORDER BY e.id",
+            "SELECT id, origin, highest_confidence, corroborated, area_ha, first_day, per_source
+             FROM events WHERE merged_into IS NULL ORDER BY id",
         )?;
-        let rows = st
+        let mut events = st
             .query_map([], |r| {
                 let per_source: String = r.get(6)?;
                 let sources: Vec<String> =
                     serde_json::from_str::<std::collections::BTreeMap<String, u32>>(&per_source)
                         .map(|m| m.into_keys().collect())
                         .unwrap_or_default();
-                let sample: Option<String> = r.get(10)?;
-                let sample = sample.and_then(|s| {
-                    let p: Vec<&str> = s.split('\u{1f}').collect();
-                    match p.as_slice() {
-                        [name, prob, pop] => {
-                            Some((name.to_string(), prob.parse().ok()?, pop.parse().ok()?))
-                        }
-                        _ => None,
-                    }
-                });
                 Ok(StatsEventRow {
                     id: r.get(0)?,
                     origin: r.get(1)?,
@@ -188,14 +168,95 @@ impl Reader<'_> {
                     area_ha: r.get(4)?,
                     first_day: r.get(5)?,
                     sources,
-                    zones: split(r.get(7)?),
-                    first_issued_at: r.get(8)?,
-                    teams_issued: split(r.get(9)?),
-                    sample,
+                    zones: Vec::new(),
+                    first_issued_at: None,
+                    teams_issued: Vec::new(),
+                    sample: None,
                 })
             })?
             .collect::<rusqlite::Result<Vec<_>>>()?;
-        Ok(rows)
+        // Ids are unique and in order: an event's position by binary search.
+        let slot =
+            |events: &[StatsEventRow], id: i64| events.binary_search_by_key(&id, |e| e.id).ok();
+
+        let mut st = self.conn.prepare(
+            "SELECT ez.event_id, z.name FROM event_zones ez JOIN zones z ON z.id = ez.zone_id",
+        )?;
+        let mut rows = st.query([])?;
+        while let Some(r) = rows.next()? {
+            if let Some(k) = slot(&events, r.get(0)?) {
+                push_split(&mut events[k].zones, text(r, 1)?);
+            }
+        }
+
+        // The sample comes from the first assessment bundle (by issue time,
+        // then id) whose item carries an inclusion probability; the values
+        // are joined as text in SQL, as one subquery per event did before.
+        struct Sample {
+            issued_at: String,
+            bundle_id: String,
+            value: Option<String>,
+        }
+        let mut samples: Vec<Option<Sample>> = Vec::new();
+        let mut st = self.conn.prepare(
+            "SELECT i.event_id, b.issued_at, t.name, i.bundle_id,
+                    b.mode = 'assessment' AND i.inclusion_probability IS NOT NULL,
+                    i.stratum || char(31) || i.inclusion_probability || char(31) || i.stratum_population
+             FROM bundle_items i JOIN bundles b ON b.id = i.bundle_id
+             LEFT JOIN teams t ON t.id = b.team_id
+             WHERE i.event_id IS NOT NULL AND b.cancelled_at IS NULL",
+        )?;
+        let mut rows = st.query([])?;
+        while let Some(r) = rows.next()? {
+            let Some(k) = slot(&events, r.get(0)?) else {
+                continue;
+            };
+            let issued_at = text(r, 1)?;
+            let e = &mut events[k];
+            if e.first_issued_at.as_deref().is_none_or(|f| issued_at < f) {
+                e.first_issued_at = Some(issued_at.to_string());
+            }
+            if let Some(team) = opt_text(r, 2)? {
+                push_split(&mut e.teams_issued, team);
+            }
+            if r.get::<_, i64>(4)? != 0 {
+                let bundle_id = text(r, 3)?;
+                if samples.is_empty() {
+                    samples.resize_with(events.len(), || None);
+                }
+                let earlier = samples[k].as_ref().is_none_or(|s| {
+                    (issued_at, bundle_id) < (s.issued_at.as_str(), s.bundle_id.as_str())
+                });
+                if earlier {
+                    samples[k] = Some(Sample {
+                        issued_at: issued_at.to_string(),
+                        bundle_id: bundle_id.to_string(),
+                        value: opt_text(r, 5)?.map(str::to_string),
+                    });
+                }
+            }
+        }
+
+        for (k, e) in events.iter_mut().enumerate() {
+            e.zones.sort();
+            e.zones.dedup();
+            e.teams_issued.sort();
+            e.teams_issued.dedup();
+            e.sample = samples
+                .get_mut(k)
+                .and_then(Option::take)
+                .and_then(|s| s.value)
+                .and_then(|s| {
+                    let p: Vec<&str> = s.split('\u{1f}').collect();
+                    match p.as_slice() {
+                        [name, prob, pop] => {
+                            Some((name.to_string(), prob.parse().ok()?, pop.parse().ok()?))
+                        }
+                        _ => None,
+                    }
+                });
+        }
+        Ok(events)
     }
 
     /// Where merged events went: id → the live event that holds it now.

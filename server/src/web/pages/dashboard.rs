@@ -16,7 +16,7 @@ use crate::charts::{
 use crate::dashboard::{DISPUTE_WINDOW_DAYS, StatsFilter, TABLES, load};
 use crate::error::Error;
 use crate::figures::{
-    EventFacts, FigureOptions, Figures, GroupKey, VisitCurve, all_figures, month_of,
+    EventFacts, FigureOptions, Figures, GroupKey, VisitCurve, all_figures_counted, month_of,
 };
 use crate::reconcile::Status;
 use crate::stats::{DurationSummary, Estimate};
@@ -499,9 +499,10 @@ async fn dashboard_page(
     let fl = filter.clone();
     let (figs, events, lists) = web::block(move || {
         let l = load(&db, &fl, DISPUTE_WINDOW_DAYS)?;
-        let f = all_figures(
+        let f = all_figures_counted(
             &l.events,
             &l.reports,
+            &l.counted,
             &l.bundle_issued_at,
             &l.controls,
             &opts,
