@@ -8,7 +8,9 @@
 //! with its line), issues a bundle and downloads it with the session; the
 //! field kit records two devices' visits (one event disputed) and packs
 //! their returns; the station page takes both returns (and refuses a file
-//! that is not one); the coordinator logs out, the manager logs in,
+//! that is not one); a form with a stale security token and one sent after
+//! the session ended are refused with a message and change nothing; the
+//! coordinator logs out, the manager logs in,
 //! settles the dispute and opens the dashboard.
 //!
 //! The server is loaded as the demo loads it, and the logins are the
@@ -295,6 +297,46 @@ fn coordinator_and_manager_work_through_the_pages_in_chromium() {
     let err = b.text(".error-box");
     assert!(err.contains("not taken in"), "{err}");
     assert_clean_with_status(&b, "station refused", Some(422));
+
+    // A form sent with a stale security token is refused with a message,
+    // and nothing is issued.
+    let bundles = |s: &TestServer| s.db.read(|r| r.bundles()).expect("bundles").len();
+    let before = bundles(&s);
+    b.goto(&s.url("/trips"));
+    b.choose("#t-team", "Team Amber");
+    b.script(
+        "document.querySelector('form[action=\"/trips\"] input[name=csrf_token]').value = 'stale';",
+    );
+    submit(&b, "/trips");
+    assert!(
+        b.text("body")
+            .contains("security token is missing or stale"),
+        "{}",
+        b.text("body")
+    );
+    assert_clean_with_status(&b, "stale token", Some(403));
+    assert_eq!(bundles(&s), before, "nothing issued with a stale token");
+
+    // A session that has ended under an open form: the form is not taken,
+    // the login page says why, and logging in again goes on.
+    let alerts_before = s.db.read(|r| r.alert_count()).expect("alerts");
+    b.goto(&s.url("/import"));
+    b.set_cookie("gp_session", "00000000000000000000000000000000");
+    b.choose("#alert-source", "optical-10m");
+    b.choose_file("#alert-file", &good);
+    submit(&b, "/import/alerts");
+    assert!(b.current_url().contains("/login"), "{}", b.current_url());
+    assert!(
+        b.text("[role=alert]").contains("session has ended"),
+        "{}",
+        b.text("body")
+    );
+    assert_eq!(
+        s.db.read(|r| r.alert_count()).expect("alerts"),
+        alerts_before,
+        "nothing imported after the session ended"
+    );
+    log_in(&b, "coordinator", password_of("coordinator"));
 
     // Log out: the login page again, and a page asks for it.
     submit(&b, "/logout");

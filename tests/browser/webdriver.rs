@@ -285,6 +285,16 @@ impl Browser {
             .and_then(|v| v["value"].as_str().map(str::to_string))
     }
 
+    /// Add Cookie (§14.3) for the current page's site, replacing one of
+    /// the same name.
+    pub fn set_cookie(&self, name: &str, value: &str) {
+        self.session_call(
+            "POST",
+            "/cookie",
+            Some(json!({"cookie": {"name": name, "value": value, "path": "/", "httpOnly": true}})),
+        );
+    }
+
     /// Get Page Source (§13.1): the serialized DOM.
     pub fn source(&self) -> String {
         self.session_call("GET", "/source", None)

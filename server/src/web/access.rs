@@ -75,15 +75,30 @@ fn refuse(req: ServiceRequest, status: StatusCode, message: &str) -> ServiceResp
     let resp = if is_api {
         HttpResponse::build(status).json(json!({"error": message}))
     } else if status == StatusCode::UNAUTHORIZED {
-        let next = url_escape(req.path());
+        // A form sent with a session that has ended goes back to the front
+        // page after the login (its own path takes no GET); a page asked for
+        // comes back itself. A session cookie we no longer know means the
+        // session ended, and the login page says so.
+        let next = if req.method() == actix_web::http::Method::GET {
+            url_escape(req.path())
+        } else {
+            "/".to_string()
+        };
+        let had_session = req
+            .headers()
+            .get("cookie")
+            .and_then(|c| c.to_str().ok())
+            .and_then(auth::session_token_from_cookie_header)
+            .is_some();
+        let ended = if had_session { "&ended=1" } else { "" };
         HttpResponse::SeeOther()
-            .insert_header(("Location", format!("/login?next={next}")))
+            .insert_header(("Location", format!("/login?next={next}{ended}")))
             .finish()
     } else {
         HttpResponse::build(status)
             .content_type("text/html; charset=utf-8")
             .body(format!(
-                "<!doctype html><html lang=en><head><meta charset=utf-8><title>Not allowed</title></head><body><h1>Not allowed</h1><p>{}</p><p><a href=\"/\">Back</a></p></body></html>",
+                "<!doctype html><html lang=en><head><meta charset=utf-8><title>Not allowed</title><link rel=icon href=\"/static/icon.svg\" type=\"image/svg+xml\"></head><body><h1>Not allowed</h1><p>{}</p><p><a href=\"/\">Back</a></p></body></html>",
                 crate::web::html_escape(message)
             ))
     };

@@ -16,7 +16,12 @@ struct LoginPage<'a> {
 #[derive(Deserialize)]
 pub struct NextQuery {
     next: Option<String>,
+    /// Set when a request came with a session that has ended.
+    ended: Option<String>,
 }
+
+/// What the login page says after a session ended under the user.
+pub const SESSION_ENDED: &str = "Your session has ended (it timed out, or you logged out elsewhere). Log in again; what you last sent was not saved.";
 
 /// Only local paths are followed after login (no open redirect).
 fn safe_next(n: Option<&str>) -> String {
@@ -43,7 +48,7 @@ fn page(status: actix_web::http::StatusCode, error: Option<&str>, next: &str) ->
 pub async fn form(q: web::Query<NextQuery>) -> HttpResponse {
     page(
         actix_web::http::StatusCode::OK,
-        None,
+        q.ended.as_ref().map(|_| SESSION_ENDED),
         &safe_next(q.next.as_deref()),
     )
 }
