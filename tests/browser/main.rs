@@ -131,14 +131,14 @@ fn log_in(b: &Browser, name: &str, password: &str) {
     b.find("form[action=\"/login\"]");
     b.type_into("#name", name);
     b.type_into("#password", password);
-    b.click("form[action=\"/login\"] button[type=submit]");
+    b.click_to_navigate("form[action=\"/login\"] button[type=submit]");
     let who = b.text(".who");
     assert!(who.contains(name), "signed in as {name}: {who:?}");
 }
 
 /// Submit the form whose `action` starts with `action`.
 fn submit(b: &Browser, action: &str) {
-    b.click(&format!("form[action^=\"{action}\"] button[type=submit]"));
+    b.click_to_navigate(&format!("form[action^=\"{action}\"] button[type=submit]"));
 }
 
 /// Download `href` with the browser's session cookie, as the link does.
@@ -362,7 +362,7 @@ fn coordinator_and_manager_work_through_the_pages_in_chromium() {
         &format!("#{section} textarea[name=reason]"),
         "Both photo sets show fresh stumps; the second visit looked at the wrong patch.",
     );
-    b.click(&format!("#{section} button[type=submit]"));
+    b.click_to_navigate(&format!("#{section} button[type=submit]"));
     let ok = b.text(".ok-box");
     assert!(ok.contains("was recorded"), "{ok}");
     assert!(
@@ -372,7 +372,7 @@ fn coordinator_and_manager_work_through_the_pages_in_chromium() {
     assert_clean(&b, "dispute settled");
 
     // Its event page now says confirmed.
-    b.click(".ok-box a");
+    b.click_to_navigate(".ok-box a");
     assert!(b.text("h1").contains("confirmed"), "{}", b.text("h1"));
     assert_has(&b, "event", &["Attributes", "Alerts ("]);
     assert_clean(&b, "event");

@@ -231,6 +231,36 @@ impl Browser {
         self.session_call("POST", &format!("/element/{}/click", e.0), None);
     }
 
+    /// Click an element that leads to a new page, and wait until that page
+    /// has loaded. ChromeDriver waits for a navigation only when it starts
+    /// at once; a form whose answer takes a while (issuing a bundle) would
+    /// otherwise let the next command read the old page. The old document
+    /// is marked first, so the wait ends only on a new one.
+    pub fn click_to_navigate(&self, css: &str) {
+        self.script("window.__gpOldPage = true;");
+        self.click(css);
+        let start = Instant::now();
+        let p = format!("/session/{}/execute/sync", self.session);
+        let probe = json!({
+            "script": "return window.__gpOldPage === true ? 'old' : document.readyState;",
+            "args": [],
+        });
+        loop {
+            // Errors while the page changes ("no such execution context")
+            // mean "not yet".
+            if let Ok(v) = self.call("POST", &p, Some(probe.clone()))
+                && v.as_str() == Some("complete")
+            {
+                return;
+            }
+            assert!(
+                start.elapsed() < Duration::from_millis(PAGE_LOAD_MS),
+                "no new page {PAGE_LOAD_MS} ms after clicking {css:?}"
+            );
+            std::thread::sleep(Duration::from_millis(50));
+        }
+    }
+
     /// Element Clear (§12.5.2), then Element Send Keys (§12.5.3). On a file
     /// input the text is the path of the file to choose.
     pub fn type_into(&self, css: &str, text: &str) {
