@@ -18,9 +18,9 @@
 mod common;
 use chrono::{DateTime, Duration, TimeZone, Utc};
 use common::peak_rss_mb;
-use groundproof::dashboard::{DISPUTE_WINDOW_DAYS, StatsFilter, load};
+use groundproof::dashboard::{DISPUTE_WINDOW_DAYS, StatsFilter, figures_of, load};
 use groundproof::domain::{Confidence, Day};
-use groundproof::figures::{FigureOptions, all_figures_counted};
+use groundproof::figures::FigureOptions;
 use groundproof::storage::{BundleItem, Db, EventWrite, NewBundle, ReportRow, ReturnRecord, Tx};
 use rand::{RngExt, SeedableRng};
 use rand_chacha::ChaCha8Rng;
@@ -381,15 +381,7 @@ fn main() {
         let t0 = Instant::now();
         let l = load(&db, &filter, DISPUTE_WINDOW_DAYS).expect("load");
         let t1 = Instant::now();
-        let f = all_figures_counted(
-            &l.events,
-            &l.reports,
-            &l.counted,
-            &l.bundle_issued_at,
-            &l.controls,
-            &options,
-        )
-        .expect("figures");
+        let f = figures_of(&l, &options).expect("figures");
         let t2 = Instant::now();
         let ms = |a: Instant, b: Instant| (b - a).as_secs_f64() * 1000.0;
         (ms(t0, t2), ms(t0, t1), ms(t1, t2), f)

@@ -21,7 +21,11 @@ pub const DISPUTE_WINDOW_DAYS: u32 = crate::reconcile::DEFAULT_WINDOW_DAYS;
 
 /// Every figure for the selection.
 pub fn figures(db: &Db, filter: &StatsFilter, options: &FigureOptions) -> Result<Figures> {
-    let l = load(db, filter, DISPUTE_WINDOW_DAYS)?;
+    figures_of(&load(db, filter, DISPUTE_WINDOW_DAYS)?, options)
+}
+
+/// Every figure from facts already loaded and reconciled.
+pub fn figures_of(l: &Loaded, options: &FigureOptions) -> Result<Figures> {
     all_figures_counted(
         &l.events,
         &l.reports,

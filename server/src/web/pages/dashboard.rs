@@ -15,9 +15,7 @@ use crate::charts::{
 };
 use crate::dashboard::{DISPUTE_WINDOW_DAYS, StatsFilter, TABLES, load};
 use crate::error::Error;
-use crate::figures::{
-    EventFacts, FigureOptions, Figures, GroupKey, VisitCurve, all_figures_counted, month_of,
-};
+use crate::figures::{EventFacts, FigureOptions, Figures, GroupKey, VisitCurve, month_of};
 use crate::reconcile::Status;
 use crate::stats::{DurationSummary, Estimate};
 use crate::web::AppState;
@@ -499,15 +497,7 @@ async fn dashboard_page(
     let fl = filter.clone();
     let (figs, events, lists) = web::block(move || {
         let l = load(&db, &fl, DISPUTE_WINDOW_DAYS)?;
-        let f = all_figures_counted(
-            &l.events,
-            &l.reports,
-            &l.counted,
-            &l.bundle_issued_at,
-            &l.controls,
-            &opts,
-        )
-        .map_err(|e| Error::Invalid(format!("statistics: {e}")))?;
+        let f = crate::dashboard::figures_of(&l, &opts)?;
         let lists = db.read(|r| {
             Ok(Lists {
                 zones: r.zones()?.into_iter().map(|z| z.name).collect(),
