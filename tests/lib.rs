@@ -26,11 +26,7 @@ impl TestServer {
         let db = Arc::new(Db::open(dir.path()).expect("database opens"));
         let listener = TcpListener::bind("127.0.0.1:0").expect("bind loopback");
         let addr = listener.local_addr().expect("address");
-        let state = AppState {
-            db: db.clone(),
-            data_dir: dir.path().to_path_buf(),
-            settings: Arc::new(Settings::default()),
-        };
+        let state = AppState::new(db.clone(), dir.path().to_path_buf(), Settings::default());
         let (tx, rx) = std::sync::mpsc::channel();
         let thread = std::thread::spawn(move || {
             actix_web::rt::System::new().block_on(async move {

@@ -602,11 +602,7 @@ fn serve_demo(
     let listener = TcpListener::bind(bind).with_context(|| format!("binding {bind}"))?;
     let addr = listener.local_addr()?;
     let db = Arc::new(db);
-    let state = web::AppState {
-        db: db.clone(),
-        data_dir: dir.to_path_buf(),
-        settings: Arc::new(settings),
-    };
+    let state = web::AppState::new(db.clone(), dir.to_path_buf(), settings);
     let work = dir.join("demo-field");
     let url = format!("http://{addr}");
     actix_web::rt::System::new().block_on(async move {
@@ -663,11 +659,7 @@ fn serve(db: Db, settings: Settings, data_dir: &Path, bind: &str) -> Result<()> 
     }
     let listener = TcpListener::bind(bind).with_context(|| format!("binding {bind}"))?;
     let addr = listener.local_addr()?;
-    let state = web::AppState {
-        db: Arc::new(db),
-        data_dir: data_dir.to_path_buf(),
-        settings: Arc::new(settings),
-    };
+    let state = web::AppState::new(Arc::new(db), data_dir.to_path_buf(), settings);
     println!("Groundproof is serving on http://{addr}/ (press Ctrl-C to stop)");
     println!("  events:  http://{addr}/api/v1/events");
     println!("  zones:   http://{addr}/api/v1/zones");

@@ -6,3 +6,4 @@ mod bundles;
 mod intake;
 mod pages;
 mod stats_api;
+mod stats_cache;

@@ -163,7 +163,7 @@ pub fn login(db: &Db, req: &LoginRequest<'_>, now: i64, cfg: &AuthConfig) -> Res
     let client = clip(req.client, MAX_CLIENT_CHARS);
     let since = now.saturating_sub(cfg.lockout.lookback_secs());
     // Throttle check and the attempt record, in one transaction.
-    let started = db.write(|tx| {
+    let started = db.write_bookkeeping(|tx| {
         let r = tx.reader();
         let by_name = r.login_attempts_for_user(&key, since)?;
         let by_client = r.login_attempts_for_client(&client, since)?;
@@ -213,7 +213,7 @@ pub fn login(db: &Db, req: &LoginRequest<'_>, now: i64, cfg: &AuthConfig) -> Res
     };
     let token = new_session_token()?;
     let csrf_secret = new_csrf_secret()?;
-    db.write(|tx| {
+    db.write_bookkeeping(|tx| {
         tx.mark_login_attempt_ok(attempt)?;
         if let Some(prev) = req.previous_session.filter(|t| is_session_token(t)) {
             tx.delete_session(&sha256_hex(prev))?;
@@ -247,14 +247,14 @@ pub fn authenticate_session(
         return Ok(None);
     };
     if rec.user.disabled {
-        db.write(|tx| tx.delete_user_sessions(rec.user.id))?;
+        db.write_bookkeeping(|tx| tx.delete_user_sessions(rec.user.id))?;
         return Ok(None);
     }
     match session_state(rec.created_at, rec.last_seen_at, now, &cfg.session) {
         SessionState::Active => {
             let mut last_seen_at = rec.last_seen_at;
             if needs_touch(rec.last_seen_at, now) {
-                db.write(|tx| tx.touch_session(&hash, now))?;
+                db.write_bookkeeping(|tx| tx.touch_session(&hash, now))?;
                 last_seen_at = now;
             }
             Ok(Some(SessionIdentity {
@@ -265,7 +265,7 @@ pub fn authenticate_session(
             }))
         }
         SessionState::IdleExpired | SessionState::AbsoluteExpired => {
-            db.write(|tx| tx.delete_session(&hash))?;
+            db.write_bookkeeping(|tx| tx.delete_session(&hash))?;
             Ok(None)
         }
     }
@@ -276,7 +276,7 @@ pub fn logout(db: &Db, token: &str) -> Result<bool> {
     if !is_session_token(token) {
         return Ok(false);
     }
-    db.write(|tx| tx.delete_session(&sha256_hex(token)))
+    db.write_bookkeeping(|tx| tx.delete_session(&sha256_hex(token)))
 }
 
 /// The token in an `Authorization: Bearer ...` header value.
@@ -320,13 +320,13 @@ pub fn authenticate_bearer(db: &Db, token: &str) -> Result<Identity> {
 pub fn create_user(db: &Db, name: &str, role: Role, password: &str, now: i64) -> Result<User> {
     validate_user_name(name)?;
     let phc = hash_password(password)?;
-    db.write(|tx| tx.add_user(name, role, &phc, now))
+    db.write_bookkeeping(|tx| tx.add_user(name, role, &phc, now))
 }
 
 /// Set a new password; every session of the user ends (log in again).
 pub fn change_password(db: &Db, user_id: i64, new_password: &str) -> Result<()> {
     let phc = hash_password(new_password)?;
-    db.write(|tx| tx.set_user_password(user_id, &phc))
+    db.write_bookkeeping(|tx| tx.set_user_password(user_id, &phc))
 }
 
 /// Make an API token with a role; the token text is returned once.
@@ -338,7 +338,8 @@ pub fn issue_api_token(
 ) -> Result<(ApiTokenRecord, String)> {
     let label = validate_label(label, "an API token label")?;
     let token = new_api_token()?;
-    let rec = db.write(|tx| tx.insert_api_token(&sha256_hex(&token), role, &label, now))?;
+    let rec =
+        db.write_bookkeeping(|tx| tx.insert_api_token(&sha256_hex(&token), role, &label, now))?;
     Ok((rec, token))
 }
 
@@ -346,7 +347,7 @@ pub fn issue_api_token(
 pub fn issue_team_token(db: &Db, team_name: &str, now: i64) -> Result<(TeamTokenRecord, String)> {
     let team = validate_label(team_name, "a team name")?;
     let token = new_team_token()?;
-    let rec = db.write(|tx| tx.insert_team_token(&sha256_hex(&token), &team, now))?;
+    let rec = db.write_bookkeeping(|tx| tx.insert_team_token(&sha256_hex(&token), &team, now))?;
     Ok((rec, token))
 }
 
@@ -372,7 +373,7 @@ pub fn ensure_first_admin(db: &Db, password: Option<&str>, now: i64) -> Result<F
         Error::Invalid(m) => Error::Invalid(format!("{ADMIN_PASSWORD_ENV}: {m}")),
         other => other,
     })?;
-    let created = db.write(|tx| {
+    let created = db.write_bookkeeping(|tx| {
         if tx.reader().user_count()? > 0 {
             return Ok(false);
         }
@@ -392,7 +393,7 @@ pub fn ensure_first_admin(db: &Db, password: Option<&str>, now: i64) -> Result<F
 /// Delete expired sessions and attempts too old to matter; returns the
 /// two counts. Run it now and then (at start, hourly).
 pub fn prune(db: &Db, now: i64, cfg: &AuthConfig) -> Result<(usize, usize)> {
-    db.write(|tx| {
+    db.write_bookkeeping(|tx| {
         let sessions = tx.delete_expired_sessions(
             now.saturating_sub(cfg.session.idle_secs),
             now.saturating_sub(cfg.session.absolute_secs),

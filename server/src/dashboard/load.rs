@@ -10,10 +10,11 @@ use crate::storage::{Db, StatsReportRef};
 use chrono::{DateTime, Utc};
 use geo::GeodesicArea;
 use std::collections::{BTreeMap, HashMap, HashSet};
+use std::sync::Arc;
 use uuid::Uuid;
 
 /// Which facts the figures rest on. Empty fields select everything.
-#[derive(Debug, Clone, Default, PartialEq)]
+#[derive(Debug, Clone, Default, PartialEq, Eq, Hash)]
 pub struct StatsFilter {
     /// Events first detected on or after this day.
     pub from: Option<Day>,
@@ -29,14 +30,15 @@ pub struct StatsFilter {
 #[derive(Debug, Clone, Default)]
 pub struct Loaded {
     pub events: Vec<EventFacts>,
-    pub reports: Vec<ReportFact>,
-    pub bundle_issued_at: BTreeMap<Uuid, DateTime<Utc>>,
+    /// Shared with the cached [`Facts`] unless a team is selected.
+    pub reports: Arc<Vec<ReportFact>>,
+    pub bundle_issued_at: Arc<BTreeMap<Uuid, DateTime<Utc>>>,
     pub controls: Vec<ControlFacts>,
-    pub statuses: BTreeMap<i64, StatusOutcome>,
+    pub statuses: Arc<BTreeMap<i64, StatusOutcome>>,
     /// Which of `reports` count (rules 1–3 of [`crate::reconcile`]), decided
     /// once: the statuses were made from it and the team table reads it
     /// (pass it to [`crate::figures::all_figures_counted`]).
-    pub counted: CountedIndex,
+    pub counted: Arc<CountedIndex>,
 }
 
 fn time(s: &str) -> Option<DateTime<Utc>> {
@@ -76,7 +78,7 @@ struct ReportScan {
 }
 
 impl ReportScan {
-    fn add(&mut self, r: StatsReportRef<'_>, team: Option<&str>, live: impl Fn(i64) -> i64) {
+    fn add(&mut self, r: StatsReportRef<'_>, live: impl Fn(i64) -> i64) {
         if let Some(s) = r.supersedes {
             self.superseded.insert(s.to_string());
         }
@@ -91,9 +93,6 @@ impl ReportScan {
                     observed_at: r.observed_at.to_string(),
                     outcome: r.outcome.to_string(),
                 });
-        }
-        if team.is_some_and(|t| t != r.team) {
-            return;
         }
         if let Some(f) = report_fact(&r, live) {
             self.facts.push(f);
@@ -117,13 +116,36 @@ fn report_fact(r: &StatsReportRef<'_>, live: impl Fn(i64) -> i64) -> Option<Repo
     })
 }
 
+/// The facts behind the statistics as read from storage, with every report
+/// reconciled once (no filter). [`prepare`] derives any selection from it
+/// without reading storage again.
+#[derive(Debug, Default)]
+pub struct Facts {
+    events: Vec<crate::storage::StatsEventRow>,
+    /// Every report, as reconciliation reads them.
+    reports: Arc<Vec<ReportFact>>,
+    /// Which of `reports` count, and the statuses they make.
+    counted: Arc<CountedIndex>,
+    statuses: Arc<BTreeMap<i64, StatusOutcome>>,
+    adjudications: Vec<Adjudication>,
+    bundle_issued_at: Arc<BTreeMap<Uuid, DateTime<Utc>>>,
+    /// Control points with what was found there, and their zone.
+    controls: Vec<(Option<String>, ControlFacts)>,
+    window_days: u32,
+}
+
 /// Load everything, reconcile, and apply the filter.
 pub fn load(db: &Db, filter: &StatsFilter, window_days: u32) -> Result<Loaded> {
+    Ok(prepare(&read_facts(db, window_days)?, filter))
+}
+
+/// Read every fact the statistics rest on and reconcile every event.
+pub fn read_facts(db: &Db, window_days: u32) -> Result<Facts> {
     let (events, scan, adjudications, issue_times, controls, zones, bundles) = db.read(|r| {
         let merges = r.merge_map()?;
         let live = |id: i64| merges.get(&id).copied().unwrap_or(id);
         let mut scan = ReportScan::default();
-        r.each_stats_report(|row| scan.add(row, filter.team.as_deref(), live))?;
+        r.each_stats_report(|row| scan.add(row, live))?;
         let adjudications: Vec<Adjudication> = r
             .adjudications()?
             .iter()
@@ -155,8 +177,99 @@ pub fn load(db: &Db, filter: &StatsFilter, window_days: u32) -> Result<Loaded> {
     let counted = CountedIndex::of(&reports);
     let statuses = event_statuses_counted(&reports, &counted, &adjudications, window_days);
 
+    // Control points: reached or not, clearing found or not.
+    let zone_area: HashMap<String, f64> = zones
+        .iter()
+        .filter_map(|z| {
+            Some((
+                z.name.clone(),
+                crate::events::parse_multipolygon(&z.geometry)?.geodesic_area_unsigned() / 1e4,
+            ))
+        })
+        .collect();
+    let bundle_zone: HashMap<String, (Option<String>, i64)> = bundles
+        .iter()
+        .map(|b| {
+            let zone = serde_json::from_str::<serde_json::Value>(&b.selection)
+                .ok()
+                .and_then(|v| v["zone"].as_str().map(str::to_string));
+            (b.id.clone(), (zone, b.controls))
+        })
+        .collect();
+    let mut out_controls = Vec::new();
+    for c in &controls {
+        let Some((zone, k)) = bundle_zone.get(&c.bundle_id) else {
+            continue;
+        };
+        let area = zone
+            .as_ref()
+            .and_then(|z| zone_area.get(z))
+            .copied()
+            .unwrap_or(0.0);
+        if area <= 0.0 || *k <= 0 {
+            continue;
+        }
+        let latest = scan
+            .controls
+            .get(&(c.bundle_id.clone(), c.code.clone()))
+            .and_then(|v| {
+                v.iter()
+                    .filter(|r| !scan.superseded.contains(&r.report_id))
+                    .max_by(|a, b| a.observed_at.cmp(&b.observed_at))
+            });
+        let found = latest.and_then(|r| match r.outcome.as_str() {
+            "confirmed" => Some(true),
+            "false_alarm" => Some(false),
+            _ => None,
+        });
+        out_controls.push((
+            zone.clone(),
+            ControlFacts {
+                stratum: "control".into(),
+                found_clearing: found,
+                area_ha: CONTROL_PLOT_HA,
+                inclusion_probability: (*k as f64 * CONTROL_PLOT_HA / area).min(1.0),
+            },
+        ));
+    }
+    Ok(Facts {
+        events,
+        reports: Arc::new(reports),
+        counted: Arc::new(counted),
+        statuses: Arc::new(statuses),
+        adjudications,
+        bundle_issued_at: Arc::new(bundle_issued_at),
+        controls: out_controls,
+        window_days,
+    })
+}
+
+/// The selection `filter` of `facts`: a team's selection is reconciled
+/// again on that team's reports alone; any other shares the reconciliation
+/// of every report.
+pub fn prepare(facts: &Facts, filter: &StatsFilter) -> Loaded {
+    let (reports, counted, statuses) = match &filter.team {
+        None => (
+            Arc::clone(&facts.reports),
+            Arc::clone(&facts.counted),
+            Arc::clone(&facts.statuses),
+        ),
+        Some(team) => {
+            let reports: Vec<ReportFact> = facts
+                .reports
+                .iter()
+                .filter(|r| &r.team == team)
+                .cloned()
+                .collect();
+            let counted = CountedIndex::of(&reports);
+            let statuses =
+                event_statuses_counted(&reports, &counted, &facts.adjudications, facts.window_days);
+            (Arc::new(reports), Arc::new(counted), Arc::new(statuses))
+        }
+    };
+
     let mut out_events = Vec::new();
-    for e in &events {
+    for e in &facts.events {
         let first = Day::from_days(e.first_day);
         if filter.from.is_some_and(|d| first < d) || filter.to.is_some_and(|d| first > d) {
             continue;
@@ -210,72 +323,23 @@ pub fn load(db: &Db, filter: &StatsFilter, window_days: u32) -> Result<Loaded> {
         }
         out_events.push(f);
     }
-
-    // Control points: reached or not, clearing found or not.
-    let zone_area: HashMap<String, f64> = zones
+    let controls = facts
+        .controls
         .iter()
-        .filter_map(|z| {
-            Some((
-                z.name.clone(),
-                crate::events::parse_multipolygon(&z.geometry)?.geodesic_area_unsigned() / 1e4,
-            ))
+        .filter(|(zone, _)| {
+            filter
+                .zone
+                .as_ref()
+                .is_none_or(|z| zone.as_ref() == Some(z))
         })
+        .map(|(_, c)| c.clone())
         .collect();
-    let bundle_zone: HashMap<String, (Option<String>, i64)> = bundles
-        .iter()
-        .map(|b| {
-            let zone = serde_json::from_str::<serde_json::Value>(&b.selection)
-                .ok()
-                .and_then(|v| v["zone"].as_str().map(str::to_string));
-            (b.id.clone(), (zone, b.controls))
-        })
-        .collect();
-    let mut out_controls = Vec::new();
-    for c in &controls {
-        let Some((zone, k)) = bundle_zone.get(&c.bundle_id) else {
-            continue;
-        };
-        if filter
-            .zone
-            .as_ref()
-            .is_some_and(|z| zone.as_ref() != Some(z))
-        {
-            continue;
-        }
-        let area = zone
-            .as_ref()
-            .and_then(|z| zone_area.get(z))
-            .copied()
-            .unwrap_or(0.0);
-        if area <= 0.0 || *k <= 0 {
-            continue;
-        }
-        let latest = scan
-            .controls
-            .get(&(c.bundle_id.clone(), c.code.clone()))
-            .and_then(|v| {
-                v.iter()
-                    .filter(|r| !scan.superseded.contains(&r.report_id))
-                    .max_by(|a, b| a.observed_at.cmp(&b.observed_at))
-            });
-        let found = latest.and_then(|r| match r.outcome.as_str() {
-            "confirmed" => Some(true),
-            "false_alarm" => Some(false),
-            _ => None,
-        });
-        out_controls.push(ControlFacts {
-            stratum: "control".into(),
-            found_clearing: found,
-            area_ha: CONTROL_PLOT_HA,
-            inclusion_probability: (*k as f64 * CONTROL_PLOT_HA / area).min(1.0),
-        });
-    }
-    Ok(Loaded {
+    Loaded {
         events: out_events,
         reports,
-        bundle_issued_at,
-        controls: out_controls,
+        bundle_issued_at: Arc::clone(&facts.bundle_issued_at),
+        controls,
         statuses,
         counted,
-    })
+    }
 }

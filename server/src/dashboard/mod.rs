@@ -2,15 +2,18 @@
 //!
 //! Loads events, reports, bundles, controls and adjudications from
 //! storage, reconciles each event's status with [`crate::reconcile`], and
-//! computes every figure with [`crate::figures`]. Nothing here is stored:
-//! every call recomputes from the facts (invariant 2).
+//! computes every figure with [`crate::figures`]. Nothing here is stored
+//! (invariant 2): [`StatsCache`] keeps what was computed only while the
+//! facts stay the same.
 
+mod cache;
 mod csv_tables;
 mod load;
 mod rfc3339;
 
+pub use cache::{Prepared, REFRESH_TICK, StatsCache, keep_fresh};
 pub use csv_tables::{TABLES, table};
-pub use load::{Loaded, StatsFilter, load};
+pub use load::{Facts, Loaded, StatsFilter, load, prepare, read_facts};
 
 use crate::error::{Error, Result};
 use crate::figures::{FigureOptions, Figures, all_figures_counted};
@@ -46,9 +49,9 @@ pub fn parse_outcome(s: &str) -> Option<crate::reconcile::Outcome> {
 /// evidence summary (reports counted, reports with evidence that passes).
 pub fn events_with_status(
     db: &Db,
+    l: &Loaded,
     weights: &crate::cluster::priority::PriorityWeights,
 ) -> Result<serde_json::Value> {
-    let l = load(db, &StatsFilter::default(), DISPUTE_WINDOW_DAYS)?;
     let events = crate::events::ranked_events(
         db,
         &Default::default(),

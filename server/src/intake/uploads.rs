@@ -146,7 +146,7 @@ pub fn create(
         }
         crate::files::write_durably(&upload_path(data_dir, &upload.id), |_| Ok(()))?;
     }
-    db.write(|tx| {
+    db.write_bookkeeping(|tx| {
         tx.insert_upload(&upload)?;
         if let Some(r) = &taken {
             // Taken in already (e.g. through the browser): nothing to send.
@@ -220,7 +220,7 @@ pub fn append(
     let mut f = match std::fs::OpenOptions::new().write(true).open(&path) {
         Ok(f) => f,
         Err(e) if e.kind() == std::io::ErrorKind::NotFound => {
-            db.write(|tx| tx.delete_upload(id))?;
+            db.write_bookkeeping(|tx| tx.delete_upload(id))?;
             return Err(IntakeError::Gone(format!(
                 "the data of upload {id} is lost; start a new upload"
             )));
@@ -231,7 +231,7 @@ pub fn append(
     f.seek(SeekFrom::Start(offset)).map_err(io)?;
     f.write_all(bytes).map_err(io)?;
     f.sync_data().map_err(io)?;
-    db.write(|tx| tx.set_upload_offset(id, end))?;
+    db.write_bookkeeping(|tx| tx.set_upload_offset(id, end))?;
     Ok(end)
 }
 
@@ -292,14 +292,14 @@ pub fn complete(
         let part = upload_path(data_dir, id);
         let len = std::fs::metadata(&part).map(|m| m.len()).unwrap_or(0);
         if len < u.size {
-            db.write(|tx| tx.delete_upload(id))?;
+            db.write_bookkeeping(|tx| tx.delete_upload(id))?;
             return Err(IntakeError::Gone(format!(
                 "the data of upload {id} is lost; start a new upload"
             )));
         }
         let actual = sha256_of(&part, u.size)?;
         if actual != u.sha256 {
-            db.write(|tx| tx.delete_upload(id))?;
+            db.write_bookkeeping(|tx| tx.delete_upload(id))?;
             let _ = std::fs::remove_file(&part);
             return Err(IntakeError::Gone(format!(
                 "the bytes received have SHA-256 {actual}, not the declared {}; start a new upload",

@@ -10,6 +10,12 @@
 //! `BEGIN IMMEDIATE` transaction so the busy timeout applies; reads use a
 //! small pool. Callers on the async executor wrap calls in
 //! `web::block`/`spawn_blocking`.
+//!
+//! [`Db::fact_stamp`] tells readers that cache what they derived from the
+//! facts (the statistics) whether anything changed: it moves after every
+//! committed [`Db::write`] and after a commit by another process, but not
+//! after [`Db::write_bookkeeping`] (sessions, login attempts, tokens, upload
+//! progress), which the statistics never read.
 
 mod alerts;
 mod auth;
@@ -37,7 +43,8 @@ pub use zones::ZoneRecord;
 use crate::error::{Error, Result};
 use rusqlite::{Connection, OpenFlags, TransactionBehavior};
 use std::path::{Path, PathBuf};
-use std::sync::Mutex;
+use std::sync::atomic::{AtomicBool, AtomicU64, Ordering};
+use std::sync::{Arc, Mutex};
 use std::time::Duration;
 
 /// Busy timeout for every connection (rusqlite's own default, made explicit).
@@ -50,7 +57,28 @@ pub struct Db {
     path: PathBuf,
     writer: Mutex<Connection>,
     readers: Mutex<Vec<Connection>>,
+    /// Moves after every commit that may have changed a fact.
+    generation: AtomicU64,
+    /// `PRAGMA data_version` of the writer when last looked at: it changes
+    /// only when another connection (another process) commits.
+    seen_data_version: AtomicU64,
 }
+
+/// Tables that hold no fact the statistics read: accounts, sessions,
+/// tokens, login attempts and upload progress.
+const BOOKKEEPING_TABLES: [&str; 6] = [
+    "users",
+    "sessions",
+    "api_tokens",
+    "team_tokens",
+    "login_attempts",
+    "uploads",
+];
+
+/// Which data the stored facts are: equal stamps mean no fact changed in
+/// between (see [`Db::fact_stamp`]).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub struct FactStamp(u64);
 
 /// A write transaction (`BEGIN IMMEDIATE`); dropped without `commit` it
 /// rolls back.
@@ -90,25 +118,83 @@ impl Db {
         // transaction from spilling to the WAL early.
         boot.pragma_update(None, "cache_size", -65_536)?;
         schema::migrate(&mut boot)?;
+        let seen = data_version(&boot)?;
         Ok(Db {
             path,
             writer: Mutex::new(boot),
             readers: Mutex::new(Vec::new()),
+            generation: AtomicU64::new(0),
+            seen_data_version: AtomicU64::new(seen),
         })
+    }
+
+    /// Where the facts stand now. A stamp equal to one taken before means
+    /// nothing that the statistics read has been committed since. Never
+    /// blocks on a running write: that write moves the stamp when it commits.
+    pub fn fact_stamp(&self) -> FactStamp {
+        if let Ok(conn) = self.writer.try_lock() {
+            self.note_other_writers(&conn);
+        }
+        FactStamp(self.generation.load(Ordering::Acquire))
+    }
+
+    /// Move the stamp if another process committed since we last looked.
+    fn note_other_writers(&self, conn: &Connection) {
+        // If the pragma fails, assume a change: a needless recompute is
+        // harmless, a missed one is not.
+        let now = data_version(conn).unwrap_or(u64::MAX);
+        if self.seen_data_version.swap(now, Ordering::AcqRel) != now || now == u64::MAX {
+            self.generation.fetch_add(1, Ordering::AcqRel);
+        }
     }
 
     pub fn path(&self) -> &Path {
         &self.path
     }
 
-    /// Run `f` in one write transaction; commit when it returns `Ok`.
+    /// Run `f` in one write transaction; commit when it returns `Ok`. The
+    /// fact stamp moves after the commit (so a reader that sees the old
+    /// stamp cannot have read the new facts under it).
     pub fn write<T>(&self, f: impl FnOnce(&Tx<'_>) -> Result<T>) -> Result<T> {
         let mut conn = self.writer.lock().unwrap_or_else(|p| p.into_inner());
+        self.note_other_writers(&conn);
         let tx = conn.transaction_with_behavior(TransactionBehavior::Immediate)?;
         let wrapped = Tx { tx };
         let out = f(&wrapped)?;
         wrapped.tx.commit()?;
+        self.generation.fetch_add(1, Ordering::AcqRel);
         Ok(out)
+    }
+
+    /// [`Db::write`] for bookkeeping that no statistic reads (sessions,
+    /// login attempts, accounts, tokens, upload progress): the fact stamp
+    /// stays, so a session touch does not make every cached figure stale.
+    /// Should `f` change a row of any other table after all, the stamp
+    /// moves as for [`Db::write`].
+    pub fn write_bookkeeping<T>(&self, f: impl FnOnce(&Tx<'_>) -> Result<T>) -> Result<T> {
+        let mut conn = self.writer.lock().unwrap_or_else(|p| p.into_inner());
+        self.note_other_writers(&conn);
+        let strayed = Arc::new(AtomicBool::new(false));
+        let flag = Arc::clone(&strayed);
+        conn.update_hook(Some(
+            move |_: rusqlite::hooks::Action, _: &str, table: &str, _: i64| {
+                if !BOOKKEEPING_TABLES.contains(&table) {
+                    flag.store(true, Ordering::Release);
+                }
+            },
+        ))?;
+        let out = (|| {
+            let tx = conn.transaction_with_behavior(TransactionBehavior::Immediate)?;
+            let wrapped = Tx { tx };
+            let out = f(&wrapped)?;
+            wrapped.tx.commit()?;
+            Ok(out)
+        })();
+        conn.update_hook(None::<fn(rusqlite::hooks::Action, &str, &str, i64)>)?;
+        if strayed.load(Ordering::Acquire) {
+            self.generation.fetch_add(1, Ordering::AcqRel);
+        }
+        out
     }
 
     /// Run `f` on a read connection.
@@ -132,6 +218,11 @@ impl Db {
         }
         out
     }
+}
+
+fn data_version(conn: &Connection) -> Result<u64> {
+    let v: i64 = conn.query_row("PRAGMA data_version", [], |r| r.get(0))?;
+    Ok(v as u64)
 }
 
 impl<'a> Tx<'a> {
@@ -174,6 +265,46 @@ mod tests {
             Err(other) => panic!("unexpected error {other}"),
             Ok(_) => panic!("opened a database newer than the binary"),
         }
+    }
+
+    #[test]
+    fn the_fact_stamp_moves_on_facts_only() {
+        let dir = tempfile::tempdir().unwrap();
+        let db = Db::open(dir.path()).unwrap();
+        let s0 = db.fact_stamp();
+        assert_eq!(db.fact_stamp(), s0, "reading changes nothing");
+        db.write(|tx| tx.add_source("optical-10m", 10.0, 5))
+            .unwrap();
+        let s1 = db.fact_stamp();
+        assert_ne!(s1, s0, "a committed write moves it");
+        // Accounts and sessions are bookkeeping: the stamp stays.
+        let u = db
+            .write_bookkeeping(|tx| tx.add_user("ana", crate::auth::Role::Manager, "x", 1))
+            .unwrap();
+        db.write_bookkeeping(|tx| tx.insert_session("a".repeat(64).as_str(), u.id, "s", 1))
+            .unwrap();
+        db.write_bookkeeping(|tx| tx.touch_session(&"a".repeat(64), 2))
+            .unwrap();
+        assert_eq!(db.fact_stamp(), s1);
+        // A fact written through the bookkeeping door still moves it.
+        db.write_bookkeeping(|tx| tx.add_source("radar-10m", 10.0, 12))
+            .unwrap();
+        let s2 = db.fact_stamp();
+        assert_ne!(s2, s1);
+        // Another process committing moves it too.
+        let other = Connection::open(db.path()).unwrap();
+        other
+            .execute(
+                "INSERT INTO sources (name, pixel_size_m, revisit_days, created_at) \
+                 VALUES ('x', 30, 8, '2026-12-02T00:00:00Z')",
+                [],
+            )
+            .unwrap();
+        assert_ne!(
+            db.fact_stamp(),
+            s2,
+            "a commit by another connection moves it"
+        );
     }
 
     #[test]

@@ -27,9 +27,20 @@ pub struct AppState {
     /// The data directory (bundles, evidence).
     pub data_dir: std::path::PathBuf,
     pub settings: Arc<Settings>,
+    /// The statistics of the current facts, shared by every handler.
+    pub stats: Arc<crate::dashboard::StatsCache>,
 }
 
 impl AppState {
+    pub fn new(db: Arc<Db>, data_dir: std::path::PathBuf, settings: Settings) -> AppState {
+        AppState {
+            db,
+            data_dir,
+            settings: Arc::new(settings),
+            stats: Arc::new(crate::dashboard::StatsCache::new()),
+        }
+    }
+
     /// Intake's knobs for this data directory (its evidence settings).
     pub fn intake_options(&self) -> crate::intake::IntakeOptions {
         crate::intake::IntakeOptions::from_settings(&self.settings)
@@ -51,6 +62,7 @@ pub fn configure(cfg: &mut web::ServiceConfig) {
 
 /// Start serving on an already bound listener (port 0 in tests).
 pub fn run(listener: TcpListener, state: AppState) -> std::io::Result<Server> {
+    crate::dashboard::keep_fresh(Arc::downgrade(&state.db), Arc::downgrade(&state.stats));
     let data = web::Data::new(state);
     let server = HttpServer::new(move || {
         App::new()

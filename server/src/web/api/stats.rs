@@ -6,7 +6,7 @@
 //! (report date) and `within_days`. `GET /api/v1/disputes`,
 //! `POST /api/v1/events/{id}/adjudications`, `GET /api/v1/exports/events.geojson`.
 
-use crate::dashboard::{StatsFilter, figures, load, table};
+use crate::dashboard::{StatsFilter, table};
 use crate::domain::Day;
 use crate::error::Error;
 use crate::figures::FigureOptions;
@@ -68,8 +68,8 @@ pub async fn all(
     q: web::Query<StatsQuery>,
 ) -> Result<HttpResponse, ApiError> {
     let (filter, opts) = parse(&q)?;
-    let db = state.db.clone();
-    let f = web::block(move || figures(&db, &filter, &opts)).await??;
+    let state = state.into_inner();
+    let f = web::block(move || state.stats.figures(&state.db, &filter, &opts)).await??;
     Ok(HttpResponse::Ok().json(f))
 }
 
@@ -89,8 +89,8 @@ pub async fn one(
             );
         }
     };
-    let db = state.db.clone();
-    let f = web::block(move || figures(&db, &filter, &opts)).await??;
+    let state = state.into_inner();
+    let f = web::block(move || state.stats.figures(&state.db, &filter, &opts)).await??;
     if csv {
         let body =
             table(&f, &name)?.ok_or_else(|| Error::NotFound(format!("no CSV table '{name}'")))?;
@@ -117,10 +117,11 @@ pub async fn one(
 
 /// Events whose reports disagree, with the reports that count.
 pub async fn disputes(state: web::Data<AppState>) -> Result<HttpResponse, ApiError> {
-    let db = state.db.clone();
+    let state = state.into_inner();
     let out = web::block(move || {
-        let l = load(&db, &StatsFilter::default(), crate::dashboard::DISPUTE_WINDOW_DAYS)?;
-        let v: Vec<Value> = l
+        let p = state.stats.prepared(&state.db, &StatsFilter::default())?;
+        let v: Vec<Value> = p
+            .loaded
             .statuses
             .iter()
             .filter(|(_, s)| s.status == crate::reconcile::Status::Disputed)
@@ -179,7 +180,8 @@ pub async fn adjudicate(
 pub async fn export_events(state: web::Data<AppState>) -> Result<HttpResponse, ApiError> {
     let state = state.into_inner();
     let body = web::block(move || {
-        crate::dashboard::events_with_status(&state.db, &state.settings.priority)
+        let p = state.stats.prepared(&state.db, &StatsFilter::default())?;
+        crate::dashboard::events_with_status(&state.db, &p.loaded, &state.settings.priority)
     })
     .await??;
     Ok(HttpResponse::Ok()

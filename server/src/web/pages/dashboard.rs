@@ -13,7 +13,7 @@ use crate::charts::{
     BarChart, BarSeries, HBar, HBarChart, Step, StepChart, StepSeries, render_grouped_bars,
     render_horizontal_bars, render_step_curve,
 };
-use crate::dashboard::{DISPUTE_WINDOW_DAYS, StatsFilter, TABLES, load};
+use crate::dashboard::{StatsFilter, TABLES};
 use crate::error::Error;
 use crate::figures::{EventFacts, FigureOptions, Figures, GroupKey, VisitCurve, month_of};
 use crate::reconcile::Status;
@@ -494,10 +494,11 @@ async fn dashboard_page(
     };
     let opts = FigureOptions::new(chrono::Utc::now());
     let db = state.db.clone();
+    let stats = state.stats.clone();
     let fl = filter.clone();
-    let (figs, events, lists) = web::block(move || {
-        let l = load(&db, &fl, DISPUTE_WINDOW_DAYS)?;
-        let f = crate::dashboard::figures_of(&l, &opts)?;
+    let (figs, prepared, lists) = web::block(move || {
+        let p = stats.prepared(&db, &fl)?;
+        let f = p.figures(&opts)?;
         let lists = db.read(|r| {
             Ok(Lists {
                 zones: r.zones()?.into_iter().map(|z| z.name).collect(),
@@ -505,10 +506,18 @@ async fn dashboard_page(
                 sources: r.sources()?.into_iter().map(|s| s.name).collect(),
             })
         })?;
-        Ok::<_, Error>((f, l.events, lists))
+        Ok::<_, Error>((f, p, lists))
     })
     .await??;
-    page(&build(req, viewer, &q, &filter, &figs, &events, &lists))
+    page(&build(
+        req,
+        viewer,
+        &q,
+        &filter,
+        &figs,
+        &prepared.loaded.events,
+        &lists,
+    ))
 }
 
 /// `GET /dashboard`.

@@ -6,7 +6,7 @@
 use super::common::{Layout, PageError, Viewer, fixed, html, respond, see_other};
 use super::views::{ReportView, report_view};
 use crate::auth::Action;
-use crate::dashboard::{DISPUTE_WINDOW_DAYS, StatsFilter, load, parse_outcome};
+use crate::dashboard::{StatsFilter, parse_outcome};
 use crate::error::Error;
 use crate::reconcile::Status;
 use crate::trips::codes::event_code;
@@ -102,10 +102,12 @@ async fn disputes_page(
     done: Option<i64>,
 ) -> Result<HttpResponse, PageError> {
     let db = state.db.clone();
+    let stats = state.stats.clone();
     let disputes = web::block(move || {
-        let l = load(&db, &StatsFilter::default(), DISPUTE_WINDOW_DAYS)?;
+        let p = stats.prepared(&db, &StatsFilter::default())?;
         let mut out = Vec::new();
-        for (id, s) in l
+        for (id, s) in p
+            .loaded
             .statuses
             .iter()
             .filter(|(_, s)| s.status == Status::Disputed)

@@ -10,7 +10,7 @@ use super::views::{
 };
 use crate::auth::Action;
 use crate::charts::{EventStatus, render_map};
-use crate::dashboard::{DISPUTE_WINDOW_DAYS, StatsFilter, load};
+use crate::dashboard::StatsFilter;
 use crate::domain::Day;
 use crate::error::Error;
 use crate::events::{RankedEvent, priority_of, ranked_events};
@@ -138,7 +138,12 @@ async fn list_page(
     let (events, zones, sources, statuses) = web::block(move || {
         let (zones, sources) = st.db.read(|r| Ok((r.zones()?, r.sources()?)))?;
         let events = ranked_events(&st.db, &f2, &st.settings.priority, Day::today())?;
-        let statuses = load(&st.db, &StatsFilter::default(), DISPUTE_WINDOW_DAYS)?.statuses;
+        let statuses = std::sync::Arc::clone(
+            &st.stats
+                .prepared(&st.db, &StatsFilter::default())?
+                .loaded
+                .statuses,
+        );
         Ok::<_, Error>((events, zones, sources, statuses))
     })
     .await??;
@@ -267,9 +272,13 @@ async fn one_page(
             .db
             .read(|r| r.event_resolved(id))?
             .ok_or_else(|| Error::NotFound(format!("no event {id}")))?;
-        let status = load(&st.db, &StatsFilter::default(), DISPUTE_WINDOW_DAYS)?
+        let status = st
+            .stats
+            .prepared(&st.db, &StatsFilter::default())?
+            .loaded
             .statuses
-            .remove(&rec.id);
+            .get(&rec.id)
+            .cloned();
         let counted = status
             .as_ref()
             .map(|s| s.counted_reports.clone())
