@@ -530,26 +530,6 @@ fn main() {
     }
     served.sort_by(f64::total_cmp);
     json_ms.sort_by(f64::total_cmp);
-    if std::env::var("DASH_SIZES").is_ok() {
-        let v = serde_json::to_value(&kept_first).expect("json");
-        for (k, x) in v.as_object().expect("object") {
-            eprintln!(
-                "SIZE {k}: {} kB",
-                serde_json::to_vec(x).map_or(0, |b| b.len()) / 1000
-            );
-        }
-        let t = &v["time_to_visit"];
-        for (k, x) in t.as_object().expect("object") {
-            eprintln!(
-                "SIZE time_to_visit.{k}: {} kB",
-                serde_json::to_vec(x).map_or(0, |b| b.len()) / 1000
-            );
-        }
-        eprintln!(
-            "CURVE0 {}",
-            &serde_json::to_string(&t["curves"][0]).unwrap_or_default()[..1500]
-        );
-    }
     // A selection not asked before, on facts already read: prepare + figures.
     let zone = StatsFilter {
         zone: Some(ZONES[0].0.into()),
