@@ -45,7 +45,7 @@ use std::collections::BTreeMap;
 use serde::Serialize;
 
 use super::FiguresError;
-use super::facts::{ControlFacts, EventFacts};
+use super::facts::{ControlFacts, EventFacts, SampleInfo};
 use super::rates::Basis;
 use crate::reconcile::Status;
 use crate::stats::{
@@ -164,21 +164,37 @@ fn check_unit(stratum: &str, area: f64, pi: f64) -> Result<(), FiguresError> {
     Ok(())
 }
 
-fn alert_strata(events: &[EventFacts]) -> Result<Vec<AlertStratum>, FiguresError> {
-    let mut strata: BTreeMap<&str, AlertStratum> = BTreeMap::new();
-    for e in events {
-        let Some(s) = &e.sampled else { continue };
+/// The alert strata of [`assessment`], gathered event by event. The first
+/// bad input stops the gathering and is the error.
+#[derive(Debug, Default)]
+pub(crate) struct AlertStrata<'a> {
+    strata: BTreeMap<&'a str, AlertStratum>,
+    error: Option<FiguresError>,
+}
+
+impl<'a> AlertStrata<'a> {
+    /// Adds a sampled event (others are not in the assessment).
+    pub(crate) fn add(&mut self, e: &'a EventFacts) {
+        if let (Some(s), None) = (&e.sampled, &self.error) {
+            self.error = self.add_sampled(e, s).err();
+        }
+    }
+
+    fn add_sampled(&mut self, e: &EventFacts, s: &'a SampleInfo) -> Result<(), FiguresError> {
         check_unit(&s.stratum, e.area_ha, s.inclusion_probability)?;
-        let row = strata.entry(&s.stratum).or_insert_with(|| AlertStratum {
-            stratum: s.stratum.clone(),
-            population: s.stratum_population,
-            selected: 0,
-            confirmed: 0,
-            false_alarm: 0,
-            non_response: NonResponse::default(),
-            mapped_area_ha: 0.0,
-            users_accuracy: None,
-        });
+        let row = self
+            .strata
+            .entry(&s.stratum)
+            .or_insert_with(|| AlertStratum {
+                stratum: s.stratum.clone(),
+                population: s.stratum_population,
+                selected: 0,
+                confirmed: 0,
+                false_alarm: 0,
+                non_response: NonResponse::default(),
+                mapped_area_ha: 0.0,
+                users_accuracy: None,
+            });
         if row.population != s.stratum_population {
             return Err(FiguresError::InconsistentStratum {
                 stratum: s.stratum.clone(),
@@ -197,12 +213,21 @@ fn alert_strata(events: &[EventFacts]) -> Result<Vec<AlertStratum>, FiguresError
             Status::Inconclusive => nr.inconclusive += 1,
             Status::Disputed => nr.disputed += 1,
         }
+        Ok(())
     }
-    let mut out: Vec<AlertStratum> = strata.into_values().collect();
-    for s in &mut out {
-        s.users_accuracy = stratified_proportion(&[count_of(s)], Fpc::Apply)?.map(|p| p.proportion);
+
+    /// The strata, sorted, each with its user's accuracy.
+    fn finish(self) -> Result<Vec<AlertStratum>, FiguresError> {
+        if let Some(e) = self.error {
+            return Err(e);
+        }
+        let mut out: Vec<AlertStratum> = self.strata.into_values().collect();
+        for s in &mut out {
+            s.users_accuracy =
+                stratified_proportion(&[count_of(s)], Fpc::Apply)?.map(|p| p.proportion);
+        }
+        Ok(out)
     }
-    Ok(out)
 }
 
 fn count_of(s: &AlertStratum) -> StratumCount {
@@ -357,7 +382,17 @@ pub fn assessment(
     events: &[EventFacts],
     controls: &[ControlFacts],
 ) -> Result<Option<Assessment>, FiguresError> {
-    let alerts = alert_strata(events)?;
+    let mut strata = AlertStrata::default();
+    events.iter().for_each(|e| strata.add(e));
+    assessment_of(strata, controls)
+}
+
+/// [`assessment`] of the alert strata gathered already.
+pub(crate) fn assessment_of(
+    strata: AlertStrata<'_>,
+    controls: &[ControlFacts],
+) -> Result<Option<Assessment>, FiguresError> {
+    let alerts = strata.finish()?;
     let control = control_strata(controls)?;
     if alerts.is_empty() && control.is_empty() {
         return Ok(None);

@@ -2,10 +2,12 @@
 //! unvisited, per group.
 
 use std::collections::BTreeMap;
+use std::ops::AddAssign;
 
 use serde::Serialize;
 
 use super::facts::{EventFacts, GroupKey};
+use super::groups::tally_by;
 use crate::reconcile::Status;
 
 /// Counts for one group. `visited + not_reached + unvisited = events`;
@@ -29,20 +31,10 @@ pub struct CoverageRow {
 
 /// Coverage per group of `key`, groups sorted by name.
 pub fn coverage(events: &[EventFacts], key: GroupKey) -> Vec<CoverageRow> {
-    let mut rows: BTreeMap<String, CoverageRow> = BTreeMap::new();
-    for e in events {
-        key.each_group(e, |group| {
-            // Look up before inserting: a key is allocated once per group.
-            let row = match rows.get_mut(group) {
-                Some(row) => row,
-                None => rows
-                    .entry(group.to_string())
-                    .or_insert_with(|| empty(group)),
-            };
-            count(row, e);
-        });
-    }
-    rows.into_values().collect()
+    tally_by(events, key, CoverageCounts::of)
+        .into_iter()
+        .map(|(group, counts)| counts.row(group))
+        .collect()
 }
 
 /// Coverage per group of any key function (an event counts once in each
@@ -51,39 +43,65 @@ pub fn coverage_by(
     events: &[EventFacts],
     key: impl Fn(&EventFacts) -> Vec<String>,
 ) -> Vec<CoverageRow> {
-    let mut rows: BTreeMap<String, CoverageRow> = BTreeMap::new();
+    let mut rows: BTreeMap<String, CoverageCounts> = BTreeMap::new();
     for e in events {
         for group in key(e) {
-            let row = rows.entry(group.clone()).or_insert_with(|| empty(&group));
-            count(row, e);
+            *rows.entry(group).or_default() += CoverageCounts::of(e);
         }
     }
-    rows.into_values().collect()
+    rows.into_iter()
+        .map(|(group, counts)| counts.row(group))
+        .collect()
 }
 
-fn empty(group: &str) -> CoverageRow {
-    CoverageRow {
-        group: group.to_string(),
-        events: 0,
-        issued: 0,
-        visited: 0,
-        not_reached: 0,
-        unvisited: 0,
-        issued_and_visited: 0,
+/// The counts of a [`CoverageRow`].
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub(crate) struct CoverageCounts {
+    events: u64,
+    issued: u64,
+    visited: u64,
+    not_reached: u64,
+    unvisited: u64,
+    issued_and_visited: u64,
+}
+
+impl CoverageCounts {
+    /// The counts of one event.
+    pub(crate) fn of(e: &EventFacts) -> Self {
+        let issued = u64::from(e.issued_at.is_some());
+        let visited = e.first_visit.is_some();
+        let not_reached = !visited && e.status == Status::NotReached;
+        CoverageCounts {
+            events: 1,
+            issued,
+            visited: u64::from(visited),
+            not_reached: u64::from(not_reached),
+            unvisited: u64::from(!visited && !not_reached),
+            issued_and_visited: issued * u64::from(visited),
+        }
+    }
+
+    /// The row of `group`.
+    pub(crate) fn row(self, group: String) -> CoverageRow {
+        CoverageRow {
+            group,
+            events: self.events,
+            issued: self.issued,
+            visited: self.visited,
+            not_reached: self.not_reached,
+            unvisited: self.unvisited,
+            issued_and_visited: self.issued_and_visited,
+        }
     }
 }
 
-/// Adds one event to its group's row.
-fn count(row: &mut CoverageRow, e: &EventFacts) {
-    row.events += 1;
-    let issued = e.issued_at.is_some();
-    row.issued += u64::from(issued);
-    if e.first_visit.is_some() {
-        row.visited += 1;
-        row.issued_and_visited += u64::from(issued);
-    } else if e.status == Status::NotReached {
-        row.not_reached += 1;
-    } else {
-        row.unvisited += 1;
+impl AddAssign for CoverageCounts {
+    fn add_assign(&mut self, other: Self) {
+        self.events += other.events;
+        self.issued += other.issued;
+        self.visited += other.visited;
+        self.not_reached += other.not_reached;
+        self.unvisited += other.unvisited;
+        self.issued_and_visited += other.issued_and_visited;
     }
 }

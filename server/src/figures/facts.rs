@@ -3,6 +3,7 @@
 //! [`crate::reconcile`].
 
 use std::collections::BTreeSet;
+use std::fmt;
 
 use chrono::{DateTime, Datelike, NaiveDate, NaiveTime, Utc};
 use serde::Serialize;
@@ -101,7 +102,32 @@ pub enum GroupKey {
 
 /// "YYYY-MM" of a date.
 pub fn month_of(date: NaiveDate) -> String {
-    format!("{:04}-{:02}", date.year(), date.month())
+    Month::of(date).to_string()
+}
+
+/// A month kept as numbers until its name ("YYYY-MM") is needed: the
+/// figures split every event by month on each request.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub(crate) struct Month {
+    year: i32,
+    month: u32,
+}
+
+impl Month {
+    /// The month of `date`.
+    pub(crate) fn of(date: NaiveDate) -> Self {
+        Month {
+            year: date.year(),
+            month: date.month(),
+        }
+    }
+}
+
+impl fmt::Display for Month {
+    /// "YYYY-MM".
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "{:04}-{:02}", self.year, self.month)
+    }
 }
 
 impl GroupKey {
@@ -113,30 +139,52 @@ impl GroupKey {
     }
 
     /// Calls `f` with each group of `event`, in the order of
-    /// [`GroupKey::groups`]. The figures split every event by eleven keys
-    /// on each request, so no list is built when the values already are
+    /// [`GroupKey::groups`]. No list is built when the values already are
     /// sorted and distinct (as storage gives them).
     pub fn each_group(self, event: &EventFacts, mut f: impl FnMut(&str)) {
-        let f = &mut f;
+        match self.values(event) {
+            Values::Name(name) => f(name),
+            Values::Month(month) => f(&month.to_string()),
+            Values::Many(list) => each_distinct(list, &mut f),
+        }
+    }
+
+    /// The values of `event` for this key, as the event holds them.
+    pub(crate) fn values(self, event: &EventFacts) -> Values<'_> {
+        let name = Values::Name;
         match self {
-            GroupKey::All => f("all"),
-            GroupKey::Zone => each_distinct(&event.zone_names, f),
-            GroupKey::Team => each_distinct(&event.teams, f),
-            GroupKey::DetectionMonth => f(&month_of(event.first_detected)),
-            GroupKey::Source => each_distinct(&event.sources, f),
-            GroupKey::Confidence => f(&event.highest_confidence),
-            GroupKey::Corroborated => f(if event.corroborated {
+            GroupKey::All => name("all"),
+            GroupKey::Zone => Values::Many(&event.zone_names),
+            GroupKey::Team => Values::Many(&event.teams),
+            GroupKey::DetectionMonth => Values::Month(Month::of(event.first_detected)),
+            GroupKey::Source => Values::Many(&event.sources),
+            GroupKey::Confidence => name(&event.highest_confidence),
+            GroupKey::Corroborated => name(if event.corroborated {
                 "corroborated"
             } else {
                 "single source"
             }),
-            GroupKey::Cause => f(event.cause.as_deref().unwrap_or(NO_VALUE)),
-            GroupKey::Stratum => f(event
-                .sampled
-                .as_ref()
-                .map_or("(not sampled)", |s| s.stratum.as_str())),
+            GroupKey::Cause => name(event.cause.as_deref().unwrap_or(NO_VALUE)),
+            GroupKey::Stratum => name(
+                event
+                    .sampled
+                    .as_ref()
+                    .map_or("(not sampled)", |s| s.stratum.as_str()),
+            ),
         }
     }
+}
+
+/// The values of one event for one key.
+#[derive(Debug, Clone, Copy)]
+pub(crate) enum Values<'a> {
+    /// The one group of a key with one group per event.
+    Name(&'a str),
+    /// The one group of [`GroupKey::DetectionMonth`].
+    Month(Month),
+    /// Zones, teams, sources: a group per distinct value, or [`NO_VALUE`]
+    /// when the list is empty. Not necessarily sorted or distinct.
+    Many(&'a [String]),
 }
 
 /// Each distinct value in sorted order, or [`NO_VALUE`] when there is none.

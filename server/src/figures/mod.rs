@@ -51,6 +51,7 @@ pub mod assessment;
 mod causes;
 mod coverage;
 mod facts;
+mod groups;
 mod rates;
 mod teams;
 mod times;

@@ -3,12 +3,13 @@
 //! group, with a Wilson 95% interval. Inconclusive and disputed events are
 //! counted apart and are in neither term.
 
-use std::collections::BTreeMap;
+use std::ops::AddAssign;
 
 use serde::Serialize;
 
 use super::FiguresError;
 use super::facts::{EventFacts, GroupKey};
+use super::groups::tally_by;
 use crate::reconcile::Status;
 use crate::stats::{ProportionEstimate, wilson};
 
@@ -58,40 +59,67 @@ pub fn confirmation_rates(
     events: &[EventFacts],
     key: GroupKey,
 ) -> Result<Vec<RateRow>, FiguresError> {
-    let mut counts: BTreeMap<String, [u64; 5]> = BTreeMap::new();
-    for e in events {
-        let slot = match e.status {
-            Status::Confirmed => 0,
-            Status::FalseAlarm => 1,
-            Status::Inconclusive => 2,
-            Status::Disputed => 3,
-            Status::Unvisited | Status::NotReached => continue,
-        };
-        key.each_group(e, |group| {
-            // Look up before inserting: a key is allocated once per group.
-            let c = match counts.get_mut(group) {
-                Some(c) => c,
-                None => counts.entry(group.to_string()).or_default(),
-            };
-            c[slot] += 1;
-            c[4] += u64::from(slot == 0 && e.new_clearing);
-        });
-    }
-    counts
+    rate_rows(tally_by(events, key, RateCounts::of))
+}
+
+/// The rows of groups' counts (sorted by group), leaving out the groups
+/// with no confirmed, false-alarm, inconclusive or disputed event.
+pub(crate) fn rate_rows(
+    groups: impl IntoIterator<Item = (String, RateCounts)>,
+) -> Result<Vec<RateRow>, FiguresError> {
+    groups
         .into_iter()
-        .map(
-            |(group, [confirmed, false_alarm, inconclusive, disputed, new])| {
-                Ok(RateRow {
-                    group,
-                    confirmed,
-                    false_alarm,
-                    inconclusive,
-                    disputed,
-                    new_clearing: new,
-                    rate: wilson(confirmed, confirmed + false_alarm)?,
-                    basis: Basis::Descriptive,
-                })
-            },
-        )
+        .filter(|(_, c)| c.confirmed + c.false_alarm + c.inconclusive + c.disputed > 0)
+        .map(|(group, c)| {
+            Ok(RateRow {
+                group,
+                confirmed: c.confirmed,
+                false_alarm: c.false_alarm,
+                inconclusive: c.inconclusive,
+                disputed: c.disputed,
+                new_clearing: c.new_clearing,
+                rate: wilson(c.confirmed, c.confirmed + c.false_alarm)?,
+                basis: Basis::Descriptive,
+            })
+        })
         .collect()
+}
+
+/// The counts of a [`RateRow`].
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub(crate) struct RateCounts {
+    confirmed: u64,
+    false_alarm: u64,
+    inconclusive: u64,
+    disputed: u64,
+    new_clearing: u64,
+}
+
+impl RateCounts {
+    /// The counts of one event (unvisited and not reached ones count
+    /// nowhere).
+    pub(crate) fn of(e: &EventFacts) -> Self {
+        let mut c = RateCounts::default();
+        match e.status {
+            Status::Confirmed => {
+                c.confirmed = 1;
+                c.new_clearing = u64::from(e.new_clearing);
+            }
+            Status::FalseAlarm => c.false_alarm = 1,
+            Status::Inconclusive => c.inconclusive = 1,
+            Status::Disputed => c.disputed = 1,
+            Status::Unvisited | Status::NotReached => {}
+        }
+        c
+    }
+}
+
+impl AddAssign for RateCounts {
+    fn add_assign(&mut self, other: Self) {
+        self.confirmed += other.confirmed;
+        self.false_alarm += other.false_alarm;
+        self.inconclusive += other.inconclusive;
+        self.disputed += other.disputed;
+        self.new_clearing += other.new_clearing;
+    }
 }

@@ -1,7 +1,7 @@
 //! The status of an event from its report facts and adjudications, by the
 //! rules in the module docs of [`crate::reconcile`].
 
-use std::collections::{BTreeMap, BTreeSet};
+use std::collections::{BTreeMap, HashMap};
 
 use chrono::{DateTime, Duration, Utc};
 use serde::Serialize;
@@ -91,37 +91,87 @@ impl Episode {
     }
 }
 
-fn resolve_episode(reports: &[&ReportFact]) -> Episode {
-    let side = |o: Outcome| {
-        let members: Vec<_> = reports.iter().filter(|r| r.outcome == o).collect();
-        (!members.is_empty(), members.iter().any(|r| r.evidence_ok))
-    };
-    let (has_c, c_ok) = side(Outcome::Confirmed);
-    let (has_f, f_ok) = side(Outcome::FalseAlarm);
-    match (has_c, has_f) {
-        (true, false) => Episode::Confirmed,
-        (false, _) => Episode::FalseAlarm,
-        (true, true) => match (c_ok, f_ok) {
-            (true, false) => Episode::Settled(Outcome::Confirmed),
-            (false, true) => Episode::Settled(Outcome::FalseAlarm),
-            _ => Episode::Disputed,
-        },
+/// The two sides of one episode: whether each has a report, and whether
+/// one of those reports has passing evidence.
+#[derive(Debug, Clone, Copy, Default)]
+struct Sides {
+    confirmed: bool,
+    confirmed_ok: bool,
+    false_alarm: bool,
+    false_alarm_ok: bool,
+}
+
+impl Sides {
+    /// Adds a decisive report.
+    fn add(&mut self, r: &Counted<'_>) {
+        if r.outcome == Outcome::Confirmed {
+            self.confirmed = true;
+            self.confirmed_ok |= r.evidence_ok;
+        } else {
+            self.false_alarm = true;
+            self.false_alarm_ok |= r.evidence_ok;
+        }
+    }
+
+    /// How the episode resolved (rule 5).
+    fn resolve(self) -> Episode {
+        match (self.confirmed, self.false_alarm) {
+            (true, false) => Episode::Confirmed,
+            (false, _) => Episode::FalseAlarm,
+            (true, true) => match (self.confirmed_ok, self.false_alarm_ok) {
+                (true, false) => Episode::Settled(Outcome::Confirmed),
+                (false, true) => Episode::Settled(Outcome::FalseAlarm),
+                _ => Episode::Disputed,
+            },
+        }
     }
 }
 
-fn episodes<'a>(decisive: &[&'a ReportFact], window_days: u32) -> Vec<Vec<&'a ReportFact>> {
-    let window = Duration::days(i64::from(window_days));
-    let mut out: Vec<Vec<&ReportFact>> = Vec::new();
-    let mut previous: Option<DateTime<Utc>> = None;
-    for r in decisive {
-        let gap_too_long = previous.is_some_and(|p| r.observed_at - p > window);
-        match out.last_mut() {
-            Some(current) if !gap_too_long => current.push(r),
-            _ => out.push(vec![r]),
+/// What rule 6 reads from the resolved episodes, taken in order.
+#[derive(Debug, Clone, Copy, Default)]
+struct Episodes {
+    /// Some episode resolved to `confirmed`.
+    confirmed: bool,
+    /// A `false_alarm` episode came before the first `confirmed` one.
+    false_alarm_before: bool,
+    /// A `false_alarm` episode came after the first `confirmed` one.
+    false_alarm_after: bool,
+    disputed: bool,
+    /// Episodes settled by passing evidence.
+    settled: usize,
+}
+
+impl Episodes {
+    /// Splits the decisive reports (in (`observed_at`, `report_id`) order)
+    /// into episodes and resolves each (rule 5).
+    fn of<'a, 'r: 'a>(decisive: impl Iterator<Item = &'a Counted<'r>>, window_days: u32) -> Self {
+        let window = Duration::days(i64::from(window_days));
+        let mut out = Episodes::default();
+        let mut current: Option<(Sides, DateTime<Utc>)> = None;
+        for r in decisive {
+            let (mut sides, previous) = current.unwrap_or((Sides::default(), r.observed_at));
+            if r.observed_at - previous > window {
+                out.add(sides.resolve());
+                sides = Sides::default();
+            }
+            sides.add(r);
+            current = Some((sides, r.observed_at));
         }
-        previous = Some(r.observed_at);
+        if let Some((sides, _)) = current {
+            out.add(sides.resolve());
+        }
+        out
     }
-    out
+
+    fn add(&mut self, episode: Episode) {
+        self.settled += usize::from(matches!(episode, Episode::Settled(_)));
+        match episode.outcome() {
+            Some(Outcome::Confirmed) => self.confirmed = true,
+            Some(_) if self.confirmed => self.false_alarm_after = true,
+            Some(_) => self.false_alarm_before = true,
+            None => self.disputed = true,
+        }
+    }
 }
 
 /// The status of one event, by the rules in the module docs. Every report
@@ -132,7 +182,7 @@ pub fn event_status(
     window_days: u32,
 ) -> StatusOutcome {
     let adjudications: Vec<&Adjudication> = adjudications.iter().collect();
-    status_of_sorted(&counted_refs(reports), &adjudications, window_days)
+    status_of_refs(&counted_refs(reports), &adjudications, window_days)
 }
 
 /// Rules 4–8 on reports already reduced by [`counted_reports`] (they are
@@ -145,43 +195,132 @@ pub fn status_from_counted(
     let mut sorted: Vec<&ReportFact> = counted.iter().collect();
     sorted.sort_by_key(|r| (r.observed_at, r.report_id));
     let adjudications: Vec<&Adjudication> = adjudications.iter().collect();
-    status_of_sorted(&sorted, &adjudications, window_days)
+    status_of_refs(&sorted, &adjudications, window_days)
+}
+
+/// Rules 4–8 on counted reports sorted by (`observed_at`, `report_id`).
+fn status_of_refs(
+    counted: &[&ReportFact],
+    adjudications: &[&Adjudication],
+    window_days: u32,
+) -> StatusOutcome {
+    let mut teams = TeamIds::default();
+    let counted: Vec<Counted<'_>> = counted
+        .iter()
+        .map(|r| Counted::of(r, teams.id(&r.team)))
+        .collect();
+    status_of_sorted(&counted, &teams.ranked(), adjudications, window_days)
+}
+
+/// What rules 4–8 read of one counted report. The statuses of many events
+/// copy these out of the facts in memory order, so that each event's are
+/// then read side by side instead of chasing each report.
+#[derive(Debug, Clone, Copy)]
+struct Counted<'a> {
+    observed_at: DateTime<Utc>,
+    received_at: DateTime<Utc>,
+    report_id: Uuid,
+    outcome: Outcome,
+    evidence_ok: bool,
+    /// The team's id in [`TeamIds`].
+    team: u32,
+    cause: Option<&'a str>,
+}
+
+impl<'a> Counted<'a> {
+    fn of(r: &'a ReportFact, team: u32) -> Self {
+        Counted {
+            observed_at: r.observed_at,
+            received_at: r.received_at,
+            report_id: r.report_id,
+            outcome: r.outcome,
+            evidence_ok: r.evidence_ok,
+            team,
+            cause: r.cause.as_deref(),
+        }
+    }
+}
+
+/// Team names as small ids, in order of first appearance.
+#[derive(Debug, Default)]
+struct TeamIds<'a> {
+    ids: HashMap<&'a str, u32, rustc_hash::FxBuildHasher>,
+    names: Vec<&'a str>,
+}
+
+impl<'a> TeamIds<'a> {
+    fn id(&mut self, name: &'a str) -> u32 {
+        if let Some(&id) = self.ids.get(name) {
+            return id;
+        }
+        let id = self.names.len() as u32;
+        self.names.push(name);
+        self.ids.insert(name, id);
+        id
+    }
+
+    /// The names with each id's rank in name order.
+    fn ranked(self) -> TeamNames<'a> {
+        let mut by_name: Vec<u32> = (0..self.names.len() as u32).collect();
+        by_name.sort_unstable_by_key(|&id| self.names[id as usize]);
+        let mut rank = vec![0; by_name.len()];
+        for (r, &id) in by_name.iter().enumerate() {
+            rank[id as usize] = r as u32;
+        }
+        TeamNames {
+            sorted: by_name.iter().map(|&id| self.names[id as usize]).collect(),
+            rank,
+        }
+    }
+}
+
+/// Team names in name order, and each [`TeamIds`] id's place among them.
+#[derive(Debug)]
+struct TeamNames<'a> {
+    sorted: Vec<&'a str>,
+    rank: Vec<u32>,
+}
+
+impl TeamNames<'_> {
+    /// The distinct names of `teams` (ids), sorted.
+    fn of(&self, teams: impl Iterator<Item = u32>) -> Vec<String> {
+        let mut ranks: Vec<u32> = teams.map(|t| self.rank[t as usize]).collect();
+        ranks.sort_unstable();
+        ranks.dedup();
+        ranks
+            .into_iter()
+            .map(|r| self.sorted[r as usize].to_string())
+            .collect()
+    }
 }
 
 /// Rules 4–8 on counted reports already sorted by (`observed_at`,
 /// `report_id`).
 fn status_of_sorted(
-    counted: &[&ReportFact],
+    counted: &[Counted<'_>],
+    teams: &TeamNames<'_>,
     adjudications: &[&Adjudication],
     window_days: u32,
 ) -> StatusOutcome {
-    let reached: Vec<&ReportFact> = counted
-        .iter()
-        .copied()
-        .filter(|r| r.outcome.reached())
-        .collect();
-    let decisive: Vec<&ReportFact> = reached
-        .iter()
-        .copied()
-        .filter(|r| r.outcome.decisive())
-        .collect();
-    let teams: BTreeSet<&str> = counted.iter().map(|r| r.team.as_str()).collect();
+    let reached = || counted.iter().filter(|r| r.outcome.reached());
+    let reached_count = reached().count();
+    let mut decisive = reached().filter(|r| r.outcome.decisive()).peekable();
     let (mut status, mut new_clearing, mut note) = if counted.is_empty() {
         (Status::Unvisited, false, "no counted report".to_string())
-    } else if reached.is_empty() {
+    } else if reached_count == 0 {
         (
             Status::NotReached,
             false,
             format!("{} report(s), none reached the event", counted.len()),
         )
-    } else if decisive.is_empty() {
+    } else if decisive.peek().is_none() {
         (
             Status::Inconclusive,
             false,
-            format!("{} visit(s), all inconclusive", reached.len()),
+            format!("{reached_count} visit(s), all inconclusive"),
         )
     } else {
-        from_episodes(&episodes(&decisive, window_days), window_days)
+        from_episodes(Episodes::of(decisive, window_days), window_days)
     };
     let mut adjudicated = false;
     let latest = adjudications
@@ -207,54 +346,43 @@ fn status_of_sorted(
                 .iter()
                 .rev()
                 .filter(|r| r.outcome == Outcome::Confirmed)
-                .find_map(|r| r.cause.clone())
+                .find_map(|r| r.cause.map(str::to_string))
         })
         .flatten();
     StatusOutcome {
         status,
         new_clearing,
-        first_visit: reached.first().map(|r| r.observed_at),
-        first_received: reached.iter().map(|r| r.received_at).min(),
+        first_visit: reached().next().map(|r| r.observed_at),
+        first_received: reached().map(|r| r.received_at).min(),
         cause,
-        teams: teams.into_iter().map(str::to_string).collect(),
+        teams: teams.of(counted.iter().map(|r| r.team)),
         counted_reports: counted.iter().map(|r| r.report_id).collect(),
         adjudicated,
         note,
     }
 }
 
-fn from_episodes(groups: &[Vec<&ReportFact>], window_days: u32) -> (Status, bool, String) {
-    let resolved: Vec<Episode> = groups.iter().map(|g| resolve_episode(g)).collect();
-    let settled = resolved
-        .iter()
-        .filter(|e| matches!(e, Episode::Settled(_)))
-        .count();
+/// Rule 6 from the resolved episodes: status, new clearing, note.
+fn from_episodes(episodes: Episodes, window_days: u32) -> (Status, bool, String) {
+    let settled = episodes.settled;
     let evidence_note = if settled > 0 {
         format!("; {settled} disagreement(s) settled by passing evidence")
     } else {
         String::new()
     };
-    if let Some(first_confirmed) = resolved
-        .iter()
-        .position(|e| e.outcome() == Some(Outcome::Confirmed))
-    {
-        let new_clearing = resolved[..first_confirmed]
-            .iter()
-            .any(|e| e.outcome() == Some(Outcome::FalseAlarm));
-        let later_false = resolved[first_confirmed + 1..]
-            .iter()
-            .any(|e| e.outcome() == Some(Outcome::FalseAlarm));
+    if episodes.confirmed {
+        let new_clearing = episodes.false_alarm_before;
         let mut note = if new_clearing {
             format!("confirmed more than {window_days} days after a false alarm: new clearing")
         } else {
             "confirmed".to_string()
         };
-        if later_false {
+        if episodes.false_alarm_after {
             note.push_str("; a later false alarm does not undo the confirmed clearing");
         }
         note.push_str(&evidence_note);
         (Status::Confirmed, new_clearing, note)
-    } else if resolved.contains(&Episode::Disputed) {
+    } else if episodes.disputed {
         (
             Status::Disputed,
             false,
@@ -263,11 +391,9 @@ fn from_episodes(groups: &[Vec<&ReportFact>], window_days: u32) -> (Status, bool
             ),
         )
     } else {
-        (
-            Status::FalseAlarm,
-            false,
-            format!("false alarm{evidence_note}"),
-        )
+        let mut note = "false alarm".to_string();
+        note.push_str(&evidence_note);
+        (Status::FalseAlarm, false, note)
     }
 }
 
@@ -303,48 +429,74 @@ pub fn event_statuses_counted(
         fresh = CountedIndex::of(reports);
         &fresh
     };
-    let distinct: Vec<(&ReportFact, bool)> = index.iter(reports).collect();
-    // Counted reports grouped by event; within an event they keep the
-    // (observed_at, report_id) order of `distinct` (the index breaks ties).
-    let mut counted: Vec<(i64, usize)> = distinct
-        .iter()
-        .enumerate()
-        .filter(|(_, (_, c))| *c)
-        .map(|(i, (r, _))| (r.event_id, i))
-        .collect();
-    counted.sort_unstable();
-    // Every event named by a report that does not count, or by a copy that
-    // rule 1 dropped, still gets an entry.
-    let mut events: Vec<i64> = distinct
-        .iter()
-        .filter(|(_, c)| !*c)
-        .map(|(r, _)| r.event_id)
-        .chain(adjudications.iter().map(|a| a.event_id))
-        .collect();
-    if index.had_copies() {
-        events.extend(reports.iter().map(|r| r.event_id));
-    }
-    events.extend(counted.iter().map(|&(e, _)| e));
-    events.sort_unstable();
-    events.dedup();
     let mut adj: Vec<&Adjudication> = adjudications.iter().collect();
     adj.sort_by_key(|a| a.event_id);
-
-    let mut out = Vec::with_capacity(events.len());
-    let (mut ci, mut ai) = (0, 0);
-    let mut group: Vec<&ReportFact> = Vec::new();
-    for event in events {
+    let (counted, teams) = counted_by_place(reports, index);
+    let events = index.events();
+    let mut named = named_elsewhere(reports, index, adjudications)
+        .into_iter()
+        .peekable();
+    let (mut at, mut adj) = (0, adj.as_slice());
+    let mut out = Vec::new();
+    let mut group: Vec<Counted<'_>> = Vec::new();
+    loop {
+        // The next event of either list (both are sorted).
+        let event = match (events.get(at).copied(), named.peek().copied()) {
+            (Some(a), Some(b)) => a.min(b),
+            (Some(a), None) | (None, Some(a)) => a,
+            (None, None) => break,
+        };
+        named.next_if_eq(&event);
+        let end = at + events[at..].partition_point(|&e| e == event);
         group.clear();
-        while ci < counted.len() && counted[ci].0 == event {
-            group.push(distinct[counted[ci].1].0);
-            ci += 1;
-        }
-        let a0 = ai;
-        while ai < adj.len() && adj[ai].event_id == event {
-            ai += 1;
-        }
-        out.push((event, status_of_sorted(&group, &adj[a0..ai], window_days)));
+        group.extend(counted[at..end].iter().flatten());
+        at = end;
+        let k = adj.partition_point(|a| a.event_id == event);
+        let (of_event, rest) = adj.split_at(k);
+        adj = rest;
+        out.push((
+            event,
+            status_of_sorted(&group, &teams, of_event, window_days),
+        ));
     }
     // Sorted by event id: the map is built in one pass.
     out.into_iter().collect()
+}
+
+/// The counted reports of `index`, read in memory order and put at their
+/// places (grouped by event, each event's in (`observed_at`, `report_id`)
+/// order), with the names of their teams.
+fn counted_by_place<'a>(
+    reports: &'a [ReportFact],
+    index: &CountedIndex,
+) -> (Vec<Option<Counted<'a>>>, TeamNames<'a>) {
+    let mut teams = TeamIds::default();
+    let mut counted = vec![None; index.events().len()];
+    for (r, place) in reports.iter().zip(index.places()) {
+        if let Some(place) = place.filter(|&p| index.counts_at(p)) {
+            counted[place as usize] = Some(Counted::of(r, teams.id(&r.team)));
+        }
+    }
+    (counted, teams.ranked())
+}
+
+/// Events that get an entry without a distinct report: named only by an
+/// adjudication or by a copy that rule 1 dropped. Sorted, distinct.
+fn named_elsewhere(
+    reports: &[ReportFact],
+    index: &CountedIndex,
+    adjudications: &[Adjudication],
+) -> Vec<i64> {
+    let dropped = index
+        .dropped()
+        .iter()
+        .map(|&i| reports[i as usize].event_id);
+    let mut named: Vec<i64> = adjudications
+        .iter()
+        .map(|a| a.event_id)
+        .chain(dropped)
+        .collect();
+    named.sort_unstable();
+    named.dedup();
+    named
 }

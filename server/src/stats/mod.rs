@@ -33,4 +33,5 @@ pub use quantiles::{DurationSummary, duration_summary, median, percentile_90, qu
 pub use stratified::{
     Fpc, StratifiedProportion, StratumCount, StratumResult, StratumStatus, stratified_proportion,
 };
+pub(crate) use survival::kaplan_meier_sorted;
 pub use survival::{CurveStep, EventShare, KaplanMeier, SurvivalPoint, TimeBounds, kaplan_meier};

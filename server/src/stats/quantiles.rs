@@ -24,25 +24,33 @@ pub struct DurationSummary {
     pub max: f64,
 }
 
-fn sorted(sample: &[f64]) -> Result<Vec<f64>, StatsError> {
+/// A copy of `sample` to select from; an error when a value is not finite.
+fn finite_copy(sample: &[f64]) -> Result<Vec<f64>, StatsError> {
     if sample.iter().any(|v| !v.is_finite()) {
         return Err(StatsError::NotFinite {
             what: "sample value",
         });
     }
-    let mut values = sample.to_vec();
-    values.sort_by(f64::total_cmp);
-    Ok(values)
+    Ok(sample.to_vec())
 }
 
-/// Type 7 quantile of an already sorted, non-empty, finite sample.
-fn quantile_of_sorted(values: &[f64], p: f64) -> f64 {
+/// Type 7 quantile of a non-empty, finite sample. The values at the two
+/// ranks it reads are found by selection, in linear time: they are the
+/// values a sort would put there. Reorders `values`.
+fn quantile_of(values: &mut [f64], p: f64) -> f64 {
     let last = values.len() - 1;
     let h = last as f64 * p;
     let below = (h.floor() as usize).min(last);
     let above = (h.ceil() as usize).min(last);
     let fraction = h - below as f64;
-    let (a, b) = (values[below], values[above]);
+    let (_, a, larger) = values.select_nth_unstable_by(below, f64::total_cmp);
+    let a = *a;
+    // `above` is `below` or the next rank: the smallest of the larger values.
+    let b = if above == below {
+        a
+    } else {
+        larger.iter().copied().min_by(f64::total_cmp).unwrap_or(a)
+    };
     a + fraction * (b - a)
 }
 
@@ -51,11 +59,11 @@ pub fn quantile(sample: &[f64], p: f64) -> Result<Option<f64>, StatsError> {
     if !(0.0..=1.0).contains(&p) {
         return Err(StatsError::ProbabilityOutOfRange(p));
     }
-    let values = sorted(sample)?;
+    let mut values = finite_copy(sample)?;
     if values.is_empty() {
         return Ok(None);
     }
-    Ok(Some(quantile_of_sorted(&values, p)))
+    Ok(Some(quantile_of(&mut values, p)))
 }
 
 /// The median (type 7, p = 0.5).
@@ -68,17 +76,19 @@ pub fn percentile_90(sample: &[f64]) -> Result<Option<f64>, StatsError> {
     quantile(sample, 0.9)
 }
 
-/// Count, min, median, 90th percentile and max in one pass over a sorted copy.
+/// Count, min, median, 90th percentile and max, by selection on one copy.
 pub fn duration_summary(sample: &[f64]) -> Result<Option<DurationSummary>, StatsError> {
-    let values = sorted(sample)?;
-    let (Some(&min), Some(&max)) = (values.first(), values.last()) else {
+    let mut values = finite_copy(sample)?;
+    let min = values.iter().copied().min_by(f64::total_cmp);
+    let max = values.iter().copied().max_by(f64::total_cmp);
+    let (Some(min), Some(max)) = (min, max) else {
         return Ok(None);
     };
     Ok(Some(DurationSummary {
         count: values.len(),
         min,
-        median: quantile_of_sorted(&values, 0.5),
-        p90: quantile_of_sorted(&values, 0.9),
+        median: quantile_of(&mut values, 0.5),
+        p90: quantile_of(&mut values, 0.9),
         max,
     }))
 }

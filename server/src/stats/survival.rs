@@ -112,20 +112,42 @@ fn log_log_band(survival: f64, greenwood_sum: f64) -> Interval {
 /// Returns `Ok(None)` for an empty input. Errors: a duration that is NaN,
 /// infinite or negative.
 pub fn kaplan_meier(observations: &[(f64, bool)]) -> Result<Option<KaplanMeier>, StatsError> {
+    check(observations)?;
+    let mut sorted = observations.to_vec();
+    sorted.sort_by(|a, b| a.0.total_cmp(&b.0));
+    Ok(fit_sorted(&sorted))
+}
+
+/// [`kaplan_meier`] of observations already sorted by duration (in the
+/// order of `f64::total_cmp`), for a caller that fits several curves from
+/// one sort.
+pub(crate) fn kaplan_meier_sorted(
+    sorted: &[(f64, bool)],
+) -> Result<Option<KaplanMeier>, StatsError> {
+    check(sorted)?;
+    debug_assert!(sorted.is_sorted_by(|a, b| a.0.total_cmp(&b.0).is_le()));
+    Ok(fit_sorted(sorted))
+}
+
+/// The errors of [`kaplan_meier`].
+fn check(observations: &[(f64, bool)]) -> Result<(), StatsError> {
     if observations.iter().any(|(t, _)| !t.is_finite()) {
         return Err(StatsError::NotFinite { what: "duration" });
     }
     if observations.iter().any(|&(t, _)| t < 0.0) {
         return Err(StatsError::Negative { what: "duration" });
     }
-    if observations.is_empty() {
-        return Ok(None);
+    Ok(())
+}
+
+/// The curve of valid observations sorted by duration; `None` when empty.
+fn fit_sorted(sorted: &[(f64, bool)]) -> Option<KaplanMeier> {
+    if sorted.is_empty() {
+        return None;
     }
-    let mut sorted = observations.to_vec();
-    sorted.sort_by(|a, b| a.0.total_cmp(&b.0));
     let mut steps = Vec::new();
     let (mut at_risk, mut survival, mut greenwood) = (sorted.len(), 1.0_f64, 0.0_f64);
-    let mut rest = sorted.as_slice();
+    let mut rest = sorted;
     while let Some(&(time, _)) = rest.first() {
         let same = rest.iter().take_while(|(t, _)| *t == time).count();
         let (group, tail) = rest.split_at(same);
@@ -152,7 +174,7 @@ pub fn kaplan_meier(observations: &[(f64, bool)]) -> Result<Option<KaplanMeier>,
         });
         at_risk -= same;
     }
-    let events = observations.iter().filter(|(_, e)| *e).count();
+    let events = sorted.iter().filter(|(_, e)| *e).count();
     let first_at_or_below = |value: fn(&CurveStep) -> f64| {
         steps
             .iter()
@@ -164,14 +186,14 @@ pub fn kaplan_meier(observations: &[(f64, bool)]) -> Result<Option<KaplanMeier>,
         lower: first_at_or_below(|s| s.ci95.lower),
         upper: first_at_or_below(|s| s.ci95.upper),
     };
-    Ok(Some(KaplanMeier {
-        subjects: observations.len(),
+    Some(KaplanMeier {
+        subjects: sorted.len(),
         events,
-        censored: observations.len() - events,
+        censored: sorted.len() - events,
         steps,
         median,
         median_ci95,
-    }))
+    })
 }
 
 impl KaplanMeier {
