@@ -9,11 +9,18 @@
 //! invented events in four zones and REPORTS (default 1,000,000) reports,
 //! plus the bundles (response trips of 100 events, and assessment trips with
 //! sampled events and control points), returns, merges and adjudications
-//! those reports need. Then it runs the dashboard's data path (load the
-//! facts, reconcile, compute every figure: what both handlers call) twice to
-//! warm up and RUNS (default 20) times measured, and prints the median,
-//! 95th percentile and maximum with the split between loading and figures,
-//! and the peak memory (VmHWM) of the process. Target: p95 under 200 ms.
+//! those reports need. Then it measures, RUNS (default 20) times each:
+//! 1. what the server answers from the statistics it keeps for the current
+//!    facts (`StatsCache`: fact stamp, the report-date curves, JSON), plus
+//!    the first request on these facts, a new filter, and the first request
+//!    after a new return is written;
+//! 2. the same over HTTP, on the real server on a loopback port;
+//! 3. the full recompute from storage (after 2 warm-up runs), split into
+//!    loading with reconciliation and figures, with a fingerprint of every
+//!    figure (a speed-up must not change it).
+//!
+//! It prints medians, 95th percentiles and the peak memory (VmHWM) of the
+//! process. Target: p95 under 200 ms for what the server answers.
 
 mod common;
 use chrono::{DateTime, Duration, TimeZone, Utc};
