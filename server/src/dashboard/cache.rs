@@ -5,14 +5,16 @@
 //! beside the facts. Every entry is what [`super::read_facts`] and
 //! [`super::prepare`] computed from the facts at one [`FactStamp`]; the
 //! first request after any committed change (the stamp moves after every
-//! fact-changing commit, in this process or another) computes anew. A
-//! request never sees figures older than the last commit it could see.
+//! fact-changing commit, in this process or another) computes anew, reading
+//! only the reports added since ([`super::read_facts_after`]: reports are
+//! never changed) and everything else in full. A request never sees figures
+//! older than the last commit it could see.
 //!
 //! Only the report date (`as_of`) and T of "visited within T days" change
 //! from request to request on the same facts; those curves are computed per
 //! request from the kept events ([`Prepared::figures`]).
 
-use super::load::{Facts, Loaded, StatsFilter, prepare, read_facts};
+use super::load::{Facts, Loaded, StatsFilter, prepare, read_facts_after};
 use crate::error::{Error, Result};
 use crate::figures::{FigureOptions, Figures, time_to_visit};
 use crate::storage::{Db, FactStamp};
@@ -98,20 +100,27 @@ impl StatsCache {
         // Taken before reading: what is read is at least this new, so a
         // later request with the same stamp may use it.
         let stamp = db.fact_stamp();
-        let facts = {
+        let (facts, stale) = {
             let mut kept = self.kept();
             if let Some(p) = kept.find(stamp, filter) {
                 return Ok(p);
             }
             if kept.stamp == Some(stamp) {
-                kept.facts.clone()
+                (kept.facts.clone(), None)
             } else {
-                None
+                // The facts changed: nothing kept may be served again, but
+                // the reports read so far need not be read again.
+                let stale = kept.facts.take();
+                *kept = Kept::default();
+                (None, stale)
             }
         };
         let facts = match facts {
             Some(f) => f,
-            None => Arc::new(read_facts(db, super::DISPUTE_WINDOW_DAYS)?),
+            None => {
+                let previous = stale.and_then(|f| Arc::try_unwrap(f).ok());
+                Arc::new(read_facts_after(db, super::DISPUTE_WINDOW_DAYS, previous)?)
+            }
         };
         let p = Arc::new(Prepared::new(&facts, filter)?);
         let mut kept = self.kept();

@@ -60,25 +60,38 @@ pub(crate) fn outcome(s: &str) -> Option<Outcome> {
 pub const CONTROL_PLOT_HA: f64 = 1.0;
 
 /// A control point's report, kept while reading every report.
+#[derive(Debug, Clone)]
 struct ControlReport {
     report_id: String,
     observed_at: String,
     outcome: String,
 }
 
-/// What one pass over the stored reports keeps.
-#[derive(Default)]
+/// What the passes over the stored reports keep. Reports are only ever
+/// added (invariant 1), so after new returns the next read continues from
+/// the last row read ([`read_facts_after`]).
+#[derive(Debug, Default)]
 struct ReportScan {
-    /// The reports of the selection, as reconciliation reads them.
+    /// Every report, as reconciliation reads them (moved into [`Facts`]
+    /// while it is in use).
     facts: Vec<ReportFact>,
+    /// Each fact's event id as stored, before following merges.
+    stored_event: Vec<i64>,
+    /// The merges the facts' event ids follow.
+    merges: HashMap<i64, i64>,
+    /// Rows read, and the largest row id among them.
+    rows: i64,
+    max_rowid: i64,
     /// Every report id that another report names as superseded.
     superseded: HashSet<String>,
-    /// Reports on control points, by (bundle, control code), in id order.
+    /// Reports on control points, by (bundle, control code).
     controls: BTreeMap<(String, String), Vec<ControlReport>>,
 }
 
 impl ReportScan {
     fn add(&mut self, r: StatsReportRef<'_>, live: impl Fn(i64) -> i64) {
+        self.rows += 1;
+        self.max_rowid = self.max_rowid.max(r.rowid);
         if let Some(s) = r.supersedes {
             self.superseded.insert(s.to_string());
         }
@@ -94,8 +107,19 @@ impl ReportScan {
                     outcome: r.outcome.to_string(),
                 });
         }
-        if let Some(f) = report_fact(&r, live) {
+        if let (Some(stored), Some(f)) = (r.event_id, report_fact(&r, live)) {
+            self.stored_event.push(stored);
             self.facts.push(f);
+        }
+    }
+
+    /// Point every fact at its live event under `merges`.
+    fn follow(&mut self, merges: HashMap<i64, i64>) {
+        if merges != self.merges {
+            for (f, &stored) in self.facts.iter_mut().zip(&self.stored_event) {
+                f.event_id = merges.get(&stored).copied().unwrap_or(stored);
+            }
+            self.merges = merges;
         }
     }
 }
@@ -132,6 +156,8 @@ pub struct Facts {
     /// Control points with what was found there, and their zone.
     controls: Vec<(Option<String>, ControlFacts)>,
     window_days: u32,
+    /// The report pass, without its facts (they are in `reports`).
+    scan: ReportScan,
 }
 
 /// Load everything, reconcile, and apply the filter.
@@ -141,11 +167,37 @@ pub fn load(db: &Db, filter: &StatsFilter, window_days: u32) -> Result<Loaded> {
 
 /// Read every fact the statistics rest on and reconcile every event.
 pub fn read_facts(db: &Db, window_days: u32) -> Result<Facts> {
+    read_facts_after(db, window_days, None)
+}
+
+/// [`read_facts`], reading only the reports stored since `previous` was
+/// read when nothing but new reports came in; everything else is read and
+/// every event reconciled again. The result equals a fresh [`read_facts`].
+pub fn read_facts_after(db: &Db, window_days: u32, previous: Option<Facts>) -> Result<Facts> {
+    let earlier = previous.map(|p| {
+        let mut scan = p.scan;
+        scan.facts = Arc::try_unwrap(p.reports).unwrap_or_else(|shared| (*shared).clone());
+        scan
+    });
     let (events, scan, adjudications, issue_times, controls, zones, bundles) = db.read(|r| {
         let merges = r.merge_map()?;
         let live = |id: i64| merges.get(&id).copied().unwrap_or(id);
-        let mut scan = ReportScan::default();
-        r.each_stats_report(|row| scan.add(row, live))?;
+        let (count, max_rowid) = r.report_extent()?;
+        let mut scan = match earlier {
+            Some(s) if s.rows > 0 && s.rows <= count && s.max_rowid <= max_rowid => {
+                let mut s = s;
+                r.each_stats_report_after(Some(s.max_rowid), |row| s.add(row, live))?;
+                s
+            }
+            _ => ReportScan::default(),
+        };
+        if scan.rows != count {
+            // Not only additions (or nothing kept): read every report.
+            scan = ReportScan::default();
+            r.each_stats_report(|row| scan.add(row, live))?;
+            scan.merges = merges.clone();
+        }
+        scan.follow(merges.clone());
         let adjudications: Vec<Adjudication> = r
             .adjudications()?
             .iter()
@@ -173,7 +225,8 @@ pub fn read_facts(db: &Db, window_days: u32) -> Result<Facts> {
         .iter()
         .filter_map(|(id, t)| Some((Uuid::parse_str(id).ok()?, time(t)?)))
         .collect();
-    let reports = scan.facts;
+    let mut scan = scan;
+    let reports = std::mem::take(&mut scan.facts);
     let counted = CountedIndex::of(&reports);
     let statuses = event_statuses_counted(&reports, &counted, &adjudications, window_days);
 
@@ -241,6 +294,7 @@ pub fn read_facts(db: &Db, window_days: u32) -> Result<Facts> {
         bundle_issued_at: Arc::new(bundle_issued_at),
         controls: out_controls,
         window_days,
+        scan,
     })
 }
 
@@ -341,5 +395,172 @@ pub fn prepare(facts: &Facts, filter: &StatsFilter) -> Loaded {
         controls,
         statuses,
         counted,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::storage::{BundleItem, EventWrite, NewBundle, ReportRow, ReturnRecord, Tx};
+
+    fn event(tx: &Tx<'_>, lon: f64) -> i64 {
+        tx.insert_event(&EventWrite {
+            footprint: format!(
+                "{{\"type\":\"Polygon\",\"coordinates\":[[[{lon},0],[{lon}.001,0],[{lon}.001,0.001],[{lon},0]]]}}"
+            ),
+            area_ha: 2.0,
+            centroid: (lon, 0.0),
+            bbox: (lon, 0.0, lon + 0.001, 0.001),
+            first: Day::from_days(20_300),
+            last: Day::from_days(20_300),
+            alert_count: 1,
+            highest_confidence: Confidence::Confirmed,
+            corroborated: false,
+            per_source: [("optical-10m".to_string(), 1)].into(),
+        })
+        .unwrap()
+    }
+
+    /// One trip to `events`, its return, and one report per (event, outcome).
+    fn trip(tx: &Tx<'_>, id: &str, team: &crate::storage::Team, visits: &[(i64, &str)]) {
+        let items: Vec<BundleItem> = visits
+            .iter()
+            .enumerate()
+            .map(|(k, &(e, _))| BundleItem {
+                visit_order: k as u32,
+                code: format!("E{k:03}"),
+                kind: "event".into(),
+                event_id: Some(e),
+                lon: 0.0,
+                lat: 0.0,
+                stratum: None,
+                stratum_population: None,
+                inclusion_probability: None,
+            })
+            .collect();
+        tx.insert_bundle(&NewBundle {
+            id,
+            team_id: team.id,
+            mode: "response",
+            issued_at: "2025-08-02T08:00:00Z",
+            due_at: "2025-08-16T08:00:00Z",
+            expires_at: "2025-10-01T08:00:00Z",
+            seed: None,
+            margin: None,
+            selection: "{}",
+            start: (0.0, 0.0),
+            route_m: 1000.0,
+            upload_key_id: id,
+            upload_key: &[7; 32],
+            file_name: "b.zip",
+            file_sha256: &"0".repeat(64),
+            file_size: 1,
+            items: &items,
+        })
+        .unwrap();
+        let return_id = tx
+            .insert_return(&ReturnRecord {
+                id: 0,
+                bundle_id: id.into(),
+                sha256: format!("{:0>64}", &id[id.len() - 1..]),
+                size: 1,
+                team: team.name.clone(),
+                received_at: "2025-08-10T12:00:00Z".into(),
+                path: format!("returns/{id}.zip"),
+            })
+            .unwrap();
+        for (k, &(e, outcome)) in visits.iter().enumerate() {
+            tx.insert_report(
+                &ReportRow {
+                    report_id: uuid::Uuid::new_v4().to_string(),
+                    bundle_id: id.into(),
+                    event_id: Some(e),
+                    control_code: None,
+                    kind: "event".into(),
+                    supersedes: None,
+                    outcome: outcome.into(),
+                    reason: (outcome == "false_alarm").then(|| "no_change".into()),
+                    cause: None,
+                    lat: Some(0.0),
+                    lon: Some(0.0),
+                    accuracy_m: Some(5.0),
+                    position_source: Some("gnss".into()),
+                    distance_m: Some(3.0),
+                    observed_at: format!("2025-08-0{}T10:00:00Z", 3 + k % 5),
+                    recorded_at: "2025-08-03T10:00:00Z".into(),
+                    received_at: "2025-08-10T12:00:00Z".into(),
+                    area_ha: None,
+                    notes: String::new(),
+                    team: team.name.clone(),
+                    evidence_ok: true,
+                    flags: Vec::new(),
+                    return_id,
+                },
+                "0",
+            )
+            .unwrap();
+        }
+    }
+
+    /// Every figure of the unfiltered selection, as JSON.
+    fn figures_json(facts: &Facts) -> String {
+        let l = prepare(facts, &StatsFilter::default());
+        let at = Day::from_days(20_500)
+            .date()
+            .and_hms_opt(0, 0, 0)
+            .unwrap()
+            .and_utc();
+        let f = super::super::figures_of(&l, &crate::figures::FigureOptions::new(at)).unwrap();
+        serde_json::to_string(&f).unwrap()
+    }
+
+    #[test]
+    fn reading_on_from_earlier_facts_equals_reading_afresh() {
+        let dir = tempfile::tempdir().unwrap();
+        let db = Db::open(dir.path()).unwrap();
+        let (a, b, c) = db
+            .write(|tx| {
+                tx.add_source("optical-10m", 10.0, 5)?;
+                let team = tx.add_team("Team One")?;
+                let (a, b, c) = (event(tx, 1.0), event(tx, 2.0), event(tx, 3.0));
+                trip(
+                    tx,
+                    "00000000-0000-4000-8000-000000000001",
+                    &team,
+                    &[(a, "confirmed"), (b, "confirmed")],
+                );
+                Ok((a, b, c))
+            })
+            .unwrap();
+        let earlier = read_facts(&db, 30).unwrap();
+        assert_eq!(earlier.reports.len(), 2);
+        // New returns, one disagreeing with an earlier visit; then event c
+        // is merged into b, so c's report now counts for b.
+        db.write(|tx| {
+            let team = tx.add_team("Team Two")?;
+            trip(
+                tx,
+                "00000000-0000-4000-8000-000000000002",
+                &team,
+                &[(b, "false_alarm"), (c, "confirmed")],
+            );
+            tx.mark_merged(&[c], b)?;
+            tx.add_adjudication(a, "false_alarm", "a later image shows forest", "Manager")?;
+            Ok(())
+        })
+        .unwrap();
+        let on = read_facts_after(&db, 30, Some(earlier)).unwrap();
+        let fresh = read_facts(&db, 30).unwrap();
+        assert_eq!(on.reports.len(), 4);
+        assert_eq!(
+            on.reports.iter().filter(|r| r.event_id == b).count(),
+            3,
+            "the report on the merged event follows the merge"
+        );
+        assert_eq!(figures_json(&on), figures_json(&fresh));
+        assert_eq!(on.statuses, fresh.statuses);
+        // Nothing new: reading on changes nothing.
+        let again = read_facts_after(&db, 30, Some(on)).unwrap();
+        assert_eq!(figures_json(&again), figures_json(&fresh));
     }
 }

@@ -13,7 +13,7 @@ mod rfc3339;
 
 pub use cache::{Prepared, REFRESH_TICK, StatsCache, keep_fresh};
 pub use csv_tables::{TABLES, table};
-pub use load::{Facts, Loaded, StatsFilter, load, prepare, read_facts};
+pub use load::{Facts, Loaded, StatsFilter, load, prepare, read_facts, read_facts_after};
 
 use crate::error::{Error, Result};
 use crate::figures::{FigureOptions, Figures, all_figures_counted};

@@ -59,6 +59,9 @@ pub struct StatsEventRow {
 /// the caller does not keep.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct StatsReportRef<'a> {
+    /// SQLite's row id: reports are never updated or deleted (invariant 1),
+    /// so a later report has a larger one.
+    pub rowid: i64,
     pub report_id: &'a str,
     pub bundle_id: &'a str,
     pub event_id: Option<i64>,
@@ -283,39 +286,79 @@ impl Reader<'_> {
 
     /// Calls `f` with every report intake stored (none before the first
     /// return), in `report_id` order.
-    pub fn each_stats_report(&self, mut f: impl FnMut(StatsReportRef<'_>)) -> Result<()> {
+    pub fn each_stats_report(&self, f: impl FnMut(StatsReportRef<'_>)) -> Result<()> {
+        self.each_stats_report_after(None, f)
+    }
+
+    /// [`Reader::each_stats_report`], or with `after = Some(rowid)` only the
+    /// reports stored after that row, in row order.
+    pub fn each_stats_report_after(
+        &self,
+        after: Option<i64>,
+        mut f: impl FnMut(StatsReportRef<'_>),
+    ) -> Result<()> {
+        if !self.has_reports_table()? {
+            return Ok(());
+        }
+        const COLUMNS: &str =
+            "rowid, report_id, bundle_id, event_id, control_code, kind, supersedes,
+                    outcome, reason, cause, observed_at, received_at, evidence_ok, team";
+        let (sql, from) = match after {
+            None => (
+                format!("SELECT {COLUMNS} FROM reports ORDER BY report_id"),
+                i64::MIN,
+            ),
+            Some(a) => (
+                format!("SELECT {COLUMNS} FROM reports WHERE rowid > ?1 ORDER BY rowid"),
+                a,
+            ),
+        };
+        let mut st = self.conn.prepare_cached(&sql)?;
+        let mut rows = if after.is_some() {
+            st.query([from])?
+        } else {
+            st.query([])?
+        };
+        while let Some(r) = rows.next()? {
+            f(StatsReportRef {
+                rowid: r.get(0)?,
+                report_id: text(r, 1)?,
+                bundle_id: text(r, 2)?,
+                event_id: r.get(3)?,
+                control_code: opt_text(r, 4)?,
+                kind: text(r, 5)?,
+                supersedes: opt_text(r, 6)?,
+                outcome: text(r, 7)?,
+                reason: opt_text(r, 8)?,
+                cause: opt_text(r, 9)?,
+                observed_at: text(r, 10)?,
+                received_at: text(r, 11)?,
+                evidence_ok: r.get::<_, i64>(12)? != 0,
+                team: text(r, 13)?,
+            });
+        }
+        Ok(())
+    }
+
+    /// How many reports are stored and the largest row id among them.
+    pub fn report_extent(&self) -> Result<(i64, i64)> {
+        if !self.has_reports_table()? {
+            return Ok((0, 0));
+        }
+        Ok(self.conn.query_row(
+            "SELECT COUNT(*), COALESCE(MAX(rowid), 0) FROM reports",
+            [],
+            |r| Ok((r.get(0)?, r.get(1)?)),
+        )?)
+    }
+
+    fn has_reports_table(&self) -> Result<bool> {
         let exists: i64 = self.conn.query_row(
             "SELECT COUNT(*) FROM sqlite_master WHERE type = 'table' AND name = 'reports'",
             [],
             |r| r.get(0),
         )?;
-        if exists == 0 {
-            return Ok(());
-        }
-        let mut st = self.conn.prepare(
-            "SELECT report_id, bundle_id, event_id, control_code, kind, supersedes, outcome, reason, cause,
-                    observed_at, received_at, evidence_ok, team
-             FROM reports ORDER BY report_id",
-        )?;
-        let mut rows = st.query([])?;
-        while let Some(r) = rows.next()? {
-            f(StatsReportRef {
-                report_id: text(r, 0)?,
-                bundle_id: text(r, 1)?,
-                event_id: r.get(2)?,
-                control_code: opt_text(r, 3)?,
-                kind: text(r, 4)?,
-                supersedes: opt_text(r, 5)?,
-                outcome: text(r, 6)?,
-                reason: opt_text(r, 7)?,
-                cause: opt_text(r, 8)?,
-                observed_at: text(r, 9)?,
-                received_at: text(r, 10)?,
-                evidence_ok: r.get::<_, i64>(11)? != 0,
-                team: text(r, 12)?,
-            });
-        }
-        Ok(())
+        Ok(exists > 0)
     }
 
     pub fn adjudications(&self) -> Result<Vec<AdjudicationRow>> {
