@@ -182,10 +182,12 @@ pub fn keep_fresh(db: std::sync::Weak<Db>, cache: std::sync::Weak<StatsCache>) {
                 if refreshed == Some(stamp) {
                     continue;
                 }
-                match cache.refresh(&db) {
-                    Ok(()) => refreshed = Some(stamp),
-                    Err(e) => tracing::warn!("statistics refresh failed: {e}"),
+                // Tried once per stamp: a failure is logged, and the next
+                // request reports it; retrying every tick would only burn.
+                if let Err(e) = cache.refresh(&db) {
+                    tracing::warn!("statistics refresh failed: {e}");
                 }
+                refreshed = Some(stamp);
             }
         });
     if let Err(e) = spawned {
