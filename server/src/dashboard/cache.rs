@@ -93,7 +93,8 @@ impl StatsCache {
 
     /// The selection `filter` of the facts as they stand now.
     pub fn prepared(&self, db: &Db, filter: &StatsFilter) -> Result<Arc<Prepared>> {
-        if let Some(p) = self.kept().find(db.fact_stamp(), filter) {
+        let stamp = db.fact_stamp();
+        if let Some(p) = self.kept().find(stamp, filter) {
             return Ok(p);
         }
         let _one = self.computing.lock().unwrap_or_else(|p| p.into_inner());

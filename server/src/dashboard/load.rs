@@ -268,7 +268,11 @@ pub fn read_facts_after(db: &Db, window_days: u32, previous: Option<Facts>) -> R
             .and_then(|v| {
                 v.iter()
                     .filter(|r| !scan.superseded.contains(&r.report_id))
-                    .max_by(|a, b| a.observed_at.cmp(&b.observed_at))
+                    // The latest; equal times are decided by report id, so
+                    // the order the reports were read in does not matter.
+                    .max_by(|a, b| {
+                        (&a.observed_at, &a.report_id).cmp(&(&b.observed_at, &b.report_id))
+                    })
             });
         let found = latest.and_then(|r| match r.outcome.as_str() {
             "confirmed" => Some(true),

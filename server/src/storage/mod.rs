@@ -132,8 +132,12 @@ impl Db {
     /// nothing that the statistics read has been committed since. Never
     /// blocks on a running write: that write moves the stamp when it commits.
     pub fn fact_stamp(&self) -> FactStamp {
-        if let Ok(conn) = self.writer.try_lock() {
-            self.note_other_writers(&conn);
+        match self.writer.try_lock() {
+            Ok(conn) => self.note_other_writers(&conn),
+            Err(std::sync::TryLockError::Poisoned(p)) => self.note_other_writers(&p.into_inner()),
+            // A write is running: it looks again once it holds SQLite's
+            // write lock, and moves the stamp when it commits.
+            Err(std::sync::TryLockError::WouldBlock) => {}
         }
         FactStamp(self.generation.load(Ordering::Acquire))
     }
@@ -159,6 +163,8 @@ impl Db {
         let mut conn = self.writer.lock().unwrap_or_else(|p| p.into_inner());
         self.note_other_writers(&conn);
         let tx = conn.transaction_with_behavior(TransactionBehavior::Immediate)?;
+        // Another process may have committed while BEGIN waited for it.
+        self.note_other_writers(&tx);
         let wrapped = Tx { tx };
         let out = f(&wrapped)?;
         wrapped.tx.commit()?;
@@ -169,8 +175,11 @@ impl Db {
     /// [`Db::write`] for bookkeeping that no statistic reads (sessions,
     /// login attempts, accounts, tokens, upload progress): the fact stamp
     /// stays, so a session touch does not make every cached figure stale.
-    /// Should `f` change a row of any other table after all, the stamp
-    /// moves as for [`Db::write`].
+    /// Should `f` change a row of any other rowid table after all, the stamp
+    /// moves as for [`Db::write`]. SQLite's update hook does not see WITHOUT
+    /// ROWID tables (`event_zones`, `bundle_items`, `report_photos`,
+    /// `photo_checks`, `report_results`): those are written only through
+    /// [`Db::write`].
     pub fn write_bookkeeping<T>(&self, f: impl FnOnce(&Tx<'_>) -> Result<T>) -> Result<T> {
         let mut conn = self.writer.lock().unwrap_or_else(|p| p.into_inner());
         self.note_other_writers(&conn);
@@ -185,6 +194,7 @@ impl Db {
         ))?;
         let out = (|| {
             let tx = conn.transaction_with_behavior(TransactionBehavior::Immediate)?;
+            self.note_other_writers(&tx);
             let wrapped = Tx { tx };
             let out = f(&wrapped)?;
             wrapped.tx.commit()?;
