@@ -506,6 +506,95 @@ mod tests {
         }
     }
 
+    const CONTROL_BUNDLE: &str = "00000000-0000-4000-8000-0000000000c1";
+
+    /// An assessment trip in zone "North" with one control point, C001.
+    fn control_trip(tx: &Tx<'_>, team: &crate::storage::Team) {
+        tx.upsert_zone(
+            "North",
+            false,
+            "{\"type\":\"Polygon\",\"coordinates\":[[[0,0],[0.1,0],[0.1,0.1],[0,0.1],[0,0]]]}",
+            (0.0, 0.0, 0.1, 0.1),
+        )
+        .unwrap();
+        let items = [BundleItem {
+            visit_order: 0,
+            code: "C001".into(),
+            kind: "control".into(),
+            event_id: None,
+            lon: 0.05,
+            lat: 0.05,
+            stratum: Some("control".into()),
+            stratum_population: None,
+            inclusion_probability: None,
+        }];
+        tx.insert_bundle(&NewBundle {
+            id: CONTROL_BUNDLE,
+            team_id: team.id,
+            mode: "assessment",
+            issued_at: "2025-08-02T08:00:00Z",
+            due_at: "2025-08-16T08:00:00Z",
+            expires_at: "2025-10-01T08:00:00Z",
+            seed: Some(1),
+            margin: None,
+            selection: "{\"zone\":\"North\"}",
+            start: (0.0, 0.0),
+            route_m: 1000.0,
+            upload_key_id: CONTROL_BUNDLE,
+            upload_key: &[7; 32],
+            file_name: "c.zip",
+            file_sha256: &"0".repeat(64),
+            file_size: 1,
+            items: &items,
+        })
+        .unwrap();
+    }
+
+    /// One return holding one report on control point C001.
+    fn control_report(tx: &Tx<'_>, team: &str, report_id: &str, outcome: &str) {
+        let return_id = tx
+            .insert_return(&ReturnRecord {
+                id: 0,
+                bundle_id: CONTROL_BUNDLE.into(),
+                sha256: format!("{:e>64}", &report_id[..8]),
+                size: 1,
+                team: team.into(),
+                received_at: "2025-08-10T12:00:00Z".into(),
+                path: format!("returns/{report_id}.zip"),
+            })
+            .unwrap();
+        tx.insert_report(
+            &ReportRow {
+                report_id: report_id.into(),
+                bundle_id: CONTROL_BUNDLE.into(),
+                event_id: None,
+                control_code: Some("C001".into()),
+                kind: "control".into(),
+                supersedes: None,
+                outcome: outcome.into(),
+                reason: (outcome == "false_alarm").then(|| "no_change".into()),
+                cause: None,
+                lat: Some(0.05),
+                lon: Some(0.05),
+                accuracy_m: Some(5.0),
+                position_source: Some("gnss".into()),
+                distance_m: Some(3.0),
+                // The same time on both reports: the report id decides.
+                observed_at: "2025-08-04T10:00:00Z".into(),
+                recorded_at: "2025-08-04T10:00:00Z".into(),
+                received_at: "2025-08-10T12:00:00Z".into(),
+                area_ha: None,
+                notes: String::new(),
+                team: team.into(),
+                evidence_ok: true,
+                flags: Vec::new(),
+                return_id,
+            },
+            "0",
+        )
+        .unwrap();
+    }
+
     /// Every figure of the unfiltered selection, as JSON.
     fn figures_json(facts: &Facts) -> String {
         let l = prepare(facts, &StatsFilter::default());
@@ -533,6 +622,14 @@ mod tests {
                     &team,
                     &[(a, "confirmed"), (b, "confirmed")],
                 );
+                // A control point: the report with the larger id comes first.
+                control_trip(tx, &team);
+                control_report(
+                    tx,
+                    "Team One",
+                    "ffffffff-0000-4000-8000-000000000001",
+                    "confirmed",
+                );
                 Ok((a, b, c))
             })
             .unwrap();
@@ -548,6 +645,14 @@ mod tests {
                 &team,
                 &[(b, "false_alarm"), (c, "confirmed")],
             );
+            // A second report on the control point, at the same time, with
+            // a smaller id: read afresh it comes first, read on it comes last.
+            control_report(
+                tx,
+                "Team Two",
+                "00000000-ffff-4000-8000-000000000001",
+                "false_alarm",
+            );
             tx.mark_merged(&[c], b)?;
             tx.add_adjudication(a, "false_alarm", "a later image shows forest", "Manager")?;
             Ok(())
@@ -560,6 +665,12 @@ mod tests {
             on.reports.iter().filter(|r| r.event_id == b).count(),
             3,
             "the report on the merged event follows the merge"
+        );
+        assert_eq!(on.controls.len(), 1);
+        assert_eq!(
+            on.controls[0].1.found_clearing,
+            Some(true),
+            "equal times: the larger report id is the latest, in either reading"
         );
         assert_eq!(figures_json(&on), figures_json(&fresh));
         assert_eq!(on.statuses, fresh.statuses);
