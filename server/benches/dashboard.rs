@@ -91,6 +91,22 @@ struct Made {
     adjudications: usize,
 }
 
+/// The `k`-th stop (from 0) of a response trip: event `event_id` at
+/// `(lon, lat)`.
+fn response_item(k: usize, event_id: i64, (lon, lat): (f64, f64)) -> BundleItem {
+    BundleItem {
+        visit_order: k as u32,
+        code: format!("E{:03}", k + 1),
+        kind: "event".into(),
+        event_id: Some(event_id),
+        lon,
+        lat,
+        stratum: None,
+        stratum_population: None,
+        inclusion_probability: None,
+    }
+}
+
 /// One generated trip: its bundle, return and reports, written through `tx`.
 struct Trip<'a> {
     team_id: i64,
@@ -288,17 +304,7 @@ fn generate(db: &Db, n_events: usize, n_reports: usize) -> groundproof::Result<M
                     let n = rng.random_range(2..=10usize).min(left);
                     left -= n;
                     counts.push(n);
-                    BundleItem {
-                        visit_order: k as u32,
-                        code: format!("E{:03}", k + 1),
-                        kind: "event".into(),
-                        event_id: Some(ids[i]),
-                        lon: positions[i].0,
-                        lat: positions[i].1,
-                        stratum: None,
-                        stratum_population: None,
-                        inclusion_probability: None,
-                    }
+                    response_item(k, ids[i], positions[i])
                 })
                 .collect();
             let trip = Trip { team_id: team.id, team: &team.name, mode: "response", issued, items };
@@ -371,17 +377,7 @@ fn add_one_return(db: &Db) -> groundproof::Result<usize> {
         let teams = tx.reader().teams()?;
         let team = teams.first().expect("the bench made teams");
         let items: Vec<BundleItem> = (1..=TRIP_EVENTS as i64)
-            .map(|id| BundleItem {
-                visit_order: id as u32,
-                code: format!("E{id:03}"),
-                kind: "event".into(),
-                event_id: Some(id),
-                lon: -59.5,
-                lat: -9.5,
-                stratum: None,
-                stratum_population: None,
-                inclusion_probability: None,
-            })
+            .map(|id| response_item(id as usize - 1, id, (-59.5, -9.5)))
             .collect();
         let issued = Utc
             .with_ymd_and_hms(2026, 11, 1, 8, 0, 0)

@@ -183,21 +183,26 @@ pub fn read_facts_after(db: &Db, window_days: u32, previous: Option<Facts>) -> R
         let merges = r.merge_map()?;
         let live = |id: i64| merges.get(&id).copied().unwrap_or(id);
         let (count, max_rowid) = r.report_extent()?;
-        let mut scan = match earlier {
-            Some(s) if s.rows > 0 && s.rows <= count && s.max_rowid <= max_rowid => {
-                let mut s = s;
+        let read_on = match earlier {
+            Some(mut s) if s.rows > 0 && s.rows <= count && s.max_rowid <= max_rowid => {
                 r.each_stats_report_after(Some(s.max_rowid), |row| s.add(row, live))?;
+                Some(s).filter(|s| s.rows == count)
+            }
+            _ => None,
+        };
+        let scan = match read_on {
+            Some(mut s) => {
+                s.follow(merges.clone());
                 s
             }
-            _ => ReportScan::default(),
-        };
-        if scan.rows != count {
             // Not only additions (or nothing kept): read every report.
-            scan = ReportScan::default();
-            r.each_stats_report(|row| scan.add(row, live))?;
-            scan.merges = merges.clone();
-        }
-        scan.follow(merges.clone());
+            None => {
+                let mut s = ReportScan::default();
+                r.each_stats_report(|row| s.add(row, live))?;
+                s.merges = merges.clone();
+                s
+            }
+        };
         let adjudications: Vec<Adjudication> = r
             .adjudications()?
             .iter()
@@ -425,6 +430,35 @@ mod tests {
         .unwrap()
     }
 
+    /// A report on no event yet, observed (and recorded) at `observed`.
+    fn visit(bundle: &str, team: &str, return_id: i64, outcome: &str, observed: &str) -> ReportRow {
+        ReportRow {
+            report_id: uuid::Uuid::new_v4().to_string(),
+            bundle_id: bundle.into(),
+            event_id: None,
+            control_code: None,
+            kind: "event".into(),
+            supersedes: None,
+            outcome: outcome.into(),
+            reason: (outcome == "false_alarm").then(|| "no_change".into()),
+            cause: None,
+            lat: Some(0.0),
+            lon: Some(0.0),
+            accuracy_m: Some(5.0),
+            position_source: Some("gnss".into()),
+            distance_m: Some(3.0),
+            observed_at: observed.into(),
+            recorded_at: observed.into(),
+            received_at: "2025-08-10T12:00:00Z".into(),
+            area_ha: None,
+            notes: String::new(),
+            team: team.into(),
+            evidence_ok: true,
+            flags: Vec::new(),
+            return_id,
+        }
+    }
+
     /// One trip to `events`, its return, and one report per (event, outcome).
     fn trip(tx: &Tx<'_>, id: &str, team: &crate::storage::Team, visits: &[(i64, &str)]) {
         let items: Vec<BundleItem> = visits
@@ -474,35 +508,12 @@ mod tests {
             })
             .unwrap();
         for (k, &(e, outcome)) in visits.iter().enumerate() {
-            tx.insert_report(
-                &ReportRow {
-                    report_id: uuid::Uuid::new_v4().to_string(),
-                    bundle_id: id.into(),
-                    event_id: Some(e),
-                    control_code: None,
-                    kind: "event".into(),
-                    supersedes: None,
-                    outcome: outcome.into(),
-                    reason: (outcome == "false_alarm").then(|| "no_change".into()),
-                    cause: None,
-                    lat: Some(0.0),
-                    lon: Some(0.0),
-                    accuracy_m: Some(5.0),
-                    position_source: Some("gnss".into()),
-                    distance_m: Some(3.0),
-                    observed_at: format!("2025-08-0{}T10:00:00Z", 3 + k % 5),
-                    recorded_at: "2025-08-03T10:00:00Z".into(),
-                    received_at: "2025-08-10T12:00:00Z".into(),
-                    area_ha: None,
-                    notes: String::new(),
-                    team: team.name.clone(),
-                    evidence_ok: true,
-                    flags: Vec::new(),
-                    return_id,
-                },
-                "0",
-            )
-            .unwrap();
+            let observed = format!("2025-08-0{}T10:00:00Z", 3 + k % 5);
+            let row = ReportRow {
+                event_id: Some(e),
+                ..visit(id, &team.name, return_id, outcome, &observed)
+            };
+            tx.insert_report(&row, "0").unwrap();
         }
     }
 
@@ -563,36 +574,22 @@ mod tests {
                 path: format!("returns/{report_id}.zip"),
             })
             .unwrap();
-        tx.insert_report(
-            &ReportRow {
-                report_id: report_id.into(),
-                bundle_id: CONTROL_BUNDLE.into(),
-                event_id: None,
-                control_code: Some("C001".into()),
-                kind: "control".into(),
-                supersedes: None,
-                outcome: outcome.into(),
-                reason: (outcome == "false_alarm").then(|| "no_change".into()),
-                cause: None,
-                lat: Some(0.05),
-                lon: Some(0.05),
-                accuracy_m: Some(5.0),
-                position_source: Some("gnss".into()),
-                distance_m: Some(3.0),
-                // The same time on both reports: the report id decides.
-                observed_at: "2025-08-04T10:00:00Z".into(),
-                recorded_at: "2025-08-04T10:00:00Z".into(),
-                received_at: "2025-08-10T12:00:00Z".into(),
-                area_ha: None,
-                notes: String::new(),
-                team: team.into(),
-                evidence_ok: true,
-                flags: Vec::new(),
+        // The same time on both reports: the report id decides.
+        let row = ReportRow {
+            report_id: report_id.into(),
+            control_code: Some("C001".into()),
+            kind: "control".into(),
+            lat: Some(0.05),
+            lon: Some(0.05),
+            ..visit(
+                CONTROL_BUNDLE,
+                team,
                 return_id,
-            },
-            "0",
-        )
-        .unwrap();
+                outcome,
+                "2025-08-04T10:00:00Z",
+            )
+        };
+        tx.insert_report(&row, "0").unwrap();
     }
 
     /// Every figure of the unfiltered selection, as JSON.

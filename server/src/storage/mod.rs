@@ -161,14 +161,26 @@ impl Db {
     /// stamp cannot have read the new facts under it).
     pub fn write<T>(&self, f: impl FnOnce(&Tx<'_>) -> Result<T>) -> Result<T> {
         let mut conn = self.writer.lock().unwrap_or_else(|p| p.into_inner());
-        self.note_other_writers(&conn);
+        let out = self.transact(&mut conn, f)?;
+        self.generation.fetch_add(1, Ordering::AcqRel);
+        Ok(out)
+    }
+
+    /// `f` in one `BEGIN IMMEDIATE` transaction on the locked writer,
+    /// committed when it returns `Ok`; other processes' commits are noted
+    /// before and once BEGIN holds SQLite's write lock (BEGIN may have
+    /// waited for one).
+    fn transact<T>(
+        &self,
+        conn: &mut Connection,
+        f: impl FnOnce(&Tx<'_>) -> Result<T>,
+    ) -> Result<T> {
+        self.note_other_writers(conn);
         let tx = conn.transaction_with_behavior(TransactionBehavior::Immediate)?;
-        // Another process may have committed while BEGIN waited for it.
         self.note_other_writers(&tx);
         let wrapped = Tx { tx };
         let out = f(&wrapped)?;
         wrapped.tx.commit()?;
-        self.generation.fetch_add(1, Ordering::AcqRel);
         Ok(out)
     }
 
@@ -182,7 +194,6 @@ impl Db {
     /// [`Db::write`].
     pub fn write_bookkeeping<T>(&self, f: impl FnOnce(&Tx<'_>) -> Result<T>) -> Result<T> {
         let mut conn = self.writer.lock().unwrap_or_else(|p| p.into_inner());
-        self.note_other_writers(&conn);
         let strayed = Arc::new(AtomicBool::new(false));
         let flag = Arc::clone(&strayed);
         conn.update_hook(Some(
@@ -192,14 +203,7 @@ impl Db {
                 }
             },
         ))?;
-        let out = (|| {
-            let tx = conn.transaction_with_behavior(TransactionBehavior::Immediate)?;
-            self.note_other_writers(&tx);
-            let wrapped = Tx { tx };
-            let out = f(&wrapped)?;
-            wrapped.tx.commit()?;
-            Ok(out)
-        })();
+        let out = self.transact(&mut conn, f);
         conn.update_hook(None::<fn(rusqlite::hooks::Action, &str, &str, i64)>)?;
         if strayed.load(Ordering::Acquire) {
             self.generation.fetch_add(1, Ordering::AcqRel);

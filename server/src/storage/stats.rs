@@ -300,24 +300,18 @@ impl Reader<'_> {
         if !self.has_reports_table()? {
             return Ok(());
         }
-        const COLUMNS: &str =
-            "rowid, report_id, bundle_id, event_id, control_code, kind, supersedes,
-                    outcome, reason, cause, observed_at, received_at, evidence_ok, team";
-        let (sql, from) = match after {
-            None => (
-                format!("SELECT {COLUMNS} FROM reports ORDER BY report_id"),
-                i64::MIN,
-            ),
-            Some(a) => (
-                format!("SELECT {COLUMNS} FROM reports WHERE rowid > ?1 ORDER BY rowid"),
-                a,
-            ),
-        };
-        let mut st = self.conn.prepare_cached(&sql)?;
-        let mut rows = if after.is_some() {
-            st.query([from])?
-        } else {
-            st.query([])?
+        const ALL: &str = "SELECT rowid, report_id, bundle_id, event_id, control_code, kind,
+                supersedes, outcome, reason, cause, observed_at, received_at, evidence_ok, team
+             FROM reports ORDER BY report_id";
+        const AFTER: &str = "SELECT rowid, report_id, bundle_id, event_id, control_code, kind,
+                supersedes, outcome, reason, cause, observed_at, received_at, evidence_ok, team
+             FROM reports WHERE rowid > ?1 ORDER BY rowid";
+        let mut st = self
+            .conn
+            .prepare_cached(if after.is_some() { AFTER } else { ALL })?;
+        let mut rows = match after {
+            None => st.query([])?,
+            Some(a) => st.query([a])?,
         };
         while let Some(r) = rows.next()? {
             f(StatsReportRef {
