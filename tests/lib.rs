@@ -3,8 +3,8 @@
 //! directory, and a small HTTP client that never treats a status as an
 //! error (tests assert on statuses).
 
-use groundproof::settings::Settings;
-use groundproof::storage::Db;
+use groundproof::platform::settings::Settings;
+use groundproof::platform::storage::Db;
 use groundproof::web::{self, AppState};
 use std::net::{SocketAddr, TcpListener};
 use std::path::{Path, PathBuf};
@@ -36,11 +36,11 @@ impl TestServer {
             });
         });
         let handle = rx.recv().expect("server started");
-        let (_, token) = groundproof::auth::issue_api_token(
+        let (_, token) = groundproof::platform::auth::issue_api_token(
             &db,
-            groundproof::auth::Role::Admin,
+            groundproof::platform::auth::Role::Admin,
             "end-to-end tests",
-            groundproof::auth::now_unix(),
+            groundproof::platform::auth::now_unix(),
         )
         .expect("admin token");
         tokens()

@@ -11,9 +11,9 @@
 mod common;
 use common::peak_rss_mb;
 use groundproof::domain::{Day, LonLat};
-use groundproof::settings::Settings;
-use groundproof::storage::Db;
-use groundproof::trips::{TripRequest, issue_bundle};
+use groundproof::planning::{TripRequest, issue_bundle};
+use groundproof::platform::settings::Settings;
+use groundproof::platform::storage::Db;
 use std::time::Instant;
 
 fn main() {

@@ -25,10 +25,14 @@
 mod common;
 use chrono::{DateTime, Duration, TimeZone, Utc};
 use common::peak_rss_mb;
-use groundproof::dashboard::{DISPUTE_WINDOW_DAYS, StatsCache, StatsFilter, figures_of, load};
 use groundproof::domain::{Confidence, Day};
-use groundproof::figures::FigureOptions;
-use groundproof::storage::{BundleItem, Db, EventWrite, NewBundle, ReportRow, ReturnRecord, Tx};
+use groundproof::platform::storage::{
+    BundleItem, Db, EventWrite, NewBundle, ReportRow, ReturnRecord, Tx,
+};
+use groundproof::statistics::figures::FigureOptions;
+use groundproof::statistics::kept::{
+    DISPUTE_WINDOW_DAYS, StatsCache, StatsFilter, figures_of, load,
+};
 use rand::{RngExt, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use std::collections::BTreeMap;
@@ -401,7 +405,7 @@ fn over_http(
     data_dir: &std::path::Path,
     runs: usize,
 ) -> Vec<(&'static str, Vec<f64>, usize)> {
-    use groundproof::auth::{Role, issue_api_token, now_unix};
+    use groundproof::platform::auth::{Role, issue_api_token, now_unix};
     use groundproof::web::{AppState, run};
     let (_, token) = issue_api_token(db, Role::Manager, "bench", now_unix()).expect("token");
     let listener = std::net::TcpListener::bind("127.0.0.1:0").expect("loopback");
@@ -409,7 +413,7 @@ fn over_http(
     let state = AppState::new(
         db.clone(),
         data_dir.to_path_buf(),
-        groundproof::settings::Settings::default(),
+        groundproof::platform::settings::Settings::default(),
     );
     let (tx, rx) = std::sync::mpsc::channel();
     std::thread::spawn(move || {

@@ -16,12 +16,12 @@
 
 mod common;
 use common::peak_rss_mb;
-use groundproof::cluster::link::link;
-use groundproof::cluster::{LinkPoint, LinkRule};
+use groundproof::alerts::cluster::link::link;
+use groundproof::alerts::cluster::{LinkPoint, LinkRule};
+use groundproof::alerts::events::{ClusterSettings, ImportRequest, import_alerts};
+use groundproof::alerts::import::{Format, ReadOptions};
 use groundproof::domain::SourceName;
-use groundproof::events::{ClusterSettings, ImportRequest, import_alerts};
-use groundproof::import::{Format, ReadOptions};
-use groundproof::storage::Db;
+use groundproof::platform::storage::Db;
 use std::io::Write;
 use std::time::Instant;
 

@@ -20,9 +20,9 @@ mod common;
 use common::{peak_rss_mb, status_mb};
 use groundproof::domain::LonLat;
 use groundproof::intake::{IntakeOptions, take_in};
-use groundproof::settings::Settings;
-use groundproof::storage::Db;
-use groundproof::trips::{TripRequest, issue_bundle};
+use groundproof::planning::{TripRequest, issue_bundle};
+use groundproof::platform::settings::Settings;
+use groundproof::platform::storage::Db;
 use sha2::{Digest, Sha256};
 use std::time::Instant;
 

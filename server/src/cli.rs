@@ -2,11 +2,11 @@
 
 use anyhow::{Context, Result, bail};
 use clap::{Args, Parser, Subcommand};
+use groundproof::alerts::events::{ImportRequest, import_alerts, import_zones, ranked_events};
+use groundproof::alerts::import::{Format, ReadOptions};
 use groundproof::domain::{ConfidenceMap, Day, SourceName, ZoneName};
-use groundproof::events::{ImportRequest, import_alerts, import_zones, ranked_events};
-use groundproof::import::{Format, ReadOptions};
-use groundproof::settings::Settings;
-use groundproof::storage::{Db, EventFilter};
+use groundproof::platform::settings::Settings;
+use groundproof::platform::storage::{Db, EventFilter};
 use groundproof::{Error, demo, web};
 use std::net::TcpListener;
 use std::path::{Path, PathBuf};
@@ -328,7 +328,7 @@ pub fn run() -> Result<ExitCode> {
                 data,
             } => {
                 let name = SourceName::parse(&name).map_err(Error::Invalid)?;
-                groundproof::events::validate_source(pixel_size, revisit_days)?;
+                groundproof::alerts::events::validate_source(pixel_size, revisit_days)?;
                 let (db, _) = open(&data.data)?;
                 let s = db.write(|tx| tx.add_source(name.as_str(), pixel_size, revisit_days))?;
                 println!(
@@ -382,7 +382,9 @@ pub fn run() -> Result<ExitCode> {
                 let events = ranked_events(&db, &filter, &settings.priority, Day::today())?;
                 println!(
                     "{}",
-                    serde_json::to_string_pretty(&groundproof::events::events_collection(&events))?
+                    serde_json::to_string_pretty(&groundproof::alerts::events::events_collection(
+                        &events
+                    ))?
                 );
             }
         },
@@ -403,13 +405,13 @@ pub fn run() -> Result<ExitCode> {
         },
         Command::User { command } => match command {
             UserCommand::Add { name, role, data } => {
-                let role: groundproof::auth::Role = role.parse()?;
+                let role: groundproof::platform::auth::Role = role.parse()?;
                 let password = match std::env::var("GROUNDPROOF_PASSWORD") {
                     Ok(p) => p,
                     Err(_) => {
                         eprint!(
                             "password for {name} (at least {} characters): ",
-                            groundproof::auth::MIN_PASSWORD_CHARS
+                            groundproof::platform::auth::MIN_PASSWORD_CHARS
                         );
                         let mut line = String::new();
                         std::io::stdin().read_line(&mut line)?;
@@ -417,12 +419,12 @@ pub fn run() -> Result<ExitCode> {
                     }
                 };
                 let (db, _) = open(&data.data)?;
-                let u = groundproof::auth::create_user(
+                let u = groundproof::platform::auth::create_user(
                     &db,
                     &name,
                     role,
                     &password,
-                    groundproof::auth::now_unix(),
+                    groundproof::platform::auth::now_unix(),
                 )?;
                 println!("user '{}' added with role {}", u.name, role);
             }
@@ -435,16 +437,17 @@ pub fn run() -> Result<ExitCode> {
                 data,
             } => {
                 let (db, _) = open(&data.data)?;
-                let now = groundproof::auth::now_unix();
+                let now = groundproof::platform::auth::now_unix();
                 let token = match (role, team) {
                     (Some(r), None) => {
-                        groundproof::auth::issue_api_token(&db, r.parse()?, &label, now)?.1
+                        groundproof::platform::auth::issue_api_token(&db, r.parse()?, &label, now)?
+                            .1
                     }
                     (None, Some(t)) => {
                         if db.read(|r| r.team_by_name(&t))?.is_none() {
                             bail!("unknown team '{t}': add it first (groundproof team add)");
                         }
-                        groundproof::auth::issue_team_token(&db, &t, now)?.1
+                        groundproof::platform::auth::issue_team_token(&db, &t, now)?.1
                     }
                     _ => bail!("give --role R for an API token or --team T for a team token"),
                 };
@@ -470,7 +473,7 @@ pub fn run() -> Result<ExitCode> {
             }
             BundleCommand::Cancel { id, data } => {
                 let (db, _) = open(&data.data)?;
-                groundproof::trips::cancel_bundle(&db, id.trim())?;
+                groundproof::planning::cancel_bundle(&db, id.trim())?;
                 println!("bundle {id} cancelled; its upload key is revoked");
             }
         },
@@ -498,7 +501,7 @@ fn issue(a: IssueArgs) -> Result<()> {
     });
     let req = web::api::bundles::trip_request(serde_json::from_value(body)?)?;
     let (db, settings) = open(&a.data.data)?;
-    let out = groundproof::trips::issue_bundle(&db, &a.data.data, &settings, &req)?;
+    let out = groundproof::planning::issue_bundle(&db, &a.data.data, &settings, &req)?;
     if let Some(o) = &a.out {
         std::fs::copy(&out.path, o)
             .with_context(|| format!("copying the bundle to {}", o.display()))?;
@@ -636,18 +639,18 @@ fn serve(db: Db, settings: Settings, data_dir: &Path, bind: &str) -> Result<()> 
     let cleaned = groundproof::intake::cleanup(&db, data_dir)
         .map_err(|e| anyhow::anyhow!("cleaning up after a crash: {e}"))?;
     tracing::info!(?cleaned, "start-up cleanup done");
-    match groundproof::auth::ensure_first_admin(
+    match groundproof::platform::auth::ensure_first_admin(
         &db,
-        groundproof::auth::admin_password_from_env().as_deref(),
-        groundproof::auth::now_unix(),
+        groundproof::platform::auth::admin_password_from_env().as_deref(),
+        groundproof::platform::auth::now_unix(),
     )? {
-        groundproof::auth::FirstAdmin::Created {
+        groundproof::platform::auth::FirstAdmin::Created {
             name,
             generated_password: Some(p),
         } => {
             println!("first run: created user '{name}' with password {p}  (shown once; change it)");
         }
-        groundproof::auth::FirstAdmin::Created {
+        groundproof::platform::auth::FirstAdmin::Created {
             name,
             generated_password: None,
         } => {
@@ -655,7 +658,7 @@ fn serve(db: Db, settings: Settings, data_dir: &Path, bind: &str) -> Result<()> 
                 "first run: created user '{name}' with the password from GROUNDPROOF_ADMIN_PASSWORD"
             );
         }
-        groundproof::auth::FirstAdmin::AlreadySetUp => {}
+        groundproof::platform::auth::FirstAdmin::AlreadySetUp => {}
     }
     let listener = TcpListener::bind(bind).with_context(|| format!("binding {bind}"))?;
     let addr = listener.local_addr()?;

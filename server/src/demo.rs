@@ -1,14 +1,14 @@
 //! The demo: the invented scenario of `mock-patrols` loaded through the
 //! same import code a coordinator uses.
 
+use crate::alerts::events::{ImportRequest, import_alerts, import_zones};
+use crate::alerts::import::{Format, ReadOptions};
 use crate::domain::{ConfidenceMap, SourceName};
 use crate::domain::{Day, LonLat};
 use crate::error::{Error, Result};
-use crate::events::{ImportRequest, import_alerts, import_zones};
-use crate::import::{Format, ReadOptions};
-use crate::settings::Settings;
-use crate::storage::Db;
-use crate::trips::{Mode, TripRequest, issue_bundle};
+use crate::planning::{Mode, TripRequest, issue_bundle};
+use crate::platform::settings::Settings;
+use crate::platform::storage::Db;
 use std::fmt;
 use std::path::{Path, PathBuf};
 
@@ -16,16 +16,20 @@ use std::path::{Path, PathBuf};
 pub const DEMO_SEED: u64 = 42;
 
 /// The demo's logins (invented; for the demo only, never for real data).
-pub const DEMO_LOGINS: &[(&str, crate::auth::Role, &str)] = &[
-    ("admin", crate::auth::Role::Admin, "demo-admin-password"),
+pub const DEMO_LOGINS: &[(&str, crate::platform::auth::Role, &str)] = &[
+    (
+        "admin",
+        crate::platform::auth::Role::Admin,
+        "demo-admin-password",
+    ),
     (
         "coordinator",
-        crate::auth::Role::Coordinator,
+        crate::platform::auth::Role::Coordinator,
         "demo-coordinator-password",
     ),
     (
         "manager",
-        crate::auth::Role::Manager,
+        crate::platform::auth::Role::Manager,
         "demo-manager-password",
     ),
 ];
@@ -107,9 +111,9 @@ pub fn load(db: &Db, data_dir: &Path, settings: &Settings) -> Result<DemoSummary
     for t in &scenario.teams {
         db.write(|tx| tx.add_team(t))?;
     }
-    let now = crate::auth::now_unix();
+    let now = crate::platform::auth::now_unix();
     for (name, role, password) in DEMO_LOGINS {
-        crate::auth::create_user(db, name, *role, password, now)?;
+        crate::platform::auth::create_user(db, name, *role, password, now)?;
     }
     let (live_events, merged_events) = db.read(|r| r.event_counts())?;
     let start = LonLat::new(scenario.station.0, scenario.station.1).map_err(Error::Invalid)?;
@@ -172,7 +176,8 @@ pub fn run_trips(
 ) -> Result<Vec<String>> {
     let mut lines = Vec::new();
     for (i, (team, mode, _, _, bundle)) in summary.bundles.iter().enumerate() {
-        let (_, token) = crate::auth::issue_team_token(db, team, crate::auth::now_unix())?;
+        let (_, token) =
+            crate::platform::auth::issue_team_token(db, team, crate::platform::auth::now_unix())?;
         let plan = mock_patrols::field::TripPlan {
             disputed_pair: i == 0,
             ..Default::default()

@@ -2,7 +2,7 @@
 //! the user: a client fault (bad input, unknown name, conflict) or an
 //! unexpected failure of the machine (database, disk).
 
-use crate::import::ImportFailure;
+use crate::alerts::import::ImportFailure;
 
 /// Everything that can go wrong in the server library.
 #[derive(Debug, thiserror::Error)]

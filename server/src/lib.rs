@@ -1,32 +1,31 @@
-//! Groundproof office server: alert import, clearing events, and the HTTP
-//! API. The binary (`main.rs`) is a thin command line over this library.
+//! Groundproof office server. The binary (`main.rs`, `cli.rs`) is a thin
+//! command line over this library.
 //!
-//! Data flows one way: `import` parses files into validated alerts,
-//! `events` keeps clearing events in step with them using the pure
-//! `cluster` functions, `storage` is the only module that speaks SQL, and
-//! `web` is the only module that knows HTTP.
+//! The modules below follow the data flow, one way:
+//!
+//! ```text
+//! alerts ─▶ planning ─▶ (bundle to the field) ─▶ intake ─▶ reconcile ─▶ statistics ─▶ web
+//!                  all of them stand on: platform (storage, auth, settings, durable files)
+//!                                        domain   (the typed vocabulary)
+//! ```
+//!
+//! Which module may import which is written down in DEVELOPERS.md and
+//! checked by `server/tests/layers.rs`.
 
-pub mod auth;
-pub mod charts;
-pub mod cluster;
-pub mod coords;
-pub mod dashboard;
-pub mod demo;
+// The typed vocabulary and the layer every step stands on.
 pub mod domain;
 pub mod error;
-pub mod events;
-pub mod figures;
-pub mod files;
-pub mod geodesy;
-pub mod import;
+pub mod platform;
+
+// The data flow, in order.
+pub mod alerts;
 pub mod intake;
-pub mod plan;
+pub mod planning;
 pub mod reconcile;
-pub mod settings;
-pub mod sheet;
-pub mod stats;
-pub mod storage;
-pub mod trips;
+pub mod statistics;
 pub mod web;
+
+// Entry points.
+pub mod demo;
 
 pub use error::{Error, Result};

@@ -10,9 +10,9 @@
 //!   (geographiclib-rs 0.2.7) on every pair closer than 30 m: no pair flips.
 
 use geographiclib_rs::{Geodesic, InverseGeodesic};
-use groundproof::cluster::link::link;
-use groundproof::cluster::{LinkPoint, LinkRule};
-use groundproof::geodesy::haversine_m;
+use groundproof::alerts::cluster::link::link;
+use groundproof::alerts::cluster::{LinkPoint, LinkRule};
+use groundproof::domain::geodesy::haversine_m;
 
 fn fixture(name: &str) -> String {
     let path = concat!(env!("CARGO_MANIFEST_DIR"), "/../tests/reference/dbscan/");
@@ -109,7 +109,7 @@ fn link_decisions_agree_with_ellipsoidal_geodesic() {
 fn square_pixel_lattice_agrees_with_ellipsoidal_geodesic() {
     let g = Geodesic::wgs84();
     for lat0 in [0.0, 60.0] {
-        let (dlon, dlat) = groundproof::geodesy::pixel_half_extent_deg(lat0, 10.0);
+        let (dlon, dlat) = groundproof::domain::geodesy::pixel_half_extent_deg(lat0, 10.0);
         let mut pts = Vec::new();
         for i in 0..12 {
             for j in 0..12 {

@@ -2,12 +2,12 @@
 //! data directory.
 
 use groundproof::Error;
-use groundproof::domain::SourceName;
-use groundproof::events::{
+use groundproof::alerts::events::{
     ClusterSettings, ImportOutcome, ImportRequest, import_alerts, import_zones,
 };
-use groundproof::import::{Format, ReadOptions};
-use groundproof::storage::{Db, EventFilter};
+use groundproof::alerts::import::{Format, ReadOptions};
+use groundproof::domain::SourceName;
+use groundproof::platform::storage::{Db, EventFilter};
 use std::collections::BTreeSet;
 
 const G: f64 = 0.00009; // the 10 m grid of the test source, in degrees

@@ -27,7 +27,7 @@
 mod webdriver;
 
 use groundproof::demo::{DEMO_LOGINS, load, run_trips};
-use groundproof::settings::Settings;
+use groundproof::platform::settings::Settings;
 use groundproof_e2e::TestServer;
 use std::path::{Path, PathBuf};
 use webdriver::Browser;

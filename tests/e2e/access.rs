@@ -1,6 +1,6 @@
 //! The access matrix of the README, route by route, over HTTP.
 
-use groundproof::auth::{Role, issue_api_token, issue_team_token, now_unix};
+use groundproof::platform::auth::{Role, issue_api_token, issue_team_token, now_unix};
 use groundproof_e2e::{TestServer, anonymous_get, get_as, load_scenario, post_json, post_json_as};
 use serde_json::json;
 

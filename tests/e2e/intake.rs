@@ -5,7 +5,7 @@
 //! of the real binary during intake.
 
 use groundproof::intake::files::{photo_path, thumb_path};
-use groundproof::storage::{Db, ReportRow};
+use groundproof::platform::storage::{Db, ReportRow};
 use groundproof_e2e::{TestServer, get, get_bytes, load_scenario, post_bytes, post_json};
 use groundproof_sync::client::{PushOptions, push};
 use groundproof_sync::field::Snapshot;

@@ -77,10 +77,16 @@ fn no_follow(s: &TestServer, method: &str, path: &str, form: &str) -> (u16, Stri
 }
 
 /// Log in through the login form; the `gp_session` cookie pair.
-fn login(s: &TestServer, name: &str, role: groundproof::auth::Role) -> String {
+fn login(s: &TestServer, name: &str, role: groundproof::platform::auth::Role) -> String {
     let password = "a long test password, 2026";
-    groundproof::auth::create_user(&s.db, name, role, password, groundproof::auth::now_unix())
-        .expect("user");
+    groundproof::platform::auth::create_user(
+        &s.db,
+        name,
+        role,
+        password,
+        groundproof::platform::auth::now_unix(),
+    )
+    .expect("user");
     let body = format!(
         "name={name}&password={}&next=/",
         password.replace(' ', "+").replace(',', "%2C")
@@ -519,7 +525,7 @@ fn station_and_disputes_forms_refuse_bad_input_with_a_page() {
 
 #[test]
 fn a_session_user_sees_their_name_and_forms_carry_the_csrf_token() {
-    use groundproof::auth::Role;
+    use groundproof::platform::auth::Role;
     let s = TestServer::start();
     load_scenario(&s);
     let coord = login(&s, "coord-one", Role::Coordinator);

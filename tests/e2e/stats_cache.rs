@@ -4,9 +4,9 @@
 //! the API serves must be exactly what a fresh computation from storage
 //! gives: the figures never lag the facts.
 
-use groundproof::dashboard::{StatsFilter, figures};
 use groundproof::domain::Day;
-use groundproof::figures::FigureOptions;
+use groundproof::statistics::figures::FigureOptions;
+use groundproof::statistics::kept::{StatsFilter, figures};
 use groundproof_e2e::{TestServer, get, get_bytes, load_scenario, post_bytes, post_json};
 use serde_json::json;
 

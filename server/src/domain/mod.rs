@@ -4,6 +4,7 @@
 
 mod confidence;
 mod day;
+pub mod geodesy;
 mod lonlat;
 mod name;
 

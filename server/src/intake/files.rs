@@ -10,11 +10,11 @@
 //! | `evidence/thumbs/<ab>/<sha256>.jpg` | its 320-pixel thumbnail (derived) |
 //!
 //! `<ab>` is the first two hex digits of the hash. Every file is written with
-//! [`crate::files::write_durably`] (temp file, fsync, rename, folder fsync)
+//! [`crate::platform::durable::write_durably`] (temp file, fsync, rename, folder fsync)
 //! before any database row names it.
 
 use super::IntakeError;
-use crate::storage::Db;
+use crate::platform::storage::Db;
 use std::collections::HashSet;
 use std::path::{Path, PathBuf};
 
@@ -76,11 +76,11 @@ pub fn move_durably(from: &Path, to: &Path) -> Result<(), IntakeError> {
     std::fs::rename(from, to).map_err(|e| {
         crate::Error::io(format!("moving {} to {}", from.display(), to.display()), e)
     })?;
-    crate::files::sync_dir(dir)?;
+    crate::platform::durable::sync_dir(dir)?;
     if let Some(src) = from.parent()
         && src != dir
     {
-        crate::files::sync_dir(src)?;
+        crate::platform::durable::sync_dir(src)?;
     }
     Ok(())
 }

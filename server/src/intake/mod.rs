@@ -42,7 +42,7 @@ pub struct IntakeOptions {
 
 impl IntakeOptions {
     /// The defaults with the data directory's evidence settings.
-    pub fn from_settings(settings: &crate::settings::Settings) -> Self {
+    pub fn from_settings(settings: &crate::platform::settings::Settings) -> Self {
         IntakeOptions {
             tolerance_m: settings.evidence.tolerance_m,
             ..IntakeOptions::default()

@@ -15,7 +15,7 @@ use super::evidence::{self, CheckContext, Footprint, PhotoFacts};
 use super::files::{incoming_path, move_durably, photo_path, rejected_path, thumb_path};
 use super::{IntakeError, IntakeOptions};
 use crate::domain::{Confidence, Day};
-use crate::storage::{
+use crate::platform::storage::{
     BundleItem, BundleRecord, Db, EventWrite, PhotoCheckRow, PhotoRow, ReportPhotoRow, ReportRow,
     ResultRow, ReturnRecord, UploadRecord,
 };
@@ -167,7 +167,7 @@ fn body_sha256(r: &Report) -> String {
 /// A square of `area_ha` centred on (lon, lat), as a footprint for a new clearing.
 fn clearing_square(lon: f64, lat: f64, area_ha: f64) -> geo::MultiPolygon<f64> {
     let side_m = (area_ha * 10_000.0).sqrt();
-    geo::MultiPolygon::new(vec![crate::geodesy::pixel_square(lon, lat, side_m)])
+    geo::MultiPolygon::new(vec![crate::domain::geodesy::pixel_square(lon, lat, side_m)])
 }
 
 fn footprint_json(mp: &geo::MultiPolygon<f64>) -> String {
@@ -262,8 +262,8 @@ impl Context<'_> {
                 let Some(ev) = self.db.read(|x| x.event_resolved(*event_id))? else {
                     return Ok(Verdict::Reject(format!("unknown event id {event_id}")));
                 };
-                let fp =
-                    crate::events::parse_multipolygon(&ev.attrs.footprint).map(Footprint::Area);
+                let fp = crate::alerts::events::parse_multipolygon(&ev.attrs.footprint)
+                    .map(Footprint::Area);
                 (
                     "event",
                     Some(*event_id),
@@ -565,14 +565,14 @@ fn run(
         };
         let path = photo_path(data_dir, sha);
         if info.thumb.is_some() || !path.exists() {
-            crate::files::write_durably(&path, |f| {
+            crate::platform::durable::write_durably(&path, |f| {
                 opened
                     .copy_photo_to(sha, std::io::BufWriter::new(f))
                     .map_err(|e| crate::Error::Internal(format!("copying photo {sha}: {e}")))
             })?;
         }
         if let Some(t) = &info.thumb {
-            crate::files::write_durably(&thumb_path(data_dir, sha), |f| {
+            crate::platform::durable::write_durably(&thumb_path(data_dir, sha), |f| {
                 use std::io::Write;
                 f.write_all(t)
                     .map_err(|e| crate::Error::io(format!("writing thumbnail of {sha}"), e))
@@ -671,7 +671,7 @@ mod tests {
         let mp = clearing_square(-60.0, -3.0, 2.5);
         let a = mp.geodesic_area_unsigned();
         assert!((a - 25_000.0).abs() < 25.0, "{a}");
-        let back = crate::events::parse_multipolygon(&footprint_json(&mp)).unwrap();
+        let back = crate::alerts::events::parse_multipolygon(&footprint_json(&mp)).unwrap();
         assert_eq!(back, mp);
     }
 

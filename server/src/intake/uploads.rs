@@ -22,7 +22,7 @@
 use super::files::{UPLOADS_DIR, incoming_path, move_durably, upload_path};
 use super::pipeline::{ReturnDocument, return_document, take_in};
 use super::{IntakeError, IntakeOptions};
-use crate::storage::{Db, UploadRecord};
+use crate::platform::storage::{Db, UploadRecord};
 use sha2::{Digest, Sha256};
 use std::collections::HashSet;
 use std::io::{Read, Seek, SeekFrom, Write};
@@ -144,7 +144,7 @@ pub fn create(
                 "bundle {bundle_id} already has {for_bundle} open uploads; finish them first"
             )));
         }
-        crate::files::write_durably(&upload_path(data_dir, &upload.id), |_| Ok(()))?;
+        crate::platform::durable::write_durably(&upload_path(data_dir, &upload.id), |_| Ok(()))?;
     }
     db.write_bookkeeping(|tx| {
         tx.insert_upload(&upload)?;
@@ -395,7 +395,7 @@ impl IncomingFile {
             .persist(&path)
             .map_err(|e| crate::Error::io(format!("renaming into {}", path.display()), e.error))?;
         if let Some(dir) = path.parent() {
-            crate::files::sync_dir(dir)?;
+            crate::platform::durable::sync_dir(dir)?;
         }
         Ok((path, sha, self.size))
     }

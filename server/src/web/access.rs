@@ -11,7 +11,7 @@
 //! parameter `csrf_token`); bearer-token requests carry no cookie and need
 //! neither.
 
-use crate::auth::{self, Action, CsrfToken, Identity, Principal};
+use crate::platform::auth::{self, Action, CsrfToken, Identity, Principal};
 use crate::web::AppState;
 use actix_web::body::{BoxBody, MessageBody};
 use actix_web::dev::{Payload, ServiceRequest, ServiceResponse};

@@ -1,6 +1,6 @@
 //! `GET/POST /login` and `POST /logout`.
 
-use crate::auth::{self, LoginOutcome, LoginRequest};
+use crate::platform::auth::{self, LoginOutcome, LoginRequest};
 use crate::web::AppState;
 use actix_web::{HttpRequest, HttpResponse, web};
 use askama::Template;

@@ -5,12 +5,13 @@
 
 mod access;
 pub mod api;
+pub mod charts;
 mod error;
 mod login;
 pub mod pages;
 
-use crate::settings::Settings;
-use crate::storage::Db;
+use crate::platform::settings::Settings;
+use crate::platform::storage::Db;
 use actix_web::{App, HttpServer, dev::Server, web};
 use std::net::TcpListener;
 use std::sync::Arc;
@@ -28,7 +29,7 @@ pub struct AppState {
     pub data_dir: std::path::PathBuf,
     pub settings: Arc<Settings>,
     /// The statistics of the current facts, shared by every handler.
-    pub stats: Arc<crate::dashboard::StatsCache>,
+    pub stats: Arc<crate::statistics::kept::StatsCache>,
 }
 
 impl AppState {
@@ -37,7 +38,7 @@ impl AppState {
             db,
             data_dir,
             settings: Arc::new(settings),
-            stats: Arc::new(crate::dashboard::StatsCache::new()),
+            stats: Arc::new(crate::statistics::kept::StatsCache::new()),
         }
     }
 
@@ -62,7 +63,7 @@ pub fn configure(cfg: &mut web::ServiceConfig) {
 
 /// Start serving on an already bound listener (port 0 in tests).
 pub fn run(listener: TcpListener, state: AppState) -> std::io::Result<Server> {
-    crate::dashboard::keep_fresh(Arc::downgrade(&state.db), Arc::downgrade(&state.stats));
+    crate::statistics::kept::keep_fresh(Arc::downgrade(&state.db), Arc::downgrade(&state.stats));
     let data = web::Data::new(state);
     let server = HttpServer::new(move || {
         App::new()

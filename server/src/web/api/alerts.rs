@@ -2,10 +2,10 @@
 //! with the file as the body; optional column names and a confidence
 //! threshold as query parameters, as on the command line.
 
+use crate::alerts::events::{ImportRequest, import_alerts};
+use crate::alerts::import::{Format, ReadOptions};
 use crate::domain::{ConfidenceMap, SourceName};
 use crate::error::Error;
-use crate::events::{ImportRequest, import_alerts};
-use crate::import::{Format, ReadOptions};
 use crate::web::AppState;
 use crate::web::error::ApiError;
 use actix_web::{HttpResponse, web};

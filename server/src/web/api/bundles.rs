@@ -5,7 +5,7 @@
 
 use crate::domain::{Confidence, Day, LonLat, ZoneName};
 use crate::error::Error;
-use crate::trips::{Mode, TripRequest, cancel_bundle, issue_bundle};
+use crate::planning::{Mode, TripRequest, cancel_bundle, issue_bundle};
 use crate::web::AppState;
 use crate::web::error::ApiError;
 use actix_web::{HttpResponse, web};
@@ -91,7 +91,7 @@ pub fn trip_request(b: IssueBody) -> Result<TripRequest, Error> {
     r.extent = match b.extent {
         None => None,
         Some(v) => Some(
-            crate::events::parse_multipolygon(&v.to_string()).ok_or_else(|| {
+            crate::alerts::events::parse_multipolygon(&v.to_string()).ok_or_else(|| {
                 Error::Invalid("field 'extent': expected a GeoJSON Polygon or MultiPolygon".into())
             })?,
         ),
@@ -152,8 +152,8 @@ pub async fn issue(
 /// The team a request speaks for, when it holds a team token.
 fn team_of(req: &actix_web::HttpRequest) -> Option<String> {
     use actix_web::HttpMessage;
-    match req.extensions().get::<crate::auth::Identity>() {
-        Some(crate::auth::Identity::Team { team_name, .. }) => Some(team_name.clone()),
+    match req.extensions().get::<crate::platform::auth::Identity>() {
+        Some(crate::platform::auth::Identity::Team { team_name, .. }) => Some(team_name.clone()),
         _ => None,
     }
 }

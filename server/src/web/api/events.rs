@@ -1,10 +1,12 @@
 //! `GET /api/v1/events` (GeoJSON FeatureCollection, filterable) and
 //! `GET /api/v1/events/{id}` (follows merges).
 
+use crate::alerts::events::{
+    RankedEvent, event_feature, events_collection, priority_of, ranked_events,
+};
 use crate::domain::{Day, SourceName, ZoneName};
 use crate::error::Error;
-use crate::events::{RankedEvent, event_feature, events_collection, priority_of, ranked_events};
-use crate::storage::EventFilter;
+use crate::platform::storage::EventFilter;
 use crate::web::AppState;
 use crate::web::error::ApiError;
 use actix_web::{HttpResponse, web};

@@ -27,7 +27,7 @@ pub async fn add(
 ) -> Result<HttpResponse, ApiError> {
     let b = body.into_inner();
     let name = SourceName::parse(&b.name).map_err(Error::Invalid)?;
-    crate::events::validate_source(b.pixel_size_m, b.revisit_days)?;
+    crate::alerts::events::validate_source(b.pixel_size_m, b.revisit_days)?;
     let db = state.db.clone();
     let s = web::block(move || {
         db.write(|tx| tx.add_source(name.as_str(), b.pixel_size_m, b.revisit_days))

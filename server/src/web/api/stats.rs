@@ -6,10 +6,10 @@
 //! (report date) and `within_days`. `GET /api/v1/disputes`,
 //! `POST /api/v1/events/{id}/adjudications`, `GET /api/v1/exports/events.geojson`.
 
-use crate::dashboard::{StatsFilter, table};
 use crate::domain::Day;
 use crate::error::Error;
-use crate::figures::FigureOptions;
+use crate::statistics::figures::FigureOptions;
+use crate::statistics::kept::{StatsFilter, table};
 use crate::web::AppState;
 use crate::web::error::ApiError;
 use actix_web::{HttpResponse, web};
@@ -150,7 +150,7 @@ pub async fn adjudicate(
         .parse()
         .map_err(|_| Error::Invalid(format!("event id '{path}' is not a number")))?;
     let b = body.into_inner();
-    if crate::dashboard::parse_outcome(&b.outcome).is_none() {
+    if crate::statistics::kept::parse_outcome(&b.outcome).is_none() {
         return Err(Error::Invalid(format!(
             "field 'outcome': '{}' is not confirmed, false_alarm, inconclusive or not_reached",
             b.outcome
@@ -181,7 +181,7 @@ pub async fn export_events(state: web::Data<AppState>) -> Result<HttpResponse, A
     let state = state.into_inner();
     let body = web::block(move || {
         let p = state.stats.prepared(&state.db, &StatsFilter::default())?;
-        crate::dashboard::events_with_status(&state.db, &p.loaded, &state.settings.priority)
+        crate::statistics::kept::events_with_status(&state.db, &p.loaded, &state.settings.priority)
     })
     .await??;
     Ok(HttpResponse::Ok()

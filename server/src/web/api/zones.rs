@@ -1,6 +1,6 @@
 //! `GET/POST /api/v1/zones` (POST takes a GeoJSON FeatureCollection).
 
-use crate::events::import_zones;
+use crate::alerts::events::import_zones;
 use crate::web::AppState;
 use crate::web::error::ApiError;
 use actix_web::{HttpResponse, web};

@@ -101,7 +101,7 @@ pub fn colour_rules(css: &str) -> Vec<ColourRule> {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::charts::{Rgb, contrast_ratio};
+    use crate::web::charts::{Rgb, contrast_ratio};
 
     #[test]
     fn contrast_ratio_matches_the_wcag_definition() {

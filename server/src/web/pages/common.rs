@@ -5,11 +5,11 @@
 //!
 //! Access: when the auth layer has put a [`Principal`] (or an
 //! [`Identity`]) on the request, every page checks
-//! [`crate::auth::allowed`] for its action and answers 403 with a page
+//! [`crate::platform::auth::allowed`] for its action and answers 403 with a page
 //! otherwise. With neither (auth not wired, as in the API today) pages are
 //! open, like the API.
 
-use crate::auth::{Action, Identity, Principal, allowed};
+use crate::platform::auth::{Action, Identity, Principal, allowed};
 use actix_web::http::StatusCode;
 use actix_web::{HttpMessage, HttpRequest, HttpResponse};
 use askama::Template;

@@ -4,21 +4,23 @@
 //! chart of issued, visited and confirmed events, causes, response times,
 //! the team table, the assessment estimates when a sample exists, and
 //! export links. Everything is computed from the stored facts on each
-//! request ([`crate::dashboard`]).
+//! request ([`crate::statistics::kept`]).
 
 use super::common::{Layout, PageError, Viewer, fixed, non_empty, opt_day, page, percent, respond};
 use super::events::{Choice, urlencode};
-use crate::auth::Action;
-use crate::charts::{
+use crate::error::Error;
+use crate::platform::auth::Action;
+use crate::reconcile::Status;
+use crate::statistics::estimators::{DurationSummary, Estimate};
+use crate::statistics::figures::{
+    EventFacts, FigureOptions, Figures, GroupKey, VisitCurve, month_of,
+};
+use crate::statistics::kept::{StatsFilter, TABLES};
+use crate::web::AppState;
+use crate::web::charts::{
     BarChart, BarSeries, HBar, HBarChart, Step, StepChart, StepSeries, render_grouped_bars,
     render_horizontal_bars, render_step_curve,
 };
-use crate::dashboard::{StatsFilter, TABLES};
-use crate::error::Error;
-use crate::figures::{EventFacts, FigureOptions, Figures, GroupKey, VisitCurve, month_of};
-use crate::reconcile::Status;
-use crate::stats::{DurationSummary, Estimate};
-use crate::web::AppState;
 use actix_web::{HttpRequest, HttpResponse, web};
 use askama::Template;
 use serde::Deserialize;
@@ -583,9 +585,10 @@ mod tests {
     fn a_curve_starts_at_one_and_marks_censoring() {
         // Kaplan–Meier of durations 2 (visited), 5 (censored), 7 (visited):
         // S(2) = 2/3, S(7) = 0 (Kaplan & Meier 1958 product-limit, worked by hand).
-        let km = crate::stats::kaplan_meier(&[(2.0, true), (5.0, false), (7.0, true)])
-            .unwrap()
-            .unwrap();
+        let km =
+            crate::statistics::estimators::kaplan_meier(&[(2.0, true), (5.0, false), (7.0, true)])
+                .unwrap()
+                .unwrap();
         let c = VisitCurve {
             label: "issued events".into(),
             curve: Some(km),

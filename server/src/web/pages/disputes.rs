@@ -5,11 +5,11 @@
 
 use super::common::{Layout, PageError, Viewer, fixed, html, respond, see_other};
 use super::views::{ReportView, report_view};
-use crate::auth::Action;
-use crate::dashboard::{StatsFilter, parse_outcome};
 use crate::error::Error;
+use crate::planning::codes::event_code;
+use crate::platform::auth::Action;
 use crate::reconcile::Status;
-use crate::trips::codes::event_code;
+use crate::statistics::kept::{StatsFilter, parse_outcome};
 use crate::web::AppState;
 use actix_web::http::StatusCode;
 use actix_web::{HttpRequest, HttpResponse, web};

@@ -8,15 +8,15 @@ use super::common::{
 use super::views::{
     Badge, ReportView, badge, map_events, map_input, map_status, map_zones, report_view,
 };
-use crate::auth::Action;
-use crate::charts::{EventStatus, render_map};
-use crate::dashboard::StatsFilter;
+use crate::alerts::events::{RankedEvent, priority_of, ranked_events};
 use crate::domain::Day;
 use crate::error::Error;
-use crate::events::{RankedEvent, priority_of, ranked_events};
-use crate::storage::EventFilter;
-use crate::trips::codes::event_code;
+use crate::planning::codes::event_code;
+use crate::platform::auth::Action;
+use crate::platform::storage::EventFilter;
+use crate::statistics::kept::StatsFilter;
 use crate::web::AppState;
+use crate::web::charts::{EventStatus, render_map};
 use actix_web::{HttpRequest, HttpResponse, web};
 use askama::Template;
 use serde::Deserialize;

@@ -1,16 +1,18 @@
 //! `/import`: forms to upload an alert file (source, format, skip invalid
 //! rows) and a zone file, and the result of each on the same page. The
 //! files go through the same services as the API
-//! ([`crate::events::import_alerts`], [`crate::events::import_zones`]);
+//! ([`crate::alerts::events::import_alerts`], [`crate::alerts::events::import_zones`]);
 //! a refused file shows every error with its line number and imports
 //! nothing.
 
 use super::common::{Layout, PageError, Viewer, error_page, fixed, html};
 use super::form::{FileSpec, Parts, human_bytes, read_parts};
-use crate::auth::Action;
+use crate::alerts::events::{
+    ImportOutcome, ImportRequest, ZoneOutcome, import_alerts, import_zones,
+};
+use crate::alerts::import::{Format, ReadOptions};
 use crate::domain::{ConfidenceMap, SourceName};
-use crate::events::{ImportOutcome, ImportRequest, ZoneOutcome, import_alerts, import_zones};
-use crate::import::{Format, ReadOptions};
+use crate::platform::auth::Action;
 use crate::web::AppState;
 use actix_multipart::Multipart;
 use actix_web::http::StatusCode;

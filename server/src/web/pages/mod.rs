@@ -15,7 +15,7 @@
 //! | `GET /static/app.css` | the style sheet |
 //!
 //! Who is asking comes from request extensions the auth layer sets
-//! ([`crate::auth::Identity`] or [`crate::auth::Principal`]); every POST
+//! ([`crate::platform::auth::Identity`] or [`crate::platform::auth::Principal`]); every POST
 //! form carries [`csrf_field`].
 
 mod assets;
@@ -34,14 +34,14 @@ pub use common::{PageError, Viewer};
 use actix_web::{HttpMessage, HttpRequest, HttpResponse, web};
 
 /// The hidden CSRF input of every POST form: the token from the request
-/// extension [`crate::auth::CsrfToken`], escaped, or an empty string when
+/// extension [`crate::platform::auth::CsrfToken`], escaped, or an empty string when
 /// the request has none.
 pub fn csrf_field(req: &HttpRequest) -> String {
-    match req.extensions().get::<crate::auth::CsrfToken>() {
+    match req.extensions().get::<crate::platform::auth::CsrfToken>() {
         Some(t) if !t.0.is_empty() => format!(
             r#"<input type="hidden" name="{}" value="{}">"#,
-            crate::auth::CSRF_FIELD,
-            crate::charts::escape(&t.0)
+            crate::platform::auth::CSRF_FIELD,
+            crate::web::charts::escape(&t.0)
         ),
         _ => String::new(),
     }
@@ -50,9 +50,13 @@ pub fn csrf_field(req: &HttpRequest) -> String {
 /// `?csrf_token=TOKEN` (percent-encoded) for the action URL of a
 /// multipart form, or an empty string when the request has no token.
 pub fn csrf_query(req: &HttpRequest) -> String {
-    match req.extensions().get::<crate::auth::CsrfToken>() {
+    match req.extensions().get::<crate::platform::auth::CsrfToken>() {
         Some(t) if !t.0.is_empty() => {
-            format!("?{}={}", crate::auth::CSRF_FIELD, events::urlencode(&t.0))
+            format!(
+                "?{}={}",
+                crate::platform::auth::CSRF_FIELD,
+                events::urlencode(&t.0)
+            )
         }
         _ => String::new(),
     }
@@ -61,7 +65,7 @@ pub fn csrf_query(req: &HttpRequest) -> String {
 /// `GET /`: where a user starts.
 pub async fn home(req: HttpRequest) -> HttpResponse {
     let viewer = Viewer::of(&req);
-    let to = if viewer.principal == Some(crate::auth::Principal::Manager) {
+    let to = if viewer.principal == Some(crate::platform::auth::Principal::Manager) {
         "/dashboard"
     } else {
         "/events"
@@ -104,7 +108,7 @@ mod tests {
         assert_eq!(csrf_field(&req), "");
         assert_eq!(csrf_query(&req), "");
         req.extensions_mut()
-            .insert(crate::auth::CsrfToken("a\"b<c".into()));
+            .insert(crate::platform::auth::CsrfToken("a\"b<c".into()));
         assert_eq!(
             csrf_field(&req),
             r#"<input type="hidden" name="csrf_token" value="a&quot;b&lt;c">"#

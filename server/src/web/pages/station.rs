@@ -7,9 +7,9 @@
 
 use super::common::{Layout, PageError, Viewer, html, respond};
 use super::form::{field_name, human_bytes, next_chunk, next_field, read_bounded};
-use crate::auth::Action;
 use crate::intake::IntakeOptions;
 use crate::intake::uploads::{IncomingFile, take_in_whole};
+use crate::platform::auth::Action;
 use crate::web::AppState;
 use crate::web::pages::common::MAX_TEXT_FIELD_BYTES;
 use actix_multipart::Multipart;

@@ -1,6 +1,6 @@
 //! `/trips`: the bundles issued, returned and cancelled (download links, a
 //! cancel button each) and the form to issue one; `POST /trips` issues a
-//! bundle through [`crate::trips::issue_bundle`] and shows the route
+//! bundle through [`crate::planning::issue_bundle`] and shows the route
 //! preview map and the download link; `POST /trips/{id}/cancel` cancels.
 
 use super::common::{
@@ -9,13 +9,13 @@ use super::common::{
 };
 use super::events::Choice;
 use super::views::{map_events, map_input, map_zones};
-use crate::auth::Action;
-use crate::charts::render_map;
+use crate::alerts::events::{RankedEvent, priority_of};
 use crate::domain::{Day, LonLat};
 use crate::error::Error;
-use crate::events::{RankedEvent, priority_of};
-use crate::trips::{IssuedBundle, Mode, TripRequest, cancel_bundle, issue_bundle};
+use crate::planning::{IssuedBundle, Mode, TripRequest, cancel_bundle, issue_bundle};
+use crate::platform::auth::Action;
 use crate::web::AppState;
+use crate::web::charts::render_map;
 use actix_web::http::StatusCode;
 use actix_web::{HttpRequest, HttpResponse, web};
 use askama::Template;

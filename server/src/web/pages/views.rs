@@ -3,10 +3,10 @@
 //! from stored zones and events.
 
 use super::common::{fixed, short_time};
-use crate::charts::{EventStatus, MapEvent, MapInput, MapZone};
-use crate::events::{RankedEvent, parse_multipolygon};
+use crate::alerts::events::{RankedEvent, parse_multipolygon};
+use crate::platform::storage::{PhotoCheckRow, Reader, ReportPhotoRow, ReportRow, ZoneRecord};
 use crate::reconcile::StatusOutcome;
-use crate::storage::{PhotoCheckRow, Reader, ReportPhotoRow, ReportRow, ZoneRecord};
+use crate::web::charts::{EventStatus, MapEvent, MapInput, MapZone};
 use std::collections::BTreeMap;
 
 /// The map's status of an event (unvisited when no report counts).
@@ -52,7 +52,7 @@ pub fn map_events(
         .filter_map(|e| {
             Some(MapEvent {
                 id: e.record.id,
-                code: crate::trips::codes::event_code(e.record.id),
+                code: crate::planning::codes::event_code(e.record.id),
                 area_ha: e.record.attrs.area_ha,
                 status: map_status(statuses.get(&e.record.id)),
                 footprint: parse_multipolygon(&e.record.attrs.footprint)?,

@@ -1,0 +1,354 @@
+//! One alert import, applied in one transaction.
+
+use super::ClusterSettings;
+use super::zones::{load_zone_shapes, zones_hit};
+use crate::alerts::cluster::footprint::Footprint;
+use crate::alerts::cluster::link::link;
+use crate::alerts::cluster::summary::{AlertFact, summarize};
+use crate::alerts::cluster::{LinkPoint, UnionFind};
+use crate::alerts::import::{
+    Format, ImportFailure, MAX_LISTED_ERRORS, ReadOptions, RowError, parse_alerts,
+};
+use crate::domain::SourceName;
+use crate::error::{Error, Result};
+use crate::platform::storage::{Db, EventWrite, NewAlert, StoredAlert, Tx, alerts_cells};
+use serde::Serialize;
+use std::collections::{BTreeMap, BTreeSet, HashMap, HashSet};
+
+/// What to import.
+#[derive(Debug, Clone)]
+pub struct ImportRequest<'a> {
+    pub source: &'a SourceName,
+    pub file_name: &'a str,
+    pub bytes: &'a [u8],
+    pub format: Format,
+    pub read: ReadOptions,
+    /// Import the valid rows of a file that has errors.
+    pub skip_invalid: bool,
+}
+
+/// What an import did.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ImportOutcome {
+    pub file: String,
+    pub source: String,
+    pub rows_read: usize,
+    pub imported: usize,
+    pub duplicates: usize,
+    pub skipped: usize,
+    /// The skipped rows (first [`MAX_LISTED_ERRORS`]).
+    pub skipped_rows: Vec<RowError>,
+    pub events_created: usize,
+    pub events_grown: usize,
+    pub events_merged: usize,
+}
+
+/// Parse, validate and store an alert file; events follow in the same
+/// transaction.
+pub fn import_alerts(
+    db: &Db,
+    req: &ImportRequest<'_>,
+    cfg: &ClusterSettings,
+) -> Result<ImportOutcome> {
+    let unknown = || {
+        Error::NotFound(format!(
+            "unknown source '{}': register it first (groundproof sources add {} --pixel-size M --revisit-days D)",
+            req.source, req.source
+        ))
+    };
+    db.read(|r| r.source_by_name(req.source.as_str()))?
+        .ok_or_else(unknown)?;
+    let t0 = std::time::Instant::now();
+    let parsed = parse_alerts(req.file_name, req.bytes, req.format, &req.read);
+    let parse_ms = t0.elapsed().as_millis();
+    let file_level = parsed
+        .errors
+        .iter()
+        .any(|e| e.line == 0 || e.field.starts_with('('));
+    if !parsed.errors.is_empty() && (!req.skip_invalid || file_level && parsed.alerts.is_empty()) {
+        return Err(Error::ImportRejected(ImportFailure {
+            file: req.file_name.to_string(),
+            rows_read: parsed.rows_read,
+            error_count: parsed.errors.len(),
+            errors: parsed
+                .errors
+                .iter()
+                .take(MAX_LISTED_ERRORS)
+                .cloned()
+                .collect(),
+        }));
+    }
+    let skipped = parsed.errors.len();
+    db.write(|tx| {
+        let source = tx
+            .reader()
+            .source_by_name(req.source.as_str())?
+            .ok_or_else(unknown)?;
+        let mut outcome = ImportOutcome {
+            file: req.file_name.to_string(),
+            source: source.name.clone(),
+            rows_read: parsed.rows_read,
+            imported: 0,
+            duplicates: 0,
+            skipped,
+            skipped_rows: parsed
+                .errors
+                .iter()
+                .take(MAX_LISTED_ERRORS)
+                .cloned()
+                .collect(),
+            events_created: 0,
+            events_grown: 0,
+            events_merged: 0,
+        };
+        let max_pixel = tx
+            .reader()
+            .sources()?
+            .iter()
+            .map(|s| s.pixel_size_m)
+            .fold(source.pixel_size_m, f64::max);
+        let nearby = if tx.reader().alert_count()? == 0 {
+            Vec::new()
+        } else {
+            let pts: Vec<(f64, f64)> = parsed
+                .alerts
+                .iter()
+                .map(|a| (a.at.lon(), a.at.lat()))
+                .collect();
+            tx.reader()
+                .alerts_in_cells(&alerts_cells(&pts, cfg.link_factor * max_pixel))?
+        };
+        // Duplicates: the same source, pixel and day, in the file or stored.
+        let key = |lon: f64, lat: f64, day: i32| {
+            (
+                crate::platform::storage::e7(lon),
+                crate::platform::storage::e7(lat),
+                day,
+            )
+        };
+        let mut seen: HashSet<(i64, i64, i32)> = nearby
+            .iter()
+            .filter(|a| a.source_id == source.id)
+            .map(|a| key(a.lon, a.lat, a.day.days()))
+            .collect();
+        let fresh: Vec<_> = parsed
+            .alerts
+            .iter()
+            .filter(|a| seen.insert(key(a.at.lon(), a.at.lat(), a.day.days())))
+            .collect();
+        outcome.duplicates = parsed.alerts.len() - fresh.len();
+        outcome.imported = fresh.len();
+        let import_id = tx.add_import(
+            source.id,
+            req.file_name,
+            [
+                outcome.rows_read,
+                outcome.imported,
+                outcome.duplicates,
+                outcome.skipped,
+            ],
+        )?;
+        if fresh.is_empty() {
+            return Ok(outcome);
+        }
+
+        // Link stored neighbours and new alerts; stored alerts of one event
+        // stay together whatever the local subset shows.
+        let mut points: Vec<LinkPoint> = nearby
+            .iter()
+            .map(|a| LinkPoint {
+                lon: a.lon,
+                lat: a.lat,
+                day: a.day.days(),
+                pixel_m: a.pixel_m,
+            })
+            .collect();
+        points.extend(fresh.iter().map(|a| LinkPoint {
+            lon: a.at.lon(),
+            lat: a.at.lat(),
+            day: a.day.days(),
+            pixel_m: source.pixel_size_m,
+        }));
+        let t1 = std::time::Instant::now();
+        let mut uf = link(&points, &cfg.rule());
+        let link_ms = t1.elapsed().as_millis();
+        let mut first_of_event: HashMap<i64, u32> = HashMap::new();
+        for (i, a) in nearby.iter().enumerate() {
+            let first = *first_of_event.entry(a.event_id).or_insert(i as u32);
+            uf.union(first, i as u32);
+        }
+        let groups = groups_with_new(&mut uf, nearby.len());
+
+        let names: HashMap<i64, String> = tx
+            .reader()
+            .sources()?
+            .into_iter()
+            .map(|s| (s.id, s.name))
+            .collect();
+        let zones = load_zone_shapes(tx)?;
+        // Gather each touched set's alerts (reads), summarise them on all
+        // cores (pure), then write in one pass.
+        let mut work: Vec<(BTreeSet<i64>, Vec<usize>, Vec<AlertFact>)> =
+            Vec::with_capacity(groups.len());
+        for members in groups.values() {
+            let existing: BTreeSet<i64> = members
+                .iter()
+                .filter(|&&i| (i as usize) < nearby.len())
+                .map(|&i| nearby[i as usize].event_id)
+                .collect();
+            let new_idx: Vec<usize> = members
+                .iter()
+                .filter(|&&i| (i as usize) >= nearby.len())
+                .map(|&i| i as usize - nearby.len())
+                .collect();
+            let mut facts: Vec<AlertFact> = if existing.is_empty() {
+                Vec::new()
+            } else {
+                let ids: Vec<i64> = existing.iter().copied().collect();
+                tx.reader()
+                    .alerts_of_events(&ids)?
+                    .iter()
+                    .map(fact_of)
+                    .collect()
+            };
+            facts.extend(new_idx.iter().map(|&j| AlertFact {
+                source_id: source.id,
+                lon: fresh[j].at.lon(),
+                lat: fresh[j].at.lat(),
+                day: fresh[j].day,
+                confidence: fresh[j].confidence,
+                pixel_m: source.pixel_size_m,
+            }));
+            work.push((existing, new_idx, facts));
+        }
+        let summaries = summarize_all(&work);
+        let mut new_rows = Vec::with_capacity(fresh.len());
+        for ((existing, new_idx, _), summary) in work.iter().zip(summaries) {
+            let Some(summary) = summary else { continue };
+            let write = EventWrite {
+                footprint: footprint_geojson(&summary.footprint),
+                area_ha: summary.footprint.area_ha,
+                centroid: summary.footprint.centroid,
+                bbox: summary.bbox,
+                first: summary.first,
+                last: summary.last,
+                alert_count: summary.alert_count,
+                highest_confidence: summary.highest_confidence,
+                corroborated: summary.corroborated,
+                per_source: summary
+                    .per_source
+                    .iter()
+                    .map(|(id, n)| (names.get(id).cloned().unwrap_or_else(|| id.to_string()), *n))
+                    .collect(),
+            };
+            let event_id = match existing.first() {
+                None => {
+                    outcome.events_created += 1;
+                    tx.insert_event(&write)?
+                }
+                Some(&survivor) => {
+                    let absorbed: Vec<i64> = existing.iter().skip(1).copied().collect();
+                    if absorbed.is_empty() {
+                        outcome.events_grown += 1;
+                    } else {
+                        outcome.events_merged += absorbed.len();
+                        tx.reassign_alerts(&absorbed, survivor)?;
+                        tx.mark_merged(&absorbed, survivor)?;
+                    }
+                    tx.update_event(survivor, &write)?;
+                    survivor
+                }
+            };
+            let hit = zones_hit(&zones, &summary.footprint.shape, summary.bbox);
+            if !hit.is_empty() || !existing.is_empty() {
+                tx.set_event_zones(event_id, &hit)?;
+            }
+            new_rows.extend(new_idx.iter().map(|&j| NewAlert {
+                source_id: source.id,
+                lon: fresh[j].at.lon(),
+                lat: fresh[j].at.lat(),
+                day: fresh[j].day,
+                confidence: fresh[j].confidence,
+                event_id,
+            }));
+        }
+        let events_ms = t1.elapsed().as_millis() - link_ms;
+        let t2 = std::time::Instant::now();
+        insert_sorted(tx, import_id, new_rows)?;
+        tracing::info!(
+            file = req.file_name,
+            rows = outcome.rows_read,
+            parse_ms,
+            link_ms,
+            events_ms,
+            insert_ms = t2.elapsed().as_millis(),
+            "alerts imported"
+        );
+        Ok(outcome)
+    })
+}
+
+/// Summaries of every work item, computed on up to two threads (the
+/// machine this is sized for has two cores).
+fn summarize_all(
+    work: &[(BTreeSet<i64>, Vec<usize>, Vec<AlertFact>)],
+) -> Vec<Option<crate::alerts::cluster::summary::EventSummary>> {
+    let threads = std::thread::available_parallelism()
+        .map_or(1, |n| n.get())
+        .clamp(1, 2);
+    if threads == 1 || work.len() < 64 {
+        return work.iter().map(|w| summarize(&w.2)).collect();
+    }
+    let mid = work.len() / 2;
+    let (a, b) = work.split_at(mid);
+    std::thread::scope(|s| {
+        let h = s.spawn(|| b.iter().map(|w| summarize(&w.2)).collect::<Vec<_>>());
+        let mut out: Vec<_> = a.iter().map(|w| summarize(&w.2)).collect();
+        out.extend(h.join().unwrap_or_default());
+        out
+    })
+}
+
+/// Linked sets that contain at least one new point (index ≥ `n_old`),
+/// keyed by root, members in index order.
+fn groups_with_new(uf: &mut UnionFind, n_old: usize) -> BTreeMap<u32, Vec<u32>> {
+    let n = uf.len();
+    let mut has_new: HashSet<u32> = HashSet::new();
+    for i in n_old..n {
+        has_new.insert(uf.find(i as u32));
+    }
+    let mut groups: BTreeMap<u32, Vec<u32>> = BTreeMap::new();
+    for i in 0..n as u32 {
+        let r = uf.find(i);
+        if has_new.contains(&r) {
+            groups.entry(r).or_default().push(i);
+        }
+    }
+    groups
+}
+
+fn fact_of(a: &StoredAlert) -> AlertFact {
+    AlertFact {
+        source_id: a.source_id,
+        lon: a.lon,
+        lat: a.lat,
+        day: a.day,
+        confidence: a.confidence,
+        pixel_m: a.pixel_m,
+    }
+}
+
+/// Insert in the file's order, so alert ids follow the file.
+fn insert_sorted(tx: &Tx<'_>, import_id: i64, rows: Vec<NewAlert>) -> Result<()> {
+    tx.insert_alerts(import_id, &rows)
+}
+
+/// The footprint as a GeoJSON geometry: a Polygon when it is one piece.
+pub(crate) fn footprint_geojson(f: &Footprint) -> String {
+    let geom = if f.shape.0.len() == 1 {
+        geo::Geometry::Polygon(f.shape.0[0].clone())
+    } else {
+        geo::Geometry::MultiPolygon(f.shape.clone())
+    };
+    geojson::Geometry::from(&geom).to_string()
+}

@@ -1,0 +1,65 @@
+//! Keeping clearing events in step with the stored alerts and zones.
+//!
+//! An alert import runs in one write transaction: stored alerts near the
+//! new ones are loaded (coarse 0.01° cells around them), new and nearby
+//! alerts are linked with [`crate::alerts::cluster::link`], alerts already in one
+//! event are kept together, and each linked set that holds a new alert
+//! becomes a new event, grows an event, or merges several. A merge keeps
+//! the oldest (smallest) id; the absorbed events record `merged_into`.
+//! Then the touched events' attributes are derived again from all of their
+//! alerts, so an event never depends on the order alerts arrived in.
+
+mod apply;
+mod query;
+mod zones;
+pub use zones::parse_multipolygon;
+
+pub use apply::{ImportOutcome, ImportRequest, import_alerts};
+pub use query::{RankedEvent, event_feature, events_collection, priority_of, ranked_events};
+pub use zones::{ZoneOutcome, import_zones};
+
+use crate::alerts::cluster::LinkRule;
+use serde::{Deserialize, Serialize};
+
+/// How alerts are joined into events (configurable in `settings.toml`).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(default, deny_unknown_fields)]
+pub struct ClusterSettings {
+    /// Link distance as a multiple of the larger pixel size.
+    pub link_factor: f64,
+    /// Largest gap between detection days of linked alerts; 0 means none.
+    pub window_days: i32,
+}
+
+impl Default for ClusterSettings {
+    fn default() -> Self {
+        ClusterSettings {
+            link_factor: 1.5,
+            window_days: 90,
+        }
+    }
+}
+
+impl ClusterSettings {
+    pub fn rule(&self) -> LinkRule {
+        LinkRule {
+            factor: self.link_factor,
+            window_days: (self.window_days > 0).then_some(self.window_days),
+        }
+    }
+}
+
+/// Check a source's pixel size and revisit interval.
+pub fn validate_source(pixel_size_m: f64, revisit_days: i64) -> crate::Result<()> {
+    if !(pixel_size_m.is_finite() && pixel_size_m > 0.0 && pixel_size_m <= 1000.0) {
+        return Err(crate::Error::Invalid(format!(
+            "pixel size {pixel_size_m} m: expected a number of metres in (0, 1000]"
+        )));
+    }
+    if !(1..=366).contains(&revisit_days) {
+        return Err(crate::Error::Invalid(format!(
+            "revisit interval {revisit_days} days: expected 1 to 366"
+        )));
+    }
+    Ok(())
+}

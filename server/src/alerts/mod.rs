@@ -1,0 +1,12 @@
+//! The first step of the flow: alert files become clearing events.
+//!
+//! - [`import`]: pure parsing of alert CSV/GeoJSON and zone GeoJSON into
+//!   validated rows, with file/line/field errors.
+//! - [`cluster`]: pure single linkage in space and time, footprints, event
+//!   attributes and the priority score.
+//! - [`events`]: applies an import in one transaction (create, grow, merge
+//!   events; relink zones) and answers event queries.
+
+pub mod cluster;
+pub mod events;
+pub mod import;

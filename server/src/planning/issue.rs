@@ -1,0 +1,350 @@
+//! Issuing a bundle: route, previews, field sheet, ZIP written durably,
+//! then the bundle recorded in one transaction.
+//!
+//! The server keeps the upload key itself (32 random bytes) in the
+//! `bundles` row, because checking an HMAC needs the key; cancelling the
+//! bundle marks it revoked and returns signed with it are refused.
+
+use super::codes::{control_code, event_code};
+use super::select::{Mode, Selection, StratumPlan, TripRequest, select};
+use crate::error::{Error, Result};
+use crate::planning::coords::LatLon;
+use crate::planning::plan_route;
+use crate::planning::sheet::{
+    PreviewPixel, RouteLeg, SheetEvent, SheetInput, SourcePalette, render_field_sheet,
+    render_preview_with_palette,
+};
+use crate::platform::settings::Settings;
+use crate::platform::storage::{BundleItem, BundleRecord, Db, NewBundle};
+use geo::Point;
+use groundproof_sync::bundle::{
+    BundleEvent, BundleHeader, Checklist, ControlPoint, ExtraEntry, StartPoint, write_bundle,
+};
+use serde::Serialize;
+use sha2::{Digest, Sha256};
+use std::collections::HashMap;
+use std::io::{Read, Seek};
+use std::path::PathBuf;
+
+/// Side of the preview images, pixels.
+const PREVIEW_PX: u32 = 280;
+
+/// What issuing a bundle produced.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct IssuedBundle {
+    pub bundle: BundleRecord,
+    #[serde(skip)]
+    pub path: PathBuf,
+    pub route_m: f64,
+    pub walking_hours: f64,
+    pub route_method: String,
+    pub route_note: String,
+    pub strata: Vec<StratumPlan>,
+}
+
+/// Choose, route, write and record a bundle.
+pub fn issue_bundle(
+    db: &Db,
+    data_dir: &std::path::Path,
+    settings: &Settings,
+    req: &TripRequest,
+) -> Result<IssuedBundle> {
+    let team = db.read(|r| r.team_by_name(&req.team))?.ok_or_else(|| {
+        Error::NotFound(format!(
+            "unknown team '{}': add it first (groundproof team add)",
+            req.team
+        ))
+    })?;
+    if !(req.walking_kmh.is_finite() && req.walking_kmh > 0.0 && req.walking_kmh <= 20.0) {
+        return Err(Error::Invalid(format!(
+            "walking speed {} km/h: expected (0, 20]",
+            req.walking_kmh
+        )));
+    }
+    if !(1..=365).contains(&req.due_days) || !(req.due_days..=730).contains(&req.expires_days) {
+        return Err(Error::Invalid(
+            "due must be 1-365 days and expiry between due and 730 days".into(),
+        ));
+    }
+    let sel: Selection = select(db, settings, req)?;
+
+    // Route over events then controls, from the start.
+    let mut stops: Vec<LatLon> = sel
+        .events
+        .iter()
+        .map(|c| {
+            LatLon::new(
+                c.event.record.attrs.centroid.1,
+                c.event.record.attrs.centroid.0,
+            )
+        })
+        .collect();
+    stops.extend(sel.controls.iter().copied());
+    let start = LatLon::new(req.start.lat(), req.start.lon());
+    let route = plan_route(start, &stops, req.walking_kmh)
+        .map_err(|e| Error::Invalid(format!("route: {e}")))?;
+    let mut visit_of = vec![0u32; stops.len()];
+    for (k, &i) in route.order.iter().enumerate() {
+        visit_of[i] = k as u32 + 1;
+    }
+
+    let names: HashMap<i64, (String, f64)> = db
+        .read(|r| r.sources())?
+        .into_iter()
+        .map(|s| (s.id, (s.name, s.pixel_size_m)))
+        .collect();
+    let mut bundle_events = Vec::new();
+    for (i, c) in sel.events.iter().enumerate() {
+        let a = &c.event.record.attrs;
+        let footprint =
+            crate::alerts::events::parse_multipolygon(&a.footprint).ok_or_else(|| {
+                Error::Internal(format!(
+                    "event {} has an unreadable footprint",
+                    c.event.record.id
+                ))
+            })?;
+        bundle_events.push(BundleEvent {
+            code: event_code(c.event.record.id),
+            event_id: c.event.record.id,
+            footprint,
+            centroid: Point::new(a.centroid.0, a.centroid.1),
+            area_ha: a.area_ha,
+            first_detected: a.first.to_string(),
+            last_detected: a.last.to_string(),
+            sources: a.per_source.keys().cloned().collect(),
+            confidence: a.highest_confidence.to_string(),
+            corroborated: a.corroborated,
+            priority: c.event.priority,
+            visit_order: visit_of[i],
+            inclusion_probability: c.inclusion_probability,
+            stratum: c.stratum.clone(),
+        });
+    }
+    let codes: std::collections::HashSet<&str> =
+        bundle_events.iter().map(|e| e.code.as_str()).collect();
+    if codes.len() != bundle_events.len() {
+        return Err(Error::Internal(
+            "two events share a short code in this bundle".into(),
+        ));
+    }
+    let controls: Vec<ControlPoint> = sel
+        .controls
+        .iter()
+        .enumerate()
+        .map(|(k, p)| ControlPoint {
+            code: control_code(k + 1),
+            point: Point::new(p.lon, p.lat),
+            visit_order: visit_of[sel.events.len() + k],
+            inclusion_probability: None,
+        })
+        .collect();
+    let start_point = StartPoint {
+        name: req.start_name.clone(),
+        point: Point::new(req.start.lon(), req.start.lat()),
+    };
+    let mut order: Vec<(u32, String)> = bundle_events
+        .iter()
+        .map(|e| (e.visit_order, e.code.clone()))
+        .chain(controls.iter().map(|c| (c.visit_order, c.code.clone())))
+        .collect();
+    order.sort();
+    let route_codes: Vec<String> = order.iter().map(|(_, c)| c.clone()).collect();
+
+    let issued_at = req.issued_at.unwrap_or_else(chrono::Utc::now);
+    let bundle_id = uuid::Uuid::new_v4();
+    let mut key = [0u8; 32];
+    rand::fill(&mut key);
+    let key_id = format!("k-{}", &bundle_id.simple().to_string()[..12]);
+    let header = BundleHeader {
+        bundle_id,
+        team: team.name.clone(),
+        mode: req.mode.as_str().to_string(),
+        issued_at,
+        due_at: issued_at + chrono::Duration::days(req.due_days),
+        expires_at: issued_at + chrono::Duration::days(req.expires_days),
+        upload_key_id: key_id.clone(),
+        seed: sel.seed,
+    };
+    let checklist = Checklist::default_v1();
+
+    // Previews and the field sheet.
+    let palette = SourcePalette::for_events(&bundle_events);
+    let mut extras = Vec::new();
+    let mut sheet_events = Vec::new();
+    for e in &bundle_events {
+        let pixels: Vec<PreviewPixel> = db
+            .read(|r| r.alerts_of_events(&[e.event_id]))?
+            .iter()
+            .map(|a| {
+                let (name, size) = names.get(&a.source_id).cloned().unwrap_or_default();
+                PreviewPixel {
+                    lon: a.lon,
+                    lat: a.lat,
+                    size_m: size,
+                    source: name,
+                }
+            })
+            .collect();
+        let png = render_preview_with_palette(e, &pixels, PREVIEW_PX, &palette)
+            .map_err(|err| Error::Internal(format!("preview of {}: {err}", e.code)))?;
+        extras.push(ExtraEntry {
+            name: format!("extras/preview-{}.png", e.code.to_ascii_lowercase()),
+            bytes: png.clone(),
+        });
+        sheet_events.push(SheetEvent {
+            event: e.clone(),
+            preview_png: png,
+        });
+    }
+    let legs: Vec<RouteLeg> = route
+        .order
+        .iter()
+        .zip(&route.legs_m)
+        .enumerate()
+        .map(|(k, (&i, &m))| RouteLeg {
+            stop: k as u32 + 1,
+            code: if i < bundle_events.len() {
+                bundle_events[i].code.clone()
+            } else {
+                controls[i - bundle_events.len()].code.clone()
+            },
+            leg_km: m / 1000.0,
+        })
+        .collect();
+    let sheet = render_field_sheet(&SheetInput {
+        header: header.clone(),
+        reserve: req.zone.clone().unwrap_or_else(|| "selected area".into()),
+        team_label: team.name.clone(),
+        start: start_point.clone(),
+        events: sheet_events,
+        controls: controls.clone(),
+        legs,
+        checklist: checklist.clone(),
+        palette,
+    })
+    .map_err(|e| Error::Internal(format!("field sheet: {e}")))?;
+    extras.push(ExtraEntry {
+        name: "extras/field-sheet.html".into(),
+        bytes: sheet.into_bytes(),
+    });
+
+    // The ZIP, durably, before any row.
+    let file_name = format!("{bundle_id}.zip");
+    let path = data_dir.join("bundles").join(&file_name);
+    let (sha, size) = crate::platform::durable::write_durably(&path, |f| {
+        write_bundle(
+            &mut *f,
+            &header,
+            &bundle_events,
+            &controls,
+            &start_point,
+            &route_codes,
+            &checklist,
+            &key,
+            extras,
+        )
+        .map_err(|e| Error::Internal(format!("writing the bundle: {e}")))?;
+        f.rewind()
+            .map_err(|e| Error::io("rereading the bundle", e))?;
+        let mut h = Sha256::new();
+        let mut buf = vec![0u8; 1 << 16];
+        let mut size = 0u64;
+        loop {
+            let n = f
+                .read(&mut buf)
+                .map_err(|e| Error::io("rereading the bundle", e))?;
+            if n == 0 {
+                break;
+            }
+            size += n as u64;
+            h.update(&buf[..n]);
+        }
+        Ok((hex::encode(h.finalize()), size))
+    })?;
+
+    let items: Vec<BundleItem> = bundle_events
+        .iter()
+        .zip(&sel.events)
+        .map(|(e, c)| BundleItem {
+            visit_order: e.visit_order,
+            code: e.code.clone(),
+            kind: "event".into(),
+            event_id: Some(e.event_id),
+            lon: e.centroid.x(),
+            lat: e.centroid.y(),
+            stratum: c.stratum.clone(),
+            stratum_population: c.stratum_population.map(|p| p as i64),
+            inclusion_probability: c.inclusion_probability,
+        })
+        .chain(controls.iter().map(|c| BundleItem {
+            visit_order: c.visit_order,
+            code: c.code.clone(),
+            kind: "control".into(),
+            event_id: None,
+            lon: c.point.x(),
+            lat: c.point.y(),
+            stratum: Some("control".into()),
+            stratum_population: None,
+            inclusion_probability: None,
+        }))
+        .collect();
+    let selection = serde_json::json!({
+        "zone": req.zone, "from": req.from.map(|d| d.to_string()), "to": req.to.map(|d| d.to_string()),
+        "source": req.source, "confidence": req.confidence, "min_area_ha": req.min_area_ha, "max": req.max,
+        "extent": req.extent.is_some(), "controls": req.controls, "control_min_distance_m": req.control_min_distance_m,
+        "walking_kmh": req.walking_kmh, "as_of": req.as_of.to_string(), "strata": sel.strata,
+    })
+    .to_string();
+    let id = bundle_id.to_string();
+    let (issued, due, expires) = (
+        header.issued_at.to_rfc3339(),
+        header.due_at.to_rfc3339(),
+        header.expires_at.to_rfc3339(),
+    );
+    let record = db.write(|tx| {
+        tx.insert_bundle(&NewBundle {
+            id: &id,
+            team_id: team.id,
+            mode: req.mode.as_str(),
+            issued_at: &issued,
+            due_at: &due,
+            expires_at: &expires,
+            seed: sel.seed.map(|s| s as i64),
+            margin: (req.mode == Mode::Assessment).then_some(req.margin),
+            selection: &selection,
+            start: (req.start.lon(), req.start.lat()),
+            route_m: route.total_m,
+            upload_key_id: &key_id,
+            upload_key: &key,
+            file_name: &file_name,
+            file_sha256: &sha,
+            file_size: size,
+            items: &items,
+        })?;
+        tx.reader()
+            .bundle(&id)?
+            .ok_or_else(|| Error::Internal("bundle vanished".into()))
+    });
+    let record = match record {
+        Ok(r) => r,
+        Err(e) => {
+            let _ = std::fs::remove_file(&path);
+            return Err(e);
+        }
+    };
+    tracing::info!(bundle = %id, team = %team.name, events = bundle_events.len(), controls = controls.len(), bytes = size, "bundle issued");
+    Ok(IssuedBundle {
+        bundle: record,
+        path,
+        route_m: route.total_m,
+        walking_hours: route.walking_hours,
+        route_method: format!("{:?}", route.method),
+        route_note: route.note.clone(),
+        strata: sel.strata,
+    })
+}
+
+/// Cancel a bundle; its upload key is refused from now on.
+pub fn cancel_bundle(db: &Db, id: &str) -> Result<()> {
+    db.write(|tx| tx.cancel_bundle(id))
+}

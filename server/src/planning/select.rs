@@ -1,0 +1,336 @@
+//! Which events (and control points) a trip visits.
+
+use crate::alerts::events::{RankedEvent, ranked_events};
+use crate::domain::{Confidence, Day, LonLat};
+use crate::error::{Error, Result};
+use crate::planning::coords::LatLon;
+use crate::planning::{
+    DEFAULT_TRIES_PER_POINT, cochran_sample_size, draw_stratified, place_controls,
+};
+use crate::platform::settings::Settings;
+use crate::platform::storage::{Db, EventFilter};
+use geo::{Intersects, MultiPolygon};
+use serde::Serialize;
+use std::collections::BTreeMap;
+
+/// z for a two-sided 95% interval (the 0.975 normal quantile).
+const Z95: f64 = 1.959_963_984_540_054;
+
+/// How events are chosen.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Mode {
+    /// The events that matter most now, in priority order.
+    Response,
+    /// A stratified random sample, for unbiased statistics.
+    Assessment,
+}
+
+impl Mode {
+    pub fn parse(s: &str) -> Result<Mode> {
+        match s {
+            "response" => Ok(Mode::Response),
+            "assessment" => Ok(Mode::Assessment),
+            other => Err(Error::Invalid(format!(
+                "mode '{other}': expected response or assessment"
+            ))),
+        }
+    }
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Mode::Response => "response",
+            Mode::Assessment => "assessment",
+        }
+    }
+}
+
+/// Everything a coordinator says about a trip.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TripRequest {
+    pub team: String,
+    pub mode: Mode,
+    pub zone: Option<String>,
+    /// An extent drawn by the coordinator (lon/lat polygon).
+    pub extent: Option<MultiPolygon<f64>>,
+    pub from: Option<Day>,
+    pub to: Option<Day>,
+    pub source: Option<String>,
+    pub confidence: Option<Confidence>,
+    pub min_area_ha: Option<f64>,
+    /// Only events whose reconciled status is one of these (e.g.
+    /// `unvisited`, `inconclusive`, `disputed`); empty takes any status.
+    pub statuses: Vec<String>,
+    /// Most events to take (response mode default 20; in assessment mode a
+    /// cap that the sample must fit under).
+    pub max: Option<usize>,
+    pub start: LonLat,
+    pub start_name: String,
+    /// Target margin of error of the confirmation rate, per stratum, in (0, 0.5).
+    pub margin: f64,
+    pub controls: usize,
+    pub control_min_distance_m: f64,
+    pub seed: Option<u64>,
+    pub walking_kmh: f64,
+    pub due_days: i64,
+    pub expires_days: i64,
+    pub as_of: Day,
+    /// Issue time to record instead of now (for recording a trip made
+    /// earlier, and for the demo's past trips); due and expiry count from it.
+    pub issued_at: Option<chrono::DateTime<chrono::Utc>>,
+}
+
+impl TripRequest {
+    /// A response trip with the documented defaults.
+    pub fn response(team: &str, start: LonLat) -> TripRequest {
+        TripRequest {
+            team: team.to_string(),
+            mode: Mode::Response,
+            zone: None,
+            extent: None,
+            from: None,
+            to: None,
+            source: None,
+            confidence: None,
+            min_area_ha: None,
+            statuses: Vec::new(),
+            max: None,
+            start,
+            start_name: "start".into(),
+            margin: 0.1,
+            controls: 0,
+            control_min_distance_m: 250.0,
+            seed: None,
+            walking_kmh: 3.0,
+            due_days: 7,
+            expires_days: 30,
+            as_of: Day::today(),
+            issued_at: None,
+        }
+    }
+}
+
+/// One chosen event.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Chosen {
+    pub event: RankedEvent,
+    pub stratum: Option<String>,
+    pub stratum_population: Option<u64>,
+    pub inclusion_probability: Option<f64>,
+}
+
+/// The sample plan of one stratum.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct StratumPlan {
+    pub stratum: String,
+    pub population: u64,
+    pub sample: u64,
+    pub inclusion_probability: f64,
+}
+
+/// What a trip visits.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Selection {
+    pub events: Vec<Chosen>,
+    pub controls: Vec<LatLon>,
+    pub strata: Vec<StratumPlan>,
+    pub seed: Option<u64>,
+}
+
+/// The default stratum of an event: its sources × its highest confidence.
+pub fn stratum_of(e: &RankedEvent) -> String {
+    let sources: Vec<&str> = e
+        .record
+        .attrs
+        .per_source
+        .keys()
+        .map(String::as_str)
+        .collect();
+    format!(
+        "{}|{}",
+        sources.join("+"),
+        e.record.attrs.highest_confidence
+    )
+}
+
+/// Choose the events and control points of a trip.
+pub fn select(db: &Db, settings: &Settings, req: &TripRequest) -> Result<Selection> {
+    if !(req.margin > 0.0 && req.margin < 0.5) {
+        return Err(Error::Invalid(format!(
+            "margin of error {}: expected a number in (0, 0.5), e.g. 0.1 for ±10 points",
+            req.margin
+        )));
+    }
+    if req.max == Some(0) {
+        return Err(Error::Invalid("--max must be at least 1".into()));
+    }
+    let zone_shape = match &req.zone {
+        Some(z) => {
+            let zone = db
+                .read(|r| r.zones())?
+                .into_iter()
+                .find(|k| &k.name == z)
+                .ok_or_else(|| Error::NotFound(format!("unknown zone '{z}'")))?;
+            crate::alerts::events::parse_multipolygon(&zone.geometry)
+        }
+        None => None,
+    };
+    let filter = EventFilter {
+        zone: req.zone.clone(),
+        from: req.from,
+        to: req.to,
+        source: req.source.clone(),
+        min_area_ha: req.min_area_ha,
+        limit: None,
+    };
+    let mut pool = ranked_events(db, &filter, &settings.priority, req.as_of)?;
+    if let Some(c) = req.confidence {
+        pool.retain(|e| e.record.attrs.highest_confidence == c);
+    }
+    if !req.statuses.is_empty() {
+        const KNOWN: [&str; 6] = [
+            "unvisited",
+            "not_reached",
+            "confirmed",
+            "false_alarm",
+            "inconclusive",
+            "disputed",
+        ];
+        if let Some(bad) = req.statuses.iter().find(|s| !KNOWN.contains(&s.as_str())) {
+            return Err(Error::Invalid(format!(
+                "status '{bad}': expected one of {}",
+                KNOWN.join(", ")
+            )));
+        }
+        let statuses = crate::statistics::kept::load(
+            db,
+            &Default::default(),
+            crate::statistics::kept::DISPUTE_WINDOW_DAYS,
+        )?
+        .statuses;
+        pool.retain(|e| {
+            let s = statuses
+                .get(&e.record.id)
+                .map_or("unvisited", |s| s.status.as_str());
+            req.statuses.iter().any(|w| w == s)
+        });
+    }
+    if let Some(extent) = &req.extent {
+        pool.retain(|e| {
+            crate::alerts::events::parse_multipolygon(&e.record.attrs.footprint)
+                .is_some_and(|fp| fp.intersects(extent))
+        });
+    }
+    if pool.is_empty() && (req.mode == Mode::Response || req.controls == 0) {
+        return Err(Error::Invalid(
+            "the selection holds no events: widen the zone, dates, source or minimum area".into(),
+        ));
+    }
+    let seed = req.seed.unwrap_or_else(|| rand::random::<u64>() >> 1);
+    let (events, strata) = match req.mode {
+        Mode::Response => {
+            pool.truncate(req.max.unwrap_or(20));
+            let chosen = pool
+                .into_iter()
+                .map(|event| Chosen {
+                    event,
+                    stratum: None,
+                    stratum_population: None,
+                    inclusion_probability: None,
+                })
+                .collect();
+            (chosen, Vec::new())
+        }
+        Mode::Assessment => sample(pool, req, seed)?,
+    };
+    let controls = if req.controls == 0 {
+        Vec::new()
+    } else {
+        let area = match (&req.extent, &zone_shape) {
+            (Some(e), _) => e.clone(),
+            (None, Some(z)) => z.clone(),
+            (None, None) => {
+                return Err(Error::Invalid(
+                    "control points need a zone or an extent to be placed in".into(),
+                ));
+            }
+        };
+        let alerts: Vec<LatLon> = db
+            .read(|r| r.alert_positions_in(bbox(&area)))?
+            .into_iter()
+            .map(|(lon, lat)| LatLon::new(lat, lon))
+            .collect();
+        place_controls(
+            &area,
+            &alerts,
+            req.controls,
+            req.control_min_distance_m,
+            seed ^ 0x5eed,
+            DEFAULT_TRIES_PER_POINT,
+        )
+        .map_err(|e| Error::Invalid(format!("control points: {e}")))?
+    };
+    Ok(Selection {
+        events,
+        controls,
+        strata,
+        seed: (req.mode == Mode::Assessment).then_some(seed),
+    })
+}
+
+fn bbox(m: &MultiPolygon<f64>) -> (f64, f64, f64, f64) {
+    use geo::BoundingRect;
+    m.bounding_rect()
+        .map(|r| (r.min().x, r.min().y, r.max().x, r.max().y))
+        .unwrap_or((0.0, 0.0, 0.0, 0.0))
+}
+
+/// Stratified sample: per stratum, Cochran's sample size for the margin
+/// with the finite population correction and the conservative p = 0.5.
+fn sample(
+    pool: Vec<RankedEvent>,
+    req: &TripRequest,
+    seed: u64,
+) -> Result<(Vec<Chosen>, Vec<StratumPlan>)> {
+    let mut strata: BTreeMap<String, Vec<RankedEvent>> = BTreeMap::new();
+    for e in pool {
+        strata.entry(stratum_of(&e)).or_default().push(e);
+    }
+    for members in strata.values_mut() {
+        members.sort_by_key(|e| e.record.id);
+    }
+    let populations: Vec<u64> = strata.values().map(|m| m.len() as u64).collect();
+    let allocation = populations
+        .iter()
+        .map(|&n| cochran_sample_size(Z95, 0.5, req.margin, Some(n)).map(|s| s.min(n)))
+        .collect::<std::result::Result<Vec<u64>, _>>()
+        .map_err(|e| Error::Invalid(e.to_string()))?;
+    let total: u64 = allocation.iter().sum();
+    if let Some(max) = req.max.filter(|&m| total > m as u64) {
+        return Err(Error::Invalid(format!(
+            "a margin of ±{} in each of {} strata needs {total} visits, more than --max {max}: raise the margin or the maximum",
+            req.margin,
+            populations.len()
+        )));
+    }
+    let draws = draw_stratified(&populations, &allocation, seed)
+        .map_err(|e| Error::Invalid(e.to_string()))?;
+    let mut chosen = Vec::new();
+    let mut plans = Vec::new();
+    for (draw, (name, members)) in draws.iter().zip(strata.iter()) {
+        plans.push(StratumPlan {
+            stratum: name.clone(),
+            population: draw.population,
+            sample: draw.indices.len() as u64,
+            inclusion_probability: draw.inclusion_probability,
+        });
+        for &i in &draw.indices {
+            chosen.push(Chosen {
+                event: members[i as usize].clone(),
+                stratum: Some(name.clone()),
+                stratum_population: Some(draw.population),
+                inclusion_probability: Some(draw.inclusion_probability),
+            });
+        }
+    }
+    Ok((chosen, plans))
+}

@@ -1,0 +1,420 @@
+//! Estimates from an assessment sample: the sampled events (by alert
+//! stratum) and, when there are any, the control points (no-alert strata).
+//!
+//! Definitions:
+//! - A sampled event *responds* when its status is `confirmed` or
+//!   `false_alarm`. Every other sampled event is **non-response**, counted
+//!   per stratum by kind (`not_reached`, `unvisited`, `inconclusive`,
+//!   `disputed`) and never silently dropped. The estimates treat the
+//!   respondents of a stratum as a random subsample of its selection
+//!   (missing at random within the stratum); a high non-response count is
+//!   the reader's cue that this may not hold. A control point responds when
+//!   `found_clearing` is `Some`.
+//! - **User's accuracy per alert stratum**: confirmed / respondents, with
+//!   the stratified-proportion SE of [`crate::statistics::estimators::stratified_proportion`]
+//!   for one stratum, with the finite-population correction 1 − n_h/N_h,
+//!   N_h = `stratum_population`. Over all alert strata (weights N_h/N) the
+//!   same function gives the user's accuracy of the alerts.
+//! - **Error matrix** (when control points exist), Olofsson-style: rows are
+//!   the strata, each belonging to a map class (alert strata → "alert",
+//!   control strata → "no alert"); columns are the reference classes
+//!   clearing / no clearing (a confirmed event or a control point with
+//!   clearing found is "clearing"). Row sizes are areas in ha, estimated by
+//!   Horvitz–Thompson from the selection: A_h = Σ area_ha/π over the
+//!   selected units of the stratum (respondents or not). W_h = A_h/A with
+//!   A = Σ A_h over strata with respondents; q_h = share of respondents with
+//!   clearing.
+//!   - area proportion of clearing p̂ = Σ W_h q_h, V̂ = Σ W_h² q_h(1 − q_h)/(n_h − 1);
+//!     area of clearing = A·p̂, SE = A·SE(p̂) (no fpc, as Olofsson et al. 2014);
+//!   - overall accuracy = Σ W_h c_h, c_h = share correct (clearing in an
+//!     alert stratum, no clearing in a control stratum), same variance form;
+//!   - user's accuracy of "alert" = Σ_alert W_h q_h / Σ_alert W_h, of
+//!     "no alert" likewise with 1 − q_h;
+//!   - producer's accuracy of clearing P̂ = Y/(Y + Z) with Y = Σ_alert W_h q_h,
+//!     Z = Σ_control W_h q_h and V̂ = [(1 − P̂)² V̂(Y) + P̂² V̂(Z)]/(Y + Z)²
+//!     (the delta method; with one stratum per map class this is exactly the
+//!     Olofsson producer's-accuracy variance with the sum over i ≠ j).
+//!
+//! Each unit has equal weight within its stratum (its own area does not
+//! weight its outcome), and the variances treat the A_h as known, as
+//! Olofsson et al. treat mapped areas, so they understate the uncertainty
+//! when A_h is itself estimated.
+
+use std::collections::BTreeMap;
+
+use serde::Serialize;
+
+use super::FiguresError;
+use super::facts::{ControlFacts, EventFacts, SampleInfo};
+use super::rates::Basis;
+use crate::reconcile::Status;
+use crate::statistics::estimators::{
+    Estimate, Fpc, StratifiedProportion, StratumCount, StratumStatus, stratified_proportion,
+};
+
+/// Sampled items without a usable outcome, by kind.
+#[derive(Debug, Clone, Default, PartialEq, Eq, Serialize)]
+pub struct NonResponse {
+    pub not_reached: u64,
+    pub unvisited: u64,
+    pub inconclusive: u64,
+    pub disputed: u64,
+}
+
+impl NonResponse {
+    pub fn total(&self) -> u64 {
+        self.not_reached + self.unvisited + self.inconclusive + self.disputed
+    }
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct AlertStratum {
+    pub stratum: String,
+    /// N_h.
+    pub population: u64,
+    /// Selected (sampled) events.
+    pub selected: u64,
+    pub confirmed: u64,
+    pub false_alarm: u64,
+    pub non_response: NonResponse,
+    /// Σ area_ha / π over the selected events.
+    pub mapped_area_ha: f64,
+    /// confirmed / (confirmed + false_alarm), SE with fpc; `None` with no respondent.
+    pub users_accuracy: Option<Estimate>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ControlStratum {
+    pub stratum: String,
+    pub selected: u64,
+    pub clearing: u64,
+    pub no_clearing: u64,
+    /// Control points not reached (`found_clearing` = `None`).
+    pub not_reached: u64,
+    /// Σ area_ha / π over the selected points.
+    pub mapped_area_ha: f64,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum MapClass {
+    Alert,
+    NoAlert,
+}
+
+/// One row of the error matrix.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ErrorMatrixRow {
+    pub stratum: String,
+    pub map_class: MapClass,
+    /// Respondents with reference class clearing.
+    pub clearing: u64,
+    pub no_clearing: u64,
+    pub mapped_area_ha: f64,
+    /// W_h; 0 for a stratum without respondents (left out).
+    pub weight: f64,
+    /// Estimated area proportions W_h·q_h and W_h·(1 − q_h).
+    pub cell_clearing: f64,
+    pub cell_no_clearing: f64,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct AreaAssessment {
+    pub rows: Vec<ErrorMatrixRow>,
+    /// Σ A_h over all strata.
+    pub total_area_ha: f64,
+    /// Σ A_h over strata with respondents (what the estimates describe).
+    pub area_covered_ha: f64,
+    pub overall_accuracy: Estimate,
+    pub users_accuracy_alert: Option<Estimate>,
+    pub users_accuracy_no_alert: Option<Estimate>,
+    pub producers_accuracy_clearing: Option<Estimate>,
+    pub clearing_proportion: Estimate,
+    /// In ha, over the covered area.
+    pub clearing_area_ha: Estimate,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Assessment {
+    /// Always [`Basis::SampleEstimate`].
+    pub basis: Basis,
+    /// Sorted by stratum.
+    pub alert_strata: Vec<AlertStratum>,
+    /// Over all alert strata, weights N_h/N, with fpc.
+    pub users_accuracy_of_alerts: Option<StratifiedProportion>,
+    /// Sorted by stratum.
+    pub control_strata: Vec<ControlStratum>,
+    /// `None` without control points or without respondents.
+    pub area: Option<AreaAssessment>,
+}
+
+fn check_unit(stratum: &str, area: f64, pi: f64) -> Result<(), FiguresError> {
+    if !(area.is_finite() && area >= 0.0) {
+        return Err(FiguresError::BadArea {
+            stratum: stratum.to_string(),
+            area,
+        });
+    }
+    if !(pi.is_finite() && pi > 0.0 && pi <= 1.0) {
+        return Err(FiguresError::BadInclusionProbability {
+            stratum: stratum.to_string(),
+            probability: pi,
+        });
+    }
+    Ok(())
+}
+
+/// The alert strata of [`assessment`], gathered event by event. The first
+/// bad input stops the gathering and is the error.
+#[derive(Debug, Default)]
+pub(crate) struct AlertStrata<'a> {
+    strata: BTreeMap<&'a str, AlertStratum>,
+    error: Option<FiguresError>,
+}
+
+impl<'a> AlertStrata<'a> {
+    /// Adds a sampled event (others are not in the assessment).
+    pub(crate) fn add(&mut self, e: &'a EventFacts) {
+        if let (Some(s), None) = (&e.sampled, &self.error) {
+            self.error = self.add_sampled(e, s).err();
+        }
+    }
+
+    fn add_sampled(&mut self, e: &EventFacts, s: &'a SampleInfo) -> Result<(), FiguresError> {
+        check_unit(&s.stratum, e.area_ha, s.inclusion_probability)?;
+        let row = self
+            .strata
+            .entry(&s.stratum)
+            .or_insert_with(|| AlertStratum {
+                stratum: s.stratum.clone(),
+                population: s.stratum_population,
+                selected: 0,
+                confirmed: 0,
+                false_alarm: 0,
+                non_response: NonResponse::default(),
+                mapped_area_ha: 0.0,
+                users_accuracy: None,
+            });
+        if row.population != s.stratum_population {
+            return Err(FiguresError::InconsistentStratum {
+                stratum: s.stratum.clone(),
+                first: row.population,
+                other: s.stratum_population,
+            });
+        }
+        row.selected += 1;
+        row.mapped_area_ha += e.area_ha / s.inclusion_probability;
+        let nr = &mut row.non_response;
+        match e.status {
+            Status::Confirmed => row.confirmed += 1,
+            Status::FalseAlarm => row.false_alarm += 1,
+            Status::NotReached => nr.not_reached += 1,
+            Status::Unvisited => nr.unvisited += 1,
+            Status::Inconclusive => nr.inconclusive += 1,
+            Status::Disputed => nr.disputed += 1,
+        }
+        Ok(())
+    }
+
+    /// The strata, sorted, each with its user's accuracy.
+    fn finish(self) -> Result<Vec<AlertStratum>, FiguresError> {
+        if let Some(e) = self.error {
+            return Err(e);
+        }
+        let mut out: Vec<AlertStratum> = self.strata.into_values().collect();
+        for s in &mut out {
+            s.users_accuracy =
+                stratified_proportion(&[count_of(s)], Fpc::Apply)?.map(|p| p.proportion);
+        }
+        Ok(out)
+    }
+}
+
+fn count_of(s: &AlertStratum) -> StratumCount {
+    StratumCount {
+        label: s.stratum.clone(),
+        population: s.population as f64,
+        sampled: s.confirmed + s.false_alarm,
+        successes: s.confirmed,
+    }
+}
+
+fn control_strata(controls: &[ControlFacts]) -> Result<Vec<ControlStratum>, FiguresError> {
+    let mut strata: BTreeMap<&str, ControlStratum> = BTreeMap::new();
+    for c in controls {
+        check_unit(&c.stratum, c.area_ha, c.inclusion_probability)?;
+        let row = strata.entry(&c.stratum).or_insert_with(|| ControlStratum {
+            stratum: c.stratum.clone(),
+            selected: 0,
+            clearing: 0,
+            no_clearing: 0,
+            not_reached: 0,
+            mapped_area_ha: 0.0,
+        });
+        row.selected += 1;
+        row.mapped_area_ha += c.area_ha / c.inclusion_probability;
+        match c.found_clearing {
+            Some(true) => row.clearing += 1,
+            Some(false) => row.no_clearing += 1,
+            None => row.not_reached += 1,
+        }
+    }
+    Ok(strata.into_values().collect())
+}
+
+/// A row of the error matrix before estimation: (stratum, class, clearing, no clearing, area).
+type Row = (String, MapClass, u64, u64, f64);
+
+fn proportion_of(
+    rows: &[&Row],
+    success: impl Fn(&Row) -> u64,
+) -> Result<Option<StratifiedProportion>, FiguresError> {
+    let counts: Vec<StratumCount> = rows
+        .iter()
+        .map(|r| StratumCount {
+            label: r.0.clone(),
+            population: r.4,
+            sampled: r.2 + r.3,
+            successes: success(r),
+        })
+        .collect();
+    Ok(stratified_proportion(&counts, Fpc::Ignore)?)
+}
+
+fn area_assessment(
+    alerts: &[AlertStratum],
+    controls: &[ControlStratum],
+) -> Result<Option<AreaAssessment>, FiguresError> {
+    let rows: Vec<Row> = alerts
+        .iter()
+        .map(|s| {
+            (
+                s.stratum.clone(),
+                MapClass::Alert,
+                s.confirmed,
+                s.false_alarm,
+                s.mapped_area_ha,
+            )
+        })
+        .chain(controls.iter().map(|s| {
+            (
+                s.stratum.clone(),
+                MapClass::NoAlert,
+                s.clearing,
+                s.no_clearing,
+                s.mapped_area_ha,
+            )
+        }))
+        .collect();
+    let all: Vec<&Row> = rows.iter().collect();
+    let of_class = |class| -> Vec<&Row> { rows.iter().filter(|r| r.1 == class).collect() };
+    let Some(clearing) = proportion_of(&all, |r| r.2)? else {
+        return Ok(None);
+    };
+    let Some(correct) = proportion_of(&all, |r| match r.1 {
+        MapClass::Alert => r.2,
+        MapClass::NoAlert => r.3,
+    })?
+    else {
+        return Ok(None);
+    };
+    let users_alert = proportion_of(&of_class(MapClass::Alert), |r| r.2)?.map(|p| p.proportion);
+    let users_no_alert =
+        proportion_of(&of_class(MapClass::NoAlert), |r| r.3)?.map(|p| p.proportion);
+    // Producer's accuracy of clearing from the per-stratum terms.
+    let (mut y, mut z) = (0.0, 0.0);
+    let (mut var_y, mut var_z) = (Some(0.0), Some(0.0));
+    for (row, s) in rows.iter().zip(&clearing.strata) {
+        if matches!(s.status, StratumStatus::Empty | StratumStatus::Unsampled) {
+            continue;
+        }
+        let part = s.weight * s.proportion.unwrap_or(0.0);
+        let (sum, var) = match row.1 {
+            MapClass::Alert => (&mut y, &mut var_y),
+            MapClass::NoAlert => (&mut z, &mut var_z),
+        };
+        *sum += part;
+        *var = var.zip(s.variance_contribution).map(|(a, b)| a + b);
+    }
+    let producers = (y + z > 0.0).then(|| {
+        let p = y / (y + z);
+        let var = var_y
+            .zip(var_z)
+            .map(|(vy, vz)| ((1.0 - p).powi(2) * vy + p * p * vz) / (y + z).powi(2));
+        Estimate::normal(p, var.map(|v| v.max(0.0).sqrt()), 0.0, 1.0)
+    });
+    let matrix = rows
+        .iter()
+        .zip(&clearing.strata)
+        .map(|(r, s)| {
+            let q = s.proportion.unwrap_or(0.0);
+            ErrorMatrixRow {
+                stratum: r.0.clone(),
+                map_class: r.1,
+                clearing: r.2,
+                no_clearing: r.3,
+                mapped_area_ha: r.4,
+                weight: s.weight,
+                cell_clearing: s.weight * q,
+                cell_no_clearing: s.weight * (1.0 - q),
+            }
+        })
+        .collect();
+    Ok(Some(AreaAssessment {
+        rows: matrix,
+        total_area_ha: clearing.population,
+        area_covered_ha: clearing.population_covered,
+        overall_accuracy: correct.proportion,
+        users_accuracy_alert: users_alert,
+        users_accuracy_no_alert: users_no_alert,
+        producers_accuracy_clearing: producers,
+        clearing_proportion: clearing.proportion,
+        clearing_area_ha: clearing.total,
+    }))
+}
+
+/// The assessment figures; `Ok(None)` when no event is sampled and there is
+/// no control point. Errors: an inclusion probability outside (0, 1], an
+/// area that is negative or not finite, two values of `stratum_population`
+/// in one stratum, a control stratum named like an alert stratum, more
+/// respondents than N_h.
+pub fn assessment(
+    events: &[EventFacts],
+    controls: &[ControlFacts],
+) -> Result<Option<Assessment>, FiguresError> {
+    let mut strata = AlertStrata::default();
+    events.iter().for_each(|e| strata.add(e));
+    assessment_of(strata, controls)
+}
+
+/// [`assessment`] of the alert strata gathered already.
+pub(crate) fn assessment_of(
+    strata: AlertStrata<'_>,
+    controls: &[ControlFacts],
+) -> Result<Option<Assessment>, FiguresError> {
+    let alerts = strata.finish()?;
+    let control = control_strata(controls)?;
+    if alerts.is_empty() && control.is_empty() {
+        return Ok(None);
+    }
+    if let Some(c) = control
+        .iter()
+        .find(|c| alerts.iter().any(|a| a.stratum == c.stratum))
+    {
+        return Err(FiguresError::StratumNameClash(c.stratum.clone()));
+    }
+    let counts: Vec<StratumCount> = alerts.iter().map(count_of).collect();
+    let users_accuracy_of_alerts = stratified_proportion(&counts, Fpc::Apply)?;
+    let area = if control.is_empty() {
+        None
+    } else {
+        area_assessment(&alerts, &control)?
+    };
+    Ok(Some(Assessment {
+        basis: Basis::SampleEstimate,
+        alert_strata: alerts,
+        users_accuracy_of_alerts,
+        control_strata: control,
+        area,
+    }))
+}
