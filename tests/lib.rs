@@ -245,13 +245,35 @@ pub fn get_bytes(url: &str) -> (u16, Vec<u8>) {
     (status, bytes)
 }
 
-/// Run an outside tool; `None` (with a printed SKIP) when it is not installed.
+/// Run an outside tool; `None` when it is not installed (see [`missing`]).
 pub fn tool(program: &str, args: &[&str]) -> Option<std::process::Output> {
     match std::process::Command::new(program).args(args).output() {
         Ok(o) => Some(o),
         Err(_) => {
-            println!("SKIP: {program} is not installed (CI installs it; see .ci/run)");
+            missing(&format!(
+                "{program} is not installed (CI installs it; see .ci/run)"
+            ));
             None
         }
     }
+}
+
+/// True when the tests run on CI (`CI` set to anything but empty, `0` or
+/// `false`), where every outside tool must be present.
+pub fn on_ci() -> bool {
+    std::env::var("CI").is_ok_and(|v| !matches!(v.trim(), "" | "0" | "false"))
+}
+
+/// An outside tool the test needs is missing: on CI the test fails (a CI
+/// machine that failed to install a tool must not stay green without
+/// checking anything); on a contributor's machine it says SKIP on stderr
+/// and the caller returns.
+pub fn missing(what: &str) {
+    assert!(!on_ci(), "CI is set and {what}: the check cannot run");
+    eprintln!("SKIP: {what}");
+}
+
+/// The GPX 1.1 schema, kept in the repository so the check runs anywhere.
+pub fn gpx_schema() -> std::path::PathBuf {
+    std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("reference/bundle/gpx-1.1.xsd")
 }

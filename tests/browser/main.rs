@@ -22,7 +22,8 @@
 //! (and, when `GROUNDPROOF_TOUR_DIR` is set, there too: the README's tour
 //! pictures are made this way).
 //!
-//! Skips with a printed SKIP line when Chromium or ChromeDriver is missing.
+//! Fails when `CI` is set and Chromium or ChromeDriver is missing; elsewhere it
+//! says SKIP on stderr and passes.
 
 mod webdriver;
 
@@ -173,7 +174,7 @@ fn coordinator_and_manager_work_through_the_pages_in_chromium() {
     let b = match Browser::start() {
         Ok(b) => b,
         Err(e) => {
-            println!("SKIP: {e}");
+            groundproof_e2e::missing(&e.to_string());
             return;
         }
     };
