@@ -4,10 +4,12 @@
 //! disk). The web layer maps each variant to one HTTP status in one place
 //! (`web::error::status`); nothing below the web layer speaks HTTP.
 //!
-//! The pure modules keep a small precise error of their own, each with one
-//! `From` conversion into [`Error`] (listed in DEVELOPERS.md):
-//! `planning::PlanError`, `planning::coords::CoordsError`,
-//! `planning::sheet::SheetError` and `statistics::estimators::StatsError`.
+//! The pure modules keep a small precise error of their own (listed in
+//! DEVELOPERS.md): `planning::PlanError`, `planning::coords::CoordsError`,
+//! `planning::sheet::SheetError`, `statistics::estimators::StatsError` and
+//! `statistics::figures::FiguresError`. The module that calls them turns
+//! them into [`Error::Invalid`] or [`Error::Internal`] with the context of
+//! the call.
 
 use serde::Serialize;
 use std::fmt;

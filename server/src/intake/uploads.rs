@@ -225,7 +225,7 @@ pub fn append(
                 "the data of upload {id} is lost; start a new upload"
             )));
         }
-        Err(e) => return Err(io(e).into()),
+        Err(e) => return Err(io(e)),
     };
     f.set_len(offset).map_err(io)?;
     f.seek(SeekFrom::Start(offset)).map_err(io)?;

@@ -250,8 +250,7 @@ async fn photo_file(state: web::Data<AppState>, sha: String, thumb: bool) -> Rep
         } else {
             files::photo_path(&st.data_dir, &shac)
         };
-        std::fs::read(&p)
-            .map_err(|e| crate::Error::io(format!("reading {}", p.display()), e).into())
+        std::fs::read(&p).map_err(|e| crate::Error::io(format!("reading {}", p.display()), e))
     })
     .await??;
     let name = if thumb {
