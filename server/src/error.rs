@@ -1,8 +1,18 @@
 //! The server crate's one error type. Variants say how the error reaches
-//! the user: a client fault (bad input, unknown name, conflict) or an
-//! unexpected failure of the machine (database, disk).
+//! the user: a client fault (bad input, unknown name, conflict, a refused or
+//! broken return package) or an unexpected failure of the machine (database,
+//! disk). The web layer maps each variant to one HTTP status in one place
+//! (`web::error::status`); nothing below the web layer speaks HTTP.
+//!
+//! The pure modules keep a small precise error of their own (listed in
+//! DEVELOPERS.md): `planning::PlanError`, `planning::coords::CoordsError`,
+//! `planning::sheet::SheetError`, `statistics::estimators::StatsError` and
+//! `statistics::figures::FiguresError`. The module that calls them turns
+//! them into [`Error::Invalid`] or [`Error::Internal`] with the context of
+//! the call.
 
-use crate::alerts::import::ImportFailure;
+use serde::Serialize;
+use std::fmt;
 
 /// Everything that can go wrong in the server library.
 #[derive(Debug, thiserror::Error)]
@@ -16,6 +26,31 @@ pub enum Error {
     /// The request clashes with what is stored.
     #[error("{0}")]
     Conflict(String),
+    /// A return package's signature or key is refused (unknown key, revoked
+    /// key, forged signature).
+    #[error("{0}")]
+    Refused(String),
+    /// An upload's offset is not the one the client sent (the answer carries
+    /// the upload's offset).
+    #[error("upload offset is {offset}, not {sent}")]
+    OffsetMismatch { offset: u64, sent: u64 },
+    /// An upload is being written by another request (the answer carries
+    /// the upload's offset).
+    #[error("another request is appending to this upload")]
+    Busy { offset: u64 },
+    /// An upload's data was lost; the client starts a new upload.
+    #[error("{0}")]
+    Gone(String),
+    /// A body or a declared size is over a documented bound.
+    #[error("{0}")]
+    TooLarge(String),
+    /// A return package is broken (ZIP structure, bomb, manifest, checksum,
+    /// unreadable reports); nothing of it is stored.
+    #[error("{0}")]
+    Package(String),
+    /// Too many open uploads (server-wide or for the bundle); retry later.
+    #[error("{0}")]
+    Limit(String),
     /// An alert file had errors and nothing was imported.
     #[error("{0}")]
     ImportRejected(ImportFailure),
@@ -38,11 +73,68 @@ pub enum Error {
 }
 
 impl Error {
+    /// A refusal of a return package that is replayed to a later `complete`
+    /// of the same upload (the package itself is bad, so it stays bad).
+    pub fn is_final(&self) -> bool {
+        matches!(self, Error::Refused(_) | Error::Package(_))
+    }
+
     pub fn io(context: impl Into<String>, source: std::io::Error) -> Self {
         Error::Io {
             context: context.into(),
             source,
         }
+    }
+}
+
+/// What an alert import that refused a whole file reports (parsed by
+/// `alerts::import`, carried by [`Error::ImportRejected`]).
+/// A problem with one row or feature: where and what.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct RowError {
+    pub file: String,
+    /// CSV line number (1 is the header) or GeoJSON feature index.
+    pub line: usize,
+    /// "line" for CSV, "feature" for GeoJSON.
+    pub unit: &'static str,
+    pub field: String,
+    pub message: String,
+}
+
+impl fmt::Display for RowError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(
+            f,
+            "{}: {} {}: field '{}': {}",
+            self.file, self.unit, self.line, self.field, self.message
+        )
+    }
+}
+
+/// Why a file imported nothing.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ImportFailure {
+    pub file: String,
+    pub rows_read: usize,
+    pub error_count: usize,
+    /// The first `alerts::import::MAX_LISTED_ERRORS` errors.
+    pub errors: Vec<RowError>,
+}
+
+impl fmt::Display for ImportFailure {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        writeln!(
+            f,
+            "{}: {} error(s) in {} row(s); nothing was imported (use --skip-invalid to import the valid rows)",
+            self.file, self.error_count, self.rows_read
+        )?;
+        for e in &self.errors {
+            writeln!(f, "  {e}")?;
+        }
+        if self.error_count > self.errors.len() {
+            writeln!(f, "  … and {} more", self.error_count - self.errors.len())?;
+        }
+        Ok(())
     }
 }
 

@@ -7,8 +7,10 @@ mod day;
 pub mod geodesy;
 mod lonlat;
 mod name;
+mod role;
 
 pub use confidence::{Confidence, ConfidenceMap};
 pub use day::Day;
 pub use lonlat::LonLat;
 pub use name::{SourceName, ZoneName};
+pub use role::Role;

@@ -111,7 +111,7 @@ fn remove(p: &Path) -> Result<(), IntakeError> {
     match std::fs::remove_file(p) {
         Ok(()) => Ok(()),
         Err(e) if e.kind() == std::io::ErrorKind::NotFound => Ok(()),
-        Err(e) => Err(crate::Error::io(format!("removing {}", p.display()), e).into()),
+        Err(e) => Err(crate::Error::io(format!("removing {}", p.display()), e)),
     }
 }
 

@@ -137,9 +137,7 @@ fn classify(e: SyncError, bundle_cancelled: bool) -> IntakeError {
         SyncError::BadSignature { reason } => {
             IntakeError::Refused(format!("the package signature does not verify: {reason}"))
         }
-        SyncError::Io { .. } | SyncError::Database { .. } => {
-            IntakeError::Server(crate::Error::Internal(e.to_string()))
-        }
+        SyncError::Io { .. } | SyncError::Database { .. } => IntakeError::Internal(e.to_string()),
         other => IntakeError::Package(format!("the package is refused: {other}")),
     }
 }
@@ -156,7 +154,7 @@ fn checklist_for(version: u32) -> Result<Checklist, IntakeError> {
 fn parse_time(s: &str, what: &str) -> Result<DateTime<Utc>, IntakeError> {
     DateTime::parse_from_rfc3339(s)
         .map(|t| t.with_timezone(&Utc))
-        .map_err(|e| IntakeError::Server(crate::Error::Internal(format!("{what} {s:?}: {e}"))))
+        .map_err(|e| IntakeError::Internal(format!("{what} {s:?}: {e}")))
 }
 
 /// Fingerprint of a report's content (its JSON as the contract serialises it).
@@ -470,7 +468,9 @@ pub fn take_in(
                 move_durably(package, &rejected_path(data_dir, sha256))?;
             }
             if let Some(u) = upload {
-                db.write(|tx| tx.fail_upload(&u.id, e.status(), &e.to_string()))?;
+                db.write(|tx| {
+                    tx.fail_upload(&u.id, super::error::refusal_code(&e), &e.to_string())
+                })?;
             }
             Err(e)
         }

@@ -156,7 +156,7 @@ pub fn create(
     })?;
     let upload = db
         .read(|r| r.upload(&upload.id))?
-        .ok_or_else(|| IntakeError::Server(crate::Error::Internal("upload vanished".into())))?;
+        .ok_or_else(|| IntakeError::Internal("upload vanished".into()))?;
     Ok(Created { upload, new: true })
 }
 
@@ -225,7 +225,7 @@ pub fn append(
                 "the data of upload {id} is lost; start a new upload"
             )));
         }
-        Err(e) => return Err(io(e).into()),
+        Err(e) => return Err(io(e)),
     };
     f.set_len(offset).map_err(io)?;
     f.seek(SeekFrom::Start(offset)).map_err(io)?;
@@ -256,10 +256,7 @@ fn replay(u: &UploadRecord) -> IntakeError {
         .error
         .clone()
         .unwrap_or_else(|| "the package was refused".into());
-    match u.error_status {
-        Some(403) => IntakeError::Refused(msg),
-        _ => IntakeError::Package(msg),
-    }
+    super::error::replay(u.error_status, msg)
 }
 
 /// Completes upload `id`: checks size and SHA-256, takes the return in and
@@ -273,9 +270,9 @@ pub fn complete(
     let u = get(db, id)?;
     match u.state.as_str() {
         "done" => {
-            let rid = u.return_id.ok_or_else(|| {
-                IntakeError::Server(crate::Error::Internal("done upload without return".into()))
-            })?;
+            let rid = u
+                .return_id
+                .ok_or_else(|| IntakeError::Internal("done upload without return".into()))?;
             return return_document(db, rid);
         }
         "failed" => return Err(replay(&u)),

@@ -1,65 +1,63 @@
-//! Who may do what, enforced on every request in one place.
+//! Who may do what: the permission of each route is named once, where the
+//! route is registered (`web::configure`, `api::configure`,
+//! `pages::configure`), with [`Access::needs`] or [`Access::public`].
 //!
-//! The middleware resolves the caller (a bearer API or team token, or the
-//! `gp_session` cookie), puts the [`Identity`], its [`Principal`] and the
-//! session's [`CsrfToken`] into the request extensions, maps the route to
-//! an [`Action`] of the access matrix, and refuses what the matrix does not
-//! allow: pages redirect to `/login`, the API answers 401/403 in JSON. A
-//! state change made with a session cookie must come from our own origin
-//! (Origin/Referer/Sec-Fetch-Site) and carry the CSRF token (form field
-//! `csrf_token`, header `x-csrf-token`, or for multipart forms the query
-//! parameter `csrf_token`); bearer-token requests carry no cookie and need
-//! neither.
+//! Two steps make a decision. [`resolve`] (wrapped around the whole app)
+//! finds out who is asking: a bearer API or team token, or the `gp_session`
+//! cookie; it puts the [`Identity`], its [`Principal`], the session and the
+//! session's [`CsrfToken`] into the request extensions. The route's own
+//! check ([`check`], wrapped around the one route) then refuses what the
+//! access matrix does not allow: pages redirect to `/login`, the API answers
+//! 401/403 in JSON. A state change made with a session cookie must come
+//! from our own origin (Origin/Referer/Sec-Fetch-Site) and carry the CSRF
+//! token (form field `csrf_token`, header `x-csrf-token`, or for multipart
+//! forms the query parameter `csrf_token`); bearer-token requests carry no
+//! cookie and need neither. A request that matches no route needs
+//! [`Action::ViewEvents`] before it hears 404 (`web::configure`).
 
 use crate::platform::auth::{self, Action, CsrfToken, Identity, Principal};
 use crate::web::AppState;
 use actix_web::body::{BoxBody, MessageBody};
 use actix_web::dev::{Payload, ServiceRequest, ServiceResponse};
 use actix_web::http::{Method, StatusCode};
-use actix_web::middleware::Next;
-use actix_web::{HttpMessage, HttpResponse, web};
+use actix_web::middleware::{Next, from_fn};
+use actix_web::{HttpMessage, HttpResponse, Route, web};
 use serde_json::json;
 
 /// Largest URL-encoded form body the CSRF check reads.
 const MAX_FORM_BYTES: usize = 64 * 1024;
 
-/// What a route needs; `None` means public.
-pub fn action_for(method: &Method, path: &str) -> Option<Action> {
-    let write = method != Method::GET && method != Method::HEAD;
-    let seg: Vec<&str> = path.trim_matches('/').split('/').collect();
-    match seg.as_slice() {
-        [""] => Some(Action::ViewEvents),
-        ["login"] | ["healthz"] | ["static", ..] => None,
-        ["logout"] => None,
-        ["api", "v1", rest @ ..] => Some(api_action(method, write, rest)),
-        ["import", ..] => Some(Action::ImportAlerts),
-        ["trips", _, "cancel"] => Some(Action::CancelBundle),
-        ["trips", ..] if write => Some(Action::IssueBundle),
-        ["station", ..] => Some(Action::UploadReturn),
-        ["dashboard", ..] => Some(Action::ViewStatistics),
-        ["disputes", ..] if write => Some(Action::Adjudicate),
-        ["disputes", ..] => Some(Action::ViewStatistics),
-        _ => Some(Action::ViewEvents),
+/// What a route needs: nothing (public) or an action of the matrix.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Rule {
+    /// Anyone, signed in or not (the login page, static files, health).
+    Public,
+    /// A caller whose principal [`permits`] the action.
+    Allow(Action),
+}
+
+/// Naming a route's permission where it is registered:
+/// `.route("/trips", web::post().to(trips::issue).needs(Action::IssueBundle))`.
+pub trait Access {
+    /// Only callers allowed `action` reach the handler.
+    fn needs(self, action: Action) -> Route;
+    /// Anyone reaches the handler (a cookie session still needs our origin
+    /// and its CSRF token to change anything).
+    fn public(self) -> Route;
+}
+
+impl Access for Route {
+    fn needs(self, action: Action) -> Route {
+        guarded(self, Rule::Allow(action))
+    }
+
+    fn public(self) -> Route {
+        guarded(self, Rule::Public)
     }
 }
 
-fn api_action(method: &Method, write: bool, rest: &[&str]) -> Action {
-    match rest {
-        ["sources", ..] if write => Action::ManageSources,
-        ["alerts", ..] => Action::ImportAlerts,
-        ["zones", ..] if write => Action::ImportZones,
-        ["teams", ..] if write => Action::ManageTeams,
-        ["bundles", _, "cancel"] => Action::CancelBundle,
-        ["bundles", _, "download"] | ["bundles"] if !write => Action::FetchOwnBundle,
-        ["bundles", ..] if write => Action::IssueBundle,
-        ["uploads", ..] => Action::UploadReturn,
-        ["returns"] if *method == Method::POST => Action::UploadReturn,
-        ["returns", ..] => Action::UploadReturn,
-        ["events", _, "adjudications"] => Action::Adjudicate,
-        ["stats", ..] | ["disputes", ..] => Action::ViewStatistics,
-        ["exports", ..] => Action::Export,
-        _ => Action::ViewEvents,
-    }
+fn guarded(route: Route, rule: Rule) -> Route {
+    route.wrap(from_fn(move |req, next| check(rule, req, next)))
 }
 
 /// Whether `principal` may do `action`; bundle fetching is also open to
@@ -129,9 +127,10 @@ fn form_field(body: &[u8], name: &str) -> Option<String> {
     })
 }
 
-/// The middleware (see the module documentation).
-pub async fn enforce(
-    mut req: ServiceRequest,
+/// Finds out who is asking (see the module documentation); answers 500
+/// when the credentials cannot be checked.
+pub async fn resolve(
+    req: ServiceRequest,
     next: Next<impl MessageBody + 'static>,
 ) -> Result<ServiceResponse<BoxBody>, actix_web::Error> {
     let Some(state) = req.app_data::<web::Data<AppState>>().cloned() else {
@@ -182,12 +181,37 @@ pub async fn enforce(
     if let Some(t) = session.as_ref().and_then(|s| s.csrf_token().ok()) {
         req.extensions_mut().insert(CsrfToken(t));
     }
-    req.extensions_mut().insert(identity.clone());
+    if let Some(s) = session {
+        req.extensions_mut().insert(s);
+    }
+    req.extensions_mut().insert(identity);
     req.extensions_mut().insert(principal);
+    Ok(next.call(req).await?.map_into_boxed_body())
+}
 
+/// The check of one route: `rule` for the caller [`resolve`] found (nobody
+/// when it did not run), then the same-origin and CSRF checks of a cookie
+/// session's state change.
+pub async fn check(
+    rule: Rule,
+    mut req: ServiceRequest,
+    next: Next<impl MessageBody + 'static>,
+) -> Result<ServiceResponse<BoxBody>, actix_web::Error> {
+    let header = |name: &str| {
+        req.headers()
+            .get(name)
+            .and_then(|v| v.to_str().ok())
+            .map(str::to_string)
+    };
+    let principal = req
+        .extensions()
+        .get::<Principal>()
+        .copied()
+        .unwrap_or(Principal::Anonymous);
+    let session = req.extensions().get::<auth::SessionIdentity>().cloned();
     let method = req.method().clone();
     let write = method != Method::GET && method != Method::HEAD && method != Method::OPTIONS;
-    if let Some(action) = action_for(&method, req.path()) {
+    if let Rule::Allow(action) = rule {
         if principal == Principal::Anonymous {
             return Ok(refuse(
                 req,
@@ -263,38 +287,200 @@ pub async fn enforce(
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::platform::auth::Role;
+    use actix_web::test::{TestRequest, call_service, init_service, read_body};
+    use actix_web::{App, http::Method};
+
+    /// Stands in for [`resolve`]: the caller named by the `x-test-as`
+    /// header (none: anonymous, like a request without credentials).
+    async fn as_header(
+        req: ServiceRequest,
+        next: Next<impl MessageBody + 'static>,
+    ) -> Result<ServiceResponse<BoxBody>, actix_web::Error> {
+        let who = req
+            .headers()
+            .get("x-test-as")
+            .and_then(|v| v.to_str().ok())
+            .unwrap_or("")
+            .to_string();
+        let user = |role| Identity::User {
+            user_id: 1,
+            name: "u".into(),
+            role,
+        };
+        let identity = match who.as_str() {
+            "admin" => user(Role::Admin),
+            "coordinator" => user(Role::Coordinator),
+            "manager" => user(Role::Manager),
+            "api-manager" => Identity::ApiToken {
+                token_id: 2,
+                label: "script".into(),
+                role: Role::Manager,
+            },
+            "team" => Identity::Team {
+                token_id: 3,
+                team_name: "Team Amber".into(),
+            },
+            _ => Identity::Anonymous,
+        };
+        req.extensions_mut().insert(identity.principal());
+        req.extensions_mut().insert(identity);
+        Ok(next.call(req).await?.map_into_boxed_body())
+    }
+
+    /// Every registered route with the permission the access matrix of the
+    /// README gives it (the routes as `web::configure` registers them).
+    const ROUTES: &[(&str, &str, Option<Action>)] = &[
+        ("GET", "/", Some(Action::ViewEvents)),
+        ("GET", "/healthz", None),
+        ("GET", "/login", None),
+        ("GET", "/static/app.css", None),
+        ("GET", "/events", Some(Action::ViewEvents)),
+        ("GET", "/events/1", Some(Action::ViewEvents)),
+        ("GET", "/import", Some(Action::ImportAlerts)),
+        ("POST", "/import/alerts", Some(Action::ImportAlerts)),
+        ("POST", "/import/zones", Some(Action::ImportZones)),
+        ("GET", "/trips", Some(Action::ViewEvents)),
+        ("POST", "/trips", Some(Action::IssueBundle)),
+        ("POST", "/trips/x/cancel", Some(Action::CancelBundle)),
+        ("GET", "/station", Some(Action::UploadReturn)),
+        ("POST", "/station", Some(Action::UploadReturn)),
+        ("GET", "/dashboard", Some(Action::ViewStatistics)),
+        ("GET", "/disputes", Some(Action::ViewStatistics)),
+        ("POST", "/disputes/1/adjudicate", Some(Action::Adjudicate)),
+        ("GET", "/no/such/page", Some(Action::ViewEvents)),
+        ("GET", "/api/v1/sources", Some(Action::ViewEvents)),
+        ("POST", "/api/v1/sources", Some(Action::ManageSources)),
+        ("POST", "/api/v1/alerts", Some(Action::ImportAlerts)),
+        ("GET", "/api/v1/zones", Some(Action::ViewEvents)),
+        ("POST", "/api/v1/zones", Some(Action::ImportZones)),
+        ("GET", "/api/v1/events", Some(Action::ViewEvents)),
+        ("GET", "/api/v1/events/1", Some(Action::ViewEvents)),
+        ("GET", "/api/v1/stats", Some(Action::ViewStatistics)),
+        (
+            "GET",
+            "/api/v1/stats/coverage",
+            Some(Action::ViewStatistics),
+        ),
+        ("GET", "/api/v1/disputes", Some(Action::ViewStatistics)),
+        (
+            "POST",
+            "/api/v1/events/1/adjudications",
+            Some(Action::Adjudicate),
+        ),
+        (
+            "GET",
+            "/api/v1/exports/events.geojson",
+            Some(Action::Export),
+        ),
+        ("GET", "/api/v1/teams", Some(Action::ViewEvents)),
+        ("POST", "/api/v1/teams", Some(Action::ManageTeams)),
+        ("GET", "/api/v1/bundles", Some(Action::FetchOwnBundle)),
+        ("POST", "/api/v1/bundles", Some(Action::IssueBundle)),
+        ("GET", "/api/v1/bundles/x", Some(Action::ViewEvents)),
+        (
+            "GET",
+            "/api/v1/bundles/x/download",
+            Some(Action::FetchOwnBundle),
+        ),
+        (
+            "POST",
+            "/api/v1/bundles/x/cancel",
+            Some(Action::CancelBundle),
+        ),
+        ("POST", "/api/v1/uploads", Some(Action::UploadReturn)),
+        ("HEAD", "/api/v1/uploads/u1", Some(Action::UploadReturn)),
+        ("PATCH", "/api/v1/uploads/u1", Some(Action::UploadReturn)),
+        (
+            "POST",
+            "/api/v1/uploads/u1/complete",
+            Some(Action::UploadReturn),
+        ),
+        ("POST", "/api/v1/returns", Some(Action::UploadReturn)),
+        ("GET", "/api/v1/returns/1", Some(Action::UploadReturn)),
+        ("GET", "/api/v1/events/1/reports", Some(Action::ViewEvents)),
+        (
+            "GET",
+            "/api/v1/photos/ab/thumbnail",
+            Some(Action::ViewEvents),
+        ),
+        (
+            "GET",
+            "/api/v1/photos/ab/original",
+            Some(Action::ViewEvents),
+        ),
+        ("GET", "/api/v1/no-such-thing", Some(Action::ViewEvents)),
+    ];
+
+    const CALLERS: [(&str, Principal); 6] = [
+        ("", Principal::Anonymous),
+        ("admin", Principal::Admin),
+        ("coordinator", Principal::Coordinator),
+        ("manager", Principal::Manager),
+        ("api-manager", Principal::Manager),
+        ("team", Principal::Team),
+    ];
+
+    #[actix_web::test]
+    async fn each_route_enforces_the_permission_it_was_registered_with() {
+        let app = init_service(
+            App::new()
+                .wrap(from_fn(as_header))
+                .configure(crate::web::configure),
+        )
+        .await;
+        for &(method, path, action) in ROUTES {
+            for (who, principal) in CALLERS {
+                let req = TestRequest::default()
+                    .method(Method::from_bytes(method.as_bytes()).unwrap())
+                    .uri(path)
+                    .insert_header(("x-test-as", who))
+                    .to_request();
+                let resp = call_service(&app, req).await;
+                let status = resp.status().as_u16();
+                let location = resp
+                    .headers()
+                    .get("location")
+                    .and_then(|v| v.to_str().ok())
+                    .map(str::to_string);
+                let body = String::from_utf8_lossy(&read_body(resp).await).to_string();
+                let api = path.starts_with("/api/");
+                let case = format!("{method} {path} as {principal:?}: {status} {body}");
+                match action {
+                    Some(_) if principal == Principal::Anonymous => {
+                        if api {
+                            assert_eq!(status, 401, "{case}");
+                            assert!(body.contains("log in first"), "{case}");
+                        } else {
+                            assert_eq!(status, 303, "{case}");
+                            let next = if method == "GET" { path } else { "/" };
+                            assert_eq!(location, Some(format!("/login?next={next}")), "{case}");
+                        }
+                    }
+                    Some(a) if !permits(principal, a) => {
+                        assert_eq!(status, 403, "{case}");
+                        let why = format!("your role ({}) may not", principal.as_str());
+                        assert!(body.contains(&why), "{case}");
+                    }
+                    // Let through: the handler answers (here without the
+                    // app state, so not with a refusal of the caller).
+                    _ => assert!(status != 401 && status != 403, "{case}"),
+                }
+            }
+        }
+    }
 
     #[test]
-    fn routes_map_to_actions() {
-        let g = Method::GET;
-        let p = Method::POST;
-        assert_eq!(action_for(&g, "/login"), None);
-        assert_eq!(action_for(&g, "/static/site.css"), None);
-        assert_eq!(action_for(&p, "/api/v1/bundles"), Some(Action::IssueBundle));
-        assert_eq!(
-            action_for(&g, "/api/v1/bundles/x/download"),
-            Some(Action::FetchOwnBundle)
-        );
-        assert_eq!(
-            action_for(&p, "/api/v1/bundles/x/cancel"),
-            Some(Action::CancelBundle)
-        );
-        assert_eq!(
-            action_for(&p, "/api/v1/events/3/adjudications"),
-            Some(Action::Adjudicate)
-        );
-        assert_eq!(
-            action_for(&g, "/api/v1/stats/coverage"),
-            Some(Action::ViewStatistics)
-        );
-        assert_eq!(
-            action_for(&Method::PATCH, "/api/v1/uploads/u1"),
-            Some(Action::UploadReturn)
-        );
-        assert_eq!(
-            action_for(&p, "/disputes/4/adjudicate"),
-            Some(Action::Adjudicate)
-        );
-        assert_eq!(action_for(&g, "/events"), Some(Action::ViewEvents));
+    fn bundle_fetching_is_open_to_teams_and_to_users_who_see_bundles() {
+        for p in [
+            Principal::Admin,
+            Principal::Coordinator,
+            Principal::Manager,
+            Principal::Team,
+        ] {
+            assert!(permits(p, Action::FetchOwnBundle), "{p:?}");
+        }
+        assert!(!permits(Principal::Anonymous, Action::FetchOwnBundle));
+        assert!(!permits(Principal::Team, Action::ViewEvents));
     }
 }

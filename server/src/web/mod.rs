@@ -4,6 +4,7 @@
 //! ([`error`]).
 
 mod access;
+mod adjudication;
 pub mod api;
 pub mod charts;
 mod error;
@@ -48,17 +49,25 @@ impl AppState {
     }
 }
 
-/// Register all routes (used by the server and by tests).
+/// Register all routes (used by the server and by tests). Each route names
+/// its permission here or in `api::configure` / `pages::configure`
+/// ([`access::Access`]); a request that matches no route needs
+/// `ViewEvents` before it hears 404.
 pub fn configure(cfg: &mut web::ServiceConfig) {
+    use access::Access;
     cfg.app_data(web::PayloadConfig::new(MAX_UPLOAD_BYTES))
         .app_data(web::JsonConfig::default().limit(MAX_JSON_BYTES))
         .app_data(web::QueryConfig::default().error_handler(error::query_error))
         .service(web::scope("/api/v1").configure(api::configure))
-        .route("/healthz", web::get().to(api::health))
-        .route("/login", web::get().to(login::form))
-        .route("/login", web::post().to(login::submit))
-        .route("/logout", web::post().to(login::logout))
-        .configure(pages::configure);
+        .route("/healthz", web::get().to(api::health).public())
+        .route("/login", web::get().to(login::form).public())
+        .route("/login", web::post().to(login::submit).public())
+        .route("/logout", web::post().to(login::logout).public())
+        .configure(pages::configure)
+        .default_service(
+            web::to(|| async { actix_web::HttpResponse::NotFound().finish() })
+                .needs(crate::platform::auth::Action::ViewEvents),
+        );
 }
 
 /// Start serving on an already bound listener (port 0 in tests).
@@ -68,7 +77,7 @@ pub fn run(listener: TcpListener, state: AppState) -> std::io::Result<Server> {
     let server = HttpServer::new(move || {
         App::new()
             .app_data(data.clone())
-            .wrap(actix_web::middleware::from_fn(access::enforce))
+            .wrap(actix_web::middleware::from_fn(access::resolve))
             .wrap(actix_web::middleware::Logger::new("%r %s %b %Dms"))
             .configure(configure)
     })

@@ -1,4 +1,6 @@
-//! The one error type of the photo module.
+//! The precise error of the photo module (pure): a verdict on one photo.
+//! It never fails a whole package: intake keeps its message as that photo's
+//! rejection reason. The crate's one error type is [`crate::SyncError`].
 
 /// Why a photo was refused.
 #[derive(Debug, thiserror::Error)]

@@ -13,7 +13,6 @@ pub use zones::{ParsedZone, parse_zones};
 
 use crate::domain::{Confidence, ConfidenceMap, Day, LonLat};
 use serde::Serialize;
-use std::fmt;
 
 /// Largest alert file accepted, bytes (documented in the README).
 pub const MAX_FILE_BYTES: usize = 512 * 1024 * 1024;
@@ -30,54 +29,9 @@ pub struct ParsedAlert {
     pub line: usize,
 }
 
-/// A problem with one row or feature: where and what.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct RowError {
-    pub file: String,
-    /// CSV line number (1 is the header) or GeoJSON feature index.
-    pub line: usize,
-    /// "line" for CSV, "feature" for GeoJSON.
-    pub unit: &'static str,
-    pub field: String,
-    pub message: String,
-}
-
-impl fmt::Display for RowError {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        write!(
-            f,
-            "{}: {} {}: field '{}': {}",
-            self.file, self.unit, self.line, self.field, self.message
-        )
-    }
-}
-
-/// Why a file imported nothing.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct ImportFailure {
-    pub file: String,
-    pub rows_read: usize,
-    pub error_count: usize,
-    /// The first [`MAX_LISTED_ERRORS`] errors.
-    pub errors: Vec<RowError>,
-}
-
-impl fmt::Display for ImportFailure {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        writeln!(
-            f,
-            "{}: {} error(s) in {} row(s); nothing was imported (use --skip-invalid to import the valid rows)",
-            self.file, self.error_count, self.rows_read
-        )?;
-        for e in &self.errors {
-            writeln!(f, "  {e}")?;
-        }
-        if self.error_count > self.errors.len() {
-            writeln!(f, "  … and {} more", self.error_count - self.errors.len())?;
-        }
-        Ok(())
-    }
-}
+// What a failed import reports travels in `crate::Error::ImportRejected`,
+// so it is defined beside the error type (below this module).
+pub use crate::error::{ImportFailure, RowError};
 
 /// The file formats we read.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]

@@ -40,8 +40,6 @@ pub use session::{
 pub use tokens::{API_TOKEN_PREFIX, new_api_token, new_session_token, new_team_token, sha256_hex};
 
 use crate::error::Error;
-use serde::Serialize;
-use std::fmt;
 use std::str::FromStr;
 
 /// The current time in Unix seconds.
@@ -49,33 +47,12 @@ pub fn now_unix() -> i64 {
     chrono::Utc::now().timestamp()
 }
 
-/// The role of a user account (or of an API token).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize)]
-#[serde(rename_all = "lowercase")]
-pub enum Role {
-    /// Manages users and teams; may do everything a user may do.
-    Admin,
-    /// Imports alerts and zones, plans and issues bundles to teams.
-    Coordinator,
-    /// Reads events and statistics, adjudicates findings.
-    Manager,
-}
+pub use crate::domain::Role;
 
-impl Role {
-    pub const ALL: [Role; 3] = [Role::Admin, Role::Coordinator, Role::Manager];
-
-    /// The text stored in the database and shown to people.
-    pub fn as_str(self) -> &'static str {
-        match self {
-            Role::Admin => "admin",
-            Role::Coordinator => "coordinator",
-            Role::Manager => "manager",
-        }
-    }
-
-    /// The principal this role acts as in the access matrix.
-    pub fn principal(self) -> Principal {
-        match self {
+impl From<Role> for Principal {
+    /// The column of the access matrix a role acts as.
+    fn from(role: Role) -> Principal {
+        match role {
             Role::Admin => Principal::Admin,
             Role::Coordinator => Principal::Coordinator,
             Role::Manager => Principal::Manager,
@@ -83,28 +60,12 @@ impl Role {
     }
 }
 
-impl fmt::Display for Role {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        f.write_str(self.as_str())
-    }
-}
-
 impl FromStr for Role {
     type Err = Error;
 
-    /// Parse `admin`, `coordinator` or `manager` (any case, surrounding
-    /// spaces ignored).
+    /// [`Role::parse`], refusing with [`Error::Invalid`].
     fn from_str(s: &str) -> Result<Role, Error> {
-        let t = s.trim();
-        Role::ALL
-            .into_iter()
-            .find(|r| r.as_str().eq_ignore_ascii_case(t))
-            .ok_or_else(|| {
-                Error::Invalid(format!(
-                    "unknown role '{}': expected admin, coordinator or manager",
-                    t.chars().take(40).collect::<String>()
-                ))
-            })
+        Role::parse(s).map_err(Error::Invalid)
     }
 }
 
@@ -133,7 +94,7 @@ impl Identity {
     /// The column of the access matrix this identity uses.
     pub fn principal(&self) -> Principal {
         match self {
-            Identity::User { role, .. } | Identity::ApiToken { role, .. } => role.principal(),
+            Identity::User { role, .. } | Identity::ApiToken { role, .. } => Principal::from(*role),
             Identity::Team { .. } => Principal::Team,
             Identity::Anonymous => Principal::Anonymous,
         }

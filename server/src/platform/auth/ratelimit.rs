@@ -16,14 +16,8 @@
 //! a guesser at about 20 tries an hour per account. Attempts refused while
 //! locked are not verified and not stored, so they do not extend the lock.
 
-/// One stored login attempt.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub struct Attempt {
-    /// Unix seconds.
-    pub at: i64,
-    /// Whether the password was right.
-    pub ok: bool,
-}
+/// One stored login attempt (the row storage reads back).
+pub use crate::platform::storage::LoginAttempt as Attempt;
 
 /// The throttling numbers.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]

@@ -6,8 +6,8 @@
 //! user's sessions in the same transaction (ASVS 5.0 7.4.2, 7.4.3).
 
 use super::{Reader, Tx};
+use crate::domain::Role;
 use crate::error::{Error, Result};
-use crate::platform::auth::{Attempt, Role};
 use rusqlite::{OptionalExtension, params};
 use serde::Serialize;
 
@@ -97,8 +97,14 @@ pub struct TeamTokenRecord {
     pub revoked_at: Option<i64>,
 }
 
-/// A stored login attempt (the pure rate-limit type).
-pub type LoginAttempt = Attempt;
+/// A stored login attempt (what the login throttling in `auth` counts).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct LoginAttempt {
+    /// Unix seconds.
+    pub at: i64,
+    /// Whether the password was right.
+    pub ok: bool,
+}
 
 fn role_of(text: &str) -> rusqlite::Result<Role> {
     text.parse::<Role>().map_err(|e| {
@@ -497,7 +503,7 @@ impl Reader<'_> {
         let mut st = self.conn.prepare(sql)?;
         let v = st
             .query_map(params![key, since], |r| {
-                Ok(Attempt {
+                Ok(LoginAttempt {
                     at: r.get(0)?,
                     ok: r.get::<_, i64>(1)? != 0,
                 })
@@ -692,8 +698,8 @@ mod tests {
         assert_eq!(
             ana,
             vec![
-                Attempt { at: T0, ok: false },
-                Attempt {
+                LoginAttempt { at: T0, ok: false },
+                LoginAttempt {
                     at: T0 + 10,
                     ok: true
                 }
@@ -704,7 +710,7 @@ mod tests {
             .unwrap();
         assert_eq!(
             c1,
-            vec![Attempt {
+            vec![LoginAttempt {
                 at: T0 + 20,
                 ok: false
             }]

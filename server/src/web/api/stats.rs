@@ -1,10 +1,8 @@
-//! Statistics, exports, disputes and adjudication:
-//! `GET /api/v1/stats` (all figures) and `GET /api/v1/stats/{table}`
+//! Statistics: `GET /api/v1/stats` (all figures) and `GET /api/v1/stats/{table}`
 //! (`coverage`, `confirmation`, `response-times`, `time-to-visit`,
 //! `causes`, `teams`, `assessment`; `format=csv` for the tables), filtered
 //! by `from`, `to` (detection dates), `zone`, `team`, `source`; `as_of`
-//! (report date) and `within_days`. `GET /api/v1/disputes`,
-//! `POST /api/v1/events/{id}/adjudications`, `GET /api/v1/exports/events.geojson`.
+//! (report date) and `within_days`.
 
 use crate::domain::Day;
 use crate::error::Error;
@@ -113,82 +111,4 @@ pub async fn one(
         other => return Err(Error::NotFound(format!("no statistic '{other}'")).into()),
     };
     Ok(HttpResponse::Ok().json(v))
-}
-
-/// Events whose reports disagree, with the reports that count.
-pub async fn disputes(state: web::Data<AppState>) -> Result<HttpResponse, ApiError> {
-    let state = state.into_inner();
-    let out = web::block(move || {
-        let p = state.stats.prepared(&state.db, &StatsFilter::default())?;
-        let v: Vec<Value> = p
-            .loaded
-            .statuses
-            .iter()
-            .filter(|(_, s)| s.status == crate::reconcile::Status::Disputed)
-            .map(|(id, s)| json!({"event_id": id, "note": s.note, "reports": s.counted_reports, "teams": s.teams}))
-            .collect();
-        Ok::<_, Error>(v)
-    })
-    .await??;
-    Ok(HttpResponse::Ok().json(out))
-}
-
-#[derive(Deserialize)]
-#[serde(deny_unknown_fields)]
-pub struct AdjudicationBody {
-    outcome: String,
-    reason: String,
-    by: String,
-}
-
-pub async fn adjudicate(
-    state: web::Data<AppState>,
-    path: web::Path<String>,
-    body: web::Json<AdjudicationBody>,
-) -> Result<HttpResponse, ApiError> {
-    let id: i64 = path
-        .parse()
-        .map_err(|_| Error::Invalid(format!("event id '{path}' is not a number")))?;
-    let b = body.into_inner();
-    if crate::statistics::kept::parse_outcome(&b.outcome).is_none() {
-        return Err(Error::Invalid(format!(
-            "field 'outcome': '{}' is not confirmed, false_alarm, inconclusive or not_reached",
-            b.outcome
-        ))
-        .into());
-    }
-    if b.reason.trim().is_empty() || b.reason.chars().count() > 2000 {
-        return Err(
-            Error::Invalid("field 'reason': say why, in 1 to 2000 characters".into()).into(),
-        );
-    }
-    if b.by.trim().is_empty() || b.by.chars().count() > 100 {
-        return Err(Error::Invalid("field 'by': who decided, 1 to 100 characters".into()).into());
-    }
-    let db = state.db.clone();
-    let row = web::block(move || {
-        let ev = db
-            .read(|r| r.event_resolved(id))?
-            .ok_or_else(|| Error::NotFound(format!("no event {id}")))?;
-        db.write(|tx| tx.add_adjudication(ev.id, &b.outcome, b.reason.trim(), b.by.trim()))
-    })
-    .await??;
-    Ok(HttpResponse::Created().json(row))
-}
-
-/// Events with their status and an evidence summary, as GeoJSON.
-pub async fn export_events(state: web::Data<AppState>) -> Result<HttpResponse, ApiError> {
-    let state = state.into_inner();
-    let body = web::block(move || {
-        let p = state.stats.prepared(&state.db, &StatsFilter::default())?;
-        crate::statistics::kept::events_with_status(&state.db, &p.loaded, &state.settings.priority)
-    })
-    .await??;
-    Ok(HttpResponse::Ok()
-        .content_type("application/geo+json")
-        .insert_header((
-            "Content-Disposition",
-            "attachment; filename=\"events.geojson\"",
-        ))
-        .json(body))
 }

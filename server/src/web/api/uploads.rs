@@ -13,62 +13,13 @@
 use crate::intake::uploads::{self, IncomingFile, MAX_APPEND_BYTES};
 use crate::intake::{IntakeError, files};
 use crate::web::AppState;
-use actix_web::http::StatusCode;
-use actix_web::{HttpRequest, HttpResponse, ResponseError, web};
+use crate::web::error::ApiError;
+use actix_web::{HttpRequest, HttpResponse, web};
 use futures_util::StreamExt;
 use serde::Deserialize;
 use serde_json::json;
 
-/// The HTTP face of [`IntakeError`].
-#[derive(Debug)]
-pub struct IntakeHttpError(pub IntakeError);
-
-impl std::fmt::Display for IntakeHttpError {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        self.0.fmt(f)
-    }
-}
-
-impl From<IntakeError> for IntakeHttpError {
-    fn from(e: IntakeError) -> Self {
-        IntakeHttpError(e)
-    }
-}
-
-impl From<crate::Error> for IntakeHttpError {
-    fn from(e: crate::Error) -> Self {
-        IntakeHttpError(IntakeError::Server(e))
-    }
-}
-
-impl From<actix_web::error::BlockingError> for IntakeHttpError {
-    fn from(_: actix_web::error::BlockingError) -> Self {
-        IntakeHttpError(IntakeError::Server(crate::Error::Internal(
-            "the server is shutting down".into(),
-        )))
-    }
-}
-
-impl ResponseError for IntakeHttpError {
-    fn status_code(&self) -> StatusCode {
-        StatusCode::from_u16(self.0.status()).unwrap_or(StatusCode::INTERNAL_SERVER_ERROR)
-    }
-
-    fn error_response(&self) -> HttpResponse {
-        let status = self.status_code();
-        let mut b = HttpResponse::build(status);
-        if let IntakeError::OffsetMismatch { offset, .. } | IntakeError::Busy { offset } = &self.0 {
-            b.insert_header(("Upload-Offset", offset.to_string()));
-        }
-        if status.is_server_error() {
-            tracing::error!(error = %self.0, "intake request failed");
-            return b.json(json!({"error": "internal error; see the server log"}));
-        }
-        b.json(json!({"error": self.0.to_string()}))
-    }
-}
-
-type Reply = Result<HttpResponse, IntakeHttpError>;
+type Reply = Result<HttpResponse, ApiError>;
 
 /// The body of `POST /api/v1/uploads`.
 #[derive(Deserialize)]
@@ -299,8 +250,7 @@ async fn photo_file(state: web::Data<AppState>, sha: String, thumb: bool) -> Rep
         } else {
             files::photo_path(&st.data_dir, &shac)
         };
-        std::fs::read(&p)
-            .map_err(|e| crate::Error::io(format!("reading {}", p.display()), e).into())
+        std::fs::read(&p).map_err(|e| crate::Error::io(format!("reading {}", p.display()), e))
     })
     .await??;
     let name = if thumb {
@@ -329,13 +279,30 @@ pub async fn original(state: web::Data<AppState>, path: web::Path<String>) -> Re
 
 /// Register the routes of this module (inside the `/api/v1` scope).
 pub fn configure(cfg: &mut web::ServiceConfig) {
-    cfg.route("/uploads", web::post().to(create))
-        .route("/uploads/{id}", web::head().to(head))
-        .route("/uploads/{id}", web::patch().to(patch))
-        .route("/uploads/{id}/complete", web::post().to(complete))
-        .route("/returns", web::post().to(post_return))
-        .route("/returns/{id}", web::get().to(get_return))
-        .route("/events/{id}/reports", web::get().to(event_reports))
-        .route("/photos/{sha}/thumbnail", web::get().to(thumbnail))
-        .route("/photos/{sha}/original", web::get().to(original));
+    use crate::platform::auth::Action::{UploadReturn, ViewEvents};
+    use crate::web::access::Access;
+    cfg.route("/uploads", web::post().to(create).needs(UploadReturn))
+        .route("/uploads/{id}", web::head().to(head).needs(UploadReturn))
+        .route("/uploads/{id}", web::patch().to(patch).needs(UploadReturn))
+        .route(
+            "/uploads/{id}/complete",
+            web::post().to(complete).needs(UploadReturn),
+        )
+        .route("/returns", web::post().to(post_return).needs(UploadReturn))
+        .route(
+            "/returns/{id}",
+            web::get().to(get_return).needs(UploadReturn),
+        )
+        .route(
+            "/events/{id}/reports",
+            web::get().to(event_reports).needs(ViewEvents),
+        )
+        .route(
+            "/photos/{sha}/thumbnail",
+            web::get().to(thumbnail).needs(ViewEvents),
+        )
+        .route(
+            "/photos/{sha}/original",
+            web::get().to(original).needs(ViewEvents),
+        );
 }

@@ -1,13 +1,14 @@
 //! What every page shares: who is asking (from the request extensions the
-//! auth layer sets), the access check, the layout fields of
-//! `templates/base.html`, the page error type and its HTML rendering, and
+//! auth layer sets), the layout fields of
+//! `templates/base.html`, the HTML rendering of the page error type
+//! ([`PageError`], made from [`crate::Error`] in `web::error`), and
 //! small text formatters.
 //!
-//! Access: when the auth layer has put a [`Principal`] (or an
-//! [`Identity`]) on the request, every page checks
-//! [`crate::platform::auth::allowed`] for its action and answers 403 with a page
-//! otherwise. With neither (auth not wired, as in the API today) pages are
-//! open, like the API.
+//! Access is decided before a handler runs, from the permission named where
+//! its route is registered (`pages::configure`, checked by `web::access`).
+//! [`Viewer::may`] only shows or hides links and forms.
+
+pub use crate::web::error::PageError;
 
 use crate::platform::auth::{Action, Identity, Principal, allowed};
 use actix_web::http::StatusCode;
@@ -50,29 +51,10 @@ impl Viewer {
         }
     }
 
-    /// May this viewer do `action`? (Open when no auth layer ran.)
+    /// May this viewer do `action`? (Open when no auth layer ran.) For
+    /// showing links and forms; the route's own check is the gate.
     pub fn may(&self, action: Action) -> bool {
         self.principal.is_none_or(|p| allowed(p, action))
-    }
-
-    /// `Err` with a 403 page error unless the viewer may do `action`.
-    pub fn require(&self, action: Action) -> Result<(), PageError> {
-        if self.may(action) {
-            return Ok(());
-        }
-        let who = self.principal.map_or("anonymous", Principal::as_str);
-        let status = if self.principal == Some(Principal::Anonymous) {
-            StatusCode::UNAUTHORIZED
-        } else {
-            StatusCode::FORBIDDEN
-        };
-        Err(PageError::new(
-            status,
-            format!(
-                "Your role ({who}) may not {}. Ask an administrator if you need to.",
-                action.describe()
-            ),
-        ))
     }
 }
 
@@ -124,96 +106,6 @@ impl Layout {
             csrf: super::csrf_field(req),
             csrf_query: super::csrf_query(req),
         }
-    }
-}
-
-/// Why a page could not be shown; rendered as an HTML page with the status.
-#[derive(Debug, thiserror::Error)]
-#[error("{message}")]
-pub struct PageError {
-    pub status: StatusCode,
-    pub message: String,
-    /// More lines (for example the errors of a file, with line numbers).
-    pub details: Vec<String>,
-}
-
-impl PageError {
-    pub fn new(status: StatusCode, message: impl Into<String>) -> PageError {
-        PageError {
-            status,
-            message: message.into(),
-            details: Vec::new(),
-        }
-    }
-
-    pub fn bad_request(message: impl Into<String>) -> PageError {
-        PageError::new(StatusCode::BAD_REQUEST, message)
-    }
-
-    pub fn too_large(message: impl Into<String>) -> PageError {
-        PageError::new(StatusCode::PAYLOAD_TOO_LARGE, message)
-    }
-
-    pub fn unprocessable(message: impl Into<String>) -> PageError {
-        PageError::new(StatusCode::UNPROCESSABLE_ENTITY, message)
-    }
-}
-
-impl From<crate::Error> for PageError {
-    fn from(e: crate::Error) -> Self {
-        use crate::Error as E;
-        let status = match &e {
-            E::Invalid(_) => StatusCode::BAD_REQUEST,
-            E::ImportRejected(_) => StatusCode::UNPROCESSABLE_ENTITY,
-            E::NotFound(_) => StatusCode::NOT_FOUND,
-            E::Conflict(_) => StatusCode::CONFLICT,
-            _ => StatusCode::INTERNAL_SERVER_ERROR,
-        };
-        if status.is_server_error() {
-            tracing::error!(error = %e, "page failed");
-            return PageError::new(status, "Internal error; see the server log.");
-        }
-        match e {
-            E::ImportRejected(f) => PageError {
-                status,
-                message: format!(
-                    "{}: {} error(s) in {} row(s); nothing was imported. Tick \"skip invalid rows\" to import the valid rows.",
-                    f.file, f.error_count, f.rows_read
-                ),
-                details: f.errors.iter().map(|r| r.to_string()).collect(),
-            },
-            other => PageError::new(status, other.to_string()),
-        }
-    }
-}
-
-impl From<crate::intake::IntakeError> for PageError {
-    fn from(e: crate::intake::IntakeError) -> Self {
-        let status = StatusCode::from_u16(e.status()).unwrap_or(StatusCode::INTERNAL_SERVER_ERROR);
-        if status.is_server_error() {
-            tracing::error!(error = %e, "return intake failed");
-            return PageError::new(status, "Internal error; see the server log.");
-        }
-        PageError::new(status, e.to_string())
-    }
-}
-
-impl From<actix_web::error::BlockingError> for PageError {
-    fn from(_: actix_web::error::BlockingError) -> Self {
-        PageError::new(
-            StatusCode::SERVICE_UNAVAILABLE,
-            "The server is shutting down; try again.",
-        )
-    }
-}
-
-impl From<askama::Error> for PageError {
-    fn from(e: askama::Error) -> Self {
-        tracing::error!(error = %e, "template failed");
-        PageError::new(
-            StatusCode::INTERNAL_SERVER_ERROR,
-            "Internal error; see the server log.",
-        )
     }
 }
 
@@ -365,24 +257,20 @@ mod tests {
     }
 
     #[test]
-    fn access_is_open_without_auth_and_checked_with_it() {
+    fn controls_show_by_the_access_matrix() {
         let open = Viewer::default();
         assert!(open.may(Action::IssueBundle));
         let mgr = Viewer {
             name: Some("m".into()),
             principal: Some(Principal::Manager),
         };
-        // Access matrix (server/src/auth/access.rs): managers may not issue bundles.
-        let e = mgr.require(Action::IssueBundle).unwrap_err();
-        assert_eq!(e.status, StatusCode::FORBIDDEN);
-        assert!(mgr.require(Action::ViewStatistics).is_ok());
+        // Access matrix (server/src/platform/auth/access.rs): managers may not issue bundles.
+        assert!(!mgr.may(Action::IssueBundle));
+        assert!(mgr.may(Action::ViewStatistics));
         let anon = Viewer {
             name: None,
             principal: Some(Principal::Anonymous),
         };
-        assert_eq!(
-            anon.require(Action::ViewEvents).unwrap_err().status,
-            StatusCode::UNAUTHORIZED
-        );
+        assert!(!anon.may(Action::ViewEvents));
     }
 }

@@ -9,17 +9,13 @@ use crate::error::Error;
 use crate::planning::codes::event_code;
 use crate::platform::auth::Action;
 use crate::reconcile::Status;
-use crate::statistics::kept::{StatsFilter, parse_outcome};
+use crate::statistics::kept::StatsFilter;
 use crate::web::AppState;
+use crate::web::adjudication::{self, BadField, MAX_BY_CHARS, MAX_REASON_CHARS, Ruling};
 use actix_web::http::StatusCode;
 use actix_web::{HttpRequest, HttpResponse, web};
 use askama::Template;
 use serde::Deserialize;
-
-/// Longest reason, characters (the API's bound).
-pub const MAX_REASON_CHARS: usize = 2000;
-/// Longest decider name, characters (the API's bound).
-pub const MAX_BY_CHARS: usize = 100;
 
 /// The outcomes an adjudication may settle on: (stored word, label).
 pub const OUTCOMES: [(&str, &str); 4] = [
@@ -65,33 +61,24 @@ pub struct AdjudicationForm {
     pub by: Option<String>,
 }
 
-/// Check the form; `by` comes from the logged-in user when known.
-pub fn validate(
-    f: &AdjudicationForm,
-    user: Option<&str>,
-) -> Result<(String, String, String), PageError> {
-    let outcome = f.outcome.as_deref().map(str::trim).unwrap_or_default();
-    if parse_outcome(outcome).is_none() {
-        return Err(PageError::bad_request(
-            "Outcome: choose confirmed, false alarm, inconclusive or not reached.",
-        ));
-    }
-    let reason = f.reason.as_deref().map(str::trim).unwrap_or_default();
-    if reason.is_empty() || reason.chars().count() > MAX_REASON_CHARS {
-        return Err(PageError::bad_request(format!(
-            "Reason: say why, in 1 to {MAX_REASON_CHARS} characters."
-        )));
-    }
-    let by = user
-        .map(str::to_string)
-        .or_else(|| f.by.as_deref().map(|s| s.trim().to_string()))
-        .unwrap_or_default();
-    if by.is_empty() || by.chars().count() > MAX_BY_CHARS {
-        return Err(PageError::bad_request(format!(
-            "Decided by: your name, 1 to {MAX_BY_CHARS} characters."
-        )));
-    }
-    Ok((outcome.to_string(), reason.to_string(), by))
+/// Check the form ([`Ruling::check`]); `by` comes from the logged-in user
+/// when known. A refusal names the form's label.
+pub fn validate(f: &AdjudicationForm, user: Option<&str>) -> Result<Ruling, PageError> {
+    let by = user.or(f.by.as_deref()).unwrap_or_default();
+    Ruling::check(
+        f.outcome.as_deref().unwrap_or_default(),
+        f.reason.as_deref().unwrap_or_default(),
+        by,
+    )
+    .map_err(|field| {
+        PageError::bad_request(match field {
+            BadField::Outcome => {
+                "Outcome: choose confirmed, false alarm, inconclusive or not reached.".to_string()
+            }
+            BadField::Reason => format!("Reason: say why, in 1 to {MAX_REASON_CHARS} characters."),
+            BadField::By => format!("Decided by: your name, 1 to {MAX_BY_CHARS} characters."),
+        })
+    })
 }
 
 async fn disputes_page(
@@ -165,7 +152,6 @@ pub async fn list(
 ) -> HttpResponse {
     let viewer = Viewer::of(&req);
     let r = async {
-        viewer.require(Action::ViewStatistics)?;
         let done = q.ok().and_then(|q| q.done);
         disputes_page(&req, &state, &viewer, None, done).await
     }
@@ -181,9 +167,6 @@ pub async fn adjudicate(
     form: Result<web::Form<AdjudicationForm>, actix_web::Error>,
 ) -> HttpResponse {
     let viewer = Viewer::of(&req);
-    if let Err(e) = viewer.require(Action::Adjudicate) {
-        return respond(&req, &viewer, Err(e));
-    }
     let id: i64 = match path.parse() {
         Ok(id) => id,
         Err(_) => {
@@ -194,16 +177,11 @@ pub async fn adjudicate(
     let r = async {
         let f =
             form.map_err(|e| PageError::bad_request(format!("The form could not be read: {e}")))?;
-        let (outcome, reason, by) = validate(&f, viewer.name.as_deref())?;
+        let ruling = validate(&f, viewer.name.as_deref())?;
         let db = state.db.clone();
-        let live = web::block(move || {
-            let ev = db
-                .read(|r| r.event_resolved(id))?
-                .ok_or_else(|| Error::NotFound(format!("no event {id}")))?;
-            db.write(|tx| tx.add_adjudication(ev.id, &outcome, &reason, &by))?;
-            Ok::<_, Error>(ev.id)
-        })
-        .await??;
+        let live = web::block(move || adjudication::record(&db, id, &ruling))
+            .await??
+            .event_id;
         Ok::<_, PageError>(see_other(&format!("/disputes?done={live}")))
     }
     .await;
@@ -230,17 +208,17 @@ mod tests {
 
     #[test]
     fn the_logged_in_user_decides() {
-        let (o, r, by) = validate(
+        let r = validate(
             &form("false_alarm", " standing forest ", "typed"),
             Some("mgr one"),
         )
         .unwrap();
         assert_eq!(
-            (o.as_str(), r.as_str(), by.as_str()),
+            (r.outcome.as_str(), r.reason.as_str(), r.by.as_str()),
             ("false_alarm", "standing forest", "mgr one")
         );
-        let (_, _, by) = validate(&form("confirmed", "fresh stumps", " Ana "), None).unwrap();
-        assert_eq!(by, "Ana");
+        let r = validate(&form("confirmed", "fresh stumps", " Ana "), None).unwrap();
+        assert_eq!(r.by, "Ana");
     }
 
     #[test]

@@ -14,9 +14,11 @@
 //! | `GET /disputes`, `POST /disputes/{id}/adjudicate` | disputes |
 //! | `GET /static/app.css` | the style sheet |
 //!
-//! Who is asking comes from request extensions the auth layer sets
-//! ([`crate::platform::auth::Identity`] or [`crate::platform::auth::Principal`]); every POST
-//! form carries [`csrf_field`].
+//! Each route's permission is named in [`configure`] and checked before its
+//! handler runs (`web::access`); handlers read who is asking from the request
+//! extensions ([`crate::platform::auth::Identity`] or
+//! [`crate::platform::auth::Principal`]) only to show or hide controls. Every
+//! POST form carries [`csrf_field`].
 
 mod assets;
 mod common;
@@ -75,25 +77,46 @@ pub async fn home(req: HttpRequest) -> HttpResponse {
         .finish()
 }
 
-/// Register the page routes (after the `/api/v1` scope).
+/// Register the page routes (after the `/api/v1` scope), each with the
+/// permission it needs.
 pub fn configure(cfg: &mut web::ServiceConfig) {
-    cfg.route("/", web::get().to(home))
-        .route("/static/{name}", web::get().to(assets::asset))
-        .route("/events", web::get().to(events::list))
-        .route("/events/{id}", web::get().to(events::one))
-        .route("/import", web::get().to(import::form))
-        .route("/import/alerts", web::post().to(import::alerts))
-        .route("/import/zones", web::post().to(import::zones))
-        .route("/trips", web::get().to(trips::list))
-        .route("/trips", web::post().to(trips::issue))
-        .route("/trips/{id}/cancel", web::post().to(trips::cancel))
-        .route("/station", web::get().to(station::form))
-        .route("/station", web::post().to(station::upload))
-        .route("/dashboard", web::get().to(dashboard::show))
-        .route("/disputes", web::get().to(disputes::list))
+    use crate::platform::auth::Action::*;
+    use crate::web::access::Access;
+    cfg.route("/", web::get().to(home).needs(ViewEvents))
+        .route("/static/{name}", web::get().to(assets::asset).public())
+        .route("/events", web::get().to(events::list).needs(ViewEvents))
+        .route("/events/{id}", web::get().to(events::one).needs(ViewEvents))
+        .route("/import", web::get().to(import::form).needs(ImportAlerts))
+        .route(
+            "/import/alerts",
+            web::post().to(import::alerts).needs(ImportAlerts),
+        )
+        .route(
+            "/import/zones",
+            web::post().to(import::zones).needs(ImportZones),
+        )
+        .route("/trips", web::get().to(trips::list).needs(ViewEvents))
+        .route("/trips", web::post().to(trips::issue).needs(IssueBundle))
+        .route(
+            "/trips/{id}/cancel",
+            web::post().to(trips::cancel).needs(CancelBundle),
+        )
+        .route("/station", web::get().to(station::form).needs(UploadReturn))
+        .route(
+            "/station",
+            web::post().to(station::upload).needs(UploadReturn),
+        )
+        .route(
+            "/dashboard",
+            web::get().to(dashboard::show).needs(ViewStatistics),
+        )
+        .route(
+            "/disputes",
+            web::get().to(disputes::list).needs(ViewStatistics),
+        )
         .route(
             "/disputes/{id}/adjudicate",
-            web::post().to(disputes::adjudicate),
+            web::post().to(disputes::adjudicate).needs(Adjudicate),
         );
 }
 

@@ -9,7 +9,6 @@ use super::common::{Layout, PageError, Viewer, html, respond};
 use super::form::{field_name, human_bytes, next_chunk, next_field, read_bounded};
 use crate::intake::IntakeOptions;
 use crate::intake::uploads::{IncomingFile, take_in_whole};
-use crate::platform::auth::Action;
 use crate::web::AppState;
 use crate::web::pages::common::MAX_TEXT_FIELD_BYTES;
 use actix_multipart::Multipart;
@@ -75,9 +74,6 @@ fn render(
 /// `GET /station`.
 pub async fn form(req: HttpRequest) -> HttpResponse {
     let viewer = Viewer::of(&req);
-    if let Err(e) = viewer.require(Action::UploadReturn) {
-        return respond(&req, &viewer, Err(e));
-    }
     render(&req, &viewer, None, None)
 }
 
@@ -161,9 +157,6 @@ async fn receive(state: &AppState, mut mp: Multipart) -> Result<Received, PageEr
 /// `POST /station` (multipart: `package`, the return ZIP).
 pub async fn upload(req: HttpRequest, state: web::Data<AppState>, mp: Multipart) -> HttpResponse {
     let viewer = Viewer::of(&req);
-    if let Err(e) = viewer.require(Action::UploadReturn) {
-        return respond(&req, &viewer, Err(e));
-    }
     match receive(&state, mp).await {
         Ok(r) => render(&req, &viewer, None, Some(r)),
         Err(e) => render(&req, &viewer, Some(e), None),
