@@ -3,8 +3,7 @@
 //! with a note on the projection.
 
 use super::axis::format_number;
-use super::map::status_colour;
-use super::palette::{AXIS, BLACK, ORANGE, Rgb, TEXT, TEXT_MUTED, ZONE_FILL};
+use super::palette::{AXIS, BLACK, ORANGE, Rgb, TEXT, TEXT_MUTED, ZONE_FILL, status_colour};
 use super::projection::{Frame, MAP_W, MAP_X0, scale_label, scale_length_m};
 use super::svg::{escape, px, text};
 use super::types::EventStatus;
