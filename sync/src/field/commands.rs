@@ -47,7 +47,7 @@ pub fn execute(cli: Cli) -> Result<(), SyncError> {
                 chunk_bytes,
                 ..crate::client::PushOptions::default()
             };
-            let summary = crate::client::push(ws, &server, token.as_deref(), &options)?;
+            let summary = super::push(ws, &server, token.as_deref(), &options)?;
             println!(
                 "pushed {} bytes: {} accepted, {} duplicate, {} rejected",
                 summary.bytes,
