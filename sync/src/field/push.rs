@@ -1,23 +1,24 @@
-//! `groundproof-field push`: packs the workspace's unsent reports into a
-//! return, hands the package to the push client ([`crate::client::send`]),
-//! and marks each report acknowledged or rejected in the outbox.
+//! `groundproof-field pack` and `push`: packs the workspace's reports into a
+//! signed return; a push packs the unsent ones, hands the package to the
+//! push client ([`crate::client::send`]), and marks each report
+//! acknowledged or rejected in the outbox.
 //!
 //! The packed return is kept in `outgoing/pending.zip` with the list of its
 //! reports, so a push interrupted by a crash or a flat battery resumes the
 //! same upload (same SHA-256) instead of starting a new one.
 
-use std::path::Path;
+use std::collections::BTreeSet;
+use std::path::{Path, PathBuf};
 
-use chrono::Utc;
+use chrono::{DateTime, Utc};
 use serde::{Deserialize, Serialize};
 use uuid::Uuid;
 
-use super::commands::pack_workspace;
 use super::workspace::{OUTGOING, Snapshot};
 use crate::SyncError;
 use crate::client::{Package, PushOptions, send};
 use crate::outbox::{Outbox, PushState, write_atomic};
-use crate::returns::sha256_file;
+use crate::returns::{ReturnHeader, ReturnManifest, pack_return, sha256_file};
 
 /// Pending return file in `outgoing/`.
 pub const PENDING_ZIP: &str = "pending.zip";
@@ -43,6 +44,81 @@ pub struct PushSummary {
     pub rejected: Vec<(Uuid, String)>,
     /// Failed requests that were retried.
     pub retries: u32,
+}
+
+/// What [`pack_workspace`] wrote.
+#[derive(Debug, Clone)]
+pub struct PackSummary {
+    /// The return file.
+    pub path: PathBuf,
+    /// Its manifest.
+    pub manifest: ReturnManifest,
+    /// Ids of the reports in it.
+    pub report_ids: Vec<uuid::Uuid>,
+}
+
+/// Packs the workspace's reports into a signed return at `out` (written to a
+/// temporary file and renamed). Without `all`, acknowledged and rejected reports
+/// are left out. Fails when there is nothing to pack.
+pub fn pack_workspace(
+    ws: &Path,
+    out: &Path,
+    all: bool,
+    now: DateTime<Utc>,
+) -> Result<PackSummary, SyncError> {
+    let snap = Snapshot::load(ws)?;
+    let outbox = Outbox::open(ws)?;
+    let reports: Vec<_> = outbox
+        .reports()?
+        .into_iter()
+        .filter(|r| all || matches!(r.state, PushState::NotSent | PushState::Sent))
+        .map(|r| r.report)
+        .collect();
+    if reports.is_empty() {
+        return Err(SyncError::Usage(
+            "nothing to pack: every report is acknowledged or rejected (use --all to pack them anyway)"
+                .into(),
+        ));
+    }
+    let shas: BTreeSet<&str> = reports
+        .iter()
+        .flat_map(|r| r.photos.iter().map(|p| p.sha256.as_str()))
+        .collect();
+    let photos: Vec<PathBuf> = shas.iter().map(|s| outbox.photo_path(s)).collect();
+    let header = ReturnHeader {
+        bundle_id: snap.bundle_id,
+        team: snap.team.clone(),
+        checklist_version: snap.checklist.version,
+        created_at: now,
+    };
+    let dir = match out.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p.to_owned(),
+        _ => PathBuf::from("."),
+    };
+    std::fs::create_dir_all(&dir)
+        .map_err(|e| SyncError::io(format!("create {}", dir.display()), e))?;
+    let mut tmp = tempfile::Builder::new()
+        .prefix(".return-")
+        .tempfile_in(&dir)
+        .map_err(|e| SyncError::io("create temporary return", e))?;
+    let manifest = pack_return(
+        std::io::BufWriter::new(tmp.as_file_mut()),
+        &header,
+        &snap.upload_key()?,
+        &reports,
+        &photos,
+    )?;
+    tmp.as_file()
+        .sync_all()
+        .map_err(|e| SyncError::io("fsync return", e))?;
+    tmp.persist(out)
+        .map_err(|e| SyncError::io(format!("write {}", out.display()), e.error))?;
+    crate::outbox::sync_dir(&dir)?;
+    Ok(PackSummary {
+        path: out.to_owned(),
+        manifest,
+        report_ids: reports.iter().map(|r| r.report_id).collect(),
+    })
 }
 
 #[derive(Debug, Serialize, Deserialize, PartialEq)]

@@ -5,8 +5,8 @@
 //! Nothing is fetched: no tiles, no script.
 
 use super::axis::format_number;
-use super::map_parts::{LEGEND_COLS, legend, north_arrow, scale_bar};
-use super::palette::{AXIS, BLACK, ORANGE, TEXT, ZONE_FILL, status_colour};
+use super::map_parts::{LEGEND_COLS, legend, north_arrow, scale_bar, status_colour};
+use super::palette::{AXIS, BLACK, ORANGE, TEXT, ZONE_FILL};
 use super::projection::{Frame, MAP_W, MAP_X0, MAP_Y0, usable};
 use super::svg::{self, escape, px};
 use super::types::{EventStatus, MapEvent, MapInput, MapZone};

@@ -6,7 +6,6 @@
 //! swatches, never for text; every label is drawn in `TEXT` or
 //! `TEXT_MUTED`, and `contrast_ratio` guards both (see the tests).
 
-use super::types::EventStatus;
 use std::fmt;
 
 /// An sRGB colour.
@@ -112,18 +111,6 @@ pub fn series_colour(i: usize) -> Rgb {
 /// Dash pattern of series `i`.
 pub fn series_dash(i: usize) -> &'static str {
     DASHES[i % DASHES.len()]
-}
-
-/// Fill of an event status.
-pub fn status_colour(s: EventStatus) -> Rgb {
-    match s {
-        EventStatus::Unvisited => GREY,
-        EventStatus::NotReached => REDDISH_PURPLE,
-        EventStatus::Confirmed => VERMILLION,
-        EventStatus::FalseAlarm => BLUISH_GREEN,
-        EventStatus::Inconclusive => YELLOW,
-        EventStatus::Disputed => BLUE,
-    }
 }
 
 #[cfg(test)]
