@@ -43,9 +43,9 @@ use uuid::Uuid;
 
 use crate::photos::{PhotoMetaIn, make_photo};
 
-/// Mean Earth radius in metres (IUGG mean radius R1 = 6,371,008.8 m, common
-/// practice for short spherical offsets).
-const EARTH_RADIUS_M: f64 = 6_371_008.8;
+/// Mean Earth radius in metres (IUGG mean radius R1, the one radius the
+/// office and the field share; common practice for short spherical offsets).
+const EARTH_RADIUS_M: f64 = groundproof_sync::geodesy::MEAN_RADIUS_M;
 /// Near photos are taken this far from the event centroid at most (metres).
 pub const NEAR_PHOTO_MAX_M: f64 = 30.0;
 /// The far photo is taken between these distances from its event (metres).
@@ -167,7 +167,7 @@ pub struct RecordedReport {
 /// One device's workspace and its packed return.
 #[derive(Debug, Clone, PartialEq)]
 pub struct DeviceReturn {
-    /// The field kit workspace (can be pushed with `groundproof_sync::client::push`).
+    /// The field kit workspace (can be pushed with `groundproof_sync::field::push`).
     pub workspace: PathBuf,
     /// The signed return ZIP written by `pack`.
     pub zip: PathBuf,

@@ -187,7 +187,7 @@ pub fn run_trips(
             mock_patrols::field::make_trip_return(bundle, &dir, &plan, DEMO_SEED + i as u64)
                 .map_err(|e| Error::Internal(format!("demo trip {}: {e}", i + 1)))?;
         for device in &outcome.returns {
-            let pushed = groundproof_sync::client::push(
+            let pushed = groundproof_sync::field::push(
                 &device.workspace,
                 server_url,
                 Some(&token),

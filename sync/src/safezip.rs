@@ -274,6 +274,34 @@ fn check_overlap(ranges: &mut [(Range<u64>, String)]) -> Result<(), SyncError> {
     Ok(())
 }
 
+/// Checks an entry read whole against what its manifest lists: the size
+/// first, then the SHA-256 the reader accumulated.
+pub(crate) fn check_digest(
+    name: &str,
+    expected_size: u64,
+    expected: &str,
+    size: u64,
+    hasher: sha2::Sha256,
+) -> Result<(), SyncError> {
+    use sha2::Digest;
+    if size != expected_size {
+        return Err(SyncError::SizeMismatch {
+            name: name.to_owned(),
+            expected: expected_size,
+            actual: size,
+        });
+    }
+    let actual = hex::encode(hasher.finalize());
+    if actual != expected {
+        return Err(SyncError::ChecksumMismatch {
+            name: name.to_owned(),
+            expected: expected.to_owned(),
+            actual,
+        });
+    }
+    Ok(())
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

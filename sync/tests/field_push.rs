@@ -14,7 +14,8 @@ use std::time::Duration;
 
 use chrono::Utc;
 use groundproof_sync::bundle::{BundleHeader, Checklist, sha256_hex, write_bundle};
-use groundproof_sync::client::{PushOptions, push};
+use groundproof_sync::client::PushOptions;
+use groundproof_sync::field::push;
 use groundproof_sync::outbox::{Outbox, PushState};
 use groundproof_sync::returns::{ReturnLimits, open_return};
 

@@ -249,3 +249,29 @@ fn a_cancelled_bundle_cannot_be_downloaded() {
         409
     );
 }
+
+#[test]
+fn the_status_filter_reads_the_reconciled_statuses() {
+    let s = TestServer::start();
+    load_scenario(&s);
+    let station = mock_patrols::scenario().station;
+    let start = json!({"lat": station.1, "lon": station.0});
+    // No report is in yet: every event is unvisited, none confirmed.
+    let (_, path) = issue(
+        &s,
+        json!({"team": "Team Cedar", "zone": "Core", "max": 3, "status": ["unvisited"], "start": start}),
+    );
+    let opened = open_bundle(&path, chrono::Utc::now()).unwrap();
+    assert_eq!(opened.events.len(), 3);
+    for (status, code, words) in [
+        ("confirmed", 400, "no events"),
+        ("bogus", 400, "status 'bogus'"),
+    ] {
+        let r = post_json(
+            &s.url("/api/v1/bundles"),
+            &json!({"team": "Team Cedar", "zone": "Core", "status": [status], "start": start}),
+        );
+        assert_eq!(r.status, code, "{status}: {}", r.body);
+        assert!(r.body.contains(words), "{status}: {}", r.body);
+    }
+}

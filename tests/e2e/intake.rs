@@ -4,11 +4,12 @@
 //! is cut, or posted whole; hostile packages; evidence flags; and a kill -9
 //! of the real binary during intake.
 
-use groundproof::intake::files::{photo_path, thumb_path};
+use groundproof::intake::layout::{photo_path, thumb_path};
 use groundproof::platform::storage::{Db, ReportRow};
 use groundproof_e2e::{TestServer, get, get_bytes, load_scenario, post_bytes, post_json};
-use groundproof_sync::client::{PushOptions, push};
+use groundproof_sync::client::PushOptions;
 use groundproof_sync::field::Snapshot;
+use groundproof_sync::field::push;
 use groundproof_sync::returns::{Report, ReturnHeader, pack_return, sha256_file};
 use mock_patrols::photos::{PhotoMetaIn, make_photo};
 use serde_json::json;

@@ -9,23 +9,14 @@
 
 use geo::{Coord, LineString, Polygon};
 
-/// IUGG mean Earth radius R1 in metres (Moritz 1980, Geodetic Reference
-/// System 1980), the radius scikit-learn users and `geo` take for haversine.
-pub const MEAN_RADIUS_M: f64 = 6_371_008.8;
+/// The sphere of link decisions: one radius and one haversine, shared with
+/// the field side (the contract crate holds them).
+pub use groundproof_sync::geodesy::{MEAN_RADIUS_M, haversine_m};
 
 /// WGS 84 semi-major axis (NIMA TR8350.2).
 const WGS84_A: f64 = 6_378_137.0;
 /// WGS 84 flattening (NIMA TR8350.2).
 const WGS84_F: f64 = 1.0 / 298.257_223_563;
-
-/// Great-circle distance in metres between two (lon, lat) points in degrees.
-pub fn haversine_m(a: (f64, f64), b: (f64, f64)) -> f64 {
-    let (p1, p2) = (a.1.to_radians(), b.1.to_radians());
-    let dphi = p2 - p1;
-    let dlam = (b.0 - a.0).to_radians();
-    let h = (dphi / 2.0).sin().powi(2) + p1.cos() * p2.cos() * (dlam / 2.0).sin().powi(2);
-    2.0 * MEAN_RADIUS_M * h.sqrt().min(1.0).asin()
-}
 
 /// Half the side of a square pixel of `size_m` metres centred at `lat`, in
 /// degrees of longitude and latitude, from the WGS 84 radii of curvature.

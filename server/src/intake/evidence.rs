@@ -39,8 +39,7 @@ use chrono::{DateTime, NaiveDate, Utc};
 use geo::{Contains, MultiPolygon, Point};
 use geographiclib_rs::{DirectGeodesic, Geodesic, InverseGeodesic};
 
-/// Default distance tolerance in metres (common practice, see the module docs).
-pub const DEFAULT_TOLERANCE_M: f64 = 100.0;
+pub use crate::platform::settings::DEFAULT_TOLERANCE_M;
 
 /// How far ahead of the server's clock a device's clock may run before its
 /// report is flagged, in minutes (our choice: phones that set their clock

@@ -1,88 +1,19 @@
-//! Where intake keeps its files in the data directory, and the clean-up run
-//! at start.
-//!
-//! | path | what |
-//! |---|---|
-//! | `uploads/<upload id>.part` | bytes of a resumable upload so far (fsynced before each acknowledgement) |
-//! | `returns/incoming/<sha256>.zip` | a return package, durable before it is parsed; kept as received |
-//! | `returns/rejected/<sha256>.zip` | a package refused as a whole (kept for inspection) |
-//! | `evidence/<ab>/<sha256>.jpg` | a photo, named by the SHA-256 of its bytes, never modified |
-//! | `evidence/thumbs/<ab>/<sha256>.jpg` | its 320-pixel thumbnail (derived) |
-//!
-//! `<ab>` is the first two hex digits of the hash. Every file is written with
-//! [`crate::platform::durable::write_durably`] (temp file, fsync, rename, folder fsync)
-//! before any database row names it.
+//! The clean-up run at start: what a crash can leave behind in the data
+//! directory (the folders are listed in [`super::layout`]).
 
 use super::IntakeError;
+use super::layout::{
+    EVIDENCE_DIR, INCOMING_DIR, THUMBS_DIR, UPLOAD_MAX_AGE_DAYS, UPLOADS_DIR, intake_lock,
+};
 use crate::platform::storage::Db;
 use std::collections::HashSet;
 use std::path::{Path, PathBuf};
-
-/// Folder of resumable upload data.
-pub const UPLOADS_DIR: &str = "uploads";
-/// Folder of received packages.
-pub const INCOMING_DIR: &str = "returns/incoming";
-/// Folder of refused packages.
-pub const REJECTED_DIR: &str = "returns/rejected";
-/// Folder of evidence photos.
-pub const EVIDENCE_DIR: &str = "evidence";
-/// Folder of thumbnails inside [`EVIDENCE_DIR`].
-pub const THUMBS_DIR: &str = "thumbs";
 
 /// True for 64 lowercase hex digits (a SHA-256 as we name files).
 pub fn is_sha256(s: &str) -> bool {
     s.len() == 64
         && s.bytes()
             .all(|c| c.is_ascii_digit() || (b'a'..=b'f').contains(&c))
-}
-
-/// `evidence/ab/<sha>.jpg` under `data_dir`; `sha` must pass [`is_sha256`].
-pub fn photo_path(data_dir: &Path, sha: &str) -> PathBuf {
-    data_dir
-        .join(EVIDENCE_DIR)
-        .join(&sha[..2])
-        .join(format!("{sha}.jpg"))
-}
-
-/// `evidence/thumbs/ab/<sha>.jpg` under `data_dir`.
-pub fn thumb_path(data_dir: &Path, sha: &str) -> PathBuf {
-    data_dir
-        .join(EVIDENCE_DIR)
-        .join(THUMBS_DIR)
-        .join(&sha[..2])
-        .join(format!("{sha}.jpg"))
-}
-
-/// `uploads/<id>.part` under `data_dir`; `id` is server-made (hex).
-pub fn upload_path(data_dir: &Path, id: &str) -> PathBuf {
-    data_dir.join(UPLOADS_DIR).join(format!("{id}.part"))
-}
-
-/// `returns/incoming/<sha>.zip`.
-pub fn incoming_path(data_dir: &Path, sha: &str) -> PathBuf {
-    data_dir.join(INCOMING_DIR).join(format!("{sha}.zip"))
-}
-
-/// `returns/rejected/<sha>.zip`.
-pub fn rejected_path(data_dir: &Path, sha: &str) -> PathBuf {
-    data_dir.join(REJECTED_DIR).join(format!("{sha}.zip"))
-}
-
-/// Rename `from` to `to` durably (fsync of both folders).
-pub fn move_durably(from: &Path, to: &Path) -> Result<(), IntakeError> {
-    let dir = to.parent().unwrap_or(Path::new("."));
-    std::fs::create_dir_all(dir)
-        .map_err(|e| crate::Error::io(format!("creating {}", dir.display()), e))?;
-    std::fs::rename(from, to).map_err(|e| {
-        crate::Error::io(format!("moving {} to {}", from.display(), to.display()), e)
-    })?;
-    crate::platform::durable::sync_dir(dir)?;
-    if let Some(src) = from.parent()
-        && src != dir
-    {
-        crate::platform::durable::sync_dir(src)?;
-    }
-    Ok(())
 }
 
 /// What [`cleanup`] removed.
@@ -117,13 +48,13 @@ fn remove(p: &Path) -> Result<(), IntakeError> {
 
 /// Removes what a crash can leave behind: evidence files and temp files that
 /// no committed photo row names, data of uploads that are finished or gone,
-/// and open uploads idle for more than [`super::uploads::UPLOAD_MAX_AGE_DAYS`].
+/// and open uploads idle for more than [`UPLOAD_MAX_AGE_DAYS`].
 /// Call it at start, before serving (it holds the intake lock while it runs).
 /// Received packages in `returns/` are never removed.
 pub fn cleanup(db: &Db, data_dir: &Path) -> Result<CleanupSummary, IntakeError> {
-    let _guard = super::pipeline::intake_lock();
+    let _guard = intake_lock();
     let mut out = CleanupSummary::default();
-    let cutoff = chrono::Utc::now() - chrono::Duration::days(super::uploads::UPLOAD_MAX_AGE_DAYS);
+    let cutoff = chrono::Utc::now() - chrono::Duration::days(UPLOAD_MAX_AGE_DAYS);
     let expired = db.write(|tx| tx.expire_uploads(&cutoff.to_rfc3339()))?;
     out.expired_uploads = expired.len();
 
@@ -190,6 +121,7 @@ pub fn cleanup(db: &Db, data_dir: &Path) -> Result<CleanupSummary, IntakeError> 
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::intake::layout::{photo_path, thumb_path};
 
     #[test]
     fn names_are_content_addressed() {

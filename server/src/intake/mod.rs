@@ -4,7 +4,7 @@
 //! Then [`pipeline::take_in`] checks the signature (a cancelled bundle's key
 //! is refused), reads the ZIP safely, validates every report against the
 //! bundle's checklist, inspects every photo under size limits, stores
-//! evidence by content hash ([`files`]), runs the evidence checks
+//! evidence by content hash ([`layout`]), runs the evidence checks
 //! ([`evidence`]) that flag (never reject) a report, and commits every row
 //! of the package in one transaction after its files are durable.
 //!
@@ -18,6 +18,7 @@
 pub mod error;
 pub mod evidence;
 pub mod files;
+pub mod layout;
 pub mod pipeline;
 pub mod uploads;
 
@@ -57,5 +58,22 @@ impl Default for IntakeOptions {
             photo_limits: PhotoLimits::default(),
             return_limits: ReturnLimits::default(),
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::platform::settings::Settings;
+
+    #[test]
+    fn options_take_the_tolerance_from_the_settings() {
+        assert_eq!(
+            IntakeOptions::default().tolerance_m,
+            Settings::default().evidence.tolerance_m
+        );
+        let mut s = Settings::default();
+        s.evidence.tolerance_m = 150.0;
+        assert_eq!(IntakeOptions::from_settings(&s).tolerance_m, 150.0);
     }
 }

@@ -12,7 +12,9 @@
 //! the duplicate decisions of step 4 still hold at step 6.
 
 use super::evidence::{self, CheckContext, Footprint, PhotoFacts};
-use super::files::{incoming_path, move_durably, photo_path, rejected_path, thumb_path};
+use super::layout::{
+    incoming_path, intake_lock, move_durably, photo_path, rejected_path, thumb_path,
+};
 use super::{IntakeError, IntakeOptions};
 use crate::domain::{Confidence, Day};
 use crate::platform::storage::{
@@ -29,15 +31,7 @@ use sha2::{Digest, Sha256};
 use std::cell::Cell;
 use std::collections::{BTreeMap, BTreeSet, HashMap};
 use std::path::Path;
-use std::sync::{Mutex, MutexGuard};
 use uuid::Uuid;
-
-static INTAKE: Mutex<()> = Mutex::new(());
-
-/// The process-wide intake lock (one package at a time).
-pub(crate) fn intake_lock() -> MutexGuard<'static, ()> {
-    INTAKE.lock().unwrap_or_else(|p| p.into_inner())
-}
 
 /// One report's result (the `results` items of RETURN-SPEC).
 #[derive(Debug, Clone, PartialEq, Serialize)]

@@ -19,7 +19,9 @@
 //! | declared bytes of all open uploads | 8 GiB | our choice: disk reserve for 8 full packages |
 //! | lifetime of an idle open upload | 7 days | reliability.md §3 `max-age` |
 
-use super::files::{UPLOADS_DIR, incoming_path, move_durably, upload_path};
+use super::layout::{
+    INCOMING_DIR, UPLOADS_DIR, incoming_path, intake_lock, move_durably, upload_path,
+};
 use super::pipeline::{ReturnDocument, return_document, take_in};
 use super::{IntakeError, IntakeOptions};
 use crate::platform::storage::{Db, UploadRecord};
@@ -37,8 +39,6 @@ pub const MAX_OPEN_UPLOADS: u64 = 64;
 pub const MAX_OPEN_UPLOADS_PER_BUNDLE: u64 = 4;
 /// Most declared bytes over all open uploads.
 pub const MAX_OPEN_UPLOAD_BYTES: u64 = 8 << 30;
-/// Days an open upload may stay untouched before the clean-up removes it.
-pub const UPLOAD_MAX_AGE_DAYS: i64 = 7;
 
 /// Uploads with an append in progress (one at a time per upload).
 static APPENDING: Mutex<Option<HashSet<String>>> = Mutex::new(None);
@@ -106,7 +106,7 @@ pub fn create(
             "bundle {bundle_id} was cancelled: its upload key is revoked"
         )));
     }
-    let _guard = super::pipeline::intake_lock();
+    let _guard = intake_lock();
     if let Some(u) = db.read(|r| r.upload_by_sha(bundle_id, sha256))? {
         if u.size != size {
             return Err(IntakeError::Invalid(format!(
@@ -341,7 +341,7 @@ pub struct IncomingFile {
 impl IncomingFile {
     /// A new temp file; at most `max` bytes are accepted.
     pub fn new(data_dir: &Path, max: u64) -> Result<IncomingFile, IntakeError> {
-        let dir = data_dir.join(super::files::INCOMING_DIR);
+        let dir = data_dir.join(INCOMING_DIR);
         std::fs::create_dir_all(&dir)
             .map_err(|e| crate::Error::io(format!("creating {}", dir.display()), e))?;
         let tmp = tempfile::Builder::new()

@@ -60,6 +60,11 @@ pub struct TripRequest {
     /// Only events whose reconciled status is one of these (e.g.
     /// `unvisited`, `inconclusive`, `disputed`); empty takes any status.
     pub statuses: Vec<String>,
+    /// The reconciled status of each event that has one (an event missing
+    /// here is `unvisited`). Planning sits below reconciliation, so the
+    /// caller computes them (`crate::statistics::kept::event_statuses`);
+    /// needed only when `statuses` is not empty.
+    pub reconciled: Option<BTreeMap<i64, String>>,
     /// Most events to take (response mode default 20; in assessment mode a
     /// cap that the sample must fit under).
     pub max: Option<usize>,
@@ -93,6 +98,7 @@ impl TripRequest {
             confidence: None,
             min_area_ha: None,
             statuses: Vec::new(),
+            reconciled: None,
             max: None,
             start,
             start_name: "start".into(),
@@ -201,16 +207,13 @@ pub fn select(db: &Db, settings: &Settings, req: &TripRequest) -> Result<Selecti
                 KNOWN.join(", ")
             )));
         }
-        let statuses = crate::statistics::kept::load(
-            db,
-            &Default::default(),
-            crate::statistics::kept::DISPUTE_WINDOW_DAYS,
-        )?
-        .statuses;
+        let reconciled = req.reconciled.as_ref().ok_or_else(|| {
+            Error::Internal("a status filter needs the reconciled statuses of the events".into())
+        })?;
         pool.retain(|e| {
-            let s = statuses
+            let s = reconciled
                 .get(&e.record.id)
-                .map_or("unvisited", |s| s.status.as_str());
+                .map_or("unvisited", String::as_str);
             req.statuses.iter().any(|w| w == s)
         });
     }

@@ -9,8 +9,7 @@ use std::path::Path;
 
 /// Fsync a folder so a rename inside it is durable.
 pub fn sync_dir(dir: &Path) -> Result<()> {
-    std::fs::File::open(dir)
-        .and_then(|f| f.sync_all())
+    groundproof_sync::fileio::fsync_dir(dir)
         .map_err(|e| Error::io(format!("syncing folder {}", dir.display()), e))
 }
 

@@ -78,7 +78,7 @@ fn refuse(req: ServiceRequest, status: StatusCode, message: &str) -> ServiceResp
         // comes back itself. A session cookie we no longer know means the
         // session ended, and the login page says so.
         let next = if req.method() == actix_web::http::Method::GET {
-            url_escape(req.path())
+            crate::web::urls::percent_encode(req.path(), crate::web::urls::PATH)
         } else {
             "/".to_string()
         };
@@ -101,17 +101,6 @@ fn refuse(req: ServiceRequest, status: StatusCode, message: &str) -> ServiceResp
             ))
     };
     req.into_response(resp)
-}
-
-fn url_escape(s: &str) -> String {
-    s.bytes()
-        .map(|b| match b {
-            b'a'..=b'z' | b'A'..=b'Z' | b'0'..=b'9' | b'/' | b'-' | b'_' | b'.' => {
-                (b as char).to_string()
-            }
-            _ => format!("%{b:02X}"),
-        })
-        .collect()
 }
 
 fn bytes_to_payload(buf: web::Bytes) -> Payload {

@@ -10,6 +10,7 @@ pub mod charts;
 mod error;
 mod login;
 pub mod pages;
+pub mod urls;
 
 use crate::platform::settings::Settings;
 use crate::platform::storage::Db;
@@ -88,10 +89,4 @@ pub fn run(listener: TcpListener, state: AppState) -> std::io::Result<Server> {
 }
 
 /// Escape text for HTML.
-pub fn html_escape(s: &str) -> String {
-    s.replace('&', "&amp;")
-        .replace('<', "&lt;")
-        .replace('>', "&gt;")
-        .replace('"', "&quot;")
-        .replace('\'', "&#39;")
-}
+pub use groundproof_sync::markup::escape_html as html_escape;

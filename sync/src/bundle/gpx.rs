@@ -11,6 +11,7 @@ use chrono::{DateTime, SecondsFormat, Utc};
 use geo::Point;
 
 use super::types::{BundleEvent, BundleHeader, ControlPoint, StartPoint};
+use crate::markup::escape_xml;
 
 /// `creator` attribute of the `gpx` element.
 pub const GPX_CREATOR: &str = "Groundproof bundle writer";
@@ -20,24 +21,6 @@ pub const SYM_EVENT: &str = "Flag, Red";
 pub const SYM_CONTROL: &str = "Flag, Blue";
 /// Symbol of the start waypoint.
 pub const SYM_START: &str = "Flag, Green";
-
-/// Escapes text for XML element content and attribute values.
-pub fn xml_escape(s: &str) -> String {
-    let mut out = String::with_capacity(s.len());
-    for c in s.chars() {
-        match c {
-            '&' => out.push_str("&amp;"),
-            '<' => out.push_str("&lt;"),
-            '>' => out.push_str("&gt;"),
-            '"' => out.push_str("&quot;"),
-            '\'' => out.push_str("&apos;"),
-            // Characters XML 1.0 forbids (§2.2) are dropped; validated input has none.
-            c if (c as u32) < 0x20 && !matches!(c, '\t' | '\n' | '\r') => {}
-            c => out.push(c),
-        }
-    }
-    out
-}
 
 fn time(t: DateTime<Utc>) -> String {
     t.to_rfc3339_opts(SecondsFormat::Secs, true)
@@ -59,18 +42,18 @@ fn write_wpt(out: &mut String, tag: &str, w: &Waypoint<'_>, full: bool) {
         "  <{tag} lat=\"{:.7}\" lon=\"{:.7}\">\n    <name>{}</name>\n",
         w.point.y(),
         w.point.x(),
-        xml_escape(w.name)
+        escape_xml(w.name)
     );
     if full {
         if let Some(cmt) = &w.cmt {
-            let _ = writeln!(out, "    <cmt>{}</cmt>", xml_escape(cmt));
+            let _ = writeln!(out, "    <cmt>{}</cmt>", escape_xml(cmt));
         }
-        let _ = writeln!(out, "    <desc>{}</desc>", xml_escape(&w.desc));
+        let _ = writeln!(out, "    <desc>{}</desc>", escape_xml(&w.desc));
     }
     let _ = write!(
         out,
         "    <sym>{}</sym>\n    <type>{}</type>\n  </{tag}>\n",
-        xml_escape(w.sym),
+        escape_xml(w.sym),
         w.kind
     );
 }
@@ -156,14 +139,14 @@ pub fn route_gpx(
     let _ = writeln!(
         out,
         "<gpx xmlns=\"http://www.topografix.com/GPX/1/1\" version=\"1.1\" creator=\"{}\">",
-        xml_escape(GPX_CREATOR)
+        escape_xml(GPX_CREATOR)
     );
     let _ = write!(
         out,
         "  <metadata>\n    <name>{}</name>\n    <desc>{}</desc>\n    <time>{}</time>\n    \
          <bounds minlat=\"{minlat:.7}\" minlon=\"{minlon:.7}\" maxlat=\"{maxlat:.7}\" maxlon=\"{maxlon:.7}\"/>\n  </metadata>\n",
-        xml_escape(&format!("Bundle for {}", header.team)),
-        xml_escape(&format!(
+        escape_xml(&format!("Bundle for {}", header.team)),
+        escape_xml(&format!(
             "{} bundle {}: {} events, {} control points; due {}, expires {}",
             header.mode,
             header.bundle_id,
@@ -182,8 +165,8 @@ pub fn route_gpx(
     let _ = write!(
         out,
         "  <rte>\n    <name>{}</name>\n    <desc>{}</desc>\n",
-        xml_escape(&format!("Route {}", header.team)),
-        xml_escape(&format!(
+        escape_xml(&format!("Route {}", header.team)),
+        escape_xml(&format!(
             "From {} through {} stops in visit order",
             start.name,
             route.len()
@@ -202,15 +185,4 @@ pub fn route_gpx(
     }
     out.push_str("  </rte>\n</gpx>\n");
     out.into_bytes()
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn escapes_xml_specials() {
-        assert_eq!(xml_escape("a<b>&\"c'"), "a&lt;b&gt;&amp;&quot;c&apos;");
-        assert_eq!(xml_escape("x\u{1}y"), "xy");
-    }
 }

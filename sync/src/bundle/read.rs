@@ -24,7 +24,7 @@ use super::types::{
     normalise_event, normalise_start,
 };
 use super::write::check_route;
-use crate::safezip::{EntryLimit, HARD_MAX_RATIO, SafeZip};
+use crate::safezip::{EntryLimit, HARD_MAX_RATIO, SafeZip, check_digest};
 use crate::{BUNDLE_FORMAT, BUNDLE_FORMAT_VERSION, SyncError};
 
 /// A bundle that passed every check, with its content parsed.
@@ -275,31 +275,6 @@ fn read_entry(
         },
         sink,
     )
-}
-
-fn check_digest(
-    name: &str,
-    expected_size: u64,
-    expected: &str,
-    size: u64,
-    hasher: Sha256,
-) -> Result<(), SyncError> {
-    if size != expected_size {
-        return Err(SyncError::SizeMismatch {
-            name: name.to_owned(),
-            expected: expected_size,
-            actual: size,
-        });
-    }
-    let actual = hex::encode(hasher.finalize());
-    if actual != expected {
-        return Err(SyncError::ChecksumMismatch {
-            name: name.to_owned(),
-            expected: expected.to_owned(),
-            actual,
-        });
-    }
-    Ok(())
 }
 
 /// Parses `manifest.json`, checking `format` and `format_version` before the rest.

@@ -7,9 +7,8 @@
 
 use std::collections::BTreeSet;
 use std::fs::File;
-use std::io::{self, BufReader, Read, Seek, Write};
+use std::io::{self, BufReader, Seek, Write};
 
-use sha2::{Digest, Sha256};
 use zip::write::SimpleFileOptions;
 use zip::{CompressionMethod, DateTime, System, ZipWriter};
 
@@ -24,6 +23,7 @@ use super::types::{
     normalise_event, normalise_start,
 };
 use crate::SyncError;
+use crate::fileio::hash_read;
 
 /// Where an entry's content comes from before it is zipped.
 enum Content {
@@ -44,19 +44,8 @@ fn zip_options() -> SimpleFileOptions {
 /// SHA-256 and size of a file, read in a streaming pass.
 fn hash_file(file: &mut File) -> io::Result<(String, u64)> {
     file.rewind()?;
-    let mut hasher = Sha256::new();
-    let mut reader = BufReader::new(&mut *file);
-    let mut buf = [0u8; 64 * 1024];
-    let mut size = 0u64;
-    loop {
-        let n = reader.read(&mut buf)?;
-        if n == 0 {
-            break;
-        }
-        hasher.update(&buf[..n]);
-        size += n as u64;
-    }
-    Ok((hex::encode(hasher.finalize()), size))
+    let hashed = hash_read(&mut *file, u64::MAX, |_| Ok(()))?;
+    Ok((hashed.sha256, hashed.size))
 }
 
 /// Checks that `route` names every event and control point exactly once and

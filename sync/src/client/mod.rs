@@ -1,14 +1,14 @@
-//! The push client: sends the workspace's return to the server with the
-//! resumable upload protocol of RETURN-SPEC (after the IETF draft
+//! The push client: sends a packed return ([`Package`]) to the server with
+//! the resumable upload protocol of RETURN-SPEC (after the IETF draft
 //! "Resumable Uploads for HTTP"): create the upload, PATCH chunks at the
 //! server's offset, and on any failure ask the server for its offset (HEAD)
 //! and resume from there, with exponential backoff and a bounded number of
-//! attempts and total time. Then it completes the upload and marks each
-//! report acknowledged or rejected in the outbox.
+//! attempts and total time. Then it completes the upload and answers the
+//! server's results.
 //!
-//! The packed return is kept in `outgoing/pending.zip` with the list of its
-//! reports, so a push interrupted by a crash or a flat battery resumes the
-//! same upload (same SHA-256) instead of starting a new one.
+//! The client is handed a package; it never builds one. The field commands
+//! ([`crate::field::push`]) pack the workspace, keep the package for a
+//! resumed push, and mark the outbox with the results.
 //!
 //! Transport: ureq 3 without TLS (plain HTTP, e.g. a field office LAN or a
 //! TLS-terminating proxy); enable ureq's `rustls` feature for HTTPS.
@@ -20,14 +20,9 @@ use std::io::IsTerminal;
 use std::path::Path;
 use std::time::Duration;
 
-use chrono::Utc;
-use serde::{Deserialize, Serialize};
 use uuid::Uuid;
 
 use crate::SyncError;
-use crate::field::{Snapshot, pack_workspace};
-use crate::outbox::{Outbox, PushState, write_atomic};
-use crate::returns::sha256_file;
 
 pub use protocol::{CompleteResponse, ReportResult};
 pub use retry::Backoff;
@@ -36,10 +31,6 @@ pub use retry::Backoff;
 pub const DEFAULT_CHUNK_BYTES: usize = 1 << 20;
 /// Largest chunk the server takes: 8 MiB (RETURN-SPEC).
 pub const MAX_CHUNK_BYTES: usize = 8 << 20;
-/// Pending return file in `outgoing/`.
-pub const PENDING_ZIP: &str = "pending.zip";
-/// Its description in `outgoing/`.
-pub const PENDING_JSON: &str = "pending.json";
 
 /// How to push.
 #[derive(Debug, Clone)]
@@ -74,150 +65,68 @@ impl Default for PushOptions {
     }
 }
 
-/// What a push did.
+impl PushOptions {
+    /// Refuses options no push can run with.
+    pub fn check(&self) -> Result<(), SyncError> {
+        if self.chunk_bytes == 0 || self.chunk_bytes > MAX_CHUNK_BYTES {
+            return Err(SyncError::Usage(format!(
+                "chunk size must be 1..={MAX_CHUNK_BYTES} bytes"
+            )));
+        }
+        Ok(())
+    }
+}
+
+/// A packed return ready to send.
+#[derive(Debug, Clone, Copy)]
+pub struct Package<'a> {
+    /// The return file.
+    pub path: &'a Path,
+    /// The bundle it answers.
+    pub bundle_id: Uuid,
+    /// SHA-256 of the file, lowercase hex.
+    pub sha256: &'a str,
+    /// Size of the file in bytes.
+    pub size: u64,
+}
+
+/// What the server answered to a delivered package.
 #[derive(Debug, Clone, PartialEq)]
-pub struct PushSummary {
+pub struct Delivery {
     /// Server id of the upload.
     pub upload_id: String,
-    /// Server id of the return taken in.
-    pub return_id: i64,
-    /// Size of the return in bytes.
-    pub bytes: u64,
-    /// SHA-256 of the return.
-    pub sha256: String,
-    /// Reports accepted.
-    pub accepted: usize,
-    /// Reports the server already had.
-    pub duplicate: usize,
-    /// Rejected reports with the server's reason.
-    pub rejected: Vec<(Uuid, String)>,
+    /// The results of `complete`.
+    pub results: CompleteResponse,
     /// Failed requests that were retried.
     pub retries: u32,
 }
 
-#[derive(Debug, Serialize, Deserialize, PartialEq)]
-struct Pending {
-    report_ids: Vec<Uuid>,
-    sha256: String,
-    size: u64,
-}
-
-/// Packs (or reuses the pending return of) `workspace` and pushes it to
-/// `server_url`; marks the reports in the outbox with the server's results.
-pub fn push(
-    workspace: &Path,
+/// Sends `package` to `server_url`, resuming where the server stands.
+pub fn send(
+    package: &Package<'_>,
     server_url: &str,
     token: Option<&str>,
     options: &PushOptions,
-) -> Result<PushSummary, SyncError> {
-    if options.chunk_bytes == 0 || options.chunk_bytes > MAX_CHUNK_BYTES {
-        return Err(SyncError::Usage(format!(
-            "chunk size must be 1..={MAX_CHUNK_BYTES} bytes"
-        )));
-    }
-    let snap = Snapshot::load(workspace)?;
-    let mut outbox = Outbox::open(workspace)?;
-    let outgoing = workspace.join(crate::field::workspace::OUTGOING);
-    let zip_path = outgoing.join(PENDING_ZIP);
-    let json_path = outgoing.join(PENDING_JSON);
-    let mut to_send: Vec<Uuid> = outbox
-        .reports()?
-        .into_iter()
-        .filter(|r| matches!(r.state, PushState::NotSent | PushState::Sent))
-        .map(|r| r.report.report_id)
-        .collect();
-    to_send.sort();
-    let reuse = std::fs::read(&json_path)
-        .ok()
-        .and_then(|b| serde_json::from_slice::<Pending>(&b).ok())
-        .filter(|p| p.report_ids == to_send && zip_path.exists());
-    let pending = match reuse {
-        Some(p) => p,
-        None => {
-            let packed = pack_workspace(workspace, &zip_path, false, Utc::now())?;
-            let mut ids = packed.report_ids;
-            ids.sort();
-            let (sha256, size) = sha256_file(&zip_path)?;
-            let p = Pending {
-                report_ids: ids,
-                sha256,
-                size,
-            };
-            let bytes = serde_json::to_vec_pretty(&p)
-                .map_err(|e| SyncError::InvalidInput(format!("pending: {e}")))?;
-            write_atomic(&json_path, &bytes)?;
-            p
-        }
-    };
-    let (sha, size) = sha256_file(&zip_path)?;
-    if sha != pending.sha256 || size != pending.size {
-        return Err(SyncError::Push(format!(
-            "{} changed on disk; delete it and {} and push again",
-            zip_path.display(),
-            json_path.display()
-        )));
-    }
-    let now = Utc::now();
-    outbox.set_state(
-        &pending
-            .report_ids
-            .iter()
-            .map(|id| (*id, PushState::Sent))
-            .collect::<Vec<_>>(),
-        now,
-    )?;
-
+) -> Result<Delivery, SyncError> {
+    options.check()?;
     let bar = if options.progress && std::io::stderr().is_terminal() {
-        indicatif::ProgressBar::new(size)
+        indicatif::ProgressBar::new(package.size)
     } else {
         indicatif::ProgressBar::hidden()
     };
     let mut session = protocol::Session::new(server_url, token, options)?;
-    let outcome = session.upload(&zip_path, snap.bundle_id, &pending.sha256, size, &bar);
+    let outcome = session.upload(
+        package.path,
+        package.bundle_id,
+        package.sha256,
+        package.size,
+        &bar,
+    );
     bar.finish_and_clear();
     let (upload_id, results) = outcome?;
-
-    let mut updates = Vec::new();
-    let (mut accepted, mut duplicate, mut rejected) = (0, 0, Vec::new());
-    for r in &results.results {
-        let state = match r.status.as_str() {
-            "accepted" => {
-                accepted += 1;
-                PushState::Acknowledged
-            }
-            "duplicate" => {
-                duplicate += 1;
-                PushState::Acknowledged
-            }
-            _ => {
-                let reason = r.reason.clone().unwrap_or_else(|| "no reason given".into());
-                rejected.push((r.report_id, reason.clone()));
-                PushState::Rejected(reason)
-            }
-        };
-        if pending.report_ids.contains(&r.report_id) {
-            updates.push((r.report_id, state));
-        }
-    }
-    let done = Utc::now();
-    outbox.set_state(&updates, done)?;
-    outbox.set_last_push(done)?;
-    // The return is taken in; a later push packs anew.
-    for p in [&json_path, &zip_path] {
-        if let Err(e) = std::fs::remove_file(p)
-            && e.kind() != std::io::ErrorKind::NotFound
-        {
-            return Err(SyncError::io(format!("remove {}", p.display()), e));
-        }
-    }
-    Ok(PushSummary {
+    Ok(Delivery {
         upload_id,
-        return_id: results.return_id,
-        bytes: size,
-        sha256: pending.sha256,
-        accepted,
-        duplicate,
-        rejected,
+        results,
         retries: session.failures(),
     })
 }

@@ -1,18 +1,19 @@
 //! What each `groundproof-field` command does, on the workspace.
 
 use std::collections::BTreeSet;
-use std::path::{Path, PathBuf};
+use std::path::Path;
 
 use chrono::{DateTime, Utc};
 
 use super::cli::{Cli, Command, ReportArgs};
 use super::geo_calc::{compass, distance_bearing, parse_lat_lon};
+use super::push::pack_workspace;
 use super::record::build_report;
 use super::workspace::{BUNDLE_COPY, Snapshot, Stop, UNPACKED};
 use crate::SyncError;
 use crate::bundle::{OpenedBundle, open_bundle};
 use crate::outbox::{Outbox, PushState, StoredReport, write_atomic};
-use crate::returns::{ReturnHeader, ReturnLimits, ReturnManifest, Target, pack_return};
+use crate::returns::{ReturnLimits, Target};
 
 /// Runs one parsed command.
 pub fn execute(cli: Cli) -> Result<(), SyncError> {
@@ -47,7 +48,7 @@ pub fn execute(cli: Cli) -> Result<(), SyncError> {
                 chunk_bytes,
                 ..crate::client::PushOptions::default()
             };
-            let summary = crate::client::push(ws, &server, token.as_deref(), &options)?;
+            let summary = super::push(ws, &server, token.as_deref(), &options)?;
             println!(
                 "pushed {} bytes: {} accepted, {} duplicate, {} rejected",
                 summary.bytes,
@@ -309,81 +310,6 @@ fn amend(
     outbox.add_report(&r, &paths, ReturnLimits::default().max_photo_bytes)?;
     println!("recorded report {} superseding {id}", r.report_id);
     Ok(())
-}
-
-/// What [`pack_workspace`] wrote.
-#[derive(Debug, Clone)]
-pub struct PackSummary {
-    /// The return file.
-    pub path: PathBuf,
-    /// Its manifest.
-    pub manifest: ReturnManifest,
-    /// Ids of the reports in it.
-    pub report_ids: Vec<uuid::Uuid>,
-}
-
-/// Packs the workspace's reports into a signed return at `out` (written to a
-/// temporary file and renamed). Without `all`, acknowledged and rejected reports
-/// are left out. Fails when there is nothing to pack.
-pub fn pack_workspace(
-    ws: &Path,
-    out: &Path,
-    all: bool,
-    now: DateTime<Utc>,
-) -> Result<PackSummary, SyncError> {
-    let snap = Snapshot::load(ws)?;
-    let outbox = Outbox::open(ws)?;
-    let reports: Vec<_> = outbox
-        .reports()?
-        .into_iter()
-        .filter(|r| all || matches!(r.state, PushState::NotSent | PushState::Sent))
-        .map(|r| r.report)
-        .collect();
-    if reports.is_empty() {
-        return Err(SyncError::Usage(
-            "nothing to pack: every report is acknowledged or rejected (use --all to pack them anyway)"
-                .into(),
-        ));
-    }
-    let shas: BTreeSet<&str> = reports
-        .iter()
-        .flat_map(|r| r.photos.iter().map(|p| p.sha256.as_str()))
-        .collect();
-    let photos: Vec<PathBuf> = shas.iter().map(|s| outbox.photo_path(s)).collect();
-    let header = ReturnHeader {
-        bundle_id: snap.bundle_id,
-        team: snap.team.clone(),
-        checklist_version: snap.checklist.version,
-        created_at: now,
-    };
-    let dir = match out.parent() {
-        Some(p) if !p.as_os_str().is_empty() => p.to_owned(),
-        _ => PathBuf::from("."),
-    };
-    std::fs::create_dir_all(&dir)
-        .map_err(|e| SyncError::io(format!("create {}", dir.display()), e))?;
-    let mut tmp = tempfile::Builder::new()
-        .prefix(".return-")
-        .tempfile_in(&dir)
-        .map_err(|e| SyncError::io("create temporary return", e))?;
-    let manifest = pack_return(
-        std::io::BufWriter::new(tmp.as_file_mut()),
-        &header,
-        &snap.upload_key()?,
-        &reports,
-        &photos,
-    )?;
-    tmp.as_file()
-        .sync_all()
-        .map_err(|e| SyncError::io("fsync return", e))?;
-    tmp.persist(out)
-        .map_err(|e| SyncError::io(format!("write {}", out.display()), e.error))?;
-    crate::outbox::sync_dir(&dir)?;
-    Ok(PackSummary {
-        path: out.to_owned(),
-        manifest,
-        report_ids: reports.iter().map(|r| r.report_id).collect(),
-    })
 }
 
 fn status(ws: &Path) -> Result<(), SyncError> {

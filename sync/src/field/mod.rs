@@ -6,6 +6,7 @@
 mod cli;
 mod commands;
 mod geo_calc;
+mod push;
 mod record;
 pub mod workspace;
 
@@ -15,8 +16,8 @@ use std::process::ExitCode;
 use clap::Parser;
 
 pub use cli::{Cli, Command, ReportArgs};
-pub use commands::{PackSummary, pack_workspace};
 pub use geo_calc::{distance_bearing, parse_lat_lon};
+pub use push::{PENDING_JSON, PENDING_ZIP, PackSummary, PushSummary, pack_workspace, push};
 pub use workspace::{FieldControl, FieldEvent, Snapshot, Stop};
 
 use crate::SyncError;

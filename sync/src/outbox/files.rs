@@ -4,12 +4,11 @@
 //! the copy survives a power cut. A photo already present is not copied again.
 
 use std::fs::{self, File};
-use std::io::{BufReader, Read, Write};
+use std::io::Write;
 use std::path::{Path, PathBuf};
 
-use sha2::{Digest, Sha256};
-
 use crate::SyncError;
+use crate::fileio::{HashReadError, hash_read};
 
 /// Copies `source` into `dir/<sha256>.jpg` durably; returns the SHA-256 and size.
 /// Fails when the file is larger than `max` bytes.
@@ -20,29 +19,15 @@ pub fn store_photo(dir: &Path, source: &Path, max: u64) -> Result<(String, u64),
         .prefix(".incoming-")
         .tempfile_in(dir)
         .map_err(|e| SyncError::io("create temporary photo file", e))?;
-    let mut reader = BufReader::new(src).take(max.saturating_add(1));
-    let mut hasher = Sha256::new();
-    let mut buf = [0u8; 64 * 1024];
-    let mut size = 0u64;
-    loop {
-        let n = reader
-            .read(&mut buf)
-            .map_err(|e| SyncError::io(format!("read photo {}", source.display()), e))?;
-        if n == 0 {
-            break;
-        }
-        size += n as u64;
-        if size > max {
-            return Err(SyncError::Usage(format!(
-                "photo {} is larger than {max} bytes",
-                source.display()
-            )));
-        }
-        hasher.update(&buf[..n]);
-        tmp.write_all(&buf[..n])
-            .map_err(|e| SyncError::io("write temporary photo file", e))?;
-    }
-    let sha = hex::encode(hasher.finalize());
+    let hashed = hash_read(src, max, |chunk| tmp.write_all(chunk)).map_err(|e| match e {
+        HashReadError::Read(e) => SyncError::io(format!("read photo {}", source.display()), e),
+        HashReadError::Sink(e) => SyncError::io("write temporary photo file", e),
+        HashReadError::TooLarge => SyncError::Usage(format!(
+            "photo {} is larger than {max} bytes",
+            source.display()
+        )),
+    })?;
+    let (sha, size) = (hashed.sha256, hashed.size);
     let dest = photo_path(dir, &sha);
     if dest.exists() {
         return Ok((sha, size));
@@ -64,15 +49,8 @@ pub fn photo_path(dir: &Path, sha256: &str) -> PathBuf {
 /// Fsyncs a directory so that a rename in it is durable (a no-op where
 /// directories cannot be opened, as on Windows).
 pub fn sync_dir(dir: &Path) -> Result<(), SyncError> {
-    #[cfg(unix)]
-    {
-        File::open(dir)
-            .and_then(|d| d.sync_all())
-            .map_err(|e| SyncError::io(format!("fsync folder {}", dir.display()), e))?;
-    }
-    #[cfg(not(unix))]
-    let _ = dir;
-    Ok(())
+    crate::fileio::fsync_dir(dir)
+        .map_err(|e| SyncError::io(format!("fsync folder {}", dir.display()), e))
 }
 
 /// Writes `bytes` to `path` atomically and durably (temp file, fsync, rename, dir fsync).

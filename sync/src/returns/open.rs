@@ -23,6 +23,7 @@ use super::validate::{check_report_shape, validate_report};
 use crate::SyncError;
 use crate::bundle::Checklist;
 use crate::safezip::SafeZip;
+use crate::safezip::check_digest;
 
 /// A report of the package that cannot be taken in, and why.
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -114,31 +115,6 @@ fn open_zip(path: &Path, limits: &ReturnLimits) -> Result<SafeZip, SyncError> {
         limits.max_total_bytes,
         &check_return_entry_name,
     )
-}
-
-fn check_digest(
-    name: &str,
-    expected_size: u64,
-    expected: &str,
-    size: u64,
-    hasher: Sha256,
-) -> Result<(), SyncError> {
-    if size != expected_size {
-        return Err(SyncError::SizeMismatch {
-            name: name.to_owned(),
-            expected: expected_size,
-            actual: size,
-        });
-    }
-    let actual = hex::encode(hasher.finalize());
-    if actual != expected {
-        return Err(SyncError::ChecksumMismatch {
-            name: name.to_owned(),
-            expected: expected.to_owned(),
-            actual,
-        });
-    }
-    Ok(())
 }
 
 /// Opens and checks the return at `path`. `lookup_key(bundle_id, key_id)` gives the

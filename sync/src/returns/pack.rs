@@ -7,10 +7,9 @@
 
 use std::collections::{BTreeMap, BTreeSet};
 use std::fs::File;
-use std::io::{self, BufReader, Read, Seek, Write};
+use std::io::{self, Seek, Write};
 use std::path::PathBuf;
 
-use sha2::{Digest, Sha256};
 use zip::write::SimpleFileOptions;
 use zip::{CompressionMethod, DateTime, System, ZipWriter};
 
@@ -22,6 +21,7 @@ use super::sign::sign_manifest;
 use super::validate::check_report_shape;
 use crate::SyncError;
 use crate::bundle::{ManifestEntry, UploadKey, sha256_hex};
+use crate::fileio::{HashReadError, hash_read};
 
 fn options(method: CompressionMethod) -> SimpleFileOptions {
     let o = SimpleFileOptions::default()
@@ -41,27 +41,16 @@ fn options(method: CompressionMethod) -> SimpleFileOptions {
 pub(crate) fn hash_photo(path: &std::path::Path, max: u64) -> Result<(String, u64), SyncError> {
     let file =
         File::open(path).map_err(|e| SyncError::io(format!("open photo {}", path.display()), e))?;
-    let mut reader = BufReader::new(file).take(max.saturating_add(1));
-    let mut hasher = Sha256::new();
-    let mut buf = [0u8; 64 * 1024];
-    let mut size = 0u64;
-    loop {
-        let n = reader
-            .read(&mut buf)
-            .map_err(|e| SyncError::io(format!("read photo {}", path.display()), e))?;
-        if n == 0 {
-            break;
+    let hashed = hash_read(file, max, |_| Ok(())).map_err(|e| match e {
+        HashReadError::Read(e) | HashReadError::Sink(e) => {
+            SyncError::io(format!("read photo {}", path.display()), e)
         }
-        size += n as u64;
-        hasher.update(&buf[..n]);
-    }
-    if size > max {
-        return Err(SyncError::InvalidInput(format!(
+        HashReadError::TooLarge => SyncError::InvalidInput(format!(
             "photo {} is larger than {max} bytes",
             path.display()
-        )));
-    }
-    Ok((hex::encode(hasher.finalize()), size))
+        )),
+    })?;
+    Ok((hashed.sha256, hashed.size))
 }
 
 /// Writes the return of `reports` with the photo files `photos` to `out`, signed
@@ -174,27 +163,19 @@ pub fn pack_return<W: Write + Seek>(
         let file = File::open(path)
             .map_err(|e| SyncError::io(format!("open photo {}", path.display()), e))?;
         // Hash again while copying: a photo changed since it was hashed must not slip in.
-        let mut hasher = Sha256::new();
-        let mut reader = BufReader::new(file).take(size.saturating_add(1));
-        let mut buf = [0u8; 64 * 1024];
-        let mut copied = 0u64;
-        loop {
-            let n = reader
-                .read(&mut buf)
-                .map_err(|e| SyncError::io(format!("read photo {}", path.display()), e))?;
-            if n == 0 {
-                break;
-            }
-            hasher.update(&buf[..n]);
-            copied += n as u64;
-            zip.write_all(&buf[..n])
-                .map_err(|e| SyncError::io(format!("write entry {name:?}"), e))?;
-        }
-        if copied != *size || hex::encode(hasher.finalize()) != *sha {
-            return Err(SyncError::io(
+        let changed = || {
+            SyncError::io(
                 format!("photo {}", path.display()),
                 io::Error::other("changed while the return was packed"),
-            ));
+            )
+        };
+        let copied = hash_read(file, *size, |c| zip.write_all(c)).map_err(|e| match e {
+            HashReadError::Read(e) => SyncError::io(format!("read photo {}", path.display()), e),
+            HashReadError::Sink(e) => SyncError::io(format!("write entry {name:?}"), e),
+            HashReadError::TooLarge => changed(),
+        })?;
+        if copied.size != *size || copied.sha256 != *sha {
+            return Err(changed());
         }
     }
     for (name, bytes) in [

@@ -12,36 +12,7 @@
 //! for (0 when negative). With the default weights (which sum to 1) the
 //! score lies in [0, 1].
 
-use serde::{Deserialize, Serialize};
-
-/// Weights and scales of the priority score.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
-#[serde(default, deny_unknown_fields)]
-pub struct PriorityWeights {
-    pub area: f64,
-    pub recency: f64,
-    pub corroboration: f64,
-    pub confidence: f64,
-    pub zone: f64,
-    /// Area that earns the full area term, hectares.
-    pub area_ref_ha: f64,
-    /// E-folding time of the recency term, days.
-    pub recency_days: f64,
-}
-
-impl Default for PriorityWeights {
-    fn default() -> Self {
-        PriorityWeights {
-            area: 0.30,
-            recency: 0.25,
-            corroboration: 0.20,
-            confidence: 0.10,
-            zone: 0.15,
-            area_ref_ha: 10.0,
-            recency_days: 30.0,
-        }
-    }
-}
+pub use crate::platform::settings::PriorityWeights;
 
 /// The inputs of the score for one event.
 #[derive(Debug, Clone, Copy, PartialEq)]

@@ -19,27 +19,10 @@ pub use query::{RankedEvent, event_feature, events_collection, priority_of, rank
 pub use zones::{ZoneOutcome, import_zones};
 
 use crate::alerts::cluster::LinkRule;
-use serde::{Deserialize, Serialize};
+pub use crate::platform::settings::ClusterSettings;
 
-/// How alerts are joined into events (configurable in `settings.toml`).
-#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
-#[serde(default, deny_unknown_fields)]
-pub struct ClusterSettings {
-    /// Link distance as a multiple of the larger pixel size.
-    pub link_factor: f64,
-    /// Largest gap between detection days of linked alerts; 0 means none.
-    pub window_days: i32,
-}
-
-impl Default for ClusterSettings {
-    fn default() -> Self {
-        ClusterSettings {
-            link_factor: 1.5,
-            window_days: 90,
-        }
-    }
-}
-
+/// The link rule of the clustering settings (the settings own their
+/// defaults; the rule is read here, above them).
 impl ClusterSettings {
     pub fn rule(&self) -> LinkRule {
         LinkRule {

@@ -17,8 +17,8 @@ use super::font::{GLYPH_H, draw_text, text_width};
 use super::palette::SourcePalette;
 use super::raster::Canvas;
 
-/// Mean Earth radius R₁ of GRS 80, metres (Moritz 2000, "Geodetic Reference System 1980").
-pub const EARTH_MEAN_RADIUS_M: f64 = 6_371_008.8;
+/// Mean Earth radius R₁ of GRS 80, metres (the one radius both sides share).
+pub use groundproof_sync::geodesy::MEAN_RADIUS_M as EARTH_MEAN_RADIUS_M;
 /// Smallest preview accepted, pixels per side.
 pub const MIN_PREVIEW_PX: u32 = 64;
 /// Largest preview accepted, pixels per side (our choice: 2048² RGB is 12 MiB in memory).

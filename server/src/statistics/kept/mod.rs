@@ -22,6 +22,16 @@ use crate::statistics::figures::{FigureOptions, Figures, all_figures_counted};
 /// Settle-window of disagreeing reports, days (DESIGN: default 30).
 pub const DISPUTE_WINDOW_DAYS: u32 = crate::reconcile::DEFAULT_WINDOW_DAYS;
 
+/// The reconciled status of every event that has one, by event id: what a
+/// trip's status filter reads ([`crate::planning::TripRequest::reconciled`]).
+pub fn event_statuses(db: &Db) -> Result<std::collections::BTreeMap<i64, String>> {
+    Ok(load(db, &StatsFilter::default(), DISPUTE_WINDOW_DAYS)?
+        .statuses
+        .iter()
+        .map(|(id, s)| (*id, s.status.as_str().to_string()))
+        .collect())
+}
+
 /// Every figure for the selection.
 pub fn figures(db: &Db, filter: &StatsFilter, options: &FigureOptions) -> Result<Figures> {
     figures_of(&load(db, filter, DISPUTE_WINDOW_DAYS)?, options)

@@ -139,10 +139,15 @@ pub async fn issue(
     state: web::Data<AppState>,
     body: web::Json<IssueBody>,
 ) -> Result<HttpResponse, ApiError> {
-    let req = trip_request(body.into_inner())?;
+    let mut req = trip_request(body.into_inner())?;
     let state = state.into_inner();
-    let out = web::block(move || issue_bundle(&state.db, &state.data_dir, &state.settings, &req))
-        .await??;
+    let out = web::block(move || {
+        if !req.statuses.is_empty() {
+            req.reconciled = Some(crate::statistics::kept::event_statuses(&state.db)?);
+        }
+        issue_bundle(&state.db, &state.data_dir, &state.settings, &req)
+    })
+    .await??;
     let id = out.bundle.id.clone();
     Ok(HttpResponse::Created()
         .insert_header(("Location", format!("/api/v1/bundles/{id}")))

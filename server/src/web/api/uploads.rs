@@ -11,7 +11,7 @@
 //! is not required yet: the package's HMAC signature is the gate.
 
 use crate::intake::uploads::{self, IncomingFile, MAX_APPEND_BYTES};
-use crate::intake::{IntakeError, files};
+use crate::intake::{IntakeError, files, layout};
 use crate::web::AppState;
 use crate::web::error::ApiError;
 use actix_web::{HttpRequest, HttpResponse, web};
@@ -246,9 +246,9 @@ async fn photo_file(state: web::Data<AppState>, sha: String, thumb: bool) -> Rep
             return Err(IntakeError::NotFound(format!("no photo {shac}")));
         }
         let p = if thumb {
-            files::thumb_path(&st.data_dir, &shac)
+            layout::thumb_path(&st.data_dir, &shac)
         } else {
-            files::photo_path(&st.data_dir, &shac)
+            layout::photo_path(&st.data_dir, &shac)
         };
         std::fs::read(&p).map_err(|e| crate::Error::io(format!("reading {}", p.display()), e))
     })

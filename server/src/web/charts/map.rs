@@ -5,11 +5,8 @@
 //! Nothing is fetched: no tiles, no script.
 
 use super::axis::format_number;
-use super::map_parts::{LEGEND_COLS, legend, north_arrow, scale_bar};
-use super::palette::{
-    AXIS, BLACK, BLUE, BLUISH_GREEN, GREY, ORANGE, REDDISH_PURPLE, Rgb, TEXT, VERMILLION, YELLOW,
-    ZONE_FILL,
-};
+use super::map_parts::{LEGEND_COLS, legend, north_arrow, scale_bar, status_colour};
+use super::palette::{AXIS, BLACK, ORANGE, TEXT, ZONE_FILL};
 use super::projection::{Frame, MAP_W, MAP_X0, MAP_Y0, usable};
 use super::svg::{self, escape, px};
 use super::types::{EventStatus, MapEvent, MapInput, MapZone};
@@ -22,18 +19,6 @@ const W: f64 = 800.0;
 /// Footprints smaller than this (px, both ways) are drawn as a marker.
 const MIN_PX: f64 = 3.0;
 const MARKER_R: f64 = 3.0;
-
-/// Fill of an event status.
-pub fn status_colour(s: EventStatus) -> Rgb {
-    match s {
-        EventStatus::Unvisited => GREY,
-        EventStatus::NotReached => REDDISH_PURPLE,
-        EventStatus::Confirmed => VERMILLION,
-        EventStatus::FalseAlarm => BLUISH_GREEN,
-        EventStatus::Inconclusive => YELLOW,
-        EventStatus::Disputed => BLUE,
-    }
-}
 
 /// The shape with every unusable vertex dropped, and polygons whose outer
 /// ring keeps fewer than three vertices dropped whole.

@@ -3,12 +3,26 @@
 //! with a note on the projection.
 
 use super::axis::format_number;
-use super::map::status_colour;
-use super::palette::{AXIS, BLACK, ORANGE, Rgb, TEXT, TEXT_MUTED, ZONE_FILL};
+use super::palette::{
+    AXIS, BLACK, BLUE, BLUISH_GREEN, GREY, ORANGE, REDDISH_PURPLE, Rgb, TEXT, TEXT_MUTED,
+    VERMILLION, YELLOW, ZONE_FILL,
+};
 use super::projection::{Frame, MAP_W, MAP_X0, scale_label, scale_length_m};
 use super::svg::{escape, px, text};
 use super::types::EventStatus;
 use std::fmt::{self, Write};
+
+/// Fill of an event status.
+pub fn status_colour(s: EventStatus) -> Rgb {
+    match s {
+        EventStatus::Unvisited => GREY,
+        EventStatus::NotReached => REDDISH_PURPLE,
+        EventStatus::Confirmed => VERMILLION,
+        EventStatus::FalseAlarm => BLUISH_GREEN,
+        EventStatus::Inconclusive => YELLOW,
+        EventStatus::Disputed => BLUE,
+    }
+}
 
 pub(crate) const LEGEND_COLS: usize = 4;
 

@@ -9,16 +9,8 @@ pub(crate) const MAP_Y0: f64 = 36.0;
 pub(crate) const MAP_W: f64 = 800.0 - 2.0 * MAP_X0;
 /// Share of the data extent added on every side.
 const MARGIN: f64 = 0.08;
-/// IUGG mean Earth radius (Moritz 1980), for the haversine width.
-const EARTH_RADIUS_M: f64 = 6_371_008.8;
-
-/// Great-circle distance in metres between (lon, lat) points in degrees.
-pub fn haversine_m(a: (f64, f64), b: (f64, f64)) -> f64 {
-    let (p1, p2) = (a.1.to_radians(), b.1.to_radians());
-    let h = ((p2 - p1) / 2.0).sin().powi(2)
-        + p1.cos() * p2.cos() * ((b.0 - a.0).to_radians() / 2.0).sin().powi(2);
-    2.0 * EARTH_RADIUS_M * h.sqrt().min(1.0).asin()
-}
+/// The haversine width behind the scale bar (the one both sides share).
+pub use groundproof_sync::geodesy::haversine_m;
 
 /// A coordinate the map can draw: finite, on the globe, off the poles.
 pub(crate) fn usable(p: (f64, f64)) -> bool {

@@ -8,22 +8,7 @@ use std::fmt::{self, Write};
 /// Escape text for an XML attribute or element body. Characters XML 1.0
 /// forbids even when escaped (most C0 controls) become U+FFFD, so a hostile
 /// name can never break the document.
-pub fn escape(text: &str) -> String {
-    let mut out = String::with_capacity(text.len());
-    for c in text.chars() {
-        match c {
-            '&' => out.push_str("&amp;"),
-            '<' => out.push_str("&lt;"),
-            '>' => out.push_str("&gt;"),
-            '"' => out.push_str("&quot;"),
-            '\'' => out.push_str("&#39;"),
-            '\t' | '\n' | '\r' => out.push(' '),
-            c if (c as u32) < 0x20 || c == '\u{FFFE}' || c == '\u{FFFF}' => out.push('\u{FFFD}'),
-            c => out.push(c),
-        }
-    }
-    out
-}
+pub use groundproof_sync::markup::escape_svg as escape;
 
 /// A coordinate rounded to 0.1 px for compact output (non-finite becomes 0).
 pub(crate) fn px(v: f64) -> f64 {

@@ -198,14 +198,7 @@ async fn list_page(
 
 /// Percent-encode a query value (RFC 3986 unreserved characters kept).
 pub fn urlencode(s: &str) -> String {
-    s.bytes()
-        .map(|b| match b {
-            b'A'..=b'Z' | b'a'..=b'z' | b'0'..=b'9' | b'-' | b'_' | b'.' | b'~' => {
-                (b as char).to_string()
-            }
-            _ => format!("%{b:02X}"),
-        })
-        .collect()
+    crate::web::urls::percent_encode(s, crate::web::urls::QUERY_VALUE)
 }
 
 /// `GET /events`.
