@@ -8,6 +8,7 @@ pub mod geodesy;
 mod lonlat;
 mod name;
 mod role;
+pub mod tuning;
 
 pub use confidence::{Confidence, ConfidenceMap};
 pub use day::Day;

@@ -12,7 +12,7 @@
 //! for (0 when negative). With the default weights (which sum to 1) the
 //! score lies in [0, 1].
 
-pub use crate::platform::settings::PriorityWeights;
+pub use crate::domain::tuning::PriorityWeights;
 
 /// The inputs of the score for one event.
 #[derive(Debug, Clone, Copy, PartialEq)]
