@@ -17,7 +17,8 @@ use sha2::{Digest, Sha256};
 
 use super::geojson::{parse_events, parse_points};
 use super::limits::BundleLimits;
-use super::manifest::{Manifest, UploadKey, is_sha256_hex};
+use super::manifest::{Manifest, UploadKey};
+use crate::Sha256Digest;
 use super::names;
 use super::types::{
     BundleEvent, BundleHeader, Checklist, ControlPoint, StartPoint, normalise_control,
@@ -355,7 +356,7 @@ fn check_listing(
                 format!("lists {:?} twice", e.name),
             ));
         }
-        if !is_sha256_hex(&e.sha256) {
+        if !Sha256Digest::is_valid(&e.sha256) {
             return Err(SyncError::invalid_entry(
                 names::MANIFEST,
                 format!("sha256 of {:?} is not 64 lowercase hex digits", e.name),

@@ -58,7 +58,7 @@ mod validate;
 pub use limits::ReturnLimits;
 pub use manifest::{RETURN_FORMAT, RETURN_FORMAT_VERSION, ReturnHeader, ReturnManifest};
 pub use names::{
-    PHOTO_PREFIX, REPORTS, RETURN_MANIFEST, SIGNATURE, check_return_entry_name, is_sha256_hex,
+    PHOTO_PREFIX, REPORTS, RETURN_MANIFEST, SIGNATURE, check_return_entry_name,
     photo_entry_name, photo_sha_of,
 };
 pub use open::{OpenedReturn, RejectedReport, open_return};
