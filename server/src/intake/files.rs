@@ -14,6 +14,7 @@
 //! before any database row names it.
 
 use super::IntakeError;
+use crate::domain::Sha256Digest;
 use crate::platform::storage::Db;
 use std::collections::HashSet;
 use std::path::{Path, PathBuf};
@@ -29,14 +30,8 @@ pub const EVIDENCE_DIR: &str = "evidence";
 /// Folder of thumbnails inside [`EVIDENCE_DIR`].
 pub const THUMBS_DIR: &str = "thumbs";
 
-/// True for 64 lowercase hex digits (a SHA-256 as we name files).
-pub fn is_sha256(s: &str) -> bool {
-    s.len() == 64
-        && s.bytes()
-            .all(|c| c.is_ascii_digit() || (b'a'..=b'f').contains(&c))
-}
-
-/// `evidence/ab/<sha>.jpg` under `data_dir`; `sha` must pass [`is_sha256`].
+/// `evidence/ab/<sha>.jpg` under `data_dir`; `sha` must pass
+/// [`Sha256Digest::is_valid`].
 pub fn photo_path(data_dir: &Path, sha: &str) -> PathBuf {
     data_dir
         .join(EVIDENCE_DIR)
@@ -148,7 +143,7 @@ pub fn cleanup(db: &Db, data_dir: &Path) -> Result<CleanupSummary, IntakeError> 
                 .map(|n| n.to_string_lossy().into_owned())
                 .unwrap_or_default();
             let sha = name.strip_suffix(".jpg").unwrap_or("");
-            if !(is_sha256(sha) && known.contains(sha)) {
+            if !(Sha256Digest::is_valid(sha) && known.contains(sha)) {
                 remove(&f)?;
                 out.evidence_files += 1;
             }
@@ -194,9 +189,7 @@ mod tests {
     #[test]
     fn names_are_content_addressed() {
         let sha = "ab".repeat(32);
-        assert!(is_sha256(&sha));
-        assert!(!is_sha256(&"AB".repeat(32)));
-        assert!(!is_sha256("../etc/passwd"));
+        assert!(Sha256Digest::is_valid(&sha));
         let d = Path::new("/data");
         assert_eq!(
             photo_path(d, &sha),

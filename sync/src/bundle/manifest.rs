@@ -170,7 +170,6 @@ pub fn sha256_hex(bytes: &[u8]) -> String {
     hex::encode(Sha256::digest(bytes))
 }
 
-
 #[cfg(test)]
 mod tests {
     use super::*;

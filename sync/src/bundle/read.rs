@@ -18,13 +18,13 @@ use sha2::{Digest, Sha256};
 use super::geojson::{parse_events, parse_points};
 use super::limits::BundleLimits;
 use super::manifest::{Manifest, UploadKey};
-use crate::Sha256Digest;
 use super::names;
 use super::types::{
     BundleEvent, BundleHeader, Checklist, ControlPoint, StartPoint, normalise_control,
     normalise_event, normalise_start,
 };
 use super::write::check_route;
+use crate::Sha256Digest;
 use crate::safezip::{EntryLimit, HARD_MAX_RATIO, SafeZip};
 use crate::{BUNDLE_FORMAT, BUNDLE_FORMAT_VERSION, SyncError};
 

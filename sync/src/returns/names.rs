@@ -22,7 +22,6 @@ pub fn photo_sha_of(name: &str) -> Option<&str> {
     crate::Sha256Digest::is_valid(sha).then_some(sha)
 }
 
-
 /// Accepts the names allowed in a return; the error says why a name is refused.
 pub fn check_return_entry_name(name: &str) -> Result<(), String> {
     if name == RETURN_MANIFEST

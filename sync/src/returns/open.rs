@@ -14,8 +14,7 @@ use uuid::Uuid;
 use super::limits::ReturnLimits;
 use super::manifest::{RETURN_FORMAT, RETURN_FORMAT_VERSION, ReturnManifest};
 use super::names::{
-    REPORTS, RETURN_MANIFEST, SIGNATURE, check_return_entry_name, photo_entry_name,
-    photo_sha_of,
+    REPORTS, RETURN_MANIFEST, SIGNATURE, check_return_entry_name, photo_entry_name, photo_sha_of,
 };
 use super::report::Report;
 use super::sign::{Signature, verify_manifest};

@@ -117,7 +117,10 @@ mod tests {
         assert_eq!(d.to_string(), EMPTY);
         let json = serde_json::to_string(&d).expect("json");
         assert_eq!(json, format!("\"{EMPTY}\""));
-        assert_eq!(serde_json::from_str::<Sha256Digest>(&json).expect("back"), d);
+        assert_eq!(
+            serde_json::from_str::<Sha256Digest>(&json).expect("back"),
+            d
+        );
         let db = rusqlite::Connection::open_in_memory().expect("db");
         let stored: String = db
             .query_row("SELECT ?1", [&d], |r| r.get(0))
@@ -141,8 +144,7 @@ mod tests {
         assert!("AB".repeat(32).parse::<Sha256Digest>().is_err());
         assert!(serde_json::from_str::<Sha256Digest>("\"abc\"").is_err());
         let db = rusqlite::Connection::open_in_memory().expect("db");
-        let bad: rusqlite::Result<Sha256Digest> =
-            db.query_row("SELECT 'abc'", [], |r| r.get(0));
+        let bad: rusqlite::Result<Sha256Digest> = db.query_row("SELECT 'abc'", [], |r| r.get(0));
         assert!(bad.is_err());
     }
 }

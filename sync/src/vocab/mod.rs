@@ -258,7 +258,9 @@ mod tests {
                 .query_row("SELECT ?1", [v], |r| r.get(0))
                 .expect("stored");
             assert_eq!(stored, name, "stored text");
-            let read: T = db.query_row("SELECT ?1", [name], |r| r.get(0)).expect("read");
+            let read: T = db
+                .query_row("SELECT ?1", [name], |r| r.get(0))
+                .expect("read");
             assert_eq!(read, v);
         }
         assert!("Confirmed ".parse::<T>().is_err());
@@ -293,7 +295,9 @@ mod tests {
 
     #[test]
     fn reasons_belong_to_one_outcome() {
-        let fa: Vec<&str> = Reason::of(Outcome::FalseAlarm).map(Reason::as_str).collect();
+        let fa: Vec<&str> = Reason::of(Outcome::FalseAlarm)
+            .map(Reason::as_str)
+            .collect();
         assert_eq!(
             fa,
             [
@@ -304,7 +308,9 @@ mod tests {
                 "not_forest"
             ]
         );
-        let nr: Vec<&str> = Reason::of(Outcome::NotReached).map(Reason::as_str).collect();
+        let nr: Vec<&str> = Reason::of(Outcome::NotReached)
+            .map(Reason::as_str)
+            .collect();
         assert_eq!(nr, ["access", "terrain", "safety"]);
         assert_eq!(Reason::of(Outcome::Confirmed).count(), 0);
     }
@@ -312,7 +318,10 @@ mod tests {
     #[test]
     fn unknown_words_say_what_was_expected() {
         let e = "survey".parse::<BundleMode>().expect_err("unknown");
-        assert_eq!(e.to_string(), "mode 'survey': expected response or assessment");
+        assert_eq!(
+            e.to_string(),
+            "mode 'survey': expected response or assessment"
+        );
         let e = "maybe".parse::<Outcome>().expect_err("unknown");
         assert_eq!(
             e.to_string(),

@@ -10,14 +10,14 @@
 //! `DateTime::parse_from_rfc3339` for every input.
 
 use chrono::{DateTime, NaiveDate, NaiveTime, Utc};
-use serde::{Deserialize, Serialize};
+use serde::{Deserialize, Deserializer, Serialize, Serializer};
 use std::fmt;
 use std::str::FromStr;
 
-/// A UTC time. Serde writes it as `DateTime<Utc>` does; text and SQLite
-/// hold it as `to_rfc3339` writes it.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Deserialize)]
-#[serde(transparent)]
+/// A UTC time. Text, serde and SQLite all hold it as `to_rfc3339` writes
+/// it (so a stored row shows in JSON exactly as the text it was stored
+/// as), and read any RFC 3339 time.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash)]
 pub struct Timestamp(DateTime<Utc>);
 
 impl Timestamp {
@@ -79,6 +79,19 @@ impl fmt::Display for Timestamp {
     /// The stored layout, `to_rfc3339`.
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         f.write_str(&self.0.to_rfc3339())
+    }
+}
+
+impl Serialize for Timestamp {
+    fn serialize<S: Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        s.collect_str(self)
+    }
+}
+
+impl<'de> Deserialize<'de> for Timestamp {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        let s = <std::borrow::Cow<'de, str>>::deserialize(d)?;
+        s.parse().map_err(serde::de::Error::custom)
     }
 }
 
@@ -168,7 +181,11 @@ mod tests {
             "not a time",
             "",
         ] {
-            assert_eq!(Timestamp::parse(s).map(Timestamp::utc), chrono_parse(s), "{s}");
+            assert_eq!(
+                Timestamp::parse(s).map(Timestamp::utc),
+                chrono_parse(s),
+                "{s}"
+            );
         }
     }
 
@@ -189,10 +206,12 @@ mod tests {
         assert_eq!(t.to_string(), stored);
         assert_eq!(stored.parse::<Timestamp>(), Ok(t));
         assert!("yesterday".parse::<Timestamp>().is_err());
-        // Serde writes what `DateTime<Utc>` writes.
         let json = serde_json::to_string(&t).expect("json");
-        assert_eq!(json, serde_json::to_string(&t.utc()).expect("chrono"));
+        assert_eq!(json, format!("\"{stored}\""));
         assert_eq!(serde_json::from_str::<Timestamp>(&json).expect("back"), t);
+        let z: Timestamp = serde_json::from_str("\"2026-03-01T08:15:00.25Z\"").expect("z");
+        assert_eq!(z, t);
+        assert!(serde_json::from_str::<Timestamp>("\"soon\"").is_err());
         let db = rusqlite::Connection::open_in_memory().expect("db");
         let text: String = db.query_row("SELECT ?1", [t], |r| r.get(0)).expect("text");
         assert_eq!(text, stored);

@@ -9,7 +9,6 @@
 mod cache;
 mod csv_tables;
 mod load;
-mod rfc3339;
 
 pub use cache::{Prepared, REFRESH_TICK, StatsCache, keep_fresh};
 pub use csv_tables::{TABLES, table};
@@ -41,8 +40,8 @@ pub fn figures_of(l: &Loaded, options: &FigureOptions) -> Result<Figures> {
 }
 
 /// An outcome word as stored.
-pub fn parse_outcome(s: &str) -> Option<crate::reconcile::Outcome> {
-    load::outcome(s)
+pub fn parse_outcome(s: &str) -> Option<crate::domain::Outcome> {
+    s.parse().ok()
 }
 
 /// Every live event as a GeoJSON Feature with its reconciled status and an

@@ -124,7 +124,7 @@ pub async fn disputes(state: web::Data<AppState>) -> Result<HttpResponse, ApiErr
             .loaded
             .statuses
             .iter()
-            .filter(|(_, s)| s.status == crate::reconcile::Status::Disputed)
+            .filter(|(_, s)| s.status == crate::domain::EventStatus::Disputed)
             .map(|(id, s)| json!({"event_id": id, "note": s.note, "reports": s.counted_reports, "teams": s.teams}))
             .collect();
         Ok::<_, Error>(v)
@@ -150,13 +150,13 @@ pub async fn adjudicate(
         .parse()
         .map_err(|_| Error::Invalid(format!("event id '{path}' is not a number")))?;
     let b = body.into_inner();
-    if crate::statistics::kept::parse_outcome(&b.outcome).is_none() {
+    let Some(outcome) = crate::statistics::kept::parse_outcome(&b.outcome) else {
         return Err(Error::Invalid(format!(
             "field 'outcome': '{}' is not confirmed, false_alarm, inconclusive or not_reached",
             b.outcome
         ))
         .into());
-    }
+    };
     if b.reason.trim().is_empty() || b.reason.chars().count() > 2000 {
         return Err(
             Error::Invalid("field 'reason': say why, in 1 to 2000 characters".into()).into(),
@@ -170,7 +170,7 @@ pub async fn adjudicate(
         let ev = db
             .read(|r| r.event_resolved(id))?
             .ok_or_else(|| Error::NotFound(format!("no event {id}")))?;
-        db.write(|tx| tx.add_adjudication(ev.id, &b.outcome, b.reason.trim(), b.by.trim()))
+        db.write(|tx| tx.add_adjudication(ev.id, outcome, b.reason.trim(), b.by.trim()))
     })
     .await??;
     Ok(HttpResponse::Created().json(row))

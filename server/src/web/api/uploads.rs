@@ -285,7 +285,7 @@ pub async fn event_reports(state: web::Data<AppState>, path: web::Path<String>) 
 }
 
 async fn photo_file(state: web::Data<AppState>, sha: String, thumb: bool) -> Reply {
-    if !files::is_sha256(&sha) {
+    if !crate::domain::Sha256Digest::is_valid(&sha) {
         return Err(IntakeError::NotFound(format!("no photo {sha}")).into());
     }
     let st = state.into_inner();

@@ -5,10 +5,10 @@
 
 use super::common::{Layout, PageError, Viewer, fixed, html, respond, see_other};
 use super::views::{ReportView, report_view};
+use crate::domain::{EventStatus, Outcome};
 use crate::error::Error;
 use crate::planning::codes::event_code;
 use crate::platform::auth::Action;
-use crate::reconcile::Status;
 use crate::statistics::kept::{StatsFilter, parse_outcome};
 use crate::web::AppState;
 use actix_web::http::StatusCode;
@@ -69,13 +69,13 @@ pub struct AdjudicationForm {
 pub fn validate(
     f: &AdjudicationForm,
     user: Option<&str>,
-) -> Result<(String, String, String), PageError> {
+) -> Result<(Outcome, String, String), PageError> {
     let outcome = f.outcome.as_deref().map(str::trim).unwrap_or_default();
-    if parse_outcome(outcome).is_none() {
+    let Some(outcome) = parse_outcome(outcome) else {
         return Err(PageError::bad_request(
             "Outcome: choose confirmed, false alarm, inconclusive or not reached.",
         ));
-    }
+    };
     let reason = f.reason.as_deref().map(str::trim).unwrap_or_default();
     if reason.is_empty() || reason.chars().count() > MAX_REASON_CHARS {
         return Err(PageError::bad_request(format!(
@@ -91,7 +91,7 @@ pub fn validate(
             "Decided by: your name, 1 to {MAX_BY_CHARS} characters."
         )));
     }
-    Ok((outcome.to_string(), reason.to_string(), by))
+    Ok((outcome, reason.to_string(), by))
 }
 
 async fn disputes_page(
@@ -110,7 +110,7 @@ async fn disputes_page(
             .loaded
             .statuses
             .iter()
-            .filter(|(_, s)| s.status == Status::Disputed)
+            .filter(|(_, s)| s.status == EventStatus::Disputed)
         {
             let d = db.read(|r| {
                 let area = r
@@ -200,7 +200,7 @@ pub async fn adjudicate(
             let ev = db
                 .read(|r| r.event_resolved(id))?
                 .ok_or_else(|| Error::NotFound(format!("no event {id}")))?;
-            db.write(|tx| tx.add_adjudication(ev.id, &outcome, &reason, &by))?;
+            db.write(|tx| tx.add_adjudication(ev.id, outcome, &reason, &by))?;
             Ok::<_, Error>(ev.id)
         })
         .await??;
