@@ -25,7 +25,7 @@
 mod common;
 use chrono::{DateTime, Duration, TimeZone, Utc};
 use common::peak_rss_mb;
-use groundproof::domain::{Confidence, Day};
+use groundproof::domain::{Confidence, Day, Outcome, Reason, TargetKind};
 use groundproof::platform::storage::{
     BundleItem, Db, EventWrite, NewBundle, ReportRow, ReturnRecord, Tx,
 };
@@ -37,6 +37,14 @@ use rand::{RngExt, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use std::collections::BTreeMap;
 use std::time::Instant;
+
+/// One of the bench's fixed words (outcomes, causes), typed.
+fn word<W: std::str::FromStr>(s: &str) -> W
+where
+    W::Err: std::fmt::Debug,
+{
+    s.parse().expect("a known word")
+}
 
 const TARGET_P95_MS: f64 = 200.0;
 const SEED: u64 = 2026;
@@ -101,7 +109,7 @@ fn response_item(k: usize, event_id: i64, (lon, lat): (f64, f64)) -> BundleItem 
     BundleItem {
         visit_order: k as u32,
         code: format!("E{:03}", k + 1),
-        kind: "event".into(),
+        kind: TargetKind::Event,
         event_id: Some(event_id),
         lon,
         lat,
@@ -181,25 +189,25 @@ impl Trip<'_> {
                         report_id: report_id.clone(),
                         bundle_id: id.clone(),
                         event_id: item.event_id,
-                        control_code: (item.kind == "control").then(|| item.code.clone()),
-                        kind: item.kind.clone(),
+                        control_code: (item.kind == TargetKind::Control).then(|| item.code.clone()),
+                        kind: item.kind,
                         supersedes,
-                        outcome: outcome.into(),
+                        outcome: word(outcome),
                         reason: match outcome {
-                            "false_alarm" => Some("no_change".into()),
-                            "not_reached" => Some("access".into()),
+                            "false_alarm" => Some(Reason::NoChange),
+                            "not_reached" => Some(Reason::Access),
                             _ => None,
                         },
                         cause: (outcome == "confirmed")
-                            .then(|| CAUSES[rng.random_range(0..CAUSES.len())].into()),
+                            .then(|| word(CAUSES[rng.random_range(0..CAUSES.len())])),
                         lat: Some(item.lat),
                         lon: Some(item.lon),
                         accuracy_m: Some(8.0),
                         position_source: Some("gnss".into()),
                         distance_m: Some(rng.random_range(0.0..40.0)),
-                        observed_at: observed.to_rfc3339(),
-                        recorded_at: observed.to_rfc3339(),
-                        received_at: received.to_rfc3339(),
+                        observed_at: observed.into(),
+                        recorded_at: observed.into(),
+                        received_at: received.into(),
                         area_ha: None,
                         notes: String::new(),
                         team: self.team.into(),
@@ -328,7 +336,7 @@ fn generate(db: &Db, n_events: usize, n_reports: usize) -> groundproof::Result<M
                     BundleItem {
                         visit_order: k as u32,
                         code: format!("S{:03}", k + 1),
-                        kind: "event".into(),
+                        kind: TargetKind::Event,
                         event_id: Some(ids[i]),
                         lon: positions[i].0,
                         lat: positions[i].1,
@@ -341,7 +349,7 @@ fn generate(db: &Db, n_events: usize, n_reports: usize) -> groundproof::Result<M
             items.extend((0..CONTROLS_PER_TRIP).map(|k| BundleItem {
                 visit_order: (SAMPLED_PER_TRIP + k) as u32,
                 code: format!("C{:03}", k + 1),
-                kind: "control".into(),
+                kind: TargetKind::Control,
                 event_id: None,
                 lon: rng.random_range(-60.0..-59.5),
                 lat: rng.random_range(-10.0..-9.5),
@@ -366,7 +374,7 @@ fn generate(db: &Db, n_events: usize, n_reports: usize) -> groundproof::Result<M
         // A manager settled a few hundred events by hand.
         for _ in 0..500.min(ids.len()) {
             let id = ids[rng.random_range(0..ids.len())];
-            tx.add_adjudication(id, "confirmed", "seen on a later image", "Manager Bench")?;
+            tx.add_adjudication(id, Outcome::Confirmed, "seen on a later image", "Manager Bench")?;
             made.adjudications += 1;
         }
         Ok(made)

@@ -4,7 +4,7 @@ use anyhow::{Context, Result, bail};
 use clap::{Args, Parser, Subcommand};
 use groundproof::alerts::events::{ImportRequest, import_alerts, import_zones, ranked_events};
 use groundproof::alerts::import::{Format, ReadOptions};
-use groundproof::domain::{ConfidenceMap, Day, SourceName, ZoneName};
+use groundproof::domain::{ConfidenceMap, Day, SourceName, TeamName, ZoneName};
 use groundproof::platform::settings::Settings;
 use groundproof::platform::storage::{Db, EventFilter};
 use groundproof::{Error, demo, web};
@@ -390,8 +390,7 @@ pub fn run() -> Result<ExitCode> {
         },
         Command::Team { command } => match command {
             TeamCommand::Add { name, data } => {
-                let name = ZoneName::parse(&name)
-                    .map_err(|m| Error::Invalid(m.replace("zone", "team")))?;
+                let name = TeamName::parse(&name).map_err(Error::Invalid)?;
                 let (db, _) = open(&data.data)?;
                 let t = db.write(|tx| tx.add_team(name.as_str()))?;
                 println!("team '{}' added", t.name);

@@ -3,10 +3,11 @@
 
 use crate::alerts::events::{ImportRequest, import_alerts, import_zones};
 use crate::alerts::import::{Format, ReadOptions};
+use crate::domain::BundleMode;
 use crate::domain::{ConfidenceMap, SourceName};
 use crate::domain::{Day, LonLat};
 use crate::error::{Error, Result};
-use crate::planning::{Mode, TripRequest, issue_bundle};
+use crate::planning::{TripRequest, issue_bundle};
 use crate::platform::settings::Settings;
 use crate::platform::storage::Db;
 use std::fmt;
@@ -133,7 +134,7 @@ pub fn load(db: &Db, data_dir: &Path, settings: &Settings) -> Result<DemoSummary
     bundles.push(issue_bundle(db, data_dir, settings, &response)?);
     let assessment = TripRequest {
         issued_at,
-        mode: Mode::Assessment,
+        mode: BundleMode::Assessment,
         zone: Some("Riverside Community Land".into()),
         margin: 0.3,
         controls: 3,

@@ -18,8 +18,12 @@ pub mod outbox;
 pub mod photo;
 pub mod returns;
 pub mod safezip;
+pub mod vocab;
 
 pub use error::SyncError;
+pub use vocab::{
+    BundleMode, Cause, Outcome, Reason, Sha256Digest, TargetKind, Timestamp, UnknownWord,
+};
 
 /// Format name written into every bundle manifest.
 pub const BUNDLE_FORMAT: &str = "groundproof-bundle";

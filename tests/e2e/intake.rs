@@ -137,7 +137,7 @@ fn canonical(db: &Db) -> Vec<String> {
     facts(db)
         .into_iter()
         .map(|mut r| {
-            r.received_at.clear();
+            r.received_at = groundproof::domain::Timestamp::from(chrono::DateTime::UNIX_EPOCH);
             r.return_id = 0;
             let photos = db.read(|x| x.report_photos(&r.report_id)).unwrap();
             let checks = db.read(|x| x.photo_checks(&r.report_id)).unwrap();
@@ -278,7 +278,7 @@ fn ten_reports_through_a_connection_cut_twice_and_whole_through_the_station() {
     assert_eq!(rows.len(), 10);
     assert!(
         rows.iter()
-            .all(|r| r.bundle_id == bundle_id && r.kind == "event")
+            .all(|r| r.bundle_id == bundle_id && r.kind == groundproof::domain::TargetKind::Event)
     );
     assert!(
         rows.iter().all(|r| r.evidence_ok && r.flags.is_empty()),

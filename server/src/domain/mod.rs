@@ -8,10 +8,17 @@ pub mod geodesy;
 mod lonlat;
 mod name;
 mod role;
+mod status;
 pub mod tuning;
 
 pub use confidence::{Confidence, ConfidenceMap};
 pub use day::Day;
+/// The words that cross between office and field are defined in the
+/// contract crate; the server names them from here.
+pub use groundproof_sync::vocab::{
+    BundleMode, Cause, Outcome, Reason, Sha256Digest, TargetKind, Timestamp, UnknownWord,
+};
 pub use lonlat::LonLat;
-pub use name::{SourceName, ZoneName};
+pub use name::{SourceName, TeamName, ZoneName};
 pub use role::Role;
+pub use status::EventStatus;

@@ -5,16 +5,10 @@ use super::IntakeError;
 use super::layout::{
     EVIDENCE_DIR, INCOMING_DIR, THUMBS_DIR, UPLOAD_MAX_AGE_DAYS, UPLOADS_DIR, intake_lock,
 };
+use crate::domain::Sha256Digest;
 use crate::platform::storage::Db;
 use std::collections::HashSet;
 use std::path::{Path, PathBuf};
-
-/// True for 64 lowercase hex digits (a SHA-256 as we name files).
-pub fn is_sha256(s: &str) -> bool {
-    s.len() == 64
-        && s.bytes()
-            .all(|c| c.is_ascii_digit() || (b'a'..=b'f').contains(&c))
-}
 
 /// What [`cleanup`] removed.
 #[derive(Debug, Clone, Default, PartialEq, Eq, serde::Serialize)]
@@ -79,7 +73,7 @@ pub fn cleanup(db: &Db, data_dir: &Path) -> Result<CleanupSummary, IntakeError> 
                 .map(|n| n.to_string_lossy().into_owned())
                 .unwrap_or_default();
             let sha = name.strip_suffix(".jpg").unwrap_or("");
-            if !(is_sha256(sha) && known.contains(sha)) {
+            if !(Sha256Digest::is_valid(sha) && known.contains(sha)) {
                 remove(&f)?;
                 out.evidence_files += 1;
             }
@@ -126,9 +120,7 @@ mod tests {
     #[test]
     fn names_are_content_addressed() {
         let sha = "ab".repeat(32);
-        assert!(is_sha256(&sha));
-        assert!(!is_sha256(&"AB".repeat(32)));
-        assert!(!is_sha256("../etc/passwd"));
+        assert!(Sha256Digest::is_valid(&sha));
         let d = Path::new("/data");
         assert_eq!(
             photo_path(d, &sha),

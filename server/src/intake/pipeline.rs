@@ -16,7 +16,7 @@ use super::layout::{
     incoming_path, intake_lock, move_durably, photo_path, rejected_path, thumb_path,
 };
 use super::{IntakeError, IntakeOptions};
-use crate::domain::{Confidence, Day};
+use crate::domain::{Cause, Confidence, Day, Outcome, Reason, TargetKind};
 use crate::platform::storage::{
     BundleItem, BundleRecord, Db, EventWrite, PhotoCheckRow, PhotoRow, ReportPhotoRow, ReportRow,
     ResultRow, ReturnRecord, UploadRecord,
@@ -25,7 +25,7 @@ use chrono::{DateTime, Utc};
 use groundproof_sync::SyncError;
 use groundproof_sync::bundle::Checklist;
 use groundproof_sync::photo::inspect_jpeg;
-use groundproof_sync::returns::{OpenedReturn, Report, Target, open_return};
+use groundproof_sync::returns::{OpenedReturn, Report, ReportPhoto, Target, open_return};
 use serde::Serialize;
 use sha2::{Digest, Sha256};
 use std::cell::Cell;
@@ -218,11 +218,12 @@ impl Context<'_> {
         })
     }
 
-    fn item(&self, code: &str, kind: &str) -> Option<&BundleItem> {
+    fn item(&self, code: &str, kind: TargetKind) -> Option<&BundleItem> {
         self.items.iter().find(|i| i.code == code && i.kind == kind)
     }
 
-    /// Decide what to do with one report that passed the format checks.
+    /// Decide what to do with one report that passed the format checks:
+    /// a duplicate, a rejection with its reason, or the rows to store.
     fn judge(&mut self, r: &Report) -> Result<Verdict, IntakeError> {
         let id = r.report_id.to_string();
         let body = body_sha256(r);
@@ -235,16 +236,57 @@ impl Context<'_> {
                 ))
             });
         }
+        let mut target = match self.resolve(r)? {
+            Ok(t) => t,
+            Err(why) => return Ok(Verdict::Reject(why)),
+        };
+        let words = match Words::of(r) {
+            Ok(w) => w,
+            Err(why) => return Ok(Verdict::Reject(why)),
+        };
+        let ctx = CheckContext {
+            footprint: target.footprint.take(),
+            first_detection: target.first_detection,
+            window: self.window,
+            tolerance_m: self.options.tolerance_m,
+        };
+        let position = r.position.map(|p| (p.lat, p.lon));
+        let (distance_m, mut flags) = match target.kind {
+            TargetKind::NewClearing => (Some(0.0), Vec::new()),
+            // A team that turned back reports where it turned back: the
+            // distance is kept, but being far is what not reached means.
+            _ if words.outcome == Outcome::NotReached => {
+                (evidence::check_position(&ctx, position).0, Vec::new())
+            }
+            _ => evidence::check_position(&ctx, position),
+        };
+        flags.extend(evidence::check_report_time(r.observed_at, self.received_at));
+        let found = match self.check_photos(r, &id, &ctx)? {
+            Ok(f) => f,
+            Err(why) => return Ok(Verdict::Reject(why)),
+        };
+        flags.extend(found.flags);
+        let row = self.report_row(r, id, &target, words, distance_m, flags);
+        Ok(Verdict::Accept(Box::new(Planned {
+            row,
+            body_sha256: body,
+            new_event: target.new_event,
+            photos: found.photos,
+            checks: found.checks,
+        })))
+    }
+
+    /// What the report is about, as the bundle and storage know it; `Err`
+    /// holds the reason the report is refused.
+    fn resolve(&self, r: &Report) -> Result<Result<Resolved, String>, IntakeError> {
         let bid = &self.bundle.id;
-        let (kind, event_id, control_code, footprint, first, new_event) = match &r.target {
+        Ok(Ok(match &r.target {
             Target::Event { code, event_id } => {
-                let Some(item) = self.item(code, "event") else {
-                    return Ok(Verdict::Reject(format!(
-                        "event {code} is not in bundle {bid}"
-                    )));
+                let Some(item) = self.item(code, TargetKind::Event) else {
+                    return Ok(Err(format!("event {code} is not in bundle {bid}")));
                 };
                 if item.event_id != Some(*event_id) {
-                    return Ok(Verdict::Reject(format!(
+                    return Ok(Err(format!(
                         "event {code} of bundle {bid} is event id {}, the report names {event_id}",
                         item.event_id
                             .map(|e| e.to_string())
@@ -252,76 +294,46 @@ impl Context<'_> {
                     )));
                 }
                 let Some(ev) = self.db.read(|x| x.event_resolved(*event_id))? else {
-                    return Ok(Verdict::Reject(format!("unknown event id {event_id}")));
+                    return Ok(Err(format!("unknown event id {event_id}")));
                 };
-                let fp = crate::alerts::events::parse_multipolygon(&ev.attrs.footprint)
-                    .map(Footprint::Area);
-                (
-                    "event",
-                    Some(*event_id),
-                    None,
-                    fp,
-                    Some(ev.attrs.first.date()),
-                    None,
-                )
+                Resolved {
+                    kind: TargetKind::Event,
+                    event_id: Some(*event_id),
+                    control_code: None,
+                    footprint: crate::alerts::events::parse_multipolygon(&ev.attrs.footprint)
+                        .map(Footprint::Area),
+                    first_detection: Some(ev.attrs.first.date()),
+                    new_event: None,
+                }
             }
             Target::Control { code } => {
-                let Some(item) = self.item(code, "control") else {
-                    return Ok(Verdict::Reject(format!(
-                        "control point {code} is not in bundle {bid}"
-                    )));
+                let Some(item) = self.item(code, TargetKind::Control) else {
+                    return Ok(Err(format!("control point {code} is not in bundle {bid}")));
                 };
-                let fp = Some(Footprint::Point(item.lon, item.lat));
-                ("control", None, Some(code.clone()), fp, None, None)
+                Resolved {
+                    kind: TargetKind::Control,
+                    event_id: None,
+                    control_code: Some(code.clone()),
+                    footprint: Some(Footprint::Point(item.lon, item.lat)),
+                    first_detection: None,
+                    new_event: None,
+                }
             }
-            Target::NewClearing => {
-                let (Some(p), Some(area)) = (r.position, r.area_ha) else {
-                    return Ok(Verdict::Reject(
-                        "a new clearing needs a position and area_ha".into(),
-                    ));
-                };
-                let mp = clearing_square(p.lon, p.lat, area);
-                let rect = geo::BoundingRect::bounding_rect(&mp);
-                let day = Day::from_date(r.observed_at.date_naive());
-                let write = rect.map(|b| EventWrite {
-                    footprint: footprint_json(&mp),
-                    area_ha: area,
-                    centroid: (p.lon, p.lat),
-                    bbox: (b.min().x, b.min().y, b.max().x, b.max().y),
-                    first: day,
-                    last: day,
-                    alert_count: 0,
-                    highest_confidence: Confidence::Tentative,
-                    corroborated: false,
-                    per_source: BTreeMap::new(),
-                });
-                (
-                    "new_clearing",
-                    None,
-                    None,
-                    Some(Footprint::Area(mp)),
-                    None,
-                    write,
-                )
-            }
-        };
-        let ctx = CheckContext {
-            footprint,
-            first_detection: first,
-            window: self.window,
-            tolerance_m: self.options.tolerance_m,
-        };
-        let (distance_m, mut flags) = match kind {
-            "new_clearing" => (Some(0.0), Vec::new()),
-            // A team that turned back reports where it turned back: the
-            // distance is kept, but being far is what not reached means.
-            _ if r.outcome == "not_reached" => (
-                evidence::check_position(&ctx, r.position.map(|p| (p.lat, p.lon))).0,
-                Vec::new(),
-            ),
-            _ => evidence::check_position(&ctx, r.position.map(|p| (p.lat, p.lon))),
-        };
-        flags.extend(evidence::check_report_time(r.observed_at, self.received_at));
+            Target::NewClearing => match new_clearing(r) {
+                Some(t) => t,
+                None => return Ok(Err("a new clearing needs a position and area_ha".into())),
+            },
+        }))
+    }
+
+    /// Every photo of `r` inspected and checked; `Err` holds the reason a
+    /// photo refuses the whole report.
+    fn check_photos(
+        &mut self,
+        r: &Report,
+        id: &str,
+        ctx: &CheckContext,
+    ) -> Result<Result<PhotoFindings, String>, IntakeError> {
         // An amendment keeps the photos of the report it replaces: sharing
         // them within that line of reports is not reuse.
         let lineage: BTreeSet<Uuid> = r
@@ -336,30 +348,17 @@ impl Context<'_> {
             )
             .collect();
         let supersedes = r.supersedes.map(|u| u.to_string()).unwrap_or_default();
-        let mut photos = Vec::new();
-        let mut checks = Vec::new();
-        let mut rows = Vec::new();
+        let mut found = PhotoFindings::default();
         for p in &r.photos {
             let info = match self.photo(&p.sha256) {
                 Ok(i) => i,
                 Err(IntakeError::Package(why)) => {
-                    return Ok(Verdict::Reject(format!(
+                    return Ok(Err(format!(
                         "photo {} ({}) is refused: {why}",
                         p.sha256, p.original_name
                     )));
                 }
                 Err(e) => return Err(e),
-            };
-            let taken_at = info
-                .row
-                .taken_at
-                .as_deref()
-                .and_then(|t| DateTime::parse_from_rfc3339(t).ok())
-                .map(|t| t.with_timezone(&Utc))
-                .or(p.taken_at);
-            let position = match (info.row.lat, info.row.lon) {
-                (Some(la), Some(lo)) => Some((la, lo)),
-                _ => p.lat.zip(p.lon),
             };
             let in_package = self
                 .users
@@ -368,70 +367,171 @@ impl Context<'_> {
             let reused = in_package
                 || self
                     .db
-                    .read(|x| x.photo_used_by_other(&p.sha256, &id, &supersedes))?;
-            let v = evidence::check_photo(
-                &ctx,
-                &PhotoFacts {
-                    sha256: p.sha256.clone(),
-                    taken_at,
-                    position,
-                    reused_elsewhere: reused,
-                },
-            );
-            flags.extend(v.flags.iter().cloned());
-            checks.push(PhotoCheckRow {
-                report_id: id.clone(),
+                    .read(|x| x.photo_used_by_other(&p.sha256, id, &supersedes))?;
+            let v = evidence::check_photo(ctx, &photo_facts(p, &info, reused));
+            found.flags.extend(v.flags.iter().cloned());
+            found.checks.push(PhotoCheckRow {
+                report_id: id.to_string(),
                 sha256: p.sha256.clone(),
                 distance_m: v.distance_m,
                 after_detection: v.after_detection,
                 inside_window: v.inside_window,
                 reused_elsewhere: v.reused_elsewhere,
             });
-            photos.push(ReportPhotoRow {
+            found.photos.push(ReportPhotoRow {
                 sha256: p.sha256.clone(),
                 original_name: p.original_name.clone(),
             });
-            rows.push(info);
         }
+        Ok(Ok(found))
+    }
+
+    /// The row stored for an accepted report.
+    fn report_row(
+        &self,
+        r: &Report,
+        id: String,
+        target: &Resolved,
+        words: Words,
+        distance_m: Option<f64>,
+        flags: Vec<String>,
+    ) -> ReportRow {
         let position_source = r.position.map(|p| {
             serde_json::to_value(p.source)
                 .ok()
                 .and_then(|v| v.as_str().map(str::to_owned))
                 .unwrap_or_default()
         });
-        let row = ReportRow {
+        ReportRow {
             report_id: id,
             bundle_id: self.bundle.id.clone(),
-            event_id,
-            control_code,
-            kind: kind.to_string(),
+            event_id: target.event_id,
+            control_code: target.control_code.clone(),
+            kind: target.kind,
             supersedes: r.supersedes.map(|s| s.to_string()),
-            outcome: r.outcome.clone(),
-            reason: r.reason.clone(),
-            cause: r.cause.clone(),
+            outcome: words.outcome,
+            reason: words.reason,
+            cause: words.cause,
             lat: r.position.map(|p| p.lat),
             lon: r.position.map(|p| p.lon),
             accuracy_m: r.position.and_then(|p| p.accuracy_m),
             position_source,
             distance_m,
-            observed_at: r.observed_at.to_rfc3339(),
-            recorded_at: r.recorded_at.to_rfc3339(),
-            received_at: self.received_at.to_rfc3339(),
+            observed_at: r.observed_at.into(),
+            recorded_at: r.recorded_at.into(),
+            received_at: self.received_at.into(),
             area_ha: r.area_ha,
             notes: r.notes.clone(),
             team: self.bundle.team.clone(),
             evidence_ok: flags.is_empty(),
             flags,
             return_id: 0,
-        };
-        Ok(Verdict::Accept(Box::new(Planned {
-            row,
-            body_sha256: body,
-            new_event,
-            photos,
-            checks,
-        })))
+        }
     }
+}
+
+/// What a report is about, once found in the bundle (or made, for a new
+/// clearing).
+struct Resolved {
+    kind: TargetKind,
+    event_id: Option<i64>,
+    control_code: Option<String>,
+    /// Taken by the evidence checks.
+    footprint: Option<Footprint>,
+    first_detection: Option<chrono::NaiveDate>,
+    /// The field-found event to create, for a new clearing.
+    new_event: Option<EventWrite>,
+}
+
+/// A report's outcome, reason and cause as words. The report passed the
+/// checklist, whose words are these, so a report this fails on names a
+/// word this build does not know.
+struct Words {
+    outcome: Outcome,
+    reason: Option<Reason>,
+    cause: Option<Cause>,
+}
+
+impl Words {
+    fn of(r: &Report) -> Result<Words, String> {
+        let word_err = |e: groundproof_sync::UnknownWord| e.to_string();
+        Ok(Words {
+            outcome: r.outcome.parse().map_err(word_err)?,
+            reason: r
+                .reason
+                .as_deref()
+                .map(str::parse)
+                .transpose()
+                .map_err(word_err)?,
+            cause: r
+                .cause
+                .as_deref()
+                .map(str::parse)
+                .transpose()
+                .map_err(word_err)?,
+        })
+    }
+}
+
+/// What the photos of one report gave.
+#[derive(Default)]
+struct PhotoFindings {
+    photos: Vec<ReportPhotoRow>,
+    checks: Vec<PhotoCheckRow>,
+    flags: Vec<String>,
+}
+
+/// The facts the evidence checks read about one photo: the stored (or just
+/// inspected) EXIF first, what the report says second.
+fn photo_facts(p: &ReportPhoto, info: &PhotoInfo, reused: bool) -> PhotoFacts {
+    let taken_at = info
+        .row
+        .taken_at
+        .as_deref()
+        .and_then(|t| DateTime::parse_from_rfc3339(t).ok())
+        .map(|t| t.with_timezone(&Utc))
+        .or(p.taken_at);
+    let position = match (info.row.lat, info.row.lon) {
+        (Some(la), Some(lo)) => Some((la, lo)),
+        _ => p.lat.zip(p.lon),
+    };
+    PhotoFacts {
+        sha256: p.sha256.clone(),
+        taken_at,
+        position,
+        reused_elsewhere: reused,
+    }
+}
+
+/// The target of a new clearing: a square of its area around its position,
+/// and the field-found event to make; `None` without a position and area.
+fn new_clearing(r: &Report) -> Option<Resolved> {
+    let (Some(p), Some(area)) = (r.position, r.area_ha) else {
+        return None;
+    };
+    let mp = clearing_square(p.lon, p.lat, area);
+    let rect = geo::BoundingRect::bounding_rect(&mp);
+    let day = Day::from_date(r.observed_at.date_naive());
+    let write = rect.map(|b| EventWrite {
+        footprint: footprint_json(&mp),
+        area_ha: area,
+        centroid: (p.lon, p.lat),
+        bbox: (b.min().x, b.min().y, b.max().x, b.max().y),
+        first: day,
+        last: day,
+        alert_count: 0,
+        highest_confidence: Confidence::Tentative,
+        corroborated: false,
+        per_source: BTreeMap::new(),
+    });
+    Some(Resolved {
+        kind: TargetKind::NewClearing,
+        event_id: None,
+        control_code: None,
+        footprint: Some(Footprint::Area(mp)),
+        first_detection: None,
+        new_event: write,
+    })
 }
 
 /// Takes in the package at `package` (already durable, `size` bytes with

@@ -87,7 +87,7 @@ pub fn create(
     size: u64,
     sha256: &str,
 ) -> Result<Created, IntakeError> {
-    if !super::files::is_sha256(sha256) {
+    if !crate::domain::Sha256Digest::is_valid(sha256) {
         return Err(IntakeError::Invalid(
             "sha256 must be 64 lowercase hex digits".into(),
         ));

@@ -6,7 +6,8 @@
 //! bundle marks it revoked and returns signed with it are refused.
 
 use super::codes::{control_code, event_code};
-use super::select::{Mode, Selection, StratumPlan, TripRequest, select};
+use super::select::{Selection, StratumPlan, TripRequest, select};
+use crate::domain::{BundleMode, TargetKind};
 use crate::error::{Error, Result};
 use crate::planning::coords::LatLon;
 use crate::planning::plan_route;
@@ -268,7 +269,7 @@ pub fn issue_bundle(
         .map(|(e, c)| BundleItem {
             visit_order: e.visit_order,
             code: e.code.clone(),
-            kind: "event".into(),
+            kind: TargetKind::Event,
             event_id: Some(e.event_id),
             lon: e.centroid.x(),
             lat: e.centroid.y(),
@@ -279,7 +280,7 @@ pub fn issue_bundle(
         .chain(controls.iter().map(|c| BundleItem {
             visit_order: c.visit_order,
             code: c.code.clone(),
-            kind: "control".into(),
+            kind: TargetKind::Control,
             event_id: None,
             lon: c.point.x(),
             lat: c.point.y(),
@@ -310,7 +311,7 @@ pub fn issue_bundle(
             due_at: &due,
             expires_at: &expires,
             seed: sel.seed.map(|s| s as i64),
-            margin: (req.mode == Mode::Assessment).then_some(req.margin),
+            margin: (req.mode == BundleMode::Assessment).then_some(req.margin),
             selection: &selection,
             start: (req.start.lon(), req.start.lat()),
             route_m: route.total_m,

@@ -36,7 +36,7 @@ pub mod select;
 pub mod sheet;
 
 pub use issue::{IssuedBundle, cancel_bundle, issue_bundle};
-pub use select::{Mode, TripRequest};
+pub use select::TripRequest;
 
 pub use controls::{AlertGrid, DEFAULT_TRIES_PER_POINT, place_controls};
 pub use route::{

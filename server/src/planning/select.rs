@@ -1,7 +1,7 @@
 //! Which events (and control points) a trip visits.
 
 use crate::alerts::events::{RankedEvent, ranked_events};
-use crate::domain::{Confidence, Day, LonLat};
+use crate::domain::{BundleMode, Confidence, Day, EventStatus, LonLat};
 use crate::error::{Error, Result};
 use crate::planning::coords::LatLon;
 use crate::planning::{
@@ -16,39 +16,11 @@ use std::collections::BTreeMap;
 /// z for a two-sided 95% interval (the 0.975 normal quantile).
 const Z95: f64 = 1.959_963_984_540_054;
 
-/// How events are chosen.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "lowercase")]
-pub enum Mode {
-    /// The events that matter most now, in priority order.
-    Response,
-    /// A stratified random sample, for unbiased statistics.
-    Assessment,
-}
-
-impl Mode {
-    pub fn parse(s: &str) -> Result<Mode> {
-        match s {
-            "response" => Ok(Mode::Response),
-            "assessment" => Ok(Mode::Assessment),
-            other => Err(Error::Invalid(format!(
-                "mode '{other}': expected response or assessment"
-            ))),
-        }
-    }
-    pub fn as_str(self) -> &'static str {
-        match self {
-            Mode::Response => "response",
-            Mode::Assessment => "assessment",
-        }
-    }
-}
-
 /// Everything a coordinator says about a trip.
 #[derive(Debug, Clone, PartialEq)]
 pub struct TripRequest {
     pub team: String,
-    pub mode: Mode,
+    pub mode: BundleMode,
     pub zone: Option<String>,
     /// An extent drawn by the coordinator (lon/lat polygon).
     pub extent: Option<MultiPolygon<f64>>,
@@ -64,7 +36,7 @@ pub struct TripRequest {
     /// here is `unvisited`). Planning sits below reconciliation, so the
     /// caller computes them (`crate::statistics::kept::event_statuses`);
     /// needed only when `statuses` is not empty.
-    pub reconciled: Option<BTreeMap<i64, String>>,
+    pub reconciled: Option<BTreeMap<i64, EventStatus>>,
     /// Most events to take (response mode default 20; in assessment mode a
     /// cap that the sample must fit under).
     pub max: Option<usize>,
@@ -89,7 +61,7 @@ impl TripRequest {
     pub fn response(team: &str, start: LonLat) -> TripRequest {
         TripRequest {
             team: team.to_string(),
-            mode: Mode::Response,
+            mode: BundleMode::Response,
             zone: None,
             extent: None,
             from: None,
@@ -193,28 +165,27 @@ pub fn select(db: &Db, settings: &Settings, req: &TripRequest) -> Result<Selecti
         pool.retain(|e| e.record.attrs.highest_confidence == c);
     }
     if !req.statuses.is_empty() {
-        const KNOWN: [&str; 6] = [
-            "unvisited",
-            "not_reached",
-            "confirmed",
-            "false_alarm",
-            "inconclusive",
-            "disputed",
-        ];
-        if let Some(bad) = req.statuses.iter().find(|s| !KNOWN.contains(&s.as_str())) {
-            return Err(Error::Invalid(format!(
-                "status '{bad}': expected one of {}",
-                KNOWN.join(", ")
-            )));
-        }
+        let wanted = req
+            .statuses
+            .iter()
+            .map(|s| {
+                s.parse::<EventStatus>().map_err(|_| {
+                    Error::Invalid(format!(
+                        "status '{s}': expected one of {}",
+                        EventStatus::NAMES.join(", ")
+                    ))
+                })
+            })
+            .collect::<Result<Vec<_>>>()?;
         let reconciled = req.reconciled.as_ref().ok_or_else(|| {
             Error::Internal("a status filter needs the reconciled statuses of the events".into())
         })?;
         pool.retain(|e| {
             let s = reconciled
                 .get(&e.record.id)
-                .map_or("unvisited", String::as_str);
-            req.statuses.iter().any(|w| w == s)
+                .copied()
+                .unwrap_or(EventStatus::Unvisited);
+            wanted.contains(&s)
         });
     }
     if let Some(extent) = &req.extent {
@@ -223,14 +194,14 @@ pub fn select(db: &Db, settings: &Settings, req: &TripRequest) -> Result<Selecti
                 .is_some_and(|fp| fp.intersects(extent))
         });
     }
-    if pool.is_empty() && (req.mode == Mode::Response || req.controls == 0) {
+    if pool.is_empty() && (req.mode == BundleMode::Response || req.controls == 0) {
         return Err(Error::Invalid(
             "the selection holds no events: widen the zone, dates, source or minimum area".into(),
         ));
     }
     let seed = req.seed.unwrap_or_else(|| rand::random::<u64>() >> 1);
     let (events, strata) = match req.mode {
-        Mode::Response => {
+        BundleMode::Response => {
             pool.truncate(req.max.unwrap_or(20));
             let chosen = pool
                 .into_iter()
@@ -243,7 +214,7 @@ pub fn select(db: &Db, settings: &Settings, req: &TripRequest) -> Result<Selecti
                 .collect();
             (chosen, Vec::new())
         }
-        Mode::Assessment => sample(pool, req, seed)?,
+        BundleMode::Assessment => sample(pool, req, seed)?,
     };
     let controls = if req.controls == 0 {
         Vec::new()
@@ -276,7 +247,7 @@ pub fn select(db: &Db, settings: &Settings, req: &TripRequest) -> Result<Selecti
         events,
         controls,
         strata,
-        seed: (req.mode == Mode::Assessment).then_some(seed),
+        seed: (req.mode == BundleMode::Assessment).then_some(seed),
     })
 }
 

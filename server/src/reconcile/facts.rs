@@ -6,37 +6,7 @@ use chrono::{DateTime, Utc};
 use serde::{Deserialize, Serialize};
 use uuid::Uuid;
 
-/// Outcome of one visit (or of an adjudication).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Deserialize)]
-#[serde(rename_all = "snake_case")]
-pub enum Outcome {
-    Confirmed,
-    FalseAlarm,
-    Inconclusive,
-    NotReached,
-}
-
-impl Outcome {
-    /// The wire name (`confirmed`, `false_alarm`, ...).
-    pub fn as_str(self) -> &'static str {
-        match self {
-            Outcome::Confirmed => "confirmed",
-            Outcome::FalseAlarm => "false_alarm",
-            Outcome::Inconclusive => "inconclusive",
-            Outcome::NotReached => "not_reached",
-        }
-    }
-
-    /// True when the team was at the event (every outcome but `not_reached`).
-    pub fn reached(self) -> bool {
-        self != Outcome::NotReached
-    }
-
-    /// True for `confirmed` and `false_alarm`, the outcomes that decide.
-    pub fn decisive(self) -> bool {
-        matches!(self, Outcome::Confirmed | Outcome::FalseAlarm)
-    }
-}
+pub use crate::domain::Outcome;
 
 /// One stored report, as reconciliation needs it.
 #[derive(Debug, Clone, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Deserialize)]

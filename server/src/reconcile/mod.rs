@@ -65,8 +65,8 @@ mod status;
 pub use counted::{CountedIndex, counted_reports, distinct_reports};
 pub use facts::{Adjudication, Outcome, ReportFact};
 pub use status::{
-    DEFAULT_WINDOW_DAYS, Status, StatusOutcome, event_status, event_statuses,
-    event_statuses_counted, status_from_counted,
+    DEFAULT_WINDOW_DAYS, StatusOutcome, event_status, event_statuses, event_statuses_counted,
+    status_from_counted,
 };
 
 #[cfg(test)]

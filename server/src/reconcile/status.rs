@@ -9,49 +9,15 @@ use uuid::Uuid;
 
 use super::counted::{CountedIndex, counted_refs};
 use super::facts::{Adjudication, Outcome, ReportFact};
+use crate::domain::EventStatus;
 
 /// Reports of disagreeing outcomes within this many days are one episode.
 pub const DEFAULT_WINDOW_DAYS: u32 = 30;
 
-/// Reconciled status of an event.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
-#[serde(rename_all = "snake_case")]
-pub enum Status {
-    Unvisited,
-    NotReached,
-    Confirmed,
-    FalseAlarm,
-    Inconclusive,
-    Disputed,
-}
-
-impl Status {
-    /// The wire name (`unvisited`, `not_reached`, ...).
-    pub fn as_str(self) -> &'static str {
-        match self {
-            Status::Unvisited => "unvisited",
-            Status::NotReached => "not_reached",
-            Status::Confirmed => "confirmed",
-            Status::FalseAlarm => "false_alarm",
-            Status::Inconclusive => "inconclusive",
-            Status::Disputed => "disputed",
-        }
-    }
-
-    fn of_outcome(outcome: Outcome) -> Status {
-        match outcome {
-            Outcome::Confirmed => Status::Confirmed,
-            Outcome::FalseAlarm => Status::FalseAlarm,
-            Outcome::Inconclusive => Status::Inconclusive,
-            Outcome::NotReached => Status::NotReached,
-        }
-    }
-}
-
 /// What [`event_status`] decided, and from what.
 #[derive(Debug, Clone, PartialEq, Eq, Serialize)]
 pub struct StatusOutcome {
-    pub status: Status,
+    pub status: EventStatus,
     /// Confirmed more than the window after a false alarm.
     pub new_clearing: bool,
     /// Earliest `observed_at` of a counted report that reached the event.
@@ -306,16 +272,20 @@ fn status_of_sorted(
     let reached_count = reached().count();
     let mut decisive = reached().filter(|r| r.outcome.decisive()).peekable();
     let (mut status, mut new_clearing, mut note) = if counted.is_empty() {
-        (Status::Unvisited, false, "no counted report".to_string())
+        (
+            EventStatus::Unvisited,
+            false,
+            "no counted report".to_string(),
+        )
     } else if reached_count == 0 {
         (
-            Status::NotReached,
+            EventStatus::NotReached,
             false,
             format!("{} report(s), none reached the event", counted.len()),
         )
     } else if decisive.peek().is_none() {
         (
-            Status::Inconclusive,
+            EventStatus::Inconclusive,
             false,
             format!("{reached_count} visit(s), all inconclusive"),
         )
@@ -338,9 +308,9 @@ fn status_of_sorted(
             note
         );
         new_clearing = new_clearing && adj.outcome == Outcome::Confirmed;
-        status = Status::of_outcome(adj.outcome);
+        status = EventStatus::of_outcome(adj.outcome);
     }
-    let cause = (status == Status::Confirmed)
+    let cause = (status == EventStatus::Confirmed)
         .then(|| {
             counted
                 .iter()
@@ -363,7 +333,7 @@ fn status_of_sorted(
 }
 
 /// Rule 6 from the resolved episodes: status, new clearing, note.
-fn from_episodes(episodes: Episodes, window_days: u32) -> (Status, bool, String) {
+fn from_episodes(episodes: Episodes, window_days: u32) -> (EventStatus, bool, String) {
     let settled = episodes.settled;
     let evidence_note = if settled > 0 {
         format!("; {settled} disagreement(s) settled by passing evidence")
@@ -381,10 +351,10 @@ fn from_episodes(episodes: Episodes, window_days: u32) -> (Status, bool, String)
             note.push_str("; a later false alarm does not undo the confirmed clearing");
         }
         note.push_str(&evidence_note);
-        (Status::Confirmed, new_clearing, note)
+        (EventStatus::Confirmed, new_clearing, note)
     } else if episodes.disputed {
         (
-            Status::Disputed,
+            EventStatus::Disputed,
             false,
             format!(
                 "confirmed and false_alarm within {window_days} days, evidence does not settle it{evidence_note}"
@@ -393,7 +363,7 @@ fn from_episodes(episodes: Episodes, window_days: u32) -> (Status, bool, String)
     } else {
         let mut note = "false alarm".to_string();
         note.push_str(&evidence_note);
-        (Status::FalseAlarm, false, note)
+        (EventStatus::FalseAlarm, false, note)
     }
 }
 

@@ -7,6 +7,7 @@ use proptest::prelude::*;
 use uuid::Uuid;
 
 use super::*;
+use crate::domain::EventStatus;
 
 fn day(d: i64) -> DateTime<Utc> {
     Utc.with_ymd_and_hms(2025, 3, 1, 9, 0, 0)
@@ -47,7 +48,7 @@ fn status(reports: &[ReportFact]) -> StatusOutcome {
 #[test]
 fn no_reports_is_unvisited() {
     let s = status(&[]);
-    assert_eq!(s.status, Status::Unvisited);
+    assert_eq!(s.status, EventStatus::Unvisited);
     assert_eq!(s.first_visit, None);
     assert!(s.counted_reports.is_empty());
 }
@@ -58,7 +59,7 @@ fn only_not_reached_is_not_reached() {
         report(1, Outcome::NotReached, 0),
         report(2, Outcome::NotReached, 40),
     ]);
-    assert_eq!(s.status, Status::NotReached);
+    assert_eq!(s.status, EventStatus::NotReached);
     assert_eq!(s.first_visit, None, "not_reached is no visit");
     assert_eq!(s.counted_reports, vec![id(1), id(2)]);
 }
@@ -69,7 +70,7 @@ fn reached_only_inconclusive_is_inconclusive() {
         report(1, Outcome::NotReached, 0),
         report(2, Outcome::Inconclusive, 5),
     ]);
-    assert_eq!(s.status, Status::Inconclusive);
+    assert_eq!(s.status, EventStatus::Inconclusive);
     assert_eq!(s.first_visit, Some(day(5)));
     assert_eq!(s.first_received, Some(day(7)));
 }
@@ -80,7 +81,7 @@ fn one_visit_reaching_beats_not_reached() {
         report(1, Outcome::NotReached, 0),
         report(2, Outcome::Confirmed, 3),
     ]);
-    assert_eq!(s.status, Status::Confirmed);
+    assert_eq!(s.status, EventStatus::Confirmed);
     assert!(!s.new_clearing);
 }
 
@@ -106,7 +107,7 @@ fn superseded_report_does_not_count_along_a_chain() {
     });
     let s = status(&[r3, r1, r2]);
     assert_eq!(s.counted_reports, vec![id(3)]);
-    assert_eq!(s.status, Status::Confirmed);
+    assert_eq!(s.status, EventStatus::Confirmed);
     assert_eq!(s.cause.as_deref(), Some("mining"));
 }
 
@@ -149,7 +150,7 @@ fn disagreement_within_window_is_disputed() {
         report(1, Outcome::FalseAlarm, 0),
         report(2, Outcome::Confirmed, 30),
     ]);
-    assert_eq!(s.status, Status::Disputed);
+    assert_eq!(s.status, EventStatus::Disputed);
     assert!(!s.new_clearing);
 }
 
@@ -159,7 +160,7 @@ fn disputed_when_both_sides_have_evidence() {
         with(report(1, Outcome::FalseAlarm, 0), |r| r.evidence_ok = true),
         with(report(2, Outcome::Confirmed, 3), |r| r.evidence_ok = true),
     ]);
-    assert_eq!(s.status, Status::Disputed);
+    assert_eq!(s.status, EventStatus::Disputed);
 }
 
 #[test]
@@ -168,14 +169,14 @@ fn side_with_only_passing_evidence_wins() {
         report(1, Outcome::FalseAlarm, 0),
         with(report(2, Outcome::Confirmed, 3), |r| r.evidence_ok = true),
     ]);
-    assert_eq!(c.status, Status::Confirmed);
+    assert_eq!(c.status, EventStatus::Confirmed);
     assert!(!c.new_clearing);
     let f = status(&[
         with(report(1, Outcome::FalseAlarm, 0), |r| r.evidence_ok = true),
         report(2, Outcome::Confirmed, 3),
         report(3, Outcome::Confirmed, 4),
     ]);
-    assert_eq!(f.status, Status::FalseAlarm);
+    assert_eq!(f.status, EventStatus::FalseAlarm);
 }
 
 #[test]
@@ -187,7 +188,7 @@ fn confirmed_more_than_window_after_false_alarm_is_new_clearing() {
             r.cause = Some("fire".into())
         }),
     ]);
-    assert_eq!(s.status, Status::Confirmed);
+    assert_eq!(s.status, EventStatus::Confirmed);
     assert!(s.new_clearing);
     assert_eq!(s.cause.as_deref(), Some("fire"));
     // With a window of 40 days the same two reports disagree within it.
@@ -199,7 +200,7 @@ fn confirmed_more_than_window_after_false_alarm_is_new_clearing() {
         &[],
         40,
     );
-    assert_eq!(w.status, Status::Disputed);
+    assert_eq!(w.status, EventStatus::Disputed);
 }
 
 #[test]
@@ -210,7 +211,7 @@ fn episodes_chain_through_close_reports() {
         report(2, Outcome::FalseAlarm, 25),
         report(3, Outcome::Confirmed, 50),
     ]);
-    assert_eq!(s.status, Status::Disputed);
+    assert_eq!(s.status, EventStatus::Disputed);
 }
 
 #[test]
@@ -219,7 +220,7 @@ fn later_false_alarm_does_not_undo_confirmed() {
         report(1, Outcome::Confirmed, 0),
         report(2, Outcome::FalseAlarm, 90),
     ]);
-    assert_eq!(s.status, Status::Confirmed);
+    assert_eq!(s.status, EventStatus::Confirmed);
     assert!(!s.new_clearing);
     assert!(s.note.contains("later false alarm"));
 }
@@ -230,7 +231,7 @@ fn false_alarms_only() {
         report(1, Outcome::FalseAlarm, 0),
         report(2, Outcome::Inconclusive, 1),
     ]);
-    assert_eq!(s.status, Status::FalseAlarm);
+    assert_eq!(s.status, EventStatus::FalseAlarm);
     assert_eq!(s.cause, None);
 }
 
@@ -252,13 +253,13 @@ fn latest_adjudication_settles_and_overrides() {
         &[adj(Outcome::Confirmed, 20), adj(Outcome::FalseAlarm, 10)],
         30,
     );
-    assert_eq!(s.status, Status::Confirmed, "the latest (day 20) wins");
+    assert_eq!(s.status, EventStatus::Confirmed, "the latest (day 20) wins");
     assert!(s.adjudicated);
     // Override of an undisputed outcome, and of an event with no reports.
     let o = event_status(&reports[..1], &[adj(Outcome::Confirmed, 5)], 30);
-    assert_eq!(o.status, Status::Confirmed);
+    assert_eq!(o.status, EventStatus::Confirmed);
     let n = event_status(&[], &[adj(Outcome::FalseAlarm, 5)], 30);
-    assert_eq!(n.status, Status::FalseAlarm);
+    assert_eq!(n.status, EventStatus::FalseAlarm);
     assert_eq!(n.first_visit, None);
 }
 
@@ -288,8 +289,8 @@ fn event_statuses_resolve_supersession_across_events() {
         r.supersedes = Some(id(1));
     });
     let all = event_statuses(&[r1, r2], &[], DEFAULT_WINDOW_DAYS);
-    assert_eq!(all[&7].status, Status::Unvisited);
-    assert_eq!(all[&8].status, Status::Confirmed);
+    assert_eq!(all[&7].status, EventStatus::Unvisited);
+    assert_eq!(all[&8].status, EventStatus::Confirmed);
 }
 
 fn arb_reports() -> impl Strategy<Value = Vec<ReportFact>> {

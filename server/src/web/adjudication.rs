@@ -4,9 +4,9 @@
 //! refused field its own way (the API names the JSON field, the page the
 //! form's label); what is refused is decided here.
 
+use crate::domain::Outcome;
 use crate::error::{Error, Result};
 use crate::platform::storage::{AdjudicationRow, Db};
-use crate::statistics::kept::parse_outcome;
 
 /// Longest reason, characters.
 pub const MAX_REASON_CHARS: usize = 2000;
@@ -24,10 +24,10 @@ pub enum BadField {
     By,
 }
 
-/// A checked ruling: the outcome word, the reason and who decided, trimmed.
+/// A checked ruling: the outcome, the reason and who decided, trimmed.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct Ruling {
-    pub outcome: String,
+    pub outcome: Outcome,
     pub reason: String,
     pub by: String,
 }
@@ -35,10 +35,7 @@ pub struct Ruling {
 impl Ruling {
     /// Check a ruling as sent (surrounding spaces are dropped first).
     pub fn check(outcome: &str, reason: &str, by: &str) -> Result<Ruling, BadField> {
-        let outcome = outcome.trim();
-        if parse_outcome(outcome).is_none() {
-            return Err(BadField::Outcome);
-        }
+        let outcome: Outcome = outcome.trim().parse().map_err(|_| BadField::Outcome)?;
         let reason = reason.trim();
         if reason.is_empty() || reason.chars().count() > MAX_REASON_CHARS {
             return Err(BadField::Reason);
@@ -48,7 +45,7 @@ impl Ruling {
             return Err(BadField::By);
         }
         Ok(Ruling {
-            outcome: outcome.to_string(),
+            outcome,
             reason: reason.to_string(),
             by: by.to_string(),
         })
@@ -61,7 +58,7 @@ pub fn record(db: &Db, id: i64, ruling: &Ruling) -> Result<AdjudicationRow> {
     let ev = db
         .read(|r| r.event_resolved(id))?
         .ok_or_else(|| Error::NotFound(format!("no event {id}")))?;
-    db.write(|tx| tx.add_adjudication(ev.id, &ruling.outcome, &ruling.reason, &ruling.by))
+    db.write(|tx| tx.add_adjudication(ev.id, ruling.outcome, &ruling.reason, &ruling.by))
 }
 
 #[cfg(test)]

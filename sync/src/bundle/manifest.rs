@@ -170,13 +170,6 @@ pub fn sha256_hex(bytes: &[u8]) -> String {
     hex::encode(Sha256::digest(bytes))
 }
 
-/// `true` for 64 lowercase hex digits.
-pub(crate) fn is_sha256_hex(s: &str) -> bool {
-    s.len() == 64
-        && s.bytes()
-            .all(|c| c.is_ascii_digit() || (b'a'..=b'f').contains(&c))
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -188,8 +181,7 @@ mod tests {
             sha256_hex(b"abc"),
             "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad"
         );
-        assert!(is_sha256_hex(&sha256_hex(b"")));
-        assert!(!is_sha256_hex(&sha256_hex(b"").to_uppercase()));
+        assert!(crate::Sha256Digest::is_valid(&sha256_hex(b"")));
     }
 
     #[test]

@@ -17,13 +17,14 @@ use sha2::{Digest, Sha256};
 
 use super::geojson::{parse_events, parse_points};
 use super::limits::BundleLimits;
-use super::manifest::{Manifest, UploadKey, is_sha256_hex};
+use super::manifest::{Manifest, UploadKey};
 use super::names;
 use super::types::{
     BundleEvent, BundleHeader, Checklist, ControlPoint, StartPoint, normalise_control,
     normalise_event, normalise_start,
 };
 use super::write::check_route;
+use crate::Sha256Digest;
 use crate::safezip::{EntryLimit, HARD_MAX_RATIO, SafeZip, check_digest};
 use crate::{BUNDLE_FORMAT, BUNDLE_FORMAT_VERSION, SyncError};
 
@@ -330,7 +331,7 @@ fn check_listing(
                 format!("lists {:?} twice", e.name),
             ));
         }
-        if !is_sha256_hex(&e.sha256) {
+        if !Sha256Digest::is_valid(&e.sha256) {
             return Err(SyncError::invalid_entry(
                 names::MANIFEST,
                 format!("sha256 of {:?} is not 64 lowercase hex digits", e.name),

@@ -9,11 +9,12 @@ use geo::{Coord, LineString, MultiPolygon, Point, Polygon};
 use serde::{Deserialize, Serialize};
 
 use crate::SyncError;
+use crate::vocab::{BundleMode, Cause, Outcome, Reason};
 
-/// Mode of a bundle chosen for the events that matter most now.
-pub const MODE_RESPONSE: &str = "response";
-/// Mode of a bundle holding a stratified random sample.
-pub const MODE_ASSESSMENT: &str = "assessment";
+/// The name of [`BundleMode::Response`].
+pub const MODE_RESPONSE: &str = BundleMode::Response.as_str();
+/// The name of [`BundleMode::Assessment`].
+pub const MODE_ASSESSMENT: &str = BundleMode::Assessment.as_str();
 
 /// Longest free text (team, start name, stratum, confidence) accepted.
 pub const MAX_TEXT_CHARS: usize = 128;
@@ -102,28 +103,13 @@ impl Checklist {
     /// (common practice: one overview, one close-up).
     pub fn default_v1() -> Self {
         let list = |items: &[&str]| items.iter().map(|s| (*s).to_owned()).collect();
+        let reasons = |o: Outcome| Reason::of(o).map(|r| r.as_str().to_owned()).collect();
         Checklist {
             version: 1,
-            outcomes: list(&["confirmed", "false_alarm", "inconclusive", "not_reached"]),
-            false_alarm_reasons: list(&[
-                "no_change",
-                "cloud_or_shadow",
-                "seasonal_water",
-                "cleared_before_window",
-                "not_forest",
-            ]),
-            not_reached_reasons: list(&["access", "terrain", "safety"]),
-            causes: list(&[
-                "smallholder_clearing",
-                "plantation_or_pasture_conversion",
-                "logging_road",
-                "selective_logging",
-                "mining",
-                "fire",
-                "infrastructure_or_settlement",
-                "natural_disturbance",
-                "other",
-            ]),
+            outcomes: list(Outcome::NAMES),
+            false_alarm_reasons: reasons(Outcome::FalseAlarm),
+            not_reached_reasons: reasons(Outcome::NotReached),
+            causes: list(Cause::NAMES),
             required_fields: list(&[
                 "report_id",
                 "event_code",
@@ -189,7 +175,7 @@ impl BundleHeader {
     /// Checks mode, team, key id and the order `issued_at <= due_at <= expires_at`,
     /// with `issued_at < expires_at`.
     pub fn validate(&self) -> Result<(), String> {
-        if self.mode != MODE_RESPONSE && self.mode != MODE_ASSESSMENT {
+        if self.mode.parse::<BundleMode>().is_err() {
             return Err(format!(
                 "mode {:?} is neither {MODE_RESPONSE:?} nor {MODE_ASSESSMENT:?}",
                 self.mode

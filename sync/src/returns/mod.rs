@@ -58,8 +58,8 @@ mod validate;
 pub use limits::ReturnLimits;
 pub use manifest::{RETURN_FORMAT, RETURN_FORMAT_VERSION, ReturnHeader, ReturnManifest};
 pub use names::{
-    PHOTO_PREFIX, REPORTS, RETURN_MANIFEST, SIGNATURE, check_return_entry_name, is_sha256_hex,
-    photo_entry_name, photo_sha_of,
+    PHOTO_PREFIX, REPORTS, RETURN_MANIFEST, SIGNATURE, check_return_entry_name, photo_entry_name,
+    photo_sha_of,
 };
 pub use open::{OpenedReturn, RejectedReport, open_return};
 pub use pack::pack_return;

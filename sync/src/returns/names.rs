@@ -19,14 +19,7 @@ pub fn photo_entry_name(sha256: &str) -> String {
 /// The SHA-256 in a photo entry name, if `name` is one.
 pub fn photo_sha_of(name: &str) -> Option<&str> {
     let sha = name.strip_prefix(PHOTO_PREFIX)?.strip_suffix(".jpg")?;
-    is_sha256_hex(sha).then_some(sha)
-}
-
-/// `true` for 64 lowercase hex digits.
-pub fn is_sha256_hex(s: &str) -> bool {
-    s.len() == 64
-        && s.bytes()
-            .all(|c| c.is_ascii_digit() || (b'a'..=b'f').contains(&c))
+    crate::Sha256Digest::is_valid(sha).then_some(sha)
 }
 
 /// Accepts the names allowed in a return; the error says why a name is refused.

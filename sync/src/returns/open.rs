@@ -14,8 +14,7 @@ use uuid::Uuid;
 use super::limits::ReturnLimits;
 use super::manifest::{RETURN_FORMAT, RETURN_FORMAT_VERSION, ReturnManifest};
 use super::names::{
-    REPORTS, RETURN_MANIFEST, SIGNATURE, check_return_entry_name, is_sha256_hex, photo_entry_name,
-    photo_sha_of,
+    REPORTS, RETURN_MANIFEST, SIGNATURE, check_return_entry_name, photo_entry_name, photo_sha_of,
 };
 use super::report::Report;
 use super::sign::{Signature, verify_manifest};
@@ -328,7 +327,7 @@ fn check_listing(
         if !listed.insert(e.name.as_str()) {
             return Err(bad(format!("lists {:?} twice", e.name)));
         }
-        if !is_sha256_hex(&e.sha256) {
+        if !crate::Sha256Digest::is_valid(&e.sha256) {
             return Err(bad(format!(
                 "sha256 of {:?} is not 64 lowercase hex digits",
                 e.name

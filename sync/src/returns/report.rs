@@ -6,14 +6,16 @@ use chrono::{DateTime, Utc};
 use serde::{Deserialize, Serialize};
 use uuid::Uuid;
 
-/// Outcome `confirmed`: forest loss is there.
-pub const OUTCOME_CONFIRMED: &str = "confirmed";
-/// Outcome `false_alarm` (needs a reason).
-pub const OUTCOME_FALSE_ALARM: &str = "false_alarm";
-/// Outcome `inconclusive`.
-pub const OUTCOME_INCONCLUSIVE: &str = "inconclusive";
-/// Outcome `not_reached` (needs a reason).
-pub const OUTCOME_NOT_REACHED: &str = "not_reached";
+use crate::vocab::{Outcome, TargetKind};
+
+/// The name of [`Outcome::Confirmed`] (forest loss is there).
+pub const OUTCOME_CONFIRMED: &str = Outcome::Confirmed.as_str();
+/// The name of [`Outcome::FalseAlarm`] (needs a reason).
+pub const OUTCOME_FALSE_ALARM: &str = Outcome::FalseAlarm.as_str();
+/// The name of [`Outcome::Inconclusive`].
+pub const OUTCOME_INCONCLUSIVE: &str = Outcome::Inconclusive.as_str();
+/// The name of [`Outcome::NotReached`] (needs a reason).
+pub const OUTCOME_NOT_REACHED: &str = Outcome::NotReached.as_str();
 
 /// What a report is about.
 #[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
@@ -41,6 +43,15 @@ impl Target {
         match self {
             Target::Event { code, .. } | Target::Control { code } => Some(code),
             Target::NewClearing => None,
+        }
+    }
+
+    /// Which kind of target this is (the `kind` tag on the wire).
+    pub fn kind(&self) -> TargetKind {
+        match self {
+            Target::Event { .. } => TargetKind::Event,
+            Target::Control { .. } => TargetKind::Control,
+            Target::NewClearing => TargetKind::NewClearing,
         }
     }
 }
@@ -157,8 +168,10 @@ mod tests {
         assert_eq!(v["position"]["source"], "photo_gps");
         assert_eq!(v["observed_at"], "2026-09-03T10:15:00Z");
         assert!(v["supersedes"].is_null() && v["area_ha"].is_null());
+        assert_eq!(v["target"]["kind"], r.target.kind().as_str());
         let nc = serde_json::to_value(Target::NewClearing).expect("json");
         assert_eq!(nc, serde_json::json!({"kind": "new_clearing"}));
+        assert_eq!(Target::NewClearing.kind(), TargetKind::NewClearing);
         let back: Report = serde_json::from_value(v).expect("back");
         assert_eq!(back, r);
     }

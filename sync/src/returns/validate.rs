@@ -4,10 +4,8 @@
 
 use crate::bundle::{Checklist, is_valid_code};
 
-use super::names::is_sha256_hex;
-use super::report::{
-    OUTCOME_CONFIRMED, OUTCOME_FALSE_ALARM, OUTCOME_NOT_REACHED, Position, Report, Target,
-};
+use super::report::{Position, Report, Target};
+use crate::vocab::{Outcome, Sha256Digest};
 
 /// Longest `notes` accepted, in characters (RETURN-SPEC).
 pub const MAX_NOTES_CHARS: usize = 4000;
@@ -79,7 +77,7 @@ pub fn check_report_shape(r: &Report) -> Result<(), String> {
         ));
     }
     for (i, p) in r.photos.iter().enumerate() {
-        if !is_sha256_hex(&p.sha256) {
+        if !Sha256Digest::is_valid(&p.sha256) {
             return Err(format!("photo {i}: sha256 is not 64 lowercase hex digits"));
         }
         if r.photos[..i].iter().any(|q| q.sha256 == p.sha256) {
@@ -128,14 +126,19 @@ pub fn validate_report(r: &Report, checklist: &Checklist) -> Result<(), String> 
     check_report_shape(r)?;
     one_of("outcome", &r.outcome, &checklist.outcomes)?;
     let outcome = r.outcome.as_str();
-    match (outcome, &r.reason) {
-        (OUTCOME_FALSE_ALARM, Some(reason)) => {
+    // A checklist may list an outcome this build has no word for: it is
+    // checked like `inconclusive` (no reason, no cause).
+    let word = r.outcome.parse::<Outcome>().ok();
+    let confirmed = word == Some(Outcome::Confirmed);
+    let needs_reason = word.is_some_and(Outcome::needs_reason);
+    match (word, &r.reason) {
+        (Some(Outcome::FalseAlarm), Some(reason)) => {
             one_of("reason", reason, &checklist.false_alarm_reasons)?
         }
-        (OUTCOME_NOT_REACHED, Some(reason)) => {
+        (Some(Outcome::NotReached), Some(reason)) => {
             one_of("reason", reason, &checklist.not_reached_reasons)?
         }
-        (OUTCOME_FALSE_ALARM | OUTCOME_NOT_REACHED, None) => {
+        (_, None) if needs_reason => {
             return Err(format!("outcome {outcome} needs a reason"));
         }
         (_, Some(_)) => {
@@ -146,7 +149,7 @@ pub fn validate_report(r: &Report, checklist: &Checklist) -> Result<(), String> 
         (_, None) => {}
     }
     match &r.cause {
-        Some(cause) if outcome == OUTCOME_CONFIRMED => one_of("cause", cause, &checklist.causes)?,
+        Some(cause) if confirmed => one_of("cause", cause, &checklist.causes)?,
         Some(_) => {
             return Err(format!(
                 "a cause is only given with confirmed, not {outcome}"
@@ -154,7 +157,7 @@ pub fn validate_report(r: &Report, checklist: &Checklist) -> Result<(), String> 
         }
         None => {}
     }
-    if outcome == OUTCOME_CONFIRMED && r.photos.len() < checklist.min_photos_confirmed as usize {
+    if confirmed && r.photos.len() < checklist.min_photos_confirmed as usize {
         return Err(format!(
             "a confirmed report needs at least {} photos, this one has {}",
             checklist.min_photos_confirmed,
@@ -165,10 +168,8 @@ pub fn validate_report(r: &Report, checklist: &Checklist) -> Result<(), String> 
         let missing = match field.as_str() {
             "event_code" => false, // every event/control target has a code; new clearings have none
             "position" => r.position.is_none(),
-            "cause" => outcome == OUTCOME_CONFIRMED && r.cause.is_none(),
-            "reason" => {
-                matches!(outcome, OUTCOME_FALSE_ALARM | OUTCOME_NOT_REACHED) && r.reason.is_none()
-            }
+            "cause" => confirmed && r.cause.is_none(),
+            "reason" => needs_reason && r.reason.is_none(),
             "notes" => r.notes.trim().is_empty(),
             "photos" => r.photos.is_empty(),
             "area_ha" => r.area_ha.is_none(),
@@ -179,7 +180,7 @@ pub fn validate_report(r: &Report, checklist: &Checklist) -> Result<(), String> 
         }
     }
     if r.target == Target::NewClearing {
-        if outcome != OUTCOME_CONFIRMED {
+        if !confirmed {
             return Err("a new clearing must have the outcome confirmed".into());
         }
         if r.position.is_none() || r.area_ha.is_none() {

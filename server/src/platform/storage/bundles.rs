@@ -1,6 +1,7 @@
 //! Teams, bundles (one per trip) and what each bundle holds.
 
 use super::{Reader, Tx};
+use crate::domain::TargetKind;
 use crate::error::{Error, Result};
 use rusqlite::{OptionalExtension, params};
 use serde::Serialize;
@@ -17,8 +18,8 @@ pub struct Team {
 pub struct BundleItem {
     pub visit_order: u32,
     pub code: String,
-    /// "event" or "control".
-    pub kind: String,
+    /// An event or a control point.
+    pub kind: TargetKind,
     pub event_id: Option<i64>,
     pub lon: f64,
     pub lat: f64,

@@ -4,6 +4,7 @@
 //! immutable: a report id is inserted once and never updated.
 
 use super::{Reader, Tx};
+use crate::domain::{Cause, Outcome, Reason, TargetKind, Timestamp};
 use crate::error::Result;
 use rusqlite::{OptionalExtension, params};
 use serde::Serialize;
@@ -149,21 +150,20 @@ pub struct ReportRow {
     /// new clearing); follow `merged_into` to reach the live event.
     pub event_id: Option<i64>,
     pub control_code: Option<String>,
-    /// `event`, `control` or `new_clearing`.
-    pub kind: String,
+    pub kind: TargetKind,
     pub supersedes: Option<String>,
-    pub outcome: String,
-    pub reason: Option<String>,
-    pub cause: Option<String>,
+    pub outcome: Outcome,
+    pub reason: Option<Reason>,
+    pub cause: Option<Cause>,
     pub lat: Option<f64>,
     pub lon: Option<f64>,
     pub accuracy_m: Option<f64>,
     pub position_source: Option<String>,
     /// Geodesic distance (m) from the reported position to the footprint.
     pub distance_m: Option<f64>,
-    pub observed_at: String,
-    pub recorded_at: String,
-    pub received_at: String,
+    pub observed_at: Timestamp,
+    pub recorded_at: Timestamp,
+    pub received_at: Timestamp,
     pub area_ha: Option<f64>,
     pub notes: String,
     pub team: String,

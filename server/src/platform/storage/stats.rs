@@ -3,6 +3,7 @@
 //! adjudication log.
 
 use super::{Reader, Tx};
+use crate::domain::{Cause, Outcome, Reason, TargetKind, Timestamp};
 use crate::error::Result;
 use rusqlite::params;
 use rusqlite::types::Type;
@@ -48,7 +49,7 @@ pub struct StatsEventRow {
     pub corroborated: bool,
     pub area_ha: f64,
     pub first_day: i32,
-    pub first_issued_at: Option<String>,
+    pub first_issued_at: Option<Timestamp>,
     pub teams_issued: Vec<String>,
     /// From the first assessment bundle that sampled the event.
     pub sample: Option<(String, f64, i64)>,
@@ -66,13 +67,13 @@ pub struct StatsReportRef<'a> {
     pub bundle_id: &'a str,
     pub event_id: Option<i64>,
     pub control_code: Option<&'a str>,
-    pub kind: &'a str,
+    pub kind: TargetKind,
     pub supersedes: Option<&'a str>,
-    pub outcome: &'a str,
-    pub reason: Option<&'a str>,
-    pub cause: Option<&'a str>,
-    pub observed_at: &'a str,
-    pub received_at: &'a str,
+    pub outcome: Outcome,
+    pub reason: Option<Reason>,
+    pub cause: Option<Cause>,
+    pub observed_at: Timestamp,
+    pub received_at: Timestamp,
     pub evidence_ok: bool,
     pub team: &'a str,
 }
@@ -82,10 +83,10 @@ pub struct StatsReportRef<'a> {
 pub struct AdjudicationRow {
     pub id: i64,
     pub event_id: i64,
-    pub outcome: String,
+    pub outcome: Outcome,
     pub reason: String,
     pub decided_by: String,
-    pub decided_at: String,
+    pub decided_at: Timestamp,
 }
 
 /// A control point of an assessment bundle.
@@ -101,11 +102,11 @@ impl Tx<'_> {
     pub fn add_adjudication(
         &self,
         event_id: i64,
-        outcome: &str,
+        outcome: Outcome,
         reason: &str,
         by: &str,
     ) -> Result<AdjudicationRow> {
-        let at = chrono::Utc::now().to_rfc3339();
+        let at = Timestamp::now();
         self.tx.execute(
             "INSERT INTO adjudications (event_id, outcome, reason, decided_by, decided_at) VALUES (?1, ?2, ?3, ?4, ?5)",
             params![event_id, outcome, reason, by, at],
@@ -113,7 +114,7 @@ impl Tx<'_> {
         Ok(AdjudicationRow {
             id: self.tx.last_insert_rowid(),
             event_id,
-            outcome: outcome.into(),
+            outcome,
             reason: reason.into(),
             decided_by: by.into(),
             decided_at: at,
@@ -196,7 +197,7 @@ impl Reader<'_> {
         // then id) whose item carries an inclusion probability; the values
         // are joined as text in SQL, as one subquery per event did before.
         struct Sample {
-            issued_at: String,
+            issued_at: Timestamp,
             bundle_id: String,
             value: Option<String>,
         }
@@ -214,10 +215,10 @@ impl Reader<'_> {
             let Some(k) = slot(&events, r.get(0)?) else {
                 continue;
             };
-            let issued_at = text(r, 1)?;
+            let issued_at: Timestamp = r.get(1)?;
             let e = &mut events[k];
-            if e.first_issued_at.as_deref().is_none_or(|f| issued_at < f) {
-                e.first_issued_at = Some(issued_at.to_string());
+            if e.first_issued_at.is_none_or(|f| issued_at < f) {
+                e.first_issued_at = Some(issued_at);
             }
             if let Some(team) = opt_text(r, 2)? {
                 push_split(&mut e.teams_issued, team);
@@ -227,12 +228,12 @@ impl Reader<'_> {
                 if samples.is_empty() {
                     samples.resize_with(events.len(), || None);
                 }
-                let earlier = samples[k].as_ref().is_none_or(|s| {
-                    (issued_at, bundle_id) < (s.issued_at.as_str(), s.bundle_id.as_str())
-                });
+                let earlier = samples[k]
+                    .as_ref()
+                    .is_none_or(|s| (issued_at, bundle_id) < (s.issued_at, s.bundle_id.as_str()));
                 if earlier {
                     samples[k] = Some(Sample {
-                        issued_at: issued_at.to_string(),
+                        issued_at,
                         bundle_id: bundle_id.to_string(),
                         value: opt_text(r, 5)?.map(str::to_string),
                     });
@@ -320,13 +321,13 @@ impl Reader<'_> {
                 bundle_id: text(r, 2)?,
                 event_id: r.get(3)?,
                 control_code: opt_text(r, 4)?,
-                kind: text(r, 5)?,
+                kind: r.get(5)?,
                 supersedes: opt_text(r, 6)?,
-                outcome: text(r, 7)?,
-                reason: opt_text(r, 8)?,
-                cause: opt_text(r, 9)?,
-                observed_at: text(r, 10)?,
-                received_at: text(r, 11)?,
+                outcome: r.get(7)?,
+                reason: r.get(8)?,
+                cause: r.get(9)?,
+                observed_at: r.get(10)?,
+                received_at: r.get(11)?,
                 evidence_ok: r.get::<_, i64>(12)? != 0,
                 team: text(r, 13)?,
             });
@@ -394,7 +395,7 @@ impl Reader<'_> {
     }
 
     /// Issue time of every bundle not cancelled.
-    pub fn bundle_issue_times(&self) -> Result<Vec<(String, String)>> {
+    pub fn bundle_issue_times(&self) -> Result<Vec<(String, Timestamp)>> {
         let mut st = self
             .conn
             .prepare("SELECT id, issued_at FROM bundles WHERE cancelled_at IS NULL")?;

@@ -47,7 +47,7 @@ use serde::Serialize;
 use super::FiguresError;
 use super::facts::{ControlFacts, EventFacts, SampleInfo};
 use super::rates::Basis;
-use crate::reconcile::Status;
+use crate::domain::EventStatus;
 use crate::statistics::estimators::{
     Estimate, Fpc, StratifiedProportion, StratumCount, StratumStatus, stratified_proportion,
 };
@@ -206,12 +206,12 @@ impl<'a> AlertStrata<'a> {
         row.mapped_area_ha += e.area_ha / s.inclusion_probability;
         let nr = &mut row.non_response;
         match e.status {
-            Status::Confirmed => row.confirmed += 1,
-            Status::FalseAlarm => row.false_alarm += 1,
-            Status::NotReached => nr.not_reached += 1,
-            Status::Unvisited => nr.unvisited += 1,
-            Status::Inconclusive => nr.inconclusive += 1,
-            Status::Disputed => nr.disputed += 1,
+            EventStatus::Confirmed => row.confirmed += 1,
+            EventStatus::FalseAlarm => row.false_alarm += 1,
+            EventStatus::NotReached => nr.not_reached += 1,
+            EventStatus::Unvisited => nr.unvisited += 1,
+            EventStatus::Inconclusive => nr.inconclusive += 1,
+            EventStatus::Disputed => nr.disputed += 1,
         }
         Ok(())
     }

@@ -5,7 +5,7 @@ use serde::Serialize;
 
 use super::facts::{EventFacts, Month};
 use super::groups::Interner;
-use crate::reconcile::Status;
+use crate::domain::EventStatus;
 
 /// Label for a confirmed event whose reports name no cause.
 pub const CAUSE_NOT_RECORDED: &str = "(not recorded)";
@@ -47,7 +47,7 @@ pub(crate) struct CauseSums<'a> {
 
 impl<'a> CauseSums<'a> {
     pub(crate) fn add(&mut self, e: &'a EventFacts) {
-        if e.status != Status::Confirmed {
+        if e.status != EventStatus::Confirmed {
             return;
         }
         let cause = e.cause.as_deref().unwrap_or(CAUSE_NOT_RECORDED);

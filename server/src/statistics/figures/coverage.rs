@@ -8,7 +8,7 @@ use serde::Serialize;
 
 use super::facts::{EventFacts, GroupKey};
 use super::groups::tally_by;
-use crate::reconcile::Status;
+use crate::domain::EventStatus;
 
 /// Counts for one group. `visited + not_reached + unvisited = events`;
 /// `issued` counts separately (an event can be visited without a bundle,
@@ -70,7 +70,7 @@ impl CoverageCounts {
     pub(crate) fn of(e: &EventFacts) -> Self {
         let issued = u64::from(e.issued_at.is_some());
         let visited = e.first_visit.is_some();
-        let not_reached = !visited && e.status == Status::NotReached;
+        let not_reached = !visited && e.status == EventStatus::NotReached;
         CoverageCounts {
             events: 1,
             issued,

@@ -8,7 +8,8 @@ use std::fmt;
 use chrono::{DateTime, Datelike, NaiveDate, NaiveTime, Utc};
 use serde::Serialize;
 
-use crate::reconcile::{Status, StatusOutcome};
+use crate::domain::EventStatus;
+use crate::reconcile::StatusOutcome;
 
 /// How a sampled event was drawn for an assessment trip.
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -32,7 +33,7 @@ pub struct EventFacts {
     pub first_detected: NaiveDate,
     /// When the first bundle holding the event was issued.
     pub issued_at: Option<DateTime<Utc>>,
-    pub status: Status,
+    pub status: EventStatus,
     pub new_clearing: bool,
     pub first_visit: Option<DateTime<Utc>>,
     pub first_received: Option<DateTime<Utc>>,

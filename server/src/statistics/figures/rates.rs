@@ -10,7 +10,7 @@ use serde::Serialize;
 use super::FiguresError;
 use super::facts::{EventFacts, GroupKey};
 use super::groups::tally_by;
-use crate::reconcile::Status;
+use crate::domain::EventStatus;
 use crate::statistics::estimators::{ProportionEstimate, wilson};
 
 /// What kind of visits a figure rests on.
@@ -101,14 +101,14 @@ impl RateCounts {
     pub(crate) fn of(e: &EventFacts) -> Self {
         let mut c = RateCounts::default();
         match e.status {
-            Status::Confirmed => {
+            EventStatus::Confirmed => {
                 c.confirmed = 1;
                 c.new_clearing = u64::from(e.new_clearing);
             }
-            Status::FalseAlarm => c.false_alarm = 1,
-            Status::Inconclusive => c.inconclusive = 1,
-            Status::Disputed => c.disputed = 1,
-            Status::Unvisited | Status::NotReached => {}
+            EventStatus::FalseAlarm => c.false_alarm = 1,
+            EventStatus::Inconclusive => c.inconclusive = 1,
+            EventStatus::Disputed => c.disputed = 1,
+            EventStatus::Unvisited | EventStatus::NotReached => {}
         }
         c
     }

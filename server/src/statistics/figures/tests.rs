@@ -10,7 +10,8 @@ use proptest::prelude::*;
 use uuid::Uuid;
 
 use super::*;
-use crate::reconcile::{Outcome, ReportFact, Status, event_statuses};
+use crate::domain::EventStatus;
+use crate::reconcile::{Outcome, ReportFact, event_statuses};
 use crate::statistics::estimators::{olofsson, wilson};
 
 fn at(m: u32, d: u32) -> DateTime<Utc> {
@@ -27,7 +28,7 @@ fn close(a: f64, b: f64, tol: f64) -> bool {
     (a - b).abs() <= tol
 }
 
-fn event(id: i64, detected: NaiveDate, status: Status) -> EventFacts {
+fn event(id: i64, detected: NaiveDate, status: EventStatus) -> EventFacts {
     EventFacts {
         event_id: id,
         zone_names: vec![],
@@ -62,7 +63,7 @@ fn fixture() -> Vec<EventFacts> {
         i64,
         (u32, u32),
         Option<(u32, u32)>,
-        Status,
+        EventStatus,
         Option<((u32, u32), (u32, u32))>,
         &'a str,
         &'a str,
@@ -74,7 +75,7 @@ fn fixture() -> Vec<EventFacts> {
             1,
             (3, 1),
             Some((3, 3)),
-            Status::Confirmed,
+            EventStatus::Confirmed,
             Some(((3, 5), (3, 6))),
             "A",
             "optical-10m",
@@ -85,7 +86,7 @@ fn fixture() -> Vec<EventFacts> {
             2,
             (3, 1),
             Some((3, 2)),
-            Status::FalseAlarm,
+            EventStatus::FalseAlarm,
             Some(((3, 11), (3, 13))),
             "A",
             "radar-10m",
@@ -96,7 +97,7 @@ fn fixture() -> Vec<EventFacts> {
             3,
             (3, 11),
             Some((3, 12)),
-            Status::NotReached,
+            EventStatus::NotReached,
             None,
             "B",
             "optical-10m",
@@ -107,7 +108,7 @@ fn fixture() -> Vec<EventFacts> {
             4,
             (3, 21),
             None,
-            Status::Unvisited,
+            EventStatus::Unvisited,
             None,
             "B",
             "optical-30m",
@@ -118,7 +119,7 @@ fn fixture() -> Vec<EventFacts> {
             5,
             (2, 20),
             Some((2, 24)),
-            Status::Confirmed,
+            EventStatus::Confirmed,
             Some(((3, 8), (3, 12))),
             "A",
             "optical-10m",
@@ -129,7 +130,7 @@ fn fixture() -> Vec<EventFacts> {
             6,
             (3, 1),
             Some((3, 2)),
-            Status::Inconclusive,
+            EventStatus::Inconclusive,
             Some(((3, 3), (3, 4))),
             "B",
             "radar-10m",
@@ -400,7 +401,7 @@ fn team_table_by_hand() {
     assert_eq!(t2.median_issue_to_visit_days, Some(12.0));
 }
 
-fn sampled(id: i64, stratum: &str, population: u64, pi: f64, status: Status) -> EventFacts {
+fn sampled(id: i64, stratum: &str, population: u64, pi: f64, status: EventStatus) -> EventFacts {
     let mut e = event(id, date(3, 1), status);
     e.sampled = Some(SampleInfo {
         stratum: stratum.into(),
@@ -425,9 +426,9 @@ fn stratified_users_accuracy_matches_reference() {
         for k in 0..n {
             id += 1;
             let status = if k < x {
-                Status::Confirmed
+                EventStatus::Confirmed
             } else {
-                Status::FalseAlarm
+                EventStatus::FalseAlarm
             };
             events.push(sampled(
                 id,
@@ -438,7 +439,7 @@ fn stratified_users_accuracy_matches_reference() {
             ));
         }
         // Two non-respondents per stratum: one not reached, one inconclusive.
-        for status in [Status::NotReached, Status::Inconclusive] {
+        for status in [EventStatus::NotReached, EventStatus::Inconclusive] {
             id += 1;
             events.push(sampled(
                 id,
@@ -487,14 +488,14 @@ fn error_matrix_agrees_with_olofsson() {
                 100,
                 0.1,
                 if i < 8 {
-                    Status::Confirmed
+                    EventStatus::Confirmed
                 } else {
-                    Status::FalseAlarm
+                    EventStatus::FalseAlarm
                 },
             )
         })
         .collect();
-    events.push(sampled(10, "alert", 100, 0.1, Status::NotReached));
+    events.push(sampled(10, "alert", 100, 0.1, EventStatus::NotReached));
     let controls: Vec<ControlFacts> = (0..21)
         .map(|i| ControlFacts {
             stratum: "control".into(),
@@ -544,14 +545,14 @@ fn error_matrix_agrees_with_olofsson() {
 
 #[test]
 fn bad_sample_input_is_an_error() {
-    let e = [sampled(1, "s", 10, 0.0, Status::Confirmed)];
+    let e = [sampled(1, "s", 10, 0.0, EventStatus::Confirmed)];
     assert!(matches!(
         assessment(&e, &[]),
         Err(FiguresError::BadInclusionProbability { .. })
     ));
     let e = [
-        sampled(1, "s", 10, 0.2, Status::Confirmed),
-        sampled(2, "s", 11, 0.2, Status::Confirmed),
+        sampled(1, "s", 10, 0.2, EventStatus::Confirmed),
+        sampled(2, "s", 11, 0.2, EventStatus::Confirmed),
     ];
     assert!(matches!(
         assessment(&e, &[]),
@@ -568,7 +569,7 @@ fn base_events() -> Vec<EventFacts> {
                 if i % 2 == 0 { "even" } else { "odd" },
                 20,
                 0.1,
-                Status::Unvisited,
+                EventStatus::Unvisited,
             );
             e.first_detected = date(2, 10 + i as u32);
             e.issued_at = Some(at(2, 20));

@@ -1,6 +1,6 @@
 //! Loading and reconciling the facts behind the statistics.
 
-use crate::domain::{Confidence, Day};
+use crate::domain::{Confidence, Day, EventStatus, TargetKind, Timestamp};
 use crate::error::Result;
 use crate::platform::storage::{Db, StatsReportRef};
 use crate::reconcile::{
@@ -41,20 +41,6 @@ pub struct Loaded {
     pub counted: Arc<CountedIndex>,
 }
 
-fn time(s: &str) -> Option<DateTime<Utc>> {
-    super::rfc3339::parse_utc(s)
-}
-
-pub(crate) fn outcome(s: &str) -> Option<Outcome> {
-    match s {
-        "confirmed" => Some(Outcome::Confirmed),
-        "false_alarm" => Some(Outcome::FalseAlarm),
-        "inconclusive" => Some(Outcome::Inconclusive),
-        "not_reached" => Some(Outcome::NotReached),
-        _ => None,
-    }
-}
-
 /// Area a control point stands for: a 1 ha plot (100 m × 100 m) around
 /// it (our choice, stated in the README).
 pub const CONTROL_PLOT_HA: f64 = 1.0;
@@ -63,8 +49,8 @@ pub const CONTROL_PLOT_HA: f64 = 1.0;
 #[derive(Debug, Clone)]
 struct ControlReport {
     report_id: String,
-    observed_at: String,
-    outcome: String,
+    observed_at: Timestamp,
+    outcome: Outcome,
 }
 
 /// What the passes over the stored reports keep. Reports are only ever
@@ -95,7 +81,7 @@ impl ReportScan {
         if let Some(s) = r.supersedes {
             self.superseded.insert(s.to_string());
         }
-        if r.kind == "control"
+        if r.kind == TargetKind::Control
             && let Some(code) = r.control_code
         {
             self.controls
@@ -103,8 +89,8 @@ impl ReportScan {
                 .or_default()
                 .push(ControlReport {
                     report_id: r.report_id.to_string(),
-                    observed_at: r.observed_at.to_string(),
-                    outcome: r.outcome.to_string(),
+                    observed_at: r.observed_at,
+                    outcome: r.outcome,
                 });
         }
         if let (Some(stored), Some(f)) = (r.event_id, report_fact(&r, live)) {
@@ -129,11 +115,11 @@ fn report_fact(r: &StatsReportRef<'_>, live: impl Fn(i64) -> i64) -> Option<Repo
         report_id: Uuid::parse_str(r.report_id).ok()?,
         event_id: live(r.event_id?),
         supersedes: r.supersedes.and_then(|s| Uuid::parse_str(s).ok()),
-        outcome: outcome(r.outcome)?,
-        reason: r.reason.map(str::to_string),
-        cause: r.cause.map(str::to_string),
-        observed_at: time(r.observed_at)?,
-        received_at: time(r.received_at)?,
+        outcome: r.outcome,
+        reason: r.reason.map(|w| w.as_str().to_owned()),
+        cause: r.cause.map(|w| w.as_str().to_owned()),
+        observed_at: r.observed_at.utc(),
+        received_at: r.received_at.utc(),
         evidence_ok: r.evidence_ok,
         team: r.team.to_string(),
         bundle_id: Uuid::parse_str(r.bundle_id).ok()?,
@@ -206,14 +192,12 @@ pub fn read_facts_after(db: &Db, window_days: u32, previous: Option<Facts>) -> R
         let adjudications: Vec<Adjudication> = r
             .adjudications()?
             .iter()
-            .filter_map(|a| {
-                Some(Adjudication {
-                    event_id: live(a.event_id),
-                    outcome: outcome(&a.outcome)?,
-                    reason: a.reason.clone(),
-                    by: a.decided_by.clone(),
-                    at: time(&a.decided_at)?,
-                })
+            .map(|a| Adjudication {
+                event_id: live(a.event_id),
+                outcome: a.outcome,
+                reason: a.reason.clone(),
+                by: a.decided_by.clone(),
+                at: a.decided_at.utc(),
             })
             .collect();
         Ok((
@@ -228,7 +212,7 @@ pub fn read_facts_after(db: &Db, window_days: u32, previous: Option<Facts>) -> R
     })?;
     let bundle_issued_at: BTreeMap<Uuid, DateTime<Utc>> = issue_times
         .iter()
-        .filter_map(|(id, t)| Some((Uuid::parse_str(id).ok()?, time(t)?)))
+        .filter_map(|(id, t)| Some((Uuid::parse_str(id).ok()?, t.utc())))
         .collect();
     let mut scan = scan;
     let reports = std::mem::take(&mut scan.facts);
@@ -277,12 +261,12 @@ pub fn read_facts_after(db: &Db, window_days: u32, previous: Option<Facts>) -> R
                     // The latest; equal times are decided by report id, so
                     // the order the reports were read in does not matter.
                     .max_by(|a, b| {
-                        (&a.observed_at, &a.report_id).cmp(&(&b.observed_at, &b.report_id))
+                        (a.observed_at, &a.report_id).cmp(&(b.observed_at, &b.report_id))
                     })
             });
-        let found = latest.and_then(|r| match r.outcome.as_str() {
-            "confirmed" => Some(true),
-            "false_alarm" => Some(false),
+        let found = latest.and_then(|r| match r.outcome {
+            Outcome::Confirmed => Some(true),
+            Outcome::FalseAlarm => Some(false),
             _ => None,
         });
         out_controls.push((
@@ -369,8 +353,8 @@ pub fn prepare(facts: &Facts, filter: &StatsFilter) -> Loaded {
             corroborated: e.corroborated,
             area_ha: e.area_ha,
             first_detected: first.date(),
-            issued_at: e.first_issued_at.as_deref().and_then(time),
-            status: crate::reconcile::Status::Unvisited,
+            issued_at: e.first_issued_at.map(Timestamp::utc),
+            status: EventStatus::Unvisited,
             new_clearing: false,
             first_visit: None,
             first_received: None,
@@ -434,25 +418,31 @@ mod tests {
     }
 
     /// A report on no event yet, observed (and recorded) at `observed`.
-    fn visit(bundle: &str, team: &str, return_id: i64, outcome: &str, observed: &str) -> ReportRow {
+    fn visit(
+        bundle: &str,
+        team: &str,
+        return_id: i64,
+        outcome: Outcome,
+        observed: &str,
+    ) -> ReportRow {
         ReportRow {
             report_id: uuid::Uuid::new_v4().to_string(),
             bundle_id: bundle.into(),
             event_id: None,
             control_code: None,
-            kind: "event".into(),
+            kind: TargetKind::Event,
             supersedes: None,
-            outcome: outcome.into(),
-            reason: (outcome == "false_alarm").then(|| "no_change".into()),
+            outcome,
+            reason: (outcome == Outcome::FalseAlarm).then_some(crate::domain::Reason::NoChange),
             cause: None,
             lat: Some(0.0),
             lon: Some(0.0),
             accuracy_m: Some(5.0),
             position_source: Some("gnss".into()),
             distance_m: Some(3.0),
-            observed_at: observed.into(),
-            recorded_at: observed.into(),
-            received_at: "2025-08-10T12:00:00Z".into(),
+            observed_at: observed.parse().unwrap(),
+            recorded_at: observed.parse().unwrap(),
+            received_at: "2025-08-10T12:00:00Z".parse().unwrap(),
             area_ha: None,
             notes: String::new(),
             team: team.into(),
@@ -463,14 +453,19 @@ mod tests {
     }
 
     /// One trip to `events`, its return, and one report per (event, outcome).
-    fn trip(tx: &Tx<'_>, id: &str, team: &crate::platform::storage::Team, visits: &[(i64, &str)]) {
+    fn trip(
+        tx: &Tx<'_>,
+        id: &str,
+        team: &crate::platform::storage::Team,
+        visits: &[(i64, Outcome)],
+    ) {
         let items: Vec<BundleItem> = visits
             .iter()
             .enumerate()
             .map(|(k, &(e, _))| BundleItem {
                 visit_order: k as u32,
                 code: format!("E{k:03}"),
-                kind: "event".into(),
+                kind: TargetKind::Event,
                 event_id: Some(e),
                 lon: 0.0,
                 lat: 0.0,
@@ -534,7 +529,7 @@ mod tests {
         let items = [BundleItem {
             visit_order: 0,
             code: "C001".into(),
-            kind: "control".into(),
+            kind: TargetKind::Control,
             event_id: None,
             lon: 0.05,
             lat: 0.05,
@@ -565,7 +560,7 @@ mod tests {
     }
 
     /// One return holding one report on control point C001.
-    fn control_report(tx: &Tx<'_>, team: &str, report_id: &str, outcome: &str) {
+    fn control_report(tx: &Tx<'_>, team: &str, report_id: &str, outcome: Outcome) {
         let return_id = tx
             .insert_return(&ReturnRecord {
                 id: 0,
@@ -581,7 +576,7 @@ mod tests {
         let row = ReportRow {
             report_id: report_id.into(),
             control_code: Some("C001".into()),
-            kind: "control".into(),
+            kind: TargetKind::Control,
             lat: Some(0.05),
             lon: Some(0.05),
             ..visit(
@@ -621,7 +616,7 @@ mod tests {
                     tx,
                     "00000000-0000-4000-8000-000000000001",
                     &team,
-                    &[(a, "confirmed"), (b, "confirmed")],
+                    &[(a, Outcome::Confirmed), (b, Outcome::Confirmed)],
                 );
                 // A control point: the report with the larger id comes first.
                 control_trip(tx, &team);
@@ -629,7 +624,7 @@ mod tests {
                     tx,
                     "Team One",
                     "ffffffff-0000-4000-8000-000000000001",
-                    "confirmed",
+                    Outcome::Confirmed,
                 );
                 Ok((a, b, c))
             })
@@ -644,7 +639,7 @@ mod tests {
                 tx,
                 "00000000-0000-4000-8000-000000000002",
                 &team,
-                &[(b, "false_alarm"), (c, "confirmed")],
+                &[(b, Outcome::FalseAlarm), (c, Outcome::Confirmed)],
             );
             // A second report on the control point, at the same time, with
             // a smaller id: read afresh it comes first, read on it comes last.
@@ -652,10 +647,15 @@ mod tests {
                 tx,
                 "Team Two",
                 "00000000-ffff-4000-8000-000000000001",
-                "false_alarm",
+                Outcome::FalseAlarm,
             );
             tx.mark_merged(&[c], b)?;
-            tx.add_adjudication(a, "false_alarm", "a later image shows forest", "Manager")?;
+            tx.add_adjudication(
+                a,
+                Outcome::FalseAlarm,
+                "a later image shows forest",
+                "Manager",
+            )?;
             Ok(())
         })
         .unwrap();

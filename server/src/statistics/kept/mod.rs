@@ -9,7 +9,6 @@
 mod cache;
 mod csv_tables;
 mod load;
-mod rfc3339;
 
 pub use cache::{Prepared, REFRESH_TICK, StatsCache, keep_fresh};
 pub use csv_tables::{TABLES, table};
@@ -24,11 +23,13 @@ pub const DISPUTE_WINDOW_DAYS: u32 = crate::reconcile::DEFAULT_WINDOW_DAYS;
 
 /// The reconciled status of every event that has one, by event id: what a
 /// trip's status filter reads ([`crate::planning::TripRequest::reconciled`]).
-pub fn event_statuses(db: &Db) -> Result<std::collections::BTreeMap<i64, String>> {
+pub fn event_statuses(
+    db: &Db,
+) -> Result<std::collections::BTreeMap<i64, crate::domain::EventStatus>> {
     Ok(load(db, &StatsFilter::default(), DISPUTE_WINDOW_DAYS)?
         .statuses
         .iter()
-        .map(|(id, s)| (*id, s.status.as_str().to_string()))
+        .map(|(id, s)| (*id, s.status))
         .collect())
 }
 
@@ -48,11 +49,6 @@ pub fn figures_of(l: &Loaded, options: &FigureOptions) -> Result<Figures> {
         options,
     )
     .map_err(|e| Error::Invalid(format!("statistics: {e}")))
-}
-
-/// An outcome word as stored.
-pub fn parse_outcome(s: &str) -> Option<crate::reconcile::Outcome> {
-    load::outcome(s)
 }
 
 /// Every live event as a GeoJSON Feature with its reconciled status and an

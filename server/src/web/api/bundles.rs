@@ -3,9 +3,9 @@
 //! `GET /api/v1/bundles/{id}`, `GET /api/v1/bundles/{id}/download`,
 //! `POST /api/v1/bundles/{id}/cancel`.
 
-use crate::domain::{Confidence, Day, LonLat, ZoneName};
+use crate::domain::{BundleMode, Confidence, Day, LonLat, TeamName};
 use crate::error::Error;
-use crate::planning::{Mode, TripRequest, cancel_bundle, issue_bundle};
+use crate::planning::{TripRequest, cancel_bundle, issue_bundle};
 use crate::web::AppState;
 use crate::web::error::ApiError;
 use actix_web::{HttpResponse, web};
@@ -27,8 +27,7 @@ pub async fn add_team(
     state: web::Data<AppState>,
     body: web::Json<NewTeam>,
 ) -> Result<HttpResponse, ApiError> {
-    let name =
-        ZoneName::parse(&body.name).map_err(|m| Error::Invalid(m.replace("zone", "team")))?;
+    let name = TeamName::parse(&body.name).map_err(Error::Invalid)?;
     let db = state.db.clone();
     let t = web::block(move || db.write(|tx| tx.add_team(name.as_str()))).await??;
     Ok(HttpResponse::Created().json(t))
@@ -85,7 +84,9 @@ pub fn trip_request(b: IssueBody) -> Result<TripRequest, Error> {
         r.start_name = n;
     }
     if let Some(m) = &b.mode {
-        r.mode = Mode::parse(m)?;
+        r.mode = m
+            .parse::<BundleMode>()
+            .map_err(|e| Error::Invalid(e.to_string()))?;
     }
     r.zone = b.zone;
     r.extent = match b.extent {

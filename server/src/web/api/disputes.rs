@@ -16,7 +16,7 @@ pub async fn list(state: web::Data<AppState>) -> Result<HttpResponse, ApiError> 
             .loaded
             .statuses
             .iter()
-            .filter(|(_, s)| s.status == crate::reconcile::Status::Disputed)
+            .filter(|(_, s)| s.status == crate::domain::EventStatus::Disputed)
             .map(|(id, s)| json!({"event_id": id, "note": s.note, "reports": s.counted_reports, "teams": s.teams}))
             .collect();
         Ok::<_, Error>(v)

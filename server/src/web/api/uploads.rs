@@ -11,7 +11,7 @@
 //! is not required yet: the package's HMAC signature is the gate.
 
 use crate::intake::uploads::{self, IncomingFile, MAX_APPEND_BYTES};
-use crate::intake::{IntakeError, files, layout};
+use crate::intake::{IntakeError, layout};
 use crate::web::AppState;
 use crate::web::error::ApiError;
 use actix_web::{HttpRequest, HttpResponse, web};
@@ -236,7 +236,7 @@ pub async fn event_reports(state: web::Data<AppState>, path: web::Path<String>) 
 }
 
 async fn photo_file(state: web::Data<AppState>, sha: String, thumb: bool) -> Reply {
-    if !files::is_sha256(&sha) {
+    if !crate::domain::Sha256Digest::is_valid(&sha) {
         return Err(IntakeError::NotFound(format!("no photo {sha}")).into());
     }
     let st = state.into_inner();

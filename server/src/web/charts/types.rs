@@ -3,58 +3,7 @@
 
 use geo::MultiPolygon;
 
-/// Where an event stands, as shown on the map.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
-pub enum EventStatus {
-    Unvisited,
-    NotReached,
-    Confirmed,
-    FalseAlarm,
-    Inconclusive,
-    Disputed,
-}
-
-impl EventStatus {
-    /// Every status in legend order.
-    pub const ALL: [EventStatus; 6] = [
-        EventStatus::Unvisited,
-        EventStatus::NotReached,
-        EventStatus::Confirmed,
-        EventStatus::FalseAlarm,
-        EventStatus::Inconclusive,
-        EventStatus::Disputed,
-    ];
-
-    /// The stored name: `unvisited`, `not_reached`, `confirmed`,
-    /// `false_alarm`, `inconclusive`, `disputed`.
-    pub fn as_str(self) -> &'static str {
-        match self {
-            EventStatus::Unvisited => "unvisited",
-            EventStatus::NotReached => "not_reached",
-            EventStatus::Confirmed => "confirmed",
-            EventStatus::FalseAlarm => "false_alarm",
-            EventStatus::Inconclusive => "inconclusive",
-            EventStatus::Disputed => "disputed",
-        }
-    }
-
-    /// Parse a stored name.
-    pub fn parse(s: &str) -> Option<EventStatus> {
-        EventStatus::ALL.into_iter().find(|st| st.as_str() == s)
-    }
-
-    /// Words for the legend.
-    pub fn label(self) -> &'static str {
-        match self {
-            EventStatus::Unvisited => "not yet visited",
-            EventStatus::NotReached => "not reached",
-            EventStatus::Confirmed => "confirmed loss",
-            EventStatus::FalseAlarm => "false alarm",
-            EventStatus::Inconclusive => "inconclusive",
-            EventStatus::Disputed => "disputed",
-        }
-    }
-}
+pub use crate::domain::EventStatus;
 
 /// A named zone polygon.
 #[derive(Debug, Clone)]

@@ -8,8 +8,8 @@
 
 use super::common::{Layout, PageError, Viewer, fixed, non_empty, opt_day, page, percent, respond};
 use super::events::{Choice, urlencode};
+use crate::domain::EventStatus;
 use crate::error::Error;
-use crate::reconcile::Status;
 use crate::statistics::estimators::{DurationSummary, Estimate};
 use crate::statistics::figures::{
     EventFacts, FigureOptions, Figures, GroupKey, VisitCurve, month_of,
@@ -47,7 +47,7 @@ pub fn monthly_chart(events: &[EventFacts]) -> BarChart {
         if e.first_visit.is_some() {
             c[1] += 1.0;
         }
-        if e.status == Status::Confirmed {
+        if e.status == EventStatus::Confirmed {
             c[2] += 1.0;
         }
     }
@@ -541,7 +541,7 @@ mod tests {
     use super::*;
     use chrono::{NaiveDate, TimeZone, Utc};
 
-    fn event(id: i64, month: u32, issued: bool, visited: bool, status: Status) -> EventFacts {
+    fn event(id: i64, month: u32, issued: bool, visited: bool, status: EventStatus) -> EventFacts {
         let t = Utc.with_ymd_and_hms(2026, month, 20, 0, 0, 0).single();
         EventFacts {
             event_id: id,
@@ -566,11 +566,11 @@ mod tests {
     fn the_monthly_chart_counts_each_event_once_per_series() {
         // Hand-counted from the five events below.
         let events = vec![
-            event(1, 1, true, true, Status::Confirmed),
-            event(2, 1, true, false, Status::Unvisited),
-            event(3, 1, false, false, Status::Unvisited),
-            event(4, 2, true, true, Status::FalseAlarm),
-            event(5, 2, true, true, Status::Confirmed),
+            event(1, 1, true, true, EventStatus::Confirmed),
+            event(2, 1, true, false, EventStatus::Unvisited),
+            event(3, 1, false, false, EventStatus::Unvisited),
+            event(4, 2, true, true, EventStatus::FalseAlarm),
+            event(5, 2, true, true, EventStatus::Confirmed),
         ];
         let c = monthly_chart(&events);
         assert_eq!(c.categories, vec!["2026-01", "2026-02"]);

@@ -5,10 +5,10 @@
 
 use super::common::{Layout, PageError, Viewer, fixed, html, respond, see_other};
 use super::views::{ReportView, report_view};
+use crate::domain::EventStatus;
 use crate::error::Error;
 use crate::planning::codes::event_code;
 use crate::platform::auth::Action;
-use crate::reconcile::Status;
 use crate::statistics::kept::StatsFilter;
 use crate::web::AppState;
 use crate::web::adjudication::{self, BadField, MAX_BY_CHARS, MAX_REASON_CHARS, Ruling};
@@ -97,7 +97,7 @@ async fn disputes_page(
             .loaded
             .statuses
             .iter()
-            .filter(|(_, s)| s.status == Status::Disputed)
+            .filter(|(_, s)| s.status == EventStatus::Disputed)
         {
             let d = db.read(|r| {
                 let area = r

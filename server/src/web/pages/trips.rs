@@ -10,9 +10,9 @@ use super::common::{
 use super::events::Choice;
 use super::views::{map_events, map_input, map_zones};
 use crate::alerts::events::{RankedEvent, priority_of};
-use crate::domain::{Day, LonLat};
+use crate::domain::{BundleMode, Day, LonLat};
 use crate::error::Error;
-use crate::planning::{IssuedBundle, Mode, TripRequest, cancel_bundle, issue_bundle};
+use crate::planning::{IssuedBundle, TripRequest, cancel_bundle, issue_bundle};
 use crate::platform::auth::Action;
 use crate::web::AppState;
 use crate::web::charts::render_map;
@@ -52,7 +52,9 @@ pub fn trip_request(f: &IssueForm, today: Day) -> Result<TripRequest, PageError>
         r.start_name = n;
     }
     if let Some(m) = non_empty(&f.mode) {
-        r.mode = Mode::parse(&m).map_err(|e| PageError::bad_request(format!("Mode: {e}")))?;
+        r.mode = m
+            .parse::<BundleMode>()
+            .map_err(|e| PageError::bad_request(format!("Mode: {e}")))?;
     }
     r.zone = non_empty(&f.zone);
     r.max = opt_number::<usize>("Most events", &f.max)?;
@@ -331,7 +333,7 @@ async fn issue_page(
             .map(|i| ItemRow {
                 order: i.visit_order,
                 code: i.code.clone(),
-                kind: i.kind.clone(),
+                kind: i.kind.to_string(),
                 event_id: i.event_id,
                 lat: fixed(i.lat, 6),
                 lon: fixed(i.lon, 6),
@@ -431,7 +433,7 @@ mod tests {
     fn a_minimal_form_is_a_response_trip_with_defaults() {
         let day = Day::parse("2026-03-01").unwrap();
         let r = trip_request(&form(), day).unwrap();
-        assert_eq!(r.mode, Mode::Response);
+        assert_eq!(r.mode, BundleMode::Response);
         assert_eq!((r.start.lon(), r.start.lat()), (-60.25, -3.5));
         assert_eq!(r.as_of, day);
         assert_eq!(r.controls, 0);

@@ -11,8 +11,7 @@ use std::collections::BTreeMap;
 
 /// The map's status of an event (unvisited when no report counts).
 pub fn map_status(s: Option<&StatusOutcome>) -> EventStatus {
-    s.and_then(|s| EventStatus::parse(s.status.as_str()))
-        .unwrap_or(EventStatus::Unvisited)
+    s.map_or(EventStatus::Unvisited, |s| s.status)
 }
 
 /// A status badge: CSS class suffix and words.
@@ -161,13 +160,13 @@ pub fn report_view(r: &Reader<'_>, row: &ReportRow, counted: bool) -> crate::Res
     Ok(ReportView {
         id: row.report_id.clone(),
         team: row.team.clone(),
-        kind: row.kind.replace('_', " "),
-        outcome: row.outcome.replace('_', " "),
-        outcome_class: row.outcome.clone(),
-        reason: row.reason.clone().unwrap_or_default().replace('_', " "),
-        cause: row.cause.clone().unwrap_or_default().replace('_', " "),
-        observed: short_time(&row.observed_at),
-        received: short_time(&row.received_at),
+        kind: row.kind.as_str().replace('_', " "),
+        outcome: row.outcome.as_str().replace('_', " "),
+        outcome_class: row.outcome.to_string(),
+        reason: row.reason.map_or("", |w| w.as_str()).replace('_', " "),
+        cause: row.cause.map_or("", |w| w.as_str()).replace('_', " "),
+        observed: short_time(&row.observed_at.to_string()),
+        received: short_time(&row.received_at.to_string()),
         position,
         distance: row
             .distance_m
