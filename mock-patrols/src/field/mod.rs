@@ -37,7 +37,7 @@ use std::path::{Path, PathBuf};
 
 use chrono::{DateTime, Utc};
 use groundproof_sync::bundle::Checklist;
-use groundproof_sync::field::Stop;
+use groundproof_sync::field::{FieldEvent, Snapshot, Stop};
 use groundproof_sync::returns::{
     OUTCOME_CONFIRMED, OUTCOME_FALSE_ALARM, OUTCOME_INCONCLUSIVE, OUTCOME_NOT_REACHED, Target,
 };
@@ -47,7 +47,7 @@ use uuid::Uuid;
 
 use clock::{Clock, zone_of};
 use device::Device;
-use roles::{CAUSE_WEIGHTS, assign_roles, pick};
+use roles::{CAUSE_WEIGHTS, Roles, assign_roles, pick};
 
 /// Near photos are taken this far from the event centroid at most (metres).
 pub const NEAR_PHOTO_MAX_M: f64 = 30.0;
@@ -221,6 +221,40 @@ pub fn make_trip_return(
     let mut dev = Device::open(bundle_zip, workdir, "device-1", plan, seed)?;
     let snap = dev.snap.clone();
     check_checklist(&snap.checklist)?;
+    let (event_codes, control_codes) = route_codes(&snap);
+    let roles = assign_roles(
+        &event_codes,
+        &control_codes,
+        &snap.checklist,
+        plan,
+        &mut rng,
+    );
+    walk_route(&mut dev, &snap, &roles, plan, &mut rng)?;
+    if let Some(code) = &roles.amend {
+        dev.amend(code, &snap.checklist)?;
+    }
+    let first = dev.pack()?;
+    let mut returns = vec![first];
+    let mut disputed = None;
+    if let Some(code) = &roles.dispute
+        && let Some((base, event)) = disputed_report(&returns[0], &snap, code)
+    {
+        let mut second = Device::open(bundle_zip, workdir, "device-2", plan, seed ^ 0x2)?;
+        second.disagree(event, &base, &mut rng)?;
+        returns.push(second.pack()?);
+        disputed = Some(code.clone());
+    }
+    Ok(TripOutcome {
+        bundle_id: snap.bundle_id,
+        team: snap.team.clone(),
+        returns,
+        unvisited: roles.unvisited(),
+        disputed,
+    })
+}
+
+/// The event codes and the control point codes of the bundle, in route order.
+fn route_codes(snap: &Snapshot) -> (Vec<String>, Vec<String>) {
     let event_codes: Vec<String> = snap
         .stops()
         .filter_map(|s| match s {
@@ -235,13 +269,18 @@ pub fn make_trip_return(
             Stop::Event(_) => None,
         })
         .collect();
-    let roles = assign_roles(
-        &event_codes,
-        &control_codes,
-        &snap.checklist,
-        plan,
-        &mut rng,
-    );
+    (event_codes, control_codes)
+}
+
+/// Walks the route on field days, recording each stop's visit of `roles` and the
+/// new clearing found on the way.
+fn walk_route(
+    dev: &mut Device,
+    snap: &Snapshot,
+    roles: &Roles,
+    plan: &TripPlan,
+    rng: &mut ChaCha8Rng,
+) -> Result<(), String> {
     let tz = zone_of(snap.start_lon);
     let mut clock = Clock::new(
         snap.issued_at,
@@ -255,51 +294,41 @@ pub fn make_trip_return(
         match stop {
             Stop::Event(e) => {
                 if let Some(visit) = roles.event(&e.code) {
-                    dev.visit_event(e, visit, &mut clock, &mut rng)?;
+                    dev.visit_event(e, visit, &mut clock, rng)?;
                 }
             }
             Stop::Control(c) => {
                 if let Some(visit) = roles.control(&c.code) {
                     let here = (c.lat, c.lon);
-                    dev.visit_control(&c.code, here, visit, &mut clock, &mut rng)?;
+                    dev.visit_control(&c.code, here, visit, &mut clock, rng)?;
                 }
             }
         }
         if new_clearing_after == Some(i) {
             let from = stop.lat_lon();
             let to = stops.get(i + 1).map(Stop::lat_lon);
-            let cause = pick(&mut rng, CAUSE_WEIGHTS, &snap.checklist.causes);
-            dev.new_clearing(from, to, cause, &mut clock, &mut rng)?;
+            let cause = pick(rng, CAUSE_WEIGHTS, &snap.checklist.causes);
+            dev.new_clearing(from, to, cause, &mut clock, rng)?;
         }
     }
-    if let Some(code) = &roles.amend {
-        dev.amend(code, &snap.checklist)?;
-    }
-    let first = dev.pack()?;
-    let mut returns = vec![first];
-    let mut disputed = None;
-    if let Some(code) = &roles.dispute {
-        let base = returns[0]
-            .reports
-            .iter()
-            .rev()
-            .find(|r| r.target.code() == Some(code.as_str()))
-            .cloned();
-        let event = snap.events.iter().find(|e| &e.code == code);
-        if let (Some(base), Some(event)) = (base, event) {
-            let mut second = Device::open(bundle_zip, workdir, "device-2", plan, seed ^ 0x2)?;
-            second.disagree(event, &base, &mut rng)?;
-            returns.push(second.pack()?);
-            disputed = Some(code.clone());
-        }
-    }
-    Ok(TripOutcome {
-        bundle_id: snap.bundle_id,
-        team: snap.team.clone(),
-        returns,
-        unvisited: roles.unvisited(),
-        disputed,
-    })
+    Ok(())
+}
+
+/// The first return's newest report on event `code` and the event, which the
+/// second device disagrees with; `None` when either is missing.
+fn disputed_report<'a>(
+    first: &DeviceReturn,
+    snap: &'a Snapshot,
+    code: &str,
+) -> Option<(RecordedReport, &'a FieldEvent)> {
+    let base = first
+        .reports
+        .iter()
+        .rev()
+        .find(|r| r.target.code() == Some(code))
+        .cloned();
+    let event = snap.events.iter().find(|e| e.code == code);
+    base.zip(event)
 }
 
 fn check_plan(plan: &TripPlan) -> Result<(), String> {

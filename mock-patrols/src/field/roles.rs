@@ -197,7 +197,6 @@ pub(super) fn assign_roles(
     let not_reached = plan.not_reached.min((n - skip).saturating_sub(1));
     let visited = &order[skip + not_reached..];
     let [kc, kf, _] = outcome_mix(visited.len(), plan.confirmed_share, plan.false_alarm_share);
-    let min_confirmed = (checklist.min_photos_confirmed as usize).clamp(1, 19);
     let mut visits: Vec<Option<EventVisit>> = vec![None; n];
     for &i in &order[skip..skip + not_reached] {
         let reason = pick(rng, NOT_REACHED_WEIGHTS, &checklist.not_reached_reasons);
@@ -208,23 +207,58 @@ pub(super) fn assign_roles(
     let (confirmed, rest) = visited.split_at(kc);
     let (false_alarms, _inconclusive) = rest.split_at(kf);
     for (j, &i) in visited.iter().enumerate() {
-        visits[i] = Some(if j < kc {
-            EventVisit::Confirmed {
-                cause: pick(rng, CAUSE_WEIGHTS, &checklist.causes),
-                near_photos: rng.random_range(2..=3usize).max(min_confirmed),
-                far: false,
-                early: false,
-            }
-        } else if j < kc + kf {
-            EventVisit::FalseAlarm {
-                reason: pick(rng, FALSE_ALARM_WEIGHTS, &checklist.false_alarm_reasons)
-                    .unwrap_or_default(),
-                photos: rng.random_range(1..=2usize),
-            }
-        } else {
-            EventVisit::Inconclusive
-        });
+        visits[i] = Some(visit_outcome(j, kc, kf, checklist, rng));
     }
+    let flagged = flag_photos(confirmed, &mut visits, plan);
+    let (dispute, amend) = dispute_and_amend(confirmed, false_alarms, &flagged, plan);
+    let route_len = n + controls.len();
+    let controls = assign_controls(controls, checklist, plan, rng);
+    let new_clearing_after =
+        (plan.new_clearing && route_len > 0).then(|| rng.random_range(0..route_len));
+    Roles {
+        events: events.iter().cloned().zip(visits).collect(),
+        controls,
+        amend: amend.map(|i| events[i].clone()),
+        dispute: dispute.map(|i| events[i].clone()),
+        new_clearing_after,
+    }
+}
+
+/// The visit of the `j`-th visited event: the first `kc` confirmed, the next `kf`
+/// false alarms, the rest inconclusive.
+fn visit_outcome(
+    j: usize,
+    kc: usize,
+    kf: usize,
+    checklist: &Checklist,
+    rng: &mut ChaCha8Rng,
+) -> EventVisit {
+    let min_confirmed = (checklist.min_photos_confirmed as usize).clamp(1, 19);
+    if j < kc {
+        EventVisit::Confirmed {
+            cause: pick(rng, CAUSE_WEIGHTS, &checklist.causes),
+            near_photos: rng.random_range(2..=3usize).max(min_confirmed),
+            far: false,
+            early: false,
+        }
+    } else if j < kc + kf {
+        EventVisit::FalseAlarm {
+            reason: pick(rng, FALSE_ALARM_WEIGHTS, &checklist.false_alarm_reasons)
+                .unwrap_or_default(),
+            photos: rng.random_range(1..=2usize),
+        }
+    } else {
+        EventVisit::Inconclusive
+    }
+}
+
+/// Gives the first confirmed event the far photo and the next one (or the same when
+/// it is the only one) the early photo, as `plan` asks; returns the flagged events.
+fn flag_photos(
+    confirmed: &[usize],
+    visits: &mut [Option<EventVisit>],
+    plan: &TripPlan,
+) -> Vec<usize> {
     let mut flagged = Vec::new();
     if let Some(&first) = confirmed.first() {
         if plan.far_photo {
@@ -241,6 +275,17 @@ pub(super) fn assign_roles(
             }
         }
     }
+    flagged
+}
+
+/// The event a second device disputes and the event whose report is amended, as
+/// `plan` asks: both preferably free of photo flags.
+fn dispute_and_amend(
+    confirmed: &[usize],
+    false_alarms: &[usize],
+    flagged: &[usize],
+    plan: &TripPlan,
+) -> (Option<usize>, Option<usize>) {
     let plain = |i: &&usize| !flagged.contains(*i);
     let dispute = if plan.disputed_pair {
         confirmed
@@ -264,17 +309,7 @@ pub(super) fn assign_roles(
     } else {
         None
     };
-    let route_len = n + controls.len();
-    let controls = assign_controls(controls, checklist, plan, rng);
-    let new_clearing_after =
-        (plan.new_clearing && route_len > 0).then(|| rng.random_range(0..route_len));
-    Roles {
-        events: events.iter().cloned().zip(visits).collect(),
-        controls,
-        amend: amend.map(|i| events[i].clone()),
-        dispute: dispute.map(|i| events[i].clone()),
-        new_clearing_after,
-    }
+    (dispute, amend)
 }
 
 pub(super) fn assign_controls(

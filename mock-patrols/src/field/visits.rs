@@ -15,6 +15,15 @@ use super::place::{direction, offset};
 use super::roles::{CAUSE_WEIGHTS, ControlVisit, EventVisit, no_change, pick};
 use super::{ExpectedFlag, FAR_PHOTO_RANGE_M, NEAR_PHOTO_MAX_M, RecordedReport};
 
+/// Where the photos an evidence check should flag sit among a report's shots.
+#[derive(Debug, Default)]
+struct FlaggedShots {
+    /// Index of the photo taken far from the event, and its distance in metres.
+    far: Option<(usize, f64)>,
+    /// Index of the photo dated before the first detection, and its time.
+    early: Option<(usize, DateTime<Utc>)>,
+}
+
 /// A not-reached team turned back between these distances (metres).
 pub(super) const TURNED_BACK_RANGE_M: (f64, f64) = (1_500.0, 3_000.0);
 
@@ -52,119 +61,174 @@ impl Device {
     ) -> Result<(), String> {
         let spent = rng.random_range(80..=120i64);
         let t = clock.visit(spent)?;
-        let centre = (e.lat, e.lon);
-        let code = Some(e.code.clone());
         match visit {
-            EventVisit::NotReached { reason } => {
-                let (lat, lon) = offset(
-                    e.lat,
-                    e.lon,
-                    rng.random_range(TURNED_BACK_RANGE_M.0..TURNED_BACK_RANGE_M.1),
-                    rng.random_range(0.0..360.0),
-                );
-                let notes = if reason == "safety" {
-                    "Armed group camped on the track; turned back."
-                } else {
-                    "River in flood across the track; no crossing found."
-                };
-                self.record(Entry {
-                    code,
-                    outcome: OUTCOME_NOT_REACHED,
-                    reason: Some(reason.clone()),
-                    time: Some(t),
-                    at: Some((lat, lon, 10.0)),
-                    notes: notes.into(),
-                    ..Entry::default()
-                })?;
-            }
+            EventVisit::NotReached { reason } => self.not_reached(e, reason, t, rng),
             EventVisit::Confirmed {
                 cause,
                 near_photos,
                 far,
                 early,
             } => {
-                let mut shots = Self::near_shots(centre, t, *near_photos, rng);
-                let mut far_at = None;
-                if *far {
-                    let d = rng.random_range(FAR_PHOTO_RANGE_M.0..FAR_PHOTO_RANGE_M.1);
-                    let b: f64 = rng.random_range(0.0..360.0);
-                    let (lat, lon) = offset(e.lat, e.lon, d, b);
-                    far_at = Some((shots.len(), d));
-                    shots.push(Shot {
-                        lat,
-                        lon,
-                        taken_at: t + Duration::minutes(40),
-                        direction_deg: direction(b + 180.0),
-                    });
-                }
-                let mut early_at = None;
-                if *early {
-                    let detected = NaiveDate::parse_from_str(&e.first_detected, "%Y-%m-%d")
-                        .map_err(|_| format!("event {}: bad first_detected", e.code))?;
-                    let days_before = rng.random_range(10..=30u64);
-                    let day = detected - Days::new(days_before);
-                    let taken = day_start(self.tz, day)
-                        .map(|s| s + Duration::minutes(150))
-                        .ok_or("no local time for the early photo")?;
-                    if let Some(last) = shots.last_mut() {
-                        last.taken_at = taken;
-                        early_at = Some((shots.len() - 1, taken));
-                    }
-                }
-                let notes = cause_note(cause.as_deref());
-                let first_detected = e.first_detected.clone();
-                let r = self.record(Entry {
-                    code,
-                    outcome: OUTCOME_CONFIRMED,
-                    cause: cause.clone(),
-                    time: Some(t),
-                    notes: notes.into(),
-                    shots,
-                    ..Entry::default()
-                })?;
-                if let Some((i, d)) = far_at {
-                    let sha256 = r.photo_sha256.get(i).cloned().unwrap_or_default();
-                    r.flags.push(ExpectedFlag::PhotoFar {
-                        sha256,
-                        distance_m: d,
-                    });
-                }
-                if let Some((i, taken_at)) = early_at {
-                    let sha256 = r.photo_sha256.get(i).cloned().unwrap_or_default();
-                    r.flags.push(ExpectedFlag::PhotoBeforeDetection {
-                        sha256,
-                        taken_at,
-                        first_detected,
-                    });
-                }
+                let (shots, flagged) =
+                    self.confirmed_shots(e, *near_photos, *far, *early, t, rng)?;
+                self.confirmed(e, cause, t, shots, flagged)
             }
             EventVisit::FalseAlarm { reason, photos } => {
-                let shots = Self::near_shots(centre, t, *photos, rng);
-                self.record(Entry {
-                    code,
-                    outcome: OUTCOME_FALSE_ALARM,
-                    reason: Some(reason.clone()),
-                    time: Some(t),
-                    notes: reason_note(reason).into(),
-                    shots,
-                    ..Entry::default()
-                })?;
+                self.false_alarm(e, reason, *photos, t, rng)
             }
-            EventVisit::Inconclusive => {
-                let shots = Self::near_shots(centre, t, 1, rng);
-                let (lat, lon) = offset(e.lat, e.lon, rng.random_range(10.0..60.0), 90.0);
-                self.record(Entry {
-                    code,
-                    outcome: OUTCOME_INCONCLUSIVE,
-                    time: Some(t),
-                    at: Some((lat, lon, 8.0)),
-                    notes: "Dense regrowth and standing dead trees; could not tell if recent."
-                        .into(),
-                    shots,
-                    ..Entry::default()
-                })?;
+            EventVisit::Inconclusive => self.inconclusive(e, t, rng),
+        }
+    }
+
+    /// The team turned back some way from the event, with a note why.
+    fn not_reached(
+        &mut self,
+        e: &FieldEvent,
+        reason: &str,
+        t: DateTime<Utc>,
+        rng: &mut ChaCha8Rng,
+    ) -> Result<(), String> {
+        let (lat, lon) = offset(
+            e.lat,
+            e.lon,
+            rng.random_range(TURNED_BACK_RANGE_M.0..TURNED_BACK_RANGE_M.1),
+            rng.random_range(0.0..360.0),
+        );
+        let notes = if reason == "safety" {
+            "Armed group camped on the track; turned back."
+        } else {
+            "River in flood across the track; no crossing found."
+        };
+        self.record(Entry {
+            code: Some(e.code.clone()),
+            outcome: OUTCOME_NOT_REACHED,
+            reason: Some(reason.to_owned()),
+            time: Some(t),
+            at: Some((lat, lon, 10.0)),
+            notes: notes.into(),
+            ..Entry::default()
+        })?;
+        Ok(())
+    }
+
+    /// The photos of a confirmed visit: `near_photos` near the event, then with `far`
+    /// one taken far from it, and with `early` the last one dated before the event's
+    /// first detection.
+    fn confirmed_shots(
+        &self,
+        e: &FieldEvent,
+        near_photos: usize,
+        far: bool,
+        early: bool,
+        t: DateTime<Utc>,
+        rng: &mut ChaCha8Rng,
+    ) -> Result<(Vec<Shot>, FlaggedShots), String> {
+        let mut shots = Self::near_shots((e.lat, e.lon), t, near_photos, rng);
+        let mut flagged = FlaggedShots::default();
+        if far {
+            let d = rng.random_range(FAR_PHOTO_RANGE_M.0..FAR_PHOTO_RANGE_M.1);
+            let b: f64 = rng.random_range(0.0..360.0);
+            let (lat, lon) = offset(e.lat, e.lon, d, b);
+            flagged.far = Some((shots.len(), d));
+            shots.push(Shot {
+                lat,
+                lon,
+                taken_at: t + Duration::minutes(40),
+                direction_deg: direction(b + 180.0),
+            });
+        }
+        if early {
+            let detected = NaiveDate::parse_from_str(&e.first_detected, "%Y-%m-%d")
+                .map_err(|_| format!("event {}: bad first_detected", e.code))?;
+            let days_before = rng.random_range(10..=30u64);
+            let day = detected - Days::new(days_before);
+            let taken = day_start(self.tz, day)
+                .map(|s| s + Duration::minutes(150))
+                .ok_or("no local time for the early photo")?;
+            if let Some(last) = shots.last_mut() {
+                last.taken_at = taken;
+                flagged.early = Some((shots.len() - 1, taken));
             }
         }
+        Ok((shots, flagged))
+    }
+
+    /// Records a confirmed visit with `shots` and notes the flags its photos should raise.
+    fn confirmed(
+        &mut self,
+        e: &FieldEvent,
+        cause: &Option<String>,
+        t: DateTime<Utc>,
+        shots: Vec<Shot>,
+        flagged: FlaggedShots,
+    ) -> Result<(), String> {
+        let notes = cause_note(cause.as_deref());
+        let first_detected = e.first_detected.clone();
+        let r = self.record(Entry {
+            code: Some(e.code.clone()),
+            outcome: OUTCOME_CONFIRMED,
+            cause: cause.clone(),
+            time: Some(t),
+            notes: notes.into(),
+            shots,
+            ..Entry::default()
+        })?;
+        if let Some((i, d)) = flagged.far {
+            let sha256 = r.photo_sha256.get(i).cloned().unwrap_or_default();
+            r.flags.push(ExpectedFlag::PhotoFar {
+                sha256,
+                distance_m: d,
+            });
+        }
+        if let Some((i, taken_at)) = flagged.early {
+            let sha256 = r.photo_sha256.get(i).cloned().unwrap_or_default();
+            r.flags.push(ExpectedFlag::PhotoBeforeDetection {
+                sha256,
+                taken_at,
+                first_detected,
+            });
+        }
+        Ok(())
+    }
+
+    fn false_alarm(
+        &mut self,
+        e: &FieldEvent,
+        reason: &str,
+        photos: usize,
+        t: DateTime<Utc>,
+        rng: &mut ChaCha8Rng,
+    ) -> Result<(), String> {
+        let shots = Self::near_shots((e.lat, e.lon), t, photos, rng);
+        self.record(Entry {
+            code: Some(e.code.clone()),
+            outcome: OUTCOME_FALSE_ALARM,
+            reason: Some(reason.to_owned()),
+            time: Some(t),
+            notes: reason_note(reason).into(),
+            shots,
+            ..Entry::default()
+        })?;
+        Ok(())
+    }
+
+    fn inconclusive(
+        &mut self,
+        e: &FieldEvent,
+        t: DateTime<Utc>,
+        rng: &mut ChaCha8Rng,
+    ) -> Result<(), String> {
+        let shots = Self::near_shots((e.lat, e.lon), t, 1, rng);
+        let (lat, lon) = offset(e.lat, e.lon, rng.random_range(10.0..60.0), 90.0);
+        self.record(Entry {
+            code: Some(e.code.clone()),
+            outcome: OUTCOME_INCONCLUSIVE,
+            time: Some(t),
+            at: Some((lat, lon, 8.0)),
+            notes: "Dense regrowth and standing dead trees; could not tell if recent.".into(),
+            shots,
+            ..Entry::default()
+        })?;
         Ok(())
     }
 
