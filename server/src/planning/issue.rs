@@ -16,7 +16,7 @@ use crate::planning::sheet::{
     render_preview_with_palette,
 };
 use crate::platform::settings::Settings;
-use crate::platform::storage::{BundleItem, BundleRecord, Db, NewBundle};
+use crate::platform::storage::{BundleItem, BundleRecord, Db, NewBundle, Team};
 use geo::Point;
 use groundproof_sync::bundle::{
     BundleEvent, BundleHeader, Checklist, ControlPoint, ExtraEntry, StartPoint, write_bundle,
@@ -50,12 +50,7 @@ pub fn issue_bundle(
     settings: &Settings,
     req: &TripRequest,
 ) -> Result<IssuedBundle> {
-    let team = db.read(|r| r.team_by_name(&req.team))?.ok_or_else(|| {
-        Error::NotFound(format!(
-            "unknown team '{}': add it first (groundproof team add)",
-            req.team
-        ))
-    })?;
+    let team = team_of(db, req)?;
     check_request(req)?;
     let sel: Selection = select(db, settings, req)?;
     let (route, visit_of) = route_stops(&sel, req)?;
@@ -69,45 +64,34 @@ pub fn issue_bundle(
     let (header, key) = new_header(&team.name, req, sel.seed);
     let checklist = Checklist::default_v1();
 
+    let contents = ZipContents {
+        header: &header,
+        events: &bundle_events,
+        controls: &controls,
+        start: &start_point,
+        route_codes: &route_codes,
+        checklist: &checklist,
+        key: &key,
+    };
+
     // Previews and the field sheet.
     let palette = SourcePalette::for_events(&bundle_events);
     let (mut extras, sheet_events) = previews(db, &bundle_events, &palette)?;
-    let sheet = render_field_sheet(&SheetInput {
-        header: header.clone(),
-        reserve: req.zone.clone().unwrap_or_else(|| "selected area".into()),
-        team_label: team.name.clone(),
-        start: start_point.clone(),
-        events: sheet_events,
-        controls: controls.clone(),
-        legs: route_legs(&route, &bundle_events, &controls),
-        checklist: checklist.clone(),
+    let legs = route_legs(&route, &bundle_events, &controls);
+    extras.push(field_sheet(
+        &contents,
+        req,
+        &team.name,
+        sheet_events,
+        legs,
         palette,
-    })
-    .map_err(|e| Error::Internal(format!("field sheet: {e}")))?;
-    extras.push(ExtraEntry {
-        name: "extras/field-sheet.html".into(),
-        bytes: sheet.into_bytes(),
-    });
+    )?);
 
     // The ZIP, durably, before any row.
     let bundle_id = header.bundle_id;
     let file_name = format!("{bundle_id}.zip");
     let path = data_dir.join("bundles").join(&file_name);
-    let (sha, size) = crate::platform::durable::write_durably(&path, |f| {
-        write_bundle(
-            &mut *f,
-            &header,
-            &bundle_events,
-            &controls,
-            &start_point,
-            &route_codes,
-            &checklist,
-            &key,
-            extras,
-        )
-        .map_err(|e| Error::Internal(format!("writing the bundle: {e}")))?;
-        sha256_and_size(f)
-    })?;
+    let (sha, size) = write_zip(&path, &contents, extras)?;
 
     let items = bundle_items(&bundle_events, &sel, &controls);
     let selection = selection_json(req, &sel);
@@ -146,6 +130,16 @@ pub fn issue_bundle(
         route_method: format!("{:?}", route.method),
         route_note: route.note.clone(),
         strata: sel.strata,
+    })
+}
+
+/// The request's team, which must have been added.
+fn team_of(db: &Db, req: &TripRequest) -> Result<Team> {
+    db.read(|r| r.team_by_name(&req.team))?.ok_or_else(|| {
+        Error::NotFound(format!(
+            "unknown team '{}': add it first (groundproof team add)",
+            req.team
+        ))
     })
 }
 
@@ -338,6 +332,67 @@ fn route_legs(
             leg_km: m / 1000.0,
         })
         .collect()
+}
+
+/// What goes into a bundle's ZIP besides its extras.
+struct ZipContents<'a> {
+    header: &'a BundleHeader,
+    events: &'a [BundleEvent],
+    controls: &'a [ControlPoint],
+    start: &'a StartPoint,
+    route_codes: &'a [String],
+    checklist: &'a Checklist,
+    key: &'a [u8; 32],
+}
+
+/// The printable field sheet of the bundle, as a ZIP extra.
+fn field_sheet(
+    c: &ZipContents<'_>,
+    req: &TripRequest,
+    team: &str,
+    sheet_events: Vec<SheetEvent>,
+    legs: Vec<RouteLeg>,
+    palette: SourcePalette,
+) -> Result<ExtraEntry> {
+    let sheet = render_field_sheet(&SheetInput {
+        header: c.header.clone(),
+        reserve: req.zone.clone().unwrap_or_else(|| "selected area".into()),
+        team_label: team.to_owned(),
+        start: c.start.clone(),
+        events: sheet_events,
+        controls: c.controls.to_vec(),
+        legs,
+        checklist: c.checklist.clone(),
+        palette,
+    })
+    .map_err(|e| Error::Internal(format!("field sheet: {e}")))?;
+    Ok(ExtraEntry {
+        name: "extras/field-sheet.html".into(),
+        bytes: sheet.into_bytes(),
+    })
+}
+
+/// Writes the bundle's ZIP durably at `path`; returns its SHA-256 and size.
+fn write_zip(
+    path: &std::path::Path,
+    c: &ZipContents<'_>,
+    extras: Vec<ExtraEntry>,
+) -> Result<(String, u64)> {
+    crate::platform::durable::write_durably(path, |f| {
+        write_bundle(
+            &mut *f,
+            c.header,
+            c.events,
+            c.controls,
+            c.start,
+            c.route_codes,
+            c.checklist,
+            c.key,
+            extras,
+        )
+        .map_err(|e| Error::Internal(format!("writing the bundle: {e}")))?;
+        sha256_and_size(f)
+    })
 }
 
 /// SHA-256 (lowercase hex) and size of a file just written, read from its start.

@@ -44,6 +44,30 @@ pub struct ImportOutcome {
     pub events_merged: usize,
 }
 
+impl ImportOutcome {
+    /// The outcome of reading `file` before anything is stored: rows read and
+    /// skipped, nothing imported yet.
+    fn empty(file: &str, source: &str, parsed: &Parsed) -> Self {
+        ImportOutcome {
+            file: file.to_string(),
+            source: source.to_string(),
+            rows_read: parsed.rows_read,
+            imported: 0,
+            duplicates: 0,
+            skipped: parsed.errors.len(),
+            skipped_rows: parsed
+                .errors
+                .iter()
+                .take(MAX_LISTED_ERRORS)
+                .cloned()
+                .collect(),
+            events_created: 0,
+            events_grown: 0,
+            events_merged: 0,
+        }
+    }
+}
+
 /// Parse, validate and store an alert file; events follow in the same
 /// transaction.
 pub fn import_alerts(
@@ -63,29 +87,12 @@ pub fn import_alerts(
     let parsed = parse_alerts(req.file_name, req.bytes, req.format, &req.read);
     let parse_ms = t0.elapsed().as_millis();
     reject_unless_importable(req, &parsed)?;
-    let skipped = parsed.errors.len();
     db.write(|tx| {
         let source = tx
             .reader()
             .source_by_name(req.source.as_str())?
             .ok_or_else(unknown)?;
-        let mut outcome = ImportOutcome {
-            file: req.file_name.to_string(),
-            source: source.name.clone(),
-            rows_read: parsed.rows_read,
-            imported: 0,
-            duplicates: 0,
-            skipped,
-            skipped_rows: parsed
-                .errors
-                .iter()
-                .take(MAX_LISTED_ERRORS)
-                .cloned()
-                .collect(),
-            events_created: 0,
-            events_grown: 0,
-            events_merged: 0,
-        };
+        let mut outcome = ImportOutcome::empty(req.file_name, &source.name, &parsed);
         let nearby = stored_nearby(tx, &source, &parsed.alerts, cfg)?;
         let fresh = fresh_alerts(&nearby, source.id, &parsed.alerts);
         outcome.duplicates = parsed.alerts.len() - fresh.len();
