@@ -320,29 +320,7 @@ pub fn run() -> Result<ExitCode> {
             println!("data directory: {}", dir.display());
             serve_demo(db, settings, &dir, &bind, summary, no_serve)?;
         }
-        Command::Sources { command } => match command {
-            SourcesCommand::Add {
-                name,
-                pixel_size,
-                revisit_days,
-                data,
-            } => {
-                let name = SourceName::parse(&name).map_err(Error::Invalid)?;
-                groundproof::alerts::events::validate_source(pixel_size, revisit_days)?;
-                let (db, _) = open(&data.data)?;
-                let s = db.write(|tx| tx.add_source(name.as_str(), pixel_size, revisit_days))?;
-                println!(
-                    "source '{}' registered: {} m pixels, {} day revisit",
-                    s.name, s.pixel_size_m, s.revisit_days
-                );
-            }
-            SourcesCommand::List { data } => {
-                let (db, _) = open(&data.data)?;
-                for s in db.read(|r| r.sources())? {
-                    println!("{}\t{} m\t{} days", s.name, s.pixel_size_m, s.revisit_days);
-                }
-            }
-        },
+        Command::Sources { command } => sources(command)?,
         Command::Import { command } => match command {
             ImportCommand::Alerts(a) => return import_alert_file(a),
             ImportCommand::Zones { file, data } => {
@@ -357,127 +335,184 @@ pub fn run() -> Result<ExitCode> {
                 );
             }
         },
-        Command::Events { command } => match command {
-            EventsCommand::List {
-                zone,
-                source,
-                min_area_ha,
-                limit,
-                data,
-            } => {
-                let (db, settings) = open(&data.data)?;
-                let filter = EventFilter {
-                    zone: zone
-                        .map(|z| ZoneName::parse(&z).map(|n| n.to_string()))
-                        .transpose()
-                        .map_err(Error::Invalid)?,
-                    source: source
-                        .map(|s| SourceName::parse(&s).map(|n| n.to_string()))
-                        .transpose()
-                        .map_err(Error::Invalid)?,
-                    min_area_ha,
-                    limit,
-                    ..Default::default()
-                };
-                let events = ranked_events(&db, &filter, &settings.priority, Day::today())?;
-                println!(
-                    "{}",
-                    serde_json::to_string_pretty(&groundproof::alerts::events::events_collection(
-                        &events
-                    ))?
-                );
-            }
-        },
-        Command::Team { command } => match command {
-            TeamCommand::Add { name, data } => {
-                let name = TeamName::parse(&name).map_err(Error::Invalid)?;
-                let (db, _) = open(&data.data)?;
-                let t = db.write(|tx| tx.add_team(name.as_str()))?;
-                println!("team '{}' added", t.name);
-            }
-            TeamCommand::List { data } => {
-                let (db, _) = open(&data.data)?;
-                for t in db.read(|r| r.teams())? {
-                    println!("{}", t.name);
-                }
-            }
-        },
-        Command::User { command } => match command {
-            UserCommand::Add { name, role, data } => {
-                let role: groundproof::platform::auth::Role = role.parse()?;
-                let password = match std::env::var("GROUNDPROOF_PASSWORD") {
-                    Ok(p) => p,
-                    Err(_) => {
-                        eprint!(
-                            "password for {name} (at least {} characters): ",
-                            groundproof::platform::auth::MIN_PASSWORD_CHARS
-                        );
-                        let mut line = String::new();
-                        std::io::stdin().read_line(&mut line)?;
-                        line.trim_end_matches(['\r', '\n']).to_string()
-                    }
-                };
-                let (db, _) = open(&data.data)?;
-                let u = groundproof::platform::auth::create_user(
-                    &db,
-                    &name,
-                    role,
-                    &password,
-                    groundproof::platform::auth::now_unix(),
-                )?;
-                println!("user '{}' added with role {}", u.name, role);
-            }
-        },
-        Command::Token { command } => match command {
-            TokenCommand::Create {
-                role,
-                team,
-                label,
-                data,
-            } => {
-                let (db, _) = open(&data.data)?;
-                let now = groundproof::platform::auth::now_unix();
-                let token = match (role, team) {
-                    (Some(r), None) => {
-                        groundproof::platform::auth::issue_api_token(&db, r.parse()?, &label, now)?
-                            .1
-                    }
-                    (None, Some(t)) => {
-                        if db.read(|r| r.team_by_name(&t))?.is_none() {
-                            bail!("unknown team '{t}': add it first (groundproof team add)");
-                        }
-                        groundproof::platform::auth::issue_team_token(&db, &t, now)?.1
-                    }
-                    _ => bail!("give --role R for an API token or --team T for a team token"),
-                };
-                println!("{token}");
-                eprintln!("keep it safe: it is shown only this once");
-            }
-        },
-        Command::Bundle { command } => match command {
-            BundleCommand::Issue(a) => issue(*a)?,
-            BundleCommand::List { data } => {
-                let (db, _) = open(&data.data)?;
-                for b in db.read(|r| r.bundles())? {
-                    let state = if b.cancelled_at.is_some() {
-                        "cancelled"
-                    } else {
-                        "issued"
-                    };
-                    println!(
-                        "{}\t{}\t{}\t{} events, {} controls\t{}\t{}",
-                        b.id, b.team, b.mode, b.events, b.controls, b.issued_at, state
-                    );
-                }
-            }
-            BundleCommand::Cancel { id, data } => {
-                let (db, _) = open(&data.data)?;
-                groundproof::planning::cancel_bundle(&db, id.trim())?;
-                println!("bundle {id} cancelled; its upload key is revoked");
-            }
-        },
+        Command::Events { command } => events(command)?,
+        Command::Team { command } => team(command)?,
+        Command::User { command } => user(command)?,
+        Command::Token { command } => token(command)?,
+        Command::Bundle { command } => bundle(command)?,
     }
     Ok(ExitCode::SUCCESS)
+}
+
+/// `groundproof sources add|list`.
+fn sources(command: SourcesCommand) -> Result<()> {
+    match command {
+        SourcesCommand::Add {
+            name,
+            pixel_size,
+            revisit_days,
+            data,
+        } => {
+            let name = SourceName::parse(&name).map_err(Error::Invalid)?;
+            groundproof::alerts::events::validate_source(pixel_size, revisit_days)?;
+            let (db, _) = open(&data.data)?;
+            let s = db.write(|tx| tx.add_source(name.as_str(), pixel_size, revisit_days))?;
+            println!(
+                "source '{}' registered: {} m pixels, {} day revisit",
+                s.name, s.pixel_size_m, s.revisit_days
+            );
+        }
+        SourcesCommand::List { data } => {
+            let (db, _) = open(&data.data)?;
+            for s in db.read(|r| r.sources())? {
+                println!("{}\t{} m\t{} days", s.name, s.pixel_size_m, s.revisit_days);
+            }
+        }
+    }
+    Ok(())
+}
+
+/// `groundproof events list`: the ranked events as GeoJSON.
+fn events(command: EventsCommand) -> Result<()> {
+    match command {
+        EventsCommand::List {
+            zone,
+            source,
+            min_area_ha,
+            limit,
+            data,
+        } => {
+            let (db, settings) = open(&data.data)?;
+            let filter = EventFilter {
+                zone: zone
+                    .map(|z| ZoneName::parse(&z).map(|n| n.to_string()))
+                    .transpose()
+                    .map_err(Error::Invalid)?,
+                source: source
+                    .map(|s| SourceName::parse(&s).map(|n| n.to_string()))
+                    .transpose()
+                    .map_err(Error::Invalid)?,
+                min_area_ha,
+                limit,
+                ..Default::default()
+            };
+            let events = ranked_events(&db, &filter, &settings.priority, Day::today())?;
+            println!(
+                "{}",
+                serde_json::to_string_pretty(&groundproof::alerts::events::events_collection(
+                    &events
+                ))?
+            );
+        }
+    }
+    Ok(())
+}
+
+/// `groundproof team add|list`.
+fn team(command: TeamCommand) -> Result<()> {
+    match command {
+        TeamCommand::Add { name, data } => {
+            let name = TeamName::parse(&name).map_err(Error::Invalid)?;
+            let (db, _) = open(&data.data)?;
+            let t = db.write(|tx| tx.add_team(name.as_str()))?;
+            println!("team '{}' added", t.name);
+        }
+        TeamCommand::List { data } => {
+            let (db, _) = open(&data.data)?;
+            for t in db.read(|r| r.teams())? {
+                println!("{}", t.name);
+            }
+        }
+    }
+    Ok(())
+}
+
+/// `groundproof user add`, with the password from `GROUNDPROOF_PASSWORD` or asked for.
+fn user(command: UserCommand) -> Result<()> {
+    match command {
+        UserCommand::Add { name, role, data } => {
+            let role: groundproof::platform::auth::Role = role.parse()?;
+            let password = match std::env::var("GROUNDPROOF_PASSWORD") {
+                Ok(p) => p,
+                Err(_) => {
+                    eprint!(
+                        "password for {name} (at least {} characters): ",
+                        groundproof::platform::auth::MIN_PASSWORD_CHARS
+                    );
+                    let mut line = String::new();
+                    std::io::stdin().read_line(&mut line)?;
+                    line.trim_end_matches(['\r', '\n']).to_string()
+                }
+            };
+            let (db, _) = open(&data.data)?;
+            let u = groundproof::platform::auth::create_user(
+                &db,
+                &name,
+                role,
+                &password,
+                groundproof::platform::auth::now_unix(),
+            )?;
+            println!("user '{}' added with role {}", u.name, role);
+        }
+    }
+    Ok(())
+}
+
+/// `groundproof token create`: an API token for a role or a team token.
+fn token(command: TokenCommand) -> Result<()> {
+    match command {
+        TokenCommand::Create {
+            role,
+            team,
+            label,
+            data,
+        } => {
+            let (db, _) = open(&data.data)?;
+            let now = groundproof::platform::auth::now_unix();
+            let token = match (role, team) {
+                (Some(r), None) => {
+                    groundproof::platform::auth::issue_api_token(&db, r.parse()?, &label, now)?.1
+                }
+                (None, Some(t)) => {
+                    if db.read(|r| r.team_by_name(&t))?.is_none() {
+                        bail!("unknown team '{t}': add it first (groundproof team add)");
+                    }
+                    groundproof::platform::auth::issue_team_token(&db, &t, now)?.1
+                }
+                _ => bail!("give --role R for an API token or --team T for a team token"),
+            };
+            println!("{token}");
+            eprintln!("keep it safe: it is shown only this once");
+        }
+    }
+    Ok(())
+}
+
+/// `groundproof bundle issue|list|cancel`.
+fn bundle(command: BundleCommand) -> Result<()> {
+    match command {
+        BundleCommand::Issue(a) => issue(*a)?,
+        BundleCommand::List { data } => {
+            let (db, _) = open(&data.data)?;
+            for b in db.read(|r| r.bundles())? {
+                let state = if b.cancelled_at.is_some() {
+                    "cancelled"
+                } else {
+                    "issued"
+                };
+                println!(
+                    "{}\t{}\t{}\t{} events, {} controls\t{}\t{}",
+                    b.id, b.team, b.mode, b.events, b.controls, b.issued_at, state
+                );
+            }
+        }
+        BundleCommand::Cancel { id, data } => {
+            let (db, _) = open(&data.data)?;
+            groundproof::planning::cancel_bundle(&db, id.trim())?;
+            println!("bundle {id} cancelled; its upload key is revoked");
+        }
+    }
+    Ok(())
 }
 
 fn issue(a: IssueArgs) -> Result<()> {

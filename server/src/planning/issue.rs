@@ -11,12 +11,13 @@ use crate::domain::{BundleMode, TargetKind};
 use crate::error::{Error, Result};
 use crate::planning::coords::LatLon;
 use crate::planning::plan_route;
+use crate::planning::route::Route;
 use crate::planning::sheet::{
     PreviewPixel, RouteLeg, SheetEvent, SheetInput, SourcePalette, render_field_sheet,
     render_preview_with_palette,
 };
 use crate::platform::settings::Settings;
-use crate::platform::storage::{BundleItem, BundleRecord, Db, NewBundle};
+use crate::platform::storage::{BundleItem, BundleRecord, Db, NewBundle, Team};
 use geo::Point;
 use groundproof_sync::bundle::{
     BundleEvent, BundleHeader, Checklist, ControlPoint, ExtraEntry, StartPoint, write_bundle,
@@ -50,12 +51,101 @@ pub fn issue_bundle(
     settings: &Settings,
     req: &TripRequest,
 ) -> Result<IssuedBundle> {
-    let team = db.read(|r| r.team_by_name(&req.team))?.ok_or_else(|| {
+    let team = team_of(db, req)?;
+    check_request(req)?;
+    let sel: Selection = select(db, settings, req)?;
+    let (route, visit_of) = route_stops(&sel, req)?;
+    let bundle_events = bundle_events(&sel, &visit_of)?;
+    let controls = control_points(&sel, &visit_of);
+    let start_point = StartPoint {
+        name: req.start_name.clone(),
+        point: Point::new(req.start.lon(), req.start.lat()),
+    };
+    let route_codes = route_codes(&bundle_events, &controls);
+    let (header, key) = new_header(&team.name, req, sel.seed);
+    let checklist = Checklist::default_v1();
+
+    let contents = ZipContents {
+        header: &header,
+        events: &bundle_events,
+        controls: &controls,
+        start: &start_point,
+        route_codes: &route_codes,
+        checklist: &checklist,
+        key: &key,
+    };
+
+    // Previews and the field sheet.
+    let palette = SourcePalette::for_events(&bundle_events);
+    let (mut extras, sheet_events) = previews(db, &bundle_events, &palette)?;
+    let legs = route_legs(&route, &bundle_events, &controls);
+    extras.push(field_sheet(
+        &contents,
+        req,
+        &team.name,
+        sheet_events,
+        legs,
+        palette,
+    )?);
+
+    // The ZIP, durably, before any row.
+    let bundle_id = header.bundle_id;
+    let file_name = format!("{bundle_id}.zip");
+    let path = data_dir.join("bundles").join(&file_name);
+    let (sha, size) = write_zip(&path, &contents, extras)?;
+
+    let items = bundle_items(&bundle_events, &sel, &controls);
+    let selection = selection_json(req, &sel);
+    let id = bundle_id.to_string();
+    let (issued, due, expires) = (
+        header.issued_at.to_rfc3339(),
+        header.due_at.to_rfc3339(),
+        header.expires_at.to_rfc3339(),
+    );
+    let new = NewBundle {
+        id: &id,
+        team_id: team.id,
+        mode: req.mode.as_str(),
+        issued_at: &issued,
+        due_at: &due,
+        expires_at: &expires,
+        seed: sel.seed.map(|s| s as i64),
+        margin: (req.mode == BundleMode::Assessment).then_some(req.margin),
+        selection: &selection,
+        start: (req.start.lon(), req.start.lat()),
+        route_m: route.total_m,
+        upload_key_id: &header.upload_key_id,
+        upload_key: &key,
+        file_name: &file_name,
+        file_sha256: &sha,
+        file_size: size,
+        items: &items,
+    };
+    let record = record_bundle(db, &new, &path)?;
+    tracing::info!(bundle = %id, team = %team.name, events = bundle_events.len(), controls = controls.len(), bytes = size, "bundle issued");
+    Ok(IssuedBundle {
+        bundle: record,
+        path,
+        route_m: route.total_m,
+        walking_hours: route.walking_hours,
+        route_method: format!("{:?}", route.method),
+        route_note: route.note.clone(),
+        strata: sel.strata,
+    })
+}
+
+/// The request's team, which must have been added.
+fn team_of(db: &Db, req: &TripRequest) -> Result<Team> {
+    db.read(|r| r.team_by_name(&req.team))?.ok_or_else(|| {
         Error::NotFound(format!(
             "unknown team '{}': add it first (groundproof team add)",
             req.team
         ))
-    })?;
+    })
+}
+
+/// The walking speed and the due and expiry days of a request, in range.
+fn check_request(req: &TripRequest) -> Result<()> {
     if !(req.walking_kmh.is_finite() && req.walking_kmh > 0.0 && req.walking_kmh <= 20.0) {
         return Err(Error::Invalid(format!(
             "walking speed {} km/h: expected (0, 20]",
@@ -67,9 +157,12 @@ pub fn issue_bundle(
             "due must be 1-365 days and expiry between due and 730 days".into(),
         ));
     }
-    let sel: Selection = select(db, settings, req)?;
+    Ok(())
+}
 
-    // Route over events then controls, from the start.
+/// The route over the chosen events then the control points, from the start,
+/// and each stop's place in it (1-based, indexed like the stops).
+fn route_stops(sel: &Selection, req: &TripRequest) -> Result<(Route, Vec<u32>)> {
     let mut stops: Vec<LatLon> = sel
         .events
         .iter()
@@ -88,12 +181,11 @@ pub fn issue_bundle(
     for (k, &i) in route.order.iter().enumerate() {
         visit_of[i] = k as u32 + 1;
     }
+    Ok((route, visit_of))
+}
 
-    let names: HashMap<i64, (String, f64)> = db
-        .read(|r| r.sources())?
-        .into_iter()
-        .map(|s| (s.id, (s.name, s.pixel_size_m)))
-        .collect();
+/// The chosen events as the bundle carries them; fails when two share a short code.
+fn bundle_events(sel: &Selection, visit_of: &[u32]) -> Result<Vec<BundleEvent>> {
     let mut bundle_events = Vec::new();
     for (i, c) in sel.events.iter().enumerate() {
         let a = &c.event.record.attrs;
@@ -128,8 +220,13 @@ pub fn issue_bundle(
             "two events share a short code in this bundle".into(),
         ));
     }
-    let controls: Vec<ControlPoint> = sel
-        .controls
+    Ok(bundle_events)
+}
+
+/// The chosen control points as the bundle carries them (they follow the events
+/// in `visit_of`).
+fn control_points(sel: &Selection, visit_of: &[u32]) -> Vec<ControlPoint> {
+    sel.controls
         .iter()
         .enumerate()
         .map(|(k, p)| ControlPoint {
@@ -138,19 +235,23 @@ pub fn issue_bundle(
             visit_order: visit_of[sel.events.len() + k],
             inclusion_probability: None,
         })
-        .collect();
-    let start_point = StartPoint {
-        name: req.start_name.clone(),
-        point: Point::new(req.start.lon(), req.start.lat()),
-    };
-    let mut order: Vec<(u32, String)> = bundle_events
+        .collect()
+}
+
+/// Every stop's code in visiting order.
+fn route_codes(events: &[BundleEvent], controls: &[ControlPoint]) -> Vec<String> {
+    let mut order: Vec<(u32, String)> = events
         .iter()
         .map(|e| (e.visit_order, e.code.clone()))
         .chain(controls.iter().map(|c| (c.visit_order, c.code.clone())))
         .collect();
     order.sort();
-    let route_codes: Vec<String> = order.iter().map(|(_, c)| c.clone()).collect();
+    order.iter().map(|(_, c)| c.clone()).collect()
+}
 
+/// A new bundle's header (a fresh id, issue, due and expiry times) and its
+/// upload key (32 random bytes).
+fn new_header(team: &str, req: &TripRequest, seed: Option<u64>) -> (BundleHeader, [u8; 32]) {
     let issued_at = req.issued_at.unwrap_or_else(chrono::Utc::now);
     let bundle_id = uuid::Uuid::new_v4();
     let mut key = [0u8; 32];
@@ -158,21 +259,32 @@ pub fn issue_bundle(
     let key_id = format!("k-{}", &bundle_id.simple().to_string()[..12]);
     let header = BundleHeader {
         bundle_id,
-        team: team.name.clone(),
+        team: team.to_owned(),
         mode: req.mode.as_str().to_string(),
         issued_at,
         due_at: issued_at + chrono::Duration::days(req.due_days),
         expires_at: issued_at + chrono::Duration::days(req.expires_days),
-        upload_key_id: key_id.clone(),
-        seed: sel.seed,
+        upload_key_id: key_id,
+        seed,
     };
-    let checklist = Checklist::default_v1();
+    (header, key)
+}
 
-    // Previews and the field sheet.
-    let palette = SourcePalette::for_events(&bundle_events);
+/// Each event's preview image (its alert pixels over its footprint): as a ZIP
+/// extra, and with the event for the field sheet.
+fn previews(
+    db: &Db,
+    bundle_events: &[BundleEvent],
+    palette: &SourcePalette,
+) -> Result<(Vec<ExtraEntry>, Vec<SheetEvent>)> {
+    let names: HashMap<i64, (String, f64)> = db
+        .read(|r| r.sources())?
+        .into_iter()
+        .map(|s| (s.id, (s.name, s.pixel_size_m)))
+        .collect();
     let mut extras = Vec::new();
     let mut sheet_events = Vec::new();
-    for e in &bundle_events {
+    for e in bundle_events {
         let pixels: Vec<PreviewPixel> = db
             .read(|r| r.alerts_of_events(&[e.event_id]))?
             .iter()
@@ -186,7 +298,7 @@ pub fn issue_bundle(
                 }
             })
             .collect();
-        let png = render_preview_with_palette(e, &pixels, PREVIEW_PX, &palette)
+        let png = render_preview_with_palette(e, &pixels, PREVIEW_PX, palette)
             .map_err(|err| Error::Internal(format!("preview of {}: {err}", e.code)))?;
         extras.push(ExtraEntry {
             name: format!("extras/preview-{}.png", e.code.to_ascii_lowercase()),
@@ -197,7 +309,16 @@ pub fn issue_bundle(
             preview_png: png,
         });
     }
-    let legs: Vec<RouteLeg> = route
+    Ok((extras, sheet_events))
+}
+
+/// The legs of the route for the field sheet, numbered from 1.
+fn route_legs(
+    route: &Route,
+    bundle_events: &[BundleEvent],
+    controls: &[ControlPoint],
+) -> Vec<RouteLeg> {
+    route
         .order
         .iter()
         .zip(&route.legs_m)
@@ -211,59 +332,97 @@ pub fn issue_bundle(
             },
             leg_km: m / 1000.0,
         })
-        .collect();
+        .collect()
+}
+
+/// What goes into a bundle's ZIP besides its extras.
+struct ZipContents<'a> {
+    header: &'a BundleHeader,
+    events: &'a [BundleEvent],
+    controls: &'a [ControlPoint],
+    start: &'a StartPoint,
+    route_codes: &'a [String],
+    checklist: &'a Checklist,
+    key: &'a [u8; 32],
+}
+
+/// The printable field sheet of the bundle, as a ZIP extra.
+fn field_sheet(
+    c: &ZipContents<'_>,
+    req: &TripRequest,
+    team: &str,
+    sheet_events: Vec<SheetEvent>,
+    legs: Vec<RouteLeg>,
+    palette: SourcePalette,
+) -> Result<ExtraEntry> {
     let sheet = render_field_sheet(&SheetInput {
-        header: header.clone(),
+        header: c.header.clone(),
         reserve: req.zone.clone().unwrap_or_else(|| "selected area".into()),
-        team_label: team.name.clone(),
-        start: start_point.clone(),
+        team_label: team.to_owned(),
+        start: c.start.clone(),
         events: sheet_events,
-        controls: controls.clone(),
+        controls: c.controls.to_vec(),
         legs,
-        checklist: checklist.clone(),
+        checklist: c.checklist.clone(),
         palette,
     })
     .map_err(|e| Error::Internal(format!("field sheet: {e}")))?;
-    extras.push(ExtraEntry {
+    Ok(ExtraEntry {
         name: "extras/field-sheet.html".into(),
         bytes: sheet.into_bytes(),
-    });
+    })
+}
 
-    // The ZIP, durably, before any row.
-    let file_name = format!("{bundle_id}.zip");
-    let path = data_dir.join("bundles").join(&file_name);
-    let (sha, size) = crate::platform::durable::write_durably(&path, |f| {
+/// Writes the bundle's ZIP durably at `path`; returns its SHA-256 and size.
+fn write_zip(
+    path: &std::path::Path,
+    c: &ZipContents<'_>,
+    extras: Vec<ExtraEntry>,
+) -> Result<(String, u64)> {
+    crate::platform::durable::write_durably(path, |f| {
         write_bundle(
             &mut *f,
-            &header,
-            &bundle_events,
-            &controls,
-            &start_point,
-            &route_codes,
-            &checklist,
-            &key,
+            c.header,
+            c.events,
+            c.controls,
+            c.start,
+            c.route_codes,
+            c.checklist,
+            c.key,
             extras,
         )
         .map_err(|e| Error::Internal(format!("writing the bundle: {e}")))?;
-        f.rewind()
-            .map_err(|e| Error::io("rereading the bundle", e))?;
-        let mut h = Sha256::new();
-        let mut buf = vec![0u8; 1 << 16];
-        let mut size = 0u64;
-        loop {
-            let n = f
-                .read(&mut buf)
-                .map_err(|e| Error::io("rereading the bundle", e))?;
-            if n == 0 {
-                break;
-            }
-            size += n as u64;
-            h.update(&buf[..n]);
-        }
-        Ok((hex::encode(h.finalize()), size))
-    })?;
+        sha256_and_size(f)
+    })
+}
 
-    let items: Vec<BundleItem> = bundle_events
+/// SHA-256 (lowercase hex) and size of a file just written, read from its start.
+fn sha256_and_size(f: &mut std::fs::File) -> Result<(String, u64)> {
+    f.rewind()
+        .map_err(|e| Error::io("rereading the bundle", e))?;
+    let mut h = Sha256::new();
+    let mut buf = vec![0u8; 1 << 16];
+    let mut size = 0u64;
+    loop {
+        let n = f
+            .read(&mut buf)
+            .map_err(|e| Error::io("rereading the bundle", e))?;
+        if n == 0 {
+            break;
+        }
+        size += n as u64;
+        h.update(&buf[..n]);
+    }
+    Ok((hex::encode(h.finalize()), size))
+}
+
+/// The bundle's items as stored: events, then control points.
+fn bundle_items(
+    bundle_events: &[BundleEvent],
+    sel: &Selection,
+    controls: &[ControlPoint],
+) -> Vec<BundleItem> {
+    bundle_events
         .iter()
         .zip(&sel.events)
         .map(|(e, c)| BundleItem {
@@ -288,61 +447,36 @@ pub fn issue_bundle(
             stratum_population: None,
             inclusion_probability: None,
         }))
-        .collect();
-    let selection = serde_json::json!({
+        .collect()
+}
+
+/// What the request asked for and the strata chosen, as the JSON kept with the bundle.
+fn selection_json(req: &TripRequest, sel: &Selection) -> String {
+    serde_json::json!({
         "zone": req.zone, "from": req.from.map(|d| d.to_string()), "to": req.to.map(|d| d.to_string()),
         "source": req.source, "confidence": req.confidence, "min_area_ha": req.min_area_ha, "max": req.max,
         "extent": req.extent.is_some(), "controls": req.controls, "control_min_distance_m": req.control_min_distance_m,
         "walking_kmh": req.walking_kmh, "as_of": req.as_of.to_string(), "strata": sel.strata,
     })
-    .to_string();
-    let id = bundle_id.to_string();
-    let (issued, due, expires) = (
-        header.issued_at.to_rfc3339(),
-        header.due_at.to_rfc3339(),
-        header.expires_at.to_rfc3339(),
-    );
+    .to_string()
+}
+
+/// Records the bundle in one transaction; when that fails, its ZIP at `path` is
+/// removed again.
+fn record_bundle(db: &Db, new: &NewBundle<'_>, path: &std::path::Path) -> Result<BundleRecord> {
     let record = db.write(|tx| {
-        tx.insert_bundle(&NewBundle {
-            id: &id,
-            team_id: team.id,
-            mode: req.mode.as_str(),
-            issued_at: &issued,
-            due_at: &due,
-            expires_at: &expires,
-            seed: sel.seed.map(|s| s as i64),
-            margin: (req.mode == BundleMode::Assessment).then_some(req.margin),
-            selection: &selection,
-            start: (req.start.lon(), req.start.lat()),
-            route_m: route.total_m,
-            upload_key_id: &key_id,
-            upload_key: &key,
-            file_name: &file_name,
-            file_sha256: &sha,
-            file_size: size,
-            items: &items,
-        })?;
+        tx.insert_bundle(new)?;
         tx.reader()
-            .bundle(&id)?
+            .bundle(new.id)?
             .ok_or_else(|| Error::Internal("bundle vanished".into()))
     });
-    let record = match record {
-        Ok(r) => r,
+    match record {
+        Ok(r) => Ok(r),
         Err(e) => {
-            let _ = std::fs::remove_file(&path);
-            return Err(e);
+            let _ = std::fs::remove_file(path);
+            Err(e)
         }
-    };
-    tracing::info!(bundle = %id, team = %team.name, events = bundle_events.len(), controls = controls.len(), bytes = size, "bundle issued");
-    Ok(IssuedBundle {
-        bundle: record,
-        path,
-        route_m: route.total_m,
-        walking_hours: route.walking_hours,
-        route_method: format!("{:?}", route.method),
-        route_note: route.note.clone(),
-        strata: sel.strata,
-    })
+    }
 }
 
 /// Cancel a bundle; its upload key is refused from now on.

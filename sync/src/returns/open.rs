@@ -131,6 +131,34 @@ pub fn open_return(
 ) -> Result<OpenedReturn, SyncError> {
     let path = path.as_ref();
     let mut zip = open_zip(path, limits)?;
+    check_required_entries(&zip)?;
+
+    // 1. Signature, before anything in the manifest is believed.
+    let (signature, manifest_bytes, value) = verify_signature(&mut zip, &lookup_key, limits)?;
+
+    // 2. The manifest: format and version first, then the listing.
+    let manifest = read_manifest(value, &signature)?;
+    check_listing(&manifest, zip.names(), limits)?;
+
+    // 3. Every entry's size and checksum; keep reports.json.
+    let reports_bytes = check_entries(&mut zip, &manifest, limits)?;
+
+    // 4. Reports, one by one.
+    let (reports, rejected, index_of) = take_reports(&reports_bytes, &manifest, limits)?;
+    Ok(OpenedReturn {
+        manifest,
+        manifest_bytes,
+        signature,
+        reports,
+        rejected,
+        index: index_of,
+        path: path.to_owned(),
+        limits: *limits,
+    })
+}
+
+/// The manifest, the signature and the reports are all there.
+fn check_required_entries(zip: &SafeZip) -> Result<(), SyncError> {
     for required in [RETURN_MANIFEST, SIGNATURE, REPORTS] {
         if !zip.names().contains(required) {
             return Err(SyncError::MissingEntry {
@@ -139,7 +167,17 @@ pub fn open_return(
         }
     }
 
-    // 1. Signature, before anything in the manifest is believed.
+    Ok(())
+}
+
+/// Reads the signature and the manifest and checks the manifest's signature with
+/// the upload key of the bundle it names. Returns the signature, the manifest's
+/// bytes and the manifest as JSON (not yet trusted beyond its signature).
+fn verify_signature(
+    zip: &mut SafeZip,
+    lookup_key: &impl Fn(&Uuid, &str) -> Option<[u8; 32]>,
+    limits: &ReturnLimits,
+) -> Result<(Signature, Vec<u8>, serde_json::Value), SyncError> {
     let sig_bytes = zip.read_to_vec(SIGNATURE, limits.json(limits.max_signature_bytes))?;
     let signature: Signature =
         serde_json::from_slice(&sig_bytes).map_err(|e| SyncError::BadSignature {
@@ -160,8 +198,16 @@ pub fn open_return(
         key_id: signature.key_id.clone(),
     })?;
     verify_manifest(&signature, &key, &manifest_bytes)?;
+    Ok((signature, manifest_bytes, value))
+}
 
-    // 2. The manifest: format and version first, then the listing.
+/// The signed manifest: its format and version first, then its fields; its
+/// upload key id must be the signature's.
+fn read_manifest(
+    value: serde_json::Value,
+    signature: &Signature,
+) -> Result<ReturnManifest, SyncError> {
+    let bad_manifest = |r: String| SyncError::invalid_entry(RETURN_MANIFEST, r);
     let format = value
         .get("format")
         .and_then(serde_json::Value::as_str)
@@ -190,9 +236,16 @@ pub fn open_return(
             manifest.upload_key_id, signature.key_id
         )));
     }
-    check_listing(&manifest, zip.names(), limits)?;
+    Ok(manifest)
+}
 
-    // 3. Every entry's size and checksum; keep reports.json.
+/// Reads every listed entry within its limit and checks its size and checksum;
+/// returns the bytes of `reports.json`.
+fn check_entries(
+    zip: &mut SafeZip,
+    manifest: &ReturnManifest,
+    limits: &ReturnLimits,
+) -> Result<Vec<u8>, SyncError> {
     let mut reports_bytes = Vec::new();
     for listed in &manifest.entries {
         let mut hasher = Sha256::new();
@@ -211,9 +264,18 @@ pub fn open_return(
         })?;
         check_digest(&listed.name, listed.size, &listed.sha256, size, hasher)?;
     }
+    Ok(reports_bytes)
+}
 
-    // 4. Reports, one by one.
-    let items: Vec<serde_json::Value> = serde_json::from_slice(&reports_bytes)
+/// The reports of `reports.json`, each checked on its own: the good ones (with
+/// their positions) and the rejected ones with a reason.
+fn take_reports(
+    reports_bytes: &[u8],
+    manifest: &ReturnManifest,
+    limits: &ReturnLimits,
+) -> Result<TakenReports, SyncError> {
+    let bad_manifest = |r: String| SyncError::invalid_entry(RETURN_MANIFEST, r);
+    let items: Vec<serde_json::Value> = serde_json::from_slice(reports_bytes)
         .map_err(|e| SyncError::invalid_entry(REPORTS, format!("not a JSON array: {e}")))?;
     if items.len() > limits.max_reports {
         return Err(SyncError::invalid_entry(
@@ -245,7 +307,7 @@ pub fn open_return(
         let verdict = serde_json::from_value::<Report>(item)
             .map_err(|e| format!("not a valid report: {e}"))
             .and_then(|r| {
-                check_one(&r, &manifest, &photos, &seen)?;
+                check_one(&r, manifest, &photos, &seen)?;
                 Ok(r)
             });
         match verdict {
@@ -261,17 +323,11 @@ pub fn open_return(
             }),
         }
     }
-    Ok(OpenedReturn {
-        manifest,
-        manifest_bytes,
-        signature,
-        reports,
-        rejected,
-        index: index_of,
-        path: path.to_owned(),
-        limits: *limits,
-    })
+    Ok((reports, rejected, index_of))
 }
+
+/// The accepted reports, the rejected ones, and each accepted report's position.
+type TakenReports = (Vec<Report>, Vec<RejectedReport>, BTreeMap<Uuid, usize>);
 
 fn check_one(
     r: &Report,

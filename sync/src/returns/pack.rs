@@ -8,8 +8,9 @@
 use std::collections::{BTreeMap, BTreeSet};
 use std::fs::File;
 use std::io::{self, Seek, Write};
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 
+use crate::fileio::{HashReadError, hash_read};
 use zip::write::SimpleFileOptions;
 use zip::{CompressionMethod, DateTime, System, ZipWriter};
 
@@ -21,7 +22,6 @@ use super::sign::sign_manifest;
 use super::validate::check_report_shape;
 use crate::SyncError;
 use crate::bundle::{ManifestEntry, UploadKey, sha256_hex};
-use crate::fileio::{HashReadError, hash_read};
 
 fn options(method: CompressionMethod) -> SimpleFileOptions {
     let o = SimpleFileOptions::default()
@@ -67,51 +67,8 @@ pub fn pack_return<W: Write + Seek>(
 ) -> Result<ReturnManifest, SyncError> {
     let limits = ReturnLimits::default();
     let bad = |m: String| SyncError::InvalidInput(m);
-    if reports.len() > limits.max_reports {
-        return Err(bad(format!(
-            "{} reports, more than a return holds ({})",
-            reports.len(),
-            limits.max_reports
-        )));
-    }
-    let mut sorted: Vec<&Report> = reports.iter().collect();
-    sorted.sort_by_key(|r| r.report_id);
-    let mut referenced = BTreeSet::new();
-    for (i, r) in sorted.iter().enumerate() {
-        if i > 0 && sorted[i - 1].report_id == r.report_id {
-            return Err(bad(format!("report {} given twice", r.report_id)));
-        }
-        if r.bundle_id != header.bundle_id {
-            return Err(bad(format!(
-                "report {} belongs to bundle {}, not {}",
-                r.report_id, r.bundle_id, header.bundle_id
-            )));
-        }
-        check_report_shape(r).map_err(|m| bad(format!("report {}: {m}", r.report_id)))?;
-        referenced.extend(r.photos.iter().map(|p| p.sha256.clone()));
-    }
-    let mut photo_files: BTreeMap<String, (PathBuf, u64)> = BTreeMap::new();
-    for path in photos {
-        let (sha, size) = hash_photo(path, limits.max_photo_bytes)?;
-        if !referenced.contains(&sha) {
-            return Err(bad(format!(
-                "photo {} (SHA-256 {sha}) is not named by any report",
-                path.display()
-            )));
-        }
-        photo_files.insert(sha, (path.clone(), size));
-    }
-    if let Some(missing) = referenced.iter().find(|s| !photo_files.contains_key(*s)) {
-        return Err(bad(format!(
-            "a report names photo {missing}, but no such photo file was given"
-        )));
-    }
-    if photo_files.len() + 3 > limits.max_entries {
-        return Err(bad(format!(
-            "{} photos, more than a return holds",
-            photo_files.len()
-        )));
-    }
+    let (sorted, referenced) = checked_reports(header, reports, &limits)?;
+    let photo_files = photo_files(photos, &referenced, &limits)?;
 
     let reports_json =
         serde_json::to_vec_pretty(&sorted).map_err(|e| bad(format!("reports: {e}")))?;
@@ -157,26 +114,7 @@ pub fn pack_return<W: Write + Seek>(
 
     let mut zip = ZipWriter::new(out);
     for (sha, (path, size)) in &photo_files {
-        let name = photo_entry_name(sha);
-        zip.start_file(name.as_str(), options(CompressionMethod::Stored))
-            .map_err(|e| SyncError::zip(format!("start entry {name:?}"), e))?;
-        let file = File::open(path)
-            .map_err(|e| SyncError::io(format!("open photo {}", path.display()), e))?;
-        // Hash again while copying: a photo changed since it was hashed must not slip in.
-        let changed = || {
-            SyncError::io(
-                format!("photo {}", path.display()),
-                io::Error::other("changed while the return was packed"),
-            )
-        };
-        let copied = hash_read(file, *size, |c| zip.write_all(c)).map_err(|e| match e {
-            HashReadError::Read(e) => SyncError::io(format!("read photo {}", path.display()), e),
-            HashReadError::Sink(e) => SyncError::io(format!("write entry {name:?}"), e),
-            HashReadError::TooLarge => changed(),
-        })?;
-        if copied.size != *size || copied.sha256 != *sha {
-            return Err(changed());
-        }
+        copy_photo(&mut zip, sha, path, *size)?;
     }
     for (name, bytes) in [
         (REPORTS, &reports_json),
@@ -193,6 +131,104 @@ pub fn pack_return<W: Write + Seek>(
         .map_err(|e| SyncError::zip("finish return", e))?;
     out.flush().map_err(|e| SyncError::io("flush return", e))?;
     Ok(manifest)
+}
+
+/// The reports sorted by id, each checked (its bundle, its shape, no id twice),
+/// and the SHA-256 of every photo they name.
+fn checked_reports<'a>(
+    header: &ReturnHeader,
+    reports: &'a [Report],
+    limits: &ReturnLimits,
+) -> Result<(Vec<&'a Report>, BTreeSet<String>), SyncError> {
+    let bad = |m: String| SyncError::InvalidInput(m);
+    if reports.len() > limits.max_reports {
+        return Err(bad(format!(
+            "{} reports, more than a return holds ({})",
+            reports.len(),
+            limits.max_reports
+        )));
+    }
+    let mut sorted: Vec<&Report> = reports.iter().collect();
+    sorted.sort_by_key(|r| r.report_id);
+    let mut referenced = BTreeSet::new();
+    for (i, r) in sorted.iter().enumerate() {
+        if i > 0 && sorted[i - 1].report_id == r.report_id {
+            return Err(bad(format!("report {} given twice", r.report_id)));
+        }
+        if r.bundle_id != header.bundle_id {
+            return Err(bad(format!(
+                "report {} belongs to bundle {}, not {}",
+                r.report_id, r.bundle_id, header.bundle_id
+            )));
+        }
+        check_report_shape(r).map_err(|m| bad(format!("report {}: {m}", r.report_id)))?;
+        referenced.extend(r.photos.iter().map(|p| p.sha256.clone()));
+    }
+    Ok((sorted, referenced))
+}
+
+/// The photo files by SHA-256 with their sizes: each named by a report, every
+/// named photo given, and not more than a return holds.
+fn photo_files(
+    photos: &[PathBuf],
+    referenced: &BTreeSet<String>,
+    limits: &ReturnLimits,
+) -> Result<BTreeMap<String, (PathBuf, u64)>, SyncError> {
+    let bad = |m: String| SyncError::InvalidInput(m);
+    let mut photo_files: BTreeMap<String, (PathBuf, u64)> = BTreeMap::new();
+    for path in photos {
+        let (sha, size) = hash_photo(path, limits.max_photo_bytes)?;
+        if !referenced.contains(&sha) {
+            return Err(bad(format!(
+                "photo {} (SHA-256 {sha}) is not named by any report",
+                path.display()
+            )));
+        }
+        photo_files.insert(sha, (path.clone(), size));
+    }
+    if let Some(missing) = referenced.iter().find(|s| !photo_files.contains_key(*s)) {
+        return Err(bad(format!(
+            "a report names photo {missing}, but no such photo file was given"
+        )));
+    }
+    if photo_files.len() + 3 > limits.max_entries {
+        return Err(bad(format!(
+            "{} photos, more than a return holds",
+            photo_files.len()
+        )));
+    }
+
+    Ok(photo_files)
+}
+
+/// Copies one photo into the ZIP as a stored entry, hashing it again on the way.
+fn copy_photo<W: Write + Seek>(
+    zip: &mut ZipWriter<W>,
+    sha: &str,
+    path: &Path,
+    size: u64,
+) -> Result<(), SyncError> {
+    let name = photo_entry_name(sha);
+    zip.start_file(name.as_str(), options(CompressionMethod::Stored))
+        .map_err(|e| SyncError::zip(format!("start entry {name:?}"), e))?;
+    let file =
+        File::open(path).map_err(|e| SyncError::io(format!("open photo {}", path.display()), e))?;
+    // Hash again while copying: a photo changed since it was hashed must not slip in.
+    let changed = || {
+        SyncError::io(
+            format!("photo {}", path.display()),
+            io::Error::other("changed while the return was packed"),
+        )
+    };
+    let copied = hash_read(file, size, |c| zip.write_all(c)).map_err(|e| match e {
+        HashReadError::Read(e) => SyncError::io(format!("read photo {}", path.display()), e),
+        HashReadError::Sink(e) => SyncError::io(format!("write entry {name:?}"), e),
+        HashReadError::TooLarge => changed(),
+    })?;
+    if copied.size != size || copied.sha256 != sha {
+        return Err(changed());
+    }
+    Ok(())
 }
 
 /// SHA-256 (lowercase hex) and size of the file at `path`.

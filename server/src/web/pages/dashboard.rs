@@ -250,14 +250,69 @@ fn build(
     events: &[EventFacts],
     lists: &Lists,
 ) -> DashboardPage {
+    let within = f.time_to_visit.within_days;
+    DashboardPage {
+        layout: Layout::new(req, viewer, "Dashboard", "/dashboard"),
+        zones: lists.choices(&lists.zones, &filter.zone),
+        teams: lists.choices(&lists.teams, &filter.team),
+        sources: lists.choices(&lists.sources, &filter.source),
+        from: q.from.clone().unwrap_or_default(),
+        to: q.to.clone().unwrap_or_default(),
+        as_of: f.as_of.format("%Y-%m-%d %H:%M UTC").to_string(),
+        numbers: numbers(f),
+        coverage: coverage_tables(f),
+        rates: rate_tables(f),
+        km_chart: render_step_curve(&StepChart::time_to_visit(
+            "Time from detection to first visit (Kaplan–Meier; unvisited events censored)",
+            f.time_to_visit.curves.iter().map(km_series).collect(),
+            Some(within),
+        )),
+        km_notes: km_notes(f),
+        monthly: render_grouped_bars(&monthly_chart(events)),
+        causes_chart: causes_chart(f),
+        causes: f
+            .causes
+            .by_cause
+            .iter()
+            .map(|c| {
+                [
+                    c.cause.replace('_', " "),
+                    c.events.to_string(),
+                    fixed(c.area_ha, 2),
+                ]
+            })
+            .collect(),
+        times: response_time_rows(f),
+        team_rows: f
+            .teams
+            .iter()
+            .map(|t| {
+                [
+                    t.team.clone(),
+                    t.trips.to_string(),
+                    t.events_visited.to_string(),
+                    t.reports.to_string(),
+                    t.evidence_ok.to_string(),
+                    t.evidence_ok_share.map_or_else(|| "–".into(), percent),
+                    t.median_issue_to_visit_days
+                        .map_or_else(|| "–".into(), |d| fixed(d, 1)),
+                ]
+            })
+            .collect(),
+        assessment: assessment_view(f),
+        exports: export_links(q, filter),
+    }
+}
+
+/// The headline numbers: coverage of all events and the share visited in time.
+fn numbers(f: &Figures) -> Numbers {
     let all_cov = f
         .coverage
         .iter()
         .find(|g| g.key == GroupKey::All)
         .and_then(|g| g.rows.first());
     let issued_curve = f.time_to_visit.curves.get(1);
-    let within = f.time_to_visit.within_days;
-    let numbers = Numbers {
+    Numbers {
         events: all_cov.map_or(0, |r| r.events),
         issued: all_cov.map_or(0, |r| r.issued),
         visited: all_cov.map_or(0, |r| r.visited),
@@ -276,9 +331,12 @@ fn build(
                     )
                 },
             ),
-    };
-    let coverage = f
-        .coverage
+    }
+}
+
+/// Coverage by zone, team, month and the other groupings (all events apart).
+fn coverage_tables(f: &Figures) -> Vec<CoverageTable> {
+    f.coverage
         .iter()
         .filter(|g| g.key != GroupKey::All)
         .map(|g| CoverageTable {
@@ -298,9 +356,12 @@ fn build(
                 })
                 .collect(),
         })
-        .collect();
-    let rates = f
-        .confirmation
+        .collect()
+}
+
+/// The confirmation rate tables, one per grouping.
+fn rate_tables(f: &Figures) -> Vec<RateTable> {
+    f.confirmation
         .iter()
         .map(|g| RateTable {
             title: key_label(g.key),
@@ -331,15 +392,13 @@ fn build(
                 })
                 .collect(),
         })
-        .collect();
-    let series: Vec<StepSeries> = f.time_to_visit.curves.iter().map(km_series).collect();
-    let km_chart = render_step_curve(&StepChart::time_to_visit(
-        "Time from detection to first visit (Kaplan–Meier; unvisited events censored)",
-        series,
-        Some(within),
-    ));
-    let km_notes = f
-        .time_to_visit
+        .collect()
+}
+
+/// One line per time-to-visit curve: its median and the share visited in time.
+fn km_notes(f: &Figures) -> Vec<String> {
+    let within = f.time_to_visit.within_days;
+    f.time_to_visit
         .curves
         .iter()
         .map(|c| {
@@ -358,8 +417,12 @@ fn build(
                 fixed(within, 0)
             )
         })
-        .collect();
-    let causes_chart = render_horizontal_bars(&HBarChart {
+        .collect()
+}
+
+/// The bar chart of the causes of confirmed clearing.
+fn causes_chart(f: &Figures) -> String {
+    render_horizontal_bars(&HBarChart {
         title: "Causes of confirmed clearing".into(),
         value_label: "confirmed events".into(),
         unit: "events".into(),
@@ -372,9 +435,13 @@ fn build(
                 value: c.events as f64,
             })
             .collect(),
-    });
+    })
+}
+
+/// The response time rows: count, median and 90th percentile of each interval.
+fn response_time_rows(f: &Figures) -> Vec<[String; 4]> {
     let rt = &f.response_times;
-    let times = [
+    [
         ("detection to issue", &rt.detection_to_issue),
         ("issue to visit", &rt.issue_to_visit),
         ("detection to visit", &rt.detection_to_visit),
@@ -385,7 +452,11 @@ fn build(
         let (n, med, p90) = duration_text(d);
         [label.to_string(), n, med, p90]
     })
-    .collect();
+    .collect()
+}
+
+/// The CSV export links, carrying the page's filter, and the GeoJSON export.
+fn export_links(q: &DashboardQuery, filter: &StatsFilter) -> Vec<(String, String)> {
     let mut params = Vec::new();
     for (k, v) in [
         ("from", &q.from),
@@ -412,53 +483,7 @@ fn build(
         "/api/v1/exports/events.geojson".into(),
         "events with status (GeoJSON)".into(),
     ));
-    DashboardPage {
-        layout: Layout::new(req, viewer, "Dashboard", "/dashboard"),
-        zones: lists.choices(&lists.zones, &filter.zone),
-        teams: lists.choices(&lists.teams, &filter.team),
-        sources: lists.choices(&lists.sources, &filter.source),
-        from: q.from.clone().unwrap_or_default(),
-        to: q.to.clone().unwrap_or_default(),
-        as_of: f.as_of.format("%Y-%m-%d %H:%M UTC").to_string(),
-        numbers,
-        coverage,
-        rates,
-        km_chart,
-        km_notes,
-        monthly: render_grouped_bars(&monthly_chart(events)),
-        causes_chart,
-        causes: f
-            .causes
-            .by_cause
-            .iter()
-            .map(|c| {
-                [
-                    c.cause.replace('_', " "),
-                    c.events.to_string(),
-                    fixed(c.area_ha, 2),
-                ]
-            })
-            .collect(),
-        times,
-        team_rows: f
-            .teams
-            .iter()
-            .map(|t| {
-                [
-                    t.team.clone(),
-                    t.trips.to_string(),
-                    t.events_visited.to_string(),
-                    t.reports.to_string(),
-                    t.evidence_ok.to_string(),
-                    t.evidence_ok_share.map_or_else(|| "–".into(), percent),
-                    t.median_issue_to_visit_days
-                        .map_or_else(|| "–".into(), |d| fixed(d, 1)),
-                ]
-            })
-            .collect(),
-        assessment: assessment_view(f),
-        exports,
-    }
+    exports
 }
 
 struct Lists {
