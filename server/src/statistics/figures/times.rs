@@ -243,7 +243,7 @@ pub fn one_step_per_day(mut km: KaplanMeier) -> KaplanMeier {
 }
 
 #[cfg(test)]
-mod daily_tests {
+mod tests {
     use super::*;
     use crate::statistics::estimators::kaplan_meier;
 

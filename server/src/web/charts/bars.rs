@@ -232,5 +232,4 @@ pub fn render_horizontal_bars(input: &HBarChart) -> String {
 }
 
 #[cfg(test)]
-#[path = "bars_tests.rs"]
 mod tests;

@@ -273,5 +273,4 @@ fn legend(
 }
 
 #[cfg(test)]
-#[path = "line_tests.rs"]
 mod tests;

@@ -254,5 +254,4 @@ fn extent(f: &Frame, rings: &[Vec<(f64, f64)>]) -> (f64, f64, f64, f64) {
 }
 
 #[cfg(test)]
-#[path = "map_tests.rs"]
 mod tests;
