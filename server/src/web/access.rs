@@ -29,7 +29,7 @@ pub fn action_for(method: &Method, path: &str) -> Option<Action> {
     let seg: Vec<&str> = path.trim_matches('/').split('/').collect();
     match seg.as_slice() {
         [""] => Some(Action::ViewEvents),
-        ["login"] | ["healthz"] | ["static", ..] => None,
+        ["login"] | ["healthz"] | ["static", ..] | ["field", ..] => None,
         ["logout"] => None,
         ["api", "v1", rest @ ..] => Some(api_action(method, write, rest)),
         ["import", ..] => Some(Action::ImportAlerts),

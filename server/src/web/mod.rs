@@ -7,6 +7,7 @@ mod access;
 pub mod api;
 pub mod charts;
 mod error;
+mod field;
 mod login;
 pub mod pages;
 
@@ -58,6 +59,7 @@ pub fn configure(cfg: &mut web::ServiceConfig) {
         .route("/login", web::get().to(login::form))
         .route("/login", web::post().to(login::submit))
         .route("/logout", web::post().to(login::logout))
+        .configure(field::configure)
         .configure(pages::configure);
 }
 
