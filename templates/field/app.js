@@ -216,6 +216,7 @@ function tripHead() {
     h('p', { id: 'storage', class: 'storage' }, ''),
     h('div', { class: 'actions' },
       h('button', { class: 'button', onclick: () => go('home') }, t('nav.trips')),
+      state.view === 'send' ? h('button', { class: 'button', id: 'to-stops', onclick: () => go('trip') }, t('nav.stops')) : null,
       h('button', { class: 'button', onclick: () => go('cautions') }, t('nav.safety')),
       h('button', { class: 'button primary', id: 'go-send', onclick: () => { state.sendResult = null; go('send'); } }, t('nav.send'))));
 }
@@ -273,7 +274,7 @@ function viewStop() {
           h('p', {}, t('report.line', { when: dateTime(r.report.recorded_at), photos: r.report.photos.length })),
           r.report.supersedes ? h('p', {}, t('report.corrects')) : null,
           h('p', {}, h('span', { class: `badge ${r.state}` }, t(`send_state.${r.state}`)), r.reason ? ` ${r.reason}` : ''),
-          h('button', { class: 'button small', onclick: () => startForm(s, r.report) }, t('report.correct')))))),
+          h('button', { class: 'button small', 'data-correct': r.report_id, onclick: () => startForm(s, r.report) }, t('report.correct')))))),
   ];
 }
 

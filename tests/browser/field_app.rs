@@ -11,7 +11,9 @@
 //! refused by the checklist (two needed), then saved with two JPEGs with
 //! EXIF; "not reached: safety" is one tap on the second stop; the return
 //! is made and sent with the team token, and the server holds both
-//! reports, the photos byte-identical (same SHA-256, same bytes on disk).
+//! reports, the photos byte-identical (same SHA-256, same bytes on disk);
+//! a correction of the safety report is sent and stored as a new report
+//! naming the one it supersedes.
 //! Then the server stops and the app loads again from its service worker,
 //! opens the trip from the phone's store and switches to Portuguese.
 //!
@@ -406,6 +408,54 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
         }
     }
     assert_eq!(confirmed, 1);
+
+    // A correction: a new report that names the one it supersedes.
+    let (safety_id, _) = results
+        .iter()
+        .map(|r| (r[0].as_str().unwrap_or_default().to_string(), ()))
+        .find(|(id, _)| {
+            s.db.read(|x| x.report(id))
+                .ok()
+                .flatten()
+                .is_some_and(|row| row.outcome == "not_reached")
+        })
+        .expect("the safety report");
+    b.click("#to-stops");
+    b.click(&format!("#stops > li[data-code='{second}'] .row"));
+    b.click(&format!("button[data-correct='{safety_id}']"));
+    b.click("input[name=not_reached_reason][value=terrain]");
+    b.click("#save");
+    wait_for(
+        &b,
+        "document.querySelector('.notice.ok') && document.getElementById('stop-title')",
+        "the saved correction",
+    );
+    assert!(b.text("main").contains("Corrects an earlier report"));
+    b.click("#to-stops");
+    b.click("#go-send");
+    wait_for(&b, "document.getElementById('send-now')", "the send page");
+    assert_eq!(
+        b.script("return document.getElementById('team-token').value;"),
+        json!(team_token),
+        "the token is kept with the trip"
+    );
+    b.click("#send-now");
+    wait_for(
+        &b,
+        "document.querySelectorAll('#send-results li').length === 1",
+        "the server's answer to the correction",
+    );
+    let fix = b.script(
+        "const li = document.querySelector('#send-results li'); return [li.dataset.report, li.dataset.status];",
+    );
+    assert_eq!(fix[1], "accepted", "{}", b.text("main"));
+    let row =
+        s.db.read(|x| x.report(fix[0].as_str().unwrap_or_default()))
+            .expect("read")
+            .expect("the correction is stored");
+    assert_eq!(row.supersedes.as_deref(), Some(safety_id.as_str()));
+    assert_eq!(row.reason.as_deref(), Some("terrain"));
+    assert_clean(&b, "correction sent");
 
     // The service worker controls the page; then the server goes away.
     wait_for(
