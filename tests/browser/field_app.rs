@@ -2,15 +2,18 @@
 //! over WebDriver as the pages' test is: the real server on a random
 //! loopback port with the invented scenario, a bundle issued over the API.
 //!
-//! The walk: the app loads with no login; a tampered trip file is refused
-//! with the catalogue's message and nothing is kept; the real one opens on
+//! The walk: the app loads with no login; a tampered trip file and an
+//! expired one are refused with the catalogue's message and nothing is
+//! kept; the real one opens on
 //! the safety cautions, then the stops in visit order; with the phone's
 //! position set (DevTools geolocation override) 500 m south of the first
 //! stop, the distance and bearing match the field kit's geodesy (Karney,
 //! geographiclib) within 1 m and 1°; a confirmed visit with one photo is
 //! refused by the checklist (two needed), then saved with two JPEGs with
 //! EXIF; "not reached: safety" is one tap on the second stop; the return
-//! is made and sent with the team token, and the server holds both
+//! file saved for the station opens with the sync crate's reader
+//! (signature, checksums, both reports); the return is sent with the team
+//! token, and the server holds both
 //! reports, the photos byte-identical (same SHA-256, same bytes on disk);
 //! a correction of the safety report is sent and stored as a new report
 //! naming the one it supersedes.
@@ -107,6 +110,35 @@ fn tamper(bundle: &[u8]) -> Vec<u8> {
     out.finish().expect("finish").into_inner()
 }
 
+/// The same ZIP with the manifest's times moved a year into the past: a
+/// well-formed bundle that has expired (the manifest carries no checksum
+/// of itself).
+fn expire(bundle: &[u8]) -> Vec<u8> {
+    let mut src = zip::ZipArchive::new(std::io::Cursor::new(bundle)).expect("bundle zip");
+    let mut out = zip::ZipWriter::new(std::io::Cursor::new(Vec::new()));
+    let past = chrono::Utc::now() - chrono::Duration::days(365);
+    for i in 0..src.len() {
+        let mut e = src.by_index(i).expect("entry");
+        let name = e.name().expect("entry name").to_string();
+        let mut bytes = Vec::new();
+        e.read_to_end(&mut bytes).expect("entry bytes");
+        if name == "manifest.json" {
+            let mut m: Value = serde_json::from_slice(&bytes).expect("manifest");
+            for (k, days) in [("issued_at", 0), ("due_at", 1), ("expires_at", 2)] {
+                m[k] = json!(
+                    (past + chrono::Duration::days(days))
+                        .to_rfc3339_opts(chrono::SecondsFormat::Secs, true)
+                );
+            }
+            bytes = serde_json::to_vec_pretty(&m).expect("json");
+        }
+        out.start_file(name, zip::write::SimpleFileOptions::default())
+            .expect("start");
+        out.write_all(&bytes).expect("write");
+    }
+    out.finish().expect("finish").into_inner()
+}
+
 fn photo(dir: &Path, seed: u64, lat: f64, lon: f64) -> (PathBuf, Vec<u8>) {
     let bytes = make_photo(
         seed,
@@ -156,6 +188,8 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
     assert!(bundle.route.len() >= 2, "at least two stops");
     let tampered_path = work.path().join("tampered.zip");
     std::fs::write(&tampered_path, tamper(&zip)).expect("tampered saved");
+    let expired_path = work.path().join("expired.zip");
+    std::fs::write(&expired_path, expire(&zip)).expect("expired saved");
     let (_, team_token) = groundproof::platform::auth::issue_team_token(
         &s.db,
         "Team Amber",
@@ -208,6 +242,22 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
     assert!(msg.contains("events.geojson"), "{msg}");
     assert!(b.find_all("#trips").is_empty(), "no trip kept");
     assert_clean(&b, "tampered bundle");
+
+    // So is an expired one.
+    b.choose_file("#bundle-file", &expired_path);
+    let msg = wait_for(
+        &b,
+        "document.querySelector('.notice.error') && document.querySelector('.notice.error').textContent.includes('expired') && document.querySelector('.notice.error').textContent",
+        "the refusal of the expired bundle",
+    );
+    assert!(
+        msg.as_str()
+            .unwrap_or_default()
+            .contains("Ask the office for a new one"),
+        "{msg}"
+    );
+    assert!(b.find_all("#trips").is_empty(), "no trip kept");
+    assert_clean(&b, "expired bundle");
 
     // The real one opens on the safety cautions.
     b.choose_file("#bundle-file", &bundle_path);
@@ -348,9 +398,47 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
     );
     assert_clean(&b, "stops with reports");
 
-    // Send with the team token.
+    // The return file, saved for the station, opens with the sync crate's
+    // reader: signature, manifest, checksums and every report.
+    let downloads = work.path().join("downloads");
+    std::fs::create_dir_all(&downloads).expect("download folder");
+    b.cdp(
+        "Browser.setDownloadBehavior",
+        json!({"behavior": "allow", "downloadPath": downloads.display().to_string()}),
+    );
     b.click("#go-send");
-    wait_for(&b, "document.getElementById('send-now')", "the send page");
+    wait_for(&b, "document.getElementById('save-file')", "the send page");
+    b.click("#save-file");
+    let start = Instant::now();
+    let saved = loop {
+        let done: Vec<PathBuf> = std::fs::read_dir(&downloads)
+            .expect("downloads")
+            .filter_map(|e| e.ok().map(|e| e.path()))
+            .filter(|p| p.extension().is_some_and(|x| x == "zip"))
+            .collect();
+        if let Some(p) = done.into_iter().next() {
+            break p;
+        }
+        assert!(start.elapsed() < Duration::from_secs(30), "no return file");
+        std::thread::sleep(Duration::from_millis(100));
+    };
+    let key = bundle.upload_key.clone();
+    let opened = groundproof_sync::returns::open_return(
+        &saved,
+        |id, key_id| (*id == bundle.manifest.bundle_id && key_id == key.key_id).then_some(key.key),
+        &groundproof_sync::returns::ReturnLimits::default(),
+    )
+    .expect("the saved return opens with the sync reader");
+    assert_eq!(opened.reports.len(), 2, "{:?}", opened.rejected);
+    assert!(opened.rejected.is_empty(), "{:?}", opened.rejected);
+    assert_eq!(opened.manifest.photo_count, 2);
+    assert!(
+        b.text(".notice.ok").contains("Return file saved"),
+        "{}",
+        b.text("main")
+    );
+
+    // Send with the team token.
     b.type_into("#team-token", &team_token);
     b.click("#send-now");
     wait_for(
