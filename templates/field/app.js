@@ -215,7 +215,7 @@ function tripHead() {
     h('p', { id: 'fix', class: 'fix' }, fixText()),
     h('p', { id: 'storage', class: 'storage' }, ''),
     h('div', { class: 'actions' },
-      h('button', { class: 'button', onclick: () => go('home') }, t('nav.trips')),
+      h('button', { class: 'button', id: 'to-trips', onclick: () => go('home') }, t('nav.trips')),
       state.view === 'send' ? h('button', { class: 'button', id: 'to-stops', onclick: () => go('trip') }, t('nav.stops')) : null,
       h('button', { class: 'button', onclick: () => go('cautions') }, t('nav.safety')),
       h('button', { class: 'button primary', id: 'go-send', onclick: () => { state.sendResult = null; go('send'); } }, t('nav.send'))));

@@ -8,7 +8,7 @@
 //! the safety cautions, then the stops in visit order; with the phone's
 //! position set (DevTools geolocation override) 500 m south of the first
 //! stop, the distance and bearing match the field kit's geodesy (Karney,
-//! geographiclib) within 1 m and 1°; a confirmed visit with one photo is
+//! geographiclib) within 1 m and 1°, and follow the phone as it moves; a confirmed visit with one photo is
 //! refused by the checklist (two needed), then saved with two JPEGs with
 //! EXIF; "not reached: safety" is one tap on the second stop; the return
 //! file saved for the station opens with the sync crate's reader
@@ -16,7 +16,8 @@
 //! token, and the server holds both
 //! reports, the photos byte-identical (same SHA-256, same bytes on disk);
 //! a correction of the safety report is sent and stored as a new report
-//! naming the one it supersedes.
+//! naming the one it supersedes; a second team's trip opens beside the
+//! first without mixing their stops or reports.
 //! Then the server stops and the app loads again from its service worker,
 //! opens the trip from the phone's store and switches to Portuguese.
 //!
@@ -322,6 +323,31 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
         "{stop_text}"
     );
     assert!(stop_text.contains("± 7 m"), "accuracy shown: {stop_text}");
+    // Walking on: the way updates with the phone's position.
+    b.cdp(
+        "Emulation.setGeolocationOverride",
+        json!({"latitude": t_lat - 0.0009, "longitude": t_lon, "accuracy": 4}),
+    );
+    wait_for(
+        &b,
+        "Number(document.getElementById('way').dataset.distance) < 150",
+        "the distance to update",
+    );
+    let (want_d, _) = distance_bearing(t_lat - 0.0009, t_lon, t_lat, t_lon);
+    let got_d: f64 = b
+        .script("return Number(document.getElementById('way').dataset.distance);")
+        .as_f64()
+        .expect("distance");
+    assert!((got_d - want_d).abs() < 1.0, "distance {got_d} vs {want_d}");
+    b.cdp(
+        "Emulation.setGeolocationOverride",
+        json!({"latitude": p_lat, "longitude": p_lon, "accuracy": 7}),
+    );
+    wait_for(
+        &b,
+        "Number(document.getElementById('way').dataset.distance) > 400",
+        "the distance to update back",
+    );
     assert_clean(&b, "stop");
 
     // A confirmed visit with one photo is refused by the checklist ...
@@ -544,6 +570,61 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
     assert_eq!(row.supersedes.as_deref(), Some(safety_id.as_str()));
     assert_eq!(row.reason.as_deref(), Some("terrain"));
     assert_clean(&b, "correction sent");
+
+    // Several trips stay apart: a second team's trip opens with its own
+    // stops, none visited, and the first keeps its reports.
+    let r2 = post_json(
+        &s.url("/api/v1/bundles"),
+        &json!({"team": "Team Basalt", "zone": "Core", "max": 3,
+                "start": {"lat": station.1, "lon": station.0}}),
+    );
+    assert_eq!(r2.status, 201, "{}", r2.body);
+    let (status, zip2) = get_bytes(&s.url(r2.json()["download"].as_str().expect("download")));
+    assert_eq!(status, 200);
+    let bundle2_path = work.path().join("bundle2.zip");
+    std::fs::write(&bundle2_path, &zip2).expect("second bundle saved");
+    let bundle2 = open_bundle(&bundle2_path, chrono::Utc::now()).expect("second bundle");
+    b.click("#to-trips");
+    b.choose_file("#bundle-file", &bundle2_path);
+    wait_for(&b, "document.getElementById('cautions')", "the second trip");
+    b.click("#cautions-ok");
+    wait_for(
+        &b,
+        "document.getElementById('stops')",
+        "the second trip's stops",
+    );
+    let codes2 = b.script(
+        "return Array.from(document.querySelectorAll('#stops > li')).map(li => li.dataset.code);",
+    );
+    assert_eq!(codes2, json!(bundle2.route));
+    let states2 = b.script(
+        "return Array.from(document.querySelectorAll('#stops > li')).map(li => li.dataset.state);",
+    );
+    assert!(
+        states2
+            .as_array()
+            .expect("states")
+            .iter()
+            .all(|s| s == "not_visited"),
+        "{states2}"
+    );
+    b.click("#to-trips");
+    wait_for(
+        &b,
+        "document.querySelectorAll('#trips > li').length === 2",
+        "two trips on the phone",
+    );
+    b.click(&format!(
+        "button[data-bundle='{}']",
+        bundle.manifest.bundle_id
+    ));
+    b.click("#cautions-ok");
+    wait_for(
+        &b,
+        "document.getElementById('stops')",
+        "the first trip again",
+    );
+    assert_clean(&b, "two trips");
 
     // The service worker controls the page; then the server goes away.
     wait_for(
