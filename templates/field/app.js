@@ -321,7 +321,7 @@ async function onPhotos(e) {
   document.getElementById('photo-list').replaceWith(photoList());
   const n = document.getElementById('notice');
   if (n) n.remove();
-  if (state.notice) document.getElementById('record-form').prepend(notice());
+  if (state.notice) document.querySelector('#record-form h2').after(notice());
 }
 
 function viewForm() {

@@ -158,6 +158,15 @@ fn photo(dir: &Path, seed: u64, lat: f64, lon: f64) -> (PathBuf, Vec<u8>) {
     (path, bytes)
 }
 
+/// Saves the viewport as `CARGO_TARGET_TMPDIR/field-screenshots/<stem>.png`.
+fn shot(b: &Browser, stem: &str) {
+    let dir = Path::new(env!("CARGO_TARGET_TMPDIR")).join("field-screenshots");
+    std::fs::create_dir_all(&dir).expect("screenshot folder");
+    let path = dir.join(format!("{stem}.png"));
+    b.screenshot(&path);
+    println!("screenshot: {}", path.display());
+}
+
 fn sha256(bytes: &[u8]) -> String {
     groundproof_sync::bundle::sha256_hex(bytes)
 }
@@ -207,6 +216,11 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
     let (t_lat, t_lon) = (first.centroid.y(), first.centroid.x());
     let (p_lat, p_lon) = (t_lat - 0.0045, t_lon + 0.001);
     b.goto(&s.url("/field/"));
+    // A phone-sized screen.
+    b.cdp(
+        "Emulation.setDeviceMetricsOverride",
+        json!({"width": 390, "height": 844, "deviceScaleFactor": 1, "mobile": true}),
+    );
     b.cdp(
         "Browser.grantPermissions",
         json!({"origin": s.url(""), "permissions": ["geolocation"]}),
@@ -243,6 +257,7 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
     assert!(msg.contains("events.geojson"), "{msg}");
     assert!(b.find_all("#trips").is_empty(), "no trip kept");
     assert_clean(&b, "tampered bundle");
+    shot(&b, "tampered");
 
     // So is an expired one.
     b.choose_file("#bundle-file", &expired_path);
@@ -274,6 +289,7 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
         assert!(cautions.contains(needle), "{needle:?} in {cautions}");
     }
     assert_clean(&b, "cautions");
+    shot(&b, "cautions");
     b.click("#cautions-ok");
     wait_for(&b, "document.getElementById('stops')", "the stops");
     let codes = b.script(
@@ -349,6 +365,7 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
         "the distance to update back",
     );
     assert_clean(&b, "stop");
+    shot(&b, "stop");
 
     // A confirmed visit with one photo is refused by the checklist ...
     let (p1, bytes1) = photo(work.path(), 1, p_lat, p_lon);
@@ -383,6 +400,7 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
         "two photos",
     );
     assert_clean(&b, "form");
+    shot(&b, "form");
     b.click("#save");
     wait_for(
         &b,
@@ -423,6 +441,7 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
         json!("unsent")
     );
     assert_clean(&b, "stops with reports");
+    shot(&b, "stops");
 
     // The return file, saved for the station, opens with the sync crate's
     // reader: signature, manifest, checksums and every report.
@@ -483,6 +502,7 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
         b.text("main")
     );
     assert_clean(&b, "sent");
+    shot(&b, "sent");
 
     // The server holds both reports; the photos are the very same bytes.
     let mut confirmed = 0;
@@ -660,4 +680,5 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
     assert!(main.contains("Paradas na ordem de visita"), "{main}");
     assert!(main.contains("Recebido pelo escritório"), "{main}");
     assert_clean(&b, "offline, in Portuguese");
+    shot(&b, "offline-pt");
 }
