@@ -610,6 +610,14 @@ async function sendNow() {
 // ---------------------------------------------------------------- start
 
 async function start() {
+  if (!window.isSecureContext || !window.crypto || !crypto.subtle || !window.indexedDB) {
+    // Without a secure context there is no WebCrypto and no service worker:
+    // say so instead of failing later.
+    await setLanguage(pickLanguage(null));
+    main().replaceChildren(h('div', { class: 'notice error', role: 'alert', id: 'notice' }, h('p', {}, t('app.insecure'))));
+    document.body.dataset.ready = 'insecure';
+    return;
+  }
   await setLanguage(pickLanguage(await store.getSetting('lang')));
   if ('serviceWorker' in navigator) {
     try {
