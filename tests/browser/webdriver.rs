@@ -342,6 +342,18 @@ impl Browser {
         )
     }
 
+    /// Run a Chrome DevTools Protocol command through ChromeDriver's
+    /// `goog/cdp/execute` extension (not W3C): geolocation and
+    /// permissions for the field app's test.
+    #[allow(dead_code)] // used by the field app's test only
+    pub fn cdp(&self, cmd: &str, params: Value) -> Value {
+        self.session_call(
+            "POST",
+            "/goog/cdp/execute",
+            Some(json!({"cmd": cmd, "params": params})),
+        )
+    }
+
     /// Take Screenshot (§17.1) of the viewport into `path` as PNG.
     pub fn screenshot(&self, path: &Path) {
         let v = self.session_call("GET", "/screenshot", None);

@@ -8,6 +8,7 @@ mod adjudication;
 pub mod api;
 pub mod charts;
 mod error;
+mod field;
 mod login;
 pub mod pages;
 pub mod urls;
@@ -64,6 +65,7 @@ pub fn configure(cfg: &mut web::ServiceConfig) {
         .route("/login", web::get().to(login::form).public())
         .route("/login", web::post().to(login::submit).public())
         .route("/logout", web::post().to(login::logout).public())
+        .configure(field::configure)
         .configure(pages::configure)
         .default_service(
             web::to(|| async { actix_web::HttpResponse::NotFound().finish() })

@@ -1,0 +1,149 @@
+//! The field app (`templates/field/`), embedded in the binary and served
+//! under `/field/`: a phone web app that opens a trip file, records visits
+//! offline and makes the signed return. Public: the app shell holds no
+//! data (the trip file the team loads into it is what is sensitive), and it
+//! must load on a phone that has no session.
+//!
+//! The service worker (`/field/sw.js`) gets the scope `/field/` by where it
+//! is served. Its cache name carries a digest of every file here, so a new
+//! build of the server makes phones fetch the new app once and keep it.
+//! Nothing is loaded from elsewhere (DESIGN.md invariant 7): the only
+//! library, fflate, is vendored in `templates/field/vendor/`.
+
+use super::access::Access;
+use actix_web::http::header;
+use actix_web::{HttpRequest, HttpResponse, web};
+use sha2::{Digest, Sha256};
+use std::sync::OnceLock;
+
+macro_rules! app_file {
+    ($name:literal, $type:expr) => {
+        (
+            $name,
+            $type,
+            include_bytes!(concat!("../../../templates/field/", $name)).as_slice(),
+        )
+    };
+}
+
+const JS: &str = "text/javascript; charset=utf-8";
+const JSON: &str = "application/json; charset=utf-8";
+
+/// Every file of the app: path under `/field/`, content type, bytes. The
+/// service worker's list (`sw.js`, `FILES`) names the same files.
+pub const FILES: &[(&str, &str, &[u8])] = &[
+    app_file!("index.html", "text/html; charset=utf-8"),
+    app_file!("app.css", "text/css; charset=utf-8"),
+    app_file!("app.js", JS),
+    app_file!("bundle.js", JS),
+    app_file!("crypto.js", JS),
+    app_file!("geo.js", JS),
+    app_file!("i18n.js", JS),
+    app_file!("report.js", JS),
+    app_file!("returnpkg.js", JS),
+    app_file!("store.js", JS),
+    app_file!("sw.js", JS),
+    app_file!("icon.svg", "image/svg+xml"),
+    app_file!("manifest.webmanifest", "application/manifest+json"),
+    app_file!("i18n/en.json", JSON),
+    app_file!("i18n/es.json", JSON),
+    app_file!("i18n/fr.json", JSON),
+    app_file!("i18n/id.json", JSON),
+    app_file!("i18n/pt.json", JSON),
+    app_file!("vendor/fflate.js", JS),
+    app_file!("vendor/fflate.LICENSE", "text/plain; charset=utf-8"),
+];
+
+/// The placeholder cache name in `sw.js`, replaced by one naming this build.
+const SW_VERSION: &str = "groundproof-field-1";
+
+/// `sw.js` with a cache name made from the digest of every app file.
+fn service_worker() -> &'static [u8] {
+    static SW: OnceLock<Vec<u8>> = OnceLock::new();
+    SW.get_or_init(|| {
+        let mut h = Sha256::new();
+        for (name, _, bytes) in FILES {
+            h.update(name.as_bytes());
+            h.update((bytes.len() as u64).to_le_bytes());
+            h.update(bytes);
+        }
+        let digest = hex::encode(h.finalize());
+        let sw = FILES
+            .iter()
+            .find(|(n, _, _)| *n == "sw.js")
+            .map(|(_, _, b)| String::from_utf8_lossy(b).into_owned())
+            .unwrap_or_default();
+        sw.replacen(
+            SW_VERSION,
+            &format!("groundproof-field-{}", &digest[..16]),
+            1,
+        )
+        .into_bytes()
+    })
+}
+
+/// `GET /field/{path}` (`/field/` is the app's page).
+async fn file(path: web::Path<String>) -> HttpResponse {
+    let name = match path.as_str() {
+        "" => "index.html",
+        p => p,
+    };
+    let Some((_, content_type, bytes)) = FILES.iter().find(|(n, _, _)| *n == name) else {
+        return HttpResponse::NotFound()
+            .content_type("text/plain; charset=utf-8")
+            .body("no such file");
+    };
+    let body: &'static [u8] = if name == "sw.js" {
+        service_worker()
+    } else {
+        bytes
+    };
+    HttpResponse::Ok()
+        .content_type(*content_type)
+        .insert_header((header::X_CONTENT_TYPE_OPTIONS, "nosniff"))
+        // The service worker keeps the app; the network copy is checked on each load.
+        .insert_header((header::CACHE_CONTROL, "no-cache"))
+        .insert_header((
+            header::CONTENT_SECURITY_POLICY,
+            "default-src 'self'; img-src 'self' blob:; connect-src 'self'; object-src 'none'; base-uri 'none'; frame-ancestors 'none'",
+        ))
+        .insert_header((header::REFERRER_POLICY, "no-referrer"))
+        .body(body)
+}
+
+/// `GET /field`: to the app's page, so that relative links resolve.
+async fn to_app(_req: HttpRequest) -> HttpResponse {
+    HttpResponse::MovedPermanently()
+        .insert_header((header::LOCATION, "/field/"))
+        .finish()
+}
+
+/// Register the app's routes.
+pub fn configure(cfg: &mut web::ServiceConfig) {
+    cfg.route("/field", web::get().to(to_app).public())
+        .route("/field/{path:.*}", web::get().to(file).public());
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The service worker caches exactly the files the server serves (but
+    /// itself and the licence text), and the page `./`, so the app works
+    /// offline after one load.
+    #[test]
+    fn service_worker_lists_every_file() {
+        let sw = String::from_utf8_lossy(service_worker()).into_owned();
+        assert!(!sw.contains(SW_VERSION), "the cache name is replaced");
+        let cached: Vec<&str> = FILES
+            .iter()
+            .map(|(name, _, _)| *name)
+            .filter(|n| *n != "sw.js" && !n.ends_with("LICENSE"))
+            .collect();
+        for name in &cached {
+            assert!(sw.contains(&format!("'./{name}'")), "sw.js caches {name}");
+        }
+        assert!(sw.contains("'./',"), "sw.js caches the page");
+        assert_eq!(sw.matches("  './").count(), cached.len() + 1);
+    }
+}

@@ -1,0 +1,634 @@
+// The field app: trips opened from a trip file, stops in visit order, the
+// way to the chosen stop, visit reports with photos kept byte for byte,
+// and the signed return (saved as a file or sent to the office).
+
+import * as store from './store.js';
+import { openBundle, BundleError } from './bundle.js';
+import { distanceBearing } from './geo.js';
+import { makeReport, validateReport, ReportProblem, MAX_PHOTO_BYTES } from './report.js';
+import { packReturn } from './returnpkg.js';
+import { sha256Hex } from './crypto.js';
+import { LANGUAGES, pickLanguage, setLanguage, language, t, token, number, dateTime, date } from './i18n.js';
+
+const state = {
+  view: 'home', // home | cautions | trip | stop | form | send
+  trip: null,
+  reports: [],
+  stop: null,
+  form: null,
+  fix: null,
+  fixError: null,
+  notice: null, // {kind: 'ok'|'error', text, detail}
+  sendResult: null,
+  busy: false,
+};
+let watchId = null;
+const main = () => document.getElementById('main');
+
+// ---------------------------------------------------------------- helpers
+
+function h(tag, attrs = {}, ...children) {
+  const el = document.createElement(tag);
+  for (const [k, v] of Object.entries(attrs)) {
+    if (v === null || v === undefined || v === false) continue;
+    if (k.startsWith('on')) el.addEventListener(k.slice(2), v);
+    else if (k === 'class') el.className = v;
+    else if (v === true) el.setAttribute(k, '');
+    else el.setAttribute(k, v);
+  }
+  for (const c of children.flat(Infinity)) {
+    if (c === null || c === undefined || c === false) continue;
+    el.append(c instanceof Node ? c : document.createTextNode(String(c)));
+  }
+  return el;
+}
+
+function bytesText(n) {
+  if (n < 1024) return t('size.bytes', { n: number(n) });
+  if (n < 1024 * 1024) return t('size.kb', { n: number(n / 1024, 1) });
+  return t('size.mb', { n: number(n / (1024 * 1024), 1) });
+}
+
+function notice() {
+  if (!state.notice) return null;
+  const n = state.notice;
+  return h('div', { class: `notice ${n.kind}`, role: n.kind === 'error' ? 'alert' : 'status', id: 'notice' },
+    h('p', {}, n.text), n.detail ? h('p', { class: 'detail' }, n.detail) : null);
+}
+
+function say(kind, text, detail = '') {
+  state.notice = { kind, text, detail };
+}
+
+function stopsOf(trip) {
+  const byCode = new Map();
+  for (const e of trip.events) byCode.set(e.code, { kind: 'event', ...e });
+  for (const c of trip.controls) byCode.set(c.code, { kind: 'control', ...c });
+  return trip.route.map((code) => byCode.get(code));
+}
+
+function reportsFor(code) {
+  return state.reports.filter((r) => r.report.target.code === code);
+}
+
+/** not_visited | unsent | recorded | refused */
+function stopState(code) {
+  const rs = reportsFor(code);
+  if (rs.length === 0) return 'not_visited';
+  if (rs.some((r) => r.state === 'unsent')) return 'unsent';
+  const last = rs[rs.length - 1];
+  return last.state === 'rejected' ? 'refused' : 'recorded';
+}
+
+function unsent() {
+  return state.reports.filter((r) => r.state === 'unsent');
+}
+
+function go(view) {
+  state.view = view;
+  render();
+  window.scrollTo(0, 0);
+}
+
+// ---------------------------------------------------------------- position
+
+function startWatching() {
+  if (watchId !== null || !('geolocation' in navigator)) return;
+  watchId = navigator.geolocation.watchPosition((p) => {
+    state.fix = { lat: p.coords.latitude, lon: p.coords.longitude, accuracy: p.coords.accuracy, at: p.timestamp };
+    state.fixError = null;
+    updateWay();
+  }, (e) => {
+    state.fixError = e.code === 1 ? 'position.denied' : 'position.unavailable';
+    updateWay();
+  }, { enableHighAccuracy: true, maximumAge: 5000, timeout: 60000 });
+}
+
+function fixText() {
+  if (!state.fix) return t(state.fixError || 'position.waiting');
+  return t('position.here', {
+    lat: state.fix.lat.toFixed(6), lon: state.fix.lon.toFixed(6), acc: number(state.fix.accuracy, 0),
+  });
+}
+
+function wayText(stop) {
+  if (!state.fix) return t(state.fixError || 'position.waiting');
+  const { distance, bearing } = distanceBearing(state.fix.lat, state.fix.lon, stop.lat, stop.lon);
+  const winds = ['N', 'NE', 'E', 'SE', 'S', 'SW', 'W', 'NW'];
+  const wind = t(`compass.${winds[Math.floor(((bearing % 360) + 22.5) / 45) % 8]}`);
+  const dist = distance < 1000 ? t('distance.m', { n: number(distance, 0) }) : t('distance.km', { n: number(distance / 1000, 2) });
+  return t('way.text', { distance: dist, bearing: number(bearing, 0), wind });
+}
+
+function updateWay() {
+  const here = document.getElementById('fix');
+  if (here) here.textContent = fixText();
+  const way = document.getElementById('way');
+  if (way && state.stop) {
+    way.textContent = wayText(state.stop);
+    if (state.fix) {
+      const { distance, bearing } = distanceBearing(state.fix.lat, state.fix.lon, state.stop.lat, state.stop.lon);
+      way.dataset.distance = String(distance);
+      way.dataset.bearing = String(bearing);
+      const arrow = document.getElementById('arrow');
+      if (arrow) arrow.style.transform = `rotate(${bearing}deg)`;
+    }
+  }
+  const formFix = document.getElementById('form-fix');
+  if (formFix) formFix.textContent = fixText();
+}
+
+// ---------------------------------------------------------------- storage
+
+async function storageLine() {
+  const all = unsent();
+  const bytes = all.reduce((s, r) => s + r.size, 0);
+  let text = t('storage.unsent', { n: all.length, size: bytesText(bytes) });
+  if (navigator.storage && navigator.storage.estimate) {
+    try {
+      const e = await navigator.storage.estimate();
+      if (e.quota) text += ` · ${t('storage.phone', { used: bytesText(e.usage || 0), free: bytesText(Math.max(0, e.quota - (e.usage || 0))) })}`;
+    } catch (_) { /* the estimate is optional */ }
+  }
+  const el = document.getElementById('storage');
+  if (el) el.textContent = text;
+}
+
+// ---------------------------------------------------------------- views
+
+function header() {
+  const picker = h('select', { id: 'lang', 'aria-label': t('language.label'), onchange: async (e) => {
+    await setLanguage(e.target.value);
+    await store.setSetting('lang', e.target.value);
+    render();
+  } }, LANGUAGES.map((l) => h('option', { value: l, selected: l === language() }, t(`language.${l}`))));
+  return h('header', { class: 'bar' },
+    h('h1', {}, t('app_name')),
+    h('label', { class: 'lang' }, h('span', { class: 'sr' }, t('language.label')), picker));
+}
+
+async function viewHome() {
+  const list = await store.trips();
+  const counts = new Map();
+  for (const r of await store.allReports()) if (r.state === 'unsent') counts.set(r.bundle_id, (counts.get(r.bundle_id) || 0) + 1);
+  const input = h('input', { type: 'file', id: 'bundle-file', accept: '.zip,application/zip', onchange: onBundleChosen });
+  return [
+    h('section', { class: 'card' },
+      h('h2', {}, t('home.open_title')),
+      h('p', {}, t('home.open_help')),
+      h('label', { for: 'bundle-file', class: 'button primary' }, t('home.open_button')),
+      input),
+    h('section', { class: 'card' },
+      h('h2', {}, t('home.trips_title')),
+      list.length === 0 ? h('p', {}, t('home.no_trips'))
+        : h('ul', { class: 'list', id: 'trips' }, list.sort((a, b) => (a.opened_at < b.opened_at ? 1 : -1)).map((tr) => {
+          const expired = Date.now() >= Date.parse(tr.manifest.expires_at);
+          return h('li', {},
+            h('button', { class: 'row', 'data-bundle': tr.bundle_id, onclick: () => openTrip(tr.bundle_id) },
+              h('strong', {}, tr.manifest.team),
+              h('span', {}, t('home.trip_line', { stops: tr.route.length, due: dateTime(tr.manifest.due_at) })),
+              h('span', { class: 'badge unsent' }, t('home.trip_unsent', { n: counts.get(tr.bundle_id) || 0 })),
+              expired ? h('span', { class: 'badge refused' }, t('home.trip_expired')) : null));
+        }))),
+  ];
+}
+
+function viewCautions() {
+  return [
+    h('section', { class: 'card cautions', id: 'cautions' },
+      h('h2', {}, t('safety.title')),
+      h('ul', {},
+        h('li', {}, h('strong', {}, t('safety.danger')), ' ', t('safety.danger_more')),
+        h('li', {}, t('safety.protocol')),
+        h('li', {}, t('safety.consent')),
+        h('li', {}, t('safety.sensitive')),
+        h('li', {}, t('safety.evidence'))),
+      h('button', { class: 'button primary', id: 'cautions-ok', onclick: () => go('trip') }, t('safety.ok'))),
+  ];
+}
+
+function tripHead() {
+  const m = state.trip.manifest;
+  return h('section', { class: 'card trip-head' },
+    h('h2', {}, m.team),
+    h('p', {}, t('trip.due', { due: dateTime(m.due_at), expires: dateTime(m.expires_at) })),
+    h('p', { id: 'fix', class: 'fix' }, fixText()),
+    h('p', { id: 'storage', class: 'storage' }, ''),
+    h('div', { class: 'actions' },
+      h('button', { class: 'button', id: 'to-trips', onclick: () => go('home') }, t('nav.trips')),
+      state.view === 'send' ? h('button', { class: 'button', id: 'to-stops', onclick: () => go('trip') }, t('nav.stops')) : null,
+      h('button', { class: 'button', onclick: () => go('cautions') }, t('nav.safety')),
+      h('button', { class: 'button primary', id: 'go-send', onclick: () => { state.sendResult = null; go('send'); } }, t('nav.send'))));
+}
+
+function viewTrip() {
+  const stops = stopsOf(state.trip);
+  return [
+    tripHead(),
+    h('section', { class: 'card' },
+      h('h2', {}, t('trip.stops_title')),
+      h('ol', { class: 'list stops', id: 'stops' }, stops.map((s, i) => {
+        const st = stopState(s.code);
+        return h('li', { 'data-code': s.code, 'data-state': st },
+          h('button', { class: 'row', onclick: () => openStop(s.code) },
+            h('strong', {}, `${i + 1}. ${s.code}`),
+            h('span', {}, s.kind === 'event' ? t('stop.kind_event', { area: number(s.area_ha, 2) }) : t('stop.kind_control')),
+            h('span', { class: `badge ${st}` }, t(`state.${st}`))),
+          h('button', { class: 'button danger small', 'data-safety': s.code, onclick: () => quickSafety(s) }, t('stop.safety_button')));
+      }))),
+  ];
+}
+
+function viewStop() {
+  const s = state.stop;
+  const reps = reportsFor(s.code);
+  const facts = s.kind === 'event'
+    ? [
+      [t('stop.first_detected'), date(s.first_detected)],
+      [t('stop.last_detected'), date(s.last_detected)],
+      [t('stop.area'), t('stop.area_value', { n: number(s.area_ha, 2) })],
+      [t('stop.sources'), s.sources.join(', ')],
+    ]
+    : [];
+  facts.push([t('stop.target'), `${s.lat.toFixed(6)}, ${s.lon.toFixed(6)}`]);
+  return [
+    h('section', { class: 'card' },
+      h('h2', { id: 'stop-title' }, s.kind === 'event' ? t('stop.title_event', { code: s.code }) : t('stop.title_control', { code: s.code })),
+      h('dl', { class: 'facts' }, facts.map(([k, v]) => [h('dt', {}, k), h('dd', {}, v)])),
+      h('div', { class: 'way' },
+        h('span', { id: 'arrow', class: 'arrow', 'aria-hidden': 'true' }, '↑'),
+        h('p', { id: 'way', 'aria-live': 'polite' }, wayText(s))),
+      h('p', { id: 'fix', class: 'fix' }, fixText()),
+      h('p', { id: 'storage', class: 'storage' }, ''),
+      h('div', { class: 'actions' },
+        h('button', { class: 'button', id: 'to-stops', onclick: () => go('trip') }, t('nav.stops')),
+        h('button', { class: 'button primary', id: 'record', onclick: () => startForm(s, null) }, t('stop.record')),
+        h('button', { class: 'button danger', onclick: () => quickSafety(s) }, t('stop.safety_button')))),
+    h('section', { class: 'card' },
+      h('h2', {}, t('stop.reports_title')),
+      reps.length === 0 ? h('p', {}, t('stop.no_reports'))
+        : h('ul', { class: 'list' }, reps.map((r) => h('li', { class: 'report', 'data-report': r.report_id },
+          h('p', {}, h('strong', {}, token('outcome', r.report.outcome)),
+            r.report.reason ? ` · ${token('reason', r.report.reason)}` : '',
+            r.report.cause ? ` · ${token('cause', r.report.cause)}` : ''),
+          h('p', {}, t('report.line', { when: dateTime(r.report.recorded_at), photos: r.report.photos.length })),
+          r.report.supersedes ? h('p', {}, t('report.corrects')) : null,
+          h('p', {}, h('span', { class: `badge ${r.state}` }, t(`send_state.${r.state}`)), r.reason ? ` ${r.reason}` : ''),
+          h('button', { class: 'button small', 'data-correct': r.report_id, onclick: () => startForm(s, r.report) }, t('report.correct')))))),
+  ];
+}
+
+function choiceGroup(name, legend, values, group, selected) {
+  return h('fieldset', { class: 'choices', id: `group-${name}` },
+    h('legend', {}, legend),
+    values.map((v) => h('label', { class: 'choice' },
+      h('input', { type: 'radio', name, value: v, checked: v === selected, onchange: () => { state.form[name] = v; showGroups(); } }),
+      h('span', {}, token(group, v)))));
+}
+
+function showGroups() {
+  const f = state.form;
+  const show = (id, on) => { const el = document.getElementById(id); if (el) el.hidden = !on; };
+  show('group-false_alarm_reason', f.outcome === 'false_alarm');
+  show('group-not_reached_reason', f.outcome === 'not_reached');
+  show('group-cause', f.outcome === 'confirmed');
+}
+
+function photoList() {
+  const f = state.form;
+  return h('ul', { class: 'list photos', id: 'photo-list' },
+    [...f.keptPhotos.map((p) => ({ ...p, kept: true })), ...f.newPhotos].map((p) => h('li', { 'data-sha': p.sha256 },
+      p.bytes ? h('img', { src: URL.createObjectURL(new Blob([p.bytes], { type: 'image/jpeg' })), alt: t('form.photo_alt', { name: p.original_name }) }) : null,
+      h('span', {}, `${p.original_name} · ${bytesText(p.size)}`),
+      h('button', { class: 'button small', type: 'button', onclick: () => {
+        f.keptPhotos = f.keptPhotos.filter((q) => q.sha256 !== p.sha256);
+        f.newPhotos = f.newPhotos.filter((q) => q.sha256 !== p.sha256);
+        document.getElementById('photo-list').replaceWith(photoList());
+      } }, t('form.photo_remove')))));
+}
+
+async function onPhotos(e) {
+  const f = state.form;
+  for (const file of e.target.files) {
+    const bytes = new Uint8Array(await file.arrayBuffer());
+    if (bytes.length > MAX_PHOTO_BYTES) { say('error', t('problem.photo_large', { name: file.name })); continue; }
+    if (!(bytes[0] === 0xff && bytes[1] === 0xd8 && bytes[2] === 0xff)) { say('error', t('problem.photo_not_jpeg', { name: file.name })); continue; }
+    const sha256 = await sha256Hex(bytes);
+    if ([...f.keptPhotos, ...f.newPhotos].some((p) => p.sha256 === sha256)) continue;
+    f.newPhotos.push({ sha256, bytes, size: bytes.length, original_name: [...file.name].slice(0, 255).join('') });
+  }
+  e.target.value = '';
+  document.getElementById('photo-list').replaceWith(photoList());
+  const n = document.getElementById('notice');
+  if (n) n.remove();
+  if (state.notice) document.querySelector('#record-form h2').after(notice());
+}
+
+function viewForm() {
+  const f = state.form;
+  const c = state.trip.checklist;
+  const s = state.stop;
+  return [
+    h('form', { class: 'card', id: 'record-form', onsubmit: (e) => { e.preventDefault(); saveForm(); } },
+      h('h2', {}, f.supersedes ? t('form.title_correct', { code: s.code }) : t('form.title', { code: s.code })),
+      notice(),
+      choiceGroup('outcome', t('form.outcome'), c.outcomes, 'outcome', f.outcome),
+      choiceGroup('false_alarm_reason', t('form.reason'), c.false_alarm_reasons, 'reason', f.false_alarm_reason),
+      choiceGroup('not_reached_reason', t('form.reason'), c.not_reached_reasons, 'reason', f.not_reached_reason),
+      choiceGroup('cause', t('form.cause'), c.causes, 'cause', f.cause),
+      h('label', { for: 'notes' }, t('form.notes')),
+      h('textarea', { id: 'notes', rows: '4', maxlength: '4000', oninput: (e) => { f.notes = e.target.value; } }, f.notes),
+      h('fieldset', { class: 'photos-box' },
+        h('legend', {}, t('form.photos', { min: c.min_photos_confirmed })),
+        h('label', { for: 'photo-camera', class: 'button' }, t('form.photo_camera')),
+        h('input', { type: 'file', id: 'photo-camera', accept: 'image/jpeg', capture: 'environment', onchange: onPhotos }),
+        h('label', { for: 'photo-gallery', class: 'button' }, t('form.photo_gallery')),
+        h('input', { type: 'file', id: 'photo-gallery', accept: 'image/jpeg', multiple: true, onchange: onPhotos }),
+        photoList()),
+      h('p', { class: 'fix' }, t('form.position'), ' ', h('span', { id: 'form-fix' }, fixText())),
+      h('div', { class: 'actions' },
+        h('button', { type: 'button', class: 'button', onclick: () => { state.notice = null; go('stop'); } }, t('form.cancel')),
+        h('button', { type: 'submit', class: 'button primary', id: 'save', disabled: state.busy }, t('form.save')))),
+  ];
+}
+
+async function viewSend() {
+  const list = unsent();
+  const refused = state.reports.filter((r) => r.state === 'rejected');
+  return [
+    tripHead(),
+    h('section', { class: 'card' },
+      h('h2', {}, t('send.title')),
+      notice(),
+      h('p', { id: 'unsent-count' }, t('send.unsent', { n: list.length })),
+      refused.length ? h('p', {}, t('send.refused', { n: refused.length })) : null,
+      h('h3', {}, t('send.file_title')),
+      h('p', {}, t('send.file_help')),
+      h('button', { class: 'button', id: 'save-file', disabled: list.length === 0 || state.busy, onclick: saveReturnFile }, t('send.file_button')),
+      h('h3', {}, t('send.online_title')),
+      h('p', {}, t('send.online_help')),
+      h('label', { for: 'team-token' }, t('send.token')),
+      h('input', { id: 'team-token', type: 'password', autocomplete: 'off', value: state.trip.team_token || '' }),
+      h('button', { class: 'button primary', id: 'send-now', disabled: list.length === 0 || state.busy, onclick: sendNow }, t('send.online_button')),
+      state.sendResult ? h('ul', { class: 'list', id: 'send-results' }, state.sendResult.map((r) => h('li', { 'data-report': r.report_id, 'data-status': r.status },
+        h('span', { class: `badge ${r.status}` }, t(`send_state.${r.status}`)), ' ', r.code || '', r.reason ? ` — ${r.reason}` : ''))) : null),
+  ];
+}
+
+async function render() {
+  const views = { home: viewHome, cautions: viewCautions, trip: viewTrip, stop: viewStop, form: viewForm, send: viewSend };
+  const body = await views[state.view]();
+  const m = main();
+  m.replaceChildren(header(), ...(state.view === 'form' || state.view === 'send' ? [] : [notice()]).filter(Boolean), ...body);
+  if (state.view === 'form') showGroups();
+  if (state.view !== 'home') storageLine();
+  updateWay();
+  document.title = t('app_name');
+}
+
+// ---------------------------------------------------------------- actions
+
+async function onBundleChosen(e) {
+  const file = e.target.files[0];
+  e.target.value = '';
+  if (!file) return;
+  try {
+    const bytes = new Uint8Array(await file.arrayBuffer());
+    const trip = await openBundle(bytes, new Date());
+    const old = await store.trip(trip.bundle_id);
+    if (old) trip.team_token = old.team_token;
+    await store.putTrip(trip);
+    say('ok', t('home.opened', { team: trip.manifest.team, stops: trip.route.length }));
+    await openTrip(trip.bundle_id, true);
+  } catch (err) {
+    if (err instanceof BundleError) say('error', t(err.key, err.params), err.detail);
+    else say('error', t('bundle.bad_zip'), String(err && err.message ? err.message : err));
+    go('home');
+  }
+}
+
+async function loadReports() {
+  state.reports = await store.reportsOf(state.trip.bundle_id);
+}
+
+async function openTrip(id, keepNotice = false) {
+  state.trip = await store.trip(id);
+  if (!state.trip) return go('home');
+  if (!keepNotice) state.notice = null;
+  await loadReports();
+  await store.setSetting('last_trip', id);
+  startWatching();
+  go('cautions');
+}
+
+function openStop(code) {
+  state.stop = stopsOf(state.trip).find((s) => s.code === code);
+  state.notice = null;
+  go('stop');
+}
+
+function startForm(stop, base) {
+  state.stop = stop;
+  state.notice = null;
+  state.form = {
+    supersedes: base ? base.report_id : null,
+    outcome: base ? base.outcome : null,
+    false_alarm_reason: base && base.outcome === 'false_alarm' ? base.reason : null,
+    not_reached_reason: base && base.outcome === 'not_reached' ? base.reason : null,
+    cause: base ? base.cause : null,
+    notes: base ? base.notes : '',
+    keptPhotos: base ? base.photos.map((p) => ({ ...p, size: 0 })) : [],
+    newPhotos: [],
+  };
+  if (base) {
+    // Sizes of kept photos, for the list.
+    Promise.all(state.form.keptPhotos.map(async (p) => { const s = await store.photo(p.sha256); p.size = s ? s.size : 0; }))
+      .then(() => { const el = document.getElementById('photo-list'); if (el) el.replaceWith(photoList()); });
+  }
+  go('form');
+}
+
+function target(stop) {
+  return stop.kind === 'event' ? { kind: 'event', code: stop.code, event_id: stop.event_id } : { kind: 'control', code: stop.code };
+}
+
+function position() {
+  if (!state.fix) return null;
+  return { lat: state.fix.lat, lon: state.fix.lon, accuracy_m: state.fix.accuracy, source: 'manual' };
+}
+
+/** Builds, checks and stores a report; true when it is on the phone. */
+async function storeReport(fields, newPhotos) {
+  const now = new Date().toISOString();
+  const report = makeReport({
+    report_id: crypto.randomUUID(),
+    bundle_id: state.trip.bundle_id,
+    target: target(state.stop),
+    position: position(),
+    observed_at: now,
+    recorded_at: now,
+    ...fields,
+  });
+  try {
+    validateReport(report, state.trip.checklist);
+  } catch (err) {
+    if (err instanceof ReportProblem) {
+      const hint = err.key === 'problem.required_position' ? ` ${t('position.waiting')}` : '';
+      say('error', t(err.key, err.params) + hint);
+      return false;
+    }
+    throw err;
+  }
+  const size = new TextEncoder().encode(JSON.stringify(report)).length
+    + newPhotos.reduce((s, p) => s + p.bytes.length, 0);
+  try {
+    await store.saveReport({ report_id: report.report_id, bundle_id: report.bundle_id, report, state: 'unsent', reason: null, size },
+      newPhotos.map((p) => ({ sha256: p.sha256, bytes: p.bytes })));
+  } catch (err) {
+    const full = err && err.name === 'QuotaExceededError';
+    say('error', t(full ? 'problem.storage_full' : 'problem.not_saved'), String(err && err.message ? err.message : err));
+    return false;
+  }
+  await loadReports();
+  return true;
+}
+
+async function saveForm() {
+  const f = state.form;
+  state.busy = true;
+  const photos = [...f.keptPhotos, ...f.newPhotos].map((p) => ({
+    sha256: p.sha256, original_name: p.original_name, taken_at: p.taken_at ?? null, lat: p.lat ?? null, lon: p.lon ?? null, direction_deg: p.direction_deg ?? null,
+  }));
+  const reason = f.outcome === 'false_alarm' ? f.false_alarm_reason : f.outcome === 'not_reached' ? f.not_reached_reason : null;
+  const ok = await storeReport({
+    supersedes: f.supersedes,
+    outcome: f.outcome,
+    reason,
+    cause: f.outcome === 'confirmed' ? f.cause : null,
+    notes: f.notes,
+    photos,
+  }, f.newPhotos).finally(() => { state.busy = false; });
+  if (ok) {
+    say('ok', t('form.saved', { code: state.stop.code }));
+    go('stop');
+  } else {
+    go('form');
+  }
+}
+
+async function quickSafety(stop) {
+  state.stop = stop;
+  if (!state.trip.checklist.outcomes.includes('not_reached') || !state.trip.checklist.not_reached_reasons.includes('safety') || !state.fix) {
+    startForm(stop, null);
+    state.form.outcome = 'not_reached';
+    state.form.not_reached_reason = 'safety';
+    return go('form');
+  }
+  const ok = await storeReport({ outcome: 'not_reached', reason: 'safety' }, []);
+  if (ok) say('ok', t('form.saved_safety', { code: stop.code }));
+  go(state.view === 'stop' ? 'stop' : 'trip');
+}
+
+async function buildReturn() {
+  const list = unsent();
+  return packReturn(state.trip, list.map((r) => r.report), async (sha) => {
+    const p = await store.photo(sha);
+    return p ? p.bytes : null;
+  });
+}
+
+async function saveReturnFile() {
+  state.busy = true;
+  try {
+    const { bytes } = await buildReturn();
+    const stamp = new Date().toISOString().replace(/[:]/g, '').slice(0, 15);
+    const a = h('a', { href: URL.createObjectURL(new Blob([bytes], { type: 'application/zip' })), download: `return-${stamp}.zip` });
+    document.body.append(a);
+    a.click();
+    a.remove();
+    say('ok', t('send.file_done'));
+  } catch (err) {
+    say('error', t('send.pack_failed'), String(err && err.message ? err.message : err));
+  } finally {
+    state.busy = false;
+  }
+  go('send');
+}
+
+async function sendNow() {
+  const tokenValue = document.getElementById('team-token').value.trim();
+  state.trip.team_token = tokenValue;
+  await store.putTrip(state.trip);
+  state.busy = true;
+  state.sendResult = null;
+  render();
+  try {
+    const { bytes, reportIds } = await buildReturn();
+    let r;
+    try {
+      r = await fetch('/api/v1/returns', {
+        method: 'POST',
+        headers: { 'Content-Type': 'application/zip', ...(tokenValue ? { Authorization: `Bearer ${tokenValue}` } : {}) },
+        body: bytes,
+        credentials: 'omit',
+      });
+    } catch (_) {
+      say('error', t('send.offline'));
+      return;
+    }
+    const doc = await r.json().catch(() => ({}));
+    if (!r.ok) {
+      const key = r.status === 401 || r.status === 403 ? 'send.token_refused' : 'send.refused_whole';
+      say('error', t(key), doc.error || String(r.status));
+      return;
+    }
+    const changes = new Map();
+    const results = [];
+    for (const res of doc.results || []) {
+      if (!reportIds.includes(res.report_id)) continue;
+      const st = res.status === 'accepted' || res.status === 'duplicate' ? res.status : 'rejected';
+      changes.set(res.report_id, { state: st, reason: res.reason || null });
+      const entry = state.reports.find((x) => x.report_id === res.report_id);
+      results.push({ report_id: res.report_id, status: st, reason: res.reason || '', code: entry ? entry.report.target.code : '' });
+    }
+    await store.markReports(changes);
+    await loadReports();
+    state.sendResult = results;
+    say('ok', t('send.done', {
+      accepted: results.filter((x) => x.status === 'accepted').length,
+      duplicate: results.filter((x) => x.status === 'duplicate').length,
+      rejected: results.filter((x) => x.status === 'rejected').length,
+    }));
+  } catch (err) {
+    say('error', t('send.pack_failed'), String(err && err.message ? err.message : err));
+  } finally {
+    state.busy = false;
+    render();
+  }
+}
+
+// ---------------------------------------------------------------- start
+
+async function start() {
+  if (!window.isSecureContext || !window.crypto || !crypto.subtle || !window.indexedDB) {
+    // Without a secure context there is no WebCrypto and no service worker:
+    // say so instead of failing later.
+    await setLanguage(pickLanguage(null));
+    main().replaceChildren(h('div', { class: 'notice error', role: 'alert', id: 'notice' }, h('p', {}, t('app.insecure'))));
+    document.body.dataset.ready = 'insecure';
+    return;
+  }
+  await setLanguage(pickLanguage(await store.getSetting('lang')));
+  if ('serviceWorker' in navigator) {
+    try {
+      await navigator.serviceWorker.register('./sw.js', { scope: './' });
+    } catch (_) { /* the app still works online */ }
+  }
+  if (navigator.storage && navigator.storage.persist) navigator.storage.persist().catch(() => {});
+  const last = await store.getSetting('last_trip');
+  if (last && (await store.trip(last))) await openTrip(last);
+  else render();
+  document.body.dataset.ready = 'yes';
+}
+
+start();

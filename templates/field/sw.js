@@ -1,0 +1,48 @@
+// The field app's service worker: on install it caches every file of the
+// app (the list below is the whole app; the server's test checks it against
+// what the server serves), and then answers from that cache first, so the
+// app opens with no network at all, also after a reload or a restart.
+// Requests outside the app (the API) always go to the network.
+
+const VERSION = 'groundproof-field-1';
+const FILES = [
+  './',
+  './index.html',
+  './app.js',
+  './app.css',
+  './bundle.js',
+  './crypto.js',
+  './geo.js',
+  './i18n.js',
+  './report.js',
+  './returnpkg.js',
+  './store.js',
+  './icon.svg',
+  './manifest.webmanifest',
+  './i18n/en.json',
+  './i18n/es.json',
+  './i18n/fr.json',
+  './i18n/id.json',
+  './i18n/pt.json',
+  './vendor/fflate.js',
+];
+
+self.addEventListener('install', (event) => {
+  event.waitUntil(caches.open(VERSION).then((c) => c.addAll(FILES)).then(() => self.skipWaiting()));
+});
+
+self.addEventListener('activate', (event) => {
+  event.waitUntil(caches.keys()
+    .then((keys) => Promise.all(keys.filter((k) => k !== VERSION).map((k) => caches.delete(k))))
+    .then(() => self.clients.claim()));
+});
+
+self.addEventListener('fetch', (event) => {
+  const url = new URL(event.request.url);
+  const scope = new URL(self.registration.scope);
+  if (event.request.method !== 'GET' || url.origin !== scope.origin || !url.pathname.startsWith(scope.pathname)) return;
+  event.respondWith(caches.open(VERSION).then(async (cache) => {
+    const hit = await cache.match(event.request, { ignoreSearch: true });
+    return hit || fetch(event.request);
+  }));
+});

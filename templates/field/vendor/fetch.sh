@@ -1,0 +1,36 @@
+#!/bin/sh
+# Fetches the vendored JavaScript libraries of the field app again from the
+# npm registry, at the pinned versions, and checks them against SHA256SUMS.
+# Needs curl, tar and sha256sum (no Node, no npm).
+#
+#   templates/field/vendor/fetch.sh           # check what is here against a fresh download
+#   templates/field/vendor/fetch.sh --write   # replace the files here with the fresh download
+#
+# Library | version | file here         | from the package    | licence
+# fflate  | 0.8.3   | fflate.js         | esm/browser.js      | MIT (fflate.LICENSE)
+set -eu
+
+here=$(cd "$(dirname "$0")" && pwd)
+registry=${NPM_REGISTRY:-https://registry.npmjs.org}
+work=$(mktemp -d)
+trap 'rm -rf "$work"' EXIT
+
+fetch() { # name version
+    curl -sSfL -o "$work/$1-$2.tgz" "$registry/$1/-/$1-$2.tgz"
+    mkdir -p "$work/$1"
+    tar -xzf "$work/$1-$2.tgz" -C "$work/$1"
+}
+
+fetch fflate 0.8.3
+cp "$work/fflate/package/esm/browser.js" "$work/fflate.js"
+cp "$work/fflate/package/LICENSE" "$work/fflate.LICENSE"
+
+# Every line of SHA256SUMS must match the fresh download.
+(cd "$work" && sha256sum -c "$here/SHA256SUMS")
+
+if [ "${1:-}" = "--write" ]; then
+    cp "$work/fflate.js" "$work/fflate.LICENSE" "$here/"
+    echo "vendored files replaced"
+fi
+# And the files here must match too.
+(cd "$here" && grep -v '\.tgz$' SHA256SUMS | sha256sum -c -)

@@ -1,0 +1,684 @@
+//! Browser test of the field app (`/field/`) in headless Chromium, driven
+//! over WebDriver as the pages' test is: the real server on a random
+//! loopback port with the invented scenario, a bundle issued over the API.
+//!
+//! The walk: the app loads with no login; a tampered trip file and an
+//! expired one are refused with the catalogue's message and nothing is
+//! kept; the real one opens on
+//! the safety cautions, then the stops in visit order; with the phone's
+//! position set (DevTools geolocation override) 500 m south of the first
+//! stop, the distance and bearing match the field kit's geodesy (Karney,
+//! geographiclib) within 1 m and 1°, and follow the phone as it moves; a confirmed visit with one photo is
+//! refused by the checklist (two needed), then saved with two JPEGs with
+//! EXIF; "not reached: safety" is one tap on the second stop; the return
+//! file saved for the station opens with the sync crate's reader
+//! (signature, checksums, both reports); the return is sent with the team
+//! token, and the server holds both
+//! reports, the photos byte-identical (same SHA-256, same bytes on disk);
+//! a correction of the safety report is sent and stored as a new report
+//! naming the one it supersedes; a second team's trip opens beside the
+//! first without mixing their stops or reports.
+//! Then the server stops and the app loads again from its service worker,
+//! opens the trip from the phone's store and switches to Portuguese.
+//!
+//! No console error is allowed at any step. Fails when `CI` is set and
+//! Chromium or ChromeDriver is missing; elsewhere it says SKIP on stderr.
+
+#[path = "webdriver.rs"]
+#[allow(dead_code)]
+mod webdriver;
+
+use groundproof_e2e::{TestServer, get_bytes, load_scenario, post_json};
+use groundproof_sync::bundle::open_bundle;
+use groundproof_sync::field::distance_bearing;
+use mock_patrols::photos::{PhotoMetaIn, make_photo};
+use serde_json::{Value, json};
+use std::io::{Read, Write};
+use std::path::{Path, PathBuf};
+use std::time::{Duration, Instant};
+use webdriver::Browser;
+
+/// Waits until the script expression `expr` is truthy; panics with `what`.
+fn wait_for(b: &Browser, expr: &str, what: &str) -> Value {
+    let start = Instant::now();
+    loop {
+        let v = b.script(&format!("return ({expr});"));
+        let truthy = match &v {
+            Value::Null => false,
+            Value::Bool(x) => *x,
+            Value::String(s) => !s.is_empty(),
+            Value::Number(n) => n.as_f64() != Some(0.0),
+            _ => true,
+        };
+        if truthy {
+            return v;
+        }
+        assert!(
+            start.elapsed() < Duration::from_secs(30),
+            "waited 30 s for {what}; the page says:\n{}",
+            b.text("body")
+        );
+        std::thread::sleep(Duration::from_millis(100));
+    }
+}
+
+/// No console error since the last check.
+fn assert_clean(b: &Browser, step: &str) {
+    let errors: Vec<String> = b
+        .console()
+        .into_iter()
+        .filter(|e| e.level == "SEVERE")
+        .map(|e| format!("{} {}", e.source, e.message))
+        .collect();
+    assert!(errors.is_empty(), "{step}: console errors: {errors:#?}");
+    let unlabelled = b.script(
+        "return Array.from(document.querySelectorAll('input, select, textarea'))\
+         .filter(e => !(e.labels && e.labels.length) && !e.getAttribute('aria-label'))\
+         .map(e => e.outerHTML.slice(0, 160));",
+    );
+    assert_eq!(
+        unlabelled.as_array().map_or(0, Vec::len),
+        0,
+        "{step}: form controls without a label: {unlabelled}"
+    );
+}
+
+/// The same ZIP with one byte of `events.geojson` changed (the manifest
+/// still lists the old checksum).
+fn tamper(bundle: &[u8]) -> Vec<u8> {
+    let mut src = zip::ZipArchive::new(std::io::Cursor::new(bundle)).expect("bundle zip");
+    let mut out = zip::ZipWriter::new(std::io::Cursor::new(Vec::new()));
+    for i in 0..src.len() {
+        let mut e = src.by_index(i).expect("entry");
+        let name = e.name().expect("entry name").to_string();
+        let mut bytes = Vec::new();
+        e.read_to_end(&mut bytes).expect("entry bytes");
+        if name == "events.geojson" {
+            let at = bytes
+                .iter()
+                .position(|c| c.is_ascii_digit())
+                .expect("a digit");
+            bytes[at] = if bytes[at] == b'9' {
+                b'8'
+            } else {
+                bytes[at] + 1
+            };
+        }
+        out.start_file(name, zip::write::SimpleFileOptions::default())
+            .expect("start");
+        out.write_all(&bytes).expect("write");
+    }
+    out.finish().expect("finish").into_inner()
+}
+
+/// The same ZIP with the manifest's times moved a year into the past: a
+/// well-formed bundle that has expired (the manifest carries no checksum
+/// of itself).
+fn expire(bundle: &[u8]) -> Vec<u8> {
+    let mut src = zip::ZipArchive::new(std::io::Cursor::new(bundle)).expect("bundle zip");
+    let mut out = zip::ZipWriter::new(std::io::Cursor::new(Vec::new()));
+    let past = chrono::Utc::now() - chrono::Duration::days(365);
+    for i in 0..src.len() {
+        let mut e = src.by_index(i).expect("entry");
+        let name = e.name().expect("entry name").to_string();
+        let mut bytes = Vec::new();
+        e.read_to_end(&mut bytes).expect("entry bytes");
+        if name == "manifest.json" {
+            let mut m: Value = serde_json::from_slice(&bytes).expect("manifest");
+            for (k, days) in [("issued_at", 0), ("due_at", 1), ("expires_at", 2)] {
+                m[k] = json!(
+                    (past + chrono::Duration::days(days))
+                        .to_rfc3339_opts(chrono::SecondsFormat::Secs, true)
+                );
+            }
+            bytes = serde_json::to_vec_pretty(&m).expect("json");
+        }
+        out.start_file(name, zip::write::SimpleFileOptions::default())
+            .expect("start");
+        out.write_all(&bytes).expect("write");
+    }
+    out.finish().expect("finish").into_inner()
+}
+
+fn photo(dir: &Path, seed: u64, lat: f64, lon: f64) -> (PathBuf, Vec<u8>) {
+    let bytes = make_photo(
+        seed,
+        480,
+        360,
+        &PhotoMetaIn {
+            taken_at_rfc3339: "2026-11-20T10:15:00Z".into(),
+            lat,
+            lon,
+            direction_deg: 90.0,
+        },
+    );
+    assert!(bytes.starts_with(&[0xff, 0xd8, 0xff]), "a JPEG");
+    let path = dir.join(format!("IMG_{seed}.jpg"));
+    std::fs::write(&path, &bytes).expect("photo file");
+    (path, bytes)
+}
+
+/// Saves the viewport as `CARGO_TARGET_TMPDIR/field-screenshots/<stem>.png`.
+fn shot(b: &Browser, stem: &str) {
+    let dir = Path::new(env!("CARGO_TARGET_TMPDIR")).join("field-screenshots");
+    std::fs::create_dir_all(&dir).expect("screenshot folder");
+    let path = dir.join(format!("{stem}.png"));
+    b.screenshot(&path);
+    println!("screenshot: {}", path.display());
+}
+
+fn sha256(bytes: &[u8]) -> String {
+    groundproof_sync::bundle::sha256_hex(bytes)
+}
+
+#[test]
+fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
+    let b = match Browser::start() {
+        Ok(b) => b,
+        Err(e) => {
+            groundproof_e2e::missing(&e.to_string());
+            return;
+        }
+    };
+    let s = TestServer::start();
+    load_scenario(&s);
+    let work = tempfile::tempdir().expect("work folder");
+    let station = mock_patrols::scenario().station;
+    let r = post_json(
+        &s.url("/api/v1/bundles"),
+        &json!({"team": "Team Amber", "zone": "Core", "max": 4,
+                "start": {"lat": station.1, "lon": station.0}}),
+    );
+    assert_eq!(r.status, 201, "{}", r.body);
+    let (status, zip) = get_bytes(&s.url(r.json()["download"].as_str().expect("download")));
+    assert_eq!(status, 200);
+    let bundle_path = work.path().join("bundle.zip");
+    std::fs::write(&bundle_path, &zip).expect("bundle saved");
+    let bundle = open_bundle(&bundle_path, chrono::Utc::now()).expect("the bundle opens in Rust");
+    assert!(bundle.route.len() >= 2, "at least two stops");
+    let tampered_path = work.path().join("tampered.zip");
+    std::fs::write(&tampered_path, tamper(&zip)).expect("tampered saved");
+    let expired_path = work.path().join("expired.zip");
+    std::fs::write(&expired_path, expire(&zip)).expect("expired saved");
+    let (_, team_token) = groundproof::platform::auth::issue_team_token(
+        &s.db,
+        "Team Amber",
+        groundproof::platform::auth::now_unix(),
+    )
+    .expect("team token");
+
+    // The phone stands 500 m or so south of the first stop.
+    let first = bundle
+        .events
+        .iter()
+        .find(|e| e.code == bundle.route[0])
+        .expect("the first stop is an event");
+    let (t_lat, t_lon) = (first.centroid.y(), first.centroid.x());
+    let (p_lat, p_lon) = (t_lat - 0.0045, t_lon + 0.001);
+    b.goto(&s.url("/field/"));
+    // A phone-sized screen.
+    b.cdp(
+        "Emulation.setDeviceMetricsOverride",
+        json!({"width": 390, "height": 844, "deviceScaleFactor": 1, "mobile": true}),
+    );
+    b.cdp(
+        "Browser.grantPermissions",
+        json!({"origin": s.url(""), "permissions": ["geolocation"]}),
+    );
+    b.cdp(
+        "Emulation.setGeolocationOverride",
+        json!({"latitude": p_lat, "longitude": p_lon, "accuracy": 7}),
+    );
+
+    // The app loads with no login, in English on an English browser.
+    b.goto(&s.url("/field/"));
+    wait_for(
+        &b,
+        "document.body.dataset.ready === 'yes'",
+        "the app to start",
+    );
+    assert!(b.current_url().ends_with("/field/"), "{}", b.current_url());
+    assert!(
+        b.text("h1").contains("Groundproof field"),
+        "{}",
+        b.text("h1")
+    );
+    assert_clean(&b, "first load");
+
+    // A tampered trip file is refused, and no trip is kept.
+    b.choose_file("#bundle-file", &tampered_path);
+    let msg = wait_for(
+        &b,
+        "document.querySelector('.notice.error') && document.querySelector('.notice.error').textContent",
+        "the refusal",
+    );
+    let msg = msg.as_str().unwrap_or_default();
+    assert!(msg.contains("changed or damaged"), "{msg}");
+    assert!(msg.contains("events.geojson"), "{msg}");
+    assert!(b.find_all("#trips").is_empty(), "no trip kept");
+    assert_clean(&b, "tampered bundle");
+    shot(&b, "tampered");
+
+    // So is an expired one.
+    b.choose_file("#bundle-file", &expired_path);
+    let msg = wait_for(
+        &b,
+        "document.querySelector('.notice.error') && document.querySelector('.notice.error').textContent.includes('expired') && document.querySelector('.notice.error').textContent",
+        "the refusal of the expired bundle",
+    );
+    assert!(
+        msg.as_str()
+            .unwrap_or_default()
+            .contains("Ask the office for a new one"),
+        "{msg}"
+    );
+    assert!(b.find_all("#trips").is_empty(), "no trip kept");
+    assert_clean(&b, "expired bundle");
+
+    // The real one opens on the safety cautions.
+    b.choose_file("#bundle-file", &bundle_path);
+    wait_for(&b, "document.getElementById('cautions')", "the cautions");
+    let cautions = b.text("#cautions");
+    for needle in [
+        "Safety first",
+        "armed people",
+        "safety rules and the local law",
+        "agree",
+        "licensed people",
+    ] {
+        assert!(cautions.contains(needle), "{needle:?} in {cautions}");
+    }
+    assert_clean(&b, "cautions");
+    shot(&b, "cautions");
+    b.click("#cautions-ok");
+    wait_for(&b, "document.getElementById('stops')", "the stops");
+    let codes = b.script(
+        "return Array.from(document.querySelectorAll('#stops > li')).map(li => li.dataset.code);",
+    );
+    let codes: Vec<String> = codes
+        .as_array()
+        .expect("codes")
+        .iter()
+        .map(|c| c.as_str().unwrap_or_default().to_string())
+        .collect();
+    assert_eq!(codes, bundle.route, "stops in visit order");
+    let states = b.script(
+        "return Array.from(document.querySelectorAll('#stops > li')).map(li => li.dataset.state);",
+    );
+    assert!(
+        states
+            .as_array()
+            .expect("states")
+            .iter()
+            .all(|s| s == "not_visited"),
+        "{states}"
+    );
+
+    // The stop: its facts, and the way from the phone.
+    b.click(&format!("#stops > li[data-code='{}'] .row", first.code));
+    wait_for(
+        &b,
+        "document.getElementById('way') && document.getElementById('way').dataset.distance",
+        "the distance to the stop",
+    );
+    let (want_d, want_b) = distance_bearing(p_lat, p_lon, t_lat, t_lon);
+    let got_d: f64 = b
+        .script("return Number(document.getElementById('way').dataset.distance);")
+        .as_f64()
+        .expect("distance");
+    let got_b: f64 = b
+        .script("return Number(document.getElementById('way').dataset.bearing);")
+        .as_f64()
+        .expect("bearing");
+    assert!((got_d - want_d).abs() < 1.0, "distance {got_d} vs {want_d}");
+    let db = (got_b - want_b).rem_euclid(360.0);
+    assert!(db.min(360.0 - db) < 1.0, "bearing {got_b} vs {want_b}");
+    let stop_text = b.text("main");
+    assert!(
+        stop_text.contains(&format!("{t_lat:.6}, {t_lon:.6}")),
+        "{stop_text}"
+    );
+    assert!(stop_text.contains("± 7 m"), "accuracy shown: {stop_text}");
+    // Walking on: the way updates with the phone's position.
+    b.cdp(
+        "Emulation.setGeolocationOverride",
+        json!({"latitude": t_lat - 0.0009, "longitude": t_lon, "accuracy": 4}),
+    );
+    wait_for(
+        &b,
+        "Number(document.getElementById('way').dataset.distance) < 150",
+        "the distance to update",
+    );
+    let (want_d, _) = distance_bearing(t_lat - 0.0009, t_lon, t_lat, t_lon);
+    let got_d: f64 = b
+        .script("return Number(document.getElementById('way').dataset.distance);")
+        .as_f64()
+        .expect("distance");
+    assert!((got_d - want_d).abs() < 1.0, "distance {got_d} vs {want_d}");
+    b.cdp(
+        "Emulation.setGeolocationOverride",
+        json!({"latitude": p_lat, "longitude": p_lon, "accuracy": 7}),
+    );
+    wait_for(
+        &b,
+        "Number(document.getElementById('way').dataset.distance) > 400",
+        "the distance to update back",
+    );
+    assert_clean(&b, "stop");
+    shot(&b, "stop");
+
+    // A confirmed visit with one photo is refused by the checklist ...
+    let (p1, bytes1) = photo(work.path(), 1, p_lat, p_lon);
+    let (p2, bytes2) = photo(work.path(), 2, p_lat, p_lon);
+    b.click("#record");
+    b.click("input[name=outcome][value=confirmed]");
+    b.click("input[name=cause][value=mining]");
+    b.type_into("#notes", "Fresh pit and tailings by the stream.");
+    b.choose_file("#photo-gallery", &p1);
+    wait_for(
+        &b,
+        "document.querySelectorAll('#photo-list li').length === 1",
+        "one photo",
+    );
+    b.click("#save");
+    let msg = wait_for(
+        &b,
+        "document.querySelector('.notice.error') && document.querySelector('.notice.error').textContent",
+        "the checklist's refusal",
+    );
+    assert!(
+        msg.as_str()
+            .unwrap_or_default()
+            .contains("at least 2 photos"),
+        "{msg}"
+    );
+    // ... and saved with two.
+    b.choose_file("#photo-camera", &p2);
+    wait_for(
+        &b,
+        "document.querySelectorAll('#photo-list li').length === 2",
+        "two photos",
+    );
+    assert_clean(&b, "form");
+    shot(&b, "form");
+    b.click("#save");
+    wait_for(
+        &b,
+        "document.querySelector('.notice.ok') && document.getElementById('stop-title')",
+        "the saved report",
+    );
+    assert!(b.text(".notice.ok").contains("saved on this phone"));
+    let unsent = wait_for(
+        &b,
+        "document.getElementById('storage').textContent",
+        "the storage line",
+    );
+    assert!(
+        unsent
+            .as_str()
+            .unwrap_or_default()
+            .contains("Reports not sent: 1"),
+        "{unsent}"
+    );
+
+    // "Not reached: safety" is one tap on the next stop.
+    b.click("#to-stops");
+    wait_for(&b, "document.getElementById('stops')", "the stops again");
+    let second = &bundle.route[1];
+    b.click(&format!("button[data-safety='{second}']"));
+    wait_for(
+        &b,
+        &format!(
+            "document.querySelector(\"#stops > li[data-code='{second}']\").dataset.state === 'unsent'"
+        ),
+        "the safety report",
+    );
+    assert_eq!(
+        b.script(&format!(
+            "return document.querySelector(\"#stops > li[data-code='{}']\").dataset.state;",
+            first.code
+        )),
+        json!("unsent")
+    );
+    assert_clean(&b, "stops with reports");
+    shot(&b, "stops");
+
+    // The return file, saved for the station, opens with the sync crate's
+    // reader: signature, manifest, checksums and every report.
+    let downloads = work.path().join("downloads");
+    std::fs::create_dir_all(&downloads).expect("download folder");
+    b.cdp(
+        "Browser.setDownloadBehavior",
+        json!({"behavior": "allow", "downloadPath": downloads.display().to_string()}),
+    );
+    b.click("#go-send");
+    wait_for(&b, "document.getElementById('save-file')", "the send page");
+    b.click("#save-file");
+    let start = Instant::now();
+    let saved = loop {
+        let done: Vec<PathBuf> = std::fs::read_dir(&downloads)
+            .expect("downloads")
+            .filter_map(|e| e.ok().map(|e| e.path()))
+            .filter(|p| p.extension().is_some_and(|x| x == "zip"))
+            .collect();
+        if let Some(p) = done.into_iter().next() {
+            break p;
+        }
+        assert!(start.elapsed() < Duration::from_secs(30), "no return file");
+        std::thread::sleep(Duration::from_millis(100));
+    };
+    let key = bundle.upload_key.clone();
+    let opened = groundproof_sync::returns::open_return(
+        &saved,
+        |id, key_id| (*id == bundle.manifest.bundle_id && key_id == key.key_id).then_some(key.key),
+        &groundproof_sync::returns::ReturnLimits::default(),
+    )
+    .expect("the saved return opens with the sync reader");
+    assert_eq!(opened.reports.len(), 2, "{:?}", opened.rejected);
+    assert!(opened.rejected.is_empty(), "{:?}", opened.rejected);
+    assert_eq!(opened.manifest.photo_count, 2);
+    assert!(
+        b.text(".notice.ok").contains("Return file saved"),
+        "{}",
+        b.text("main")
+    );
+
+    // Send with the team token.
+    b.type_into("#team-token", &team_token);
+    b.click("#send-now");
+    wait_for(
+        &b,
+        "document.querySelectorAll('#send-results li').length === 2",
+        "the server's answer",
+    );
+    let results = b.script(
+        "return Array.from(document.querySelectorAll('#send-results li'))\
+         .map(li => [li.dataset.report, li.dataset.status]);",
+    );
+    let results = results.as_array().expect("results");
+    assert!(
+        results.iter().all(|r| r[1] == "accepted"),
+        "{results:?}: {}",
+        b.text("main")
+    );
+    assert_clean(&b, "sent");
+    shot(&b, "sent");
+
+    // The server holds both reports; the photos are the very same bytes.
+    let mut confirmed = 0;
+    for r in results {
+        let id = r[0].as_str().expect("report id");
+        let row =
+            s.db.read(|x| x.report(id))
+                .expect("read")
+                .unwrap_or_else(|| panic!("report {id} stored"));
+        assert_eq!(row.bundle_id, bundle.manifest.bundle_id.to_string());
+        assert_eq!(row.team, "Team Amber");
+        assert!((row.lat.expect("lat") - p_lat).abs() < 1e-9);
+        assert_eq!(row.accuracy_m, Some(7.0));
+        if row.outcome.as_str() == "confirmed" {
+            confirmed += 1;
+            assert_eq!(row.cause.map(|c| c.as_str()), Some("mining"));
+            let mut got: Vec<String> =
+                s.db.read(|x| x.report_photos(id))
+                    .expect("photos")
+                    .into_iter()
+                    .map(|p| p.sha256)
+                    .collect();
+            got.sort();
+            let mut want = vec![sha256(&bytes1), sha256(&bytes2)];
+            want.sort();
+            assert_eq!(got, want, "photo digests");
+            for (sha, bytes) in [(sha256(&bytes1), &bytes1), (sha256(&bytes2), &bytes2)] {
+                let stored =
+                    std::fs::read(groundproof::intake::layout::photo_path(s.data_dir(), &sha))
+                        .expect("stored photo");
+                assert_eq!(&stored, bytes, "photo {sha} byte-identical");
+            }
+        } else {
+            assert_eq!(row.outcome.as_str(), "not_reached");
+            assert_eq!(row.reason.map(|r| r.as_str()), Some("safety"));
+            assert_eq!(row.control_code.as_deref(), None);
+        }
+    }
+    assert_eq!(confirmed, 1);
+
+    // A correction: a new report that names the one it supersedes.
+    let (safety_id, _) = results
+        .iter()
+        .map(|r| (r[0].as_str().unwrap_or_default().to_string(), ()))
+        .find(|(id, _)| {
+            s.db.read(|x| x.report(id))
+                .ok()
+                .flatten()
+                .is_some_and(|row| row.outcome.as_str() == "not_reached")
+        })
+        .expect("the safety report");
+    b.click("#to-stops");
+    b.click(&format!("#stops > li[data-code='{second}'] .row"));
+    b.click(&format!("button[data-correct='{safety_id}']"));
+    b.click("input[name=not_reached_reason][value=terrain]");
+    b.click("#save");
+    wait_for(
+        &b,
+        "document.querySelector('.notice.ok') && document.getElementById('stop-title')",
+        "the saved correction",
+    );
+    assert!(b.text("main").contains("Corrects an earlier report"));
+    b.click("#to-stops");
+    b.click("#go-send");
+    wait_for(&b, "document.getElementById('send-now')", "the send page");
+    assert_eq!(
+        b.script("return document.getElementById('team-token').value;"),
+        json!(team_token),
+        "the token is kept with the trip"
+    );
+    b.click("#send-now");
+    wait_for(
+        &b,
+        "document.querySelectorAll('#send-results li').length === 1",
+        "the server's answer to the correction",
+    );
+    let fix = b.script(
+        "const li = document.querySelector('#send-results li'); return [li.dataset.report, li.dataset.status];",
+    );
+    assert_eq!(fix[1], "accepted", "{}", b.text("main"));
+    let row =
+        s.db.read(|x| x.report(fix[0].as_str().unwrap_or_default()))
+            .expect("read")
+            .expect("the correction is stored");
+    assert_eq!(row.supersedes.as_deref(), Some(safety_id.as_str()));
+    assert_eq!(row.reason.map(|r| r.as_str()), Some("terrain"));
+    assert_clean(&b, "correction sent");
+
+    // Several trips stay apart: a second team's trip opens with its own
+    // stops, none visited, and the first keeps its reports.
+    let r2 = post_json(
+        &s.url("/api/v1/bundles"),
+        &json!({"team": "Team Basalt", "zone": "Core", "max": 3,
+                "start": {"lat": station.1, "lon": station.0}}),
+    );
+    assert_eq!(r2.status, 201, "{}", r2.body);
+    let (status, zip2) = get_bytes(&s.url(r2.json()["download"].as_str().expect("download")));
+    assert_eq!(status, 200);
+    let bundle2_path = work.path().join("bundle2.zip");
+    std::fs::write(&bundle2_path, &zip2).expect("second bundle saved");
+    let bundle2 = open_bundle(&bundle2_path, chrono::Utc::now()).expect("second bundle");
+    b.click("#to-trips");
+    b.choose_file("#bundle-file", &bundle2_path);
+    wait_for(&b, "document.getElementById('cautions')", "the second trip");
+    b.click("#cautions-ok");
+    wait_for(
+        &b,
+        "document.getElementById('stops')",
+        "the second trip's stops",
+    );
+    let codes2 = b.script(
+        "return Array.from(document.querySelectorAll('#stops > li')).map(li => li.dataset.code);",
+    );
+    assert_eq!(codes2, json!(bundle2.route));
+    let states2 = b.script(
+        "return Array.from(document.querySelectorAll('#stops > li')).map(li => li.dataset.state);",
+    );
+    assert!(
+        states2
+            .as_array()
+            .expect("states")
+            .iter()
+            .all(|s| s == "not_visited"),
+        "{states2}"
+    );
+    b.click("#to-trips");
+    wait_for(
+        &b,
+        "document.querySelectorAll('#trips > li').length === 2",
+        "two trips on the phone",
+    );
+    b.click(&format!(
+        "button[data-bundle='{}']",
+        bundle.manifest.bundle_id
+    ));
+    b.click("#cautions-ok");
+    wait_for(
+        &b,
+        "document.getElementById('stops')",
+        "the first trip again",
+    );
+    assert_clean(&b, "two trips");
+
+    // The service worker controls the page; then the server goes away.
+    wait_for(
+        &b,
+        "navigator.serviceWorker.controller !== null",
+        "the service worker",
+    );
+    let app = s.url("/field/");
+    drop(s);
+    b.goto(&app);
+    wait_for(
+        &b,
+        "document.body.dataset.ready === 'yes' && document.getElementById('cautions')",
+        "the app from the service worker, on the last trip",
+    );
+    b.click("#cautions-ok");
+    wait_for(&b, "document.getElementById('stops')", "the stops offline");
+    assert_eq!(
+        b.script(&format!(
+            "return document.querySelector(\"#stops > li[data-code='{}']\").dataset.state;",
+            first.code
+        )),
+        json!("recorded"),
+        "the stop's report was received"
+    );
+    b.choose("#lang", "pt");
+    wait_for(
+        &b,
+        "document.documentElement.lang === 'pt' && document.getElementById('stops')",
+        "Portuguese",
+    );
+    let main = b.text("main");
+    assert!(main.contains("Paradas na ordem de visita"), "{main}");
+    assert!(main.contains("Recebido pelo escritório"), "{main}");
+    assert_clean(&b, "offline, in Portuguese");
+    shot(&b, "offline-pt");
+}
