@@ -68,7 +68,7 @@ const ZONES: [(&str, f64, f64, f64, f64); 4] = [
 ];
 const CAUSES: [&str; 5] = [
     "smallholder_clearing",
-    "pasture_conversion",
+    "plantation_or_pasture_conversion",
     "logging_road",
     "mining",
     "fire",
