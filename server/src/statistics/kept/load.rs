@@ -429,10 +429,7 @@ fn event_in_filter(e: &StatsEventRow, first: Day, filter: &StatsFilter) -> bool 
     if filter.zone.as_ref().is_some_and(|z| !e.zones.contains(z)) {
         return false;
     }
-    !filter
-        .source
-        .as_ref()
-        .is_some_and(|s| !e.sources.contains(s))
+    filter.source.as_ref().is_none_or(|s| e.sources.contains(s))
 }
 
 /// Whether event `e` was issued to or reported on by the selected team (any
