@@ -99,6 +99,41 @@ pub fn stratified_proportion(
     strata: &[StratumCount],
     fpc: Fpc,
 ) -> Result<Option<StratifiedProportion>, StatsError> {
+    check_strata(strata, fpc)?;
+    let population: f64 = strata.iter().map(|s| s.population).sum();
+    let covered: f64 = strata
+        .iter()
+        .filter(|s| s.population > 0.0 && s.sampled > 0)
+        .map(|s| s.population)
+        .sum();
+    if covered <= 0.0 {
+        return Ok(None);
+    }
+    let mut estimate = 0.0;
+    let mut variance = Some(0.0);
+    let mut results = Vec::with_capacity(strata.len());
+    for s in strata {
+        let r = stratum_result(s, fpc, covered);
+        if in_estimate(r.status) {
+            estimate += r.weight * r.proportion.unwrap_or(0.0);
+            variance = variance.zip(r.variance_contribution).map(|(v, c)| v + c);
+        }
+        results.push(r);
+    }
+    let se = variance.map(|v| v.max(0.0).sqrt());
+    let proportion = Estimate::normal(estimate, se, 0.0, 1.0);
+    Ok(Some(StratifiedProportion {
+        proportion,
+        total: proportion.scaled(covered),
+        population,
+        population_covered: covered,
+        fpc,
+        strata: results,
+    }))
+}
+
+/// The errors of [`stratified_proportion`], stratum by stratum.
+fn check_strata(strata: &[StratumCount], fpc: Fpc) -> Result<(), StatsError> {
     for (index, s) in strata.iter().enumerate() {
         if s.successes > s.sampled {
             return Err(StatsError::SuccessesExceedTrials {
@@ -124,77 +159,60 @@ pub fn stratified_proportion(
             });
         }
     }
-    let status_of = |s: &StratumCount| {
-        if s.population == 0.0 {
-            StratumStatus::Empty
-        } else if s.sampled == 0 {
-            StratumStatus::Unsampled
-        } else if fpc == Fpc::Apply && s.sampled as f64 == s.population {
-            StratumStatus::Census
-        } else if s.sampled == 1 {
-            StratumStatus::SingleUnit
-        } else {
-            StratumStatus::Estimated
-        }
+    Ok(())
+}
+
+fn status_of(s: &StratumCount, fpc: Fpc) -> StratumStatus {
+    if s.population == 0.0 {
+        StratumStatus::Empty
+    } else if s.sampled == 0 {
+        StratumStatus::Unsampled
+    } else if fpc == Fpc::Apply && s.sampled as f64 == s.population {
+        StratumStatus::Census
+    } else if s.sampled == 1 {
+        StratumStatus::SingleUnit
+    } else {
+        StratumStatus::Estimated
+    }
+}
+
+/// Whether a stratum with this status enters the estimate.
+fn in_estimate(status: StratumStatus) -> bool {
+    !matches!(status, StratumStatus::Empty | StratumStatus::Unsampled)
+}
+
+/// Stratum `s`'s weight, proportion and variance contribution, given the
+/// population `covered` by the sampled strata.
+fn stratum_result(s: &StratumCount, fpc: Fpc, covered: f64) -> StratumResult {
+    let status = status_of(s, fpc);
+    let weight = if in_estimate(status) {
+        s.population / covered
+    } else {
+        0.0
     };
-    let population: f64 = strata.iter().map(|s| s.population).sum();
-    let covered: f64 = strata
-        .iter()
-        .filter(|s| s.population > 0.0 && s.sampled > 0)
-        .map(|s| s.population)
-        .sum();
-    if covered <= 0.0 {
-        return Ok(None);
-    }
-    let mut estimate = 0.0;
-    let mut variance = Some(0.0);
-    let mut results = Vec::with_capacity(strata.len());
-    for s in strata {
-        let status = status_of(s);
-        let in_estimate = !matches!(status, StratumStatus::Empty | StratumStatus::Unsampled);
-        let weight = if in_estimate {
-            s.population / covered
-        } else {
-            0.0
-        };
-        let proportion = (s.sampled > 0).then(|| s.successes as f64 / s.sampled as f64);
-        let contribution = match (status, proportion) {
-            (StratumStatus::Estimated, Some(p)) => {
-                let n = s.sampled as f64;
-                let correction = match fpc {
-                    Fpc::Apply => 1.0 - n / s.population,
-                    Fpc::Ignore => 1.0,
-                };
-                Some(weight * weight * correction * p * (1.0 - p) / (n - 1.0))
-            }
-            (StratumStatus::SingleUnit, _) => None,
-            _ => Some(0.0),
-        };
-        if in_estimate {
-            estimate += weight * proportion.unwrap_or(0.0);
-            variance = variance.zip(contribution).map(|(v, c)| v + c);
+    let proportion = (s.sampled > 0).then(|| s.successes as f64 / s.sampled as f64);
+    let contribution = match (status, proportion) {
+        (StratumStatus::Estimated, Some(p)) => {
+            let n = s.sampled as f64;
+            let correction = match fpc {
+                Fpc::Apply => 1.0 - n / s.population,
+                Fpc::Ignore => 1.0,
+            };
+            Some(weight * weight * correction * p * (1.0 - p) / (n - 1.0))
         }
-        results.push(StratumResult {
-            label: s.label.clone(),
-            population: s.population,
-            weight,
-            sampled: s.sampled,
-            successes: s.successes,
-            proportion,
-            variance_contribution: contribution,
-            status,
-        });
-    }
-    let se = variance.map(|v| v.max(0.0).sqrt());
-    let proportion = Estimate::normal(estimate, se, 0.0, 1.0);
-    Ok(Some(StratifiedProportion {
+        (StratumStatus::SingleUnit, _) => None,
+        _ => Some(0.0),
+    };
+    StratumResult {
+        label: s.label.clone(),
+        population: s.population,
+        weight,
+        sampled: s.sampled,
+        successes: s.successes,
         proportion,
-        total: proportion.scaled(covered),
-        population,
-        population_covered: covered,
-        fpc,
-        strata: results,
-    }))
+        variance_contribution: contribution,
+        status,
+    }
 }
 
 #[cfg(test)]

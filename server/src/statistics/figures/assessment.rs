@@ -49,7 +49,8 @@ use super::facts::{ControlFacts, EventFacts, SampleInfo};
 use super::rates::Basis;
 use crate::domain::EventStatus;
 use crate::statistics::estimators::{
-    Estimate, Fpc, StratifiedProportion, StratumCount, StratumStatus, stratified_proportion,
+    Estimate, Fpc, StratifiedProportion, StratumCount, StratumResult, StratumStatus,
+    stratified_proportion,
 };
 
 /// Sampled items without a usable outcome, by kind.
@@ -285,7 +286,40 @@ fn area_assessment(
     alerts: &[AlertStratum],
     controls: &[ControlStratum],
 ) -> Result<Option<AreaAssessment>, FiguresError> {
-    let rows: Vec<Row> = alerts
+    let rows = matrix_counts(alerts, controls);
+    let all: Vec<&Row> = rows.iter().collect();
+    let Some(clearing) = proportion_of(&all, |r| r.2)? else {
+        return Ok(None);
+    };
+    let Some(correct) = proportion_of(&all, |r| match r.1 {
+        MapClass::Alert => r.2,
+        MapClass::NoAlert => r.3,
+    })?
+    else {
+        return Ok(None);
+    };
+    let users_alert =
+        proportion_of(&of_class(&rows, MapClass::Alert), |r| r.2)?.map(|p| p.proportion);
+    let users_no_alert =
+        proportion_of(&of_class(&rows, MapClass::NoAlert), |r| r.3)?.map(|p| p.proportion);
+    let producers = producers_accuracy(&rows, &clearing.strata);
+    let matrix = matrix_rows(&rows, &clearing.strata);
+    Ok(Some(AreaAssessment {
+        rows: matrix,
+        total_area_ha: clearing.population,
+        area_covered_ha: clearing.population_covered,
+        overall_accuracy: correct.proportion,
+        users_accuracy_alert: users_alert,
+        users_accuracy_no_alert: users_no_alert,
+        producers_accuracy_clearing: producers,
+        clearing_proportion: clearing.proportion,
+        clearing_area_ha: clearing.total,
+    }))
+}
+
+/// The error matrix's counts: the alert strata, then the control strata.
+fn matrix_counts(alerts: &[AlertStratum], controls: &[ControlStratum]) -> Vec<Row> {
+    alerts
         .iter()
         .map(|s| {
             (
@@ -305,26 +339,19 @@ fn area_assessment(
                 s.mapped_area_ha,
             )
         }))
-        .collect();
-    let all: Vec<&Row> = rows.iter().collect();
-    let of_class = |class| -> Vec<&Row> { rows.iter().filter(|r| r.1 == class).collect() };
-    let Some(clearing) = proportion_of(&all, |r| r.2)? else {
-        return Ok(None);
-    };
-    let Some(correct) = proportion_of(&all, |r| match r.1 {
-        MapClass::Alert => r.2,
-        MapClass::NoAlert => r.3,
-    })?
-    else {
-        return Ok(None);
-    };
-    let users_alert = proportion_of(&of_class(MapClass::Alert), |r| r.2)?.map(|p| p.proportion);
-    let users_no_alert =
-        proportion_of(&of_class(MapClass::NoAlert), |r| r.3)?.map(|p| p.proportion);
-    // Producer's accuracy of clearing from the per-stratum terms.
+        .collect()
+}
+
+fn of_class(rows: &[Row], class: MapClass) -> Vec<&Row> {
+    rows.iter().filter(|r| r.1 == class).collect()
+}
+
+/// Producer's accuracy of clearing from the per-stratum terms of the
+/// clearing proportion (`strata`, in the order of `rows`).
+fn producers_accuracy(rows: &[Row], strata: &[StratumResult]) -> Option<Estimate> {
     let (mut y, mut z) = (0.0, 0.0);
     let (mut var_y, mut var_z) = (Some(0.0), Some(0.0));
-    for (row, s) in rows.iter().zip(&clearing.strata) {
+    for (row, s) in rows.iter().zip(strata) {
         if matches!(s.status, StratumStatus::Empty | StratumStatus::Unsampled) {
             continue;
         }
@@ -336,16 +363,19 @@ fn area_assessment(
         *sum += part;
         *var = var.zip(s.variance_contribution).map(|(a, b)| a + b);
     }
-    let producers = (y + z > 0.0).then(|| {
+    (y + z > 0.0).then(|| {
         let p = y / (y + z);
         let var = var_y
             .zip(var_z)
             .map(|(vy, vz)| ((1.0 - p).powi(2) * vy + p * p * vz) / (y + z).powi(2));
         Estimate::normal(p, var.map(|v| v.max(0.0).sqrt()), 0.0, 1.0)
-    });
-    let matrix = rows
-        .iter()
-        .zip(&clearing.strata)
+    })
+}
+
+/// The error matrix's rows with their weights and cell proportions.
+fn matrix_rows(rows: &[Row], strata: &[StratumResult]) -> Vec<ErrorMatrixRow> {
+    rows.iter()
+        .zip(strata)
         .map(|(r, s)| {
             let q = s.proportion.unwrap_or(0.0);
             ErrorMatrixRow {
@@ -359,18 +389,7 @@ fn area_assessment(
                 cell_no_clearing: s.weight * (1.0 - q),
             }
         })
-        .collect();
-    Ok(Some(AreaAssessment {
-        rows: matrix,
-        total_area_ha: clearing.population,
-        area_covered_ha: clearing.population_covered,
-        overall_accuracy: correct.proportion,
-        users_accuracy_alert: users_alert,
-        users_accuracy_no_alert: users_no_alert,
-        producers_accuracy_clearing: producers,
-        clearing_proportion: clearing.proportion,
-        clearing_area_ha: clearing.total,
-    }))
+        .collect()
 }
 
 /// The assessment figures; `Ok(None)` when no event is sampled and there is

@@ -133,9 +133,24 @@ pub fn team_table_counted(
     if !counted.fits(reports) {
         return team_table(reports, bundle_issued_at);
     }
-    // Reports in slice order (in memory order): trips and tallies; each
-    // counted report that reached its event is put at its place in the
-    // index's order, which groups them by event.
+    let (trips, mut tally, visits) = tally_reports(reports, counted);
+    let issued: Vec<Option<DateTime<Utc>>> = trips
+        .bundles
+        .iter()
+        .map(|b| bundle_issued_at.get(b).copied())
+        .collect();
+    tally_first_visits(counted, &visits, &issued, &mut tally);
+    tally.resize_with(trips.teams.len(), Tally::default);
+    team_rows(&trips, &tally)
+}
+
+/// Reports in slice order (in memory order): trips and tallies; each
+/// counted report that reached its event is put at its place in the
+/// index's order, which groups them by event.
+fn tally_reports<'a>(
+    reports: &'a [ReportFact],
+    counted: &CountedIndex,
+) -> (Trips<'a>, Vec<Tally>, Vec<Option<Visit>>) {
     let mut trips = Trips::default();
     let mut tally: Vec<Tally> = Vec::new();
     let mut visits: Vec<Option<Visit>> = vec![None; counted.events().len()];
@@ -161,17 +176,21 @@ pub fn team_table_counted(
             });
         }
     }
-    // Each event's reports are in (observed_at, report_id) order, the order
-    // of rule 3: a team's first reaching visit to an event is its first
-    // reaching report there.
-    let issued: Vec<Option<DateTime<Utc>>> = trips
-        .bundles
-        .iter()
-        .map(|b| bundle_issued_at.get(b).copied())
-        .collect();
+    (trips, tally, visits)
+}
+
+/// Events visited and waits per team. Each event's reports are in
+/// (observed_at, report_id) order, the order of rule 3: a team's first
+/// reaching visit to an event is its first reaching report there.
+fn tally_first_visits(
+    counted: &CountedIndex,
+    visits: &[Option<Visit>],
+    issued: &[Option<DateTime<Utc>>],
+    tally: &mut [Tally],
+) {
     let mut event = None;
     let mut reached_by: Vec<u32> = Vec::new();
-    for (&e, visit) in counted.events().iter().zip(&visits) {
+    for (&e, visit) in counted.events().iter().zip(visits) {
         let Some(v) = visit else {
             continue;
         };
@@ -189,9 +208,12 @@ pub fn team_table_counted(
             row.waits.push(days_between(issued, v.observed_at));
         }
     }
-    tally.resize_with(trips.teams.len(), Tally::default);
-    // A team has a row when it has a distinct report (a team named only on
-    // copies that rule 1 dropped has none).
+}
+
+/// One row per team, sorted by name. A team has a row when it has a
+/// distinct report (a team named only on copies that rule 1 dropped has
+/// none).
+fn team_rows(trips: &Trips<'_>, tally: &[Tally]) -> Result<Vec<TeamRow>, FiguresError> {
     let mut order: Vec<usize> = (0..trips.teams.len()).collect();
     order.sort_unstable_by_key(|&t| trips.teams[t]);
     order

@@ -34,179 +34,201 @@ fn opt(v: Option<f64>) -> String {
 /// The table named `name`, or `None` when there is no such table.
 pub fn table(f: &Figures, name: &str) -> Result<Option<String>> {
     let out = match name {
-        "coverage" => write(
-            &[
-                "group_by",
-                "group",
-                "events",
-                "issued",
-                "visited",
-                "not_reached",
-                "unvisited",
-            ],
-            f.coverage
-                .iter()
-                .flat_map(|g| {
-                    g.rows.iter().map(move |r| {
-                        vec![
-                            key_name(&g.key),
-                            r.group.clone(),
-                            r.events.to_string(),
-                            r.issued.to_string(),
-                            r.visited.to_string(),
-                            r.not_reached.to_string(),
-                            r.unvisited.to_string(),
-                        ]
-                    })
-                })
-                .collect(),
-        )?,
-        "confirmation" => write(
-            &[
-                "group_by",
-                "group",
-                "confirmed",
-                "false_alarm",
-                "inconclusive",
-                "disputed",
-                "new_clearing",
-                "rate",
-                "ci95_lower",
-                "ci95_upper",
-                "basis",
-            ],
-            f.confirmation
-                .iter()
-                .flat_map(|g| {
-                    g.rows.iter().map(move |r| {
-                        vec![
-                            key_name(&g.key),
-                            r.group.clone(),
-                            r.confirmed.to_string(),
-                            r.false_alarm.to_string(),
-                            r.inconclusive.to_string(),
-                            r.disputed.to_string(),
-                            r.new_clearing.to_string(),
-                            opt(r.rate.as_ref().map(|p| p.estimate)),
-                            opt(r.rate.as_ref().map(|p| p.ci95.lower)),
-                            opt(r.rate.as_ref().map(|p| p.ci95.upper)),
-                            r.basis.label().to_string(),
-                        ]
-                    })
-                })
-                .collect(),
-        )?,
-        "response-times" => {
-            let t = &f.response_times;
-            let rows = [
-                ("detection_to_issue", &t.detection_to_issue),
-                ("issue_to_visit", &t.issue_to_visit),
-                ("detection_to_visit", &t.detection_to_visit),
-                ("visit_to_received", &t.visit_to_received),
-            ]
-            .into_iter()
-            .map(|(n, s)| {
-                let s = s.as_ref();
-                vec![
-                    n.to_string(),
-                    s.map(|x| x.count.to_string()).unwrap_or_else(|| "0".into()),
-                    opt(s.map(|x| x.median)),
-                    opt(s.map(|x| x.p90)),
-                    opt(s.map(|x| x.min)),
-                    opt(s.map(|x| x.max)),
-                ]
-            })
-            .collect();
-            write(
-                &[
-                    "interval",
-                    "count",
-                    "median_days",
-                    "p90_days",
-                    "min_days",
-                    "max_days",
-                ],
-                rows,
-            )?
-        }
-        "time-to-visit" => write(
-            &[
-                "curve",
-                "time_days",
-                "at_risk",
-                "visited",
-                "censored",
-                "share_not_visited",
-                "greenwood_se",
-                "ci95_lower",
-                "ci95_upper",
-            ],
-            f.time_to_visit
-                .curves
-                .iter()
-                .flat_map(|c| {
-                    c.curve.iter().flat_map(move |k| {
-                        k.steps.iter().map(move |s| {
-                            vec![
-                                c.label.clone(),
-                                num(s.time),
-                                s.at_risk.to_string(),
-                                s.events.to_string(),
-                                s.censored.to_string(),
-                                num(s.survival),
-                                opt(s.se),
-                                num(s.ci95.lower),
-                                num(s.ci95.upper),
-                            ]
-                        })
-                    })
-                })
-                .collect(),
-        )?,
-        "causes" => write(
-            &["cause", "month", "events", "area_ha"],
-            f.causes
-                .by_cause
-                .iter()
-                .chain(&f.causes.by_cause_and_month)
-                .map(|r| {
-                    vec![
-                        r.cause.clone(),
-                        r.month.clone().unwrap_or_default(),
-                        r.events.to_string(),
-                        num(r.area_ha),
-                    ]
-                })
-                .collect(),
-        )?,
-        "teams" => write(
-            &[
-                "team",
-                "trips",
-                "events_visited",
-                "reports",
-                "evidence_ok",
-                "evidence_ok_share",
-                "median_issue_to_visit_days",
-            ],
-            f.teams
-                .iter()
-                .map(|r| {
-                    vec![
-                        r.team.clone(),
-                        r.trips.to_string(),
-                        r.events_visited.to_string(),
-                        r.reports.to_string(),
-                        r.evidence_ok.to_string(),
-                        opt(r.evidence_ok_share),
-                        opt(r.median_issue_to_visit_days),
-                    ]
-                })
-                .collect(),
-        )?,
+        "coverage" => coverage(f)?,
+        "confirmation" => confirmation(f)?,
+        "response-times" => response_times(f)?,
+        "time-to-visit" => time_to_visit(f)?,
+        "causes" => causes(f)?,
+        "teams" => teams(f)?,
         _ => return Ok(None),
     };
     Ok(Some(out))
+}
+
+fn coverage(f: &Figures) -> Result<String> {
+    write(
+        &[
+            "group_by",
+            "group",
+            "events",
+            "issued",
+            "visited",
+            "not_reached",
+            "unvisited",
+        ],
+        f.coverage
+            .iter()
+            .flat_map(|g| {
+                g.rows.iter().map(move |r| {
+                    vec![
+                        key_name(&g.key),
+                        r.group.clone(),
+                        r.events.to_string(),
+                        r.issued.to_string(),
+                        r.visited.to_string(),
+                        r.not_reached.to_string(),
+                        r.unvisited.to_string(),
+                    ]
+                })
+            })
+            .collect(),
+    )
+}
+
+fn confirmation(f: &Figures) -> Result<String> {
+    write(
+        &[
+            "group_by",
+            "group",
+            "confirmed",
+            "false_alarm",
+            "inconclusive",
+            "disputed",
+            "new_clearing",
+            "rate",
+            "ci95_lower",
+            "ci95_upper",
+            "basis",
+        ],
+        f.confirmation
+            .iter()
+            .flat_map(|g| {
+                g.rows.iter().map(move |r| {
+                    vec![
+                        key_name(&g.key),
+                        r.group.clone(),
+                        r.confirmed.to_string(),
+                        r.false_alarm.to_string(),
+                        r.inconclusive.to_string(),
+                        r.disputed.to_string(),
+                        r.new_clearing.to_string(),
+                        opt(r.rate.as_ref().map(|p| p.estimate)),
+                        opt(r.rate.as_ref().map(|p| p.ci95.lower)),
+                        opt(r.rate.as_ref().map(|p| p.ci95.upper)),
+                        r.basis.label().to_string(),
+                    ]
+                })
+            })
+            .collect(),
+    )
+}
+
+fn response_times(f: &Figures) -> Result<String> {
+    let t = &f.response_times;
+    let rows = [
+        ("detection_to_issue", &t.detection_to_issue),
+        ("issue_to_visit", &t.issue_to_visit),
+        ("detection_to_visit", &t.detection_to_visit),
+        ("visit_to_received", &t.visit_to_received),
+    ]
+    .into_iter()
+    .map(|(n, s)| {
+        let s = s.as_ref();
+        vec![
+            n.to_string(),
+            s.map(|x| x.count.to_string()).unwrap_or_else(|| "0".into()),
+            opt(s.map(|x| x.median)),
+            opt(s.map(|x| x.p90)),
+            opt(s.map(|x| x.min)),
+            opt(s.map(|x| x.max)),
+        ]
+    })
+    .collect();
+    write(
+        &[
+            "interval",
+            "count",
+            "median_days",
+            "p90_days",
+            "min_days",
+            "max_days",
+        ],
+        rows,
+    )
+}
+
+fn time_to_visit(f: &Figures) -> Result<String> {
+    write(
+        &[
+            "curve",
+            "time_days",
+            "at_risk",
+            "visited",
+            "censored",
+            "share_not_visited",
+            "greenwood_se",
+            "ci95_lower",
+            "ci95_upper",
+        ],
+        f.time_to_visit
+            .curves
+            .iter()
+            .flat_map(|c| {
+                c.curve.iter().flat_map(move |k| {
+                    k.steps.iter().map(move |s| {
+                        vec![
+                            c.label.clone(),
+                            num(s.time),
+                            s.at_risk.to_string(),
+                            s.events.to_string(),
+                            s.censored.to_string(),
+                            num(s.survival),
+                            opt(s.se),
+                            num(s.ci95.lower),
+                            num(s.ci95.upper),
+                        ]
+                    })
+                })
+            })
+            .collect(),
+    )
+}
+
+fn causes(f: &Figures) -> Result<String> {
+    write(
+        &["cause", "month", "events", "area_ha"],
+        f.causes
+            .by_cause
+            .iter()
+            .chain(&f.causes.by_cause_and_month)
+            .map(|r| {
+                vec![
+                    r.cause.clone(),
+                    r.month.clone().unwrap_or_default(),
+                    r.events.to_string(),
+                    num(r.area_ha),
+                ]
+            })
+            .collect(),
+    )
+}
+
+fn teams(f: &Figures) -> Result<String> {
+    write(
+        &[
+            "team",
+            "trips",
+            "events_visited",
+            "reports",
+            "evidence_ok",
+            "evidence_ok_share",
+            "median_issue_to_visit_days",
+        ],
+        f.teams
+            .iter()
+            .map(|r| {
+                vec![
+                    r.team.clone(),
+                    r.trips.to_string(),
+                    r.events_visited.to_string(),
+                    r.reports.to_string(),
+                    r.evidence_ok.to_string(),
+                    opt(r.evidence_ok_share),
+                    opt(r.median_issue_to_visit_days),
+                ]
+            })
+            .collect(),
+    )
 }
 
 /// Names of the CSV tables.

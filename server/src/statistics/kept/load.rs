@@ -2,7 +2,9 @@
 
 use crate::domain::{Confidence, Day, EventStatus, TargetKind, Timestamp};
 use crate::error::Result;
-use crate::platform::storage::{Db, StatsReportRef};
+use crate::platform::storage::{
+    BundleRecord, ControlRow, Db, Reader, StatsEventRow, StatsReportRef, ZoneRecord,
+};
 use crate::reconcile::{
     Adjudication, CountedIndex, Outcome, ReportFact, StatusOutcome, event_statuses_counted,
 };
@@ -131,7 +133,7 @@ fn report_fact(r: &StatsReportRef<'_>, live: impl Fn(i64) -> i64) -> Option<Repo
 /// without reading storage again.
 #[derive(Debug, Default)]
 pub struct Facts {
-    events: Vec<crate::platform::storage::StatsEventRow>,
+    events: Vec<StatsEventRow>,
     /// Every report, as reconciliation reads them.
     reports: Arc<Vec<ReportFact>>,
     /// Which of `reports` count, and the statuses they make.
@@ -160,87 +162,132 @@ pub fn read_facts(db: &Db, window_days: u32) -> Result<Facts> {
 /// read when nothing but new reports came in; everything else is read and
 /// every event reconciled again. The result equals a fresh [`read_facts`].
 pub fn read_facts_after(db: &Db, window_days: u32, previous: Option<Facts>) -> Result<Facts> {
-    let earlier = previous.map(|p| {
-        let mut scan = p.scan;
-        scan.facts = Arc::try_unwrap(p.reports).unwrap_or_else(|shared| (*shared).clone());
-        scan
-    });
-    let (events, scan, adjudications, issue_times, controls, zones, bundles) = db.read(|r| {
-        let merges = r.merge_map()?;
-        let live = |id: i64| merges.get(&id).copied().unwrap_or(id);
-        let (count, max_rowid) = r.report_extent()?;
-        let read_on = match earlier {
-            Some(mut s) if s.rows > 0 && s.rows <= count && s.max_rowid <= max_rowid => {
-                r.each_stats_report_after(Some(s.max_rowid), |row| s.add(row, live))?;
-                Some(s).filter(|s| s.rows == count)
-            }
-            _ => None,
-        };
-        let scan = match read_on {
-            Some(mut s) => {
-                s.follow(merges.clone());
-                s
-            }
-            // Not only additions (or nothing kept): read every report.
-            None => {
-                let mut s = ReportScan::default();
-                r.each_stats_report(|row| s.add(row, live))?;
-                s.merges = merges.clone();
-                s
-            }
-        };
-        let adjudications: Vec<Adjudication> = r
-            .adjudications()?
-            .iter()
-            .map(|a| Adjudication {
-                event_id: live(a.event_id),
-                outcome: a.outcome,
-                reason: a.reason.clone(),
-                by: a.decided_by.clone(),
-                at: a.decided_at.utc(),
-            })
-            .collect();
-        Ok((
-            r.stats_events()?,
-            scan,
-            adjudications,
-            r.bundle_issue_times()?,
-            r.controls()?,
-            r.zones()?,
-            r.bundles()?,
-        ))
-    })?;
-    let bundle_issued_at: BTreeMap<Uuid, DateTime<Utc>> = issue_times
-        .iter()
-        .filter_map(|(id, t)| Some((Uuid::parse_str(id).ok()?, t.utc())))
-        .collect();
-    let mut scan = scan;
+    let earlier = previous.map(kept_scan);
+    let Stored {
+        events,
+        mut scan,
+        adjudications,
+        issue_times,
+        controls,
+        zones,
+        bundles,
+    } = db.read(|r| read_stored(r, earlier))?;
+    let bundle_issued_at = issued_at_by_bundle(&issue_times);
     let reports = std::mem::take(&mut scan.facts);
     let counted = CountedIndex::of(&reports);
     let statuses = event_statuses_counted(&reports, &counted, &adjudications, window_days);
+    let out_controls = control_facts(&controls, &zones, &bundles, &scan);
+    Ok(Facts {
+        events,
+        reports: Arc::new(reports),
+        counted: Arc::new(counted),
+        statuses: Arc::new(statuses),
+        adjudications,
+        bundle_issued_at: Arc::new(bundle_issued_at),
+        controls: out_controls,
+        window_days,
+        scan,
+    })
+}
 
-    // Control points: reached or not, clearing found or not.
-    let zone_area: HashMap<String, f64> = zones
+/// What [`read_facts_after`] reads from storage in one read.
+struct Stored {
+    events: Vec<StatsEventRow>,
+    scan: ReportScan,
+    adjudications: Vec<Adjudication>,
+    issue_times: Vec<(String, Timestamp)>,
+    controls: Vec<ControlRow>,
+    zones: Vec<ZoneRecord>,
+    bundles: Vec<BundleRecord>,
+}
+
+/// The report pass kept in `previous`, with its facts given back.
+fn kept_scan(previous: Facts) -> ReportScan {
+    let mut scan = previous.scan;
+    scan.facts = Arc::try_unwrap(previous.reports).unwrap_or_else(|shared| (*shared).clone());
+    scan
+}
+
+/// Everything the facts rest on, read in one read of storage.
+fn read_stored(r: &Reader<'_>, earlier: Option<ReportScan>) -> Result<Stored> {
+    let merges = r.merge_map()?;
+    let live = |id: i64| merges.get(&id).copied().unwrap_or(id);
+    let scan = scan_reports(r, earlier, &merges, live)?;
+    let adjudications = read_adjudications(r, live)?;
+    Ok(Stored {
+        events: r.stats_events()?,
+        scan,
+        adjudications,
+        issue_times: r.bundle_issue_times()?,
+        controls: r.controls()?,
+        zones: r.zones()?,
+        bundles: r.bundles()?,
+    })
+}
+
+/// The pass over the stored reports: `earlier` read on from its last row
+/// when only reports were added since, otherwise every report read again.
+fn scan_reports(
+    r: &Reader<'_>,
+    earlier: Option<ReportScan>,
+    merges: &HashMap<i64, i64>,
+    live: impl Fn(i64) -> i64 + Copy,
+) -> Result<ReportScan> {
+    let (count, max_rowid) = r.report_extent()?;
+    let read_on = match earlier {
+        Some(mut s) if s.rows > 0 && s.rows <= count && s.max_rowid <= max_rowid => {
+            r.each_stats_report_after(Some(s.max_rowid), |row| s.add(row, live))?;
+            Some(s).filter(|s| s.rows == count)
+        }
+        _ => None,
+    };
+    Ok(match read_on {
+        Some(mut s) => {
+            s.follow(merges.clone());
+            s
+        }
+        // Not only additions (or nothing kept): read every report.
+        None => {
+            let mut s = ReportScan::default();
+            r.each_stats_report(|row| s.add(row, live))?;
+            s.merges = merges.clone();
+            s
+        }
+    })
+}
+
+/// The adjudications, each on its live event.
+fn read_adjudications(r: &Reader<'_>, live: impl Fn(i64) -> i64) -> Result<Vec<Adjudication>> {
+    Ok(r.adjudications()?
         .iter()
-        .filter_map(|z| {
-            Some((
-                z.name.clone(),
-                crate::alerts::events::parse_multipolygon(&z.geometry)?.geodesic_area_unsigned()
-                    / 1e4,
-            ))
+        .map(|a| Adjudication {
+            event_id: live(a.event_id),
+            outcome: a.outcome,
+            reason: a.reason.clone(),
+            by: a.decided_by.clone(),
+            at: a.decided_at.utc(),
         })
-        .collect();
-    let bundle_zone: HashMap<String, (Option<String>, i64)> = bundles
+        .collect())
+}
+
+fn issued_at_by_bundle(issue_times: &[(String, Timestamp)]) -> BTreeMap<Uuid, DateTime<Utc>> {
+    issue_times
         .iter()
-        .map(|b| {
-            let zone = serde_json::from_str::<serde_json::Value>(&b.selection)
-                .ok()
-                .and_then(|v| v["zone"].as_str().map(str::to_string));
-            (b.id.clone(), (zone, b.controls))
-        })
-        .collect();
+        .filter_map(|(id, t)| Some((Uuid::parse_str(id).ok()?, t.utc())))
+        .collect()
+}
+
+/// Control points: reached or not, clearing found or not, with their zone.
+fn control_facts(
+    controls: &[ControlRow],
+    zones: &[ZoneRecord],
+    bundles: &[BundleRecord],
+    scan: &ReportScan,
+) -> Vec<(Option<String>, ControlFacts)> {
+    let zone_area = zone_areas_ha(zones);
+    let bundle_zone = bundle_zones(bundles);
     let mut out_controls = Vec::new();
-    for c in &controls {
+    for c in controls {
         let Some((zone, k)) = bundle_zone.get(&c.bundle_id) else {
             continue;
         };
@@ -252,19 +299,7 @@ pub fn read_facts_after(db: &Db, window_days: u32, previous: Option<Facts>) -> R
         if area <= 0.0 || *k <= 0 {
             continue;
         }
-        let latest = scan
-            .controls
-            .get(&(c.bundle_id.clone(), c.code.clone()))
-            .and_then(|v| {
-                v.iter()
-                    .filter(|r| !scan.superseded.contains(&r.report_id))
-                    // The latest; equal times are decided by report id, so
-                    // the order the reports were read in does not matter.
-                    .max_by(|a, b| {
-                        (a.observed_at, &a.report_id).cmp(&(b.observed_at, &b.report_id))
-                    })
-            });
-        let found = latest.and_then(|r| match r.outcome {
+        let found = latest_control_report(scan, c).and_then(|r| match r.outcome {
             Outcome::Confirmed => Some(true),
             Outcome::FalseAlarm => Some(false),
             _ => None,
@@ -279,24 +314,92 @@ pub fn read_facts_after(db: &Db, window_days: u32, previous: Option<Facts>) -> R
             },
         ));
     }
-    Ok(Facts {
-        events,
-        reports: Arc::new(reports),
-        counted: Arc::new(counted),
-        statuses: Arc::new(statuses),
-        adjudications,
-        bundle_issued_at: Arc::new(bundle_issued_at),
-        controls: out_controls,
-        window_days,
-        scan,
-    })
+    out_controls
+}
+
+/// Each zone's area in hectares, by name.
+fn zone_areas_ha(zones: &[ZoneRecord]) -> HashMap<String, f64> {
+    zones
+        .iter()
+        .filter_map(|z| {
+            Some((
+                z.name.clone(),
+                crate::alerts::events::parse_multipolygon(&z.geometry)?.geodesic_area_unsigned()
+                    / 1e4,
+            ))
+        })
+        .collect()
+}
+
+/// Each bundle's selected zone and number of control points, by bundle id.
+fn bundle_zones(bundles: &[BundleRecord]) -> HashMap<String, (Option<String>, i64)> {
+    bundles
+        .iter()
+        .map(|b| {
+            let zone = serde_json::from_str::<serde_json::Value>(&b.selection)
+                .ok()
+                .and_then(|v| v["zone"].as_str().map(str::to_string));
+            (b.id.clone(), (zone, b.controls))
+        })
+        .collect()
+}
+
+/// The latest report on control point `c` that no other report supersedes.
+fn latest_control_report<'s>(scan: &'s ReportScan, c: &ControlRow) -> Option<&'s ControlReport> {
+    scan.controls
+        .get(&(c.bundle_id.clone(), c.code.clone()))
+        .and_then(|v| {
+            v.iter()
+                .filter(|r| !scan.superseded.contains(&r.report_id))
+                // The latest; equal times are decided by report id, so
+                // the order the reports were read in does not matter.
+                .max_by(|a, b| (a.observed_at, &a.report_id).cmp(&(b.observed_at, &b.report_id)))
+        })
 }
 
 /// The selection `filter` of `facts`: a team's selection is reconciled
 /// again on that team's reports alone; any other shares the reconciliation
 /// of every report.
 pub fn prepare(facts: &Facts, filter: &StatsFilter) -> Loaded {
-    let (reports, counted, statuses) = match &filter.team {
+    let (reports, counted, statuses) = reconciled_for(facts, filter);
+    let mut out_events = Vec::new();
+    for e in &facts.events {
+        let first = Day::from_days(e.first_day);
+        if !event_in_filter(e, first, filter) {
+            continue;
+        }
+        let status = statuses.get(&e.id);
+        if !team_selected(e, status, filter) {
+            continue;
+        }
+        let mut f = event_facts(e, first);
+        if let Some(s) = status {
+            f.apply_status(s);
+        }
+        out_events.push(f);
+    }
+    Loaded {
+        events: out_events,
+        reports,
+        bundle_issued_at: Arc::clone(&facts.bundle_issued_at),
+        controls: controls_in_zone(facts, filter),
+        statuses,
+        counted,
+    }
+}
+
+/// The reports, counted index and statuses a selection rests on: shared
+/// with `facts`, or reconciled again on the selected team's reports.
+#[allow(clippy::type_complexity)]
+fn reconciled_for(
+    facts: &Facts,
+    filter: &StatsFilter,
+) -> (
+    Arc<Vec<ReportFact>>,
+    Arc<CountedIndex>,
+    Arc<BTreeMap<i64, StatusOutcome>>,
+) {
+    match &filter.team {
         None => (
             Arc::clone(&facts.reports),
             Arc::clone(&facts.counted),
@@ -314,64 +417,67 @@ pub fn prepare(facts: &Facts, filter: &StatsFilter) -> Loaded {
                 event_statuses_counted(&reports, &counted, &facts.adjudications, facts.window_days);
             (Arc::new(reports), Arc::new(counted), Arc::new(statuses))
         }
-    };
-
-    let mut out_events = Vec::new();
-    for e in &facts.events {
-        let first = Day::from_days(e.first_day);
-        if filter.from.is_some_and(|d| first < d) || filter.to.is_some_and(|d| first > d) {
-            continue;
-        }
-        if filter.zone.as_ref().is_some_and(|z| !e.zones.contains(z)) {
-            continue;
-        }
-        if filter
-            .source
-            .as_ref()
-            .is_some_and(|s| !e.sources.contains(s))
-        {
-            continue;
-        }
-        let status = statuses.get(&e.id);
-        if let Some(t) = &filter.team {
-            let reported = status.is_some_and(|s| s.teams.contains(t));
-            if !e.teams_issued.contains(t) && !reported {
-                continue;
-            }
-        }
-        let mut f = EventFacts {
-            event_id: e.id,
-            zone_names: e.zones.clone(),
-            sources: if e.origin == "field" {
-                vec!["field".into()]
-            } else {
-                e.sources.clone()
-            },
-            highest_confidence: Confidence::from_i64(e.highest_confidence)
-                .unwrap_or(Confidence::Tentative)
-                .to_string(),
-            corroborated: e.corroborated,
-            area_ha: e.area_ha,
-            first_detected: first.date(),
-            issued_at: e.first_issued_at.map(Timestamp::utc),
-            status: EventStatus::Unvisited,
-            new_clearing: false,
-            first_visit: None,
-            first_received: None,
-            cause: None,
-            teams: e.teams_issued.clone(),
-            sampled: e.sample.as_ref().map(|(stratum, p, n)| SampleInfo {
-                stratum: stratum.clone(),
-                inclusion_probability: *p,
-                stratum_population: (*n).max(0) as u64,
-            }),
-        };
-        if let Some(s) = status {
-            f.apply_status(s);
-        }
-        out_events.push(f);
     }
-    let controls = facts
+}
+
+/// Whether event `e`, first detected on `first`, is in the selected days,
+/// zone and source.
+fn event_in_filter(e: &StatsEventRow, first: Day, filter: &StatsFilter) -> bool {
+    if filter.from.is_some_and(|d| first < d) || filter.to.is_some_and(|d| first > d) {
+        return false;
+    }
+    if filter.zone.as_ref().is_some_and(|z| !e.zones.contains(z)) {
+        return false;
+    }
+    filter.source.as_ref().is_none_or(|s| e.sources.contains(s))
+}
+
+/// Whether event `e` was issued to or reported on by the selected team (any
+/// event is when no team is selected).
+fn team_selected(e: &StatsEventRow, status: Option<&StatusOutcome>, filter: &StatsFilter) -> bool {
+    match &filter.team {
+        Some(t) => {
+            let reported = status.is_some_and(|s| s.teams.contains(t));
+            e.teams_issued.contains(t) || reported
+        }
+        None => true,
+    }
+}
+
+/// Event `e`'s facts before its status is applied.
+fn event_facts(e: &StatsEventRow, first: Day) -> EventFacts {
+    EventFacts {
+        event_id: e.id,
+        zone_names: e.zones.clone(),
+        sources: if e.origin == "field" {
+            vec!["field".into()]
+        } else {
+            e.sources.clone()
+        },
+        highest_confidence: Confidence::from_i64(e.highest_confidence)
+            .unwrap_or(Confidence::Tentative)
+            .to_string(),
+        corroborated: e.corroborated,
+        area_ha: e.area_ha,
+        first_detected: first.date(),
+        issued_at: e.first_issued_at.map(Timestamp::utc),
+        status: EventStatus::Unvisited,
+        new_clearing: false,
+        first_visit: None,
+        first_received: None,
+        cause: None,
+        teams: e.teams_issued.clone(),
+        sampled: e.sample.as_ref().map(|(stratum, p, n)| SampleInfo {
+            stratum: stratum.clone(),
+            inclusion_probability: *p,
+            stratum_population: (*n).max(0) as u64,
+        }),
+    }
+}
+
+/// The control points in the selected zone (all of them when none is).
+fn controls_in_zone(facts: &Facts, filter: &StatsFilter) -> Vec<ControlFacts> {
+    facts
         .controls
         .iter()
         .filter(|(zone, _)| {
@@ -381,15 +487,7 @@ pub fn prepare(facts: &Facts, filter: &StatsFilter) -> Loaded {
                 .is_none_or(|z| zone.as_ref() == Some(z))
         })
         .map(|(_, c)| c.clone())
-        .collect();
-    Loaded {
-        events: out_events,
-        reports,
-        bundle_issued_at: Arc::clone(&facts.bundle_issued_at),
-        controls,
-        statuses,
-        counted,
-    }
+        .collect()
 }
 
 #[cfg(test)]

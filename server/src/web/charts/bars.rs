@@ -42,8 +42,35 @@ fn axis_ticks(max: f64, all_whole: bool) -> Vec<f64> {
 /// Grouped vertical bars. Values past the last category are ignored;
 /// non-finite values draw no bar. Empty input gives a "no data" SVG.
 pub fn render_grouped_bars(input: &BarChart) -> String {
+    let values = drawable_values(input);
+    if values.is_empty() {
+        return svg::no_data(&input.title);
+    }
+    let l = GroupedLayout::of(input, &values);
+    svg::render_with(&input.title, |out| {
+        svg::open(out, W, l.h, &input.title)?;
+        svg::heading(out, &input.title)?;
+        axis::y_axis(out, l.y, &l.ticks, (LEFT, RIGHT), &input.y_label)?;
+        draw_bars(out, input, &values, &l)?;
+        axis::axis_line(out, (LEFT, l.y.r0), (RIGHT, l.y.r0))?;
+        draw_categories(out, input, &l)?;
+        text(
+            out,
+            (LEFT + RIGHT) / 2.0,
+            l.axis_title_y,
+            "middle",
+            "axis-title",
+            &input.x_label,
+        )?;
+        draw_series_legend(out, input, l.legend_top)?;
+        svg::close(out)
+    })
+}
+
+/// (series, category, value) of every bar to draw.
+fn drawable_values(input: &BarChart) -> Vec<(usize, usize, f64)> {
     let n = input.categories.len();
-    let values: Vec<(usize, usize, f64)> = input
+    input
         .series
         .iter()
         .enumerate()
@@ -54,95 +81,126 @@ pub fn render_grouped_bars(input: &BarChart) -> String {
                 .enumerate()
                 .filter_map(move |(c, &v)| usable(v).map(|v| (s, c, v)))
         })
-        .collect();
-    if values.is_empty() {
-        return svg::no_data(&input.title);
-    }
-    let max = values.iter().map(|v| v.2).fold(0.0, f64::max);
-    let whole = values.iter().all(|v| (v.2 - v.2.round()).abs() < 1e-9);
-    let ticks = axis_ticks(max, whole);
-    let y = Scale {
-        d0: 0.0,
-        d1: ticks.last().copied().unwrap_or(1.0),
-        r0: TOP + PLOT_H,
-        r1: TOP,
-    };
-    let group_w = (RIGHT - LEFT) / n as f64;
-    let longest = input
-        .categories
-        .iter()
-        .map(|c| c.chars().count().min(40))
-        .max()
-        .unwrap_or(0) as f64;
-    let rotate = longest * CHAR_W > group_w - 4.0;
-    let label_h = if rotate {
-        longest * CHAR_W * 0.71 + 16.0
-    } else {
-        20.0
-    };
-    let axis_title_y = TOP + PLOT_H + label_h + 18.0;
-    let legend_top = axis_title_y + 26.0;
-    let rows = input.series.len().div_ceil(LEGEND_COLS).max(1);
-    let h = legend_top + rows as f64 * 20.0 + 6.0;
-    let k = input.series.len().max(1) as f64;
-    let bar_w = group_w * 0.8 / k;
+        .collect()
+}
 
-    svg::render_with(&input.title, |out| {
-        svg::open(out, W, h, &input.title)?;
-        svg::heading(out, &input.title)?;
-        axis::y_axis(out, y, &ticks, (LEFT, RIGHT), &input.y_label)?;
-        for &(s, c, v) in &values {
-            let bx = LEFT + c as f64 * group_w + group_w * 0.1 + s as f64 * bar_w;
-            let top = y.map(v);
-            write!(
-                out,
-                "<rect class=\"bar\" x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\" fill=\"{}\"><title>{}, {}: {}</title></rect>",
-                px(bx),
-                px(top),
-                px(bar_w),
-                px(y.r0 - top),
-                series_colour(s).hex(),
-                escape(&input.categories[c]),
-                escape(&input.series[s].label),
-                value_text(v)
-            )?;
-        }
-        axis::axis_line(out, (LEFT, y.r0), (RIGHT, y.r0))?;
-        for (c, cat) in input.categories.iter().enumerate() {
-            let cx = LEFT + (c as f64 + 0.5) * group_w;
-            let ly = y.r0 + 16.0;
-            if rotate {
-                write!(out, "<g transform=\"rotate(-45 {} {})\">", px(cx), px(ly))?;
-                text(out, cx, ly, "end", "category", cat)?;
-                out.write_str("</g>")?;
-            } else {
-                text(out, cx, ly, "middle", "category", cat)?;
-            }
-        }
-        text(
-            out,
-            (LEFT + RIGHT) / 2.0,
+/// Where the parts of a grouped bar chart go.
+struct GroupedLayout {
+    ticks: Vec<f64>,
+    y: Scale,
+    group_w: f64,
+    /// Category labels turned by 45° when they do not fit their group.
+    rotate: bool,
+    axis_title_y: f64,
+    legend_top: f64,
+    /// The height of the whole chart.
+    h: f64,
+    bar_w: f64,
+}
+
+impl GroupedLayout {
+    fn of(input: &BarChart, values: &[(usize, usize, f64)]) -> Self {
+        let n = input.categories.len();
+        let max = values.iter().map(|v| v.2).fold(0.0, f64::max);
+        let whole = values.iter().all(|v| (v.2 - v.2.round()).abs() < 1e-9);
+        let ticks = axis_ticks(max, whole);
+        let y = Scale {
+            d0: 0.0,
+            d1: ticks.last().copied().unwrap_or(1.0),
+            r0: TOP + PLOT_H,
+            r1: TOP,
+        };
+        let group_w = (RIGHT - LEFT) / n as f64;
+        let longest = input
+            .categories
+            .iter()
+            .map(|c| c.chars().count().min(40))
+            .max()
+            .unwrap_or(0) as f64;
+        let rotate = longest * CHAR_W > group_w - 4.0;
+        let label_h = if rotate {
+            longest * CHAR_W * 0.71 + 16.0
+        } else {
+            20.0
+        };
+        let axis_title_y = TOP + PLOT_H + label_h + 18.0;
+        let legend_top = axis_title_y + 26.0;
+        let rows = input.series.len().div_ceil(LEGEND_COLS).max(1);
+        let h = legend_top + rows as f64 * 20.0 + 6.0;
+        let k = input.series.len().max(1) as f64;
+        let bar_w = group_w * 0.8 / k;
+        GroupedLayout {
+            ticks,
+            y,
+            group_w,
+            rotate,
             axis_title_y,
-            "middle",
-            "axis-title",
-            &input.x_label,
-        )?;
-        let col_w = (RIGHT - LEFT) / LEGEND_COLS as f64;
-        for (s, ser) in input.series.iter().enumerate() {
-            let lx = LEFT + (s % LEGEND_COLS) as f64 * col_w;
-            let ly = legend_top + (s / LEGEND_COLS) as f64 * 20.0;
-            write!(
-                out,
-                "<g class=\"legend-entry\"><rect x=\"{}\" y=\"{}\" width=\"14\" height=\"14\" fill=\"{}\"/>",
-                px(lx),
-                px(ly - 11.0),
-                series_colour(s).hex()
-            )?;
-            text(out, lx + 20.0, ly, "start", "legend-label", &ser.label)?;
-            out.write_str("</g>")?;
+            legend_top,
+            h,
+            bar_w,
         }
-        svg::close(out)
-    })
+    }
+}
+
+fn draw_bars(
+    out: &mut String,
+    input: &BarChart,
+    values: &[(usize, usize, f64)],
+    l: &GroupedLayout,
+) -> fmt::Result {
+    let y = l.y;
+    for &(s, c, v) in values {
+        let bx = LEFT + c as f64 * l.group_w + l.group_w * 0.1 + s as f64 * l.bar_w;
+        let top = y.map(v);
+        write!(
+            out,
+            "<rect class=\"bar\" x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\" fill=\"{}\"><title>{}, {}: {}</title></rect>",
+            px(bx),
+            px(top),
+            px(l.bar_w),
+            px(y.r0 - top),
+            series_colour(s).hex(),
+            escape(&input.categories[c]),
+            escape(&input.series[s].label),
+            value_text(v)
+        )?;
+    }
+    Ok(())
+}
+
+/// The category labels under the groups, turned when they do not fit.
+fn draw_categories(out: &mut String, input: &BarChart, l: &GroupedLayout) -> fmt::Result {
+    for (c, cat) in input.categories.iter().enumerate() {
+        let cx = LEFT + (c as f64 + 0.5) * l.group_w;
+        let ly = l.y.r0 + 16.0;
+        if l.rotate {
+            write!(out, "<g transform=\"rotate(-45 {} {})\">", px(cx), px(ly))?;
+            text(out, cx, ly, "end", "category", cat)?;
+            out.write_str("</g>")?;
+        } else {
+            text(out, cx, ly, "middle", "category", cat)?;
+        }
+    }
+    Ok(())
+}
+
+/// One legend entry per series, in rows of [`LEGEND_COLS`].
+fn draw_series_legend(out: &mut String, input: &BarChart, legend_top: f64) -> fmt::Result {
+    let col_w = (RIGHT - LEFT) / LEGEND_COLS as f64;
+    for (s, ser) in input.series.iter().enumerate() {
+        let lx = LEFT + (s % LEGEND_COLS) as f64 * col_w;
+        let ly = legend_top + (s / LEGEND_COLS) as f64 * 20.0;
+        write!(
+            out,
+            "<g class=\"legend-entry\"><rect x=\"{}\" y=\"{}\" width=\"14\" height=\"14\" fill=\"{}\"/>",
+            px(lx),
+            px(ly - 11.0),
+            series_colour(s).hex()
+        )?;
+        text(out, lx + 20.0, ly, "start", "legend-label", &ser.label)?;
+        out.write_str("</g>")?;
+    }
+    Ok(())
 }
 
 const ROW_H: f64 = 26.0;

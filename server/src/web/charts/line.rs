@@ -44,34 +44,17 @@ fn value_at(steps: &[Step], x: f64) -> f64 {
         .map_or(1.0, |s| s.y)
 }
 
+/// A drawable series: its index, label, clean steps and censoring days.
+type Series<'a> = (usize, &'a str, Vec<Step>, Vec<f64>);
+
 /// Draw a Kaplan–Meier style step chart. Empty input gives a "no data" SVG.
 pub fn render_step_curve(input: &StepChart) -> String {
-    let series: Vec<(usize, &str, Vec<Step>, Vec<f64>)> = input
-        .series
-        .iter()
-        .enumerate()
-        .map(|(i, s)| {
-            let cens: Vec<f64> = s
-                .censored
-                .iter()
-                .copied()
-                .filter(|c| c.is_finite() && *c >= 0.0)
-                .collect();
-            (i, s.label.as_str(), clean(&s.steps), cens)
-        })
-        .filter(|(_, _, steps, _)| !steps.is_empty())
-        .collect();
+    let series = drawable_series(input);
     if series.is_empty() {
         return svg::no_data(&input.title);
     }
     let target = input.target_day.filter(|d| d.is_finite() && *d >= 0.0);
-    let mut x_max = target.unwrap_or(0.0);
-    for (_, _, steps, cens) in &series {
-        for v in steps.iter().map(|s| s.x_days).chain(cens.iter().copied()) {
-            x_max = x_max.max(v);
-        }
-    }
-    let x_ticks = nice_ticks(0.0, x_max, 8);
+    let x_ticks = nice_ticks(0.0, last_day(&series, target), 8);
     let x = Scale {
         d0: 0.0,
         d1: x_ticks.last().copied().unwrap_or(1.0),
@@ -99,29 +82,8 @@ pub fn render_step_curve(input: &StepChart) -> String {
             &input.y_label,
         )?;
         axis::x_axis(out, x, &x_ticks, (TOP + PLOT_H, TOP), &input.x_label)?;
-        for (i, label, steps, cens) in &series {
-            let x_end = steps
-                .last()
-                .map_or(0.0, |s| s.x_days)
-                .max(cens.iter().copied().fold(0.0, f64::max));
-            band(out, *i, steps, x_end, x, y)?;
-            curve(out, *i, label, steps, x_end, x, y)?;
-            for &c in cens {
-                let (cx, cy) = (x.map(c), y.map(value_at(steps, c)));
-                write!(
-                    out,
-                    "<path class=\"censor\" d=\"M {} {} L {} {} M {} {} L {} {}\" stroke=\"{}\" stroke-width=\"1.5\"/>",
-                    px(cx - 4.0),
-                    px(cy),
-                    px(cx + 4.0),
-                    px(cy),
-                    px(cx),
-                    px(cy - 4.0),
-                    px(cx),
-                    px(cy + 4.0),
-                    series_colour(*i).hex()
-                )?;
-            }
+        for s in &series {
+            one_series(out, s, x, y)?;
         }
         if let Some(d) = target {
             marker(out, x.map(d), &input.target_label)?;
@@ -129,6 +91,65 @@ pub fn render_step_curve(input: &StepChart) -> String {
         legend(out, &series, legend_top)?;
         svg::close(out)
     })
+}
+
+/// The series with at least one clean step, each with its usable
+/// censoring days.
+fn drawable_series(input: &StepChart) -> Vec<Series<'_>> {
+    input
+        .series
+        .iter()
+        .enumerate()
+        .map(|(i, s)| {
+            let cens: Vec<f64> = s
+                .censored
+                .iter()
+                .copied()
+                .filter(|c| c.is_finite() && *c >= 0.0)
+                .collect();
+            (i, s.label.as_str(), clean(&s.steps), cens)
+        })
+        .filter(|(_, _, steps, _)| !steps.is_empty())
+        .collect()
+}
+
+/// The last day the day axis must show: the target, a step or a censoring.
+fn last_day(series: &[Series<'_>], target: Option<f64>) -> f64 {
+    let mut x_max = target.unwrap_or(0.0);
+    for (_, _, steps, cens) in series {
+        for v in steps.iter().map(|s| s.x_days).chain(cens.iter().copied()) {
+            x_max = x_max.max(v);
+        }
+    }
+    x_max
+}
+
+/// One series: its band, its step line and its censor marks.
+fn one_series(out: &mut String, series: &Series<'_>, x: Scale, y: Scale) -> fmt::Result {
+    let (i, label, steps, cens) = series;
+    let x_end = steps
+        .last()
+        .map_or(0.0, |s| s.x_days)
+        .max(cens.iter().copied().fold(0.0, f64::max));
+    band(out, *i, steps, x_end, x, y)?;
+    curve(out, *i, label, steps, x_end, x, y)?;
+    for &c in cens {
+        let (cx, cy) = (x.map(c), y.map(value_at(steps, c)));
+        write!(
+            out,
+            "<path class=\"censor\" d=\"M {} {} L {} {} M {} {} L {} {}\" stroke=\"{}\" stroke-width=\"1.5\"/>",
+            px(cx - 4.0),
+            px(cy),
+            px(cx + 4.0),
+            px(cy),
+            px(cx),
+            px(cy - 4.0),
+            px(cx),
+            px(cy + 4.0),
+            series_colour(*i).hex()
+        )?;
+    }
+    Ok(())
 }
 
 /// The step line of one series as a single path.
@@ -229,11 +250,7 @@ fn marker(out: &mut String, mx: f64, label: &str) -> fmt::Result {
 }
 
 /// One legend entry per series, then a note on the marks.
-fn legend(
-    out: &mut String,
-    series: &[(usize, &str, Vec<Step>, Vec<f64>)],
-    top: f64,
-) -> fmt::Result {
+fn legend(out: &mut String, series: &[Series<'_>], top: f64) -> fmt::Result {
     let col_w = (RIGHT - LEFT) / LEGEND_COLS as f64;
     for (n, (i, label, _, _)) in series.iter().enumerate() {
         let lx = LEFT + (n % LEGEND_COLS) as f64 * col_w;

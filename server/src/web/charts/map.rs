@@ -51,96 +51,152 @@ fn rings(mp: &MultiPolygon<f64>) -> Vec<Vec<(f64, f64)>> {
 /// Draw the map. Input with no usable coordinate gives a "no data" SVG.
 /// Events and zones whose shapes have no usable polygon are left out.
 pub fn render_map(input: &MapInput) -> String {
-    let zones: Vec<(&MapZone, MultiPolygon<f64>)> = input
-        .zones
-        .iter()
-        .map(|z| (z, clean(&z.shape)))
-        .filter(|z| !z.1.0.is_empty())
-        .collect();
-    let events: Vec<(&MapEvent, MultiPolygon<f64>)> = input
-        .events
-        .iter()
-        .map(|e| (e, clean(&e.footprint)))
-        .filter(|e| !e.1.0.is_empty())
-        .collect();
-    let start = input.start.filter(|&p| usable(p));
-    let route: Vec<(f64, f64)> = input.route.iter().copied().filter(|&p| usable(p)).collect();
-    let shapes = zones
-        .iter()
-        .map(|z| &z.1)
-        .chain(events.iter().map(|e| &e.1));
-    let mut all: Vec<(f64, f64)> = shapes.flat_map(rings).flatten().collect();
-    all.extend(start);
-    all.extend(route.iter().copied());
-    let Some(f) = Frame::fit(&all) else {
+    let d = Drawable::of(input);
+    let Some(f) = Frame::fit(&d.all_points()) else {
         return svg::no_data(&input.title);
     };
-    let priorities: Vec<bool> = zones.iter().map(|z| z.0.priority).collect();
-    let has_route = route.len() >= 2;
+    let priorities: Vec<bool> = d.zones.iter().map(|z| z.0.priority).collect();
+    let has_route = d.route.len() >= 2;
     let legend_top = MAP_Y0 + f.height + 24.0;
-    let extras = usize::from(priorities.iter().any(|p| !p))
-        + usize::from(priorities.iter().any(|p| *p))
-        + usize::from(has_route)
-        + usize::from(start.is_some());
-    let rows = (EventStatus::ALL.len() + extras).div_ceil(LEGEND_COLS);
+    let rows = legend_rows(&priorities, has_route, d.start.is_some());
     let footer = legend_top + rows as f64 * 20.0 + 16.0;
     svg::render_with(&input.title, |out| {
         svg::open(out, W, footer + 30.0, &input.title)?;
         svg::heading(out, &input.title)?;
-        write!(
-            out,
-            "<rect class=\"map-frame\" x=\"{MAP_X0}\" y=\"{MAP_Y0}\" width=\"{MAP_W}\" height=\"{}\" \
-             fill=\"#ffffff\" stroke=\"{}\"/>",
-            px(f.height),
-            AXIS.hex()
-        )?;
-        for (z, shape) in &zones {
+        map_frame(out, &f)?;
+        for (z, shape) in &d.zones {
             zone(out, &f, z, shape)?;
         }
-        // Largest first, so small footprints stay on top.
-        let mut drawn: Vec<_> = events
-            .iter()
-            .map(|(e, s)| (*e, rings(s)))
-            .map(|(e, r)| (e, extent(&f, &r), r))
-            .collect();
-        drawn.sort_by(|a, b| (b.1.2 * b.1.3).total_cmp(&(a.1.2 * a.1.3)));
-        for (e, ext, r) in &drawn {
-            event(out, &f, e, *ext, r)?;
-        }
+        footprints(out, &f, &d.events)?;
         if has_route {
-            let pts: Vec<String> = route
-                .iter()
-                .map(|&p| f.project(p))
-                .map(|(x, y)| format!("{},{}", px(x), px(y)))
-                .collect();
-            write!(
-                out,
-                "<polyline class=\"route\" points=\"{}\" fill=\"none\" stroke=\"{}\" stroke-width=\"2\" \
-                 stroke-dasharray=\"5 3\"/>",
-                pts.join(" "),
-                BLACK.hex()
-            )?;
+            route_line(out, &f, &d.route)?;
         }
-        if let Some(p) = start {
-            let (x, y) = f.project(p);
-            write!(
-                out,
-                "<circle class=\"start\" cx=\"{}\" cy=\"{}\" r=\"6\" fill=\"{}\" stroke=\"{}\" \
-                 stroke-width=\"1.5\"><title>start</title></circle>",
-                px(x),
-                px(y),
-                ORANGE.hex(),
-                BLACK.hex()
-            )?;
+        if let Some(p) = d.start {
+            start_marker(out, &f, p)?;
         }
-        for (z, shape) in &zones {
+        for (z, shape) in &d.zones {
             zone_label(out, &f, &z.name, shape)?;
         }
         north_arrow(out, MAP_X0 + MAP_W - 22.0, MAP_Y0 + 12.0)?;
-        legend(out, legend_top, &priorities, has_route, start.is_some())?;
+        legend(out, legend_top, &priorities, has_route, d.start.is_some())?;
         scale_bar(out, &f, footer)?;
         svg::close(out)
     })
+}
+
+/// What of the input can be drawn: shapes cleaned (those left empty
+/// dropped), the start and route points usable.
+struct Drawable<'a> {
+    zones: Vec<(&'a MapZone, MultiPolygon<f64>)>,
+    events: Vec<(&'a MapEvent, MultiPolygon<f64>)>,
+    start: Option<(f64, f64)>,
+    route: Vec<(f64, f64)>,
+}
+
+impl<'a> Drawable<'a> {
+    fn of(input: &'a MapInput) -> Self {
+        let zones: Vec<(&MapZone, MultiPolygon<f64>)> = input
+            .zones
+            .iter()
+            .map(|z| (z, clean(&z.shape)))
+            .filter(|z| !z.1.0.is_empty())
+            .collect();
+        let events: Vec<(&MapEvent, MultiPolygon<f64>)> = input
+            .events
+            .iter()
+            .map(|e| (e, clean(&e.footprint)))
+            .filter(|e| !e.1.0.is_empty())
+            .collect();
+        let start = input.start.filter(|&p| usable(p));
+        let route: Vec<(f64, f64)> = input.route.iter().copied().filter(|&p| usable(p)).collect();
+        Drawable {
+            zones,
+            events,
+            start,
+            route,
+        }
+    }
+
+    /// Every point the map is fitted to.
+    fn all_points(&self) -> Vec<(f64, f64)> {
+        let shapes = self
+            .zones
+            .iter()
+            .map(|z| &z.1)
+            .chain(self.events.iter().map(|e| &e.1));
+        let mut all: Vec<(f64, f64)> = shapes.flat_map(rings).flatten().collect();
+        all.extend(self.start);
+        all.extend(self.route.iter().copied());
+        all
+    }
+}
+
+/// Rows of the legend: one entry per status, plus the zone kinds present,
+/// the route and the start.
+fn legend_rows(priorities: &[bool], has_route: bool, has_start: bool) -> usize {
+    let extras = usize::from(priorities.iter().any(|p| !p))
+        + usize::from(priorities.iter().any(|p| *p))
+        + usize::from(has_route)
+        + usize::from(has_start);
+    (EventStatus::ALL.len() + extras).div_ceil(LEGEND_COLS)
+}
+
+fn map_frame(out: &mut String, f: &Frame) -> fmt::Result {
+    write!(
+        out,
+        "<rect class=\"map-frame\" x=\"{MAP_X0}\" y=\"{MAP_Y0}\" width=\"{MAP_W}\" height=\"{}\" \
+         fill=\"#ffffff\" stroke=\"{}\"/>",
+        px(f.height),
+        AXIS.hex()
+    )
+}
+
+/// The event footprints, largest first, so small footprints stay on top.
+fn footprints(
+    out: &mut String,
+    f: &Frame,
+    events: &[(&MapEvent, MultiPolygon<f64>)],
+) -> fmt::Result {
+    let mut drawn: Vec<_> = events
+        .iter()
+        .map(|(e, s)| (*e, rings(s)))
+        .map(|(e, r)| (e, extent(f, &r), r))
+        .collect();
+    drawn.sort_by(|a, b| (b.1.2 * b.1.3).total_cmp(&(a.1.2 * a.1.3)));
+    for (e, ext, r) in &drawn {
+        event(out, f, e, *ext, r)?;
+    }
+    Ok(())
+}
+
+/// The trip's route as a dashed line.
+fn route_line(out: &mut String, f: &Frame, route: &[(f64, f64)]) -> fmt::Result {
+    let pts: Vec<String> = route
+        .iter()
+        .map(|&p| f.project(p))
+        .map(|(x, y)| format!("{},{}", px(x), px(y)))
+        .collect();
+    write!(
+        out,
+        "<polyline class=\"route\" points=\"{}\" fill=\"none\" stroke=\"{}\" stroke-width=\"2\" \
+         stroke-dasharray=\"5 3\"/>",
+        pts.join(" "),
+        BLACK.hex()
+    )
+}
+
+/// The trip's start.
+fn start_marker(out: &mut String, f: &Frame, p: (f64, f64)) -> fmt::Result {
+    let (x, y) = f.project(p);
+    write!(
+        out,
+        "<circle class=\"start\" cx=\"{}\" cy=\"{}\" r=\"6\" fill=\"{}\" stroke=\"{}\" \
+         stroke-width=\"1.5\"><title>start</title></circle>",
+        px(x),
+        px(y),
+        ORANGE.hex(),
+        BLACK.hex()
+    )
 }
 
 /// A zone outline; priority zones get a heavy dashed black outline.

@@ -52,16 +52,57 @@ pub(crate) fn legend(
     route: bool,
     start: bool,
 ) -> fmt::Result {
-    let col_w = MAP_W / LEGEND_COLS as f64;
-    let mut n = 0usize;
-    let mut slot = |out: &mut String,
-                    class: &str,
-                    swatch: &dyn Fn(f64, f64) -> String,
-                    label: &str|
-     -> fmt::Result {
-        let x = MAP_X0 + (n % LEGEND_COLS) as f64 * col_w;
-        let y = top + (n / LEGEND_COLS) as f64 * 20.0;
-        n += 1;
+    let mut slots = LegendSlots {
+        top,
+        col_w: MAP_W / LEGEND_COLS as f64,
+        n: 0,
+    };
+    for s in EventStatus::ALL {
+        let c = status_colour(s);
+        slots.entry(
+            out,
+            "legend-status",
+            |x, y| status_swatch(c, x, y),
+            s.label(),
+        )?;
+    }
+    if zone_priority.iter().any(|p| !p) {
+        let sw = |x, y| zone_swatch("none", 1.0, AXIS, x, y);
+        slots.entry(out, "legend-zone", sw, "zone")?;
+    }
+    if zone_priority.iter().any(|p| *p) {
+        let sw = |x, y| zone_swatch("7 4", 2.5, BLACK, x, y);
+        slots.entry(out, "legend-zone", sw, "priority zone")?;
+    }
+    if route {
+        slots.entry(out, "legend-route", route_swatch, "route")?;
+    }
+    if start {
+        slots.entry(out, "legend-start", start_swatch, "start")?;
+    }
+    Ok(())
+}
+
+/// The legend's entries, filled row by row in [`LEGEND_COLS`] columns.
+struct LegendSlots {
+    top: f64,
+    col_w: f64,
+    /// Entries written so far.
+    n: usize,
+}
+
+impl LegendSlots {
+    /// The next entry: its swatch (drawn at the given top left) and label.
+    fn entry(
+        &mut self,
+        out: &mut String,
+        class: &str,
+        swatch: impl Fn(f64, f64) -> String,
+        label: &str,
+    ) -> fmt::Result {
+        let x = MAP_X0 + (self.n % LEGEND_COLS) as f64 * self.col_w;
+        let y = self.top + (self.n / LEGEND_COLS) as f64 * 20.0;
+        self.n += 1;
         write!(
             out,
             "<g class=\"legend-entry {class}\">{}",
@@ -69,67 +110,48 @@ pub(crate) fn legend(
         )?;
         text(out, x + 22.0, y, "start", "legend-label", label)?;
         out.write_str("</g>")
-    };
-    for s in EventStatus::ALL {
-        let c = status_colour(s).hex();
-        let sw = move |x: f64, y: f64| {
-            format!(
-                "<rect x=\"{}\" y=\"{}\" width=\"14\" height=\"14\" fill=\"{c}\" stroke=\"{}\" stroke-width=\"0.8\"/>",
-                px(x),
-                px(y),
-                TEXT.hex()
-            )
-        };
-        slot(out, "legend-status", &sw, s.label())?;
     }
-    let outline = |dash: &'static str, width: f64, colour: Rgb| {
-        move |x: f64, y: f64| {
-            format!(
-                "<rect x=\"{}\" y=\"{}\" width=\"14\" height=\"14\" fill=\"{}\" stroke=\"{}\" stroke-width=\"{width}\" stroke-dasharray=\"{dash}\"/>",
-                px(x),
-                px(y),
-                ZONE_FILL.hex(),
-                colour.hex()
-            )
-        }
-    };
-    if zone_priority.iter().any(|p| !p) {
-        slot(out, "legend-zone", &outline("none", 1.0, AXIS), "zone")?;
-    }
-    if zone_priority.iter().any(|p| *p) {
-        slot(
-            out,
-            "legend-zone",
-            &outline("7 4", 2.5, BLACK),
-            "priority zone",
-        )?;
-    }
-    if route {
-        let sw = |x: f64, y: f64| {
-            format!(
-                "<line x1=\"{}\" y1=\"{}\" x2=\"{}\" y2=\"{}\" stroke=\"{}\" stroke-width=\"2\" stroke-dasharray=\"5 3\"/>",
-                px(x),
-                px(y + 7.0),
-                px(x + 16.0),
-                px(y + 7.0),
-                BLACK.hex()
-            )
-        };
-        slot(out, "legend-route", &sw, "route")?;
-    }
-    if start {
-        let sw = |x: f64, y: f64| {
-            format!(
-                "<circle cx=\"{}\" cy=\"{}\" r=\"6\" fill=\"{}\" stroke=\"{}\" stroke-width=\"1.5\"/>",
-                px(x + 7.0),
-                px(y + 7.0),
-                ORANGE.hex(),
-                BLACK.hex()
-            )
-        };
-        slot(out, "legend-start", &sw, "start")?;
-    }
-    Ok(())
+}
+
+fn status_swatch(colour: Rgb, x: f64, y: f64) -> String {
+    let c = colour.hex();
+    format!(
+        "<rect x=\"{}\" y=\"{}\" width=\"14\" height=\"14\" fill=\"{c}\" stroke=\"{}\" stroke-width=\"0.8\"/>",
+        px(x),
+        px(y),
+        TEXT.hex()
+    )
+}
+
+fn zone_swatch(dash: &str, width: f64, colour: Rgb, x: f64, y: f64) -> String {
+    format!(
+        "<rect x=\"{}\" y=\"{}\" width=\"14\" height=\"14\" fill=\"{}\" stroke=\"{}\" stroke-width=\"{width}\" stroke-dasharray=\"{dash}\"/>",
+        px(x),
+        px(y),
+        ZONE_FILL.hex(),
+        colour.hex()
+    )
+}
+
+fn route_swatch(x: f64, y: f64) -> String {
+    format!(
+        "<line x1=\"{}\" y1=\"{}\" x2=\"{}\" y2=\"{}\" stroke=\"{}\" stroke-width=\"2\" stroke-dasharray=\"5 3\"/>",
+        px(x),
+        px(y + 7.0),
+        px(x + 16.0),
+        px(y + 7.0),
+        BLACK.hex()
+    )
+}
+
+fn start_swatch(x: f64, y: f64) -> String {
+    format!(
+        "<circle cx=\"{}\" cy=\"{}\" r=\"6\" fill=\"{}\" stroke=\"{}\" stroke-width=\"1.5\"/>",
+        px(x + 7.0),
+        px(y + 7.0),
+        ORANGE.hex(),
+        BLACK.hex()
+    )
 }
 
 /// A round-length scale bar at most 30% of the map width, and a note on
