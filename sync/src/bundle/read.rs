@@ -187,18 +187,13 @@ fn read_checked_entries(
         let mut hasher = Sha256::new();
         let mut buf = Vec::new();
         let keep_it = keep.contains(&listed.name.as_str());
-        let size = read_entry(
-            archive,
-            &listed.name,
-            listed.size,
-            &mut |c: &[u8]| {
-                hasher.update(c);
-                if keep_it {
-                    buf.extend_from_slice(c);
-                }
-                Ok(())
-            },
-        )?;
+        let size = read_entry(archive, &listed.name, listed.size, &mut |c: &[u8]| {
+            hasher.update(c);
+            if keep_it {
+                buf.extend_from_slice(c);
+            }
+            Ok(())
+        })?;
         check_digest(&listed.name, listed.size, &listed.sha256, size, hasher)?;
         if keep_it {
             kept.insert(listed.name.clone(), buf);
@@ -209,8 +204,8 @@ fn read_checked_entries(
 
 /// Parses `upload-key.json` and checks its key id against the manifest.
 fn parse_upload_key(bytes: &[u8], manifest: &Manifest) -> Result<UploadKey, SyncError> {
-    let upload_key = UploadKey::from_json(bytes)
-        .map_err(|r| SyncError::invalid_entry(names::UPLOAD_KEY, r))?;
+    let upload_key =
+        UploadKey::from_json(bytes).map_err(|r| SyncError::invalid_entry(names::UPLOAD_KEY, r))?;
     if upload_key.key_id != manifest.upload_key_id {
         return Err(SyncError::invalid_entry(
             names::UPLOAD_KEY,

@@ -405,7 +405,11 @@ fn report_views(
 }
 
 /// The map of one event, coloured by its status, over the zones it lies in.
-fn event_map(ranked: &RankedEvent, status: Option<&StatusOutcome>, zones: Vec<ZoneRecord>) -> String {
+fn event_map(
+    ranked: &RankedEvent,
+    status: Option<&StatusOutcome>,
+    zones: Vec<ZoneRecord>,
+) -> String {
     let mut statuses = BTreeMap::new();
     if let Some(s) = status {
         statuses.insert(ranked.record.id, s.clone());
