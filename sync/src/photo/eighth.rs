@@ -344,12 +344,14 @@ fn plan(bytes: &[u8]) -> Result<Option<Plan<'_>>, PhotoError> {
             // Other frame types, arithmetic tables, DNL, SOF after SOF.
             0xC2..=0xC3 | 0xC5..=0xCF | 0xDC => return Ok(None),
             0xC4 => {
-                if !read_huffman_tables(seg, &mut headers.huff)? {
+                let read = read_huffman_tables(seg, &mut headers.huff)?;
+                if !read {
                     return Ok(None);
                 }
             }
             0xDB => {
-                if !read_quant_tables(seg, &mut headers.quant) {
+                let read = read_quant_tables(seg, &mut headers.quant);
+                if !read {
                     return Ok(None);
                 }
             }
