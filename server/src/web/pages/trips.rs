@@ -178,11 +178,12 @@ async fn trips_page(
 /// Without a start typed, starts where the last trip started (usually the
 /// field station).
 fn start_at_last_trip(form: &mut IssueForm, bundles: &[BundleRecord]) {
-    if form.start_lat.is_none() && form.start_lon.is_none() {
-        if let Some(b) = bundles.iter().max_by(|a, b| a.issued_at.cmp(&b.issued_at)) {
-            form.start_lat = Some(fixed(b.start_lat, 6));
-            form.start_lon = Some(fixed(b.start_lon, 6));
-        }
+    if form.start_lat.is_none()
+        && form.start_lon.is_none()
+        && let Some(b) = bundles.iter().max_by(|a, b| a.issued_at.cmp(&b.issued_at))
+    {
+        form.start_lat = Some(fixed(b.start_lat, 6));
+        form.start_lon = Some(fixed(b.start_lon, 6));
     }
 }
 
