@@ -186,12 +186,6 @@ pub async fn check(
     mut req: ServiceRequest,
     next: Next<impl MessageBody + 'static>,
 ) -> Result<ServiceResponse<BoxBody>, actix_web::Error> {
-    let header = |name: &str| {
-        req.headers()
-            .get(name)
-            .and_then(|v| v.to_str().ok())
-            .map(str::to_string)
-    };
     let principal = req
         .extensions()
         .get::<Principal>()
@@ -200,77 +194,103 @@ pub async fn check(
     let session = req.extensions().get::<auth::SessionIdentity>().cloned();
     let method = req.method().clone();
     let write = method != Method::GET && method != Method::HEAD && method != Method::OPTIONS;
-    if let Rule::Allow(action) = rule {
-        if principal == Principal::Anonymous {
-            return Ok(refuse(
-                req,
-                StatusCode::UNAUTHORIZED,
-                "log in first (or send a bearer token)",
-            ));
-        }
-        if !permits(principal, action) {
-            let msg = format!(
-                "your role ({}) may not {}",
-                principal.as_str(),
-                action.describe()
-            );
-            return Ok(refuse(req, StatusCode::FORBIDDEN, &msg));
-        }
+    if let Some((status, msg)) = rule_refusal(rule, principal) {
+        return Ok(refuse(req, status, &msg));
     }
     // Cross-site and CSRF checks for cookie sessions (and the login form).
     let cookie_write = write && session.is_some();
-    if cookie_write || (write && req.path() == "/login") {
-        let same = auth::is_same_origin(
-            header("origin").as_deref(),
-            header("referer").as_deref(),
-            header("host").as_deref(),
-            header("sec-fetch-site").as_deref(),
-        );
-        if !same {
-            return Ok(refuse(
-                req,
-                StatusCode::FORBIDDEN,
-                "this form was sent from another site; reload the page and try again",
-            ));
-        }
+    if (cookie_write || (write && req.path() == "/login")) && !same_origin(&req) {
+        return Ok(refuse(
+            req,
+            StatusCode::FORBIDDEN,
+            "this form was sent from another site; reload the page and try again",
+        ));
     }
-    if let Some(s) = session.filter(|_| cookie_write) {
-        let mut presented = header(auth::CSRF_HEADER);
-        if presented.is_none() {
-            presented = req
-                .query_string()
-                .split('&')
-                .find_map(|kv| kv.strip_prefix("csrf_token=").map(str::to_string));
-        }
-        let is_form = header("content-type")
-            .is_some_and(|c| c.starts_with("application/x-www-form-urlencoded"));
-        if presented.is_none() && is_form {
-            let body = match req.extract::<web::Bytes>().await {
-                Ok(b) if b.len() <= MAX_FORM_BYTES => b,
-                _ => {
-                    return Ok(refuse(
-                        req,
-                        StatusCode::PAYLOAD_TOO_LARGE,
-                        "the form is too large",
-                    ));
-                }
-            };
-            presented = form_field(&body, auth::CSRF_FIELD).map(|v| {
-                v.replace("%3D", "=")
-                    .replace("%2B", "+")
-                    .replace("%2F", "/")
-            });
-            req.set_payload(bytes_to_payload(body));
-        }
-        if !presented.is_some_and(|p| s.verify_csrf(&p)) {
-            return Ok(refuse(
-                req,
-                StatusCode::FORBIDDEN,
-                "the form's security token is missing or stale; reload the page and try again",
-            ));
-        }
+    if let Some(s) = session.filter(|_| cookie_write)
+        && let Some((status, msg)) = csrf_refusal(&mut req, &s).await
+    {
+        return Ok(refuse(req, status, msg));
     }
     Ok(next.call(req).await?.map_into_boxed_body())
+}
+
+/// A request header as text, when present and readable.
+fn header_of(req: &ServiceRequest, name: &str) -> Option<String> {
+    req.headers()
+        .get(name)
+        .and_then(|v| v.to_str().ok())
+        .map(str::to_string)
+}
+
+/// Why `rule` refuses `principal` (401 for nobody, 403 for a role not
+/// allowed), or `None`.
+fn rule_refusal(rule: Rule, principal: Principal) -> Option<(StatusCode, String)> {
+    let Rule::Allow(action) = rule else {
+        return None;
+    };
+    if principal == Principal::Anonymous {
+        return Some((
+            StatusCode::UNAUTHORIZED,
+            "log in first (or send a bearer token)".to_string(),
+        ));
+    }
+    if !permits(principal, action) {
+        let msg = format!(
+            "your role ({}) may not {}",
+            principal.as_str(),
+            action.describe()
+        );
+        return Some((StatusCode::FORBIDDEN, msg));
+    }
+    None
+}
+
+/// Whether the request comes from our own origin (Origin, Referer, Host,
+/// Sec-Fetch-Site).
+fn same_origin(req: &ServiceRequest) -> bool {
+    auth::is_same_origin(
+        header_of(req, "origin").as_deref(),
+        header_of(req, "referer").as_deref(),
+        header_of(req, "host").as_deref(),
+        header_of(req, "sec-fetch-site").as_deref(),
+    )
+}
+
+/// Why the session's CSRF token is not presented (header, query parameter,
+/// or for a URL-encoded form the body field, whose bytes are put back for
+/// the handler), or `None` when it is.
+async fn csrf_refusal(
+    req: &mut ServiceRequest,
+    s: &auth::SessionIdentity,
+) -> Option<(StatusCode, &'static str)> {
+    let mut presented = header_of(req, auth::CSRF_HEADER);
+    if presented.is_none() {
+        presented = req
+            .query_string()
+            .split('&')
+            .find_map(|kv| kv.strip_prefix("csrf_token=").map(str::to_string));
+    }
+    let is_form = header_of(req, "content-type")
+        .is_some_and(|c| c.starts_with("application/x-www-form-urlencoded"));
+    if presented.is_none() && is_form {
+        let body = match req.extract::<web::Bytes>().await {
+            Ok(b) if b.len() <= MAX_FORM_BYTES => b,
+            _ => return Some((StatusCode::PAYLOAD_TOO_LARGE, "the form is too large")),
+        };
+        presented = form_field(&body, auth::CSRF_FIELD).map(|v| {
+            v.replace("%3D", "=")
+                .replace("%2B", "+")
+                .replace("%2F", "/")
+        });
+        req.set_payload(bytes_to_payload(body));
+    }
+    if !presented.is_some_and(|p| s.verify_csrf(&p)) {
+        return Some((
+            StatusCode::FORBIDDEN,
+            "the form's security token is missing or stale; reload the page and try again",
+        ));
+    }
+    None
 }
 
 #[cfg(test)]

@@ -255,6 +255,19 @@ pub fn write_geopackage(
     controls: &[ControlPoint],
     start: &StartPoint,
 ) -> Result<(), SyncError> {
+    let conn = open_geopackage(path)?;
+    let last_change = issued_at.format("%Y-%m-%dT%H:%M:%S%.3fZ").to_string();
+
+    conn.execute_batch("BEGIN").map_err(e("begin"))?;
+    create_core_tables(&conn)?;
+    create_layers(&conn, &last_change, events, controls, start)?;
+    insert_event_features(&conn, events)?;
+    insert_point_features(&conn, events, controls, start)?;
+    finish_geopackage(conn)
+}
+
+/// Opens the file and sets the GeoPackage identity pragmas and journal mode DELETE.
+fn open_geopackage(path: &Path) -> Result<Connection, SyncError> {
     let conn = Connection::open(path).map_err(e("open temporary GeoPackage"))?;
     conn.pragma_update(None, "application_id", GPKG_APPLICATION_ID)
         .map_err(e("set application_id"))?;
@@ -268,9 +281,11 @@ pub fn write_geopackage(
             "GeoPackage journal mode is {mode}, not delete"
         )));
     }
-    let last_change = issued_at.format("%Y-%m-%dT%H:%M:%S%.3fZ").to_string();
+    Ok(conn)
+}
 
-    conn.execute_batch("BEGIN").map_err(e("begin"))?;
+/// Creates the required tables and the three `gpkg_spatial_ref_sys` rows.
+fn create_core_tables(conn: &Connection) -> Result<(), SyncError> {
     conn.execute_batch(CORE_DDL)
         .map_err(e("create core tables"))?;
     conn.execute(
@@ -281,17 +296,27 @@ pub fn write_geopackage(
         params![WGS84_WKT],
     )
     .map_err(e("insert gpkg_spatial_ref_sys"))?;
+    Ok(())
+}
 
+/// Registers the events and points layers with their bounding boxes.
+fn create_layers(
+    conn: &Connection,
+    last_change: &str,
+    events: &[BundleEvent],
+    controls: &[ControlPoint],
+    start: &StartPoint,
+) -> Result<(), SyncError> {
     let events_bbox = events.iter().fold(None, |acc, ev| {
         union(acc, multipolygon_envelope(&ev.footprint))
     });
     create_layer(
-        &conn,
+        conn,
         EVENTS_LAYER,
         "MULTIPOLYGON",
         EVENT_COLUMNS,
         "Clearing event footprints to visit",
-        &last_change,
+        last_change,
         events_bbox,
     )?;
     let point_iter = events
@@ -301,15 +326,18 @@ pub fn write_geopackage(
         .chain(std::iter::once(start.point));
     let points_bbox = envelope_of(point_iter.map(|p| (p.x(), p.y())));
     create_layer(
-        &conn,
+        conn,
         POINTS_LAYER,
         "POINT",
         &format!("\"kind\" TEXT NOT NULL, \"name\" TEXT NOT NULL, {EVENT_COLUMNS}"),
         "Event centroids, control points and the start point",
-        &last_change,
+        last_change,
         points_bbox,
-    )?;
+    )
+}
 
+/// Inserts one events-layer feature and R-tree row per event footprint.
+fn insert_event_features(conn: &Connection, events: &[BundleEvent]) -> Result<(), SyncError> {
     for (i, ev) in events.iter().enumerate() {
         let fid = i as i64 + 1;
         let mut values = vec![
@@ -322,12 +350,22 @@ pub fn write_geopackage(
             ev.visit_order,
             ev.inclusion_probability,
         ));
-        insert_row(&conn, EVENTS_LAYER, values)?;
+        insert_row(conn, EVENTS_LAYER, values)?;
         if let Some(b) = multipolygon_envelope(&ev.footprint) {
-            insert_rtree(&conn, EVENTS_LAYER, fid, b)?;
+            insert_rtree(conn, EVENTS_LAYER, fid, b)?;
         }
     }
+    Ok(())
+}
 
+/// Inserts the points-layer features (event centroids, control points, then
+/// the start point), each with its R-tree row.
+fn insert_point_features(
+    conn: &Connection,
+    events: &[BundleEvent],
+    controls: &[ControlPoint],
+    start: &StartPoint,
+) -> Result<(), SyncError> {
     let event_points = events.iter().map(|ev| {
         let cols = event_columns(Some(ev), &ev.code, ev.visit_order, ev.inclusion_probability);
         (ev.centroid, "event", ev.code.as_str(), cols)
@@ -355,10 +393,14 @@ pub fn write_geopackage(
             Value::Text(name.to_owned()),
         ];
         values.extend(cols);
-        insert_row(&conn, POINTS_LAYER, values)?;
-        insert_rtree(&conn, POINTS_LAYER, fid, [p.x(), p.x(), p.y(), p.y()])?;
+        insert_row(conn, POINTS_LAYER, values)?;
+        insert_rtree(conn, POINTS_LAYER, fid, [p.x(), p.x(), p.y(), p.y()])?;
     }
+    Ok(())
+}
 
+/// Creates the R-tree triggers, commits, vacuums, checks integrity and closes.
+fn finish_geopackage(conn: Connection) -> Result<(), SyncError> {
     conn.execute_batch(&rtree_triggers(EVENTS_LAYER))
         .map_err(e("create R-tree triggers"))?;
     conn.execute_batch(&rtree_triggers(POINTS_LAYER))

@@ -119,48 +119,11 @@ pub fn open_bundle_with_limits(
     let in_zip = archive.names().clone();
 
     // 1. Format name and version, before anything else.
-    let mut manifest_bytes = Vec::new();
-    read_entry(
-        &mut archive,
-        names::MANIFEST,
-        limits.max_manifest_bytes,
-        &mut |c: &[u8]| {
-            manifest_bytes.extend_from_slice(c);
-            Ok(())
-        },
-    )?;
-    let manifest = parse_manifest(&manifest_bytes)?;
+    let manifest = read_manifest(&mut archive, &limits)?;
     check_listing(&manifest, &in_zip, &limits)?;
 
     // 2. Every checksum; keep the small entries parsed below.
-    let keep = [
-        names::CHECKLIST,
-        names::UPLOAD_KEY,
-        names::EVENTS_GEOJSON,
-        names::POINTS_GEOJSON,
-    ];
-    let mut kept: BTreeMap<String, Vec<u8>> = BTreeMap::new();
-    for listed in &manifest.entries {
-        let mut hasher = Sha256::new();
-        let mut buf = Vec::new();
-        let keep_it = keep.contains(&listed.name.as_str());
-        let size = read_entry(
-            &mut archive,
-            &listed.name,
-            listed.size,
-            &mut |c: &[u8]| {
-                hasher.update(c);
-                if keep_it {
-                    buf.extend_from_slice(c);
-                }
-                Ok(())
-            },
-        )?;
-        check_digest(&listed.name, listed.size, &listed.sha256, size, hasher)?;
-        if keep_it {
-            kept.insert(listed.name.clone(), buf);
-        }
-    }
+    let kept = read_checked_entries(&mut archive, &manifest)?;
 
     // 3. Expiry.
     if now >= manifest.expires_at {
@@ -172,8 +135,77 @@ pub fn open_bundle_with_limits(
 
     // 4. Content, cross-checked with the manifest.
     let get = |name: &str| kept.get(name).map(Vec::as_slice).unwrap_or_default();
-    let upload_key = UploadKey::from_json(get(names::UPLOAD_KEY))
-        .map_err(|r| SyncError::invalid_entry(names::UPLOAD_KEY, r))?;
+    let upload_key = parse_upload_key(get(names::UPLOAD_KEY), &manifest)?;
+    let checklist = parse_checklist(get(names::CHECKLIST), &manifest)?;
+    let (events, controls, start) =
+        parse_places(get(names::EVENTS_GEOJSON), get(names::POINTS_GEOJSON))?;
+    check_counts(&manifest, &events, &controls)?;
+    let route = route_in_visit_order(&events, &controls)?;
+
+    Ok(OpenedBundle {
+        manifest,
+        checklist,
+        upload_key,
+        events,
+        controls,
+        start,
+        route,
+        path: path.to_owned(),
+        limits,
+    })
+}
+
+/// Reads `manifest.json` within its size limit and parses it.
+fn read_manifest(archive: &mut SafeZip, limits: &BundleLimits) -> Result<Manifest, SyncError> {
+    let mut manifest_bytes = Vec::new();
+    read_entry(
+        archive,
+        names::MANIFEST,
+        limits.max_manifest_bytes,
+        &mut |c: &[u8]| {
+            manifest_bytes.extend_from_slice(c);
+            Ok(())
+        },
+    )?;
+    parse_manifest(&manifest_bytes)
+}
+
+/// Streams every listed entry through SHA-256 against the manifest, and
+/// returns the bytes of the small entries parsed afterwards.
+fn read_checked_entries(
+    archive: &mut SafeZip,
+    manifest: &Manifest,
+) -> Result<BTreeMap<String, Vec<u8>>, SyncError> {
+    let keep = [
+        names::CHECKLIST,
+        names::UPLOAD_KEY,
+        names::EVENTS_GEOJSON,
+        names::POINTS_GEOJSON,
+    ];
+    let mut kept: BTreeMap<String, Vec<u8>> = BTreeMap::new();
+    for listed in &manifest.entries {
+        let mut hasher = Sha256::new();
+        let mut buf = Vec::new();
+        let keep_it = keep.contains(&listed.name.as_str());
+        let size = read_entry(archive, &listed.name, listed.size, &mut |c: &[u8]| {
+            hasher.update(c);
+            if keep_it {
+                buf.extend_from_slice(c);
+            }
+            Ok(())
+        })?;
+        check_digest(&listed.name, listed.size, &listed.sha256, size, hasher)?;
+        if keep_it {
+            kept.insert(listed.name.clone(), buf);
+        }
+    }
+    Ok(kept)
+}
+
+/// Parses `upload-key.json` and checks its key id against the manifest.
+fn parse_upload_key(bytes: &[u8], manifest: &Manifest) -> Result<UploadKey, SyncError> {
+    let upload_key =
+        UploadKey::from_json(bytes).map_err(|r| SyncError::invalid_entry(names::UPLOAD_KEY, r))?;
     if upload_key.key_id != manifest.upload_key_id {
         return Err(SyncError::invalid_entry(
             names::UPLOAD_KEY,
@@ -183,7 +215,12 @@ pub fn open_bundle_with_limits(
             ),
         ));
     }
-    let checklist: Checklist = serde_json::from_slice(get(names::CHECKLIST))
+    Ok(upload_key)
+}
+
+/// Parses and validates the checklist, and checks its version against the manifest.
+fn parse_checklist(bytes: &[u8], manifest: &Manifest) -> Result<Checklist, SyncError> {
+    let checklist: Checklist = serde_json::from_slice(bytes)
         .map_err(|e| SyncError::invalid_entry(names::CHECKLIST, e.to_string()))?;
     checklist
         .validate()
@@ -197,8 +234,15 @@ pub fn open_bundle_with_limits(
             ),
         ));
     }
-    let (events, controls, start) =
-        parse_places(get(names::EVENTS_GEOJSON), get(names::POINTS_GEOJSON))?;
+    Ok(checklist)
+}
+
+/// Checks the manifest's counts against the events and control points parsed.
+fn check_counts(
+    manifest: &Manifest,
+    events: &[BundleEvent],
+    controls: &[ControlPoint],
+) -> Result<(), SyncError> {
     let counts_ok = manifest.counts.events as usize == events.len()
         && manifest.counts.control_points as usize == controls.len()
         && manifest.counts.route_stops as usize == events.len() + controls.len();
@@ -213,6 +257,14 @@ pub fn open_bundle_with_limits(
             ),
         ));
     }
+    Ok(())
+}
+
+/// The route rebuilt from the stops' visit orders, checked like a written one.
+fn route_in_visit_order(
+    events: &[BundleEvent],
+    controls: &[ControlPoint],
+) -> Result<Vec<String>, SyncError> {
     let mut stops: Vec<(u32, String)> = events
         .iter()
         .map(|e| (e.visit_order, e.code.clone()))
@@ -220,20 +272,9 @@ pub fn open_bundle_with_limits(
         .collect();
     stops.sort();
     let route: Vec<String> = stops.into_iter().map(|(_, code)| code).collect();
-    check_route(&events, &controls, &route)
+    check_route(events, controls, &route)
         .map_err(|e| SyncError::invalid_entry(names::POINTS_GEOJSON, e.to_string()))?;
-
-    Ok(OpenedBundle {
-        manifest,
-        checklist,
-        upload_key,
-        events,
-        controls,
-        start,
-        route,
-        path: path.to_owned(),
-        limits,
-    })
+    Ok(route)
 }
 
 /// Opens the bundle through the crate's safe ZIP reader: size, entry count,

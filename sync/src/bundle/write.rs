@@ -105,6 +105,14 @@ pub(crate) fn check_route(
     Ok(())
 }
 
+/// The caller's inputs once checked and normalised.
+struct Checked {
+    events: Vec<BundleEvent>,
+    controls: Vec<ControlPoint>,
+    start: StartPoint,
+    counts: ManifestCounts,
+}
+
 /// Writes a bundle to `out` and returns its manifest.
 ///
 /// `route` lists the codes of every event and control point in visit order (the
@@ -130,6 +138,48 @@ pub fn write_bundle<W: Write + Seek>(
     extras: Vec<ExtraEntry>,
 ) -> Result<Manifest, SyncError> {
     let limits = BundleLimits::default();
+    let checked = check_inputs(
+        header,
+        events,
+        controls,
+        start,
+        route,
+        checklist,
+        extras.len(),
+        &limits,
+    )?;
+    let mut contents = render_core_entries(header, &checked, route, checklist, upload_key)?;
+    add_extras(&mut contents, extras)?;
+    contents.sort_by(|a, b| a.0.cmp(&b.0));
+
+    let entries = manifest_entries(&mut contents, &limits)?;
+    let manifest = Manifest::new(header, checklist.version, checked.counts, entries);
+    let manifest_json = serde_json::to_vec_pretty(&manifest)
+        .map_err(|e| SyncError::InvalidInput(format!("manifest: {e}")))?;
+    contents.push((names::MANIFEST.into(), Content::Memory(manifest_json)));
+    contents.sort_by(|a, b| a.0.cmp(&b.0));
+
+    zip_contents(out, &mut contents)?;
+    Ok(manifest)
+}
+
+/// Validates the header and checklist, normalises the events, control points
+/// and start, checks the route and the number of extras, and counts what the
+/// manifest reports.
+#[allow(
+    clippy::too_many_arguments,
+    reason = "the pieces of the bundle contract, checked in one pass"
+)]
+fn check_inputs(
+    header: &BundleHeader,
+    events: &[BundleEvent],
+    controls: &[ControlPoint],
+    start: &StartPoint,
+    route: &[String],
+    checklist: &Checklist,
+    extra_count: usize,
+    limits: &BundleLimits,
+) -> Result<Checked, SyncError> {
     header.validate().map_err(SyncError::InvalidInput)?;
     checklist.validate().map_err(SyncError::InvalidInput)?;
     let events = events
@@ -142,10 +192,10 @@ pub fn write_bundle<W: Write + Seek>(
         .collect::<Result<Vec<_>, _>>()?;
     let start = normalise_start(start)?;
     check_route(&events, &controls, route)?;
-    if extras.len() + names::CORE_ENTRIES.len() > limits.max_entries {
+    if extra_count + names::CORE_ENTRIES.len() > limits.max_entries {
         return Err(SyncError::InvalidInput(format!(
             "{} extras is more than the reader accepts ({})",
-            extras.len(),
+            extra_count,
             limits.max_entries - names::CORE_ENTRIES.len()
         )));
     }
@@ -157,7 +207,29 @@ pub fn write_bundle<W: Write + Seek>(
         control_points: count(controls.len(), "control points")?,
         route_stops: count(route.len(), "route stops")?,
     };
+    Ok(Checked {
+        events,
+        controls,
+        start,
+        counts,
+    })
+}
 
+/// Renders the core entries: the small text entries in memory, then the
+/// GeoPackage into a temporary file.
+fn render_core_entries(
+    header: &BundleHeader,
+    checked: &Checked,
+    route: &[String],
+    checklist: &Checklist,
+    upload_key: &[u8; 32],
+) -> Result<Vec<(String, Content)>, SyncError> {
+    let Checked {
+        events,
+        controls,
+        start,
+        ..
+    } = checked;
     let key = UploadKey {
         key_id: header.upload_key_id.clone(),
         key: *upload_key,
@@ -169,15 +241,15 @@ pub fn write_bundle<W: Write + Seek>(
         (names::CHECKLIST.into(), Content::Memory(checklist_json)),
         (
             names::EVENTS_GEOJSON.into(),
-            Content::Memory(events_geojson(&events)),
+            Content::Memory(events_geojson(events)),
         ),
         (
             names::POINTS_GEOJSON.into(),
-            Content::Memory(points_geojson(&events, &controls, &start)),
+            Content::Memory(points_geojson(events, controls, start)),
         ),
         (
             names::ROUTE_GPX.into(),
-            Content::Memory(route_gpx(header, &events, &controls, &start, route)),
+            Content::Memory(route_gpx(header, events, controls, start, route)),
         ),
     ];
     let gpkg = tempfile::Builder::new()
@@ -185,8 +257,16 @@ pub fn write_bundle<W: Write + Seek>(
         .suffix(".gpkg")
         .tempfile()
         .map_err(|e| SyncError::io("create temporary GeoPackage", e))?;
-    write_geopackage(gpkg.path(), header.issued_at, &events, &controls, &start)?;
+    write_geopackage(gpkg.path(), header.issued_at, events, controls, start)?;
     contents.push((names::GEOPACKAGE.into(), Content::TempFile(gpkg)));
+    Ok(contents)
+}
+
+/// Appends the extras after checking that each name is allowed and given once.
+fn add_extras(
+    contents: &mut Vec<(String, Content)>,
+    extras: Vec<ExtraEntry>,
+) -> Result<(), SyncError> {
     let mut seen_extras = BTreeSet::new();
     for extra in extras {
         if !names::is_allowed_extra_name(&extra.name) {
@@ -203,10 +283,17 @@ pub fn write_bundle<W: Write + Seek>(
         }
         contents.push((extra.name, Content::Memory(extra.bytes)));
     }
-    contents.sort_by(|a, b| a.0.cmp(&b.0));
+    Ok(())
+}
 
+/// Hashes every entry for the manifest, refusing one larger than the reader
+/// accepts.
+fn manifest_entries(
+    contents: &mut [(String, Content)],
+    limits: &BundleLimits,
+) -> Result<Vec<ManifestEntry>, SyncError> {
     let mut entries = Vec::with_capacity(contents.len());
-    for (name, content) in &mut contents {
+    for (name, content) in contents {
         let (sha256, size) = match content {
             Content::Memory(bytes) => (sha256_hex(bytes), bytes.len() as u64),
             Content::TempFile(f) => hash_file(f.as_file_mut())
@@ -224,14 +311,16 @@ pub fn write_bundle<W: Write + Seek>(
             size,
         });
     }
-    let manifest = Manifest::new(header, checklist.version, counts, entries);
-    let manifest_json = serde_json::to_vec_pretty(&manifest)
-        .map_err(|e| SyncError::InvalidInput(format!("manifest: {e}")))?;
-    contents.push((names::MANIFEST.into(), Content::Memory(manifest_json)));
-    contents.sort_by(|a, b| a.0.cmp(&b.0));
+    Ok(entries)
+}
 
+/// Streams the entries, in the order given, into a ZIP written to `out`.
+fn zip_contents<W: Write + Seek>(
+    out: W,
+    contents: &mut [(String, Content)],
+) -> Result<(), SyncError> {
     let mut zip = ZipWriter::new(out);
-    for (name, content) in &mut contents {
+    for (name, content) in contents {
         zip.start_file(name.as_str(), zip_options())
             .map_err(|e| SyncError::zip(format!("start entry {name:?}"), e))?;
         match content {
@@ -251,7 +340,7 @@ pub fn write_bundle<W: Write + Seek>(
         .finish()
         .map_err(|e| SyncError::zip("finish bundle", e))?;
     out.flush().map_err(|e| SyncError::io("flush bundle", e))?;
-    Ok(manifest)
+    Ok(())
 }
 
 #[cfg(test)]

@@ -16,7 +16,7 @@ use uuid::Uuid;
 
 use super::workspace::{OUTGOING, Snapshot};
 use crate::SyncError;
-use crate::client::{Package, PushOptions, send};
+use crate::client::{Package, PushOptions, ReportResult, send};
 use crate::outbox::{Outbox, PushState, write_atomic};
 use crate::returns::{ReturnHeader, ReturnManifest, pack_return, sha256_file};
 
@@ -143,43 +143,9 @@ pub fn push(
     let outgoing = workspace.join(OUTGOING);
     let zip_path = outgoing.join(PENDING_ZIP);
     let json_path = outgoing.join(PENDING_JSON);
-    let mut to_send: Vec<Uuid> = outbox
-        .reports()?
-        .into_iter()
-        .filter(|r| matches!(r.state, PushState::NotSent | PushState::Sent))
-        .map(|r| r.report.report_id)
-        .collect();
-    to_send.sort();
-    let reuse = std::fs::read(&json_path)
-        .ok()
-        .and_then(|b| serde_json::from_slice::<Pending>(&b).ok())
-        .filter(|p| p.report_ids == to_send && zip_path.exists());
-    let pending = match reuse {
-        Some(p) => p,
-        None => {
-            let packed = pack_workspace(workspace, &zip_path, false, Utc::now())?;
-            let mut ids = packed.report_ids;
-            ids.sort();
-            let (sha256, size) = sha256_file(&zip_path)?;
-            let p = Pending {
-                report_ids: ids,
-                sha256,
-                size,
-            };
-            let bytes = serde_json::to_vec_pretty(&p)
-                .map_err(|e| SyncError::InvalidInput(format!("pending: {e}")))?;
-            write_atomic(&json_path, &bytes)?;
-            p
-        }
-    };
-    let (sha, size) = sha256_file(&zip_path)?;
-    if sha != pending.sha256 || size != pending.size {
-        return Err(SyncError::Push(format!(
-            "{} changed on disk; delete it and {} and push again",
-            zip_path.display(),
-            json_path.display()
-        )));
-    }
+    let to_send = unsent_report_ids(&outbox)?;
+    let pending = pending_return(workspace, &zip_path, &json_path, &to_send)?;
+    let size = check_pending_unchanged(&zip_path, &json_path, &pending)?;
     let now = Utc::now();
     outbox.set_state(
         &pending
@@ -199,9 +165,98 @@ pub fn push(
     let delivery = send(&package, server_url, token, options)?;
     let results = delivery.results;
 
+    let tally = tally_results(&results.results, &pending.report_ids);
+    let done = Utc::now();
+    outbox.set_state(&tally.updates, done)?;
+    outbox.set_last_push(done)?;
+    // The return is taken in; a later push packs anew.
+    remove_pending(&json_path, &zip_path)?;
+    Ok(PushSummary {
+        upload_id: delivery.upload_id,
+        return_id: results.return_id,
+        bytes: size,
+        sha256: pending.sha256,
+        accepted: tally.accepted,
+        duplicate: tally.duplicate,
+        rejected: tally.rejected,
+        retries: delivery.retries,
+    })
+}
+
+/// Ids of the reports not yet acknowledged or rejected, sorted.
+fn unsent_report_ids(outbox: &Outbox) -> Result<Vec<Uuid>, SyncError> {
+    let mut to_send: Vec<Uuid> = outbox
+        .reports()?
+        .into_iter()
+        .filter(|r| matches!(r.state, PushState::NotSent | PushState::Sent))
+        .map(|r| r.report.report_id)
+        .collect();
+    to_send.sort();
+    Ok(to_send)
+}
+
+/// The pending return when it holds exactly `to_send`; otherwise packs the
+/// workspace anew into `zip_path` and records it in `json_path`.
+fn pending_return(
+    workspace: &Path,
+    zip_path: &Path,
+    json_path: &Path,
+    to_send: &[Uuid],
+) -> Result<Pending, SyncError> {
+    let reuse = std::fs::read(json_path)
+        .ok()
+        .and_then(|b| serde_json::from_slice::<Pending>(&b).ok())
+        .filter(|p| p.report_ids == to_send && zip_path.exists());
+    if let Some(p) = reuse {
+        return Ok(p);
+    }
+    let packed = pack_workspace(workspace, zip_path, false, Utc::now())?;
+    let mut ids = packed.report_ids;
+    ids.sort();
+    let (sha256, size) = sha256_file(zip_path)?;
+    let p = Pending {
+        report_ids: ids,
+        sha256,
+        size,
+    };
+    let bytes = serde_json::to_vec_pretty(&p)
+        .map_err(|e| SyncError::InvalidInput(format!("pending: {e}")))?;
+    write_atomic(json_path, &bytes)?;
+    Ok(p)
+}
+
+/// Checks that the pending return on disk is the one recorded, and returns
+/// its size.
+fn check_pending_unchanged(
+    zip_path: &Path,
+    json_path: &Path,
+    pending: &Pending,
+) -> Result<u64, SyncError> {
+    let (sha, size) = sha256_file(zip_path)?;
+    if sha != pending.sha256 || size != pending.size {
+        return Err(SyncError::Push(format!(
+            "{} changed on disk; delete it and {} and push again",
+            zip_path.display(),
+            json_path.display()
+        )));
+    }
+    Ok(size)
+}
+
+/// The server's results counted, with the outbox state of each report sent.
+struct Tally {
+    updates: Vec<(Uuid, PushState)>,
+    accepted: usize,
+    duplicate: usize,
+    rejected: Vec<(Uuid, String)>,
+}
+
+/// Counts the server's results and turns those about `sent` reports into
+/// outbox states.
+fn tally_results(results: &[ReportResult], sent: &[Uuid]) -> Tally {
     let mut updates = Vec::new();
     let (mut accepted, mut duplicate, mut rejected) = (0, 0, Vec::new());
-    for r in &results.results {
+    for r in results {
         let state = match r.status.as_str() {
             "accepted" => {
                 accepted += 1;
@@ -217,29 +272,26 @@ pub fn push(
                 PushState::Rejected(reason)
             }
         };
-        if pending.report_ids.contains(&r.report_id) {
+        if sent.contains(&r.report_id) {
             updates.push((r.report_id, state));
         }
     }
-    let done = Utc::now();
-    outbox.set_state(&updates, done)?;
-    outbox.set_last_push(done)?;
-    // The return is taken in; a later push packs anew.
-    for p in [&json_path, &zip_path] {
+    Tally {
+        updates,
+        accepted,
+        duplicate,
+        rejected,
+    }
+}
+
+/// Removes the pending return and its description (either may be gone already).
+fn remove_pending(json_path: &Path, zip_path: &Path) -> Result<(), SyncError> {
+    for p in [json_path, zip_path] {
         if let Err(e) = std::fs::remove_file(p)
             && e.kind() != std::io::ErrorKind::NotFound
         {
             return Err(SyncError::io(format!("remove {}", p.display()), e));
         }
     }
-    Ok(PushSummary {
-        upload_id: delivery.upload_id,
-        return_id: results.return_id,
-        bytes: size,
-        sha256: pending.sha256,
-        accepted,
-        duplicate,
-        rejected,
-        retries: delivery.retries,
-    })
+    Ok(())
 }

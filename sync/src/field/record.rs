@@ -110,40 +110,9 @@ pub fn build_report(
         .iter()
         .map(|p| read_photo(p))
         .collect::<Result<_, _>>()?;
-    let (photos, paths) = if read.is_empty() && base.is_some() {
-        (
-            base.map(|b| b.photos.clone()).unwrap_or_default(),
-            base_photo_paths,
-        )
-    } else {
-        (
-            read.iter().map(|p| p.photo.clone()).collect(),
-            read.iter().map(|p| p.path.clone()).collect(),
-        )
-    };
-    let outcome = args
-        .outcome
-        .clone()
-        .or_else(|| base.map(|b| b.outcome.clone()))
-        .ok_or_else(|| {
-            SyncError::Usage(format!(
-                "--outcome is required (one of: {})",
-                checklist.outcomes.join(", ")
-            ))
-        })?;
-    let position = match &args.at {
-        Some(at) => {
-            let (lat, lon, accuracy_m) = parse_lat_lon(at)?;
-            Some(Position {
-                lat,
-                lon,
-                accuracy_m,
-                source: PositionSource::Manual,
-            })
-        }
-        None if !read.is_empty() => photo_position(&read).or(base.and_then(|b| b.position)),
-        None => base.and_then(|b| b.position),
-    };
+    let (photos, paths) = report_photos(&read, base, base_photo_paths);
+    let outcome = report_outcome(args, base, checklist)?;
+    let position = report_position(args, &read, base)?;
     let observed_at = match &args.time {
         Some(t) => parse_time(t)?,
         None => photos
@@ -183,13 +152,78 @@ pub fn build_report(
             .unwrap_or_default(),
         photos,
     };
-    validate_report(&report, checklist).map_err(|reason| {
+    check_report(&report, checklist)?;
+    Ok((report, paths))
+}
+
+/// The photos read, or the amended report's photos and stored copies when
+/// none are given.
+fn report_photos(
+    read: &[ReadPhoto],
+    base: Option<&Report>,
+    base_photo_paths: Vec<PathBuf>,
+) -> (Vec<ReportPhoto>, Vec<PathBuf>) {
+    if read.is_empty() && base.is_some() {
+        (
+            base.map(|b| b.photos.clone()).unwrap_or_default(),
+            base_photo_paths,
+        )
+    } else {
+        (
+            read.iter().map(|p| p.photo.clone()).collect(),
+            read.iter().map(|p| p.path.clone()).collect(),
+        )
+    }
+}
+
+/// The outcome given, or the amended report's; required otherwise.
+fn report_outcome(
+    args: &ReportArgs,
+    base: Option<&Report>,
+    checklist: &crate::bundle::Checklist,
+) -> Result<String, SyncError> {
+    args.outcome
+        .clone()
+        .or_else(|| base.map(|b| b.outcome.clone()))
+        .ok_or_else(|| {
+            SyncError::Usage(format!(
+                "--outcome is required (one of: {})",
+                checklist.outcomes.join(", ")
+            ))
+        })
+}
+
+/// The position from `--at`, else from the new photos' GPS, else the amended
+/// report's.
+fn report_position(
+    args: &ReportArgs,
+    read: &[ReadPhoto],
+    base: Option<&Report>,
+) -> Result<Option<Position>, SyncError> {
+    Ok(match &args.at {
+        Some(at) => {
+            let (lat, lon, accuracy_m) = parse_lat_lon(at)?;
+            Some(Position {
+                lat,
+                lon,
+                accuracy_m,
+                source: PositionSource::Manual,
+            })
+        }
+        None if !read.is_empty() => photo_position(read).or(base.and_then(|b| b.position)),
+        None => base.and_then(|b| b.position),
+    })
+}
+
+/// Checks the report against the checklist, with a hint when the position is
+/// what is missing.
+fn check_report(report: &Report, checklist: &crate::bundle::Checklist) -> Result<(), SyncError> {
+    validate_report(report, checklist).map_err(|reason| {
         let hint = if reason.contains("position") {
             " (give --at LAT,LON or photos with GPS tags)"
         } else {
             ""
         };
         SyncError::Usage(format!("report refused: {reason}{hint}"))
-    })?;
-    Ok((report, paths))
+    })
 }

@@ -12,13 +12,16 @@ use crate::alerts::events::{RankedEvent, priority_of, ranked_events};
 use crate::domain::Day;
 use crate::error::Error;
 use crate::planning::codes::event_code;
-use crate::platform::storage::EventFilter;
+use crate::platform::storage::{EventFilter, EventRecord, Reader, Source, StoredAlert, ZoneRecord};
+use crate::reconcile::StatusOutcome;
 use crate::statistics::kept::StatsFilter;
 use crate::web::AppState;
 use crate::web::charts::{EventStatus, render_map};
 use actix_web::{HttpRequest, HttpResponse, web};
 use askama::Template;
 use serde::Deserialize;
+use std::collections::BTreeMap;
+use std::sync::Arc;
 
 /// Most rows in the events table (the map shows every event).
 pub const MAX_TABLE_ROWS: usize = 500;
@@ -109,43 +112,8 @@ async fn list_page(
     state: &AppState,
     q: EventsQuery,
 ) -> Result<HttpResponse, PageError> {
-    let filter = EventFilter {
-        zone: non_empty(&q.zone),
-        from: opt_day("From", &q.from)?,
-        to: opt_day("To", &q.to)?,
-        source: non_empty(&q.source),
-        min_area_ha: opt_number::<f64>("Minimum area", &q.min_area_ha)?,
-        limit: None,
-    };
-    if filter
-        .min_area_ha
-        .is_some_and(|a| !(a.is_finite() && a >= 0.0))
-    {
-        return Err(PageError::bad_request(
-            "Minimum area: expected a number of hectares, 0 or more",
-        ));
-    }
-    let status = match non_empty(&q.status) {
-        None => None,
-        Some(s) => Some(
-            EventStatus::parse(&s)
-                .ok_or_else(|| PageError::bad_request(format!("Status: '{s}' is not a status")))?,
-        ),
-    };
-    let st = state.clone();
-    let f2 = filter.clone();
-    let (events, zones, sources, statuses) = web::block(move || {
-        let (zones, sources) = st.db.read(|r| Ok((r.zones()?, r.sources()?)))?;
-        let events = ranked_events(&st.db, &f2, &st.settings.priority, Day::today())?;
-        let statuses = std::sync::Arc::clone(
-            &st.stats
-                .prepared(&st.db, &StatsFilter::default())?
-                .loaded
-                .statuses,
-        );
-        Ok::<_, Error>((events, zones, sources, statuses))
-    })
-    .await??;
+    let (filter, status) = list_filter(&q)?;
+    let (events, zones, sources, statuses) = load_list(state, &filter).await?;
     let events: Vec<RankedEvent> = events
         .into_iter()
         .filter(|e| status.is_none_or(|s| map_status(statuses.get(&e.record.id)) == s))
@@ -162,12 +130,6 @@ async fn list_page(
         .map(|(i, e)| row(i + 1, e, map_status(statuses.get(&e.record.id))))
         .collect();
     let viewer = Viewer::of(req);
-    let mut api = Vec::new();
-    for (k, v) in [("zone", &filter.zone), ("source", &filter.source)] {
-        if let Some(v) = v {
-            api.push(format!("{k}={}", urlencode(v)));
-        }
-    }
     let t = EventsPage {
         layout: Layout::new(req, &viewer, "Events", "/events"),
         zones: choices(
@@ -191,9 +153,76 @@ async fn list_page(
         total: events.len(),
         shown: rows.len(),
         rows,
-        api_link: format!("/api/v1/events?{}", api.join("&")),
+        api_link: api_link(&filter),
     };
     page(&t)
+}
+
+/// The storage filter and the status asked for, checked as typed.
+fn list_filter(q: &EventsQuery) -> Result<(EventFilter, Option<EventStatus>), PageError> {
+    let filter = EventFilter {
+        zone: non_empty(&q.zone),
+        from: opt_day("From", &q.from)?,
+        to: opt_day("To", &q.to)?,
+        source: non_empty(&q.source),
+        min_area_ha: opt_number::<f64>("Minimum area", &q.min_area_ha)?,
+        limit: None,
+    };
+    if filter
+        .min_area_ha
+        .is_some_and(|a| !(a.is_finite() && a >= 0.0))
+    {
+        return Err(PageError::bad_request(
+            "Minimum area: expected a number of hectares, 0 or more",
+        ));
+    }
+    let status = match non_empty(&q.status) {
+        None => None,
+        Some(s) => Some(
+            EventStatus::parse(&s)
+                .ok_or_else(|| PageError::bad_request(format!("Status: '{s}' is not a status")))?,
+        ),
+    };
+    Ok((filter, status))
+}
+
+/// What the events list reads: the filtered events in priority order, the
+/// zones and sources for the filters, and every event's status.
+type ListData = (
+    Vec<RankedEvent>,
+    Vec<ZoneRecord>,
+    Vec<Source>,
+    Arc<BTreeMap<i64, StatusOutcome>>,
+);
+
+/// Reads what the events list shows, on the blocking pool.
+async fn load_list(state: &AppState, filter: &EventFilter) -> Result<ListData, PageError> {
+    let st = state.clone();
+    let f2 = filter.clone();
+    let data = web::block(move || {
+        let (zones, sources) = st.db.read(|r| Ok((r.zones()?, r.sources()?)))?;
+        let events = ranked_events(&st.db, &f2, &st.settings.priority, Day::today())?;
+        let statuses = std::sync::Arc::clone(
+            &st.stats
+                .prepared(&st.db, &StatsFilter::default())?
+                .loaded
+                .statuses,
+        );
+        Ok::<_, Error>((events, zones, sources, statuses))
+    })
+    .await??;
+    Ok(data)
+}
+
+/// The same list from the API: the zone and source filters as a query.
+fn api_link(filter: &EventFilter) -> String {
+    let mut api = Vec::new();
+    for (k, v) in [("zone", &filter.zone), ("source", &filter.source)] {
+        if let Some(v) = v {
+            api.push(format!("{k}={}", urlencode(v)));
+        }
+    }
+    format!("/api/v1/events?{}", api.join("&"))
 }
 
 /// Percent-encode a query value (RFC 3986 unreserved characters kept).
@@ -249,6 +278,17 @@ struct EventPage {
     reports: Vec<ReportView>,
 }
 
+/// What the event page reads: the event (resolved through merges), its
+/// alerts, the sources and zones, its reports as shown, and its status.
+struct EventData {
+    rec: EventRecord,
+    alerts: Vec<StoredAlert>,
+    sources: Vec<Source>,
+    zones: Vec<ZoneRecord>,
+    reports: Vec<ReportView>,
+    status: Option<StatusOutcome>,
+}
+
 async fn one_page(
     req: &HttpRequest,
     state: &AppState,
@@ -257,65 +297,20 @@ async fn one_page(
     let id: i64 = raw
         .parse()
         .map_err(|_| PageError::bad_request(format!("event id '{raw}' is not a number")))?;
-    let st = state.clone();
-    let (rec, alerts, sources, zones, reports, status) = web::block(move || {
-        let rec = st
-            .db
-            .read(|r| r.event_resolved(id))?
-            .ok_or_else(|| Error::NotFound(format!("no event {id}")))?;
-        let status = st
-            .stats
-            .prepared(&st.db, &StatsFilter::default())?
-            .loaded
-            .statuses
-            .get(&rec.id)
-            .cloned();
-        let counted = status
-            .as_ref()
-            .map(|s| s.counted_reports.clone())
-            .unwrap_or_default();
-        let (alerts, sources, zones, reports) = st.db.read(|r| {
-            let rows = r.event_reports(rec.id)?;
-            let mut reports = Vec::new();
-            for row in &rows {
-                let is_counted =
-                    uuid::Uuid::parse_str(&row.report_id).is_ok_and(|u| counted.contains(&u));
-                reports.push(report_view(r, row, is_counted)?);
-            }
-            Ok((
-                r.alerts_of_events(&[rec.id])?,
-                r.sources()?,
-                r.zones()?,
-                reports,
-            ))
-        })?;
-        Ok::<_, Error>((rec, alerts, sources, zones, reports, status))
-    })
-    .await??;
+    let EventData {
+        rec,
+        alerts,
+        sources,
+        zones,
+        reports,
+        status,
+    } = load_event(state, id).await?;
     let priority = priority_of(&rec, &state.settings.priority, Day::today());
     let ranked = RankedEvent {
         record: rec,
         priority,
     };
-    let mut statuses = std::collections::BTreeMap::new();
-    if let Some(s) = &status {
-        statuses.insert(ranked.record.id, s.clone());
-    }
-    let in_zones: Vec<_> = zones
-        .into_iter()
-        .filter(|z| ranked.record.zones.contains(&z.name))
-        .collect();
-    let map = render_map(&map_input(
-        &format!("Event {}", event_code(ranked.record.id)),
-        map_zones(&in_zones),
-        map_events(std::slice::from_ref(&ranked), &statuses),
-    ));
-    let source_name = |sid: i64| {
-        sources
-            .iter()
-            .find(|s| s.id == sid)
-            .map_or_else(|| format!("source {sid}"), |s| s.name.clone())
-    };
+    let map = event_map(&ranked, status.as_ref(), zones);
     let a = &ranked.record.attrs;
     let viewer = Viewer::of(req);
     let t = EventPage {
@@ -347,19 +342,107 @@ async fn one_page(
         status: badge(map_status(status.as_ref())),
         status_note: status.as_ref().map(|s| s.note.clone()).unwrap_or_default(),
         map,
-        alerts: alerts
-            .iter()
-            .map(|al| AlertRow {
-                day: al.day.to_string(),
-                source: source_name(al.source_id),
-                confidence: al.confidence.to_string(),
-                lon: fixed(al.lon, 6),
-                lat: fixed(al.lat, 6),
-            })
-            .collect(),
+        alerts: alert_rows(&alerts, &sources),
         reports,
     };
     page(&t)
+}
+
+/// Reads what the event page shows, on the blocking pool.
+async fn load_event(state: &AppState, id: i64) -> Result<EventData, PageError> {
+    let st = state.clone();
+    let data = web::block(move || {
+        let rec = st
+            .db
+            .read(|r| r.event_resolved(id))?
+            .ok_or_else(|| Error::NotFound(format!("no event {id}")))?;
+        let status = st
+            .stats
+            .prepared(&st.db, &StatsFilter::default())?
+            .loaded
+            .statuses
+            .get(&rec.id)
+            .cloned();
+        let counted = status
+            .as_ref()
+            .map(|s| s.counted_reports.clone())
+            .unwrap_or_default();
+        let (alerts, sources, zones, reports) = st.db.read(|r| {
+            let reports = report_views(r, rec.id, &counted)?;
+            Ok((
+                r.alerts_of_events(&[rec.id])?,
+                r.sources()?,
+                r.zones()?,
+                reports,
+            ))
+        })?;
+        Ok::<_, Error>(EventData {
+            rec,
+            alerts,
+            sources,
+            zones,
+            reports,
+            status,
+        })
+    })
+    .await??;
+    Ok(data)
+}
+
+/// The event's reports as shown, each marked whether its status counts it.
+fn report_views(
+    r: &Reader<'_>,
+    event_id: i64,
+    counted: &[uuid::Uuid],
+) -> crate::Result<Vec<ReportView>> {
+    let rows = r.event_reports(event_id)?;
+    let mut reports = Vec::new();
+    for row in &rows {
+        let is_counted = uuid::Uuid::parse_str(&row.report_id).is_ok_and(|u| counted.contains(&u));
+        reports.push(report_view(r, row, is_counted)?);
+    }
+    Ok(reports)
+}
+
+/// The map of one event, coloured by its status, over the zones it lies in.
+fn event_map(
+    ranked: &RankedEvent,
+    status: Option<&StatusOutcome>,
+    zones: Vec<ZoneRecord>,
+) -> String {
+    let mut statuses = BTreeMap::new();
+    if let Some(s) = status {
+        statuses.insert(ranked.record.id, s.clone());
+    }
+    let in_zones: Vec<_> = zones
+        .into_iter()
+        .filter(|z| ranked.record.zones.contains(&z.name))
+        .collect();
+    render_map(&map_input(
+        &format!("Event {}", event_code(ranked.record.id)),
+        map_zones(&in_zones),
+        map_events(std::slice::from_ref(ranked), &statuses),
+    ))
+}
+
+/// The event's alerts as table rows, each naming its source.
+fn alert_rows(alerts: &[StoredAlert], sources: &[Source]) -> Vec<AlertRow> {
+    let source_name = |sid: i64| {
+        sources
+            .iter()
+            .find(|s| s.id == sid)
+            .map_or_else(|| format!("source {sid}"), |s| s.name.clone())
+    };
+    alerts
+        .iter()
+        .map(|al| AlertRow {
+            day: al.day.to_string(),
+            source: source_name(al.source_id),
+            confidence: al.confidence.to_string(),
+            lon: fixed(al.lon, 6),
+            lat: fixed(al.lat, 6),
+        })
+        .collect()
 }
 
 /// `GET /events/{id}`.

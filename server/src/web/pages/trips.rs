@@ -14,13 +14,14 @@ use crate::domain::{BundleMode, Day, LonLat};
 use crate::error::Error;
 use crate::planning::{IssuedBundle, TripRequest, cancel_bundle, issue_bundle};
 use crate::platform::auth::Action;
+use crate::platform::storage::{BundleRecord, Team, ZoneRecord};
 use crate::web::AppState;
 use crate::web::charts::render_map;
 use actix_web::http::StatusCode;
 use actix_web::{HttpRequest, HttpResponse, web};
 use askama::Template;
 use serde::Deserialize;
-use std::collections::BTreeMap;
+use std::collections::{BTreeMap, HashMap};
 
 /// The issue form as typed (every field text, parsed here with messages).
 #[derive(Debug, Deserialize, Default, Clone)]
@@ -157,13 +158,41 @@ async fn trips_page(
     .await??;
     let may_cancel = viewer.may(Action::CancelBundle);
     let mut form = form;
-    if form.start_lat.is_none() && form.start_lon.is_none() {
-        // Start where the last trip started (usually the field station).
-        if let Some(b) = bundles.iter().max_by(|a, b| a.issued_at.cmp(&b.issued_at)) {
-            form.start_lat = Some(fixed(b.start_lat, 6));
-            form.start_lon = Some(fixed(b.start_lon, 6));
-        }
+    start_at_last_trip(&mut form, &bundles);
+    let rows = bundle_rows(&bundles, &counts, may_cancel);
+    let status = error.as_ref().map_or(StatusCode::OK, |e| e.status);
+    let t = TripsPage {
+        layout: Layout::new(req, viewer, "Trips", "/trips"),
+        bundles: rows,
+        teams: team_choices(&teams, &form),
+        zones: zone_choices(&zones, &form),
+        assessment: form.mode.as_deref() == Some("assessment"),
+        f: FormView::of(&form),
+        may_issue: viewer.may(Action::IssueBundle),
+        error,
+        cancelled,
+    };
+    Ok(html(status, t.render()?))
+}
+
+/// Without a start typed, starts where the last trip started (usually the
+/// field station).
+fn start_at_last_trip(form: &mut IssueForm, bundles: &[BundleRecord]) {
+    if form.start_lat.is_none()
+        && form.start_lon.is_none()
+        && let Some(b) = bundles.iter().max_by(|a, b| a.issued_at.cmp(&b.issued_at))
+    {
+        form.start_lat = Some(fixed(b.start_lat, 6));
+        form.start_lon = Some(fixed(b.start_lon, 6));
     }
+}
+
+/// One table row per bundle, latest issued first.
+fn bundle_rows(
+    bundles: &[BundleRecord],
+    counts: &HashMap<String, (i64, i64)>,
+    may_cancel: bool,
+) -> Vec<BundleRow> {
     let mut rows: Vec<BundleRow> = bundles
         .iter()
         .map(|b| {
@@ -193,37 +222,35 @@ async fn trips_page(
         })
         .collect();
     rows.sort_by(|a, b| b.issued.cmp(&a.issued));
-    let status = error.as_ref().map_or(StatusCode::OK, |e| e.status);
-    let t = TripsPage {
-        layout: Layout::new(req, viewer, "Trips", "/trips"),
-        bundles: rows,
-        teams: teams
-            .iter()
-            .map(|t| Choice {
-                selected: form.team.as_deref() == Some(t.name.as_str()),
-                value: t.name.clone(),
-                label: t.name.clone(),
-            })
-            .collect(),
-        zones: zones
-            .iter()
-            .map(|z| Choice {
-                selected: form.zone.as_deref() == Some(z.name.as_str()),
-                value: z.name.clone(),
-                label: if z.priority {
-                    format!("{} (priority)", z.name)
-                } else {
-                    z.name.clone()
-                },
-            })
-            .collect(),
-        assessment: form.mode.as_deref() == Some("assessment"),
-        f: FormView::of(&form),
-        may_issue: viewer.may(Action::IssueBundle),
-        error,
-        cancelled,
-    };
-    Ok(html(status, t.render()?))
+    rows
+}
+
+/// The team choices, the form's team selected.
+fn team_choices(teams: &[Team], form: &IssueForm) -> Vec<Choice> {
+    teams
+        .iter()
+        .map(|t| Choice {
+            selected: form.team.as_deref() == Some(t.name.as_str()),
+            value: t.name.clone(),
+            label: t.name.clone(),
+        })
+        .collect()
+}
+
+/// The zone choices, priority zones marked, the form's zone selected.
+fn zone_choices(zones: &[ZoneRecord], form: &IssueForm) -> Vec<Choice> {
+    zones
+        .iter()
+        .map(|z| Choice {
+            selected: form.zone.as_deref() == Some(z.name.as_str()),
+            value: z.name.clone(),
+            label: if z.priority {
+                format!("{} (priority)", z.name)
+            } else {
+                z.name.clone()
+            },
+        })
+        .collect()
 }
 
 /// `GET /trips`.
