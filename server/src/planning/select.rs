@@ -132,6 +132,30 @@ pub fn stratum_of(e: &RankedEvent) -> String {
 
 /// Choose the events and control points of a trip.
 pub fn select(db: &Db, settings: &Settings, req: &TripRequest) -> Result<Selection> {
+    check_request(req)?;
+    let zone_shape = zone_shape(db, req)?;
+    let pool = candidate_pool(db, settings, req)?;
+    if pool.is_empty() && (req.mode == BundleMode::Response || req.controls == 0) {
+        return Err(Error::Invalid(
+            "the selection holds no events: widen the zone, dates, source or minimum area".into(),
+        ));
+    }
+    let seed = req.seed.unwrap_or_else(|| rand::random::<u64>() >> 1);
+    let (events, strata) = match req.mode {
+        BundleMode::Response => (response_events(pool, req.max), Vec::new()),
+        BundleMode::Assessment => sample(pool, req, seed)?,
+    };
+    let controls = controls(db, req, zone_shape.as_ref(), seed)?;
+    Ok(Selection {
+        events,
+        controls,
+        strata,
+        seed: (req.mode == BundleMode::Assessment).then_some(seed),
+    })
+}
+
+/// The request's own numbers: a margin in (0, 0.5) and a maximum of at least 1.
+fn check_request(req: &TripRequest) -> Result<()> {
     if !(req.margin > 0.0 && req.margin < 0.5) {
         return Err(Error::Invalid(format!(
             "margin of error {}: expected a number in (0, 0.5), e.g. 0.1 for ±10 points",
@@ -141,17 +165,24 @@ pub fn select(db: &Db, settings: &Settings, req: &TripRequest) -> Result<Selecti
     if req.max == Some(0) {
         return Err(Error::Invalid("--max must be at least 1".into()));
     }
-    let zone_shape = match &req.zone {
-        Some(z) => {
-            let zone = db
-                .read(|r| r.zones())?
-                .into_iter()
-                .find(|k| &k.name == z)
-                .ok_or_else(|| Error::NotFound(format!("unknown zone '{z}'")))?;
-            crate::alerts::events::parse_multipolygon(&zone.geometry)
-        }
-        None => None,
+    Ok(())
+}
+
+/// The shape of the requested zone, if one was named (an unknown name is an error).
+fn zone_shape(db: &Db, req: &TripRequest) -> Result<Option<MultiPolygon<f64>>> {
+    let Some(z) = &req.zone else {
+        return Ok(None);
     };
+    let zone = db
+        .read(|r| r.zones())?
+        .into_iter()
+        .find(|k| &k.name == z)
+        .ok_or_else(|| Error::NotFound(format!("unknown zone '{z}'")))?;
+    Ok(crate::alerts::events::parse_multipolygon(&zone.geometry))
+}
+
+/// The ranked events that pass every filter of the request, in priority order.
+fn candidate_pool(db: &Db, settings: &Settings, req: &TripRequest) -> Result<Vec<RankedEvent>> {
     let filter = EventFilter {
         zone: req.zone.clone(),
         from: req.from,
@@ -165,28 +196,7 @@ pub fn select(db: &Db, settings: &Settings, req: &TripRequest) -> Result<Selecti
         pool.retain(|e| e.record.attrs.highest_confidence == c);
     }
     if !req.statuses.is_empty() {
-        let wanted = req
-            .statuses
-            .iter()
-            .map(|s| {
-                s.parse::<EventStatus>().map_err(|_| {
-                    Error::Invalid(format!(
-                        "status '{s}': expected one of {}",
-                        EventStatus::NAMES.join(", ")
-                    ))
-                })
-            })
-            .collect::<Result<Vec<_>>>()?;
-        let reconciled = req.reconciled.as_ref().ok_or_else(|| {
-            Error::Internal("a status filter needs the reconciled statuses of the events".into())
-        })?;
-        pool.retain(|e| {
-            let s = reconciled
-                .get(&e.record.id)
-                .copied()
-                .unwrap_or(EventStatus::Unvisited);
-            wanted.contains(&s)
-        });
+        keep_wanted_statuses(&mut pool, req)?;
     }
     if let Some(extent) = &req.extent {
         pool.retain(|e| {
@@ -194,61 +204,83 @@ pub fn select(db: &Db, settings: &Settings, req: &TripRequest) -> Result<Selecti
                 .is_some_and(|fp| fp.intersects(extent))
         });
     }
-    if pool.is_empty() && (req.mode == BundleMode::Response || req.controls == 0) {
-        return Err(Error::Invalid(
-            "the selection holds no events: widen the zone, dates, source or minimum area".into(),
-        ));
+    Ok(pool)
+}
+
+/// Keeps the events whose reconciled status (unvisited when none) is one the request names.
+fn keep_wanted_statuses(pool: &mut Vec<RankedEvent>, req: &TripRequest) -> Result<()> {
+    let wanted = req
+        .statuses
+        .iter()
+        .map(|s| {
+            s.parse::<EventStatus>().map_err(|_| {
+                Error::Invalid(format!(
+                    "status '{s}': expected one of {}",
+                    EventStatus::NAMES.join(", ")
+                ))
+            })
+        })
+        .collect::<Result<Vec<_>>>()?;
+    let reconciled = req.reconciled.as_ref().ok_or_else(|| {
+        Error::Internal("a status filter needs the reconciled statuses of the events".into())
+    })?;
+    pool.retain(|e| {
+        let s = reconciled
+            .get(&e.record.id)
+            .copied()
+            .unwrap_or(EventStatus::Unvisited);
+        wanted.contains(&s)
+    });
+    Ok(())
+}
+
+/// A response trip: the first `max` events (default 20) of the ranked pool, unweighted.
+fn response_events(mut pool: Vec<RankedEvent>, max: Option<usize>) -> Vec<Chosen> {
+    pool.truncate(max.unwrap_or(20));
+    pool.into_iter()
+        .map(|event| Chosen {
+            event,
+            stratum: None,
+            stratum_population: None,
+            inclusion_probability: None,
+        })
+        .collect()
+}
+
+/// The control points of the trip, placed in the extent (or else the zone)
+/// away from every stored alert; none when none were asked for.
+fn controls(
+    db: &Db,
+    req: &TripRequest,
+    zone_shape: Option<&MultiPolygon<f64>>,
+    seed: u64,
+) -> Result<Vec<LatLon>> {
+    if req.controls == 0 {
+        return Ok(Vec::new());
     }
-    let seed = req.seed.unwrap_or_else(|| rand::random::<u64>() >> 1);
-    let (events, strata) = match req.mode {
-        BundleMode::Response => {
-            pool.truncate(req.max.unwrap_or(20));
-            let chosen = pool
-                .into_iter()
-                .map(|event| Chosen {
-                    event,
-                    stratum: None,
-                    stratum_population: None,
-                    inclusion_probability: None,
-                })
-                .collect();
-            (chosen, Vec::new())
+    let area = match (&req.extent, zone_shape) {
+        (Some(e), _) => e.clone(),
+        (None, Some(z)) => z.clone(),
+        (None, None) => {
+            return Err(Error::Invalid(
+                "control points need a zone or an extent to be placed in".into(),
+            ));
         }
-        BundleMode::Assessment => sample(pool, req, seed)?,
     };
-    let controls = if req.controls == 0 {
-        Vec::new()
-    } else {
-        let area = match (&req.extent, &zone_shape) {
-            (Some(e), _) => e.clone(),
-            (None, Some(z)) => z.clone(),
-            (None, None) => {
-                return Err(Error::Invalid(
-                    "control points need a zone or an extent to be placed in".into(),
-                ));
-            }
-        };
-        let alerts: Vec<LatLon> = db
-            .read(|r| r.alert_positions_in(bbox(&area)))?
-            .into_iter()
-            .map(|(lon, lat)| LatLon::new(lat, lon))
-            .collect();
-        place_controls(
-            &area,
-            &alerts,
-            req.controls,
-            req.control_min_distance_m,
-            seed ^ 0x5eed,
-            DEFAULT_TRIES_PER_POINT,
-        )
-        .map_err(|e| Error::Invalid(format!("control points: {e}")))?
-    };
-    Ok(Selection {
-        events,
-        controls,
-        strata,
-        seed: (req.mode == BundleMode::Assessment).then_some(seed),
-    })
+    let alerts: Vec<LatLon> = db
+        .read(|r| r.alert_positions_in(bbox(&area)))?
+        .into_iter()
+        .map(|(lon, lat)| LatLon::new(lat, lon))
+        .collect();
+    place_controls(
+        &area,
+        &alerts,
+        req.controls,
+        req.control_min_distance_m,
+        seed ^ 0x5eed,
+        DEFAULT_TRIES_PER_POINT,
+    )
+    .map_err(|e| Error::Invalid(format!("control points: {e}")))
 }
 
 fn bbox(m: &MultiPolygon<f64>) -> (f64, f64, f64, f64) {
