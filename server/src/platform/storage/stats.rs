@@ -146,6 +146,66 @@ fn push_split(out: &mut Vec<String>, s: &str) {
     );
 }
 
+/// An event's position among events in id order (ids are unique and in
+/// order, so a binary search).
+fn event_slot(events: &[StatsEventRow], id: i64) -> Option<usize> {
+    events.binary_search_by_key(&id, |e| e.id).ok()
+}
+
+/// One assessment bundle's sample of an event, as joined text.
+struct Sample {
+    issued_at: Timestamp,
+    bundle_id: String,
+    value: Option<String>,
+}
+
+/// Keeps the sample of the bundle item in row `r` (bundle id in column 3,
+/// joined value in column 5) in `slot` if its bundle was issued before the
+/// one kept (by issue time, then bundle id).
+fn keep_earlier_sample(
+    slot: &mut Option<Sample>,
+    issued_at: Timestamp,
+    r: &rusqlite::Row<'_>,
+) -> rusqlite::Result<()> {
+    let bundle_id = text(r, 3)?;
+    let earlier = slot
+        .as_ref()
+        .is_none_or(|s| (issued_at, bundle_id) < (s.issued_at, s.bundle_id.as_str()));
+    if earlier {
+        *slot = Some(Sample {
+            issued_at,
+            bundle_id: bundle_id.to_string(),
+            value: opt_text(r, 5)?.map(str::to_string),
+        });
+    }
+    Ok(())
+}
+
+/// Sorts and dedups each event's zones and teams and sets its sample.
+fn finish_stats_events(events: &mut [StatsEventRow], mut samples: Vec<Option<Sample>>) {
+    for (k, e) in events.iter_mut().enumerate() {
+        e.zones.sort();
+        e.zones.dedup();
+        e.teams_issued.sort();
+        e.teams_issued.dedup();
+        e.sample = samples
+            .get_mut(k)
+            .and_then(Option::take)
+            .and_then(|s| s.value)
+            .and_then(|s| parse_sample(&s));
+    }
+}
+
+/// `stratum ␟ inclusion probability ␟ stratum population`, or `None` when
+/// it does not read so.
+fn parse_sample(s: &str) -> Option<(String, f64, i64)> {
+    let p: Vec<&str> = s.split('\u{1f}').collect();
+    match p.as_slice() {
+        [name, prob, pop] => Some((name.to_string(), prob.parse().ok()?, pop.parse().ok()?)),
+        _ => None,
+    }
+}
+
 impl Reader<'_> {
     /// Every live event with its zones, sources, first issue and sample.
     ///
@@ -153,11 +213,21 @@ impl Reader<'_> {
     /// the bundles not cancelled), merged here by event id: a subquery per
     /// event cost three index searches for each of 200,000 events.
     pub fn stats_events(&self) -> Result<Vec<StatsEventRow>> {
+        let mut events = self.live_stats_events()?;
+        self.add_event_zones(&mut events)?;
+        let samples = self.add_event_issues(&mut events)?;
+        finish_stats_events(&mut events, samples);
+        Ok(events)
+    }
+
+    /// The live events in id order, with their sources; zones, issues and
+    /// samples still empty.
+    fn live_stats_events(&self) -> Result<Vec<StatsEventRow>> {
         let mut st = self.conn.prepare(
             "SELECT id, origin, highest_confidence, corroborated, area_ha, first_day, per_source
              FROM events WHERE merged_into IS NULL ORDER BY id",
         )?;
-        let mut events = st
+        let events = st
             .query_map([], |r| {
                 let per_source: String = r.get(6)?;
                 let sources: Vec<String> =
@@ -179,28 +249,31 @@ impl Reader<'_> {
                 })
             })?
             .collect::<rusqlite::Result<Vec<_>>>()?;
-        // Ids are unique and in order: an event's position by binary search.
-        let slot =
-            |events: &[StatsEventRow], id: i64| events.binary_search_by_key(&id, |e| e.id).ok();
+        Ok(events)
+    }
 
+    /// Adds each event's zone names (one scan of the zone links).
+    fn add_event_zones(&self, events: &mut [StatsEventRow]) -> Result<()> {
         let mut st = self.conn.prepare(
             "SELECT ez.event_id, z.name FROM event_zones ez JOIN zones z ON z.id = ez.zone_id",
         )?;
         let mut rows = st.query([])?;
         while let Some(r) = rows.next()? {
-            if let Some(k) = slot(&events, r.get(0)?) {
+            if let Some(k) = event_slot(events, r.get(0)?) {
                 push_split(&mut events[k].zones, text(r, 1)?);
             }
         }
+        Ok(())
+    }
 
-        // The sample comes from the first assessment bundle (by issue time,
-        // then id) whose item carries an inclusion probability; the values
-        // are joined as text in SQL, as one subquery per event did before.
-        struct Sample {
-            issued_at: Timestamp,
-            bundle_id: String,
-            value: Option<String>,
-        }
+    /// Adds each event's first issue time and issuing teams (one scan of the
+    /// items of the bundles not cancelled) and returns the sample each event
+    /// got from its first assessment bundle, by position (empty when none).
+    ///
+    /// The sample comes from the first assessment bundle (by issue time,
+    /// then id) whose item carries an inclusion probability; the values
+    /// are joined as text in SQL, as one subquery per event did before.
+    fn add_event_issues(&self, events: &mut [StatsEventRow]) -> Result<Vec<Option<Sample>>> {
         let mut samples: Vec<Option<Sample>> = Vec::new();
         let mut st = self.conn.prepare(
             "SELECT i.event_id, b.issued_at, t.name, i.bundle_id,
@@ -212,7 +285,7 @@ impl Reader<'_> {
         )?;
         let mut rows = st.query([])?;
         while let Some(r) = rows.next()? {
-            let Some(k) = slot(&events, r.get(0)?) else {
+            let Some(k) = event_slot(events, r.get(0)?) else {
                 continue;
             };
             let issued_at: Timestamp = r.get(1)?;
@@ -224,43 +297,13 @@ impl Reader<'_> {
                 push_split(&mut e.teams_issued, team);
             }
             if r.get::<_, i64>(4)? != 0 {
-                let bundle_id = text(r, 3)?;
                 if samples.is_empty() {
                     samples.resize_with(events.len(), || None);
                 }
-                let earlier = samples[k]
-                    .as_ref()
-                    .is_none_or(|s| (issued_at, bundle_id) < (s.issued_at, s.bundle_id.as_str()));
-                if earlier {
-                    samples[k] = Some(Sample {
-                        issued_at,
-                        bundle_id: bundle_id.to_string(),
-                        value: opt_text(r, 5)?.map(str::to_string),
-                    });
-                }
+                keep_earlier_sample(&mut samples[k], issued_at, r)?;
             }
         }
-
-        for (k, e) in events.iter_mut().enumerate() {
-            e.zones.sort();
-            e.zones.dedup();
-            e.teams_issued.sort();
-            e.teams_issued.dedup();
-            e.sample = samples
-                .get_mut(k)
-                .and_then(Option::take)
-                .and_then(|s| s.value)
-                .and_then(|s| {
-                    let p: Vec<&str> = s.split('\u{1f}').collect();
-                    match p.as_slice() {
-                        [name, prob, pop] => {
-                            Some((name.to_string(), prob.parse().ok()?, pop.parse().ok()?))
-                        }
-                        _ => None,
-                    }
-                });
-        }
-        Ok(events)
+        Ok(samples)
     }
 
     /// Where merged events went: id → the live event that holds it now.
