@@ -53,50 +53,118 @@ pub fn issue_bundle(
 ) -> Result<IssuedBundle> {
     let team = team_of(db, req)?;
     check_request(req)?;
+    let planned = plan_trip(db, settings, req)?;
+    let (header, key) = new_header(&team.name, req, planned.sel.seed);
+    let file = write_bundle_file(db, data_dir, req, &team.name, &planned, &header, &key)?;
+    let record = record_issued(db, req, &team, &planned, &header, &key, &file)?;
+    tracing::info!(bundle = %header.bundle_id, team = %team.name, events = planned.events.len(), controls = planned.controls.len(), bytes = file.size, "bundle issued");
+    Ok(IssuedBundle {
+        bundle: record,
+        path: file.path,
+        route_m: planned.route.total_m,
+        walking_hours: planned.route.walking_hours,
+        route_method: format!("{:?}", planned.route.method),
+        route_note: planned.route.note.clone(),
+        strata: planned.sel.strata,
+    })
+}
+
+/// A trip planned: what was chosen, the route over it, and the stops as the
+/// bundle carries them.
+struct Planned {
+    sel: Selection,
+    route: Route,
+    events: Vec<BundleEvent>,
+    controls: Vec<ControlPoint>,
+}
+
+/// Chooses the trip's events and control points and routes them.
+fn plan_trip(db: &Db, settings: &Settings, req: &TripRequest) -> Result<Planned> {
     let sel: Selection = select(db, settings, req)?;
     let (route, visit_of) = route_stops(&sel, req)?;
-    let bundle_events = bundle_events(&sel, &visit_of)?;
+    let events = bundle_events(&sel, &visit_of)?;
     let controls = control_points(&sel, &visit_of);
+    Ok(Planned {
+        sel,
+        route,
+        events,
+        controls,
+    })
+}
+
+/// The bundle's ZIP as written: where, and its SHA-256 and size.
+struct WrittenFile {
+    path: PathBuf,
+    file_name: String,
+    sha: String,
+    size: u64,
+}
+
+/// Writes the bundle's ZIP, with the previews and the field sheet, durably
+/// into `bundles/` of the data folder, before any row.
+fn write_bundle_file(
+    db: &Db,
+    data_dir: &std::path::Path,
+    req: &TripRequest,
+    team: &str,
+    planned: &Planned,
+    header: &BundleHeader,
+    key: &[u8; 32],
+) -> Result<WrittenFile> {
     let start_point = StartPoint {
         name: req.start_name.clone(),
         point: Point::new(req.start.lon(), req.start.lat()),
     };
-    let route_codes = route_codes(&bundle_events, &controls);
-    let (header, key) = new_header(&team.name, req, sel.seed);
+    let route_codes = route_codes(&planned.events, &planned.controls);
     let checklist = Checklist::default_v1();
-
     let contents = ZipContents {
-        header: &header,
-        events: &bundle_events,
-        controls: &controls,
+        header,
+        events: &planned.events,
+        controls: &planned.controls,
         start: &start_point,
         route_codes: &route_codes,
         checklist: &checklist,
-        key: &key,
+        key,
     };
 
     // Previews and the field sheet.
-    let palette = SourcePalette::for_events(&bundle_events);
-    let (mut extras, sheet_events) = previews(db, &bundle_events, &palette)?;
-    let legs = route_legs(&route, &bundle_events, &controls);
+    let palette = SourcePalette::for_events(&planned.events);
+    let (mut extras, sheet_events) = previews(db, &planned.events, &palette)?;
+    let legs = route_legs(&planned.route, &planned.events, &planned.controls);
     extras.push(field_sheet(
         &contents,
         req,
-        &team.name,
+        team,
         sheet_events,
         legs,
         palette,
     )?);
 
-    // The ZIP, durably, before any row.
-    let bundle_id = header.bundle_id;
-    let file_name = format!("{bundle_id}.zip");
+    let file_name = format!("{}.zip", header.bundle_id);
     let path = data_dir.join("bundles").join(&file_name);
     let (sha, size) = write_zip(&path, &contents, extras)?;
+    Ok(WrittenFile {
+        path,
+        file_name,
+        sha,
+        size,
+    })
+}
 
-    let items = bundle_items(&bundle_events, &sel, &controls);
-    let selection = selection_json(req, &sel);
-    let id = bundle_id.to_string();
+/// Records the written bundle with its items and selection in one
+/// transaction (removing its ZIP again when that fails).
+fn record_issued(
+    db: &Db,
+    req: &TripRequest,
+    team: &Team,
+    planned: &Planned,
+    header: &BundleHeader,
+    key: &[u8; 32],
+    file: &WrittenFile,
+) -> Result<BundleRecord> {
+    let items = bundle_items(&planned.events, &planned.sel, &planned.controls);
+    let selection = selection_json(req, &planned.sel);
+    let id = header.bundle_id.to_string();
     let (issued, due, expires) = (
         header.issued_at.to_rfc3339(),
         header.due_at.to_rfc3339(),
@@ -109,29 +177,19 @@ pub fn issue_bundle(
         issued_at: &issued,
         due_at: &due,
         expires_at: &expires,
-        seed: sel.seed.map(|s| s as i64),
+        seed: planned.sel.seed.map(|s| s as i64),
         margin: (req.mode == BundleMode::Assessment).then_some(req.margin),
         selection: &selection,
         start: (req.start.lon(), req.start.lat()),
-        route_m: route.total_m,
+        route_m: planned.route.total_m,
         upload_key_id: &header.upload_key_id,
-        upload_key: &key,
-        file_name: &file_name,
-        file_sha256: &sha,
-        file_size: size,
+        upload_key: key,
+        file_name: &file.file_name,
+        file_sha256: &file.sha,
+        file_size: file.size,
         items: &items,
     };
-    let record = record_bundle(db, &new, &path)?;
-    tracing::info!(bundle = %id, team = %team.name, events = bundle_events.len(), controls = controls.len(), bytes = size, "bundle issued");
-    Ok(IssuedBundle {
-        bundle: record,
-        path,
-        route_m: route.total_m,
-        walking_hours: route.walking_hours,
-        route_method: format!("{:?}", route.method),
-        route_note: route.note.clone(),
-        strata: sel.strata,
-    })
+    record_bundle(db, &new, &file.path)
 }
 
 /// The request's team, which must have been added.
