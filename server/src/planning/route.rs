@@ -182,71 +182,107 @@ pub fn held_karp(m: &DistanceMatrix, kind: PathKind) -> Result<Tour, PlanError> 
             max: EXACT_MAX_STOPS,
         });
     }
-    let full = (1usize << k) - 1;
-    // cost[mask * k + j]: shortest path from node 0 through the stops in `mask`, ending at
-    // stop j (node j + 1), with j in mask.
-    let mut cost = vec![f64::INFINITY; (full + 1) * k];
-    let mut parent = vec![usize::MAX; (full + 1) * k];
-    for j in 0..k {
-        cost[(1 << j) * k + j] = m.at(0, j + 1);
-    }
-    for mask in 1..=full {
-        for j in 0..k {
-            if mask & (1 << j) == 0 {
-                continue;
-            }
-            let c = cost[mask * k + j];
-            if !c.is_finite() {
-                continue;
-            }
-            for t in 0..k {
-                if mask & (1 << t) != 0 {
-                    continue;
-                }
-                let next = mask | (1 << t);
-                let v = c + m.at(j + 1, t + 1);
-                if v < cost[next * k + t] {
-                    cost[next * k + t] = v;
-                    parent[next * k + t] = j;
-                }
-            }
-        }
-    }
-    let back = |j: usize| {
-        if kind == PathKind::Closed {
-            m.at(j + 1, 0)
-        } else {
-            0.0
-        }
-    };
-    let mut best = f64::INFINITY;
-    let mut last = 0;
-    for j in 0..k {
-        let v = cost[full * k + j] + back(j);
-        if v < best {
-            best = v;
-            last = j;
-        }
-    }
-    let mut rev = Vec::with_capacity(n);
-    let mut mask = full;
-    let mut j = last;
-    loop {
-        rev.push(j + 1);
-        let p = parent[mask * k + j];
-        mask &= !(1 << j);
-        if p == usize::MAX {
-            break;
-        }
-        j = p;
-    }
-    rev.push(0);
-    rev.reverse();
+    let table = SubsetTable::fill(m, k);
+    let (length, last) = table.best_end(m, kind);
     Ok(Tour {
-        order: rev,
-        length: best,
+        order: table.order_ending_at(last),
+        length,
         method: Method::Exact,
     })
+}
+
+/// Held–Karp's table over the `k` stops (nodes 1..=k): for each subset `mask`
+/// of stops and each stop `j` in it, `cost[mask * k + j]` is the shortest path
+/// from node 0 through the stops in `mask` ending at stop j (node j + 1), and
+/// `parent` the stop before j on it (`usize::MAX` for the first stop).
+struct SubsetTable {
+    k: usize,
+    full: usize,
+    cost: Vec<f64>,
+    parent: Vec<usize>,
+}
+
+impl SubsetTable {
+    /// Fills the table subset by subset, in increasing `mask` order (every
+    /// subset is finished before a larger one is extended from it).
+    fn fill(m: &DistanceMatrix, k: usize) -> SubsetTable {
+        let full = (1usize << k) - 1;
+        let mut cost = vec![f64::INFINITY; (full + 1) * k];
+        let mut parent = vec![usize::MAX; (full + 1) * k];
+        for j in 0..k {
+            cost[(1 << j) * k + j] = m.at(0, j + 1);
+        }
+        for mask in 1..=full {
+            for j in 0..k {
+                if mask & (1 << j) == 0 {
+                    continue;
+                }
+                let c = cost[mask * k + j];
+                if !c.is_finite() {
+                    continue;
+                }
+                for t in 0..k {
+                    if mask & (1 << t) != 0 {
+                        continue;
+                    }
+                    let next = mask | (1 << t);
+                    let v = c + m.at(j + 1, t + 1);
+                    if v < cost[next * k + t] {
+                        cost[next * k + t] = v;
+                        parent[next * k + t] = j;
+                    }
+                }
+            }
+        }
+        SubsetTable {
+            k,
+            full,
+            cost,
+            parent,
+        }
+    }
+
+    /// The shortest tour's length and its last stop (the lowest on ties),
+    /// with the leg back to node 0 for a closed tour.
+    fn best_end(&self, m: &DistanceMatrix, kind: PathKind) -> (f64, usize) {
+        let back = |j: usize| {
+            if kind == PathKind::Closed {
+                m.at(j + 1, 0)
+            } else {
+                0.0
+            }
+        };
+        let mut best = f64::INFINITY;
+        let mut last = 0;
+        for j in 0..self.k {
+            let v = self.cost[self.full * self.k + j] + back(j);
+            if v < best {
+                best = v;
+                last = j;
+            }
+        }
+        (best, last)
+    }
+
+    /// The node order of the shortest path over all stops that ends at stop
+    /// `last`, node 0 first, read back through the parents.
+    fn order_ending_at(&self, last: usize) -> Vec<usize> {
+        let mut rev = Vec::with_capacity(self.k + 1);
+        let mut mask = self.full;
+        let mut j = last;
+        loop {
+            rev.push(j + 1);
+            let p = self.parent[mask * self.k + j];
+            mask &= !(1 << j);
+            if p == usize::MAX {
+                break;
+            }
+            j = p;
+        }
+        rev.push(0);
+        rev.reverse();
+        rev
+    }
 }
 
 /// Greedy order: from node 0, always go to the nearest unvisited node (lowest index on ties).
