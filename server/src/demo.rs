@@ -7,7 +7,7 @@ use crate::domain::BundleMode;
 use crate::domain::{ConfidenceMap, SourceName};
 use crate::domain::{Day, LonLat};
 use crate::error::{Error, Result};
-use crate::planning::{TripRequest, issue_bundle};
+use crate::planning::{IssuedBundle, TripRequest, issue_bundle};
 use crate::platform::settings::Settings;
 use crate::platform::storage::Db;
 use std::fmt;
@@ -85,13 +85,51 @@ impl fmt::Display for DemoSummary {
 /// Load sources, zones, teams and a year of alerts, then issue trips.
 pub fn load(db: &Db, data_dir: &Path, settings: &Settings) -> Result<DemoSummary> {
     let scenario = mock_patrols::scenario();
+    add_sources_and_zones(db, &scenario)?;
+    let alerts = import_demo_alerts(db, settings, &scenario)?;
+    add_teams_and_logins(db, &scenario)?;
+    let (live_events, merged_events) = db.read(|r| r.event_counts())?;
+    let bundles = issue_demo_trips(db, data_dir, settings, &scenario)?;
+    Ok(DemoSummary {
+        reserve: scenario.reserve_name,
+        zones: scenario.zones.len(),
+        alerts,
+        live_events,
+        merged_events,
+        bundles: bundles
+            .iter()
+            .map(|b| {
+                (
+                    b.bundle.team.clone(),
+                    b.bundle.mode.clone(),
+                    b.bundle.events,
+                    b.bundle.controls,
+                    b.path.clone(),
+                )
+            })
+            .collect(),
+    })
+}
+
+/// The scenario's alert sources, then its zones.
+fn add_sources_and_zones(db: &Db, scenario: &mock_patrols::Scenario) -> Result<()> {
     for s in &scenario.sources {
         db.write(|tx| tx.add_source(s.name, s.pixel_size_m, i64::from(s.revisit_days)))?;
     }
-    let zones = mock_patrols::zones_geojson(&scenario);
+    let zones = mock_patrols::zones_geojson(scenario);
     import_zones(db, "demo-zones.geojson", zones.as_bytes())?;
+    Ok(())
+}
+
+/// Generates a year of alerts per source and imports each source's CSV as a
+/// coordinator would; returns how many alerts each source brought.
+fn import_demo_alerts(
+    db: &Db,
+    settings: &Settings,
+    scenario: &mock_patrols::Scenario,
+) -> Result<Vec<(String, usize)>> {
     let mut alerts = Vec::new();
-    for (source, rows) in mock_patrols::generate_alerts(&scenario, DEMO_SEED) {
+    for (source, rows) in mock_patrols::generate_alerts(scenario, DEMO_SEED) {
         let name = SourceName::parse(source).map_err(Error::Invalid)?;
         let csv = mock_patrols::alerts_csv(&rows);
         let file_name = format!("demo-{source}.csv");
@@ -109,6 +147,11 @@ pub fn load(db: &Db, data_dir: &Path, settings: &Settings) -> Result<DemoSummary
         let out = import_alerts(db, &req, &settings.cluster)?;
         alerts.push((source.to_string(), out.imported));
     }
+    Ok(alerts)
+}
+
+/// The scenario's teams and the demo's logins.
+fn add_teams_and_logins(db: &Db, scenario: &mock_patrols::Scenario) -> Result<()> {
     for t in &scenario.teams {
         db.write(|tx| tx.add_team(t))?;
     }
@@ -116,7 +159,18 @@ pub fn load(db: &Db, data_dir: &Path, settings: &Settings) -> Result<DemoSummary
     for (name, role, password) in DEMO_LOGINS {
         crate::platform::auth::create_user(db, name, *role, password, now)?;
     }
-    let (live_events, merged_events) = db.read(|r| r.event_counts())?;
+    Ok(())
+}
+
+/// Issues the demo's two trips from the field station: a response trip in
+/// the core zone for the first team, an assessment of the community land
+/// with control points for the second.
+fn issue_demo_trips(
+    db: &Db,
+    data_dir: &Path,
+    settings: &Settings,
+    scenario: &mock_patrols::Scenario,
+) -> Result<Vec<IssuedBundle>> {
     let start = LonLat::new(scenario.station.0, scenario.station.1).map_err(Error::Invalid)?;
     let as_of = Day::parse(&scenario.end_date).map_err(Error::Invalid)?;
     let mut bundles = Vec::new();
@@ -144,25 +198,7 @@ pub fn load(db: &Db, data_dir: &Path, settings: &Settings) -> Result<DemoSummary
         ..TripRequest::response(&scenario.teams[1], start)
     };
     bundles.push(issue_bundle(db, data_dir, settings, &assessment)?);
-    Ok(DemoSummary {
-        reserve: scenario.reserve_name,
-        zones: scenario.zones.len(),
-        alerts,
-        live_events,
-        merged_events,
-        bundles: bundles
-            .iter()
-            .map(|b| {
-                (
-                    b.bundle.team.clone(),
-                    b.bundle.mode.clone(),
-                    b.bundle.events,
-                    b.bundle.controls,
-                    b.path.clone(),
-                )
-            })
-            .collect(),
-    })
+    Ok(bundles)
 }
 
 /// Play the demo's field teams: for each demo bundle, the field kit
