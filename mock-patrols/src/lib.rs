@@ -7,11 +7,13 @@
 //! by two or three sources, plus scattered lone false pixels.
 //! [`alerts_csv`], [`alerts_geojson`] and [`zones_geojson`] write them in the
 //! formats the importer reads. [`clumped_points`] makes large synthetic point
-//! sets for clustering benchmarks. The same seed always gives the same output.
+//! sets for clustering benchmarks. [`damage`] damages valid files from a seed
+//! for the robustness tests. The same seed always gives the same output.
 
 mod alerts;
 mod calendar;
 mod clumped;
+pub mod damage;
 mod export;
 mod fasthash;
 pub mod field;

@@ -151,3 +151,84 @@ pub fn bundle_file(dir: &std::path::Path) -> (std::path::PathBuf, Manifest) {
     std::fs::write(&path, bytes).expect("write bundle");
     (path, manifest)
 }
+
+/// The entries of a ZIP in order, as (name, bytes); `None` when it is not
+/// one the zip crate can read whole.
+pub fn zip_entries(bytes: &[u8]) -> Option<Vec<(String, Vec<u8>)>> {
+    use std::io::Read;
+    let mut z = zip::ZipArchive::new(Cursor::new(bytes)).ok()?;
+    let mut out = Vec::new();
+    for i in 0..z.len() {
+        let mut f = z.by_index(i).ok()?;
+        let mut b = Vec::new();
+        f.read_to_end(&mut b).ok()?;
+        out.push((f.name().ok()?.into_owned(), b));
+    }
+    Some(out)
+}
+
+/// A ZIP of `entries` in order, stored (so no ratio limit stops a damaged
+/// entry before its reader sees it).
+pub fn zip_of(entries: &[(String, Vec<u8>)]) -> Vec<u8> {
+    use std::io::Write;
+    let mut z = zip::ZipWriter::new(Cursor::new(Vec::new()));
+    let opts =
+        zip::write::SimpleFileOptions::default().compression_method(zip::CompressionMethod::Stored);
+    for (name, bytes) in entries {
+        z.start_file(name.as_str(), opts).expect("start entry");
+        z.write_all(bytes).expect("write entry");
+    }
+    z.finish().expect("finish zip").into_inner()
+}
+
+/// Sets the size and SHA-256 of `name` in a manifest's `entries` listing
+/// (JSON) to those of `bytes`; the manifest unchanged when it is not JSON.
+pub fn relist(manifest: &[u8], name: &str, bytes: &[u8]) -> Vec<u8> {
+    let Ok(mut m) = serde_json::from_slice::<serde_json::Value>(manifest) else {
+        return manifest.to_vec();
+    };
+    if let Some(list) = m.get_mut("entries").and_then(|e| e.as_array_mut()) {
+        for e in list.iter_mut().filter(|e| e["name"] == name) {
+            e["size"] = serde_json::json!(bytes.len());
+            e["sha256"] = serde_json::json!(groundproof_sync::bundle::sha256_hex(bytes));
+        }
+    }
+    serde_json::to_vec(&m).unwrap_or_default()
+}
+
+/// The workspace's committed corpus of seed inputs for `target`
+/// (`tests/corpus/<target>/`), as (file name, bytes), sorted by name.
+pub fn corpus(target: &str) -> Vec<(String, Vec<u8>)> {
+    let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("../tests/corpus")
+        .join(target);
+    let mut out: Vec<(String, Vec<u8>)> = std::fs::read_dir(&dir)
+        .unwrap_or_else(|e| panic!("corpus {}: {e}", dir.display()))
+        .map(|e| {
+            let p = e.expect("corpus entry").path();
+            let name = p
+                .file_name()
+                .unwrap_or_default()
+                .to_string_lossy()
+                .into_owned();
+            (name, std::fs::read(&p).expect("corpus file"))
+        })
+        .collect();
+    out.sort();
+    assert!(!out.is_empty(), "corpus {} is empty", dir.display());
+    out
+}
+
+/// Writes `bytes` as corpus seed `name` of `target` when the environment
+/// asks for it (`GROUNDPROOF_WRITE_CORPUS=1`), so the seeds follow a format
+/// change; otherwise does nothing.
+pub fn maybe_write_corpus(target: &str, name: &str, bytes: &[u8]) {
+    if std::env::var_os("GROUNDPROOF_WRITE_CORPUS").is_none() {
+        return;
+    }
+    let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("../tests/corpus")
+        .join(target);
+    std::fs::create_dir_all(&dir).expect("corpus folder");
+    std::fs::write(dir.join(name), bytes).expect("corpus seed");
+}
