@@ -35,11 +35,7 @@ pub(crate) fn load_zone_shapes(tx: &Tx<'_>) -> Result<Vec<ZoneShape>> {
 /// A GeoJSON Polygon/MultiPolygon geometry as a MultiPolygon.
 pub fn parse_multipolygon(geometry: &str) -> Option<MultiPolygon<f64>> {
     let g: geojson::Geometry = geometry.parse().ok()?;
-    match geo::Geometry::<f64>::try_from(g).ok()? {
-        geo::Geometry::Polygon(p) => Some(MultiPolygon::new(vec![p])),
-        geo::Geometry::MultiPolygon(m) => Some(m),
-        _ => None,
-    }
+    crate::alerts::import::to_multipolygon(g).ok()
 }
 
 /// Ids of the zones a footprint intersects.

@@ -7,8 +7,10 @@
 
 mod csv_file;
 mod geojson_file;
+mod shape;
 mod zones;
 
+pub use shape::to_multipolygon;
 pub use zones::{ParsedZone, parse_zones};
 
 use crate::domain::{Confidence, ConfidenceMap, Day, LonLat};

@@ -58,13 +58,10 @@ pub fn parse_zones(file: &str, bytes: &[u8]) -> Result<Vec<ParsedZone>, Vec<Stri
             continue;
         };
         let geometry = geom.to_string();
-        let shape: MultiPolygon<f64> = match geo::Geometry::<f64>::try_from(geom) {
-            Ok(geo::Geometry::Polygon(p)) => MultiPolygon::new(vec![p]),
-            Ok(geo::Geometry::MultiPolygon(m)) => m,
-            _ => {
-                errors.push(at(
-                    "field 'geometry': expected a Polygon or MultiPolygon".into()
-                ));
+        let shape: MultiPolygon<f64> = match super::to_multipolygon(geom) {
+            Ok(m) => m,
+            Err(m) => {
+                errors.push(at(format!("field 'geometry': {m}")));
                 continue;
             }
         };
