@@ -416,3 +416,59 @@ fn every_number(mut doc: Value, huge: &str) -> String {
         .unwrap_or_default()
         .replace(MARK_JSON, huge)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    const DOC: &[u8] = br#"{"entries":[{"name":"a","size":3},{"name":"b","size":4}],"format":"x"}"#;
+
+    #[test]
+    fn the_same_seed_gives_the_same_damage_and_seeds_differ() {
+        for seed in 0..50 {
+            assert_eq!(damage_bytes(DOC, seed), damage_bytes(DOC, seed));
+            assert_eq!(damage_json(DOC, seed), damage_json(DOC, seed));
+            assert_eq!(
+                damage_csv(b"a,b\n1,2\n", seed),
+                damage_csv(b"a,b\n1,2\n", seed)
+            );
+        }
+        let distinct: std::collections::HashSet<Vec<u8>> =
+            (0..50).map(|s| damage_json(DOC, s)).collect();
+        assert!(distinct.len() > 25, "{}", distinct.len());
+    }
+
+    #[test]
+    fn json_damage_reaches_each_kind_of_change() {
+        let outs: Vec<String> = (0..400)
+            .map(|s| String::from_utf8_lossy(&damage_json(DOC, s)).into_owned())
+            .collect();
+        let any = |f: &dyn Fn(&str) -> bool| outs.iter().any(|o| f(o));
+        assert!(any(&|o| o.contains("1e400")), "an out-of-range number");
+        assert!(any(&|o| o.contains("18446744073709551615")), "a huge size");
+        assert!(any(
+            &|o| o.starts_with(&"[".repeat(100)) || o.contains(&"[".repeat(DEEP_NESTING))
+        ));
+        assert!(
+            any(&|o| o.matches("\"name\"").count() == 3),
+            "a duplicated key"
+        );
+        assert!(any(&|o| o.len() > LONG_TEXT), "a long text");
+        assert!(
+            any(&|o| serde_json::from_str::<Value>(o).is_ok_and(|v| count_values(&v) < 8)),
+            "a removed value"
+        );
+    }
+
+    #[test]
+    fn removing_and_replacing_address_values_in_pre_order() {
+        let mut v: Value = serde_json::from_slice(DOC).expect("json");
+        // 0 doc, 1 entries, 2 {a}, 3 "a", 4 3, 5 {b}, 6 "b", 7 4, 8 "x"
+        assert_eq!(count_values(&v), 9);
+        assert_eq!(nth(&v, 7), &serde_json::json!(4));
+        replace_nth(&mut v, 4, Value::Null);
+        assert_eq!(v["entries"][0]["size"], Value::Null);
+        assert!(remove_in(&mut v, &mut 5));
+        assert_eq!(v["entries"].as_array().map(Vec::len), Some(1));
+    }
+}

@@ -21,7 +21,7 @@ use std::io::{Cursor, Read, Write};
 use std::path::PathBuf;
 
 /// Cases per endpoint group (the whole file runs in well under a minute).
-const CASES: u32 = 48;
+const CASES: u32 = 96;
 
 const BOUNDARY: &str = "----groundproof-robust-boundary";
 
