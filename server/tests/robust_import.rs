@@ -62,8 +62,30 @@ fn generated() -> [(&'static str, &'static str, Vec<u8>); 3] {
     ]
 }
 
+/// Most memory this test process may have held at any time: files of a few
+/// kilobytes (and a few hundred with a long cell) must not make a reader
+/// hold anything near the 512 MiB file limit.
+const PEAK_RSS_LIMIT: u64 = 512 << 20;
+
+/// The process's peak resident size so far (`VmHWM` in `/proc/self/status`);
+/// 0 where the system does not report it.
+fn peak_rss_bytes() -> u64 {
+    std::fs::read_to_string("/proc/self/status")
+        .ok()
+        .and_then(|s| {
+            let line = s.lines().find(|l| l.starts_with("VmHWM:"))?.to_owned();
+            line.split_whitespace().nth(1)?.parse::<u64>().ok()
+        })
+        .map_or(0, |kib| kib * 1024)
+}
+
 fn judge_alerts(file: &str, bytes: &[u8], format: Format) -> Result<(), TestCaseError> {
     let p = parse_alerts(file, bytes, format, &ReadOptions::default());
+    prop_assert!(
+        peak_rss_bytes() < PEAK_RSS_LIMIT,
+        "peak {}",
+        peak_rss_bytes()
+    );
     prop_assert!(p.alerts.len() <= p.rows_read, "more alerts than rows read");
     for a in &p.alerts {
         let (lon, lat) = (a.at.lon(), a.at.lat());
@@ -88,7 +110,13 @@ fn judge_alerts(file: &str, bytes: &[u8], format: Format) -> Result<(), TestCase
 }
 
 fn judge_zones(file: &str, bytes: &[u8]) -> Result<(), TestCaseError> {
-    match parse_zones(file, bytes) {
+    let parsed = parse_zones(file, bytes);
+    prop_assert!(
+        peak_rss_bytes() < PEAK_RSS_LIMIT,
+        "peak {}",
+        peak_rss_bytes()
+    );
+    match parsed {
         Ok(zones) => {
             for z in zones {
                 let (w, s, e, n) = z.bbox;

@@ -24,8 +24,14 @@ fn open(bytes: &[u8]) -> Result<OpenedBundle, SyncError> {
     open_bundle(&path, now())
 }
 
-/// Either outcome is fine; an error must say what is wrong.
+/// Either outcome is fine; an error must say what is wrong; the process
+/// never held more than [`common::PEAK_RSS_LIMIT`].
 fn judged(r: Result<OpenedBundle, SyncError>) -> Result<(), TestCaseError> {
+    let peak = common::peak_rss_bytes().unwrap_or(0);
+    prop_assert!(
+        peak < common::PEAK_RSS_LIMIT,
+        "peak resident size {peak} bytes"
+    );
     if let Err(e) = r {
         prop_assert!(
             !e.to_string().trim().is_empty(),

@@ -31,8 +31,9 @@ fn seeds() -> [(&'static str, Vec<u8>); 2] {
     ]
 }
 
-/// Every reader on `bytes`: no panic, errors with a message, and a photo
-/// that passes is within the limits.
+/// Every reader on `bytes`: no panic, errors with a message, a photo that
+/// passes is within the limits, and the process never held more than
+/// [`common::PEAK_RSS_LIMIT`].
 fn judged(bytes: &[u8]) -> Result<(), TestCaseError> {
     let limits = PhotoLimits::default();
     if let Err(e) = read_jpeg_header(bytes) {
@@ -54,6 +55,11 @@ fn judged(bytes: &[u8]) -> Result<(), TestCaseError> {
         }
         Err(e) => prop_assert!(!e.to_string().trim().is_empty()),
     }
+    let peak = common::peak_rss_bytes().unwrap_or(0);
+    prop_assert!(
+        peak < common::PEAK_RSS_LIMIT,
+        "peak resident size {peak} bytes"
+    );
     Ok(())
 }
 

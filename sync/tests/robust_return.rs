@@ -123,8 +123,14 @@ fn open(bytes: &[u8]) -> Result<OpenedReturn, SyncError> {
     open_return(&path, lookup, &ReturnLimits::default())
 }
 
-/// Either outcome is fine; an error, and each rejected report, must say why.
+/// Either outcome is fine; an error, and each rejected report, must say
+/// why; the process never held more than [`common::PEAK_RSS_LIMIT`].
 fn judged(r: Result<OpenedReturn, SyncError>) -> Result<(), TestCaseError> {
+    let peak = common::peak_rss_bytes().unwrap_or(0);
+    prop_assert!(
+        peak < common::PEAK_RSS_LIMIT,
+        "peak resident size {peak} bytes"
+    );
     match r {
         Ok(opened) => {
             for rej in &opened.rejected {

@@ -232,3 +232,17 @@ pub fn maybe_write_corpus(target: &str, name: &str, bytes: &[u8]) {
     std::fs::create_dir_all(&dir).expect("corpus folder");
     std::fs::write(dir.join(name), bytes).expect("corpus seed");
 }
+
+/// Most memory the robustness tests' process may have held at any time
+/// (its peak resident size): damaged inputs of a few kilobytes must not
+/// make a reader hold anything near the readers' limits.
+pub const PEAK_RSS_LIMIT: u64 = 512 << 20;
+
+/// The peak resident size of this process so far (`VmHWM` in
+/// `/proc/self/status`), where the system reports it.
+pub fn peak_rss_bytes() -> Option<u64> {
+    let status = std::fs::read_to_string("/proc/self/status").ok()?;
+    let line = status.lines().find(|l| l.starts_with("VmHWM:"))?;
+    let kib: u64 = line.split_whitespace().nth(1)?.parse().ok()?;
+    Some(kib * 1024)
+}
