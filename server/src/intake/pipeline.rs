@@ -581,6 +581,49 @@ fn run(
     size: u64,
     upload: Option<&UploadRecord>,
 ) -> Result<ReturnDocument, IntakeError> {
+    let opened = open_checked(db, options, package, upload)?;
+    let (bundle, items) = live_bundle(db, &opened.manifest.bundle_id.to_string())?;
+    let received = Utc::now();
+    let mut ctx = Context {
+        db,
+        data_dir,
+        options,
+        opened: &opened,
+        bundle: &bundle,
+        items: &items,
+        window: (
+            parse_time(&bundle.issued_at, "issued_at")?,
+            parse_time(&bundle.expires_at, "expires_at")?,
+        ),
+        received_at: received,
+        users: photo_users(&opened.reports),
+        photos: HashMap::new(),
+    };
+    let mut verdicts: Vec<(Uuid, Verdict)> = Vec::new();
+    for r in &opened.reports {
+        verdicts.push((r.report_id, ctx.judge(r)?));
+    }
+    let photos = std::mem::take(&mut ctx.photos);
+    write_photo_files(data_dir, &opened, &verdicts, &photos)?;
+    let stored = Stored {
+        sha256,
+        size,
+        received_at: received.to_rfc3339(),
+        bundle: &bundle,
+        upload,
+    };
+    let return_id = commit_rows(db, &stored, &opened, &verdicts, &photos)?;
+    return_document(db, return_id)
+}
+
+/// Step 2: the package opened under its bundle's key, for the upload's
+/// bundle, with the checklist of its version applied.
+fn open_checked(
+    db: &Db,
+    options: &IntakeOptions,
+    package: &Path,
+    upload: Option<&UploadRecord>,
+) -> Result<OpenedReturn, IntakeError> {
     let cancelled = Cell::new(false);
     let mut opened = open_return(
         package,
@@ -605,20 +648,25 @@ fn run(
         )));
     }
     opened.apply_checklist(&checklist_for(opened.manifest.checklist_version)?);
-    let bid = bundle_id.to_string();
-    let (bundle, items) = db.read(|r| Ok((r.bundle(&bid)?, r.bundle_items(&bid)?)))?;
+    Ok(opened)
+}
+
+/// The bundle `bid` and its items; refused when unknown or cancelled.
+fn live_bundle(db: &Db, bid: &str) -> Result<(BundleRecord, Vec<BundleItem>), IntakeError> {
+    let (bundle, items) = db.read(|r| Ok((r.bundle(bid)?, r.bundle_items(bid)?)))?;
     let bundle = bundle.ok_or_else(|| IntakeError::Refused(format!("no bundle {bid}")))?;
     if bundle.cancelled_at.is_some() {
         return Err(IntakeError::Refused(format!(
             "bundle {bid} was cancelled: its upload key is revoked"
         )));
     }
-    let window = (
-        parse_time(&bundle.issued_at, "issued_at")?,
-        parse_time(&bundle.expires_at, "expires_at")?,
-    );
+    Ok((bundle, items))
+}
+
+/// The reports of the package using each photo.
+fn photo_users(reports: &[Report]) -> BTreeMap<String, BTreeSet<Uuid>> {
     let mut users: BTreeMap<String, BTreeSet<Uuid>> = BTreeMap::new();
-    for r in &opened.reports {
+    for r in reports {
         for p in &r.photos {
             users
                 .entry(p.sha256.clone())
@@ -626,29 +674,18 @@ fn run(
                 .insert(r.report_id);
         }
     }
-    let received = Utc::now();
-    let received_at = received.to_rfc3339();
-    let mut ctx = Context {
-        db,
-        data_dir,
-        options,
-        opened: &opened,
-        bundle: &bundle,
-        items: &items,
-        window,
-        received_at: received,
-        users,
-        photos: HashMap::new(),
-    };
-    let mut verdicts: Vec<(Uuid, Verdict)> = Vec::new();
-    for r in &opened.reports {
-        verdicts.push((r.report_id, ctx.judge(r)?));
-    }
-    let photos = std::mem::take(&mut ctx.photos);
+    users
+}
 
-    // Files first: every photo (and thumbnail) of an accepted report.
+/// Step 5, files first: every photo (and thumbnail) of an accepted report.
+fn write_photo_files(
+    data_dir: &Path,
+    opened: &OpenedReturn,
+    verdicts: &[(Uuid, Verdict)],
+    photos: &HashMap<String, Result<PhotoInfo, String>>,
+) -> Result<(), IntakeError> {
     let mut to_write: BTreeSet<&str> = BTreeSet::new();
-    for (_, v) in &verdicts {
+    for (_, v) in verdicts {
         if let Verdict::Accept(p) = v {
             to_write.extend(p.photos.iter().map(|x| x.sha256.as_str()));
         }
@@ -673,62 +710,40 @@ fn run(
             })?;
         }
     }
+    Ok(())
+}
 
-    // Then every row of the package, in one transaction.
-    let mut results: Vec<ResultRow> = Vec::new();
-    let rel = incoming_path(Path::new(""), sha256);
+/// What the return row records about the package itself.
+struct Stored<'a> {
+    sha256: &'a str,
+    size: u64,
+    received_at: String,
+    bundle: &'a BundleRecord,
+    upload: Option<&'a UploadRecord>,
+}
+
+/// Step 6: every row of the package, in one transaction; the return's id.
+fn commit_rows(
+    db: &Db,
+    stored: &Stored,
+    opened: &OpenedReturn,
+    verdicts: &[(Uuid, Verdict)],
+    photos: &HashMap<String, Result<PhotoInfo, String>>,
+) -> Result<i64, IntakeError> {
+    let rel = incoming_path(Path::new(""), stored.sha256);
     let return_id = db.write(|tx| {
         let return_id = tx.insert_return(&ReturnRecord {
             id: 0,
-            bundle_id: bid.clone(),
-            sha256: sha256.to_string(),
-            size,
-            team: bundle.team.clone(),
-            received_at: received_at.clone(),
+            bundle_id: stored.bundle.id.clone(),
+            sha256: stored.sha256.to_string(),
+            size: stored.size,
+            team: stored.bundle.team.clone(),
+            received_at: stored.received_at.clone(),
             path: rel.to_string_lossy().into_owned(),
         })?;
-        for (id, v) in &verdicts {
-            let rid = id.to_string();
-            let row = match v {
-                Verdict::Duplicate(flags) => ResultRow {
-                    report_id: Some(rid),
-                    status: "duplicate".into(),
-                    reason: None,
-                    flags: flags.clone(),
-                },
-                Verdict::Reject(reason) => ResultRow {
-                    report_id: Some(rid),
-                    status: "rejected".into(),
-                    reason: Some(reason.clone()),
-                    flags: Vec::new(),
-                },
-                Verdict::Accept(p) => {
-                    let mut row = p.row.clone();
-                    row.return_id = return_id;
-                    if let Some(ev) = &p.new_event {
-                        let eid = tx.insert_event(ev)?;
-                        tx.mark_event_field_found(eid)?;
-                        row.event_id = Some(eid);
-                    }
-                    for ph in &p.photos {
-                        if let Some(Ok(info)) = photos.get(&ph.sha256) {
-                            tx.insert_photo(&info.row)?;
-                        }
-                    }
-                    tx.insert_report(&row, &p.body_sha256)?;
-                    tx.insert_report_photos(&row.report_id, &p.photos)?;
-                    for c in &p.checks {
-                        tx.insert_photo_check(c)?;
-                    }
-                    ResultRow {
-                        report_id: Some(rid),
-                        status: "accepted".into(),
-                        reason: None,
-                        flags: row.flags.clone(),
-                    }
-                }
-            };
-            results.push(row);
+        let mut results: Vec<ResultRow> = Vec::new();
+        for (id, v) in verdicts {
+            results.push(store_verdict(tx, return_id, id, v, photos)?);
         }
         for r in &opened.rejected {
             results.push(ResultRow {
@@ -745,12 +760,63 @@ fn run(
             (None, None) => std::cmp::Ordering::Equal,
         });
         tx.insert_results(return_id, &results)?;
-        if let Some(u) = upload {
+        if let Some(u) = stored.upload {
             tx.finish_upload(&u.id, return_id)?;
         }
         Ok(return_id)
     })?;
-    return_document(db, return_id)
+    Ok(return_id)
+}
+
+/// One report's verdict written inside the package's transaction; its
+/// result row.
+fn store_verdict(
+    tx: &crate::platform::storage::Tx,
+    return_id: i64,
+    id: &Uuid,
+    v: &Verdict,
+    photos: &HashMap<String, Result<PhotoInfo, String>>,
+) -> Result<ResultRow, crate::Error> {
+    let rid = id.to_string();
+    Ok(match v {
+        Verdict::Duplicate(flags) => ResultRow {
+            report_id: Some(rid),
+            status: "duplicate".into(),
+            reason: None,
+            flags: flags.clone(),
+        },
+        Verdict::Reject(reason) => ResultRow {
+            report_id: Some(rid),
+            status: "rejected".into(),
+            reason: Some(reason.clone()),
+            flags: Vec::new(),
+        },
+        Verdict::Accept(p) => {
+            let mut row = p.row.clone();
+            row.return_id = return_id;
+            if let Some(ev) = &p.new_event {
+                let eid = tx.insert_event(ev)?;
+                tx.mark_event_field_found(eid)?;
+                row.event_id = Some(eid);
+            }
+            for ph in &p.photos {
+                if let Some(Ok(info)) = photos.get(&ph.sha256) {
+                    tx.insert_photo(&info.row)?;
+                }
+            }
+            tx.insert_report(&row, &p.body_sha256)?;
+            tx.insert_report_photos(&row.report_id, &p.photos)?;
+            for c in &p.checks {
+                tx.insert_photo_check(c)?;
+            }
+            ResultRow {
+                report_id: Some(rid),
+                status: "accepted".into(),
+                reason: None,
+                flags: row.flags.clone(),
+            }
+        }
+    })
 }
 
 #[cfg(test)]
