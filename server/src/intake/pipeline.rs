@@ -13,7 +13,7 @@
 
 use super::evidence::{self, CheckContext, Footprint, PhotoFacts};
 use super::layout::{
-    incoming_path, intake_lock, move_durably, photo_path, rejected_path, thumb_path,
+    incoming_path, intake_lock, move_durably, photo_path, prune_rejected, rejected_path, thumb_path,
 };
 use super::{IntakeError, IntakeOptions};
 use crate::domain::{Cause, Confidence, Day, Outcome, Reason, TargetKind};
@@ -33,6 +33,11 @@ use std::collections::{BTreeMap, BTreeSet, HashMap};
 use std::path::Path;
 use uuid::Uuid;
 
+/// The flag of a report with a photo whose image data does not fill the
+/// frame its header declares (the photo's stored size is what the data
+/// covered).
+pub const PHOTO_HEADER_MISMATCH: &str = "photo_header_mismatch";
+
 /// One report's result (the `results` items of RETURN-SPEC).
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ReportResult {
@@ -49,10 +54,14 @@ pub struct UnreadableItem {
     pub reason: String,
 }
 
-/// The results document of `complete` and `GET /api/v1/returns/{id}`.
+/// The results document of `complete` and `GET /api/v1/returns/{receipt}`.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ReturnDocument {
+    /// The server's number of the return (kept for older clients; only
+    /// coordinators and admins may look a return up by it).
     pub return_id: i64,
+    /// The unguessable name of the return: `GET /api/v1/returns/{receipt}`.
+    pub receipt: String,
     pub bundle_id: Uuid,
     pub sha256: String,
     pub received_at: String,
@@ -63,8 +72,13 @@ pub struct ReturnDocument {
 
 /// The stored results document of return `return_id`.
 pub fn return_document(db: &Db, return_id: i64) -> Result<ReturnDocument, IntakeError> {
-    let (ret, rows) =
-        db.read(|r| Ok((r.return_by_id(return_id)?, r.return_results(return_id)?)))?;
+    let (ret, rows, receipt) = db.read(|r| {
+        Ok((
+            r.return_by_id(return_id)?,
+            r.return_results(return_id)?,
+            r.return_receipt(return_id)?,
+        ))
+    })?;
     let ret = ret.ok_or_else(|| IntakeError::NotFound(format!("no return {return_id}")))?;
     let mut results = Vec::new();
     let mut unreadable = Vec::new();
@@ -87,6 +101,7 @@ pub fn return_document(db: &Db, return_id: i64) -> Result<ReturnDocument, Intake
     }
     Ok(ReturnDocument {
         return_id: ret.id,
+        receipt: receipt.unwrap_or_default(),
         bundle_id: Uuid::parse_str(&ret.bundle_id).unwrap_or_default(),
         sha256: ret.sha256,
         received_at: ret.received_at,
@@ -129,10 +144,45 @@ fn classify(e: SyncError, bundle_cancelled: bool) -> IntakeError {
             "no upload key {key_id} for bundle {bundle_id} on this server"
         )),
         SyncError::BadSignature { reason } => {
-            IntakeError::Refused(format!("the package signature does not verify: {reason}"))
+            IntakeError::Refused(format!("the return's signature does not verify: {reason}"))
         }
         SyncError::Io { .. } | SyncError::Database { .. } => IntakeError::Internal(e.to_string()),
-        other => IntakeError::Package(format!("the package is refused: {other}")),
+        other => IntakeError::Package(format!("the return is refused: {}", in_return_words(other))),
+    }
+}
+
+/// What is wrong with a return package, in the words of a return: the
+/// sync crate's reader errors are shared with bundles and speak of the
+/// bundle and its `manifest.json`.
+fn in_return_words(e: SyncError) -> String {
+    const MANIFEST: &str = groundproof_sync::returns::RETURN_MANIFEST;
+    match e {
+        SyncError::MissingEntry { name } => format!("entry {name:?} is missing from the return"),
+        SyncError::UnlistedEntry { name } => {
+            format!("entry {name:?} is in the return but not listed in {MANIFEST}")
+        }
+        SyncError::SizeMismatch {
+            name,
+            expected,
+            actual,
+        } => format!("entry {name:?} has {actual} bytes, {MANIFEST} says {expected}"),
+        SyncError::ChecksumMismatch {
+            name,
+            expected,
+            actual,
+        } => format!(
+            "entry {name:?} is corrupt or altered: SHA-256 is {actual}, {MANIFEST} says {expected}"
+        ),
+        SyncError::WrongFormat { found, expected } => format!(
+            "not a Groundproof return: {MANIFEST} names format {found:?}, expected {expected:?}"
+        ),
+        SyncError::UnsupportedVersion { found, supported } => format!(
+            "unsupported return format version {found}; this server reads version {supported}"
+        ),
+        SyncError::EntryNotAllowed { name, reason } => {
+            format!("entry {name:?} is not allowed in a return: {reason}")
+        }
+        other => other.to_string(),
     }
 }
 
@@ -213,6 +263,7 @@ impl Context<'_> {
                 direction_deg: check.meta.direction_deg,
                 bytes: bytes.len() as u64,
                 stored_at: self.received_at.to_rfc3339(),
+                data_matches_header: check.data_matches_header,
             },
             thumb: Some(check.thumbnail_jpeg),
         })
@@ -370,6 +421,11 @@ impl Context<'_> {
                     .read(|x| x.photo_used_by_other(&p.sha256, id, &supersedes))?;
             let v = evidence::check_photo(ctx, &photo_facts(p, &info, reused));
             found.flags.extend(v.flags.iter().cloned());
+            if !info.row.data_matches_header {
+                found
+                    .flags
+                    .push(format!("{PHOTO_HEADER_MISMATCH}:{}", p.sha256));
+            }
             found.checks.push(PhotoCheckRow {
                 report_id: id.to_string(),
                 sha256: p.sha256.clone(),
@@ -560,6 +616,7 @@ pub fn take_in(
             tracing::warn!(sha256, error = %e, "return package refused");
             if package.exists() {
                 move_durably(package, &rejected_path(data_dir, sha256))?;
+                prune_rejected(data_dir)?;
             }
             if let Some(u) = upload {
                 db.write(|tx| {
@@ -612,7 +669,16 @@ fn run(
         bundle: &bundle,
         upload,
     };
-    let return_id = commit_rows(db, &stored, &opened, &verdicts, &photos)?;
+    let kept = verdicts
+        .iter()
+        .any(|(_, v)| !matches!(v, Verdict::Reject(_)));
+    let return_id = commit_rows(db, &stored, &opened, &verdicts, &photos, kept)?;
+    if !kept && package.exists() {
+        // Nothing of it was kept: the results say why; the package itself
+        // is kept only as a refused one is, within that budget.
+        move_durably(package, &rejected_path(data_dir, sha256))?;
+        prune_rejected(data_dir)?;
+    }
     return_document(db, return_id)
 }
 
@@ -723,14 +789,21 @@ struct Stored<'a> {
 }
 
 /// Step 6: every row of the package, in one transaction; the return's id.
+/// A package of which no report is `kept` is recorded where it goes next,
+/// under `returns/rejected/`.
 fn commit_rows(
     db: &Db,
     stored: &Stored,
     opened: &OpenedReturn,
     verdicts: &[(Uuid, Verdict)],
     photos: &HashMap<String, Result<PhotoInfo, String>>,
+    kept: bool,
 ) -> Result<i64, IntakeError> {
-    let rel = incoming_path(Path::new(""), stored.sha256);
+    let rel = if kept {
+        incoming_path(Path::new(""), stored.sha256)
+    } else {
+        rejected_path(Path::new(""), stored.sha256)
+    };
     let return_id = db.write(|tx| {
         let return_id = tx.insert_return(&ReturnRecord {
             id: 0,
