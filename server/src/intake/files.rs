@@ -49,9 +49,11 @@ fn remove(p: &Path) -> Result<(), IntakeError> {
 /// ([`super::layout::prune_rejected`]).
 pub fn cleanup(db: &Db, data_dir: &Path) -> Result<CleanupSummary, IntakeError> {
     let _guard = intake_lock();
-    let mut out = CleanupSummary::default();
-    out.expired_uploads = super::uploads::expire_idle(db, data_dir)?;
-    out.rejected_packages = super::layout::prune_rejected(data_dir)?;
+    let mut out = CleanupSummary {
+        expired_uploads: super::uploads::expire_idle(db, data_dir)?,
+        rejected_packages: super::layout::prune_rejected(data_dir)?,
+        ..CleanupSummary::default()
+    };
 
     let known: HashSet<String> = db.read(|r| r.photo_shas())?.into_iter().collect();
     let evidence = data_dir.join(EVIDENCE_DIR);

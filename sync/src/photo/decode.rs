@@ -118,7 +118,7 @@ pub fn inspect_jpeg(bytes: &[u8], limits: &PhotoLimits) -> Result<PhotoCheck, Ph
 
 /// `None` when a file of `len` bytes can fill the frame of `header`; else
 /// the most of it that it can cover: whole rows, at least one bit per block.
-fn covered_by_size(len: usize, header: &JpegHeader) -> Option<(u32, u32)> {
+fn covered_by_size(len: usize, header: &JpegHeader) -> Covered {
     let blocks = header.block_count();
     let bits = (len as u64).saturating_mul(8);
     if bits >= blocks {
@@ -196,6 +196,9 @@ fn decode_buffer_bytes(header: &JpegHeader, sw: u32, sh: u32) -> u64 {
     2 * n * per_sample * u64::from(sw) * u64::from(sh)
 }
 
+/// Width and height the image data covered, when it did not fill the frame.
+type Covered = Option<(u32, u32)>;
+
 /// The thumbnail, and what the data covered when it did not fill the
 /// frame (known exactly on the 1/8-scale path only).
 fn thumbnail(
@@ -204,7 +207,7 @@ fn thumbnail(
     tw: u32,
     th: u32,
     limits: &PhotoLimits,
-) -> Result<(Vec<u8>, Option<(u32, u32)>), PhotoError> {
+) -> Result<(Vec<u8>, Covered), PhotoError> {
     if dct_scale(header.width, header.height, tw, th) == 1
         && let Some(e) = decode_eighth(bytes, header.width, header.height)?
     {
