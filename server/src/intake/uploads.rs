@@ -584,3 +584,69 @@ pub fn take_in_whole(
     let (path, sha, size) = file.finish(data_dir)?;
     take_in(db, data_dir, options, &path, &sha, size, None)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn open_upload(db: &Db, data_dir: &Path, id: &str, idle_hours: i64) {
+        let now = chrono::Utc::now();
+        let u = UploadRecord {
+            id: id.to_string(),
+            bundle_id: uuid::Uuid::new_v4().to_string(),
+            sha256: "ab".repeat(32),
+            size: 10,
+            offset: 0,
+            state: "open".into(),
+            return_id: None,
+            error: None,
+            error_status: None,
+            created_at: now.to_rfc3339(),
+            owner: Some("team:Team Amber".into()),
+        };
+        let at = (now - chrono::Duration::hours(idle_hours)).to_rfc3339();
+        db.write_bookkeeping(|tx| {
+            tx.insert_upload(&u)?;
+            tx.touch_upload_at(id, &at)
+        })
+        .unwrap();
+        crate::platform::durable::write_durably(&upload_path(data_dir, id), |_| Ok(())).unwrap();
+    }
+
+    // Issue 12 item 1: idle uploads held the budget for 7 days. An upload
+    // untouched for 13 hours goes (row and data), one of 11 hours stays.
+    #[test]
+    fn uploads_idle_for_twelve_hours_are_removed() {
+        let dir = tempfile::tempdir().unwrap();
+        let db = Db::open(dir.path()).unwrap();
+        let (old, recent) = ("a".repeat(32), "b".repeat(32));
+        open_upload(&db, dir.path(), &old, 13);
+        open_upload(&db, dir.path(), &recent, 11);
+        assert_eq!(expire_idle(&db, dir.path()).unwrap(), 1);
+        assert!(db.read(|r| r.upload(&old)).unwrap().is_none());
+        assert!(!upload_path(dir.path(), &old).exists());
+        assert!(db.read(|r| r.upload(&recent)).unwrap().is_some());
+        assert!(upload_path(dir.path(), &recent).exists());
+    }
+
+    #[test]
+    fn a_bundle_returns_at_most_a_plausible_size() {
+        let max = 1 << 30;
+        assert_eq!(plausible_size(0, max), 256 << 20);
+        assert_eq!(plausible_size(2, max), 512 << 20);
+        assert_eq!(plausible_size(6, max), 1 << 30);
+        assert_eq!(plausible_size(300, max), 1 << 30);
+        assert_eq!(plausible_size(usize::MAX, max), 1 << 30);
+    }
+
+    #[test]
+    fn a_team_sees_only_its_own_uploads_and_returns() {
+        let amber = Sender::Team("Team Amber".into());
+        assert!(amber.may_see("Team Amber"));
+        assert!(!amber.may_see("Team Basalt"));
+        let office = Sender::Office("user:1".into());
+        assert!(office.may_see("Team Basalt"));
+        assert_eq!(amber.owner_key(), "team:Team Amber");
+        assert_eq!(office.owner_key(), "user:1");
+    }
+}

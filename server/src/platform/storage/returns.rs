@@ -298,6 +298,16 @@ impl Tx<'_> {
         Ok(())
     }
 
+    /// Set when upload `id` was last touched (tests of the idle expiry).
+    #[cfg(test)]
+    pub(crate) fn touch_upload_at(&self, id: &str, updated_at: &str) -> Result<()> {
+        self.tx.execute(
+            "UPDATE uploads SET updated_at = ?2 WHERE id = ?1",
+            [id, updated_at],
+        )?;
+        Ok(())
+    }
+
     /// Delete upload `id` if it is still open; whether it was.
     pub fn delete_open_upload(&self, id: &str) -> Result<bool> {
         Ok(self
