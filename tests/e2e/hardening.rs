@@ -117,23 +117,18 @@ fn uploads_belong_to_their_team_have_budgets_and_can_be_ended() {
     if plausible < 1 << 30 {
         assert_eq!(create(&s, &tb, &basalt, plausible + 1, 3).0, 413);
     }
-    assert_eq!(create(&s, &tb, &basalt, plausible.min(1 << 30), 4).0, 201);
-    assert_eq!(
-        call(
-            "DELETE",
-            &s.url(&format!(
-                "/api/v1/uploads/{}",
-                create(&s, &tb, &basalt, plausible.min(1 << 30), 4).1["upload_id"]
-                    .as_str()
-                    .unwrap()
-            )),
-            &tb,
-            &[],
-            b""
-        )
-        .0,
-        204
-    );
+    let (st, v) = create(&s, &tb, &basalt, plausible.min(1 << 30), 4);
+    assert_eq!(st, 201, "{v}");
+    // Made again (same bundle and SHA-256): the same upload; then ended.
+    let (st, again) = create(&s, &tb, &basalt, plausible.min(1 << 30), 4);
+    assert_eq!((st, &again["upload_id"]), (200, &v["upload_id"]));
+    let url = s.url(&format!(
+        "/api/v1/uploads/{}",
+        v["upload_id"].as_str().unwrap()
+    ));
+    assert_eq!(call("DELETE", &url, &tb, &[], b"").0, 204);
+    // Ending it again: it is gone.
+    assert_eq!(call("DELETE", &url, &tb, &[], b"").0, 404);
 
     // Amber tries to hold 8 GiB: it gets its own 2 GiB, Basalt still sends.
     assert!(
