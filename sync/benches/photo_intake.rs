@@ -12,6 +12,13 @@
 //!   through /proc/self/clear_refs after the photos are in memory, so the
 //!   generator's buffers are not counted), next to the resident size before.
 //!
+//! Then the worst layout the limits admit (issue 12 item 4): a progressive
+//! 4:4:4 photo, whose decoder keeps every DCT coefficient, at the largest
+//! 4:3 size within `PhotoLimits::default().max_alloc_bytes`; its time and
+//! the peak resident memory while it is inspected (`worst_*`), and a check
+//! that the 12000 x 8333 progressive 4:2:0 photo of the issue is refused
+//! before decoding.
+//!
 //! Prints one JSON line. Usage:
 //! `cargo bench -p groundproof-sync --bench photo_intake -- [--n N] [--dir DIR] [--rounds R]`
 
@@ -19,7 +26,9 @@ use std::path::{Path, PathBuf};
 use std::sync::atomic::{AtomicUsize, Ordering};
 use std::time::Instant;
 
-use groundproof_sync::photo::{PhotoLimits, inspect_jpeg};
+use groundproof_sync::photo::{
+    JpegHeader, JpegProcess, PhotoError, PhotoLimits, check_limits, inspect_jpeg,
+};
 use mock_patrols::photos::{PhotoMetaIn, make_photo};
 
 struct Args {
@@ -111,6 +120,68 @@ fn throughput(photos: &[Vec<u8>], threads: usize, limits: &PhotoLimits) -> f64 {
     total as f64 / start.elapsed().as_secs_f64()
 }
 
+/// A progressive JPEG header of `w` x `h` with one sampling for luma and
+/// 1x1 chroma.
+fn progressive(w: u32, h: u32, luma: (u8, u8)) -> JpegHeader {
+    JpegHeader {
+        width: w,
+        height: h,
+        precision: 8,
+        process: JpegProcess::Progressive,
+        sampling: vec![luma, (1, 1), (1, 1)],
+    }
+}
+
+/// The worst admitted layout: time (median of 3) and peak memory.
+fn worst_layout(limits: &PhotoLimits) -> serde_json::Value {
+    let refused = matches!(
+        check_limits(&progressive(12_000, 8_333, (2, 2)), limits),
+        Err(PhotoError::TooMuchMemory { .. })
+    );
+    assert!(
+        refused,
+        "the issue's 12000 x 8333 progressive photo must be refused"
+    );
+    // The largest 4:3 progressive 4:4:4 frame (steps of 16 px) admitted.
+    let mut w = 16u32;
+    while check_limits(&progressive(w + 16, (w + 16) * 3 / 4, (1, 1)), limits).is_ok() {
+        w += 16;
+    }
+    let h = w * 3 / 4;
+    let pixels: Vec<u8> = (0..w * h)
+        .flat_map(|i| {
+            let (x, y) = (i % w, i / w);
+            [(x / 7) as u8, (y / 5) as u8, ((x + y) / 9) as u8]
+        })
+        .collect();
+    let mut jpg = Vec::new();
+    let mut enc = jpeg_encoder::Encoder::new(&mut jpg, 85);
+    enc.set_progressive(true);
+    enc.set_sampling_factor(jpeg_encoder::SamplingFactor::F_1_1);
+    enc.encode(&pixels, w as u16, h as u16, jpeg_encoder::ColorType::Rgb)
+        .expect("encode the worst layout");
+    drop(pixels);
+    let reset = std::fs::write("/proc/self/clear_refs", "5").is_ok();
+    let rss_before = status_kb("VmRSS:");
+    let mut ms = Vec::new();
+    for _ in 0..3 {
+        let t = Instant::now();
+        let c = inspect_jpeg(&jpg, limits).expect("the worst admitted layout is taken in");
+        ms.push(t.elapsed().as_secs_f64() * 1e3);
+        std::hint::black_box(c);
+    }
+    ms.sort_by(f64::total_cmp);
+    serde_json::json!({
+        "worst_layout": format!("progressive 4:4:4 {w} x {h}"),
+        "worst_bytes": jpg.len(),
+        "worst_ms_median": (ms[1] * 10.0).round() / 10.0,
+        "worst_vmrss_kb_before": rss_before,
+        "worst_vmhwm_kb": status_kb("VmHWM:"),
+        "worst_vmhwm_reset": reset,
+        "issue_photo_refused": refused,
+    })
+}
+
 fn main() {
     let args = parse_args();
     let t0 = Instant::now();
@@ -159,7 +230,8 @@ fn main() {
     let one = throughput(&photos, 1, &limits);
     let two = throughput(&photos, 2, &limits);
     let hwm = status_kb("VmHWM:");
-    let line = serde_json::json!({
+    let worst = worst_layout(&limits);
+    let mut line = serde_json::json!({
         "bench": "photo_intake",
         "source": source,
         "prepare_s": (prep_s * 100.0).round() / 100.0,
@@ -174,5 +246,8 @@ fn main() {
         "vmhwm_kb_during_intake": hwm,
         "vmhwm_reset": reset,
     });
+    if let (Some(l), Some(w)) = (line.as_object_mut(), worst.as_object()) {
+        l.extend(w.clone());
+    }
     println!("{line}");
 }

@@ -28,6 +28,9 @@ struct Server {
     heads: u32,
     completed: Option<Vec<u8>>,
     tokens: Vec<String>,
+    /// Answer every PATCH with 413 (the bytes refused).
+    refuse_patches: bool,
+    ended: u32,
 }
 
 /// PATCH requests (1-based) on which the server reads half the body and hangs up.
@@ -105,6 +108,21 @@ fn handle(stream: TcpStream, state: &Mutex<Server>, bundle_id: uuid::Uuid) {
                 ],
                 "",
             );
+        }
+        ("PATCH", "/api/v1/uploads/up-1") if st.refuse_patches => {
+            st.patches += 1;
+            let mut body = vec![0; len];
+            reader.read_exact(&mut body).expect("chunk");
+            respond(
+                &mut s,
+                "413 Payload Too Large",
+                &[("Content-Type", "application/json".into())],
+                r#"{"error":"an append is at most 16 bytes"}"#,
+            );
+        }
+        ("DELETE", "/api/v1/uploads/up-1") => {
+            st.ended += 1;
+            respond(&mut s, "204 No Content", &[], "");
         }
         ("PATCH", "/api/v1/uploads/up-1") => {
             st.patches += 1;
@@ -200,10 +218,10 @@ fn run(ws: &Path, args: &[&str]) {
     assert_eq!(code, std::process::ExitCode::SUCCESS, "{args:?}");
 }
 
-#[test]
-fn push_resumes_after_dropped_connections() {
-    let dir = tempfile::tempdir().expect("dir");
-    let ws = dir.path().join("ws");
+/// A workspace with the bundle opened and two reports recorded; the
+/// bundle's header.
+fn workspace_with_reports(dir: &Path) -> (std::path::PathBuf, BundleHeader) {
+    let ws = dir.join("ws");
     let now = Utc::now();
     let header = BundleHeader {
         issued_at: now - chrono::Duration::days(1),
@@ -224,11 +242,11 @@ fn push_resumes_after_dropped_connections() {
         vec![],
     )
     .expect("bundle");
-    let bundle = dir.path().join("b.zip");
+    let bundle = dir.join("b.zip");
     std::fs::write(&bundle, out.into_inner()).expect("write");
     let photos: Vec<String> = (1..=2)
         .map(|i| {
-            let p = dir.path().join(format!("n{i}.jpg"));
+            let p = dir.join(format!("n{i}.jpg"));
             std::fs::write(&p, noisy_jpeg(i)).expect("photo");
             p.to_str().expect("p").to_owned()
         })
@@ -259,7 +277,37 @@ fn push_resumes_after_dropped_connections() {
             "-1.24,23.42",
         ],
     );
+    (ws, header)
+}
 
+// Issue 12 item 1: a push whose bytes the server refuses ends its upload
+// (DELETE) instead of leaving it to hold the team's budget. Failed before
+// the client learned DELETE (no DELETE was sent).
+#[test]
+fn a_push_whose_bytes_are_refused_ends_its_upload() {
+    let dir = tempfile::tempdir().expect("dir");
+    let (ws, header) = workspace_with_reports(dir.path());
+    let (url, state) = spawn_server(header.bundle_id);
+    state.lock().expect("lock").refuse_patches = true;
+    let options = PushOptions {
+        chunk_bytes: 16 << 10,
+        initial_backoff: Duration::from_millis(10),
+        max_backoff: Duration::from_millis(50),
+        call_timeout: Duration::from_secs(20),
+        progress: false,
+        ..PushOptions::default()
+    };
+    let err = push(&ws, &url, Some("team-token-1"), &options).expect_err("refused");
+    assert!(err.to_string().contains("413"), "{err}");
+    let st = state.lock().expect("lock");
+    assert_eq!((st.patches, st.ended), (1, 1));
+    assert!(st.completed.is_none());
+}
+
+#[test]
+fn push_resumes_after_dropped_connections() {
+    let dir = tempfile::tempdir().expect("dir");
+    let (ws, header) = workspace_with_reports(dir.path());
     let (url, state) = spawn_server(header.bundle_id);
     let options = PushOptions {
         chunk_bytes: 16 << 10,
@@ -290,6 +338,7 @@ fn push_resumes_after_dropped_connections() {
         summary.bytes
     );
     assert_eq!(summary.retries, 2);
+    assert_eq!(st.ended, 0, "an upload that went through is not ended");
     assert_eq!(summary.return_id, 7);
     assert_eq!(summary.accepted, 1);
     assert_eq!(summary.rejected.len(), 1);

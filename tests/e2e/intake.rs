@@ -22,7 +22,7 @@ use std::time::{Duration, Instant};
 
 // ---------- helpers ----------
 
-fn issue_bundle(base: &str, team: &str) -> (String, Vec<u8>) {
+pub(crate) fn issue_bundle(base: &str, team: &str) -> (String, Vec<u8>) {
     let station = mock_patrols::scenario().station;
     let r = post_json(
         &format!("{base}/api/v1/bundles"),
@@ -45,7 +45,7 @@ fn field(args: &[&str]) {
 }
 
 /// A workspace with the bundle opened.
-fn open_workspace(root: &Path, name: &str, bundle: &[u8]) -> PathBuf {
+pub(crate) fn open_workspace(root: &Path, name: &str, bundle: &[u8]) -> PathBuf {
     let ws = root.join(name);
     let zip = root.join(format!("{name}-bundle.zip"));
     std::fs::write(&zip, bundle).unwrap();
@@ -58,7 +58,7 @@ fn open_workspace(root: &Path, name: &str, bundle: &[u8]) -> PathBuf {
     ws
 }
 
-fn rfc(t: chrono::DateTime<chrono::Utc>) -> String {
+pub(crate) fn rfc(t: chrono::DateTime<chrono::Utc>) -> String {
     t.to_rfc3339_opts(chrono::SecondsFormat::Secs, true)
 }
 
@@ -90,7 +90,7 @@ fn photo(
 /// Records a confirmed report with two photos at the centroid of each of
 /// the first `n` events (photos taken one minute from now: after issue,
 /// before expiry, after every detection).
-fn record_events(ws: &Path, n: usize, seed: u64) -> Vec<String> {
+pub(crate) fn record_events(ws: &Path, n: usize, seed: u64) -> Vec<String> {
     let snap = Snapshot::load(ws).unwrap();
     let when = chrono::Utc::now() + chrono::Duration::minutes(1);
     let mut codes = Vec::new();
@@ -116,7 +116,7 @@ fn record_events(ws: &Path, n: usize, seed: u64) -> Vec<String> {
     codes
 }
 
-fn fast_push() -> PushOptions {
+pub(crate) fn fast_push() -> PushOptions {
     PushOptions {
         chunk_bytes: 64 << 10,
         max_failures: 40,
@@ -159,7 +159,7 @@ fn assert_evidence_on_disk(db: &Db, data: &Path) {
     }
 }
 
-fn pack(ws: &Path, out: &Path, all: bool) -> Vec<u8> {
+pub(crate) fn pack(ws: &Path, out: &Path, all: bool) -> Vec<u8> {
     let mut args = vec![
         "--workspace",
         ws.to_str().unwrap(),
@@ -456,7 +456,12 @@ fn key_of(ws: &Path) -> (String, [u8; 32]) {
 
 /// A signed return made by hand: `entries` (name, bytes, deflate) listed in
 /// a manifest with `listed` sizes (default: the real ones).
-fn signed_zip(ws: &Path, entries: &[(&str, Vec<u8>, bool)], reports: u32, photos: u32) -> Vec<u8> {
+pub(crate) fn signed_zip(
+    ws: &Path,
+    entries: &[(&str, Vec<u8>, bool)],
+    reports: u32,
+    photos: u32,
+) -> Vec<u8> {
     let snap = Snapshot::load(ws).unwrap();
     let (key_id, key) = key_of(ws);
     let listed: Vec<_> = entries
@@ -500,7 +505,7 @@ fn signed_zip(ws: &Path, entries: &[(&str, Vec<u8>, bool)], reports: u32, photos
     out.into_inner()
 }
 
-fn post_zip(s: &TestServer, zip: &[u8]) -> groundproof_e2e::Reply {
+pub(crate) fn post_zip(s: &TestServer, zip: &[u8]) -> groundproof_e2e::Reply {
     post_bytes(&s.url("/api/v1/returns"), "application/zip", zip)
 }
 

@@ -3,6 +3,7 @@
 mod access;
 mod alerts_api;
 mod bundles;
+mod hardening;
 mod intake;
 mod pages;
 mod robust_http;

@@ -2,9 +2,7 @@
 //! directory (the folders are listed in [`super::layout`]).
 
 use super::IntakeError;
-use super::layout::{
-    EVIDENCE_DIR, INCOMING_DIR, THUMBS_DIR, UPLOAD_MAX_AGE_DAYS, UPLOADS_DIR, intake_lock,
-};
+use super::layout::{EVIDENCE_DIR, INCOMING_DIR, THUMBS_DIR, UPLOADS_DIR, intake_lock};
 use crate::domain::Sha256Digest;
 use crate::platform::storage::Db;
 use std::collections::HashSet;
@@ -19,6 +17,8 @@ pub struct CleanupSummary {
     pub upload_files: usize,
     /// Open uploads untouched for longer than the upload lifetime.
     pub expired_uploads: usize,
+    /// Refused packages past the age or size budget of `returns/rejected/`.
+    pub rejected_packages: usize,
 }
 
 fn files_in(dir: &Path) -> Vec<PathBuf> {
@@ -42,15 +42,18 @@ fn remove(p: &Path) -> Result<(), IntakeError> {
 
 /// Removes what a crash can leave behind: evidence files and temp files that
 /// no committed photo row names, data of uploads that are finished or gone,
-/// and open uploads idle for more than [`UPLOAD_MAX_AGE_DAYS`].
+/// and open uploads idle for more than [`super::layout::UPLOAD_IDLE_HOURS`].
 /// Call it at start, before serving (it holds the intake lock while it runs).
-/// Received packages in `returns/` are never removed.
+/// Received packages in `returns/incoming/` are never removed; refused ones
+/// in `returns/rejected/` are kept within their budget
+/// ([`super::layout::prune_rejected`]).
 pub fn cleanup(db: &Db, data_dir: &Path) -> Result<CleanupSummary, IntakeError> {
     let _guard = intake_lock();
-    let mut out = CleanupSummary::default();
-    let cutoff = chrono::Utc::now() - chrono::Duration::days(UPLOAD_MAX_AGE_DAYS);
-    let expired = db.write(|tx| tx.expire_uploads(&cutoff.to_rfc3339()))?;
-    out.expired_uploads = expired.len();
+    let mut out = CleanupSummary {
+        expired_uploads: super::uploads::expire_idle(db, data_dir)?,
+        rejected_packages: super::layout::prune_rejected(data_dir)?,
+        ..CleanupSummary::default()
+    };
 
     let known: HashSet<String> = db.read(|r| r.photo_shas())?.into_iter().collect();
     let evidence = data_dir.join(EVIDENCE_DIR);

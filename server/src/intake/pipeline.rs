@@ -13,7 +13,7 @@
 
 use super::evidence::{self, CheckContext, Footprint, PhotoFacts};
 use super::layout::{
-    incoming_path, intake_lock, move_durably, photo_path, rejected_path, thumb_path,
+    incoming_path, intake_lock, move_durably, photo_path, prune_rejected, rejected_path, thumb_path,
 };
 use super::{IntakeError, IntakeOptions};
 use crate::domain::{Cause, Confidence, Day, Outcome, Reason, TargetKind};
@@ -33,6 +33,11 @@ use std::collections::{BTreeMap, BTreeSet, HashMap};
 use std::path::Path;
 use uuid::Uuid;
 
+/// The flag of a report with a photo whose image data does not fill the
+/// frame its header declares (the photo's stored size is what the data
+/// covered).
+pub const PHOTO_HEADER_MISMATCH: &str = "photo_header_mismatch";
+
 /// One report's result (the `results` items of RETURN-SPEC).
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ReportResult {
@@ -49,10 +54,14 @@ pub struct UnreadableItem {
     pub reason: String,
 }
 
-/// The results document of `complete` and `GET /api/v1/returns/{id}`.
+/// The results document of `complete` and `GET /api/v1/returns/{receipt}`.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ReturnDocument {
+    /// The server's number of the return (kept for older clients; only
+    /// coordinators and admins may look a return up by it).
     pub return_id: i64,
+    /// The unguessable name of the return: `GET /api/v1/returns/{receipt}`.
+    pub receipt: String,
     pub bundle_id: Uuid,
     pub sha256: String,
     pub received_at: String,
@@ -63,8 +72,13 @@ pub struct ReturnDocument {
 
 /// The stored results document of return `return_id`.
 pub fn return_document(db: &Db, return_id: i64) -> Result<ReturnDocument, IntakeError> {
-    let (ret, rows) =
-        db.read(|r| Ok((r.return_by_id(return_id)?, r.return_results(return_id)?)))?;
+    let (ret, rows, receipt) = db.read(|r| {
+        Ok((
+            r.return_by_id(return_id)?,
+            r.return_results(return_id)?,
+            r.return_receipt(return_id)?,
+        ))
+    })?;
     let ret = ret.ok_or_else(|| IntakeError::NotFound(format!("no return {return_id}")))?;
     let mut results = Vec::new();
     let mut unreadable = Vec::new();
@@ -87,6 +101,7 @@ pub fn return_document(db: &Db, return_id: i64) -> Result<ReturnDocument, Intake
     }
     Ok(ReturnDocument {
         return_id: ret.id,
+        receipt: receipt.unwrap_or_default(),
         bundle_id: Uuid::parse_str(&ret.bundle_id).unwrap_or_default(),
         sha256: ret.sha256,
         received_at: ret.received_at,
@@ -129,10 +144,45 @@ fn classify(e: SyncError, bundle_cancelled: bool) -> IntakeError {
             "no upload key {key_id} for bundle {bundle_id} on this server"
         )),
         SyncError::BadSignature { reason } => {
-            IntakeError::Refused(format!("the package signature does not verify: {reason}"))
+            IntakeError::Refused(format!("the return's signature does not verify: {reason}"))
         }
         SyncError::Io { .. } | SyncError::Database { .. } => IntakeError::Internal(e.to_string()),
-        other => IntakeError::Package(format!("the package is refused: {other}")),
+        other => IntakeError::Package(format!("the return is refused: {}", in_return_words(other))),
+    }
+}
+
+/// What is wrong with a return package, in the words of a return: the
+/// sync crate's reader errors are shared with bundles and speak of the
+/// bundle and its `manifest.json`.
+fn in_return_words(e: SyncError) -> String {
+    const MANIFEST: &str = groundproof_sync::returns::RETURN_MANIFEST;
+    match e {
+        SyncError::MissingEntry { name } => format!("entry {name:?} is missing from the return"),
+        SyncError::UnlistedEntry { name } => {
+            format!("entry {name:?} is in the return but not listed in {MANIFEST}")
+        }
+        SyncError::SizeMismatch {
+            name,
+            expected,
+            actual,
+        } => format!("entry {name:?} has {actual} bytes, {MANIFEST} says {expected}"),
+        SyncError::ChecksumMismatch {
+            name,
+            expected,
+            actual,
+        } => format!(
+            "entry {name:?} is corrupt or altered: SHA-256 is {actual}, {MANIFEST} says {expected}"
+        ),
+        SyncError::WrongFormat { found, expected } => format!(
+            "not a Groundproof return: {MANIFEST} names format {found:?}, expected {expected:?}"
+        ),
+        SyncError::UnsupportedVersion { found, supported } => format!(
+            "unsupported return format version {found}; this server reads version {supported}"
+        ),
+        SyncError::EntryNotAllowed { name, reason } => {
+            format!("entry {name:?} is not allowed in a return: {reason}")
+        }
+        other => other.to_string(),
     }
 }
 
@@ -213,6 +263,7 @@ impl Context<'_> {
                 direction_deg: check.meta.direction_deg,
                 bytes: bytes.len() as u64,
                 stored_at: self.received_at.to_rfc3339(),
+                data_matches_header: check.data_matches_header,
             },
             thumb: Some(check.thumbnail_jpeg),
         })
@@ -370,6 +421,11 @@ impl Context<'_> {
                     .read(|x| x.photo_used_by_other(&p.sha256, id, &supersedes))?;
             let v = evidence::check_photo(ctx, &photo_facts(p, &info, reused));
             found.flags.extend(v.flags.iter().cloned());
+            if !info.row.data_matches_header {
+                found
+                    .flags
+                    .push(format!("{PHOTO_HEADER_MISMATCH}:{}", p.sha256));
+            }
             found.checks.push(PhotoCheckRow {
                 report_id: id.to_string(),
                 sha256: p.sha256.clone(),
@@ -560,6 +616,7 @@ pub fn take_in(
             tracing::warn!(sha256, error = %e, "return package refused");
             if package.exists() {
                 move_durably(package, &rejected_path(data_dir, sha256))?;
+                prune_rejected(data_dir)?;
             }
             if let Some(u) = upload {
                 db.write(|tx| {
@@ -581,6 +638,58 @@ fn run(
     size: u64,
     upload: Option<&UploadRecord>,
 ) -> Result<ReturnDocument, IntakeError> {
+    let opened = open_checked(db, options, package, upload)?;
+    let (bundle, items) = live_bundle(db, &opened.manifest.bundle_id.to_string())?;
+    let received = Utc::now();
+    let mut ctx = Context {
+        db,
+        data_dir,
+        options,
+        opened: &opened,
+        bundle: &bundle,
+        items: &items,
+        window: (
+            parse_time(&bundle.issued_at, "issued_at")?,
+            parse_time(&bundle.expires_at, "expires_at")?,
+        ),
+        received_at: received,
+        users: photo_users(&opened.reports),
+        photos: HashMap::new(),
+    };
+    let mut verdicts: Vec<(Uuid, Verdict)> = Vec::new();
+    for r in &opened.reports {
+        verdicts.push((r.report_id, ctx.judge(r)?));
+    }
+    let photos = std::mem::take(&mut ctx.photos);
+    write_photo_files(data_dir, &opened, &verdicts, &photos)?;
+    let stored = Stored {
+        sha256,
+        size,
+        received_at: received.to_rfc3339(),
+        bundle: &bundle,
+        upload,
+    };
+    let kept = verdicts
+        .iter()
+        .any(|(_, v)| !matches!(v, Verdict::Reject(_)));
+    let return_id = commit_rows(db, &stored, &opened, &verdicts, &photos, kept)?;
+    if !kept && package.exists() {
+        // Nothing of it was kept: the results say why; the package itself
+        // is kept only as a refused one is, within that budget.
+        move_durably(package, &rejected_path(data_dir, sha256))?;
+        prune_rejected(data_dir)?;
+    }
+    return_document(db, return_id)
+}
+
+/// Step 2: the package opened under its bundle's key, for the upload's
+/// bundle, with the checklist of its version applied.
+fn open_checked(
+    db: &Db,
+    options: &IntakeOptions,
+    package: &Path,
+    upload: Option<&UploadRecord>,
+) -> Result<OpenedReturn, IntakeError> {
     let cancelled = Cell::new(false);
     let mut opened = open_return(
         package,
@@ -605,20 +714,25 @@ fn run(
         )));
     }
     opened.apply_checklist(&checklist_for(opened.manifest.checklist_version)?);
-    let bid = bundle_id.to_string();
-    let (bundle, items) = db.read(|r| Ok((r.bundle(&bid)?, r.bundle_items(&bid)?)))?;
+    Ok(opened)
+}
+
+/// The bundle `bid` and its items; refused when unknown or cancelled.
+fn live_bundle(db: &Db, bid: &str) -> Result<(BundleRecord, Vec<BundleItem>), IntakeError> {
+    let (bundle, items) = db.read(|r| Ok((r.bundle(bid)?, r.bundle_items(bid)?)))?;
     let bundle = bundle.ok_or_else(|| IntakeError::Refused(format!("no bundle {bid}")))?;
     if bundle.cancelled_at.is_some() {
         return Err(IntakeError::Refused(format!(
             "bundle {bid} was cancelled: its upload key is revoked"
         )));
     }
-    let window = (
-        parse_time(&bundle.issued_at, "issued_at")?,
-        parse_time(&bundle.expires_at, "expires_at")?,
-    );
+    Ok((bundle, items))
+}
+
+/// The reports of the package using each photo.
+fn photo_users(reports: &[Report]) -> BTreeMap<String, BTreeSet<Uuid>> {
     let mut users: BTreeMap<String, BTreeSet<Uuid>> = BTreeMap::new();
-    for r in &opened.reports {
+    for r in reports {
         for p in &r.photos {
             users
                 .entry(p.sha256.clone())
@@ -626,29 +740,18 @@ fn run(
                 .insert(r.report_id);
         }
     }
-    let received = Utc::now();
-    let received_at = received.to_rfc3339();
-    let mut ctx = Context {
-        db,
-        data_dir,
-        options,
-        opened: &opened,
-        bundle: &bundle,
-        items: &items,
-        window,
-        received_at: received,
-        users,
-        photos: HashMap::new(),
-    };
-    let mut verdicts: Vec<(Uuid, Verdict)> = Vec::new();
-    for r in &opened.reports {
-        verdicts.push((r.report_id, ctx.judge(r)?));
-    }
-    let photos = std::mem::take(&mut ctx.photos);
+    users
+}
 
-    // Files first: every photo (and thumbnail) of an accepted report.
+/// Step 5, files first: every photo (and thumbnail) of an accepted report.
+fn write_photo_files(
+    data_dir: &Path,
+    opened: &OpenedReturn,
+    verdicts: &[(Uuid, Verdict)],
+    photos: &HashMap<String, Result<PhotoInfo, String>>,
+) -> Result<(), IntakeError> {
     let mut to_write: BTreeSet<&str> = BTreeSet::new();
-    for (_, v) in &verdicts {
+    for (_, v) in verdicts {
         if let Verdict::Accept(p) = v {
             to_write.extend(p.photos.iter().map(|x| x.sha256.as_str()));
         }
@@ -673,62 +776,47 @@ fn run(
             })?;
         }
     }
+    Ok(())
+}
 
-    // Then every row of the package, in one transaction.
-    let mut results: Vec<ResultRow> = Vec::new();
-    let rel = incoming_path(Path::new(""), sha256);
+/// What the return row records about the package itself.
+struct Stored<'a> {
+    sha256: &'a str,
+    size: u64,
+    received_at: String,
+    bundle: &'a BundleRecord,
+    upload: Option<&'a UploadRecord>,
+}
+
+/// Step 6: every row of the package, in one transaction; the return's id.
+/// A package of which no report is `kept` is recorded where it goes next,
+/// under `returns/rejected/`.
+fn commit_rows(
+    db: &Db,
+    stored: &Stored,
+    opened: &OpenedReturn,
+    verdicts: &[(Uuid, Verdict)],
+    photos: &HashMap<String, Result<PhotoInfo, String>>,
+    kept: bool,
+) -> Result<i64, IntakeError> {
+    let rel = if kept {
+        incoming_path(Path::new(""), stored.sha256)
+    } else {
+        rejected_path(Path::new(""), stored.sha256)
+    };
     let return_id = db.write(|tx| {
         let return_id = tx.insert_return(&ReturnRecord {
             id: 0,
-            bundle_id: bid.clone(),
-            sha256: sha256.to_string(),
-            size,
-            team: bundle.team.clone(),
-            received_at: received_at.clone(),
+            bundle_id: stored.bundle.id.clone(),
+            sha256: stored.sha256.to_string(),
+            size: stored.size,
+            team: stored.bundle.team.clone(),
+            received_at: stored.received_at.clone(),
             path: rel.to_string_lossy().into_owned(),
         })?;
-        for (id, v) in &verdicts {
-            let rid = id.to_string();
-            let row = match v {
-                Verdict::Duplicate(flags) => ResultRow {
-                    report_id: Some(rid),
-                    status: "duplicate".into(),
-                    reason: None,
-                    flags: flags.clone(),
-                },
-                Verdict::Reject(reason) => ResultRow {
-                    report_id: Some(rid),
-                    status: "rejected".into(),
-                    reason: Some(reason.clone()),
-                    flags: Vec::new(),
-                },
-                Verdict::Accept(p) => {
-                    let mut row = p.row.clone();
-                    row.return_id = return_id;
-                    if let Some(ev) = &p.new_event {
-                        let eid = tx.insert_event(ev)?;
-                        tx.mark_event_field_found(eid)?;
-                        row.event_id = Some(eid);
-                    }
-                    for ph in &p.photos {
-                        if let Some(Ok(info)) = photos.get(&ph.sha256) {
-                            tx.insert_photo(&info.row)?;
-                        }
-                    }
-                    tx.insert_report(&row, &p.body_sha256)?;
-                    tx.insert_report_photos(&row.report_id, &p.photos)?;
-                    for c in &p.checks {
-                        tx.insert_photo_check(c)?;
-                    }
-                    ResultRow {
-                        report_id: Some(rid),
-                        status: "accepted".into(),
-                        reason: None,
-                        flags: row.flags.clone(),
-                    }
-                }
-            };
-            results.push(row);
+        let mut results: Vec<ResultRow> = Vec::new();
+        for (id, v) in verdicts {
+            results.push(store_verdict(tx, return_id, id, v, photos)?);
         }
         for r in &opened.rejected {
             results.push(ResultRow {
@@ -745,12 +833,63 @@ fn run(
             (None, None) => std::cmp::Ordering::Equal,
         });
         tx.insert_results(return_id, &results)?;
-        if let Some(u) = upload {
+        if let Some(u) = stored.upload {
             tx.finish_upload(&u.id, return_id)?;
         }
         Ok(return_id)
     })?;
-    return_document(db, return_id)
+    Ok(return_id)
+}
+
+/// One report's verdict written inside the package's transaction; its
+/// result row.
+fn store_verdict(
+    tx: &crate::platform::storage::Tx,
+    return_id: i64,
+    id: &Uuid,
+    v: &Verdict,
+    photos: &HashMap<String, Result<PhotoInfo, String>>,
+) -> Result<ResultRow, crate::Error> {
+    let rid = id.to_string();
+    Ok(match v {
+        Verdict::Duplicate(flags) => ResultRow {
+            report_id: Some(rid),
+            status: "duplicate".into(),
+            reason: None,
+            flags: flags.clone(),
+        },
+        Verdict::Reject(reason) => ResultRow {
+            report_id: Some(rid),
+            status: "rejected".into(),
+            reason: Some(reason.clone()),
+            flags: Vec::new(),
+        },
+        Verdict::Accept(p) => {
+            let mut row = p.row.clone();
+            row.return_id = return_id;
+            if let Some(ev) = &p.new_event {
+                let eid = tx.insert_event(ev)?;
+                tx.mark_event_field_found(eid)?;
+                row.event_id = Some(eid);
+            }
+            for ph in &p.photos {
+                if let Some(Ok(info)) = photos.get(&ph.sha256) {
+                    tx.insert_photo(&info.row)?;
+                }
+            }
+            tx.insert_report(&row, &p.body_sha256)?;
+            tx.insert_report_photos(&row.report_id, &p.photos)?;
+            for c in &p.checks {
+                tx.insert_photo_check(c)?;
+            }
+            ResultRow {
+                report_id: Some(rid),
+                status: "accepted".into(),
+                reason: None,
+                flags: row.flags.clone(),
+            }
+        }
+    })
 }
 
 #[cfg(test)]

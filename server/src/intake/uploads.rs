@@ -1,6 +1,7 @@
 //! Resumable uploads (RETURN-SPEC "Resumable push", after the IETF draft
 //! "Resumable Uploads for HTTP"): create with the declared size and SHA-256,
-//! ask the offset, append at the offset, complete.
+//! ask the offset, append at the offset, complete, or end it (`DELETE`,
+//! the draft's upload cancellation).
 //!
 //! Bytes are appended to `uploads/<id>.part` and fsynced before the new
 //! offset is stored and acknowledged; before an append the file is cut back
@@ -8,23 +9,32 @@
 //! between the write and the commit) are dropped and sent again. The offset
 //! never decreases. An interrupted append keeps the bytes that arrived.
 //!
+//! An upload belongs to the team of its bundle: a team token creates
+//! uploads only for its own team's bundles, and another team's token gets
+//! 404 for the upload (ask, append, complete, end), as for an upload that
+//! does not exist. Coordinators and admins (who may upload a return for any
+//! team) reach every upload.
+//!
 //! # Bounds (documented limits, reliability.md §3)
 //!
 //! | bound | value | anchor |
 //! |---|---|---|
 //! | one package (declared size) | 1 GiB | `ReturnLimits::max_file_bytes`, resumable `max-size` |
+//! | declared size for a bundle of n stops | 256 MiB + n x 128 MiB (at most 1 GiB) | our choice: 20 photos of 6 MB per stop, and room for new clearings |
 //! | one append (PATCH body) | 8 MiB | RETURN-SPEC, `max-append-size` |
-//! | open uploads, whole server | 64 | our choice (Slowloris mitigation of the draft) |
+//! | open uploads, whole server | 64, 8 GiB declared | our choice (Slowloris mitigation of the draft; disk reserve for 8 full packages) |
+//! | open uploads per sender (a team, a user, an API token) | 4, 2 GiB declared | our choice: a quarter of the server's, so no sender can block another |
 //! | open uploads per bundle | 4 | reliability.md §3 "Concurrent resumable uploads per user" |
-//! | declared bytes of all open uploads | 8 GiB | our choice: disk reserve for 8 full packages |
-//! | lifetime of an idle open upload | 7 days | reliability.md §3 `max-age` |
+//! | an idle open upload | removed after 12 hours untouched | our choice (the draft leaves it to the server; reliability.md §3 said 7 days, which let a full budget block others for a week) |
 
 use super::layout::{
-    INCOMING_DIR, UPLOADS_DIR, incoming_path, intake_lock, move_durably, upload_path,
+    INCOMING_DIR, UPLOAD_IDLE_HOURS, UPLOADS_DIR, incoming_path, intake_lock, move_durably,
+    upload_path,
 };
 use super::pipeline::{ReturnDocument, return_document, take_in};
 use super::{IntakeError, IntakeOptions};
-use crate::platform::storage::{Db, UploadRecord};
+use crate::platform::auth::Identity;
+use crate::platform::storage::{BundleRecord, Db, UploadRecord};
 use sha2::{Digest, Sha256};
 use std::collections::HashSet;
 use std::io::{Read, Seek, SeekFrom, Write};
@@ -39,6 +49,63 @@ pub const MAX_OPEN_UPLOADS: u64 = 64;
 pub const MAX_OPEN_UPLOADS_PER_BUNDLE: u64 = 4;
 /// Most declared bytes over all open uploads.
 pub const MAX_OPEN_UPLOAD_BYTES: u64 = 8 << 30;
+/// Most open uploads of one sender.
+pub const MAX_OPEN_UPLOADS_PER_SENDER: u64 = 4;
+/// Most declared bytes of one sender's open uploads.
+pub const MAX_OPEN_BYTES_PER_SENDER: u64 = 2 << 30;
+/// The declared size any bundle may return: reports, manifest, new clearings.
+pub const PLAUSIBLE_BASE_BYTES: u64 = 256 << 20;
+/// The declared size each stop of the bundle adds.
+pub const PLAUSIBLE_BYTES_PER_STOP: u64 = 128 << 20;
+
+/// Who sends a return: a field team (its token) or someone of the office
+/// allowed to upload for any team.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum Sender {
+    /// A team token: its own team's bundles and uploads only.
+    Team(String),
+    /// A signed-in user or an API token; the key its open uploads are
+    /// counted under (`user:<id>`, `token:<id>`).
+    Office(String),
+}
+
+impl Sender {
+    /// The sender a request's identity stands for (`None` for nobody).
+    pub fn of(identity: &Identity) -> Option<Sender> {
+        match identity {
+            Identity::Team { team_name, .. } => Some(Sender::Team(team_name.clone())),
+            Identity::User { user_id, .. } => Some(Sender::Office(format!("user:{user_id}"))),
+            Identity::ApiToken { token_id, .. } => {
+                Some(Sender::Office(format!("token:{token_id}")))
+            }
+            Identity::Anonymous => None,
+        }
+    }
+
+    /// The key its open uploads are counted under.
+    pub fn owner_key(&self) -> String {
+        match self {
+            Sender::Team(t) => format!("team:{t}"),
+            Sender::Office(k) => k.clone(),
+        }
+    }
+
+    /// Whether it may see what was sent for a bundle of team `team`.
+    pub fn may_see(&self, team: &str) -> bool {
+        match self {
+            Sender::Team(t) => t == team,
+            Sender::Office(_) => true,
+        }
+    }
+}
+
+/// The largest package a bundle of `stops` stops could plausibly return.
+pub fn plausible_size(stops: usize, max_file_bytes: u64) -> u64 {
+    PLAUSIBLE_BYTES_PER_STOP
+        .saturating_mul(stops as u64)
+        .saturating_add(PLAUSIBLE_BASE_BYTES)
+        .min(max_file_bytes)
+}
 
 /// Uploads with an append in progress (one at a time per upload).
 static APPENDING: Mutex<Option<HashSet<String>>> = Mutex::new(None);
@@ -78,11 +145,13 @@ pub struct Created {
 }
 
 /// Creates an upload for a package of `size` bytes with SHA-256 `sha256`,
-/// or finds the one made before for the same bundle and SHA-256.
+/// or finds the one made before for the same bundle and SHA-256. Open
+/// uploads idle for [`UPLOAD_IDLE_HOURS`] are removed first.
 pub fn create(
     db: &Db,
     data_dir: &Path,
     options: &IntakeOptions,
+    sender: &Sender,
     bundle_id: &str,
     size: u64,
     sha256: &str,
@@ -95,22 +164,23 @@ pub fn create(
     let max = options.return_limits.max_file_bytes;
     if size == 0 || size > max {
         return Err(IntakeError::TooLarge(format!(
-            "a package must be 1 to {max} bytes, not {size}"
+            "a return package must be 1 to {max} bytes, not {size}"
         )));
     }
-    let bundle = db
-        .read(|r| r.bundle(bundle_id))?
-        .ok_or_else(|| IntakeError::NotFound(format!("no bundle {bundle_id}")))?;
-    if bundle.cancelled_at.is_some() {
-        return Err(IntakeError::Refused(format!(
-            "bundle {bundle_id} was cancelled: its upload key is revoked"
+    let bundle = bundle_for(db, sender, bundle_id)?;
+    let stops = db.read(|r| r.bundle_items(bundle_id))?.len();
+    let plausible = plausible_size(stops, max);
+    if size > plausible {
+        return Err(IntakeError::TooLarge(format!(
+            "a return for bundle {bundle_id} ({stops} stops) is at most {plausible} bytes, not {size}"
         )));
     }
     let _guard = intake_lock();
+    expire_idle(db, data_dir)?;
     if let Some(u) = db.read(|r| r.upload_by_sha(bundle_id, sha256))? {
         if u.size != size {
             return Err(IntakeError::Invalid(format!(
-                "an upload of this package was made with size {}, not {size}",
+                "an upload of this return was made with size {}, not {size}",
                 u.size
             )));
         }
@@ -121,7 +191,7 @@ pub fn create(
     }
     let upload = UploadRecord {
         id: uuid::Uuid::new_v4().simple().to_string(),
-        bundle_id: bundle_id.to_string(),
+        bundle_id: bundle.id.clone(),
         sha256: sha256.to_string(),
         size,
         offset: 0,
@@ -130,20 +200,11 @@ pub fn create(
         error: None,
         error_status: None,
         created_at: chrono::Utc::now().to_rfc3339(),
+        owner: Some(sender.owner_key()),
     };
     let taken = db.read(|r| r.return_by_sha(sha256))?;
     if taken.is_none() {
-        let (count, bytes, for_bundle) = db.read(|r| r.open_uploads(bundle_id))?;
-        if count >= MAX_OPEN_UPLOADS || bytes.saturating_add(size) > MAX_OPEN_UPLOAD_BYTES {
-            return Err(IntakeError::Limit(format!(
-                "the server holds {count} open uploads ({bytes} bytes); try again later"
-            )));
-        }
-        if for_bundle >= MAX_OPEN_UPLOADS_PER_BUNDLE {
-            return Err(IntakeError::Limit(format!(
-                "bundle {bundle_id} already has {for_bundle} open uploads; finish them first"
-            )));
-        }
+        check_budgets(db, sender, bundle_id, size)?;
         crate::platform::durable::write_durably(&upload_path(data_dir, &upload.id), |_| Ok(()))?;
     }
     db.write_bookkeeping(|tx| {
@@ -160,29 +221,119 @@ pub fn create(
     Ok(Created { upload, new: true })
 }
 
-/// The upload `id`.
-pub fn get(db: &Db, id: &str) -> Result<UploadRecord, IntakeError> {
-    if !is_upload_id(id) {
-        return Err(IntakeError::NotFound(format!("no upload {id}")));
+/// Bundle `bundle_id`, when `sender` may send a return for it.
+fn bundle_for(db: &Db, sender: &Sender, bundle_id: &str) -> Result<BundleRecord, IntakeError> {
+    let bundle = db
+        .read(|r| r.bundle(bundle_id))?
+        .ok_or_else(|| IntakeError::NotFound(format!("no bundle {bundle_id}")))?;
+    if !sender.may_see(&bundle.team) {
+        return Err(IntakeError::Refused(format!(
+            "bundle {bundle_id} is not issued to your team"
+        )));
     }
-    db.read(|r| r.upload(id))?
-        .ok_or_else(|| IntakeError::NotFound(format!("no upload {id}")))
+    if bundle.cancelled_at.is_some() {
+        return Err(IntakeError::Refused(format!(
+            "bundle {bundle_id} was cancelled: its upload key is revoked"
+        )));
+    }
+    Ok(bundle)
+}
+
+/// Refuses a new upload of `size` bytes that would pass the server's, the
+/// sender's or the bundle's open-upload budget.
+fn check_budgets(db: &Db, sender: &Sender, bundle_id: &str, size: u64) -> Result<(), IntakeError> {
+    let open = db.read(|r| r.open_uploads(bundle_id, &sender.owner_key()))?;
+    if open.for_owner >= MAX_OPEN_UPLOADS_PER_SENDER
+        || open.owner_bytes.saturating_add(size) > MAX_OPEN_BYTES_PER_SENDER
+    {
+        return Err(IntakeError::Limit(format!(
+            "you hold {} open uploads ({} bytes declared; at most {MAX_OPEN_UPLOADS_PER_SENDER} and {MAX_OPEN_BYTES_PER_SENDER}); finish or end (DELETE) one first",
+            open.for_owner, open.owner_bytes
+        )));
+    }
+    if open.for_bundle >= MAX_OPEN_UPLOADS_PER_BUNDLE {
+        return Err(IntakeError::Limit(format!(
+            "bundle {bundle_id} already has {} open uploads; finish or end one first",
+            open.for_bundle
+        )));
+    }
+    if open.count >= MAX_OPEN_UPLOADS || open.bytes.saturating_add(size) > MAX_OPEN_UPLOAD_BYTES {
+        return Err(IntakeError::Limit(format!(
+            "the server holds {} open uploads ({} bytes); try again later",
+            open.count, open.bytes
+        )));
+    }
+    Ok(())
+}
+
+/// Removes open uploads untouched for [`UPLOAD_IDLE_HOURS`] and their data;
+/// how many. The caller holds the intake lock.
+pub(crate) fn expire_idle(db: &Db, data_dir: &Path) -> Result<usize, IntakeError> {
+    let cutoff = chrono::Utc::now() - chrono::Duration::hours(UPLOAD_IDLE_HOURS);
+    let expired = db.write_bookkeeping(|tx| tx.expire_uploads(&cutoff.to_rfc3339()))?;
+    for id in &expired {
+        remove_part(data_dir, id)?;
+    }
+    Ok(expired.len())
+}
+
+fn remove_part(data_dir: &Path, id: &str) -> Result<(), IntakeError> {
+    let part = upload_path(data_dir, id);
+    match std::fs::remove_file(&part) {
+        Ok(()) => Ok(()),
+        Err(e) if e.kind() == std::io::ErrorKind::NotFound => Ok(()),
+        Err(e) => Err(crate::Error::io(format!("removing {}", part.display()), e)),
+    }
+}
+
+/// The upload `id`, when `sender` may reach it (otherwise, as for an
+/// upload that does not exist, `NotFound`).
+pub fn get(db: &Db, sender: &Sender, id: &str) -> Result<UploadRecord, IntakeError> {
+    let missing = || IntakeError::NotFound(format!("no upload {id}"));
+    if !is_upload_id(id) {
+        return Err(missing());
+    }
+    let u = db.read(|r| r.upload(id))?.ok_or_else(missing)?;
+    if let Sender::Team(_) = sender {
+        let team = db.read(|r| r.bundle(&u.bundle_id))?.map(|b| b.team);
+        if !team.is_some_and(|t| sender.may_see(&t)) {
+            return Err(missing());
+        }
+    }
+    Ok(u)
+}
+
+/// Ends upload `id` (the client gave up on it): an open upload and its data
+/// are removed; a finished one cannot be ended (`Conflict`).
+pub fn end(db: &Db, data_dir: &Path, sender: &Sender, id: &str) -> Result<(), IntakeError> {
+    let u = get(db, sender, id)?;
+    let Some(_append) = AppendGuard::take(id) else {
+        return Err(IntakeError::Busy { offset: u.offset });
+    };
+    let _guard = intake_lock();
+    if !db.write_bookkeeping(|tx| tx.delete_open_upload(id))? {
+        return Err(IntakeError::Conflict(format!(
+            "upload {id} is finished; there is nothing to end"
+        )));
+    }
+    remove_part(data_dir, id)
 }
 
 /// Appends `bytes` at `offset` to upload `id`; returns the new offset.
 pub fn append(
     db: &Db,
     data_dir: &Path,
+    sender: &Sender,
     id: &str,
     offset: u64,
     bytes: &[u8],
 ) -> Result<u64, IntakeError> {
-    let u = get(db, id)?;
+    let u = get(db, sender, id)?;
     let Some(_guard) = AppendGuard::take(id) else {
         return Err(IntakeError::Busy { offset: u.offset });
     };
     // Read again under the guard: another append may just have finished.
-    let u = get(db, id)?;
+    let u = get(db, sender, id)?;
     if u.state != "open" {
         return if offset == u.size && bytes.is_empty() {
             Ok(u.size)
@@ -265,9 +416,10 @@ pub fn complete(
     db: &Db,
     data_dir: &Path,
     options: &IntakeOptions,
+    sender: &Sender,
     id: &str,
 ) -> Result<ReturnDocument, IntakeError> {
-    let u = get(db, id)?;
+    let u = get(db, sender, id)?;
     match u.state.as_str() {
         "done" => {
             let rid = u
@@ -321,6 +473,30 @@ pub fn complete(
         u.size,
         Some(&u),
     )
+}
+
+/// The results of a return, looked up by its receipt (32 hex digits) or,
+/// for coordinators and admins only, by its number. A team reaches only
+/// its own team's returns; anything else is `NotFound`, as for a return
+/// that does not exist.
+pub fn return_for(db: &Db, sender: &Sender, key: &str) -> Result<ReturnDocument, IntakeError> {
+    let missing = || IntakeError::NotFound(format!("no return {key}"));
+    let id = if is_upload_id(key) {
+        db.read(|r| r.return_by_receipt(key))?
+    } else if let (Sender::Office(_), Ok(n)) = (sender, key.parse::<i64>()) {
+        Some(n)
+    } else {
+        None
+    };
+    let ret = match id {
+        Some(id) => db.read(|r| r.return_by_id(id))?,
+        None => None,
+    }
+    .ok_or_else(missing)?;
+    if !sender.may_see(&ret.team) {
+        return Err(missing());
+    }
+    return_document(db, ret.id)
 }
 
 /// Folder of upload data (for the clean-up and tests).
@@ -407,4 +583,70 @@ pub fn take_in_whole(
 ) -> Result<ReturnDocument, IntakeError> {
     let (path, sha, size) = file.finish(data_dir)?;
     take_in(db, data_dir, options, &path, &sha, size, None)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn open_upload(db: &Db, data_dir: &Path, id: &str, idle_hours: i64) {
+        let now = chrono::Utc::now();
+        let u = UploadRecord {
+            id: id.to_string(),
+            bundle_id: uuid::Uuid::new_v4().to_string(),
+            sha256: "ab".repeat(32),
+            size: 10,
+            offset: 0,
+            state: "open".into(),
+            return_id: None,
+            error: None,
+            error_status: None,
+            created_at: now.to_rfc3339(),
+            owner: Some("team:Team Amber".into()),
+        };
+        let at = (now - chrono::Duration::hours(idle_hours)).to_rfc3339();
+        db.write_bookkeeping(|tx| {
+            tx.insert_upload(&u)?;
+            tx.touch_upload_at(id, &at)
+        })
+        .unwrap();
+        crate::platform::durable::write_durably(&upload_path(data_dir, id), |_| Ok(())).unwrap();
+    }
+
+    // Issue 12 item 1: idle uploads held the budget for 7 days. An upload
+    // untouched for 13 hours goes (row and data), one of 11 hours stays.
+    #[test]
+    fn uploads_idle_for_twelve_hours_are_removed() {
+        let dir = tempfile::tempdir().unwrap();
+        let db = Db::open(dir.path()).unwrap();
+        let (old, recent) = ("a".repeat(32), "b".repeat(32));
+        open_upload(&db, dir.path(), &old, 13);
+        open_upload(&db, dir.path(), &recent, 11);
+        assert_eq!(expire_idle(&db, dir.path()).unwrap(), 1);
+        assert!(db.read(|r| r.upload(&old)).unwrap().is_none());
+        assert!(!upload_path(dir.path(), &old).exists());
+        assert!(db.read(|r| r.upload(&recent)).unwrap().is_some());
+        assert!(upload_path(dir.path(), &recent).exists());
+    }
+
+    #[test]
+    fn a_bundle_returns_at_most_a_plausible_size() {
+        let max = 1 << 30;
+        assert_eq!(plausible_size(0, max), 256 << 20);
+        assert_eq!(plausible_size(2, max), 512 << 20);
+        assert_eq!(plausible_size(6, max), 1 << 30);
+        assert_eq!(plausible_size(300, max), 1 << 30);
+        assert_eq!(plausible_size(usize::MAX, max), 1 << 30);
+    }
+
+    #[test]
+    fn a_team_sees_only_its_own_uploads_and_returns() {
+        let amber = Sender::Team("Team Amber".into());
+        assert!(amber.may_see("Team Amber"));
+        assert!(!amber.may_see("Team Basalt"));
+        let office = Sender::Office("user:1".into());
+        assert!(office.may_see("Team Basalt"));
+        assert_eq!(amber.owner_key(), "team:Team Amber");
+        assert_eq!(office.owner_key(), "user:1");
+    }
 }

@@ -60,8 +60,11 @@ fn guarded(route: Route, rule: Rule) -> Route {
     route.wrap(from_fn(move |req, next| check(rule, req, next)))
 }
 
-/// Whether `principal` may do `action`; bundle fetching is also open to
-/// users who may issue bundles (they download what they issued).
+/// Whether `principal` may do `action`; the bundle routes of
+/// `FetchOwnBundle` are also open to users who may issue bundles or see
+/// events (the list and a bundle's record; the file itself, which holds the
+/// upload key, is refused to managers by [`auth::may_fetch_bundle`] in the
+/// handler).
 pub fn permits(principal: Principal, action: Action) -> bool {
     auth::allowed(principal, action)
         || (action == Action::FetchOwnBundle && auth::allowed(principal, Action::IssueBundle))
@@ -386,7 +389,7 @@ mod tests {
         ("POST", "/api/v1/teams", Some(Action::ManageTeams)),
         ("GET", "/api/v1/bundles", Some(Action::FetchOwnBundle)),
         ("POST", "/api/v1/bundles", Some(Action::IssueBundle)),
-        ("GET", "/api/v1/bundles/x", Some(Action::ViewEvents)),
+        ("GET", "/api/v1/bundles/x", Some(Action::FetchOwnBundle)),
         (
             "GET",
             "/api/v1/bundles/x/download",
@@ -400,6 +403,7 @@ mod tests {
         ("POST", "/api/v1/uploads", Some(Action::UploadReturn)),
         ("HEAD", "/api/v1/uploads/u1", Some(Action::UploadReturn)),
         ("PATCH", "/api/v1/uploads/u1", Some(Action::UploadReturn)),
+        ("DELETE", "/api/v1/uploads/u1", Some(Action::UploadReturn)),
         (
             "POST",
             "/api/v1/uploads/u1/complete",

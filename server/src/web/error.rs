@@ -88,6 +88,59 @@ impl ResponseError for ApiError {
     }
 }
 
+/// A JSON body that cannot be read: over its bound (413) or not the
+/// expected JSON (400), as the documented JSON error.
+pub fn json_body_error(
+    err: actix_web::error::JsonPayloadError,
+    _req: &actix_web::HttpRequest,
+) -> actix_web::Error {
+    use actix_web::error::JsonPayloadError as J;
+    let e = match &err {
+        J::Overflow { .. } | J::OverflowKnownLength { .. } => Error::TooLarge(err.to_string()),
+        J::Payload(actix_web::error::PayloadError::Overflow) => Error::TooLarge(err.to_string()),
+        _ => Error::Invalid(format!("bad JSON body: {err}")),
+    };
+    ApiError(e).into()
+}
+
+/// The JSON API's answer to a client error that actix made itself (a body
+/// over its bound, an unknown method): `{"error": …}` with the same status,
+/// rather than actix's `text/plain`. JSON answers pass unchanged.
+pub fn json_api_errors<B>(
+    res: actix_web::dev::ServiceResponse<B>,
+) -> actix_web::Result<actix_web::middleware::ErrorHandlerResponse<B>> {
+    use actix_web::middleware::ErrorHandlerResponse;
+    let is_json = res
+        .headers()
+        .get(actix_web::http::header::CONTENT_TYPE)
+        .and_then(|v| v.to_str().ok())
+        .is_some_and(|c| c.starts_with("application/json"));
+    if is_json {
+        return Ok(ErrorHandlerResponse::Response(res.map_into_left_body()));
+    }
+    let status = res.status();
+    let message = match res.response().error() {
+        Some(e) => e.to_string(),
+        None => status
+            .canonical_reason()
+            .unwrap_or("refused")
+            .to_lowercase(),
+    };
+    let (req, old) = res.into_parts();
+    let mut b = HttpResponse::build(status);
+    for (name, value) in old.headers() {
+        if name != actix_web::http::header::CONTENT_TYPE
+            && name != actix_web::http::header::CONTENT_LENGTH
+        {
+            b.insert_header((name.clone(), value.clone()));
+        }
+    }
+    let resp = b.json(json!({ "error": message }));
+    Ok(ErrorHandlerResponse::Response(
+        actix_web::dev::ServiceResponse::new(req, resp).map_into_right_body(),
+    ))
+}
+
 /// A bad query string names the parameter.
 pub fn query_error(
     err: actix_web::error::QueryPayloadError,

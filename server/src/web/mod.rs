@@ -58,9 +58,20 @@ impl AppState {
 pub fn configure(cfg: &mut web::ServiceConfig) {
     use access::Access;
     cfg.app_data(web::PayloadConfig::new(MAX_UPLOAD_BYTES))
-        .app_data(web::JsonConfig::default().limit(MAX_JSON_BYTES))
+        .app_data(
+            web::JsonConfig::default()
+                .limit(MAX_JSON_BYTES)
+                .error_handler(error::json_body_error),
+        )
         .app_data(web::QueryConfig::default().error_handler(error::query_error))
-        .service(web::scope("/api/v1").configure(api::configure))
+        .service(
+            web::scope("/api/v1")
+                .wrap(
+                    actix_web::middleware::ErrorHandlers::new()
+                        .default_handler_client(error::json_api_errors),
+                )
+                .configure(api::configure),
+        )
         .route("/healthz", web::get().to(api::health).public())
         .route("/login", web::get().to(login::form).public())
         .route("/login", web::post().to(login::submit).public())

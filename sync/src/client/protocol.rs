@@ -1,7 +1,11 @@
 //! The HTTP exchanges of a resumable push (RETURN-SPEC "Resumable push"):
 //! `POST /api/v1/uploads`, `HEAD` and `PATCH /api/v1/uploads/{id}`,
-//! `POST /api/v1/uploads/{id}/complete`. Server answers are bounded: JSON
-//! bodies are read up to 1 MiB.
+//! `POST /api/v1/uploads/{id}/complete`, and `DELETE /api/v1/uploads/{id}`
+//! when the server refuses the bytes themselves (the upload cannot go on, so
+//! it is ended rather than left to hold the team's open-upload budget until
+//! the server's idle expiry). A push that gives up because the link keeps
+//! failing keeps its upload, to resume it next time. Server answers are
+//! bounded: JSON bodies are read up to 1 MiB.
 
 use std::fs::File;
 use std::io::{Read, Seek, SeekFrom};
@@ -249,6 +253,16 @@ impl Session {
         }
     }
 
+    /// Ends upload `id`, once and without retrying; a failure is ignored
+    /// (the server expires idle uploads anyway).
+    fn end(&mut self, id: &str) {
+        let mut req = self.agent.delete(self.url(id));
+        if let Some(a) = self.auth() {
+            req = req.header("Authorization", a);
+        }
+        let _ = req.call();
+    }
+
     fn complete(&mut self, id: &str) -> Result<CompleteResponse, Failure> {
         let mut req = self.agent.post(format!("{}/complete", self.url(id)));
         if let Some(a) = self.auth() {
@@ -302,7 +316,10 @@ impl Session {
                     )));
                 }
                 Ok(new) => offset = new,
-                Err(Failure::Fatal(e)) => return Err(e),
+                Err(Failure::Fatal(e)) => {
+                    self.end(&id);
+                    return Err(e);
+                }
                 Err(Failure::Retry(msg)) => match self.backoff.fail() {
                     Some(wait) => {
                         std::thread::sleep(wait);

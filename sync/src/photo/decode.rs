@@ -49,16 +49,25 @@ pub struct PhotoLimits {
     pub max_alloc_bytes: u64,
 }
 
+/// Default decoder memory per photo: 96 MiB (our choice). A sequential
+/// JPEG of any accepted size needs far less (its 1/8-scale planes: 9 MB at
+/// 12000 x 8000); a progressive one keeps every DCT coefficient, 2 bytes
+/// per sample, so this admits progressive photos up to about 33 MP at 4:2:0
+/// or 16 MP at 4:4:4 and refuses larger ones before decoding. The `image`
+/// crate's 512 MiB default (reliability notes §1.3) let one progressive
+/// 12000 x 8333 photo take about 330 MiB of the server.
+pub const DEFAULT_MAX_DECODER_BYTES: u64 = 96 << 20;
+
 impl Default for PhotoLimits {
     /// 12000 x 12000 and 100 megapixels (project choice; zenjpeg used 100 MP
-    /// before raising it to 120 MP, reliability notes §1.3) and 512 MiB of
-    /// decoder memory (the `image` crate's default `max_alloc`, same notes).
+    /// before raising it to 120 MP, reliability notes §1.3) and
+    /// [`DEFAULT_MAX_DECODER_BYTES`] of decoder memory.
     fn default() -> Self {
         PhotoLimits {
             max_width: 12_000,
             max_height: 12_000,
             max_pixels: 100_000_000,
-            max_alloc_bytes: 512 * 1024 * 1024,
+            max_alloc_bytes: DEFAULT_MAX_DECODER_BYTES,
         }
     }
 }
@@ -68,10 +77,16 @@ impl Default for PhotoLimits {
 pub struct PhotoCheck {
     /// SHA-256 of the original bytes, lower-case hex.
     pub sha256: String,
-    /// Frame width from the SOF header, pixels.
+    /// Width the image data covers, pixels: the SOF header's, unless the
+    /// data ran out before the frame was full (see `data_matches_header`).
     pub width: u32,
-    /// Frame height from the SOF header, pixels.
+    /// Height the image data covers, pixels (likewise).
     pub height: u32,
+    /// The entropy-coded data fills the frame the SOF header declares.
+    /// When not, `width` x `height` is what it covers: exact for the
+    /// 1/8-scale path; otherwise an upper bound from the data's size (every
+    /// block needs at least one bit).
+    pub data_matches_header: bool,
     /// Time, position and direction from EXIF (fields `None` when absent).
     pub meta: PhotoMeta,
     /// Thumbnail, longest side [`THUMBNAIL_MAX_SIDE`] (never enlarged),
@@ -85,17 +100,35 @@ pub fn inspect_jpeg(bytes: &[u8], limits: &PhotoLimits) -> Result<PhotoCheck, Ph
     let header = read_jpeg_header(bytes)?;
     check_limits(&header, limits)?;
     let (tw, th) = thumbnail_size(header.width, header.height);
-    let thumbnail_jpeg = guarded(|| thumbnail(bytes, &header, tw, th, limits))?;
+    let (thumbnail_jpeg, covered) = guarded(|| thumbnail(bytes, &header, tw, th, limits))?;
+    let covered = covered.or_else(|| covered_by_size(bytes.len(), &header));
     let sha256 = hex::encode(Sha256::digest(bytes));
     // EXIF never fails a JPEG that got this far (exif.rs refuses only non-JPEG).
     let meta = read_photo_meta(bytes).unwrap_or_default();
+    let (width, height) = covered.unwrap_or((header.width, header.height));
     Ok(PhotoCheck {
         sha256,
-        width: header.width,
-        height: header.height,
+        width,
+        height,
+        data_matches_header: covered.is_none(),
         meta,
         thumbnail_jpeg,
     })
+}
+
+/// `None` when a file of `len` bytes can fill the frame of `header`; else
+/// the most of it that it can cover: whole rows, at least one bit per block.
+fn covered_by_size(len: usize, header: &JpegHeader) -> Covered {
+    let blocks = header.block_count();
+    let bits = (len as u64).saturating_mul(8);
+    if bits >= blocks {
+        return None;
+    }
+    let h = u64::from(header.height) * bits / blocks.max(1);
+    Some((
+        header.width,
+        u32::try_from(h).unwrap_or(header.height).max(1),
+    ))
 }
 
 /// Refuses a frame whose declared size or decoder memory exceeds `limits`.
@@ -163,13 +196,18 @@ fn decode_buffer_bytes(header: &JpegHeader, sw: u32, sh: u32) -> u64 {
     2 * n * per_sample * u64::from(sw) * u64::from(sh)
 }
 
+/// Width and height the image data covered, when it did not fill the frame.
+type Covered = Option<(u32, u32)>;
+
+/// The thumbnail, and what the data covered when it did not fill the
+/// frame (known exactly on the 1/8-scale path only).
 fn thumbnail(
     bytes: &[u8],
     header: &JpegHeader,
     tw: u32,
     th: u32,
     limits: &PhotoLimits,
-) -> Result<Vec<u8>, PhotoError> {
+) -> Result<(Vec<u8>, Covered), PhotoError> {
     if dct_scale(header.width, header.height, tw, th) == 1
         && let Some(e) = decode_eighth(bytes, header.width, header.height)?
     {
@@ -178,7 +216,7 @@ fn thumbnail(
         }
         let rgb = RgbImage::from_raw(e.width, e.height, e.rgb)
             .ok_or_else(|| PhotoError::Decode("1/8-scale buffer size".into()))?;
-        return encode_thumbnail(rgb, tw, th);
+        return Ok((encode_thumbnail(rgb, tw, th)?, e.covered));
     }
     let mut dec = Decoder::new(bytes);
     dec.set_max_decoding_buffer_size(usize::try_from(limits.max_alloc_bytes).unwrap_or(usize::MAX));
@@ -196,7 +234,7 @@ fn thumbnail(
         return Err(PhotoError::Decode(format!("decoder returned {sw}x{sh}")));
     }
     let rgb = to_rgb(pixels, info.pixel_format, sw, sh)?;
-    encode_thumbnail(rgb, tw, th)
+    Ok((encode_thumbnail(rgb, tw, th)?, None))
 }
 
 /// Resizes a decoded (scaled) image to the thumbnail size and encodes it.
@@ -327,17 +365,90 @@ mod tests {
     #[test]
     fn progressive_memory_estimate_is_enforced() {
         // 10000 x 10000 progressive 4:2:0 keeps 10000^2 * 1.5 * 2 bytes
-        // (about 300 MB) of coefficients: fine at 512 MiB, refused at 256 MiB.
+        // (about 300 MB) of coefficients: refused by default (96 MiB),
+        // admitted only with a limit that large.
         let h = read_jpeg_header(&crafted_sof(0xC2, 10_000, 10_000)).expect("header");
-        assert!(check_limits(&h, &PhotoLimits::default()).is_ok());
-        let tight = PhotoLimits {
-            max_alloc_bytes: 256 << 20,
-            ..PhotoLimits::default()
-        };
         assert!(matches!(
-            check_limits(&h, &tight),
+            check_limits(&h, &PhotoLimits::default()),
             Err(PhotoError::TooMuchMemory { .. })
         ));
+        let roomy = PhotoLimits {
+            max_alloc_bytes: 512 << 20,
+            ..PhotoLimits::default()
+        };
+        assert!(check_limits(&h, &roomy).is_ok());
+    }
+
+    // Issue 12 item 4: one progressive 12000 x 8333 photo took about 330 MiB
+    // of the server. Failed before the fix (the default admitted 512 MiB).
+    #[test]
+    fn decoder_memory_is_bounded_for_every_layout() {
+        let limits = PhotoLimits::default();
+        let need = |marker: u8, w: u16, h: u16, sampling: u8| {
+            let mut b = crafted_sof(marker, w, h);
+            // The luma sampling byte of the crafted SOF (after SOI, the
+            // filler segment, FF FF, the marker, length, precision, sizes,
+            // component count and luma id).
+            b[20] = sampling;
+            let hd = read_jpeg_header(&b).expect("header");
+            (check_limits(&hd, &limits), hd)
+        };
+        // The issue's photo: progressive 4:2:0 at 12000 x 8333.
+        let (r, _) = need(0xC2, 12_000, 8_333, 0x22);
+        assert!(matches!(r, Err(PhotoError::TooMuchMemory { .. })), "{r:?}");
+        // Every layout that is admitted stays within the bound: baseline
+        // and progressive, 4:4:4 (0x11), 4:2:2 (0x21), 4:2:0 (0x22), 4:1:1 (0x41).
+        for marker in [0xC0, 0xC1, 0xC2] {
+            for sampling in [0x11, 0x21, 0x22, 0x41] {
+                for (w, h) in [(4000, 3000), (6000, 4000), (12_000, 8_000), (12_000, 8_333)] {
+                    let (r, hd) = need(marker, w, h, sampling);
+                    let (tw, th) = thumbnail_size(hd.width, hd.height);
+                    let (sw, sh) = scaled_size(hd.width, hd.height, tw, th);
+                    let estimate = hd.coefficient_bytes() + decode_buffer_bytes(&hd, sw, sh);
+                    match r {
+                        Ok(()) => assert!(estimate <= DEFAULT_MAX_DECODER_BYTES),
+                        Err(PhotoError::TooMuchMemory { .. }) => {
+                            assert!(estimate > DEFAULT_MAX_DECODER_BYTES)
+                        }
+                        Err(e) => panic!("{marker:x} {sampling:x} {w}x{h}: {e:?}"),
+                    }
+                }
+            }
+        }
+        // A 12 MP progressive 4:2:0 photo (36 MB of coefficients) is fine;
+        // so is any baseline photo within the pixel limits.
+        assert!(need(0xC2, 4000, 3000, 0x22).0.is_ok());
+        assert!(need(0xC0, 12_000, 8_333, 0x11).0.is_ok());
+    }
+
+    // Issue 12 item 5: a JPEG whose header claims far more than its data
+    // holds. Failed before the fix: the claimed size was returned.
+    #[test]
+    fn data_short_of_the_header_is_reported_with_what_it_covers() {
+        // 1/8-scale path: a 320 x 240 photo whose SOF says 12000 x 8000.
+        let mut b = small_jpeg(320, 240);
+        let i = b.windows(2).position(|w| w == [0xFF, 0xC0]).expect("sof");
+        b[i + 5..i + 9].copy_from_slice(&[0x1F, 0x40, 0x2E, 0xE0]);
+        let c = inspect_jpeg(&b, &PhotoLimits::default()).expect("inspect");
+        assert!(!c.data_matches_header);
+        // The data holds 40 x 30 = 1200 MCUs of 8 x 8 (the image crate's
+        // encoder writes 4:4:4): less than one 1500-MCU row of the claimed
+        // frame, so 9600 x 8 pixels.
+        assert_eq!((c.width, c.height), (9600, 8));
+        // jpeg-decoder path (1/4 scale): 64 x 48 claiming 2000 x 1500.
+        let mut b = small_jpeg(64, 48);
+        let i = b.windows(2).position(|w| w == [0xFF, 0xC0]).expect("sof");
+        b[i + 5..i + 9].copy_from_slice(&[0x05, 0xDC, 0x07, 0xD0]);
+        let c = inspect_jpeg(&b, &PhotoLimits::default()).expect("inspect");
+        assert!(!c.data_matches_header);
+        assert_eq!(c.width, 2000);
+        assert!(c.height < 1500, "{}", c.height);
+        // Sound photos on both paths.
+        for (w, h) in [(64, 48), (2600, 1950)] {
+            let c = inspect_jpeg(&small_jpeg(w, h), &PhotoLimits::default()).expect("inspect");
+            assert!(c.data_matches_header, "{w}x{h}");
+            assert_eq!((c.width, c.height), (w, h));
+        }
     }
 
     #[test]

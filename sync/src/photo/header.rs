@@ -47,13 +47,21 @@ impl JpegHeader {
         if self.process != JpegProcess::Progressive {
             return 0;
         }
+        self.block_count() * 64 * 2
+    }
+
+    /// 8x8 blocks of the frame over all components, padded to whole MCUs
+    /// (T.81 A.2.4). Each block costs at least one bit of entropy-coded
+    /// data (every Huffman code is at least one bit long, T.81 C), so a
+    /// file of fewer than `block_count() / 8` bytes cannot fill its frame.
+    pub fn block_count(&self) -> u64 {
         let hmax = u64::from(self.sampling.iter().map(|s| s.0).max().unwrap_or(1).max(1));
         let vmax = u64::from(self.sampling.iter().map(|s| s.1).max().unwrap_or(1).max(1));
         let mcu_x = u64::from(self.width).div_ceil(8 * hmax);
         let mcu_y = u64::from(self.height).div_ceil(8 * vmax);
         self.sampling
             .iter()
-            .map(|&(h, v)| mcu_x * u64::from(h) * mcu_y * u64::from(v) * 64 * 2)
+            .map(|&(h, v)| mcu_x * u64::from(h) * mcu_y * u64::from(v))
             .sum()
     }
 }

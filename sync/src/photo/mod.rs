@@ -17,8 +17,8 @@ mod header;
 mod reference_tests;
 
 pub use decode::{
-    PhotoCheck, PhotoLimits, THUMBNAIL_MAX_SIDE, THUMBNAIL_QUALITY, check_limits, inspect_jpeg,
-    thumbnail_size,
+    DEFAULT_MAX_DECODER_BYTES, PhotoCheck, PhotoLimits, THUMBNAIL_MAX_SIDE, THUMBNAIL_QUALITY,
+    check_limits, inspect_jpeg, thumbnail_size,
 };
 pub use error::PhotoError;
 pub use exif::{PhotoMeta, read_photo_meta};

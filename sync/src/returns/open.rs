@@ -275,7 +275,10 @@ fn take_reports(
     limits: &ReturnLimits,
 ) -> Result<TakenReports, SyncError> {
     let bad_manifest = |r: String| SyncError::invalid_entry(RETURN_MANIFEST, r);
-    let items: Vec<serde_json::Value> = serde_json::from_slice(reports_bytes)
+    // Each item is kept as its raw text first: a value serde_json cannot
+    // hold (a number like 1e400 is out of range for f64) then spoils only
+    // its own report, not the whole package (DESIGN invariant 4).
+    let items: Vec<&serde_json::value::RawValue> = serde_json::from_slice(reports_bytes)
         .map_err(|e| SyncError::invalid_entry(REPORTS, format!("not a JSON array: {e}")))?;
     if items.len() > limits.max_reports {
         return Err(SyncError::invalid_entry(
@@ -299,12 +302,8 @@ fn take_reports(
     let mut rejected = Vec::new();
     let mut seen = BTreeSet::new();
     let mut index_of = BTreeMap::new();
-    for (index, item) in items.into_iter().enumerate() {
-        let report_id = item
-            .get("report_id")
-            .and_then(serde_json::Value::as_str)
-            .and_then(|s| Uuid::parse_str(s).ok());
-        let verdict = serde_json::from_value::<Report>(item)
+    for (index, raw) in items.into_iter().enumerate() {
+        let verdict = serde_json::from_str::<Report>(raw.get())
             .map_err(|e| format!("not a valid report: {e}"))
             .and_then(|r| {
                 check_one(&r, manifest, &photos, &seen)?;
@@ -318,12 +317,26 @@ fn take_reports(
             }
             Err(reason) => rejected.push(RejectedReport {
                 index,
-                report_id,
+                report_id: report_id_of(raw.get()),
                 reason,
             }),
         }
     }
     Ok((reports, rejected, index_of))
+}
+
+/// The `report_id` of a report item that could not be read as a whole
+/// (the other fields are skipped unread, so a bad value elsewhere does not
+/// hide the id).
+fn report_id_of(item: &str) -> Option<Uuid> {
+    #[derive(serde::Deserialize)]
+    struct IdOnly {
+        report_id: Option<String>,
+    }
+    serde_json::from_str::<IdOnly>(item)
+        .ok()?
+        .report_id
+        .and_then(|s| Uuid::parse_str(&s).ok())
 }
 
 /// The accepted reports, the rejected ones, and each accepted report's position.

@@ -11,7 +11,7 @@
 
 use super::csrf::{csrf_token, new_csrf_secret, verify_csrf};
 use super::password::{hash_password, needs_rehash, verify_dummy, verify_password};
-use super::ratelimit::{Lockout, LockoutPolicy, lockout};
+use super::ratelimit::{Lockout, LoginThrottle};
 use super::session::{SessionPolicy, SessionState, needs_touch, session_state};
 use super::tokens::{
     is_api_token, is_session_token, is_team_token, new_api_token, new_session_token,
@@ -36,7 +36,7 @@ const MAX_LABEL_CHARS: usize = 100;
 #[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
 pub struct AuthConfig {
     pub session: SessionPolicy,
-    pub lockout: LockoutPolicy,
+    pub lockout: LoginThrottle,
 }
 
 /// One login form submission.
@@ -165,14 +165,10 @@ pub fn login(db: &Db, req: &LoginRequest<'_>, now: i64, cfg: &AuthConfig) -> Res
     // Throttle check and the attempt record, in one transaction.
     let started = db.write_bookkeeping(|tx| {
         let r = tx.reader();
+        let by_pair = r.login_attempts_for_user_from(&key, &client, since)?;
         let by_name = r.login_attempts_for_user(&key, since)?;
         let by_client = r.login_attempts_for_client(&client, since)?;
-        let lock = lockout(&by_name, true, now, &cfg.lockout).or(lockout(
-            &by_client,
-            false,
-            now,
-            &cfg.lockout,
-        ));
+        let lock = cfg.lockout.decide(&by_pair, &by_name, &by_client, now);
         if let Lockout::LockedUntil(until) = lock {
             return Ok(Err(until));
         }
@@ -604,27 +600,45 @@ mod tests {
     fn one_client_guessing_many_names_is_locked() {
         let (_d, db, _u) = setup();
         let cfg = AuthConfig::default();
-        for (i, name) in ["bo", "cy", "di", "ed", "fa"].iter().enumerate() {
-            let o = login(
-                &db,
-                &req(name, "wrong password!", None),
-                T0 + i as i64,
-                &cfg,
-            )
-            .unwrap();
+        // 30 failures over 30 names from one address (the per-address bound).
+        for i in 0..30 {
+            let name = format!("guess{i}");
+            let o = login(&db, &req(&name, "wrong password!", None), T0 + i, &cfg).unwrap();
             assert_eq!(o, LoginOutcome::BadCredentials);
         }
-        let o = login(&db, &req("ana", PW, None), T0 + 10, &cfg).unwrap();
+        let o = login(&db, &req("ana", PW, None), T0 + 40, &cfg).unwrap();
         assert!(matches!(o, LoginOutcome::Locked { .. }), "{o:?}");
         // Another client may still log in as ana.
         let other = LoginRequest {
             client: "198.51.100.3",
             ..req("ana", PW, None)
         };
-        logged_in(login(&db, &other, T0 + 10, &cfg).unwrap());
-        let (_, pruned) = prune(&db, T0 + 11 + 1800, &cfg).unwrap();
-        // Lookback 1800 s: at T0 + 1811 all six attempts (T0..T0 + 10) are old.
-        assert_eq!(pruned, 6);
+        logged_in(login(&db, &other, T0 + 40, &cfg).unwrap());
+        let (_, pruned) = prune(&db, T0 + 41 + 4500, &cfg).unwrap();
+        // Lookback 4500 s (the per-name hour and its lock): at T0 + 4541
+        // all 31 attempts (T0..T0 + 40) are old.
+        assert_eq!(pruned, 31);
+    }
+
+    #[test]
+    fn a_guesser_behind_a_shared_address_does_not_lock_out_the_others_there() {
+        let (_d, db, _u) = setup();
+        let cfg = AuthConfig::default();
+        create_user(&db, "bo", Role::Coordinator, PW, T0).unwrap();
+        // Five wrong guesses for bo from the NAT's address lock bo there...
+        for i in 0..5 {
+            let o = login(&db, &req("bo", "wrong password!", None), T0 + i, &cfg).unwrap();
+            assert_eq!(o, LoginOutcome::BadCredentials);
+        }
+        let o = login(&db, &req("bo", PW, None), T0 + 10, &cfg).unwrap();
+        assert!(matches!(o, LoginOutcome::Locked { .. }), "{o:?}");
+        // ...but ana behind the same address logs in, and bo elsewhere too.
+        logged_in(login(&db, &req("ana", PW, None), T0 + 11, &cfg).unwrap());
+        let away = LoginRequest {
+            client: "198.51.100.3",
+            ..req("bo", PW, None)
+        };
+        logged_in(login(&db, &away, T0 + 12, &cfg).unwrap());
     }
 
     #[test]

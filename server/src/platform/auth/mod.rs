@@ -32,7 +32,7 @@ pub use password::{
     ARGON2_M_KIB, ARGON2_P, ARGON2_T, MAX_PASSWORD_CHARS, MIN_PASSWORD_CHARS,
     check_password_policy, generate_password, hash_password, needs_rehash, verify_password,
 };
-pub use ratelimit::{Attempt, Lockout, LockoutPolicy, lockout};
+pub use ratelimit::{Attempt, Lockout, LockoutPolicy, LoginThrottle, lockout};
 pub use session::{
     SESSION_COOKIE, SessionPolicy, SessionState, TOUCH_INTERVAL_SECS, clear_session_cookie,
     needs_touch, session_cookie, session_state, session_token_from_cookie_header,

@@ -1,10 +1,19 @@
 //! Login throttling: a pure decision from the stored attempt times.
 //!
-//! Policy (defaults): 5 failed logins within 15 minutes lock further tries
-//! for 15 minutes after the fifth failure. It is counted twice, once per
-//! user name and once per client address; either lock refuses the login.
-//! A successful login clears the per-name count (the owner proved the
-//! password) but not the per-client count (one working account must not
+//! Policy (defaults, [`LoginThrottle`]), three counts; any lock refuses:
+//! - per (user name, client address): 5 failed logins within 15 minutes
+//!   lock that name from that address for 15 minutes after the fifth. So a
+//!   guesser behind a NAT or proxy does not shut out the others there, nor
+//!   a guesser elsewhere the account's owner.
+//! - per user name over all addresses (the global bound of one account):
+//!   100 failures within an hour lock the name for 15 minutes, so guessing
+//!   spread over many addresses stays at about 100 tries an hour.
+//! - per client address over all names: 30 failures within 15 minutes lock
+//!   the address for 15 minutes (one address trying many names; a NAT of
+//!   people who mistype now and then stays well below).
+//!
+//! A successful login clears the counts of its name (the owner proved the
+//! password) but not the per-address count (one working account must not
 //! let a client go on guessing others).
 //!
 //! Source of the numbers: a project choice (common practice for web
@@ -15,6 +24,60 @@
 //! at 100 failures per hour. 5 per 15 min stays well inside both and bounds
 //! a guesser at about 20 tries an hour per account. Attempts refused while
 //! locked are not verified and not stored, so they do not extend the lock.
+
+/// The three throttling counts of a login (see the module text).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct LoginThrottle {
+    /// Per (name, address).
+    pub pair: LockoutPolicy,
+    /// Per name, over every address.
+    pub name: LockoutPolicy,
+    /// Per address, over every name.
+    pub client: LockoutPolicy,
+}
+
+impl Default for LoginThrottle {
+    fn default() -> Self {
+        LoginThrottle {
+            pair: LockoutPolicy::default(),
+            name: LockoutPolicy {
+                max_failures: 100,
+                window_secs: 60 * 60,
+                lockout_secs: 15 * 60,
+            },
+            client: LockoutPolicy {
+                max_failures: 30,
+                window_secs: 15 * 60,
+                lockout_secs: 15 * 60,
+            },
+        }
+    }
+}
+
+impl LoginThrottle {
+    /// How far back attempts can matter to any of the three counts.
+    pub fn lookback_secs(&self) -> i64 {
+        [self.pair, self.name, self.client]
+            .iter()
+            .map(LockoutPolicy::lookback_secs)
+            .max()
+            .unwrap_or(0)
+    }
+
+    /// The decision from the attempts of the (name, address) pair, of the
+    /// name and of the address.
+    pub fn decide(
+        &self,
+        pair: &[Attempt],
+        name: &[Attempt],
+        client: &[Attempt],
+        now: i64,
+    ) -> Lockout {
+        lockout(pair, true, now, &self.pair)
+            .or(lockout(name, true, now, &self.name))
+            .or(lockout(client, false, now, &self.client))
+    }
+}
 
 /// One stored login attempt (the row storage reads back).
 pub use crate::platform::storage::LoginAttempt as Attempt;
@@ -178,6 +241,32 @@ mod tests {
             lockout(&seen, false, T0 + 21, &p),
             Lockout::LockedUntil(T0 + 920)
         );
+    }
+
+    #[test]
+    fn one_address_guessing_one_name_does_not_lock_its_neighbours() {
+        let t = LoginThrottle::default();
+        let five: Vec<_> = (0..5).map(|i| fail(T0 + i)).collect();
+        // The pair is locked; the name over all addresses and the address
+        // over all names are not (5 is far below 100 and 30).
+        assert!(matches!(
+            t.decide(&five, &five, &five, T0 + 10),
+            Lockout::LockedUntil(_)
+        ));
+        assert_eq!(t.decide(&[], &five, &five, T0 + 10), Lockout::Open);
+        // 100 failures on one name within the hour, from many addresses.
+        let spread: Vec<_> = (0..100).map(|i| fail(T0 + 30 * i)).collect();
+        assert_eq!(
+            t.decide(&[], &spread, &[], T0 + 3000),
+            Lockout::LockedUntil(T0 + 30 * 99 + 900)
+        );
+        // 30 failures from one address over many names.
+        let many: Vec<_> = (0..30).map(|i| fail(T0 + i)).collect();
+        assert!(matches!(
+            t.decide(&[], &[], &many, T0 + 40),
+            Lockout::LockedUntil(_)
+        ));
+        assert_eq!(t.lookback_secs(), 4500);
     }
 
     #[test]

@@ -525,6 +525,29 @@ impl Reader<'_> {
         )
     }
 
+    /// Attempts for a user name from one client address at or after
+    /// `since`, oldest first.
+    pub fn login_attempts_for_user_from(
+        &self,
+        user_name: &str,
+        client: &str,
+        since: i64,
+    ) -> Result<Vec<LoginAttempt>> {
+        let mut st = self.conn.prepare(
+            "SELECT at, ok FROM login_attempts WHERE user_name = ?1 AND client = ?2 AND at >= ?3
+             ORDER BY at, id",
+        )?;
+        let v = st
+            .query_map(params![user_name, client, since], |r| {
+                Ok(LoginAttempt {
+                    at: r.get(0)?,
+                    ok: r.get::<_, i64>(1)? != 0,
+                })
+            })?
+            .collect::<rusqlite::Result<Vec<_>>>()?;
+        Ok(v)
+    }
+
     /// Attempts from a client address at or after `since`, oldest first.
     pub fn login_attempts_for_client(&self, client: &str, since: i64) -> Result<Vec<LoginAttempt>> {
         self.attempts(

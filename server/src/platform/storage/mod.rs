@@ -33,8 +33,8 @@ pub use auth::{ApiTokenRecord, LoginAttempt, SessionRecord, TeamTokenRecord, Use
 pub use bundles::{BundleItem, BundleRecord, NewBundle, Team};
 pub use events::{EventFilter, EventRecord, EventWrite};
 pub use returns::{
-    PhotoCheckRow, PhotoRow, RETURNS_MIGRATION, ReportPhotoRow, ReportRow, ResultRow, ReturnRecord,
-    UploadRecord,
+    OpenUploads, PhotoCheckRow, PhotoRow, RETURNS_MIGRATION, ReportPhotoRow, ReportRow, ResultRow,
+    ReturnRecord, UploadRecord,
 };
 pub use sources::Source;
 pub use stats::{AdjudicationRow, ControlRow, StatsEventRow, StatsReportRef};

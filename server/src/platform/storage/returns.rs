@@ -101,6 +101,20 @@ pub const RETURNS_MIGRATION: &str = r#"
     ) WITHOUT ROWID;
 "#;
 
+/// Schema migration 7: who made each upload (`team:<name>` for a team
+/// token, `user:<id>` or `token:<id>` otherwise), the unguessable receipt
+/// of each return (older returns get one here), and whether a photo's data
+/// covered the frame its header declares.
+pub const HARDENING_MIGRATION: &str = r#"
+    ALTER TABLE uploads ADD COLUMN owner TEXT;
+    CREATE INDEX uploads_open_owner ON uploads(state, owner);
+    ALTER TABLE returns ADD COLUMN receipt TEXT;
+    UPDATE returns SET receipt = lower(hex(randomblob(16))) WHERE receipt IS NULL;
+    CREATE UNIQUE INDEX returns_receipt ON returns(receipt);
+    ALTER TABLE photos ADD COLUMN data_matches_header INTEGER NOT NULL DEFAULT 1
+        CHECK (data_matches_header IN (0, 1));
+"#;
+
 /// One resumable upload.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct UploadRecord {
@@ -116,6 +130,19 @@ pub struct UploadRecord {
     pub error: Option<String>,
     pub error_status: Option<u16>,
     pub created_at: String,
+    /// Who made it (see [`HARDENING_MIGRATION`]); `None` for uploads made
+    /// before owners were recorded.
+    pub owner: Option<String>,
+}
+
+/// Counts and declared bytes of the open uploads ([`Reader::open_uploads`]).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub struct OpenUploads {
+    pub count: u64,
+    pub bytes: u64,
+    pub for_bundle: u64,
+    pub for_owner: u64,
+    pub owner_bytes: u64,
 }
 
 /// A received return package.
@@ -185,6 +212,9 @@ pub struct PhotoRow {
     pub direction_deg: Option<f64>,
     pub bytes: u64,
     pub stored_at: String,
+    /// The entropy-coded data covered the whole frame its header declares;
+    /// `false`: `width` x `height` is what the data covered.
+    pub data_matches_header: bool,
 }
 
 /// One evidence check row (per report and photo).
@@ -213,8 +243,7 @@ fn flags_of(text: &str) -> Vec<String> {
     serde_json::from_str(text).unwrap_or_default()
 }
 
-const UPLOAD_COLS: &str =
-    "id, bundle_id, sha256, size, offset_bytes, state, return_id, error, error_status, created_at";
+const UPLOAD_COLS: &str = "id, bundle_id, sha256, size, offset_bytes, state, return_id, error, error_status, created_at, owner";
 
 fn upload_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<UploadRecord> {
     Ok(UploadRecord {
@@ -228,15 +257,16 @@ fn upload_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<UploadRecord> {
         error: r.get(7)?,
         error_status: r.get(8)?,
         created_at: r.get(9)?,
+        owner: r.get(10)?,
     })
 }
 
 impl Tx<'_> {
     pub fn insert_upload(&self, u: &UploadRecord) -> Result<()> {
         self.tx.execute(
-            "INSERT INTO uploads (id, bundle_id, sha256, size, offset_bytes, state, created_at, updated_at)
-             VALUES (?1, ?2, ?3, ?4, ?5, 'open', ?6, ?6)",
-            params![u.id, u.bundle_id, u.sha256, u.size as i64, u.offset as i64, u.created_at],
+            "INSERT INTO uploads (id, bundle_id, sha256, size, offset_bytes, state, created_at, updated_at, owner)
+             VALUES (?1, ?2, ?3, ?4, ?5, 'open', ?6, ?6, ?7)",
+            params![u.id, u.bundle_id, u.sha256, u.size as i64, u.offset as i64, u.created_at, u.owner],
         )?;
         Ok(())
     }
@@ -268,6 +298,24 @@ impl Tx<'_> {
         Ok(())
     }
 
+    /// Set when upload `id` was last touched (tests of the idle expiry).
+    #[cfg(test)]
+    pub(crate) fn touch_upload_at(&self, id: &str, updated_at: &str) -> Result<()> {
+        self.tx.execute(
+            "UPDATE uploads SET updated_at = ?2 WHERE id = ?1",
+            [id, updated_at],
+        )?;
+        Ok(())
+    }
+
+    /// Delete upload `id` if it is still open; whether it was.
+    pub fn delete_open_upload(&self, id: &str) -> Result<bool> {
+        Ok(self
+            .tx
+            .execute("DELETE FROM uploads WHERE id = ?1 AND state = 'open'", [id])?
+            > 0)
+    }
+
     pub fn delete_upload(&self, id: &str) -> Result<()> {
         self.tx.execute("DELETE FROM uploads WHERE id = ?1", [id])?;
         Ok(())
@@ -284,17 +332,21 @@ impl Tx<'_> {
         Ok(v)
     }
 
+    /// Insert a return; it gets a random receipt (128 bits from the
+    /// operating system, through a v4 UUID), read with [`Reader::return_receipt`].
     pub fn insert_return(&self, r: &ReturnRecord) -> Result<i64> {
+        let receipt = uuid::Uuid::new_v4().simple().to_string();
         self.tx.execute(
-            "INSERT INTO returns (bundle_id, sha256, size, team, received_at, path)
-             VALUES (?1, ?2, ?3, ?4, ?5, ?6)",
+            "INSERT INTO returns (bundle_id, sha256, size, team, received_at, path, receipt)
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7)",
             params![
                 r.bundle_id,
                 r.sha256,
                 r.size as i64,
                 r.team,
                 r.received_at,
-                r.path
+                r.path,
+                receipt
             ],
         )?;
         Ok(self.tx.last_insert_rowid())
@@ -321,12 +373,13 @@ impl Tx<'_> {
     /// Record a photo once (its file must already be durable).
     pub fn insert_photo(&self, p: &PhotoRow) -> Result<()> {
         self.tx.prepare_cached(
-            "INSERT OR IGNORE INTO photos (sha256, width, height, taken_at, lat, lon, direction_deg, bytes, stored_at)
-             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9)",
+            "INSERT OR IGNORE INTO photos (sha256, width, height, taken_at, lat, lon, direction_deg, bytes, stored_at,
+                data_matches_header)
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10)",
         )?
         .execute(params![
             p.sha256, p.width, p.height, p.taken_at, p.lat, p.lon, p.direction_deg, p.bytes as i64,
-            p.stored_at
+            p.stored_at, p.data_matches_header
         ])?;
         Ok(())
     }
@@ -438,20 +491,48 @@ impl Reader<'_> {
             .optional()?)
     }
 
-    /// Number and total declared bytes of open uploads, and how many of them are for `bundle_id`.
-    pub fn open_uploads(&self, bundle_id: &str) -> Result<(u64, u64, u64)> {
+    /// What the open uploads hold: over the server, for `bundle_id`, and
+    /// for `owner`.
+    pub fn open_uploads(&self, bundle_id: &str, owner: &str) -> Result<OpenUploads> {
         Ok(self.conn.query_row(
-            "SELECT COUNT(*), COALESCE(SUM(size), 0), COUNT(*) FILTER (WHERE bundle_id = ?1)
+            "SELECT COUNT(*), COALESCE(SUM(size), 0), COUNT(*) FILTER (WHERE bundle_id = ?1),
+                COUNT(*) FILTER (WHERE owner = ?2), COALESCE(SUM(size) FILTER (WHERE owner = ?2), 0)
              FROM uploads WHERE state = 'open'",
-            [bundle_id],
+            [bundle_id, owner],
             |r| {
-                Ok((
-                    r.get::<_, i64>(0)?.max(0) as u64,
-                    r.get::<_, i64>(1)?.max(0) as u64,
-                    r.get::<_, i64>(2)?.max(0) as u64,
-                ))
+                let n = |i| r.get::<_, i64>(i).map(|v| v.max(0) as u64);
+                Ok(OpenUploads {
+                    count: n(0)?,
+                    bytes: n(1)?,
+                    for_bundle: n(2)?,
+                    for_owner: n(3)?,
+                    owner_bytes: n(4)?,
+                })
             },
         )?)
+    }
+
+    /// The receipt of return `id`.
+    pub fn return_receipt(&self, id: i64) -> Result<Option<String>> {
+        Ok(self
+            .conn
+            .query_row("SELECT receipt FROM returns WHERE id = ?1", [id], |r| {
+                r.get(0)
+            })
+            .optional()?
+            .flatten())
+    }
+
+    /// The id of the return with receipt `receipt`.
+    pub fn return_by_receipt(&self, receipt: &str) -> Result<Option<i64>> {
+        Ok(self
+            .conn
+            .query_row(
+                "SELECT id FROM returns WHERE receipt = ?1",
+                [receipt],
+                |r| r.get(0),
+            )
+            .optional()?)
     }
 
     /// Ids of every upload (open or not), for cleaning up their files.
@@ -563,7 +644,8 @@ impl Reader<'_> {
         Ok(self
             .conn
             .query_row(
-                "SELECT sha256, width, height, taken_at, lat, lon, direction_deg, bytes, stored_at
+                "SELECT sha256, width, height, taken_at, lat, lon, direction_deg, bytes, stored_at,
+                    data_matches_header
                  FROM photos WHERE sha256 = ?1",
                 [sha256],
                 |r| {
@@ -577,6 +659,7 @@ impl Reader<'_> {
                         direction_deg: r.get(6)?,
                         bytes: r.get::<_, i64>(7)?.max(0) as u64,
                         stored_at: r.get(8)?,
+                        data_matches_header: r.get(9)?,
                     })
                 },
             )

@@ -126,6 +126,8 @@ const MIGRATIONS: &[&str] = &[
     crate::platform::storage::auth::AUTH_MIGRATION,
     // 6: covering indexes for the statistics.
     crate::platform::storage::stats::STATS_INDEXES_MIGRATION,
+    // 7: upload owners, return receipts, photos whose data falls short of their header.
+    crate::platform::storage::returns::HARDENING_MIGRATION,
 ];
 
 /// The schema version this binary writes.

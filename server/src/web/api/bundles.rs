@@ -183,15 +183,21 @@ fn bundle_id(raw: &str) -> Result<String, Error> {
         .map_err(|_| Error::Invalid(format!("bundle id '{raw}' is not a UUID")))
 }
 
+/// A bundle's record and stops: for the office, and for a team token its
+/// own team's bundles (the same facts its bundle file holds; another
+/// team's bundle is unknown to it).
 pub async fn one(
+    req: actix_web::HttpRequest,
     state: web::Data<AppState>,
     path: web::Path<String>,
 ) -> Result<HttpResponse, ApiError> {
     let id = bundle_id(&path)?;
+    let team = team_of(&req);
     let db = state.db.clone();
     let (b, items) = web::block(move || {
         let b = db
             .read(|r| r.bundle(&id))?
+            .filter(|b| team.as_ref().is_none_or(|t| t == &b.team))
             .ok_or_else(|| Error::NotFound(format!("no bundle {id}")))?;
         let items = db.read(|r| r.bundle_items(&id))?;
         Ok::<_, Error>((b, items))
@@ -200,13 +206,23 @@ pub async fn one(
     Ok(HttpResponse::Ok().json(json!({"bundle": b, "items": items})))
 }
 
+/// The bundle file. It holds the team's upload key (the return signing
+/// key), so only the team it was issued to and those who issue bundles
+/// (coordinators, admins) may download it; a manager sees the bundle's
+/// record and stops, not the file.
 pub async fn download(
     req: actix_web::HttpRequest,
     state: web::Data<AppState>,
     path: web::Path<String>,
 ) -> Result<HttpResponse, ApiError> {
+    use actix_web::HttpMessage;
     let id = bundle_id(&path)?;
     let team = team_of(&req);
+    let identity = req
+        .extensions()
+        .get::<crate::platform::auth::Identity>()
+        .cloned()
+        .unwrap_or(crate::platform::auth::Identity::Anonymous);
     let state = state.into_inner();
     let (name, bytes) = web::block(move || {
         let b = state
@@ -215,6 +231,11 @@ pub async fn download(
             .ok_or_else(|| Error::NotFound(format!("no bundle {id}")))?;
         if team.as_ref().is_some_and(|t| t != &b.team) {
             return Err(Error::NotFound(format!("no bundle {id}")));
+        }
+        if !crate::platform::auth::may_fetch_bundle(&identity, &b.team) {
+            return Err(Error::Refused(
+                "a bundle file holds its team's upload key: only that team, coordinators and admins may download it".into(),
+            ));
         }
         if b.cancelled_at.is_some() {
             return Err(Error::Conflict(format!("bundle {id} was cancelled")));

@@ -63,7 +63,7 @@ pub fn configure(cfg: &mut web::ServiceConfig) {
         )
         .route(
             "/bundles/{id}",
-            web::get().to(bundles::one).needs(ViewEvents),
+            web::get().to(bundles::one).needs(FetchOwnBundle),
         )
         .route(
             "/bundles/{id}/download",

@@ -1,16 +1,17 @@
 //! Field returns over HTTP (RETURN-SPEC):
-//! `POST /api/v1/uploads`, `HEAD`/`PATCH /api/v1/uploads/{id}`,
-//! `POST /api/v1/uploads/{id}/complete`, `GET /api/v1/returns/{id}`,
+//! `POST /api/v1/uploads`, `HEAD`/`PATCH`/`DELETE /api/v1/uploads/{id}`,
+//! `POST /api/v1/uploads/{id}/complete`, `GET /api/v1/returns/{receipt}`,
 //! `POST /api/v1/returns` (a whole package in one body: the station's
 //! browser or USB path), `GET /api/v1/events/{id}/reports`,
 //! `GET /api/v1/photos/{sha}/thumbnail` and `/original`.
 //!
 //! Bounds: a PATCH body is read up to 8 MiB (counted while streaming, not
 //! taken from `Content-Length`), a whole package up to 1 GiB; see
-//! [`crate::intake::uploads`]. A team may send `Authorization: Bearer`; it
-//! is not required yet: the package's HMAC signature is the gate.
+//! [`crate::intake::uploads`]. The package's HMAC signature binds it to its
+//! bundle; the caller (a team token, or a coordinator or admin) decides
+//! which uploads and returns it reaches: a team only its own team's.
 
-use crate::intake::uploads::{self, IncomingFile, MAX_APPEND_BYTES};
+use crate::intake::uploads::{self, IncomingFile, MAX_APPEND_BYTES, Sender};
 use crate::intake::{IntakeError, layout};
 use crate::web::AppState;
 use crate::web::error::ApiError;
@@ -20,6 +21,15 @@ use serde::Deserialize;
 use serde_json::json;
 
 type Reply = Result<HttpResponse, ApiError>;
+
+/// Who is sending (the route's permission already let only senders in).
+fn sender(req: &HttpRequest) -> Result<Sender, IntakeError> {
+    use actix_web::HttpMessage;
+    req.extensions()
+        .get::<crate::platform::auth::Identity>()
+        .and_then(Sender::of)
+        .ok_or_else(|| IntakeError::Refused("log in first (or send a bearer token)".into()))
+}
 
 /// The body of `POST /api/v1/uploads`.
 #[derive(Deserialize)]
@@ -36,7 +46,12 @@ fn bundle_id(raw: &str) -> Result<String, IntakeError> {
         .map_err(|_| IntakeError::Invalid(format!("bundle id '{raw}' is not a UUID")))
 }
 
-pub async fn create(state: web::Data<AppState>, body: web::Json<CreateBody>) -> Reply {
+pub async fn create(
+    state: web::Data<AppState>,
+    req: HttpRequest,
+    body: web::Json<CreateBody>,
+) -> Reply {
+    let who = sender(&req)?;
     let b = body.into_inner();
     let bid = bundle_id(&b.bundle_id)?;
     let st = state.into_inner();
@@ -45,6 +60,7 @@ pub async fn create(state: web::Data<AppState>, body: web::Json<CreateBody>) -> 
             &st.db,
             &st.data_dir,
             &st.intake_options(),
+            &who,
             &bid,
             b.size,
             &b.sha256,
@@ -69,10 +85,11 @@ pub async fn create(state: web::Data<AppState>, body: web::Json<CreateBody>) -> 
     Ok(resp.json(body))
 }
 
-pub async fn head(state: web::Data<AppState>, path: web::Path<String>) -> Reply {
+pub async fn head(state: web::Data<AppState>, req: HttpRequest, path: web::Path<String>) -> Reply {
+    let who = sender(&req)?;
     let id = path.into_inner();
     let db = state.db.clone();
-    let u = web::block(move || uploads::get(&db, &id)).await??;
+    let u = web::block(move || uploads::get(&db, &who, &id)).await??;
     let offset = if u.state == "open" { u.offset } else { u.size };
     Ok(HttpResponse::NoContent()
         .insert_header(("Upload-Offset", offset.to_string()))
@@ -99,6 +116,7 @@ pub async fn patch(
     req: HttpRequest,
     mut payload: web::Payload,
 ) -> Reply {
+    let who = sender(&req)?;
     let id = path.into_inner();
     let offset = header_u64(&req, "Upload-Offset")?;
     let ct = req
@@ -134,8 +152,8 @@ pub async fn patch(
         }
     }
     let st = state.into_inner();
-    let new =
-        web::block(move || uploads::append(&st.db, &st.data_dir, &id, offset, &buf)).await??;
+    let new = web::block(move || uploads::append(&st.db, &st.data_dir, &who, &id, offset, &buf))
+        .await??;
     if let Some(e) = broken {
         tracing::info!(offset = new, error = %e, "append interrupted; kept the bytes that arrived");
         return Err(IntakeError::Invalid(format!("the request body was cut: {e}")).into());
@@ -145,22 +163,39 @@ pub async fn patch(
         .finish())
 }
 
-pub async fn complete(state: web::Data<AppState>, path: web::Path<String>) -> Reply {
+pub async fn complete(
+    state: web::Data<AppState>,
+    req: HttpRequest,
+    path: web::Path<String>,
+) -> Reply {
+    let who = sender(&req)?;
     let id = path.into_inner();
     let st = state.into_inner();
-    let doc =
-        web::block(move || uploads::complete(&st.db, &st.data_dir, &st.intake_options(), &id))
-            .await??;
+    let doc = web::block(move || {
+        uploads::complete(&st.db, &st.data_dir, &st.intake_options(), &who, &id)
+    })
+    .await??;
     Ok(HttpResponse::Ok().json(doc))
 }
 
-pub async fn get_return(state: web::Data<AppState>, path: web::Path<String>) -> Reply {
-    let raw = path.into_inner();
-    let id: i64 = raw
-        .parse()
-        .map_err(|_| IntakeError::NotFound(format!("no return {raw}")))?;
+/// `DELETE /api/v1/uploads/{id}`: the client ends an upload it gave up on.
+pub async fn end(state: web::Data<AppState>, req: HttpRequest, path: web::Path<String>) -> Reply {
+    let who = sender(&req)?;
+    let id = path.into_inner();
+    let st = state.into_inner();
+    web::block(move || uploads::end(&st.db, &st.data_dir, &who, &id)).await??;
+    Ok(HttpResponse::NoContent().finish())
+}
+
+pub async fn get_return(
+    state: web::Data<AppState>,
+    req: HttpRequest,
+    path: web::Path<String>,
+) -> Reply {
+    let who = sender(&req)?;
+    let key = path.into_inner();
     let db = state.db.clone();
-    let doc = web::block(move || crate::intake::return_document(&db, id)).await??;
+    let doc = web::block(move || uploads::return_for(&db, &who, &key)).await??;
     Ok(HttpResponse::Ok().json(doc))
 }
 
@@ -284,6 +319,7 @@ pub fn configure(cfg: &mut web::ServiceConfig) {
     cfg.route("/uploads", web::post().to(create).needs(UploadReturn))
         .route("/uploads/{id}", web::head().to(head).needs(UploadReturn))
         .route("/uploads/{id}", web::patch().to(patch).needs(UploadReturn))
+        .route("/uploads/{id}", web::delete().to(end).needs(UploadReturn))
         .route(
             "/uploads/{id}/complete",
             web::post().to(complete).needs(UploadReturn),

@@ -217,7 +217,9 @@ fn bundle_rows(
                 returns,
                 reports,
                 cancellable: may_cancel && b.cancelled_at.is_none(),
-                downloadable: b.cancelled_at.is_none(),
+                // The file holds the upload key: offered to those who
+                // issue and cancel bundles, not to managers.
+                downloadable: may_cancel && b.cancelled_at.is_none(),
             }
         })
         .collect();
