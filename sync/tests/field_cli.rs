@@ -310,3 +310,37 @@ fn field_kit_end_to_end() {
         assert_eq!(&bytes[..3], &[0xff, 0xd8, 0xff]);
     }
 }
+
+/// A stop whose centroid sits a hair south of the equator (floating noise of a pixel centred
+/// on it) is shown as 0.000000, not as -0.0000000, which reads as the southern hemisphere, and
+/// with the six decimals the field sheet prints (`planning::coords::format_dd`), so a team
+/// comparing the two sees the same digits.
+#[test]
+fn positions_on_the_equator_have_one_hemisphere() {
+    let dir = tempfile::tempdir().expect("dir");
+    let ws = dir.path().join("ws");
+    let bundle = dir.path().join("trip.zip");
+    let mut events = common::events();
+    events[0].centroid = geo::Point::new(23.43, -1e-12);
+    let mut out = Cursor::new(Vec::new());
+    write_bundle(
+        &mut out,
+        &current_header(),
+        &events,
+        &common::controls(),
+        &common::start(),
+        &common::route(),
+        &Checklist::default_v1(),
+        &common::KEY,
+        common::extras(),
+    )
+    .expect("bundle");
+    std::fs::write(&bundle, out.into_inner()).expect("write bundle");
+    must(&ws, &["open", bundle.to_str().expect("path")]);
+    let out = must(&ws, &["show", &events[0].code]);
+    assert!(
+        out.contains("position     0.000000, 23.430000"),
+        "{out}"
+    );
+    assert!(!out.contains("-0.0"), "{out}");
+}

@@ -7,6 +7,7 @@ use chrono::{DateTime, Utc};
 
 use super::cli::{Cli, Command, ReportArgs};
 use super::geo_calc::{compass, distance_bearing, parse_lat_lon};
+use crate::geodesy::format_dd;
 use super::push::pack_workspace;
 use super::record::build_report;
 use super::workspace::{BUNDLE_COPY, Snapshot, Stop, UNPACKED};
@@ -178,7 +179,7 @@ fn show(ws: &Path, code: &str, from: Option<&str>) -> Result<(), SyncError> {
     match stop {
         Stop::Event(e) => {
             println!("event {} (id {})", e.code, e.event_id);
-            println!("  position     {:.7}, {:.7}", e.lat, e.lon);
+            println!("  position     {}", format_dd(e.lat, e.lon));
             println!("  area         {:.2} ha", e.area_ha);
             println!("  detected     {} .. {}", e.first_detected, e.last_detected);
             println!("  sources      {}", e.sources.join(", "));
@@ -191,7 +192,7 @@ fn show(ws: &Path, code: &str, from: Option<&str>) -> Result<(), SyncError> {
         }
         Stop::Control(c) => {
             println!("control point {}", c.code);
-            println!("  position     {:.7}, {:.7}", c.lat, c.lon);
+            println!("  position     {}", format_dd(c.lat, c.lon));
             println!("  visit order  {}", c.visit_order);
         }
     }
