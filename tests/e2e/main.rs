@@ -3,6 +3,7 @@
 mod access;
 mod alerts_api;
 mod bundles;
+mod footprints;
 mod intake;
 mod pages;
 mod stats_api;

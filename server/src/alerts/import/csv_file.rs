@@ -132,7 +132,11 @@ fn find_columns(headers: &[String], opts: &ReadOptions) -> Result<[usize; 4], Ve
             Err(m) => errors.push(m),
         }
     }
-    if errors.is_empty() { Ok(idx) } else { Err(errors) }
+    if errors.is_empty() {
+        Ok(idx)
+    } else {
+        Err(errors)
+    }
 }
 
 /// The four columns read from every record: positions, header names, and

@@ -1,9 +1,7 @@
 //! GeoJSON alert files: an RFC 7946 FeatureCollection of Point features
 //! whose properties hold the date and the confidence.
 
-use super::{
-    CONFIDENCE_NAMES, DATE_NAMES, Parsed, ParsedAlert, ReadOptions, RowError, build_row,
-};
+use super::{CONFIDENCE_NAMES, DATE_NAMES, Parsed, ParsedAlert, ReadOptions, RowError, build_row};
 use serde_json::Value;
 
 fn err(file: &str, line: usize, field: &str, message: String) -> RowError {
@@ -86,15 +84,16 @@ fn read_feature(f: &Value, i: usize, opts: &ReadOptions) -> Result<ParsedAlert, 
         .get("properties")
         .and_then(Value::as_object)
         .unwrap_or(&empty);
-    let (date_key, date) = prop(props, opts.date_column.as_deref(), DATE_NAMES).ok_or_else(|| {
-        (
-            "properties".to_string(),
-            format!(
-                "no date property: expected one of {}",
-                DATE_NAMES.join(", ")
-            ),
-        )
-    })?;
+    let (date_key, date) =
+        prop(props, opts.date_column.as_deref(), DATE_NAMES).ok_or_else(|| {
+            (
+                "properties".to_string(),
+                format!(
+                    "no date property: expected one of {}",
+                    DATE_NAMES.join(", ")
+                ),
+            )
+        })?;
     let (conf_key, conf) = prop(props, opts.confidence_column.as_deref(), CONFIDENCE_NAMES)
         .ok_or_else(|| {
             (
