@@ -1,14 +1,14 @@
 //! One alert import, applied in one transaction.
 
 use super::ClusterSettings;
-use super::zones::{ZoneShape, load_zone_shapes, zones_hit};
+use super::zones::{ZoneShape, likely_swapped, load_zone_shapes, zones_hit};
 use crate::alerts::cluster::footprint::Footprint;
 use crate::alerts::cluster::link::link;
 use crate::alerts::cluster::summary::{AlertFact, EventSummary, summarize};
 use crate::alerts::cluster::{LinkPoint, UnionFind};
 use crate::alerts::import::{
     Format, ImportFailure, MAX_LISTED_ERRORS, Parsed, ParsedAlert, ReadOptions, RowError,
-    parse_alerts,
+    latest_import_day, parse_alerts,
 };
 use crate::domain::SourceName;
 use crate::error::{Error, Result};
@@ -42,6 +42,9 @@ pub struct ImportOutcome {
     pub events_created: usize,
     pub events_grown: usize,
     pub events_merged: usize,
+    /// What the file may have wrong though it was imported (a likely swap of
+    /// latitude and longitude), each naming the file.
+    pub warnings: Vec<String>,
 }
 
 impl ImportOutcome {
@@ -64,6 +67,7 @@ impl ImportOutcome {
             events_created: 0,
             events_grown: 0,
             events_merged: 0,
+            warnings: Vec::new(),
         }
     }
 }
@@ -84,7 +88,11 @@ pub fn import_alerts(
     db.read(|r| r.source_by_name(req.source.as_str()))?
         .ok_or_else(unknown)?;
     let t0 = std::time::Instant::now();
-    let parsed = parse_alerts(req.file_name, req.bytes, req.format, &req.read);
+    let read = ReadOptions {
+        not_after: Some(latest_import_day()),
+        ..req.read.clone()
+    };
+    let parsed = parse_alerts(req.file_name, req.bytes, req.format, &read);
     let parse_ms = t0.elapsed().as_millis();
     reject_unless_importable(req, &parsed)?;
     db.write(|tx| {
@@ -93,6 +101,13 @@ pub fn import_alerts(
             .source_by_name(req.source.as_str())?
             .ok_or_else(unknown)?;
         let mut outcome = ImportOutcome::empty(req.file_name, &source.name, &parsed);
+        let zones = load_zone_shapes(tx)?;
+        if likely_swapped(&parsed.alerts, &zones) {
+            outcome.warnings.push(format!(
+                "{}: every alert lies outside every zone, but most would lie inside one with latitude and longitude exchanged: check the column order (or name the columns with the import's column options)",
+                req.file_name
+            ));
+        }
         let nearby = stored_nearby(tx, &source, &parsed.alerts, cfg)?;
         let fresh = fresh_alerts(&nearby, source.id, &parsed.alerts);
         outcome.duplicates = parsed.alerts.len() - fresh.len();
@@ -123,7 +138,6 @@ pub fn import_alerts(
             .into_iter()
             .map(|s| (s.id, s.name))
             .collect();
-        let zones = load_zone_shapes(tx)?;
         // Gather each touched set's alerts (reads), summarise them on all
         // cores (pure), then write in one pass.
         let work = batch.gather(tx, &groups)?;

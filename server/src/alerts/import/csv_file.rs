@@ -271,6 +271,7 @@ mod tests {
             confidence: ConfidenceMap {
                 numeric_threshold: Some(50.0),
             },
+            not_after: None,
         };
         let p = parse("f.csv", text.as_bytes(), &opts);
         assert!(p.errors.is_empty(), "{:?}", p.errors);
