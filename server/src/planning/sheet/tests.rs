@@ -313,8 +313,18 @@ fn the_sheet_says_its_metres_are_truncated() {
         .select(&sel("dt"))
         .map(|e| e.text().collect::<String>())
         .collect();
-    assert!(labels.iter().any(|l| l.starts_with("UTM") && l.contains("truncated")), "{labels:?}");
-    assert!(labels.iter().any(|l| l.starts_with("MGRS") && l.contains("truncated")), "{labels:?}");
+    assert!(
+        labels
+            .iter()
+            .any(|l| l.starts_with("UTM") && l.contains("truncated")),
+        "{labels:?}"
+    );
+    assert!(
+        labels
+            .iter()
+            .any(|l| l.starts_with("MGRS") && l.contains("truncated")),
+        "{labels:?}"
+    );
 }
 
 #[test]
