@@ -338,9 +338,6 @@ fn positions_on_the_equator_have_one_hemisphere() {
     std::fs::write(&bundle, out.into_inner()).expect("write bundle");
     must(&ws, &["open", bundle.to_str().expect("path")]);
     let out = must(&ws, &["show", &events[0].code]);
-    assert!(
-        out.contains("position     0.000000, 23.430000"),
-        "{out}"
-    );
+    assert!(out.contains("position     0.000000, 23.430000"), "{out}");
     assert!(!out.contains("-0.0"), "{out}");
 }

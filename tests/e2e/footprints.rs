@@ -7,10 +7,9 @@ use groundproof_e2e::tool;
 
 #[test]
 fn footprints_of_the_reference_patterns_are_valid_for_geos() {
-    let fixture: serde_json::Value = serde_json::from_str(include_str!(
-        "../reference/footprints/patterns.json"
-    ))
-    .expect("fixture");
+    let fixture: serde_json::Value =
+        serde_json::from_str(include_str!("../reference/footprints/patterns.json"))
+            .expect("fixture");
     let size_m = fixture["pixel_m"].as_f64().expect("pixel_m");
     let step = fixture["step_deg"].as_f64().expect("step_deg");
     let patterns = fixture["patterns"].as_array().expect("patterns");

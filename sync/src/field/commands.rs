@@ -7,12 +7,12 @@ use chrono::{DateTime, Utc};
 
 use super::cli::{Cli, Command, ReportArgs};
 use super::geo_calc::{compass, distance_bearing, parse_lat_lon};
-use crate::geodesy::format_dd;
 use super::push::pack_workspace;
 use super::record::build_report;
 use super::workspace::{BUNDLE_COPY, Snapshot, Stop, UNPACKED};
 use crate::SyncError;
 use crate::bundle::{OpenedBundle, open_bundle};
+use crate::geodesy::format_dd;
 use crate::outbox::{Outbox, PushState, StoredReport, write_atomic};
 use crate::returns::{ReturnLimits, Target};
 

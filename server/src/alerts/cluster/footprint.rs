@@ -117,8 +117,15 @@ fn snapped_squares(pixels: &[Pixel]) -> Vec<Polygon<f64>> {
     let boxes: Vec<[f64; 4]> = pixels
         .iter()
         .map(|p| {
+            // Clipped to the degree ranges: a pixel on the antimeridian or at a pole keeps
+            // the part of its square inside them (longitudes are not wrapped, see `link`).
             let (dlon, dlat) = pixel_half_extent_deg(p.lat, p.size_m);
-            [p.lon - dlon, p.lon + dlon, p.lat - dlat, p.lat + dlat]
+            [
+                (p.lon - dlon).max(-180.0),
+                (p.lon + dlon).min(180.0),
+                (p.lat - dlat).max(-90.0),
+                (p.lat + dlat).min(90.0),
+            ]
         })
         .collect();
     let min_side = |axis: usize| {
@@ -332,7 +339,10 @@ mod tests {
         let f = footprint(&px);
         assert!(f.shape.is_valid(), "{:?}", f.shape.validation_errors());
         for p in &px {
-            assert!(geo::Contains::contains(&f.shape, &geo::Point::new(p.lon, p.lat)));
+            assert!(geo::Contains::contains(
+                &f.shape,
+                &geo::Point::new(p.lon, p.lat)
+            ));
         }
     }
 
@@ -371,6 +381,34 @@ mod tests {
                 let c = geo::Point::new(p.lon, p.lat);
                 proptest::prop_assert!(geo::Contains::contains(&f.shape, &c));
             }
+        }
+    }
+
+    /// Pixels on the antimeridian and at a pole give footprints inside the degree ranges
+    /// (longitude −180..=180, latitude −90..=90) that pass the check made before storing. At
+    /// the pole itself the clipped square spans every longitude and its area says nothing; no
+    /// forest alert comes from there.
+    #[test]
+    fn pixels_at_the_edges_of_the_map_stay_in_range() {
+        for (lon, lat) in [
+            (180.0, 0.0),
+            (-180.0, 10.0),
+            (179.99999, -3.0),
+            (20.0, 90.0),
+            (20.0, -89.99999),
+        ] {
+            let f = footprint(&[Pixel {
+                lon,
+                lat,
+                size_m: 30.0,
+            }]);
+            crate::domain::geodesy::check_stored_geometry(&f.shape)
+                .unwrap_or_else(|m| panic!("({lon}, {lat}): {m}"));
+            assert!(
+                lat.abs() > 89.0 || f.area_ha > 0.0 && f.area_ha <= 0.09 * 1.001,
+                "({lon}, {lat}): {}",
+                f.area_ha
+            );
         }
     }
 

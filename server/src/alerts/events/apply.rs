@@ -11,6 +11,7 @@ use crate::alerts::import::{
     latest_import_day, parse_alerts,
 };
 use crate::domain::SourceName;
+use crate::domain::geodesy::check_stored_geometry;
 use crate::error::{Error, Result};
 use crate::platform::storage::{Db, EventWrite, NewAlert, Source, StoredAlert, Tx, alerts_cells};
 use serde::Serialize;
@@ -326,6 +327,10 @@ impl Batch<'_> {
         let mut new_rows = Vec::with_capacity(self.fresh.len());
         for ((existing, new_idx, _), summary) in work.iter().zip(summaries) {
             let Some(summary) = summary else { continue };
+            check_stored_geometry(&summary.footprint.shape).map_err(|m| {
+                let (lon, lat) = summary.footprint.centroid;
+                Error::Internal(format!("the event at ({lat}, {lon}): {m}"))
+            })?;
             let write = event_write(&summary, names);
             let event_id = write_event(tx, existing, &write, outcome)?;
             let hit = zones_hit(zones, &summary.footprint.shape, summary.bbox);

@@ -1,9 +1,9 @@
 //! Zone import and the links between events and the zones they intersect.
 
+use crate::alerts::import::ParsedAlert;
 use crate::alerts::import::parse_zones;
 use crate::error::{Error, Result};
 use crate::platform::storage::{Db, Tx};
-use crate::alerts::import::ParsedAlert;
 use geo::{BoundingRect, Intersects, MultiPolygon, Point};
 use serde::Serialize;
 
@@ -79,13 +79,18 @@ pub(crate) fn likely_swapped(alerts: &[ParsedAlert], zones: &[ZoneShape]) -> boo
     let inside = |lon: f64, lat: f64| {
         zones.iter().any(|z| {
             let (w, s, e, n) = z.bbox;
-            (w..=e).contains(&lon) && (s..=n).contains(&lat) && z.shape.intersects(&Point::new(lon, lat))
+            (w..=e).contains(&lon)
+                && (s..=n).contains(&lat)
+                && z.shape.intersects(&Point::new(lon, lat))
         })
     };
     if sample.iter().any(|&(lon, lat)| inside(lon, lat)) {
         return false;
     }
-    let swapped = sample.iter().filter(|&&(lon, lat)| inside(lat, lon)).count();
+    let swapped = sample
+        .iter()
+        .filter(|&&(lon, lat)| inside(lat, lon))
+        .count();
     swapped * 2 > sample.len()
 }
 
