@@ -6,5 +6,6 @@ mod bundles;
 mod footprints;
 mod intake;
 mod pages;
+mod photo_times;
 mod stats_api;
 mod stats_cache;

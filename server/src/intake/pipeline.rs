@@ -24,7 +24,7 @@ use crate::platform::storage::{
 use chrono::{DateTime, Utc};
 use groundproof_sync::SyncError;
 use groundproof_sync::bundle::Checklist;
-use groundproof_sync::photo::inspect_jpeg;
+use groundproof_sync::photo::{TimeBasis, inspect_jpeg};
 use groundproof_sync::returns::{OpenedReturn, Report, ReportPhoto, Target, open_return};
 use serde::Serialize;
 use sha2::{Digest, Sha256};
@@ -201,10 +201,17 @@ impl Context<'_> {
                 sha256: sha.to_string(),
                 width: check.width,
                 height: check.height,
-                taken_at: check.meta.taken_at.map(|t| t.to_rfc3339()),
+                // A camera's local time with no offset and no GPS stamp is not an instant
+                // here: the report's time (placed in the trip's camera zone) stands.
+                taken_at: check
+                    .meta
+                    .taken_at
+                    .filter(|_| check.meta.time_basis != Some(TimeBasis::CameraZone))
+                    .map(|t| t.to_rfc3339()),
                 lat: check.meta.lat,
                 lon: check.meta.lon,
-                direction_deg: check.meta.direction_deg,
+                // A magnetic direction is not stored as a bearing from true north.
+                direction_deg: check.meta.true_direction_deg(),
                 bytes: bytes.len() as u64,
                 stored_at: self.received_at.to_rfc3339(),
             },

@@ -9,7 +9,9 @@ use super::cli::{Cli, Command, ReportArgs};
 use super::geo_calc::{compass, distance_bearing, parse_lat_lon};
 use super::push::pack_workspace;
 use super::record::build_report;
-use super::workspace::{BUNDLE_COPY, Snapshot, Stop, UNPACKED};
+use super::workspace::{
+    BUNDLE_COPY, CAMERA_ZONE, Snapshot, Stop, UNPACKED, camera_zone, parse_offset,
+};
 use crate::SyncError;
 use crate::bundle::{OpenedBundle, open_bundle};
 use crate::geodesy::format_dd;
@@ -63,7 +65,22 @@ pub fn execute(cli: Cli) -> Result<(), SyncError> {
             Ok(())
         }
         Command::Status => status(ws),
+        Command::CameraZone { offset } => camera_zone_command(ws, offset.as_deref()),
     }
+}
+
+/// Shows the trip's camera zone, or sets it first when `offset` is given.
+fn camera_zone_command(ws: &Path, offset: Option<&str>) -> Result<(), SyncError> {
+    if let Some(raw) = offset {
+        let zone = parse_offset(raw)?;
+        Snapshot::load(ws)?;
+        write_atomic(&ws.join(CAMERA_ZONE), zone.to_string().as_bytes())?;
+    }
+    println!(
+        "camera zone  UTC{} (for photo times written without an offset or GPS time)",
+        camera_zone(ws)?
+    );
+    Ok(())
 }
 
 fn open(ws: &Path, bundle_path: &Path, now: DateTime<Utc>) -> Result<(), SyncError> {
@@ -264,6 +281,7 @@ fn report(
         None,
         Vec::new(),
         &snap.checklist,
+        camera_zone(ws)?,
         now,
     )?;
     let mut outbox = Outbox::open(ws)?;
@@ -306,6 +324,7 @@ fn amend(
         Some(&base.report),
         base_paths,
         &snap.checklist,
+        camera_zone(ws)?,
         now,
     )?;
     outbox.add_report(&r, &paths, ReturnLimits::default().max_photo_bytes)?;
