@@ -8,7 +8,7 @@ use chrono::{DateTime, Utc};
 use super::cli::{Cli, Command, ReportArgs};
 use super::geo_calc::{compass, distance_bearing, parse_lat_lon};
 use super::push::pack_workspace;
-use super::record::build_report;
+use super::record::{Trip, build_report};
 use super::workspace::{
     BUNDLE_COPY, CAMERA_ZONE, Snapshot, Stop, UNPACKED, camera_zone, parse_offset,
 };
@@ -274,16 +274,12 @@ fn report(
             }
         },
     };
-    let (r, paths) = build_report(
-        snap.bundle_id,
-        target,
-        fields,
-        None,
-        Vec::new(),
-        &snap.checklist,
-        camera_zone(ws)?,
-        now,
-    )?;
+    let trip = Trip {
+        bundle_id: snap.bundle_id,
+        checklist: &snap.checklist,
+        camera_zone: camera_zone(ws)?,
+    };
+    let (r, paths) = build_report(&trip, target, fields, None, Vec::new(), now)?;
     let mut outbox = Outbox::open(ws)?;
     outbox.add_report(&r, &paths, ReturnLimits::default().max_photo_bytes)?;
     println!(
@@ -317,14 +313,17 @@ fn amend(
         .iter()
         .map(|p| outbox.photo_path(&p.sha256))
         .collect();
+    let trip = Trip {
+        bundle_id: snap.bundle_id,
+        checklist: &snap.checklist,
+        camera_zone: camera_zone(ws)?,
+    };
     let (r, paths) = build_report(
-        snap.bundle_id,
+        &trip,
         base.report.target.clone(),
         fields,
         Some(&base.report),
         base_paths,
-        &snap.checklist,
-        camera_zone(ws)?,
         now,
     )?;
     outbox.add_report(&r, &paths, ReturnLimits::default().max_photo_bytes)?;

@@ -95,19 +95,30 @@ fn photo_position(photos: &[ReadPhoto]) -> Option<Position> {
         })
 }
 
+/// What a report takes from its trip: the bundle, its checklist, and the cameras' zone.
+#[derive(Debug, Clone, Copy)]
+pub struct Trip<'a> {
+    pub bundle_id: Uuid,
+    pub checklist: &'a crate::bundle::Checklist,
+    pub camera_zone: FixedOffset,
+}
+
 /// Builds a report from `args`. `base` is the report being amended (its values fill
 /// what `args` leaves out, and its photos are kept unless new ones are given, with
 /// `base_photo_paths` pointing at their stored copies).
 pub fn build_report(
-    bundle_id: Uuid,
+    trip: &Trip<'_>,
     target: Target,
     args: &ReportArgs,
     base: Option<&Report>,
     base_photo_paths: Vec<PathBuf>,
-    checklist: &crate::bundle::Checklist,
-    camera_zone: FixedOffset,
     now: DateTime<Utc>,
 ) -> Result<(Report, Vec<PathBuf>), SyncError> {
+    let Trip {
+        bundle_id,
+        checklist,
+        camera_zone,
+    } = *trip;
     let read: Vec<ReadPhoto> = args
         .photos
         .iter()
