@@ -89,11 +89,7 @@ pub fn import_alerts(
     db.read(|r| r.source_by_name(req.source.as_str()))?
         .ok_or_else(unknown)?;
     let t0 = std::time::Instant::now();
-    let read = ReadOptions {
-        not_after: Some(latest_import_day()),
-        ..req.read.clone()
-    };
-    let parsed = parse_alerts(req.file_name, req.bytes, req.format, &read);
+    let parsed = parse_until_import_day(req);
     let parse_ms = t0.elapsed().as_millis();
     reject_unless_importable(req, &parsed)?;
     db.write(|tx| {
@@ -103,12 +99,9 @@ pub fn import_alerts(
             .ok_or_else(unknown)?;
         let mut outcome = ImportOutcome::empty(req.file_name, &source.name, &parsed);
         let zones = load_zone_shapes(tx)?;
-        if likely_swapped(&parsed.alerts, &zones) {
-            outcome.warnings.push(format!(
-                "{}: every alert lies outside every zone, but most would lie inside one with latitude and longitude exchanged: check the column order (or name the columns with the import's column options)",
-                req.file_name
-            ));
-        }
+        outcome
+            .warnings
+            .extend(swap_warning(req.file_name, &parsed, &zones));
         let nearby = stored_nearby(tx, &source, &parsed.alerts, cfg)?;
         let fresh = fresh_alerts(&nearby, source.id, &parsed.alerts);
         outcome.duplicates = parsed.alerts.len() - fresh.len();
@@ -157,6 +150,24 @@ pub fn import_alerts(
             "alerts imported"
         );
         Ok(outcome)
+    })
+}
+
+/// The file parsed, refusing detection dates after the import day whatever the caller set.
+fn parse_until_import_day(req: &ImportRequest<'_>) -> Parsed {
+    let read = ReadOptions {
+        not_after: Some(latest_import_day()),
+        ..req.read.clone()
+    };
+    parse_alerts(req.file_name, req.bytes, req.format, &read)
+}
+
+/// The warning for a file whose latitude and longitude look exchanged, if they do.
+fn swap_warning(file: &str, parsed: &Parsed, zones: &[ZoneShape]) -> Option<String> {
+    likely_swapped(&parsed.alerts, zones).then(|| {
+        format!(
+            "{file}: every alert lies outside every zone, but most would lie inside one with latitude and longitude exchanged: check the column order (or name the columns with the import's column options)"
+        )
     })
 }
 
