@@ -136,7 +136,34 @@ fn lon_lat_box(west: f64, east: f64, south: f64, north: f64) -> Polygon<f64> {
 /// longitude in −180..=180 and latitude in −90..=90, and valid as OGC Simple Features
 /// define it (geo's validation).
 pub fn check_stored_geometry(shape: &MultiPolygon<f64>) -> Result<(), String> {
-    use geo::{CoordsIter, Validation};
+    check_in_range(shape)?;
+    check_valid(shape)
+}
+
+/// [`check_stored_geometry`] for an event footprint made by the pixel union: the full OGC
+/// validation only when it has holes or several parts, where a union can go wrong (a hole
+/// on the wrong shell, parts touching along a line). A single ring without holes comes out
+/// of the overlay simple; validating each of them cost 40% of the event step of a
+/// million-alert import (1.9 s of 3.9 s, `import_cluster` bench) for nothing found.
+pub fn check_event_footprint(shape: &MultiPolygon<f64>) -> Result<(), String> {
+    check_in_range(shape)?;
+    if shape.0.len() > 1 || shape.0.iter().any(|p| !p.interiors().is_empty()) {
+        check_valid(shape)?;
+    }
+    Ok(())
+}
+
+/// Valid as OGC Simple Features define it (geo's validation).
+fn check_valid(shape: &MultiPolygon<f64>) -> Result<(), String> {
+    use geo::Validation;
+    shape
+        .check_validation()
+        .map_err(|e| format!("the footprint is not a valid MultiPolygon: {e}"))
+}
+
+/// Not empty, and every coordinate in the degree ranges.
+fn check_in_range(shape: &MultiPolygon<f64>) -> Result<(), String> {
+    use geo::CoordsIter;
     if shape.0.is_empty() {
         return Err("the footprint is empty".into());
     }
@@ -149,9 +176,7 @@ pub fn check_stored_geometry(shape: &MultiPolygon<f64>) -> Result<(), String> {
             c.x, c.y
         ));
     }
-    shape
-        .check_validation()
-        .map_err(|e| format!("the footprint is not a valid MultiPolygon: {e}"))
+    Ok(())
 }
 
 #[cfg(test)]

@@ -11,7 +11,7 @@ use crate::alerts::import::{
     latest_import_day, parse_alerts,
 };
 use crate::domain::SourceName;
-use crate::domain::geodesy::check_stored_geometry;
+use crate::domain::geodesy::check_event_footprint;
 use crate::error::{Error, Result};
 use crate::platform::storage::{Db, EventWrite, NewAlert, Source, StoredAlert, Tx, alerts_cells};
 use serde::Serialize;
@@ -338,7 +338,7 @@ impl Batch<'_> {
         let mut new_rows = Vec::with_capacity(self.fresh.len());
         for ((existing, new_idx, _), summary) in work.iter().zip(summaries) {
             let Some(summary) = summary else { continue };
-            check_stored_geometry(&summary.footprint.shape).map_err(|m| {
+            check_event_footprint(&summary.footprint.shape).map_err(|m| {
                 let (lon, lat) = summary.footprint.centroid;
                 Error::Internal(format!("the event at ({lat}, {lon}): {m}"))
             })?;
