@@ -597,6 +597,7 @@ fn import_alert_file(a: AlertArgs) -> Result<ExitCode> {
             confidence: ConfidenceMap {
                 numeric_threshold: a.confidence_threshold,
             },
+            not_after: None,
         },
         skip_invalid: a.skip_invalid,
     };
@@ -615,6 +616,9 @@ fn import_alert_file(a: AlertArgs) -> Result<ExitCode> {
             );
             for e in &o.skipped_rows {
                 println!("  skipped {e}");
+            }
+            for w in &o.warnings {
+                eprintln!("warning: {w}");
             }
             Ok(ExitCode::SUCCESS)
         }

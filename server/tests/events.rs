@@ -256,3 +256,68 @@ fn zones_link_events_and_filter_them() {
         .unwrap();
     assert_eq!(core.len(), 2);
 }
+
+/// An alert dated after the import day is refused with its file, line and field (no alert
+/// system reports the future; such a date is a typing or export error). The day is counted
+/// in the latest zone on Earth (UTC+14), so no real detection is refused anywhere.
+#[test]
+fn alert_dates_after_the_import_day_are_refused() {
+    let (_d, db) = db();
+    let later = (chrono::Utc::now() + chrono::Duration::days(3))
+        .date_naive()
+        .to_string();
+    let text = csv(&[(-60.0, -3.0, "2026-01-01"), (-60.1, -3.1, later.as_str())]);
+    match import(&db, "optical-10m", &text, false) {
+        Err(Error::ImportRejected(f)) => {
+            assert_eq!(f.error_count, 1, "{f}");
+            let e = &f.errors[0];
+            assert_eq!((e.file.as_str(), e.line), ("t.csv", 3), "{e}");
+            assert_eq!(e.field, "detected_on", "{e}");
+            assert!(e.message.contains("after the import day"), "{e}");
+        }
+        other => panic!("expected a refusal, got {other:?}"),
+    }
+    assert_eq!(db.read(|r| r.alert_count()).unwrap(), 0);
+    // Told to skip invalid rows, the good row is kept and the future one listed.
+    let kept = import(&db, "optical-10m", &text, true).unwrap();
+    assert_eq!((kept.imported, kept.skipped), (1, 1));
+    // Today itself is fine.
+    let today = chrono::Utc::now().date_naive().to_string();
+    let ok = import(&db, "optical-10m", &csv(&[(-61.0, -3.0, &today)]), false).unwrap();
+    assert_eq!(ok.imported, 1);
+}
+
+/// A file whose every point lies outside every zone, but inside one once latitude and
+/// longitude are exchanged, is imported with a warning that says so; a file in the zones, or
+/// one that is outside them either way, gets none.
+#[test]
+fn a_file_with_latitude_and_longitude_swapped_gets_a_warning() {
+    let (_d, db) = db();
+    // The zone around (lon -60, lat -3); the swapped file says (lon -3, lat -60).
+    let zones = r#"{"type":"FeatureCollection","features":[{"type":"Feature","properties":{"name":"Core"},
+      "geometry":{"type":"Polygon","coordinates":[[[-60.2,-3.2],[-59.8,-3.2],[-59.8,-2.8],[-60.2,-2.8],[-60.2,-3.2]]]}}]}"#;
+    import_zones(&db, "z.geojson", zones.as_bytes()).unwrap();
+    let swapped = csv(&[(-3.0, -60.0, "2026-01-01"), (-3.1, -60.1, "2026-01-02")]);
+    let out = import(&db, "optical-10m", &swapped, false).unwrap();
+    assert_eq!(out.imported, 2);
+    assert_eq!(out.warnings.len(), 1, "{:?}", out.warnings);
+    assert!(
+        out.warnings[0].contains("latitude and longitude") && out.warnings[0].contains("t.csv"),
+        "{:?}",
+        out.warnings
+    );
+    let right = csv(&[(-60.0, -3.0, "2026-01-01")]);
+    assert!(
+        import(&db, "optical-10m", &right, false)
+            .unwrap()
+            .warnings
+            .is_empty()
+    );
+    let elsewhere = csv(&[(10.0, 45.0, "2026-01-01")]);
+    assert!(
+        import(&db, "optical-10m", &elsewhere, false)
+            .unwrap()
+            .warnings
+            .is_empty()
+    );
+}

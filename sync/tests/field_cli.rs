@@ -310,3 +310,93 @@ fn field_kit_end_to_end() {
         assert_eq!(&bytes[..3], &[0xff, 0xd8, 0xff]);
     }
 }
+
+/// A stop whose centroid sits a hair south of the equator (floating noise of a pixel centred
+/// on it) is shown as 0.000000, not as -0.0000000, which reads as the southern hemisphere, and
+/// with the six decimals the field sheet prints (`planning::coords::format_dd`), so a team
+/// comparing the two sees the same digits.
+#[test]
+fn positions_on_the_equator_have_one_hemisphere() {
+    let dir = tempfile::tempdir().expect("dir");
+    let ws = dir.path().join("ws");
+    let bundle = dir.path().join("trip.zip");
+    let mut events = common::events();
+    events[0].centroid = geo::Point::new(23.43, -1e-12);
+    let mut out = Cursor::new(Vec::new());
+    write_bundle(
+        &mut out,
+        &current_header(),
+        &events,
+        &common::controls(),
+        &common::start(),
+        &common::route(),
+        &Checklist::default_v1(),
+        &common::KEY,
+        common::extras(),
+    )
+    .expect("bundle");
+    std::fs::write(&bundle, out.into_inner()).expect("write bundle");
+    must(&ws, &["open", bundle.to_str().expect("path")]);
+    let out = must(&ws, &["show", &events[0].code]);
+    assert!(out.contains("position     0.000000, 23.430000"), "{out}");
+    assert!(!out.contains("-0.0"), "{out}");
+}
+
+/// `jpeg` with an EXIF DateTimeOriginal and no offset and no GPS time: the camera's local time.
+fn jpeg_with_local_time(shade: u8, local: &str) -> Vec<u8> {
+    let field = Field {
+        tag: Tag::DateTimeOriginal,
+        ifd_num: In::PRIMARY,
+        value: Value::Ascii(vec![local.as_bytes().to_vec()]),
+    };
+    let mut w = exif::experimental::Writer::new();
+    w.push_field(&field);
+    let mut tiff = Cursor::new(Vec::new());
+    w.write(&mut tiff, false).expect("exif");
+    let tiff = tiff.into_inner();
+    let plain = jpeg(shade);
+    let mut out = plain[..2].to_vec();
+    out.extend([0xff, 0xe1]);
+    out.extend(((tiff.len() + 8) as u16).to_be_bytes());
+    out.extend(b"Exif\0\0");
+    out.extend(&tiff);
+    out.extend(&plain[2..]);
+    out
+}
+
+/// A camera that writes its local time with no offset and no GPS time: the time is placed in
+/// the camera zone set for the trip (`camera-zone`), so 10:00 local at UTC+03:00 is 07:00Z
+/// (hand computation); without it the kit says it takes UTC.
+#[test]
+fn photo_times_without_offset_use_the_trip_camera_zone() {
+    let dir = tempfile::tempdir().expect("dir");
+    let ws = dir.path().join("ws");
+    let bundle = dir.path().join("trip.zip");
+    write_current_bundle(&bundle);
+    must(&ws, &["open", bundle.to_str().expect("path")]);
+    let out = must(&ws, &["camera-zone"]);
+    assert!(out.contains("+00:00"), "{out}");
+    let day = (Utc::now() - Duration::days(1)).date_naive();
+    let photo = dir.path().join("local.jpg");
+    let local = format!("{} 10:00:00", day.format("%Y:%m:%d"));
+    std::fs::write(&photo, jpeg_with_local_time(90, &local)).expect("photo");
+    let out = must(&ws, &["camera-zone", "+03:00"]);
+    assert!(out.contains("+03:00"), "{out}");
+    must(
+        &ws,
+        &[
+            "report",
+            "K0411",
+            "--outcome",
+            "inconclusive",
+            "--at",
+            "-1.2,23.4",
+            "--photo",
+            photo.to_str().expect("path"),
+        ],
+    );
+    let out = must(&ws, &["show", "K0411"]);
+    let want = format!("at {}T07:00:00+00:00", day.format("%Y-%m-%d"));
+    assert!(out.contains(&want), "{want} in {out}");
+    assert!(!field(&ws, &["camera-zone", "+25:00"]).ok);
+}

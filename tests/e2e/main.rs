@@ -3,9 +3,11 @@
 mod access;
 mod alerts_api;
 mod bundles;
+mod footprints;
 mod hardening;
 mod intake;
 mod pages;
+mod photo_times;
 mod robust_http;
 mod stats_api;
 mod stats_cache;

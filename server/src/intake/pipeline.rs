@@ -24,7 +24,7 @@ use crate::platform::storage::{
 use chrono::{DateTime, Utc};
 use groundproof_sync::SyncError;
 use groundproof_sync::bundle::Checklist;
-use groundproof_sync::photo::inspect_jpeg;
+use groundproof_sync::photo::{TimeBasis, inspect_jpeg};
 use groundproof_sync::returns::{OpenedReturn, Report, ReportPhoto, Target, open_return};
 use serde::Serialize;
 use sha2::{Digest, Sha256};
@@ -206,12 +206,6 @@ fn body_sha256(r: &Report) -> String {
     hex::encode(Sha256::digest(serde_json::to_vec(r).unwrap_or_default()))
 }
 
-/// A square of `area_ha` centred on (lon, lat), as a footprint for a new clearing.
-fn clearing_square(lon: f64, lat: f64, area_ha: f64) -> geo::MultiPolygon<f64> {
-    let side_m = (area_ha * 10_000.0).sqrt();
-    geo::MultiPolygon::new(vec![crate::domain::geodesy::pixel_square(lon, lat, side_m)])
-}
-
 fn footprint_json(mp: &geo::MultiPolygon<f64>) -> String {
     geojson::Geometry::new(geojson::GeometryValue::from(mp)).to_string()
 }
@@ -257,10 +251,17 @@ impl Context<'_> {
                 sha256: sha.to_string(),
                 width: check.width,
                 height: check.height,
-                taken_at: check.meta.taken_at.map(|t| t.to_rfc3339()),
+                // A camera's local time with no offset and no GPS stamp is not an instant
+                // here: the report's time (placed in the trip's camera zone) stands.
+                taken_at: check
+                    .meta
+                    .taken_at
+                    .filter(|_| check.meta.time_basis != Some(TimeBasis::CameraZone))
+                    .map(|t| t.to_rfc3339()),
                 lat: check.meta.lat,
                 lon: check.meta.lon,
-                direction_deg: check.meta.direction_deg,
+                // A magnetic direction is not stored as a bearing from true north.
+                direction_deg: check.meta.true_direction_deg(),
                 bytes: bytes.len() as u64,
                 stored_at: self.received_at.to_rfc3339(),
                 data_matches_header: check.data_matches_header,
@@ -371,8 +372,8 @@ impl Context<'_> {
                 }
             }
             Target::NewClearing => match new_clearing(r) {
-                Some(t) => t,
-                None => return Ok(Err("a new clearing needs a position and area_ha".into())),
+                Ok(t) => t,
+                Err(m) => return Ok(Err(m)),
             },
         }))
     }
@@ -559,13 +560,15 @@ fn photo_facts(p: &ReportPhoto, info: &PhotoInfo, reused: bool) -> PhotoFacts {
     }
 }
 
-/// The target of a new clearing: a square of its area around its position,
-/// and the field-found event to make; `None` without a position and area.
-fn new_clearing(r: &Report) -> Option<Resolved> {
+/// The target of a new clearing: a square of its area around its position
+/// (`domain::geodesy::clearing_square`), and the field-found event to make;
+/// `Err` without a position and area, or for a square that cannot be stored.
+fn new_clearing(r: &Report) -> Result<Resolved, String> {
     let (Some(p), Some(area)) = (r.position, r.area_ha) else {
-        return None;
+        return Err("a new clearing needs a position and area_ha".into());
     };
-    let mp = clearing_square(p.lon, p.lat, area);
+    let mp = crate::domain::geodesy::clearing_square(p.lon, p.lat, area)
+        .map_err(|m| format!("new clearing: {m}"))?;
     let rect = geo::BoundingRect::bounding_rect(&mp);
     let day = Day::from_date(r.observed_at.date_naive());
     let write = rect.map(|b| EventWrite {
@@ -580,7 +583,7 @@ fn new_clearing(r: &Report) -> Option<Resolved> {
         corroborated: false,
         per_source: BTreeMap::new(),
     });
-    Some(Resolved {
+    Ok(Resolved {
         kind: TargetKind::NewClearing,
         event_id: None,
         control_code: None,
@@ -901,7 +904,7 @@ mod tests {
         use geo::GeodesicArea;
         // 2.5 ha is a square of 158.1 m sides; the geodesic area of the
         // square (Karney, through geo 0.33) is 25,000 m^2 to within 0.1%.
-        let mp = clearing_square(-60.0, -3.0, 2.5);
+        let mp = crate::domain::geodesy::clearing_square(-60.0, -3.0, 2.5).unwrap();
         let a = mp.geodesic_area_unsigned();
         assert!((a - 25_000.0).abs() < 25.0, "{a}");
         let back = crate::alerts::events::parse_multipolygon(&footprint_json(&mp)).unwrap();

@@ -75,6 +75,14 @@ pub enum Command {
     },
     /// Show the bundle, the reports and their push state.
     Status,
+    /// Show or set the cameras' time zone for this trip, as an offset from UTC (e.g. +03:00):
+    /// a photo whose EXIF time has neither an offset nor a GPS time stamp is placed in it.
+    /// Until set it is UTC (the bundle does not yet carry the organisation's zone).
+    CameraZone {
+        /// Offset from UTC, `+HH:MM` or `-HH:MM`.
+        #[arg(allow_hyphen_values = true)]
+        offset: Option<String>,
+    },
 }
 
 /// The fields of a report.

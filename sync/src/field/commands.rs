@@ -8,10 +8,13 @@ use chrono::{DateTime, Utc};
 use super::cli::{Cli, Command, ReportArgs};
 use super::geo_calc::{compass, distance_bearing, parse_lat_lon};
 use super::push::pack_workspace;
-use super::record::build_report;
-use super::workspace::{BUNDLE_COPY, Snapshot, Stop, UNPACKED};
+use super::record::{Trip, build_report};
+use super::workspace::{
+    BUNDLE_COPY, CAMERA_ZONE, Snapshot, Stop, UNPACKED, camera_zone, parse_offset,
+};
 use crate::SyncError;
 use crate::bundle::{OpenedBundle, open_bundle};
+use crate::geodesy::format_dd;
 use crate::outbox::{Outbox, PushState, StoredReport, write_atomic};
 use crate::returns::{ReturnLimits, Target};
 
@@ -62,7 +65,22 @@ pub fn execute(cli: Cli) -> Result<(), SyncError> {
             Ok(())
         }
         Command::Status => status(ws),
+        Command::CameraZone { offset } => camera_zone_command(ws, offset.as_deref()),
     }
+}
+
+/// Shows the trip's camera zone, or sets it first when `offset` is given.
+fn camera_zone_command(ws: &Path, offset: Option<&str>) -> Result<(), SyncError> {
+    if let Some(raw) = offset {
+        let zone = parse_offset(raw)?;
+        Snapshot::load(ws)?;
+        write_atomic(&ws.join(CAMERA_ZONE), zone.to_string().as_bytes())?;
+    }
+    println!(
+        "camera zone  UTC{} (for photo times written without an offset or GPS time)",
+        camera_zone(ws)?
+    );
+    Ok(())
 }
 
 fn open(ws: &Path, bundle_path: &Path, now: DateTime<Utc>) -> Result<(), SyncError> {
@@ -178,7 +196,7 @@ fn show(ws: &Path, code: &str, from: Option<&str>) -> Result<(), SyncError> {
     match stop {
         Stop::Event(e) => {
             println!("event {} (id {})", e.code, e.event_id);
-            println!("  position     {:.7}, {:.7}", e.lat, e.lon);
+            println!("  position     {}", format_dd(e.lat, e.lon));
             println!("  area         {:.2} ha", e.area_ha);
             println!("  detected     {} .. {}", e.first_detected, e.last_detected);
             println!("  sources      {}", e.sources.join(", "));
@@ -191,7 +209,7 @@ fn show(ws: &Path, code: &str, from: Option<&str>) -> Result<(), SyncError> {
         }
         Stop::Control(c) => {
             println!("control point {}", c.code);
-            println!("  position     {:.7}, {:.7}", c.lat, c.lon);
+            println!("  position     {}", format_dd(c.lat, c.lon));
             println!("  visit order  {}", c.visit_order);
         }
     }
@@ -256,15 +274,12 @@ fn report(
             }
         },
     };
-    let (r, paths) = build_report(
-        snap.bundle_id,
-        target,
-        fields,
-        None,
-        Vec::new(),
-        &snap.checklist,
-        now,
-    )?;
+    let trip = Trip {
+        bundle_id: snap.bundle_id,
+        checklist: &snap.checklist,
+        camera_zone: camera_zone(ws)?,
+    };
+    let (r, paths) = build_report(&trip, target, fields, None, Vec::new(), now)?;
     let mut outbox = Outbox::open(ws)?;
     outbox.add_report(&r, &paths, ReturnLimits::default().max_photo_bytes)?;
     println!(
@@ -298,13 +313,17 @@ fn amend(
         .iter()
         .map(|p| outbox.photo_path(&p.sha256))
         .collect();
+    let trip = Trip {
+        bundle_id: snap.bundle_id,
+        checklist: &snap.checklist,
+        camera_zone: camera_zone(ws)?,
+    };
     let (r, paths) = build_report(
-        snap.bundle_id,
+        &trip,
         base.report.target.clone(),
         fields,
         Some(&base.report),
         base_paths,
-        &snap.checklist,
         now,
     )?;
     outbox.add_report(&r, &paths, ReturnLimits::default().max_photo_bytes)?;

@@ -1,5 +1,5 @@
 //! Turning command-line report fields into a [`Report`]: reading each photo
-//! (size bound, JPEG magic, EXIF via [`crate::photo::read_photo_meta`]), taking the
+//! (size bound, JPEG magic, EXIF via [`crate::photo::read_photo_meta_in`] in the trip's camera zone), taking the
 //! position from `--at` or else from the photos' GPS, the time from `--time`
 //! or else the earliest photo time, and checking the result against the
 //! bundle's checklist before anything is stored.
@@ -7,14 +7,14 @@
 use std::io::Read;
 use std::path::{Path, PathBuf};
 
-use chrono::{DateTime, Utc};
+use chrono::{DateTime, FixedOffset, Utc};
 use sha2::{Digest, Sha256};
 use uuid::Uuid;
 
 use super::cli::ReportArgs;
 use super::geo_calc::parse_lat_lon;
 use crate::SyncError;
-use crate::photo::read_photo_meta;
+use crate::photo::read_photo_meta_in;
 use crate::returns::{
     Position, PositionSource, Report, ReportPhoto, ReturnLimits, Target, validate_report,
 };
@@ -29,7 +29,9 @@ pub struct ReadPhoto {
 }
 
 /// Reads and checks one photo file.
-pub fn read_photo(path: &Path) -> Result<ReadPhoto, SyncError> {
+/// A time without offset or GPS stamp is placed in `camera_zone`; a magnetic image
+/// direction is left out (the report's `direction_deg` is from true north).
+pub fn read_photo(path: &Path, camera_zone: FixedOffset) -> Result<ReadPhoto, SyncError> {
     let max = ReturnLimits::default().max_photo_bytes;
     let file = std::fs::File::open(path)
         .map_err(|e| SyncError::Usage(format!("cannot open photo {}: {e}", path.display())))?;
@@ -49,7 +51,7 @@ pub fn read_photo(path: &Path) -> Result<ReadPhoto, SyncError> {
             path.display()
         )));
     }
-    let meta = read_photo_meta(&bytes).unwrap_or_default();
+    let meta = read_photo_meta_in(&bytes, camera_zone).unwrap_or_default();
     let original_name = path
         .file_name()
         .map(|n| n.to_string_lossy().chars().take(255).collect())
@@ -62,7 +64,7 @@ pub fn read_photo(path: &Path) -> Result<ReadPhoto, SyncError> {
             taken_at: meta.taken_at,
             lat: meta.lat,
             lon: meta.lon,
-            direction_deg: meta.direction_deg,
+            direction_deg: meta.true_direction_deg(),
         },
     })
 }
@@ -93,22 +95,34 @@ fn photo_position(photos: &[ReadPhoto]) -> Option<Position> {
         })
 }
 
+/// What a report takes from its trip: the bundle, its checklist, and the cameras' zone.
+#[derive(Debug, Clone, Copy)]
+pub struct Trip<'a> {
+    pub bundle_id: Uuid,
+    pub checklist: &'a crate::bundle::Checklist,
+    pub camera_zone: FixedOffset,
+}
+
 /// Builds a report from `args`. `base` is the report being amended (its values fill
 /// what `args` leaves out, and its photos are kept unless new ones are given, with
 /// `base_photo_paths` pointing at their stored copies).
 pub fn build_report(
-    bundle_id: Uuid,
+    trip: &Trip<'_>,
     target: Target,
     args: &ReportArgs,
     base: Option<&Report>,
     base_photo_paths: Vec<PathBuf>,
-    checklist: &crate::bundle::Checklist,
     now: DateTime<Utc>,
 ) -> Result<(Report, Vec<PathBuf>), SyncError> {
+    let Trip {
+        bundle_id,
+        checklist,
+        camera_zone,
+    } = *trip;
     let read: Vec<ReadPhoto> = args
         .photos
         .iter()
-        .map(|p| read_photo(p))
+        .map(|p| read_photo(p, camera_zone))
         .collect::<Result<_, _>>()?;
     let (photos, paths) = report_photos(&read, base, base_photo_paths);
     let outcome = report_outcome(args, base, checklist)?;

@@ -7,7 +7,7 @@
 
 use std::path::{Path, PathBuf};
 
-use chrono::{DateTime, Utc};
+use chrono::{DateTime, Offset, Utc};
 use serde::{Deserialize, Serialize};
 use uuid::Uuid;
 
@@ -23,6 +23,37 @@ pub const BUNDLE_COPY: &str = "bundle.zip";
 pub const UNPACKED: &str = "bundle";
 /// Folder of packed returns.
 pub const OUTGOING: &str = "outgoing";
+/// The trip's camera zone (an offset from UTC such as `+03:00`), set by `camera-zone`.
+pub const CAMERA_ZONE: &str = "camera-zone";
+
+/// The cameras' zone for this trip: what `camera-zone` set, else UTC.
+pub fn camera_zone(workspace: &Path) -> Result<chrono::FixedOffset, SyncError> {
+    match std::fs::read_to_string(workspace.join(CAMERA_ZONE)) {
+        Ok(text) => parse_offset(text.trim()),
+        Err(e) if e.kind() == std::io::ErrorKind::NotFound => Ok(chrono::Utc.fix()),
+        Err(e) => Err(SyncError::io("read the camera zone", e)),
+    }
+}
+
+/// An offset from UTC, `+HH:MM` or `-HH:MM`, within ±14:00 (the zones in use).
+pub fn parse_offset(raw: &str) -> Result<chrono::FixedOffset, SyncError> {
+    let bad = || {
+        SyncError::Usage(format!(
+            "camera zone {raw:?} must be an offset from UTC such as +03:00 or -05:30, within ±14:00"
+        ))
+    };
+    let (sign, rest) = match raw.as_bytes().first() {
+        Some(b'+') => (1, &raw[1..]),
+        Some(b'-') => (-1, &raw[1..]),
+        _ => return Err(bad()),
+    };
+    let (h, m) = rest.split_once(':').ok_or_else(bad)?;
+    let (h, m): (i32, i32) = (h.parse().map_err(|_| bad())?, m.parse().map_err(|_| bad())?);
+    if !(0..60).contains(&m) || h * 60 + m > 14 * 60 || h < 0 {
+        return Err(bad());
+    }
+    chrono::FixedOffset::east_opt(sign * (h * 3600 + m * 60)).ok_or_else(bad)
+}
 
 /// An event as the field commands see it.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]

@@ -4,39 +4,87 @@
 //! JEITA CP-3451, Exif 2.3x, tag table in kamadak-exif 0.6.2 `src/tag.rs`):
 //! DateTimeOriginal (0x9003) with OffsetTimeOriginal (0x9011) and
 //! SubSecTimeOriginal (0x9291) from the Exif IFD, and GPSLatitude/Ref
-//! (0x0002/0x0001), GPSLongitude/Ref (0x0004/0x0003) and GPSImgDirection
-//! (0x0011) from the GPS IFD. Missing or malformed EXIF is not an error: the
+//! (0x0002/0x0001), GPSLongitude/Ref (0x0004/0x0003), GPSImgDirection/Ref
+//! (0x0011/0x0010), GPSTimeStamp (0x0007) and GPSDateStamp (0x001D) from the
+//! GPS IFD. Missing or malformed EXIF is not an error: the
 //! field it would have filled stays `None`. Only input that is not a JPEG is
 //! refused. EXIF is parsed with `continue_on_error`, so one bad IFD entry does
 //! not hide the good ones (reliability notes §1.3).
 
-use chrono::{DateTime, NaiveDate, Utc};
+use chrono::{DateTime, FixedOffset, NaiveDate, Offset, Utc};
 use exif::{Exif, Field, In, Reader, Tag, Value};
 use serde::{Deserialize, Serialize};
 
 /// What a photo's EXIF says about when, where and which way it was taken.
 #[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
 pub struct PhotoMeta {
-    /// DateTimeOriginal as an instant. When OffsetTimeOriginal is present it
-    /// is applied; when it is absent or unreadable, the camera's local time is
-    /// taken **as UTC** (Exif stores DateTimeOriginal as local time with no
-    /// zone, so this may be off by the camera's zone offset).
+    /// When the photo was taken. DateTimeOriginal is the camera's local time: with
+    /// OffsetTimeOriginal the offset is applied; without it the GPS time stamp (UTC) is used
+    /// when the photo has one; otherwise the local time is placed in the camera's zone given to
+    /// [`read_photo_meta_in`] ([`read_photo_meta`] takes UTC). [`PhotoMeta::time_basis`] says
+    /// which.
     pub taken_at: Option<DateTime<Utc>>,
+    /// What [`PhotoMeta::taken_at`] rests on; `None` when there is no time.
+    #[serde(default)]
+    pub time_basis: Option<TimeBasis>,
     /// WGS-84 latitude in decimal degrees, south negative.
     pub lat: Option<f64>,
     /// WGS-84 longitude in decimal degrees, west negative.
     pub lon: Option<f64>,
-    /// GPSImgDirection in degrees, as written (GPSImgDirectionRef, true or
-    /// magnetic north, is not applied).
+    /// GPSImgDirection in degrees, as written, from the north that
+    /// [`PhotoMeta::direction_north`] names.
     pub direction_deg: Option<f64>,
+    /// GPSImgDirectionRef: true or magnetic north (true when the tag is absent, its default in
+    /// Exif 2.32). A magnetic direction is not a bearing from true north: see
+    /// [`PhotoMeta::true_direction_deg`].
+    #[serde(default)]
+    pub direction_north: Option<North>,
 }
 
-/// Reads [`PhotoMeta`] from the bytes of a JPEG file.
+/// What a photo's time rests on.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum TimeBasis {
+    /// DateTimeOriginal with its OffsetTimeOriginal.
+    Offset,
+    /// The GPS date and time stamps (UTC).
+    GpsUtc,
+    /// DateTimeOriginal placed in the camera's zone, given by the reader.
+    CameraZone,
+}
+
+/// The north an image direction is measured from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum North {
+    True,
+    Magnetic,
+}
+
+impl PhotoMeta {
+    /// The image direction as a bearing from true north; `None` for a magnetic direction
+    /// (the declination is not known here) or no direction.
+    pub fn true_direction_deg(&self) -> Option<f64> {
+        match self.direction_north {
+            Some(North::True) => self.direction_deg,
+            _ => None,
+        }
+    }
+}
+
+/// Reads [`PhotoMeta`] from the bytes of a JPEG file; a time with neither offset nor GPS
+/// stamp is taken as UTC (see [`read_photo_meta_in`]).
 ///
 /// Returns `Err` only when `bytes` does not start with the JPEG SOI marker
 /// (`FF D8`); a JPEG without EXIF, or with broken EXIF, gives a `PhotoMeta`
 /// whose unreadable fields are `None`.
 pub fn read_photo_meta(bytes: &[u8]) -> Result<PhotoMeta, String> {
+    read_photo_meta_in(bytes, Utc.fix())
+}
+
+/// [`read_photo_meta`] with the camera's zone, used for a DateTimeOriginal that has neither
+/// OffsetTimeOriginal nor a GPS time stamp.
+pub fn read_photo_meta_in(bytes: &[u8], camera_zone: FixedOffset) -> Result<PhotoMeta, String> {
     if !is_jpeg(bytes) {
         return Err("not a JPEG file (no SOI marker FF D8)".to_string());
     }
@@ -46,7 +94,7 @@ pub fn read_photo_meta(bytes: &[u8]) -> Result<PhotoMeta, String> {
         .read_from_container(&mut cursor)
         .or_else(|e| e.distill_partial_result(|_ignored| {}));
     Ok(match parsed {
-        Ok(exif) => meta_from_exif(&exif),
+        Ok(exif) => meta_from_exif(&exif, camera_zone),
         Err(_) => PhotoMeta::default(),
     })
 }
@@ -56,9 +104,15 @@ pub(crate) fn is_jpeg(bytes: &[u8]) -> bool {
     bytes.len() >= 2 && bytes[0] == 0xFF && bytes[1] == 0xD8
 }
 
-fn meta_from_exif(exif: &Exif) -> PhotoMeta {
+fn meta_from_exif(exif: &Exif, camera_zone: FixedOffset) -> PhotoMeta {
+    let (taken_at, time_basis) = match taken_at(exif, camera_zone) {
+        Some((t, basis)) => (Some(t), Some(basis)),
+        None => (None, None),
+    };
+    let direction_deg = direction(exif);
     PhotoMeta {
-        taken_at: taken_at(exif),
+        taken_at,
+        time_basis,
         lat: coordinate(
             exif,
             Tag::GPSLatitude,
@@ -75,7 +129,8 @@ fn meta_from_exif(exif: &Exif) -> PhotoMeta {
             b'E',
             b'W',
         ),
-        direction_deg: direction(exif),
+        direction_deg,
+        direction_north: direction_deg.and_then(|_| direction_north(exif)),
     }
 }
 
@@ -90,8 +145,14 @@ fn first_ascii(exif: &Exif, tag: Tag) -> Option<&[u8]> {
     }
 }
 
-fn taken_at(exif: &Exif) -> Option<DateTime<Utc>> {
-    let mut dt = exif::DateTime::from_ascii(first_ascii(exif, Tag::DateTimeOriginal)?).ok()?;
+/// The time of the photo and what it rests on: the offset when written, else the GPS stamp,
+/// else the camera's zone.
+fn taken_at(exif: &Exif, camera_zone: FixedOffset) -> Option<(DateTime<Utc>, TimeBasis)> {
+    let Some(mut dt) = first_ascii(exif, Tag::DateTimeOriginal)
+        .and_then(|raw| exif::DateTime::from_ascii(raw).ok())
+    else {
+        return gps_time(exif).map(|t| (t, TimeBasis::GpsUtc));
+    };
     if let Some(sub) = first_ascii(exif, Tag::SubSecTimeOriginal) {
         // A bad SubSecTimeOriginal is dropped, not fatal.
         if dt.parse_subsec(sub).is_err() {
@@ -111,9 +172,55 @@ fn taken_at(exif: &Exif) -> Option<DateTime<Utc>> {
                 u32::from(dt.second),
                 dt.nanosecond.unwrap_or(0),
             )?;
-    let offset_s = i64::from(dt.offset.unwrap_or(0)) * 60;
+    let (offset_s, basis) = match dt.offset {
+        Some(minutes) => (i64::from(minutes) * 60, TimeBasis::Offset),
+        None => {
+            if let Some(t) = gps_time(exif) {
+                return Some((t, TimeBasis::GpsUtc));
+            }
+            (
+                i64::from(camera_zone.local_minus_utc()),
+                TimeBasis::CameraZone,
+            )
+        }
+    };
     let utc = local.checked_sub_signed(chrono::TimeDelta::try_seconds(offset_s)?)?;
-    Some(utc.and_utc())
+    Some((utc.and_utc(), basis))
+}
+
+/// GPSDateStamp (`YYYY:MM:DD`) and GPSTimeStamp (hour, minute, second as rationals), UTC.
+fn gps_time(exif: &Exif) -> Option<DateTime<Utc>> {
+    let date = std::str::from_utf8(first_ascii(exif, Tag::GPSDateStamp)?).ok()?;
+    let date = NaiveDate::parse_from_str(date.trim_end_matches('\0'), "%Y:%m:%d").ok()?;
+    let Value::Rational(v) = &field(exif, Tag::GPSTimeStamp)?.value else {
+        return None;
+    };
+    let parts = v
+        .iter()
+        .map(|r| (r.denom != 0).then(|| r.to_f64()))
+        .collect::<Option<Vec<f64>>>()?;
+    let [h, m, s] = parts.as_slice() else {
+        return None;
+    };
+    if !((0.0..24.0).contains(h) && (0.0..60.0).contains(m) && (0.0..61.0).contains(s)) {
+        return None;
+    }
+    let nanos = (h * 3600.0 + m * 60.0 + s) * 1e9;
+    Some(
+        date.and_hms_opt(0, 0, 0)?.and_utc() + chrono::TimeDelta::nanoseconds(nanos.round() as i64),
+    )
+}
+
+/// GPSImgDirectionRef: `T` true north (also when absent, its default), `M` magnetic north.
+fn direction_north(exif: &Exif) -> Option<North> {
+    match first_ascii(exif, Tag::GPSImgDirectionRef) {
+        None => Some(North::True),
+        Some(v) => match v.first()?.to_ascii_uppercase() {
+            b'T' => Some(North::True),
+            b'M' => Some(North::Magnetic),
+            _ => None,
+        },
+    }
 }
 
 /// Degrees from three unsigned rationals (d, m, s), signed by the Ref tag.
@@ -254,6 +361,69 @@ mod tests {
             Some("2025-01-02T03:04:05+00:00")
         );
         assert_eq!((m.lat, m.lon, m.direction_deg), (None, None, None));
+    }
+
+    /// A camera writes DateTimeOriginal in its own local time with no offset (CIPA DC-008,
+    /// Exif 2.32 §4.6.5: OffsetTimeOriginal is optional); the GPS time stamp is UTC (Exif 2.32,
+    /// GPSTimeStamp and GPSDateStamp "UTC"). With both and no offset, the GPS stamp is the
+    /// instant: 06:04:05 local at UTC+3 is 03:04:05Z.
+    #[test]
+    fn time_without_offset_uses_the_gps_utc_stamp() {
+        let f = [
+            ascii(Tag::DateTimeOriginal, "2025:01:02 06:04:05"),
+            ascii(Tag::GPSDateStamp, "2025:01:02"),
+            rationals(Tag::GPSTimeStamp, &[(3, 1), (4, 1), (5, 1)]),
+        ];
+        let m = read_photo_meta(&jpeg_with_fields(&f)).expect("jpeg");
+        assert_eq!(
+            m.taken_at.map(|t| t.to_rfc3339()).as_deref(),
+            Some("2025-01-02T03:04:05+00:00")
+        );
+        assert_eq!(m.time_basis, Some(TimeBasis::GpsUtc));
+        // An offset, when written, wins over the GPS stamp.
+        let mut with_offset = f.to_vec();
+        with_offset.push(ascii(Tag::OffsetTimeOriginal, "+03:00"));
+        let m = read_photo_meta(&jpeg_with_fields(&with_offset)).expect("jpeg");
+        assert_eq!(m.time_basis, Some(TimeBasis::Offset));
+        assert_eq!(
+            m.taken_at.map(|t| t.to_rfc3339()).as_deref(),
+            Some("2025-01-02T03:04:05+00:00")
+        );
+    }
+
+    /// Without offset and GPS stamp the camera's zone, given per return, places the local time:
+    /// 06:04:05 at UTC+03:00 is 03:04:05Z (hand computation).
+    #[test]
+    fn time_without_offset_or_gps_uses_the_camera_zone() {
+        let f = [ascii(Tag::DateTimeOriginal, "2025:01:02 06:04:05")];
+        let zone = chrono::FixedOffset::east_opt(3 * 3600).expect("offset");
+        let m = read_photo_meta_in(&jpeg_with_fields(&f), zone).expect("jpeg");
+        assert_eq!(
+            m.taken_at.map(|t| t.to_rfc3339()).as_deref(),
+            Some("2025-01-02T03:04:05+00:00")
+        );
+        assert_eq!(m.time_basis, Some(TimeBasis::CameraZone));
+    }
+
+    /// GPSImgDirectionRef `M` means magnetic north (Exif 2.32, GPS tag 0x0010): the direction
+    /// is kept and labelled magnetic, and not given out as a bearing from true north.
+    #[test]
+    fn a_magnetic_direction_is_labelled_magnetic() {
+        let f = [
+            ascii(Tag::GPSImgDirectionRef, "M"),
+            rationals(Tag::GPSImgDirection, &[(2735, 10)]),
+        ];
+        let m = read_photo_meta(&jpeg_with_fields(&f)).expect("jpeg");
+        assert_eq!(m.direction_deg, Some(273.5));
+        assert_eq!(m.direction_north, Some(North::Magnetic));
+        assert_eq!(m.true_direction_deg(), None);
+        let t = [
+            ascii(Tag::GPSImgDirectionRef, "T"),
+            rationals(Tag::GPSImgDirection, &[(2735, 10)]),
+        ];
+        let m = read_photo_meta(&jpeg_with_fields(&t)).expect("jpeg");
+        assert_eq!(m.direction_north, Some(North::True));
+        assert_eq!(m.true_direction_deg(), Some(273.5));
     }
 
     #[test]

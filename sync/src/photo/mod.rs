@@ -21,5 +21,5 @@ pub use decode::{
     check_limits, inspect_jpeg, thumbnail_size,
 };
 pub use error::PhotoError;
-pub use exif::{PhotoMeta, read_photo_meta};
+pub use exif::{North, PhotoMeta, TimeBasis, read_photo_meta, read_photo_meta_in};
 pub use header::{JpegHeader, JpegProcess, read_jpeg_header};

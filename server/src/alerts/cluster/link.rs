@@ -63,31 +63,68 @@ struct Slot {
 /// Link the points; the returned sets are the events.
 pub fn link(points: &[LinkPoint], rule: &LinkRule) -> UnionFind {
     let n = points.len();
-    let mut uf = UnionFind::new(n);
     if n < 2 {
-        return uf;
+        return UnionFind::new(n);
     }
-    let max_pixel = points.iter().map(|p| p.pixel_m).fold(0.0_f64, f64::max);
-    let max_link = rule.factor * max_pixel;
-    let ang = max_link / MEAN_RADIUS_M; // radians
-    let max_abs_lat = points.iter().map(|p| p.lat.abs()).fold(0.0_f64, f64::max);
-    let lat_top = (max_abs_lat + ang.to_degrees()).min(89.999).to_radians();
-    // sin(Δλ/2) ≤ sin(d/2R) / cos φ for both points at |φ| ≤ φtop.
-    let dlon_rad = 2.0 * ((ang / 2.0).sin() / lat_top.cos()).min(1.0).asin();
-    let cell_lat = ang.to_degrees() * 1.000_001;
-    let cell_lon = (dlon_rad.to_degrees() * 1.000_001).max(cell_lat);
-    let lon0 = points.iter().map(|p| p.lon).fold(f64::INFINITY, f64::min);
-    let lat0 = points.iter().map(|p| p.lat).fold(f64::INFINITY, f64::min);
-
-    let key = |p: &LinkPoint| -> u64 {
-        let cy = ((p.lat - lat0) / cell_lat).floor() as u64;
-        let cx = ((p.lon - lon0) / cell_lon).floor() as u64;
-        (cy << 32) | (cx & 0xffff_ffff)
+    let grid = Grid::new(points, rule);
+    let (slot_point, slots) = sorted_slots(points, rule, &grid);
+    let cells = cell_table(&slots);
+    let sweep = Sweep {
+        slots: slots.into_iter().map(|r| r.1).collect(),
+        window: rule.window_days.map(i64::from).unwrap_or(i64::MAX),
     };
-    // Everything the sweep needs of a point is computed in one sequential
-    // pass and sorted by cell together with it: gathering the points in
-    // cell order afterwards was a cache miss per point, and measured as
-    // two thirds of the time on a million points in random order.
+    let mut uf = UnionFind::new(n);
+    sweep.run(&cells, &mut uf);
+    over_points(&mut uf, &slot_point)
+}
+
+/// The cells of the sweep: sides at least the longest link distance, in
+/// degrees, counted from the south-west corner of the points.
+struct Grid {
+    cell_lat: f64,
+    cell_lon: f64,
+    lon0: f64,
+    lat0: f64,
+}
+
+impl Grid {
+    fn new(points: &[LinkPoint], rule: &LinkRule) -> Self {
+        let max_pixel = points.iter().map(|p| p.pixel_m).fold(0.0_f64, f64::max);
+        let max_link = rule.factor * max_pixel;
+        let ang = max_link / MEAN_RADIUS_M; // radians
+        let max_abs_lat = points.iter().map(|p| p.lat.abs()).fold(0.0_f64, f64::max);
+        let lat_top = (max_abs_lat + ang.to_degrees()).min(89.999).to_radians();
+        // sin(Δλ/2) ≤ sin(d/2R) / cos φ for both points at |φ| ≤ φtop.
+        let dlon_rad = 2.0 * ((ang / 2.0).sin() / lat_top.cos()).min(1.0).asin();
+        let cell_lat = ang.to_degrees() * 1.000_001;
+        Grid {
+            cell_lat,
+            cell_lon: (dlon_rad.to_degrees() * 1.000_001).max(cell_lat),
+            lon0: points.iter().map(|p| p.lon).fold(f64::INFINITY, f64::min),
+            lat0: points.iter().map(|p| p.lat).fold(f64::INFINITY, f64::min),
+        }
+    }
+
+    /// Row in the high 32 bits, column in the low 32, so keys sort by row.
+    fn key(&self, p: &LinkPoint) -> u64 {
+        let cy = ((p.lat - self.lat0) / self.cell_lat).floor() as u64;
+        let cx = ((p.lon - self.lon0) / self.cell_lon).floor() as u64;
+        (cy << 32) | (cx & 0xffff_ffff)
+    }
+}
+
+/// Every point's slot with its cell key, sorted by cell, and the point
+/// each slot came from.
+///
+/// Everything the sweep needs of a point is computed in one sequential
+/// pass and sorted by cell together with it: gathering the points in cell
+/// order afterwards was a cache miss per point, and measured as two thirds
+/// of the time on a million points in random order.
+fn sorted_slots(
+    points: &[LinkPoint],
+    rule: &LinkRule,
+    grid: &Grid,
+) -> (Vec<u32>, Vec<(u64, Slot)>) {
     let mut recs: Vec<(u64, u32, Slot)> = points
         .iter()
         .enumerate()
@@ -100,27 +137,42 @@ pub fn link(points: &[LinkPoint], rule: &LinkRule) -> UnionFind {
                 day: p.day,
                 thr: 4.0 * (d / 2.0).sin().powi(2),
             };
-            (key(p), i as u32, slot)
+            (grid.key(p), i as u32, slot)
         })
         .collect();
     recs.sort_unstable_by_key(|r| (r.0, r.1));
+    let slot_point = recs.iter().map(|r| r.1).collect();
+    let slots = recs.into_iter().map(|r| (r.0, r.2)).collect();
+    (slot_point, slots)
+}
 
-    // Cell table: (key, start, end) over slots, in key order.
+/// Cell table: (key, start, end) over the sorted slots, in key order.
+fn cell_table(slots: &[(u64, Slot)]) -> Vec<(u64, u32, u32)> {
+    let n = slots.len();
     let mut cells: Vec<(u64, u32, u32)> = Vec::new();
     let mut start = 0usize;
     for s in 1..=n {
-        if s == n || recs[s].0 != recs[start].0 {
-            cells.push((recs[start].0, start as u32, s as u32));
+        if s == n || slots[s].0 != slots[start].0 {
+            cells.push((slots[start].0, start as u32, s as u32));
             start = s;
         }
     }
-    let slot_point: Vec<u32> = recs.iter().map(|r| r.1).collect();
-    let slots: Vec<Slot> = recs.into_iter().map(|r| r.2).collect();
-    let window = rule.window_days.map(i64::from).unwrap_or(i64::MAX);
+    cells
+}
 
-    let linked = |uf: &mut UnionFind, a: usize, b: usize| {
-        let (p, q) = (&slots[a], &slots[b]);
-        if (i64::from(p.day) - i64::from(q.day)).abs() > window {
+/// The pair tests over slots in cell order.
+struct Sweep {
+    slots: Vec<Slot>,
+    /// Largest difference in days (`i64::MAX` for no window).
+    window: i64,
+}
+
+impl Sweep {
+    /// Join slots `a` and `b` when they are close in time and in space.
+    #[inline]
+    fn linked(&self, uf: &mut UnionFind, a: usize, b: usize) {
+        let (p, q) = (&self.slots[a], &self.slots[b]);
+        if (i64::from(p.day) - i64::from(q.day)).abs() > self.window {
             return;
         }
         let (dx, dy, dz) = (
@@ -131,47 +183,54 @@ pub fn link(points: &[LinkPoint], rule: &LinkRule) -> UnionFind {
         if dx * dx + dy * dy + dz * dz <= p.thr.max(q.thr) {
             uf.union(a as u32, b as u32);
         }
-    };
-    let pairs = |uf: &mut UnionFind, (s0, s1): (u32, u32), (t0, t1): (u32, u32)| {
+    }
+
+    /// Every pair between two cells' slot ranges.
+    #[inline]
+    fn pairs(&self, uf: &mut UnionFind, (s0, s1): (u32, u32), (t0, t1): (u32, u32)) {
         for a in s0..s1 {
             for b in t0..t1 {
-                linked(uf, a as usize, b as usize);
+                self.linked(uf, a as usize, b as usize);
             }
-        }
-    };
-
-    // Each cell is compared with itself and half of its eight neighbours:
-    // east, and the three cells of the row above. Cells are visited in key
-    // order, so the first candidate of the row above only moves forward:
-    // one pointer sweeps it instead of a search per neighbour.
-    let mut up = 0usize;
-    for (ci, &(k, s0, s1)) in cells.iter().enumerate() {
-        let (cy, cx) = (k >> 32, k & 0xffff_ffff);
-        for a in s0..s1 {
-            for b in a + 1..s1 {
-                linked(&mut uf, a as usize, b as usize);
-            }
-        }
-        if let Some(&(nk, t0, t1)) = cells.get(ci + 1)
-            && nk == (cy << 32) | (cx + 1)
-        {
-            pairs(&mut uf, (s0, s1), (t0, t1));
-        }
-        let lo = ((cy + 1) << 32) | cx.saturating_sub(1);
-        let hi = ((cy + 1) << 32) | (cx + 1);
-        while up < cells.len() && cells[up].0 < lo {
-            up += 1;
-        }
-        let mut j = up;
-        while j < cells.len() && cells[j].0 <= hi {
-            pairs(&mut uf, (s0, s1), (cells[j].1, cells[j].2));
-            j += 1;
         }
     }
 
-    // Re-express the sets over the caller's point indices: every point
-    // points at the point of its slot's root (a forest of depth one).
-    let mut parent = vec![0u32; n];
+    /// Each cell is compared with itself and half of its eight neighbours:
+    /// east, and the three cells of the row above. Cells are visited in key
+    /// order, so the first candidate of the row above only moves forward:
+    /// one pointer sweeps it instead of a search per neighbour.
+    fn run(&self, cells: &[(u64, u32, u32)], uf: &mut UnionFind) {
+        let mut up = 0usize;
+        for (ci, &(k, s0, s1)) in cells.iter().enumerate() {
+            let (cy, cx) = (k >> 32, k & 0xffff_ffff);
+            for a in s0..s1 {
+                for b in a + 1..s1 {
+                    self.linked(uf, a as usize, b as usize);
+                }
+            }
+            if let Some(&(nk, t0, t1)) = cells.get(ci + 1)
+                && nk == (cy << 32) | (cx + 1)
+            {
+                self.pairs(uf, (s0, s1), (t0, t1));
+            }
+            let lo = ((cy + 1) << 32) | cx.saturating_sub(1);
+            let hi = ((cy + 1) << 32) | (cx + 1);
+            while up < cells.len() && cells[up].0 < lo {
+                up += 1;
+            }
+            let mut j = up;
+            while j < cells.len() && cells[j].0 <= hi {
+                self.pairs(uf, (s0, s1), (cells[j].1, cells[j].2));
+                j += 1;
+            }
+        }
+    }
+}
+
+/// Re-express the sets over the caller's point indices: every point
+/// points at the point of its slot's root (a forest of depth one).
+fn over_points(uf: &mut UnionFind, slot_point: &[u32]) -> UnionFind {
+    let mut parent = vec![0u32; slot_point.len()];
     for (slot, &p) in slot_point.iter().enumerate() {
         let root = uf.find(slot as u32);
         parent[p as usize] = slot_point[root as usize];

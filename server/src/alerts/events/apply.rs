@@ -1,16 +1,17 @@
 //! One alert import, applied in one transaction.
 
 use super::ClusterSettings;
-use super::zones::{ZoneShape, load_zone_shapes, zones_hit};
+use super::zones::{ZoneShape, likely_swapped, load_zone_shapes, zones_hit};
 use crate::alerts::cluster::footprint::Footprint;
 use crate::alerts::cluster::link::link;
 use crate::alerts::cluster::summary::{AlertFact, EventSummary, summarize};
 use crate::alerts::cluster::{LinkPoint, UnionFind};
 use crate::alerts::import::{
     Format, ImportFailure, MAX_LISTED_ERRORS, Parsed, ParsedAlert, ReadOptions, RowError,
-    parse_alerts,
+    latest_import_day, parse_alerts,
 };
 use crate::domain::SourceName;
+use crate::domain::geodesy::check_event_footprint;
 use crate::error::{Error, Result};
 use crate::platform::storage::{Db, EventWrite, NewAlert, Source, StoredAlert, Tx, alerts_cells};
 use serde::Serialize;
@@ -42,6 +43,9 @@ pub struct ImportOutcome {
     pub events_created: usize,
     pub events_grown: usize,
     pub events_merged: usize,
+    /// What the file may have wrong though it was imported (a likely swap of
+    /// latitude and longitude), each naming the file.
+    pub warnings: Vec<String>,
 }
 
 impl ImportOutcome {
@@ -64,6 +68,7 @@ impl ImportOutcome {
             events_created: 0,
             events_grown: 0,
             events_merged: 0,
+            warnings: Vec::new(),
         }
     }
 }
@@ -84,7 +89,7 @@ pub fn import_alerts(
     db.read(|r| r.source_by_name(req.source.as_str()))?
         .ok_or_else(unknown)?;
     let t0 = std::time::Instant::now();
-    let parsed = parse_alerts(req.file_name, req.bytes, req.format, &req.read);
+    let parsed = parse_until_import_day(req);
     let parse_ms = t0.elapsed().as_millis();
     reject_unless_importable(req, &parsed)?;
     db.write(|tx| {
@@ -93,6 +98,10 @@ pub fn import_alerts(
             .source_by_name(req.source.as_str())?
             .ok_or_else(unknown)?;
         let mut outcome = ImportOutcome::empty(req.file_name, &source.name, &parsed);
+        let zones = load_zone_shapes(tx)?;
+        outcome
+            .warnings
+            .extend(swap_warning(req.file_name, &parsed, &zones));
         let nearby = stored_nearby(tx, &source, &parsed.alerts, cfg)?;
         let fresh = fresh_alerts(&nearby, source.id, &parsed.alerts);
         outcome.duplicates = parsed.alerts.len() - fresh.len();
@@ -123,7 +132,6 @@ pub fn import_alerts(
             .into_iter()
             .map(|s| (s.id, s.name))
             .collect();
-        let zones = load_zone_shapes(tx)?;
         // Gather each touched set's alerts (reads), summarise them on all
         // cores (pure), then write in one pass.
         let work = batch.gather(tx, &groups)?;
@@ -142,6 +150,24 @@ pub fn import_alerts(
             "alerts imported"
         );
         Ok(outcome)
+    })
+}
+
+/// The file parsed, refusing detection dates after the import day whatever the caller set.
+fn parse_until_import_day(req: &ImportRequest<'_>) -> Parsed {
+    let read = ReadOptions {
+        not_after: Some(latest_import_day()),
+        ..req.read.clone()
+    };
+    parse_alerts(req.file_name, req.bytes, req.format, &read)
+}
+
+/// The warning for a file whose latitude and longitude look exchanged, if they do.
+fn swap_warning(file: &str, parsed: &Parsed, zones: &[ZoneShape]) -> Option<String> {
+    likely_swapped(&parsed.alerts, zones).then(|| {
+        format!(
+            "{file}: every alert lies outside every zone, but most would lie inside one with latitude and longitude exchanged: check the column order (or name the columns with the import's column options)"
+        )
     })
 }
 
@@ -312,6 +338,10 @@ impl Batch<'_> {
         let mut new_rows = Vec::with_capacity(self.fresh.len());
         for ((existing, new_idx, _), summary) in work.iter().zip(summaries) {
             let Some(summary) = summary else { continue };
+            check_event_footprint(&summary.footprint.shape).map_err(|m| {
+                let (lon, lat) = summary.footprint.centroid;
+                Error::Internal(format!("the event at ({lat}, {lon}): {m}"))
+            })?;
             let write = event_write(&summary, names);
             let event_id = write_event(tx, existing, &write, outcome)?;
             let hit = zones_hit(zones, &summary.footprint.shape, summary.bbox);

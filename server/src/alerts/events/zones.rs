@@ -1,9 +1,10 @@
 //! Zone import and the links between events and the zones they intersect.
 
+use crate::alerts::import::ParsedAlert;
 use crate::alerts::import::parse_zones;
 use crate::error::{Error, Result};
 use crate::platform::storage::{Db, Tx};
-use geo::{BoundingRect, Intersects, MultiPolygon};
+use geo::{BoundingRect, Intersects, MultiPolygon, Point};
 use serde::Serialize;
 
 /// A zone ready for intersection tests.
@@ -52,6 +53,41 @@ pub(crate) fn zones_hit(
         .filter(|z| z.shape.intersects(shape))
         .map(|z| z.id)
         .collect()
+}
+
+/// Most points of a file looked at for [`likely_swapped`] (evenly spaced), so that a large
+/// file outside the zones costs a bounded number of point-in-polygon tests.
+const SWAP_SAMPLE: usize = 10_000;
+
+/// True when every alert (of an even sample of at most [`SWAP_SAMPLE`]) lies outside every
+/// zone, while more than half of them would lie inside one with latitude and longitude
+/// exchanged: the mark of a file whose columns are the other way round. False without zones.
+pub(crate) fn likely_swapped(alerts: &[ParsedAlert], zones: &[ZoneShape]) -> bool {
+    if alerts.is_empty() || zones.is_empty() {
+        return false;
+    }
+    let step = alerts.len().div_ceil(SWAP_SAMPLE);
+    let sample: Vec<(f64, f64)> = alerts
+        .iter()
+        .step_by(step)
+        .map(|a| (a.at.lon(), a.at.lat()))
+        .collect();
+    let inside = |lon: f64, lat: f64| {
+        zones.iter().any(|z| {
+            let (w, s, e, n) = z.bbox;
+            (w..=e).contains(&lon)
+                && (s..=n).contains(&lat)
+                && z.shape.intersects(&Point::new(lon, lat))
+        })
+    };
+    if sample.iter().any(|&(lon, lat)| inside(lon, lat)) {
+        return false;
+    }
+    let swapped = sample
+        .iter()
+        .filter(|&&(lon, lat)| inside(lat, lon))
+        .count();
+    swapped * 2 > sample.len()
 }
 
 /// What a zone import did.

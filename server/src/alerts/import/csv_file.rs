@@ -54,107 +54,168 @@ pub fn parse(file: &str, bytes: &[u8], opts: &ReadOptions) -> Parsed {
         ));
         return out;
     };
-    let first_line = text.lines().next().unwrap_or("");
-    let delimiter = if first_line.matches(';').count() > first_line.matches(',').count() {
-        b';'
-    } else {
-        b','
-    };
     let mut reader = csv::ReaderBuilder::new()
-        .delimiter(delimiter)
+        .delimiter(delimiter_of(text))
         .flexible(true)
         .from_reader(text.as_bytes());
-    let headers: Vec<String> = match reader.headers() {
-        Ok(h) if !(h.is_empty() || h.len() == 1 && h[0].trim().is_empty()) => {
-            h.iter().map(str::to_string).collect()
-        }
-        _ => {
-            out.errors.push(file_error(
-                file,
-                1,
-                "(header)",
-                "the file has no header row".into(),
-            ));
+    let Some(headers) = read_headers(&mut reader) else {
+        out.errors.push(file_error(
+            file,
+            1,
+            "(header)",
+            "the file has no header row".into(),
+        ));
+        return out;
+    };
+    let idx = match find_columns(&headers, opts) {
+        Ok(idx) => idx,
+        Err(messages) => {
+            out.errors.extend(
+                messages
+                    .into_iter()
+                    .map(|m| file_error(file, 1, "(header)", m)),
+            );
             return out;
         }
     };
+    let columns = Columns {
+        idx,
+        names: idx.map(|i| headers[i].trim().to_string()),
+        width: headers.len(),
+    };
+    let lines = LineIndex::new(text);
+    for rec in reader.records() {
+        read_record(file, rec, &columns, &lines, opts, &mut out);
+    }
+    out
+}
+
+/// Semicolons when the first line has more of them than commas.
+fn delimiter_of(text: &str) -> u8 {
+    let first_line = text.lines().next().unwrap_or("");
+    if first_line.matches(';').count() > first_line.matches(',').count() {
+        b';'
+    } else {
+        b','
+    }
+}
+
+/// The header row, or `None` when the file has none.
+fn read_headers(reader: &mut csv::Reader<&[u8]>) -> Option<Vec<String>> {
+    match reader.headers() {
+        Ok(h) if !(h.is_empty() || h.len() == 1 && h[0].trim().is_empty()) => {
+            Some(h.iter().map(str::to_string).collect())
+        }
+        _ => None,
+    }
+}
+
+/// The positions of longitude, latitude, date and confidence, or every
+/// column that could not be found.
+fn find_columns(headers: &[String], opts: &ReadOptions) -> Result<[usize; 4], Vec<String>> {
     let cols = [
-        find_column(&headers, opts.lon_column.as_deref(), LON_NAMES, "longitude"),
-        find_column(&headers, opts.lat_column.as_deref(), LAT_NAMES, "latitude"),
-        find_column(&headers, opts.date_column.as_deref(), DATE_NAMES, "date"),
+        find_column(headers, opts.lon_column.as_deref(), LON_NAMES, "longitude"),
+        find_column(headers, opts.lat_column.as_deref(), LAT_NAMES, "latitude"),
+        find_column(headers, opts.date_column.as_deref(), DATE_NAMES, "date"),
         find_column(
-            &headers,
+            headers,
             opts.confidence_column.as_deref(),
             CONFIDENCE_NAMES,
             "confidence",
         ),
     ];
     let mut idx = [0usize; 4];
+    let mut errors = Vec::new();
     for (i, c) in cols.into_iter().enumerate() {
         match c {
             Ok(v) => idx[i] = v,
-            Err(m) => out.errors.push(file_error(file, 1, "(header)", m)),
+            Err(m) => errors.push(m),
         }
     }
-    if !out.errors.is_empty() {
-        return out;
+    if errors.is_empty() {
+        Ok(idx)
+    } else {
+        Err(errors)
     }
-    // Line numbers from byte offsets: the csv crate does not count the
-    // blank lines it skips.
-    let newlines: Vec<usize> = text.match_indices('\n').map(|(i, _)| i).collect();
-    let line_at = |byte: u64| {
+}
+
+/// The four columns read from every record: positions, header names, and
+/// how many columns the header has.
+struct Columns {
+    idx: [usize; 4],
+    names: [String; 4],
+    width: usize,
+}
+
+/// Line numbers from byte offsets: the csv crate does not count the blank
+/// lines it skips.
+struct LineIndex<'a> {
+    text: &'a str,
+    newlines: Vec<usize>,
+}
+
+impl<'a> LineIndex<'a> {
+    fn new(text: &'a str) -> Self {
+        let newlines = text.match_indices('\n').map(|(i, _)| i).collect();
+        Self { text, newlines }
+    }
+
+    fn line_at(&self, byte: u64) -> usize {
         let mut b = byte as usize;
-        while matches!(text.as_bytes().get(b), Some(b'\n' | b'\r')) {
+        while matches!(self.text.as_bytes().get(b), Some(b'\n' | b'\r')) {
             b += 1;
         }
-        newlines.partition_point(|&nl| nl < b) + 1
-    };
-    let names = idx.map(|i| headers[i].trim().to_string());
-    let fields = [
-        names[0].as_str(),
-        names[1].as_str(),
-        names[2].as_str(),
-        names[3].as_str(),
-    ];
-    for rec in reader.records() {
-        let rec = match rec {
-            Ok(r) => r,
-            Err(e) => {
-                let line = e.position().map(|p| line_at(p.byte())).unwrap_or(0);
-                out.rows_read += 1;
-                out.errors.push(file_error(
-                    file,
-                    line,
-                    "(row)",
-                    format!("unreadable CSV: {e}"),
-                ));
-                continue;
-            }
-        };
-        if rec.iter().all(|c| c.trim().is_empty()) {
-            continue;
-        }
-        out.rows_read += 1;
-        let line = rec.position().map(|p| line_at(p.byte())).unwrap_or(0);
-        let cell = |i: usize| rec.get(i);
-        let raw = match (cell(idx[0]), cell(idx[1]), cell(idx[2]), cell(idx[3])) {
-            (Some(a), Some(b), Some(c), Some(d)) => [a, b, c, d],
-            _ => {
-                out.errors.push(file_error(
-                    file,
-                    line,
-                    "(row)",
-                    format!("expected {} columns, found {}", headers.len(), rec.len()),
-                ));
-                continue;
-            }
-        };
-        match build_row(raw, opts, line, fields) {
-            Ok(a) => out.alerts.push(a),
-            Err((field, message)) => out.errors.push(file_error(file, line, &field, message)),
-        }
+        self.newlines.partition_point(|&nl| nl < b) + 1
     }
-    out
+}
+
+/// One record: an alert, an error with its line, or nothing for a blank row.
+fn read_record(
+    file: &str,
+    rec: csv::Result<csv::StringRecord>,
+    columns: &Columns,
+    lines: &LineIndex,
+    opts: &ReadOptions,
+    out: &mut Parsed,
+) {
+    let rec = match rec {
+        Ok(r) => r,
+        Err(e) => {
+            let line = e.position().map(|p| lines.line_at(p.byte())).unwrap_or(0);
+            out.rows_read += 1;
+            out.errors.push(file_error(
+                file,
+                line,
+                "(row)",
+                format!("unreadable CSV: {e}"),
+            ));
+            return;
+        }
+    };
+    if rec.iter().all(|c| c.trim().is_empty()) {
+        return;
+    }
+    out.rows_read += 1;
+    let line = rec.position().map(|p| lines.line_at(p.byte())).unwrap_or(0);
+    let idx = columns.idx;
+    let cell = |i: usize| rec.get(i);
+    let raw = match (cell(idx[0]), cell(idx[1]), cell(idx[2]), cell(idx[3])) {
+        (Some(a), Some(b), Some(c), Some(d)) => [a, b, c, d],
+        _ => {
+            out.errors.push(file_error(
+                file,
+                line,
+                "(row)",
+                format!("expected {} columns, found {}", columns.width, rec.len()),
+            ));
+            return;
+        }
+    };
+    let fields = columns.names.each_ref().map(String::as_str);
+    match build_row(raw, opts, line, fields) {
+        Ok(a) => out.alerts.push(a),
+        Err((field, message)) => out.errors.push(file_error(file, line, &field, message)),
+    }
 }
 
 #[cfg(test)]
@@ -210,6 +271,7 @@ mod tests {
             confidence: ConfidenceMap {
                 numeric_threshold: Some(50.0),
             },
+            not_after: None,
         };
         let p = parse("f.csv", text.as_bytes(), &opts);
         assert!(p.errors.is_empty(), "{:?}", p.errors);

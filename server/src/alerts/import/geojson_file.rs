@@ -1,7 +1,7 @@
 //! GeoJSON alert files: an RFC 7946 FeatureCollection of Point features
 //! whose properties hold the date and the confidence.
 
-use super::{CONFIDENCE_NAMES, DATE_NAMES, Parsed, ReadOptions, RowError, build_row};
+use super::{CONFIDENCE_NAMES, DATE_NAMES, Parsed, ParsedAlert, ReadOptions, RowError, build_row};
 use serde_json::Value;
 
 fn err(file: &str, line: usize, field: &str, message: String) -> RowError {
@@ -42,96 +42,94 @@ pub fn parse(file: &str, bytes: &[u8], opts: &ReadOptions) -> Parsed {
         alerts: Vec::new(),
         errors: Vec::new(),
     };
-    // serde_json refuses nesting deeper than 128 levels, which bounds the
-    // stack an untrusted file can use.
-    let doc: Value = match serde_json::from_slice(bytes) {
-        Ok(v) => v,
-        Err(e) => {
-            out.errors
-                .push(err(file, 0, "(file)", format!("not valid JSON: {e}")));
-            return out;
-        }
-    };
-    let features = match (doc.get("type").and_then(Value::as_str), doc.get("features")) {
-        (Some("FeatureCollection"), Some(Value::Array(f))) => f,
-        _ => {
-            out.errors.push(err(
-                file,
-                0,
-                "type",
-                "expected a GeoJSON FeatureCollection with a 'features' array".into(),
-            ));
+    let features = match features_of(bytes) {
+        Ok(f) => f,
+        Err((field, message)) => {
+            out.errors.push(err(file, 0, field, message));
             return out;
         }
     };
     for (i, f) in features.iter().enumerate() {
         out.rows_read += 1;
-        let coords = f
-            .get("geometry")
-            .filter(|g| g.get("type").and_then(Value::as_str) == Some("Point"))
-            .and_then(|g| g.get("coordinates"))
-            .and_then(Value::as_array);
-        let Some(c) = coords.filter(|c| c.len() >= 2) else {
-            out.errors.push(err(
-                file,
-                i,
-                "geometry",
-                "expected a Point geometry with [longitude, latitude]".into(),
-            ));
-            continue;
-        };
-        let (Some(lon), Some(lat)) = (c[0].as_f64(), c[1].as_f64()) else {
-            out.errors.push(err(
-                file,
-                i,
-                "geometry",
-                "coordinates must be numbers".into(),
-            ));
-            continue;
-        };
-        let empty = serde_json::Map::new();
-        let props = f
-            .get("properties")
-            .and_then(Value::as_object)
-            .unwrap_or(&empty);
-        let Some((date_key, date)) = prop(props, opts.date_column.as_deref(), DATE_NAMES) else {
-            out.errors.push(err(
-                file,
-                i,
-                "properties",
-                format!(
-                    "no date property: expected one of {}",
-                    DATE_NAMES.join(", ")
-                ),
-            ));
-            continue;
-        };
-        let Some((conf_key, conf)) =
-            prop(props, opts.confidence_column.as_deref(), CONFIDENCE_NAMES)
-        else {
-            out.errors.push(err(
-                file,
-                i,
-                "properties",
-                format!(
-                    "no confidence property: expected one of {}",
-                    CONFIDENCE_NAMES.join(", ")
-                ),
-            ));
-            continue;
-        };
-        let (lon_s, lat_s) = (lon.to_string(), lat.to_string());
-        match build_row(
-            [&lon_s, &lat_s, &date, &conf],
-            opts,
-            i,
-            ["coordinates[0]", "coordinates[1]", date_key, conf_key],
-        ) {
+        match read_feature(f, i, opts) {
             Ok(a) => out.alerts.push(a),
             Err((field, message)) => out.errors.push(err(file, i, &field, message)),
         }
     }
     out
+}
+
+/// The `features` array of a FeatureCollection, or the file-level error.
+fn features_of(bytes: &[u8]) -> Result<Vec<Value>, (&'static str, String)> {
+    // serde_json refuses nesting deeper than 128 levels, which bounds the
+    // stack an untrusted file can use.
+    let mut doc: Value =
+        serde_json::from_slice(bytes).map_err(|e| ("(file)", format!("not valid JSON: {e}")))?;
+    let is_collection = doc.get("type").and_then(Value::as_str) == Some("FeatureCollection");
+    match doc.get_mut("features").map(Value::take) {
+        Some(Value::Array(f)) if is_collection => Ok(f),
+        _ => Err((
+            "type",
+            "expected a GeoJSON FeatureCollection with a 'features' array".into(),
+        )),
+    }
+}
+
+/// One feature: a Point with [longitude, latitude] and the date and
+/// confidence properties, or the field that failed and why.
+fn read_feature(f: &Value, i: usize, opts: &ReadOptions) -> Result<ParsedAlert, (String, String)> {
+    let (lon, lat) = point_of(f)?;
+    let empty = serde_json::Map::new();
+    let props = f
+        .get("properties")
+        .and_then(Value::as_object)
+        .unwrap_or(&empty);
+    let (date_key, date) =
+        prop(props, opts.date_column.as_deref(), DATE_NAMES).ok_or_else(|| {
+            (
+                "properties".to_string(),
+                format!(
+                    "no date property: expected one of {}",
+                    DATE_NAMES.join(", ")
+                ),
+            )
+        })?;
+    let (conf_key, conf) = prop(props, opts.confidence_column.as_deref(), CONFIDENCE_NAMES)
+        .ok_or_else(|| {
+            (
+                "properties".to_string(),
+                format!(
+                    "no confidence property: expected one of {}",
+                    CONFIDENCE_NAMES.join(", ")
+                ),
+            )
+        })?;
+    let (lon_s, lat_s) = (lon.to_string(), lat.to_string());
+    build_row(
+        [&lon_s, &lat_s, &date, &conf],
+        opts,
+        i,
+        ["coordinates[0]", "coordinates[1]", date_key, conf_key],
+    )
+}
+
+/// The longitude and latitude of a Point geometry.
+fn point_of(f: &Value) -> Result<(f64, f64), (String, String)> {
+    let coords = f
+        .get("geometry")
+        .filter(|g| g.get("type").and_then(Value::as_str) == Some("Point"))
+        .and_then(|g| g.get("coordinates"))
+        .and_then(Value::as_array);
+    let Some(c) = coords.filter(|c| c.len() >= 2) else {
+        return Err((
+            "geometry".into(),
+            "expected a Point geometry with [longitude, latitude]".into(),
+        ));
+    };
+    match (c[0].as_f64(), c[1].as_f64()) {
+        (Some(lon), Some(lat)) => Ok((lon, lat)),
+        _ => Err(("geometry".into(), "coordinates must be numbers".into())),
+    }
 }
 
 #[cfg(test)]

@@ -77,6 +77,16 @@ pub struct ReadOptions {
     pub date_column: Option<String>,
     pub confidence_column: Option<String>,
     pub confidence: ConfidenceMap,
+    /// The last detection day accepted; a later date is refused with its line. The import
+    /// sets it to [`latest_import_day`] whatever the caller gave.
+    pub not_after: Option<Day>,
+}
+
+/// The import day as the latest calendar day anywhere on Earth (UTC+14, the easternmost
+/// zone in use: Line Islands, from memory of the IANA tz database), so that no detection
+/// dated "today" in its own zone is refused, and anything later is.
+pub fn latest_import_day() -> Day {
+    Day::from_date((chrono::Utc::now() + chrono::Duration::hours(14)).date_naive())
 }
 
 /// Everything read from one file.
@@ -150,6 +160,18 @@ pub(crate) fn build_row(
         (f.to_string(), m)
     })?;
     let day = Day::parse(date_s).map_err(|m| (fields[2].to_string(), m))?;
+    if let Some(latest) = opts.not_after
+        && day > latest
+    {
+        return Err((
+            fields[2].to_string(),
+            format!(
+                "detection date {} is after the import day {}: alert systems do not report the future",
+                day.date(),
+                latest.date()
+            ),
+        ));
+    }
     let confidence = opts
         .confidence
         .parse(conf_s)

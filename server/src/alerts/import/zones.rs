@@ -28,74 +28,73 @@ pub fn parse_zones(file: &str, bytes: &[u8]) -> Result<Vec<ParsedZone>, Vec<Stri
     let mut errors = Vec::new();
     let mut seen = std::collections::HashSet::new();
     for (i, f) in fc.features.into_iter().enumerate() {
-        let at = |m: String| format!("{file}: feature {i}: {m}");
-        let name = f
-            .property("name")
-            .and_then(|v| v.as_str())
-            .ok_or_else(|| "field 'name': a zone needs a string name".to_string())
-            .and_then(ZoneName::parse);
-        let name = match name {
-            Ok(n) => n,
-            Err(m) => {
-                errors.push(at(m));
-                continue;
-            }
-        };
-        if !seen.insert(name.clone()) {
-            errors.push(at(format!("field 'name': zone '{name}' appears twice")));
-            continue;
+        match read_zone(f, &mut seen) {
+            Ok(z) => zones.push(z),
+            Err(m) => errors.push(format!("{file}: feature {i}: {m}")),
         }
-        let priority = match f.property("priority") {
-            None | Some(serde_json::Value::Null) => false,
-            Some(serde_json::Value::Bool(b)) => *b,
-            Some(_) => {
-                errors.push(at("field 'priority': expected true or false".into()));
-                continue;
-            }
-        };
-        let Some(geom) = f.geometry else {
-            errors.push(at("field 'geometry': missing".into()));
-            continue;
-        };
-        let geometry = geom.to_string();
-        let shape: MultiPolygon<f64> = match super::to_multipolygon(geom) {
-            Ok(m) => m,
-            Err(m) => {
-                errors.push(at(format!("field 'geometry': {m}")));
-                continue;
-            }
-        };
-        if !shape.is_valid() {
-            errors.push(at(
-                "field 'geometry': the polygon is not valid (self-intersecting or open ring)"
-                    .into(),
-            ));
-            continue;
-        }
-        let Some(r) = shape.bounding_rect() else {
-            errors.push(at("field 'geometry': empty polygon".into()));
-            continue;
-        };
-        let (w, s, e, n) = (r.min().x, r.min().y, r.max().x, r.max().y);
-        if w < -180.0 || e > 180.0 || s < -90.0 || n > 90.0 {
-            errors.push(at(
-                "field 'geometry': coordinates out of range (longitude, latitude order)".into(),
-            ));
-            continue;
-        }
-        zones.push(ParsedZone {
-            name,
-            priority,
-            shape,
-            geometry,
-            bbox: (w, s, e, n),
-        });
     }
     if errors.is_empty() {
         Ok(zones)
     } else {
         Err(errors)
     }
+}
+
+/// One feature as a zone; a name already in `seen` is refused.
+fn read_zone(
+    f: geojson::Feature,
+    seen: &mut std::collections::HashSet<ZoneName>,
+) -> Result<ParsedZone, String> {
+    let name = f
+        .property("name")
+        .and_then(|v| v.as_str())
+        .ok_or_else(|| "field 'name': a zone needs a string name".to_string())
+        .and_then(ZoneName::parse)?;
+    if !seen.insert(name.clone()) {
+        return Err(format!("field 'name': zone '{name}' appears twice"));
+    }
+    let priority = match f.property("priority") {
+        None | Some(serde_json::Value::Null) => false,
+        Some(serde_json::Value::Bool(b)) => *b,
+        Some(_) => return Err("field 'priority': expected true or false".into()),
+    };
+    let geom = f.geometry.ok_or("field 'geometry': missing")?;
+    let geometry = geom.to_string();
+    let shape = zone_shape(geom)?;
+    let bbox = zone_bbox(&shape)?;
+    Ok(ParsedZone {
+        name,
+        priority,
+        shape,
+        geometry,
+        bbox,
+    })
+}
+
+/// A Polygon or MultiPolygon that is valid.
+fn zone_shape(geom: geojson::Geometry) -> Result<MultiPolygon<f64>, String> {
+    let shape: MultiPolygon<f64> =
+        super::to_multipolygon(geom).map_err(|m| format!("field 'geometry': {m}"))?;
+    if !shape.is_valid() {
+        return Err(
+            "field 'geometry': the polygon is not valid (self-intersecting or open ring)".into(),
+        );
+    }
+    Ok(shape)
+}
+
+/// The bounding box (west, south, east, north), inside the degree ranges.
+fn zone_bbox(shape: &MultiPolygon<f64>) -> Result<(f64, f64, f64, f64), String> {
+    let r = shape
+        .bounding_rect()
+        .ok_or("field 'geometry': empty polygon")?;
+    let (w, s, e, n) = (r.min().x, r.min().y, r.max().x, r.max().y);
+    if w < -180.0 || e > 180.0 || s < -90.0 || n > 90.0 {
+        return Err(
+            "field 'geometry': coordinates out of range (longitude, latitude order)".into(),
+        );
+    }
+    Ok((w, s, e, n))
 }
 
 #[cfg(test)]

@@ -4,18 +4,9 @@
 /// e.g. `-3.100000, -60.025000`. Longitude is wrapped to −180..180. Non-finite values are
 /// written as `NaN`/`inf` rather than causing a panic; callers should check positions first.
 ///
-/// Latitude-first "lat, lon" with a comma is what phones and most handheld units accept when a
-/// position is typed in (common practice).
-pub fn format_dd(lat: f64, lon: f64) -> String {
-    let lon = if lon.is_finite() {
-        super::tm::wrap_degrees(lon)
-    } else {
-        lon
-    };
-    // Avoid "-0.000000" for values that round to zero.
-    let clean = |x: f64| if x.abs() < 5e-7 { 0.0 } else { x };
-    format!("{:.6}, {:.6}", clean(lat), clean(lon))
-}
+/// The one writer shared with the field tools ([`groundproof_sync::geodesy::format_dd`]); a
+/// sheet takes UTM and MGRS from [`as_written`], the values these digits say.
+pub use groundproof_sync::geodesy::{as_written, format_dd};
 
 #[cfg(test)]
 mod tests {

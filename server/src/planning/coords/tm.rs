@@ -83,67 +83,11 @@ impl TransverseMercator {
         false_northing: f64,
     ) -> Result<Self, CoordsError> {
         let ellipsoid = Ellipsoid::new(ellipsoid.a, ellipsoid.f)?;
-        if !(-90.0..=90.0).contains(&lat0) {
-            return Err(CoordsError::BadParameter {
-                name: "lat0",
-                value: lat0,
-            });
-        }
-        if !lon0.is_finite() {
-            return Err(CoordsError::BadParameter {
-                name: "lon0",
-                value: lon0,
-            });
-        }
-        if !(k0.is_finite() && k0 > 0.0) {
-            return Err(CoordsError::BadParameter {
-                name: "k0",
-                value: k0,
-            });
-        }
-        if !false_easting.is_finite() {
-            return Err(CoordsError::BadParameter {
-                name: "false_easting",
-                value: false_easting,
-            });
-        }
-        if !false_northing.is_finite() {
-            return Err(CoordsError::BadParameter {
-                name: "false_northing",
-                value: false_northing,
-            });
-        }
+        check_parameters(lat0, lon0, k0, false_easting, false_northing)?;
         let f = ellipsoid.f;
         let n = f / (2.0 - f);
         let e = (f * (2.0 - f)).sqrt();
-        let n2 = n * n;
-        let n3 = n2 * n;
-        let n4 = n3 * n;
-        let n5 = n4 * n;
-        let n6 = n5 * n;
-        let big_a = ellipsoid.a / (1.0 + n) * (1.0 + n2 / 4.0 + n4 / 64.0 + n6 / 256.0);
-        let alpha = [
-            n / 2.0 - 2.0 * n2 / 3.0 + 5.0 * n3 / 16.0 + 41.0 * n4 / 180.0 - 127.0 * n5 / 288.0
-                + 7891.0 * n6 / 37800.0,
-            13.0 * n2 / 48.0 - 3.0 * n3 / 5.0 + 557.0 * n4 / 1440.0 + 281.0 * n5 / 630.0
-                - 1983433.0 * n6 / 1935360.0,
-            61.0 * n3 / 240.0 - 103.0 * n4 / 140.0
-                + 15061.0 * n5 / 26880.0
-                + 167603.0 * n6 / 181440.0,
-            49561.0 * n4 / 161280.0 - 179.0 * n5 / 168.0 + 6601661.0 * n6 / 7257600.0,
-            34729.0 * n5 / 80640.0 - 3418889.0 * n6 / 1995840.0,
-            212378941.0 * n6 / 319334400.0,
-        ];
-        let beta = [
-            n / 2.0 - 2.0 * n2 / 3.0 + 37.0 * n3 / 96.0 - n4 / 360.0 - 81.0 * n5 / 512.0
-                + 96199.0 * n6 / 604800.0,
-            n2 / 48.0 + n3 / 15.0 - 437.0 * n4 / 1440.0 + 46.0 * n5 / 105.0
-                - 1118711.0 * n6 / 3870720.0,
-            17.0 * n3 / 480.0 - 37.0 * n4 / 840.0 - 209.0 * n5 / 4480.0 + 5569.0 * n6 / 90720.0,
-            4397.0 * n4 / 161280.0 - 11.0 * n5 / 504.0 - 830251.0 * n6 / 7257600.0,
-            4583.0 * n5 / 161280.0 - 108847.0 * n6 / 3991680.0,
-            20648693.0 * n6 / 638668800.0,
-        ];
+        let (big_a, alpha, beta) = kruger_series(ellipsoid.a, n);
         let mut tm = Self {
             ellipsoid,
             lat0,
@@ -271,6 +215,68 @@ fn tau_from_taup(tau_p: f64, e: f64) -> f64 {
 pub(crate) fn wrap_degrees(x: f64) -> f64 {
     let y = (x + 180.0).rem_euclid(360.0) - 180.0;
     if y == -180.0 && x > 0.0 { 180.0 } else { y }
+}
+
+/// Checks the projection's parameters: a latitude of origin in range and finite numbers.
+fn check_parameters(
+    lat0: f64,
+    lon0: f64,
+    k0: f64,
+    false_easting: f64,
+    false_northing: f64,
+) -> Result<(), CoordsError> {
+    let bad = |name: &'static str, value: f64| Err(CoordsError::BadParameter { name, value });
+    if !(-90.0..=90.0).contains(&lat0) {
+        return bad("lat0", lat0);
+    }
+    if !lon0.is_finite() {
+        return bad("lon0", lon0);
+    }
+    if !(k0.is_finite() && k0 > 0.0) {
+        return bad("k0", k0);
+    }
+    if !false_easting.is_finite() {
+        return bad("false_easting", false_easting);
+    }
+    if !false_northing.is_finite() {
+        return bad("false_northing", false_northing);
+    }
+    Ok(())
+}
+
+/// The rectifying radius A and the Krüger α and β coefficients for third flattening `n`
+/// (Karney 2011, eqs. 14, 35 and 36), for semi-major axis `a`.
+///
+/// One piece on purpose: each line is one coefficient of the published series, kept in the
+/// paper's order so that it can be compared term by term.
+fn kruger_series(a: f64, n: f64) -> (f64, [f64; 6], [f64; 6]) {
+    let n2 = n * n;
+    let n3 = n2 * n;
+    let n4 = n3 * n;
+    let n5 = n4 * n;
+    let n6 = n5 * n;
+    let big_a = a / (1.0 + n) * (1.0 + n2 / 4.0 + n4 / 64.0 + n6 / 256.0);
+    let alpha = [
+        n / 2.0 - 2.0 * n2 / 3.0 + 5.0 * n3 / 16.0 + 41.0 * n4 / 180.0 - 127.0 * n5 / 288.0
+            + 7891.0 * n6 / 37800.0,
+        13.0 * n2 / 48.0 - 3.0 * n3 / 5.0 + 557.0 * n4 / 1440.0 + 281.0 * n5 / 630.0
+            - 1983433.0 * n6 / 1935360.0,
+        61.0 * n3 / 240.0 - 103.0 * n4 / 140.0 + 15061.0 * n5 / 26880.0 + 167603.0 * n6 / 181440.0,
+        49561.0 * n4 / 161280.0 - 179.0 * n5 / 168.0 + 6601661.0 * n6 / 7257600.0,
+        34729.0 * n5 / 80640.0 - 3418889.0 * n6 / 1995840.0,
+        212378941.0 * n6 / 319334400.0,
+    ];
+    let beta = [
+        n / 2.0 - 2.0 * n2 / 3.0 + 37.0 * n3 / 96.0 - n4 / 360.0 - 81.0 * n5 / 512.0
+            + 96199.0 * n6 / 604800.0,
+        n2 / 48.0 + n3 / 15.0 - 437.0 * n4 / 1440.0 + 46.0 * n5 / 105.0
+            - 1118711.0 * n6 / 3870720.0,
+        17.0 * n3 / 480.0 - 37.0 * n4 / 840.0 - 209.0 * n5 / 4480.0 + 5569.0 * n6 / 90720.0,
+        4397.0 * n4 / 161280.0 - 11.0 * n5 / 504.0 - 830251.0 * n6 / 7257600.0,
+        4583.0 * n5 / 161280.0 - 108847.0 * n6 / 3991680.0,
+        20648693.0 * n6 / 638668800.0,
+    ];
+    (big_a, alpha, beta)
 }
 
 #[cfg(test)]

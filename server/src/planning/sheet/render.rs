@@ -136,89 +136,17 @@ struct FieldSheetPage {
 /// [`MAX_SHEET_CARDS`] cards, a preview is larger than [`MAX_PREVIEW_PNG_BYTES`] or is not a
 /// PNG, or a leg distance is negative or not finite.
 pub fn render_field_sheet(input: &SheetInput) -> Result<String, SheetError> {
-    let bad = |m: String| Err(SheetError::InvalidInput(m));
     let cards = input.events.len() + input.controls.len();
     if cards > MAX_SHEET_CARDS {
-        return bad(format!("{cards} cards, more than {MAX_SHEET_CARDS}"));
+        return Err(invalid(format!(
+            "{cards} cards, more than {MAX_SHEET_CARDS}"
+        )));
     }
-    let mut events: Vec<&SheetEvent> = input.events.iter().collect();
-    events.sort_by_key(|e| e.event.visit_order);
-    let mut controls: Vec<&ControlPoint> = input.controls.iter().collect();
-    controls.sort_by_key(|c| c.visit_order);
-
-    let mut event_cards = Vec::with_capacity(events.len());
-    for e in events {
-        let ev = &e.event;
-        if !is_valid_code(&ev.code) {
-            return bad(format!(
-                "event code {:?} is not a letter and 4 digits",
-                ev.code
-            ));
-        }
-        let preview = match e.preview_png.as_slice() {
-            [] => None,
-            png if png.len() > MAX_PREVIEW_PNG_BYTES => {
-                return bad(format!(
-                    "preview of {} has {} bytes, more than {MAX_PREVIEW_PNG_BYTES}",
-                    ev.code,
-                    png.len()
-                ));
-            }
-            png if !png.starts_with(&PNG_SIGNATURE) => {
-                return bad(format!("preview of {} is not a PNG", ev.code));
-            }
-            png => Some(png_data_uri(png)),
-        };
-        event_cards.push(EventCard {
-            code: ev.code.clone(),
-            order: ev.visit_order,
-            pos: position_text(ev.centroid.y(), ev.centroid.x()),
-            area: area_text(ev.area_ha),
-            first: ev.first_detected.clone(),
-            last: ev.last_detected.clone(),
-            confidence: ev.confidence.clone(),
-            corroborated: ev.corroborated,
-            sources: legend(&input.palette, &ev.sources)?,
-            stratum: ev.stratum.clone(),
-            preview,
-        });
-    }
-
-    let mut control_cards = Vec::with_capacity(controls.len());
-    for c in controls {
-        if !is_valid_code(&c.code) {
-            return bad(format!(
-                "control code {:?} is not a letter and 4 digits",
-                c.code
-            ));
-        }
-        control_cards.push(ControlCard {
-            code: c.code.clone(),
-            order: c.visit_order,
-            pos: position_text(c.point.y(), c.point.x()),
-        });
-    }
-
-    let mut route = Vec::with_capacity(input.legs.len());
-    let mut total = 0.0;
-    for leg in &input.legs {
-        if !(leg.leg_km.is_finite() && leg.leg_km >= 0.0) {
-            return bad(format!(
-                "leg to {} has distance {} km",
-                leg.code, leg.leg_km
-            ));
-        }
-        total += leg.leg_km;
-        route.push(RouteRow {
-            stop: leg.stop,
-            code: leg.code.clone(),
-            leg: km_text(leg.leg_km),
-        });
-    }
-
+    let events = event_cards(input)?;
+    let controls = control_cards(&input.controls)?;
+    let (route, total) = route_rows(&input.legs)?;
     let h = &input.header;
     let when = |t: &chrono::DateTime<chrono::Utc>| t.format("%Y-%m-%d %H:%M UTC").to_string();
-    let cl = &input.checklist;
     let all_sources = input.palette.sources().to_vec();
     let page = FieldSheetPage {
         bundle_id: h.bundle_id.to_string(),
@@ -236,18 +164,117 @@ pub fn render_field_sheet(input: &SheetInput) -> Result<String, SheetError> {
         legend: legend(&input.palette, &all_sources)?,
         route,
         total: km_text(total),
-        events: event_cards,
-        controls: control_cards,
-        checklist: ChecklistView {
-            version: cl.version,
-            outcomes: cl.outcomes.iter().map(|s| humanise(s)).collect(),
-            false_alarm_reasons: cl.false_alarm_reasons.iter().map(|s| humanise(s)).collect(),
-            not_reached_reasons: cl.not_reached_reasons.iter().map(|s| humanise(s)).collect(),
-            causes: cl.causes.iter().map(|s| humanise(s)).collect(),
-            photos: format!("photos taken (min {})", cl.min_photos_confirmed),
-        },
+        events,
+        controls,
+        checklist: checklist_view(&input.checklist),
     };
     Ok(page.render()?)
+}
+
+fn invalid(message: String) -> SheetError {
+    SheetError::InvalidInput(message)
+}
+
+/// The event cards in visit order.
+fn event_cards(input: &SheetInput) -> Result<Vec<EventCard>, SheetError> {
+    let mut events: Vec<&SheetEvent> = input.events.iter().collect();
+    events.sort_by_key(|e| e.event.visit_order);
+    events
+        .into_iter()
+        .map(|e| event_card(e, &input.palette))
+        .collect()
+}
+
+fn event_card(e: &SheetEvent, palette: &SourcePalette) -> Result<EventCard, SheetError> {
+    let ev = &e.event;
+    if !is_valid_code(&ev.code) {
+        return Err(invalid(format!(
+            "event code {:?} is not a letter and 4 digits",
+            ev.code
+        )));
+    }
+    Ok(EventCard {
+        code: ev.code.clone(),
+        order: ev.visit_order,
+        pos: position_text(ev.centroid.y(), ev.centroid.x()),
+        area: area_text(ev.area_ha),
+        first: ev.first_detected.clone(),
+        last: ev.last_detected.clone(),
+        confidence: ev.confidence.clone(),
+        corroborated: ev.corroborated,
+        sources: legend(palette, &ev.sources)?,
+        stratum: ev.stratum.clone(),
+        preview: preview_uri(&ev.code, &e.preview_png)?,
+    })
+}
+
+/// The preview as a data URI; `None` when there is none.
+fn preview_uri(code: &str, png: &[u8]) -> Result<Option<String>, SheetError> {
+    match png {
+        [] => Ok(None),
+        png if png.len() > MAX_PREVIEW_PNG_BYTES => Err(invalid(format!(
+            "preview of {code} has {} bytes, more than {MAX_PREVIEW_PNG_BYTES}",
+            png.len()
+        ))),
+        png if !png.starts_with(&PNG_SIGNATURE) => {
+            Err(invalid(format!("preview of {code} is not a PNG")))
+        }
+        png => Ok(Some(png_data_uri(png))),
+    }
+}
+
+/// The control cards in visit order.
+fn control_cards(controls: &[ControlPoint]) -> Result<Vec<ControlCard>, SheetError> {
+    let mut controls: Vec<&ControlPoint> = controls.iter().collect();
+    controls.sort_by_key(|c| c.visit_order);
+    controls
+        .into_iter()
+        .map(|c| {
+            if !is_valid_code(&c.code) {
+                return Err(invalid(format!(
+                    "control code {:?} is not a letter and 4 digits",
+                    c.code
+                )));
+            }
+            Ok(ControlCard {
+                code: c.code.clone(),
+                order: c.visit_order,
+                pos: position_text(c.point.y(), c.point.x()),
+            })
+        })
+        .collect()
+}
+
+/// The route table and its total distance, kilometres.
+fn route_rows(legs: &[RouteLeg]) -> Result<(Vec<RouteRow>, f64), SheetError> {
+    let mut route = Vec::with_capacity(legs.len());
+    let mut total = 0.0;
+    for leg in legs {
+        if !(leg.leg_km.is_finite() && leg.leg_km >= 0.0) {
+            return Err(invalid(format!(
+                "leg to {} has distance {} km",
+                leg.code, leg.leg_km
+            )));
+        }
+        total += leg.leg_km;
+        route.push(RouteRow {
+            stop: leg.stop,
+            code: leg.code.clone(),
+            leg: km_text(leg.leg_km),
+        });
+    }
+    Ok((route, total))
+}
+
+fn checklist_view(cl: &Checklist) -> ChecklistView {
+    ChecklistView {
+        version: cl.version,
+        outcomes: cl.outcomes.iter().map(|s| humanise(s)).collect(),
+        false_alarm_reasons: cl.false_alarm_reasons.iter().map(|s| humanise(s)).collect(),
+        not_reached_reasons: cl.not_reached_reasons.iter().map(|s| humanise(s)).collect(),
+        causes: cl.causes.iter().map(|s| humanise(s)).collect(),
+        photos: format!("photos taken (min {})", cl.min_photos_confirmed),
+    }
 }
 
 fn legend(palette: &SourcePalette, sources: &[String]) -> Result<Vec<LegendEntry>, SheetError> {

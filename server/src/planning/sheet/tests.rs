@@ -302,6 +302,31 @@ fn cautions_come_first() {
     assert!(cautions_at < first_card);
 }
 
+/// UTM and MGRS metres on the sheet are truncated (MGRS names the square that holds the point,
+/// NGA.SIG.0012; the UTM text truncates the same way so the digits agree), and the sheet says so
+/// beside each, so a reader does not take them for rounded values.
+#[test]
+fn the_sheet_says_its_metres_are_truncated() {
+    let html = render_field_sheet(&input()).expect("renders");
+    let doc = Html::parse_document(&html);
+    let labels: Vec<String> = doc
+        .select(&sel("dt"))
+        .map(|e| e.text().collect::<String>())
+        .collect();
+    assert!(
+        labels
+            .iter()
+            .any(|l| l.starts_with("UTM") && l.contains("truncated")),
+        "{labels:?}"
+    );
+    assert!(
+        labels
+            .iter()
+            .any(|l| l.starts_with("MGRS") && l.contains("truncated")),
+        "{labels:?}"
+    );
+}
+
 #[test]
 fn sheet_is_self_contained_and_escaped() {
     let html = render_field_sheet(&input()).expect("renders");

@@ -2,6 +2,7 @@
 //! it: positions in decimal degrees, UTM and MGRS (from [`crate::planning::coords`]), areas, distances
 //! and checklist labels.
 
+use crate::planning::coords::format::as_written;
 use crate::planning::coords::{Hemisphere, MgrsPrecision, format_dd, group_mgrs, to_mgrs, to_utm};
 
 /// Shown instead of UTM or MGRS for a latitude outside the UTM band (the poles).
@@ -33,8 +34,11 @@ pub struct UtmText {
     pub northing: String,
 }
 
-/// The position (`lat`, `lon`) in decimal degrees, UTM and MGRS.
+/// The position (`lat`, `lon`) in decimal degrees, UTM and MGRS. UTM and MGRS are computed
+/// from the position as written in decimal degrees ([`as_written`]), so the three agree on
+/// hemisphere, zone and band even for a point on the equator or a band edge.
 pub fn position_text(lat: f64, lon: f64) -> PositionText {
+    let (lat, lon) = as_written(lat, lon);
     let utm = to_utm(lat, lon).ok().map(|u| UtmText {
         zone: format!("{:02}", u.zone),
         hemisphere: match u.hemisphere {
@@ -92,6 +96,35 @@ mod tests {
         let groups: Vec<&str> = p.mgrs.split(' ').collect();
         assert_eq!(&u.easting[u.easting.len() - 5..], groups[2]);
         assert_eq!(&u.northing[u.northing.len() - 5..], groups[3]);
+    }
+
+    /// A centroid a hair south of the equator (floating noise of a pixel centred on it) prints
+    /// 0.000000 in decimal degrees, so UTM and MGRS must say north and band N too, not south
+    /// with northing 10000000 (NGA.SIG.0012: band N starts at 0°, the southern hemisphere's false
+    /// northing is 10 000 000 m). The same at a band edge (8° is band P) and a zone edge (−60°
+    /// is the first meridian of zone 21: zone = floor((lon + 180) / 6) + 1).
+    #[test]
+    fn degrees_utm_and_mgrs_agree_at_the_edges() {
+        for noise in [-1e-12, -1e-9, -4e-7, 1e-12] {
+            let p = position_text(noise, 10.0);
+            assert_eq!(p.dd, "0.000000, 10.000000");
+            let u = p.utm.expect("inside the UTM band");
+            assert_eq!((u.zone.as_str(), u.hemisphere), ("32", "north"), "{noise}");
+            assert_eq!(u.northing, "0", "{noise}");
+            assert!(p.mgrs.starts_with("32N "), "{noise}: {}", p.mgrs);
+        }
+        let p = position_text(-6e-7, 10.0);
+        assert_eq!(p.dd, "-0.000001, 10.000000");
+        let u = p.utm.expect("inside the UTM band");
+        assert_eq!((u.hemisphere, u.northing.as_str()), ("south", "9999999"));
+        assert!(p.mgrs.starts_with("32M "), "{}", p.mgrs);
+        let p = position_text(8.0 - 1e-9, 10.0);
+        assert_eq!(p.dd, "8.000000, 10.000000");
+        assert!(p.mgrs.starts_with("32P "), "{}", p.mgrs);
+        let p = position_text(-3.0, -60.0 - 1e-9);
+        assert_eq!(p.dd, "-3.000000, -60.000000");
+        assert_eq!(p.utm.expect("inside").zone, "21");
+        assert!(p.mgrs.starts_with("21M "), "{}", p.mgrs);
     }
 
     #[test]

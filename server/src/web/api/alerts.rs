@@ -52,6 +52,7 @@ pub async fn import(
         confidence: ConfidenceMap {
             numeric_threshold: q.confidence_threshold,
         },
+        not_after: None,
     };
     let skip_invalid = q.skip_invalid;
     let state = state.into_inner();

@@ -41,6 +41,7 @@ struct AlertResult {
     events_created: usize,
     events_grown: usize,
     events_merged: usize,
+    warnings: Vec<String>,
 }
 
 struct ZoneResult {
@@ -127,6 +128,7 @@ async fn render(
                 events_created: o.events_created,
                 events_grown: o.events_grown,
                 events_merged: o.events_merged,
+                warnings: o.warnings,
             })
         }
         Shown::Zones(z) => {
@@ -216,6 +218,7 @@ async fn import_alert_file(state: &AppState, mut parts: Parts) -> Result<ImportO
                 confidence: ConfidenceMap {
                     numeric_threshold: threshold,
                 },
+                not_after: None,
             },
             skip_invalid,
         };
