@@ -5,5 +5,6 @@ mod alerts_api;
 mod bundles;
 mod intake;
 mod pages;
+mod pairing;
 mod stats_api;
 mod stats_cache;

@@ -41,6 +41,7 @@ pub const FILES: &[(&str, &str, &[u8])] = &[
     app_file!("i18n.js", JS),
     app_file!("report.js", JS),
     app_file!("returnpkg.js", JS),
+    app_file!("send.js", JS),
     app_file!("store.js", JS),
     app_file!("sw.js", JS),
     app_file!("icon.svg", "image/svg+xml"),

@@ -11,6 +11,7 @@ mod error;
 mod field;
 mod login;
 pub mod pages;
+mod pairing;
 pub mod urls;
 
 use crate::platform::settings::Settings;

@@ -126,6 +126,8 @@ const MIGRATIONS: &[&str] = &[
     crate::platform::storage::auth::AUTH_MIGRATION,
     // 6: covering indexes for the statistics.
     crate::platform::storage::stats::STATS_INDEXES_MIGRATION,
+    // 7: pairing codes for the field app.
+    crate::platform::storage::pairing::PAIRING_MIGRATION,
 ];
 
 /// The schema version this binary writes.

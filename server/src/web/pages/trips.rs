@@ -16,6 +16,7 @@ use crate::planning::{IssuedBundle, TripRequest, cancel_bundle, issue_bundle};
 use crate::platform::auth::Action;
 use crate::platform::storage::{BundleRecord, Team, ZoneRecord};
 use crate::web::AppState;
+use crate::web::pairing::{self, ShownPairing};
 use crate::web::charts::render_map;
 use actix_web::http::StatusCode;
 use actix_web::{HttpRequest, HttpResponse, web};
@@ -89,6 +90,7 @@ struct BundleRow {
     reports: i64,
     cancellable: bool,
     downloadable: bool,
+    pairable: bool,
 }
 
 #[derive(Template)]
@@ -159,7 +161,8 @@ async fn trips_page(
     let may_cancel = viewer.may(Action::CancelBundle);
     let mut form = form;
     start_at_last_trip(&mut form, &bundles);
-    let rows = bundle_rows(&bundles, &counts, may_cancel);
+    let may = (may_cancel, viewer.may(Action::IssueBundle));
+    let rows = bundle_rows(&bundles, &counts, may, chrono::Utc::now());
     let status = error.as_ref().map_or(StatusCode::OK, |e| e.status);
     let t = TripsPage {
         layout: Layout::new(req, viewer, "Trips", "/trips"),
@@ -187,11 +190,18 @@ fn start_at_last_trip(form: &mut IssueForm, bundles: &[BundleRecord]) {
     }
 }
 
-/// One table row per bundle, latest issued first.
+/// Whether a bundle's RFC 3339 expiry is still ahead of `now`.
+fn not_expired(expires_at: &str, now: chrono::DateTime<chrono::Utc>) -> bool {
+    chrono::DateTime::parse_from_rfc3339(expires_at).is_ok_and(|t| t > now)
+}
+
+/// One table row per bundle, latest issued first; `may` is (may cancel,
+/// may pair a phone).
 fn bundle_rows(
     bundles: &[BundleRecord],
     counts: &HashMap<String, (i64, i64)>,
-    may_cancel: bool,
+    (may_cancel, may_pair): (bool, bool),
+    now: chrono::DateTime<chrono::Utc>,
 ) -> Vec<BundleRow> {
     let mut rows: Vec<BundleRow> = bundles
         .iter()
@@ -218,6 +228,9 @@ fn bundle_rows(
                 reports,
                 cancellable: may_cancel && b.cancelled_at.is_none(),
                 downloadable: b.cancelled_at.is_none(),
+                pairable: may_pair
+                    && b.cancelled_at.is_none()
+                    && not_expired(&b.expires_at, now),
             }
         })
         .collect();
@@ -300,6 +313,29 @@ struct TripPage {
     map: String,
     items: Vec<ItemRow>,
     strata: Vec<StratumRow>,
+    pairing: Option<PairingView>,
+}
+
+/// A pairing code as the pages show it (`pages/pairing_box.html`).
+pub struct PairingView {
+    code: String,
+    link: String,
+    qr_svg: String,
+    expires: String,
+}
+
+impl PairingView {
+    fn of(p: ShownPairing) -> PairingView {
+        let expires = chrono::DateTime::from_timestamp(p.expires_at, 0)
+            .map(|t| short_time(&t.to_rfc3339()))
+            .unwrap_or_default();
+        PairingView {
+            code: p.code,
+            link: p.link,
+            qr_svg: p.qr_svg,
+            expires,
+        }
+    }
 }
 
 async fn issue_page(
@@ -309,9 +345,15 @@ async fn issue_page(
     trip: TripRequest,
 ) -> Result<HttpResponse, PageError> {
     let st = state.clone();
-    let (out, items, events, zones): (IssuedBundle, _, Vec<RankedEvent>, _) =
+    let (by, link_of) = pairing::request_parts(req);
+    let (out, items, events, zones, shown): (IssuedBundle, _, Vec<RankedEvent>, _, _) =
         web::block(move || {
             let out = issue_bundle(&st.db, &st.data_dir, &st.settings, &trip)?;
+            // The bundle is issued whatever happens to its first code; the
+            // trips page makes another.
+            let shown = pairing::make(&st.db, &out.bundle.id, &by, link_of)
+                .inspect_err(|e| tracing::warn!(error = %e, "no pairing code for the new bundle"))
+                .ok();
             let (items, zones) = st
                 .db
                 .read(|r| Ok((r.bundle_items(&out.bundle.id)?, r.zones()?)))?;
@@ -325,7 +367,7 @@ async fn issue_page(
                     });
                 }
             }
-            Ok::<_, Error>((out, items, events, zones))
+            Ok::<_, Error>((out, items, events, zones, shown))
         })
         .await??;
     let mut items = items;
@@ -377,6 +419,7 @@ async fn issue_page(
                 probability: fixed(s.inclusion_probability, 4),
             })
             .collect(),
+        pairing: shown.map(PairingView::of),
     };
     let mut resp = page(&t)?;
     *resp.status_mut() = StatusCode::CREATED;
@@ -432,6 +475,59 @@ pub async fn cancel(
         })
         .await??;
         Ok(see_other(&format!("/trips?cancelled={id}")))
+    }
+    .await;
+    match r {
+        Ok(resp) => resp,
+        Err(e) => {
+            let r = trips_page(&req, &state, &viewer, IssueForm::default(), Some(e), None).await;
+            respond(&req, &viewer, r)
+        }
+    }
+}
+
+#[derive(Template)]
+#[template(path = "pages/pair.html")]
+struct PairPage {
+    layout: Layout,
+    id: String,
+    team: String,
+    due: String,
+    p: PairingView,
+}
+
+/// `POST /trips/{id}/pair`: a new pairing code for the bundle, as a QR
+/// code and as text.
+pub async fn pair(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    path: web::Path<String>,
+) -> HttpResponse {
+    let viewer = Viewer::of(&req);
+    let r = async {
+        let id = uuid::Uuid::parse_str(&path)
+            .map_err(|_| PageError::bad_request(format!("bundle id '{path}' is not a UUID")))?
+            .to_string();
+        let (by, link_of) = pairing::request_parts(&req);
+        let db = state.db.clone();
+        let (b, shown) = web::block(move || {
+            let shown = pairing::make(&db, &id, &by, link_of)?;
+            let b = db
+                .read(|r| r.bundle(&id))?
+                .ok_or_else(|| Error::NotFound(format!("no bundle {id}")))?;
+            Ok::<_, Error>((b, shown))
+        })
+        .await??;
+        let t = PairPage {
+            layout: Layout::new(&req, &viewer, "Pair a phone", "/trips"),
+            id: b.id,
+            team: b.team,
+            due: short_time(&b.due_at),
+            p: PairingView::of(shown),
+        };
+        let mut resp = page(&t)?;
+        *resp.status_mut() = StatusCode::CREATED;
+        Ok(resp)
     }
     .await;
     match r {
