@@ -8,6 +8,7 @@ import { distanceBearing } from './geo.js';
 import { makeReport, validateReport, ReportProblem, MAX_PHOTO_BYTES } from './report.js';
 import { packReturn } from './returnpkg.js';
 import { sha256Hex } from './crypto.js';
+import * as sending from './send.js';
 import { LANGUAGES, pickLanguage, setLanguage, language, t, token, number, dateTime, date } from './i18n.js';
 
 const state = {
@@ -173,6 +174,12 @@ async function viewHome() {
   for (const r of await store.allReports()) if (r.state === 'unsent') counts.set(r.bundle_id, (counts.get(r.bundle_id) || 0) + 1);
   const input = h('input', { type: 'file', id: 'bundle-file', accept: '.zip,application/zip', onchange: onBundleChosen });
   return [
+    h('form', { class: 'card', id: 'pair-form', onsubmit: (e) => { e.preventDefault(); pair(document.getElementById('pair-code').value); } },
+      h('h2', {}, t('pair.title')),
+      h('p', {}, t('pair.help')),
+      h('label', { for: 'pair-code' }, t('pair.code_label')),
+      h('input', { id: 'pair-code', type: 'text', autocomplete: 'off', autocapitalize: 'characters', spellcheck: 'false', maxlength: '16', placeholder: '7KQ2M-9XH4D' }),
+      h('button', { type: 'submit', class: 'button primary', id: 'pair-button', disabled: state.busy }, t('pair.button'))),
     h('section', { class: 'card' },
       h('h2', {}, t('home.open_title')),
       h('p', {}, t('home.open_help')),
@@ -354,6 +361,7 @@ function viewForm() {
 
 async function viewSend() {
   const list = unsent();
+  const kept = await sending.pending(state.trip.bundle_id);
   const refused = state.reports.filter((r) => r.state === 'rejected');
   return [
     tripHead(),
@@ -369,7 +377,9 @@ async function viewSend() {
       h('p', {}, t('send.online_help')),
       h('label', { for: 'team-token' }, t('send.token')),
       h('input', { id: 'team-token', type: 'password', autocomplete: 'off', value: state.trip.team_token || '' }),
-      h('button', { class: 'button primary', id: 'send-now', disabled: list.length === 0 || state.busy, onclick: sendNow }, t('send.online_button')),
+      kept ? h('p', { id: 'send-kept' }, t('send.kept', { n: kept.reportIds.length, size: bytesText(kept.size) })) : null,
+      h('button', { class: 'button primary', id: 'send-now', disabled: (list.length === 0 && !kept) || state.busy, onclick: sendNow }, t('send.online_button')),
+      h('p', { id: 'send-progress', 'aria-live': 'polite' }, ''),
       state.sendResult ? h('ul', { class: 'list', id: 'send-results' }, state.sendResult.map((r) => h('li', { 'data-report': r.report_id, 'data-status': r.status },
         h('span', { class: `badge ${r.status}` }, t(`send_state.${r.status}`)), ' ', r.code || '', r.reason ? ` — ${r.reason}` : ''))) : null),
   ];
@@ -393,17 +403,66 @@ async function onBundleChosen(e) {
   e.target.value = '';
   if (!file) return;
   try {
-    const bytes = new Uint8Array(await file.arrayBuffer());
-    const trip = await openBundle(bytes, new Date());
-    const old = await store.trip(trip.bundle_id);
-    if (old) trip.team_token = old.team_token;
-    await store.putTrip(trip);
-    say('ok', t('home.opened', { team: trip.manifest.team, stops: trip.route.length }));
-    await openTrip(trip.bundle_id, true);
+    await keepTrip(new Uint8Array(await file.arrayBuffer()), null);
   } catch (err) {
-    if (err instanceof BundleError) say('error', t(err.key, err.params), err.detail);
-    else say('error', t('bundle.bad_zip'), String(err && err.message ? err.message : err));
+    bundleProblem(err);
     go('home');
+  }
+}
+
+/** Keeps a checked trip on the phone (with the team token it came with, or
+ * the one it had) and opens it. */
+async function keepTrip(bytes, teamToken) {
+  const trip = await openBundle(bytes, new Date());
+  const old = await store.trip(trip.bundle_id);
+  trip.team_token = teamToken || (old ? old.team_token : undefined);
+  await store.putTrip(trip);
+  say('ok', t('home.opened', { team: trip.manifest.team, stops: trip.route.length }));
+  await openTrip(trip.bundle_id, true);
+}
+
+function bundleProblem(err) {
+  if (err instanceof BundleError) say('error', t(err.key, err.params), err.detail);
+  else say('error', t('bundle.bad_zip'), String(err && err.message ? err.message : err));
+}
+
+/** Exchanges a pairing code for its trip: the bundle is checked as a trip
+ * file is (checksums, expiry) before it is kept. */
+async function pair(code) {
+  const typed = String(code || '').trim();
+  state.busy = true;
+  state.view = 'home';
+  say('ok', t('pair.working'));
+  await render();
+  let r;
+  try {
+    r = await fetch('/api/v1/pairings/redeem', {
+      method: 'POST',
+      headers: { 'Content-Type': 'application/json' },
+      body: JSON.stringify({ code: typed }),
+      credentials: 'omit',
+      cache: 'no-store',
+    });
+  } catch (_) {
+    state.busy = false;
+    say('error', t('pair.offline'));
+    return go('home');
+  }
+  try {
+    if (!r.ok) {
+      const doc = await r.json().catch(() => ({}));
+      const key = doc.refusal ? `pair.refused.${doc.refusal}` : 'pair.failed';
+      say('error', t(key), doc.refusal ? '' : (doc.error || String(r.status)));
+      return go('home');
+    }
+    const bytes = new Uint8Array(await r.arrayBuffer());
+    state.busy = false;
+    await keepTrip(bytes, r.headers.get('Groundproof-Team-Token'));
+  } catch (err) {
+    bundleProblem(err);
+    go('home');
+  } finally {
+    state.busy = false;
   }
 }
 
@@ -555,56 +614,88 @@ async function saveReturnFile() {
   go('send');
 }
 
+/** The package to send for this trip: the one kept from an interrupted
+ * send (same bytes, so the server resumes it), or a new one of the unsent
+ * reports, kept on the phone before the first byte goes. */
+async function packageToSend() {
+  const kept = await sending.pending(state.trip.bundle_id);
+  if (kept) return kept;
+  const { bytes, reportIds } = await buildReturn();
+  return sending.keepPending(state.trip.bundle_id, {
+    bundle_id: state.trip.bundle_id, bytes, size: bytes.length, sha256: await sha256Hex(bytes), reportIds, url: null,
+  });
+}
+
+function showProgress(text, offset, size) {
+  const el = document.getElementById('send-progress');
+  if (!el) return;
+  el.textContent = text;
+  if (offset !== undefined) {
+    el.dataset.offset = String(offset);
+    el.dataset.size = String(size);
+  }
+}
+
+/** Marks each report by the server's answer and shows the results. */
+async function takeAnswer(doc, reportIds) {
+  const changes = new Map();
+  const results = [];
+  for (const res of doc.results || []) {
+    if (!reportIds.includes(res.report_id)) continue;
+    const st = res.status === 'accepted' || res.status === 'duplicate' ? res.status : 'rejected';
+    changes.set(res.report_id, { state: st, reason: res.reason || null });
+    const entry = state.reports.find((x) => x.report_id === res.report_id);
+    results.push({ report_id: res.report_id, status: st, reason: res.reason || '', code: entry ? entry.report.target.code : '' });
+  }
+  await store.markReports(changes);
+  await loadReports();
+  state.sendResult = results;
+  say('ok', t('send.done', {
+    accepted: results.filter((x) => x.status === 'accepted').length,
+    duplicate: results.filter((x) => x.status === 'duplicate').length,
+    rejected: results.filter((x) => x.status === 'rejected').length,
+  }));
+}
+
 async function sendNow() {
-  const tokenValue = document.getElementById('team-token').value.trim();
+  const field = document.getElementById('team-token');
+  const tokenValue = field ? field.value.trim() : (state.trip.team_token || '');
   state.trip.team_token = tokenValue;
   await store.putTrip(state.trip);
   state.busy = true;
   state.sendResult = null;
-  render();
+  state.notice = null;
+  await render();
   try {
-    const { bytes, reportIds } = await buildReturn();
-    let r;
-    try {
-      r = await fetch('/api/v1/returns', {
-        method: 'POST',
-        headers: { 'Content-Type': 'application/zip', ...(tokenValue ? { Authorization: `Bearer ${tokenValue}` } : {}) },
-        body: bytes,
-        credentials: 'omit',
-      });
-    } catch (_) {
+    const pkg = await packageToSend();
+    const doc = await sending.send(pkg, tokenValue, {
+      progress: (offset, size) => showProgress(t('send.progress', { sent: bytesText(offset), size: bytesText(size) }), offset, size),
+      waiting: (tries, ms) => showProgress(t('send.retrying', { seconds: number(ms / 1000, 0), tries })),
+    });
+    if (!doc) {
       say('error', t('send.offline'));
       return;
     }
-    const doc = await r.json().catch(() => ({}));
-    if (!r.ok) {
-      const key = r.status === 401 || r.status === 403 ? 'send.token_refused' : 'send.refused_whole';
-      say('error', t(key), doc.error || String(r.status));
-      return;
-    }
-    const changes = new Map();
-    const results = [];
-    for (const res of doc.results || []) {
-      if (!reportIds.includes(res.report_id)) continue;
-      const st = res.status === 'accepted' || res.status === 'duplicate' ? res.status : 'rejected';
-      changes.set(res.report_id, { state: st, reason: res.reason || null });
-      const entry = state.reports.find((x) => x.report_id === res.report_id);
-      results.push({ report_id: res.report_id, status: st, reason: res.reason || '', code: entry ? entry.report.target.code : '' });
-    }
-    await store.markReports(changes);
-    await loadReports();
-    state.sendResult = results;
-    say('ok', t('send.done', {
-      accepted: results.filter((x) => x.status === 'accepted').length,
-      duplicate: results.filter((x) => x.status === 'duplicate').length,
-      rejected: results.filter((x) => x.status === 'rejected').length,
-    }));
+    await takeAnswer(doc, pkg.reportIds);
   } catch (err) {
-    say('error', t('send.pack_failed'), String(err && err.message ? err.message : err));
+    if (err instanceof sending.SendRefused) {
+      const key = err.status === 401 || err.status === 403 ? 'send.token_refused' : 'send.refused_whole';
+      // The package stays kept: a new token sends the same bytes.
+      say('error', t(key), err.message);
+    } else {
+      say('error', t('send.pack_failed'), String(err && err.message ? err.message : err));
+    }
   } finally {
     state.busy = false;
-    render();
+    if (state.view === 'send') render();
   }
+}
+
+/** After the app was closed mid-send: the kept package of the open trip
+ * goes on from where the server stands. */
+async function resumeSend() {
+  if (!state.trip || !(await sending.pending(state.trip.bundle_id))) return;
+  await sendNow();
 }
 
 // ---------------------------------------------------------------- start
@@ -625,10 +716,16 @@ async function start() {
     } catch (_) { /* the app still works online */ }
   }
   if (navigator.storage && navigator.storage.persist) navigator.storage.persist().catch(() => {});
+  // A QR code opens `/field/#pair=CODE`: the code is taken once and
+  // removed from the address, so a reload does not spend it again.
+  const pairing = new URLSearchParams(location.hash.slice(1)).get('pair');
+  if (pairing) history.replaceState(null, '', location.pathname + location.search);
   const last = await store.getSetting('last_trip');
-  if (last && (await store.trip(last))) await openTrip(last);
-  else render();
+  if (pairing) await pair(pairing);
+  else if (last && (await store.trip(last))) await openTrip(last);
+  else await render();
   document.body.dataset.ready = 'yes';
+  if (!pairing) resumeSend();
 }
 
 start();

@@ -16,6 +16,7 @@ const FILES = [
   './i18n.js',
   './report.js',
   './returnpkg.js',
+  './send.js',
   './store.js',
   './icon.svg',
   './manifest.webmanifest',

@@ -167,6 +167,36 @@ fn shot(b: &Browser, stem: &str) {
     println!("screenshot: {}", path.display());
 }
 
+/// The link of the QR code on the page a coordinator gets for pairing a
+/// phone with `bundle_id` (`POST /trips/{id}/pair`, as the admin's API
+/// token), after checking that the page shows the QR code and the code.
+fn pairing_link(s: &TestServer, bundle_id: &str) -> String {
+    let r = groundproof_e2e::post_bytes(
+        &s.url(&format!("/trips/{bundle_id}/pair")),
+        "application/x-www-form-urlencoded",
+        b"",
+    );
+    assert_eq!(r.status, 201, "{}", r.body);
+    let page = scraper::Html::parse_document(&r.body);
+    let one = |css: &str| {
+        page.select(&scraper::Selector::parse(css).expect("selector"))
+            .next()
+            .unwrap_or_else(|| panic!("{css} on the pairing page"))
+    };
+    assert!(one("#pairing .qr svg rect").value().attr("fill").is_some());
+    let code = one("#pairing-code").text().collect::<String>();
+    let link = one("#pairing-link")
+        .value()
+        .attr("href")
+        .expect("href")
+        .to_string();
+    assert_eq!(
+        link,
+        s.url(&format!("/field/#pair={}", code.trim().replace('-', "")))
+    );
+    link
+}
+
 fn sha256(bytes: &[u8]) -> String {
     groundproof_sync::bundle::sha256_hex(bytes)
 }
@@ -200,12 +230,6 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
     std::fs::write(&tampered_path, tamper(&zip)).expect("tampered saved");
     let expired_path = work.path().join("expired.zip");
     std::fs::write(&expired_path, expire(&zip)).expect("expired saved");
-    let (_, team_token) = groundproof::platform::auth::issue_team_token(
-        &s.db,
-        "Team Amber",
-        groundproof::platform::auth::now_unix(),
-    )
-    .expect("team token");
 
     // The phone stands 500 m or so south of the first stop.
     let first = bundle
@@ -275,8 +299,34 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
     assert!(b.find_all("#trips").is_empty(), "no trip kept");
     assert_clean(&b, "expired bundle");
 
-    // The real one opens on the safety cautions.
-    b.choose_file("#bundle-file", &bundle_path);
+    // The trip page's QR code opens the app with a pairing code: the phone
+    // gets the trip (checked as a file is) and opens it on the safety
+    // cautions, with no token typed.
+    let link = pairing_link(&s, &bundle.manifest.bundle_id.to_string());
+    b.goto(&link);
+    wait_for(&b, "document.getElementById('cautions')", "the cautions");
+    assert!(
+        b.current_url().ends_with("/field/"),
+        "the code leaves the address: {}",
+        b.current_url()
+    );
+    // The same code again is refused in words a field worker understands.
+    b.goto(&link);
+    let msg = wait_for(
+        &b,
+        "document.querySelector('.notice.error') && document.querySelector('.notice.error').textContent",
+        "the refusal of a used code",
+    );
+    assert!(
+        msg.as_str().unwrap_or_default().contains("already used"),
+        "{msg}"
+    );
+    assert_clean(&b, "used code");
+    shot(&b, "pairing-used");
+    b.click(&format!(
+        "button[data-bundle='{}']",
+        bundle.manifest.bundle_id
+    ));
     wait_for(&b, "document.getElementById('cautions')", "the cautions");
     let cautions = b.text("#cautions");
     for needle in [
@@ -483,8 +533,13 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
         b.text("main")
     );
 
-    // Send with the team token.
-    b.type_into("#team-token", &team_token);
+    // Send with the team token the pairing gave the phone.
+    let team_token = b
+        .script("return document.getElementById('team-token').value;")
+        .as_str()
+        .unwrap_or_default()
+        .to_string();
+    assert_eq!(team_token.len(), 64, "the paired phone holds a team token");
     b.click("#send-now");
     wait_for(
         &b,
@@ -604,8 +659,20 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
     let bundle2_path = work.path().join("bundle2.zip");
     std::fs::write(&bundle2_path, &zip2).expect("second bundle saved");
     let bundle2 = open_bundle(&bundle2_path, chrono::Utc::now()).expect("second bundle");
+    // This one by typing its pairing code (as read off the coordinator's
+    // screen, in lower case).
+    let r = post_json(
+        &s.url(&format!(
+            "/api/v1/bundles/{}/pairings",
+            bundle2.manifest.bundle_id
+        )),
+        &json!({}),
+    );
+    assert_eq!(r.status, 201, "{}", r.body);
+    let code2 = r.json()["code"].as_str().expect("code").to_lowercase();
     b.click("#to-trips");
-    b.choose_file("#bundle-file", &bundle2_path);
+    b.type_into("#pair-code", &code2);
+    b.click("#pair-button");
     wait_for(&b, "document.getElementById('cautions')", "the second trip");
     b.click("#cautions-ok");
     wait_for(
