@@ -700,6 +700,14 @@ async function resumeSend() {
 
 // ---------------------------------------------------------------- start
 
+/** A QR code opens `/field/#pair=CODE`: the code is taken once and
+ * removed from the address, so a reload does not spend it again. */
+function pairingFromAddress() {
+  const code = new URLSearchParams(location.hash.slice(1)).get('pair');
+  if (code) history.replaceState(null, '', location.pathname + location.search);
+  return code;
+}
+
 async function start() {
   if (!window.isSecureContext || !window.crypto || !crypto.subtle || !window.indexedDB) {
     // Without a secure context there is no WebCrypto and no service worker:
@@ -716,10 +724,12 @@ async function start() {
     } catch (_) { /* the app still works online */ }
   }
   if (navigator.storage && navigator.storage.persist) navigator.storage.persist().catch(() => {});
-  // A QR code opens `/field/#pair=CODE`: the code is taken once and
-  // removed from the address, so a reload does not spend it again.
-  const pairing = new URLSearchParams(location.hash.slice(1)).get('pair');
-  if (pairing) history.replaceState(null, '', location.pathname + location.search);
+  const pairing = pairingFromAddress();
+  // The app already open when a QR link is followed: only the hash changes.
+  window.addEventListener('hashchange', () => {
+    const code = pairingFromAddress();
+    if (code) pair(code);
+  });
   const last = await store.getSetting('last_trip');
   if (pairing) await pair(pairing);
   else if (last && (await store.trip(last))) await openTrip(last);
