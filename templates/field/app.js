@@ -225,7 +225,7 @@ function tripHead() {
       h('button', { class: 'button', id: 'to-trips', onclick: () => go('home') }, t('nav.trips')),
       state.view === 'send' ? h('button', { class: 'button', id: 'to-stops', onclick: () => go('trip') }, t('nav.stops')) : null,
       h('button', { class: 'button', onclick: () => go('cautions') }, t('nav.safety')),
-      h('button', { class: 'button primary', id: 'go-send', onclick: () => { state.sendResult = null; go('send'); } }, t('nav.send'))));
+      h('button', { class: 'button primary', id: 'go-send', onclick: () => go('send') }, t('nav.send'))));
 }
 
 function viewTrip() {
@@ -687,7 +687,8 @@ async function sendNow() {
     }
   } finally {
     state.busy = false;
-    if (state.view === 'send') render();
+    // Not over a form being filled in: its notice shows on the next view.
+    if (state.view !== 'form') render();
   }
 }
 

@@ -152,11 +152,13 @@ fn expire(bundle: &[u8]) -> Vec<u8> {
     out.finish().expect("finish").into_inner()
 }
 
+/// A JPEG with EXIF of 2400 × 1800 pixels (a few hundred kB: two make a
+/// return of several upload chunks).
 fn photo(dir: &Path, seed: u64, lat: f64, lon: f64) -> (PathBuf, Vec<u8>) {
     let bytes = make_photo(
         seed,
-        480,
-        360,
+        2400,
+        1800,
         &PhotoMetaIn {
             taken_at_rfc3339: "2026-11-20T10:15:00Z".into(),
             lat,
@@ -222,7 +224,7 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
             return;
         }
     };
-    let s = TestServer::start();
+    let mut s = TestServer::start();
     load_scenario(&s);
     let work = tempfile::tempdir().expect("work folder");
     let station = mock_patrols::scenario().station;
@@ -552,7 +554,67 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
         .unwrap_or_default()
         .to_string();
     assert_eq!(team_token.len(), 64, "the paired phone holds a team token");
+    wait_for(
+        &b,
+        "navigator.serviceWorker.controller !== null",
+        "the service worker",
+    );
+    // A slow link (100 kB/s up), so the send is caught half way.
+    b.cdp("Network.enable", json!({}));
+    let slow = |up: i64| {
+        json!({"offline": false, "latency": 0, "downloadThroughput": -1, "uploadThroughput": up})
+    };
+    b.cdp("Network.emulateNetworkConditions", slow(100_000));
     b.click("#send-now");
+    let size = wait_for(
+        &b,
+        "(() => { const p = document.getElementById('send-progress');          return p && Number(p.dataset.offset) > 0 && Number(p.dataset.offset) < Number(p.dataset.size)          && Number(p.dataset.size); })()",
+        "the upload under way",
+    );
+    assert!(
+        size.as_f64().unwrap_or_default() > 2.0 * 256.0 * 1024.0,
+        "several chunks: {size}"
+    );
+    // The server dies mid-upload: the app backs off and says so.
+    s.stop();
+    wait_for(
+        &b,
+        "document.getElementById('send-progress').textContent.includes('Trying again')",
+        "the app backing off",
+    );
+    // The app is closed and opened again while the server is down ...
+    let app = s.url("/field/");
+    b.goto(&app);
+    wait_for(
+        &b,
+        "document.body.dataset.ready === 'yes' && document.getElementById('cautions')",
+        "the app again, offline",
+    );
+    // ... the server comes back on the same data: the kept package goes on
+    // from where the server stands, with no tap.
+    s.restart();
+    b.cdp("Network.emulateNetworkConditions", slow(-1));
+    let done = wait_for(
+        &b,
+        "document.querySelector('.notice.ok') && document.querySelector('.notice.ok').textContent.includes('Sent:')          && document.querySelector('.notice.ok').textContent",
+        "the resumed send's answer",
+    );
+    assert!(
+        done.as_str().unwrap_or_default().contains("2 accepted"),
+        "{done}"
+    );
+    assert_clean_but(&b, "resumed send", &["/api/v1/uploads"]);
+    // Nothing duplicated: one return with two reports.
+    let counts =
+        s.db.read(|x| x.bundle_return_counts())
+            .expect("counts");
+    assert_eq!(
+        counts.get(&bundle.manifest.bundle_id.to_string()),
+        Some(&(1, 2)),
+        "{counts:?}"
+    );
+    b.click("#cautions-ok");
+    b.click("#go-send");
     wait_for(
         &b,
         "document.querySelectorAll('#send-results li').length === 2",
@@ -731,7 +793,6 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
         "navigator.serviceWorker.controller !== null",
         "the service worker",
     );
-    let app = s.url("/field/");
     drop(s);
     b.goto(&app);
     wait_for(
