@@ -9,6 +9,8 @@ import { makeReport, validateReport, ReportProblem, MAX_PHOTO_BYTES } from './re
 import { packReturn } from './returnpkg.js';
 import { sha256Hex } from './crypto.js';
 import * as sending from './send.js';
+import { toUtm, formatUtm, toMgrs, groupMgrs } from './coords.js';
+import { photoMeta } from './exif.js';
 import { LANGUAGES, pickLanguage, setLanguage, language, t, token, number, dateTime, date } from './i18n.js';
 
 const state = {
@@ -112,6 +114,17 @@ function fixText() {
   });
 }
 
+/** A point as UTM and MGRS (1 m), as the field sheet gives them. */
+function gridText(lat, lon) {
+  const u = toUtm(lat, lon);
+  if (!u) return '';
+  return t('position.grid', { utm: formatUtm(u), mgrs: groupMgrs(toMgrs(lat, lon, 5)) });
+}
+
+function fixGridText() {
+  return state.fix ? gridText(state.fix.lat, state.fix.lon) : '';
+}
+
 function wayText(stop) {
   if (!state.fix) return t(state.fixError || 'position.waiting');
   const { distance, bearing } = distanceBearing(state.fix.lat, state.fix.lon, stop.lat, stop.lon);
@@ -137,6 +150,12 @@ function updateWay() {
   }
   const formFix = document.getElementById('form-fix');
   if (formFix) formFix.textContent = fixText();
+  const grid = document.getElementById('fix-grid');
+  if (grid && state.fix) {
+    grid.textContent = fixGridText();
+    grid.dataset.utm = formatUtm(toUtm(state.fix.lat, state.fix.lon), 3);
+    grid.dataset.mgrs = toMgrs(state.fix.lat, state.fix.lon, 5) || '';
+  }
 }
 
 // ---------------------------------------------------------------- storage
@@ -228,6 +247,24 @@ function tripHead() {
       h('button', { class: 'button primary', id: 'go-send', onclick: () => go('send') }, t('nav.send'))));
 }
 
+/** A clearing found on the way: not a stop of the bundle. */
+const NEW_CLEARING = { kind: 'new_clearing', code: null };
+
+function newClearings() {
+  const reps = state.reports.filter((r) => r.report.target.kind === 'new_clearing');
+  return h('section', { class: 'card', id: 'new-clearings' },
+    h('h2', {}, t('clearing.title')),
+    h('p', {}, t('clearing.help')),
+    h('button', { class: 'button primary', id: 'new-clearing', onclick: () => startForm(NEW_CLEARING, null) }, t('clearing.record')),
+    reps.length === 0 ? null : h('ul', { class: 'list' }, reps.map((r) => h('li', { class: 'report', 'data-report': r.report_id },
+      h('p', {}, h('strong', {}, r.report.cause ? token('cause', r.report.cause) : ''),
+        ` · ${t('stop.area_value', { n: number(r.report.area_ha, 2) })}`),
+      h('p', {}, t('report.line', { when: dateTime(r.report.recorded_at), photos: r.report.photos.length })),
+      r.report.supersedes ? h('p', {}, t('report.corrects')) : null,
+      h('p', {}, h('span', { class: `badge ${r.state}` }, t(`send_state.${r.state}`)), r.reason ? ` ${r.reason}` : ''),
+      h('button', { class: 'button small', 'data-correct': r.report_id, onclick: () => startForm(NEW_CLEARING, r.report) }, t('report.correct'))))));
+}
+
 function viewTrip() {
   const stops = stopsOf(state.trip);
   return [
@@ -243,6 +280,7 @@ function viewTrip() {
             h('span', { class: `badge ${st}` }, t(`state.${st}`))),
           h('button', { class: 'button danger small', 'data-safety': s.code, onclick: () => quickSafety(s) }, t('stop.safety_button')));
       }))),
+    newClearings(),
   ];
 }
 
@@ -258,6 +296,11 @@ function viewStop() {
     ]
     : [];
   facts.push([t('stop.target'), `${s.lat.toFixed(6)}, ${s.lon.toFixed(6)}`]);
+  const tu = toUtm(s.lat, s.lon);
+  if (tu) {
+    facts.push([t('stop.target_utm'), h('span', { id: 'target-utm', 'data-utm': formatUtm(tu, 3) }, formatUtm(tu))]);
+    facts.push([t('stop.target_mgrs'), h('span', { id: 'target-mgrs', 'data-mgrs': toMgrs(s.lat, s.lon, 5) }, groupMgrs(toMgrs(s.lat, s.lon, 5)))]);
+  }
   return [
     h('section', { class: 'card' },
       h('h2', { id: 'stop-title' }, s.kind === 'event' ? t('stop.title_event', { code: s.code }) : t('stop.title_control', { code: s.code })),
@@ -266,6 +309,7 @@ function viewStop() {
         h('span', { id: 'arrow', class: 'arrow', 'aria-hidden': 'true' }, '↑'),
         h('p', { id: 'way', 'aria-live': 'polite' }, wayText(s))),
       h('p', { id: 'fix', class: 'fix' }, fixText()),
+      h('p', { id: 'fix-grid', class: 'fix' }, fixGridText()),
       h('p', { id: 'storage', class: 'storage' }, ''),
       h('div', { class: 'actions' },
         h('button', { class: 'button', id: 'to-stops', onclick: () => go('trip') }, t('nav.stops')),
@@ -307,6 +351,8 @@ function photoList() {
     [...f.keptPhotos.map((p) => ({ ...p, kept: true })), ...f.newPhotos].map((p) => h('li', { 'data-sha': p.sha256 },
       p.bytes ? h('img', { src: URL.createObjectURL(new Blob([p.bytes], { type: 'image/jpeg' })), alt: t('form.photo_alt', { name: p.original_name }) }) : null,
       h('span', {}, `${p.original_name} · ${bytesText(p.size)}`),
+      h('span', { class: 'exif', 'data-lat': p.lat ?? '', 'data-lon': p.lon ?? '' },
+        p.lat !== null && p.lat !== undefined ? t('form.photo_gps', { lat: p.lat.toFixed(6), lon: p.lon.toFixed(6) }) : t('form.photo_no_gps')),
       h('button', { class: 'button small', type: 'button', onclick: () => {
         f.keptPhotos = f.keptPhotos.filter((q) => q.sha256 !== p.sha256);
         f.newPhotos = f.newPhotos.filter((q) => q.sha256 !== p.sha256);
@@ -322,7 +368,8 @@ async function onPhotos(e) {
     if (!(bytes[0] === 0xff && bytes[1] === 0xd8 && bytes[2] === 0xff)) { say('error', t('problem.photo_not_jpeg', { name: file.name })); continue; }
     const sha256 = await sha256Hex(bytes);
     if ([...f.keptPhotos, ...f.newPhotos].some((p) => p.sha256 === sha256)) continue;
-    f.newPhotos.push({ sha256, bytes, size: bytes.length, original_name: [...file.name].slice(0, 255).join('') });
+    const meta = await photoMeta(bytes);
+    f.newPhotos.push({ sha256, bytes, size: bytes.length, original_name: [...file.name].slice(0, 255).join(''), ...meta });
   }
   e.target.value = '';
   document.getElementById('photo-list').replaceWith(photoList());
@@ -335,14 +382,21 @@ function viewForm() {
   const f = state.form;
   const c = state.trip.checklist;
   const s = state.stop;
+  const clearing = s.kind === 'new_clearing';
+  let title = f.supersedes ? t('form.title_correct', { code: s.code }) : t('form.title', { code: s.code });
+  if (clearing) title = f.supersedes ? t('clearing.title_correct') : t('clearing.form_title');
   return [
     h('form', { class: 'card', id: 'record-form', onsubmit: (e) => { e.preventDefault(); saveForm(); } },
-      h('h2', {}, f.supersedes ? t('form.title_correct', { code: s.code }) : t('form.title', { code: s.code })),
+      h('h2', {}, title),
       notice(),
-      choiceGroup('outcome', t('form.outcome'), c.outcomes, 'outcome', f.outcome),
+      clearing ? null : choiceGroup('outcome', t('form.outcome'), c.outcomes, 'outcome', f.outcome),
       choiceGroup('false_alarm_reason', t('form.reason'), c.false_alarm_reasons, 'reason', f.false_alarm_reason),
       choiceGroup('not_reached_reason', t('form.reason'), c.not_reached_reasons, 'reason', f.not_reached_reason),
       choiceGroup('cause', t('form.cause'), c.causes, 'cause', f.cause),
+      clearing ? [
+        h('label', { for: 'area' }, t('clearing.area')),
+        h('input', { id: 'area', type: 'text', inputmode: 'decimal', autocomplete: 'off', maxlength: '12', value: f.area_ha ?? '', oninput: (e) => { f.area_ha = e.target.value; } }),
+      ] : null,
       h('label', { for: 'notes' }, t('form.notes')),
       h('textarea', { id: 'notes', rows: '4', maxlength: '4000', oninput: (e) => { f.notes = e.target.value; } }, f.notes),
       h('fieldset', { class: 'photos-box' },
@@ -354,8 +408,8 @@ function viewForm() {
         photoList()),
       h('p', { class: 'fix' }, t('form.position'), ' ', h('span', { id: 'form-fix' }, fixText())),
       h('div', { class: 'actions' },
-        h('button', { type: 'button', class: 'button', onclick: () => { state.notice = null; go('stop'); } }, t('form.cancel')),
-        h('button', { type: 'submit', class: 'button primary', id: 'save', disabled: state.busy }, t('form.save')))),
+        h('button', { type: 'button', class: 'button', onclick: () => { state.notice = null; go(clearing ? 'trip' : 'stop'); } }, t('form.cancel')),
+        h('button', { type: 'submit', class: 'button primary', id: 'save', disabled: state.busy, onclick: (e) => { e.preventDefault(); if (!state.busy) saveForm(); } }, t('form.save')))),
   ];
 }
 
@@ -498,7 +552,10 @@ function startForm(stop, base) {
     notes: base ? base.notes : '',
     keptPhotos: base ? base.photos.map((p) => ({ ...p, size: 0 })) : [],
     newPhotos: [],
+    area_ha: base && base.area_ha !== null ? String(base.area_ha) : '',
   };
+  // A clearing found on the way is confirmed by definition.
+  if (stop.kind === 'new_clearing') state.form.outcome = 'confirmed';
   if (base) {
     // Sizes of kept photos, for the list.
     Promise.all(state.form.keptPhotos.map(async (p) => { const s = await store.photo(p.sha256); p.size = s ? s.size : 0; }))
@@ -508,12 +565,15 @@ function startForm(stop, base) {
 }
 
 function target(stop) {
+  if (stop.kind === 'new_clearing') return { kind: 'new_clearing' };
   return stop.kind === 'event' ? { kind: 'event', code: stop.code, event_id: stop.event_id } : { kind: 'control', code: stop.code };
 }
 
-function position() {
-  if (!state.fix) return null;
-  return { lat: state.fix.lat, lon: state.fix.lon, accuracy_m: state.fix.accuracy, source: 'manual' };
+/** The phone's position with its accuracy; else the first photo's EXIF position. */
+function position(photos = []) {
+  if (state.fix) return { lat: state.fix.lat, lon: state.fix.lon, accuracy_m: state.fix.accuracy, source: 'manual' };
+  const p = photos.find((x) => x.lat !== null && x.lat !== undefined && x.lon !== null && x.lon !== undefined);
+  return p ? { lat: p.lat, lon: p.lon, accuracy_m: null, source: 'photo_gps' } : null;
 }
 
 /** Builds, checks and stores a report; true when it is on the phone. */
@@ -523,7 +583,7 @@ async function storeReport(fields, newPhotos) {
     report_id: crypto.randomUUID(),
     bundle_id: state.trip.bundle_id,
     target: target(state.stop),
-    position: position(),
+    position: position(fields.photos || []),
     observed_at: now,
     recorded_at: now,
     ...fields,
@@ -559,7 +619,12 @@ async function saveForm() {
     sha256: p.sha256, original_name: p.original_name, taken_at: p.taken_at ?? null, lat: p.lat ?? null, lon: p.lon ?? null, direction_deg: p.direction_deg ?? null,
   }));
   const reason = f.outcome === 'false_alarm' ? f.false_alarm_reason : f.outcome === 'not_reached' ? f.not_reached_reason : null;
+  // Typed with a decimal comma or point; anything else is not a number (NaN, refused by the check).
+  const areaField = document.getElementById('area');
+  if (areaField) f.area_ha = areaField.value;
+  const area = String(f.area_ha ?? '').trim().replace(',', '.');
   const ok = await storeReport({
+    area_ha: area === '' ? null : (/^\d+(\.\d+)?$/.test(area) ? Number(area) : NaN),
     supersedes: f.supersedes,
     outcome: f.outcome,
     reason,
@@ -567,7 +632,10 @@ async function saveForm() {
     notes: f.notes,
     photos,
   }, f.newPhotos).finally(() => { state.busy = false; });
-  if (ok) {
+  if (ok && state.stop.kind === 'new_clearing') {
+    say('ok', t('clearing.saved'));
+    go('trip');
+  } else if (ok) {
     say('ok', t('form.saved', { code: state.stop.code }));
     go('stop');
   } else {

@@ -11,7 +11,9 @@ const FILES = [
   './app.js',
   './app.css',
   './bundle.js',
+  './coords.js',
   './crypto.js',
+  './exif.js',
   './geo.js',
   './i18n.js',
   './report.js',
@@ -26,6 +28,7 @@ const FILES = [
   './i18n/id.json',
   './i18n/pt.json',
   './vendor/fflate.js',
+  './vendor/exifr.js',
 ];
 
 self.addEventListener('install', (event) => {

@@ -55,8 +55,9 @@ fn wait_for(b: &Browser, expr: &str, what: &str) -> Value {
         }
         assert!(
             start.elapsed() < Duration::from_secs(30),
-            "waited 30 s for {what}; the page says:\n{}",
-            b.text("body")
+            "waited 30 s for {what}; the page says:\n{}\nthe console: {:#?}",
+            b.text("body"),
+            b.console()
         );
         std::thread::sleep(Duration::from_millis(100));
     }
@@ -209,6 +210,85 @@ fn pairing_link(s: &TestServer, bundle_id: &str) -> String {
         s.url(&format!("/field/#pair={}", code.trim().replace('-', "")))
     );
     link
+}
+
+/// The UTM (`data-utm`, 3 decimals) and MGRS (`data-mgrs`) the app shows
+/// for a point match the server's own formulas: within 1 m as asked (they
+/// agree to the millimetre), the MGRS square and digits exactly.
+fn check_grid(b: &Browser, utm_css: &str, mgrs_css: &str, lat: f64, lon: f64) {
+    use groundproof::planning::coords::{MgrsPrecision, to_mgrs, to_utm};
+    let want = to_utm(lat, lon).expect("UTM");
+    let got = b
+        .script(&format!(
+            "return document.querySelector('{utm_css}').dataset.utm;"
+        ))
+        .as_str()
+        .unwrap_or_default()
+        .to_string();
+    let parts: Vec<&str> = got.split(' ').collect();
+    assert_eq!(parts.len(), 3, "{got}");
+    assert_eq!(
+        parts[0],
+        format!("{:02}{}", want.zone, want.hemisphere.letter())
+    );
+    let e: f64 = parts[1].parse().expect("easting");
+    let n: f64 = parts[2].parse().expect("northing");
+    assert!((e - want.easting).abs() < 1.0, "{got} vs {want}");
+    assert!((n - want.northing).abs() < 1.0, "{got} vs {want}");
+    let mgrs = b.script(&format!(
+        "return document.querySelector('{mgrs_css}').dataset.mgrs;"
+    ));
+    assert_eq!(
+        mgrs,
+        json!(to_mgrs(lat, lon, MgrsPrecision::ONE_METRE).expect("MGRS"))
+    );
+}
+
+/// The app's coordinate module against the server's on points that try
+/// the rules: both hemispheres, the equator, the zone edges, the Norway and
+/// Svalbard exceptions, the band limits and the antimeridian.
+fn check_grid_module(b: &Browser) {
+    use groundproof::planning::coords::{MgrsPrecision, to_mgrs, to_utm};
+    let points = [
+        (-3.1, -60.025),
+        (33.3, 44.4),
+        (0.0, 10.0),
+        (-0.000001, 10.0),
+        (60.5, 4.5),
+        (78.0, 20.0),
+        (83.9, 179.9),
+        (-79.9, -179.99),
+        (-33.86, 151.2),
+        (1.2, 102.0),
+        (56.0, 3.0),
+        (71.5, 33.0),
+    ];
+    let got = b.script(&format!(
+        "return import('./coords.js').then(m => {}.map(([la, lo]) =>          [m.formatUtm(m.toUtm(la, lo), 3), m.toMgrs(la, lo, 5)]));",
+        json!(points)
+    ));
+    for (i, (lat, lon)) in points.iter().enumerate() {
+        let want = to_utm(*lat, *lon).expect("UTM");
+        let row = &got[i];
+        let utm = row[0].as_str().unwrap_or_default();
+        let parts: Vec<&str> = utm.split(' ').collect();
+        assert_eq!(
+            parts[0],
+            format!("{:02}{}", want.zone, want.hemisphere.letter()),
+            "{lat} {lon}: {utm}"
+        );
+        let e: f64 = parts[1].parse().expect("easting");
+        let n: f64 = parts[2].parse().expect("northing");
+        assert!(
+            (e - want.easting).abs() < 0.002 && (n - want.northing).abs() < 0.002,
+            "{lat} {lon}: {utm} vs {want}"
+        );
+        assert_eq!(
+            row[1],
+            json!(to_mgrs(*lat, *lon, MgrsPrecision::ONE_METRE).expect("MGRS")),
+            "{lat} {lon}"
+        );
+    }
 }
 
 fn sha256(bytes: &[u8]) -> String {
@@ -428,6 +508,10 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
         "Number(document.getElementById('way').dataset.distance) > 400",
         "the distance to update back",
     );
+    // The target and the phone in UTM and MGRS, as the server computes them.
+    check_grid(&b, "#target-utm", "#target-mgrs", t_lat, t_lon);
+    check_grid(&b, "#fix-grid", "#fix-grid", p_lat, p_lon);
+    check_grid_module(&b);
     assert_clean(&b, "stop");
     shot(&b, "stop");
 
@@ -444,6 +528,12 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
         "document.querySelectorAll('#photo-list li').length === 1",
         "one photo",
     );
+    // The photo's EXIF position is read on the phone.
+    let exif_lat: f64 = b
+        .script("return Number(document.querySelector('#photo-list .exif').dataset.lat);")
+        .as_f64()
+        .expect("EXIF latitude");
+    assert!((exif_lat - p_lat).abs() < 1e-6, "EXIF {exif_lat} vs {p_lat}");
     b.click("#save");
     let msg = wait_for(
         &b,
@@ -507,6 +597,40 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
     assert_clean(&b, "stops with reports");
     shot(&b, "stops");
 
+    // A clearing found on the way: confirmed, with its cause, area and two
+    // photos of its own; an area of 0 is refused first.
+    let (p3, _) = photo(work.path(), 3, p_lat, p_lon);
+    let (p4, _) = photo(work.path(), 4, p_lat, p_lon);
+    b.click("#new-clearing");
+    b.click("input[name=cause][value=fire]");
+    b.type_into("#area", "0");
+    b.choose_file("#photo-gallery", &p3);
+    b.choose_file("#photo-gallery", &p4);
+    wait_for(
+        &b,
+        "document.querySelectorAll('#photo-list li').length === 2",
+        "the clearing's photos",
+    );
+    b.click("#save");
+    let msg = wait_for(
+        &b,
+        "document.querySelector('.notice.error') && document.querySelector('.notice.error').textContent",
+        "the refusal of a zero area",
+    );
+    assert!(msg.as_str().unwrap_or_default().contains("area"), "{msg}");
+    b.type_into("#area", "1.5");
+    // A DOM click: in this phone emulation ChromeDriver's Element Click
+    // after typing into the re-drawn form did not reach the button (the
+    // app saw no click event at all); a person's tap is a click event too.
+    b.script("document.getElementById('save').click();");
+    wait_for(
+        &b,
+        "document.querySelector('#new-clearings li.report')",
+        "the new clearing on the trip",
+    );
+    assert_clean(&b, "new clearing");
+    shot(&b, "new-clearing");
+
     // The return file, saved for the station, opens with the sync crate's
     // reader: signature, manifest, checksums and every report.
     let downloads = work.path().join("downloads");
@@ -538,9 +662,21 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
         &groundproof_sync::returns::ReturnLimits::default(),
     )
     .expect("the saved return opens with the sync reader");
-    assert_eq!(opened.reports.len(), 2, "{:?}", opened.rejected);
+    assert_eq!(opened.reports.len(), 3, "{:?}", opened.rejected);
     assert!(opened.rejected.is_empty(), "{:?}", opened.rejected);
-    assert_eq!(opened.manifest.photo_count, 2);
+    assert_eq!(opened.manifest.photo_count, 4);
+    // Each photo carries what its EXIF says, read on the phone.
+    for r in &opened.reports {
+        for ph in &r.photos {
+            assert!((ph.lat.expect("photo lat") - p_lat).abs() < 1e-6);
+            assert!((ph.lon.expect("photo lon") - p_lon).abs() < 1e-6);
+            assert_eq!(
+                ph.taken_at.map(|t| t.to_rfc3339()),
+                Some("2026-11-20T10:15:00+00:00".to_string())
+            );
+            assert_eq!(ph.direction_deg, Some(90.0));
+        }
+    }
     assert!(
         b.text(".notice.ok").contains("Return file saved"),
         "{}",
@@ -600,7 +736,7 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
         "the resumed send's answer",
     );
     assert!(
-        done.as_str().unwrap_or_default().contains("2 accepted"),
+        done.as_str().unwrap_or_default().contains("3 accepted"),
         "{done}"
     );
     assert_clean_but(&b, "resumed send", &["/api/v1/uploads"]);
@@ -610,14 +746,14 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
             .expect("counts");
     assert_eq!(
         counts.get(&bundle.manifest.bundle_id.to_string()),
-        Some(&(1, 2)),
+        Some(&(1, 3)),
         "{counts:?}"
     );
     b.click("#cautions-ok");
     b.click("#go-send");
     wait_for(
         &b,
-        "document.querySelectorAll('#send-results li').length === 2",
+        "document.querySelectorAll('#send-results li').length === 3",
         "the server's answer",
     );
     let results = b.script(
@@ -633,8 +769,9 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
     assert_clean(&b, "sent");
     shot(&b, "sent");
 
-    // The server holds both reports; the photos are the very same bytes.
+    // The server holds the three reports; the photos are the very same bytes.
     let mut confirmed = 0;
+    let mut clearings = 0;
     for r in results {
         let id = r[0].as_str().expect("report id");
         let row =
@@ -645,7 +782,12 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
         assert_eq!(row.team, "Team Amber");
         assert!((row.lat.expect("lat") - p_lat).abs() < 1e-9);
         assert_eq!(row.accuracy_m, Some(7.0));
-        if row.outcome.as_str() == "confirmed" {
+        if row.kind.as_str() == "new_clearing" {
+            clearings += 1;
+            assert_eq!(row.outcome.as_str(), "confirmed");
+            assert_eq!(row.cause.map(|c| c.as_str()), Some("fire"));
+            assert_eq!(row.area_ha, Some(1.5));
+        } else if row.outcome.as_str() == "confirmed" {
             confirmed += 1;
             assert_eq!(row.cause.map(|c| c.as_str()), Some("mining"));
             let mut got: Vec<String> =
@@ -670,7 +812,7 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
             assert_eq!(row.control_code.as_deref(), None);
         }
     }
-    assert_eq!(confirmed, 1);
+    assert_eq!((confirmed, clearings), (1, 1));
 
     // A correction: a new report that names the one it supersedes.
     let (safety_id, _) = results

@@ -36,6 +36,7 @@ pub const FILES: &[(&str, &str, &[u8])] = &[
     app_file!("app.css", "text/css; charset=utf-8"),
     app_file!("app.js", JS),
     app_file!("bundle.js", JS),
+    app_file!("coords.js", JS),
     app_file!("crypto.js", JS),
     app_file!("geo.js", JS),
     app_file!("i18n.js", JS),
@@ -53,6 +54,9 @@ pub const FILES: &[(&str, &str, &[u8])] = &[
     app_file!("i18n/pt.json", JSON),
     app_file!("vendor/fflate.js", JS),
     app_file!("vendor/fflate.LICENSE", "text/plain; charset=utf-8"),
+    app_file!("vendor/exifr.js", JS),
+    app_file!("vendor/exifr.LICENSE", "text/plain; charset=utf-8"),
+    app_file!("exif.js", JS),
 ];
 
 /// The placeholder cache name in `sw.js`, replaced by one naming this build.

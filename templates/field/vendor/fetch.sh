@@ -8,6 +8,7 @@
 #
 # Library | version | file here         | from the package    | licence
 # fflate  | 0.8.3   | fflate.js         | esm/browser.js      | MIT (fflate.LICENSE)
+# exifr   | 7.1.3   | exifr.js          | dist/mini.esm.js    | MIT (exifr.LICENSE)
 set -eu
 
 here=$(cd "$(dirname "$0")" && pwd)
@@ -24,12 +25,15 @@ fetch() { # name version
 fetch fflate 0.8.3
 cp "$work/fflate/package/esm/browser.js" "$work/fflate.js"
 cp "$work/fflate/package/LICENSE" "$work/fflate.LICENSE"
+fetch exifr 7.1.3
+cp "$work/exifr/package/dist/mini.esm.js" "$work/exifr.js"
+cp "$work/exifr/package/LICENSE" "$work/exifr.LICENSE"
 
 # Every line of SHA256SUMS must match the fresh download.
 (cd "$work" && sha256sum -c "$here/SHA256SUMS")
 
 if [ "${1:-}" = "--write" ]; then
-    cp "$work/fflate.js" "$work/fflate.LICENSE" "$here/"
+    cp "$work/fflate.js" "$work/fflate.LICENSE" "$work/exifr.js" "$work/exifr.LICENSE" "$here/"
     echo "vendored files replaced"
 fi
 # And the files here must match too.
