@@ -11,6 +11,7 @@ import { sha256Hex } from './crypto.js';
 import * as sending from './send.js';
 import { toUtm, formatUtm, toMgrs, groupMgrs } from './coords.js';
 import { photoMeta } from './exif.js';
+import { drawMap, dropMap, showPhone, tileUrlAllowed } from './map.js';
 import { LANGUAGES, pickLanguage, setLanguage, language, t, token, number, dateTime, date } from './i18n.js';
 
 const state = {
@@ -135,6 +136,7 @@ function wayText(stop) {
 }
 
 function updateWay() {
+  showPhone(state.fix);
   const here = document.getElementById('fix');
   if (here) here.textContent = fixText();
   const way = document.getElementById('way');
@@ -187,8 +189,20 @@ function header() {
     h('label', { class: 'lang' }, h('span', { class: 'sr' }, t('language.label')), picker));
 }
 
+async function saveTileUrl() {
+  const v = document.getElementById('tile-url').value.trim();
+  if (v !== '' && !tileUrlAllowed(v)) {
+    say('error', t('map.tiles_bad'));
+    return go('home');
+  }
+  await store.setSetting('tile_url', v === '' ? null : v);
+  say('ok', t(v === '' ? 'map.tiles_off' : 'map.tiles_on'));
+  return go('home');
+}
+
 async function viewHome() {
   const list = await store.trips();
+  const tileUrl = (await store.getSetting('tile_url')) || '';
   const counts = new Map();
   for (const r of await store.allReports()) if (r.state === 'unsent') counts.set(r.bundle_id, (counts.get(r.bundle_id) || 0) + 1);
   const input = h('input', { type: 'file', id: 'bundle-file', accept: '.zip,application/zip', onchange: onBundleChosen });
@@ -216,6 +230,12 @@ async function viewHome() {
               h('span', { class: 'badge unsent' }, t('home.trip_unsent', { n: counts.get(tr.bundle_id) || 0 })),
               expired ? h('span', { class: 'badge refused' }, t('home.trip_expired')) : null));
         }))),
+    h('form', { class: 'card', id: 'tiles-form', onsubmit: (e) => { e.preventDefault(); saveTileUrl(); } },
+      h('h2', {}, t('map.tiles_title')),
+      h('p', {}, t('map.tiles_help')),
+      h('label', { for: 'tile-url' }, t('map.tiles_label')),
+      h('input', { id: 'tile-url', type: 'text', autocomplete: 'off', spellcheck: 'false', maxlength: '300', value: tileUrl, placeholder: '/tiles/{z}/{x}/{y}.png' }),
+      h('button', { type: 'submit', class: 'button' }, t('map.tiles_save'))),
   ];
 }
 
@@ -269,6 +289,10 @@ function viewTrip() {
   const stops = stopsOf(state.trip);
   return [
     tripHead(),
+    h('section', { class: 'card' },
+      h('h2', {}, t('map.title')),
+      h('div', { id: 'map', class: 'map', role: 'region', 'aria-label': t('map.label') }),
+      h('p', { class: 'legend' }, t('map.legend'))),
     h('section', { class: 'card' },
       h('h2', {}, t('trip.stops_title')),
       h('ol', { class: 'list stops', id: 'stops' }, stops.map((s, i) => {
@@ -443,8 +467,15 @@ async function render() {
   const views = { home: viewHome, cautions: viewCautions, trip: viewTrip, stop: viewStop, form: viewForm, send: viewSend };
   const body = await views[state.view]();
   const m = main();
+  dropMap();
   m.replaceChildren(header(), ...(state.view === 'form' || state.view === 'send' ? [] : [notice()]).filter(Boolean), ...body);
   if (state.view === 'form') showGroups();
+  if (state.view === 'trip') {
+    drawMap(document.getElementById('map'), state.trip, stopsOf(state.trip), {
+      tileUrl: await store.getSetting('tile_url'), northLabel: t('map.north'), onStop: openStop,
+    });
+    showPhone(state.fix);
+  }
   if (state.view !== 'home') storageLine();
   updateWay();
   document.title = t('app_name');

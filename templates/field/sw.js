@@ -16,6 +16,7 @@ const FILES = [
   './exif.js',
   './geo.js',
   './i18n.js',
+  './map.js',
   './report.js',
   './returnpkg.js',
   './send.js',
@@ -29,6 +30,8 @@ const FILES = [
   './i18n/pt.json',
   './vendor/fflate.js',
   './vendor/exifr.js',
+  './vendor/leaflet.js',
+  './vendor/leaflet.css',
 ];
 
 self.addEventListener('install', (event) => {

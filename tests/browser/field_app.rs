@@ -446,6 +446,28 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
         .map(|c| c.as_str().unwrap_or_default().to_string())
         .collect();
     assert_eq!(codes, bundle.route, "stops in visit order");
+    // The map: every footprint, the route from the start through every
+    // stop, the phone with its accuracy; no base layer, so no tile.
+    let drawn = wait_for(
+        &b,
+        "(() => { const m = document.getElementById('map');          return m && m.dataset.phone && m.querySelector('.leaflet-overlay-pane path') &&          [Number(m.dataset.footprints), Number(m.dataset.stops), Number(m.dataset.routePoints),           m.dataset.phone, Number(m.dataset.accuracy), m.dataset.tiles,           m.querySelectorAll('img').length, m.querySelectorAll('.leaflet-overlay-pane path').length]; })()",
+        "the map",
+    );
+    assert_eq!(
+        drawn,
+        json!([
+            bundle.events.len(),
+            bundle.route.len(),
+            bundle.route.len() + 1,
+            format!("{p_lat:.6},{p_lon:.6}"),
+            7,
+            "off",
+            0,
+            // footprints + route + start + stops + phone and its circle
+            bundle.events.len() + 1 + 1 + bundle.route.len() + 2
+        ]),
+        "the map as drawn"
+    );
     let states = b.script(
         "return Array.from(document.querySelectorAll('#stops > li')).map(li => li.dataset.state);",
     );

@@ -40,6 +40,7 @@ pub const FILES: &[(&str, &str, &[u8])] = &[
     app_file!("crypto.js", JS),
     app_file!("geo.js", JS),
     app_file!("i18n.js", JS),
+    app_file!("map.js", JS),
     app_file!("report.js", JS),
     app_file!("returnpkg.js", JS),
     app_file!("send.js", JS),
@@ -57,6 +58,9 @@ pub const FILES: &[(&str, &str, &[u8])] = &[
     app_file!("vendor/exifr.js", JS),
     app_file!("vendor/exifr.LICENSE", "text/plain; charset=utf-8"),
     app_file!("exif.js", JS),
+    app_file!("vendor/leaflet.js", JS),
+    app_file!("vendor/leaflet.css", "text/css; charset=utf-8"),
+    app_file!("vendor/leaflet.LICENSE", "text/plain; charset=utf-8"),
 ];
 
 /// The placeholder cache name in `sw.js`, replaced by one naming this build.
