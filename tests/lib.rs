@@ -82,7 +82,11 @@ impl TestServer {
         self.stop();
         let db = Arc::new(Db::open(self.dir.path()).expect("database opens again"));
         let listener = TcpListener::bind(self.addr).expect("bind the same port");
-        let state = AppState::new(db.clone(), self.dir.path().to_path_buf(), Settings::default());
+        let state = AppState::new(
+            db.clone(),
+            self.dir.path().to_path_buf(),
+            Settings::default(),
+        );
         let (tx, rx) = std::sync::mpsc::channel();
         self.thread = Some(std::thread::spawn(move || {
             actix_web::rt::System::new().block_on(async move {

@@ -555,7 +555,10 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
         .script("return Number(document.querySelector('#photo-list .exif').dataset.lat);")
         .as_f64()
         .expect("EXIF latitude");
-    assert!((exif_lat - p_lat).abs() < 1e-6, "EXIF {exif_lat} vs {p_lat}");
+    assert!(
+        (exif_lat - p_lat).abs() < 1e-6,
+        "EXIF {exif_lat} vs {p_lat}"
+    );
     b.click("#save");
     let msg = wait_for(
         &b,
@@ -719,9 +722,7 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
     );
     // A slow link (100 kB/s up), so the send is caught half way.
     b.cdp("Network.enable", json!({}));
-    let slow = |up: i64| {
-        json!({"offline": false, "latency": 0, "downloadThroughput": -1, "uploadThroughput": up})
-    };
+    let slow = |up: i64| json!({"offline": false, "latency": 0, "downloadThroughput": -1, "uploadThroughput": up});
     b.cdp("Network.emulateNetworkConditions", slow(100_000));
     b.click("#send-now");
     let size = wait_for(
@@ -763,9 +764,7 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
     );
     assert_clean_but(&b, "resumed send", &["/api/v1/uploads"]);
     // Nothing duplicated: one return with two reports.
-    let counts =
-        s.db.read(|x| x.bundle_return_counts())
-            .expect("counts");
+    let counts = s.db.read(|x| x.bundle_return_counts()).expect("counts");
     assert_eq!(
         counts.get(&bundle.manifest.bundle_id.to_string()),
         Some(&(1, 3)),

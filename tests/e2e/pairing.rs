@@ -51,7 +51,10 @@ fn issue(s: &TestServer, team: &str) -> (String, Vec<u8>) {
     );
     assert_eq!(r.status, 201, "{}", r.body);
     let j = r.json();
-    let id = j["bundle"]["bundle"]["id"].as_str().expect("id").to_string();
+    let id = j["bundle"]["bundle"]["id"]
+        .as_str()
+        .expect("id")
+        .to_string();
     let (status, zip) = get_bytes(&s.url(j["download"].as_str().expect("download")));
     assert_eq!(status, 200);
     (id, zip)
@@ -64,8 +67,16 @@ fn a_code_puts_one_bundle_on_one_phone_once() {
     let (id, zip) = issue(&s, "Team Amber");
     let make = s.url(&format!("/api/v1/bundles/{id}/pairings"));
 
-    // Nobody without the right makes codes.
+    // Nobody without the right makes codes: not anonymous, not a manager.
     assert_eq!(post_json_as(&make, None, &json!({})).status, 401);
+    let (_, manager) = groundproof::platform::auth::issue_api_token(
+        &s.db,
+        groundproof::platform::auth::Role::Manager,
+        "a manager",
+        groundproof::platform::auth::now_unix(),
+    )
+    .expect("manager token");
+    assert_eq!(post_json_as(&make, Some(&manager), &json!({})).status, 403);
     let r = post_json(&make, &json!({}));
     assert_eq!(r.status, 201, "{}", r.body);
     let p = r.json();
@@ -73,7 +84,10 @@ fn a_code_puts_one_bundle_on_one_phone_once() {
     assert_eq!(code.len(), 11, "XXXXX-XXXXX: {code}");
     assert_eq!(&code[5..6], "-");
     let link = p["link"].as_str().expect("link");
-    assert_eq!(link, s.url(&format!("/field/#pair={}", code.replace('-', ""))));
+    assert_eq!(
+        link,
+        s.url(&format!("/field/#pair={}", code.replace('-', "")))
+    );
     assert!(p["qr_svg"].as_str().is_some_and(|q| q.starts_with("<svg")));
     assert!(p["expires_at"].as_str().is_some_and(|e| e.ends_with('Z')));
 
@@ -96,7 +110,10 @@ fn a_code_puts_one_bundle_on_one_phone_once() {
     let bad = redeem(&s, "12345");
     assert_eq!((bad.status, refusal(&bad).as_str()), (400, "malformed"));
     let unknown = redeem(&s, "ZZZZZ-ZZZZZ");
-    assert_eq!((unknown.status, refusal(&unknown).as_str()), (404, "unknown"));
+    assert_eq!(
+        (unknown.status, refusal(&unknown).as_str()),
+        (404, "unknown")
+    );
 
     // A code older than its lifetime.
     let now = groundproof::platform::auth::now_unix();
@@ -119,7 +136,10 @@ fn a_code_puts_one_bundle_on_one_phone_once() {
     let r = post_json(&s.url(&format!("/api/v1/bundles/{id}/cancel")), &json!({}));
     assert_eq!(r.status, 200, "{}", r.body);
     let gone = redeem(&s, &waiting);
-    assert_eq!((gone.status, refusal(&gone).as_str()), (410, "trip_cancelled"));
+    assert_eq!(
+        (gone.status, refusal(&gone).as_str()),
+        (410, "trip_cancelled")
+    );
     assert_eq!(get_as(&s.url("/api/v1/bundles"), Some(&token)).status, 401);
     // And no new code is made for it.
     assert_eq!(post_json(&make, &json!({})).status, 409);

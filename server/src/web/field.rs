@@ -160,6 +160,39 @@ mod tests {
         assert_eq!(sw.matches("  './").count(), cached.len() + 1);
     }
 
+    /// Every catalogue has the English keys, no others, and the same
+    /// `{name}` placeholders in each message.
+    #[test]
+    fn catalogues_agree_with_english() {
+        fn holes(text: &str) -> std::collections::BTreeSet<String> {
+            text.split('{')
+                .skip(1)
+                .filter_map(|rest| rest.split_once('}').map(|(name, _)| name.to_string()))
+                .collect()
+        }
+        let load = |lang: &str| -> serde_json::Map<String, serde_json::Value> {
+            let (_, _, bytes) = FILES
+                .iter()
+                .find(|(n, _, _)| *n == format!("i18n/{lang}.json"))
+                .expect("catalogue");
+            serde_json::from_slice(bytes).expect("catalogue JSON")
+        };
+        let en = load("en");
+        for lang in ["es", "fr", "id", "pt"] {
+            let other = load(lang);
+            let missing: Vec<&String> = en.keys().filter(|k| !other.contains_key(*k)).collect();
+            let extra: Vec<&String> = other.keys().filter(|k| !en.contains_key(*k)).collect();
+            assert!(
+                missing.is_empty() && extra.is_empty(),
+                "{lang}: missing {missing:?}, extra {extra:?}"
+            );
+            for (k, v) in &en {
+                let (a, b) = (v.as_str().unwrap_or(""), other[k].as_str().unwrap_or(""));
+                assert_eq!(holes(a), holes(b), "{lang} {k}");
+            }
+        }
+    }
+
     /// The app shell with its libraries, as a phone downloads it once,
     /// is at most 500 kB compressed (issue 11's budget). Measured with
     /// DEFLATE at level 9 (what gzip -9 uses) over every file the service

@@ -86,7 +86,7 @@ impl PairingRefusal {
 pub enum Redemption {
     /// The bundle to load and the team token to send with (shown once).
     Paired {
-        bundle: BundleRecord,
+        bundle: Box<BundleRecord>,
         team_token: String,
     },
     Refused(PairingRefusal),
@@ -202,10 +202,13 @@ pub fn redeem_pairing(db: &Db, typed: &str, now: i64) -> Result<Redemption> {
         }
         let t = tx.insert_team_token(&sha256_hex(&token), &b.team, now)?;
         if !tx.use_pairing(p.id, t.id, now)? {
-            return Err(Error::Internal(format!("pairing {} changed under its lock", p.id)));
+            return Err(Error::Internal(format!(
+                "pairing {} changed under its lock",
+                p.id
+            )));
         }
         Ok(Redemption::Paired {
-            bundle: b,
+            bundle: Box::new(b),
             team_token: token,
         })
     })
@@ -235,7 +238,11 @@ mod tests {
         assert_eq!(normalize_code("O1LI2-34567").as_deref(), Some("0111234567"));
         assert_eq!(normalize_code("ABCDE-FGHJ"), None, "too short");
         assert_eq!(normalize_code("ABCDE-FGHJKX"), None, "too long");
-        assert_eq!(normalize_code("ABCDE-FGHJU"), None, "U is not in the alphabet");
+        assert_eq!(
+            normalize_code("ABCDE-FGHJU"),
+            None,
+            "U is not in the alphabet"
+        );
         assert_eq!(normalize_code("ABCDE-FGHJ!"), None);
         assert_eq!(normalize_code("ÀBCDE-FGHJK"), None);
     }

@@ -32,8 +32,8 @@ mod zones;
 pub use alerts::{NewAlert, StoredAlert, alerts_cells, e7};
 pub use auth::{ApiTokenRecord, LoginAttempt, SessionRecord, TeamTokenRecord, User};
 pub use bundles::{BundleItem, BundleRecord, NewBundle, Team};
-pub use pairing::PairingRecord;
 pub use events::{EventFilter, EventRecord, EventWrite};
+pub use pairing::PairingRecord;
 pub use returns::{
     PhotoCheckRow, PhotoRow, RETURNS_MIGRATION, ReportPhotoRow, ReportRow, ResultRow, ReturnRecord,
     UploadRecord,

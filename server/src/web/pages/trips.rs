@@ -16,8 +16,8 @@ use crate::planning::{IssuedBundle, TripRequest, cancel_bundle, issue_bundle};
 use crate::platform::auth::Action;
 use crate::platform::storage::{BundleRecord, Team, ZoneRecord};
 use crate::web::AppState;
-use crate::web::pairing::{self, ShownPairing};
 use crate::web::charts::render_map;
+use crate::web::pairing::{self, ShownPairing};
 use actix_web::http::StatusCode;
 use actix_web::{HttpRequest, HttpResponse, web};
 use askama::Template;
@@ -228,9 +228,7 @@ fn bundle_rows(
                 reports,
                 cancellable: may_cancel && b.cancelled_at.is_none(),
                 downloadable: b.cancelled_at.is_none(),
-                pairable: may_pair
-                    && b.cancelled_at.is_none()
-                    && not_expired(&b.expires_at, now),
+                pairable: may_pair && b.cancelled_at.is_none() && not_expired(&b.expires_at, now),
             }
         })
         .collect();
@@ -338,6 +336,25 @@ impl PairingView {
     }
 }
 
+/// The bundle's events as ranked on the day it was planned for.
+fn ranked_events(
+    st: &AppState,
+    items: &[crate::platform::storage::BundleItem],
+    as_of: Day,
+) -> Result<Vec<RankedEvent>, Error> {
+    let mut events = Vec::new();
+    for id in items.iter().filter_map(|i| i.event_id) {
+        if let Some(rec) = st.db.read(|r| r.event_resolved(id))? {
+            let priority = priority_of(&rec, &st.settings.priority, as_of);
+            events.push(RankedEvent {
+                record: rec,
+                priority,
+            });
+        }
+    }
+    Ok(events)
+}
+
 async fn issue_page(
     req: &HttpRequest,
     state: &AppState,
@@ -357,16 +374,7 @@ async fn issue_page(
             let (items, zones) = st
                 .db
                 .read(|r| Ok((r.bundle_items(&out.bundle.id)?, r.zones()?)))?;
-            let mut events = Vec::new();
-            for id in items.iter().filter_map(|i| i.event_id) {
-                if let Some(rec) = st.db.read(|r| r.event_resolved(id))? {
-                    let priority = priority_of(&rec, &st.settings.priority, trip.as_of);
-                    events.push(RankedEvent {
-                        record: rec,
-                        priority,
-                    });
-                }
-            }
+            let events = ranked_events(&st, &items, trip.as_of)?;
             Ok::<_, Error>((out, items, events, zones, shown))
         })
         .await??;
