@@ -8,3 +8,4 @@ mod pages;
 mod pairing;
 mod stats_api;
 mod stats_cache;
+mod tls;
