@@ -4,24 +4,32 @@
 //!
 //! The walk: the app loads with no login; a tampered trip file and an
 //! expired one are refused with the catalogue's message and nothing is
-//! kept; the real one opens on
-//! the safety cautions, then the stops in visit order; with the phone's
+//! kept; the trip is paired through the link of the QR code on the trip
+//! page a coordinator gets (the same code again is refused as used), opens
+//! on the safety cautions, then the stops in visit order with the map
+//! (footprints, route, phone and accuracy, no tiles); the target's and the
+//! phone's UTM and MGRS match the server's formulas; with the phone's
 //! position set (DevTools geolocation override) 500 m south of the first
 //! stop, the distance and bearing match the field kit's geodesy (Karney,
 //! geographiclib) within 1 m and 1°, and follow the phone as it moves; a confirmed visit with one photo is
 //! refused by the checklist (two needed), then saved with two JPEGs with
-//! EXIF; "not reached: safety" is one tap on the second stop; the return
+//! EXIF (read on the phone); "not reached: safety" is one tap on the
+//! second stop; a new clearing is recorded (an area of 0 refused); the return
 //! file saved for the station opens with the sync crate's reader
-//! (signature, checksums, both reports); the return is sent with the team
-//! token, and the server holds both
+//! (signature, checksums, the three reports, EXIF fields); the return is
+//! sent with the paired team token over the resumable upload on a slow
+//! link, the server is killed mid-upload, the app reloaded while it is
+//! down, the server restarted: the send goes on by itself and the server
+//! holds one return with the three
 //! reports, the photos byte-identical (same SHA-256, same bytes on disk);
 //! a correction of the safety report is sent and stored as a new report
 //! naming the one it supersedes; a second team's trip opens beside the
-//! first without mixing their stops or reports.
+//! first without mixing their stops or reports (paired by its typed code).
 //! Then the server stops and the app loads again from its service worker,
 //! opens the trip from the phone's store and switches to Portuguese.
 //!
-//! No console error is allowed at any step. Fails when `CI` is set and
+//! No console error is allowed at any step (but the browser's own lines for
+//! the refusals and cut connections a step provokes on purpose). Fails when `CI` is set and
 //! Chromium or ChromeDriver is missing; elsewhere it says SKIP on stderr.
 
 #[path = "webdriver.rs"]
