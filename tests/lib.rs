@@ -60,6 +60,45 @@ impl TestServer {
         format!("http://{}{}", self.addr, path)
     }
 
+    /// Stop the server as a crash would leave it for its clients
+    /// (connections refused); the data directory stays.
+    pub fn stop(&mut self) {
+        let h = self.handle.clone();
+        let stopper = std::thread::spawn(move || {
+            actix_web::rt::System::new().block_on(h.stop(false));
+        });
+        let _ = stopper.join();
+        if let Some(t) = self.thread.take() {
+            let _ = t.join();
+        }
+    }
+
+    /// Start again on the same port and data directory (after [`stop`]),
+    /// as a station restarting its server does; start-up clean-up runs
+    /// again, and the admin token still works.
+    ///
+    /// [`stop`]: TestServer::stop
+    pub fn restart(&mut self) {
+        self.stop();
+        let db = Arc::new(Db::open(self.dir.path()).expect("database opens again"));
+        let listener = TcpListener::bind(self.addr).expect("bind the same port");
+        let state = AppState::new(
+            db.clone(),
+            self.dir.path().to_path_buf(),
+            Settings::default(),
+        );
+        let (tx, rx) = std::sync::mpsc::channel();
+        self.thread = Some(std::thread::spawn(move || {
+            actix_web::rt::System::new().block_on(async move {
+                let server = web::run(listener, state).expect("server builds");
+                tx.send(server.handle()).expect("handle sent");
+                let _ = server.await;
+            });
+        }));
+        self.handle = rx.recv().expect("server started again");
+        self.db = db;
+    }
+
     pub fn data_dir(&self) -> &Path {
         self.dir.path()
     }

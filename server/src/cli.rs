@@ -40,6 +40,12 @@ enum Command {
         /// Address to listen on.
         #[arg(long, default_value = "127.0.0.1:8080")]
         bind: String,
+        /// Serve HTTPS with this PEM certificate chain (leaf first); needs --tls-key.
+        #[arg(long, requires = "tls_key")]
+        tls_cert: Option<PathBuf>,
+        /// The PEM private key of --tls-cert.
+        #[arg(long, requires = "tls_cert")]
+        tls_key: Option<PathBuf>,
     },
     /// Load the invented demo scenario into a fresh data directory and serve it.
     Demo {
@@ -301,9 +307,19 @@ fn open(data: &Path) -> Result<(Db, Settings)> {
 
 pub fn run() -> Result<ExitCode> {
     match Cli::parse().command {
-        Command::Serve { data, bind } => {
+        Command::Serve {
+            data,
+            bind,
+            tls_cert,
+            tls_key,
+        } => {
+            // Read the TLS files before anything else, so a bad one stops here.
+            let tls = match (tls_cert, tls_key) {
+                (Some(c), Some(k)) => Some(web::tls_config(&c, &k)?),
+                _ => None,
+            };
             let (db, settings) = open(&data.data)?;
-            serve(db, settings, &data.data, &bind)?;
+            serve(db, settings, &data.data, &bind, tls)?;
         }
         Command::Demo {
             data,
@@ -672,7 +688,13 @@ fn serve_demo(
     Ok(())
 }
 
-fn serve(db: Db, settings: Settings, data_dir: &Path, bind: &str) -> Result<()> {
+fn serve(
+    db: Db,
+    settings: Settings,
+    data_dir: &Path,
+    bind: &str,
+    tls: Option<rustls::ServerConfig>,
+) -> Result<()> {
     // Files a crash left without a row (invariant 3) go before serving.
     let cleaned = groundproof::intake::cleanup(&db, data_dir)
         .map_err(|e| anyhow::anyhow!("cleaning up after a crash: {e}"))?;
@@ -701,10 +723,17 @@ fn serve(db: Db, settings: Settings, data_dir: &Path, bind: &str) -> Result<()> 
     let listener = TcpListener::bind(bind).with_context(|| format!("binding {bind}"))?;
     let addr = listener.local_addr()?;
     let state = web::AppState::new(Arc::new(db), data_dir.to_path_buf(), settings);
-    println!("Groundproof is serving on http://{addr}/ (press Ctrl-C to stop)");
-    println!("  events:  http://{addr}/api/v1/events");
-    println!("  zones:   http://{addr}/api/v1/zones");
-    println!("  bundles: http://{addr}/api/v1/bundles");
-    actix_web::rt::System::new().block_on(async move { web::run(listener, state)?.await })?;
+    let scheme = if tls.is_some() { "https" } else { "http" };
+    println!("Groundproof is serving on {scheme}://{addr}/ (press Ctrl-C to stop)");
+    println!("  events:    {scheme}://{addr}/api/v1/events");
+    println!("  zones:     {scheme}://{addr}/api/v1/zones");
+    println!("  bundles:   {scheme}://{addr}/api/v1/bundles");
+    println!("  field app: {scheme}://{addr}/field/");
+    actix_web::rt::System::new().block_on(async move {
+        match tls {
+            Some(config) => web::run_tls(listener, state, config)?.await,
+            None => web::run(listener, state)?.await,
+        }
+    })?;
     Ok(())
 }

@@ -8,6 +8,10 @@ import { distanceBearing } from './geo.js';
 import { makeReport, validateReport, ReportProblem, MAX_PHOTO_BYTES } from './report.js';
 import { packReturn } from './returnpkg.js';
 import { sha256Hex } from './crypto.js';
+import * as sending from './send.js';
+import { toUtm, formatUtm, toMgrs, groupMgrs } from './coords.js';
+import { photoMeta } from './exif.js';
+import { drawMap, dropMap, showPhone, tileUrlAllowed } from './map.js';
 import { LANGUAGES, pickLanguage, setLanguage, language, t, token, number, dateTime, date } from './i18n.js';
 
 const state = {
@@ -111,6 +115,17 @@ function fixText() {
   });
 }
 
+/** A point as UTM and MGRS (1 m), as the field sheet gives them. */
+function gridText(lat, lon) {
+  const u = toUtm(lat, lon);
+  if (!u) return '';
+  return t('position.grid', { utm: formatUtm(u), mgrs: groupMgrs(toMgrs(lat, lon, 5)) });
+}
+
+function fixGridText() {
+  return state.fix ? gridText(state.fix.lat, state.fix.lon) : '';
+}
+
 function wayText(stop) {
   if (!state.fix) return t(state.fixError || 'position.waiting');
   const { distance, bearing } = distanceBearing(state.fix.lat, state.fix.lon, stop.lat, stop.lon);
@@ -121,6 +136,7 @@ function wayText(stop) {
 }
 
 function updateWay() {
+  showPhone(state.fix);
   const here = document.getElementById('fix');
   if (here) here.textContent = fixText();
   const way = document.getElementById('way');
@@ -136,6 +152,12 @@ function updateWay() {
   }
   const formFix = document.getElementById('form-fix');
   if (formFix) formFix.textContent = fixText();
+  const grid = document.getElementById('fix-grid');
+  if (grid && state.fix) {
+    grid.textContent = fixGridText();
+    grid.dataset.utm = formatUtm(toUtm(state.fix.lat, state.fix.lon), 3);
+    grid.dataset.mgrs = toMgrs(state.fix.lat, state.fix.lon, 5) || '';
+  }
 }
 
 // ---------------------------------------------------------------- storage
@@ -167,12 +189,30 @@ function header() {
     h('label', { class: 'lang' }, h('span', { class: 'sr' }, t('language.label')), picker));
 }
 
+async function saveTileUrl() {
+  const v = document.getElementById('tile-url').value.trim();
+  if (v !== '' && !tileUrlAllowed(v)) {
+    say('error', t('map.tiles_bad'));
+    return go('home');
+  }
+  await store.setSetting('tile_url', v === '' ? null : v);
+  say('ok', t(v === '' ? 'map.tiles_off' : 'map.tiles_on'));
+  return go('home');
+}
+
 async function viewHome() {
   const list = await store.trips();
+  const tileUrl = (await store.getSetting('tile_url')) || '';
   const counts = new Map();
   for (const r of await store.allReports()) if (r.state === 'unsent') counts.set(r.bundle_id, (counts.get(r.bundle_id) || 0) + 1);
   const input = h('input', { type: 'file', id: 'bundle-file', accept: '.zip,application/zip', onchange: onBundleChosen });
   return [
+    h('form', { class: 'card', id: 'pair-form', onsubmit: (e) => { e.preventDefault(); pair(document.getElementById('pair-code').value); } },
+      h('h2', {}, t('pair.title')),
+      h('p', {}, t('pair.help')),
+      h('label', { for: 'pair-code' }, t('pair.code_label')),
+      h('input', { id: 'pair-code', type: 'text', autocomplete: 'off', autocapitalize: 'characters', spellcheck: 'false', maxlength: '16', placeholder: '7KQ2M-9XH4D' }),
+      h('button', { type: 'submit', class: 'button primary', id: 'pair-button', disabled: state.busy }, t('pair.button'))),
     h('section', { class: 'card' },
       h('h2', {}, t('home.open_title')),
       h('p', {}, t('home.open_help')),
@@ -190,6 +230,12 @@ async function viewHome() {
               h('span', { class: 'badge unsent' }, t('home.trip_unsent', { n: counts.get(tr.bundle_id) || 0 })),
               expired ? h('span', { class: 'badge refused' }, t('home.trip_expired')) : null));
         }))),
+    h('form', { class: 'card', id: 'tiles-form', onsubmit: (e) => { e.preventDefault(); saveTileUrl(); } },
+      h('h2', {}, t('map.tiles_title')),
+      h('p', {}, t('map.tiles_help')),
+      h('label', { for: 'tile-url' }, t('map.tiles_label')),
+      h('input', { id: 'tile-url', type: 'text', autocomplete: 'off', spellcheck: 'false', maxlength: '300', value: tileUrl, placeholder: '/tiles/{z}/{x}/{y}.png' }),
+      h('button', { type: 'submit', class: 'button' }, t('map.tiles_save'))),
   ];
 }
 
@@ -218,13 +264,35 @@ function tripHead() {
       h('button', { class: 'button', id: 'to-trips', onclick: () => go('home') }, t('nav.trips')),
       state.view === 'send' ? h('button', { class: 'button', id: 'to-stops', onclick: () => go('trip') }, t('nav.stops')) : null,
       h('button', { class: 'button', onclick: () => go('cautions') }, t('nav.safety')),
-      h('button', { class: 'button primary', id: 'go-send', onclick: () => { state.sendResult = null; go('send'); } }, t('nav.send'))));
+      h('button', { class: 'button primary', id: 'go-send', onclick: () => go('send') }, t('nav.send'))));
+}
+
+/** A clearing found on the way: not a stop of the bundle. */
+const NEW_CLEARING = { kind: 'new_clearing', code: null };
+
+function newClearings() {
+  const reps = state.reports.filter((r) => r.report.target.kind === 'new_clearing');
+  return h('section', { class: 'card', id: 'new-clearings' },
+    h('h2', {}, t('clearing.title')),
+    h('p', {}, t('clearing.help')),
+    h('button', { class: 'button primary', id: 'new-clearing', onclick: () => startForm(NEW_CLEARING, null) }, t('clearing.record')),
+    reps.length === 0 ? null : h('ul', { class: 'list' }, reps.map((r) => h('li', { class: 'report', 'data-report': r.report_id },
+      h('p', {}, h('strong', {}, r.report.cause ? token('cause', r.report.cause) : ''),
+        ` · ${t('stop.area_value', { n: number(r.report.area_ha, 2) })}`),
+      h('p', {}, t('report.line', { when: dateTime(r.report.recorded_at), photos: r.report.photos.length })),
+      r.report.supersedes ? h('p', {}, t('report.corrects')) : null,
+      h('p', {}, h('span', { class: `badge ${r.state}` }, t(`send_state.${r.state}`)), r.reason ? ` ${r.reason}` : ''),
+      h('button', { class: 'button small', 'data-correct': r.report_id, onclick: () => startForm(NEW_CLEARING, r.report) }, t('report.correct'))))));
 }
 
 function viewTrip() {
   const stops = stopsOf(state.trip);
   return [
     tripHead(),
+    h('section', { class: 'card' },
+      h('h2', {}, t('map.title')),
+      h('div', { id: 'map', class: 'map', role: 'region', 'aria-label': t('map.label') }),
+      h('p', { class: 'legend' }, t('map.legend'))),
     h('section', { class: 'card' },
       h('h2', {}, t('trip.stops_title')),
       h('ol', { class: 'list stops', id: 'stops' }, stops.map((s, i) => {
@@ -236,6 +304,7 @@ function viewTrip() {
             h('span', { class: `badge ${st}` }, t(`state.${st}`))),
           h('button', { class: 'button danger small', 'data-safety': s.code, onclick: () => quickSafety(s) }, t('stop.safety_button')));
       }))),
+    newClearings(),
   ];
 }
 
@@ -251,6 +320,11 @@ function viewStop() {
     ]
     : [];
   facts.push([t('stop.target'), `${s.lat.toFixed(6)}, ${s.lon.toFixed(6)}`]);
+  const tu = toUtm(s.lat, s.lon);
+  if (tu) {
+    facts.push([t('stop.target_utm'), h('span', { id: 'target-utm', 'data-utm': formatUtm(tu, 3) }, formatUtm(tu))]);
+    facts.push([t('stop.target_mgrs'), h('span', { id: 'target-mgrs', 'data-mgrs': toMgrs(s.lat, s.lon, 5) }, groupMgrs(toMgrs(s.lat, s.lon, 5)))]);
+  }
   return [
     h('section', { class: 'card' },
       h('h2', { id: 'stop-title' }, s.kind === 'event' ? t('stop.title_event', { code: s.code }) : t('stop.title_control', { code: s.code })),
@@ -259,6 +333,7 @@ function viewStop() {
         h('span', { id: 'arrow', class: 'arrow', 'aria-hidden': 'true' }, '↑'),
         h('p', { id: 'way', 'aria-live': 'polite' }, wayText(s))),
       h('p', { id: 'fix', class: 'fix' }, fixText()),
+      h('p', { id: 'fix-grid', class: 'fix' }, fixGridText()),
       h('p', { id: 'storage', class: 'storage' }, ''),
       h('div', { class: 'actions' },
         h('button', { class: 'button', id: 'to-stops', onclick: () => go('trip') }, t('nav.stops')),
@@ -300,6 +375,8 @@ function photoList() {
     [...f.keptPhotos.map((p) => ({ ...p, kept: true })), ...f.newPhotos].map((p) => h('li', { 'data-sha': p.sha256 },
       p.bytes ? h('img', { src: URL.createObjectURL(new Blob([p.bytes], { type: 'image/jpeg' })), alt: t('form.photo_alt', { name: p.original_name }) }) : null,
       h('span', {}, `${p.original_name} · ${bytesText(p.size)}`),
+      h('span', { class: 'exif', 'data-lat': p.lat ?? '', 'data-lon': p.lon ?? '' },
+        p.lat !== null && p.lat !== undefined ? t('form.photo_gps', { lat: p.lat.toFixed(6), lon: p.lon.toFixed(6) }) : t('form.photo_no_gps')),
       h('button', { class: 'button small', type: 'button', onclick: () => {
         f.keptPhotos = f.keptPhotos.filter((q) => q.sha256 !== p.sha256);
         f.newPhotos = f.newPhotos.filter((q) => q.sha256 !== p.sha256);
@@ -315,7 +392,8 @@ async function onPhotos(e) {
     if (!(bytes[0] === 0xff && bytes[1] === 0xd8 && bytes[2] === 0xff)) { say('error', t('problem.photo_not_jpeg', { name: file.name })); continue; }
     const sha256 = await sha256Hex(bytes);
     if ([...f.keptPhotos, ...f.newPhotos].some((p) => p.sha256 === sha256)) continue;
-    f.newPhotos.push({ sha256, bytes, size: bytes.length, original_name: [...file.name].slice(0, 255).join('') });
+    const meta = await photoMeta(bytes);
+    f.newPhotos.push({ sha256, bytes, size: bytes.length, original_name: [...file.name].slice(0, 255).join(''), ...meta });
   }
   e.target.value = '';
   document.getElementById('photo-list').replaceWith(photoList());
@@ -328,14 +406,21 @@ function viewForm() {
   const f = state.form;
   const c = state.trip.checklist;
   const s = state.stop;
+  const clearing = s.kind === 'new_clearing';
+  let title = f.supersedes ? t('form.title_correct', { code: s.code }) : t('form.title', { code: s.code });
+  if (clearing) title = f.supersedes ? t('clearing.title_correct') : t('clearing.form_title');
   return [
     h('form', { class: 'card', id: 'record-form', onsubmit: (e) => { e.preventDefault(); saveForm(); } },
-      h('h2', {}, f.supersedes ? t('form.title_correct', { code: s.code }) : t('form.title', { code: s.code })),
+      h('h2', {}, title),
       notice(),
-      choiceGroup('outcome', t('form.outcome'), c.outcomes, 'outcome', f.outcome),
+      clearing ? null : choiceGroup('outcome', t('form.outcome'), c.outcomes, 'outcome', f.outcome),
       choiceGroup('false_alarm_reason', t('form.reason'), c.false_alarm_reasons, 'reason', f.false_alarm_reason),
       choiceGroup('not_reached_reason', t('form.reason'), c.not_reached_reasons, 'reason', f.not_reached_reason),
       choiceGroup('cause', t('form.cause'), c.causes, 'cause', f.cause),
+      clearing ? [
+        h('label', { for: 'area' }, t('clearing.area')),
+        h('input', { id: 'area', type: 'text', inputmode: 'decimal', autocomplete: 'off', maxlength: '12', value: f.area_ha ?? '', oninput: (e) => { f.area_ha = e.target.value; } }),
+      ] : null,
       h('label', { for: 'notes' }, t('form.notes')),
       h('textarea', { id: 'notes', rows: '4', maxlength: '4000', oninput: (e) => { f.notes = e.target.value; } }, f.notes),
       h('fieldset', { class: 'photos-box' },
@@ -347,13 +432,14 @@ function viewForm() {
         photoList()),
       h('p', { class: 'fix' }, t('form.position'), ' ', h('span', { id: 'form-fix' }, fixText())),
       h('div', { class: 'actions' },
-        h('button', { type: 'button', class: 'button', onclick: () => { state.notice = null; go('stop'); } }, t('form.cancel')),
-        h('button', { type: 'submit', class: 'button primary', id: 'save', disabled: state.busy }, t('form.save')))),
+        h('button', { type: 'button', class: 'button', onclick: () => { state.notice = null; go(clearing ? 'trip' : 'stop'); } }, t('form.cancel')),
+        h('button', { type: 'submit', class: 'button primary', id: 'save', disabled: state.busy, onclick: (e) => { e.preventDefault(); if (!state.busy) saveForm(); } }, t('form.save')))),
   ];
 }
 
 async function viewSend() {
   const list = unsent();
+  const kept = await sending.pending(state.trip.bundle_id);
   const refused = state.reports.filter((r) => r.state === 'rejected');
   return [
     tripHead(),
@@ -369,7 +455,9 @@ async function viewSend() {
       h('p', {}, t('send.online_help')),
       h('label', { for: 'team-token' }, t('send.token')),
       h('input', { id: 'team-token', type: 'password', autocomplete: 'off', value: state.trip.team_token || '' }),
-      h('button', { class: 'button primary', id: 'send-now', disabled: list.length === 0 || state.busy, onclick: sendNow }, t('send.online_button')),
+      kept ? h('p', { id: 'send-kept' }, t('send.kept', { n: kept.reportIds.length, size: bytesText(kept.size) })) : null,
+      h('button', { class: 'button primary', id: 'send-now', disabled: (list.length === 0 && !kept) || state.busy, onclick: sendNow }, t('send.online_button')),
+      h('p', { id: 'send-progress', 'aria-live': 'polite' }, ''),
       state.sendResult ? h('ul', { class: 'list', id: 'send-results' }, state.sendResult.map((r) => h('li', { 'data-report': r.report_id, 'data-status': r.status },
         h('span', { class: `badge ${r.status}` }, t(`send_state.${r.status}`)), ' ', r.code || '', r.reason ? ` — ${r.reason}` : ''))) : null),
   ];
@@ -379,8 +467,15 @@ async function render() {
   const views = { home: viewHome, cautions: viewCautions, trip: viewTrip, stop: viewStop, form: viewForm, send: viewSend };
   const body = await views[state.view]();
   const m = main();
+  dropMap();
   m.replaceChildren(header(), ...(state.view === 'form' || state.view === 'send' ? [] : [notice()]).filter(Boolean), ...body);
   if (state.view === 'form') showGroups();
+  if (state.view === 'trip') {
+    drawMap(document.getElementById('map'), state.trip, stopsOf(state.trip), {
+      tileUrl: await store.getSetting('tile_url'), northLabel: t('map.north'), onStop: openStop,
+    });
+    showPhone(state.fix);
+  }
   if (state.view !== 'home') storageLine();
   updateWay();
   document.title = t('app_name');
@@ -393,17 +488,66 @@ async function onBundleChosen(e) {
   e.target.value = '';
   if (!file) return;
   try {
-    const bytes = new Uint8Array(await file.arrayBuffer());
-    const trip = await openBundle(bytes, new Date());
-    const old = await store.trip(trip.bundle_id);
-    if (old) trip.team_token = old.team_token;
-    await store.putTrip(trip);
-    say('ok', t('home.opened', { team: trip.manifest.team, stops: trip.route.length }));
-    await openTrip(trip.bundle_id, true);
+    await keepTrip(new Uint8Array(await file.arrayBuffer()), null);
   } catch (err) {
-    if (err instanceof BundleError) say('error', t(err.key, err.params), err.detail);
-    else say('error', t('bundle.bad_zip'), String(err && err.message ? err.message : err));
+    bundleProblem(err);
     go('home');
+  }
+}
+
+/** Keeps a checked trip on the phone (with the team token it came with, or
+ * the one it had) and opens it. */
+async function keepTrip(bytes, teamToken) {
+  const trip = await openBundle(bytes, new Date());
+  const old = await store.trip(trip.bundle_id);
+  trip.team_token = teamToken || (old ? old.team_token : undefined);
+  await store.putTrip(trip);
+  say('ok', t('home.opened', { team: trip.manifest.team, stops: trip.route.length }));
+  await openTrip(trip.bundle_id, true);
+}
+
+function bundleProblem(err) {
+  if (err instanceof BundleError) say('error', t(err.key, err.params), err.detail);
+  else say('error', t('bundle.bad_zip'), String(err && err.message ? err.message : err));
+}
+
+/** Exchanges a pairing code for its trip: the bundle is checked as a trip
+ * file is (checksums, expiry) before it is kept. */
+async function pair(code) {
+  const typed = String(code || '').trim();
+  state.busy = true;
+  state.view = 'home';
+  say('ok', t('pair.working'));
+  await render();
+  let r;
+  try {
+    r = await fetch('/api/v1/pairings/redeem', {
+      method: 'POST',
+      headers: { 'Content-Type': 'application/json' },
+      body: JSON.stringify({ code: typed }),
+      credentials: 'omit',
+      cache: 'no-store',
+    });
+  } catch (_) {
+    state.busy = false;
+    say('error', t('pair.offline'));
+    return go('home');
+  }
+  try {
+    if (!r.ok) {
+      const doc = await r.json().catch(() => ({}));
+      const key = doc.refusal ? `pair.refused.${doc.refusal}` : 'pair.failed';
+      say('error', t(key), doc.refusal ? '' : (doc.error || String(r.status)));
+      return go('home');
+    }
+    const bytes = new Uint8Array(await r.arrayBuffer());
+    state.busy = false;
+    await keepTrip(bytes, r.headers.get('Groundproof-Team-Token'));
+  } catch (err) {
+    bundleProblem(err);
+    go('home');
+  } finally {
+    state.busy = false;
   }
 }
 
@@ -439,7 +583,10 @@ function startForm(stop, base) {
     notes: base ? base.notes : '',
     keptPhotos: base ? base.photos.map((p) => ({ ...p, size: 0 })) : [],
     newPhotos: [],
+    area_ha: base && base.area_ha !== null ? String(base.area_ha) : '',
   };
+  // A clearing found on the way is confirmed by definition.
+  if (stop.kind === 'new_clearing') state.form.outcome = 'confirmed';
   if (base) {
     // Sizes of kept photos, for the list.
     Promise.all(state.form.keptPhotos.map(async (p) => { const s = await store.photo(p.sha256); p.size = s ? s.size : 0; }))
@@ -449,12 +596,15 @@ function startForm(stop, base) {
 }
 
 function target(stop) {
+  if (stop.kind === 'new_clearing') return { kind: 'new_clearing' };
   return stop.kind === 'event' ? { kind: 'event', code: stop.code, event_id: stop.event_id } : { kind: 'control', code: stop.code };
 }
 
-function position() {
-  if (!state.fix) return null;
-  return { lat: state.fix.lat, lon: state.fix.lon, accuracy_m: state.fix.accuracy, source: 'manual' };
+/** The phone's position with its accuracy; else the first photo's EXIF position. */
+function position(photos = []) {
+  if (state.fix) return { lat: state.fix.lat, lon: state.fix.lon, accuracy_m: state.fix.accuracy, source: 'manual' };
+  const p = photos.find((x) => x.lat !== null && x.lat !== undefined && x.lon !== null && x.lon !== undefined);
+  return p ? { lat: p.lat, lon: p.lon, accuracy_m: null, source: 'photo_gps' } : null;
 }
 
 /** Builds, checks and stores a report; true when it is on the phone. */
@@ -464,7 +614,7 @@ async function storeReport(fields, newPhotos) {
     report_id: crypto.randomUUID(),
     bundle_id: state.trip.bundle_id,
     target: target(state.stop),
-    position: position(),
+    position: position(fields.photos || []),
     observed_at: now,
     recorded_at: now,
     ...fields,
@@ -500,7 +650,12 @@ async function saveForm() {
     sha256: p.sha256, original_name: p.original_name, taken_at: p.taken_at ?? null, lat: p.lat ?? null, lon: p.lon ?? null, direction_deg: p.direction_deg ?? null,
   }));
   const reason = f.outcome === 'false_alarm' ? f.false_alarm_reason : f.outcome === 'not_reached' ? f.not_reached_reason : null;
+  // Typed with a decimal comma or point; anything else is not a number (NaN, refused by the check).
+  const areaField = document.getElementById('area');
+  if (areaField) f.area_ha = areaField.value;
+  const area = String(f.area_ha ?? '').trim().replace(',', '.');
   const ok = await storeReport({
+    area_ha: area === '' ? null : (/^\d+(\.\d+)?$/.test(area) ? Number(area) : NaN),
     supersedes: f.supersedes,
     outcome: f.outcome,
     reason,
@@ -508,7 +663,10 @@ async function saveForm() {
     notes: f.notes,
     photos,
   }, f.newPhotos).finally(() => { state.busy = false; });
-  if (ok) {
+  if (ok && state.stop.kind === 'new_clearing') {
+    say('ok', t('clearing.saved'));
+    go('trip');
+  } else if (ok) {
     say('ok', t('form.saved', { code: state.stop.code }));
     go('stop');
   } else {
@@ -555,59 +713,100 @@ async function saveReturnFile() {
   go('send');
 }
 
+/** The package to send for this trip: the one kept from an interrupted
+ * send (same bytes, so the server resumes it), or a new one of the unsent
+ * reports, kept on the phone before the first byte goes. */
+async function packageToSend() {
+  const kept = await sending.pending(state.trip.bundle_id);
+  if (kept) return kept;
+  const { bytes, reportIds } = await buildReturn();
+  return sending.keepPending(state.trip.bundle_id, {
+    bundle_id: state.trip.bundle_id, bytes, size: bytes.length, sha256: await sha256Hex(bytes), reportIds, url: null,
+  });
+}
+
+function showProgress(text, offset, size) {
+  const el = document.getElementById('send-progress');
+  if (!el) return;
+  el.textContent = text;
+  if (offset !== undefined) {
+    el.dataset.offset = String(offset);
+    el.dataset.size = String(size);
+  }
+}
+
+/** Marks each report by the server's answer and shows the results. */
+async function takeAnswer(doc, reportIds) {
+  const changes = new Map();
+  const results = [];
+  for (const res of doc.results || []) {
+    if (!reportIds.includes(res.report_id)) continue;
+    const st = res.status === 'accepted' || res.status === 'duplicate' ? res.status : 'rejected';
+    changes.set(res.report_id, { state: st, reason: res.reason || null });
+    const entry = state.reports.find((x) => x.report_id === res.report_id);
+    results.push({ report_id: res.report_id, status: st, reason: res.reason || '', code: entry ? entry.report.target.code : '' });
+  }
+  await store.markReports(changes);
+  await loadReports();
+  state.sendResult = results;
+  say('ok', t('send.done', {
+    accepted: results.filter((x) => x.status === 'accepted').length,
+    duplicate: results.filter((x) => x.status === 'duplicate').length,
+    rejected: results.filter((x) => x.status === 'rejected').length,
+  }));
+}
+
 async function sendNow() {
-  const tokenValue = document.getElementById('team-token').value.trim();
+  const field = document.getElementById('team-token');
+  const tokenValue = field ? field.value.trim() : (state.trip.team_token || '');
   state.trip.team_token = tokenValue;
   await store.putTrip(state.trip);
   state.busy = true;
   state.sendResult = null;
-  render();
+  state.notice = null;
+  await render();
   try {
-    const { bytes, reportIds } = await buildReturn();
-    let r;
-    try {
-      r = await fetch('/api/v1/returns', {
-        method: 'POST',
-        headers: { 'Content-Type': 'application/zip', ...(tokenValue ? { Authorization: `Bearer ${tokenValue}` } : {}) },
-        body: bytes,
-        credentials: 'omit',
-      });
-    } catch (_) {
+    const pkg = await packageToSend();
+    const doc = await sending.send(pkg, tokenValue, {
+      progress: (offset, size) => showProgress(t('send.progress', { sent: bytesText(offset), size: bytesText(size) }), offset, size),
+      waiting: (tries, ms) => showProgress(t('send.retrying', { seconds: number(ms / 1000, 0), tries })),
+    });
+    if (!doc) {
       say('error', t('send.offline'));
       return;
     }
-    const doc = await r.json().catch(() => ({}));
-    if (!r.ok) {
-      const key = r.status === 401 || r.status === 403 ? 'send.token_refused' : 'send.refused_whole';
-      say('error', t(key), doc.error || String(r.status));
-      return;
-    }
-    const changes = new Map();
-    const results = [];
-    for (const res of doc.results || []) {
-      if (!reportIds.includes(res.report_id)) continue;
-      const st = res.status === 'accepted' || res.status === 'duplicate' ? res.status : 'rejected';
-      changes.set(res.report_id, { state: st, reason: res.reason || null });
-      const entry = state.reports.find((x) => x.report_id === res.report_id);
-      results.push({ report_id: res.report_id, status: st, reason: res.reason || '', code: entry ? entry.report.target.code : '' });
-    }
-    await store.markReports(changes);
-    await loadReports();
-    state.sendResult = results;
-    say('ok', t('send.done', {
-      accepted: results.filter((x) => x.status === 'accepted').length,
-      duplicate: results.filter((x) => x.status === 'duplicate').length,
-      rejected: results.filter((x) => x.status === 'rejected').length,
-    }));
+    await takeAnswer(doc, pkg.reportIds);
   } catch (err) {
-    say('error', t('send.pack_failed'), String(err && err.message ? err.message : err));
+    if (err instanceof sending.SendRefused) {
+      const key = err.status === 401 || err.status === 403 ? 'send.token_refused' : 'send.refused_whole';
+      // The package stays kept: a new token sends the same bytes.
+      say('error', t(key), err.message);
+    } else {
+      say('error', t('send.pack_failed'), String(err && err.message ? err.message : err));
+    }
   } finally {
     state.busy = false;
-    render();
+    // Not over a form being filled in: its notice shows on the next view.
+    if (state.view !== 'form') render();
   }
 }
 
+/** After the app was closed mid-send: the kept package of the open trip
+ * goes on from where the server stands. */
+async function resumeSend() {
+  if (!state.trip || !(await sending.pending(state.trip.bundle_id))) return;
+  await sendNow();
+}
+
 // ---------------------------------------------------------------- start
+
+/** A QR code opens `/field/#pair=CODE`: the code is taken once and
+ * removed from the address, so a reload does not spend it again. */
+function pairingFromAddress() {
+  const code = new URLSearchParams(location.hash.slice(1)).get('pair');
+  if (code) history.replaceState(null, '', location.pathname + location.search);
+  return code;
+}
 
 async function start() {
   if (!window.isSecureContext || !window.crypto || !crypto.subtle || !window.indexedDB) {
@@ -625,10 +824,18 @@ async function start() {
     } catch (_) { /* the app still works online */ }
   }
   if (navigator.storage && navigator.storage.persist) navigator.storage.persist().catch(() => {});
+  const pairing = pairingFromAddress();
+  // The app already open when a QR link is followed: only the hash changes.
+  window.addEventListener('hashchange', () => {
+    const code = pairingFromAddress();
+    if (code) pair(code);
+  });
   const last = await store.getSetting('last_trip');
-  if (last && (await store.trip(last))) await openTrip(last);
-  else render();
+  if (pairing) await pair(pairing);
+  else if (last && (await store.trip(last))) await openTrip(last);
+  else await render();
   document.body.dataset.ready = 'yes';
+  if (!pairing) resumeSend();
 }
 
 start();

@@ -6,6 +6,8 @@
 export const MAX_NOTES_CHARS = 4000;
 export const MAX_PHOTOS_PER_REPORT = 20;
 export const MAX_PHOTO_BYTES = 32 * 2 ** 20;
+/** sync/src/returns/validate.rs MAX_AREA_HA. */
+export const MAX_AREA_HA = 10000;
 
 /** A problem with a report: `key` in the catalogue, `params` to fill in. */
 export class ReportProblem extends Error {
@@ -71,6 +73,9 @@ export function validateReport(r, checklist) {
   if (r.outcome === 'confirmed' && r.photos.length < checklist.min_photos_confirmed) {
     throw new ReportProblem('problem.min_photos', { min: checklist.min_photos_confirmed, have: r.photos.length });
   }
+  if (r.area_ha !== null && !(Number.isFinite(r.area_ha) && r.area_ha > 0 && r.area_ha <= MAX_AREA_HA)) {
+    throw new ReportProblem('problem.area_range', { max: MAX_AREA_HA });
+  }
   for (const field of checklist.required_fields) {
     const missing = {
       position: r.position === null,
@@ -81,5 +86,11 @@ export function validateReport(r, checklist) {
       area_ha: r.area_ha === null,
     }[field];
     if (missing) throw new ReportProblem(`problem.required_${field}`);
+  }
+  // sync/src/returns/validate.rs: a new clearing is confirmed, with a position and an area.
+  if (r.target.kind === 'new_clearing') {
+    if (r.outcome !== 'confirmed') throw new ReportProblem('problem.pick_outcome');
+    if (r.position === null) throw new ReportProblem('problem.required_position');
+    if (r.area_ha === null) throw new ReportProblem('problem.required_area_ha');
   }
 }

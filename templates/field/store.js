@@ -113,3 +113,10 @@ export async function setSetting(key, value) {
   tx.objectStore('settings').put(value, key);
   return done(tx);
 }
+
+export async function deleteSetting(key) {
+  const db = await openDb();
+  const tx = db.transaction('settings', 'readwrite');
+  tx.objectStore('settings').delete(key);
+  return done(tx);
+}

@@ -11,11 +11,15 @@ const FILES = [
   './app.js',
   './app.css',
   './bundle.js',
+  './coords.js',
   './crypto.js',
+  './exif.js',
   './geo.js',
   './i18n.js',
+  './map.js',
   './report.js',
   './returnpkg.js',
+  './send.js',
   './store.js',
   './icon.svg',
   './manifest.webmanifest',
@@ -25,6 +29,9 @@ const FILES = [
   './i18n/id.json',
   './i18n/pt.json',
   './vendor/fflate.js',
+  './vendor/exifr.js',
+  './vendor/leaflet.js',
+  './vendor/leaflet.css',
 ];
 
 self.addEventListener('install', (event) => {

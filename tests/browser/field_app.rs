@@ -4,24 +4,32 @@
 //!
 //! The walk: the app loads with no login; a tampered trip file and an
 //! expired one are refused with the catalogue's message and nothing is
-//! kept; the real one opens on
-//! the safety cautions, then the stops in visit order; with the phone's
+//! kept; the trip is paired through the link of the QR code on the trip
+//! page a coordinator gets (the same code again is refused as used), opens
+//! on the safety cautions, then the stops in visit order with the map
+//! (footprints, route, phone and accuracy, no tiles); the target's and the
+//! phone's UTM and MGRS match the server's formulas; with the phone's
 //! position set (DevTools geolocation override) 500 m south of the first
 //! stop, the distance and bearing match the field kit's geodesy (Karney,
 //! geographiclib) within 1 m and 1°, and follow the phone as it moves; a confirmed visit with one photo is
 //! refused by the checklist (two needed), then saved with two JPEGs with
-//! EXIF; "not reached: safety" is one tap on the second stop; the return
+//! EXIF (read on the phone); "not reached: safety" is one tap on the
+//! second stop; a new clearing is recorded (an area of 0 refused); the return
 //! file saved for the station opens with the sync crate's reader
-//! (signature, checksums, both reports); the return is sent with the team
-//! token, and the server holds both
+//! (signature, checksums, the three reports, EXIF fields); the return is
+//! sent with the paired team token over the resumable upload on a slow
+//! link, the server is killed mid-upload, the app reloaded while it is
+//! down, the server restarted: the send goes on by itself and the server
+//! holds one return with the three
 //! reports, the photos byte-identical (same SHA-256, same bytes on disk);
 //! a correction of the safety report is sent and stored as a new report
 //! naming the one it supersedes; a second team's trip opens beside the
-//! first without mixing their stops or reports.
+//! first without mixing their stops or reports (paired by its typed code).
 //! Then the server stops and the app loads again from its service worker,
 //! opens the trip from the phone's store and switches to Portuguese.
 //!
-//! No console error is allowed at any step. Fails when `CI` is set and
+//! No console error is allowed at any step (but the browser's own lines for
+//! the refusals and cut connections a step provokes on purpose). Fails when `CI` is set and
 //! Chromium or ChromeDriver is missing; elsewhere it says SKIP on stderr.
 
 #[path = "webdriver.rs"]
@@ -55,8 +63,9 @@ fn wait_for(b: &Browser, expr: &str, what: &str) -> Value {
         }
         assert!(
             start.elapsed() < Duration::from_secs(30),
-            "waited 30 s for {what}; the page says:\n{}",
-            b.text("body")
+            "waited 30 s for {what}; the page says:\n{}\nthe console: {:#?}",
+            b.text("body"),
+            b.console()
         );
         std::thread::sleep(Duration::from_millis(100));
     }
@@ -64,10 +73,22 @@ fn wait_for(b: &Browser, expr: &str, what: &str) -> Value {
 
 /// No console error since the last check.
 fn assert_clean(b: &Browser, step: &str) {
+    assert_clean_but(b, step, &[]);
+}
+
+/// No console error since the last check but the browser's own line for
+/// each expected refusal (`expected`: parts of the "network" entry, such as
+/// the path and the status the step provoked on purpose).
+fn assert_clean_but(b: &Browser, step: &str, expected: &[&str]) {
     let errors: Vec<String> = b
         .console()
         .into_iter()
         .filter(|e| e.level == "SEVERE")
+        .filter(|e| {
+            expected.is_empty()
+                || e.source != "network"
+                || !expected.iter().all(|x| e.message.contains(x))
+        })
         .map(|e| format!("{} {}", e.source, e.message))
         .collect();
     assert!(errors.is_empty(), "{step}: console errors: {errors:#?}");
@@ -140,11 +161,13 @@ fn expire(bundle: &[u8]) -> Vec<u8> {
     out.finish().expect("finish").into_inner()
 }
 
+/// A JPEG with EXIF of 2400 × 1800 pixels (a few hundred kB: two make a
+/// return of several upload chunks).
 fn photo(dir: &Path, seed: u64, lat: f64, lon: f64) -> (PathBuf, Vec<u8>) {
     let bytes = make_photo(
         seed,
-        480,
-        360,
+        2400,
+        1800,
         &PhotoMetaIn {
             taken_at_rfc3339: "2026-11-20T10:15:00Z".into(),
             lat,
@@ -167,6 +190,115 @@ fn shot(b: &Browser, stem: &str) {
     println!("screenshot: {}", path.display());
 }
 
+/// The link of the QR code on the page a coordinator gets for pairing a
+/// phone with `bundle_id` (`POST /trips/{id}/pair`, as the admin's API
+/// token), after checking that the page shows the QR code and the code.
+fn pairing_link(s: &TestServer, bundle_id: &str) -> String {
+    let r = groundproof_e2e::post_bytes(
+        &s.url(&format!("/trips/{bundle_id}/pair")),
+        "application/x-www-form-urlencoded",
+        b"",
+    );
+    assert_eq!(r.status, 201, "{}", r.body);
+    let page = scraper::Html::parse_document(&r.body);
+    let one = |css: &str| {
+        page.select(&scraper::Selector::parse(css).expect("selector"))
+            .next()
+            .unwrap_or_else(|| panic!("{css} on the pairing page"))
+    };
+    assert!(one("#pairing .qr svg rect").value().attr("fill").is_some());
+    let code = one("#pairing-code").text().collect::<String>();
+    let link = one("#pairing-link")
+        .value()
+        .attr("href")
+        .expect("href")
+        .to_string();
+    assert_eq!(
+        link,
+        s.url(&format!("/field/#pair={}", code.trim().replace('-', "")))
+    );
+    link
+}
+
+/// The UTM (`data-utm`, 3 decimals) and MGRS (`data-mgrs`) the app shows
+/// for a point match the server's own formulas: within 1 m as asked (they
+/// agree to the millimetre), the MGRS square and digits exactly.
+fn check_grid(b: &Browser, utm_css: &str, mgrs_css: &str, lat: f64, lon: f64) {
+    use groundproof::planning::coords::{MgrsPrecision, to_mgrs, to_utm};
+    let want = to_utm(lat, lon).expect("UTM");
+    let got = b
+        .script(&format!(
+            "return document.querySelector('{utm_css}').dataset.utm;"
+        ))
+        .as_str()
+        .unwrap_or_default()
+        .to_string();
+    let parts: Vec<&str> = got.split(' ').collect();
+    assert_eq!(parts.len(), 3, "{got}");
+    assert_eq!(
+        parts[0],
+        format!("{:02}{}", want.zone, want.hemisphere.letter())
+    );
+    let e: f64 = parts[1].parse().expect("easting");
+    let n: f64 = parts[2].parse().expect("northing");
+    assert!((e - want.easting).abs() < 1.0, "{got} vs {want}");
+    assert!((n - want.northing).abs() < 1.0, "{got} vs {want}");
+    let mgrs = b.script(&format!(
+        "return document.querySelector('{mgrs_css}').dataset.mgrs;"
+    ));
+    assert_eq!(
+        mgrs,
+        json!(to_mgrs(lat, lon, MgrsPrecision::ONE_METRE).expect("MGRS"))
+    );
+}
+
+/// The app's coordinate module against the server's on points that try
+/// the rules: both hemispheres, the equator, the zone edges, the Norway and
+/// Svalbard exceptions, the band limits and the antimeridian.
+fn check_grid_module(b: &Browser) {
+    use groundproof::planning::coords::{MgrsPrecision, to_mgrs, to_utm};
+    let points = [
+        (-3.1, -60.025),
+        (33.3, 44.4),
+        (0.0, 10.0),
+        (-0.000001, 10.0),
+        (60.5, 4.5),
+        (78.0, 20.0),
+        (83.9, 179.9),
+        (-79.9, -179.99),
+        (-33.86, 151.2),
+        (1.2, 102.0),
+        (56.0, 3.0),
+        (71.5, 33.0),
+    ];
+    let got = b.script(&format!(
+        "return import('./coords.js').then(m => {}.map(([la, lo]) =>          [m.formatUtm(m.toUtm(la, lo), 3), m.toMgrs(la, lo, 5)]));",
+        json!(points)
+    ));
+    for (i, (lat, lon)) in points.iter().enumerate() {
+        let want = to_utm(*lat, *lon).expect("UTM");
+        let row = &got[i];
+        let utm = row[0].as_str().unwrap_or_default();
+        let parts: Vec<&str> = utm.split(' ').collect();
+        assert_eq!(
+            parts[0],
+            format!("{:02}{}", want.zone, want.hemisphere.letter()),
+            "{lat} {lon}: {utm}"
+        );
+        let e: f64 = parts[1].parse().expect("easting");
+        let n: f64 = parts[2].parse().expect("northing");
+        assert!(
+            (e - want.easting).abs() < 0.002 && (n - want.northing).abs() < 0.002,
+            "{lat} {lon}: {utm} vs {want}"
+        );
+        assert_eq!(
+            row[1],
+            json!(to_mgrs(*lat, *lon, MgrsPrecision::ONE_METRE).expect("MGRS")),
+            "{lat} {lon}"
+        );
+    }
+}
+
 fn sha256(bytes: &[u8]) -> String {
     groundproof_sync::bundle::sha256_hex(bytes)
 }
@@ -180,7 +312,7 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
             return;
         }
     };
-    let s = TestServer::start();
+    let mut s = TestServer::start();
     load_scenario(&s);
     let work = tempfile::tempdir().expect("work folder");
     let station = mock_patrols::scenario().station;
@@ -200,12 +332,6 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
     std::fs::write(&tampered_path, tamper(&zip)).expect("tampered saved");
     let expired_path = work.path().join("expired.zip");
     std::fs::write(&expired_path, expire(&zip)).expect("expired saved");
-    let (_, team_token) = groundproof::platform::auth::issue_team_token(
-        &s.db,
-        "Team Amber",
-        groundproof::platform::auth::now_unix(),
-    )
-    .expect("team token");
 
     // The phone stands 500 m or so south of the first stop.
     let first = bundle
@@ -275,8 +401,34 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
     assert!(b.find_all("#trips").is_empty(), "no trip kept");
     assert_clean(&b, "expired bundle");
 
-    // The real one opens on the safety cautions.
-    b.choose_file("#bundle-file", &bundle_path);
+    // The trip page's QR code opens the app with a pairing code: the phone
+    // gets the trip (checked as a file is) and opens it on the safety
+    // cautions, with no token typed.
+    let link = pairing_link(&s, &bundle.manifest.bundle_id.to_string());
+    b.goto(&link);
+    wait_for(&b, "document.getElementById('cautions')", "the cautions");
+    assert!(
+        b.current_url().ends_with("/field/"),
+        "the code leaves the address: {}",
+        b.current_url()
+    );
+    // The same code again is refused in words a field worker understands.
+    b.goto(&link);
+    let msg = wait_for(
+        &b,
+        "document.querySelector('.notice.error') && document.querySelector('.notice.error').textContent",
+        "the refusal of a used code",
+    );
+    assert!(
+        msg.as_str().unwrap_or_default().contains("already used"),
+        "{msg}"
+    );
+    assert_clean_but(&b, "used code", &["/api/v1/pairings/redeem", "410"]);
+    shot(&b, "pairing-used");
+    b.click(&format!(
+        "button[data-bundle='{}']",
+        bundle.manifest.bundle_id
+    ));
     wait_for(&b, "document.getElementById('cautions')", "the cautions");
     let cautions = b.text("#cautions");
     for needle in [
@@ -302,6 +454,28 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
         .map(|c| c.as_str().unwrap_or_default().to_string())
         .collect();
     assert_eq!(codes, bundle.route, "stops in visit order");
+    // The map: every footprint, the route from the start through every
+    // stop, the phone with its accuracy; no base layer, so no tile.
+    let drawn = wait_for(
+        &b,
+        "(() => { const m = document.getElementById('map');          return m && m.dataset.phone && m.querySelector('.leaflet-overlay-pane path') &&          [Number(m.dataset.footprints), Number(m.dataset.stops), Number(m.dataset.routePoints),           m.dataset.phone, Number(m.dataset.accuracy), m.dataset.tiles,           m.querySelectorAll('img').length, m.querySelectorAll('.leaflet-overlay-pane path').length]; })()",
+        "the map",
+    );
+    assert_eq!(
+        drawn,
+        json!([
+            bundle.events.len(),
+            bundle.route.len(),
+            bundle.route.len() + 1,
+            format!("{p_lat:.6},{p_lon:.6}"),
+            7,
+            "off",
+            0,
+            // footprints + route + start + stops + phone and its circle
+            bundle.events.len() + 1 + 1 + bundle.route.len() + 2
+        ]),
+        "the map as drawn"
+    );
     let states = b.script(
         "return Array.from(document.querySelectorAll('#stops > li')).map(li => li.dataset.state);",
     );
@@ -364,6 +538,10 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
         "Number(document.getElementById('way').dataset.distance) > 400",
         "the distance to update back",
     );
+    // The target and the phone in UTM and MGRS, as the server computes them.
+    check_grid(&b, "#target-utm", "#target-mgrs", t_lat, t_lon);
+    check_grid(&b, "#fix-grid", "#fix-grid", p_lat, p_lon);
+    check_grid_module(&b);
     assert_clean(&b, "stop");
     shot(&b, "stop");
 
@@ -379,6 +557,15 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
         &b,
         "document.querySelectorAll('#photo-list li').length === 1",
         "one photo",
+    );
+    // The photo's EXIF position is read on the phone.
+    let exif_lat: f64 = b
+        .script("return Number(document.querySelector('#photo-list .exif').dataset.lat);")
+        .as_f64()
+        .expect("EXIF latitude");
+    assert!(
+        (exif_lat - p_lat).abs() < 1e-6,
+        "EXIF {exif_lat} vs {p_lat}"
     );
     b.click("#save");
     let msg = wait_for(
@@ -443,6 +630,40 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
     assert_clean(&b, "stops with reports");
     shot(&b, "stops");
 
+    // A clearing found on the way: confirmed, with its cause, area and two
+    // photos of its own; an area of 0 is refused first.
+    let (p3, _) = photo(work.path(), 3, p_lat, p_lon);
+    let (p4, _) = photo(work.path(), 4, p_lat, p_lon);
+    b.click("#new-clearing");
+    b.click("input[name=cause][value=fire]");
+    b.type_into("#area", "0");
+    b.choose_file("#photo-gallery", &p3);
+    b.choose_file("#photo-gallery", &p4);
+    wait_for(
+        &b,
+        "document.querySelectorAll('#photo-list li').length === 2",
+        "the clearing's photos",
+    );
+    b.click("#save");
+    let msg = wait_for(
+        &b,
+        "document.querySelector('.notice.error') && document.querySelector('.notice.error').textContent",
+        "the refusal of a zero area",
+    );
+    assert!(msg.as_str().unwrap_or_default().contains("area"), "{msg}");
+    b.type_into("#area", "1.5");
+    // A DOM click: in this phone emulation ChromeDriver's Element Click
+    // after typing into the re-drawn form did not reach the button (the
+    // app saw no click event at all); a person's tap is a click event too.
+    b.script("document.getElementById('save').click();");
+    wait_for(
+        &b,
+        "document.querySelector('#new-clearings li.report')",
+        "the new clearing on the trip",
+    );
+    assert_clean(&b, "new clearing");
+    shot(&b, "new-clearing");
+
     // The return file, saved for the station, opens with the sync crate's
     // reader: signature, manifest, checksums and every report.
     let downloads = work.path().join("downloads");
@@ -474,21 +695,94 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
         &groundproof_sync::returns::ReturnLimits::default(),
     )
     .expect("the saved return opens with the sync reader");
-    assert_eq!(opened.reports.len(), 2, "{:?}", opened.rejected);
+    assert_eq!(opened.reports.len(), 3, "{:?}", opened.rejected);
     assert!(opened.rejected.is_empty(), "{:?}", opened.rejected);
-    assert_eq!(opened.manifest.photo_count, 2);
+    assert_eq!(opened.manifest.photo_count, 4);
+    // Each photo carries what its EXIF says, read on the phone.
+    for r in &opened.reports {
+        for ph in &r.photos {
+            assert!((ph.lat.expect("photo lat") - p_lat).abs() < 1e-6);
+            assert!((ph.lon.expect("photo lon") - p_lon).abs() < 1e-6);
+            assert_eq!(
+                ph.taken_at.map(|t| t.to_rfc3339()),
+                Some("2026-11-20T10:15:00+00:00".to_string())
+            );
+            assert_eq!(ph.direction_deg, Some(90.0));
+        }
+    }
     assert!(
         b.text(".notice.ok").contains("Return file saved"),
         "{}",
         b.text("main")
     );
 
-    // Send with the team token.
-    b.type_into("#team-token", &team_token);
-    b.click("#send-now");
+    // Send with the team token the pairing gave the phone.
+    let team_token = b
+        .script("return document.getElementById('team-token').value;")
+        .as_str()
+        .unwrap_or_default()
+        .to_string();
+    assert_eq!(team_token.len(), 64, "the paired phone holds a team token");
     wait_for(
         &b,
-        "document.querySelectorAll('#send-results li').length === 2",
+        "navigator.serviceWorker.controller !== null",
+        "the service worker",
+    );
+    // A slow link (100 kB/s up), so the send is caught half way.
+    b.cdp("Network.enable", json!({}));
+    let slow = |up: i64| json!({"offline": false, "latency": 0, "downloadThroughput": -1, "uploadThroughput": up});
+    b.cdp("Network.emulateNetworkConditions", slow(100_000));
+    b.click("#send-now");
+    let size = wait_for(
+        &b,
+        "(() => { const p = document.getElementById('send-progress');          return p && Number(p.dataset.offset) > 0 && Number(p.dataset.offset) < Number(p.dataset.size)          && Number(p.dataset.size); })()",
+        "the upload under way",
+    );
+    assert!(
+        size.as_f64().unwrap_or_default() > 2.0 * 256.0 * 1024.0,
+        "several chunks: {size}"
+    );
+    // The server dies mid-upload: the app backs off and says so.
+    s.stop();
+    wait_for(
+        &b,
+        "document.getElementById('send-progress').textContent.includes('Trying again')",
+        "the app backing off",
+    );
+    // The app is closed and opened again while the server is down ...
+    let app = s.url("/field/");
+    b.goto(&app);
+    wait_for(
+        &b,
+        "document.body.dataset.ready === 'yes' && document.getElementById('cautions')",
+        "the app again, offline",
+    );
+    // ... the server comes back on the same data: the kept package goes on
+    // from where the server stands, with no tap.
+    s.restart();
+    b.cdp("Network.emulateNetworkConditions", slow(-1));
+    let done = wait_for(
+        &b,
+        "document.querySelector('.notice.ok') && document.querySelector('.notice.ok').textContent.includes('Sent:')          && document.querySelector('.notice.ok').textContent",
+        "the resumed send's answer",
+    );
+    assert!(
+        done.as_str().unwrap_or_default().contains("3 accepted"),
+        "{done}"
+    );
+    assert_clean_but(&b, "resumed send", &["/api/v1/uploads"]);
+    // Nothing duplicated: one return with two reports.
+    let counts = s.db.read(|x| x.bundle_return_counts()).expect("counts");
+    assert_eq!(
+        counts.get(&bundle.manifest.bundle_id.to_string()),
+        Some(&(1, 3)),
+        "{counts:?}"
+    );
+    b.click("#cautions-ok");
+    b.click("#go-send");
+    wait_for(
+        &b,
+        "document.querySelectorAll('#send-results li').length === 3",
         "the server's answer",
     );
     let results = b.script(
@@ -504,8 +798,9 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
     assert_clean(&b, "sent");
     shot(&b, "sent");
 
-    // The server holds both reports; the photos are the very same bytes.
+    // The server holds the three reports; the photos are the very same bytes.
     let mut confirmed = 0;
+    let mut clearings = 0;
     for r in results {
         let id = r[0].as_str().expect("report id");
         let row =
@@ -516,7 +811,12 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
         assert_eq!(row.team, "Team Amber");
         assert!((row.lat.expect("lat") - p_lat).abs() < 1e-9);
         assert_eq!(row.accuracy_m, Some(7.0));
-        if row.outcome.as_str() == "confirmed" {
+        if row.kind.as_str() == "new_clearing" {
+            clearings += 1;
+            assert_eq!(row.outcome.as_str(), "confirmed");
+            assert_eq!(row.cause.map(|c| c.as_str()), Some("fire"));
+            assert_eq!(row.area_ha, Some(1.5));
+        } else if row.outcome.as_str() == "confirmed" {
             confirmed += 1;
             assert_eq!(row.cause.map(|c| c.as_str()), Some("mining"));
             let mut got: Vec<String> =
@@ -541,7 +841,7 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
             assert_eq!(row.control_code.as_deref(), None);
         }
     }
-    assert_eq!(confirmed, 1);
+    assert_eq!((confirmed, clearings), (1, 1));
 
     // A correction: a new report that names the one it supersedes.
     let (safety_id, _) = results
@@ -604,8 +904,20 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
     let bundle2_path = work.path().join("bundle2.zip");
     std::fs::write(&bundle2_path, &zip2).expect("second bundle saved");
     let bundle2 = open_bundle(&bundle2_path, chrono::Utc::now()).expect("second bundle");
+    // This one by typing its pairing code (as read off the coordinator's
+    // screen, in lower case).
+    let r = post_json(
+        &s.url(&format!(
+            "/api/v1/bundles/{}/pairings",
+            bundle2.manifest.bundle_id
+        )),
+        &json!({}),
+    );
+    assert_eq!(r.status, 201, "{}", r.body);
+    let code2 = r.json()["code"].as_str().expect("code").to_lowercase();
     b.click("#to-trips");
-    b.choose_file("#bundle-file", &bundle2_path);
+    b.type_into("#pair-code", &code2);
+    b.click("#pair-button");
     wait_for(&b, "document.getElementById('cautions')", "the second trip");
     b.click("#cautions-ok");
     wait_for(
@@ -652,7 +964,6 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
         "navigator.serviceWorker.controller !== null",
         "the service worker",
     );
-    let app = s.url("/field/");
     drop(s);
     b.goto(&app);
     wait_for(

@@ -36,11 +36,14 @@ pub const FILES: &[(&str, &str, &[u8])] = &[
     app_file!("app.css", "text/css; charset=utf-8"),
     app_file!("app.js", JS),
     app_file!("bundle.js", JS),
+    app_file!("coords.js", JS),
     app_file!("crypto.js", JS),
     app_file!("geo.js", JS),
     app_file!("i18n.js", JS),
+    app_file!("map.js", JS),
     app_file!("report.js", JS),
     app_file!("returnpkg.js", JS),
+    app_file!("send.js", JS),
     app_file!("store.js", JS),
     app_file!("sw.js", JS),
     app_file!("icon.svg", "image/svg+xml"),
@@ -52,6 +55,12 @@ pub const FILES: &[(&str, &str, &[u8])] = &[
     app_file!("i18n/pt.json", JSON),
     app_file!("vendor/fflate.js", JS),
     app_file!("vendor/fflate.LICENSE", "text/plain; charset=utf-8"),
+    app_file!("vendor/exifr.js", JS),
+    app_file!("vendor/exifr.LICENSE", "text/plain; charset=utf-8"),
+    app_file!("exif.js", JS),
+    app_file!("vendor/leaflet.js", JS),
+    app_file!("vendor/leaflet.css", "text/css; charset=utf-8"),
+    app_file!("vendor/leaflet.LICENSE", "text/plain; charset=utf-8"),
 ];
 
 /// The placeholder cache name in `sw.js`, replaced by one naming this build.
@@ -134,7 +143,11 @@ mod tests {
     #[test]
     fn service_worker_lists_every_file() {
         let sw = String::from_utf8_lossy(service_worker()).into_owned();
-        assert!(!sw.contains(SW_VERSION), "the cache name is replaced");
+        // Quoted: the new name may itself start with the old one's digit.
+        assert!(
+            !sw.contains(&format!("'{SW_VERSION}'")),
+            "the cache name is replaced"
+        );
         let cached: Vec<&str> = FILES
             .iter()
             .map(|(name, _, _)| *name)
@@ -145,5 +158,64 @@ mod tests {
         }
         assert!(sw.contains("'./',"), "sw.js caches the page");
         assert_eq!(sw.matches("  './").count(), cached.len() + 1);
+    }
+
+    /// Every catalogue has the English keys, no others, and the same
+    /// `{name}` placeholders in each message.
+    #[test]
+    fn catalogues_agree_with_english() {
+        fn holes(text: &str) -> std::collections::BTreeSet<String> {
+            text.split('{')
+                .skip(1)
+                .filter_map(|rest| rest.split_once('}').map(|(name, _)| name.to_string()))
+                .collect()
+        }
+        let load = |lang: &str| -> serde_json::Map<String, serde_json::Value> {
+            let (_, _, bytes) = FILES
+                .iter()
+                .find(|(n, _, _)| *n == format!("i18n/{lang}.json"))
+                .expect("catalogue");
+            serde_json::from_slice(bytes).expect("catalogue JSON")
+        };
+        let en = load("en");
+        for lang in ["es", "fr", "id", "pt"] {
+            let other = load(lang);
+            let missing: Vec<&String> = en.keys().filter(|k| !other.contains_key(*k)).collect();
+            let extra: Vec<&String> = other.keys().filter(|k| !en.contains_key(*k)).collect();
+            assert!(
+                missing.is_empty() && extra.is_empty(),
+                "{lang}: missing {missing:?}, extra {extra:?}"
+            );
+            for (k, v) in &en {
+                let (a, b) = (v.as_str().unwrap_or(""), other[k].as_str().unwrap_or(""));
+                assert_eq!(holes(a), holes(b), "{lang} {k}");
+            }
+        }
+    }
+
+    /// The app shell with its libraries, as a phone downloads it once,
+    /// is at most 500 kB compressed (issue 11's budget). Measured with
+    /// DEFLATE at level 9 (what gzip -9 uses) over every file the service
+    /// worker caches; printed for the README.
+    #[test]
+    fn app_shell_is_at_most_500_kb_compressed() {
+        use std::io::Write;
+        let mut z = zip::ZipWriter::new(std::io::Cursor::new(Vec::new()));
+        let opts = zip::write::SimpleFileOptions::default()
+            .compression_method(zip::CompressionMethod::Deflated)
+            .compression_level(Some(9));
+        let mut raw = 0usize;
+        for (name, _, bytes) in FILES.iter().filter(|(n, _, _)| !n.ends_with("LICENSE")) {
+            z.start_file(*name, opts).expect("entry");
+            z.write_all(bytes).expect("bytes");
+            raw += bytes.len();
+        }
+        let mut archive = zip::ZipArchive::new(z.finish().expect("zip")).expect("read back");
+        let compressed: u64 = (0..archive.len())
+            .map(|i| archive.by_index(i).expect("entry").compressed_size())
+            .sum();
+        println!("field app shell: {raw} bytes, {compressed} bytes compressed (DEFLATE 9)");
+        assert!(compressed <= 500_000, "{compressed} bytes compressed");
+        assert!(compressed > 10_000, "the measure sees the files");
     }
 }

@@ -11,7 +11,11 @@ mod error;
 mod field;
 mod login;
 pub mod pages;
+mod pairing;
+mod tls;
 pub mod urls;
+
+pub use tls::tls_config;
 
 use crate::platform::settings::Settings;
 use crate::platform::storage::Db;
@@ -86,6 +90,23 @@ pub fn configure(cfg: &mut web::ServiceConfig) {
 
 /// Start serving on an already bound listener (port 0 in tests).
 pub fn run(listener: TcpListener, state: AppState) -> std::io::Result<Server> {
+    run_with(listener, state, None)
+}
+
+/// [`run`] over HTTPS with `tls` (see [`tls_config`]).
+pub fn run_tls(
+    listener: TcpListener,
+    state: AppState,
+    tls: rustls::ServerConfig,
+) -> std::io::Result<Server> {
+    run_with(listener, state, Some(tls))
+}
+
+fn run_with(
+    listener: TcpListener,
+    state: AppState,
+    tls: Option<rustls::ServerConfig>,
+) -> std::io::Result<Server> {
     crate::statistics::kept::keep_fresh(Arc::downgrade(&state.db), Arc::downgrade(&state.stats));
     let data = web::Data::new(state);
     let server = HttpServer::new(move || {
@@ -95,10 +116,12 @@ pub fn run(listener: TcpListener, state: AppState) -> std::io::Result<Server> {
             .wrap(actix_web::middleware::Logger::new("%r %s %b %Dms"))
             .configure(configure)
     })
-    .workers(2)
-    .listen(listener)?
-    .run();
-    Ok(server)
+    .workers(2);
+    let server = match tls {
+        Some(config) => server.listen_rustls_0_23(listener, config)?,
+        None => server.listen(listener)?,
+    };
+    Ok(server.run())
 }
 
 /// Escape text for HTML.

@@ -8,6 +8,8 @@
 #
 # Library | version | file here         | from the package    | licence
 # fflate  | 0.8.3   | fflate.js         | esm/browser.js      | MIT (fflate.LICENSE)
+# exifr   | 7.1.3   | exifr.js          | dist/mini.esm.js    | MIT (exifr.LICENSE)
+# leaflet | 1.9.4   | leaflet.js, .css  | dist/leaflet.js, dist/leaflet.css | BSD-2-Clause (leaflet.LICENSE)
 set -eu
 
 here=$(cd "$(dirname "$0")" && pwd)
@@ -24,12 +26,20 @@ fetch() { # name version
 fetch fflate 0.8.3
 cp "$work/fflate/package/esm/browser.js" "$work/fflate.js"
 cp "$work/fflate/package/LICENSE" "$work/fflate.LICENSE"
+fetch exifr 7.1.3
+cp "$work/exifr/package/dist/mini.esm.js" "$work/exifr.js"
+cp "$work/exifr/package/LICENSE" "$work/exifr.LICENSE"
+fetch leaflet 1.9.4
+cp "$work/leaflet/package/dist/leaflet.js" "$work/leaflet.js"
+cp "$work/leaflet/package/dist/leaflet.css" "$work/leaflet.css"
+cp "$work/leaflet/package/LICENSE" "$work/leaflet.LICENSE"
 
 # Every line of SHA256SUMS must match the fresh download.
 (cd "$work" && sha256sum -c "$here/SHA256SUMS")
 
 if [ "${1:-}" = "--write" ]; then
-    cp "$work/fflate.js" "$work/fflate.LICENSE" "$here/"
+    cp "$work/fflate.js" "$work/fflate.LICENSE" "$work/exifr.js" "$work/exifr.LICENSE" \
+        "$work/leaflet.js" "$work/leaflet.css" "$work/leaflet.LICENSE" "$here/"
     echo "vendored files replaced"
 fi
 # And the files here must match too.

@@ -15,6 +15,7 @@
 mod access;
 mod csrf;
 mod flow;
+mod pairing;
 mod password;
 mod ratelimit;
 mod session;
@@ -27,6 +28,10 @@ pub use flow::{
     NewSession, SessionIdentity, admin_password_from_env, authenticate_bearer,
     authenticate_session, bearer_token, change_password, create_user, ensure_first_admin,
     issue_api_token, issue_team_token, login, logout, prune, validate_label, validate_user_name,
+};
+pub use pairing::{
+    PAIRING_CODE_CHARS, PAIRING_LIFETIME_SECS, PairingRefusal, Redemption, display_code,
+    issue_pairing, normalize_code, redeem_pairing,
 };
 pub use password::{
     ARGON2_M_KIB, ARGON2_P, ARGON2_T, MAX_PASSWORD_CHARS, MIN_PASSWORD_CHARS,

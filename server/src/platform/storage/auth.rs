@@ -476,13 +476,16 @@ impl Reader<'_> {
         Ok(v)
     }
 
-    /// A live (not revoked) team token by hash.
+    /// A live team token by hash: not revoked, and, for a token a phone got
+    /// by pairing, its bundle not cancelled.
     pub fn team_token_by_hash(&self, token_sha256: &str) -> Result<Option<TeamTokenRecord>> {
         Ok(self
             .conn
             .query_row(
-                "SELECT id, team_name, created_at, revoked_at FROM team_tokens
-                 WHERE token_sha256 = ?1 AND revoked_at IS NULL",
+                "SELECT id, team_name, created_at, revoked_at FROM team_tokens t
+                 WHERE token_sha256 = ?1 AND revoked_at IS NULL
+                   AND NOT EXISTS (SELECT 1 FROM pairings p JOIN bundles b ON b.id = p.bundle_id
+                                   WHERE p.token_id = t.id AND b.cancelled_at IS NOT NULL)",
                 [token_sha256],
                 team_row,
             )

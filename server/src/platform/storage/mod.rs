@@ -22,6 +22,7 @@ mod auth;
 mod bundles;
 mod events;
 mod pages;
+mod pairing;
 mod returns;
 mod schema;
 mod sources;
@@ -32,6 +33,7 @@ pub use alerts::{NewAlert, StoredAlert, alerts_cells, e7};
 pub use auth::{ApiTokenRecord, LoginAttempt, SessionRecord, TeamTokenRecord, User};
 pub use bundles::{BundleItem, BundleRecord, NewBundle, Team};
 pub use events::{EventFilter, EventRecord, EventWrite};
+pub use pairing::PairingRecord;
 pub use returns::{
     OpenUploads, PhotoCheckRow, PhotoRow, RETURNS_MIGRATION, ReportPhotoRow, ReportRow, ResultRow,
     ReturnRecord, UploadRecord,
@@ -66,13 +68,14 @@ pub struct Db {
 
 /// Tables that hold no fact the statistics read: accounts, sessions,
 /// tokens, login attempts and upload progress.
-const BOOKKEEPING_TABLES: [&str; 6] = [
+const BOOKKEEPING_TABLES: [&str; 7] = [
     "users",
     "sessions",
     "api_tokens",
     "team_tokens",
     "login_attempts",
     "uploads",
+    "pairings",
 ];
 
 /// Which data the stored facts are: equal stamps mean no fact changed in

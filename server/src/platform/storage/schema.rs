@@ -128,6 +128,8 @@ const MIGRATIONS: &[&str] = &[
     crate::platform::storage::stats::STATS_INDEXES_MIGRATION,
     // 7: upload owners, return receipts, photos whose data falls short of their header.
     crate::platform::storage::returns::HARDENING_MIGRATION,
+    // 8: pairing codes for the field app.
+    crate::platform::storage::pairing::PAIRING_MIGRATION,
 ];
 
 /// The schema version this binary writes.

@@ -6,6 +6,7 @@ pub mod bundles;
 mod disputes;
 mod events;
 mod exports;
+mod pairings;
 mod sources;
 mod stats;
 pub mod uploads;
@@ -73,6 +74,7 @@ pub fn configure(cfg: &mut web::ServiceConfig) {
             "/bundles/{id}/cancel",
             web::post().to(bundles::cancel).needs(CancelBundle),
         )
+        .configure(pairings::configure)
         .configure(uploads::configure);
 }
 

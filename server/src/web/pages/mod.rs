@@ -8,7 +8,7 @@
 //! | `GET /` | redirect: managers to `/dashboard`, everyone else to `/events` |
 //! | `GET /events`, `GET /events/{id}` | events: filters, map, table; one event |
 //! | `GET /import`, `POST /import/alerts`, `POST /import/zones` | import files |
-//! | `GET /trips`, `POST /trips`, `POST /trips/{id}/cancel` | bundles |
+//! | `GET /trips`, `POST /trips`, `POST /trips/{id}/cancel`, `POST /trips/{id}/pair` | bundles, pairing a phone |
 //! | `GET /station`, `POST /station` | upload a return package |
 //! | `GET /dashboard` | figures for managers |
 //! | `GET /disputes`, `POST /disputes/{id}/adjudicate` | disputes |
@@ -100,6 +100,10 @@ pub fn configure(cfg: &mut web::ServiceConfig) {
         .route(
             "/trips/{id}/cancel",
             web::post().to(trips::cancel).needs(CancelBundle),
+        )
+        .route(
+            "/trips/{id}/pair",
+            web::post().to(trips::pair).needs(IssueBundle),
         )
         .route("/station", web::get().to(station::form).needs(UploadReturn))
         .route(

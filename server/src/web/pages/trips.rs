@@ -17,6 +17,7 @@ use crate::platform::auth::Action;
 use crate::platform::storage::{BundleRecord, Team, ZoneRecord};
 use crate::web::AppState;
 use crate::web::charts::render_map;
+use crate::web::pairing::{self, ShownPairing};
 use actix_web::http::StatusCode;
 use actix_web::{HttpRequest, HttpResponse, web};
 use askama::Template;
@@ -89,6 +90,7 @@ struct BundleRow {
     reports: i64,
     cancellable: bool,
     downloadable: bool,
+    pairable: bool,
 }
 
 #[derive(Template)]
@@ -159,7 +161,8 @@ async fn trips_page(
     let may_cancel = viewer.may(Action::CancelBundle);
     let mut form = form;
     start_at_last_trip(&mut form, &bundles);
-    let rows = bundle_rows(&bundles, &counts, may_cancel);
+    let may = (may_cancel, viewer.may(Action::IssueBundle));
+    let rows = bundle_rows(&bundles, &counts, may, chrono::Utc::now());
     let status = error.as_ref().map_or(StatusCode::OK, |e| e.status);
     let t = TripsPage {
         layout: Layout::new(req, viewer, "Trips", "/trips"),
@@ -187,11 +190,18 @@ fn start_at_last_trip(form: &mut IssueForm, bundles: &[BundleRecord]) {
     }
 }
 
-/// One table row per bundle, latest issued first.
+/// Whether a bundle's RFC 3339 expiry is still ahead of `now`.
+fn not_expired(expires_at: &str, now: chrono::DateTime<chrono::Utc>) -> bool {
+    chrono::DateTime::parse_from_rfc3339(expires_at).is_ok_and(|t| t > now)
+}
+
+/// One table row per bundle, latest issued first; `may` is (may cancel,
+/// may pair a phone).
 fn bundle_rows(
     bundles: &[BundleRecord],
     counts: &HashMap<String, (i64, i64)>,
-    may_cancel: bool,
+    (may_cancel, may_pair): (bool, bool),
+    now: chrono::DateTime<chrono::Utc>,
 ) -> Vec<BundleRow> {
     let mut rows: Vec<BundleRow> = bundles
         .iter()
@@ -220,6 +230,7 @@ fn bundle_rows(
                 // The file holds the upload key: offered to those who
                 // issue and cancel bundles, not to managers.
                 downloadable: may_cancel && b.cancelled_at.is_none(),
+                pairable: may_pair && b.cancelled_at.is_none() && not_expired(&b.expires_at, now),
             }
         })
         .collect();
@@ -302,6 +313,48 @@ struct TripPage {
     map: String,
     items: Vec<ItemRow>,
     strata: Vec<StratumRow>,
+    pairing: Option<PairingView>,
+}
+
+/// A pairing code as the pages show it (`pages/pairing_box.html`).
+pub struct PairingView {
+    code: String,
+    link: String,
+    qr_svg: String,
+    expires: String,
+}
+
+impl PairingView {
+    fn of(p: ShownPairing) -> PairingView {
+        let expires = chrono::DateTime::from_timestamp(p.expires_at, 0)
+            .map(|t| short_time(&t.to_rfc3339()))
+            .unwrap_or_default();
+        PairingView {
+            code: p.code,
+            link: p.link,
+            qr_svg: p.qr_svg,
+            expires,
+        }
+    }
+}
+
+/// The bundle's events as ranked on the day it was planned for.
+fn ranked_events(
+    st: &AppState,
+    items: &[crate::platform::storage::BundleItem],
+    as_of: Day,
+) -> Result<Vec<RankedEvent>, Error> {
+    let mut events = Vec::new();
+    for id in items.iter().filter_map(|i| i.event_id) {
+        if let Some(rec) = st.db.read(|r| r.event_resolved(id))? {
+            let priority = priority_of(&rec, &st.settings.priority, as_of);
+            events.push(RankedEvent {
+                record: rec,
+                priority,
+            });
+        }
+    }
+    Ok(events)
 }
 
 async fn issue_page(
@@ -311,23 +364,20 @@ async fn issue_page(
     trip: TripRequest,
 ) -> Result<HttpResponse, PageError> {
     let st = state.clone();
-    let (out, items, events, zones): (IssuedBundle, _, Vec<RankedEvent>, _) =
+    let (by, link_of) = pairing::request_parts(req);
+    let (out, items, events, zones, shown): (IssuedBundle, _, Vec<RankedEvent>, _, _) =
         web::block(move || {
             let out = issue_bundle(&st.db, &st.data_dir, &st.settings, &trip)?;
+            // The bundle is issued whatever happens to its first code; the
+            // trips page makes another.
+            let shown = pairing::make(&st.db, &out.bundle.id, &by, link_of)
+                .inspect_err(|e| tracing::warn!(error = %e, "no pairing code for the new bundle"))
+                .ok();
             let (items, zones) = st
                 .db
                 .read(|r| Ok((r.bundle_items(&out.bundle.id)?, r.zones()?)))?;
-            let mut events = Vec::new();
-            for id in items.iter().filter_map(|i| i.event_id) {
-                if let Some(rec) = st.db.read(|r| r.event_resolved(id))? {
-                    let priority = priority_of(&rec, &st.settings.priority, trip.as_of);
-                    events.push(RankedEvent {
-                        record: rec,
-                        priority,
-                    });
-                }
-            }
-            Ok::<_, Error>((out, items, events, zones))
+            let events = ranked_events(&st, &items, trip.as_of)?;
+            Ok::<_, Error>((out, items, events, zones, shown))
         })
         .await??;
     let mut items = items;
@@ -379,6 +429,7 @@ async fn issue_page(
                 probability: fixed(s.inclusion_probability, 4),
             })
             .collect(),
+        pairing: shown.map(PairingView::of),
     };
     let mut resp = page(&t)?;
     *resp.status_mut() = StatusCode::CREATED;
@@ -434,6 +485,59 @@ pub async fn cancel(
         })
         .await??;
         Ok(see_other(&format!("/trips?cancelled={id}")))
+    }
+    .await;
+    match r {
+        Ok(resp) => resp,
+        Err(e) => {
+            let r = trips_page(&req, &state, &viewer, IssueForm::default(), Some(e), None).await;
+            respond(&req, &viewer, r)
+        }
+    }
+}
+
+#[derive(Template)]
+#[template(path = "pages/pair.html")]
+struct PairPage {
+    layout: Layout,
+    id: String,
+    team: String,
+    due: String,
+    p: PairingView,
+}
+
+/// `POST /trips/{id}/pair`: a new pairing code for the bundle, as a QR
+/// code and as text.
+pub async fn pair(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    path: web::Path<String>,
+) -> HttpResponse {
+    let viewer = Viewer::of(&req);
+    let r = async {
+        let id = uuid::Uuid::parse_str(&path)
+            .map_err(|_| PageError::bad_request(format!("bundle id '{path}' is not a UUID")))?
+            .to_string();
+        let (by, link_of) = pairing::request_parts(&req);
+        let db = state.db.clone();
+        let (b, shown) = web::block(move || {
+            let shown = pairing::make(&db, &id, &by, link_of)?;
+            let b = db
+                .read(|r| r.bundle(&id))?
+                .ok_or_else(|| Error::NotFound(format!("no bundle {id}")))?;
+            Ok::<_, Error>((b, shown))
+        })
+        .await??;
+        let t = PairPage {
+            layout: Layout::new(&req, &viewer, "Pair a phone", "/trips"),
+            id: b.id,
+            team: b.team,
+            due: short_time(&b.due_at),
+            p: PairingView::of(shown),
+        };
+        let mut resp = page(&t)?;
+        *resp.status_mut() = StatusCode::CREATED;
+        Ok(resp)
     }
     .await;
     match r {

@@ -1,0 +1,154 @@
+//! Pairing a phone with a bundle over HTTP: a coordinator makes a code, a
+//! phone with no credentials trades it once for the bundle and a team
+//! token; used, expired, unknown and malformed codes and cancelled trips
+//! are refused with their own word, and the phone's token dies with its
+//! bundle.
+
+use groundproof_e2e::{TestServer, get_as, get_bytes, load_scenario, post_json, post_json_as};
+use serde_json::{Value, json};
+
+struct Redeemed {
+    status: u16,
+    token: Option<String>,
+    body: Vec<u8>,
+}
+
+/// `POST /api/v1/pairings/redeem` with no credentials.
+fn redeem(s: &TestServer, code: &str) -> Redeemed {
+    let agent: ureq::Agent = ureq::Agent::config_builder()
+        .http_status_as_error(false)
+        .build()
+        .into();
+    let mut r = agent
+        .post(&s.url("/api/v1/pairings/redeem"))
+        .send_json(json!({ "code": code }))
+        .expect("request reaches the server");
+    let token = r
+        .headers()
+        .get("groundproof-team-token")
+        .and_then(|v| v.to_str().ok())
+        .map(str::to_string);
+    let body = r.body_mut().read_to_vec().expect("body");
+    Redeemed {
+        status: r.status().as_u16(),
+        token,
+        body,
+    }
+}
+
+fn refusal(r: &Redeemed) -> String {
+    let v: Value = serde_json::from_slice(&r.body).expect("a JSON refusal");
+    assert!(v["error"].as_str().is_some_and(|e| !e.is_empty()), "{v}");
+    v["refusal"].as_str().unwrap_or_default().to_string()
+}
+
+fn issue(s: &TestServer, team: &str) -> (String, Vec<u8>) {
+    let station = mock_patrols::scenario().station;
+    let r = post_json(
+        &s.url("/api/v1/bundles"),
+        &json!({"team": team, "zone": "Core", "max": 2,
+                "start": {"lat": station.1, "lon": station.0}}),
+    );
+    assert_eq!(r.status, 201, "{}", r.body);
+    let j = r.json();
+    let id = j["bundle"]["bundle"]["id"]
+        .as_str()
+        .expect("id")
+        .to_string();
+    let (status, zip) = get_bytes(&s.url(j["download"].as_str().expect("download")));
+    assert_eq!(status, 200);
+    (id, zip)
+}
+
+#[test]
+fn a_code_puts_one_bundle_on_one_phone_once() {
+    let s = TestServer::start();
+    load_scenario(&s);
+    let (id, zip) = issue(&s, "Team Amber");
+    let make = s.url(&format!("/api/v1/bundles/{id}/pairings"));
+
+    // Nobody without the right makes codes: not anonymous, not a manager.
+    assert_eq!(post_json_as(&make, None, &json!({})).status, 401);
+    let (_, manager) = groundproof::platform::auth::issue_api_token(
+        &s.db,
+        groundproof::platform::auth::Role::Manager,
+        "a manager",
+        groundproof::platform::auth::now_unix(),
+    )
+    .expect("manager token");
+    assert_eq!(post_json_as(&make, Some(&manager), &json!({})).status, 403);
+    let r = post_json(&make, &json!({}));
+    assert_eq!(r.status, 201, "{}", r.body);
+    let p = r.json();
+    let code = p["code"].as_str().expect("code").to_string();
+    assert_eq!(code.len(), 11, "XXXXX-XXXXX: {code}");
+    assert_eq!(&code[5..6], "-");
+    let link = p["link"].as_str().expect("link");
+    assert_eq!(
+        link,
+        s.url(&format!("/field/#pair={}", code.replace('-', "")))
+    );
+    assert!(p["qr_svg"].as_str().is_some_and(|q| q.starts_with("<svg")));
+    assert!(p["expires_at"].as_str().is_some_and(|e| e.ends_with('Z')));
+
+    // Typed in lower case with a stray space: the phone gets the very
+    // bundle and a team token, with no credentials of its own.
+    let got = redeem(&s, &format!(" {}", code.to_lowercase()));
+    assert_eq!(got.status, 200, "{}", String::from_utf8_lossy(&got.body));
+    assert_eq!(got.body, zip, "the bundle, byte for byte");
+    let token = got.token.expect("a team token");
+    let mine = get_as(&s.url("/api/v1/bundles"), Some(&token));
+    assert_eq!(mine.status, 200, "{}", mine.body);
+    assert!(mine.body.contains(&id));
+
+    // Once only.
+    let again = redeem(&s, &code);
+    assert_eq!((again.status, refusal(&again).as_str()), (410, "used"));
+    assert!(again.token.is_none());
+
+    // Malformed and unknown codes.
+    let bad = redeem(&s, "12345");
+    assert_eq!((bad.status, refusal(&bad).as_str()), (400, "malformed"));
+    let unknown = redeem(&s, "ZZZZZ-ZZZZZ");
+    assert_eq!(
+        (unknown.status, refusal(&unknown).as_str()),
+        (404, "unknown")
+    );
+
+    // A code older than its lifetime.
+    let now = groundproof::platform::auth::now_unix();
+    let (old, _) = groundproof::platform::auth::issue_pairing(
+        &s.db,
+        &id,
+        "test",
+        now - groundproof::platform::auth::PAIRING_LIFETIME_SECS - 1,
+    )
+    .expect("an old code");
+    let late = redeem(&s, &old);
+    assert_eq!((late.status, refusal(&late).as_str()), (410, "expired"));
+
+    // A code made before the trip was cancelled; the phone's token dies
+    // with the trip.
+    let waiting = post_json(&make, &json!({})).json()["code"]
+        .as_str()
+        .expect("code")
+        .to_string();
+    let r = post_json(&s.url(&format!("/api/v1/bundles/{id}/cancel")), &json!({}));
+    assert_eq!(r.status, 200, "{}", r.body);
+    let gone = redeem(&s, &waiting);
+    assert_eq!(
+        (gone.status, refusal(&gone).as_str()),
+        (410, "trip_cancelled")
+    );
+    assert_eq!(get_as(&s.url("/api/v1/bundles"), Some(&token)).status, 401);
+    // And no new code is made for it.
+    assert_eq!(post_json(&make, &json!({})).status, 409);
+}
+
+#[test]
+fn a_large_redeem_body_is_refused_before_it_is_read() {
+    let s = TestServer::start();
+    let big = "x".repeat(4096);
+    let r = redeem(&s, &big);
+    assert_eq!(r.status, 413, "{}", String::from_utf8_lossy(&r.body));
+}
