@@ -464,6 +464,13 @@ pub async fn issue(
     }
 }
 
+/// The bundle id of a `/trips/{id}/…` path, checked to be a UUID.
+fn bundle_id(path: &str) -> Result<String, PageError> {
+    uuid::Uuid::parse_str(path)
+        .map(|u| u.to_string())
+        .map_err(|_| PageError::bad_request(format!("bundle id '{path}' is not a UUID")))
+}
+
 /// `POST /trips/{id}/cancel`.
 pub async fn cancel(
     req: HttpRequest,
@@ -472,9 +479,7 @@ pub async fn cancel(
 ) -> HttpResponse {
     let viewer = Viewer::of(&req);
     let r = async {
-        let id = uuid::Uuid::parse_str(&path)
-            .map_err(|_| PageError::bad_request(format!("bundle id '{path}' is not a UUID")))?
-            .to_string();
+        let id = bundle_id(&path)?;
         let db = state.db.clone();
         let idc = id.clone();
         web::block(move || {
@@ -515,9 +520,7 @@ pub async fn pair(
 ) -> HttpResponse {
     let viewer = Viewer::of(&req);
     let r = async {
-        let id = uuid::Uuid::parse_str(&path)
-            .map_err(|_| PageError::bad_request(format!("bundle id '{path}' is not a UUID")))?
-            .to_string();
+        let id = bundle_id(&path)?;
         let (by, link_of) = pairing::request_parts(&req);
         let db = state.db.clone();
         let (b, shown) = web::block(move || {
