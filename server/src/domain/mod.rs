@@ -8,6 +8,7 @@ pub mod geodesy;
 mod lonlat;
 mod name;
 mod role;
+pub mod sheet;
 mod status;
 pub mod tuning;
 

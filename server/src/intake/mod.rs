@@ -20,6 +20,7 @@ pub mod evidence;
 pub mod files;
 pub mod layout;
 pub mod pipeline;
+pub mod station;
 pub mod uploads;
 
 pub use error::IntakeError;

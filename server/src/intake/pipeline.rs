@@ -19,7 +19,7 @@ use super::{IntakeError, IntakeOptions};
 use crate::domain::{Cause, Confidence, Day, Outcome, Reason, TargetKind};
 use crate::platform::storage::{
     BundleItem, BundleRecord, Db, EventWrite, PhotoCheckRow, PhotoRow, ReportPhotoRow, ReportRow,
-    ResultRow, ReturnRecord, UploadRecord,
+    ResultRow, ReturnRecord, StationEntry, UploadRecord,
 };
 use chrono::{DateTime, Utc};
 use groundproof_sync::SyncError;
@@ -186,7 +186,7 @@ fn in_return_words(e: SyncError) -> String {
     }
 }
 
-fn checklist_for(version: u32) -> Result<Checklist, IntakeError> {
+pub(crate) fn checklist_for(version: u32) -> Result<Checklist, IntakeError> {
     match version {
         1 => Ok(Checklist::default_v1()),
         v => Err(IntakeError::Package(format!(
@@ -606,6 +606,52 @@ pub fn take_in(
     size: u64,
     upload: Option<&UploadRecord>,
 ) -> Result<ReturnDocument, IntakeError> {
+    let package = PackageFile {
+        path: package,
+        sha256,
+        size,
+    };
+    take_in_with(db, data_dir, options, &package, upload, None)
+}
+
+/// Who entered a return at the station from a paper sheet: recorded with
+/// each report it stores, in the same transaction.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Provenance {
+    /// The user who entered and confirmed it.
+    pub entered_by: String,
+    /// The identifier of the paper sheet it was copied from.
+    pub sheet: String,
+}
+
+/// A package durable on disk: where, its SHA-256 and size.
+pub struct PackageFile<'a> {
+    pub path: &'a Path,
+    pub sha256: &'a str,
+    pub size: u64,
+}
+
+/// [`take_in`] of a package the station entry wrote: the same checks, and
+/// each accepted report records `provenance`.
+pub fn take_in_entered(
+    db: &Db,
+    data_dir: &Path,
+    options: &IntakeOptions,
+    package: &PackageFile,
+    provenance: &Provenance,
+) -> Result<ReturnDocument, IntakeError> {
+    take_in_with(db, data_dir, options, package, None, Some(provenance))
+}
+
+fn take_in_with(
+    db: &Db,
+    data_dir: &Path,
+    options: &IntakeOptions,
+    pkg: &PackageFile,
+    upload: Option<&UploadRecord>,
+    provenance: Option<&Provenance>,
+) -> Result<ReturnDocument, IntakeError> {
+    let (package, sha256) = (pkg.path, pkg.sha256);
     let _guard = intake_lock();
     if let Some(r) = db.read(|x| x.return_by_sha(sha256))? {
         if let Some(u) = upload.filter(|u| u.state == "open") {
@@ -613,7 +659,7 @@ pub fn take_in(
         }
         return return_document(db, r.id);
     }
-    match run(db, data_dir, options, package, sha256, size, upload) {
+    match run(db, data_dir, options, pkg, upload, provenance) {
         Ok(doc) => Ok(doc),
         Err(e) if e.is_final() => {
             tracing::warn!(sha256, error = %e, "return package refused");
@@ -636,11 +682,11 @@ fn run(
     db: &Db,
     data_dir: &Path,
     options: &IntakeOptions,
-    package: &Path,
-    sha256: &str,
-    size: u64,
+    pkg: &PackageFile,
     upload: Option<&UploadRecord>,
+    provenance: Option<&Provenance>,
 ) -> Result<ReturnDocument, IntakeError> {
+    let (package, sha256, size) = (pkg.path, pkg.sha256, pkg.size);
     let opened = open_checked(db, options, package, upload)?;
     let (bundle, items) = live_bundle(db, &opened.manifest.bundle_id.to_string())?;
     let received = Utc::now();
@@ -671,6 +717,7 @@ fn run(
         received_at: received.to_rfc3339(),
         bundle: &bundle,
         upload,
+        provenance,
     };
     let kept = verdicts
         .iter()
@@ -789,6 +836,7 @@ struct Stored<'a> {
     received_at: String,
     bundle: &'a BundleRecord,
     upload: Option<&'a UploadRecord>,
+    provenance: Option<&'a Provenance>,
 }
 
 /// Step 6: every row of the package, in one transaction; the return's id.
@@ -820,6 +868,15 @@ fn commit_rows(
         let mut results: Vec<ResultRow> = Vec::new();
         for (id, v) in verdicts {
             results.push(store_verdict(tx, return_id, id, v, photos)?);
+            if let (Verdict::Accept(_), Some(p)) = (v, stored.provenance) {
+                tx.insert_station_entry(&StationEntry {
+                    report_id: id.to_string(),
+                    bundle_id: stored.bundle.id.clone(),
+                    entered_by: p.entered_by.clone(),
+                    sheet: p.sheet.clone(),
+                    entered_at: stored.received_at.clone(),
+                })?;
+            }
         }
         for r in &opened.rejected {
             results.push(ResultRow {

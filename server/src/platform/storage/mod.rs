@@ -26,6 +26,7 @@ mod pairing;
 mod returns;
 mod schema;
 mod sources;
+mod station;
 pub(crate) mod stats;
 mod zones;
 
@@ -39,6 +40,7 @@ pub use returns::{
     ReturnRecord, UploadRecord,
 };
 pub use sources::Source;
+pub use station::StationEntry;
 pub use stats::{AdjudicationRow, ControlRow, StatsEventRow, StatsReportRef};
 pub use zones::ZoneRecord;
 

@@ -130,6 +130,8 @@ const MIGRATIONS: &[&str] = &[
     crate::platform::storage::returns::HARDENING_MIGRATION,
     // 8: pairing codes for the field app.
     crate::platform::storage::pairing::PAIRING_MIGRATION,
+    // 9: provenance of reports entered at the station from a paper sheet.
+    crate::platform::storage::station::STATION_MIGRATION,
 ];
 
 /// The schema version this binary writes.
