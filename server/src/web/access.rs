@@ -357,6 +357,23 @@ mod tests {
         ("POST", "/trips/x/cancel", Some(Action::CancelBundle)),
         ("GET", "/station", Some(Action::UploadReturn)),
         ("POST", "/station", Some(Action::UploadReturn)),
+        ("GET", "/station/trips/x", Some(Action::EnterFromPaper)),
+        ("POST", "/station/trips/x", Some(Action::EnterFromPaper)),
+        (
+            "POST",
+            "/station/trips/x/photos",
+            Some(Action::EnterFromPaper),
+        ),
+        (
+            "POST",
+            "/station/trips/x/discard",
+            Some(Action::EnterFromPaper),
+        ),
+        (
+            "GET",
+            "/station/trips/x/thumbs/ab",
+            Some(Action::EnterFromPaper),
+        ),
         ("GET", "/dashboard", Some(Action::ViewStatistics)),
         ("GET", "/disputes", Some(Action::ViewStatistics)),
         ("POST", "/disputes/1/adjudicate", Some(Action::Adjudicate)),

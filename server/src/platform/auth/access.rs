@@ -12,7 +12,9 @@
 //! alone manage user accounts. A team may only fetch its own bundles and
 //! upload returns; coordinators may also upload a return in the browser on
 //! a team's behalf (the return's HMAC signature still binds it to its
-//! bundle). Anonymous requests may do nothing.
+//! bundle). Entering a trip from its paper sheet at the station signs the
+//! return with the bundle's key held by the server, so it is a coordinator's
+//! (or admin's) action, never a team's. Anonymous requests may do nothing.
 
 use super::Identity;
 use std::fmt::Write as _;
@@ -33,10 +35,11 @@ pub enum Action {
     Export,
     ManageUsers,
     ManageTeams,
+    EnterFromPaper,
 }
 
 impl Action {
-    pub const ALL: [Action; 13] = [
+    pub const ALL: [Action; 14] = [
         Action::ImportAlerts,
         Action::ImportZones,
         Action::ManageSources,
@@ -50,6 +53,7 @@ impl Action {
         Action::Export,
         Action::ManageUsers,
         Action::ManageTeams,
+        Action::EnterFromPaper,
     ];
 
     /// What the action covers, for the rendered table.
@@ -68,6 +72,9 @@ impl Action {
             Action::Export => "export events and statistics",
             Action::ManageUsers => "create, disable and change users; API tokens",
             Action::ManageTeams => "create teams and issue or revoke team tokens",
+            Action::EnterFromPaper => {
+                "enter a trip's findings at the station from its paper sheet and camera photos"
+            }
         }
     }
 }
@@ -118,7 +125,7 @@ const N: bool = false;
 
 /// The access matrix. Columns: admin, coordinator, manager, team, anonymous.
 #[rustfmt::skip]
-pub const MATRIX: [(Action, [bool; 5]); 13] = [
+pub const MATRIX: [(Action, [bool; 5]); 14] = [
     //                          admin coord  mgr  team  anon
     (Action::ImportAlerts,     [Y,    Y,     N,   N,    N]),
     (Action::ImportZones,      [Y,    Y,     N,   N,    N]),
@@ -133,6 +140,7 @@ pub const MATRIX: [(Action, [bool; 5]); 13] = [
     (Action::Export,           [Y,    Y,     Y,   N,    N]),
     (Action::ManageUsers,      [Y,    N,     N,   N,    N]),
     (Action::ManageTeams,      [Y,    Y,     N,   N,    N]),
+    (Action::EnterFromPaper,   [Y,    Y,     N,   N,    N]),
 ];
 
 /// Whether `principal` may perform `action` (false for anything the table

@@ -10,6 +10,7 @@
 //! | `GET /import`, `POST /import/alerts`, `POST /import/zones` | import files |
 //! | `GET /trips`, `POST /trips`, `POST /trips/{id}/cancel`, `POST /trips/{id}/pair` | bundles, pairing a phone |
 //! | `GET /station`, `POST /station` | upload a return package |
+//! | `/station/trips/{id}` (`GET`, `POST`, `POST …/photos`, `POST …/discard`, `GET …/thumbs/{sha}`) | enter a trip from its paper sheet and camera photos |
 //! | `GET /dashboard` | figures for managers |
 //! | `GET /disputes`, `POST /disputes/{id}/adjudicate` | disputes |
 //! | `GET /static/app.css` | the style sheet |
@@ -28,6 +29,7 @@ mod events;
 mod form;
 mod import;
 mod station;
+mod station_entry;
 mod trips;
 mod views;
 
@@ -109,6 +111,24 @@ pub fn configure(cfg: &mut web::ServiceConfig) {
         .route(
             "/station",
             web::post().to(station::upload).needs(UploadReturn),
+        )
+        .service(
+            web::resource("/station/trips/{id}")
+                .app_data(web::FormConfig::default().limit(station_entry::MAX_ENTRY_FORM_BYTES))
+                .route(web::get().to(station_entry::show).needs(EnterFromPaper))
+                .route(web::post().to(station_entry::save).needs(EnterFromPaper)),
+        )
+        .route(
+            "/station/trips/{id}/photos",
+            web::post().to(station_entry::photos).needs(EnterFromPaper),
+        )
+        .route(
+            "/station/trips/{id}/discard",
+            web::post().to(station_entry::discard).needs(EnterFromPaper),
+        )
+        .route(
+            "/station/trips/{id}/thumbs/{sha}",
+            web::get().to(station_entry::thumb).needs(EnterFromPaper),
         )
         .route(
             "/dashboard",

@@ -24,23 +24,105 @@ pub fn max_package_bytes() -> u64 {
     IntakeOptions::default().return_limits.max_file_bytes
 }
 
-struct ResultRow {
-    report_id: String,
-    status: String,
-    reason: String,
-    flags: Vec<String>,
+/// One report of a return as the station shows it: what it is about, its
+/// outcome and team, not only its id.
+pub struct ResultRow {
+    pub report_id: String,
+    /// The event or control point code, `new clearing`, or `–` when the
+    /// report was not stored.
+    pub target: String,
+    /// The link to the event, when there is one.
+    pub event_href: Option<String>,
+    pub outcome: String,
+    pub detail: String,
+    pub team: String,
+    pub status: String,
+    pub reason: String,
+    pub flags: Vec<String>,
 }
 
-struct Received {
-    return_id: i64,
-    bundle_id: String,
-    sha256: String,
-    received_at: String,
-    accepted: usize,
-    duplicate: usize,
-    rejected: usize,
-    results: Vec<ResultRow>,
-    unreadable: Vec<String>,
+/// The station's rows for the results of a return: each stored report
+/// looked up for its code, outcome and team; flags name photos by their
+/// file names.
+pub fn result_rows(
+    r: &crate::platform::storage::Reader<'_>,
+    doc: &crate::intake::ReturnDocument,
+) -> crate::Result<Vec<ResultRow>> {
+    let items = r.bundle_items(&doc.bundle_id.to_string())?;
+    let mut rows = Vec::new();
+    for x in &doc.results {
+        let id = x.report_id.to_string();
+        let stored = r.report(&id)?;
+        let photos = r.report_photos(&id)?;
+        let mut row = ResultRow {
+            report_id: id,
+            target: "–".into(),
+            event_href: None,
+            outcome: "–".into(),
+            detail: String::new(),
+            team: String::new(),
+            status: x.status.clone(),
+            reason: x.reason.clone().unwrap_or_default(),
+            flags: x.flags.iter().map(|f| flag_words(f, &photos)).collect(),
+        };
+        if let Some(s) = stored {
+            row.target = match (&s.control_code, s.event_id) {
+                (Some(c), _) => c.clone(),
+                (None, Some(eid)) => items
+                    .iter()
+                    .find(|i| i.event_id == Some(eid))
+                    .map_or_else(|| format!("new clearing #{eid}"), |i| i.code.clone()),
+                (None, None) => "–".into(),
+            };
+            row.event_href = s.event_id.map(|e| format!("/events/{e}"));
+            row.outcome = s.outcome.as_str().replace('_', " ");
+            row.detail = s
+                .reason
+                .map(|w| w.as_str())
+                .or(s.cause.map(|w| w.as_str()))
+                .unwrap_or_default()
+                .replace('_', " ");
+            row.team = s.team;
+        }
+        rows.push(row);
+    }
+    Ok(rows)
+}
+
+/// A flag in words: `photo_no_gps:<sha>` names the photo's file.
+fn flag_words(flag: &str, photos: &[crate::platform::storage::ReportPhotoRow]) -> String {
+    match flag.split_once(':') {
+        Some((what, sha)) => {
+            let name = photos.iter().find(|p| p.sha256 == sha).map_or_else(
+                || sha.chars().take(12).collect(),
+                |p| p.original_name.clone(),
+            );
+            format!("{} ({name})", what.replace('_', " "))
+        }
+        None => flag.replace('_', " "),
+    }
+}
+
+pub struct Received {
+    pub return_id: i64,
+    pub bundle_id: String,
+    pub sha256: String,
+    pub received_at: String,
+    pub accepted: usize,
+    pub duplicate: usize,
+    pub rejected: usize,
+    pub results: Vec<ResultRow>,
+    pub unreadable: Vec<String>,
+}
+
+/// A trip that may be entered from its paper sheet.
+struct TripLink {
+    id: String,
+    team: String,
+    issued: String,
+    stops: i64,
+    /// This user has an unfinished entry for it.
+    draft: bool,
 }
 
 #[derive(Template)]
@@ -50,10 +132,42 @@ struct StationPage {
     limit: String,
     error: Option<PageError>,
     received: Option<Received>,
+    trips: Vec<TripLink>,
 }
 
-fn render(
+/// The live trips, for a viewer who may enter from paper.
+async fn trip_links(state: &AppState, viewer: &Viewer) -> Vec<TripLink> {
+    if !viewer.may(crate::platform::auth::Action::EnterFromPaper) {
+        return Vec::new();
+    }
+    let (db, dir) = (state.db.clone(), state.data_dir.clone());
+    let user = viewer.name.clone().unwrap_or_default();
+    let found = web::block(move || {
+        let bundles = db.read(|r| r.bundles())?;
+        Ok::<_, crate::Error>(
+            bundles
+                .into_iter()
+                .filter(|b| b.cancelled_at.is_none())
+                .map(|b| TripLink {
+                    draft: crate::intake::station::draft::draft_dir(&dir, &user, &b.id).exists(),
+                    issued: super::common::short_time(&b.issued_at),
+                    stops: b.events + b.controls,
+                    team: b.team,
+                    id: b.id,
+                })
+                .collect::<Vec<_>>(),
+        )
+    })
+    .await;
+    match found {
+        Ok(Ok(v)) => v,
+        _ => Vec::new(),
+    }
+}
+
+async fn render(
     req: &HttpRequest,
+    state: &AppState,
     viewer: &Viewer,
     error: Option<PageError>,
     received: Option<Received>,
@@ -64,6 +178,7 @@ fn render(
         limit: human_bytes(max_package_bytes()),
         error,
         received,
+        trips: trip_links(state, viewer).await,
     };
     match t.render() {
         Ok(body) => html(status, body),
@@ -72,9 +187,36 @@ fn render(
 }
 
 /// `GET /station`.
-pub async fn form(req: HttpRequest) -> HttpResponse {
+pub async fn form(req: HttpRequest, state: web::Data<AppState>) -> HttpResponse {
     let viewer = Viewer::of(&req);
-    render(&req, &viewer, None, None)
+    render(&req, &state, &viewer, None, None).await
+}
+
+/// Where a return's results come from; they are then looked up.
+pub async fn received(
+    state: &AppState,
+    doc: crate::intake::ReturnDocument,
+) -> Result<Received, PageError> {
+    let count = |s: &str| doc.results.iter().filter(|r| r.status == s).count();
+    let (accepted, duplicate, rejected) =
+        (count("accepted"), count("duplicate"), count("rejected"));
+    let db = state.db.clone();
+    let (doc, results) = web::block(move || {
+        let rows = db.read(|r| result_rows(r, &doc))?;
+        Ok::<_, crate::Error>((doc, rows))
+    })
+    .await??;
+    Ok(Received {
+        return_id: doc.return_id,
+        bundle_id: doc.bundle_id.to_string(),
+        sha256: doc.sha256.clone(),
+        received_at: super::common::short_time(&doc.received_at),
+        accepted,
+        duplicate,
+        rejected,
+        results,
+        unreadable: doc.unreadable.iter().map(|u| u.reason.clone()).collect(),
+    })
 }
 
 async fn receive(state: &AppState, mut mp: Multipart) -> Result<Received, PageError> {
@@ -131,34 +273,14 @@ async fn receive(state: &AppState, mut mp: Multipart) -> Result<Received, PageEr
     let doc = doc.ok_or_else(|| {
         PageError::bad_request("No return package was sent: choose a file and try again.")
     })?;
-    let count = |s: &str| doc.results.iter().filter(|r| r.status == s).count();
-    Ok(Received {
-        return_id: doc.return_id,
-        bundle_id: doc.bundle_id.to_string(),
-        sha256: doc.sha256.clone(),
-        received_at: super::common::short_time(&doc.received_at),
-        accepted: count("accepted"),
-        duplicate: count("duplicate"),
-        rejected: count("rejected"),
-        results: doc
-            .results
-            .iter()
-            .map(|r| ResultRow {
-                report_id: r.report_id.to_string(),
-                status: r.status.clone(),
-                reason: r.reason.clone().unwrap_or_default(),
-                flags: r.flags.iter().map(|f| f.replace('_', " ")).collect(),
-            })
-            .collect(),
-        unreadable: doc.unreadable.iter().map(|u| u.reason.clone()).collect(),
-    })
+    received(state, doc).await
 }
 
 /// `POST /station` (multipart: `package`, the return ZIP).
 pub async fn upload(req: HttpRequest, state: web::Data<AppState>, mp: Multipart) -> HttpResponse {
     let viewer = Viewer::of(&req);
     match receive(&state, mp).await {
-        Ok(r) => render(&req, &viewer, None, Some(r)),
-        Err(e) => render(&req, &viewer, Some(e), None),
+        Ok(r) => render(&req, &state, &viewer, None, Some(r)).await,
+        Err(e) => render(&req, &state, &viewer, Some(e), None).await,
     }
 }

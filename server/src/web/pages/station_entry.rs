@@ -1,0 +1,545 @@
+//! `/station/trips/{id}`: entering a trip from its paper field sheet and the
+//! camera's photos (see [`crate::intake::station`] for the rules). The
+//! entry is a server-side draft of the user and the trip, so a reload or
+//! another browser finds it; nothing is stored as a fact until "Save the
+//! reports".
+//!
+//! | method and path | what it does |
+//! |---|---|
+//! | `GET /station/trips/{id}` | the entry: stops with their fields and photos, unplaced photos |
+//! | `POST /station/trips/{id}/photos` | upload photos (multipart `photos`, many files) into the draft |
+//! | `POST /station/trips/{id}` | keep the typed fields and moves (`action=keep`), or save the reports (`action=save`) |
+//! | `POST /station/trips/{id}/discard` | throw the draft away |
+//! | `GET /station/trips/{id}/thumbs/{sha256}` | a draft photo's thumbnail |
+
+use super::common::{Layout, PageError, Viewer, html, respond, see_other, short_time};
+use super::form::{field_name, file_name, human_bytes, next_chunk, next_field, read_bounded};
+use super::station::Received;
+use crate::intake::IntakeError;
+use crate::intake::station::draft::{self, Draft, StopEntry};
+use crate::intake::station::propose::Basis;
+use crate::intake::station::{self as entry, EntryForm, Trip};
+use crate::web::AppState;
+use crate::web::pages::common::MAX_TEXT_FIELD_BYTES;
+use actix_multipart::Multipart;
+use actix_web::http::StatusCode;
+use actix_web::{HttpRequest, HttpResponse, web};
+use askama::Template;
+
+/// Largest urlencoded entry form (the access layer's bound for forms).
+pub const MAX_ENTRY_FORM_BYTES: usize = 64 * 1024;
+
+struct PhotoView {
+    sha: String,
+    name: String,
+    time: String,
+    position: String,
+    /// Why it is where it is (the proposal's reason, or the operator's move).
+    why: String,
+    /// The stop it is at now (code), empty when not placed.
+    at: String,
+    /// The move chosen: `proposed`, a stop code, or empty (set aside).
+    choice: String,
+}
+
+struct StopView {
+    order: u32,
+    code: String,
+    kind: String,
+    e: StopEntry,
+    photos: Vec<PhotoView>,
+}
+
+struct Choice {
+    value: String,
+    label: String,
+}
+
+#[derive(Template)]
+#[template(path = "pages/station_entry.html")]
+struct EntryPage {
+    layout: Layout,
+    trip_id: String,
+    team: String,
+    sheet_expected: String,
+    sheet: String,
+    local_offset: String,
+    saved_return: Option<i64>,
+    stops: Vec<StopView>,
+    unplaced: Vec<PhotoView>,
+    codes: Vec<String>,
+    outcomes: Vec<Choice>,
+    reasons_false: Vec<Choice>,
+    reasons_not_reached: Vec<Choice>,
+    causes: Vec<Choice>,
+    photo_count: usize,
+    photo_bytes: String,
+    limits: String,
+    tolerance: String,
+    errors: Vec<String>,
+    notices: Vec<String>,
+    received: Option<Received>,
+}
+
+fn choices(words: &[String]) -> Vec<Choice> {
+    words
+        .iter()
+        .map(|w| Choice {
+            value: w.clone(),
+            label: w.replace('_', " "),
+        })
+        .collect()
+}
+
+fn basis_words(b: &Basis, d: &Draft, trip: &Trip) -> String {
+    let code = |i: usize| trip.stops.get(i).map_or("?", |s| s.code.as_str());
+    match b {
+        Basis::Position { distance_m } => {
+            format!("its position is {distance_m:.0} m from the stop")
+        }
+        Basis::Between { before, after } => format!(
+            "taken between {} and {}, both at this stop",
+            d.photos[*before].original_name, d.photos[*after].original_name
+        ),
+        Basis::Far {
+            nearest,
+            distance_m,
+        } => format!(
+            "its position is {distance_m:.0} m from the nearest stop {}, beyond the tolerance",
+            code(*nearest)
+        ),
+        Basis::NoNeighbours => {
+            "no position, and its time is not between two photos of one stop".into()
+        }
+        Basis::NoPositionNoTime => "no position and no time".into(),
+        Basis::NoStops => "the trip has no stops".into(),
+    }
+}
+
+fn photo_views(trip: &Trip, d: &Draft, tolerance_m: f64) -> Vec<PhotoView> {
+    let offset = entry::local_offset(d);
+    entry::placements(trip, d, tolerance_m)
+        .into_iter()
+        .zip(&d.photos)
+        .map(|((pl, now), p)| PhotoView {
+            sha: p.sha256.clone(),
+            name: p.original_name.clone(),
+            time: entry::photo_time(p, offset)
+                .map_or_else(|| "no time".into(), |t| short_time(&t.to_rfc3339())),
+            position: match (p.lat, p.lon) {
+                (Some(la), Some(lo)) => format!("{la:.6}, {lo:.6}"),
+                _ => "no position".into(),
+            },
+            why: match &p.moved_to {
+                Some(_) => format!(
+                    "moved by hand (proposed: {})",
+                    basis_words(&pl.basis, d, trip)
+                ),
+                None => basis_words(&pl.basis, d, trip),
+            },
+            at: now
+                .and_then(|i| trip.stops.get(i))
+                .map_or_else(String::new, |s| s.code.clone()),
+            choice: p.moved_to.clone().unwrap_or_else(|| "proposed".into()),
+        })
+        .collect()
+}
+
+struct Shown {
+    errors: Vec<String>,
+    notices: Vec<String>,
+    received: Option<Received>,
+}
+
+fn page(
+    req: &HttpRequest,
+    viewer: &Viewer,
+    trip: &Trip,
+    d: &Draft,
+    tol: f64,
+    s: Shown,
+) -> EntryPage {
+    let cl = entry::checklist();
+    let mut photos = photo_views(trip, d, tol);
+    photos.sort_by(|a, b| a.time.cmp(&b.time).then(a.name.cmp(&b.name)));
+    let stops = trip
+        .stops
+        .iter()
+        .map(|st| StopView {
+            order: st.order,
+            code: st.code.clone(),
+            kind: st.kind.as_str().replace('_', " "),
+            e: d.stops.get(&st.code).cloned().unwrap_or_default(),
+            photos: Vec::new(),
+        })
+        .collect::<Vec<_>>();
+    let (mut stops, mut unplaced) = (stops, Vec::new());
+    for p in photos {
+        match stops.iter_mut().find(|s| s.code == p.at) {
+            Some(s) => s.photos.push(p),
+            None => unplaced.push(p),
+        }
+    }
+    EntryPage {
+        layout: Layout::new(req, viewer, "Enter a trip from paper", "/station"),
+        trip_id: trip.bundle.id.clone(),
+        team: trip.bundle.team.clone(),
+        sheet_expected: trip.sheet.clone(),
+        sheet: d.sheet.clone(),
+        local_offset: d.local_offset.clone(),
+        saved_return: d.saved_return,
+        codes: trip.stops.iter().map(|s| s.code.clone()).collect(),
+        stops,
+        unplaced,
+        outcomes: choices(&cl.outcomes),
+        reasons_false: choices(&cl.false_alarm_reasons),
+        reasons_not_reached: choices(&cl.not_reached_reasons),
+        causes: choices(&cl.causes),
+        photo_count: d.photos.len(),
+        photo_bytes: human_bytes(d.photo_bytes()),
+        limits: format!(
+            "{} photos and {} per entry; each photo at most {}",
+            draft::MAX_DRAFT_PHOTOS,
+            human_bytes(draft::MAX_DRAFT_BYTES),
+            human_bytes(max_photo_bytes() as u64)
+        ),
+        tolerance: format!("{tol:.0} m"),
+        errors: s.errors,
+        notices: s.notices,
+        received: s.received,
+    }
+}
+
+fn max_photo_bytes() -> usize {
+    usize::try_from(groundproof_sync::returns::ReturnLimits::default().max_photo_bytes)
+        .unwrap_or(usize::MAX)
+}
+
+fn user_of(viewer: &Viewer) -> Result<String, PageError> {
+    viewer
+        .name
+        .clone()
+        .ok_or_else(|| PageError::bad_request("entering from paper needs a signed-in user"))
+}
+
+/// The trip and the user's draft (made empty when there is none; not stored).
+async fn load(state: &AppState, id: &str, user: &str) -> Result<(Trip, Draft), PageError> {
+    let (db, dir, id, user) = (
+        state.db.clone(),
+        state.data_dir.clone(),
+        id.to_string(),
+        user.to_string(),
+    );
+    let r = web::block(move || {
+        let trip = entry::trip(&db, &id)?;
+        let (_, d) = entry::open_draft(&dir, &trip, &user, chrono::Utc::now())?;
+        Ok::<_, IntakeError>((trip, d))
+    })
+    .await??;
+    Ok(r)
+}
+
+async fn show_page(
+    req: &HttpRequest,
+    state: &AppState,
+    viewer: &Viewer,
+    id: &str,
+    shown: Shown,
+    status: StatusCode,
+) -> Result<HttpResponse, PageError> {
+    let user = user_of(viewer)?;
+    let (trip, d) = load(state, id, &user).await?;
+    let tol = state.intake_options().tolerance_m;
+    let body = page(req, viewer, &trip, &d, tol, shown).render()?;
+    Ok(html(status, body))
+}
+
+/// `GET /station/trips/{id}`.
+pub async fn show(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    path: web::Path<String>,
+) -> HttpResponse {
+    let viewer = Viewer::of(&req);
+    let shown = Shown {
+        errors: Vec::new(),
+        notices: Vec::new(),
+        received: None,
+    };
+    let r = show_page(&req, &state, &viewer, &path, shown, StatusCode::OK).await;
+    respond(&req, &viewer, r)
+}
+
+/// Reads every `photos` file of the form into the draft, one at a time
+/// (each bounded by the return format's photo limit); the words for the
+/// operator, and whether any photo was refused.
+async fn take_photos(
+    state: &AppState,
+    id: &str,
+    user: &str,
+    mut mp: Multipart,
+) -> Result<(Vec<String>, Vec<String>), PageError> {
+    let (mut notices, mut errors) = (Vec::new(), Vec::new());
+    let mut taken = 0;
+    while let Some(mut field) = next_field(&mut mp).await? {
+        if field_name(&field) != "photos" {
+            read_bounded(&mut field, MAX_TEXT_FIELD_BYTES, "a form field is too long").await?;
+            continue;
+        }
+        let name = file_name(&field);
+        let max = max_photo_bytes();
+        let mut bytes = Vec::new();
+        let mut too_big = false;
+        while let Some(chunk) = next_chunk(&mut field).await? {
+            if bytes.len() + chunk.len() > max {
+                too_big = true;
+                bytes.clear();
+            } else if !too_big {
+                bytes.extend_from_slice(&chunk);
+            }
+        }
+        if too_big {
+            errors.push(format!(
+                "photo {name:?} was not taken: it is larger than {}",
+                human_bytes(max as u64)
+            ));
+            continue;
+        }
+        if bytes.is_empty() && name.is_empty() {
+            continue;
+        }
+        match add_one(state, id, user, name.clone(), bytes).await {
+            Ok(true) => taken += 1,
+            Ok(false) => notices.push(format!("photo {name:?} is already in this entry")),
+            Err(e) => errors.push(e.message),
+        }
+    }
+    notices.insert(0, format!("{taken} photos added."));
+    Ok((notices, errors))
+}
+
+async fn add_one(
+    state: &AppState,
+    id: &str,
+    user: &str,
+    name: String,
+    bytes: Vec<u8>,
+) -> Result<bool, PageError> {
+    let (db, dir, id, user) = (
+        state.db.clone(),
+        state.data_dir.clone(),
+        id.to_string(),
+        user.to_string(),
+    );
+    let limits = state.intake_options().photo_limits;
+    let added = web::block(move || {
+        let _g = draft::draft_lock();
+        let trip = entry::trip(&db, &id)?;
+        let (ddir, mut d) = entry::open_draft(&dir, &trip, &user, chrono::Utc::now())?;
+        let added = entry::add_photo(&ddir, &mut d, &name, &bytes, &limits)?;
+        d.updated_at = chrono::Utc::now();
+        draft::store(&ddir, &d)?;
+        Ok::<_, IntakeError>(added)
+    })
+    .await??;
+    Ok(added)
+}
+
+/// `POST /station/trips/{id}/photos` (multipart: `photos`, many JPEGs).
+pub async fn photos(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    path: web::Path<String>,
+    mp: Multipart,
+) -> HttpResponse {
+    let viewer = Viewer::of(&req);
+    let r = async {
+        let user = user_of(&viewer)?;
+        let (notices, errors) = take_photos(&state, &path, &user, mp).await?;
+        let status = if errors.is_empty() {
+            StatusCode::OK
+        } else {
+            StatusCode::BAD_REQUEST
+        };
+        let shown = Shown {
+            errors,
+            notices,
+            received: None,
+        };
+        show_page(&req, &state, &viewer, &path, shown, status).await
+    }
+    .await;
+    respond(&req, &viewer, r)
+}
+
+/// The entry form's fields: `sheet`, `local_offset`, `outcome.<code>`,
+/// `detail.<code>`, `time.<code>`, `position.<code>`, `area.<code>`,
+/// `notes.<code>`, `move.<sha256>`, `action`.
+fn entry_form(pairs: Vec<(String, String)>) -> (EntryForm, String) {
+    let mut f = EntryForm::default();
+    let mut action = String::new();
+    for (k, v) in pairs {
+        match k.split_once('.') {
+            Some(("move", sha)) => f.moves.push((sha.to_string(), v)),
+            Some((field, code)) => {
+                let e = f.stops.entry(code.to_string()).or_default();
+                match field {
+                    "outcome" => e.outcome = v,
+                    "detail" => e.detail = v,
+                    "time" => e.time = v,
+                    "position" => e.position = v,
+                    "area" => e.area_ha = v,
+                    "notes" => e.notes = v,
+                    _ => {}
+                }
+            }
+            None => match k.as_str() {
+                "sheet" => f.sheet = v,
+                "local_offset" => f.local_offset = v,
+                "action" => action = v,
+                _ => {}
+            },
+        }
+    }
+    (f, action)
+}
+
+/// Applies the form to the draft and stores it.
+async fn keep(state: &AppState, id: &str, user: &str, form: EntryForm) -> Result<(), PageError> {
+    let (db, dir, id, user) = (
+        state.db.clone(),
+        state.data_dir.clone(),
+        id.to_string(),
+        user.to_string(),
+    );
+    web::block(move || {
+        let _g = draft::draft_lock();
+        let trip = entry::trip(&db, &id)?;
+        let (ddir, mut d) = entry::open_draft(&dir, &trip, &user, chrono::Utc::now())?;
+        entry::apply_form(&trip, &mut d, form)?;
+        d.updated_at = chrono::Utc::now();
+        draft::store(&ddir, &d)?;
+        Ok::<_, IntakeError>(())
+    })
+    .await??;
+    Ok(())
+}
+
+async fn confirm(state: &AppState, id: &str, user: &str) -> Result<Received, PageError> {
+    let (st, id, user) = (state.clone(), id.to_string(), user.to_string());
+    let doc = web::block(move || {
+        let trip = entry::trip(&st.db, &id)?;
+        entry::save(&st.db, &st.data_dir, &st.intake_options(), &trip, &user)
+    })
+    .await??;
+    super::station::received(state, doc).await
+}
+
+/// `POST /station/trips/{id}` (urlencoded entry form).
+pub async fn save(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    path: web::Path<String>,
+    form: Result<web::Form<Vec<(String, String)>>, actix_web::Error>,
+) -> HttpResponse {
+    let viewer = Viewer::of(&req);
+    let r = async {
+        let user = user_of(&viewer)?;
+        let pairs = form
+            .map_err(|e| PageError::bad_request(format!("The form could not be read: {e}")))?
+            .into_inner();
+        let (f, action) = entry_form(pairs);
+        let kept = keep(&state, &path, &user, f).await;
+        let shown = |errors, received| Shown {
+            errors,
+            notices: Vec::new(),
+            received,
+        };
+        if let Err(e) = kept {
+            let s = shown(vec![format!("Nothing was changed: {}", e.message)], None);
+            return show_page(&req, &state, &viewer, &path, s, e.status).await;
+        }
+        if action != "save" {
+            return Ok(see_other(&format!("/station/trips/{}", path.as_str())));
+        }
+        match confirm(&state, &path, &user).await {
+            Ok(r) => {
+                show_page(
+                    &req,
+                    &state,
+                    &viewer,
+                    &path,
+                    shown(Vec::new(), Some(r)),
+                    StatusCode::OK,
+                )
+                .await
+            }
+            Err(e) => {
+                show_page(
+                    &req,
+                    &state,
+                    &viewer,
+                    &path,
+                    shown(vec![e.message], None),
+                    e.status,
+                )
+                .await
+            }
+        }
+    }
+    .await;
+    respond(&req, &viewer, r)
+}
+
+/// `POST /station/trips/{id}/discard`.
+pub async fn discard(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    path: web::Path<String>,
+) -> HttpResponse {
+    let viewer = Viewer::of(&req);
+    let r = async {
+        let user = user_of(&viewer)?;
+        let (dir, id) = (state.data_dir.clone(), path.to_string());
+        web::block(move || {
+            let _g = draft::draft_lock();
+            draft::discard(&draft::draft_dir(&dir, &user, &id))
+        })
+        .await??;
+        Ok::<_, PageError>(see_other("/station"))
+    }
+    .await;
+    respond(&req, &viewer, r)
+}
+
+/// `GET /station/trips/{id}/thumbs/{sha256}`.
+pub async fn thumb(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    path: web::Path<(String, String)>,
+) -> HttpResponse {
+    let viewer = Viewer::of(&req);
+    let (id, sha) = path.into_inner();
+    let r = async {
+        let user = user_of(&viewer)?;
+        if sha.len() != 64
+            || !sha
+                .bytes()
+                .all(|b| b.is_ascii_hexdigit() && !b.is_ascii_uppercase())
+        {
+            return Err(PageError::bad_request(
+                "a photo is named by its SHA-256 (64 lowercase hex digits)",
+            ));
+        }
+        let dir = draft::draft_dir(&state.data_dir, &user, &id);
+        let bytes = web::block(move || std::fs::read(draft::thumb_file(&dir, &sha))).await?;
+        match bytes {
+            Ok(b) => Ok(HttpResponse::Ok().content_type("image/jpeg").body(b)),
+            Err(_) => Err(PageError::from(crate::Error::NotFound(
+                "no such photo in this entry".into(),
+            ))),
+        }
+    }
+    .await;
+    respond(&req, &viewer, r)
+}
