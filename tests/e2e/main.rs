@@ -10,6 +10,7 @@ mod pages;
 mod pairing;
 mod photo_times;
 mod robust_http;
+mod station_entry;
 mod stats_api;
 mod stats_cache;
 mod tls;

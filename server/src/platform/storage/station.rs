@@ -83,3 +83,20 @@ impl Reader<'_> {
         Ok(v.into_iter().map(|(t, n)| (t, n.max(0) as u64)).collect())
     }
 }
+
+impl Reader<'_> {
+    /// Rows of returns, reports, report photos and station entries (for
+    /// checks that an entry stored nothing, or stored once).
+    pub fn intake_counts(&self) -> Result<[i64; 4]> {
+        let mut out = [0; 4];
+        for (i, table) in ["returns", "reports", "report_photos", "station_entries"]
+            .iter()
+            .enumerate()
+        {
+            out[i] = self
+                .conn
+                .query_row(&format!("SELECT COUNT(*) FROM {table}"), [], |r| r.get(0))?;
+        }
+        Ok(out)
+    }
+}

@@ -99,6 +99,9 @@ pub struct ReportView {
     pub supersedes: String,
     pub counted: bool,
     pub photos: Vec<PhotoView>,
+    /// How the report came in: a field tool's signed return, or entered at
+    /// the station (by whom, from which sheet).
+    pub provenance: String,
 }
 
 /// The words of one photo's evidence check.
@@ -178,6 +181,15 @@ pub fn report_view(r: &Reader<'_>, row: &ReportRow, counted: bool) -> crate::Res
         supersedes: row.supersedes.clone().unwrap_or_default(),
         counted,
         photos,
+        provenance: match r.station_entry(&row.report_id)? {
+            Some(e) => format!(
+                "entered at the station by {} from paper sheet {}, {}",
+                e.entered_by,
+                e.sheet,
+                short_time(&e.entered_at)
+            ),
+            None => "field tool (signed return)".to_string(),
+        },
     })
 }
 

@@ -1,0 +1,358 @@
+//! Entry at the station from the paper sheet and the camera (issue 13):
+//! photos with EXIF positions near two different stops and one without
+//! EXIF, the server's proposal, a photo moved by hand, a reload mid-entry,
+//! saving (twice: stored once), the provenance on the event page, and bad
+//! input that stores nothing.
+
+use crate::intake::{issue_bundle, open_workspace, rfc};
+use groundproof::platform::storage::Db;
+use groundproof_e2e::{Reply, TestServer, get, load_scenario, post_bytes};
+use groundproof_sync::bundle::Checklist;
+use groundproof_sync::field::Snapshot;
+use mock_patrols::photos::{PhotoMetaIn, make_photo};
+use std::io::Cursor;
+
+const BOUNDARY: &str = "station-entry-boundary";
+
+fn multipart(files: &[(&str, &[u8])]) -> Vec<u8> {
+    let mut b = Vec::new();
+    for (file_name, bytes) in files {
+        b.extend_from_slice(
+            format!(
+                "--{BOUNDARY}\r\nContent-Disposition: form-data; name=\"photos\"; filename=\"{file_name}\"\r\nContent-Type: image/jpeg\r\n\r\n"
+            )
+            .as_bytes(),
+        );
+        b.extend_from_slice(bytes);
+        b.extend_from_slice(b"\r\n");
+    }
+    b.extend_from_slice(format!("--{BOUNDARY}--\r\n").as_bytes());
+    b
+}
+
+fn upload(s: &TestServer, trip: &str, files: &[(&str, &[u8])]) -> Reply {
+    post_bytes(
+        &s.url(&format!("/station/trips/{trip}/photos")),
+        &format!("multipart/form-data; boundary={BOUNDARY}"),
+        &multipart(files),
+    )
+}
+
+fn enc(v: &str) -> String {
+    v.bytes()
+        .map(|b| match b {
+            b'A'..=b'Z' | b'a'..=b'z' | b'0'..=b'9' | b'-' | b'_' | b'.' => (b as char).to_string(),
+            _ => format!("%{b:02X}"),
+        })
+        .collect()
+}
+
+fn form(s: &TestServer, trip: &str, fields: &[(String, String)]) -> Reply {
+    let body: Vec<String> = fields
+        .iter()
+        .map(|(k, v)| format!("{}={}", enc(k), enc(v)))
+        .collect();
+    post_bytes(
+        &s.url(&format!("/station/trips/{trip}")),
+        "application/x-www-form-urlencoded",
+        body.join("&").as_bytes(),
+    )
+}
+
+fn kv(k: &str, v: &str) -> (String, String) {
+    (k.to_string(), v.to_string())
+}
+
+/// A camera photo with EXIF time and GPS position (mock-patrols' generator).
+fn camera_photo(seed: u64, lat: f64, lon: f64, when: chrono::DateTime<chrono::Utc>) -> Vec<u8> {
+    make_photo(
+        seed,
+        320,
+        240,
+        &PhotoMetaIn {
+            taken_at_rfc3339: rfc(when),
+            lat,
+            lon,
+            direction_deg: 45.0,
+        },
+    )
+}
+
+/// A JPEG without any EXIF (a camera without GPS whose clock was never set
+/// and that writes no EXIF at all).
+fn plain_jpeg() -> Vec<u8> {
+    let img = image::RgbImage::from_fn(200, 150, |x, y| {
+        image::Rgb([(x % 200) as u8, 120, (y % 150) as u8])
+    });
+    let mut out = Cursor::new(Vec::new());
+    image::DynamicImage::ImageRgb8(img)
+        .write_to(&mut out, image::ImageFormat::Jpeg)
+        .expect("encode");
+    out.into_inner()
+}
+
+fn sha(b: &[u8]) -> String {
+    groundproof_sync::bundle::sha256_hex(b)
+}
+
+/// The text of the element matching `css` (all of it, joined).
+fn text_of(html: &str, css: &str) -> String {
+    let doc = scraper::Html::parse_document(html);
+    let sel = scraper::Selector::parse(css).unwrap();
+    doc.select(&sel)
+        .map(|e| e.text().collect::<String>())
+        .collect::<Vec<_>>()
+        .join(" ")
+}
+
+/// Photo SHA-256s shown in the fieldset of stop `code` (or `#unplaced`).
+fn photos_in(html: &str, css: &str) -> Vec<String> {
+    let doc = scraper::Html::parse_document(html);
+    let sel = scraper::Selector::parse(&format!("{css} figure.draft-photo")).unwrap();
+    let mut v: Vec<String> = doc
+        .select(&sel)
+        .filter_map(|e| e.value().attr("data-sha").map(str::to_string))
+        .collect();
+    v.sort();
+    v
+}
+
+fn count(db: &Db, table: &str) -> i64 {
+    let [returns, reports, photos, entries] = db.read(|r| r.intake_counts()).unwrap();
+    match table {
+        "returns" => returns,
+        "reports" => reports,
+        "report_photos" => photos,
+        _ => entries,
+    }
+}
+
+struct Setup {
+    s: TestServer,
+    trip: String,
+    snap: Snapshot,
+    _tmp: tempfile::TempDir,
+}
+
+fn setup() -> Setup {
+    let s = TestServer::start();
+    load_scenario(&s);
+    let (trip, bundle) = issue_bundle(&s.url(""), "Team Amber");
+    let tmp = tempfile::tempdir().unwrap();
+    let ws = open_workspace(tmp.path(), "ws", &bundle);
+    let snap = Snapshot::load(&ws).unwrap();
+    assert!(
+        snap.events.len() >= 2,
+        "the scenario issues at least two events"
+    );
+    Setup {
+        s,
+        trip,
+        snap,
+        _tmp: tmp,
+    }
+}
+
+#[test]
+fn a_paper_trip_with_camera_photos_is_proposed_moved_saved_once_and_shows_its_provenance() {
+    let Setup {
+        s,
+        trip,
+        snap,
+        _tmp,
+    } = setup();
+    let (e1, e2) = (&snap.events[0], &snap.events[1]);
+    let when = chrono::Utc::now() + chrono::Duration::minutes(1);
+    let min = |m| when + chrono::Duration::minutes(m);
+    let a1 = camera_photo(1, e1.lat, e1.lon, when);
+    let a2 = camera_photo(2, e1.lat, e1.lon, min(1));
+    let b1 = camera_photo(3, e2.lat, e2.lon, min(30));
+    let b2 = camera_photo(4, e2.lat, e2.lon, min(31));
+    let none = plain_jpeg();
+
+    let station = get(&s.url("/station"));
+    assert!(
+        station.body.contains(&format!("/station/trips/{trip}")),
+        "{}",
+        station.body
+    );
+
+    let r = upload(
+        &s,
+        &trip,
+        &[
+            ("A1.JPG", &a1),
+            ("A2.JPG", &a2),
+            ("B1.JPG", &b1),
+            ("B2.JPG", &b2),
+            ("N1.JPG", &none),
+        ],
+    );
+    assert_eq!(r.status, 200, "{}", r.body);
+    assert!(r.body.contains("5 photos added"), "{}", r.body);
+    // The proposal: by position to the two stops; the photo without EXIF is listed apart.
+    let mut at1 = vec![sha(&a1), sha(&a2)];
+    at1.sort();
+    let mut at2 = vec![sha(&b1), sha(&b2)];
+    at2.sort();
+    assert_eq!(photos_in(&r.body, &format!("#stop-{}", e1.code)), at1);
+    assert_eq!(photos_in(&r.body, &format!("#stop-{}", e2.code)), at2);
+    assert_eq!(photos_in(&r.body, "#unplaced"), vec![sha(&none)]);
+    assert!(text_of(&r.body, "#unplaced").contains("no position and no time"));
+
+    // Nothing is a fact yet.
+    let db = Db::open(&s.data_path()).unwrap();
+    assert_eq!(count(&db, "reports"), 0);
+
+    // The operator copies the sheet, moves the unplaced photo to the second stop, keeps.
+    let cl = Checklist::default_v1();
+    let fields = vec![
+        kv("sheet", &groundproof::domain::sheet::sheet_id(&trip)),
+        kv("local_offset", "+00:00"),
+        kv(&format!("outcome.{}", e1.code), "confirmed"),
+        kv(&format!("detail.{}", e1.code), &cl.causes[0]),
+        kv(&format!("notes.{}", e1.code), "observer: first of the team"),
+        kv(&format!("outcome.{}", e2.code), "false_alarm"),
+        kv(&format!("detail.{}", e2.code), &cl.false_alarm_reasons[0]),
+        kv(&format!("move.{}", sha(&none)), &e2.code),
+        kv("action", "keep"),
+    ];
+    // (The agent follows the 303 back to the entry page.)
+    let kept = form(&s, &trip, &fields);
+    assert_eq!(kept.status, 200, "{}", kept.body);
+    assert!(
+        text_of(&kept.body, "[role=alert]").is_empty(),
+        "{}",
+        kept.body
+    );
+
+    // A reload finds the entry as left.
+    let page = get(&s.url(&format!("/station/trips/{trip}")));
+    assert_eq!(page.status, 200);
+    let mut moved = at2.clone();
+    moved.push(sha(&none));
+    moved.sort();
+    assert_eq!(photos_in(&page.body, &format!("#stop-{}", e2.code)), moved);
+    assert!(photos_in(&page.body, "#unplaced").is_empty());
+    assert!(page.body.contains("observer: first of the team"));
+    assert_eq!(count(&db, "reports"), 0);
+
+    // Save: two reports, through intake.
+    let mut save = fields.clone();
+    save.pop();
+    save.push(kv("action", "save"));
+    let saved = form(&s, &trip, &save);
+    assert_eq!(saved.status, 200, "{}", saved.body);
+    let results = text_of(&saved.body, "table.station-results");
+    for word in [
+        e1.code.as_str(),
+        e2.code.as_str(),
+        "confirmed",
+        "false alarm",
+        "Team Amber",
+        "accepted",
+    ] {
+        assert!(results.contains(word), "{word} in {results}");
+    }
+    assert_eq!(count(&db, "reports"), 2);
+    assert_eq!(count(&db, "station_entries"), 2);
+    assert_eq!(count(&db, "report_photos"), 5);
+
+    // Saving twice stores once.
+    let again = form(&s, &trip, &save);
+    assert_eq!(again.status, 200, "{}", again.body);
+    assert_eq!(count(&db, "reports"), 2);
+    assert_eq!(count(&db, "returns"), 1);
+
+    // The event page says how the report came in.
+    let ev = get(&s.url(&format!("/events/{}", e1.event_id)));
+    let came = text_of(&ev.body, ".provenance");
+    assert!(came.contains("entered at the station"), "{came}");
+    assert!(
+        came.contains(&groundproof::domain::sheet::sheet_id(&trip)),
+        "{came}"
+    );
+}
+
+#[test]
+fn bad_input_at_the_station_gets_a_clear_message_and_stores_nothing() {
+    let Setup {
+        s,
+        trip,
+        snap,
+        _tmp,
+    } = setup();
+    let e1 = &snap.events[0];
+    let db = Db::open(&s.data_path()).unwrap();
+
+    // A trip that does not exist.
+    let r = get(&s.url("/station/trips/00000000-0000-4000-8000-000000000000"));
+    assert_eq!(r.status, 404, "{}", r.body);
+    assert!(r.body.contains("there is no trip"), "{}", r.body);
+
+    // A file that is not a JPEG.
+    let r = upload(&s, &trip, &[("map.png", b"\x89PNG\r\n\x1a\n not a photo")]);
+    assert_eq!(r.status, 400, "{}", r.body);
+    assert!(
+        text_of(&r.body, "[role=alert]").contains("photo \"map.png\" was not taken"),
+        "{}",
+        r.body
+    );
+    assert!(r.body.contains("0 photos added"));
+
+    // An outcome missing its reason.
+    let sheet = groundproof::domain::sheet::sheet_id(&trip);
+    let bad = [
+        kv("sheet", &sheet),
+        kv("local_offset", "+00:00"),
+        kv(&format!("outcome.{}", e1.code), "not_reached"),
+        kv(
+            &format!("time.{}", e1.code),
+            &chrono::Utc::now().format("%Y-%m-%dT%H:%M").to_string(),
+        ),
+        kv("action", "save"),
+    ];
+    let r = form(&s, &trip, &bad);
+    assert_eq!(r.status, 400, "{}", r.body);
+    let alert = text_of(&r.body, "[role=alert]");
+    assert!(
+        alert.contains(&format!(
+            "stop {}: outcome not_reached needs a reason",
+            e1.code
+        )),
+        "{alert}"
+    );
+
+    // The wrong sheet for the trip.
+    let mut wrong = bad.to_vec();
+    wrong[0] = kv("sheet", "FS-00000000");
+    wrong[3] = kv(&format!("detail.{}", e1.code), "terrain");
+    let r = form(&s, &trip, &wrong);
+    assert_eq!(r.status, 400, "{}", r.body);
+    assert!(
+        text_of(&r.body, "[role=alert]").contains("is not this trip's"),
+        "{}",
+        r.body
+    );
+
+    // A stop that is not in the trip.
+    let r = form(
+        &s,
+        &trip,
+        &[
+            kv("sheet", &sheet),
+            kv("local_offset", "+00:00"),
+            kv("outcome.Z999", "confirmed"),
+        ],
+    );
+    assert_eq!(r.status, 400, "{}", r.body);
+    assert!(
+        text_of(&r.body, "[role=alert]").contains("stop \"Z999\" is not in this trip"),
+        "{}",
+        r.body
+    );
+
+    assert_eq!(count(&db, "reports"), 0);
+    assert_eq!(count(&db, "returns"), 0);
+    assert_eq!(count(&db, "station_entries"), 0);
+}
