@@ -121,3 +121,74 @@ fn who_may_do_what() {
         401
     );
 }
+
+/// Status of a request with a bearer token (or none), redirects not followed.
+fn status_as(method: &str, url: &str, token: Option<&str>, body: &[u8]) -> u16 {
+    let agent: ureq::Agent = ureq::Agent::config_builder()
+        .http_status_as_error(false)
+        .max_redirects(0)
+        .build()
+        .into();
+    let auth = token.map(|t| format!("Bearer {t}"));
+    let r = if method == "GET" {
+        let mut b = agent.get(url);
+        if let Some(a) = &auth {
+            b = b.header("Authorization", a);
+        }
+        b.call()
+    } else {
+        let mut b = agent
+            .post(url)
+            .header("Content-Type", "application/x-www-form-urlencoded");
+        if let Some(a) = &auth {
+            b = b.header("Authorization", a);
+        }
+        b.send(body)
+    };
+    r.expect("request reaches the server").status().as_u16()
+}
+
+/// The station entry's routes (issue 13): coordinators and admins only
+/// (`EnterFromPaper`); managers and teams are refused, nobody anonymous
+/// gets in.
+#[test]
+fn station_entry_routes_follow_the_matrix() {
+    let s = TestServer::start();
+    load_scenario(&s);
+    let station = mock_patrols::scenario().station;
+    let trip = json!({"team": "Team Amber", "zone": "Core", "max": 2, "start": {"lat": station.1, "lon": station.0}});
+    let made = post_json(&s.url("/api/v1/bundles"), &trip);
+    assert_eq!(made.status, 201, "{}", made.body);
+    let id = made.json()["bundle"]["bundle"]["id"]
+        .as_str()
+        .unwrap()
+        .to_string();
+    let coordinator = token(&s, Role::Coordinator);
+    let manager = token(&s, Role::Manager);
+    let team = issue_team_token(&s.db, "Team Amber", now_unix()).unwrap().1;
+    let sha = "ab".repeat(32);
+    let routes = [
+        ("GET", format!("/station/trips/{id}")),
+        ("POST", format!("/station/trips/{id}")),
+        ("POST", format!("/station/trips/{id}/photos")),
+        ("POST", format!("/station/trips/{id}/discard")),
+        ("GET", format!("/station/trips/{id}/thumbs/{sha}")),
+    ];
+    for (method, path) in &routes {
+        let url = s.url(path);
+        let anon = status_as(method, &url, None, b"");
+        assert!(anon == 401 || anon == 303, "{method} {path} anonymous: {anon}");
+        assert_eq!(status_as(method, &url, Some(&manager), b""), 403, "{method} {path} manager");
+        assert_eq!(status_as(method, &url, Some(&team), b""), 403, "{method} {path} team");
+    }
+    // The coordinator reaches each handler: the page, a form kept (303),
+    // an empty multipart refused by the handler (400, not 403), the
+    // discard (303), and a thumbnail not in the entry (404).
+    let url = |p: &str| s.url(&format!("/station/trips/{id}{p}"));
+    let c = Some(coordinator.as_str());
+    assert_eq!(status_as("GET", &url(""), c, b""), 200);
+    assert_eq!(status_as("POST", &url(""), c, b"sheet=x&local_offset=%2B00:00&action=keep"), 303);
+    assert_eq!(status_as("POST", &url("/photos"), c, b""), 400);
+    assert_eq!(status_as("GET", &url(&format!("/thumbs/{sha}")), c, b""), 404);
+    assert_eq!(status_as("POST", &url("/discard"), c, b""), 303);
+}
