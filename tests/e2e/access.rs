@@ -177,9 +177,20 @@ fn station_entry_routes_follow_the_matrix() {
     for (method, path) in &routes {
         let url = s.url(path);
         let anon = status_as(method, &url, None, b"");
-        assert!(anon == 401 || anon == 303, "{method} {path} anonymous: {anon}");
-        assert_eq!(status_as(method, &url, Some(&manager), b""), 403, "{method} {path} manager");
-        assert_eq!(status_as(method, &url, Some(&team), b""), 403, "{method} {path} team");
+        assert!(
+            anon == 401 || anon == 303,
+            "{method} {path} anonymous: {anon}"
+        );
+        assert_eq!(
+            status_as(method, &url, Some(&manager), b""),
+            403,
+            "{method} {path} manager"
+        );
+        assert_eq!(
+            status_as(method, &url, Some(&team), b""),
+            403,
+            "{method} {path} team"
+        );
     }
     // The coordinator reaches each handler: the page, a form kept (303),
     // an empty multipart refused by the handler (400, not 403), the
@@ -187,8 +198,19 @@ fn station_entry_routes_follow_the_matrix() {
     let url = |p: &str| s.url(&format!("/station/trips/{id}{p}"));
     let c = Some(coordinator.as_str());
     assert_eq!(status_as("GET", &url(""), c, b""), 200);
-    assert_eq!(status_as("POST", &url(""), c, b"sheet=x&local_offset=%2B00:00&action=keep"), 303);
+    assert_eq!(
+        status_as(
+            "POST",
+            &url(""),
+            c,
+            b"sheet=x&local_offset=%2B00:00&action=keep"
+        ),
+        303
+    );
     assert_eq!(status_as("POST", &url("/photos"), c, b""), 400);
-    assert_eq!(status_as("GET", &url(&format!("/thumbs/{sha}")), c, b""), 404);
+    assert_eq!(
+        status_as("GET", &url(&format!("/thumbs/{sha}")), c, b""),
+        404
+    );
     assert_eq!(status_as("POST", &url("/discard"), c, b""), 303);
 }

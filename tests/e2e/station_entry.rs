@@ -211,7 +211,11 @@ fn a_paper_trip_with_camera_photos_is_proposed_moved_saved_once_and_shows_its_pr
         kv("local_offset", "+00:00"),
         kv(&format!("outcome.{}", e1.code), "confirmed"),
         kv(&format!("detail.{}", e1.code), &cl.causes[0]),
-        kv(&format!("notes.{}", e1.code), "observer: first of the team"),
+        kv(
+            &format!("notes.{}", e1.code),
+            "photos 12 to 13; stumps still fresh",
+        ),
+        kv(&format!("observer.{}", e1.code), "first of the team"),
         kv(&format!("outcome.{}", e2.code), "false_alarm"),
         kv(&format!("detail.{}", e2.code), &cl.false_alarm_reasons[0]),
         kv(&format!("move.{}", sha(&none)), &e2.code),
@@ -234,7 +238,7 @@ fn a_paper_trip_with_camera_photos_is_proposed_moved_saved_once_and_shows_its_pr
     moved.sort();
     assert_eq!(photos_in(&page.body, &format!("#stop-{}", e2.code)), moved);
     assert!(photos_in(&page.body, "#unplaced").is_empty());
-    assert!(page.body.contains("observer: first of the team"));
+    assert!(page.body.contains("photos 12 to 13; stumps still fresh"));
     assert_eq!(count(&db, "reports"), 0);
 
     // Save: two reports, through intake.
@@ -266,6 +270,11 @@ fn a_paper_trip_with_camera_photos_is_proposed_moved_saved_once_and_shows_its_pr
 
     // The event page says how the report came in.
     let ev = get(&s.url(&format!("/events/{}", e1.event_id)));
+    assert!(
+        ev.body
+            .contains("Observer: first of the team. photos 12 to 13; stumps still fresh"),
+        "the notes carry the observer"
+    );
     let came = text_of(&ev.body, ".provenance");
     assert!(came.contains("entered at the station"), "{came}");
     assert!(

@@ -63,6 +63,7 @@ pub struct DraftPhoto {
 
 /// What the operator copied from the paper sheet for one stop.
 #[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(default)]
 pub struct StopEntry {
     /// Fixed when the stop is first filled in, so that saving twice sends
     /// the same report.
@@ -71,6 +72,8 @@ pub struct StopEntry {
     /// The reason (false alarm, not reached) or the cause (confirmed).
     pub detail: String,
     pub notes: String,
+    /// Who observed, as written on the sheet (goes into the notes).
+    pub observer: String,
     /// The time written on the sheet (`YYYY-MM-DDTHH:MM`, the trip's local time).
     pub time: String,
     /// The position written on the sheet (`lat, lon` in decimal degrees).

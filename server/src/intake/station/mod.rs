@@ -309,7 +309,12 @@ fn stop_report(
                     .map_err(|_| format!("area {a:?} must be a number of hectares, e.g. 1.5"))?,
             ),
         },
-        notes: e.notes.clone(),
+        notes: match e.observer.trim() {
+            "" => e.notes.trim().to_string(),
+            who => format!("Observer: {who}. {}", e.notes.trim())
+                .trim()
+                .to_string(),
+        },
         photos: report_photos,
     })
 }
@@ -504,11 +509,16 @@ pub fn apply_form(trip: &Trip, d: &mut Draft, form: EntryForm) -> Result<(), Int
                 "stop {code:?} is not in this trip"
             )));
         }
-        for (what, v) in [
+        let fields = [
             ("notes", &e.notes),
-            ("a field", &e.time),
-            ("a field", &e.position),
-        ] {
+            ("observer", &e.observer),
+            ("time", &e.time),
+            ("position", &e.position),
+            ("area", &e.area_ha),
+            ("outcome", &e.outcome),
+            ("reason or cause", &e.detail),
+        ];
+        for (what, v) in fields {
             if let Some(err) = long(&format!("stop {code}: {what}"), v) {
                 return Err(err);
             }

@@ -111,6 +111,8 @@ struct ChecklistView {
 #[template(path = "field-sheet.html")]
 struct FieldSheetPage {
     bundle_id: String,
+    /// The identifier the station operator copies back (`domain::sheet`).
+    sheet_id: String,
     team: String,
     team_label: String,
     reserve: String,
@@ -150,6 +152,7 @@ pub fn render_field_sheet(input: &SheetInput) -> Result<String, SheetError> {
     let all_sources = input.palette.sources().to_vec();
     let page = FieldSheetPage {
         bundle_id: h.bundle_id.to_string(),
+        sheet_id: crate::domain::sheet::sheet_id(&h.bundle_id.to_string()),
         team: h.team.clone(),
         team_label: input.team_label.clone(),
         reserve: input.reserve.clone(),

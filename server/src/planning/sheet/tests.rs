@@ -464,3 +464,33 @@ fn preview_refuses_bad_sizes_and_skips_bad_pixels() {
     bad.centroid = Point::new(f64::NAN, 0.0);
     assert!(render_preview(&bad, &[], 64).is_err());
 }
+
+/// Issue 13: every stop card (events and control points) has room for what
+/// the station enters from paper (observed position, time, photo numbers,
+/// observer) and names the sheet the operator copies back.
+#[test]
+fn every_stop_card_has_room_for_the_station_entry() {
+    let inp = input();
+    let html = render_field_sheet(&inp).expect("renders");
+    let doc = Html::parse_document(&html);
+    let id = crate::domain::sheet::sheet_id(&inp.header.bundle_id.to_string());
+    assert_eq!(text(doc.root_element(), ".meta .sheet-id"), id);
+    let cards: Vec<ElementRef<'_>> = doc.select(&sel("article.card")).collect();
+    assert_eq!(cards.len(), inp.events.len() + inp.controls.len());
+    for card in cards {
+        let labels: Vec<String> = card
+            .select(&sel(".record-label"))
+            .map(|e| e.text().collect())
+            .collect();
+        for want in [
+            "Observed position (lat, lon)",
+            "Date and time (local)",
+            "Photo numbers",
+            "Observer",
+            "Sheet",
+        ] {
+            assert!(labels.iter().any(|l| l == want), "{want} in {labels:?}");
+        }
+        assert_eq!(text(card, ".record-sheet"), id);
+    }
+}

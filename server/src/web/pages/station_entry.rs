@@ -390,6 +390,7 @@ fn entry_form(pairs: Vec<(String, String)>) -> (EntryForm, String) {
                     "position" => e.position = v,
                     "area" => e.area_ha = v,
                     "notes" => e.notes = v,
+                    "observer" => e.observer = v,
                     _ => {}
                 }
             }
