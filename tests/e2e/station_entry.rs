@@ -281,6 +281,16 @@ fn a_paper_trip_with_camera_photos_is_proposed_moved_saved_once_and_shows_its_pr
         came.contains(&groundproof::domain::sheet::sheet_id(&trip)),
         "{came}"
     );
+
+    // The team figures count the reports entered at the station.
+    let dash = get(&s.url("/dashboard"));
+    assert_eq!(dash.status, 200);
+    assert_eq!(
+        text_of(&dash.body, "td.station-count"),
+        "2",
+        "{}",
+        dash.body
+    );
 }
 
 #[test]

@@ -173,7 +173,7 @@ struct DashboardPage {
     causes_chart: String,
     causes: Vec<[String; 3]>,
     times: Vec<[String; 4]>,
-    team_rows: Vec<[String; 7]>,
+    team_rows: Vec<[String; 8]>,
     assessment: Option<AssessmentView>,
     exports: Vec<(String, String)>,
 }
@@ -296,6 +296,8 @@ fn build(
                     t.evidence_ok_share.map_or_else(|| "–".into(), percent),
                     t.median_issue_to_visit_days
                         .map_or_else(|| "–".into(), |d| fixed(d, 1)),
+                    // Station entries (issue 13): of all dates, not the selection.
+                    lists.station.get(&t.team).copied().unwrap_or(0).to_string(),
                 ]
             })
             .collect(),
@@ -490,6 +492,8 @@ struct Lists {
     zones: Vec<String>,
     teams: Vec<String>,
     sources: Vec<String>,
+    /// Reports entered at the station from paper, per team (all dates).
+    station: std::collections::BTreeMap<String, u64>,
 }
 
 impl Lists {
@@ -530,6 +534,7 @@ async fn dashboard_page(
                 zones: r.zones()?.into_iter().map(|z| z.name).collect(),
                 teams: r.teams()?.into_iter().map(|t| t.name).collect(),
                 sources: r.sources()?.into_iter().map(|s| s.name).collect(),
+                station: r.station_entry_counts_by_team()?,
             })
         })?;
         Ok::<_, Error>((f, p, lists))
