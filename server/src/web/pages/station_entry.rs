@@ -280,8 +280,17 @@ async fn take_photos(
     mut mp: Multipart,
 ) -> Result<(Vec<String>, Vec<String>), PageError> {
     let (mut notices, mut errors) = (Vec::new(), Vec::new());
-    let mut taken = 0;
+    let (mut taken, mut fields) = (0, 0);
     while let Some(mut field) = next_field(&mut mp).await? {
+        fields += 1;
+        if fields > draft::MAX_DRAFT_PHOTOS + 8 {
+            errors.push(format!(
+                "the form has more than {} fields: send at most {} photos at once",
+                draft::MAX_DRAFT_PHOTOS + 8,
+                draft::MAX_DRAFT_PHOTOS
+            ));
+            break;
+        }
         if field_name(&field) != "photos" {
             read_bounded(&mut field, MAX_TEXT_FIELD_BYTES, "a form field is too long").await?;
             continue;
