@@ -375,3 +375,71 @@ fn bad_input_at_the_station_gets_a_clear_message_and_stores_nothing() {
     assert_eq!(count(&db, "returns"), 0);
     assert_eq!(count(&db, "station_entries"), 0);
 }
+
+/// Issue 14: the station's results after an upload name each report's
+/// event code, outcome and team, and its flags name the photo by its file
+/// name (not only ids and digests).
+#[test]
+fn the_station_upload_results_name_code_outcome_team_and_flags() {
+    let Setup {
+        s,
+        trip: _,
+        snap,
+        _tmp,
+    } = setup();
+    let tmp = tempfile::tempdir().unwrap();
+    let e = &snap.events[0];
+    let download = format!("/api/v1/bundles/{}/download", snap.bundle_id);
+    let bundle = groundproof_e2e::get_bytes(&s.url(&download)).1;
+    let ws = open_workspace(tmp.path(), "ws2", &bundle);
+    // A photo without EXIF: flagged photo_no_gps and photo_no_time.
+    let p = tmp.path().join("NO_EXIF.JPG");
+    std::fs::write(&p, plain_jpeg()).unwrap();
+    let args = [
+        "groundproof-field",
+        "--workspace",
+        ws.to_str().unwrap(),
+        "report",
+        &e.code,
+        "--outcome",
+        "false_alarm",
+        "--reason",
+        "no_change",
+        "--at",
+        &format!("{},{}", e.lat, e.lon),
+        "--photo",
+        p.to_str().unwrap(),
+    ];
+    groundproof_sync::field::run(args.to_vec()).expect("report recorded");
+    let zip = crate::intake::pack(&ws, &tmp.path().join("r.zip"), true);
+    let body = {
+        let mut b = Vec::new();
+        b.extend_from_slice(
+            format!(
+                "--{BOUNDARY}\r\nContent-Disposition: form-data; name=\"package\"; filename=\"r.zip\"\r\nContent-Type: application/zip\r\n\r\n"
+            )
+            .as_bytes(),
+        );
+        b.extend_from_slice(&zip);
+        b.extend_from_slice(format!("\r\n--{BOUNDARY}--\r\n").as_bytes());
+        b
+    };
+    let r = post_bytes(
+        &s.url("/station"),
+        &format!("multipart/form-data; boundary={BOUNDARY}"),
+        &body,
+    );
+    assert_eq!(r.status, 200, "{}", r.body);
+    assert_eq!(text_of(&r.body, "table.station-results td.code"), e.code);
+    assert_eq!(
+        text_of(&r.body, "table.station-results td.outcome"),
+        "false alarm (no change)"
+    );
+    assert_eq!(
+        text_of(&r.body, "table.station-results td.team"),
+        "Team Amber"
+    );
+    let flags = text_of(&r.body, "table.station-results .flag");
+    assert!(flags.contains("photo no gps (NO_EXIF.JPG)"), "{flags}");
+    assert!(!flags.contains(&sha(&plain_jpeg())[..12]), "{flags}");
+}
