@@ -112,6 +112,8 @@ pub fn cleanup(db: &Db, data_dir: &Path) -> Result<CleanupSummary, IntakeError> 
             remove(&f)?;
         }
     }
+    // Station entry drafts untouched past their lifetime.
+    super::station::draft::remove_expired(data_dir, chrono::Utc::now())?;
     Ok(out)
 }
 
