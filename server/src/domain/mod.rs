@@ -5,6 +5,7 @@
 mod confidence;
 mod day;
 pub mod geodesy;
+pub mod localtime;
 mod lonlat;
 mod name;
 mod role;
@@ -18,6 +19,7 @@ pub use day::Day;
 pub use groundproof_sync::vocab::{
     BundleMode, Cause, Outcome, Reason, Sha256Digest, TargetKind, Timestamp, UnknownWord,
 };
+pub use localtime::OrgZone;
 pub use lonlat::LonLat;
 pub use name::{SourceName, TeamName, ZoneName};
 pub use role::Role;

@@ -130,6 +130,8 @@ const MIGRATIONS: &[&str] = &[
     crate::platform::storage::returns::HARDENING_MIGRATION,
     // 8: pairing codes for the field app.
     crate::platform::storage::pairing::PAIRING_MIGRATION,
+    // 9: the administration log (append-only) and disabled teams.
+    crate::platform::storage::admin::ADMIN_MIGRATION,
 ];
 
 /// The schema version this binary writes.
