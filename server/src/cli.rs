@@ -4,7 +4,8 @@ use anyhow::{Context, Result, bail};
 use clap::{Args, Parser, Subcommand};
 use groundproof::alerts::events::{ImportRequest, import_alerts, import_zones, ranked_events};
 use groundproof::alerts::import::{Format, ReadOptions};
-use groundproof::domain::{ConfidenceMap, Day, SourceName, TeamName, ZoneName};
+use groundproof::domain::{ConfidenceMap, Day, SourceName, ZoneName};
+use groundproof::platform::admin::{self, Actor};
 use groundproof::platform::settings::Settings;
 use groundproof::platform::storage::{Db, EventFilter};
 use groundproof::{Error, demo, web};
@@ -369,10 +370,15 @@ fn sources(command: SourcesCommand) -> Result<()> {
             revisit_days,
             data,
         } => {
-            let name = SourceName::parse(&name).map_err(Error::Invalid)?;
-            groundproof::alerts::events::validate_source(pixel_size, revisit_days)?;
             let (db, _) = open(&data.data)?;
-            let s = db.write(|tx| tx.add_source(name.as_str(), pixel_size, revisit_days))?;
+            let s = groundproof::alerts::sources::add_source(
+                &db,
+                &Actor::CommandLine,
+                &name,
+                pixel_size,
+                revisit_days,
+                groundproof::platform::auth::now_unix(),
+            )?;
             println!(
                 "source '{}' registered: {} m pixels, {} day revisit",
                 s.name, s.pixel_size_m, s.revisit_days
@@ -428,9 +434,9 @@ fn events(command: EventsCommand) -> Result<()> {
 fn team(command: TeamCommand) -> Result<()> {
     match command {
         TeamCommand::Add { name, data } => {
-            let name = TeamName::parse(&name).map_err(Error::Invalid)?;
             let (db, _) = open(&data.data)?;
-            let t = db.write(|tx| tx.add_team(name.as_str()))?;
+            let now = groundproof::platform::auth::now_unix();
+            let t = admin::add_team(&db, &Actor::CommandLine, &name, now)?;
             println!("team '{}' added", t.name);
         }
         TeamCommand::List { data } => {
@@ -461,13 +467,8 @@ fn user(command: UserCommand) -> Result<()> {
                 }
             };
             let (db, _) = open(&data.data)?;
-            let u = groundproof::platform::auth::create_user(
-                &db,
-                &name,
-                role,
-                &password,
-                groundproof::platform::auth::now_unix(),
-            )?;
+            let now = groundproof::platform::auth::now_unix();
+            let u = admin::add_user(&db, &Actor::CommandLine, &name, role, &password, now)?;
             println!("user '{}' added with role {}", u.name, role);
         }
     }
@@ -490,10 +491,16 @@ fn token(command: TokenCommand) -> Result<()> {
                     groundproof::platform::auth::issue_api_token(&db, r.parse()?, &label, now)?.1
                 }
                 (None, Some(t)) => {
-                    if db.read(|r| r.team_by_name(&t))?.is_none() {
-                        bail!("unknown team '{t}': add it first (groundproof team add)");
-                    }
-                    groundproof::platform::auth::issue_team_token(&db, &t, now)?.1
+                    admin::create_team_token(&db, &Actor::CommandLine, &t, now)
+                        .map_err(|e| match e {
+                            Error::NotFound(_) => {
+                                anyhow::anyhow!(
+                                    "unknown team '{t}': add it first (groundproof team add)"
+                                )
+                            }
+                            other => other.into(),
+                        })?
+                        .1
                 }
                 _ => bail!("give --role R for an API token or --team T for a team token"),
             };

@@ -27,7 +27,14 @@ pub fn add_source(
     db.write(|tx| {
         let s = tx.add_source(name.as_str(), pixel_size_m, revisit_days)?;
         let detail = format!("{pixel_size_m} m pixels, {revisit_days} day revisit");
-        log(tx, actor, now, "source.add", &format!("source {}", s.name), &detail)?;
+        log(
+            tx,
+            actor,
+            now,
+            "source.add",
+            &format!("source {}", s.name),
+            &detail,
+        )?;
         Ok(s)
     })
 }
@@ -93,14 +100,19 @@ mod tests {
         let s = add_source(&db, &me, "optical-10m", 10.0, 5, 1).unwrap();
         assert!(add_source(&db, &me, "bad name!", 10.0, 5, 1).is_err());
         assert!(add_source(&db, &me, "radar", 0.0, 5, 1).is_err());
-        let e = edit_source(&db, &me, s.id, 10.0, 400, 2).unwrap_err().to_string();
+        let e = edit_source(&db, &me, s.id, 10.0, 400, 2)
+            .unwrap_err()
+            .to_string();
         assert!(e.contains("revisit interval 400 days"), "{e}");
         let got = edit_source(&db, &me, s.id, 20.0, 6, 2).unwrap();
         assert_eq!((got.pixel_size_m, got.revisit_days), (20.0, 6));
         let log = db.read(|r| r.admin_log(None, 10)).unwrap();
         assert_eq!(log.len(), 2);
         assert_eq!(log[0].detail, "pixel size 10 m → 20 m; revisit 5 → 6 days");
-        assert!(edit_source(&db, &me, s.id, 20.0, 6, 3).is_err(), "no change");
+        assert!(
+            edit_source(&db, &me, s.id, 20.0, 6, 3).is_err(),
+            "no change"
+        );
         assert!(edit_source(&db, &me, 99, 20.0, 6, 3).is_err());
     }
 }

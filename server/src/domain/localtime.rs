@@ -93,7 +93,10 @@ mod tests {
         assert_eq!(OrgZone::parse("UTC").unwrap(), OrgZone::UTC);
         assert_eq!(OrgZone::parse(" Etc/GMT+4 ").unwrap().name(), "Etc/GMT+4");
         let e = OrgZone::parse("Mars/Olympus").unwrap_err();
-        assert!(e.contains("'Mars/Olympus' is not in the IANA tz database"), "{e}");
+        assert!(
+            e.contains("'Mars/Olympus' is not in the IANA tz database"),
+            "{e}"
+        );
         assert!(OrgZone::parse("").is_err());
         assert!(OrgZone::parse(&"x".repeat(500)).is_err());
     }

@@ -192,14 +192,24 @@ fn record_issued(
     record_bundle(db, &new, &file.path)
 }
 
-/// The request's team, which must have been added.
+/// The request's team, which must have been added and not be disabled.
 fn team_of(db: &Db, req: &TripRequest) -> Result<Team> {
-    db.read(|r| r.team_by_name(&req.team))?.ok_or_else(|| {
+    let team = db.read(|r| r.team_by_name(&req.team))?.ok_or_else(|| {
         Error::NotFound(format!(
             "unknown team '{}': add it first (groundproof team add)",
             req.team
         ))
-    })
+    })?;
+    if db
+        .read(|r| r.team_state(team.id))?
+        .is_some_and(|t| t.disabled_at.is_some())
+    {
+        return Err(Error::Conflict(format!(
+            "team '{}' is disabled: an admin enables it again on the teams page",
+            req.team
+        )));
+    }
+    Ok(team)
 }
 
 /// The walking speed and the due and expiry days of a request, in range.

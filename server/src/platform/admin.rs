@@ -74,7 +74,14 @@ pub fn add_user(
     let phc = auth::hash_password(password)?;
     db.write_bookkeeping(|tx| {
         let u = tx.add_user(name, role, &phc, now)?;
-        log(tx, actor, now, "user.add", &format!("user {name}"), &format!("role {role}"))?;
+        log(
+            tx,
+            actor,
+            now,
+            "user.add",
+            &format!("user {name}"),
+            &format!("role {role}"),
+        )?;
         Ok(u)
     })
 }
@@ -110,14 +117,24 @@ pub fn set_role(db: &Db, actor: &Actor, user_id: i64, role: Role, now: i64) -> R
     db.write_bookkeeping(|tx| {
         let u = user(tx, user_id)?;
         if u.role == role {
-            return Err(Error::Conflict(format!("{} already has the role {role}", u.name)));
+            return Err(Error::Conflict(format!(
+                "{} already has the role {role}",
+                u.name
+            )));
         }
         if role != Role::Admin {
             keep_one_admin(tx, &u, "another role")?;
         }
         tx.set_user_role(user_id, role)?;
         let detail = format!("role {} → {role}", u.role);
-        log(tx, actor, now, "user.role", &format!("user {}", u.name), &detail)?;
+        log(
+            tx,
+            actor,
+            now,
+            "user.role",
+            &format!("user {}", u.name),
+            &detail,
+        )?;
         Ok(User { role, ..u })
     })
 }
@@ -135,7 +152,14 @@ pub fn reset_password(
         let u = user(tx, user_id)?;
         tx.set_user_password(user_id, &phc)?;
         let subject = format!("user {}", u.name);
-        log(tx, actor, now, "user.password", &subject, "password reset; sessions ended")?;
+        log(
+            tx,
+            actor,
+            now,
+            "user.password",
+            &subject,
+            "password reset; sessions ended",
+        )?;
         Ok(u)
     })
 }
@@ -173,7 +197,14 @@ pub fn add_team(db: &Db, actor: &Actor, name: &str, now: i64) -> Result<TeamStat
     let name = TeamName::parse(name).map_err(Error::Invalid)?;
     db.write(|tx| {
         let t = tx.add_team(name.as_str())?;
-        log(tx, actor, now, "team.add", &format!("team {}", t.name), "added")?;
+        log(
+            tx,
+            actor,
+            now,
+            "team.add",
+            &format!("team {}", t.name),
+            "added",
+        )?;
         Ok(TeamState {
             id: t.id,
             name: t.name,
@@ -198,7 +229,10 @@ pub fn set_team_disabled(
             .ok_or_else(|| Error::NotFound(format!("no team with id {team_id}")))?;
         if !tx.set_team_disabled(team_id, disabled.then_some(now))? {
             let state = if disabled { "disabled" } else { "active" };
-            return Err(Error::Conflict(format!("team {} is already {state}", t.name)));
+            return Err(Error::Conflict(format!(
+                "team {} is already {state}",
+                t.name
+            )));
         }
         let subject = format!("team {}", t.name);
         if disabled {
@@ -226,9 +260,10 @@ pub fn create_team_token(
     let token = auth::new_team_token()?;
     let hash = auth::sha256_hex(&token);
     let rec = db.write_bookkeeping(|tx| {
-        let t = tx.reader().team_state_by_name(team_name)?.ok_or_else(|| {
-            Error::NotFound(format!("unknown team '{team_name}': add it first"))
-        })?;
+        let t = tx
+            .reader()
+            .team_state_by_name(team_name)?
+            .ok_or_else(|| Error::NotFound(format!("unknown team '{team_name}': add it first")))?;
         if t.disabled_at.is_some() {
             return Err(Error::Conflict(format!(
                 "team {} is disabled: enable it before giving it a token",
@@ -237,7 +272,14 @@ pub fn create_team_token(
         }
         let rec = tx.insert_team_token(&hash, &t.name, now)?;
         let detail = format!("token {} created", rec.id);
-        log(tx, actor, now, "token.create", &format!("team {}", t.name), &detail)?;
+        log(
+            tx,
+            actor,
+            now,
+            "token.create",
+            &format!("team {}", t.name),
+            &detail,
+        )?;
         Ok(rec)
     })?;
     Ok((rec, token))
@@ -254,10 +296,19 @@ pub fn revoke_team_token(db: &Db, actor: &Actor, token_id: i64, now: i64) -> Res
             .ok_or_else(|| Error::NotFound(format!("no team token with id {token_id}")))?
             .team_name;
         if !tx.revoke_team_token(token_id, now)? {
-            return Err(Error::Conflict(format!("token {token_id} is already revoked")));
+            return Err(Error::Conflict(format!(
+                "token {token_id} is already revoked"
+            )));
         }
         let detail = format!("token {token_id} revoked");
-        log(tx, actor, now, "token.revoke", &format!("team {team}"), &detail)?;
+        log(
+            tx,
+            actor,
+            now,
+            "token.revoke",
+            &format!("team {team}"),
+            &detail,
+        )?;
         Ok(())
     })
 }
@@ -282,7 +333,14 @@ pub fn change_settings(
             ));
         }
         db.write_bookkeeping(|tx| {
-            log(tx, actor, now, "settings.change", "settings", &lines.join("; "))?;
+            log(
+                tx,
+                actor,
+                now,
+                "settings.change",
+                "settings",
+                &lines.join("; "),
+            )?;
             write()
         })
     })?;
@@ -335,7 +393,12 @@ mod tests {
         let admin = add_user(&db, &Actor::CommandLine, "root", Role::Admin, PW, 1).unwrap();
         assert_eq!(
             last(&db),
-            ("command line".into(), "user.add".into(), "user root".into(), "role admin".into())
+            (
+                "command line".into(),
+                "user.add".into(),
+                "user root".into(),
+                "role admin".into()
+            )
         );
         let ana = add_user(&db, &me, "ana", Role::Coordinator, PW, 2).unwrap();
         set_role(&db, &me, ana.id, Role::Manager, 3).unwrap();
@@ -348,7 +411,9 @@ mod tests {
         let n = db.read(|r| r.admin_log(None, 100)).unwrap().len();
         assert!(add_user(&db, &me, "bo", Role::Manager, "short", 6).is_err());
         assert!(set_user_disabled(&db, &me, ana.id, true, 6).is_err());
-        let e = set_user_disabled(&db, &me, admin.id, true, 6).unwrap_err().to_string();
+        let e = set_user_disabled(&db, &me, admin.id, true, 6)
+            .unwrap_err()
+            .to_string();
         assert!(e.contains("only enabled admin"), "{e}");
         assert!(set_role(&db, &me, admin.id, Role::Manager, 6).is_err());
         assert_eq!(db.read(|r| r.admin_log(None, 100)).unwrap().len(), n);
@@ -383,11 +448,18 @@ mod tests {
         let (dir, db) = db();
         let live = LiveSettings::new(Settings::default());
         let me = Actor::User("root".into());
-        change_settings(&db, &live, dir.path(), &me, |s| {
-            s.evidence.tolerance_m = 150.0;
-            s.organisation.time_zone = "Etc/GMT+4".into();
-            Ok(())
-        }, 1)
+        change_settings(
+            &db,
+            &live,
+            dir.path(),
+            &me,
+            |s| {
+                s.evidence.tolerance_m = 150.0;
+                s.organisation.time_zone = "Etc/GMT+4".into();
+                Ok(())
+            },
+            1,
+        )
         .unwrap();
         assert_eq!(
             last(&db).3,

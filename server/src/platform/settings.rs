@@ -11,10 +11,10 @@
 //! and only then lets the running server see the new values. A file the
 //! server cannot read is never overwritten.
 
+use crate::domain::OrgZone;
 pub use crate::domain::tuning::{
     ClusterSettings, DEFAULT_TOLERANCE_M, EvidenceSettings, PriorityWeights,
 };
-use crate::domain::OrgZone;
 use crate::error::{Error, Result};
 use serde::{Deserialize, Serialize};
 use std::path::{Path, PathBuf};
@@ -273,7 +273,10 @@ mod tests {
         let dir = tempfile::tempdir().unwrap();
         let file = dir.path().join("settings.toml");
         let d = Settings::default().organisation;
-        assert_eq!((d.time_zone.as_str(), d.default_language.as_str()), ("UTC", "en"));
+        assert_eq!(
+            (d.time_zone.as_str(), d.default_language.as_str()),
+            ("UTC", "en")
+        );
         std::fs::write(&file, "[organisation]\ntime_zone = \"Etc/GMT+4\"\n").unwrap();
         let s = Settings::load(dir.path()).unwrap();
         assert_eq!(s.zone().name(), "Etc/GMT+4");

@@ -33,10 +33,11 @@ pub enum Action {
     Export,
     ManageUsers,
     ManageTeams,
+    Administer,
 }
 
 impl Action {
-    pub const ALL: [Action; 13] = [
+    pub const ALL: [Action; 14] = [
         Action::ImportAlerts,
         Action::ImportZones,
         Action::ManageSources,
@@ -50,6 +51,7 @@ impl Action {
         Action::Export,
         Action::ManageUsers,
         Action::ManageTeams,
+        Action::Administer,
     ];
 
     /// What the action covers, for the rendered table.
@@ -68,6 +70,9 @@ impl Action {
             Action::Export => "export events and statistics",
             Action::ManageUsers => "create, disable and change users; API tokens",
             Action::ManageTeams => "create teams and issue or revoke team tokens",
+            Action::Administer => {
+                "the administration pages: users, teams, tokens, sources, settings, change log"
+            }
         }
     }
 }
@@ -118,7 +123,7 @@ const N: bool = false;
 
 /// The access matrix. Columns: admin, coordinator, manager, team, anonymous.
 #[rustfmt::skip]
-pub const MATRIX: [(Action, [bool; 5]); 13] = [
+pub const MATRIX: [(Action, [bool; 5]); 14] = [
     //                          admin coord  mgr  team  anon
     (Action::ImportAlerts,     [Y,    Y,     N,   N,    N]),
     (Action::ImportZones,      [Y,    Y,     N,   N,    N]),
@@ -133,6 +138,7 @@ pub const MATRIX: [(Action, [bool; 5]); 13] = [
     (Action::Export,           [Y,    Y,     Y,   N,    N]),
     (Action::ManageUsers,      [Y,    N,     N,   N,    N]),
     (Action::ManageTeams,      [Y,    Y,     N,   N,    N]),
+    (Action::Administer,       [Y,    N,     N,   N,    N]),
 ];
 
 /// Whether `principal` may perform `action` (false for anything the table
@@ -225,6 +231,16 @@ mod tests {
         let who: Vec<Principal> = Principal::ALL
             .into_iter()
             .filter(|p| allowed(*p, Action::ManageUsers))
+            .collect();
+        assert_eq!(who, vec![Principal::Admin]);
+    }
+
+    // The brief: the administration pages are for admins only.
+    #[test]
+    fn only_admin_administers() {
+        let who: Vec<Principal> = Principal::ALL
+            .into_iter()
+            .filter(|p| allowed(*p, Action::Administer))
             .collect();
         assert_eq!(who, vec![Principal::Admin]);
     }

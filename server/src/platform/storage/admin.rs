@@ -139,10 +139,7 @@ impl Reader<'_> {
              WHERE id < ?1 ORDER BY id DESC LIMIT ?2",
         )?;
         let v = st
-            .query_map(
-                params![before.unwrap_or(i64::MAX), limit as i64],
-                log_row,
-            )?
+            .query_map(params![before.unwrap_or(i64::MAX), limit as i64], log_row)?
             .collect::<rusqlite::Result<Vec<_>>>()?;
         Ok(v)
     }
@@ -225,14 +222,21 @@ mod tests {
     fn the_log_is_append_only_in_the_database_itself() {
         let (_d, db) = db();
         let id = db
-            .write_bookkeeping(|tx| tx.append_admin_log(10, "user ana", "user.add", "user bo", "role manager"))
+            .write_bookkeeping(|tx| {
+                tx.append_admin_log(10, "user ana", "user.add", "user bo", "role manager")
+            })
             .unwrap();
-        db.write_bookkeeping(|tx| tx.append_admin_log(20, "command line", "team.add", "team North", ""))
-            .unwrap();
+        db.write_bookkeeping(|tx| {
+            tx.append_admin_log(20, "command line", "team.add", "team North", "")
+        })
+        .unwrap();
         let rows = db.read(|r| r.admin_log(None, 10)).unwrap();
         assert_eq!(rows.len(), 2);
         assert_eq!(rows[0].action, "team.add", "newest first");
-        assert_eq!(db.read(|r| r.admin_log(Some(rows[0].id), 10)).unwrap()[0].id, id);
+        assert_eq!(
+            db.read(|r| r.admin_log(Some(rows[0].id), 10)).unwrap()[0].id,
+            id
+        );
         for sql in [
             "UPDATE admin_log SET actor = 'someone else'",
             "DELETE FROM admin_log",
@@ -258,7 +262,10 @@ mod tests {
         assert!(db.write(|tx| tx.set_team_disabled(t.id, Some(5))).unwrap());
         assert!(!db.write(|tx| tx.set_team_disabled(t.id, Some(6))).unwrap());
         assert_eq!(
-            db.read(|r| r.team_state(t.id)).unwrap().unwrap().disabled_at,
+            db.read(|r| r.team_state(t.id))
+                .unwrap()
+                .unwrap()
+                .disabled_at,
             Some(5)
         );
         assert!(db.write(|tx| tx.set_team_disabled(t.id, None)).unwrap());
@@ -270,7 +277,9 @@ mod tests {
     #[test]
     fn sources_change_their_numbers() {
         let (_d, db) = db();
-        let s = db.write(|tx| tx.add_source("optical-10m", 10.0, 5)).unwrap();
+        let s = db
+            .write(|tx| tx.add_source("optical-10m", 10.0, 5))
+            .unwrap();
         db.write(|tx| tx.update_source(s.id, 20.0, 7)).unwrap();
         let got = db.read(|r| r.source_by_id(s.id)).unwrap().unwrap();
         assert_eq!((got.pixel_size_m, got.revisit_days), (20.0, 7));
