@@ -26,6 +26,8 @@
 //! says SKIP on stderr and passes.
 
 mod webdriver;
+// The administration pages (issue 13).
+mod admin;
 
 use groundproof::demo::{DEMO_LOGINS, load, run_trips};
 use groundproof::platform::settings::Settings;
