@@ -29,7 +29,11 @@ fn an_admin_works_through_the_administration_pages_in_chromium() {
     assert!(b.current_url().contains("/login"), "{}", b.current_url());
     log_in(&b, "admin", password_of("admin"));
     assert!(b.current_url().ends_with("/admin"), "{}", b.current_url());
-    assert_has(&b, "admin", &["href=\"/admin\"", "href=\"/admin/users\"", "Change log"]);
+    assert_has(
+        &b,
+        "admin",
+        &["href=\"/admin\"", "href=\"/admin/users\"", "Change log"],
+    );
     assert_clean(&b, "admin");
 
     // Users: add one; the notice comes from the change log.
@@ -40,7 +44,8 @@ fn an_admin_works_through_the_administration_pages_in_chromium() {
     b.type_into("#u-pw2", "a long field lead password");
     b.click_to_navigate("#add-user button[type=submit]");
     assert!(
-        b.text("#admin-notice").contains("user field-lead: role coordinator"),
+        b.text("#admin-notice")
+            .contains("user field-lead: role coordinator"),
         "{}",
         b.text("main")
     );
@@ -53,19 +58,26 @@ fn an_admin_works_through_the_administration_pages_in_chromium() {
     b.type_into("#t-name", "Team Foxglove");
     b.click_to_navigate("#add-team button[type=submit]");
     assert!(b.text("#admin-notice").contains("team Team Foxglove"));
-    let row = s
-        .db
-        .read(|r| r.team_state_by_name("Team Foxglove"))
-        .unwrap()
-        .expect("team added");
-    b.click_to_navigate(&format!("form[action=\"/admin/teams/{}/tokens\"] button", row.id));
+    let row =
+        s.db.read(|r| r.team_state_by_name("Team Foxglove"))
+            .unwrap()
+            .expect("team added");
+    b.click_to_navigate(&format!(
+        "form[action=\"/admin/teams/{}/tokens\"] button",
+        row.id
+    ));
     let token = b.script("return document.querySelector('#token-value').value;");
     assert_eq!(token.as_str().map_or(0, str::len), 64, "{token}");
     assert_clean(&b, "teams with a new token");
     shots.take(&b, "admin-team-token");
     let id = s.db.read(|r| r.team_tokens()).unwrap().last().unwrap().id;
-    b.click_to_navigate(&format!("form[action=\"/admin/tokens/{id}/revoke\"] button"));
-    assert!(b.text("#admin-notice").contains(&format!("token {id} revoked")));
+    b.click_to_navigate(&format!(
+        "form[action=\"/admin/tokens/{id}/revoke\"] button"
+    ));
+    assert!(
+        b.text("#admin-notice")
+            .contains(&format!("token {id} revoked"))
+    );
     assert!(!b.source().contains(token.as_str().unwrap()), "shown once");
     assert_clean(&b, "teams");
 
@@ -75,7 +87,11 @@ fn an_admin_works_through_the_administration_pages_in_chromium() {
     b.type_into("#s-pixel", "0");
     b.type_into("#s-revisit", "8");
     b.click_to_navigate("#add-source button[type=submit]");
-    assert!(b.text("#admin-error").contains("pixel size 0 m"), "{}", b.text("main"));
+    assert!(
+        b.text("#admin-error").contains("pixel size 0 m"),
+        "{}",
+        b.text("main")
+    );
     assert_clean_with_status(&b, "sources refused", Some(400));
     b.type_into("#s-pixel", "30");
     b.click_to_navigate("#add-source button[type=submit]");
@@ -89,7 +105,8 @@ fn an_admin_works_through_the_administration_pages_in_chromium() {
     b.type_into("#o-tz", "Etc/GMT+4");
     b.click_to_navigate("#settings button[type=submit]");
     assert!(
-        b.text("#admin-notice").contains("evidence.tolerance_m 100.0 → 150.0"),
+        b.text("#admin-notice")
+            .contains("evidence.tolerance_m 100.0 → 150.0"),
         "{}",
         b.text("main")
     );
@@ -99,7 +116,16 @@ fn an_admin_works_through_the_administration_pages_in_chromium() {
     // The change log: every change above, with who, in local time.
     b.click_to_navigate(".admin-nav a[href=\"/admin/log\"]");
     let log = b.text("#change-log");
-    for n in ["user admin", "user.add", "team.add", "token.create", "token.revoke", "source.add", "settings.change", "(UTC-04:00)"] {
+    for n in [
+        "user admin",
+        "user.add",
+        "team.add",
+        "token.create",
+        "token.revoke",
+        "source.add",
+        "settings.change",
+        "(UTC-04:00)",
+    ] {
         assert!(log.contains(n), "the log lacks {n:?}: {log}");
     }
     assert_clean(&b, "change log");

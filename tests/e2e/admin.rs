@@ -130,7 +130,11 @@ impl<'a> Browser<'a> {
         let (r, _) = self.post(path, fields);
         assert_eq!(r.status, status, "{path}: {}", r.body);
         assert!(r.body.contains("Nothing was changed"), "{}", r.body);
-        assert!(r.body.contains(why), "{path}: expected {why:?} in {}", r.body);
+        assert!(
+            r.body.contains(why),
+            "{path}: expected {why:?} in {}",
+            r.body
+        );
     }
 }
 
@@ -162,10 +166,26 @@ fn users_are_added_changed_reset_and_disabled_on_the_page() {
     // Bad input: a clear message, nothing added, nothing logged.
     let before = log_len(&s);
     for (fields, status, why) in [
-        (add("lead", "coordinator", pw, "other"), 400, "the two passwords differ"),
-        (add("lead", "coordinator", "short", "short"), 400, "the password is too short"),
-        (add("lead", "chief", pw, pw), 400, "unknown role &#39;chief&#39;"),
-        (add("no spaces", "manager", pw, pw), 400, "user name &#39;no spaces&#39; is not allowed"),
+        (
+            add("lead", "coordinator", pw, "other"),
+            400,
+            "the two passwords differ",
+        ),
+        (
+            add("lead", "coordinator", "short", "short"),
+            400,
+            "the password is too short",
+        ),
+        (
+            add("lead", "chief", pw, pw),
+            400,
+            "unknown role &#39;chief&#39;",
+        ),
+        (
+            add("no spaces", "manager", pw, pw),
+            400,
+            "user name &#39;no spaces&#39; is not allowed",
+        ),
         (add("root-admin", "manager", pw, pw), 409, "already exists"),
     ] {
         let (r, _) = post(fields);
@@ -177,9 +197,18 @@ fn users_are_added_changed_reset_and_disabled_on_the_page() {
 
     // Added: they can log in.
     let (r, loc) = post(add("lead", "coordinator", pw, pw));
-    assert_eq!((r.status, loc.as_str()), (303, "/admin/users?done=1"), "{}", r.body);
+    assert_eq!(
+        (r.status, loc.as_str()),
+        (303, "/admin/users?done=1"),
+        "{}",
+        r.body
+    );
     let page = admin.get("/admin/users?done=1").0;
-    assert!(page.body.contains("Saved: user lead: role coordinator."), "{}", page.body);
+    assert!(
+        page.body.contains("Saved: user lead: role coordinator."),
+        "{}",
+        page.body
+    );
     let lead = Browser::login(&s, "lead", pw);
     assert_eq!(lead.get("/import").0.status, 200);
     // Not an admin: the administration refuses them.
@@ -187,7 +216,11 @@ fn users_are_added_changed_reset_and_disabled_on_the_page() {
 
     // A new role applies from the next request (managers do not import).
     let id = user_id(&s, "lead");
-    admin.saved(&format!("/admin/users/{id}/role"), &[("role", "manager")], "/admin/users?done=1");
+    admin.saved(
+        &format!("/admin/users/{id}/role"),
+        &[("role", "manager")],
+        "/admin/users?done=1",
+    );
     assert_eq!(lead.get("/import").0.status, 403);
 
     // A reset password ends the sessions; the new one works, the old does not.
@@ -204,30 +237,64 @@ fn users_are_added_changed_reset_and_disabled_on_the_page() {
         "/admin/users?done=1",
     );
     let (r, loc) = lead.get("/events");
-    assert_eq!((r.status, loc.starts_with("/login")), (303, true), "session ended");
+    assert_eq!(
+        (r.status, loc.starts_with("/login")),
+        (303, true),
+        "session ended"
+    );
     assert!(try_login(&s, "lead", pw).is_none());
     let lead = Browser::login(&s, "lead", pw2);
 
     // Disabled: the session ends at once and they cannot log in.
-    admin.saved(&format!("/admin/users/{id}/disable"), &[], "/admin/users?done=1");
+    admin.saved(
+        &format!("/admin/users/{id}/disable"),
+        &[],
+        "/admin/users?done=1",
+    );
     assert_eq!(s.db.read(|r| r.session_count(id)).unwrap(), 0);
     let (r, loc) = lead.get("/events");
-    assert_eq!((r.status, loc.starts_with("/login")), (303, true), "session ended");
-    assert!(try_login(&s, "lead", pw2).is_none(), "a disabled user cannot log in");
-    admin.refused(&format!("/admin/users/{id}/disable"), &[], 409, "already disabled");
-    admin.saved(&format!("/admin/users/{id}/enable"), &[], "/admin/users?done=1");
+    assert_eq!(
+        (r.status, loc.starts_with("/login")),
+        (303, true),
+        "session ended"
+    );
+    assert!(
+        try_login(&s, "lead", pw2).is_none(),
+        "a disabled user cannot log in"
+    );
+    admin.refused(
+        &format!("/admin/users/{id}/disable"),
+        &[],
+        409,
+        "already disabled",
+    );
+    admin.saved(
+        &format!("/admin/users/{id}/enable"),
+        &[],
+        "/admin/users?done=1",
+    );
     assert!(try_login(&s, "lead", pw2).is_some());
 
     // The only admin cannot disable themself or step down.
     let me = user_id(&s, "root-admin");
-    admin.refused(&format!("/admin/users/{me}/disable"), &[], 409, "the only enabled admin");
+    admin.refused(
+        &format!("/admin/users/{me}/disable"),
+        &[],
+        409,
+        "the only enabled admin",
+    );
     admin.refused(
         &format!("/admin/users/{me}/role"),
         &[("role", "manager")],
         409,
         "the only enabled admin",
     );
-    admin.refused("/admin/users/abc/disable", &[], 400, "user id &#39;abc&#39; is not a number");
+    admin.refused(
+        "/admin/users/abc/disable",
+        &[],
+        400,
+        "user id &#39;abc&#39; is not a number",
+    );
     admin.refused("/admin/users/999/disable", &[], 404, "no user with id 999");
 
     // Without the CSRF token the form is refused before anything runs.
@@ -241,9 +308,21 @@ fn a_team_token_is_shown_once_and_revoking_it_makes_it_401() {
     let s = TestServer::start();
     let admin = Browser::admin(&s, "root-admin");
     admin.refused("/admin/teams", &[("name", "   ")], 400, "team name");
-    admin.saved("/admin/teams", &[("name", "Team Delta")], "/admin/teams?done=1");
-    admin.refused("/admin/teams", &[("name", "Team Delta")], 409, "already exists");
-    let team = s.db.read(|r| r.team_state_by_name("Team Delta")).unwrap().unwrap();
+    admin.saved(
+        "/admin/teams",
+        &[("name", "Team Delta")],
+        "/admin/teams?done=1",
+    );
+    admin.refused(
+        "/admin/teams",
+        &[("name", "Team Delta")],
+        409,
+        "already exists",
+    );
+    let team =
+        s.db.read(|r| r.team_state_by_name("Team Delta"))
+            .unwrap()
+            .unwrap();
 
     // Made: on the answer to the POST only, never on the page again.
     let (r, _) = admin.post(&format!("/admin/teams/{}/tokens", team.id), &[]);
@@ -258,7 +337,10 @@ fn a_team_token_is_shown_once_and_revoking_it_makes_it_401() {
         .to_string();
     assert_eq!(token.len(), 64);
     assert!(r.body.contains("shown only this once"));
-    assert!(!admin.get("/admin/teams").0.body.contains(&token), "shown once");
+    assert!(
+        !admin.get("/admin/teams").0.body.contains(&token),
+        "shown once"
+    );
     assert!(
         !std::fs::read(s.data_dir().join("groundproof.sqlite3"))
             .unwrap()
@@ -270,16 +352,29 @@ fn a_team_token_is_shown_once_and_revoking_it_makes_it_401() {
 
     // Revoked: the token is refused (401).
     let id = s.db.read(|r| r.team_tokens()).unwrap()[0].id;
-    admin.saved(&format!("/admin/tokens/{id}/revoke"), &[], "/admin/teams?done=1");
+    admin.saved(
+        &format!("/admin/tokens/{id}/revoke"),
+        &[],
+        "/admin/teams?done=1",
+    );
     assert_eq!(get_as(&s.url("/api/v1/bundles"), Some(&token)).status, 401);
-    admin.refused(&format!("/admin/tokens/{id}/revoke"), &[], 409, "already revoked");
+    admin.refused(
+        &format!("/admin/tokens/{id}/revoke"),
+        &[],
+        409,
+        "already revoked",
+    );
 
     // A disabled team loses its tokens and gets no new one.
     let (r, _) = admin.post(&format!("/admin/teams/{}/tokens", team.id), &[]);
     assert_eq!(r.status, 200);
     let second = s.db.read(|r| r.team_tokens()).unwrap();
     assert_eq!(second.iter().filter(|t| t.revoked_at.is_none()).count(), 1);
-    admin.saved(&format!("/admin/teams/{}/disable", team.id), &[], "/admin/teams?done=1");
+    admin.saved(
+        &format!("/admin/teams/{}/disable", team.id),
+        &[],
+        "/admin/teams?done=1",
+    );
     assert!(
         s.db.read(|r| r.team_tokens())
             .unwrap()
@@ -292,7 +387,11 @@ fn a_team_token_is_shown_once_and_revoking_it_makes_it_401() {
         409,
         "is disabled",
     );
-    admin.saved(&format!("/admin/teams/{}/enable", team.id), &[], "/admin/teams?done=1");
+    admin.saved(
+        &format!("/admin/teams/{}/enable", team.id),
+        &[],
+        "/admin/teams?done=1",
+    );
 }
 
 #[test]
@@ -302,19 +401,31 @@ fn sources_are_registered_and_edited_and_bad_numbers_change_nothing() {
     let before = log_len(&s);
     admin.refused(
         "/admin/sources",
-        &[("name", "optical-10m"), ("pixel_size_m", "0"), ("revisit_days", "5")],
+        &[
+            ("name", "optical-10m"),
+            ("pixel_size_m", "0"),
+            ("revisit_days", "5"),
+        ],
         400,
         "pixel size 0 m",
     );
     admin.refused(
         "/admin/sources",
-        &[("name", "optical-10m"), ("pixel_size_m", "ten"), ("revisit_days", "5")],
+        &[
+            ("name", "optical-10m"),
+            ("pixel_size_m", "ten"),
+            ("revisit_days", "5"),
+        ],
         400,
         "Pixel size (m): &#39;ten&#39; is not a valid number",
     );
     admin.refused(
         "/admin/sources",
-        &[("name", "bad name!"), ("pixel_size_m", "10"), ("revisit_days", "5")],
+        &[
+            ("name", "bad name!"),
+            ("pixel_size_m", "10"),
+            ("revisit_days", "5"),
+        ],
         400,
         "bad name!",
     );
@@ -322,13 +433,26 @@ fn sources_are_registered_and_edited_and_bad_numbers_change_nothing() {
     assert_eq!(log_len(&s), before);
     admin.saved(
         "/admin/sources",
-        &[("name", "optical-10m"), ("pixel_size_m", "10"), ("revisit_days", "5")],
+        &[
+            ("name", "optical-10m"),
+            ("pixel_size_m", "10"),
+            ("revisit_days", "5"),
+        ],
         "/admin/sources?done=1",
     );
     let id = s.db.read(|r| r.sources()).unwrap()[0].id;
     let edit = format!("/admin/sources/{id}");
-    admin.refused(&edit, &[("pixel_size_m", "10"), ("revisit_days", "0")], 400, "revisit interval 0 days");
-    admin.saved(&edit, &[("pixel_size_m", "20"), ("revisit_days", "6")], "/admin/sources?done=1");
+    admin.refused(
+        &edit,
+        &[("pixel_size_m", "10"), ("revisit_days", "0")],
+        400,
+        "revisit interval 0 days",
+    );
+    admin.saved(
+        &edit,
+        &[("pixel_size_m", "20"), ("revisit_days", "6")],
+        "/admin/sources?done=1",
+    );
     let src = s.db.read(|r| r.source_by_id(id)).unwrap().unwrap();
     assert_eq!((src.pixel_size_m, src.revisit_days), (20.0, 6));
 
@@ -340,8 +464,17 @@ fn sources_are_registered_and_edited_and_bad_numbers_change_nothing() {
         csv.as_bytes(),
     );
     assert!(r.status < 300, "{}", r.body);
-    admin.refused(&edit, &[("pixel_size_m", "30"), ("revisit_days", "6")], 409, "cannot change once alerts are imported");
-    admin.saved(&edit, &[("pixel_size_m", "20"), ("revisit_days", "8")], "/admin/sources?done=1");
+    admin.refused(
+        &edit,
+        &[("pixel_size_m", "30"), ("revisit_days", "6")],
+        409,
+        "cannot change once alerts are imported",
+    );
+    admin.saved(
+        &edit,
+        &[("pixel_size_m", "20"), ("revisit_days", "8")],
+        "/admin/sources?done=1",
+    );
 }
 
 #[test]
@@ -370,24 +503,45 @@ fn settings_change_at_once_and_a_bad_value_changes_nothing() {
     };
     let file = s.data_dir().join("settings.toml");
     let (r, loc) = post(form("250", "0.3", "Etc/GMT+4"));
-    assert_eq!((r.status, loc.as_str()), (303, "/admin/settings?done=1"), "{}", r.body);
+    assert_eq!(
+        (r.status, loc.as_str()),
+        (303, "/admin/settings?done=1"),
+        "{}",
+        r.body
+    );
     let text = std::fs::read_to_string(&file).unwrap();
     assert!(text.contains("tolerance_m = 250.0"), "{text}");
     assert!(text.contains("time_zone = \"Etc/GMT+4\""), "{text}");
     assert!(text.contains("default_language = \"pt\""), "{text}");
     // The running server uses them at once: times on pages are local now.
     let page = admin.get("/admin/settings?done=1").0;
-    assert!(page.body.contains("evidence.tolerance_m 100.0 → 250.0"), "{}", page.body);
+    assert!(
+        page.body.contains("evidence.tolerance_m 100.0 → 250.0"),
+        "{}",
+        page.body
+    );
     assert!(page.body.contains("(UTC-04:00)"), "local time on the page");
 
     // Out of bounds, not a number, no such zone: refused, file and values unchanged.
     let bytes = std::fs::read(&file).unwrap();
     let n = log_len(&s);
     for (f, why) in [
-        (form("250", "2", "Etc/GMT+4"), "priority.area must be in [0, 1]"),
-        (form("-1", "0.3", "Etc/GMT+4"), "evidence.tolerance_m must be in (0, 100000] metres"),
-        (form("lots", "0.3", "Etc/GMT+4"), "Evidence tolerance (m): &#39;lots&#39; is not a number"),
-        (form("250", "0.3", "Mars/Olympus"), "time zone &#39;Mars/Olympus&#39; is not in the IANA tz database"),
+        (
+            form("250", "2", "Etc/GMT+4"),
+            "priority.area must be in [0, 1]",
+        ),
+        (
+            form("-1", "0.3", "Etc/GMT+4"),
+            "evidence.tolerance_m must be in (0, 100000] metres",
+        ),
+        (
+            form("lots", "0.3", "Etc/GMT+4"),
+            "Evidence tolerance (m): &#39;lots&#39; is not a number",
+        ),
+        (
+            form("250", "0.3", "Mars/Olympus"),
+            "time zone &#39;Mars/Olympus&#39; is not in the IANA tz database",
+        ),
         (form("250", "0.3", "Etc/GMT+4"), "nothing changed"),
     ] {
         let (r, _) = post(f);
@@ -414,7 +568,10 @@ fn binary() -> PathBuf {
         if dir.ends_with("release") {
             args.push("--release");
         }
-        let st = std::process::Command::new(cargo).args(&args).status().unwrap();
+        let st = std::process::Command::new(cargo)
+            .args(&args)
+            .status()
+            .unwrap();
         assert!(st.success(), "building the groundproof binary");
     }
     bin
@@ -425,11 +582,19 @@ fn the_change_log_lists_each_change_with_who_and_when_including_the_command_line
     let s = TestServer::start();
     let admin = Browser::admin(&s, "root-admin");
     let started = chrono::Utc::now();
-    admin.saved("/admin/teams", &[("name", "Team Delta")], "/admin/teams?done=1");
+    admin.saved(
+        "/admin/teams",
+        &[("name", "Team Delta")],
+        "/admin/teams?done=1",
+    );
     let saved = chrono::Utc::now();
     admin.saved(
         "/admin/sources",
-        &[("name", "radar-20m"), ("pixel_size_m", "20"), ("revisit_days", "12")],
+        &[
+            ("name", "radar-20m"),
+            ("pixel_size_m", "20"),
+            ("revisit_days", "12"),
+        ],
         "/admin/sources?done=1",
     );
     // The command line on the same data directory, while the server runs.
@@ -438,7 +603,11 @@ fn the_change_log_lists_each_change_with_who_and_when_including_the_command_line
         .arg(s.data_dir())
         .output()
         .expect("the groundproof binary runs");
-    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
     // An API token registering a source is logged with its label.
     let r = groundproof_e2e::post_json(
         &s.url("/api/v1/sources"),
@@ -453,7 +622,11 @@ fn the_change_log_lists_each_change_with_who_and_when_including_the_command_line
     let td = scraper::Selector::parse("td").unwrap();
     let rows: Vec<Vec<String>> = doc
         .select(&sel)
-        .map(|tr| tr.select(&td).map(|c| c.text().collect::<String>()).collect())
+        .map(|tr| {
+            tr.select(&td)
+                .map(|c| c.text().collect::<String>())
+                .collect()
+        })
         .collect();
     let find = |action: &str| -> Vec<String> {
         rows.iter()
@@ -462,9 +635,15 @@ fn the_change_log_lists_each_change_with_who_and_when_including_the_command_line
             .unwrap_or_else(|| panic!("no {action} row in {rows:?}"))
     };
     let echo = find("team.add");
-    assert_eq!((echo[1].as_str(), echo[3].as_str()), ("command line", "team Team Echo"));
+    assert_eq!(
+        (echo[1].as_str(), echo[3].as_str()),
+        ("command line", "team Team Echo")
+    );
     let api = find("source.add");
-    assert!(api[1].starts_with("API token") && api[1].ends_with("(end-to-end tests)"), "{api:?}");
+    assert!(
+        api[1].starts_with("API token") && api[1].ends_with("(end-to-end tests)"),
+        "{api:?}"
+    );
     let user = rows
         .iter()
         .find(|r| r[3] == "team Team Delta")

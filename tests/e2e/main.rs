@@ -1,6 +1,7 @@
 //! End-to-end tests: the real server on a random loopback port.
 
 mod access;
+mod admin;
 mod alerts_api;
 mod bundles;
 mod footprints;
@@ -13,4 +14,3 @@ mod robust_http;
 mod stats_api;
 mod stats_cache;
 mod tls;
-mod admin;

@@ -76,6 +76,8 @@ struct Planned {
     route: Route,
     events: Vec<BundleEvent>,
     controls: Vec<ControlPoint>,
+    /// The organisation's zone, for the times on the field sheet.
+    zone: crate::domain::OrgZone,
 }
 
 /// Chooses the trip's events and control points and routes them.
@@ -89,6 +91,7 @@ fn plan_trip(db: &Db, settings: &Settings, req: &TripRequest) -> Result<Planned>
         route,
         events,
         controls,
+        zone: settings.zone(),
     })
 }
 
@@ -138,6 +141,7 @@ fn write_bundle_file(
         sheet_events,
         legs,
         palette,
+        planned.zone,
     )?);
 
     let file_name = format!("{}.zip", header.bundle_id);
@@ -422,6 +426,7 @@ fn field_sheet(
     sheet_events: Vec<SheetEvent>,
     legs: Vec<RouteLeg>,
     palette: SourcePalette,
+    zone: crate::domain::OrgZone,
 ) -> Result<ExtraEntry> {
     let sheet = render_field_sheet(&SheetInput {
         header: c.header.clone(),
@@ -433,6 +438,7 @@ fn field_sheet(
         legs,
         checklist: c.checklist.clone(),
         palette,
+        zone,
     })
     .map_err(|e| Error::Internal(format!("field sheet: {e}")))?;
     Ok(ExtraEntry {

@@ -136,7 +136,7 @@ async fn receive(state: &AppState, mut mp: Multipart) -> Result<Received, PageEr
         return_id: doc.return_id,
         bundle_id: doc.bundle_id.to_string(),
         sha256: doc.sha256.clone(),
-        received_at: super::common::short_time(&doc.received_at),
+        received_at: super::common::local_text(&state.settings, &doc.received_at),
         accepted: count("accepted"),
         duplicate: count("duplicate"),
         rejected: count("rejected"),
