@@ -107,6 +107,33 @@ enum UserCommand {
         #[command(flatten)]
         data: DataArg,
     },
+    /// Give a user another role (logged as the command line).
+    Role {
+        name: String,
+        /// admin, coordinator or manager.
+        #[arg(long)]
+        role: String,
+        #[command(flatten)]
+        data: DataArg,
+    },
+    /// Set a new password (from GROUNDPROOF_PASSWORD or a prompt); the user's sessions end.
+    Password {
+        name: String,
+        #[command(flatten)]
+        data: DataArg,
+    },
+    /// Disable a user: they cannot log in and their sessions end.
+    Disable {
+        name: String,
+        #[command(flatten)]
+        data: DataArg,
+    },
+    /// Enable a disabled user again.
+    Enable {
+        name: String,
+        #[command(flatten)]
+        data: DataArg,
+    },
 }
 
 #[derive(Subcommand)]
@@ -136,6 +163,18 @@ enum TeamCommand {
     },
     /// List the teams.
     List {
+        #[command(flatten)]
+        data: DataArg,
+    },
+    /// Disable a team: its tokens are revoked; it gets no new token or trip.
+    Disable {
+        name: String,
+        #[command(flatten)]
+        data: DataArg,
+    },
+    /// Enable a disabled team again.
+    Enable {
+        name: String,
         #[command(flatten)]
         data: DataArg,
     },
@@ -441,37 +480,98 @@ fn team(command: TeamCommand) -> Result<()> {
         }
         TeamCommand::List { data } => {
             let (db, _) = open(&data.data)?;
-            for t in db.read(|r| r.teams())? {
-                println!("{}", t.name);
+            for t in db.read(|r| r.team_states())? {
+                let state = if t.disabled_at.is_some() {
+                    "\tdisabled"
+                } else {
+                    ""
+                };
+                println!("{}{state}", t.name);
             }
         }
+        TeamCommand::Disable { name, data } => team_disabled(&name, &data, true)?,
+        TeamCommand::Enable { name, data } => team_disabled(&name, &data, false)?,
     }
     Ok(())
 }
 
-/// `groundproof user add`, with the password from `GROUNDPROOF_PASSWORD` or asked for.
+/// `groundproof team disable|enable NAME`.
+fn team_disabled(name: &str, data: &DataArg, off: bool) -> Result<()> {
+    let now = groundproof::platform::auth::now_unix();
+    let (db, _) = open(&data.data)?;
+    let Some(t) = db.read(|r| r.team_state_by_name(name))? else {
+        bail!("no team '{name}'");
+    };
+    admin::set_team_disabled(&db, &Actor::CommandLine, t.id, off, now)?;
+    let state = if off {
+        "disabled; its tokens are revoked"
+    } else {
+        "enabled"
+    };
+    println!("team '{}' {state}", t.name);
+    Ok(())
+}
+
+/// The password from `GROUNDPROOF_PASSWORD`, or asked for on standard input.
+fn password_for(name: &str) -> Result<String> {
+    if let Ok(p) = std::env::var("GROUNDPROOF_PASSWORD") {
+        return Ok(p);
+    }
+    eprint!(
+        "password for {name} (at least {} characters): ",
+        groundproof::platform::auth::MIN_PASSWORD_CHARS
+    );
+    let mut line = String::new();
+    std::io::stdin().read_line(&mut line)?;
+    Ok(line.trim_end_matches(['\r', '\n']).to_string())
+}
+
+/// The id of the user called `name` (any letter case).
+fn user_id(db: &Db, name: &str) -> Result<i64> {
+    match db.read(|r| r.user_by_name(name))? {
+        Some(u) => Ok(u.id),
+        None => bail!("no user '{name}'"),
+    }
+}
+
+/// `groundproof user add|role|password|disable|enable`, through the same
+/// functions as the administration pages (logged as the command line).
 fn user(command: UserCommand) -> Result<()> {
+    let now = groundproof::platform::auth::now_unix();
+    let me = Actor::CommandLine;
     match command {
         UserCommand::Add { name, role, data } => {
             let role: groundproof::platform::auth::Role = role.parse()?;
-            let password = match std::env::var("GROUNDPROOF_PASSWORD") {
-                Ok(p) => p,
-                Err(_) => {
-                    eprint!(
-                        "password for {name} (at least {} characters): ",
-                        groundproof::platform::auth::MIN_PASSWORD_CHARS
-                    );
-                    let mut line = String::new();
-                    std::io::stdin().read_line(&mut line)?;
-                    line.trim_end_matches(['\r', '\n']).to_string()
-                }
-            };
+            let password = password_for(&name)?;
             let (db, _) = open(&data.data)?;
-            let now = groundproof::platform::auth::now_unix();
-            let u = admin::add_user(&db, &Actor::CommandLine, &name, role, &password, now)?;
+            let u = admin::add_user(&db, &me, &name, role, &password, now)?;
             println!("user '{}' added with role {}", u.name, role);
         }
+        UserCommand::Role { name, role, data } => {
+            let role: groundproof::platform::auth::Role = role.parse()?;
+            let (db, _) = open(&data.data)?;
+            let u = admin::set_role(&db, &me, user_id(&db, &name)?, role, now)?;
+            println!("user '{}' now has the role {}", u.name, u.role);
+        }
+        UserCommand::Password { name, data } => {
+            let password = password_for(&name)?;
+            let (db, _) = open(&data.data)?;
+            let u = admin::reset_password(&db, &me, user_id(&db, &name)?, &password, now)?;
+            println!("password of '{}' set; their sessions ended", u.name);
+        }
+        UserCommand::Disable { name, data } => set_disabled(&name, &data, true)?,
+        UserCommand::Enable { name, data } => set_disabled(&name, &data, false)?,
     }
+    Ok(())
+}
+
+/// `groundproof user disable|enable NAME`.
+fn set_disabled(name: &str, data: &DataArg, off: bool) -> Result<()> {
+    let now = groundproof::platform::auth::now_unix();
+    let (db, _) = open(&data.data)?;
+    let u = admin::set_user_disabled(&db, &Actor::CommandLine, user_id(&db, name)?, off, now)?;
+    let state = if u.disabled { "disabled" } else { "enabled" };
+    println!("user '{}' {state}", u.name);
     Ok(())
 }
 
