@@ -608,6 +608,17 @@ fn the_change_log_lists_each_change_with_who_and_when_including_the_command_line
         "{}",
         String::from_utf8_lossy(&out.stderr)
     );
+    let out = std::process::Command::new(binary())
+        .args(["user", "add", "night-shift", "--role", "manager", "--data"])
+        .arg(s.data_dir())
+        .env("GROUNDPROOF_PASSWORD", "the night shift's password")
+        .output()
+        .expect("the groundproof binary runs");
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
     // An API token registering a source is logged with its label.
     let r = groundproof_e2e::post_json(
         &s.url("/api/v1/sources"),
@@ -657,7 +668,16 @@ fn the_change_log_lists_each_change_with_who_and_when_including_the_command_line
         (minute(started)..=minute(saved)).contains(&stamp[..16].to_string()),
         "{stamp} between {started} and {saved}"
     );
-    assert_eq!(rows.len(), 4, "{rows:?}");
+    let cli_user = find("user.add");
+    assert_eq!(
+        (
+            cli_user[1].as_str(),
+            cli_user[3].as_str(),
+            cli_user[4].as_str()
+        ),
+        ("command line", "user night-shift", "role manager")
+    );
+    assert_eq!(rows.len(), 5, "{rows:?}");
     // The API keeps RFC 3339: the log is a page, not an API resource.
     assert_eq!(admin.get("/admin/log?before=x").0.status, 400);
 }

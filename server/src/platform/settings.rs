@@ -296,14 +296,16 @@ mod tests {
         assert_eq!(s.check().unwrap_err(), "priority.zone must be in [0, 1]");
         s.priority.zone = f64::NAN;
         assert!(s.check().is_err());
-        let mut s = Settings::default();
-        s.priority = PriorityWeights {
-            area: 0.0,
-            recency: 0.0,
-            corroboration: 0.0,
-            confidence: 0.0,
-            zone: 0.0,
-            ..PriorityWeights::default()
+        let s = Settings {
+            priority: PriorityWeights {
+                area: 0.0,
+                recency: 0.0,
+                corroboration: 0.0,
+                confidence: 0.0,
+                zone: 0.0,
+                ..PriorityWeights::default()
+            },
+            ..Settings::default()
         };
         assert!(s.check().unwrap_err().contains("at least one weight"));
         let mut s = Settings::default();
