@@ -681,3 +681,50 @@ fn the_change_log_lists_each_change_with_who_and_when_including_the_command_line
     // The API keeps RFC 3339: the log is a page, not an API resource.
     assert_eq!(admin.get("/admin/log?before=x").0.status, 400);
 }
+
+/// After the organisation's zone is set, the pages show a trip's times in
+/// it while the API keeps RFC 3339 (issue 13, "Local time").
+#[test]
+fn pages_show_local_time_and_the_api_keeps_rfc3339() {
+    let s = TestServer::start();
+    groundproof_e2e::load_scenario(&s);
+    let station = mock_patrols::scenario().station;
+    let trip = serde_json::json!({"team": "Team Amber", "zone": "Core", "max": 2,
+        "start": {"lat": station.1, "lon": station.0}});
+    let r = groundproof_e2e::post_json(&s.url("/api/v1/bundles"), &trip);
+    assert_eq!(r.status, 201, "{}", r.body);
+    let admin = Browser::admin(&s, "root-admin");
+    let trips = admin.get("/trips").0;
+    assert!(trips.body.contains("(UTC+00:00)"), "UTC by default");
+    let mut fields: Vec<(&str, String)> = vec![];
+    let page = admin.get("/admin/settings").0;
+    let doc = scraper::Html::parse_document(&page.body);
+    let input = scraper::Selector::parse("#settings input[name]:not([type=hidden])").unwrap();
+    for e in doc.select(&input) {
+        let name = e.value().attr("name").unwrap();
+        let value = if name == "time_zone" {
+            "Etc/GMT+4"
+        } else {
+            e.value().attr("value").unwrap_or_default()
+        };
+        fields.push((name, value.to_string()));
+    }
+    fields.push(("default_language", "en".to_string()));
+    let f: Vec<(&str, &str)> = fields.iter().map(|(k, v)| (*k, v.as_str())).collect();
+    admin.saved("/admin/settings", &f, "/admin/settings?done=1");
+
+    // Etc/GMT+4 is UTC-04:00 (IANA tz database, file `etcetera`).
+    let bundle = &get_as(
+        &s.url("/api/v1/bundles"),
+        Some(&groundproof_e2e::admin_token(&s)),
+    )
+    .json()[0];
+    let issued = bundle["issued_at"].as_str().expect("issued_at");
+    let at = chrono::DateTime::parse_from_rfc3339(issued).expect("the API keeps RFC 3339");
+    let local = (at.with_timezone(&chrono::Utc) - chrono::Duration::hours(4))
+        .format("%Y-%m-%d %H:%M (UTC-04:00)")
+        .to_string();
+    let trips = admin.get("/trips").0;
+    assert!(trips.body.contains(&local), "{local} on the trips page");
+    assert!(!trips.body.contains("(UTC+00:00)"), "no UTC time left");
+}
