@@ -728,3 +728,98 @@ fn pages_show_local_time_and_the_api_keeps_rfc3339() {
     assert!(trips.body.contains(&local), "{local} on the trips page");
     assert!(!trips.body.contains("(UTC+00:00)"), "no UTC time left");
 }
+
+/// Damaged administration forms (odd values in every field, the valid
+/// settings form damaged byte by byte) get an answer below 500, the server
+/// stays up, and the settings file always parses.
+#[test]
+fn damaged_admin_forms_get_4xx_never_5xx() {
+    use proptest::prelude::*;
+    use proptest::test_runner::{Config, TestRunner};
+    let s = TestServer::start();
+    groundproof::platform::admin::add_team(
+        &s.db,
+        &groundproof::platform::admin::Actor::CommandLine,
+        "Team Amber",
+        now_unix(),
+    )
+    .unwrap();
+    let token = groundproof_e2e::admin_token(&s);
+    let post = |path: &str, body: &[u8]| -> u16 {
+        agent()
+            .post(&s.url(path))
+            .header("Authorization", format!("Bearer {token}"))
+            .header("Content-Type", "application/x-www-form-urlencoded")
+            .send(body)
+            .map(|r| r.status().as_u16())
+            .unwrap_or(0)
+    };
+    let valid = "area=0.3&recency=0.25&corroboration=0.2&confidence=0.1&zone=0.15\
+                 &area_ref_ha=10&recency_days=30&tolerance_m=100&time_zone=UTC&default_language=en";
+    let odd = prop_oneof![
+        Just(String::new()),
+        Just("NaN".to_string()),
+        Just("inf".to_string()),
+        Just("-0".to_string()),
+        Just("1e400".to_string()),
+        Just("%FF%FE".to_string()),
+        Just("9".repeat(5000)),
+        "[ -~]{0,64}",
+    ];
+    let paths = [
+        "/admin/settings",
+        "/admin/users",
+        "/admin/users/1/role",
+        "/admin/users/1/password",
+        "/admin/teams",
+        "/admin/sources",
+        "/admin/sources/1",
+    ];
+    let fields = [
+        "name",
+        "role",
+        "password",
+        "password_again",
+        "pixel_size_m",
+        "revisit_days",
+        "area",
+        "tolerance_m",
+        "time_zone",
+        "default_language",
+    ];
+    let config = Config {
+        cases: mock_patrols::damage::cases(96),
+        failure_persistence: None,
+        max_shrink_iters: 0,
+        ..Config::default()
+    };
+    TestRunner::new(config)
+        .run(
+            &(
+                0..paths.len(),
+                prop::collection::vec((0..fields.len(), odd), 0..6),
+                any::<u64>(),
+                any::<bool>(),
+            ),
+            |(p, values, seed, damaged)| {
+                let body = if damaged {
+                    mock_patrols::damage::damage_bytes(valid.as_bytes(), seed)
+                } else {
+                    values
+                        .iter()
+                        .map(|(f, v)| format!("{}={}", fields[*f], enc(v)))
+                        .collect::<Vec<_>>()
+                        .join("&")
+                        .into_bytes()
+                };
+                let path = if damaged { "/admin/settings" } else { paths[p] };
+                let st = post(path, &body);
+                prop_assert!((1..500).contains(&st), "{path}: status {st}");
+                Ok(())
+            },
+        )
+        .unwrap_or_else(|e| panic!("admin forms: {e}"));
+    assert_eq!(get_as(&s.url("/healthz"), None).status, 200);
+    groundproof::platform::settings::Settings::load(s.data_dir())
+        .expect("the settings file parses");
+}
