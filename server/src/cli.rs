@@ -4,7 +4,8 @@ use anyhow::{Context, Result, bail};
 use clap::{Args, Parser, Subcommand};
 use groundproof::alerts::events::{ImportRequest, import_alerts, import_zones, ranked_events};
 use groundproof::alerts::import::{Format, ReadOptions};
-use groundproof::domain::{ConfidenceMap, Day, SourceName, TeamName, ZoneName};
+use groundproof::domain::{ConfidenceMap, Day, SourceName, ZoneName};
+use groundproof::platform::admin::{self, Actor};
 use groundproof::platform::settings::Settings;
 use groundproof::platform::storage::{Db, EventFilter};
 use groundproof::{Error, demo, web};
@@ -106,6 +107,33 @@ enum UserCommand {
         #[command(flatten)]
         data: DataArg,
     },
+    /// Give a user another role (logged as the command line).
+    Role {
+        name: String,
+        /// admin, coordinator or manager.
+        #[arg(long)]
+        role: String,
+        #[command(flatten)]
+        data: DataArg,
+    },
+    /// Set a new password (from GROUNDPROOF_PASSWORD or a prompt); the user's sessions end.
+    Password {
+        name: String,
+        #[command(flatten)]
+        data: DataArg,
+    },
+    /// Disable a user: they cannot log in and their sessions end.
+    Disable {
+        name: String,
+        #[command(flatten)]
+        data: DataArg,
+    },
+    /// Enable a disabled user again.
+    Enable {
+        name: String,
+        #[command(flatten)]
+        data: DataArg,
+    },
 }
 
 #[derive(Subcommand)]
@@ -135,6 +163,18 @@ enum TeamCommand {
     },
     /// List the teams.
     List {
+        #[command(flatten)]
+        data: DataArg,
+    },
+    /// Disable a team: its tokens are revoked; it gets no new token or trip.
+    Disable {
+        name: String,
+        #[command(flatten)]
+        data: DataArg,
+    },
+    /// Enable a disabled team again.
+    Enable {
+        name: String,
         #[command(flatten)]
         data: DataArg,
     },
@@ -369,10 +409,15 @@ fn sources(command: SourcesCommand) -> Result<()> {
             revisit_days,
             data,
         } => {
-            let name = SourceName::parse(&name).map_err(Error::Invalid)?;
-            groundproof::alerts::events::validate_source(pixel_size, revisit_days)?;
             let (db, _) = open(&data.data)?;
-            let s = db.write(|tx| tx.add_source(name.as_str(), pixel_size, revisit_days))?;
+            let s = groundproof::alerts::sources::add_source(
+                &db,
+                &Actor::CommandLine,
+                &name,
+                pixel_size,
+                revisit_days,
+                groundproof::platform::auth::now_unix(),
+            )?;
             println!(
                 "source '{}' registered: {} m pixels, {} day revisit",
                 s.name, s.pixel_size_m, s.revisit_days
@@ -428,49 +473,105 @@ fn events(command: EventsCommand) -> Result<()> {
 fn team(command: TeamCommand) -> Result<()> {
     match command {
         TeamCommand::Add { name, data } => {
-            let name = TeamName::parse(&name).map_err(Error::Invalid)?;
             let (db, _) = open(&data.data)?;
-            let t = db.write(|tx| tx.add_team(name.as_str()))?;
+            let now = groundproof::platform::auth::now_unix();
+            let t = admin::add_team(&db, &Actor::CommandLine, &name, now)?;
             println!("team '{}' added", t.name);
         }
         TeamCommand::List { data } => {
             let (db, _) = open(&data.data)?;
-            for t in db.read(|r| r.teams())? {
-                println!("{}", t.name);
+            for t in db.read(|r| r.team_states())? {
+                let state = if t.disabled_at.is_some() {
+                    "\tdisabled"
+                } else {
+                    ""
+                };
+                println!("{}{state}", t.name);
             }
         }
+        TeamCommand::Disable { name, data } => team_disabled(&name, &data, true)?,
+        TeamCommand::Enable { name, data } => team_disabled(&name, &data, false)?,
     }
     Ok(())
 }
 
-/// `groundproof user add`, with the password from `GROUNDPROOF_PASSWORD` or asked for.
+/// `groundproof team disable|enable NAME`.
+fn team_disabled(name: &str, data: &DataArg, off: bool) -> Result<()> {
+    let now = groundproof::platform::auth::now_unix();
+    let (db, _) = open(&data.data)?;
+    let Some(t) = db.read(|r| r.team_state_by_name(name))? else {
+        bail!("no team '{name}'");
+    };
+    admin::set_team_disabled(&db, &Actor::CommandLine, t.id, off, now)?;
+    let state = if off {
+        "disabled; its tokens are revoked"
+    } else {
+        "enabled"
+    };
+    println!("team '{}' {state}", t.name);
+    Ok(())
+}
+
+/// The password from `GROUNDPROOF_PASSWORD`, or asked for on standard input.
+fn password_for(name: &str) -> Result<String> {
+    if let Ok(p) = std::env::var("GROUNDPROOF_PASSWORD") {
+        return Ok(p);
+    }
+    eprint!(
+        "password for {name} (at least {} characters): ",
+        groundproof::platform::auth::MIN_PASSWORD_CHARS
+    );
+    let mut line = String::new();
+    std::io::stdin().read_line(&mut line)?;
+    Ok(line.trim_end_matches(['\r', '\n']).to_string())
+}
+
+/// The id of the user called `name` (any letter case).
+fn user_id(db: &Db, name: &str) -> Result<i64> {
+    match db.read(|r| r.user_by_name(name))? {
+        Some(u) => Ok(u.id),
+        None => bail!("no user '{name}'"),
+    }
+}
+
+/// `groundproof user add|role|password|disable|enable`, through the same
+/// functions as the administration pages (logged as the command line).
 fn user(command: UserCommand) -> Result<()> {
+    let now = groundproof::platform::auth::now_unix();
+    let me = Actor::CommandLine;
     match command {
         UserCommand::Add { name, role, data } => {
             let role: groundproof::platform::auth::Role = role.parse()?;
-            let password = match std::env::var("GROUNDPROOF_PASSWORD") {
-                Ok(p) => p,
-                Err(_) => {
-                    eprint!(
-                        "password for {name} (at least {} characters): ",
-                        groundproof::platform::auth::MIN_PASSWORD_CHARS
-                    );
-                    let mut line = String::new();
-                    std::io::stdin().read_line(&mut line)?;
-                    line.trim_end_matches(['\r', '\n']).to_string()
-                }
-            };
+            let password = password_for(&name)?;
             let (db, _) = open(&data.data)?;
-            let u = groundproof::platform::auth::create_user(
-                &db,
-                &name,
-                role,
-                &password,
-                groundproof::platform::auth::now_unix(),
-            )?;
+            let u = admin::add_user(&db, &me, &name, role, &password, now)?;
             println!("user '{}' added with role {}", u.name, role);
         }
+        UserCommand::Role { name, role, data } => {
+            let role: groundproof::platform::auth::Role = role.parse()?;
+            let (db, _) = open(&data.data)?;
+            let u = admin::set_role(&db, &me, user_id(&db, &name)?, role, now)?;
+            println!("user '{}' now has the role {}", u.name, u.role);
+        }
+        UserCommand::Password { name, data } => {
+            let password = password_for(&name)?;
+            let (db, _) = open(&data.data)?;
+            let u = admin::reset_password(&db, &me, user_id(&db, &name)?, &password, now)?;
+            println!("password of '{}' set; their sessions ended", u.name);
+        }
+        UserCommand::Disable { name, data } => set_disabled(&name, &data, true)?,
+        UserCommand::Enable { name, data } => set_disabled(&name, &data, false)?,
     }
+    Ok(())
+}
+
+/// `groundproof user disable|enable NAME`.
+fn set_disabled(name: &str, data: &DataArg, off: bool) -> Result<()> {
+    let now = groundproof::platform::auth::now_unix();
+    let (db, _) = open(&data.data)?;
+    let u = admin::set_user_disabled(&db, &Actor::CommandLine, user_id(&db, name)?, off, now)?;
+    let state = if u.disabled { "disabled" } else { "enabled" };
+    println!("user '{}' {state}", u.name);
     Ok(())
 }
 
@@ -490,10 +591,16 @@ fn token(command: TokenCommand) -> Result<()> {
                     groundproof::platform::auth::issue_api_token(&db, r.parse()?, &label, now)?.1
                 }
                 (None, Some(t)) => {
-                    if db.read(|r| r.team_by_name(&t))?.is_none() {
-                        bail!("unknown team '{t}': add it first (groundproof team add)");
-                    }
-                    groundproof::platform::auth::issue_team_token(&db, &t, now)?.1
+                    admin::create_team_token(&db, &Actor::CommandLine, &t, now)
+                        .map_err(|e| match e {
+                            Error::NotFound(_) => {
+                                anyhow::anyhow!(
+                                    "unknown team '{t}': add it first (groundproof team add)"
+                                )
+                            }
+                            other => other.into(),
+                        })?
+                        .1
                 }
                 _ => bail!("give --role R for an API token or --team T for a team token"),
             };

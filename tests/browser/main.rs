@@ -27,6 +27,8 @@
 
 mod station;
 mod webdriver;
+// The administration pages (issue 13).
+mod admin;
 
 use groundproof::demo::{DEMO_LOGINS, load, run_trips};
 use groundproof::platform::settings::Settings;

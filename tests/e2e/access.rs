@@ -214,3 +214,98 @@ fn station_entry_routes_follow_the_matrix() {
     );
     assert_eq!(status_as("POST", &url("/discard"), c, b""), 303);
 }
+
+/// Every administration route, for every column of the access matrix:
+/// admins only (`Action::Administer`). Bearer tokens carry no cookie and so
+/// need no CSRF token; an admin's request reaches its handler (which may
+/// refuse the empty form or the unknown id), every other caller is stopped
+/// first (403, or 401 / the login page for nobody).
+#[test]
+fn every_administration_route_is_for_admins_only() {
+    let s = TestServer::start();
+    let no_follow: ureq::Agent = ureq::Agent::config_builder()
+        .http_status_as_error(false)
+        .max_redirects(0)
+        .build()
+        .into();
+    let call = |method: &str, path: &str, token: Option<&str>| -> (u16, String) {
+        let url = s.url(path);
+        let auth = token.map(|t| format!("Bearer {t}"));
+        let r = if method == "GET" {
+            let mut r = no_follow.get(&url);
+            if let Some(a) = &auth {
+                r = r.header("Authorization", a);
+            }
+            r.call()
+        } else {
+            let mut r = no_follow
+                .post(&url)
+                .header("Content-Type", "application/x-www-form-urlencoded");
+            if let Some(a) = &auth {
+                r = r.header("Authorization", a);
+            }
+            r.send(&b""[..])
+        }
+        .expect("reply");
+        let loc = r
+            .headers()
+            .get("location")
+            .and_then(|v| v.to_str().ok())
+            .unwrap_or_default()
+            .to_string();
+        (r.status().as_u16(), loc)
+    };
+    let admin = token(&s, Role::Admin);
+    let coordinator = token(&s, Role::Coordinator);
+    let manager = token(&s, Role::Manager);
+    groundproof::platform::admin::add_team(
+        &s.db,
+        &groundproof::platform::admin::Actor::CommandLine,
+        "Team Amber",
+        now_unix(),
+    )
+    .unwrap();
+    let team = issue_team_token(&s.db, "Team Amber", now_unix()).unwrap().1;
+    let routes = [
+        ("GET", "/admin"),
+        ("GET", "/admin/log"),
+        ("GET", "/admin/users"),
+        ("POST", "/admin/users"),
+        ("POST", "/admin/users/999/role"),
+        ("POST", "/admin/users/999/password"),
+        ("POST", "/admin/users/999/disable"),
+        ("POST", "/admin/users/999/enable"),
+        ("GET", "/admin/teams"),
+        ("POST", "/admin/teams"),
+        ("POST", "/admin/teams/999/disable"),
+        ("POST", "/admin/teams/999/enable"),
+        ("POST", "/admin/teams/999/tokens"),
+        ("POST", "/admin/tokens/999/revoke"),
+        ("GET", "/admin/sources"),
+        ("POST", "/admin/sources"),
+        ("POST", "/admin/sources/999"),
+        ("GET", "/admin/settings"),
+        ("POST", "/admin/settings"),
+    ];
+    for (method, path) in routes {
+        let (st, _) = call(method, path, Some(&admin));
+        assert!(
+            matches!(st, 200 | 400 | 404 | 409),
+            "admin {method} {path}: {st}"
+        );
+        for (who, t) in [
+            ("coordinator", &coordinator),
+            ("manager", &manager),
+            ("team", &team),
+        ] {
+            assert_eq!(call(method, path, Some(t)).0, 403, "{who} {method} {path}");
+        }
+        let (st, loc) = call(method, path, None);
+        assert!(
+            st == 401 || (st == 303 && loc.starts_with("/login")),
+            "nobody {method} {path}: {st} {loc}"
+        );
+    }
+    // Nothing an admin's empty forms sent was changed.
+    assert!(s.db.read(|r| r.admin_log(None, 10)).unwrap().len() == 1);
+}

@@ -1,6 +1,7 @@
 //! End-to-end tests: the real server on a random loopback port.
 
 mod access;
+mod admin;
 mod alerts_api;
 mod bundles;
 mod footprints;

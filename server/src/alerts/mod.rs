@@ -6,7 +6,9 @@
 //!   attributes and the priority score.
 //! - [`events`]: applies an import in one transaction (create, grow, merge
 //!   events; relink zones) and answers event queries.
+//! - [`sources`]: registers and edits alert sources, with the administration log.
 
 pub mod cluster;
 pub mod events;
 pub mod import;
+pub mod sources;

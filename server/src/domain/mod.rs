@@ -5,6 +5,7 @@
 mod confidence;
 mod day;
 pub mod geodesy;
+pub mod localtime;
 mod lonlat;
 mod name;
 mod role;
@@ -19,6 +20,7 @@ pub use day::Day;
 pub use groundproof_sync::vocab::{
     BundleMode, Cause, Outcome, Reason, Sha256Digest, TargetKind, Timestamp, UnknownWord,
 };
+pub use localtime::OrgZone;
 pub use lonlat::LonLat;
 pub use name::{SourceName, TeamName, ZoneName};
 pub use role::Role;

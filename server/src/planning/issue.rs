@@ -76,6 +76,8 @@ struct Planned {
     route: Route,
     events: Vec<BundleEvent>,
     controls: Vec<ControlPoint>,
+    /// The organisation's zone, for the times on the field sheet.
+    zone: crate::domain::OrgZone,
 }
 
 /// Chooses the trip's events and control points and routes them.
@@ -89,6 +91,7 @@ fn plan_trip(db: &Db, settings: &Settings, req: &TripRequest) -> Result<Planned>
         route,
         events,
         controls,
+        zone: settings.zone(),
     })
 }
 
@@ -138,6 +141,7 @@ fn write_bundle_file(
         sheet_events,
         legs,
         palette,
+        planned.zone,
     )?);
 
     let file_name = format!("{}.zip", header.bundle_id);
@@ -192,14 +196,24 @@ fn record_issued(
     record_bundle(db, &new, &file.path)
 }
 
-/// The request's team, which must have been added.
+/// The request's team, which must have been added and not be disabled.
 fn team_of(db: &Db, req: &TripRequest) -> Result<Team> {
-    db.read(|r| r.team_by_name(&req.team))?.ok_or_else(|| {
+    let team = db.read(|r| r.team_by_name(&req.team))?.ok_or_else(|| {
         Error::NotFound(format!(
             "unknown team '{}': add it first (groundproof team add)",
             req.team
         ))
-    })
+    })?;
+    if db
+        .read(|r| r.team_state(team.id))?
+        .is_some_and(|t| t.disabled_at.is_some())
+    {
+        return Err(Error::Conflict(format!(
+            "team '{}' is disabled: an admin enables it again on the teams page",
+            req.team
+        )));
+    }
+    Ok(team)
 }
 
 /// The walking speed and the due and expiry days of a request, in range.
@@ -412,6 +426,7 @@ fn field_sheet(
     sheet_events: Vec<SheetEvent>,
     legs: Vec<RouteLeg>,
     palette: SourcePalette,
+    zone: crate::domain::OrgZone,
 ) -> Result<ExtraEntry> {
     let sheet = render_field_sheet(&SheetInput {
         header: c.header.clone(),
@@ -423,6 +438,7 @@ fn field_sheet(
         legs,
         checklist: c.checklist.clone(),
         palette,
+        zone,
     })
     .map_err(|e| Error::Internal(format!("field sheet: {e}")))?;
     Ok(ExtraEntry {

@@ -1,7 +1,9 @@
 //! What every step of the flow stands on: storage (the only SQL), accounts
-//! and access, settings, and durable file writes. Nothing here imports a
+//! and access, settings, durable file writes, and the administration's
+//! changes with their log (`admin`). Nothing here imports a
 //! step of the flow.
 
+pub mod admin;
 pub mod auth;
 pub mod durable;
 pub mod settings;

@@ -17,7 +17,7 @@ pub mod urls;
 
 pub use tls::tls_config;
 
-use crate::platform::settings::Settings;
+use crate::platform::settings::{LiveSettings, Settings};
 use crate::platform::storage::Db;
 use actix_web::{App, HttpServer, dev::Server, web};
 use std::net::TcpListener;
@@ -34,7 +34,9 @@ pub struct AppState {
     pub db: Arc<Db>,
     /// The data directory (bundles, evidence).
     pub data_dir: std::path::PathBuf,
-    pub settings: Arc<Settings>,
+    /// The settings in force (an admin may change them while the server
+    /// runs; `state.settings.priority` reads the current value).
+    pub settings: Arc<LiveSettings>,
     /// The statistics of the current facts, shared by every handler.
     pub stats: Arc<crate::statistics::kept::StatsCache>,
 }
@@ -44,7 +46,7 @@ impl AppState {
         AppState {
             db,
             data_dir,
-            settings: Arc::new(settings),
+            settings: Arc::new(LiveSettings::new(settings)),
             stats: Arc::new(crate::statistics::kept::StatsCache::new()),
         }
     }

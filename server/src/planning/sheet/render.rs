@@ -63,6 +63,8 @@ pub struct SheetInput {
     pub checklist: Checklist,
     /// Source colours used by the previews, listed as the legend.
     pub palette: SourcePalette,
+    /// The organisation's time zone: issue, due and expiry are shown in it.
+    pub zone: crate::domain::OrgZone,
 }
 
 /// A source named with its legend swatch.
@@ -148,7 +150,7 @@ pub fn render_field_sheet(input: &SheetInput) -> Result<String, SheetError> {
     let controls = control_cards(&input.controls)?;
     let (route, total) = route_rows(&input.legs)?;
     let h = &input.header;
-    let when = |t: &chrono::DateTime<chrono::Utc>| t.format("%Y-%m-%d %H:%M UTC").to_string();
+    let when = |t: &chrono::DateTime<chrono::Utc>| input.zone.show(*t);
     let all_sources = input.palette.sources().to_vec();
     let page = FieldSheetPage {
         bundle_id: h.bundle_id.to_string(),

@@ -161,6 +161,7 @@ fn input() -> SheetInput {
         ],
         checklist: Checklist::default_v1(),
         palette,
+        zone: crate::domain::OrgZone::UTC,
     }
 }
 
@@ -274,6 +275,23 @@ fn sheet_parses_with_one_card_per_event_and_control() {
     assert_eq!(rows[0], "1|K0020|3.5 km");
     // 3.51 + 6.02 + 3.63 + 5.33 + 5.6 = 24.09 km.
     assert_eq!(text(route, "tfoot td.num"), "24.1 km");
+}
+
+// Check values: `Etc/GMT+4` is four hours behind UTC (IANA tz database,
+// file `etcetera`, POSIX sign); due 2026-11-05 18:00 UTC is 14:00 there.
+#[test]
+fn the_sheet_shows_times_in_the_organisations_zone() {
+    let utc = render_field_sheet(&input()).expect("renders");
+    assert!(utc.contains("2026-11-05 18:00 (UTC+00:00)"), "due in UTC");
+    let mut local = input();
+    local.zone = crate::domain::OrgZone::parse("Etc/GMT+4").expect("zone");
+    let html = render_field_sheet(&local).expect("renders");
+    assert!(html.contains("2026-11-05 14:00 (UTC-04:00)"), "due, local");
+    assert!(
+        html.contains("2026-11-01 02:00 (UTC-04:00)"),
+        "issued, local"
+    );
+    assert!(!html.contains("18:00 (UTC"), "no UTC time left");
 }
 
 #[test]

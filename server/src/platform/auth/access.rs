@@ -36,10 +36,11 @@ pub enum Action {
     ManageUsers,
     ManageTeams,
     EnterFromPaper,
+    Administer,
 }
 
 impl Action {
-    pub const ALL: [Action; 14] = [
+    pub const ALL: [Action; 15] = [
         Action::ImportAlerts,
         Action::ImportZones,
         Action::ManageSources,
@@ -54,6 +55,7 @@ impl Action {
         Action::ManageUsers,
         Action::ManageTeams,
         Action::EnterFromPaper,
+        Action::Administer,
     ];
 
     /// What the action covers, for the rendered table.
@@ -74,6 +76,9 @@ impl Action {
             Action::ManageTeams => "create teams and issue or revoke team tokens",
             Action::EnterFromPaper => {
                 "enter a trip's findings at the station from its paper sheet and camera photos"
+            }
+            Action::Administer => {
+                "the administration pages: users, teams, tokens, sources, settings, change log"
             }
         }
     }
@@ -125,7 +130,7 @@ const N: bool = false;
 
 /// The access matrix. Columns: admin, coordinator, manager, team, anonymous.
 #[rustfmt::skip]
-pub const MATRIX: [(Action, [bool; 5]); 14] = [
+pub const MATRIX: [(Action, [bool; 5]); 15] = [
     //                          admin coord  mgr  team  anon
     (Action::ImportAlerts,     [Y,    Y,     N,   N,    N]),
     (Action::ImportZones,      [Y,    Y,     N,   N,    N]),
@@ -141,6 +146,7 @@ pub const MATRIX: [(Action, [bool; 5]); 14] = [
     (Action::ManageUsers,      [Y,    N,     N,   N,    N]),
     (Action::ManageTeams,      [Y,    Y,     N,   N,    N]),
     (Action::EnterFromPaper,   [Y,    Y,     N,   N,    N]),
+    (Action::Administer,       [Y,    N,     N,   N,    N]),
 ];
 
 /// Whether `principal` may perform `action` (false for anything the table
@@ -233,6 +239,16 @@ mod tests {
         let who: Vec<Principal> = Principal::ALL
             .into_iter()
             .filter(|p| allowed(*p, Action::ManageUsers))
+            .collect();
+        assert_eq!(who, vec![Principal::Admin]);
+    }
+
+    // The brief: the administration pages are for admins only.
+    #[test]
+    fn only_admin_administers() {
+        let who: Vec<Principal> = Principal::ALL
+            .into_iter()
+            .filter(|p| allowed(*p, Action::Administer))
             .collect();
         assert_eq!(who, vec![Principal::Admin]);
     }

@@ -17,6 +17,7 @@
 //! after [`Db::write_bookkeeping`] (sessions, login attempts, tokens, upload
 //! progress), which the statistics never read.
 
+mod admin;
 mod alerts;
 mod auth;
 mod bundles;
@@ -30,6 +31,7 @@ mod station;
 pub(crate) mod stats;
 mod zones;
 
+pub use admin::{ADMIN_MIGRATION, AdminLogEntry, LOG_FIELD_MAX_CHARS, TeamState};
 pub use alerts::{NewAlert, StoredAlert, alerts_cells, e7};
 pub use auth::{ApiTokenRecord, LoginAttempt, SessionRecord, TeamTokenRecord, User};
 pub use bundles::{BundleItem, BundleRecord, NewBundle, Team};
@@ -70,7 +72,7 @@ pub struct Db {
 
 /// Tables that hold no fact the statistics read: accounts, sessions,
 /// tokens, login attempts and upload progress.
-const BOOKKEEPING_TABLES: [&str; 7] = [
+const BOOKKEEPING_TABLES: [&str; 8] = [
     "users",
     "sessions",
     "api_tokens",
@@ -78,6 +80,7 @@ const BOOKKEEPING_TABLES: [&str; 7] = [
     "login_attempts",
     "uploads",
     "pairings",
+    "admin_log",
 ];
 
 /// Which data the stored facts are: equal stamps mean no fact changed in

@@ -132,6 +132,8 @@ const MIGRATIONS: &[&str] = &[
     crate::platform::storage::pairing::PAIRING_MIGRATION,
     // 9: provenance of reports entered at the station from a paper sheet.
     crate::platform::storage::station::STATION_MIGRATION,
+    // 10: the administration log (append-only) and disabled teams.
+    crate::platform::storage::admin::ADMIN_MIGRATION,
 ];
 
 /// The schema version this binary writes.

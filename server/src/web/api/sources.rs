@@ -1,10 +1,14 @@
-//! `GET/POST /api/v1/sources`.
+//! `GET/POST /api/v1/sources`. Registering goes through
+//! `alerts::sources::add_source`, as the `/admin/sources` page and the
+//! command line do, so the change is in the administration log with the
+//! token or user that made it.
 
-use crate::domain::SourceName;
 use crate::error::Error;
+use crate::platform::admin::Actor;
+use crate::platform::auth::{Identity, now_unix};
 use crate::web::AppState;
 use crate::web::error::ApiError;
-use actix_web::{HttpResponse, web};
+use actix_web::{HttpMessage, HttpRequest, HttpResponse, web};
 use serde::Deserialize;
 
 #[derive(Deserialize)]
@@ -22,15 +26,28 @@ pub async fn list(state: web::Data<AppState>) -> Result<HttpResponse, ApiError> 
 }
 
 pub async fn add(
+    req: HttpRequest,
     state: web::Data<AppState>,
     body: web::Json<NewSource>,
 ) -> Result<HttpResponse, ApiError> {
     let b = body.into_inner();
-    let name = SourceName::parse(&b.name).map_err(Error::Invalid)?;
-    crate::alerts::events::validate_source(b.pixel_size_m, b.revisit_days)?;
+    let actor = req
+        .extensions()
+        .get::<Identity>()
+        .and_then(Actor::of)
+        .ok_or_else(|| {
+            Error::Refused("registering a source needs a user or an API token".into())
+        })?;
     let db = state.db.clone();
     let s = web::block(move || {
-        db.write(|tx| tx.add_source(name.as_str(), b.pixel_size_m, b.revisit_days))
+        crate::alerts::sources::add_source(
+            &db,
+            &actor,
+            &b.name,
+            b.pixel_size_m,
+            b.revisit_days,
+            now_unix(),
+        )
     })
     .await??;
     Ok(HttpResponse::Created().json(s))

@@ -11,6 +11,7 @@
 pub use crate::web::error::PageError;
 
 use crate::platform::auth::{Action, Identity, Principal, allowed};
+use crate::platform::settings::Settings;
 use actix_web::http::StatusCode;
 use actix_web::{HttpMessage, HttpRequest, HttpResponse};
 use askama::Template;
@@ -59,13 +60,14 @@ impl Viewer {
 }
 
 /// The pages of the navigation bar: (path, label, action needed).
-pub const NAV: [(&str, &str, Action); 6] = [
+pub const NAV: [(&str, &str, Action); 7] = [
     ("/events", "Events", Action::ViewEvents),
     ("/import", "Import", Action::ImportAlerts),
     ("/trips", "Trips", Action::ViewEvents),
     ("/station", "Station upload", Action::UploadReturn),
     ("/dashboard", "Dashboard", Action::ViewStatistics),
     ("/disputes", "Disputes", Action::ViewStatistics),
+    ("/admin", "Admin", Action::Administer),
 ];
 
 /// One link of the navigation bar.
@@ -216,13 +218,24 @@ pub fn percent(p: f64) -> String {
     }
 }
 
-/// The date part of an RFC 3339 time, with the time to the minute.
-pub fn short_time(rfc3339: &str) -> String {
+/// An instant as people read it: local time of the organisation's zone to
+/// the minute, with the offset (`2026-03-05 14:20 (UTC-04:00)`; the shape
+/// is [`crate::domain::OrgZone::show`]). Every page shows instants through
+/// this (or [`local_unix`], [`local_text`]).
+pub fn local_time(settings: &Settings, t: chrono::DateTime<chrono::Utc>) -> String {
+    settings.zone().show(t)
+}
+
+/// [`local_time`] of Unix seconds ("–" when out of range).
+pub fn local_unix(settings: &Settings, secs: i64) -> String {
+    chrono::DateTime::from_timestamp(secs, 0)
+        .map_or_else(|| "–".to_string(), |t| local_time(settings, t))
+}
+
+/// [`local_time`] of an RFC 3339 text (the text itself when it is not one).
+pub fn local_text(settings: &Settings, rfc3339: &str) -> String {
     match chrono::DateTime::parse_from_rfc3339(rfc3339) {
-        Ok(t) => t
-            .with_timezone(&chrono::Utc)
-            .format("%Y-%m-%d %H:%M UTC")
-            .to_string(),
+        Ok(t) => local_time(settings, t.with_timezone(&chrono::Utc)),
         Err(_) => rfc3339.to_string(),
     }
 }
@@ -237,10 +250,35 @@ mod tests {
         assert_eq!(fixed(f64::NAN, 2), "–");
         assert_eq!(percent(0.1234), "12.3%");
         assert_eq!(
-            short_time("2026-03-01T10:05:59+02:00"),
-            "2026-03-01 08:05 UTC"
+            local_text(&Settings::default(), "2026-03-01T10:05:59+02:00"),
+            "2026-03-01 08:05 (UTC+00:00)"
         );
-        assert_eq!(short_time("not a time"), "not a time");
+    }
+
+    // Check values: IANA tz database (zone EST5EDT, "Rule US 2007 max":
+    // daylight time from 2026-03-08 07:00 UTC), as in domain::localtime.
+    #[test]
+    fn instants_are_shown_in_the_organisations_zone() {
+        let mut s = Settings::default();
+        assert_eq!(
+            local_unix(&s, 1_772_953_200),
+            "2026-03-08 07:00 (UTC+00:00)"
+        );
+        s.organisation.time_zone = "EST5EDT".into();
+        assert_eq!(
+            local_unix(&s, 1_772_953_140),
+            "2026-03-08 01:59 (UTC-05:00)"
+        );
+        assert_eq!(
+            local_unix(&s, 1_772_953_200),
+            "2026-03-08 03:00 (UTC-04:00)"
+        );
+        assert_eq!(
+            local_text(&s, "2026-03-08T07:00:00+00:00"),
+            "2026-03-08 03:00 (UTC-04:00)"
+        );
+        assert_eq!(local_text(&s, "yesterday"), "yesterday");
+        assert_eq!(local_unix(&s, i64::MAX), "–");
     }
 
     #[test]

@@ -258,7 +258,8 @@ fn build(
         sources: lists.choices(&lists.sources, &filter.source),
         from: q.from.clone().unwrap_or_default(),
         to: q.to.clone().unwrap_or_default(),
-        as_of: f.as_of.format("%Y-%m-%d %H:%M UTC").to_string(),
+        // In the organisation's zone: set by `dashboard_page`, which has the settings.
+        as_of: String::new(),
         numbers: numbers(f),
         coverage: coverage_tables(f),
         rates: rate_tables(f),
@@ -540,7 +541,7 @@ async fn dashboard_page(
         Ok::<_, Error>((f, p, lists))
     })
     .await??;
-    page(&build(
+    let mut t = build(
         req,
         viewer,
         &q,
@@ -548,7 +549,9 @@ async fn dashboard_page(
         &figs,
         &prepared.loaded.events,
         &lists,
-    ))
+    );
+    t.as_of = super::common::local_time(&state.settings, figs.as_of);
+    page(&t)
 }
 
 /// `GET /dashboard`.

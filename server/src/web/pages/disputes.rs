@@ -90,6 +90,7 @@ async fn disputes_page(
 ) -> Result<HttpResponse, PageError> {
     let db = state.db.clone();
     let stats = state.stats.clone();
+    let settings = state.settings.clone();
     let disputes = web::block(move || {
         let p = stats.prepared(&db, &StatsFilter::default())?;
         let mut out = Vec::new();
@@ -109,7 +110,7 @@ async fn disputes_page(
                     let counted = uuid::Uuid::parse_str(&row.report_id)
                         .is_ok_and(|u| s.counted_reports.contains(&u));
                     if counted {
-                        reports.push(report_view(r, &row, true)?);
+                        reports.push(report_view(r, &row, true, &settings)?);
                     }
                 }
                 Ok(Dispute {

@@ -368,7 +368,7 @@ async fn load_event(state: &AppState, id: i64) -> Result<EventData, PageError> {
             .map(|s| s.counted_reports.clone())
             .unwrap_or_default();
         let (alerts, sources, zones, reports) = st.db.read(|r| {
-            let reports = report_views(r, rec.id, &counted)?;
+            let reports = report_views(r, rec.id, &counted, &st.settings)?;
             Ok((
                 r.alerts_of_events(&[rec.id])?,
                 r.sources()?,
@@ -394,12 +394,13 @@ fn report_views(
     r: &Reader<'_>,
     event_id: i64,
     counted: &[uuid::Uuid],
+    settings: &crate::platform::settings::Settings,
 ) -> crate::Result<Vec<ReportView>> {
     let rows = r.event_reports(event_id)?;
     let mut reports = Vec::new();
     for row in &rows {
         let is_counted = uuid::Uuid::parse_str(&row.report_id).is_ok_and(|u| counted.contains(&u));
-        reports.push(report_view(r, row, is_counted)?);
+        reports.push(report_view(r, row, is_counted, settings)?);
     }
     Ok(reports)
 }

@@ -13,6 +13,11 @@
 //! | `/station/trips/{id}` (`GET`, `POST`, `POST …/photos`, `POST …/discard`, `GET …/thumbs/{sha}`) | enter a trip from its paper sheet and camera photos |
 //! | `GET /dashboard` | figures for managers |
 //! | `GET /disputes`, `POST /disputes/{id}/adjudicate` | disputes |
+//! | `GET /admin`, `GET /admin/log` | administration (admins only): index, change log |
+//! | `GET/POST /admin/users`, `POST /admin/users/{id}/{role,password,disable,enable}` | users |
+//! | `GET/POST /admin/teams`, `POST /admin/teams/{id}/{disable,enable,tokens}`, `POST /admin/tokens/{id}/revoke` | teams and team tokens |
+//! | `GET/POST /admin/sources`, `POST /admin/sources/{id}` | alert sources |
+//! | `GET/POST /admin/settings` | settings |
 //! | `GET /static/app.css` | the style sheet |
 //!
 //! Each route's permission is named in [`configure`] and checked before its
@@ -21,6 +26,11 @@
 //! [`crate::platform::auth::Principal`]) only to show or hide controls. Every
 //! POST form carries [`csrf_field`].
 
+mod admin;
+mod admin_settings;
+mod admin_sources;
+mod admin_teams;
+mod admin_users;
 mod assets;
 mod common;
 mod dashboard;
@@ -142,6 +152,71 @@ pub fn configure(cfg: &mut web::ServiceConfig) {
             "/disputes/{id}/adjudicate",
             web::post().to(disputes::adjudicate).needs(Adjudicate),
         );
+    configure_admin(cfg);
+}
+
+/// The administration routes: every one needs `Administer` (admins only).
+fn configure_admin(cfg: &mut web::ServiceConfig) {
+    use crate::platform::auth::Action::Administer;
+    use crate::web::access::Access;
+    let add = |cfg: &mut web::ServiceConfig, path: &str, r: actix_web::Route| {
+        cfg.route(path, r.needs(Administer));
+    };
+    add(cfg, "/admin", web::get().to(admin::index));
+    add(cfg, "/admin/log", web::get().to(admin::log));
+    add(cfg, "/admin/users", web::get().to(admin_users::list));
+    add(cfg, "/admin/users", web::post().to(admin_users::add));
+    add(
+        cfg,
+        "/admin/users/{id}/role",
+        web::post().to(admin_users::set_role),
+    );
+    add(
+        cfg,
+        "/admin/users/{id}/password",
+        web::post().to(admin_users::reset_password),
+    );
+    add(
+        cfg,
+        "/admin/users/{id}/disable",
+        web::post().to(admin_users::disable),
+    );
+    add(
+        cfg,
+        "/admin/users/{id}/enable",
+        web::post().to(admin_users::enable),
+    );
+    add(cfg, "/admin/teams", web::get().to(admin_teams::list));
+    add(cfg, "/admin/teams", web::post().to(admin_teams::add));
+    add(
+        cfg,
+        "/admin/teams/{id}/disable",
+        web::post().to(admin_teams::disable),
+    );
+    add(
+        cfg,
+        "/admin/teams/{id}/enable",
+        web::post().to(admin_teams::enable),
+    );
+    add(
+        cfg,
+        "/admin/teams/{id}/tokens",
+        web::post().to(admin_teams::new_token),
+    );
+    add(
+        cfg,
+        "/admin/tokens/{id}/revoke",
+        web::post().to(admin_teams::revoke_token),
+    );
+    add(cfg, "/admin/sources", web::get().to(admin_sources::list));
+    add(cfg, "/admin/sources", web::post().to(admin_sources::add));
+    add(
+        cfg,
+        "/admin/sources/{id}",
+        web::post().to(admin_sources::edit),
+    );
+    add(cfg, "/admin/settings", web::get().to(admin_settings::show));
+    add(cfg, "/admin/settings", web::post().to(admin_settings::save));
 }
 
 #[cfg(test)]

@@ -141,6 +141,7 @@ async fn trip_links(state: &AppState, viewer: &Viewer) -> Vec<TripLink> {
         return Vec::new();
     }
     let (db, dir) = (state.db.clone(), state.data_dir.clone());
+    let settings = state.settings.get().clone();
     let user = viewer.name.clone().unwrap_or_default();
     let found = web::block(move || {
         let bundles = db.read(|r| r.bundles())?;
@@ -150,7 +151,7 @@ async fn trip_links(state: &AppState, viewer: &Viewer) -> Vec<TripLink> {
                 .filter(|b| b.cancelled_at.is_none())
                 .map(|b| TripLink {
                     draft: crate::intake::station::draft::draft_dir(&dir, &user, &b.id).exists(),
-                    issued: super::common::short_time(&b.issued_at),
+                    issued: super::common::local_text(&settings, &b.issued_at),
                     stops: b.events + b.controls,
                     team: b.team,
                     id: b.id,
@@ -210,7 +211,7 @@ pub async fn received(
         return_id: doc.return_id,
         bundle_id: doc.bundle_id.to_string(),
         sha256: doc.sha256.clone(),
-        received_at: super::common::short_time(&doc.received_at),
+        received_at: super::common::local_text(&state.settings, &doc.received_at),
         accepted,
         duplicate,
         rejected,

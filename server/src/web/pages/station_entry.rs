@@ -12,13 +12,14 @@
 //! | `POST /station/trips/{id}/discard` | throw the draft away |
 //! | `GET /station/trips/{id}/thumbs/{sha256}` | a draft photo's thumbnail |
 
-use super::common::{Layout, PageError, Viewer, html, respond, see_other, short_time};
+use super::common::{Layout, PageError, Viewer, html, local_time, respond, see_other};
 use super::form::{field_name, file_name, human_bytes, next_chunk, next_field, read_bounded};
 use super::station::Received;
 use crate::intake::IntakeError;
 use crate::intake::station::draft::{self, Draft, StopEntry};
 use crate::intake::station::propose::Basis;
 use crate::intake::station::{self as entry, EntryForm, Trip};
+use crate::platform::settings::Settings;
 use crate::web::AppState;
 use crate::web::pages::common::MAX_TEXT_FIELD_BYTES;
 use actix_multipart::Multipart;
@@ -116,7 +117,7 @@ fn basis_words(b: &Basis, d: &Draft, trip: &Trip) -> String {
     }
 }
 
-fn photo_views(trip: &Trip, d: &Draft, tolerance_m: f64) -> Vec<PhotoView> {
+fn photo_views(trip: &Trip, d: &Draft, tolerance_m: f64, settings: &Settings) -> Vec<PhotoView> {
     let offset = entry::local_offset(d);
     entry::placements(trip, d, tolerance_m)
         .into_iter()
@@ -125,7 +126,7 @@ fn photo_views(trip: &Trip, d: &Draft, tolerance_m: f64) -> Vec<PhotoView> {
             sha: p.sha256.clone(),
             name: p.original_name.clone(),
             time: entry::photo_time(p, offset)
-                .map_or_else(|| "no time".into(), |t| short_time(&t.to_rfc3339())),
+                .map_or_else(|| "no time".into(), |t| local_time(settings, t)),
             position: match (p.lat, p.lon) {
                 (Some(la), Some(lo)) => format!("{la:.6}, {lo:.6}"),
                 _ => "no position".into(),
@@ -157,10 +158,11 @@ fn page(
     trip: &Trip,
     d: &Draft,
     tol: f64,
+    settings: &Settings,
     s: Shown,
 ) -> EntryPage {
     let cl = entry::checklist();
-    let mut photos = photo_views(trip, d, tol);
+    let mut photos = photo_views(trip, d, tol, settings);
     photos.sort_by(|a, b| a.time.cmp(&b.time).then(a.name.cmp(&b.name)));
     let stops = trip
         .stops
@@ -250,7 +252,7 @@ async fn show_page(
     let user = user_of(viewer)?;
     let (trip, d) = load(state, id, &user).await?;
     let tol = state.intake_options().tolerance_m;
-    let body = page(req, viewer, &trip, &d, tol, shown).render()?;
+    let body = page(req, viewer, &trip, &d, tol, &state.settings, shown).render()?;
     Ok(html(status, body))
 }
 

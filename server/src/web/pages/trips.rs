@@ -4,8 +4,8 @@
 //! preview map and the download link; `POST /trips/{id}/cancel` cancels.
 
 use super::common::{
-    Layout, PageError, Viewer, fixed, html, non_empty, opt_number, page, respond, see_other,
-    short_time,
+    Layout, PageError, Viewer, fixed, html, local_text, non_empty, opt_number, page, respond,
+    see_other,
 };
 use super::events::Choice;
 use super::views::{map_events, map_input, map_zones};
@@ -14,6 +14,7 @@ use crate::domain::{BundleMode, Day, LonLat};
 use crate::error::Error;
 use crate::planning::{IssuedBundle, TripRequest, cancel_bundle, issue_bundle};
 use crate::platform::auth::Action;
+use crate::platform::settings::Settings;
 use crate::platform::storage::{BundleRecord, Team, ZoneRecord};
 use crate::web::AppState;
 use crate::web::charts::render_map;
@@ -162,7 +163,7 @@ async fn trips_page(
     let mut form = form;
     start_at_last_trip(&mut form, &bundles);
     let may = (may_cancel, viewer.may(Action::IssueBundle));
-    let rows = bundle_rows(&bundles, &counts, may, chrono::Utc::now());
+    let rows = bundle_rows(&bundles, &counts, may, chrono::Utc::now(), &state.settings);
     let status = error.as_ref().map_or(StatusCode::OK, |e| e.status);
     let t = TripsPage {
         layout: Layout::new(req, viewer, "Trips", "/trips"),
@@ -197,11 +198,19 @@ fn not_expired(expires_at: &str, now: chrono::DateTime<chrono::Utc>) -> bool {
 
 /// One table row per bundle, latest issued first; `may` is (may cancel,
 /// may pair a phone).
+/// When a bundle was issued (its RFC 3339 text read), for ordering.
+fn issued_at(b: &BundleRecord) -> Option<chrono::DateTime<chrono::Utc>> {
+    chrono::DateTime::parse_from_rfc3339(&b.issued_at)
+        .ok()
+        .map(|t| t.with_timezone(&chrono::Utc))
+}
+
 fn bundle_rows(
     bundles: &[BundleRecord],
     counts: &HashMap<String, (i64, i64)>,
     (may_cancel, may_pair): (bool, bool),
     now: chrono::DateTime<chrono::Utc>,
+    settings: &Settings,
 ) -> Vec<BundleRow> {
     let mut rows: Vec<BundleRow> = bundles
         .iter()
@@ -218,8 +227,8 @@ fn bundle_rows(
                 id: b.id.clone(),
                 team: b.team.clone(),
                 mode: b.mode.clone(),
-                issued: short_time(&b.issued_at),
-                due: short_time(&b.due_at),
+                issued: local_text(settings, &b.issued_at),
+                due: local_text(settings, &b.due_at),
                 events: b.events,
                 controls: b.controls,
                 route_km: fixed(b.route_m / 1000.0, 1),
@@ -234,7 +243,13 @@ fn bundle_rows(
             }
         })
         .collect();
-    rows.sort_by(|a, b| b.issued.cmp(&a.issued));
+    // Newest first, by the instant (local times do not sort as text across
+    // a change of offset).
+    let issued: HashMap<&str, _> = bundles
+        .iter()
+        .map(|b| (b.id.as_str(), issued_at(b)))
+        .collect();
+    rows.sort_by_key(|r| std::cmp::Reverse(issued.get(r.id.as_str()).copied().flatten()));
     rows
 }
 
@@ -325,10 +340,8 @@ pub struct PairingView {
 }
 
 impl PairingView {
-    fn of(p: ShownPairing) -> PairingView {
-        let expires = chrono::DateTime::from_timestamp(p.expires_at, 0)
-            .map(|t| short_time(&t.to_rfc3339()))
-            .unwrap_or_default();
+    fn of(p: ShownPairing, settings: &Settings) -> PairingView {
+        let expires = super::common::local_unix(settings, p.expires_at);
         PairingView {
             code: p.code,
             link: p.link,
@@ -401,7 +414,7 @@ async fn issue_page(
         id: b.id.clone(),
         team: b.team.clone(),
         mode: b.mode.clone(),
-        due: short_time(&b.due_at),
+        due: local_text(&state.settings, &b.due_at),
         route_km: fixed(out.route_m / 1000.0, 2),
         walking_hours: fixed(out.walking_hours, 1),
         route_method: out.route_method.clone(),
@@ -429,7 +442,7 @@ async fn issue_page(
                 probability: fixed(s.inclusion_probability, 4),
             })
             .collect(),
-        pairing: shown.map(PairingView::of),
+        pairing: shown.map(|p| PairingView::of(p, &state.settings)),
     };
     let mut resp = page(&t)?;
     *resp.status_mut() = StatusCode::CREATED;
@@ -535,8 +548,8 @@ pub async fn pair(
             layout: Layout::new(&req, &viewer, "Pair a phone", "/trips"),
             id: b.id,
             team: b.team,
-            due: short_time(&b.due_at),
-            p: PairingView::of(shown),
+            due: local_text(&state.settings, &b.due_at),
+            p: PairingView::of(shown, &state.settings),
         };
         let mut resp = page(&t)?;
         *resp.status_mut() = StatusCode::CREATED;

@@ -2,8 +2,9 @@
 //! report with its photos and evidence checks, and the map input built
 //! from stored zones and events.
 
-use super::common::{fixed, short_time};
+use super::common::{fixed, local_text};
 use crate::alerts::events::{RankedEvent, parse_multipolygon};
+use crate::platform::settings::Settings;
 use crate::platform::storage::{PhotoCheckRow, Reader, ReportPhotoRow, ReportRow, ZoneRecord};
 use crate::reconcile::StatusOutcome;
 use crate::web::charts::{EventStatus, MapEvent, MapInput, MapZone};
@@ -131,8 +132,14 @@ pub fn check_text(c: &PhotoCheckRow) -> (String, bool) {
     (parts.join("; "), ok)
 }
 
-/// A report with its photos and checks, read through `r`.
-pub fn report_view(r: &Reader<'_>, row: &ReportRow, counted: bool) -> crate::Result<ReportView> {
+/// A report with its photos and checks, read through `r`; its times in the
+/// organisation's zone.
+pub fn report_view(
+    r: &Reader<'_>,
+    row: &ReportRow,
+    counted: bool,
+    settings: &Settings,
+) -> crate::Result<ReportView> {
     let photos: Vec<ReportPhotoRow> = r.report_photos(&row.report_id)?;
     let checks = r.photo_checks(&row.report_id)?;
     let photos = photos
@@ -168,8 +175,8 @@ pub fn report_view(r: &Reader<'_>, row: &ReportRow, counted: bool) -> crate::Res
         outcome_class: row.outcome.to_string(),
         reason: row.reason.map_or("", |w| w.as_str()).replace('_', " "),
         cause: row.cause.map_or("", |w| w.as_str()).replace('_', " "),
-        observed: short_time(&row.observed_at.to_string()),
-        received: short_time(&row.received_at.to_string()),
+        observed: local_text(settings, &row.observed_at.to_string()),
+        received: local_text(settings, &row.received_at.to_string()),
         position,
         distance: row
             .distance_m
@@ -186,7 +193,7 @@ pub fn report_view(r: &Reader<'_>, row: &ReportRow, counted: bool) -> crate::Res
                 "entered at the station by {} from paper sheet {}, {}",
                 e.entered_by,
                 e.sheet,
-                short_time(&e.entered_at)
+                super::common::local_text(settings, &e.entered_at)
             ),
             None => "field tool (signed return)".to_string(),
         },

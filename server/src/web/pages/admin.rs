@@ -1,0 +1,235 @@
+//! The administration pages under `/admin` (admins only: every route needs
+//! `Action::Administer`): the index, the change log, and what every admin
+//! page shares. Users are in `admin_users`, teams and their tokens in
+//! `admin_teams`, sources in `admin_sources`, settings in `admin_settings`.
+//!
+//! Each change goes through the same functions as the command line
+//! (`platform::admin`, `alerts::sources`), which write the change and its row
+//! of the administration log in one transaction. A refused form re-shows its
+//! page with the reason and changes nothing; a saved one redirects (303) to
+//! its page with `?done=1`, which shows the newest log row of this admin.
+
+use super::common::{Layout, PageError, Viewer};
+use crate::platform::admin::Actor;
+use crate::platform::auth::Identity;
+use crate::platform::storage::AdminLogEntry;
+use crate::web::AppState;
+use actix_web::{HttpMessage, HttpRequest, HttpResponse, web};
+use askama::Template;
+use serde::Deserialize;
+
+/// Log rows shown on one page of the change log.
+pub const LOG_PAGE_ROWS: usize = 100;
+/// Recent log rows shown under each admin section.
+const RECENT_ROWS: usize = 200;
+
+/// The sections of the administration: (path, label).
+pub const SECTIONS: [(&str, &str); 5] = [
+    ("/admin/users", "Users"),
+    ("/admin/teams", "Teams and tokens"),
+    ("/admin/sources", "Sources"),
+    ("/admin/settings", "Settings"),
+    ("/admin/log", "Change log"),
+];
+
+/// One log row as shown.
+pub struct LogRow {
+    pub when: String,
+    pub actor: String,
+    pub action: String,
+    pub subject: String,
+    pub detail: String,
+}
+
+/// A link of the administration's own navigation.
+pub struct SectionLink {
+    pub href: &'static str,
+    pub label: &'static str,
+    pub current: bool,
+}
+
+fn links(current: &str) -> Vec<SectionLink> {
+    SECTIONS
+        .iter()
+        .map(|(href, label)| SectionLink {
+            href,
+            label,
+            current: *href == current,
+        })
+        .collect()
+}
+
+/// What every admin page shows above its own content.
+pub struct Chrome {
+    /// The current section's heading.
+    pub title: &'static str,
+    pub sections: Vec<SectionLink>,
+    /// "Saved: …" after a change.
+    pub notice: Option<String>,
+    /// Why a form was refused (nothing changed).
+    pub error: Option<PageError>,
+    /// The newest changes of this section (log rows whose action starts
+    /// with the section's prefix).
+    pub recent: Vec<LogRow>,
+}
+
+/// `?done=1` after a saved change.
+#[derive(Debug, Deserialize, Default)]
+pub struct DoneQuery {
+    pub done: Option<u8>,
+}
+
+/// The actor of the request (the access layer put its identity there).
+pub fn actor(req: &HttpRequest) -> Result<Actor, PageError> {
+    req.extensions()
+        .get::<Identity>()
+        .and_then(Actor::of)
+        .ok_or_else(|| {
+            PageError::new(
+                actix_web::http::StatusCode::FORBIDDEN,
+                "Only a signed-in admin may change this.",
+            )
+        })
+}
+
+/// A log row for people: the time in the organisation's zone.
+pub fn log_row(state: &AppState, e: &AdminLogEntry) -> LogRow {
+    LogRow {
+        when: super::common::local_unix(&state.settings, e.at),
+        actor: e.actor.clone(),
+        action: e.action.clone(),
+        subject: e.subject.clone(),
+        detail: e.detail.clone(),
+    }
+}
+
+/// Build the shared part of an admin page: the notice from the log (when
+/// `done`), the section's recent changes, and the refusal if any.
+pub async fn chrome(
+    req: &HttpRequest,
+    state: &AppState,
+    section: &'static str,
+    prefixes: &'static [&'static str],
+    done: bool,
+    error: Option<PageError>,
+) -> Result<(Layout, Chrome), PageError> {
+    let viewer = Viewer::of(req);
+    let title = SECTIONS
+        .iter()
+        .find(|(p, _)| *p == section)
+        .map_or("Administration", |(_, l)| l);
+    let db = state.db.clone();
+    let rows = web::block(move || db.read(|r| r.admin_log(None, RECENT_ROWS))).await??;
+    let me = actor(req).ok().map(|a| a.text());
+    let notice = done
+        .then(|| rows.iter().find(|r| Some(&r.actor) == me.as_ref()))
+        .flatten()
+        .map(|r| format!("Saved: {}: {}.", r.subject, r.detail));
+    let recent = rows
+        .iter()
+        .filter(|r| prefixes.iter().any(|p| r.action.starts_with(p)))
+        .take(10)
+        .map(|r| log_row(state, r))
+        .collect();
+    let layout = Layout::new(req, &viewer, &format!("Administration: {title}"), "/admin");
+    Ok((
+        layout,
+        Chrome {
+            title,
+            sections: links(section),
+            notice,
+            error,
+            recent,
+        },
+    ))
+}
+
+/// The status of a page that shows `chrome` (its refusal's, or 200).
+pub fn status_of(chrome: &Chrome) -> actix_web::http::StatusCode {
+    chrome
+        .error
+        .as_ref()
+        .map_or(actix_web::http::StatusCode::OK, |e| e.status)
+}
+
+/// Render an admin page with the status its chrome says.
+pub fn render(t: &impl Template, chrome: &Chrome) -> Result<HttpResponse, PageError> {
+    Ok(super::common::html(status_of(chrome), t.render()?))
+}
+
+#[derive(Template)]
+#[template(path = "pages/admin.html")]
+struct IndexPage {
+    layout: Layout,
+    sections: Vec<SectionLink>,
+}
+
+/// `GET /admin`: the sections.
+pub async fn index(req: HttpRequest) -> HttpResponse {
+    let viewer = Viewer::of(&req);
+    let t = IndexPage {
+        layout: Layout::new(&req, &viewer, "Administration", "/admin"),
+        sections: links(""),
+    };
+    super::common::respond(&req, &viewer, super::common::page(&t))
+}
+
+#[derive(Template)]
+#[template(path = "pages/admin_log.html")]
+struct LogPage {
+    layout: Layout,
+    chrome: Chrome,
+    rows: Vec<LogRow>,
+    /// The id to page on from (`?before=`), when there are older rows.
+    older: Option<i64>,
+}
+
+/// `?before=ID` of the change log.
+#[derive(Debug, Deserialize, Default)]
+pub struct LogQuery {
+    pub before: Option<i64>,
+}
+
+/// `GET /admin/log`: every change, newest first, a page at a time.
+pub async fn log(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    q: Result<web::Query<LogQuery>, actix_web::Error>,
+) -> HttpResponse {
+    let viewer = Viewer::of(&req);
+    let r = async {
+        let before = q
+            .map_err(|e| PageError::bad_request(format!("The page address is not valid: {e}")))?
+            .before;
+        let db = state.db.clone();
+        let entries =
+            web::block(move || db.read(|r| r.admin_log(before, LOG_PAGE_ROWS + 1))).await??;
+        let older = (entries.len() > LOG_PAGE_ROWS).then(|| entries[LOG_PAGE_ROWS - 1].id);
+        let rows = entries
+            .iter()
+            .take(LOG_PAGE_ROWS)
+            .map(|e| log_row(&state, e))
+            .collect();
+        let (layout, chrome) = chrome(&req, &state, "/admin/log", &[], false, None).await?;
+        let t = LogPage {
+            layout,
+            chrome,
+            rows,
+            older,
+        };
+        render(&t, &t.chrome)
+    }
+    .await;
+    super::common::respond(&req, &viewer, r)
+}
+
+/// A path id that must be a number; the message names what it is.
+pub fn path_id(raw: &str, what: &str) -> Result<i64, PageError> {
+    raw.parse()
+        .map_err(|_| PageError::bad_request(format!("{what} id '{raw}' is not a number")))
+}
+
+/// A form that could not be read at all.
+pub fn unreadable(e: actix_web::Error) -> PageError {
+    PageError::bad_request(format!("The form could not be read: {e}"))
+}

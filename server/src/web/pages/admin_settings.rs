@@ -1,0 +1,166 @@
+//! `/admin/settings`: the priority weights, the evidence tolerance, the
+//! organisation's time zone and default language. Saving goes through
+//! `platform::admin::change_settings`: the file `DATA/settings.toml` is read
+//! again, changed, checked as a whole, written durably, logged, and then
+//! used by the running server. Bad input changes nothing.
+
+use super::admin::{self, Chrome, DoneQuery};
+use super::common::{PageError, Viewer, respond, see_other};
+use crate::error::Error;
+use crate::platform::admin as ops;
+use crate::platform::auth::now_unix;
+use crate::platform::settings::{
+    AREA_REF_MAX_HA, LANGUAGES, RECENCY_MAX_DAYS, Settings, TOLERANCE_MAX_M, WEIGHT_MAX,
+};
+use crate::web::AppState;
+use actix_web::{HttpRequest, HttpResponse, web};
+use askama::Template;
+use serde::Deserialize;
+
+/// The settings form, every field as typed.
+#[derive(Debug, Deserialize, Default, Clone)]
+#[serde(default)]
+pub struct SettingsForm {
+    pub area: String,
+    pub recency: String,
+    pub corroboration: String,
+    pub confidence: String,
+    pub zone: String,
+    pub area_ref_ha: String,
+    pub recency_days: String,
+    pub tolerance_m: String,
+    pub time_zone: String,
+    pub default_language: String,
+}
+
+impl SettingsForm {
+    /// The form filled with the values in force.
+    fn of(s: &Settings) -> SettingsForm {
+        let p = &s.priority;
+        let t = |v: f64| v.to_string();
+        SettingsForm {
+            area: t(p.area),
+            recency: t(p.recency),
+            corroboration: t(p.corroboration),
+            confidence: t(p.confidence),
+            zone: t(p.zone),
+            area_ref_ha: t(p.area_ref_ha),
+            recency_days: t(p.recency_days),
+            tolerance_m: t(s.evidence.tolerance_m),
+            time_zone: s.organisation.time_zone.clone(),
+            default_language: s.organisation.default_language.clone(),
+        }
+    }
+
+    /// Apply the form to `s`; a message names the field that is not a
+    /// number (bounds are checked on the whole by `Settings::check`).
+    fn apply(&self, s: &mut Settings) -> Result<(), Error> {
+        let num = |label: &str, v: &str| -> Result<f64, Error> {
+            let t = v.trim();
+            t.parse::<f64>()
+                .ok()
+                .filter(|x| x.is_finite())
+                .ok_or_else(|| Error::Invalid(format!("{label}: '{t}' is not a number")))
+        };
+        let p = &mut s.priority;
+        p.area = num("Weight of area", &self.area)?;
+        p.recency = num("Weight of recency", &self.recency)?;
+        p.corroboration = num("Weight of corroboration", &self.corroboration)?;
+        p.confidence = num("Weight of confidence", &self.confidence)?;
+        p.zone = num("Weight of priority zone", &self.zone)?;
+        p.area_ref_ha = num("Reference area (ha)", &self.area_ref_ha)?;
+        p.recency_days = num("Recency time (days)", &self.recency_days)?;
+        s.evidence.tolerance_m = num("Evidence tolerance (m)", &self.tolerance_m)?;
+        s.organisation.time_zone = self.time_zone.trim().to_string();
+        s.organisation.default_language = self.default_language.trim().to_string();
+        Ok(())
+    }
+}
+
+#[derive(Template)]
+#[template(path = "pages/admin_settings.html")]
+struct SettingsPage {
+    layout: super::common::Layout,
+    chrome: Chrome,
+    f: SettingsForm,
+    languages: Vec<&'static str>,
+    zones: Vec<&'static str>,
+    weight_max: f64,
+    area_ref_max: f64,
+    recency_max: f64,
+    tolerance_max: f64,
+    file: String,
+}
+
+async fn settings_page(
+    req: &HttpRequest,
+    state: &AppState,
+    done: bool,
+    error: Option<PageError>,
+    typed: Option<SettingsForm>,
+) -> Result<HttpResponse, PageError> {
+    let (layout, chrome) =
+        admin::chrome(req, state, "/admin/settings", &["settings."], done, error).await?;
+    let t = SettingsPage {
+        layout,
+        chrome,
+        f: typed.unwrap_or_else(|| SettingsForm::of(&state.settings)),
+        languages: LANGUAGES.to_vec(),
+        zones: chrono_tz::TZ_VARIANTS.iter().map(|z| z.name()).collect(),
+        weight_max: WEIGHT_MAX,
+        area_ref_max: AREA_REF_MAX_HA,
+        recency_max: RECENCY_MAX_DAYS,
+        tolerance_max: TOLERANCE_MAX_M,
+        file: crate::platform::settings::settings_path(&state.data_dir)
+            .display()
+            .to_string(),
+    };
+    admin::render(&t, &t.chrome)
+}
+
+/// `GET /admin/settings`.
+pub async fn show(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    q: Result<web::Query<DoneQuery>, actix_web::Error>,
+) -> HttpResponse {
+    let viewer = Viewer::of(&req);
+    let done = q.ok().and_then(|q| q.done).is_some();
+    let r = settings_page(&req, &state, done, None, None).await;
+    respond(&req, &viewer, r)
+}
+
+/// `POST /admin/settings` (every field of the form).
+pub async fn save(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    form: Result<web::Form<SettingsForm>, actix_web::Error>,
+) -> HttpResponse {
+    let viewer = Viewer::of(&req);
+    let typed = form.as_ref().ok().map(|f| (**f).clone());
+    let r = async {
+        let f = form.map_err(admin::unreadable)?.into_inner();
+        let actor = admin::actor(&req)?;
+        let st = state.clone();
+        web::block(move || {
+            ops::change_settings(
+                &st.db,
+                &st.settings,
+                &st.data_dir,
+                &actor,
+                |s| f.apply(s),
+                now_unix(),
+            )
+        })
+        .await??;
+        Ok::<_, PageError>(see_other("/admin/settings?done=1"))
+    }
+    .await;
+    match r {
+        Ok(resp) => resp,
+        Err(e) => {
+            let r = settings_page(&req, &state, false, Some(e), typed).await;
+            respond(&req, &viewer, r)
+        }
+    }
+}

@@ -1,0 +1,167 @@
+//! `/admin/sources`: register an alert source and edit one's pixel size
+//! (while none of its alerts is stored) and revisit interval, through
+//! `alerts::sources` with its log row.
+
+use super::admin::{self, Chrome, DoneQuery};
+use super::admin_users::split;
+use super::common::{PageError, Viewer, respond, see_other};
+use crate::alerts::sources as ops;
+use crate::error::Error;
+use crate::platform::admin::Actor;
+use crate::platform::auth::now_unix;
+use crate::web::AppState;
+use actix_web::{HttpRequest, HttpResponse, web};
+use askama::Template;
+use serde::Deserialize;
+
+struct SourceRow {
+    id: i64,
+    name: String,
+    pixel_size_m: f64,
+    revisit_days: i64,
+    has_alerts: bool,
+}
+
+#[derive(Template)]
+#[template(path = "pages/admin_sources.html")]
+struct SourcesPage {
+    layout: super::common::Layout,
+    chrome: Chrome,
+    sources: Vec<SourceRow>,
+    typed: SourceForm,
+}
+
+/// The add and edit forms (edit sends no name).
+#[derive(Debug, Deserialize, Default, Clone)]
+pub struct SourceForm {
+    pub name: Option<String>,
+    pub pixel_size_m: Option<String>,
+    pub revisit_days: Option<String>,
+}
+
+impl SourceForm {
+    /// The two numbers; a message names the field and the value.
+    fn numbers(&self) -> Result<(f64, i64), PageError> {
+        let pixel = number::<f64>("Pixel size (m)", &self.pixel_size_m)?;
+        let revisit = number::<i64>("Revisit interval (days)", &self.revisit_days)?;
+        Ok((pixel, revisit))
+    }
+}
+
+fn number<T: std::str::FromStr>(label: &str, v: &Option<String>) -> Result<T, PageError> {
+    super::common::opt_number::<T>(label, v)?
+        .ok_or_else(|| PageError::bad_request(format!("{label}: a number is needed.")))
+}
+
+async fn sources_page(
+    req: &HttpRequest,
+    state: &AppState,
+    done: bool,
+    error: Option<PageError>,
+    typed: SourceForm,
+) -> Result<HttpResponse, PageError> {
+    let db = state.db.clone();
+    let sources = web::block(move || {
+        db.read(|r| {
+            r.sources()?
+                .into_iter()
+                .map(|s| {
+                    Ok(SourceRow {
+                        has_alerts: r.source_has_alerts(s.id)?,
+                        id: s.id,
+                        name: s.name,
+                        pixel_size_m: s.pixel_size_m,
+                        revisit_days: s.revisit_days,
+                    })
+                })
+                .collect::<Result<Vec<_>, Error>>()
+        })
+    })
+    .await??;
+    let (layout, chrome) =
+        admin::chrome(req, state, "/admin/sources", &["source."], done, error).await?;
+    let t = SourcesPage {
+        layout,
+        chrome,
+        sources,
+        typed,
+    };
+    admin::render(&t, &t.chrome)
+}
+
+/// `GET /admin/sources`.
+pub async fn list(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    q: Result<web::Query<DoneQuery>, actix_web::Error>,
+) -> HttpResponse {
+    let viewer = Viewer::of(&req);
+    let done = q.ok().and_then(|q| q.done).is_some();
+    let r = sources_page(&req, &state, done, None, SourceForm::default()).await;
+    respond(&req, &viewer, r)
+}
+
+async fn apply(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    typed: SourceForm,
+    change: impl FnOnce(Actor, i64) -> Result<(), Error> + Send + 'static,
+    checked: Result<(), PageError>,
+) -> HttpResponse {
+    let viewer = Viewer::of(&req);
+    let r = async {
+        checked?;
+        let actor = admin::actor(&req)?;
+        web::block(move || change(actor, now_unix())).await??;
+        Ok::<_, PageError>(see_other("/admin/sources?done=1"))
+    }
+    .await;
+    match r {
+        Ok(resp) => resp,
+        Err(e) => {
+            let r = sources_page(&req, &state, false, Some(e), typed).await;
+            respond(&req, &viewer, r)
+        }
+    }
+}
+
+/// `POST /admin/sources` (name, pixel size, revisit interval).
+pub async fn add(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    form: Result<web::Form<SourceForm>, actix_web::Error>,
+) -> HttpResponse {
+    let f = form.map(|f| f.into_inner());
+    let typed = f.as_ref().cloned().unwrap_or_default();
+    let checked = f.map_err(admin::unreadable).and_then(|f| {
+        let (p, r) = f.numbers()?;
+        Ok((f.name.unwrap_or_default(), p, r))
+    });
+    let db = state.db.clone();
+    let (ok, args) = split(checked);
+    let change = move |actor: Actor, now| match args {
+        Some((n, p, r)) => ops::add_source(&db, &actor, &n, p, r, now).map(|_| ()),
+        None => Ok(()),
+    };
+    apply(req, state, typed, change, ok).await
+}
+
+/// `POST /admin/sources/{id}` (pixel size, revisit interval).
+pub async fn edit(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    path: web::Path<String>,
+    form: Result<web::Form<SourceForm>, actix_web::Error>,
+) -> HttpResponse {
+    let checked = admin::path_id(&path, "source").and_then(|id| {
+        let (p, r) = form.map_err(admin::unreadable)?.numbers()?;
+        Ok((id, p, r))
+    });
+    let db = state.db.clone();
+    let (ok, args) = split(checked);
+    let change = move |actor: Actor, now| match args {
+        Some((id, p, r)) => ops::edit_source(&db, &actor, id, p, r, now).map(|_| ()),
+        None => Ok(()),
+    };
+    apply(req, state, SourceForm::default(), change, ok).await
+}

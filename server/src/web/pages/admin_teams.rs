@@ -1,0 +1,232 @@
+//! `/admin/teams`: add a team, disable it (its tokens are revoked) or
+//! enable it again, create a team token (shown once, on the answer to the
+//! POST itself, never in an address) and revoke one; through
+//! `platform::admin` with its log row.
+
+use super::admin::{self, Chrome, DoneQuery};
+use super::admin_users::split;
+use super::common::{PageError, Viewer, local_unix, respond, see_other};
+use crate::error::Error;
+use crate::platform::admin as ops;
+use crate::platform::auth::now_unix;
+use crate::web::AppState;
+use actix_web::{HttpRequest, HttpResponse, web};
+use askama::Template;
+use serde::Deserialize;
+
+struct TokenRow {
+    id: i64,
+    created: String,
+}
+
+struct TeamRow {
+    id: i64,
+    name: String,
+    disabled: Option<String>,
+    tokens: Vec<TokenRow>,
+    revoked: usize,
+}
+
+/// A token just made: shown on this answer only.
+struct NewToken {
+    team: String,
+    id: i64,
+    token: String,
+}
+
+#[derive(Template)]
+#[template(path = "pages/admin_teams.html")]
+struct TeamsPage {
+    layout: super::common::Layout,
+    chrome: Chrome,
+    teams: Vec<TeamRow>,
+    new_token: Option<NewToken>,
+    typed_name: String,
+}
+
+/// The add form.
+#[derive(Debug, Deserialize, Default)]
+pub struct TeamForm {
+    pub name: Option<String>,
+}
+
+async fn teams_page(
+    req: &HttpRequest,
+    state: &AppState,
+    done: bool,
+    error: Option<PageError>,
+    new_token: Option<NewToken>,
+    typed_name: String,
+) -> Result<HttpResponse, PageError> {
+    let db = state.db.clone();
+    let (teams, tokens) =
+        web::block(move || db.read(|r| Ok((r.team_states()?, r.team_tokens()?)))).await??;
+    let when = |s| local_unix(&state.settings, s);
+    let rows = teams
+        .into_iter()
+        .map(|t| {
+            let mine = tokens.iter().filter(|k| k.team_name == t.name);
+            TeamRow {
+                id: t.id,
+                disabled: t.disabled_at.map(when),
+                tokens: mine
+                    .clone()
+                    .filter(|k| k.revoked_at.is_none())
+                    .map(|k| TokenRow {
+                        id: k.id,
+                        created: when(k.created_at),
+                    })
+                    .collect(),
+                revoked: mine.filter(|k| k.revoked_at.is_some()).count(),
+                name: t.name,
+            }
+        })
+        .collect();
+    let prefixes: &[&str] = &["team.", "token."];
+    let (layout, chrome) = admin::chrome(req, state, "/admin/teams", prefixes, done, error).await?;
+    let t = TeamsPage {
+        layout,
+        chrome,
+        teams: rows,
+        new_token,
+        typed_name,
+    };
+    admin::render(&t, &t.chrome)
+}
+
+/// `GET /admin/teams`.
+pub async fn list(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    q: Result<web::Query<DoneQuery>, actix_web::Error>,
+) -> HttpResponse {
+    let viewer = Viewer::of(&req);
+    let done = q.ok().and_then(|q| q.done).is_some();
+    let r = teams_page(&req, &state, done, None, None, String::new()).await;
+    respond(&req, &viewer, r)
+}
+
+/// Run `change` and redirect to the teams page, or show it with the refusal.
+async fn apply(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    typed_name: String,
+    change: impl FnOnce(ops::Actor, i64) -> Result<(), Error> + Send + 'static,
+    checked: Result<(), PageError>,
+) -> HttpResponse {
+    let viewer = Viewer::of(&req);
+    let r = async {
+        checked?;
+        let actor = admin::actor(&req)?;
+        web::block(move || change(actor, now_unix())).await??;
+        Ok::<_, PageError>(see_other("/admin/teams?done=1"))
+    }
+    .await;
+    match r {
+        Ok(resp) => resp,
+        Err(e) => {
+            let r = teams_page(&req, &state, false, Some(e), None, typed_name).await;
+            respond(&req, &viewer, r)
+        }
+    }
+}
+
+/// `POST /admin/teams` (name).
+pub async fn add(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    form: Result<web::Form<TeamForm>, actix_web::Error>,
+) -> HttpResponse {
+    let checked = form
+        .map_err(admin::unreadable)
+        .map(|f| f.into_inner().name.unwrap_or_default());
+    let typed = checked.as_ref().cloned().unwrap_or_default();
+    let db = state.db.clone();
+    let (ok, name) = split(checked);
+    let change = move |actor: ops::Actor, now| match name {
+        Some(n) => ops::add_team(&db, &actor, &n, now).map(|_| ()),
+        None => Ok(()),
+    };
+    apply(req, state, typed, change, ok).await
+}
+
+async fn set_disabled(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    raw: &str,
+    off: bool,
+) -> HttpResponse {
+    let db = state.db.clone();
+    let (ok, id) = split(admin::path_id(raw, "team"));
+    let change = move |actor: ops::Actor, now| match id {
+        Some(id) => ops::set_team_disabled(&db, &actor, id, off, now).map(|_| ()),
+        None => Ok(()),
+    };
+    apply(req, state, String::new(), change, ok).await
+}
+
+/// `POST /admin/teams/{id}/disable`.
+pub async fn disable(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    path: web::Path<String>,
+) -> HttpResponse {
+    set_disabled(req, state, &path, true).await
+}
+
+/// `POST /admin/teams/{id}/enable`.
+pub async fn enable(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    path: web::Path<String>,
+) -> HttpResponse {
+    set_disabled(req, state, &path, false).await
+}
+
+/// `POST /admin/teams/{id}/tokens`: a new token, shown once on this answer.
+pub async fn new_token(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    path: web::Path<String>,
+) -> HttpResponse {
+    let viewer = Viewer::of(&req);
+    let made = async {
+        let id = admin::path_id(&path, "team")?;
+        let actor = admin::actor(&req)?;
+        let db = state.db.clone();
+        let out = web::block(move || {
+            let team = db
+                .read(|r| r.team_state(id))?
+                .ok_or_else(|| Error::NotFound(format!("no team with id {id}")))?;
+            let (rec, token) = ops::create_team_token(&db, &actor, &team.name, now_unix())?;
+            Ok::<_, Error>(NewToken {
+                team: team.name,
+                id: rec.id,
+                token,
+            })
+        })
+        .await??;
+        Ok::<_, PageError>(out)
+    }
+    .await;
+    let r = match made {
+        Ok(t) => teams_page(&req, &state, false, None, Some(t), String::new()).await,
+        Err(e) => teams_page(&req, &state, false, Some(e), None, String::new()).await,
+    };
+    respond(&req, &viewer, r)
+}
+
+/// `POST /admin/tokens/{id}/revoke`.
+pub async fn revoke_token(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    path: web::Path<String>,
+) -> HttpResponse {
+    let db = state.db.clone();
+    let (ok, id) = split(admin::path_id(&path, "token"));
+    let change = move |actor: ops::Actor, now| match id {
+        Some(id) => ops::revoke_team_token(&db, &actor, id, now),
+        None => Ok(()),
+    };
+    apply(req, state, String::new(), change, ok).await
+}
