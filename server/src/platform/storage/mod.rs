@@ -27,6 +27,7 @@ mod returns;
 mod schema;
 mod sources;
 pub(crate) mod stats;
+mod trips;
 mod zones;
 
 pub use alerts::{NewAlert, StoredAlert, alerts_cells, e7};
@@ -40,6 +41,7 @@ pub use returns::{
 };
 pub use sources::Source;
 pub use stats::{AdjudicationRow, ControlRow, StatsEventRow, StatsReportRef};
+pub use trips::ReturnSummary;
 pub use zones::ZoneRecord;
 
 use crate::error::{Error, Result};

@@ -27,6 +27,7 @@ mod disputes;
 mod events;
 mod form;
 mod import;
+mod live_map;
 mod station;
 mod trips;
 mod views;
