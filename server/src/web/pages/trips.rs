@@ -8,21 +8,21 @@ use super::common::{
     short_time,
 };
 use super::events::Choice;
-use super::views::{map_events, map_input, map_zones};
-use crate::alerts::events::{RankedEvent, priority_of};
+use super::trip_page::{JustIssued, issued_response, load_trip, trip_page};
 use crate::domain::{BundleMode, Day, LonLat};
 use crate::error::Error;
-use crate::planning::{IssuedBundle, TripRequest, cancel_bundle, issue_bundle};
+use crate::planning::{
+    IssuedBundle, TripFacts, TripRequest, TripState, cancel_bundle, issue_bundle, trip_state,
+};
 use crate::platform::auth::Action;
 use crate::platform::storage::{BundleRecord, Team, ZoneRecord};
 use crate::web::AppState;
-use crate::web::charts::render_map;
 use crate::web::pairing::{self, ShownPairing};
 use actix_web::http::StatusCode;
 use actix_web::{HttpRequest, HttpResponse, web};
 use askama::Template;
 use serde::Deserialize;
-use std::collections::{BTreeMap, HashMap};
+use std::collections::HashMap;
 
 /// The issue form as typed (every field text, parsed here with messages).
 #[derive(Debug, Deserialize, Default, Clone)]
@@ -81,11 +81,13 @@ struct BundleRow {
     team: String,
     mode: String,
     issued: String,
+    /// RFC 3339, for sorting (latest first).
+    issued_at: String,
     due: String,
     events: i64,
     controls: i64,
     route_km: String,
-    state: &'static str,
+    state: TripState,
     returns: i64,
     reports: i64,
     cancellable: bool,
@@ -98,6 +100,10 @@ struct BundleRow {
 struct TripsPage {
     layout: Layout,
     bundles: Vec<BundleRow>,
+    /// Bundles before the list filters.
+    all: usize,
+    states: Vec<Choice>,
+    filter_teams: Vec<Choice>,
     teams: Vec<Choice>,
     zones: Vec<Choice>,
     assessment: bool,
@@ -133,9 +139,45 @@ impl FormView {
     }
 }
 
-#[derive(Debug, Deserialize, Default)]
+#[derive(Debug, Deserialize, Default, Clone)]
 pub struct TripsQuery {
     pub cancelled: Option<String>,
+    /// Only trips in this state ([`TripState::as_str`]).
+    pub state: Option<String>,
+    /// Only this team's trips.
+    pub team: Option<String>,
+}
+
+/// The list filters as typed, checked: (state, team).
+fn list_filters(q: &TripsQuery) -> Result<(Option<TripState>, Option<String>), PageError> {
+    let state = match non_empty(&q.state) {
+        None => None,
+        Some(s) => Some(TripState::parse(&s).ok_or_else(|| {
+            PageError::bad_request(format!(
+                "State: '{s}' is not a trip state (one of {})",
+                TripState::ALL.map(TripState::as_str).join(", ")
+            ))
+        })?),
+    };
+    Ok((state, non_empty(&q.team)))
+}
+
+/// The facts a trip's state is computed from (times we wrote ourselves;
+/// one that does not parse counts as never reached).
+pub(super) fn facts_of(b: &BundleRecord, returns: i64, stops_reported: i64) -> TripFacts {
+    let time = |s: &str| {
+        chrono::DateTime::parse_from_rfc3339(s)
+            .map(|t| t.with_timezone(&chrono::Utc))
+            .unwrap_or(chrono::DateTime::<chrono::Utc>::MAX_UTC)
+    };
+    TripFacts {
+        due_at: time(&b.due_at),
+        expires_at: time(&b.expires_at),
+        cancelled: b.cancelled_at.is_some(),
+        returns: returns.max(0) as u64,
+        stops: (b.events + b.controls).max(0) as u64,
+        stops_reported: stops_reported.max(0) as u64,
+    }
 }
 
 async fn trips_page(
@@ -144,14 +186,16 @@ async fn trips_page(
     viewer: &Viewer,
     form: IssueForm,
     error: Option<PageError>,
-    cancelled: Option<String>,
+    q: TripsQuery,
 ) -> Result<HttpResponse, PageError> {
+    let (want_state, want_team) = list_filters(&q)?;
     let db = state.db.clone();
-    let (bundles, counts, teams, zones) = web::block(move || {
+    let (bundles, counts, reported, teams, zones) = web::block(move || {
         db.read(|r| {
             Ok((
                 r.bundles()?,
                 r.bundle_return_counts()?,
+                r.bundle_stops_reported()?,
                 r.teams()?,
                 r.zones()?,
             ))
@@ -162,18 +206,39 @@ async fn trips_page(
     let mut form = form;
     start_at_last_trip(&mut form, &bundles);
     let may = (may_cancel, viewer.may(Action::IssueBundle));
-    let rows = bundle_rows(&bundles, &counts, may, chrono::Utc::now());
+    let mut rows = bundle_rows(&bundles, (&counts, &reported), may, chrono::Utc::now());
+    let all = rows.len();
+    rows.retain(|r| {
+        want_state.is_none_or(|s| r.state == s) && want_team.as_ref().is_none_or(|t| &r.team == t)
+    });
     let status = error.as_ref().map_or(StatusCode::OK, |e| e.status);
     let t = TripsPage {
         layout: Layout::new(req, viewer, "Trips", "/trips"),
         bundles: rows,
+        all,
+        states: TripState::ALL
+            .iter()
+            .map(|s| Choice {
+                value: s.as_str().into(),
+                label: s.label().into(),
+                selected: want_state == Some(*s),
+            })
+            .collect(),
+        filter_teams: teams
+            .iter()
+            .map(|t| Choice {
+                value: t.name.clone(),
+                label: t.name.clone(),
+                selected: want_team.as_deref() == Some(t.name.as_str()),
+            })
+            .collect(),
         teams: team_choices(&teams, &form),
         zones: zone_choices(&zones, &form),
         assessment: form.mode.as_deref() == Some("assessment"),
         f: FormView::of(&form),
         may_issue: viewer.may(Action::IssueBundle),
         error,
-        cancelled,
+        cancelled: q.cancelled,
     };
     Ok(html(status, t.render()?))
 }
@@ -199,7 +264,7 @@ fn not_expired(expires_at: &str, now: chrono::DateTime<chrono::Utc>) -> bool {
 /// may pair a phone).
 fn bundle_rows(
     bundles: &[BundleRecord],
-    counts: &HashMap<String, (i64, i64)>,
+    (counts, reported): (&HashMap<String, (i64, i64)>, &HashMap<String, i64>),
     (may_cancel, may_pair): (bool, bool),
     now: chrono::DateTime<chrono::Utc>,
 ) -> Vec<BundleRow> {
@@ -207,18 +272,14 @@ fn bundle_rows(
         .iter()
         .map(|b| {
             let (returns, reports) = counts.get(&b.id).copied().unwrap_or((0, 0));
-            let state = if b.cancelled_at.is_some() {
-                "cancelled"
-            } else if returns > 0 {
-                "returned"
-            } else {
-                "issued"
-            };
+            let stops_reported = reported.get(&b.id).copied().unwrap_or(0);
+            let state = trip_state(&facts_of(b, returns, stops_reported), now);
             BundleRow {
                 id: b.id.clone(),
                 team: b.team.clone(),
                 mode: b.mode.clone(),
                 issued: short_time(&b.issued_at),
+                issued_at: b.issued_at.clone(),
                 due: short_time(&b.due_at),
                 events: b.events,
                 controls: b.controls,
@@ -234,7 +295,7 @@ fn bundle_rows(
             }
         })
         .collect();
-    rows.sort_by(|a, b| b.issued.cmp(&a.issued));
+    rows.sort_by(|a, b| b.issued_at.cmp(&a.issued_at));
     rows
 }
 
@@ -274,54 +335,21 @@ pub async fn list(
 ) -> HttpResponse {
     let viewer = Viewer::of(&req);
     let r = async {
-        let cancelled = q.ok().and_then(|q| q.into_inner().cancelled);
-        trips_page(&req, &state, &viewer, IssueForm::default(), None, cancelled).await
+        let q = q
+            .map_err(|e| PageError::bad_request(format!("bad filter: {e}")))?
+            .into_inner();
+        trips_page(&req, &state, &viewer, IssueForm::default(), None, q).await
     }
     .await;
     respond(&req, &viewer, r)
 }
 
-struct ItemRow {
-    order: u32,
-    code: String,
-    kind: String,
-    event_id: Option<i64>,
-    lat: String,
-    lon: String,
-    stratum: String,
-}
-
-struct StratumRow {
-    stratum: String,
-    population: u64,
-    sample: u64,
-    probability: String,
-}
-
-#[derive(Template)]
-#[template(path = "pages/trip.html")]
-struct TripPage {
-    layout: Layout,
-    id: String,
-    team: String,
-    mode: String,
-    due: String,
-    route_km: String,
-    walking_hours: String,
-    route_method: String,
-    route_note: String,
-    map: String,
-    items: Vec<ItemRow>,
-    strata: Vec<StratumRow>,
-    pairing: Option<PairingView>,
-}
-
 /// A pairing code as the pages show it (`pages/pairing_box.html`).
 pub struct PairingView {
-    code: String,
-    link: String,
-    qr_svg: String,
-    expires: String,
+    pub code: String,
+    pub link: String,
+    pub qr_svg: String,
+    pub expires: String,
 }
 
 impl PairingView {
@@ -338,25 +366,7 @@ impl PairingView {
     }
 }
 
-/// The bundle's events as ranked on the day it was planned for.
-fn ranked_events(
-    st: &AppState,
-    items: &[crate::platform::storage::BundleItem],
-    as_of: Day,
-) -> Result<Vec<RankedEvent>, Error> {
-    let mut events = Vec::new();
-    for id in items.iter().filter_map(|i| i.event_id) {
-        if let Some(rec) = st.db.read(|r| r.event_resolved(id))? {
-            let priority = priority_of(&rec, &st.settings.priority, as_of);
-            events.push(RankedEvent {
-                record: rec,
-                priority,
-            });
-        }
-    }
-    Ok(events)
-}
-
+/// Issues the trip and shows its page with the first pairing code (201).
 async fn issue_page(
     req: &HttpRequest,
     state: &AppState,
@@ -365,75 +375,29 @@ async fn issue_page(
 ) -> Result<HttpResponse, PageError> {
     let st = state.clone();
     let (by, link_of) = pairing::request_parts(req);
-    let (out, items, events, zones, shown): (IssuedBundle, _, Vec<RankedEvent>, _, _) =
-        web::block(move || {
-            let out = issue_bundle(&st.db, &st.data_dir, &st.settings, &trip)?;
-            // The bundle is issued whatever happens to its first code; the
-            // trips page makes another.
-            let shown = pairing::make(&st.db, &out.bundle.id, &by, link_of)
-                .inspect_err(|e| tracing::warn!(error = %e, "no pairing code for the new bundle"))
-                .ok();
-            let (items, zones) = st
-                .db
-                .read(|r| Ok((r.bundle_items(&out.bundle.id)?, r.zones()?)))?;
-            let events = ranked_events(&st, &items, trip.as_of)?;
-            Ok::<_, Error>((out, items, events, zones, shown))
-        })
-        .await??;
-    let mut items = items;
-    items.sort_by_key(|i| i.visit_order);
-    let b = &out.bundle;
-    let mut map = map_input(
-        &format!(
-            "Route of bundle {} for {}",
-            &b.id[..8.min(b.id.len())],
-            b.team
-        ),
-        map_zones(&zones),
-        map_events(&events, &BTreeMap::new()),
-    );
-    map.start = Some((b.start_lon, b.start_lat));
-    map.route = std::iter::once((b.start_lon, b.start_lat))
-        .chain(items.iter().map(|i| (i.lon, i.lat)))
-        .collect();
-    let t = TripPage {
-        layout: Layout::new(req, viewer, "Bundle issued", "/trips"),
-        id: b.id.clone(),
-        team: b.team.clone(),
-        mode: b.mode.clone(),
-        due: short_time(&b.due_at),
-        route_km: fixed(out.route_m / 1000.0, 2),
+    let (out, data, shown) = web::block(move || {
+        let mut trip = trip;
+        if !trip.statuses.is_empty() {
+            trip.reconciled = Some(crate::statistics::kept::event_statuses(&st.db)?);
+        }
+        let out: IssuedBundle = issue_bundle(&st.db, &st.data_dir, &st.settings, &trip)?;
+        // The bundle is issued whatever happens to its first code; the
+        // trip page makes another.
+        let shown = pairing::make(&st.db, &out.bundle.id, &by, link_of)
+            .inspect_err(|e| tracing::warn!(error = %e, "no pairing code for the new bundle"))
+            .ok();
+        let data = load_trip(&st, &out.bundle.id)?;
+        Ok::<_, Error>((out, data, shown))
+    })
+    .await??;
+    let just = JustIssued {
         walking_hours: fixed(out.walking_hours, 1),
         route_method: out.route_method.clone(),
         route_note: out.route_note.clone(),
-        map: render_map(&map),
-        items: items
-            .iter()
-            .map(|i| ItemRow {
-                order: i.visit_order,
-                code: i.code.clone(),
-                kind: i.kind.to_string(),
-                event_id: i.event_id,
-                lat: fixed(i.lat, 6),
-                lon: fixed(i.lon, 6),
-                stratum: i.stratum.clone().unwrap_or_default(),
-            })
-            .collect(),
-        strata: out
-            .strata
-            .iter()
-            .map(|s| StratumRow {
-                stratum: s.stratum.clone(),
-                population: s.population,
-                sample: s.sample,
-                probability: fixed(s.inclusion_probability, 4),
-            })
-            .collect(),
         pairing: shown.map(PairingView::of),
     };
-    let mut resp = page(&t)?;
-    *resp.status_mut() = StatusCode::CREATED;
-    Ok(resp)
+    let t = trip_page(req, viewer, data, chrono::Utc::now(), Some(just));
+    issued_response(&t)
 }
 
 /// `POST /trips` (form fields of [`IssueForm`] and the CSRF token).
@@ -447,7 +411,7 @@ pub async fn issue(
         Ok(f) => f.into_inner(),
         Err(e) => {
             let err = PageError::bad_request(format!("The form could not be read: {e}"));
-            let r = trips_page(&req, &state, &viewer, IssueForm::default(), Some(err), None).await;
+            let r = trips_page(&req, &state, &viewer, IssueForm::default(), Some(err), TripsQuery::default()).await;
             return respond(&req, &viewer, r);
         }
     };
@@ -458,14 +422,14 @@ pub async fn issue(
     match result {
         Ok(r) => r,
         Err(e) => {
-            let r = trips_page(&req, &state, &viewer, form, Some(e), None).await;
+            let r = trips_page(&req, &state, &viewer, form, Some(e), TripsQuery::default()).await;
             respond(&req, &viewer, r)
         }
     }
 }
 
 /// The bundle id of a `/trips/{id}/…` path, checked to be a UUID.
-fn bundle_id(path: &str) -> Result<String, PageError> {
+pub(super) fn bundle_id(path: &str) -> Result<String, PageError> {
     uuid::Uuid::parse_str(path)
         .map(|u| u.to_string())
         .map_err(|_| PageError::bad_request(format!("bundle id '{path}' is not a UUID")))
@@ -495,7 +459,7 @@ pub async fn cancel(
     match r {
         Ok(resp) => resp,
         Err(e) => {
-            let r = trips_page(&req, &state, &viewer, IssueForm::default(), Some(e), None).await;
+            let r = trips_page(&req, &state, &viewer, IssueForm::default(), Some(e), TripsQuery::default()).await;
             respond(&req, &viewer, r)
         }
     }
@@ -546,7 +510,7 @@ pub async fn pair(
     match r {
         Ok(resp) => resp,
         Err(e) => {
-            let r = trips_page(&req, &state, &viewer, IssueForm::default(), Some(e), None).await;
+            let r = trips_page(&req, &state, &viewer, IssueForm::default(), Some(e), TripsQuery::default()).await;
             respond(&req, &viewer, r)
         }
     }
