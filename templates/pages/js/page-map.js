@@ -7,8 +7,8 @@
 // on an event ticks or unticks it. Without scripts the printable SVG stays.
 (function () {
   'use strict';
-  if (typeof L === 'undefined') { return; }
   var maps = [];
+  window.groundproofMaps = maps;
 
   function addLegend(map, data) {
     var legend = L.control({ position: 'bottomright' });
@@ -117,6 +117,7 @@
   }
 
   document.querySelectorAll('.live-map[data-map]').forEach(function (el) {
+    if (typeof L === 'undefined') { return; }
     var src = document.getElementById(el.dataset.map);
     if (!src) { return; }
     var data = JSON.parse(src.textContent);
@@ -126,7 +127,6 @@
     el.gpMap = map;
     maps.push(map);
   });
-  window.groundproofMaps = maps;
 
   // The issue form: an extent file is read into the extent field.
   document.querySelectorAll('input[type=file][data-extent-into]').forEach(function (input) {

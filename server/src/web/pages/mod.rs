@@ -8,7 +8,7 @@
 //! | `GET /` | redirect: managers to `/dashboard`, everyone else to `/events` |
 //! | `GET /events`, `GET /events/{id}` | events: filters, map, table; one event |
 //! | `GET /import`, `POST /import/alerts`, `POST /import/zones` | import files |
-//! | `GET /trips`, `POST /trips`, `GET /trips/{id}`, `POST /trips/{id}/cancel`, `POST /trips/{id}/pair` | trips (bundles): list with states, one trip, pairing a phone |
+//! | `GET /trips`, `POST /trips`, `POST /trips/preview`, `GET /trips/{id}`, `POST /trips/{id}/cancel`, `POST /trips/{id}/pair` | trips (bundles): list with states, one trip, pairing a phone |
 //! | `GET /station`, `POST /station` | upload a return package |
 //! | `GET /dashboard` | figures for managers |
 //! | `GET /disputes`, `POST /disputes/{id}/adjudicate` | disputes |
@@ -28,7 +28,9 @@ mod events;
 mod form;
 mod import;
 mod live_map;
+mod preview;
 mod station;
+mod trip_form;
 mod trip_page;
 mod trips;
 mod views;
@@ -99,6 +101,10 @@ pub fn configure(cfg: &mut web::ServiceConfig) {
         )
         .route("/trips", web::get().to(trips::list).needs(ViewEvents))
         .route("/trips", web::post().to(trips::issue).needs(IssueBundle))
+        .route(
+            "/trips/preview",
+            web::post().to(preview::preview).needs(IssueBundle),
+        )
         .route(
             "/trips/{id}",
             web::get().to(trip_page::show).needs(ViewEvents),

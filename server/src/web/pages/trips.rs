@@ -4,12 +4,12 @@
 //! preview map and the download link; `POST /trips/{id}/cancel` cancels.
 
 use super::common::{
-    Layout, PageError, Viewer, fixed, html, non_empty, opt_number, page, respond, see_other,
-    short_time,
+    Layout, PageError, Viewer, fixed, html, non_empty, page, respond, see_other, short_time,
 };
+use super::trip_form::{FormView, IssueForm, trip_request};
 use super::events::Choice;
 use super::trip_page::{JustIssued, issued_response, load_trip, trip_page};
-use crate::domain::{BundleMode, Day, LonLat};
+use crate::domain::Day;
 use crate::error::Error;
 use crate::planning::{
     IssuedBundle, TripFacts, TripRequest, TripState, cancel_bundle, issue_bundle, trip_state,
@@ -23,58 +23,6 @@ use actix_web::{HttpRequest, HttpResponse, web};
 use askama::Template;
 use serde::Deserialize;
 use std::collections::HashMap;
-
-/// The issue form as typed (every field text, parsed here with messages).
-#[derive(Debug, Deserialize, Default, Clone)]
-pub struct IssueForm {
-    pub team: Option<String>,
-    pub mode: Option<String>,
-    pub zone: Option<String>,
-    pub max: Option<String>,
-    pub margin: Option<String>,
-    pub controls: Option<String>,
-    pub seed: Option<String>,
-    pub start_lat: Option<String>,
-    pub start_lon: Option<String>,
-    pub start_name: Option<String>,
-}
-
-/// Turn the form into a trip request; every message names the field.
-pub fn trip_request(f: &IssueForm, today: Day) -> Result<TripRequest, PageError> {
-    let team = non_empty(&f.team)
-        .ok_or_else(|| PageError::bad_request("Team: choose the team that makes the trip."))?;
-    let lat = opt_number::<f64>("Start latitude", &f.start_lat)?
-        .ok_or_else(|| PageError::bad_request("Start latitude: required (decimal degrees)."))?;
-    let lon = opt_number::<f64>("Start longitude", &f.start_lon)?
-        .ok_or_else(|| PageError::bad_request("Start longitude: required (decimal degrees)."))?;
-    let start = LonLat::new(lon, lat).map_err(|m| PageError::bad_request(format!("Start: {m}")))?;
-    let mut r = TripRequest::response(&team, start);
-    r.as_of = today;
-    if let Some(n) = non_empty(&f.start_name) {
-        r.start_name = n;
-    }
-    if let Some(m) = non_empty(&f.mode) {
-        r.mode = m
-            .parse::<BundleMode>()
-            .map_err(|e| PageError::bad_request(format!("Mode: {e}")))?;
-    }
-    r.zone = non_empty(&f.zone);
-    r.max = opt_number::<usize>("Most events", &f.max)?;
-    if r.max == Some(0) {
-        return Err(PageError::bad_request("Most events: at least 1."));
-    }
-    if let Some(m) = opt_number::<f64>("Margin of error", &f.margin)? {
-        if !(m > 0.0 && m < 0.5) {
-            return Err(PageError::bad_request(format!(
-                "Margin of error: {m} is not between 0 and 0.5 (for example 0.1)."
-            )));
-        }
-        r.margin = m;
-    }
-    r.controls = opt_number::<usize>("Control points", &f.controls)?.unwrap_or(0);
-    r.seed = opt_number::<u64>("Seed", &f.seed)?;
-    Ok(r)
-}
 
 struct BundleRow {
     id: String,
@@ -106,37 +54,13 @@ struct TripsPage {
     filter_teams: Vec<Choice>,
     teams: Vec<Choice>,
     zones: Vec<Choice>,
+    sources: Vec<Choice>,
+    status_choices: Vec<Choice>,
     assessment: bool,
     f: FormView,
     may_issue: bool,
     error: Option<PageError>,
     cancelled: Option<String>,
-}
-
-/// The typed values shown again in the form.
-struct FormView {
-    max: String,
-    margin: String,
-    controls: String,
-    seed: String,
-    start_lat: String,
-    start_lon: String,
-    start_name: String,
-}
-
-impl FormView {
-    fn of(f: &IssueForm) -> FormView {
-        let v = |o: &Option<String>| o.clone().unwrap_or_default();
-        FormView {
-            max: v(&f.max),
-            margin: f.margin.clone().unwrap_or_else(|| "0.1".into()),
-            controls: v(&f.controls),
-            seed: v(&f.seed),
-            start_lat: v(&f.start_lat),
-            start_lon: v(&f.start_lon),
-            start_name: v(&f.start_name),
-        }
-    }
 }
 
 #[derive(Debug, Deserialize, Default, Clone)]
@@ -190,14 +114,14 @@ async fn trips_page(
 ) -> Result<HttpResponse, PageError> {
     let (want_state, want_team) = list_filters(&q)?;
     let db = state.db.clone();
-    let (bundles, counts, reported, teams, zones) = web::block(move || {
+    let (bundles, counts, reported, teams, (zones, sources)) = web::block(move || {
         db.read(|r| {
             Ok((
                 r.bundles()?,
                 r.bundle_return_counts()?,
                 r.bundle_stops_reported()?,
                 r.teams()?,
-                r.zones()?,
+                (r.zones()?, r.sources()?),
             ))
         })
     })
@@ -234,7 +158,23 @@ async fn trips_page(
             .collect(),
         teams: team_choices(&teams, &form),
         zones: zone_choices(&zones, &form),
-        assessment: form.mode.as_deref() == Some("assessment"),
+        sources: sources
+            .iter()
+            .map(|x| Choice {
+                selected: form.text("source").as_deref() == Some(x.name.as_str()),
+                value: x.name.clone(),
+                label: x.name.clone(),
+            })
+            .collect(),
+        status_choices: crate::domain::EventStatus::ALL
+            .iter()
+            .map(|x| Choice {
+                selected: form.all("status").iter().any(|v| v == x.as_str()),
+                value: x.as_str().into(),
+                label: x.label().into(),
+            })
+            .collect(),
+        assessment: form.text("mode").as_deref() == Some("assessment"),
         f: FormView::of(&form),
         may_issue: viewer.may(Action::IssueBundle),
         error,
@@ -246,12 +186,12 @@ async fn trips_page(
 /// Without a start typed, starts where the last trip started (usually the
 /// field station).
 fn start_at_last_trip(form: &mut IssueForm, bundles: &[BundleRecord]) {
-    if form.start_lat.is_none()
-        && form.start_lon.is_none()
+    if form.text("start_lat").is_none()
+        && form.text("start_lon").is_none()
         && let Some(b) = bundles.iter().max_by(|a, b| a.issued_at.cmp(&b.issued_at))
     {
-        form.start_lat = Some(fixed(b.start_lat, 6));
-        form.start_lon = Some(fixed(b.start_lon, 6));
+        form.set("start_lat", &fixed(b.start_lat, 6));
+        form.set("start_lon", &fixed(b.start_lon, 6));
     }
 }
 
@@ -304,7 +244,7 @@ fn team_choices(teams: &[Team], form: &IssueForm) -> Vec<Choice> {
     teams
         .iter()
         .map(|t| Choice {
-            selected: form.team.as_deref() == Some(t.name.as_str()),
+            selected: form.text("team").as_deref() == Some(t.name.as_str()),
             value: t.name.clone(),
             label: t.name.clone(),
         })
@@ -316,7 +256,7 @@ fn zone_choices(zones: &[ZoneRecord], form: &IssueForm) -> Vec<Choice> {
     zones
         .iter()
         .map(|z| Choice {
-            selected: form.zone.as_deref() == Some(z.name.as_str()),
+            selected: form.text("zone").as_deref() == Some(z.name.as_str()),
             value: z.name.clone(),
             label: if z.priority {
                 format!("{} (priority)", z.name)
@@ -400,17 +340,16 @@ async fn issue_page(
     issued_response(&t)
 }
 
-/// `POST /trips` (form fields of [`IssueForm`] and the CSRF token).
-pub async fn issue(
-    req: HttpRequest,
-    state: web::Data<AppState>,
-    form: Result<web::Form<IssueForm>, actix_web::Error>,
-) -> HttpResponse {
+/// `POST /trips` (the fields of [`IssueForm`] and the CSRF token): issues
+/// the trip. From the preview it carries the events kept by hand and the
+/// order shown; when the plan made now differs (the facts changed, or the
+/// form was edited without updating the preview) nothing is issued and the
+/// new preview is shown with 409.
+pub async fn issue(req: HttpRequest, state: web::Data<AppState>, body: web::Bytes) -> HttpResponse {
     let viewer = Viewer::of(&req);
-    let form = match form {
-        Ok(f) => f.into_inner(),
-        Err(e) => {
-            let err = PageError::bad_request(format!("The form could not be read: {e}"));
+    let form = match IssueForm::from_body(&body) {
+        Ok(f) => f,
+        Err(err) => {
             let r = trips_page(&req, &state, &viewer, IssueForm::default(), Some(err), TripsQuery::default()).await;
             return respond(&req, &viewer, r);
         }
@@ -421,6 +360,12 @@ pub async fn issue(
     };
     match result {
         Ok(r) => r,
+        Err(e) if e.status == StatusCode::CONFLICT && form.text("expect").is_some() => {
+            let mut again = form;
+            again.remove("expect");
+            let r = super::preview::preview_page(&req, &state, &viewer, again, Some(e)).await;
+            respond(&req, &viewer, r)
+        }
         Err(e) => {
             let r = trips_page(&req, &state, &viewer, form, Some(e), TripsQuery::default()).await;
             respond(&req, &viewer, r)
@@ -516,70 +461,13 @@ pub async fn pair(
     }
 }
 
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    fn form() -> IssueForm {
-        IssueForm {
-            team: Some("Team Amber".into()),
-            start_lat: Some("-3.5".into()),
-            start_lon: Some("-60.25".into()),
-            ..IssueForm::default()
-        }
-    }
-
-    #[test]
-    fn a_minimal_form_is_a_response_trip_with_defaults() {
-        let day = Day::parse("2026-03-01").unwrap();
-        let r = trip_request(&form(), day).unwrap();
-        assert_eq!(r.mode, BundleMode::Response);
-        assert_eq!((r.start.lon(), r.start.lat()), (-60.25, -3.5));
-        assert_eq!(r.as_of, day);
-        assert_eq!(r.controls, 0);
-        assert_eq!(r.max, None);
-    }
-
-    #[test]
-    fn bad_fields_are_named() {
-        let day = Day::today();
-        let mut f = form();
-        f.start_lat = Some("95".into());
-        assert!(
-            trip_request(&f, day)
-                .unwrap_err()
-                .message
-                .contains("latitude")
-        );
-        let mut f = form();
-        f.margin = Some("0.7".into());
-        assert!(
-            trip_request(&f, day)
-                .unwrap_err()
-                .message
-                .starts_with("Margin of error")
-        );
-        let mut f = form();
-        f.team = Some(" ".into());
-        assert!(
-            trip_request(&f, day)
-                .unwrap_err()
-                .message
-                .starts_with("Team")
-        );
-        let mut f = form();
-        f.mode = Some("tour".into());
-        assert!(
-            trip_request(&f, day)
-                .unwrap_err()
-                .message
-                .starts_with("Mode")
-        );
-        let mut f = form();
-        f.max = Some("ten".into());
-        assert_eq!(
-            trip_request(&f, day).unwrap_err().status,
-            StatusCode::BAD_REQUEST
-        );
-    }
+/// The trips page with the issue form as typed and what was wrong with it.
+pub(super) async fn form_page(
+    req: &HttpRequest,
+    state: &AppState,
+    viewer: &Viewer,
+    form: IssueForm,
+    e: PageError,
+) -> Result<HttpResponse, PageError> {
+    trips_page(req, state, viewer, form, Some(e), TripsQuery::default()).await
 }
