@@ -13,3 +13,4 @@ mod robust_http;
 mod stats_api;
 mod stats_cache;
 mod tls;
+mod trips;

@@ -208,7 +208,11 @@ pub async fn preview_page(
 }
 
 /// `POST /trips/preview` (the issue form, or the preview's own form).
-pub async fn preview(req: HttpRequest, state: web::Data<AppState>, body: web::Bytes) -> HttpResponse {
+pub async fn preview(
+    req: HttpRequest,
+    state: web::Data<AppState>,
+    body: web::Bytes,
+) -> HttpResponse {
     let viewer = Viewer::of(&req);
     let form = match IssueForm::from_body(&body) {
         Ok(f) => f,

@@ -342,14 +342,24 @@ mod tests {
         let day = Day::today();
         let msg = |extra: &str| trip_request(&form(extra), day).unwrap_err().message;
         let f = IssueForm::from_body(b"team=T&start_lat=95&start_lon=1").unwrap();
-        assert!(trip_request(&f, day).unwrap_err().message.contains("latitude"));
+        assert!(
+            trip_request(&f, day)
+                .unwrap_err()
+                .message
+                .contains("latitude")
+        );
         assert!(msg("&margin=0.7").starts_with("Margin of error"));
         assert!(msg("&mode=tour").contains("tour"));
         assert!(msg("&status=lost").starts_with("Status"));
         assert!(msg("&extent=%7Bnope").starts_with("Extent"));
         assert!(msg("&from=2026-13-01").contains("from"));
         let f = IssueForm::from_body(b"team=+&start_lat=1&start_lon=1").unwrap();
-        assert!(trip_request(&f, day).unwrap_err().message.starts_with("Team"));
+        assert!(
+            trip_request(&f, day)
+                .unwrap_err()
+                .message
+                .starts_with("Team")
+        );
         assert_eq!(
             trip_request(&form("&max=ten"), day).unwrap_err().status,
             StatusCode::BAD_REQUEST

@@ -278,7 +278,11 @@ pub fn trip_page(
         issued: short_time(&b.issued_at),
         due: short_time(&b.due_at),
         expires: short_time(&b.expires_at),
-        cancelled: b.cancelled_at.as_deref().map(short_time).unwrap_or_default(),
+        cancelled: b
+            .cancelled_at
+            .as_deref()
+            .map(short_time)
+            .unwrap_or_default(),
         route_km: fixed(b.route_m / 1000.0, 2),
         map: trip_map(&d),
         reported,

@@ -6,8 +6,8 @@
 use super::common::{
     Layout, PageError, Viewer, fixed, html, non_empty, page, respond, see_other, short_time,
 };
-use super::trip_form::{FormView, IssueForm, trip_request};
 use super::events::Choice;
+use super::trip_form::{FormView, IssueForm, trip_request};
 use super::trip_page::{JustIssued, issued_response, load_trip, trip_page};
 use crate::domain::Day;
 use crate::error::Error;
@@ -350,7 +350,15 @@ pub async fn issue(req: HttpRequest, state: web::Data<AppState>, body: web::Byte
     let form = match IssueForm::from_body(&body) {
         Ok(f) => f,
         Err(err) => {
-            let r = trips_page(&req, &state, &viewer, IssueForm::default(), Some(err), TripsQuery::default()).await;
+            let r = trips_page(
+                &req,
+                &state,
+                &viewer,
+                IssueForm::default(),
+                Some(err),
+                TripsQuery::default(),
+            )
+            .await;
             return respond(&req, &viewer, r);
         }
     };
@@ -404,7 +412,15 @@ pub async fn cancel(
     match r {
         Ok(resp) => resp,
         Err(e) => {
-            let r = trips_page(&req, &state, &viewer, IssueForm::default(), Some(e), TripsQuery::default()).await;
+            let r = trips_page(
+                &req,
+                &state,
+                &viewer,
+                IssueForm::default(),
+                Some(e),
+                TripsQuery::default(),
+            )
+            .await;
             respond(&req, &viewer, r)
         }
     }
@@ -455,7 +471,15 @@ pub async fn pair(
     match r {
         Ok(resp) => resp,
         Err(e) => {
-            let r = trips_page(&req, &state, &viewer, IssueForm::default(), Some(e), TripsQuery::default()).await;
+            let r = trips_page(
+                &req,
+                &state,
+                &viewer,
+                IssueForm::default(),
+                Some(e),
+                TripsQuery::default(),
+            )
+            .await;
             respond(&req, &viewer, r)
         }
     }
