@@ -25,6 +25,7 @@
 //! Fails when `CI` is set and Chromium or ChromeDriver is missing; elsewhere it
 //! says SKIP on stderr and passes.
 
+mod trips;
 mod webdriver;
 
 use groundproof::demo::{DEMO_LOGINS, load, run_trips};
@@ -253,6 +254,9 @@ fn coordinator_and_manager_work_through_the_pages_in_chromium() {
     b.type_into("#t-max", "6");
     b.type_into("#t-lat", &format!("{:.6}", station.1));
     b.type_into("#t-lon", &format!("{:.6}", station.0));
+    submit(&b, "/trips");
+    // The preview first; its first button issues.
+    assert_clean(&b, "trip preview");
     submit(&b, "/trips");
     assert_eq!(b.text("h1"), "Bundle issued");
     assert_has(&b, "bundle issued", &["<svg", "Stops in visit order"]);

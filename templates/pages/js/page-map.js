@@ -76,6 +76,13 @@
     var map = L.map(el, { zoomSnap: 0.25, attributionControl: true });
     map.attributionControl.setPrefix('<a href="/static/leaflet.LICENSE">Leaflet</a>');
     L.control.scale({ imperial: false }).addTo(map);
+    // The view first: Leaflet draws paths only on a map that has one.
+    var fr = data.frame;
+    if (fr) {
+      map.fitBounds([[fr[1], fr[0]], [fr[3], fr[2]]], { padding: [24, 24], maxZoom: 17 });
+    } else {
+      map.setView([0, 0], 2);
+    }
     var start = null;
     (data.features || []).forEach(function (f) {
       var k = f.properties.kind;
@@ -90,12 +97,6 @@
           .bindTooltip('start').addTo(map);
       }
     });
-    var fr = data.frame;
-    if (fr) {
-      map.fitBounds([[fr[1], fr[0]], [fr[3], fr[2]]], { padding: [24, 24], maxZoom: 17 });
-    } else {
-      map.setView([0, 0], 2);
-    }
     addLegend(map, data);
     pickStart(map, el, start);
     return map;
