@@ -357,3 +357,48 @@ fn the_preview_refuses_what_it_cannot_do_with_a_message() {
     assert!(r.body.contains("Extent: not GeoJSON"), "{}", r.body);
     assert_eq!(bundles(&s), 0);
 }
+
+#[test]
+fn the_api_preview_and_issue_agree_when_handed_back_the_events_and_order() {
+    let s = TestServer::start();
+    load_scenario(&s);
+    let (lon, lat) = station();
+    let body = json!({"team": "Team Amber", "zone": "Core", "max": 5, "start": {"lat": lat, "lon": lon}});
+    let url = s.url("/api/v1/bundles/preview");
+    let p = groundproof_e2e::post_json(&url, &body);
+    assert_eq!(p.status, 200, "{}", p.body);
+    assert_eq!(bundles(&s), 0, "a preview stores nothing");
+    let j = p.json();
+    let expect: Vec<String> = serde_json::from_value(j["expect_order"].clone()).unwrap();
+    assert_eq!(expect.len(), 5);
+    // Hand back the events without the first-ranked one, by code.
+    let selected: Vec<i64> = serde_json::from_value(j["plan"]["selected"].clone()).unwrap();
+    let kept: Vec<String> = selected[1..]
+        .iter()
+        .map(|i| groundproof::planning::codes::event_code(*i))
+        .collect();
+    let mut hand = body.clone();
+    hand["events"] = json!(kept);
+    let p2 = groundproof_e2e::post_json(&url, &hand).json();
+    let expect2: Vec<String> = serde_json::from_value(p2["expect_order"].clone()).unwrap();
+    assert_eq!(expect2.len(), 4);
+    assert!(!expect2.contains(&kept_out(&selected)), "{expect2:?}");
+    hand["expect_order"] = json!(expect2);
+    hand["seed"] = p2["plan"]["seed"].clone();
+    let r = groundproof_e2e::post_json(&s.url("/api/v1/bundles"), &hand);
+    assert_eq!(r.status, 201, "{}", r.body);
+    let id = r.json()["bundle"]["bundle"]["id"].as_str().unwrap().to_string();
+    let mut items = s.db.read(|r| r.bundle_items(&id)).unwrap();
+    items.sort_by_key(|i| i.visit_order);
+    let got: Vec<String> = items.into_iter().map(|i| i.code).collect();
+    assert_eq!(got, expect2);
+    // The same order again but reversed is a conflict: nothing stored.
+    hand["expect_order"] = json!(expect2.iter().rev().collect::<Vec<_>>());
+    let r = groundproof_e2e::post_json(&s.url("/api/v1/bundles"), &hand);
+    assert_eq!(r.status, 409, "{}", r.body);
+    assert_eq!(bundles(&s), 1);
+}
+
+fn kept_out(selected: &[i64]) -> String {
+    groundproof::planning::codes::event_code(selected[0])
+}

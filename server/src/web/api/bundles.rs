@@ -1,11 +1,12 @@
 //! Teams and bundles:
 //! `GET/POST /api/v1/teams`, `GET/POST /api/v1/bundles`,
+//! `POST /api/v1/bundles/preview` (the plan, nothing stored),
 //! `GET /api/v1/bundles/{id}`, `GET /api/v1/bundles/{id}/download`,
 //! `POST /api/v1/bundles/{id}/cancel`.
 
 use crate::domain::{BundleMode, Confidence, Day, LonLat, TeamName};
 use crate::error::Error;
-use crate::planning::{TripRequest, cancel_bundle, issue_bundle};
+use crate::planning::{TripRequest, cancel_bundle, issue_bundle, plan_preview};
 use crate::web::AppState;
 use crate::web::error::ApiError;
 use actix_web::{HttpResponse, web};
@@ -171,6 +172,28 @@ pub async fn issue(
     Ok(HttpResponse::Created()
         .insert_header(("Location", format!("/api/v1/bundles/{id}")))
         .json(json!({"bundle": out, "download": format!("/api/v1/bundles/{id}/download")})))
+}
+
+/// `POST /api/v1/bundles/preview`: the trip the body would issue (stops in
+/// visiting order, route length, the ids to send back as `events` and the
+/// codes as `expect_order`), planned without storing anything. Without a
+/// seed one is drawn and returned, so that issuing with it gives the same plan.
+pub async fn preview(
+    state: web::Data<AppState>,
+    body: web::Json<IssueBody>,
+) -> Result<HttpResponse, ApiError> {
+    let mut req = trip_request(body.into_inner())?;
+    req.seed = Some(req.seed.unwrap_or_else(|| rand::random::<u64>() >> 1));
+    let state = state.into_inner();
+    let plan = web::block(move || {
+        if !req.statuses.is_empty() {
+            req.reconciled = Some(crate::statistics::kept::event_statuses(&state.db)?);
+        }
+        plan_preview(&state.db, &state.settings, &req)
+    })
+    .await??;
+    let expect: Vec<&str> = plan.stops.iter().map(|s| s.code.as_str()).collect();
+    Ok(HttpResponse::Ok().json(json!({"plan": plan, "expect_order": expect})))
 }
 
 /// The team a request speaks for, when it holds a team token.
