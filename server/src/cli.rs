@@ -611,7 +611,10 @@ fn print_plan(p: &groundproof::planning::TripPlan) -> Result<()> {
             s.leg_m / 1000.0
         );
     }
-    println!("  issue exactly this: --seed {} plus the same options", p.seed.unwrap_or(0));
+    println!(
+        "  issue exactly this: --seed {} plus the same options",
+        p.seed.unwrap_or(0)
+    );
     Ok(())
 }
 

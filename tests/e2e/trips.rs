@@ -363,7 +363,8 @@ fn the_api_preview_and_issue_agree_when_handed_back_the_events_and_order() {
     let s = TestServer::start();
     load_scenario(&s);
     let (lon, lat) = station();
-    let body = json!({"team": "Team Amber", "zone": "Core", "max": 5, "start": {"lat": lat, "lon": lon}});
+    let body =
+        json!({"team": "Team Amber", "zone": "Core", "max": 5, "start": {"lat": lat, "lon": lon}});
     let url = s.url("/api/v1/bundles/preview");
     let p = groundproof_e2e::post_json(&url, &body);
     assert_eq!(p.status, 200, "{}", p.body);
@@ -387,7 +388,10 @@ fn the_api_preview_and_issue_agree_when_handed_back_the_events_and_order() {
     hand["seed"] = p2["plan"]["seed"].clone();
     let r = groundproof_e2e::post_json(&s.url("/api/v1/bundles"), &hand);
     assert_eq!(r.status, 201, "{}", r.body);
-    let id = r.json()["bundle"]["bundle"]["id"].as_str().unwrap().to_string();
+    let id = r.json()["bundle"]["bundle"]["id"]
+        .as_str()
+        .unwrap()
+        .to_string();
     let mut items = s.db.read(|r| r.bundle_items(&id)).unwrap();
     items.sort_by_key(|i| i.visit_order);
     let got: Vec<String> = items.into_iter().map(|i| i.code).collect();
