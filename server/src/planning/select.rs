@@ -431,3 +431,71 @@ fn sample(
     }
     Ok((chosen, plans))
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::planning::codes::event_code;
+
+    #[test]
+    fn an_event_is_named_by_its_code_or_its_id() {
+        // The codes' own table (planning::codes): A0001 is 1, B0417 is 10,417.
+        assert_eq!(parse_event_ref("B0417").unwrap(), 10_417);
+        assert_eq!(parse_event_ref(" b0417 ").unwrap(), 10_417);
+        assert_eq!(parse_event_ref("#12").unwrap(), 12);
+        assert_eq!(parse_event_ref("417").unwrap(), 417);
+        for id in [0, 1, 9_999, 10_000, 219_999] {
+            assert_eq!(parse_event_ref(&event_code(id)).unwrap(), id);
+        }
+        for bad in [
+            "",
+            "#",
+            "C0001",
+            "Q0001",
+            "B041",
+            "B04170",
+            "B04x7",
+            "ÄÖ123",
+            "1234567890123",
+        ] {
+            let e = parse_event_ref(bad).unwrap_err().to_string();
+            assert!(e.contains("not an event code"), "{bad}: {e}");
+        }
+    }
+
+    #[test]
+    fn a_hand_edited_assessment_or_too_many_events_are_refused() {
+        let start = LonLat::new(-60.0, -3.0).unwrap();
+        let mut r = TripRequest::response("T", start);
+        r.events = Some(vec![1, 2]);
+        assert!(check_request(&r).is_ok());
+        r.mode = BundleMode::Assessment;
+        assert!(
+            check_request(&r)
+                .unwrap_err()
+                .to_string()
+                .contains("only a response trip")
+        );
+        r.mode = BundleMode::Response;
+        r.events = Some((0..=MAX_HAND_PICKED as i64).collect());
+        assert!(
+            check_request(&r)
+                .unwrap_err()
+                .to_string()
+                .contains("at most")
+        );
+    }
+
+    #[test]
+    fn events_named_by_hand_are_taken_in_order_once_and_unknown_ones_named() {
+        let dir = tempfile::tempdir().unwrap();
+        let db = Db::open(dir.path()).unwrap();
+        let settings = Settings::default();
+        let r = TripRequest::response("T", LonLat::new(-60.0, -3.0).unwrap());
+        let e = hand_picked(&db, &settings, &r, &[417])
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("A0417") && e.contains("#417"), "{e}");
+        assert!(hand_picked(&db, &settings, &r, &[]).unwrap().is_empty());
+    }
+}

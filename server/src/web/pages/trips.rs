@@ -200,11 +200,14 @@ fn not_expired(expires_at: &str, now: chrono::DateTime<chrono::Utc>) -> bool {
     chrono::DateTime::parse_from_rfc3339(expires_at).is_ok_and(|t| t > now)
 }
 
+/// Per bundle id: (returns received, reports stored).
+type ReturnCounts = HashMap<String, (i64, i64)>;
+
 /// One table row per bundle, latest issued first; `may` is (may cancel,
 /// may pair a phone).
 fn bundle_rows(
     bundles: &[BundleRecord],
-    (counts, reported): (&HashMap<String, (i64, i64)>, &HashMap<String, i64>),
+    (counts, reported): (&ReturnCounts, &HashMap<String, i64>),
     (may_cancel, may_pair): (bool, bool),
     now: chrono::DateTime<chrono::Utc>,
 ) -> Vec<BundleRow> {
