@@ -247,7 +247,10 @@ pub fn parse_event_ref(raw: &str) -> Result<i64> {
         return digits.parse::<i64>().map_err(|_| bad());
     }
     let up = s.to_ascii_uppercase();
-    let (letter, num) = (up.as_bytes().first().copied().ok_or_else(bad)?, &up[1..]);
+    // Byte slicing only after the first character is known to be ASCII:
+    // typed text may start with any character.
+    let letter = up.bytes().next().filter(u8::is_ascii).ok_or_else(bad)?;
+    let num = up.get(1..).ok_or_else(bad)?;
     if num.len() != 4 || !num.bytes().all(|b| b.is_ascii_digit()) {
         return Err(bad());
     }

@@ -100,7 +100,7 @@ pub fn configure(cfg: &mut web::ServiceConfig) {
             web::post().to(import::zones).needs(ImportZones),
         )
         .route("/trips", web::get().to(trips::list).needs(ViewEvents))
-        .route("/trips", web::post().to(trips::issue).needs(IssueBundle))
+        .route("/trips", web::post().to(preview::issue).needs(IssueBundle))
         .route(
             "/trips/preview",
             web::post().to(preview::preview).needs(IssueBundle),

@@ -233,3 +233,36 @@ pub async fn preview(
         }
     }
 }
+
+/// `POST /trips` (the fields of [`IssueForm`] and the CSRF token): issues
+/// the trip. From the preview it carries the events kept by hand and the
+/// order shown; when the plan made now differs (the facts changed, or the
+/// form was edited without updating the preview) nothing is issued and the
+/// new preview is shown with 409.
+pub async fn issue(req: HttpRequest, state: web::Data<AppState>, body: web::Bytes) -> HttpResponse {
+    let viewer = Viewer::of(&req);
+    let form = match IssueForm::from_body(&body) {
+        Ok(f) => f,
+        Err(err) => {
+            let r = super::trips::form_page(&req, &state, &viewer, IssueForm::default(), err).await;
+            return respond(&req, &viewer, r);
+        }
+    };
+    let result = match trip_request(&form, Day::today()) {
+        Ok(trip) => super::trips::issue_page(&req, &state, &viewer, trip).await,
+        Err(e) => Err(e),
+    };
+    match result {
+        Ok(r) => r,
+        Err(e) if e.status == StatusCode::CONFLICT && form.text("expect").is_some() => {
+            let mut again = form;
+            again.remove("expect");
+            let r = preview_page(&req, &state, &viewer, again, Some(e)).await;
+            respond(&req, &viewer, r)
+        }
+        Err(e) => {
+            let r = super::trips::form_page(&req, &state, &viewer, form, e).await;
+            respond(&req, &viewer, r)
+        }
+    }
+}

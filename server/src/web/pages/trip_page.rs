@@ -6,22 +6,69 @@
 
 use super::common::{Layout, PageError, Viewer, fixed, page, respond, short_time};
 use super::live_map::LiveMap;
-use super::trips::{PairingView, bundle_id, facts_of};
 use super::views::{Badge, badge, map_events, map_input, map_status, map_zones};
 use crate::alerts::events::{RankedEvent, priority_of};
 use crate::domain::{Day, TargetKind};
 use crate::error::Error;
-use crate::planning::{TripState, trip_state};
+use crate::planning::{TripFacts, TripState, trip_state};
 use crate::platform::auth::Action;
 use crate::platform::storage::{BundleItem, BundleRecord, ReportRow, ReturnSummary, ZoneRecord};
 use crate::reconcile::StatusOutcome;
 use crate::statistics::kept::StatsFilter;
 use crate::web::AppState;
+use crate::web::pairing::ShownPairing;
 use actix_web::http::StatusCode;
 use actix_web::{HttpRequest, HttpResponse, web};
 use askama::Template;
 use std::collections::BTreeMap;
 use std::sync::Arc;
+
+/// A pairing code as the pages show it (`pages/pairing_box.html`).
+pub struct PairingView {
+    pub code: String,
+    pub link: String,
+    pub qr_svg: String,
+    pub expires: String,
+}
+
+impl PairingView {
+    pub fn of(p: ShownPairing) -> PairingView {
+        let expires = chrono::DateTime::from_timestamp(p.expires_at, 0)
+            .map(|t| short_time(&t.to_rfc3339()))
+            .unwrap_or_default();
+        PairingView {
+            code: p.code,
+            link: p.link,
+            qr_svg: p.qr_svg,
+            expires,
+        }
+    }
+}
+
+/// The bundle id of a `/trips/{id}/…` path, checked to be a UUID.
+pub(super) fn bundle_id(path: &str) -> Result<String, PageError> {
+    uuid::Uuid::parse_str(path)
+        .map(|u| u.to_string())
+        .map_err(|_| PageError::bad_request(format!("bundle id '{path}' is not a UUID")))
+}
+
+/// The facts a trip's state is computed from (times we wrote ourselves;
+/// one that does not parse counts as never reached).
+pub(super) fn facts_of(b: &BundleRecord, returns: i64, stops_reported: i64) -> TripFacts {
+    let time = |s: &str| {
+        chrono::DateTime::parse_from_rfc3339(s)
+            .map(|t| t.with_timezone(&chrono::Utc))
+            .unwrap_or(chrono::DateTime::<chrono::Utc>::MAX_UTC)
+    };
+    TripFacts {
+        due_at: time(&b.due_at),
+        expires_at: time(&b.expires_at),
+        cancelled: b.cancelled_at.is_some(),
+        returns: returns.max(0) as u64,
+        stops: (b.events + b.controls).max(0) as u64,
+        stops_reported: stops_reported.max(0) as u64,
+    }
+}
 
 /// One report as the trip page lists it under its stop.
 pub struct StopReport {

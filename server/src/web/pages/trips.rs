@@ -7,17 +7,18 @@ use super::common::{
     Layout, PageError, Viewer, fixed, html, non_empty, page, respond, see_other, short_time,
 };
 use super::events::Choice;
-use super::trip_form::{FormView, IssueForm, trip_request};
-use super::trip_page::{JustIssued, issued_response, load_trip, trip_page};
-use crate::domain::Day;
+use super::trip_form::{FormView, IssueForm};
+use super::trip_page::{
+    JustIssued, PairingView, bundle_id, facts_of, issued_response, load_trip, trip_page,
+};
 use crate::error::Error;
 use crate::planning::{
-    IssuedBundle, TripFacts, TripRequest, TripState, cancel_bundle, issue_bundle, trip_state,
+    IssuedBundle, TripRequest, TripState, cancel_bundle, issue_bundle, trip_state,
 };
 use crate::platform::auth::Action;
 use crate::platform::storage::{BundleRecord, Team, ZoneRecord};
 use crate::web::AppState;
-use crate::web::pairing::{self, ShownPairing};
+use crate::web::pairing;
 use actix_web::http::StatusCode;
 use actix_web::{HttpRequest, HttpResponse, web};
 use askama::Template;
@@ -84,24 +85,6 @@ fn list_filters(q: &TripsQuery) -> Result<(Option<TripState>, Option<String>), P
         })?),
     };
     Ok((state, non_empty(&q.team)))
-}
-
-/// The facts a trip's state is computed from (times we wrote ourselves;
-/// one that does not parse counts as never reached).
-pub(super) fn facts_of(b: &BundleRecord, returns: i64, stops_reported: i64) -> TripFacts {
-    let time = |s: &str| {
-        chrono::DateTime::parse_from_rfc3339(s)
-            .map(|t| t.with_timezone(&chrono::Utc))
-            .unwrap_or(chrono::DateTime::<chrono::Utc>::MAX_UTC)
-    };
-    TripFacts {
-        due_at: time(&b.due_at),
-        expires_at: time(&b.expires_at),
-        cancelled: b.cancelled_at.is_some(),
-        returns: returns.max(0) as u64,
-        stops: (b.events + b.controls).max(0) as u64,
-        stops_reported: stops_reported.max(0) as u64,
-    }
 }
 
 async fn trips_page(
@@ -287,30 +270,8 @@ pub async fn list(
     respond(&req, &viewer, r)
 }
 
-/// A pairing code as the pages show it (`pages/pairing_box.html`).
-pub struct PairingView {
-    pub code: String,
-    pub link: String,
-    pub qr_svg: String,
-    pub expires: String,
-}
-
-impl PairingView {
-    fn of(p: ShownPairing) -> PairingView {
-        let expires = chrono::DateTime::from_timestamp(p.expires_at, 0)
-            .map(|t| short_time(&t.to_rfc3339()))
-            .unwrap_or_default();
-        PairingView {
-            code: p.code,
-            link: p.link,
-            qr_svg: p.qr_svg,
-            expires,
-        }
-    }
-}
-
 /// Issues the trip and shows its page with the first pairing code (201).
-async fn issue_page(
+pub(super) async fn issue_page(
     req: &HttpRequest,
     state: &AppState,
     viewer: &Viewer,
@@ -341,54 +302,6 @@ async fn issue_page(
     };
     let t = trip_page(req, viewer, data, chrono::Utc::now(), Some(just));
     issued_response(&t)
-}
-
-/// `POST /trips` (the fields of [`IssueForm`] and the CSRF token): issues
-/// the trip. From the preview it carries the events kept by hand and the
-/// order shown; when the plan made now differs (the facts changed, or the
-/// form was edited without updating the preview) nothing is issued and the
-/// new preview is shown with 409.
-pub async fn issue(req: HttpRequest, state: web::Data<AppState>, body: web::Bytes) -> HttpResponse {
-    let viewer = Viewer::of(&req);
-    let form = match IssueForm::from_body(&body) {
-        Ok(f) => f,
-        Err(err) => {
-            let r = trips_page(
-                &req,
-                &state,
-                &viewer,
-                IssueForm::default(),
-                Some(err),
-                TripsQuery::default(),
-            )
-            .await;
-            return respond(&req, &viewer, r);
-        }
-    };
-    let result = match trip_request(&form, Day::today()) {
-        Ok(trip) => issue_page(&req, &state, &viewer, trip).await,
-        Err(e) => Err(e),
-    };
-    match result {
-        Ok(r) => r,
-        Err(e) if e.status == StatusCode::CONFLICT && form.text("expect").is_some() => {
-            let mut again = form;
-            again.remove("expect");
-            let r = super::preview::preview_page(&req, &state, &viewer, again, Some(e)).await;
-            respond(&req, &viewer, r)
-        }
-        Err(e) => {
-            let r = trips_page(&req, &state, &viewer, form, Some(e), TripsQuery::default()).await;
-            respond(&req, &viewer, r)
-        }
-    }
-}
-
-/// The bundle id of a `/trips/{id}/…` path, checked to be a UUID.
-pub(super) fn bundle_id(path: &str) -> Result<String, PageError> {
-    uuid::Uuid::parse_str(path)
-        .map(|u| u.to_string())
-        .map_err(|_| PageError::bad_request(format!("bundle id '{path}' is not a UUID")))
 }
 
 /// `POST /trips/{id}/cancel`.
