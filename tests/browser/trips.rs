@@ -1,7 +1,7 @@
 //! Browser test of the coordinator's trip flow in headless Chromium: the
 //! issue form → the preview (its pan-and-zoom map drawn, zoomed in with the
-//! map's own button) → one event added by hand by its code and the start
-//! moved by a click on the map → the preview updated → issued → the
+//! map's own button) → one event added by hand by its code, one by a click
+//! on the map, and the start moved by a click on the map → the preview updated → issued → the
 //! bundle's stops equal the preview's → the trip page, whose map zooms
 //! too. Every page: no console error, every control labelled.
 //!
@@ -136,11 +136,27 @@ fn a_coordinator_previews_adds_an_event_by_hand_issues_and_opens_the_trip() {
         .parse()
         .expect("a latitude");
     assert!((lat - station.1).abs() > 1e-7, "the click moved the start");
+    // And one more from the map: an event of the zone not in the trip,
+    // clicked (its dot), joins the codes to add.
+    let picked = b.script(
+        "const m = document.getElementById('preview-map').gpMap; let code = null;\
+         m.eachLayer(l => { const t = l.getTooltip && l.getTooltip();\
+           if (!code && l instanceof L.CircleMarker && t && String(t.getContent()).includes('click to add')) {\
+             code = String(t.getContent()).slice(0, 5); l.fire('click'); } });\
+         return code;",
+    );
+    let picked = picked.as_str().expect("a candidate on the map").to_string();
+    let add = b.script("return document.getElementById('p-add').value;");
+    assert!(
+        add.as_str().unwrap_or_default().contains(&picked),
+        "{add} holds {picked}"
+    );
     b.click_to_navigate("#update-preview");
     assert_clean(&b, "updated preview");
     let previewed = codes(&b);
-    assert_eq!(previewed.len(), 5, "{previewed:?}");
+    assert_eq!(previewed.len(), 6, "{previewed:?}");
     assert!(previewed.contains(&code), "{previewed:?}");
+    assert!(previewed.contains(&picked), "{previewed:?}");
     assert_eq!(
         s.db.read(|r| r.bundles()).unwrap().len(),
         2,

@@ -27,6 +27,7 @@
       if (kinds['zone-p']) { line(div, 'priority zone', ''); }
       if (kinds.zone) { line(div, 'zone', 'plain'); }
       if (kinds.route) { line(div, 'route', ''); }
+      if (kinds.candidate) { line(div, 'not in the trip (click to add)', ''); }
       return div;
     };
     legend.addTo(map);
@@ -51,10 +52,11 @@
   function drawEvent(map, f, el) {
     var p = f.properties;
     var style = { color: '#1a1a1a', weight: 1, fillColor: p.colour, fillOpacity: 0.75 };
-    var layer = L.geoJSON(f, { style: style }).addTo(map);
+    // Clicks on an event stay with it (they do not move the preview's start).
+    var layer = L.geoJSON(f, { style: style, bubblingMouseEvents: false }).addTo(map);
     // A footprint of a hectare is a speck at reserve scale: a dot marks it.
     var dot = L.circleMarker(layer.getBounds().getCenter(), {
-      radius: 6, color: '#1a1a1a', weight: 1, fillColor: p.colour, fillOpacity: 0.9
+      bubblingMouseEvents: false, radius: 6, color: '#1a1a1a', weight: 1, fillColor: p.colour, fillOpacity: 0.9
     }).addTo(map);
     var html = '<a href="/events/' + p.id + '">' + p.code + '</a> · ' + p.label +
       ' · ' + Number(p.area_ha).toFixed(2) + ' ha';
@@ -68,6 +70,26 @@
         } else {
           L.popup().setLatLng(layer.getBounds().getCenter()).setContent(html).openOn(map);
         }
+      });
+    });
+  }
+
+  // On the preview: an event not in the trip; a click adds its code.
+  function drawCandidate(map, f) {
+    var p = f.properties;
+    var layer = L.geoJSON(f, { style: { color: '#595959', weight: 1, dashArray: '3 3', fill: false }, bubblingMouseEvents: false }).addTo(map);
+    var dot = L.circleMarker(layer.getBounds().getCenter(), {
+      bubblingMouseEvents: false, radius: 5, color: '#595959', weight: 1.5, fillColor: '#ffffff', fillOpacity: 1
+    }).addTo(map);
+    [layer, dot].forEach(function (l) {
+      l.bindTooltip(p.code + ': not in the trip, click to add');
+      l.on('click', function () {
+        var add = document.getElementById('p-add');
+        if (!add) { return; }
+        var codes = add.value.split(/[\s,;]+/).filter(function (c) { return c; });
+        if (codes.indexOf(p.code) < 0) { codes.push(p.code); }
+        add.value = codes.join(', ');
+        dot.setStyle({ fillColor: '#1a1a1a' });
       });
     });
   }
@@ -88,6 +110,7 @@
       var k = f.properties.kind;
       if (k === 'zone') { drawZone(map, f); }
       if (k === 'event') { drawEvent(map, f, el); }
+      if (k === 'candidate') { drawCandidate(map, f); }
       if (k === 'route') {
         L.geoJSON(f, { style: { color: '#e69f00', weight: 3, dashArray: '8 5' }, interactive: false }).addTo(map);
       }

@@ -125,6 +125,19 @@ fn geometry(m: &geo::MultiPolygon<f64>) -> Value {
         .unwrap_or(Value::Null)
 }
 
+/// Adds events that are not part of the plan (the preview's other
+/// candidates) to a map's GeoJSON: drawn hollow, a click adds them by code.
+pub fn with_candidates(mut v: Value, candidates: &[crate::web::charts::MapEvent]) -> Value {
+    if let Some(f) = v["features"].as_array_mut() {
+        for e in candidates {
+            f.push(json!({"type": "Feature", "geometry": geometry(&e.footprint),
+                "properties": {"kind": "candidate", "id": e.id, "code": e.code, "area_ha": e.area_ha,
+                    "label": e.status.label()}}));
+        }
+    }
+    v
+}
+
 /// The map data as text that is safe inside `<script type="application/json">`
 /// (no `<` that could close the element).
 pub fn embed(v: &Value) -> String {

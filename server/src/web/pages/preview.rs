@@ -10,15 +10,15 @@
 //! then differs.
 
 use super::common::{Layout, PageError, Viewer, fixed, html, respond};
-use super::live_map::LiveMap;
+use super::live_map::{LiveMap, embed, map_geojson, with_candidates};
 use super::trip_form::{IssueForm, added_events, trip_request};
 use super::views::{map_events, map_input, map_zones};
-use crate::alerts::events::{RankedEvent, priority_of};
+use crate::alerts::events::{RankedEvent, priority_of, ranked_events};
 use crate::domain::{BundleMode, Day};
 use crate::error::Error;
 use crate::planning::select::StratumPlan;
 use crate::planning::{TripPlan, TripRequest, plan_preview};
-use crate::platform::storage::ZoneRecord;
+use crate::platform::storage::{EventFilter, ZoneRecord};
 use crate::reconcile::StatusOutcome;
 use crate::statistics::kept::StatsFilter;
 use crate::web::AppState;
@@ -69,6 +69,9 @@ struct Planned {
     plan: TripPlan,
     req: TripRequest,
     events: Vec<RankedEvent>,
+    /// Other events that pass the storage filters (zone, dates, source,
+    /// area), shown on the map to be added with a click.
+    others: Vec<RankedEvent>,
     zones: Vec<ZoneRecord>,
     statuses: Arc<BTreeMap<i64, StatusOutcome>>,
 }
@@ -101,6 +104,16 @@ fn plan(st: &AppState, mut req: TripRequest, added: Vec<i64>) -> Result<Planned,
             });
         }
     }
+    let filter = EventFilter {
+        zone: req.zone.clone(),
+        from: req.from,
+        to: req.to,
+        source: req.source.clone(),
+        min_area_ha: req.min_area_ha,
+        limit: Some(MAX_CANDIDATES_SHOWN),
+    };
+    let mut others = ranked_events(&st.db, &filter, &st.settings.priority, req.as_of)?;
+    others.retain(|o| !events.iter().any(|e| e.record.id == o.record.id));
     let zones = st.db.read(|r| r.zones())?;
     let statuses = Arc::clone(
         &st.stats
@@ -112,10 +125,15 @@ fn plan(st: &AppState, mut req: TripRequest, added: Vec<i64>) -> Result<Planned,
         plan,
         req,
         events,
+        others,
         zones,
         statuses,
     })
 }
+
+/// Most events not in the plan that the preview map offers (in priority
+/// order; our choice: enough to pick from, small enough for the page).
+const MAX_CANDIDATES_SHOWN: usize = 300;
 
 /// The preview's map: the chosen events, the zones they lie in, the route.
 fn preview_map(p: &Planned) -> LiveMap {
@@ -137,6 +155,8 @@ fn preview_map(p: &Planned) -> LiveMap {
         .chain(p.plan.stops.iter().map(|s| (s.lon, s.lat)))
         .collect();
     let mut map = LiveMap::new("preview-map", &m, true);
+    let others = map_events(&p.others, &p.statuses);
+    map.json = embed(&with_candidates(map_geojson(&m, true), &others));
     map.pick = true;
     map
 }
