@@ -620,6 +620,7 @@ fn selection_json(req: &TripRequest, sel: &Selection) -> String {
         "source": req.source, "confidence": req.confidence, "min_area_ha": req.min_area_ha, "max": req.max,
         "extent": req.extent.is_some(), "controls": req.controls, "control_min_distance_m": req.control_min_distance_m,
         "walking_kmh": req.walking_kmh, "as_of": req.as_of.to_string(), "strata": sel.strata,
+        "events_by_hand": req.events,
     })
     .to_string()
 }
