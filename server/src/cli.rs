@@ -247,6 +247,13 @@ struct IssueArgs {
     /// Where to write a copy of the bundle (it is also kept in the data directory).
     #[arg(long)]
     out: Option<PathBuf>,
+    /// Events chosen by hand, by code (K0417) or id (repeatable), instead of
+    /// the filters' choice (response mode).
+    #[arg(long = "event")]
+    events: Vec<String>,
+    /// Show the plan (stops, route, seed) and store nothing.
+    #[arg(long)]
+    preview: bool,
     #[command(flatten)]
     data: DataArg,
 }
@@ -647,6 +654,7 @@ fn issue(a: IssueArgs) -> Result<()> {
         "status": (!a.status.is_empty()).then_some(&a.status),
         "controls": a.controls, "control_min_distance_m": a.control_min_distance_m, "seed": a.seed,
         "walking_kmh": a.walking_kmh, "due_days": a.due_days, "expires_days": a.expires_days,
+        "events": (!a.events.is_empty()).then_some(&a.events),
         "extent": match &a.extent {
             None => None,
             Some(p) => {
@@ -656,8 +664,15 @@ fn issue(a: IssueArgs) -> Result<()> {
             }
         },
     });
-    let req = web::api::bundles::trip_request(serde_json::from_value(body)?)?;
+    let mut req = web::api::bundles::trip_request(serde_json::from_value(body)?)?;
     let (db, settings) = open(&a.data.data)?;
+    if !req.statuses.is_empty() {
+        req.reconciled = Some(groundproof::statistics::kept::event_statuses(&db)?);
+    }
+    if a.preview {
+        req.seed = Some(req.seed.unwrap_or_else(|| rand::random::<u64>() >> 1));
+        return print_plan(&groundproof::planning::plan_preview(&db, &settings, &req)?);
+    }
     let out = groundproof::planning::issue_bundle(&db, &a.data.data, &settings, &req)?;
     if let Some(o) = &a.out {
         std::fs::copy(&out.path, o)
@@ -680,6 +695,33 @@ fn issue(a: IssueArgs) -> Result<()> {
         );
     }
     println!("  file: {}", a.out.as_ref().unwrap_or(&out.path).display());
+    Ok(())
+}
+
+/// The plan of `bundle issue --preview`: nothing was stored.
+fn print_plan(p: &groundproof::planning::TripPlan) -> Result<()> {
+    println!(
+        "preview (nothing stored): {} stops; route {:.1} km straight-line, about {:.1} h walking ({}); seed {}",
+        p.stops.len(),
+        p.route_m / 1000.0,
+        p.walking_hours,
+        p.route_method,
+        p.seed.map_or_else(|| "-".into(), |s| s.to_string())
+    );
+    for s in &p.stops {
+        println!(
+            "  {:>3} {} {:.6},{:.6} leg {:.2} km",
+            s.visit_order,
+            s.code,
+            s.lat,
+            s.lon,
+            s.leg_m / 1000.0
+        );
+    }
+    println!(
+        "  issue exactly this: --seed {} plus the same options",
+        p.seed.unwrap_or(0)
+    );
     Ok(())
 }
 

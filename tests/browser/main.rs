@@ -26,6 +26,7 @@
 //! says SKIP on stderr and passes.
 
 mod station;
+mod trips;
 mod webdriver;
 // The administration pages (issue 13).
 mod admin;
@@ -256,6 +257,9 @@ fn coordinator_and_manager_work_through_the_pages_in_chromium() {
     b.type_into("#t-max", "6");
     b.type_into("#t-lat", &format!("{:.6}", station.1));
     b.type_into("#t-lon", &format!("{:.6}", station.0));
+    submit(&b, "/trips");
+    // The preview first; its first button issues.
+    assert_clean(&b, "trip preview");
     submit(&b, "/trips");
     assert_eq!(b.text("h1"), "Bundle issued");
     assert_has(&b, "bundle issued", &["<svg", "Stops in visit order"]);

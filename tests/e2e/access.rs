@@ -309,3 +309,76 @@ fn every_administration_route_is_for_admins_only() {
     // Nothing an admin's empty forms sent was changed.
     assert!(s.db.read(|r| r.admin_log(None, 10)).unwrap().len() == 1);
 }
+
+/// A form POST (urlencoded) as a token holder; the status.
+fn post_form_as(s: &TestServer, path: &str, token: Option<&str>, body: &str) -> u16 {
+    let agent: ureq::Agent = ureq::Agent::config_builder()
+        .http_status_as_error(false)
+        .max_redirects(0)
+        .build()
+        .into();
+    let mut r = agent
+        .post(&s.url(path))
+        .header("Content-Type", "application/x-www-form-urlencoded");
+    if let Some(t) = token {
+        r = r.header("Authorization", &format!("Bearer {t}"));
+    }
+    r.send(body.as_bytes())
+        .expect("reaches the server")
+        .status()
+        .as_u16()
+}
+
+#[test]
+fn who_may_open_preview_and_issue_trips() {
+    let s = TestServer::start();
+    load_scenario(&s);
+    let (lon, lat) = mock_patrols::scenario().station;
+    let coordinator = token(&s, Role::Coordinator);
+    let manager = token(&s, Role::Manager);
+    let team = issue_team_token(&s.db, "Team Amber", now_unix()).unwrap().1;
+    let trip =
+        json!({"team": "Team Amber", "zone": "Core", "max": 2, "start": {"lat": lat, "lon": lon}});
+    let id = post_json(&s.url("/api/v1/bundles"), &trip).json()["bundle"]["bundle"]["id"]
+        .as_str()
+        .unwrap()
+        .to_string();
+    let page = format!("/trips/{id}");
+    // GET /trips/{id}: everyone who sees events (ViewEvents); not a team, not anonymous.
+    assert_eq!(get_as(&s.url(&page), Some(&manager)).status, 200);
+    assert_eq!(get_as(&s.url(&page), Some(&coordinator)).status, 200);
+    assert_eq!(get_as(&s.url(&page), Some(&team)).status, 403);
+    let anon = anonymous_get(&s.url(&page));
+    assert!(
+        anon.status == 401
+            || (anon.body.contains("<title>Log in") && !anon.body.contains("trip-stops")),
+        "anonymous sees the login page: {} {}",
+        anon.status,
+        anon.body
+    );
+    // A manager sees the trip but is offered no download, pairing or cancel.
+    let seen = get_as(&s.url(&page), Some(&manager)).body;
+    assert!(
+        !seen.contains("/download\"") && !seen.contains("/cancel\""),
+        "{seen}"
+    );
+    // POST /trips/preview and POST /api/v1/bundles/preview: IssueBundle.
+    let form = format!("team=Team+Amber&zone=Core&max=2&start_lat={lat}&start_lon={lon}");
+    assert_eq!(
+        post_form_as(&s, "/trips/preview", Some(&coordinator), &form),
+        200
+    );
+    assert_eq!(
+        post_form_as(&s, "/trips/preview", Some(&manager), &form),
+        403
+    );
+    assert_eq!(post_form_as(&s, "/trips/preview", Some(&team), &form), 403);
+    assert_ne!(post_form_as(&s, "/trips/preview", None, &form), 200);
+    let api = s.url("/api/v1/bundles/preview");
+    assert_eq!(post_json_as(&api, Some(&coordinator), &trip).status, 200);
+    assert_eq!(post_json_as(&api, Some(&manager), &trip).status, 403);
+    assert_eq!(post_json_as(&api, Some(&team), &trip).status, 403);
+    assert_eq!(post_json_as(&api, None, &trip).status, 401);
+    // Previews stored nothing: still the one bundle.
+    assert_eq!(s.db.read(|r| r.bundles()).unwrap().len(), 1);
+}

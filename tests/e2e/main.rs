@@ -15,3 +15,4 @@ mod station_entry;
 mod stats_api;
 mod stats_cache;
 mod tls;
+mod trips;

@@ -6,7 +6,7 @@
 //! distinct event codes. Control points are `C0001`, `C0002`, … within a
 //! bundle.
 
-const LETTERS: &[u8] = b"ABDEFGHJKLMNPRSTUVWXYZ";
+pub(crate) const LETTERS: &[u8] = b"ABDEFGHJKLMNPRSTUVWXYZ";
 
 /// The code of an event id (ids past 220,000 wrap around; the bundle
 /// checks that its codes are distinct).

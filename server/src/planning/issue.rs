@@ -54,6 +54,7 @@ pub fn issue_bundle(
     let team = team_of(db, req)?;
     check_request(req)?;
     let planned = plan_trip(db, settings, req)?;
+    check_expected_order(req, &planned)?;
     let (header, key) = new_header(&team.name, req, planned.sel.seed);
     let file = write_bundle_file(db, data_dir, req, &team.name, &planned, &header, &key)?;
     let record = record_issued(db, req, &team, &planned, &header, &key, &file)?;
@@ -67,6 +68,110 @@ pub fn issue_bundle(
         route_note: planned.route.note.clone(),
         strata: planned.sel.strata,
     })
+}
+
+/// One stop of a planned trip, in visiting order.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct PlannedStop {
+    /// 1-based place in the route.
+    pub visit_order: u32,
+    pub code: String,
+    /// The event, or `None` for a control point.
+    pub event_id: Option<i64>,
+    pub lon: f64,
+    pub lat: f64,
+    /// Straight-line length of the leg that reaches this stop, metres.
+    pub leg_m: f64,
+    pub area_ha: Option<f64>,
+    pub priority: Option<f64>,
+}
+
+/// A trip as it would be issued, without anything stored: the preview.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct TripPlan {
+    pub stops: Vec<PlannedStop>,
+    pub route_m: f64,
+    pub walking_hours: f64,
+    pub route_method: String,
+    pub route_note: String,
+    pub strata: Vec<StratumPlan>,
+    /// The seed the plan was drawn with (assessment sample, control points).
+    pub seed: Option<u64>,
+    /// The chosen events' ids in the order the route was solved over; hand
+    /// them back in this order (as [`TripRequest::events`]) to get this route.
+    pub selected: Vec<i64>,
+}
+
+/// Plans a trip exactly as [`issue_bundle`] would (the same selection,
+/// the same route) and stores nothing: the preview a coordinator checks
+/// before issuing. Hand the same request, with its seed fixed, to
+/// [`issue_bundle`] to issue this plan.
+pub fn plan_preview(db: &Db, settings: &Settings, req: &TripRequest) -> Result<TripPlan> {
+    check_request(req)?;
+    let planned = plan_trip(db, settings, req)?;
+    let mut stops: Vec<PlannedStop> = planned
+        .events
+        .iter()
+        .map(|e| PlannedStop {
+            visit_order: e.visit_order,
+            code: e.code.clone(),
+            event_id: Some(e.event_id),
+            lon: e.centroid.x(),
+            lat: e.centroid.y(),
+            leg_m: 0.0,
+            area_ha: Some(e.area_ha),
+            priority: Some(e.priority),
+        })
+        .chain(planned.controls.iter().map(|c| PlannedStop {
+            visit_order: c.visit_order,
+            code: c.code.clone(),
+            event_id: None,
+            lon: c.point.x(),
+            lat: c.point.y(),
+            leg_m: 0.0,
+            area_ha: None,
+            priority: None,
+        }))
+        .collect();
+    stops.sort_by_key(|s| s.visit_order);
+    for (s, m) in stops.iter_mut().zip(&planned.route.legs_m) {
+        s.leg_m = *m;
+    }
+    Ok(TripPlan {
+        stops,
+        route_m: planned.route.total_m,
+        walking_hours: planned.route.walking_hours,
+        route_method: format!("{:?}", planned.route.method),
+        route_note: planned.route.note.clone(),
+        strata: planned.sel.strata,
+        seed: planned.sel.seed.or(req.seed),
+        selected: planned
+            .sel
+            .events
+            .iter()
+            .map(|c| c.event.record.id)
+            .collect(),
+    })
+}
+
+/// When the request carries the order the coordinator previewed, the plan
+/// made now must visit the same stops in the same order; otherwise the
+/// facts changed in between (an event merged, grew or was re-ranked) and
+/// nothing is issued.
+fn check_expected_order(req: &TripRequest, planned: &Planned) -> Result<()> {
+    let Some(expected) = &req.expect_order else {
+        return Ok(());
+    };
+    let now = route_codes(&planned.events, &planned.controls);
+    if &now != expected {
+        return Err(Error::Conflict(format!(
+            "the facts changed since the preview: it showed the stops {} and the plan is now {}; \
+             nothing was issued, check the new preview and issue again",
+            expected.join(" "),
+            now.join(" ")
+        )));
+    }
+    Ok(())
 }
 
 /// A trip planned: what was chosen, the route over it, and the stops as the
@@ -531,6 +636,7 @@ fn selection_json(req: &TripRequest, sel: &Selection) -> String {
         "source": req.source, "confidence": req.confidence, "min_area_ha": req.min_area_ha, "max": req.max,
         "extent": req.extent.is_some(), "controls": req.controls, "control_min_distance_m": req.control_min_distance_m,
         "walking_kmh": req.walking_kmh, "as_of": req.as_of.to_string(), "strata": sel.strata,
+        "events_by_hand": req.events,
     })
     .to_string()
 }

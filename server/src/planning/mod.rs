@@ -34,9 +34,11 @@ pub mod route;
 pub mod sample;
 pub mod select;
 pub mod sheet;
+pub mod trip_state;
 
-pub use issue::{IssuedBundle, cancel_bundle, issue_bundle};
+pub use issue::{IssuedBundle, PlannedStop, TripPlan, cancel_bundle, issue_bundle, plan_preview};
 pub use select::TripRequest;
+pub use trip_state::{TripFacts, TripState, trip_state};
 
 pub use controls::{AlertGrid, DEFAULT_TRIES_PER_POINT, place_controls};
 pub use route::{

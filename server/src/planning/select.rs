@@ -54,6 +54,15 @@ pub struct TripRequest {
     /// Issue time to record instead of now (for recording a trip made
     /// earlier, and for the demo's past trips); due and expiry count from it.
     pub issued_at: Option<chrono::DateTime<chrono::Utc>>,
+    /// Events chosen by hand (ids, in this order), instead of the filters'
+    /// choice: what a coordinator kept, added and removed in the preview.
+    /// Response mode only (a hand-edited sample has no inclusion
+    /// probabilities).
+    pub events: Option<Vec<i64>>,
+    /// The stop codes in visiting order that the coordinator saw in the
+    /// preview; issuing refuses (a conflict, nothing stored) when the plan
+    /// made now differs, because the facts changed in between.
+    pub expect_order: Option<Vec<String>>,
 }
 
 impl TripRequest {
@@ -83,6 +92,8 @@ impl TripRequest {
             expires_days: 30,
             as_of: Day::today(),
             issued_at: None,
+            events: None,
+            expect_order: None,
         }
     }
 }
@@ -134,7 +145,10 @@ pub fn stratum_of(e: &RankedEvent) -> String {
 pub fn select(db: &Db, settings: &Settings, req: &TripRequest) -> Result<Selection> {
     check_request(req)?;
     let zone_shape = zone_shape(db, req)?;
-    let pool = candidate_pool(db, settings, req)?;
+    let pool = match &req.events {
+        Some(ids) => hand_picked(db, settings, req, ids)?,
+        None => candidate_pool(db, settings, req)?,
+    };
     if pool.is_empty() && (req.mode == BundleMode::Response || req.controls == 0) {
         return Err(Error::Invalid(
             "the selection holds no events: widen the zone, dates, source or minimum area".into(),
@@ -142,6 +156,9 @@ pub fn select(db: &Db, settings: &Settings, req: &TripRequest) -> Result<Selecti
     }
     let seed = req.seed.unwrap_or_else(|| rand::random::<u64>() >> 1);
     let (events, strata) = match req.mode {
+        BundleMode::Response if req.events.is_some() => {
+            (response_events(pool, Some(usize::MAX)), Vec::new())
+        }
         BundleMode::Response => (response_events(pool, req.max), Vec::new()),
         BundleMode::Assessment => sample(pool, req, seed)?,
     };
@@ -165,7 +182,84 @@ fn check_request(req: &TripRequest) -> Result<()> {
     if req.max == Some(0) {
         return Err(Error::Invalid("--max must be at least 1".into()));
     }
+    if let Some(ids) = &req.events {
+        if req.mode == BundleMode::Assessment {
+            return Err(Error::Invalid(
+                "events chosen by hand: only a response trip can be edited by hand (an assessment sample is drawn at random so that its inclusion probabilities hold)".into(),
+            ));
+        }
+        if ids.len() > MAX_HAND_PICKED {
+            return Err(Error::Invalid(format!(
+                "{} events chosen by hand: at most {MAX_HAND_PICKED} per trip",
+                ids.len()
+            )));
+        }
+    }
     Ok(())
+}
+
+/// Most events a coordinator may choose by hand for one trip (our choice:
+/// more than a field team visits in a fortnight, and the route stays quick).
+pub const MAX_HAND_PICKED: usize = 200;
+
+/// The events named by hand, in the order given, each resolved through
+/// merges (an event merged into one already named is taken once) and ranked
+/// on the request's day. An id that names no event is an error that says
+/// which.
+fn hand_picked(
+    db: &Db,
+    settings: &Settings,
+    req: &TripRequest,
+    ids: &[i64],
+) -> Result<Vec<RankedEvent>> {
+    let mut out: Vec<RankedEvent> = Vec::new();
+    for &id in ids {
+        let rec = db.read(|r| r.event_resolved(id))?.ok_or_else(|| {
+            Error::NotFound(format!(
+                "event {} (#{id}) chosen by hand does not exist",
+                crate::planning::codes::event_code(id)
+            ))
+        })?;
+        if out.iter().any(|e| e.record.id == rec.id) {
+            continue;
+        }
+        let priority = crate::alerts::events::priority_of(&rec, &settings.priority, req.as_of);
+        out.push(RankedEvent {
+            record: rec,
+            priority,
+        });
+    }
+    Ok(out)
+}
+
+/// An event named as a coordinator types it: its short code (`K0417`),
+/// its id (`417`) or `#417`. Codes wrap past 220,000 ids; the smallest id
+/// with the code is meant.
+pub fn parse_event_ref(raw: &str) -> Result<i64> {
+    let s = raw.trim();
+    let bad = || {
+        Error::Invalid(format!(
+            "'{raw}' is not an event code (a letter and four digits, such as K0417) or an event id"
+        ))
+    };
+    let digits = s.strip_prefix('#').unwrap_or(s);
+    if !digits.is_empty() && digits.len() <= 12 && digits.bytes().all(|b| b.is_ascii_digit()) {
+        return digits.parse::<i64>().map_err(|_| bad());
+    }
+    let up = s.to_ascii_uppercase();
+    // Byte slicing only after the first character is known to be ASCII:
+    // typed text may start with any character.
+    let letter = up.bytes().next().filter(u8::is_ascii).ok_or_else(bad)?;
+    let num = up.get(1..).ok_or_else(bad)?;
+    if num.len() != 4 || !num.bytes().all(|b| b.is_ascii_digit()) {
+        return Err(bad());
+    }
+    let k = crate::planning::codes::LETTERS
+        .iter()
+        .position(|&l| l == letter)
+        .ok_or_else(bad)?;
+    let id = k as i64 * 10_000 + num.parse::<i64>().map_err(|_| bad())?;
+    Ok(id)
 }
 
 /// The shape of the requested zone, if one was named (an unknown name is an error).
@@ -339,4 +433,72 @@ fn sample(
         }
     }
     Ok((chosen, plans))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::planning::codes::event_code;
+
+    #[test]
+    fn an_event_is_named_by_its_code_or_its_id() {
+        // The codes' own table (planning::codes): A0001 is 1, B0417 is 10,417.
+        assert_eq!(parse_event_ref("B0417").unwrap(), 10_417);
+        assert_eq!(parse_event_ref(" b0417 ").unwrap(), 10_417);
+        assert_eq!(parse_event_ref("#12").unwrap(), 12);
+        assert_eq!(parse_event_ref("417").unwrap(), 417);
+        for id in [0, 1, 9_999, 10_000, 219_999] {
+            assert_eq!(parse_event_ref(&event_code(id)).unwrap(), id);
+        }
+        for bad in [
+            "",
+            "#",
+            "C0001",
+            "Q0001",
+            "B041",
+            "B04170",
+            "B04x7",
+            "ÄÖ123",
+            "1234567890123",
+        ] {
+            let e = parse_event_ref(bad).unwrap_err().to_string();
+            assert!(e.contains("not an event code"), "{bad}: {e}");
+        }
+    }
+
+    #[test]
+    fn a_hand_edited_assessment_or_too_many_events_are_refused() {
+        let start = LonLat::new(-60.0, -3.0).unwrap();
+        let mut r = TripRequest::response("T", start);
+        r.events = Some(vec![1, 2]);
+        assert!(check_request(&r).is_ok());
+        r.mode = BundleMode::Assessment;
+        assert!(
+            check_request(&r)
+                .unwrap_err()
+                .to_string()
+                .contains("only a response trip")
+        );
+        r.mode = BundleMode::Response;
+        r.events = Some((0..=MAX_HAND_PICKED as i64).collect());
+        assert!(
+            check_request(&r)
+                .unwrap_err()
+                .to_string()
+                .contains("at most")
+        );
+    }
+
+    #[test]
+    fn events_named_by_hand_are_taken_in_order_once_and_unknown_ones_named() {
+        let dir = tempfile::tempdir().unwrap();
+        let db = Db::open(dir.path()).unwrap();
+        let settings = Settings::default();
+        let r = TripRequest::response("T", LonLat::new(-60.0, -3.0).unwrap());
+        let e = hand_picked(&db, &settings, &r, &[417])
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("A0417") && e.contains("#417"), "{e}");
+        assert!(hand_picked(&db, &settings, &r, &[]).unwrap().is_empty());
+    }
 }

@@ -29,6 +29,7 @@ mod schema;
 mod sources;
 mod station;
 pub(crate) mod stats;
+mod trips;
 mod zones;
 
 pub use admin::{ADMIN_MIGRATION, AdminLogEntry, LOG_FIELD_MAX_CHARS, TeamState};
@@ -44,6 +45,7 @@ pub use returns::{
 pub use sources::Source;
 pub use station::StationEntry;
 pub use stats::{AdjudicationRow, ControlRow, StatsEventRow, StatsReportRef};
+pub use trips::ReturnSummary;
 pub use zones::ZoneRecord;
 
 use crate::error::{Error, Result};

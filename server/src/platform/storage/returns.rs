@@ -435,11 +435,12 @@ impl Tx<'_> {
     }
 }
 
-const REPORT_COLS: &str = "report_id, bundle_id, event_id, control_code, kind, supersedes, outcome,
+pub(super) const REPORT_COLS: &str =
+    "report_id, bundle_id, event_id, control_code, kind, supersedes, outcome,
     reason, cause, lat, lon, accuracy_m, position_source, distance_m, observed_at, recorded_at,
     received_at, area_ha, notes, team, evidence_ok, flags, return_id";
 
-fn report_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<ReportRow> {
+pub(super) fn report_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<ReportRow> {
     let flags: String = r.get(21)?;
     Ok(ReportRow {
         report_id: r.get(0)?,

@@ -1,11 +1,12 @@
 //! Teams and bundles:
 //! `GET/POST /api/v1/teams`, `GET/POST /api/v1/bundles`,
+//! `POST /api/v1/bundles/preview` (the plan, nothing stored),
 //! `GET /api/v1/bundles/{id}`, `GET /api/v1/bundles/{id}/download`,
 //! `POST /api/v1/bundles/{id}/cancel`.
 
 use crate::domain::{BundleMode, Confidence, Day, LonLat, TeamName};
 use crate::error::Error;
-use crate::planning::{TripRequest, cancel_bundle, issue_bundle};
+use crate::planning::{TripRequest, cancel_bundle, issue_bundle, plan_preview};
 use crate::web::AppState;
 use crate::web::error::ApiError;
 use actix_web::{HttpResponse, web};
@@ -33,40 +34,46 @@ pub async fn add_team(
     Ok(HttpResponse::Created().json(t))
 }
 
-#[derive(Deserialize)]
+#[derive(Deserialize, Default)]
 #[serde(deny_unknown_fields)]
 pub struct Start {
-    lat: f64,
-    lon: f64,
-    name: Option<String>,
+    pub(crate) lat: f64,
+    pub(crate) lon: f64,
+    pub(crate) name: Option<String>,
 }
 
 /// The body of `POST /api/v1/bundles`.
-#[derive(Deserialize)]
+#[derive(Deserialize, Default)]
 #[serde(deny_unknown_fields)]
 pub struct IssueBody {
-    team: String,
-    start: Start,
-    mode: Option<String>,
-    zone: Option<String>,
+    pub(crate) team: String,
+    pub(crate) start: Start,
+    pub(crate) mode: Option<String>,
+    pub(crate) zone: Option<String>,
     /// A GeoJSON Polygon or MultiPolygon geometry.
-    extent: Option<serde_json::Value>,
-    from: Option<String>,
-    to: Option<String>,
-    source: Option<String>,
-    confidence: Option<String>,
-    min_area_ha: Option<f64>,
+    pub(crate) extent: Option<serde_json::Value>,
+    pub(crate) from: Option<String>,
+    pub(crate) to: Option<String>,
+    pub(crate) source: Option<String>,
+    pub(crate) confidence: Option<String>,
+    pub(crate) min_area_ha: Option<f64>,
     /// Only events with one of these statuses.
-    status: Option<Vec<String>>,
-    max: Option<usize>,
-    margin: Option<f64>,
-    controls: Option<usize>,
-    control_min_distance_m: Option<f64>,
-    seed: Option<u64>,
-    walking_kmh: Option<f64>,
-    due_days: Option<i64>,
-    expires_days: Option<i64>,
-    as_of: Option<String>,
+    pub(crate) status: Option<Vec<String>>,
+    pub(crate) max: Option<usize>,
+    pub(crate) margin: Option<f64>,
+    pub(crate) controls: Option<usize>,
+    pub(crate) control_min_distance_m: Option<f64>,
+    pub(crate) seed: Option<u64>,
+    pub(crate) walking_kmh: Option<f64>,
+    pub(crate) due_days: Option<i64>,
+    pub(crate) expires_days: Option<i64>,
+    pub(crate) as_of: Option<String>,
+    /// Events chosen by hand, by code (`K0417`) or id, in this order:
+    /// instead of the filters' choice (response mode).
+    pub(crate) events: Option<Vec<String>>,
+    /// The stop codes in visiting order a preview showed: issuing refuses
+    /// with 409 Conflict, storing nothing, when the plan made now differs.
+    pub(crate) expect_order: Option<Vec<String>>,
 }
 
 fn day(name: &str, v: &Option<String>) -> Result<Option<Day>, Error> {
@@ -133,6 +140,18 @@ pub fn trip_request(b: IssueBody) -> Result<TripRequest, Error> {
     if let Some(d) = day("as_of", &b.as_of)? {
         r.as_of = d;
     }
+    r.events = b
+        .events
+        .map(|v| {
+            v.iter()
+                .map(|e| {
+                    crate::planning::select::parse_event_ref(e)
+                        .map_err(|m| Error::Invalid(format!("field 'events': {m}")))
+                })
+                .collect::<Result<Vec<i64>, Error>>()
+        })
+        .transpose()?;
+    r.expect_order = b.expect_order;
     Ok(r)
 }
 
@@ -153,6 +172,28 @@ pub async fn issue(
     Ok(HttpResponse::Created()
         .insert_header(("Location", format!("/api/v1/bundles/{id}")))
         .json(json!({"bundle": out, "download": format!("/api/v1/bundles/{id}/download")})))
+}
+
+/// `POST /api/v1/bundles/preview`: the trip the body would issue (stops in
+/// visiting order, route length, the ids to send back as `events` and the
+/// codes as `expect_order`), planned without storing anything. Without a
+/// seed one is drawn and returned, so that issuing with it gives the same plan.
+pub async fn preview(
+    state: web::Data<AppState>,
+    body: web::Json<IssueBody>,
+) -> Result<HttpResponse, ApiError> {
+    let mut req = trip_request(body.into_inner())?;
+    req.seed = Some(req.seed.unwrap_or_else(|| rand::random::<u64>() >> 1));
+    let state = state.into_inner();
+    let plan = web::block(move || {
+        if !req.statuses.is_empty() {
+            req.reconciled = Some(crate::statistics::kept::event_statuses(&state.db)?);
+        }
+        plan_preview(&state.db, &state.settings, &req)
+    })
+    .await??;
+    let expect: Vec<&str> = plan.stops.iter().map(|s| s.code.as_str()).collect();
+    Ok(HttpResponse::Ok().json(json!({"plan": plan, "expect_order": expect})))
 }
 
 /// The team a request speaks for, when it holds a team token.

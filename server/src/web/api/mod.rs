@@ -63,6 +63,10 @@ pub fn configure(cfg: &mut web::ServiceConfig) {
             web::post().to(bundles::issue).needs(IssueBundle),
         )
         .route(
+            "/bundles/preview",
+            web::post().to(bundles::preview).needs(IssueBundle),
+        )
+        .route(
             "/bundles/{id}",
             web::get().to(bundles::one).needs(FetchOwnBundle),
         )

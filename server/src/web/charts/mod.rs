@@ -27,6 +27,7 @@ pub use axis::{format_number, nice_step, nice_ticks};
 pub use bars::{render_grouped_bars, render_horizontal_bars};
 pub use line::render_step_curve;
 pub use map::render_map;
+pub use map_parts::status_colour;
 pub use palette::{Rgb, contrast_ratio};
 pub use svg::escape;
 pub use types::{

@@ -1,6 +1,9 @@
 //! Static assets of the pages, embedded in the binary and served from
-//! `/static/`: the style sheet and the site icon (the pages need no
-//! script). The test
+//! `/static/`: the style sheet, the site icon, and for the pan-and-zoom
+//! maps the vendored Leaflet 1.9.4 (the very bytes the field app serves,
+//! `templates/field/vendor/`, pinned by its `SHA256SUMS`) with the pages'
+//! own map script and its style sheet (`templates/pages/js/`). Every page
+//! works without scripts: the maps are printable SVG first. The test
 //! here holds the style sheet to its own rule: every rule that sets a text
 //! `color` sets its `background-color` too, and each pair passes WCAG AA.
 
@@ -13,9 +16,36 @@ pub const APP_CSS: &str = include_str!("../../../static/app.css");
 /// browsers do not ask for a `/favicon.ico` we do not have.
 pub const ICON_SVG: &str = include_str!("../../../static/icon.svg");
 
+/// Leaflet 1.9.4 (BSD-2-Clause), the field app's vendored copy.
+pub const LEAFLET_JS: &str = include_str!("../../../../templates/field/vendor/leaflet.js");
+/// Leaflet's style sheet, the field app's vendored copy.
+pub const LEAFLET_CSS: &str = include_str!("../../../../templates/field/vendor/leaflet.css");
+/// Leaflet's licence, served beside it.
+pub const LEAFLET_LICENSE: &str =
+    include_str!("../../../../templates/field/vendor/leaflet.LICENSE");
+/// The pages' map script: draws `live_map`'s GeoJSON with Leaflet.
+pub const PAGE_MAP_JS: &str = include_str!("../../../../templates/pages/js/page-map.js");
+/// The pages' map styles (sizes, legend, print rules).
+pub const PAGE_MAP_CSS: &str = include_str!("../../../../templates/pages/js/page-map.css");
+
+/// A script or style served with a short cache time.
+fn text(content_type: &str, body: &'static str) -> HttpResponse {
+    HttpResponse::Ok()
+        .content_type(content_type)
+        .insert_header(("Cache-Control", "public, max-age=300"))
+        .body(body)
+}
+
 /// `GET /static/{name}`.
 pub async fn asset(path: web::Path<String>) -> HttpResponse {
+    const JS: &str = "text/javascript; charset=utf-8";
+    const CSS: &str = "text/css; charset=utf-8";
     match path.as_str() {
+        "leaflet.js" => text(JS, LEAFLET_JS),
+        "leaflet.css" => text(CSS, LEAFLET_CSS),
+        "leaflet.LICENSE" => text("text/plain; charset=utf-8", LEAFLET_LICENSE),
+        "page-map.js" => text(JS, PAGE_MAP_JS),
+        "page-map.css" => text(CSS, PAGE_MAP_CSS),
         "app.css" => HttpResponse::Ok()
             .content_type("text/css; charset=utf-8")
             .insert_header(("Cache-Control", "public, max-age=300"))
@@ -102,6 +132,41 @@ pub fn colour_rules(css: &str) -> Vec<ColourRule> {
 mod tests {
     use super::*;
     use crate::web::charts::{Rgb, contrast_ratio};
+
+    #[test]
+    fn leaflet_is_served_from_the_vendored_bytes_the_checksums_pin() {
+        use sha2::{Digest, Sha256};
+        let sums = include_str!("../../../../templates/field/vendor/SHA256SUMS");
+        for (name, bytes) in [("leaflet.js", LEAFLET_JS), ("leaflet.css", LEAFLET_CSS)] {
+            let line = sums
+                .lines()
+                .find(|l| l.ends_with(name))
+                .unwrap_or_else(|| panic!("{name} is in SHA256SUMS"));
+            let want = line.split_whitespace().next().unwrap();
+            assert_eq!(
+                hex::encode(Sha256::digest(bytes.as_bytes())),
+                want,
+                "{name}"
+            );
+        }
+    }
+
+    #[test]
+    fn every_text_colour_of_the_map_styles_passes_wcag_aa() {
+        for r in colour_rules(PAGE_MAP_CSS)
+            .iter()
+            .filter(|r| r.color.is_some())
+        {
+            let fg = r.color.as_deref().and_then(Rgb::from_hex).expect("#rrggbb");
+            let bg = r
+                .background
+                .as_deref()
+                .and_then(Rgb::from_hex)
+                .expect("#rrggbb");
+            // WCAG 2.1 success criterion 1.4.3 (AA): at least 4.5:1 for text.
+            assert!(contrast_ratio(fg, bg) >= 4.5, "'{}'", r.selector);
+        }
+    }
 
     #[test]
     fn contrast_ratio_matches_the_wcag_definition() {

@@ -5,6 +5,7 @@
 use super::common::{
     Layout, PageError, Viewer, fixed, non_empty, opt_day, opt_number, page, respond,
 };
+use super::live_map::LiveMap;
 use super::views::{
     Badge, ReportView, badge, map_events, map_input, map_status, map_zones, report_view,
 };
@@ -16,7 +17,7 @@ use crate::platform::storage::{EventFilter, EventRecord, Reader, Source, StoredA
 use crate::reconcile::StatusOutcome;
 use crate::statistics::kept::StatsFilter;
 use crate::web::AppState;
-use crate::web::charts::{EventStatus, render_map};
+use crate::web::charts::EventStatus;
 use actix_web::{HttpRequest, HttpResponse, web};
 use askama::Template;
 use serde::Deserialize;
@@ -82,7 +83,7 @@ struct EventsPage {
     from: String,
     to: String,
     min_area: String,
-    map: String,
+    map: LiveMap,
     rows: Vec<EventRow>,
     total: usize,
     shown: usize,
@@ -118,11 +119,15 @@ async fn list_page(
         .into_iter()
         .filter(|e| status.is_none_or(|s| map_status(statuses.get(&e.record.id)) == s))
         .collect();
-    let map = render_map(&map_input(
-        "Clearing events by status",
-        map_zones(&zones),
-        map_events(&events, &statuses),
-    ));
+    let map = LiveMap::new(
+        "events-map",
+        &map_input(
+            "Clearing events by status",
+            map_zones(&zones),
+            map_events(&events, &statuses),
+        ),
+        false,
+    );
     let rows: Vec<EventRow> = events
         .iter()
         .take(MAX_TABLE_ROWS)
@@ -273,7 +278,7 @@ struct EventPage {
     centroid: String,
     status: Badge,
     status_note: String,
-    map: String,
+    map: LiveMap,
     alerts: Vec<AlertRow>,
     reports: Vec<ReportView>,
 }
@@ -405,12 +410,13 @@ fn report_views(
     Ok(reports)
 }
 
-/// The map of one event, coloured by its status, over the zones it lies in.
+/// The map of one event, coloured by its status, over the zones it lies in;
+/// the pan-and-zoom map opens framed on its footprint.
 fn event_map(
     ranked: &RankedEvent,
     status: Option<&StatusOutcome>,
     zones: Vec<ZoneRecord>,
-) -> String {
+) -> LiveMap {
     let mut statuses = BTreeMap::new();
     if let Some(s) = status {
         statuses.insert(ranked.record.id, s.clone());
@@ -419,11 +425,15 @@ fn event_map(
         .into_iter()
         .filter(|z| ranked.record.zones.contains(&z.name))
         .collect();
-    render_map(&map_input(
-        &format!("Event {}", event_code(ranked.record.id)),
-        map_zones(&in_zones),
-        map_events(std::slice::from_ref(ranked), &statuses),
-    ))
+    LiveMap::new(
+        "event-map",
+        &map_input(
+            &format!("Event {}", event_code(ranked.record.id)),
+            map_zones(&in_zones),
+            map_events(std::slice::from_ref(ranked), &statuses),
+        ),
+        true,
+    )
 }
 
 /// The event's alerts as table rows, each naming its source.

@@ -8,7 +8,7 @@
 //! | `GET /` | redirect: managers to `/dashboard`, everyone else to `/events` |
 //! | `GET /events`, `GET /events/{id}` | events: filters, map, table; one event |
 //! | `GET /import`, `POST /import/alerts`, `POST /import/zones` | import files |
-//! | `GET /trips`, `POST /trips`, `POST /trips/{id}/cancel`, `POST /trips/{id}/pair` | bundles, pairing a phone |
+//! | `GET /trips`, `POST /trips`, `POST /trips/preview`, `GET /trips/{id}`, `POST /trips/{id}/cancel`, `POST /trips/{id}/pair` | trips (bundles): list with states, one trip, pairing a phone |
 //! | `GET /station`, `POST /station` | upload a return package |
 //! | `/station/trips/{id}` (`GET`, `POST`, `POST …/photos`, `POST …/discard`, `GET …/thumbs/{sha}`) | enter a trip from its paper sheet and camera photos |
 //! | `GET /dashboard` | figures for managers |
@@ -38,8 +38,12 @@ mod disputes;
 mod events;
 mod form;
 mod import;
+mod live_map;
+mod preview;
 mod station;
 mod station_entry;
+mod trip_form;
+mod trip_page;
 mod trips;
 mod views;
 
@@ -108,7 +112,15 @@ pub fn configure(cfg: &mut web::ServiceConfig) {
             web::post().to(import::zones).needs(ImportZones),
         )
         .route("/trips", web::get().to(trips::list).needs(ViewEvents))
-        .route("/trips", web::post().to(trips::issue).needs(IssueBundle))
+        .route("/trips", web::post().to(preview::issue).needs(IssueBundle))
+        .route(
+            "/trips/preview",
+            web::post().to(preview::preview).needs(IssueBundle),
+        )
+        .route(
+            "/trips/{id}",
+            web::get().to(trip_page::show).needs(ViewEvents),
+        )
         .route(
             "/trips/{id}/cancel",
             web::post().to(trips::cancel).needs(CancelBundle),

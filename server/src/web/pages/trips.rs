@@ -4,89 +4,39 @@
 //! preview map and the download link; `POST /trips/{id}/cancel` cancels.
 
 use super::common::{
-    Layout, PageError, Viewer, fixed, html, local_text, non_empty, opt_number, page, respond,
-    see_other,
+    Layout, PageError, Viewer, fixed, html, local_text, non_empty, page, respond, see_other,
 };
 use super::events::Choice;
-use super::views::{map_events, map_input, map_zones};
-use crate::alerts::events::{RankedEvent, priority_of};
-use crate::domain::{BundleMode, Day, LonLat};
+use super::trip_form::{FormView, IssueForm};
+use super::trip_page::{
+    JustIssued, PairingView, bundle_id, facts_of, issued_response, load_trip, trip_page,
+};
 use crate::error::Error;
-use crate::planning::{IssuedBundle, TripRequest, cancel_bundle, issue_bundle};
+use crate::planning::{
+    IssuedBundle, TripRequest, TripState, cancel_bundle, issue_bundle, trip_state,
+};
 use crate::platform::auth::Action;
-use crate::platform::settings::Settings;
 use crate::platform::storage::{BundleRecord, Team, ZoneRecord};
 use crate::web::AppState;
-use crate::web::charts::render_map;
-use crate::web::pairing::{self, ShownPairing};
+use crate::web::pairing;
 use actix_web::http::StatusCode;
 use actix_web::{HttpRequest, HttpResponse, web};
 use askama::Template;
 use serde::Deserialize;
-use std::collections::{BTreeMap, HashMap};
-
-/// The issue form as typed (every field text, parsed here with messages).
-#[derive(Debug, Deserialize, Default, Clone)]
-pub struct IssueForm {
-    pub team: Option<String>,
-    pub mode: Option<String>,
-    pub zone: Option<String>,
-    pub max: Option<String>,
-    pub margin: Option<String>,
-    pub controls: Option<String>,
-    pub seed: Option<String>,
-    pub start_lat: Option<String>,
-    pub start_lon: Option<String>,
-    pub start_name: Option<String>,
-}
-
-/// Turn the form into a trip request; every message names the field.
-pub fn trip_request(f: &IssueForm, today: Day) -> Result<TripRequest, PageError> {
-    let team = non_empty(&f.team)
-        .ok_or_else(|| PageError::bad_request("Team: choose the team that makes the trip."))?;
-    let lat = opt_number::<f64>("Start latitude", &f.start_lat)?
-        .ok_or_else(|| PageError::bad_request("Start latitude: required (decimal degrees)."))?;
-    let lon = opt_number::<f64>("Start longitude", &f.start_lon)?
-        .ok_or_else(|| PageError::bad_request("Start longitude: required (decimal degrees)."))?;
-    let start = LonLat::new(lon, lat).map_err(|m| PageError::bad_request(format!("Start: {m}")))?;
-    let mut r = TripRequest::response(&team, start);
-    r.as_of = today;
-    if let Some(n) = non_empty(&f.start_name) {
-        r.start_name = n;
-    }
-    if let Some(m) = non_empty(&f.mode) {
-        r.mode = m
-            .parse::<BundleMode>()
-            .map_err(|e| PageError::bad_request(format!("Mode: {e}")))?;
-    }
-    r.zone = non_empty(&f.zone);
-    r.max = opt_number::<usize>("Most events", &f.max)?;
-    if r.max == Some(0) {
-        return Err(PageError::bad_request("Most events: at least 1."));
-    }
-    if let Some(m) = opt_number::<f64>("Margin of error", &f.margin)? {
-        if !(m > 0.0 && m < 0.5) {
-            return Err(PageError::bad_request(format!(
-                "Margin of error: {m} is not between 0 and 0.5 (for example 0.1)."
-            )));
-        }
-        r.margin = m;
-    }
-    r.controls = opt_number::<usize>("Control points", &f.controls)?.unwrap_or(0);
-    r.seed = opt_number::<u64>("Seed", &f.seed)?;
-    Ok(r)
-}
+use std::collections::HashMap;
 
 struct BundleRow {
     id: String,
     team: String,
     mode: String,
     issued: String,
+    /// RFC 3339, for sorting (latest first).
+    issued_at: String,
     due: String,
     events: i64,
     controls: i64,
     route_km: String,
-    state: &'static str,
+    state: TripState,
     returns: i64,
     reports: i64,
     cancellable: bool,
@@ -99,8 +49,14 @@ struct BundleRow {
 struct TripsPage {
     layout: Layout,
     bundles: Vec<BundleRow>,
+    /// Bundles before the list filters.
+    all: usize,
+    states: Vec<Choice>,
+    filter_teams: Vec<Choice>,
     teams: Vec<Choice>,
     zones: Vec<Choice>,
+    sources: Vec<Choice>,
+    status_choices: Vec<Choice>,
     assessment: bool,
     f: FormView,
     may_issue: bool,
@@ -108,35 +64,27 @@ struct TripsPage {
     cancelled: Option<String>,
 }
 
-/// The typed values shown again in the form.
-struct FormView {
-    max: String,
-    margin: String,
-    controls: String,
-    seed: String,
-    start_lat: String,
-    start_lon: String,
-    start_name: String,
-}
-
-impl FormView {
-    fn of(f: &IssueForm) -> FormView {
-        let v = |o: &Option<String>| o.clone().unwrap_or_default();
-        FormView {
-            max: v(&f.max),
-            margin: f.margin.clone().unwrap_or_else(|| "0.1".into()),
-            controls: v(&f.controls),
-            seed: v(&f.seed),
-            start_lat: v(&f.start_lat),
-            start_lon: v(&f.start_lon),
-            start_name: v(&f.start_name),
-        }
-    }
-}
-
-#[derive(Debug, Deserialize, Default)]
+#[derive(Debug, Deserialize, Default, Clone)]
 pub struct TripsQuery {
     pub cancelled: Option<String>,
+    /// Only trips in this state ([`TripState::as_str`]).
+    pub state: Option<String>,
+    /// Only this team's trips.
+    pub team: Option<String>,
+}
+
+/// The list filters as typed, checked: (state, team).
+fn list_filters(q: &TripsQuery) -> Result<(Option<TripState>, Option<String>), PageError> {
+    let state = match non_empty(&q.state) {
+        None => None,
+        Some(s) => Some(TripState::parse(&s).ok_or_else(|| {
+            PageError::bad_request(format!(
+                "State: '{s}' is not a trip state (one of {})",
+                TripState::ALL.map(TripState::as_str).join(", ")
+            ))
+        })?),
+    };
+    Ok((state, non_empty(&q.team)))
 }
 
 async fn trips_page(
@@ -145,16 +93,18 @@ async fn trips_page(
     viewer: &Viewer,
     form: IssueForm,
     error: Option<PageError>,
-    cancelled: Option<String>,
+    q: TripsQuery,
 ) -> Result<HttpResponse, PageError> {
+    let (want_state, want_team) = list_filters(&q)?;
     let db = state.db.clone();
-    let (bundles, counts, teams, zones) = web::block(move || {
+    let (bundles, counts, reported, teams, (zones, sources)) = web::block(move || {
         db.read(|r| {
             Ok((
                 r.bundles()?,
                 r.bundle_return_counts()?,
+                r.bundle_stops_reported()?,
                 r.teams()?,
-                r.zones()?,
+                (r.zones()?, r.sources()?),
             ))
         })
     })
@@ -163,18 +113,61 @@ async fn trips_page(
     let mut form = form;
     start_at_last_trip(&mut form, &bundles);
     let may = (may_cancel, viewer.may(Action::IssueBundle));
-    let rows = bundle_rows(&bundles, &counts, may, chrono::Utc::now(), &state.settings);
+    let mut rows = bundle_rows(
+        &bundles,
+        (&counts, &reported),
+        may,
+        chrono::Utc::now(),
+        &state.settings,
+    );
+    let all = rows.len();
+    rows.retain(|r| {
+        want_state.is_none_or(|s| r.state == s) && want_team.as_ref().is_none_or(|t| &r.team == t)
+    });
     let status = error.as_ref().map_or(StatusCode::OK, |e| e.status);
     let t = TripsPage {
         layout: Layout::new(req, viewer, "Trips", "/trips"),
         bundles: rows,
+        all,
+        states: TripState::ALL
+            .iter()
+            .map(|s| Choice {
+                value: s.as_str().into(),
+                label: s.label().into(),
+                selected: want_state == Some(*s),
+            })
+            .collect(),
+        filter_teams: teams
+            .iter()
+            .map(|t| Choice {
+                value: t.name.clone(),
+                label: t.name.clone(),
+                selected: want_team.as_deref() == Some(t.name.as_str()),
+            })
+            .collect(),
         teams: team_choices(&teams, &form),
         zones: zone_choices(&zones, &form),
-        assessment: form.mode.as_deref() == Some("assessment"),
+        sources: sources
+            .iter()
+            .map(|x| Choice {
+                selected: form.text("source").as_deref() == Some(x.name.as_str()),
+                value: x.name.clone(),
+                label: x.name.clone(),
+            })
+            .collect(),
+        status_choices: crate::domain::EventStatus::ALL
+            .iter()
+            .map(|x| Choice {
+                selected: form.all("status").iter().any(|v| v == x.as_str()),
+                value: x.as_str().into(),
+                label: x.label().into(),
+            })
+            .collect(),
+        assessment: form.text("mode").as_deref() == Some("assessment"),
         f: FormView::of(&form),
         may_issue: viewer.may(Action::IssueBundle),
         error,
-        cancelled,
+        cancelled: q.cancelled,
     };
     Ok(html(status, t.render()?))
 }
@@ -182,12 +175,12 @@ async fn trips_page(
 /// Without a start typed, starts where the last trip started (usually the
 /// field station).
 fn start_at_last_trip(form: &mut IssueForm, bundles: &[BundleRecord]) {
-    if form.start_lat.is_none()
-        && form.start_lon.is_none()
+    if form.text("start_lat").is_none()
+        && form.text("start_lon").is_none()
         && let Some(b) = bundles.iter().max_by(|a, b| a.issued_at.cmp(&b.issued_at))
     {
-        form.start_lat = Some(fixed(b.start_lat, 6));
-        form.start_lon = Some(fixed(b.start_lon, 6));
+        form.set("start_lat", &fixed(b.start_lat, 6));
+        form.set("start_lon", &fixed(b.start_lon, 6));
     }
 }
 
@@ -196,38 +189,30 @@ fn not_expired(expires_at: &str, now: chrono::DateTime<chrono::Utc>) -> bool {
     chrono::DateTime::parse_from_rfc3339(expires_at).is_ok_and(|t| t > now)
 }
 
+/// Per bundle id: (returns received, reports stored).
+type ReturnCounts = HashMap<String, (i64, i64)>;
+
 /// One table row per bundle, latest issued first; `may` is (may cancel,
 /// may pair a phone).
-/// When a bundle was issued (its RFC 3339 text read), for ordering.
-fn issued_at(b: &BundleRecord) -> Option<chrono::DateTime<chrono::Utc>> {
-    chrono::DateTime::parse_from_rfc3339(&b.issued_at)
-        .ok()
-        .map(|t| t.with_timezone(&chrono::Utc))
-}
-
 fn bundle_rows(
     bundles: &[BundleRecord],
-    counts: &HashMap<String, (i64, i64)>,
+    (counts, reported): (&ReturnCounts, &HashMap<String, i64>),
     (may_cancel, may_pair): (bool, bool),
     now: chrono::DateTime<chrono::Utc>,
-    settings: &Settings,
+    settings: &crate::platform::settings::Settings,
 ) -> Vec<BundleRow> {
     let mut rows: Vec<BundleRow> = bundles
         .iter()
         .map(|b| {
             let (returns, reports) = counts.get(&b.id).copied().unwrap_or((0, 0));
-            let state = if b.cancelled_at.is_some() {
-                "cancelled"
-            } else if returns > 0 {
-                "returned"
-            } else {
-                "issued"
-            };
+            let stops_reported = reported.get(&b.id).copied().unwrap_or(0);
+            let state = trip_state(&facts_of(b, returns, stops_reported), now);
             BundleRow {
                 id: b.id.clone(),
                 team: b.team.clone(),
                 mode: b.mode.clone(),
                 issued: local_text(settings, &b.issued_at),
+                issued_at: b.issued_at.clone(),
                 due: local_text(settings, &b.due_at),
                 events: b.events,
                 controls: b.controls,
@@ -243,13 +228,7 @@ fn bundle_rows(
             }
         })
         .collect();
-    // Newest first, by the instant (local times do not sort as text across
-    // a change of offset).
-    let issued: HashMap<&str, _> = bundles
-        .iter()
-        .map(|b| (b.id.as_str(), issued_at(b)))
-        .collect();
-    rows.sort_by_key(|r| std::cmp::Reverse(issued.get(r.id.as_str()).copied().flatten()));
+    rows.sort_by(|a, b| b.issued_at.cmp(&a.issued_at));
     rows
 }
 
@@ -258,7 +237,7 @@ fn team_choices(teams: &[Team], form: &IssueForm) -> Vec<Choice> {
     teams
         .iter()
         .map(|t| Choice {
-            selected: form.team.as_deref() == Some(t.name.as_str()),
+            selected: form.text("team").as_deref() == Some(t.name.as_str()),
             value: t.name.clone(),
             label: t.name.clone(),
         })
@@ -270,7 +249,7 @@ fn zone_choices(zones: &[ZoneRecord], form: &IssueForm) -> Vec<Choice> {
     zones
         .iter()
         .map(|z| Choice {
-            selected: form.zone.as_deref() == Some(z.name.as_str()),
+            selected: form.text("zone").as_deref() == Some(z.name.as_str()),
             value: z.name.clone(),
             label: if z.priority {
                 format!("{} (priority)", z.name)
@@ -289,88 +268,17 @@ pub async fn list(
 ) -> HttpResponse {
     let viewer = Viewer::of(&req);
     let r = async {
-        let cancelled = q.ok().and_then(|q| q.into_inner().cancelled);
-        trips_page(&req, &state, &viewer, IssueForm::default(), None, cancelled).await
+        let q = q
+            .map_err(|e| PageError::bad_request(format!("bad filter: {e}")))?
+            .into_inner();
+        trips_page(&req, &state, &viewer, IssueForm::default(), None, q).await
     }
     .await;
     respond(&req, &viewer, r)
 }
 
-struct ItemRow {
-    order: u32,
-    code: String,
-    kind: String,
-    event_id: Option<i64>,
-    lat: String,
-    lon: String,
-    stratum: String,
-}
-
-struct StratumRow {
-    stratum: String,
-    population: u64,
-    sample: u64,
-    probability: String,
-}
-
-#[derive(Template)]
-#[template(path = "pages/trip.html")]
-struct TripPage {
-    layout: Layout,
-    id: String,
-    team: String,
-    mode: String,
-    due: String,
-    route_km: String,
-    walking_hours: String,
-    route_method: String,
-    route_note: String,
-    map: String,
-    items: Vec<ItemRow>,
-    strata: Vec<StratumRow>,
-    pairing: Option<PairingView>,
-}
-
-/// A pairing code as the pages show it (`pages/pairing_box.html`).
-pub struct PairingView {
-    code: String,
-    link: String,
-    qr_svg: String,
-    expires: String,
-}
-
-impl PairingView {
-    fn of(p: ShownPairing, settings: &Settings) -> PairingView {
-        let expires = super::common::local_unix(settings, p.expires_at);
-        PairingView {
-            code: p.code,
-            link: p.link,
-            qr_svg: p.qr_svg,
-            expires,
-        }
-    }
-}
-
-/// The bundle's events as ranked on the day it was planned for.
-fn ranked_events(
-    st: &AppState,
-    items: &[crate::platform::storage::BundleItem],
-    as_of: Day,
-) -> Result<Vec<RankedEvent>, Error> {
-    let mut events = Vec::new();
-    for id in items.iter().filter_map(|i| i.event_id) {
-        if let Some(rec) = st.db.read(|r| r.event_resolved(id))? {
-            let priority = priority_of(&rec, &st.settings.priority, as_of);
-            events.push(RankedEvent {
-                record: rec,
-                priority,
-            });
-        }
-    }
-    Ok(events)
-}
-
-async fn issue_page(
+/// Issues the trip and shows its page with the first pairing code (201).
+pub(super) async fn issue_page(
     req: &HttpRequest,
     state: &AppState,
     viewer: &Viewer,
@@ -378,110 +286,36 @@ async fn issue_page(
 ) -> Result<HttpResponse, PageError> {
     let st = state.clone();
     let (by, link_of) = pairing::request_parts(req);
-    let (out, items, events, zones, shown): (IssuedBundle, _, Vec<RankedEvent>, _, _) =
-        web::block(move || {
-            let out = issue_bundle(&st.db, &st.data_dir, &st.settings, &trip)?;
-            // The bundle is issued whatever happens to its first code; the
-            // trips page makes another.
-            let shown = pairing::make(&st.db, &out.bundle.id, &by, link_of)
-                .inspect_err(|e| tracing::warn!(error = %e, "no pairing code for the new bundle"))
-                .ok();
-            let (items, zones) = st
-                .db
-                .read(|r| Ok((r.bundle_items(&out.bundle.id)?, r.zones()?)))?;
-            let events = ranked_events(&st, &items, trip.as_of)?;
-            Ok::<_, Error>((out, items, events, zones, shown))
-        })
-        .await??;
-    let mut items = items;
-    items.sort_by_key(|i| i.visit_order);
-    let b = &out.bundle;
-    let mut map = map_input(
-        &format!(
-            "Route of bundle {} for {}",
-            &b.id[..8.min(b.id.len())],
-            b.team
-        ),
-        map_zones(&zones),
-        map_events(&events, &BTreeMap::new()),
-    );
-    map.start = Some((b.start_lon, b.start_lat));
-    map.route = std::iter::once((b.start_lon, b.start_lat))
-        .chain(items.iter().map(|i| (i.lon, i.lat)))
-        .collect();
-    let t = TripPage {
-        layout: Layout::new(req, viewer, "Bundle issued", "/trips"),
-        id: b.id.clone(),
-        team: b.team.clone(),
-        mode: b.mode.clone(),
-        due: local_text(&state.settings, &b.due_at),
-        route_km: fixed(out.route_m / 1000.0, 2),
+    let (out, data, shown) = web::block(move || {
+        let mut trip = trip;
+        if !trip.statuses.is_empty() {
+            trip.reconciled = Some(crate::statistics::kept::event_statuses(&st.db)?);
+        }
+        let out: IssuedBundle = issue_bundle(&st.db, &st.data_dir, &st.settings, &trip)?;
+        // The bundle is issued whatever happens to its first code; the
+        // trip page makes another.
+        let shown = pairing::make(&st.db, &out.bundle.id, &by, link_of)
+            .inspect_err(|e| tracing::warn!(error = %e, "no pairing code for the new bundle"))
+            .ok();
+        let data = load_trip(&st, &out.bundle.id)?;
+        Ok::<_, Error>((out, data, shown))
+    })
+    .await??;
+    let just = JustIssued {
         walking_hours: fixed(out.walking_hours, 1),
         route_method: out.route_method.clone(),
         route_note: out.route_note.clone(),
-        map: render_map(&map),
-        items: items
-            .iter()
-            .map(|i| ItemRow {
-                order: i.visit_order,
-                code: i.code.clone(),
-                kind: i.kind.to_string(),
-                event_id: i.event_id,
-                lat: fixed(i.lat, 6),
-                lon: fixed(i.lon, 6),
-                stratum: i.stratum.clone().unwrap_or_default(),
-            })
-            .collect(),
-        strata: out
-            .strata
-            .iter()
-            .map(|s| StratumRow {
-                stratum: s.stratum.clone(),
-                population: s.population,
-                sample: s.sample,
-                probability: fixed(s.inclusion_probability, 4),
-            })
-            .collect(),
         pairing: shown.map(|p| PairingView::of(p, &state.settings)),
     };
-    let mut resp = page(&t)?;
-    *resp.status_mut() = StatusCode::CREATED;
-    Ok(resp)
-}
-
-/// `POST /trips` (form fields of [`IssueForm`] and the CSRF token).
-pub async fn issue(
-    req: HttpRequest,
-    state: web::Data<AppState>,
-    form: Result<web::Form<IssueForm>, actix_web::Error>,
-) -> HttpResponse {
-    let viewer = Viewer::of(&req);
-    let form = match form {
-        Ok(f) => f.into_inner(),
-        Err(e) => {
-            let err = PageError::bad_request(format!("The form could not be read: {e}"));
-            let r = trips_page(&req, &state, &viewer, IssueForm::default(), Some(err), None).await;
-            return respond(&req, &viewer, r);
-        }
-    };
-    let result = match trip_request(&form, Day::today()) {
-        Ok(trip) => issue_page(&req, &state, &viewer, trip).await,
-        Err(e) => Err(e),
-    };
-    match result {
-        Ok(r) => r,
-        Err(e) => {
-            let r = trips_page(&req, &state, &viewer, form, Some(e), None).await;
-            respond(&req, &viewer, r)
-        }
-    }
-}
-
-/// The bundle id of a `/trips/{id}/…` path, checked to be a UUID.
-fn bundle_id(path: &str) -> Result<String, PageError> {
-    uuid::Uuid::parse_str(path)
-        .map(|u| u.to_string())
-        .map_err(|_| PageError::bad_request(format!("bundle id '{path}' is not a UUID")))
+    let t = trip_page(
+        req,
+        viewer,
+        data,
+        chrono::Utc::now(),
+        Some(just),
+        &state.settings,
+    );
+    issued_response(&t)
 }
 
 /// `POST /trips/{id}/cancel`.
@@ -508,7 +342,15 @@ pub async fn cancel(
     match r {
         Ok(resp) => resp,
         Err(e) => {
-            let r = trips_page(&req, &state, &viewer, IssueForm::default(), Some(e), None).await;
+            let r = trips_page(
+                &req,
+                &state,
+                &viewer,
+                IssueForm::default(),
+                Some(e),
+                TripsQuery::default(),
+            )
+            .await;
             respond(&req, &viewer, r)
         }
     }
@@ -559,76 +401,27 @@ pub async fn pair(
     match r {
         Ok(resp) => resp,
         Err(e) => {
-            let r = trips_page(&req, &state, &viewer, IssueForm::default(), Some(e), None).await;
+            let r = trips_page(
+                &req,
+                &state,
+                &viewer,
+                IssueForm::default(),
+                Some(e),
+                TripsQuery::default(),
+            )
+            .await;
             respond(&req, &viewer, r)
         }
     }
 }
 
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    fn form() -> IssueForm {
-        IssueForm {
-            team: Some("Team Amber".into()),
-            start_lat: Some("-3.5".into()),
-            start_lon: Some("-60.25".into()),
-            ..IssueForm::default()
-        }
-    }
-
-    #[test]
-    fn a_minimal_form_is_a_response_trip_with_defaults() {
-        let day = Day::parse("2026-03-01").unwrap();
-        let r = trip_request(&form(), day).unwrap();
-        assert_eq!(r.mode, BundleMode::Response);
-        assert_eq!((r.start.lon(), r.start.lat()), (-60.25, -3.5));
-        assert_eq!(r.as_of, day);
-        assert_eq!(r.controls, 0);
-        assert_eq!(r.max, None);
-    }
-
-    #[test]
-    fn bad_fields_are_named() {
-        let day = Day::today();
-        let mut f = form();
-        f.start_lat = Some("95".into());
-        assert!(
-            trip_request(&f, day)
-                .unwrap_err()
-                .message
-                .contains("latitude")
-        );
-        let mut f = form();
-        f.margin = Some("0.7".into());
-        assert!(
-            trip_request(&f, day)
-                .unwrap_err()
-                .message
-                .starts_with("Margin of error")
-        );
-        let mut f = form();
-        f.team = Some(" ".into());
-        assert!(
-            trip_request(&f, day)
-                .unwrap_err()
-                .message
-                .starts_with("Team")
-        );
-        let mut f = form();
-        f.mode = Some("tour".into());
-        assert!(
-            trip_request(&f, day)
-                .unwrap_err()
-                .message
-                .starts_with("Mode")
-        );
-        let mut f = form();
-        f.max = Some("ten".into());
-        assert_eq!(
-            trip_request(&f, day).unwrap_err().status,
-            StatusCode::BAD_REQUEST
-        );
-    }
+/// The trips page with the issue form as typed and what was wrong with it.
+pub(super) async fn form_page(
+    req: &HttpRequest,
+    state: &AppState,
+    viewer: &Viewer,
+    form: IssueForm,
+    e: PageError,
+) -> Result<HttpResponse, PageError> {
+    trips_page(req, state, viewer, form, Some(e), TripsQuery::default()).await
 }
