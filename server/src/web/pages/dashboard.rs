@@ -51,14 +51,19 @@ pub fn monthly_chart(events: &[EventFacts]) -> BarChart {
             c[2] += 1.0;
         }
     }
-    let series = ["issued", "visited", "confirmed"]
-        .iter()
-        .enumerate()
-        .map(|(i, label)| BarSeries {
-            label: label.to_string(),
-            values: counts.values().map(|c| c[i]).collect(),
-        })
-        .collect();
+    let series = [
+        ("issued", None),
+        ("visited", None),
+        ("confirmed", Some(EventStatus::Confirmed)),
+    ]
+    .iter()
+    .enumerate()
+    .map(|(i, (label, status))| BarSeries {
+        label: label.to_string(),
+        values: counts.values().map(|c| c[i]).collect(),
+        status: *status,
+    })
+    .collect();
     BarChart {
         title: "Events issued, visited and confirmed, by month of first detection".into(),
         categories: counts.keys().cloned().collect(),
