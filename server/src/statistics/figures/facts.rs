@@ -41,6 +41,9 @@ pub struct EventFacts {
     /// Teams the event was issued to or that reported on it.
     pub teams: Vec<String>,
     pub sampled: Option<SampleInfo>,
+    /// A clearing a team found on the ground that no alert flagged: not an
+    /// alert, so out of every alert figure (see [`super::GroundFinds`]).
+    pub found_on_ground: bool,
 }
 
 impl EventFacts {

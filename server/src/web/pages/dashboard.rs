@@ -12,7 +12,7 @@ use crate::domain::EventStatus;
 use crate::error::Error;
 use crate::statistics::estimators::{DurationSummary, Estimate};
 use crate::statistics::figures::{
-    EventFacts, FigureOptions, Figures, GroupKey, VisitCurve, month_of,
+    EventFacts, FigureOptions, Figures, GroupKey, TargetShare, VisitCurve, month_of,
 };
 use crate::statistics::kept::{StatsFilter, TABLES};
 use crate::web::AppState;
@@ -36,10 +36,11 @@ pub struct DashboardQuery {
 
 /// Issued, visited and confirmed events per month of first detection.
 /// "Visited" is an event a counted report reached (any status but
-/// unvisited and not reached).
+/// unvisited and not reached). Clearings found on the ground are not
+/// alerts and are left out.
 pub fn monthly_chart(events: &[EventFacts]) -> BarChart {
     let mut counts: BTreeMap<String, [f64; 3]> = BTreeMap::new();
-    for e in events {
+    for e in events.iter().filter(|e| !e.found_on_ground) {
         let c = counts.entry(month_of(e.first_detected)).or_default();
         if e.issued_at.is_some() {
             c[0] += 1.0;
@@ -156,7 +157,12 @@ struct Numbers {
     visited: u64,
     not_reached: u64,
     unvisited: u64,
-    visited_within: String,
+    /// (figure, what it is) for the target from detection and from issue.
+    targets: Vec<(String, String)>,
+    /// Clearings found on the ground that no alert flagged, and their area.
+    ground: (u64, String),
+    /// Why the curve's n differs from the events counted, if it does.
+    curve_n_note: Option<String>,
 }
 
 #[derive(Template)]
@@ -316,27 +322,56 @@ fn numbers(f: &Figures) -> Numbers {
         .iter()
         .find(|g| g.key == GroupKey::All)
         .and_then(|g| g.rows.first());
-    let issued_curve = f.time_to_visit.curves.get(1);
+    let events = all_cov.map_or(0, |r| r.events);
     Numbers {
-        events: all_cov.map_or(0, |r| r.events),
+        events,
         issued: all_cov.map_or(0, |r| r.issued),
         visited: all_cov.map_or(0, |r| r.visited),
         not_reached: all_cov.map_or(0, |r| r.not_reached),
         unvisited: all_cov.map_or(0, |r| r.unvisited),
-        visited_within: issued_curve
-            .and_then(|c| c.visited_within.as_ref())
-            .map_or_else(
-                || "–".to_string(),
-                |s| {
-                    format!(
-                        "{} (95% CI {}–{})",
-                        percent(s.share),
-                        percent(s.ci95.lower),
-                        percent(s.ci95.upper)
-                    )
-                },
-            ),
+        targets: f.target.iter().map(target_text).collect(),
+        ground: (
+            f.found_on_ground.clearings,
+            fixed(f.found_on_ground.area_ha, 1),
+        ),
+        curve_n_note: curve_n_note(f, events),
     }
+}
+
+/// The headline of one target: "40.0% (Wilson 95% CI 19.8%–64.3%)" and
+/// what it counts.
+pub fn target_text(t: &TargetShare) -> (String, String) {
+    let days = fixed(t.within_days, 0);
+    let figure = match &t.share {
+        Some(s) => format!(
+            "{} (Wilson 95% CI {}–{})",
+            percent(s.estimate),
+            percent(s.ci95.lower),
+            percent(s.ci95.upper)
+        ),
+        None => "no data".to_string(),
+    };
+    let what = format!(
+        "of issued events visited within {days} days {}: {} of {} whose {days} days are over ({} more still within them, left out)",
+        t.from.label(),
+        t.visited_within,
+        t.window_closed,
+        t.window_open
+    );
+    (figure, what)
+}
+
+/// Why the time-to-visit curve counts fewer events than the page, if it does.
+fn curve_n_note(f: &Figures, events: u64) -> Option<String> {
+    let c = f.time_to_visit.curves.first()?;
+    let n = c.curve.as_ref().map_or(0, |k| k.subjects) as u64;
+    (n != events).then(|| {
+        format!(
+            "The curves count {n} of the {events} events: {} first detected after {} are not yet in them.",
+            c.detected_after_as_of,
+            f.as_of.format("%Y-%m-%d %H:%M UTC")
+        )
+    })
 }
 
 /// Coverage by zone, team, month and the other groupings (all events apart).
@@ -589,6 +624,7 @@ mod tests {
             cause: None,
             teams: vec![],
             sampled: None,
+            found_on_ground: false,
         }
     }
 
@@ -630,6 +666,27 @@ mod tests {
         assert!((s.steps[1].y - 2.0 / 3.0).abs() < 1e-12);
         assert_eq!(s.censored, vec![5.0]);
         assert_eq!(s.steps.last().map(|x| x.y), Some(0.0));
+    }
+
+    #[test]
+    fn the_headline_at_zero_is_an_interval_not_a_point() {
+        // Issue 14: "0.0% (95% CI 0.0%–0.0%)". 0 of 20: Wilson 0–16.1%
+        // (0.161125, statsmodels 0.15.0; Newcombe 1998 Table II, from memory).
+        let t = TargetShare {
+            from: crate::statistics::figures::TargetFrom::Issue,
+            within_days: 14.0,
+            window_closed: 20,
+            visited_within: 0,
+            window_open: 3,
+            share: crate::statistics::estimators::wilson(0, 20).unwrap(),
+        };
+        let (figure, what) = target_text(&t);
+        assert_eq!(figure, "0.0% (Wilson 95% CI 0.0%–16.1%)");
+        assert!(
+            what.contains("within 14 days from issue: 0 of 20"),
+            "{what}"
+        );
+        assert!(what.contains("3 more still within them"), "{what}");
     }
 
     #[test]
