@@ -80,9 +80,11 @@ impl TargetTally {
         }
     }
 
-    /// Adds one event; only issued events count.
+    /// Adds one event; only issued alert events count (a clearing found
+    /// on the ground is not an alert).
     pub(crate) fn add(&mut self, e: &EventFacts) {
-        let (Some(issued), Some(window)) = (e.issued_at, self.window) else {
+        let (Some(issued), Some(window), false) = (e.issued_at, self.window, e.found_on_ground)
+        else {
             return;
         };
         for (k, origin) in [e.detected_at(), issued].into_iter().enumerate() {
