@@ -27,6 +27,8 @@ pub struct EventFacts {
     pub event_id: i64,
     pub zone_names: Vec<String>,
     pub sources: Vec<String>,
+    /// The alert confidence level, "high" or "low" (never "confirmed":
+    /// that word is a visit's outcome).
     pub highest_confidence: String,
     pub corroborated: bool,
     pub area_ha: f64,

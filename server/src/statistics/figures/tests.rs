@@ -33,7 +33,7 @@ fn event(id: i64, detected: NaiveDate, status: EventStatus) -> EventFacts {
         event_id: id,
         zone_names: vec![],
         sources: vec![],
-        highest_confidence: "confirmed".into(),
+        highest_confidence: "high".into(),
         corroborated: false,
         area_ha: 1.0,
         first_detected: detected,

@@ -453,6 +453,7 @@ fn event_facts(e: &StatsEventRow, first: Day) -> EventFacts {
         found_on_ground: e.origin == "field",
         highest_confidence: Confidence::from_i64(e.highest_confidence)
             .unwrap_or(Confidence::Tentative)
+            .level()
             .to_string(),
         corroborated: e.corroborated,
         area_ha: e.area_ha,

@@ -110,7 +110,7 @@ fn key_label(k: GroupKey) -> &'static str {
         GroupKey::Team => "by team",
         GroupKey::DetectionMonth => "by month of first detection",
         GroupKey::Source => "by source",
-        GroupKey::Confidence => "by confidence",
+        GroupKey::Confidence => "by alert confidence (high or low)",
         GroupKey::Corroborated => "by corroboration",
         GroupKey::Cause => "by cause",
         GroupKey::Stratum => "by stratum",
@@ -236,7 +236,7 @@ fn assessment_view(f: &Figures) -> Option<AssessmentView> {
             .iter()
             .map(|s| {
                 [
-                    s.stratum.clone(),
+                    stratum_label(&s.stratum),
                     s.population.to_string(),
                     s.selected.to_string(),
                     s.confirmed.to_string(),
@@ -250,6 +250,23 @@ fn assessment_view(f: &Figures) -> Option<AssessmentView> {
             .collect(),
         area,
     })
+}
+
+/// A sample stratum as the page names it: strata are stored as
+/// "sources|confidence" with the stored confidence word; the page says
+/// "high" or "low confidence" so that "confirmed" is only an outcome.
+pub fn stratum_label(stratum: &str) -> String {
+    match stratum.rsplit_once('|') {
+        Some((sources, conf)) => {
+            let level = match conf {
+                "confirmed" | "high" => "high confidence",
+                "tentative" | "low" => "low confidence",
+                other => other,
+            };
+            format!("{sources}, {level}")
+        }
+        None => stratum.to_string(),
+    }
 }
 
 fn build(
@@ -612,7 +629,7 @@ mod tests {
             event_id: id,
             zone_names: vec![],
             sources: vec!["optical-10m".into()],
-            highest_confidence: "confirmed".into(),
+            highest_confidence: "high".into(),
             corroborated: false,
             area_ha: 1.0,
             first_detected: NaiveDate::from_ymd_opt(2026, month, 1).unwrap_or_default(),
@@ -687,6 +704,26 @@ mod tests {
             "{what}"
         );
         assert!(what.contains("3 more still within them"), "{what}");
+    }
+
+    #[test]
+    fn confidence_is_high_or_low_never_confirmed() {
+        // Issue 14: "confirmation rate by confidence: confirmed 65%".
+        assert_eq!(
+            key_label(GroupKey::Confidence),
+            "by alert confidence (high or low)"
+        );
+        assert_eq!(
+            stratum_label("optical-10m|confirmed"),
+            "optical-10m, high confidence"
+        );
+        assert_eq!(
+            stratum_label("optical-10m+radar-10m|tentative"),
+            "optical-10m+radar-10m, low confidence"
+        );
+        assert_eq!(stratum_label("control"), "control");
+        assert_eq!(crate::domain::Confidence::Confirmed.level(), "high");
+        assert_eq!(crate::domain::Confidence::Tentative.level(), "low");
     }
 
     #[test]
