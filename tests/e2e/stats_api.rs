@@ -79,6 +79,13 @@ fn adjudications_are_validated_and_logged() {
         .status,
         400
     );
+    // "Not reached" settles no dispute: refused, naming the outcomes that do.
+    let r = post_json(
+        &url,
+        &json!({"outcome": "not_reached", "reason": "nobody went", "by": "m"}),
+    );
+    assert_eq!(r.status, 400);
+    assert!(r.body.contains("settle"), "{}", r.body);
     assert_eq!(
         post_json(
             &s.url("/api/v1/events/999999/adjudications"),
