@@ -260,14 +260,19 @@ fn every_page_renders_with_its_key_elements() {
             "issued events (n = ",
             "descriptive (response visits)",
             "Wilson 95% interval",
+            "href=\"#w-wilson\"",
+            "id=\"w-censoring\"",
+            "Clearings the teams found on the ground",
+            "from detection",
+            "from issue",
             "/api/v1/stats/coverage?format=csv",
             "/api/v1/exports/events.geojson",
         ],
     );
     assert_eq!(
         dash.body.matches("<svg").count(),
-        3,
-        "monthly, time-to-visit and causes charts"
+        6,
+        "monthly, time-to-visit, three trends and causes charts"
     );
     let filtered = get(&s.url("/dashboard?zone=Core&team=Team%20Amber"));
     assert_page(&filtered, 200, &["<option value=\"Core\" selected>"]);

@@ -64,6 +64,7 @@ mod rates;
 mod target;
 mod teams;
 mod times;
+mod trends;
 
 use thiserror::Error;
 
@@ -85,6 +86,7 @@ pub use teams::{TeamRow, team_table, team_table_counted};
 pub use times::{
     DEFAULT_WITHIN_DAYS, ResponseTimes, TimeToVisit, VisitCurve, response_times, time_to_visit,
 };
+pub use trends::{TrendPoint, monthly_trends, team_trends};
 
 /// Input the figures cannot use.
 #[derive(Debug, Clone, PartialEq, Error)]

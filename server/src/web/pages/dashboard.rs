@@ -12,13 +12,15 @@ use crate::domain::EventStatus;
 use crate::error::Error;
 use crate::statistics::estimators::{DurationSummary, Estimate};
 use crate::statistics::figures::{
-    EventFacts, FigureOptions, Figures, GroupKey, TargetShare, VisitCurve, month_of,
+    EventFacts, FigureOptions, Figures, GroupKey, TargetShare, TrendPoint, VisitCurve, month_of,
+    monthly_trends, team_trends,
 };
 use crate::statistics::kept::{StatsFilter, TABLES};
 use crate::web::AppState;
 use crate::web::charts::{
-    BarChart, BarSeries, HBar, HBarChart, Step, StepChart, StepSeries, render_grouped_bars,
-    render_horizontal_bars, render_step_curve,
+    BarChart, BarSeries, HBar, HBarChart, IntervalChart, IntervalPoint, IntervalSeries, Step,
+    StepChart, StepSeries, render_grouped_bars, render_horizontal_bars, render_interval_chart,
+    render_step_curve,
 };
 use actix_web::{HttpRequest, HttpResponse, web};
 use askama::Template;
@@ -72,6 +74,104 @@ pub fn monthly_chart(events: &[EventFacts]) -> BarChart {
         series,
         y_label: "events (count)".into(),
     }
+}
+
+/// The trends' figures: by month over all events, and by team and month.
+pub struct Trends {
+    pub monthly: Vec<TrendPoint>,
+    pub teams: Vec<TrendPoint>,
+}
+
+impl Trends {
+    /// The trends of `events` at `as_of` (pure; see [`monthly_trends`]).
+    pub fn of(events: &[EventFacts], as_of: chrono::DateTime<chrono::Utc>) -> Result<Self, Error> {
+        let invalid = |e| Error::Invalid(format!("statistics: {e}"));
+        Ok(Trends {
+            monthly: monthly_trends(events, as_of).map_err(invalid)?,
+            teams: team_trends(events, as_of).map_err(invalid)?,
+        })
+    }
+}
+
+/// Interval series of `points`, one per group, over the sorted months.
+fn trend_series(
+    points: &[TrendPoint],
+    value: impl Fn(&TrendPoint) -> Option<IntervalPoint>,
+) -> (Vec<String>, Vec<IntervalSeries>) {
+    let months: Vec<String> = points
+        .iter()
+        .map(|p| p.month.clone())
+        .collect::<std::collections::BTreeSet<_>>()
+        .into_iter()
+        .collect();
+    let mut groups: BTreeMap<&str, Vec<Option<IntervalPoint>>> = BTreeMap::new();
+    for p in points {
+        let row = groups
+            .entry(p.group.as_str())
+            .or_insert_with(|| vec![None; months.len()]);
+        if let Ok(k) = months.binary_search(&p.month) {
+            row[k] = value(p);
+        }
+    }
+    let series = groups
+        .into_iter()
+        .map(|(label, points)| IntervalSeries {
+            label: label.to_string(),
+            points,
+        })
+        .collect();
+    (months, series)
+}
+
+fn rate_point(p: &TrendPoint) -> Option<IntervalPoint> {
+    p.confirmation.as_ref().map(|r| IntervalPoint {
+        estimate: r.estimate,
+        lower: Some(r.ci95.lower),
+        upper: Some(r.ci95.upper),
+    })
+}
+
+fn median_point(p: &TrendPoint) -> Option<IntervalPoint> {
+    p.median_days.map(|m| IntervalPoint {
+        estimate: m,
+        lower: p.median_ci95.lower,
+        upper: p.median_ci95.upper,
+    })
+}
+
+/// The three trend charts: the confirmation rate and the median time to
+/// visit by month, and the teams' median time from issue by month.
+pub fn trend_charts(t: &Trends) -> [String; 3] {
+    let chart = |title: &str, y_label: &str, y_max, (categories, series)| {
+        render_interval_chart(&IntervalChart {
+            title: title.into(),
+            categories,
+            x_label: "month of first detection".into(),
+            y_label: y_label.into(),
+            y_max,
+            series,
+        })
+    };
+    [
+        chart(
+            "Confirmation rate by month (Wilson 95% interval)",
+            "confirmed / (confirmed + false alarm) (0–1)",
+            Some(1.0),
+            trend_series(&t.monthly, rate_point),
+        ),
+        chart(
+            "Median days from detection to first visit, by month (Kaplan–Meier, 95% interval)",
+            "median time to visit (days)",
+            None,
+            trend_series(&t.monthly, median_point),
+        ),
+        chart(
+            "Teams over time: median days from issue to first visit (Kaplan–Meier, 95% interval)",
+            "median time to visit (days)",
+            None,
+            trend_series(&t.teams, median_point),
+        ),
+    ]
 }
 
 /// A Kaplan–Meier curve as a labelled step series: it starts at (0, 1),
@@ -181,6 +281,7 @@ struct DashboardPage {
     km_chart: String,
     km_notes: Vec<String>,
     monthly: String,
+    trends: [String; 3],
     causes_chart: String,
     causes: Vec<[String; 3]>,
     times: Vec<[String; 4]>,
@@ -276,6 +377,7 @@ fn build(
     filter: &StatsFilter,
     f: &Figures,
     events: &[EventFacts],
+    trends: &Trends,
     lists: &Lists,
 ) -> DashboardPage {
     let within = f.time_to_visit.within_days;
@@ -297,6 +399,7 @@ fn build(
         )),
         km_notes: km_notes(f),
         monthly: render_grouped_bars(&monthly_chart(events)),
+        trends: trend_charts(trends),
         causes_chart: causes_chart(f),
         causes: f
             .causes
@@ -579,9 +682,10 @@ async fn dashboard_page(
     let db = state.db.clone();
     let stats = state.stats.clone();
     let fl = filter.clone();
-    let (figs, prepared, lists) = web::block(move || {
+    let (figs, prepared, lists, trends) = web::block(move || {
         let p = stats.prepared(&db, &fl)?;
         let f = p.figures(&opts)?;
+        let trends = Trends::of(&p.loaded.events, opts.as_of)?;
         let lists = db.read(|r| {
             Ok(Lists {
                 zones: r.zones()?.into_iter().map(|z| z.name).collect(),
@@ -589,7 +693,7 @@ async fn dashboard_page(
                 sources: r.sources()?.into_iter().map(|s| s.name).collect(),
             })
         })?;
-        Ok::<_, Error>((f, p, lists))
+        Ok::<_, Error>((f, p, lists, trends))
     })
     .await??;
     page(&build(
@@ -599,6 +703,7 @@ async fn dashboard_page(
         &filter,
         &figs,
         &prepared.loaded.events,
+        &trends,
         &lists,
     ))
 }
