@@ -358,6 +358,7 @@ mod tests {
         ("GET", "/station", Some(Action::UploadReturn)),
         ("POST", "/station", Some(Action::UploadReturn)),
         ("GET", "/dashboard", Some(Action::ViewStatistics)),
+        ("GET", "/summary", Some(Action::ViewStatistics)),
         ("GET", "/disputes", Some(Action::ViewStatistics)),
         ("POST", "/disputes/1/adjudicate", Some(Action::Adjudicate)),
         ("GET", "/no/such/page", Some(Action::ViewEvents)),

@@ -251,18 +251,18 @@ struct RateTable {
     rows: Vec<[String; 7]>,
 }
 
-struct Numbers {
-    events: u64,
-    issued: u64,
-    visited: u64,
-    not_reached: u64,
-    unvisited: u64,
+pub(super) struct Numbers {
+    pub events: u64,
+    pub issued: u64,
+    pub visited: u64,
+    pub not_reached: u64,
+    pub unvisited: u64,
     /// (figure, what it is) for the target from detection and from issue.
-    targets: Vec<(String, String)>,
+    pub targets: Vec<(String, String)>,
     /// Clearings found on the ground that no alert flagged, and their area.
-    ground: (u64, String),
+    pub ground: (u64, String),
     /// Why the curve's n differs from the events counted, if it does.
-    curve_n_note: Option<String>,
+    pub curve_n_note: Option<String>,
 }
 
 #[derive(Template)]
@@ -288,6 +288,8 @@ struct DashboardPage {
     team_rows: Vec<[String; 7]>,
     assessment: Option<AssessmentView>,
     exports: Vec<(String, String)>,
+    /// The printable summary of the same period and zone.
+    summary_link: String,
 }
 
 struct AssessmentView {
@@ -380,7 +382,6 @@ fn build(
     trends: &Trends,
     lists: &Lists,
 ) -> DashboardPage {
-    let within = f.time_to_visit.within_days;
     DashboardPage {
         layout: Layout::new(req, viewer, "Dashboard", "/dashboard"),
         zones: lists.choices(&lists.zones, &filter.zone),
@@ -392,11 +393,7 @@ fn build(
         numbers: numbers(f),
         coverage: coverage_tables(f),
         rates: rate_tables(f),
-        km_chart: render_step_curve(&StepChart::time_to_visit(
-            "Time from detection to first visit (Kaplan–Meier; unvisited events censored)",
-            f.time_to_visit.curves.iter().map(km_series).collect(),
-            Some(within),
-        )),
+        km_chart: km_chart(f),
         km_notes: km_notes(f),
         monthly: render_grouped_bars(&monthly_chart(events)),
         trends: trend_charts(trends),
@@ -414,29 +411,43 @@ fn build(
             })
             .collect(),
         times: response_time_rows(f),
-        team_rows: f
-            .teams
-            .iter()
-            .map(|t| {
-                [
-                    t.team.clone(),
-                    t.trips.to_string(),
-                    t.events_visited.to_string(),
-                    t.reports.to_string(),
-                    t.evidence_ok.to_string(),
-                    t.evidence_ok_share.map_or_else(|| "–".into(), percent),
-                    t.median_issue_to_visit_days
-                        .map_or_else(|| "–".into(), |d| fixed(d, 1)),
-                ]
-            })
-            .collect(),
+        team_rows: team_rows(f),
         assessment: assessment_view(f),
         exports: export_links(q, filter),
+        summary_link: summary_link(q, filter),
     }
 }
 
+/// The Kaplan–Meier time-to-visit chart with the target marked.
+pub(super) fn km_chart(f: &Figures) -> String {
+    render_step_curve(&StepChart::time_to_visit(
+        "Time from detection to first visit (Kaplan–Meier; unvisited events censored)",
+        f.time_to_visit.curves.iter().map(km_series).collect(),
+        Some(f.time_to_visit.within_days),
+    ))
+}
+
+/// The team table's rows.
+pub(super) fn team_rows(f: &Figures) -> Vec<[String; 7]> {
+    f.teams
+        .iter()
+        .map(|t| {
+            [
+                t.team.clone(),
+                t.trips.to_string(),
+                t.events_visited.to_string(),
+                t.reports.to_string(),
+                t.evidence_ok.to_string(),
+                t.evidence_ok_share.map_or_else(|| "–".into(), percent),
+                t.median_issue_to_visit_days
+                    .map_or_else(|| "–".into(), |d| fixed(d, 1)),
+            ]
+        })
+        .collect()
+}
+
 /// The headline numbers: coverage of all events and the share visited in time.
-fn numbers(f: &Figures) -> Numbers {
+pub(super) fn numbers(f: &Figures) -> Numbers {
     let all_cov = f
         .coverage
         .iter()
@@ -613,6 +624,19 @@ fn response_time_rows(f: &Figures) -> Vec<[String; 4]> {
         [label.to_string(), n, med, p90]
     })
     .collect()
+}
+
+/// `/summary` with the page's period and zone.
+fn summary_link(q: &DashboardQuery, filter: &StatsFilter) -> String {
+    let params: Vec<String> = [("from", &q.from), ("to", &q.to), ("zone", &filter.zone)]
+        .iter()
+        .filter_map(|(k, v)| non_empty(v).map(|v| format!("{k}={}", urlencode(&v))))
+        .collect();
+    if params.is_empty() {
+        "/summary".to_string()
+    } else {
+        format!("/summary?{}", params.join("&"))
+    }
 }
 
 /// The CSV export links, carrying the page's filter, and the GeoJSON export.

@@ -11,6 +11,7 @@
 //! | `GET /trips`, `POST /trips`, `POST /trips/{id}/cancel`, `POST /trips/{id}/pair` | bundles, pairing a phone |
 //! | `GET /station`, `POST /station` | upload a return package |
 //! | `GET /dashboard` | figures for managers |
+//! | `GET /summary` | printable summary of the figures for a period and zone |
 //! | `GET /disputes`, `POST /disputes/{id}/adjudicate` | disputes |
 //! | `GET /static/app.css` | the style sheet |
 //!
@@ -28,6 +29,7 @@ mod events;
 mod form;
 mod import;
 mod station;
+mod summary;
 mod trips;
 mod views;
 
@@ -113,6 +115,10 @@ pub fn configure(cfg: &mut web::ServiceConfig) {
         .route(
             "/dashboard",
             web::get().to(dashboard::show).needs(ViewStatistics),
+        )
+        .route(
+            "/summary",
+            web::get().to(summary::show).needs(ViewStatistics),
         )
         .route(
             "/disputes",
