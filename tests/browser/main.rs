@@ -25,6 +25,7 @@
 //! Fails when `CI` is set and Chromium or ChromeDriver is missing; elsewhere it
 //! says SKIP on stderr and passes.
 
+mod summary;
 mod webdriver;
 
 use groundproof::demo::{DEMO_LOGINS, load, run_trips};
