@@ -70,7 +70,8 @@ pub(crate) struct TargetTally {
 impl TargetTally {
     pub(crate) fn new(as_of: DateTime<Utc>, within_days: f64) -> Self {
         let ms = within_days * 86_400_000.0;
-        let window = (ms.is_finite() && ms >= 0.0 && ms < 1e15)
+        let window = (0.0..1e15)
+            .contains(&ms)
             .then(|| Duration::milliseconds(ms.round() as i64));
         TargetTally {
             as_of,

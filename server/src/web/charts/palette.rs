@@ -25,7 +25,7 @@
 
 use std::fmt;
 
-use super::types::EventStatus;
+use crate::domain::EventStatus;
 
 /// An sRGB colour.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]

@@ -378,8 +378,7 @@ fn build(
     q: &DashboardQuery,
     filter: &StatsFilter,
     f: &Figures,
-    events: &[EventFacts],
-    trends: &Trends,
+    (events, trends): (&[EventFacts], &Trends),
     lists: &Lists,
 ) -> DashboardPage {
     DashboardPage {
@@ -726,8 +725,7 @@ async fn dashboard_page(
         &q,
         &filter,
         &figs,
-        &prepared.loaded.events,
-        &trends,
+        (&prepared.loaded.events, &trends),
         &lists,
     ))
 }
