@@ -26,6 +26,7 @@
 //! says SKIP on stderr and passes.
 
 mod station;
+mod summary;
 mod trips;
 mod webdriver;
 // The administration pages (issue 13).

@@ -363,6 +363,19 @@ impl Browser {
         std::fs::write(path, png).unwrap_or_else(|e| panic!("{path:?}: {e}"));
     }
 
+    /// Print Page (§18.1) on A4 paper (21.0 × 29.7 cm) with the page's
+    /// backgrounds, as the browser's print does: the PDF's bytes.
+    pub fn print_pdf(&self) -> Vec<u8> {
+        let v = self.session_call(
+            "POST",
+            "/print",
+            Some(json!({"page": {"width": 21.0, "height": 29.7}, "background": true})),
+        );
+        base64::engine::general_purpose::STANDARD
+            .decode(v.as_str().unwrap_or_default())
+            .expect("the PDF is base64")
+    }
+
     /// The browser console entries logged since the last call
     /// (ChromeDriver's log endpoint; the log empties as it is read).
     pub fn console(&self) -> Vec<LogEntry> {

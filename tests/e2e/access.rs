@@ -111,6 +111,9 @@ fn who_may_do_what() {
     );
     assert_eq!(get_as(&s.url("/api/v1/events"), Some(&team)).status, 403);
     assert_eq!(get_as(&s.url("/api/v1/stats"), Some(&team)).status, 403);
+    // The printable summary is a statistics page: a manager's, not a team's.
+    assert_eq!(get_as(&s.url("/summary"), Some(&team)).status, 403);
+    assert_eq!(get_as(&s.url("/summary"), Some(&manager)).status, 200);
     assert_eq!(
         post_json_as(&s.url("/api/v1/bundles"), Some(&team), &trip("Team Amber")).status,
         403

@@ -260,15 +260,32 @@ fn every_page_renders_with_its_key_elements() {
             "issued events (n = ",
             "descriptive (response visits)",
             "Wilson 95% interval",
+            "href=\"#w-wilson\"",
+            "id=\"w-censoring\"",
+            "Clearings the teams found on the ground",
+            "from detection",
+            "from issue",
             "/api/v1/stats/coverage?format=csv",
             "/api/v1/exports/events.geojson",
         ],
     );
     assert_eq!(
         dash.body.matches("<svg").count(),
-        3,
-        "monthly, time-to-visit and causes charts"
+        6,
+        "monthly, time-to-visit, three trends and causes charts"
     );
+    let summary = get(&s.url("/summary?zone=Core&from=2026-01-01"));
+    assert_page(
+        &summary,
+        200,
+        &[
+            "Summary: Core, first detected from 2026-01-01",
+            "@page { size: A4",
+            "class=\"sheet\" id=\"teams\"",
+            "Confirmation rate",
+        ],
+    );
+    assert_eq!(summary.body.matches("class=\"sheet\"").count(), 4);
     let filtered = get(&s.url("/dashboard?zone=Core&team=Team%20Amber"));
     assert_page(&filtered, 200, &["<option value=\"Core\" selected>"]);
     let doc = scraper::Html::parse_document(&filtered.body);

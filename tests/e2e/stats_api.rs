@@ -79,6 +79,13 @@ fn adjudications_are_validated_and_logged() {
         .status,
         400
     );
+    // "Not reached" settles no dispute: refused, naming the outcomes that do.
+    let r = post_json(
+        &url,
+        &json!({"outcome": "not_reached", "reason": "nobody went", "by": "m"}),
+    );
+    assert_eq!(r.status, 400);
+    assert!(r.body.contains("settle"), "{}", r.body);
     assert_eq!(
         post_json(
             &s.url("/api/v1/events/999999/adjudications"),
@@ -104,4 +111,42 @@ fn adjudications_are_validated_and_logged() {
         f["properties"]["status"], "false_alarm",
         "an adjudication settles the status"
     );
+}
+
+#[test]
+fn the_target_share_stays_honest_at_zero_from_detection_and_from_issue() {
+    let s = TestServer::start();
+    load_scenario(&s);
+    let station = mock_patrols::scenario().station;
+    let r = post_json(
+        &s.url("/api/v1/bundles"),
+        &json!({"team": "Team Amber", "zone": "Core", "max": 6,
+        "start": {"lat": station.1, "lon": station.0}}),
+    );
+    assert_eq!(r.status, 201, "{}", r.body);
+    // A report date 30 days ahead: the 6 events' 14 days from issue are
+    // over, and none was visited.
+    let as_of = (chrono::Utc::now() + chrono::Duration::days(30))
+        .format("%Y-%m-%d")
+        .to_string();
+    let t = get(&s.url(&format!(
+        "/api/v1/stats/target?team=Team%20Amber&as_of={as_of}"
+    )))
+    .json();
+    let shares = t["target"].as_array().unwrap_or_else(|| panic!("{t}"));
+    // The report date is applied per request (the kept figures were made at "now").
+    assert_eq!(shares[1]["window_closed"], 6, "{t}");
+    let from: Vec<&str> = shares.iter().map(|x| x["from"].as_str().unwrap()).collect();
+    assert_eq!(from, vec!["detection", "issue"]);
+    let issue = &shares[1];
+    assert_eq!(issue["window_closed"], 6);
+    assert_eq!(issue["visited_within"], 0);
+    let ci = &issue["share"]["ci95"];
+    assert_eq!(ci["lower"], 0.0);
+    // Wilson 0/6: upper z²/(6 + z²) = 0.390334 (statistics.md §1.1 with
+    // x = 0, z = 1.959964), not the point 0–0 Greenwood gave.
+    let upper = ci["upper"].as_f64().unwrap();
+    assert!((upper - 0.390334).abs() < 1e-6, "{upper}");
+    let ground = get(&s.url("/api/v1/stats/found-on-ground")).json();
+    assert_eq!(ground["found_on_ground"]["clearings"], 0);
 }

@@ -38,6 +38,18 @@ impl Confidence {
     }
 }
 
+impl Confidence {
+    /// The level as pages, exports and new API fields name it: "high" or
+    /// "low" (alert) confidence, so that "confirmed" is only ever a visit's
+    /// outcome. [`Confidence::as_str`] stays the stored and bundle form.
+    pub fn level(self) -> &'static str {
+        match self {
+            Confidence::Tentative => "low",
+            Confidence::Confirmed => "high",
+        }
+    }
+}
+
 impl fmt::Display for Confidence {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         f.write_str(self.as_str())

@@ -375,6 +375,7 @@ mod tests {
             Some(Action::EnterFromPaper),
         ),
         ("GET", "/dashboard", Some(Action::ViewStatistics)),
+        ("GET", "/summary", Some(Action::ViewStatistics)),
         ("GET", "/disputes", Some(Action::ViewStatistics)),
         ("POST", "/disputes/1/adjudicate", Some(Action::Adjudicate)),
         ("GET", "/no/such/page", Some(Action::ViewEvents)),

@@ -16,6 +16,7 @@ use super::coverage::{CoverageCounts, CoverageRow};
 use super::facts::{ControlFacts, EventFacts, GroupKey};
 use super::groups::Tallies;
 use super::rates::{RateCounts, RateRow, rate_rows};
+use super::target::{GroundFinds, TargetShare, TargetTally};
 use super::teams::{TeamRow, team_table_counted};
 use super::times::{DEFAULT_WITHIN_DAYS, ResponseSteps, ResponseTimes, TimeToVisit, VisitTimes};
 use crate::reconcile::{CountedIndex, ReportFact};
@@ -70,6 +71,11 @@ pub struct Figures {
     pub confirmation: Vec<Grouped<RateRow>>,
     pub response_times: ResponseTimes,
     pub time_to_visit: TimeToVisit,
+    /// Share of issued events visited within the target, from detection
+    /// and from issue.
+    pub target: Vec<TargetShare>,
+    /// Clearings found on the ground that no alert flagged.
+    pub found_on_ground: GroundFinds,
     pub causes: CauseTable,
     pub teams: Vec<TeamRow>,
     pub assessment: Option<Assessment>,
@@ -132,6 +138,8 @@ pub fn all_figures_counted(
         confirmation: from_events.confirmation,
         response_times: from_events.response_times,
         time_to_visit: from_events.time_to_visit,
+        target: from_events.target,
+        found_on_ground: from_events.found_on_ground,
         causes: from_events.causes,
         teams: teams?,
         assessment: assessment_of(from_events.strata, controls)?,
@@ -145,6 +153,8 @@ struct EventFigures<'a> {
     confirmation: Vec<Grouped<RateRow>>,
     response_times: ResponseTimes,
     time_to_visit: TimeToVisit,
+    target: Vec<TargetShare>,
+    found_on_ground: GroundFinds,
     causes: CauseTable,
     strata: AlertStrata<'a>,
 }
@@ -166,11 +176,18 @@ impl<'a> EventFigures<'a> {
         let mut visits = VisitTimes::new(options.as_of);
         let mut cause_sums = CauseSums::default();
         let mut strata = AlertStrata::default();
+        let mut target = TargetTally::new(options.as_of, options.within_days);
+        let mut found_on_ground = GroundFinds::default();
         for e in events {
+            cause_sums.add(e);
+            if e.found_on_ground {
+                found_on_ground.add(e);
+                continue;
+            }
+            target.add(e);
             tallies.add(e, GroupCounts::of(e));
             steps.add(e);
             visits.add(e);
-            cause_sums.add(e);
             strata.add(e);
         }
         let tallies: BTreeMap<GroupKey, Vec<(String, GroupCounts)>> =
@@ -197,6 +214,8 @@ impl<'a> EventFigures<'a> {
                 .collect::<Result<_, FiguresError>>()?,
             response_times: steps.finish()?,
             time_to_visit: visits.finish(options.within_days)?,
+            target: target.finish()?,
+            found_on_ground,
             causes: cause_sums.finish(),
             strata,
         })

@@ -27,6 +27,8 @@ pub struct EventFacts {
     pub event_id: i64,
     pub zone_names: Vec<String>,
     pub sources: Vec<String>,
+    /// The alert confidence level, "high" or "low" (never "confirmed":
+    /// that word is a visit's outcome).
     pub highest_confidence: String,
     pub corroborated: bool,
     pub area_ha: f64,
@@ -41,6 +43,9 @@ pub struct EventFacts {
     /// Teams the event was issued to or that reported on it.
     pub teams: Vec<String>,
     pub sampled: Option<SampleInfo>,
+    /// A clearing a team found on the ground that no alert flagged: not an
+    /// alert, so out of every alert figure (see [`super::GroundFinds`]).
+    pub found_on_ground: bool,
 }
 
 impl EventFacts {

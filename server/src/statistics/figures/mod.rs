@@ -32,6 +32,14 @@
 //!   `as_of` is censored at `as_of` − detection; events detected after
 //!   `as_of` are left out. Two curves, "all events" and "issued events",
 //!   each with the share visited within T days (default 14) = 1 − Ŝ(T).
+//! - **Target** ([`target_shares`]): the share of issued events visited
+//!   within T days of detection and of issue, over the events whose window
+//!   is over, with a Wilson interval (see the `target` module for why not
+//!   1 − Ŝ(T)).
+//! - **Clearings found on the ground** ([`GroundFinds`]): events a team
+//!   found that no alert flagged. They are not an alert source: left out of
+//!   coverage, confirmation rates, response times, time to visit and the
+//!   targets (in [`all_figures`]); counted apart with their area.
 //! - **Causes** ([`causes`]): events with status `confirmed`, count and
 //!   summed area, by cause and by cause × month of detection; no cause is
 //!   "(not recorded)".
@@ -53,8 +61,10 @@ mod coverage;
 mod facts;
 mod groups;
 mod rates;
+mod target;
 mod teams;
 mod times;
+mod trends;
 
 use thiserror::Error;
 
@@ -71,10 +81,12 @@ pub use causes::{CAUSE_NOT_RECORDED, CauseRow, CauseTable, causes};
 pub use coverage::{CoverageRow, coverage, coverage_by};
 pub use facts::{ControlFacts, EventFacts, GroupKey, NO_VALUE, SampleInfo, days_between, month_of};
 pub use rates::{Basis, RateRow, confirmation_rates};
+pub use target::{GroundFinds, TargetFrom, TargetShare, target_shares};
 pub use teams::{TeamRow, team_table, team_table_counted};
 pub use times::{
     DEFAULT_WITHIN_DAYS, ResponseTimes, TimeToVisit, VisitCurve, response_times, time_to_visit,
 };
+pub use trends::{TrendPoint, monthly_trends, team_trends};
 
 /// Input the figures cannot use.
 #[derive(Debug, Clone, PartialEq, Error)]

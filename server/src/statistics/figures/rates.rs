@@ -96,6 +96,11 @@ pub(crate) struct RateCounts {
 }
 
 impl RateCounts {
+    /// (confirmed, confirmed + false alarm): the x and n of the rate.
+    pub(crate) fn decided(&self) -> (u64, u64) {
+        (self.confirmed, self.confirmed + self.false_alarm)
+    }
+
     /// The counts of one event (unvisited and not reached ones count
     /// nowhere).
     pub(crate) fn of(e: &EventFacts) -> Self {

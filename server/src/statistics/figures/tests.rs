@@ -33,7 +33,7 @@ fn event(id: i64, detected: NaiveDate, status: EventStatus) -> EventFacts {
         event_id: id,
         zone_names: vec![],
         sources: vec![],
-        highest_confidence: "confirmed".into(),
+        highest_confidence: "high".into(),
         corroborated: false,
         area_ha: 1.0,
         first_detected: detected,
@@ -45,6 +45,7 @@ fn event(id: i64, detected: NaiveDate, status: EventStatus) -> EventFacts {
         cause: None,
         teams: vec![],
         sampled: None,
+        found_on_ground: false,
     }
 }
 
@@ -745,4 +746,61 @@ proptest! {
                 .collect();
         prop_assert_eq!(team_table(&reports, &issued).expect("valid"), team_table_reference(&reports, &issued));
     }
+}
+
+#[test]
+fn clearings_found_on_the_ground_are_not_an_alert_source() {
+    // Issue 14: "field" sat beside the alert sources at 100% confirmed.
+    // Two clearings found on the ground (3.0 ha and 2.5 ha, confirmed,
+    // visited on their detection day) join the six events of the fixture.
+    let mut events = fixture();
+    for (id, area) in [(7, 3.0), (8, 2.5)] {
+        let mut e = event(id, date(3, 15), EventStatus::Confirmed);
+        e.sources = vec![];
+        e.area_ha = area;
+        e.first_visit = Some(at(3, 15));
+        e.found_on_ground = true;
+        events.push(e);
+    }
+    let f = all_figures(
+        &events,
+        &[],
+        &BTreeMap::new(),
+        &[],
+        &FigureOptions::new(at(4, 1)),
+    )
+    .expect("valid input");
+    assert_eq!(f.found_on_ground.clearings, 2);
+    assert!(close(f.found_on_ground.area_ha, 5.5, 1e-12));
+    // The alert figures are those of the six alert events alone.
+    let alone = all_figures(
+        &fixture(),
+        &[],
+        &BTreeMap::new(),
+        &[],
+        &FigureOptions::new(at(4, 1)),
+    )
+    .expect("valid input");
+    assert_eq!(f.coverage, alone.coverage);
+    assert_eq!(f.confirmation, alone.confirmation);
+    assert_eq!(f.time_to_visit, alone.time_to_visit);
+    assert_eq!(f.target, alone.target);
+    let sources = &f
+        .confirmation
+        .iter()
+        .find(|g| g.key == GroupKey::Source)
+        .expect("by source")
+        .rows;
+    assert!(
+        sources
+            .iter()
+            .all(|r| r.group != "field" && r.group != NO_VALUE)
+    );
+    // The page's total and the curve's n agree: every event was detected by as_of.
+    let total = f.coverage[0].rows[0].events;
+    let n = f.time_to_visit.curves[0]
+        .curve
+        .as_ref()
+        .map_or(0, |k| k.subjects) as u64;
+    assert_eq!((total, n), (6, 6));
 }

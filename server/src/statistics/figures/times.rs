@@ -131,7 +131,12 @@ impl VisitTimes {
         }
     }
 
+    /// Adds one event; clearings found on the ground are not alerts and
+    /// are left out.
     pub(crate) fn add(&mut self, e: &EventFacts) {
+        if e.found_on_ground {
+            return;
+        }
         let as_of = self.as_of;
         let is_issued = e.issued_at.is_some();
         let origin = e.detected_at();

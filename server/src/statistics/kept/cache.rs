@@ -11,13 +11,14 @@
 //! older than the last commit it could see.
 //!
 //! Only the report date (`as_of`) and T of "visited within T days" change
-//! from request to request on the same facts; those curves are computed per
-//! request from the kept events ([`Prepared::figures`]).
+//! from request to request on the same facts; those curves and the target
+//! shares are computed per request from the kept events
+//! ([`Prepared::figures`]).
 
 use super::load::{Facts, Loaded, StatsFilter, prepare, read_facts_after};
 use crate::error::{Error, Result};
 use crate::platform::storage::{Db, FactStamp};
-use crate::statistics::figures::{FigureOptions, Figures, time_to_visit};
+use crate::statistics::figures::{FigureOptions, Figures, target_shares, time_to_visit};
 use std::collections::VecDeque;
 use std::sync::{Arc, Mutex};
 
@@ -47,8 +48,11 @@ impl Prepared {
     pub fn figures(&self, options: &FigureOptions) -> Result<Figures> {
         let mut f = self.base.clone();
         f.as_of = options.as_of;
-        f.time_to_visit = time_to_visit(&self.loaded.events, options.as_of, options.within_days)
-            .map_err(|e| Error::Invalid(format!("statistics: {e}")))?;
+        let invalid = |e| Error::Invalid(format!("statistics: {e}"));
+        let events = &self.loaded.events;
+        f.time_to_visit =
+            time_to_visit(events, options.as_of, options.within_days).map_err(invalid)?;
+        f.target = target_shares(events, options.as_of, options.within_days).map_err(invalid)?;
         Ok(f)
     }
 }

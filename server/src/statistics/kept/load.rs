@@ -449,13 +449,11 @@ fn event_facts(e: &StatsEventRow, first: Day) -> EventFacts {
     EventFacts {
         event_id: e.id,
         zone_names: e.zones.clone(),
-        sources: if e.origin == "field" {
-            vec!["field".into()]
-        } else {
-            e.sources.clone()
-        },
+        sources: e.sources.clone(),
+        found_on_ground: e.origin == "field",
         highest_confidence: Confidence::from_i64(e.highest_confidence)
             .unwrap_or(Confidence::Tentative)
+            .level()
             .to_string(),
         corroborated: e.corroborated,
         area_ha: e.area_ha,

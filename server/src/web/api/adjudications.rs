@@ -21,7 +21,7 @@ pub struct AdjudicationBody {
 fn refused(field: BadField, b: &AdjudicationBody) -> Error {
     Error::Invalid(match field {
         BadField::Outcome => format!(
-            "field 'outcome': '{}' is not confirmed, false_alarm, inconclusive or not_reached",
+            "field 'outcome': '{}' is not confirmed, false_alarm or inconclusive (the outcomes that settle a dispute)",
             b.outcome
         ),
         BadField::Reason => {

@@ -1,6 +1,7 @@
 //! Statistics: `GET /api/v1/stats` (all figures) and `GET /api/v1/stats/{table}`
 //! (`coverage`, `confirmation`, `response-times`, `time-to-visit`,
-//! `causes`, `teams`, `assessment`; `format=csv` for the tables), filtered
+//! `target`, `found-on-ground`, `causes`, `teams`, `assessment`;
+//! `format=csv` for the tables), filtered
 //! by `from`, `to` (detection dates), `zone`, `team`, `source`; `as_of`
 //! (report date) and `within_days`.
 
@@ -105,6 +106,8 @@ pub async fn one(
         "confirmation" => json!({"as_of": f.as_of, "confirmation": f.confirmation}),
         "response-times" => json!({"as_of": f.as_of, "response_times": f.response_times}),
         "time-to-visit" => json!({"as_of": f.as_of, "time_to_visit": f.time_to_visit}),
+        "target" => json!({"as_of": f.as_of, "target": f.target}),
+        "found-on-ground" => json!({"as_of": f.as_of, "found_on_ground": f.found_on_ground}),
         "causes" => json!({"as_of": f.as_of, "causes": f.causes}),
         "teams" => json!({"as_of": f.as_of, "teams": f.teams}),
         "assessment" => json!({"as_of": f.as_of, "assessment": f.assessment}),

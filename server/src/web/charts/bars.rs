@@ -3,7 +3,7 @@
 //! bars (one labelled bar per item with its value and unit, e.g. causes).
 
 use super::axis::{self, Scale, format_number, nice_ticks};
-use super::palette::{BLUE, series_colour};
+use super::palette::{Rgb, TEXT, series_colour, series_hatch, status_colour};
 use super::svg::{self, escape, px, text};
 use super::types::{BarChart, HBarChart};
 use std::fmt::{self, Write};
@@ -51,7 +51,9 @@ pub fn render_grouped_bars(input: &BarChart) -> String {
         svg::open(out, W, l.h, &input.title)?;
         svg::heading(out, &input.title)?;
         axis::y_axis(out, l.y, &l.ticks, (LEFT, RIGHT), &input.y_label)?;
-        draw_bars(out, input, &values, &l)?;
+        let looks = series_looks(input);
+        hatch_defs(out, &looks)?;
+        draw_bars(out, input, &values, &l, &looks)?;
         axis::axis_line(out, (LEFT, l.y.r0), (RIGHT, l.y.r0))?;
         draw_categories(out, input, &l)?;
         text(
@@ -62,7 +64,7 @@ pub fn render_grouped_bars(input: &BarChart) -> String {
             "axis-title",
             &input.x_label,
         )?;
-        draw_series_legend(out, input, l.legend_top)?;
+        draw_series_legend(out, input, l.legend_top, &looks)?;
         svg::close(out)
     })
 }
@@ -142,11 +144,84 @@ impl GroupedLayout {
     }
 }
 
+/// How one bar series is drawn: a status series in its status colour
+/// (with `data-status`), the others in the series colours, counted among
+/// themselves, hatched past the third.
+#[derive(Debug, Clone)]
+struct Look {
+    colour: Rgb,
+    /// The attributes of a bar or swatch: fill, and data-status.
+    attrs: String,
+    /// The hatch pattern's id and angle.
+    hatch: Option<(String, u32)>,
+}
+
+fn series_looks(input: &BarChart) -> Vec<Look> {
+    let mut plain = 0;
+    input
+        .series
+        .iter()
+        .map(|s| match s.status {
+            Some(st) => {
+                let colour = status_colour(st);
+                Look {
+                    colour,
+                    attrs: format!("fill=\"{}\" data-status=\"{}\"", colour.hex(), st.as_str()),
+                    hatch: None,
+                }
+            }
+            None => {
+                let (colour, hatch) = (series_colour(plain), series_hatch(plain));
+                plain += 1;
+                let hatch = hatch.map(|a| {
+                    (
+                        format!(
+                            "gp-hatch-{}-{a}",
+                            colour.hex().to_string().trim_start_matches('#')
+                        ),
+                        a,
+                    )
+                });
+                let fill = match &hatch {
+                    Some((id, _)) => format!("url(#{id})"),
+                    None => colour.hex().to_string(),
+                };
+                Look {
+                    colour,
+                    attrs: format!("fill=\"{fill}\" data-series=\"{plain}\""),
+                    hatch,
+                }
+            }
+        })
+        .collect()
+}
+
+/// The hatch patterns the series need (an id names its colour and angle,
+/// so two charts on one page that share an id share its drawing too).
+fn hatch_defs(out: &mut String, looks: &[Look]) -> fmt::Result {
+    let hatched: Vec<&Look> = looks.iter().filter(|l| l.hatch.is_some()).collect();
+    if hatched.is_empty() {
+        return Ok(());
+    }
+    out.write_str("<defs>")?;
+    for l in hatched {
+        if let Some((id, angle)) = &l.hatch {
+            write!(
+                out,
+                "<pattern id=\"{id}\" patternUnits=\"userSpaceOnUse\" width=\"6\" height=\"6\" patternTransform=\"rotate({angle})\"><rect width=\"6\" height=\"6\" fill=\"#ffffff\"/><rect width=\"3\" height=\"6\" fill=\"{}\"/></pattern>",
+                l.colour.hex()
+            )?;
+        }
+    }
+    out.write_str("</defs>")
+}
+
 fn draw_bars(
     out: &mut String,
     input: &BarChart,
     values: &[(usize, usize, f64)],
     l: &GroupedLayout,
+    looks: &[Look],
 ) -> fmt::Result {
     let y = l.y;
     for &(s, c, v) in values {
@@ -154,12 +229,13 @@ fn draw_bars(
         let top = y.map(v);
         write!(
             out,
-            "<rect class=\"bar\" x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\" fill=\"{}\"><title>{}, {}: {}</title></rect>",
+            "<rect class=\"bar\" x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\" {} stroke=\"{}\" stroke-width=\"0.5\"><title>{}, {}: {}</title></rect>",
             px(bx),
             px(top),
             px(l.bar_w),
             px(y.r0 - top),
-            series_colour(s).hex(),
+            looks[s].attrs,
+            TEXT.hex(),
             escape(&input.categories[c]),
             escape(&input.series[s].label),
             value_text(v)
@@ -185,17 +261,23 @@ fn draw_categories(out: &mut String, input: &BarChart, l: &GroupedLayout) -> fmt
 }
 
 /// One legend entry per series, in rows of [`LEGEND_COLS`].
-fn draw_series_legend(out: &mut String, input: &BarChart, legend_top: f64) -> fmt::Result {
+fn draw_series_legend(
+    out: &mut String,
+    input: &BarChart,
+    legend_top: f64,
+    looks: &[Look],
+) -> fmt::Result {
     let col_w = (RIGHT - LEFT) / LEGEND_COLS as f64;
     for (s, ser) in input.series.iter().enumerate() {
         let lx = LEFT + (s % LEGEND_COLS) as f64 * col_w;
         let ly = legend_top + (s / LEGEND_COLS) as f64 * 20.0;
         write!(
             out,
-            "<g class=\"legend-entry\"><rect x=\"{}\" y=\"{}\" width=\"14\" height=\"14\" fill=\"{}\"/>",
+            "<g class=\"legend-entry\"><rect x=\"{}\" y=\"{}\" width=\"14\" height=\"14\" {} stroke=\"{}\" stroke-width=\"0.5\"/>",
             px(lx),
             px(ly - 11.0),
-            series_colour(s).hex()
+            looks[s].attrs,
+            TEXT.hex()
         )?;
         text(out, lx + 20.0, ly, "start", "legend-label", &ser.label)?;
         out.write_str("</g>")?;
@@ -232,7 +314,7 @@ pub fn render_horizontal_bars(input: &HBarChart) -> String {
         r1: right,
     };
     let plot_bottom = TOP + bars.len() as f64 * ROW_H;
-    let h = plot_bottom + 48.0;
+    let h = plot_bottom + 74.0;
     let unit = input.unit.trim();
     let title = if unit.is_empty() {
         input.value_label.clone()
@@ -271,7 +353,7 @@ pub fn render_horizontal_bars(input: &HBarChart) -> String {
                 px(top),
                 px(end - left),
                 px(BAR_H),
-                BLUE.hex(),
+                HBAR_COLOUR.hex(),
                 escape(label),
                 escape(&shown)
             )?;
@@ -285,8 +367,26 @@ pub fn render_horizontal_bars(input: &HBarChart) -> String {
             )?;
         }
         axis::axis_line(out, (left, TOP), (left, plot_bottom))?;
+        hbar_legend(out, left, plot_bottom + 62.0, &title)?;
         svg::close(out)
     })
+}
+
+/// The one series of a horizontal bar chart: a series colour, not a status.
+const HBAR_COLOUR: Rgb = super::palette::SKY_BLUE;
+
+/// The legend of a horizontal bar chart: its one series.
+fn hbar_legend(out: &mut String, x: f64, y: f64, label: &str) -> fmt::Result {
+    write!(
+        out,
+        "<g class=\"legend-entry\"><rect x=\"{}\" y=\"{}\" width=\"14\" height=\"14\" fill=\"{}\" stroke=\"{}\" stroke-width=\"0.5\"/>",
+        px(x),
+        px(y - 11.0),
+        HBAR_COLOUR.hex(),
+        TEXT.hex()
+    )?;
+    text(out, x + 20.0, y, "start", "legend-label", label)?;
+    out.write_str("</g>")
 }
 
 #[cfg(test)]

@@ -263,7 +263,7 @@ fn event(
     if w < MIN_PX && h < MIN_PX {
         write!(
             out,
-            "<circle class=\"footprint marker status-{status}\" cx=\"{}\" cy=\"{}\" r=\"{MARKER_R}\" \
+            "<circle class=\"footprint marker status-{status}\" data-status=\"{status}\" cx=\"{}\" cy=\"{}\" r=\"{MARKER_R}\" \
              fill=\"{fill}\" stroke=\"{edge}\" stroke-width=\"1\"/>",
             px(cx),
             px(cy)
@@ -271,7 +271,7 @@ fn event(
     } else {
         write!(
             out,
-            "<path class=\"footprint status-{status}\" d=\"{}\" fill=\"{fill}\" fill-rule=\"evenodd\" \
+            "<path class=\"footprint status-{status}\" data-status=\"{status}\" d=\"{}\" fill=\"{fill}\" fill-rule=\"evenodd\" \
              stroke=\"{edge}\" stroke-width=\"0.8\"/>",
             path_d(f, rings)
         )?;

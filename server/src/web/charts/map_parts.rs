@@ -3,26 +3,12 @@
 //! with a note on the projection.
 
 use super::axis::format_number;
-use super::palette::{
-    AXIS, BLACK, BLUE, BLUISH_GREEN, GREY, ORANGE, REDDISH_PURPLE, Rgb, TEXT, TEXT_MUTED,
-    VERMILLION, YELLOW, ZONE_FILL,
-};
+pub use super::palette::status_colour;
+use super::palette::{AXIS, BLACK, ORANGE, Rgb, TEXT, TEXT_MUTED, ZONE_FILL};
 use super::projection::{Frame, MAP_W, MAP_X0, scale_label, scale_length_m};
 use super::svg::{escape, px, text};
 use super::types::EventStatus;
 use std::fmt::{self, Write};
-
-/// Fill of an event status.
-pub fn status_colour(s: EventStatus) -> Rgb {
-    match s {
-        EventStatus::Unvisited => GREY,
-        EventStatus::NotReached => REDDISH_PURPLE,
-        EventStatus::Confirmed => VERMILLION,
-        EventStatus::FalseAlarm => BLUISH_GREEN,
-        EventStatus::Inconclusive => YELLOW,
-        EventStatus::Disputed => BLUE,
-    }
-}
 
 pub(crate) const LEGEND_COLS: usize = 4;
 
@@ -62,7 +48,7 @@ pub(crate) fn legend(
         slots.entry(
             out,
             "legend-status",
-            |x, y| status_swatch(c, x, y),
+            |x, y| status_swatch(s, c, x, y),
             s.label(),
         )?;
     }
@@ -113,10 +99,11 @@ impl LegendSlots {
     }
 }
 
-fn status_swatch(colour: Rgb, x: f64, y: f64) -> String {
+fn status_swatch(s: EventStatus, colour: Rgb, x: f64, y: f64) -> String {
     let c = colour.hex();
+    let status = s.as_str();
     format!(
-        "<rect x=\"{}\" y=\"{}\" width=\"14\" height=\"14\" fill=\"{c}\" stroke=\"{}\" stroke-width=\"0.8\"/>",
+        "<rect data-status=\"{status}\" x=\"{}\" y=\"{}\" width=\"14\" height=\"14\" fill=\"{c}\" stroke=\"{}\" stroke-width=\"0.8\"/>",
         px(x),
         px(y),
         TEXT.hex()

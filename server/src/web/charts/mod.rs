@@ -12,6 +12,7 @@
 
 pub mod axis;
 pub mod bars;
+pub mod intervals;
 pub mod line;
 pub mod map;
 mod map_parts;
@@ -25,6 +26,7 @@ mod testutil;
 
 pub use axis::{format_number, nice_step, nice_ticks};
 pub use bars::{render_grouped_bars, render_horizontal_bars};
+pub use intervals::{IntervalChart, IntervalPoint, IntervalSeries, render_interval_chart};
 pub use line::render_step_curve;
 pub use map::render_map;
 pub use map_parts::status_colour;

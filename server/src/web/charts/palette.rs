@@ -1,12 +1,31 @@
-//! Colours: the Okabe–Ito colour-blind-safe palette for fills and series,
-//! the text colours (each must pass WCAG AA, 4.5:1, on white), and the
-//! WCAG 2.x contrast ratio used to check them.
+//! Colours: the Okabe–Ito colour-blind-safe palette (Okabe & Ito 2008,
+//! "Color Universal Design", <https://jfly.uni-koeln.de/color/>), split in
+//! two roles that never share a hue, the text colours (each must pass WCAG
+//! AA, 4.5:1, on white), and the WCAG 2.x contrast ratio used to check them.
+//!
+//! # Roles (one meaning per colour, everywhere)
+//!
+//! - **Status colours** ([`status_colour`]): six of the eight hues, one per
+//!   event status (grey for "unvisited"). Only a status is ever drawn in
+//!   them: map footprints, event badges, a bar series that *is* a status
+//!   (confirmed events). An element drawn in a status colour carries
+//!   `data-status="…"` naming its status, so tests can check the role.
+//! - **Series colours** ([`SERIES`]): the three remaining Okabe–Ito hues
+//!   (black, sky blue, orange). Lines add dash patterns and bars add
+//!   hatching past the third series, so up to twelve series stay apart, in
+//!   greyscale print too.
+//!
+//! The other map marks (start, route, zones) use black, orange and greys,
+//! never a status hue. Pages reuse [`status_colour`] for their badges
+//! (`server/static/app.css`, checked by a test here).
 //!
 //! Contrast note: the Okabe–Ito hues are used only for fills, strokes and
 //! swatches, never for text; every label is drawn in `TEXT` or
 //! `TEXT_MUTED`, and `contrast_ratio` guards both (see the tests).
 
 use std::fmt;
+
+use crate::domain::EventStatus;
 
 /// An sRGB colour.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -87,17 +106,37 @@ pub const REDDISH_PURPLE: Rgb = Rgb(0xcc, 0x79, 0xa7);
 /// Neutral grey for "not yet known" (a common companion to Okabe–Ito).
 pub const GREY: Rgb = Rgb(0x99, 0x99, 0x99);
 
-/// Series colours in order; series past the eighth reuse them.
-pub const SERIES: [Rgb; 8] = [
-    BLUE,
-    VERMILLION,
-    BLUISH_GREEN,
-    REDDISH_PURPLE,
-    ORANGE,
-    SKY_BLUE,
-    YELLOW,
-    BLACK,
-];
+/// Fill of an event status: the only place a status gets a colour.
+pub fn status_colour(s: EventStatus) -> Rgb {
+    match s {
+        EventStatus::Unvisited => GREY,
+        EventStatus::NotReached => REDDISH_PURPLE,
+        EventStatus::Confirmed => VERMILLION,
+        EventStatus::FalseAlarm => BLUISH_GREEN,
+        EventStatus::Inconclusive => YELLOW,
+        EventStatus::Disputed => BLUE,
+    }
+}
+
+/// Every status colour, in the order of [`EventStatus::ALL`].
+pub fn status_colours() -> Vec<(EventStatus, Rgb)> {
+    EventStatus::ALL
+        .iter()
+        .map(|&s| (s, status_colour(s)))
+        .collect()
+}
+
+/// The status a colour stands for, if it is a status colour.
+pub fn status_of_colour(c: Rgb) -> Option<EventStatus> {
+    EventStatus::ALL
+        .iter()
+        .copied()
+        .find(|&s| status_colour(s) == c)
+}
+
+/// Series colours in order: the Okabe–Ito hues no status uses. Series past
+/// the third reuse them with another dash (lines) or hatching (bars).
+pub const SERIES: [Rgb; 3] = [BLACK, SKY_BLUE, ORANGE];
 
 /// Dash patterns paired with series colours so lines stay apart in
 /// greyscale print ("none" is solid).
@@ -108,9 +147,21 @@ pub fn series_colour(i: usize) -> Rgb {
     SERIES[i % SERIES.len()]
 }
 
-/// Dash pattern of series `i`.
+/// Dash pattern of series `i`: solid for the first three, then the next
+/// pattern each time the colours come round again.
 pub fn series_dash(i: usize) -> &'static str {
-    DASHES[i % DASHES.len()]
+    DASHES[(i / SERIES.len()) % DASHES.len()]
+}
+
+/// Hatching of bar series `i`: `None` (solid) for the first three, then
+/// the angle in degrees of its diagonal lines.
+pub fn series_hatch(i: usize) -> Option<u32> {
+    match (i / SERIES.len()) % 4 {
+        0 => None,
+        1 => Some(45),
+        2 => Some(135),
+        _ => Some(90),
+    }
 }
 
 #[cfg(test)]
@@ -142,6 +193,55 @@ mod tests {
         }
         // The palette hues themselves would not all pass: that is why they are never text.
         assert!(contrast_ratio(YELLOW, BACKGROUND) < 4.5);
+    }
+
+    #[test]
+    fn series_colours_never_reuse_a_status_colour() {
+        for c in SERIES {
+            assert_eq!(status_of_colour(c), None, "{} is a status colour", c.hex());
+        }
+        // Six statuses, six distinct colours.
+        let mut all: Vec<Rgb> = status_colours().into_iter().map(|(_, c)| c).collect();
+        all.dedup();
+        assert_eq!(all.len(), 6);
+        // Twelve series are told apart by colour, dash and hatch.
+        let keys: std::collections::BTreeSet<(String, &str, Option<u32>)> = (0..12)
+            .map(|i| {
+                (
+                    series_colour(i).hex().to_string(),
+                    series_dash(i),
+                    series_hatch(i),
+                )
+            })
+            .collect();
+        assert_eq!(keys.len(), 12);
+    }
+
+    #[test]
+    fn event_badges_use_the_status_colours_and_nothing_else_does() {
+        // The badges of the pages (server/static/app.css) mark each event
+        // status with its status colour; no other badge uses a status hue.
+        let css = include_str!("../../../static/app.css");
+        for (s, c) in status_colours() {
+            let rule = css
+                .lines()
+                .find(|l| l.starts_with(&format!(".st-{} ", s.as_str())))
+                .unwrap_or_else(|| panic!("no badge rule for {}", s.as_str()));
+            assert!(rule.contains(&c.hex().to_string()), "{rule}");
+        }
+        for l in css.lines().filter(|l| l.starts_with(".st-")) {
+            let status = EventStatus::ALL
+                .iter()
+                .any(|s| l.starts_with(&format!(".st-{} ", s.as_str())));
+            if !status {
+                for (_, c) in status_colours() {
+                    assert!(
+                        !l.contains(&c.hex().to_string()),
+                        "{l} uses a status colour"
+                    );
+                }
+            }
+        }
     }
 
     #[test]

@@ -92,3 +92,31 @@ pub fn text_colours_pass(doc: &Document<'_>) {
         );
     }
 }
+
+/// Colours keep one meaning: every element filled or stroked in a status
+/// colour carries `data-status` naming that very status, and the chart has
+/// a legend.
+pub fn colour_roles_hold(doc: &Document<'_>) {
+    use super::palette::{Rgb, status_of_colour};
+    for n in doc.descendants().filter(Node::is_element) {
+        for attr in ["fill", "stroke"] {
+            let Some(c) = n.attribute(attr).and_then(Rgb::from_hex) else {
+                continue;
+            };
+            if let Some(s) = status_of_colour(c) {
+                assert_eq!(
+                    n.attribute("data-status"),
+                    Some(s.as_str()),
+                    "<{}> {attr}={} is the colour of status {} but is not that status",
+                    n.tag_name().name(),
+                    c.hex(),
+                    s.as_str()
+                );
+            }
+        }
+    }
+    assert!(
+        !with_class(doc, "legend-entry").is_empty(),
+        "every chart has a legend"
+    );
+}

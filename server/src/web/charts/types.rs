@@ -93,6 +93,9 @@ impl StepChart {
 pub struct BarSeries {
     pub label: String,
     pub values: Vec<f64>,
+    /// The series counts events of this status: it is drawn in the
+    /// status's colour. `None`: a series colour.
+    pub status: Option<EventStatus>,
 }
 
 /// Grouped vertical bars: categories along x, one bar per series in each.

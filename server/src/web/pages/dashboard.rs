@@ -12,13 +12,15 @@ use crate::domain::EventStatus;
 use crate::error::Error;
 use crate::statistics::estimators::{DurationSummary, Estimate};
 use crate::statistics::figures::{
-    EventFacts, FigureOptions, Figures, GroupKey, VisitCurve, month_of,
+    EventFacts, FigureOptions, Figures, GroupKey, TargetShare, TrendPoint, VisitCurve, month_of,
+    monthly_trends, team_trends,
 };
 use crate::statistics::kept::{StatsFilter, TABLES};
 use crate::web::AppState;
 use crate::web::charts::{
-    BarChart, BarSeries, HBar, HBarChart, Step, StepChart, StepSeries, render_grouped_bars,
-    render_horizontal_bars, render_step_curve,
+    BarChart, BarSeries, HBar, HBarChart, IntervalChart, IntervalPoint, IntervalSeries, Step,
+    StepChart, StepSeries, render_grouped_bars, render_horizontal_bars, render_interval_chart,
+    render_step_curve,
 };
 use actix_web::{HttpRequest, HttpResponse, web};
 use askama::Template;
@@ -36,10 +38,11 @@ pub struct DashboardQuery {
 
 /// Issued, visited and confirmed events per month of first detection.
 /// "Visited" is an event a counted report reached (any status but
-/// unvisited and not reached).
+/// unvisited and not reached). Clearings found on the ground are not
+/// alerts and are left out.
 pub fn monthly_chart(events: &[EventFacts]) -> BarChart {
     let mut counts: BTreeMap<String, [f64; 3]> = BTreeMap::new();
-    for e in events {
+    for e in events.iter().filter(|e| !e.found_on_ground) {
         let c = counts.entry(month_of(e.first_detected)).or_default();
         if e.issued_at.is_some() {
             c[0] += 1.0;
@@ -51,14 +54,19 @@ pub fn monthly_chart(events: &[EventFacts]) -> BarChart {
             c[2] += 1.0;
         }
     }
-    let series = ["issued", "visited", "confirmed"]
-        .iter()
-        .enumerate()
-        .map(|(i, label)| BarSeries {
-            label: label.to_string(),
-            values: counts.values().map(|c| c[i]).collect(),
-        })
-        .collect();
+    let series = [
+        ("issued", None),
+        ("visited", None),
+        ("confirmed", Some(EventStatus::Confirmed)),
+    ]
+    .iter()
+    .enumerate()
+    .map(|(i, (label, status))| BarSeries {
+        label: label.to_string(),
+        values: counts.values().map(|c| c[i]).collect(),
+        status: *status,
+    })
+    .collect();
     BarChart {
         title: "Events issued, visited and confirmed, by month of first detection".into(),
         categories: counts.keys().cloned().collect(),
@@ -66,6 +74,104 @@ pub fn monthly_chart(events: &[EventFacts]) -> BarChart {
         series,
         y_label: "events (count)".into(),
     }
+}
+
+/// The trends' figures: by month over all events, and by team and month.
+pub struct Trends {
+    pub monthly: Vec<TrendPoint>,
+    pub teams: Vec<TrendPoint>,
+}
+
+impl Trends {
+    /// The trends of `events` at `as_of` (pure; see [`monthly_trends`]).
+    pub fn of(events: &[EventFacts], as_of: chrono::DateTime<chrono::Utc>) -> Result<Self, Error> {
+        let invalid = |e| Error::Invalid(format!("statistics: {e}"));
+        Ok(Trends {
+            monthly: monthly_trends(events, as_of).map_err(invalid)?,
+            teams: team_trends(events, as_of).map_err(invalid)?,
+        })
+    }
+}
+
+/// Interval series of `points`, one per group, over the sorted months.
+fn trend_series(
+    points: &[TrendPoint],
+    value: impl Fn(&TrendPoint) -> Option<IntervalPoint>,
+) -> (Vec<String>, Vec<IntervalSeries>) {
+    let months: Vec<String> = points
+        .iter()
+        .map(|p| p.month.clone())
+        .collect::<std::collections::BTreeSet<_>>()
+        .into_iter()
+        .collect();
+    let mut groups: BTreeMap<&str, Vec<Option<IntervalPoint>>> = BTreeMap::new();
+    for p in points {
+        let row = groups
+            .entry(p.group.as_str())
+            .or_insert_with(|| vec![None; months.len()]);
+        if let Ok(k) = months.binary_search(&p.month) {
+            row[k] = value(p);
+        }
+    }
+    let series = groups
+        .into_iter()
+        .map(|(label, points)| IntervalSeries {
+            label: label.to_string(),
+            points,
+        })
+        .collect();
+    (months, series)
+}
+
+fn rate_point(p: &TrendPoint) -> Option<IntervalPoint> {
+    p.confirmation.as_ref().map(|r| IntervalPoint {
+        estimate: r.estimate,
+        lower: Some(r.ci95.lower),
+        upper: Some(r.ci95.upper),
+    })
+}
+
+fn median_point(p: &TrendPoint) -> Option<IntervalPoint> {
+    p.median_days.map(|m| IntervalPoint {
+        estimate: m,
+        lower: p.median_ci95.lower,
+        upper: p.median_ci95.upper,
+    })
+}
+
+/// The three trend charts: the confirmation rate and the median time to
+/// visit by month, and the teams' median time from issue by month.
+pub fn trend_charts(t: &Trends) -> [String; 3] {
+    let chart = |title: &str, y_label: &str, y_max, (categories, series)| {
+        render_interval_chart(&IntervalChart {
+            title: title.into(),
+            categories,
+            x_label: "month of first detection".into(),
+            y_label: y_label.into(),
+            y_max,
+            series,
+        })
+    };
+    [
+        chart(
+            "Confirmation rate by month (Wilson 95% interval)",
+            "confirmed / (confirmed + false alarm) (0–1)",
+            Some(1.0),
+            trend_series(&t.monthly, rate_point),
+        ),
+        chart(
+            "Median days from detection to first visit, by month (Kaplan–Meier, 95% interval)",
+            "median time to visit (days)",
+            None,
+            trend_series(&t.monthly, median_point),
+        ),
+        chart(
+            "Teams over time: median days from issue to first visit (Kaplan–Meier, 95% interval)",
+            "median time to visit (days)",
+            None,
+            trend_series(&t.teams, median_point),
+        ),
+    ]
 }
 
 /// A Kaplan–Meier curve as a labelled step series: it starts at (0, 1),
@@ -104,7 +210,7 @@ fn key_label(k: GroupKey) -> &'static str {
         GroupKey::Team => "by team",
         GroupKey::DetectionMonth => "by month of first detection",
         GroupKey::Source => "by source",
-        GroupKey::Confidence => "by confidence",
+        GroupKey::Confidence => "by alert confidence (high or low)",
         GroupKey::Corroborated => "by corroboration",
         GroupKey::Cause => "by cause",
         GroupKey::Stratum => "by stratum",
@@ -145,13 +251,18 @@ struct RateTable {
     rows: Vec<[String; 7]>,
 }
 
-struct Numbers {
-    events: u64,
-    issued: u64,
-    visited: u64,
-    not_reached: u64,
-    unvisited: u64,
-    visited_within: String,
+pub(super) struct Numbers {
+    pub events: u64,
+    pub issued: u64,
+    pub visited: u64,
+    pub not_reached: u64,
+    pub unvisited: u64,
+    /// (figure, what it is) for the target from detection and from issue.
+    pub targets: Vec<(String, String)>,
+    /// Clearings found on the ground that no alert flagged, and their area.
+    pub ground: (u64, String),
+    /// Why the curve's n differs from the events counted, if it does.
+    pub curve_n_note: Option<String>,
 }
 
 #[derive(Template)]
@@ -170,12 +281,15 @@ struct DashboardPage {
     km_chart: String,
     km_notes: Vec<String>,
     monthly: String,
+    trends: [String; 3],
     causes_chart: String,
     causes: Vec<[String; 3]>,
     times: Vec<[String; 4]>,
     team_rows: Vec<[String; 8]>,
     assessment: Option<AssessmentView>,
     exports: Vec<(String, String)>,
+    /// The printable summary of the same period and zone.
+    summary_link: String,
 }
 
 struct AssessmentView {
@@ -225,7 +339,7 @@ fn assessment_view(f: &Figures) -> Option<AssessmentView> {
             .iter()
             .map(|s| {
                 [
-                    s.stratum.clone(),
+                    stratum_label(&s.stratum),
                     s.population.to_string(),
                     s.selected.to_string(),
                     s.confirmed.to_string(),
@@ -241,16 +355,32 @@ fn assessment_view(f: &Figures) -> Option<AssessmentView> {
     })
 }
 
+/// A sample stratum as the page names it: strata are stored as
+/// "sources|confidence" with the stored confidence word; the page says
+/// "high" or "low confidence" so that "confirmed" is only an outcome.
+pub fn stratum_label(stratum: &str) -> String {
+    match stratum.rsplit_once('|') {
+        Some((sources, conf)) => {
+            let level = match conf {
+                "confirmed" | "high" => "high confidence",
+                "tentative" | "low" => "low confidence",
+                other => other,
+            };
+            format!("{sources}, {level}")
+        }
+        None => stratum.to_string(),
+    }
+}
+
 fn build(
     req: &HttpRequest,
     viewer: &Viewer,
     q: &DashboardQuery,
     filter: &StatsFilter,
     f: &Figures,
-    events: &[EventFacts],
+    (events, trends): (&[EventFacts], &Trends),
     lists: &Lists,
 ) -> DashboardPage {
-    let within = f.time_to_visit.within_days;
     DashboardPage {
         layout: Layout::new(req, viewer, "Dashboard", "/dashboard"),
         zones: lists.choices(&lists.zones, &filter.zone),
@@ -263,13 +393,10 @@ fn build(
         numbers: numbers(f),
         coverage: coverage_tables(f),
         rates: rate_tables(f),
-        km_chart: render_step_curve(&StepChart::time_to_visit(
-            "Time from detection to first visit (Kaplan–Meier; unvisited events censored)",
-            f.time_to_visit.curves.iter().map(km_series).collect(),
-            Some(within),
-        )),
+        km_chart: km_chart(f),
         km_notes: km_notes(f),
         monthly: render_grouped_bars(&monthly_chart(events)),
+        trends: trend_charts(trends),
         causes_chart: causes_chart(f),
         causes: f
             .causes
@@ -284,57 +411,112 @@ fn build(
             })
             .collect(),
         times: response_time_rows(f),
-        team_rows: f
-            .teams
-            .iter()
-            .map(|t| {
-                [
-                    t.team.clone(),
-                    t.trips.to_string(),
-                    t.events_visited.to_string(),
-                    t.reports.to_string(),
-                    t.evidence_ok.to_string(),
-                    t.evidence_ok_share.map_or_else(|| "–".into(), percent),
-                    t.median_issue_to_visit_days
-                        .map_or_else(|| "–".into(), |d| fixed(d, 1)),
-                    // Station entries (issue 13): of all dates, not the selection.
-                    lists.station.get(&t.team).copied().unwrap_or(0).to_string(),
-                ]
-            })
-            .collect(),
+        team_rows: with_station_entries(team_rows(f), &lists.station),
         assessment: assessment_view(f),
         exports: export_links(q, filter),
+        summary_link: summary_link(q, filter),
     }
 }
 
+/// The Kaplan–Meier time-to-visit chart with the target marked.
+pub(super) fn km_chart(f: &Figures) -> String {
+    render_step_curve(&StepChart::time_to_visit(
+        "Time from detection to first visit (Kaplan–Meier; unvisited events censored)",
+        f.time_to_visit.curves.iter().map(km_series).collect(),
+        Some(f.time_to_visit.within_days),
+    ))
+}
+
+/// The team table's rows.
+pub(super) fn team_rows(f: &Figures) -> Vec<[String; 7]> {
+    f.teams
+        .iter()
+        .map(|t| {
+            [
+                t.team.clone(),
+                t.trips.to_string(),
+                t.events_visited.to_string(),
+                t.reports.to_string(),
+                t.evidence_ok.to_string(),
+                t.evidence_ok_share.map_or_else(|| "–".into(), percent),
+                t.median_issue_to_visit_days
+                    .map_or_else(|| "–".into(), |d| fixed(d, 1)),
+            ]
+        })
+        .collect()
+}
+
+/// The team rows with a last column: reports entered at the station from
+/// paper (issue 13), counted over all dates, not the selection.
+fn with_station_entries(
+    rows: Vec<[String; 7]>,
+    station: &std::collections::BTreeMap<String, u64>,
+) -> Vec<[String; 8]> {
+    rows.into_iter()
+        .map(|[a, b, c, d, e, f, g]| {
+            let n = station.get(&a).copied().unwrap_or(0).to_string();
+            [a, b, c, d, e, f, g, n]
+        })
+        .collect()
+}
+
 /// The headline numbers: coverage of all events and the share visited in time.
-fn numbers(f: &Figures) -> Numbers {
+pub(super) fn numbers(f: &Figures) -> Numbers {
     let all_cov = f
         .coverage
         .iter()
         .find(|g| g.key == GroupKey::All)
         .and_then(|g| g.rows.first());
-    let issued_curve = f.time_to_visit.curves.get(1);
+    let events = all_cov.map_or(0, |r| r.events);
     Numbers {
-        events: all_cov.map_or(0, |r| r.events),
+        events,
         issued: all_cov.map_or(0, |r| r.issued),
         visited: all_cov.map_or(0, |r| r.visited),
         not_reached: all_cov.map_or(0, |r| r.not_reached),
         unvisited: all_cov.map_or(0, |r| r.unvisited),
-        visited_within: issued_curve
-            .and_then(|c| c.visited_within.as_ref())
-            .map_or_else(
-                || "–".to_string(),
-                |s| {
-                    format!(
-                        "{} (95% CI {}–{})",
-                        percent(s.share),
-                        percent(s.ci95.lower),
-                        percent(s.ci95.upper)
-                    )
-                },
-            ),
+        targets: f.target.iter().map(target_text).collect(),
+        ground: (
+            f.found_on_ground.clearings,
+            fixed(f.found_on_ground.area_ha, 1),
+        ),
+        curve_n_note: curve_n_note(f, events),
     }
+}
+
+/// The headline of one target: "40.0% (Wilson 95% CI 19.8%–64.3%)" and
+/// what it counts.
+pub fn target_text(t: &TargetShare) -> (String, String) {
+    let days = fixed(t.within_days, 0);
+    let figure = match &t.share {
+        Some(s) => format!(
+            "{} (Wilson 95% CI {}–{})",
+            percent(s.estimate),
+            percent(s.ci95.lower),
+            percent(s.ci95.upper)
+        ),
+        None => "no data".to_string(),
+    };
+    let what = format!(
+        "of issued events visited within {days} days {}: {} of {} whose {days} days are over ({} more still within them, left out)",
+        t.from.label(),
+        t.visited_within,
+        t.window_closed,
+        t.window_open
+    );
+    (figure, what)
+}
+
+/// Why the time-to-visit curve counts fewer events than the page, if it does.
+fn curve_n_note(f: &Figures, events: u64) -> Option<String> {
+    let c = f.time_to_visit.curves.first()?;
+    let n = c.curve.as_ref().map_or(0, |k| k.subjects) as u64;
+    (n != events).then(|| {
+        format!(
+            "The curves count {n} of the {events} events: {} first detected after {} are not yet in them.",
+            c.detected_after_as_of,
+            f.as_of.format("%Y-%m-%d %H:%M UTC")
+        )
+    })
 }
 
 /// Coverage by zone, team, month and the other groupings (all events apart).
@@ -458,6 +640,19 @@ fn response_time_rows(f: &Figures) -> Vec<[String; 4]> {
     .collect()
 }
 
+/// `/summary` with the page's period and zone.
+fn summary_link(q: &DashboardQuery, filter: &StatsFilter) -> String {
+    let params: Vec<String> = [("from", &q.from), ("to", &q.to), ("zone", &filter.zone)]
+        .iter()
+        .filter_map(|(k, v)| non_empty(v).map(|v| format!("{k}={}", urlencode(&v))))
+        .collect();
+    if params.is_empty() {
+        "/summary".to_string()
+    } else {
+        format!("/summary?{}", params.join("&"))
+    }
+}
+
 /// The CSV export links, carrying the page's filter, and the GeoJSON export.
 fn export_links(q: &DashboardQuery, filter: &StatsFilter) -> Vec<(String, String)> {
     let mut params = Vec::new();
@@ -527,9 +722,10 @@ async fn dashboard_page(
     let db = state.db.clone();
     let stats = state.stats.clone();
     let fl = filter.clone();
-    let (figs, prepared, lists) = web::block(move || {
+    let (figs, prepared, lists, trends) = web::block(move || {
         let p = stats.prepared(&db, &fl)?;
         let f = p.figures(&opts)?;
+        let trends = Trends::of(&p.loaded.events, opts.as_of)?;
         let lists = db.read(|r| {
             Ok(Lists {
                 zones: r.zones()?.into_iter().map(|z| z.name).collect(),
@@ -538,7 +734,7 @@ async fn dashboard_page(
                 station: r.station_entry_counts_by_team()?,
             })
         })?;
-        Ok::<_, Error>((f, p, lists))
+        Ok::<_, Error>((f, p, lists, trends))
     })
     .await??;
     let mut t = build(
@@ -547,7 +743,7 @@ async fn dashboard_page(
         &q,
         &filter,
         &figs,
-        &prepared.loaded.events,
+        (&prepared.loaded.events, &trends),
         &lists,
     );
     t.as_of = super::common::local_time(&state.settings, figs.as_of);
@@ -580,7 +776,7 @@ mod tests {
             event_id: id,
             zone_names: vec![],
             sources: vec!["optical-10m".into()],
-            highest_confidence: "confirmed".into(),
+            highest_confidence: "high".into(),
             corroborated: false,
             area_ha: 1.0,
             first_detected: NaiveDate::from_ymd_opt(2026, month, 1).unwrap_or_default(),
@@ -592,6 +788,7 @@ mod tests {
             cause: None,
             teams: vec![],
             sampled: None,
+            found_on_ground: false,
         }
     }
 
@@ -633,6 +830,47 @@ mod tests {
         assert!((s.steps[1].y - 2.0 / 3.0).abs() < 1e-12);
         assert_eq!(s.censored, vec![5.0]);
         assert_eq!(s.steps.last().map(|x| x.y), Some(0.0));
+    }
+
+    #[test]
+    fn the_headline_at_zero_is_an_interval_not_a_point() {
+        // Issue 14: "0.0% (95% CI 0.0%–0.0%)". 0 of 20: Wilson 0–16.1%
+        // (0.161125, statsmodels 0.15.0; Newcombe 1998 Table II, from memory).
+        let t = TargetShare {
+            from: crate::statistics::figures::TargetFrom::Issue,
+            within_days: 14.0,
+            window_closed: 20,
+            visited_within: 0,
+            window_open: 3,
+            share: crate::statistics::estimators::wilson(0, 20).unwrap(),
+        };
+        let (figure, what) = target_text(&t);
+        assert_eq!(figure, "0.0% (Wilson 95% CI 0.0%–16.1%)");
+        assert!(
+            what.contains("within 14 days from issue: 0 of 20"),
+            "{what}"
+        );
+        assert!(what.contains("3 more still within them"), "{what}");
+    }
+
+    #[test]
+    fn confidence_is_high_or_low_never_confirmed() {
+        // Issue 14: "confirmation rate by confidence: confirmed 65%".
+        assert_eq!(
+            key_label(GroupKey::Confidence),
+            "by alert confidence (high or low)"
+        );
+        assert_eq!(
+            stratum_label("optical-10m|confirmed"),
+            "optical-10m, high confidence"
+        );
+        assert_eq!(
+            stratum_label("optical-10m+radar-10m|tentative"),
+            "optical-10m+radar-10m, low confidence"
+        );
+        assert_eq!(stratum_label("control"), "control");
+        assert_eq!(crate::domain::Confidence::Confirmed.level(), "high");
+        assert_eq!(crate::domain::Confidence::Tentative.level(), "low");
     }
 
     #[test]

@@ -18,12 +18,7 @@ use askama::Template;
 use serde::Deserialize;
 
 /// The outcomes an adjudication may settle on: (stored word, label).
-pub const OUTCOMES: [(&str, &str); 4] = [
-    ("confirmed", "confirmed loss"),
-    ("false_alarm", "false alarm"),
-    ("inconclusive", "inconclusive"),
-    ("not_reached", "not reached"),
-];
+pub const OUTCOMES: [(&str, &str); 3] = adjudication::SETTLING_OUTCOMES;
 
 struct Dispute {
     id: i64,
@@ -73,7 +68,7 @@ pub fn validate(f: &AdjudicationForm, user: Option<&str>) -> Result<Ruling, Page
     .map_err(|field| {
         PageError::bad_request(match field {
             BadField::Outcome => {
-                "Outcome: choose confirmed, false alarm, inconclusive or not reached.".to_string()
+                "Outcome: choose confirmed loss, false alarm or inconclusive (a decision says what the ground shows; not reached settles nothing).".to_string()
             }
             BadField::Reason => format!("Reason: say why, in 1 to {MAX_REASON_CHARS} characters."),
             BadField::By => format!("Decided by: your name, 1 to {MAX_BY_CHARS} characters."),
@@ -117,7 +112,7 @@ async fn disputes_page(
                     id: *id,
                     code: event_code(*id),
                     area: fixed(area, 2),
-                    note: s.note.clone(),
+                    note: adjudication::readable_note(&s.note, settings.zone()),
                     teams: s.teams.join(", "),
                     reports,
                 })

@@ -345,7 +345,10 @@ async fn one_page(
         priority: fixed(priority, 3),
         centroid: format!("{}, {}", fixed(a.centroid.1, 6), fixed(a.centroid.0, 6)),
         status: badge(map_status(status.as_ref())),
-        status_note: status.as_ref().map(|s| s.note.clone()).unwrap_or_default(),
+        status_note: status
+            .as_ref()
+            .map(|s| crate::web::adjudication::readable_note(&s.note, state.settings.zone()))
+            .unwrap_or_default(),
         map,
         alerts: alert_rows(&alerts, &sources),
         reports,

@@ -12,6 +12,7 @@
 //! | `GET /station`, `POST /station` | upload a return package |
 //! | `/station/trips/{id}` (`GET`, `POST`, `POST …/photos`, `POST …/discard`, `GET …/thumbs/{sha}`) | enter a trip from its paper sheet and camera photos |
 //! | `GET /dashboard` | figures for managers |
+//! | `GET /summary` | printable summary of the figures for a period and zone |
 //! | `GET /disputes`, `POST /disputes/{id}/adjudicate` | disputes |
 //! | `GET /admin`, `GET /admin/log` | administration (admins only): index, change log |
 //! | `GET/POST /admin/users`, `POST /admin/users/{id}/{role,password,disable,enable}` | users |
@@ -42,6 +43,7 @@ mod live_map;
 mod preview;
 mod station;
 mod station_entry;
+mod summary;
 mod trip_form;
 mod trip_page;
 mod trips;
@@ -155,6 +157,10 @@ pub fn configure(cfg: &mut web::ServiceConfig) {
         .route(
             "/dashboard",
             web::get().to(dashboard::show).needs(ViewStatistics),
+        )
+        .route(
+            "/summary",
+            web::get().to(summary::show).needs(ViewStatistics),
         )
         .route(
             "/disputes",

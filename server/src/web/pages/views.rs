@@ -96,13 +96,56 @@ pub struct ReportView {
     pub distance: String,
     pub notes: String,
     pub evidence_ok: bool,
-    pub flags: Vec<String>,
+    pub flags: Vec<FlagView>,
     pub supersedes: String,
     pub counted: bool,
     pub photos: Vec<PhotoView>,
     /// How the report came in: a field tool's signed return, or entered at
     /// the station (by whom, from which sheet).
     pub provenance: String,
+}
+
+/// One evidence flag as shown: its words, and the photo it is about (by
+/// name, with a thumbnail), never the photo's digest.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct FlagView {
+    pub text: String,
+    /// (digest for the thumbnail's address, file name) of the photo.
+    pub photo: Option<(String, String)>,
+}
+
+/// The words of a stored flag code ("photo_no_gps" and the like).
+fn flag_words(code: &str) -> String {
+    match code {
+        "photo_no_gps" => "photo without a position".into(),
+        "photo_far_from_target" => "photo far from the footprint".into(),
+        "photo_no_time" => "photo without a time".into(),
+        "photo_before_detection" => "photo taken before detection".into(),
+        "photo_outside_window" => "photo taken outside the trip window".into(),
+        "photo_reused" => "photo also used by another report".into(),
+        other => other.replace('_', " "),
+    }
+}
+
+/// A stored flag ("code" or "code:digest") as shown: the photo named by
+/// its file name (of `photos`, the report's), or by the digest's first 12
+/// characters when the report does not hold it.
+pub fn flag_view(flag: &str, photos: &[PhotoView]) -> FlagView {
+    let (code, sha) = match flag.split_once(':') {
+        Some((c, s)) => (c, Some(s)),
+        None => (flag, None),
+    };
+    let photo = sha.map(|sha| {
+        let name = photos.iter().find(|p| p.sha == sha).map_or_else(
+            || format!("photo {}…", sha.chars().take(12).collect::<String>()),
+            |p| p.name.clone(),
+        );
+        (sha.to_string(), name)
+    });
+    FlagView {
+        text: flag_words(code),
+        photo,
+    }
 }
 
 /// The words of one photo's evidence check.
@@ -142,7 +185,7 @@ pub fn report_view(
 ) -> crate::Result<ReportView> {
     let photos: Vec<ReportPhotoRow> = r.report_photos(&row.report_id)?;
     let checks = r.photo_checks(&row.report_id)?;
-    let photos = photos
+    let photos: Vec<PhotoView> = photos
         .into_iter()
         .map(|p| {
             let (checks, ok) = checks
@@ -184,7 +227,7 @@ pub fn report_view(
             .unwrap_or_else(|| "–".into()),
         notes: row.notes.clone(),
         evidence_ok: row.evidence_ok,
-        flags: row.flags.iter().map(|f| f.replace('_', " ")).collect(),
+        flags: row.flags.iter().map(|f| flag_view(f, &photos)).collect(),
         supersedes: row.supersedes.clone().unwrap_or_default(),
         counted,
         photos,
@@ -226,6 +269,31 @@ mod tests {
             ..c
         };
         assert!(check_text(&fine).1);
+    }
+
+    #[test]
+    fn a_flag_names_its_photo_never_its_digest() {
+        // Issue 14: the flags showed 64-character digests that ran out of
+        // their card.
+        let sha = "ab".repeat(32);
+        let photos = vec![PhotoView {
+            sha: sha.clone(),
+            name: "IMG_0042.jpg".into(),
+            checks: String::new(),
+            ok: false,
+        }];
+        let f = flag_view(&format!("photo_no_gps:{sha}"), &photos);
+        assert_eq!(f.text, "photo without a position");
+        assert_eq!(f.photo, Some((sha.clone(), "IMG_0042.jpg".to_string())));
+        let unknown = flag_view(&format!("photo_reused:{}", "cd".repeat(32)), &photos);
+        assert_eq!(
+            unknown.photo.map(|p| p.1),
+            Some("photo cdcdcdcdcdcd…".to_string())
+        );
+        assert_eq!(
+            flag_view("far_from_target", &photos).text,
+            "far from target"
+        );
     }
 
     #[test]

@@ -1,7 +1,8 @@
 //! Tests of the bar charts.
 
-use super::super::testutil::{check_frame, text_colours_pass, with_class};
-use super::super::types::{BarSeries, HBar};
+use super::super::palette::{SKY_BLUE, status_colour};
+use super::super::testutil::{check_frame, colour_roles_hold, text_colours_pass, with_class};
+use super::super::types::{BarSeries, EventStatus, HBar};
 use super::*;
 
 fn num(n: &roxmltree::Node<'_, '_>, a: &str) -> f64 {
@@ -25,14 +26,17 @@ fn months() -> BarChart {
             BarSeries {
                 label: "issued".into(),
                 values: issued,
+                status: None,
             },
             BarSeries {
                 label: "visited".into(),
                 values: visited,
+                status: None,
             },
             BarSeries {
                 label: "confirmed".into(),
                 values: confirmed,
+                status: Some(EventStatus::Confirmed),
             },
         ],
     }
@@ -196,4 +200,59 @@ fn horizontal_empty_long_and_hostile() {
     let label = with_class(&doc, "bar-label")[0].text().expect("label");
     assert!(label.starts_with("<x>very") && label.ends_with('…'));
     assert_eq!(with_class(&doc, "bar-value")[0].text(), Some("3 events"));
+}
+
+#[test]
+fn a_status_series_wears_its_status_colour_and_the_others_never_do() {
+    // Issue 14: "visited" was vermillion (the colour of confirmed loss on
+    // the map) and "confirmed" green (the colour of a false alarm).
+    let svg = render_grouped_bars(&months());
+    let doc = check_frame(&svg);
+    colour_roles_hold(&doc);
+    let confirmed: Vec<_> = with_class(&doc, "bar")
+        .into_iter()
+        .filter(|n| n.attribute("data-status") == Some("confirmed"))
+        .collect();
+    assert_eq!(confirmed.len(), 9);
+    let vermillion = status_colour(EventStatus::Confirmed).hex().to_string();
+    assert!(
+        confirmed
+            .iter()
+            .all(|n| n.attribute("fill") == Some(vermillion.as_str()))
+    );
+}
+
+#[test]
+fn series_past_the_third_colour_are_hatched() {
+    let mut chart = months();
+    for k in 0..3 {
+        chart.series.push(BarSeries {
+            label: format!("extra {k}"),
+            values: vec![1.0; 12],
+            status: None,
+        });
+    }
+    let svg = render_grouped_bars(&chart);
+    let doc = check_frame(&svg);
+    colour_roles_hold(&doc);
+    assert_eq!(
+        doc.descendants()
+            .filter(|n| n.has_tag_name("pattern"))
+            .count(),
+        2
+    );
+    assert_eq!(with_class(&doc, "legend-entry").len(), 6);
+}
+
+#[test]
+fn horizontal_bars_have_a_legend_and_no_status_colour() {
+    let svg = render_horizontal_bars(&causes());
+    let doc = check_frame(&svg);
+    colour_roles_hold(&doc);
+    let sky = SKY_BLUE.hex().to_string();
+    assert!(
+        with_class(&doc, "bar")
+            .iter()
+            .all(|n| n.attribute("fill") == Some(sky.as_str()))
+    );
 }

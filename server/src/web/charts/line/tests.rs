@@ -1,6 +1,8 @@
 //! Tests of the step-curve chart.
 
-use super::super::testutil::{check_frame, pairs, text_colours_pass, with_class};
+use super::super::testutil::{
+    check_frame, colour_roles_hold, pairs, text_colours_pass, with_class,
+};
 use super::super::types::StepSeries;
 use super::*;
 
@@ -161,4 +163,38 @@ fn out_of_range_values_are_clamped() {
     let doc = check_frame(&svg);
     assert_eq!(with_class(&doc, "censor").len(), 1);
     assert!(with_class(&doc, "target").is_empty());
+}
+
+#[test]
+fn curves_never_wear_a_status_colour() {
+    // Issue 14: the time-to-visit chart drew a series in vermillion, the
+    // colour of confirmed loss on the map.
+    let mut chart = sample();
+    for k in 0..4 {
+        chart.series.push(StepSeries {
+            label: format!("team {k}"),
+            steps: vec![
+                st(0.0, 1.0, Some((1.0, 1.0))),
+                st(2.0 + k as f64, 0.5, Some((0.3, 0.7))),
+            ],
+            censored: vec![20.0],
+        });
+    }
+    let svg = render_step_curve(&chart);
+    let doc = check_frame(&svg);
+    colour_roles_hold(&doc);
+    // Six series, six distinct (colour, dash) pairs in the legend.
+    let looks: std::collections::BTreeSet<(String, String)> = with_class(&doc, "legend-entry")
+        .iter()
+        .filter_map(|g| g.children().find(|c| c.has_tag_name("line")))
+        .map(|l| {
+            (
+                l.attribute("stroke").unwrap_or_default().to_string(),
+                l.attribute("stroke-dasharray")
+                    .unwrap_or_default()
+                    .to_string(),
+            )
+        })
+        .collect();
+    assert_eq!(looks.len(), 6);
 }

@@ -1,7 +1,9 @@
 //! Tests of the map: structure, links, projection shape and the scale bar
 //! against an independent geodesic (Karney's algorithm, geographiclib-rs 0.2.7).
 
-use super::super::testutil::{check_frame, pairs, text_colours_pass, with_class};
+use super::super::testutil::{
+    check_frame, colour_roles_hold, pairs, text_colours_pass, with_class,
+};
 use super::super::types::{MapEvent, MapZone};
 use super::*;
 use geo::{LineString, Polygon};
@@ -93,6 +95,7 @@ fn structure_links_and_legend() {
     let svg = render_map(&scene(-3.0));
     let doc = check_frame(&svg);
     text_colours_pass(&doc);
+    colour_roles_hold(&doc);
     let links = with_class(&doc, "event");
     assert_eq!(links.len(), 5);
     let mut hrefs: Vec<&str> = links.iter().filter_map(|a| a.attribute("href")).collect();
