@@ -6,6 +6,7 @@ mod bundles;
 mod footprints;
 mod hardening;
 mod intake;
+mod languages;
 mod pages;
 mod pairing;
 mod photo_times;

@@ -4,5 +4,6 @@
 
 pub mod auth;
 pub mod durable;
+pub mod i18n;
 pub mod settings;
 pub mod storage;

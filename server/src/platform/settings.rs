@@ -17,6 +17,27 @@ pub struct Settings {
     pub cluster: ClusterSettings,
     pub priority: PriorityWeights,
     pub evidence: EvidenceSettings,
+    pub organisation: OrganisationSettings,
+}
+
+/// The organisation's time zone and default language (`[organisation]` in settings.toml).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(default, deny_unknown_fields)]
+pub struct OrganisationSettings {
+    /// IANA time zone name (checked with chrono-tz); default "UTC".
+    pub time_zone: String,
+    /// Language of pages for users who chose none and whose browser asks for none we have:
+    /// one of "en", "pt", "es", "fr", "id"; default "en".
+    pub default_language: String,
+}
+
+impl Default for OrganisationSettings {
+    fn default() -> Self {
+        OrganisationSettings {
+            time_zone: "UTC".to_string(),
+            default_language: "en".to_string(),
+        }
+    }
 }
 
 impl Settings {
@@ -40,6 +61,13 @@ impl Settings {
             return Err(Error::Invalid(format!(
                 "{}: evidence.tolerance_m must be in (0, 100000] metres",
                 path.display()
+            )));
+        }
+        if !crate::platform::i18n::LANGUAGES.contains(&s.organisation.default_language.as_str()) {
+            return Err(Error::Invalid(format!(
+                "{}: organisation.default_language must be one of {}",
+                path.display(),
+                crate::platform::i18n::LANGUAGES.join(", ")
             )));
         }
         Ok(s)

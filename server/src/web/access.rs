@@ -174,6 +174,12 @@ pub async fn resolve(
         req.extensions_mut().insert(CsrfToken(t));
     }
     if let Some(s) = session {
+        // The user's own language for the pages (`web::i18n`), when chosen.
+        let (db, id) = (state.db.clone(), s.user.id);
+        if let Ok(Ok(Some(l))) = web::block(move || db.read(|r| r.user_language(id))).await {
+            req.extensions_mut()
+                .insert(crate::platform::i18n::ChosenLanguage(l));
+        }
         req.extensions_mut().insert(s);
     }
     req.extensions_mut().insert(identity);
@@ -346,6 +352,7 @@ mod tests {
         ("GET", "/", Some(Action::ViewEvents)),
         ("GET", "/healthz", None),
         ("GET", "/login", None),
+        ("POST", "/language", None),
         ("GET", "/static/app.css", None),
         ("GET", "/events", Some(Action::ViewEvents)),
         ("GET", "/events/1", Some(Action::ViewEvents)),

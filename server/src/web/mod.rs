@@ -9,6 +9,7 @@ pub mod api;
 pub mod charts;
 mod error;
 mod field;
+pub mod i18n;
 mod login;
 pub mod pages;
 mod pairing;
@@ -80,6 +81,7 @@ pub fn configure(cfg: &mut web::ServiceConfig) {
         .route("/login", web::get().to(login::form).public())
         .route("/login", web::post().to(login::submit).public())
         .route("/logout", web::post().to(login::logout).public())
+        .route("/language", web::post().to(i18n::switch).public())
         .configure(field::configure)
         .configure(pages::configure)
         .default_service(

@@ -130,6 +130,8 @@ const MIGRATIONS: &[&str] = &[
     crate::platform::storage::returns::HARDENING_MIGRATION,
     // 8: pairing codes for the field app.
     crate::platform::storage::pairing::PAIRING_MIGRATION,
+    // next: each user's chosen language for the pages.
+    crate::platform::storage::languages::LANGUAGES_MIGRATION,
 ];
 
 /// The schema version this binary writes.

@@ -31,7 +31,7 @@ mod station;
 mod trips;
 mod views;
 
-pub use common::{PageError, Viewer};
+pub use common::{Layout, PageError, Viewer};
 
 use actix_web::{HttpMessage, HttpRequest, HttpResponse, web};
 
