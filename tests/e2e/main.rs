@@ -14,3 +14,4 @@ mod robust_http;
 mod stats_api;
 mod stats_cache;
 mod tls;
+mod tls_push;

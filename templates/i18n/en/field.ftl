@@ -197,3 +197,5 @@ map-tiles_save = Save
 map-tiles_bad = The address must be a path on this server with { $z }, { $x } and { $y }, like /tiles/{ $z }/{ $x }/{ $y }.png.
 map-tiles_on = The map will show the tiles from this server.
 map-tiles_off = The map stays plain (no background).
+storage-low = The phone is almost full: { $free } left for this app. Send the reports that wait, or free some space, before you record more.
+problem-storage_no_room = This report and its photos need { $need }, and only { $free } is free on the phone: it was NOT saved. Reports saved before are safe. Send the reports that wait, or free some space, then save again.

@@ -197,3 +197,5 @@ map-tiles_save = Guardar
 map-tiles_bad = La dirección debe ser una ruta en este servidor con { $z }, { $x } y { $y }, como /tiles/{ $z }/{ $x }/{ $y }.png.
 map-tiles_on = El mapa mostrará las teselas de este servidor.
 map-tiles_off = El mapa queda simple (sin fondo).
+storage-low = El teléfono está casi lleno: quedan { $free } para esta aplicación. Envíe los informes pendientes o libere espacio antes de registrar más.
+problem-storage_no_room = Este informe y sus fotos necesitan { $need }, y solo quedan { $free } libres en el teléfono: NO se guardó. Los informes guardados antes están a salvo. Envíe los informes pendientes o libere espacio, y vuelva a guardar.

@@ -197,3 +197,5 @@ map-tiles_save = Enregistrer
 map-tiles_bad = L'adresse doit être un chemin sur ce serveur avec { $z }, { $x } et { $y }, comme /tiles/{ $z }/{ $x }/{ $y }.png.
 map-tiles_on = La carte affichera les tuiles de ce serveur.
 map-tiles_off = La carte reste simple (sans fond).
+storage-low = Le téléphone est presque plein : il reste { $free } pour cette application. Envoyez les rapports en attente ou libérez de la place avant d'en enregistrer d'autres.
+problem-storage_no_room = Ce rapport et ses photos demandent { $need }, et il ne reste que { $free } sur le téléphone : il n'a PAS été enregistré. Les rapports enregistrés avant sont en sûreté. Envoyez les rapports en attente ou libérez de la place, puis enregistrez de nouveau.

@@ -197,3 +197,5 @@ map-tiles_save = Simpan
 map-tiles_bad = Alamat harus berupa jalur di server ini dengan { $z }, { $x } dan { $y }, misalnya /tiles/{ $z }/{ $x }/{ $y }.png.
 map-tiles_on = Peta akan menampilkan ubin dari server ini.
 map-tiles_off = Peta tetap polos (tanpa latar).
+storage-low = Ponsel hampir penuh: tersisa { $free } untuk aplikasi ini. Kirim laporan yang menunggu, atau kosongkan ruang, sebelum mencatat lagi.
+problem-storage_no_room = Laporan ini beserta fotonya perlu { $need }, dan ruang kosong di ponsel hanya { $free }: laporan TIDAK disimpan. Laporan yang sudah disimpan tetap aman. Kirim laporan yang menunggu, atau kosongkan ruang, lalu simpan lagi.
