@@ -90,6 +90,6 @@ pub async fn switch(
     } + if secure { "; Secure" } else { "" };
     HttpResponse::SeeOther()
         .insert_header(("Set-Cookie", cookie))
-        .insert_header(("Location", super::login::safe_next(form.next.as_deref())))
+        .insert_header(("Location", super::safe_next(form.next.as_deref())))
         .finish()
 }

@@ -27,18 +27,6 @@ pub struct NextQuery {
 /// the user (`login-session-ended` in `templates/i18n/`).
 pub const SESSION_ENDED: &str = "login-session-ended";
 
-/// Only local paths are followed after login (no open redirect).
-pub(crate) fn safe_next(n: Option<&str>) -> String {
-    match n {
-        Some(p)
-            if p.starts_with('/') && !p.starts_with("//") && !p.contains('\\') && p.len() < 512 =>
-        {
-            p.to_string()
-        }
-        _ => "/".to_string(),
-    }
-}
-
 /// The login page in the layout of every page (no navigation: nobody is
 /// signed in), `error` being a message id.
 fn page(
@@ -72,7 +60,7 @@ pub async fn form(req: HttpRequest, q: web::Query<NextQuery>) -> HttpResponse {
         &req,
         actix_web::http::StatusCode::OK,
         q.ended.as_ref().map(|_| SESSION_ENDED),
-        &safe_next(q.next.as_deref()),
+        &super::safe_next(q.next.as_deref()),
     )
 }
 
@@ -89,7 +77,7 @@ pub async fn submit(
     form: web::Form<LoginForm>,
 ) -> HttpResponse {
     let f = form.into_inner();
-    let next = safe_next(f.next.as_deref());
+    let next = super::safe_next(f.next.as_deref());
     let client = req
         .peer_addr()
         .map(|a| a.ip().to_string())

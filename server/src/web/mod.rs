@@ -128,3 +128,15 @@ fn run_with(
 
 /// Escape text for HTML.
 pub use groundproof_sync::markup::escape_html as html_escape;
+
+/// Only local paths are followed after login (no open redirect).
+pub(crate) fn safe_next(n: Option<&str>) -> String {
+    match n {
+        Some(p)
+            if p.starts_with('/') && !p.starts_with("//") && !p.contains('\\') && p.len() < 512 =>
+        {
+            p.to_string()
+        }
+        _ => "/".to_string(),
+    }
+}
