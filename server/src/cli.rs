@@ -844,6 +844,10 @@ fn serve(
     bind: &str,
     tls: Option<rustls::ServerConfig>,
 ) -> Result<()> {
+    // Every language has every message of English (templates/i18n/).
+    groundproof::platform::i18n::check().map_err(|problems| {
+        anyhow::anyhow!("message catalogues disagree:\n{}", problems.join("\n"))
+    })?;
     // Files a crash left without a row (invariant 3) go before serving.
     let cleaned = groundproof::intake::cleanup(&db, data_dir)
         .map_err(|e| anyhow::anyhow!("cleaning up after a crash: {e}"))?;

@@ -162,18 +162,36 @@ function updateWay() {
 
 // ---------------------------------------------------------------- storage
 
+// Room kept free beyond a report's own bytes: IndexedDB's bookkeeping and
+// the next report's form (our choice: 2 MB, about one phone photo).
+const STORAGE_MARGIN = 2 * 1024 * 1024;
+// Below this much free room the app warns (our choice: about three reports of
+// three 5 MB photos).
+const STORAGE_LOW = 50 * 1024 * 1024;
+
+/** Bytes this app may still store, or null when the browser cannot say. */
+async function freeRoom() {
+  if (!(navigator.storage && navigator.storage.estimate)) return null;
+  try {
+    const e = await navigator.storage.estimate();
+    return e.quota ? { free: Math.max(0, e.quota - (e.usage || 0)), used: e.usage || 0, quota: e.quota } : null;
+  } catch (_) {
+    return null; // the estimate is optional
+  }
+}
+
 async function storageLine() {
   const all = unsent();
   const bytes = all.reduce((s, r) => s + r.size, 0);
   let text = t('storage.unsent', { n: all.length, size: bytesText(bytes) });
-  if (navigator.storage && navigator.storage.estimate) {
-    try {
-      const e = await navigator.storage.estimate();
-      if (e.quota) text += ` · ${t('storage.phone', { used: bytesText(e.usage || 0), free: bytesText(Math.max(0, e.quota - (e.usage || 0))) })}`;
-    } catch (_) { /* the estimate is optional */ }
-  }
+  const room = await freeRoom();
+  if (room) text += ` · ${t('storage.phone', { used: bytesText(room.used), free: bytesText(room.free) })}`;
   const el = document.getElementById('storage');
-  if (el) el.textContent = text;
+  if (!el) return;
+  el.textContent = text;
+  const low = room && room.free < STORAGE_LOW;
+  el.classList.toggle('warn', Boolean(low));
+  if (low) el.append(h('strong', { id: 'storage-low', role: 'alert' }, ` ${t('storage.low', { free: bytesText(room.free) })}`));
 }
 
 // ---------------------------------------------------------------- views
@@ -631,6 +649,13 @@ async function storeReport(fields, newPhotos) {
   }
   const size = new TextEncoder().encode(JSON.stringify(report)).length
     + newPhotos.reduce((s, p) => s + p.bytes.length, 0);
+  // Refused before anything is written when it would not fit: what is
+  // saved already stays as it is.
+  const room = await freeRoom();
+  if (room && size + STORAGE_MARGIN > room.free) {
+    say('error', t('problem.storage_no_room', { need: bytesText(size), free: bytesText(room.free) }));
+    return false;
+  }
   try {
     await store.saveReport({ report_id: report.report_id, bundle_id: report.bundle_id, report, state: 'unsent', reason: null, size },
       newPhotos.map((p) => ({ sha256: p.sha256, bytes: p.bytes })));

@@ -255,6 +255,33 @@ fn check_grid(b: &Browser, utm_css: &str, mgrs_css: &str, lat: f64, lon: f64) {
 /// The app's coordinate module against the server's on points that try
 /// the rules: both hemispheres, the equator, the zone edges, the Norway and
 /// Svalbard exceptions, the band limits and the antimeridian.
+/// The app's photo time follows the field kit's rule (sync/src/photo/exif.rs,
+/// its test `time_without_offset_uses_the_gps_utc_stamp`): the EXIF offset,
+/// else the GPS UTC stamp, else the camera zone.
+fn check_photo_time_rule(b: &Browser) {
+    let got = b.script(
+        "return import('./exif.js').then(m => [\
+           m.photoTime('2025:01:02 06:04:05', '+03:00', null, null, 0),\
+           m.photoTime('2025:01:02 06:04:05', null, '2025:01:02', [3, 4, 5], 600),\
+           m.photoTime('2025:01:02 06:04:05', null, null, null, -240),\
+           m.photoTime('2025:01:02 06:04:05', null, null, null, 0),\
+           m.photoTime(null, null, '2025:01:02', [23, 59, 59.5], 0),\
+           m.photoTime('2025:01:02 06:04:05', null, '2025:01:02', [25, 0, 0], 60)]);",
+    );
+    assert_eq!(
+        got,
+        json!([
+            "2025-01-02T03:04:05Z",
+            "2025-01-02T03:04:05Z",
+            "2025-01-02T10:04:05Z",
+            "2025-01-02T06:04:05Z",
+            "2025-01-02T23:59:59.500Z",
+            "2025-01-02T05:04:05Z"
+        ]),
+        "offset, GPS stamp, camera zone -04:00, UTC by default, GPS only, a bad GPS stamp then +01:00"
+    );
+}
+
 fn check_grid_module(b: &Browser) {
     use groundproof::planning::coords::{MgrsPrecision, to_mgrs, to_utm};
     let points = [
@@ -542,6 +569,7 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
     check_grid(&b, "#target-utm", "#target-mgrs", t_lat, t_lon);
     check_grid(&b, "#fix-grid", "#fix-grid", p_lat, p_lon);
     check_grid_module(&b);
+    check_photo_time_rule(&b);
     assert_clean(&b, "stop");
     shot(&b, "stop");
 
@@ -588,6 +616,29 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
     );
     assert_clean(&b, "form");
     shot(&b, "form");
+    // A phone without room for the photos: refused before anything is
+    // written, with the sizes; the form keeps its photos and nothing saved
+    // before is touched. The browser's estimate is made to say the phone
+    // is nearly full (Chromium's quota override, `Storage.overrideQuotaForOrigin`,
+    // did not reach `estimate()` reliably here).
+    let used = b
+        .script("return navigator.storage.estimate().then((e) => e.usage);")
+        .as_f64()
+        .expect("usage");
+    b.script(&format!(
+        "navigator.storage.estimate = async () => ({{ usage: {used}, quota: {used} + 100000 }}); return true;"
+    ));
+    b.click("#save");
+    let full = wait_for(
+        &b,
+        "document.querySelector('.notice.error') && document.querySelector('.notice.error').textContent.includes('free on the phone') && document.querySelector('.notice.error').textContent",
+        "the refusal before writing",
+    );
+    assert!(
+        full.as_str().unwrap_or_default().contains("NOT saved"),
+        "{full}"
+    );
+    b.script("delete navigator.storage.estimate; return true;");
     b.click("#save");
     wait_for(
         &b,

@@ -385,3 +385,37 @@ fn who_may_open_preview_and_issue_trips() {
     // Previews stored nothing: still the one bundle.
     assert_eq!(s.db.read(|r| r.bundles()).unwrap().len(), 1);
 }
+
+/// `POST /language` is open to all (the README's row): nobody signed in
+/// gets a cookie only; an unknown language is refused.
+#[test]
+fn anyone_may_choose_the_pages_language() {
+    let s = TestServer::start();
+    let agent: ureq::Agent = ureq::Agent::config_builder()
+        .http_status_as_error(false)
+        .max_redirects(0)
+        .build()
+        .into();
+    let send = |body: &str| {
+        agent
+            .post(&s.url("/language"))
+            .header("Content-Type", "application/x-www-form-urlencoded")
+            .send(body.as_bytes())
+            .expect("request reaches the server")
+    };
+    let r = send("lang=pt&next=/login");
+    assert_eq!(r.status().as_u16(), 303);
+    assert!(
+        r.headers()
+            .get("set-cookie")
+            .and_then(|v| v.to_str().ok())
+            .is_some_and(|c| c.starts_with("gp_lang=pt;"))
+    );
+    assert_eq!(send("lang=klingon").status().as_u16(), 400);
+    // An outside address is not followed (no open redirect).
+    let r = send("lang=es&next=//elsewhere.example/");
+    assert_eq!(
+        r.headers().get("location").and_then(|v| v.to_str().ok()),
+        Some("/")
+    );
+}

@@ -125,6 +125,7 @@ pub(crate) fn fast_push() -> PushOptions {
         max_total: Duration::from_secs(120),
         call_timeout: Duration::from_secs(30),
         progress: false,
+        ca_file: None,
     }
 }
 

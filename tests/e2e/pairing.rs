@@ -152,3 +152,98 @@ fn a_large_redeem_body_is_refused_before_it_is_read() {
     let r = redeem(&s, &big);
     assert_eq!(r.status, 413, "{}", String::from_utf8_lossy(&r.body));
 }
+
+/// A phone's credential from pairing reaches its one bundle: not the other
+/// trips of its team (list, record, file, uploads), and not at all once the
+/// bundle is cancelled or has expired.
+#[test]
+fn a_phones_credential_reaches_only_its_bundle() {
+    let s = TestServer::start();
+    load_scenario(&s);
+    let (mine, _) = issue(&s, "Team Amber");
+    let (other, _) = issue(&s, "Team Amber");
+    let code = post_json(
+        &s.url(&format!("/api/v1/bundles/{mine}/pairings")),
+        &json!({}),
+    )
+    .json()["code"]
+        .as_str()
+        .expect("code")
+        .to_string();
+    let token = redeem(&s, &code).token.expect("a token");
+
+    let list = get_as(&s.url("/api/v1/bundles"), Some(&token));
+    assert_eq!(list.status, 200, "{}", list.body);
+    assert!(
+        list.body.contains(&mine) && !list.body.contains(&other),
+        "{}",
+        list.body
+    );
+    assert_eq!(
+        get_as(&s.url(&format!("/api/v1/bundles/{mine}")), Some(&token)).status,
+        200
+    );
+    assert_eq!(
+        get_as(&s.url(&format!("/api/v1/bundles/{other}")), Some(&token)).status,
+        404
+    );
+    let (status, _) = get_bytes_as(&s, &format!("/api/v1/bundles/{mine}/download"), &token);
+    assert_eq!(status, 200);
+    let (status, _) = get_bytes_as(&s, &format!("/api/v1/bundles/{other}/download"), &token);
+    assert_eq!(status, 404);
+
+    // Uploads: one for its bundle is opened, one for the other is not.
+    let body = |b: &str| json!({"bundle_id": b, "size": 100, "sha256": "0".repeat(64)});
+    let ok = post_json_as(&s.url("/api/v1/uploads"), Some(&token), &body(&mine));
+    assert_eq!(ok.status, 201, "{}", ok.body);
+    let no = post_json_as(&s.url("/api/v1/uploads"), Some(&token), &body(&other));
+    assert_eq!(no.status, 404, "{}", no.body);
+    // An upload of the other bundle, opened by the office, is unknown to it.
+    let office = post_json(&s.url("/api/v1/uploads"), &body(&other));
+    assert_eq!(office.status, 201, "{}", office.body);
+    let uid = office.json()["upload_id"].as_str().expect("id").to_string();
+    assert_eq!(
+        get_as(&s.url(&format!("/api/v1/returns/{uid}")), Some(&token)).status,
+        404
+    );
+
+    // Expired: the same token speaks for nobody (checked a year on).
+    let hash = groundproof::platform::auth::sha256_hex(&token);
+    let id =
+        s.db.read(|r| r.team_token_by_hash(&hash))
+            .expect("read")
+            .expect("live token")
+            .id;
+    let now = groundproof::platform::auth::now_unix();
+    use groundproof::platform::auth::{TokenScope, token_scope};
+    assert!(matches!(
+        token_scope(&s.db, id, now).expect("scope"),
+        TokenScope::Bundle(_)
+    ));
+    assert_eq!(
+        token_scope(&s.db, id, now + 400 * 86_400).expect("scope"),
+        TokenScope::Dead
+    );
+    // A team token given by hand keeps the team's reach.
+    let (_, hand) =
+        groundproof::platform::auth::issue_team_token(&s.db, "Team Amber", now).expect("token");
+    let all = get_as(&s.url("/api/v1/bundles"), Some(&hand));
+    assert!(all.body.contains(&mine) && all.body.contains(&other));
+}
+
+/// GET with a bearer token: (status, body bytes).
+fn get_bytes_as(s: &TestServer, path: &str, token: &str) -> (u16, Vec<u8>) {
+    let agent: ureq::Agent = ureq::Agent::config_builder()
+        .http_status_as_error(false)
+        .build()
+        .into();
+    let mut r = agent
+        .get(&s.url(path))
+        .header("Authorization", &format!("Bearer {token}"))
+        .call()
+        .expect("request reaches the server");
+    (
+        r.status().as_u16(),
+        r.body_mut().read_to_vec().unwrap_or_default(),
+    )
+}

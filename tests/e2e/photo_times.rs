@@ -128,6 +128,7 @@ fn a_local_photo_time_is_placed_in_the_trip_camera_zone() {
         max_total: Duration::from_secs(60),
         call_timeout: Duration::from_secs(30),
         progress: false,
+        ca_file: None,
     };
     let summary = push(
         &ws,

@@ -6,5 +6,6 @@
 pub mod admin;
 pub mod auth;
 pub mod durable;
+pub mod i18n;
 pub mod settings;
 pub mod storage;

@@ -139,9 +139,10 @@ pub async fn resolve(
         .and_then(|c| auth::session_token_from_cookie_header(&c).map(str::to_string));
     let db = state.db.clone();
     let resolved = web::block(
-        move || -> crate::Result<(Identity, Option<auth::SessionIdentity>)> {
+        move || -> crate::Result<(Identity, Option<auth::SessionIdentity>, Option<auth::PairedBundle>)> {
             if let Some(t) = bearer {
-                return Ok((auth::authenticate_bearer(&db, &t)?, None));
+                let (identity, paired) = scoped(&db, auth::authenticate_bearer(&db, &t)?)?;
+                return Ok((identity, None, paired));
             }
             let session = match cookie {
                 Some(t) => auth::authenticate_session(
@@ -153,13 +154,13 @@ pub async fn resolve(
                 None => None,
             };
             Ok(match session {
-                Some(s) => (s.identity(), Some(s)),
-                None => (Identity::Anonymous, None),
+                Some(s) => (s.identity(), Some(s), None),
+                None => (Identity::Anonymous, None, None),
             })
         },
     )
     .await;
-    let (identity, session) = match resolved {
+    let (identity, session, paired) = match resolved {
         Ok(Ok(v)) => v,
         _ => {
             return Ok(refuse(
@@ -174,11 +175,36 @@ pub async fn resolve(
         req.extensions_mut().insert(CsrfToken(t));
     }
     if let Some(s) = session {
+        // The user's own language for the pages (`web::i18n`), when chosen.
+        let (db, id) = (state.db.clone(), s.user.id);
+        if let Ok(Ok(Some(l))) = web::block(move || db.read(|r| r.user_language(id))).await {
+            req.extensions_mut()
+                .insert(crate::platform::i18n::ChosenLanguage(l));
+        }
         req.extensions_mut().insert(s);
+    }
+    if let Some(p) = paired {
+        req.extensions_mut().insert(p);
     }
     req.extensions_mut().insert(identity);
     req.extensions_mut().insert(principal);
     Ok(next.call(req).await?.map_into_boxed_body())
+}
+
+/// A phone's team token from pairing speaks for its one bundle, and for
+/// nobody once that bundle is cancelled or expired (`auth::token_scope`).
+fn scoped(
+    db: &crate::platform::storage::Db,
+    identity: Identity,
+) -> crate::Result<(Identity, Option<auth::PairedBundle>)> {
+    let Identity::Team { token_id, .. } = &identity else {
+        return Ok((identity, None));
+    };
+    Ok(match auth::token_scope(db, *token_id, auth::now_unix())? {
+        auth::TokenScope::Team => (identity, None),
+        auth::TokenScope::Bundle(b) => (identity, Some(b)),
+        auth::TokenScope::Dead => (Identity::Anonymous, None),
+    })
 }
 
 /// The check of one route: `rule` for the caller [`resolve`] found (nobody
@@ -346,6 +372,7 @@ mod tests {
         ("GET", "/", Some(Action::ViewEvents)),
         ("GET", "/healthz", None),
         ("GET", "/login", None),
+        ("POST", "/language", None),
         ("GET", "/static/app.css", None),
         ("GET", "/events", Some(Action::ViewEvents)),
         ("GET", "/events/1", Some(Action::ViewEvents)),

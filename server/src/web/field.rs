@@ -8,7 +8,8 @@
 //! is served. Its cache name carries a digest of every file here, so a new
 //! build of the server makes phones fetch the new app once and keep it.
 //! Nothing is loaded from elsewhere (DESIGN.md invariant 7): the only
-//! library, fflate, is vendored in `templates/field/vendor/`.
+//! libraries are vendored in `templates/field/vendor/`; the message
+//! catalogues are the Fluent files of `templates/i18n/` the pages read too.
 
 use super::access::Access;
 use actix_web::http::header;
@@ -26,8 +27,19 @@ macro_rules! app_file {
     };
 }
 
+/// A catalogue of `templates/i18n/` (the pages read the same files).
+macro_rules! catalogue {
+    ($lang:literal) => {
+        (
+            concat!("i18n/", $lang, "/field.ftl"),
+            FTL,
+            include_bytes!(concat!("../../../templates/i18n/", $lang, "/field.ftl")).as_slice(),
+        )
+    };
+}
+
 const JS: &str = "text/javascript; charset=utf-8";
-const JSON: &str = "application/json; charset=utf-8";
+const FTL: &str = "text/plain; charset=utf-8";
 
 /// Every file of the app: path under `/field/`, content type, bytes. The
 /// service worker's list (`sw.js`, `FILES`) names the same files.
@@ -48,11 +60,20 @@ pub const FILES: &[(&str, &str, &[u8])] = &[
     app_file!("sw.js", JS),
     app_file!("icon.svg", "image/svg+xml"),
     app_file!("manifest.webmanifest", "application/manifest+json"),
-    app_file!("i18n/en.json", JSON),
-    app_file!("i18n/es.json", JSON),
-    app_file!("i18n/fr.json", JSON),
-    app_file!("i18n/id.json", JSON),
-    app_file!("i18n/pt.json", JSON),
+    catalogue!("en"),
+    catalogue!("es"),
+    catalogue!("fr"),
+    catalogue!("id"),
+    catalogue!("pt"),
+    app_file!("vendor/fluent-bundle/builtins.js", JS),
+    app_file!("vendor/fluent-bundle/bundle.js", JS),
+    app_file!("vendor/fluent-bundle/index.js", JS),
+    app_file!("vendor/fluent-bundle/memoizer.js", JS),
+    app_file!("vendor/fluent-bundle/resolver.js", JS),
+    app_file!("vendor/fluent-bundle/resource.js", JS),
+    app_file!("vendor/fluent-bundle/scope.js", JS),
+    app_file!("vendor/fluent-bundle/types.js", JS),
+    app_file!("vendor/fluent-bundle.LICENSE", "text/plain; charset=utf-8"),
     app_file!("vendor/fflate.js", JS),
     app_file!("vendor/fflate.LICENSE", "text/plain; charset=utf-8"),
     app_file!("vendor/exifr.js", JS),
@@ -160,36 +181,17 @@ mod tests {
         assert_eq!(sw.matches("  './").count(), cached.len() + 1);
     }
 
-    /// Every catalogue has the English keys, no others, and the same
-    /// `{name}` placeholders in each message.
+    /// The app's catalogues are those the pages check (`platform::i18n::check`).
     #[test]
-    fn catalogues_agree_with_english() {
-        fn holes(text: &str) -> std::collections::BTreeSet<String> {
-            text.split('{')
-                .skip(1)
-                .filter_map(|rest| rest.split_once('}').map(|(name, _)| name.to_string()))
-                .collect()
-        }
-        let load = |lang: &str| -> serde_json::Map<String, serde_json::Value> {
+    fn the_app_serves_the_shared_catalogues() {
+        for lang in crate::platform::i18n::LANGUAGES {
+            let name = format!("i18n/{lang}/field.ftl");
             let (_, _, bytes) = FILES
                 .iter()
-                .find(|(n, _, _)| *n == format!("i18n/{lang}.json"))
+                .find(|(n, _, _)| *n == name)
                 .expect("catalogue");
-            serde_json::from_slice(bytes).expect("catalogue JSON")
-        };
-        let en = load("en");
-        for lang in ["es", "fr", "id", "pt"] {
-            let other = load(lang);
-            let missing: Vec<&String> = en.keys().filter(|k| !other.contains_key(*k)).collect();
-            let extra: Vec<&String> = other.keys().filter(|k| !en.contains_key(*k)).collect();
-            assert!(
-                missing.is_empty() && extra.is_empty(),
-                "{lang}: missing {missing:?}, extra {extra:?}"
-            );
-            for (k, v) in &en {
-                let (a, b) = (v.as_str().unwrap_or(""), other[k].as_str().unwrap_or(""));
-                assert_eq!(holes(a), holes(b), "{lang} {k}");
-            }
+            let shared = crate::platform::i18n::field_catalogue(lang).expect("shared");
+            assert_eq!(*bytes, shared.as_bytes(), "{name}");
         }
     }
 

@@ -1,7 +1,9 @@
 //! `GET/POST /login` and `POST /logout`.
 
+use crate::platform::auth::Principal;
 use crate::platform::auth::{self, LoginOutcome, LoginRequest};
 use crate::web::AppState;
+use crate::web::pages::{Layout, Viewer};
 use actix_web::{HttpRequest, HttpResponse, web};
 use askama::Template;
 use serde::Deserialize;
@@ -9,7 +11,8 @@ use serde::Deserialize;
 #[derive(Template)]
 #[template(path = "auth/login.html")]
 struct LoginPage<'a> {
-    error: Option<&'a str>,
+    layout: Layout,
+    error: Option<String>,
     next: &'a str,
 }
 
@@ -20,36 +23,44 @@ pub struct NextQuery {
     ended: Option<String>,
 }
 
-/// What the login page says after a session ended under the user.
-pub const SESSION_ENDED: &str = "Your session has ended (it timed out, or you logged out elsewhere). Log in again; what you last sent was not saved.";
+/// The message id of what the login page says after a session ended under
+/// the user (`login-session-ended` in `templates/i18n/`).
+pub const SESSION_ENDED: &str = "login-session-ended";
 
-/// Only local paths are followed after login (no open redirect).
-fn safe_next(n: Option<&str>) -> String {
-    match n {
-        Some(p)
-            if p.starts_with('/') && !p.starts_with("//") && !p.contains('\\') && p.len() < 512 =>
-        {
-            p.to_string()
-        }
-        _ => "/".to_string(),
+/// The login page in the layout of every page (no navigation: nobody is
+/// signed in), `error` being a message id.
+fn page(
+    req: &HttpRequest,
+    status: actix_web::http::StatusCode,
+    error: Option<&str>,
+    next: &str,
+) -> HttpResponse {
+    let viewer = Viewer {
+        name: None,
+        principal: Some(Principal::Anonymous),
+    };
+    let layout = Layout::new(req, &viewer, "", "");
+    let title = layout.tr.t("login-title");
+    let error = error.map(|id| layout.tr.t(id));
+    let body = LoginPage {
+        layout: Layout { title, ..layout },
+        error,
+        next,
     }
-}
-
-fn page(status: actix_web::http::StatusCode, error: Option<&str>, next: &str) -> HttpResponse {
-    let body = LoginPage { error, next }
-        .render()
-        .unwrap_or_else(|e| format!("template error: {e}"));
+    .render()
+    .unwrap_or_else(|e| format!("template error: {e}"));
     HttpResponse::build(status)
         .content_type("text/html; charset=utf-8")
         .insert_header(("Cache-Control", "no-store"))
         .body(body)
 }
 
-pub async fn form(q: web::Query<NextQuery>) -> HttpResponse {
+pub async fn form(req: HttpRequest, q: web::Query<NextQuery>) -> HttpResponse {
     page(
+        &req,
         actix_web::http::StatusCode::OK,
         q.ended.as_ref().map(|_| SESSION_ENDED),
-        &safe_next(q.next.as_deref()),
+        &super::safe_next(q.next.as_deref()),
     )
 }
 
@@ -66,7 +77,7 @@ pub async fn submit(
     form: web::Form<LoginForm>,
 ) -> HttpResponse {
     let f = form.into_inner();
-    let next = safe_next(f.next.as_deref());
+    let next = super::safe_next(f.next.as_deref());
     let client = req
         .peer_addr()
         .map(|a| a.ip().to_string())
@@ -102,14 +113,16 @@ pub async fn submit(
             .insert_header(("Location", next))
             .finish(),
         Ok(Ok(LoginOutcome::BadCredentials)) => page(
+            &req,
             actix_web::http::StatusCode::UNAUTHORIZED,
-            Some("That user name and password do not match."),
+            Some("login-bad-credentials"),
             &next,
         ),
         Ok(Ok(LoginOutcome::Locked { retry_after_secs })) => {
             let mut r = page(
+                &req,
                 actix_web::http::StatusCode::TOO_MANY_REQUESTS,
-                Some("Too many failed attempts: wait 15 minutes and try again."),
+                Some("login-locked"),
                 &next,
             );
             if let Ok(v) =
@@ -121,8 +134,9 @@ pub async fn submit(
             r
         }
         _ => page(
+            &req,
             actix_web::http::StatusCode::INTERNAL_SERVER_ERROR,
-            Some("Login failed; see the server log."),
+            Some("login-failed"),
             &next,
         ),
     }

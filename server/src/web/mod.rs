@@ -9,6 +9,7 @@ pub mod api;
 pub mod charts;
 mod error;
 mod field;
+pub mod i18n;
 mod login;
 pub mod pages;
 mod pairing;
@@ -82,6 +83,7 @@ pub fn configure(cfg: &mut web::ServiceConfig) {
         .route("/login", web::get().to(login::form).public())
         .route("/login", web::post().to(login::submit).public())
         .route("/logout", web::post().to(login::logout).public())
+        .route("/language", web::post().to(i18n::switch).public())
         .configure(field::configure)
         .configure(pages::configure)
         .default_service(
@@ -128,3 +130,15 @@ fn run_with(
 
 /// Escape text for HTML.
 pub use groundproof_sync::markup::escape_html as html_escape;
+
+/// Only local paths are followed after login (no open redirect).
+pub(crate) fn safe_next(n: Option<&str>) -> String {
+    match n {
+        Some(p)
+            if p.starts_with('/') && !p.starts_with("//") && !p.contains('\\') && p.len() < 512 =>
+        {
+            p.to_string()
+        }
+        _ => "/".to_string(),
+    }
+}

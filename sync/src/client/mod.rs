@@ -10,8 +10,10 @@
 //! ([`crate::field::push`]) pack the workspace, keep the package for a
 //! resumed push, and mark the outbox with the results.
 //!
-//! Transport: ureq 3 without TLS (plain HTTP, e.g. a field office LAN or a
-//! TLS-terminating proxy); enable ureq's `rustls` feature for HTTPS.
+//! Transport: ureq 3, plain HTTP or HTTPS (rustls with ring). An `https://`
+//! server is checked against the Mozilla root certificates (webpki-roots)
+//! or, with [`PushOptions::ca_file`], against the certificate authorities
+//! of that PEM file only (a station's own local CA).
 
 mod protocol;
 mod retry;
@@ -49,6 +51,9 @@ pub struct PushOptions {
     pub call_timeout: Duration,
     /// Show a progress bar (only ever drawn on a terminal); default true.
     pub progress: bool,
+    /// PEM file of the certificate authorities to trust for `https://`
+    /// instead of the Mozilla roots (a station's local CA); default none.
+    pub ca_file: Option<std::path::PathBuf>,
 }
 
 impl Default for PushOptions {
@@ -61,6 +66,7 @@ impl Default for PushOptions {
             max_total: Duration::from_secs(30 * 60),
             call_timeout: Duration::from_secs(120),
             progress: true,
+            ca_file: None,
         }
     }
 }

@@ -111,6 +111,30 @@ fn is_upload_id(s: &str) -> bool {
             .all(|c| c.is_ascii_alphanumeric() || c == b'-' || c == b'_')
 }
 
+/// The certificates of a PEM file (at most 1 MiB; our bound), or a clear error.
+fn read_ca_file(path: &std::path::Path) -> Result<Vec<ureq::tls::Certificate<'static>>, SyncError> {
+    let bad = |why: String| SyncError::Usage(format!("CA file {}: {why}", path.display()));
+    let meta = std::fs::metadata(path).map_err(|e| bad(e.to_string()))?;
+    if meta.len() > 1 << 20 {
+        return Err(bad(
+            "larger than 1 MiB; a CA file holds a few certificates".into()
+        ));
+    }
+    let pem = std::fs::read(path).map_err(|e| bad(e.to_string()))?;
+    let mut certs = Vec::new();
+    for item in ureq::tls::parse_pem(&pem) {
+        if let ureq::tls::PemItem::Certificate(c) = item.map_err(|e| bad(e.to_string()))? {
+            certs.push(c);
+        }
+    }
+    if certs.is_empty() {
+        return Err(bad(
+            "no PEM certificate (-----BEGIN CERTIFICATE-----) in it".into(),
+        ));
+    }
+    Ok(certs)
+}
+
 impl Session {
     /// A session against `server_url` (`http://host:port`, no trailing path).
     pub fn new(
@@ -124,11 +148,17 @@ impl Session {
                 "server {server_url:?} must start with http:// or https://"
             )));
         }
-        let agent: Agent = Agent::config_builder()
+        let mut config = Agent::config_builder()
             .http_status_as_error(false)
-            .timeout_per_call(Some(options.call_timeout))
-            .build()
-            .into();
+            .timeout_per_call(Some(options.call_timeout));
+        if let Some(path) = &options.ca_file {
+            config = config.tls_config(
+                ureq::tls::TlsConfig::builder()
+                    .root_certs(ureq::tls::RootCerts::new_with_certs(&read_ca_file(path)?))
+                    .build(),
+            );
+        }
+        let agent: Agent = config.build().into();
         Ok(Session {
             agent,
             base,

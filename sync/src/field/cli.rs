@@ -72,6 +72,10 @@ pub enum Command {
         /// Chunk size in bytes.
         #[arg(long, default_value_t = crate::client::DEFAULT_CHUNK_BYTES)]
         chunk_bytes: usize,
+        /// For an https:// server: PEM file of the certificate authority to trust
+        /// (a station's local CA) instead of the usual public ones.
+        #[arg(long)]
+        ca_file: Option<std::path::PathBuf>,
     },
     /// Show the bundle, the reports and their push state.
     Status,

@@ -46,9 +46,11 @@ pub fn execute(cli: Cli) -> Result<(), SyncError> {
             server,
             token,
             chunk_bytes,
+            ca_file,
         } => {
             let options = crate::client::PushOptions {
                 chunk_bytes,
+                ca_file,
                 ..crate::client::PushOptions::default()
             };
             let summary = super::push(ws, &server, token.as_deref(), &options)?;

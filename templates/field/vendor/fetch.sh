@@ -10,6 +10,7 @@
 # fflate  | 0.8.3   | fflate.js         | esm/browser.js      | MIT (fflate.LICENSE)
 # exifr   | 7.1.3   | exifr.js          | dist/mini.esm.js    | MIT (exifr.LICENSE)
 # leaflet | 1.9.4   | leaflet.js, .css  | dist/leaflet.js, dist/leaflet.css | BSD-2-Clause (leaflet.LICENSE)
+# @fluent/bundle | 0.19.1 | fluent-bundle/*.js | esm/*.js (ES modules; not the .d.ts, not ast.js: types only) | Apache-2.0 (fluent-bundle.LICENSE: the package ships no licence file; its package.json names Apache-2.0, checked below, and the text is the licence's own)
 set -eu
 
 here=$(cd "$(dirname "$0")" && pwd)
@@ -33,6 +34,14 @@ fetch leaflet 1.9.4
 cp "$work/leaflet/package/dist/leaflet.js" "$work/leaflet.js"
 cp "$work/leaflet/package/dist/leaflet.css" "$work/leaflet.css"
 cp "$work/leaflet/package/LICENSE" "$work/leaflet.LICENSE"
+curl -sSfL -o "$work/fluent-bundle-0.19.1.tgz" "$registry/@fluent/bundle/-/bundle-0.19.1.tgz"
+mkdir -p "$work/fluent" "$work/fluent-bundle"
+tar -xzf "$work/fluent-bundle-0.19.1.tgz" -C "$work/fluent"
+grep -q '"license": "Apache-2.0"' "$work/fluent/package/package.json"
+for f in builtins bundle index memoizer resolver resource scope types; do
+    cp "$work/fluent/package/esm/$f.js" "$work/fluent-bundle/$f.js"
+done
+cp "$here/fluent-bundle.LICENSE" "$work/fluent-bundle.LICENSE"
 
 # Every line of SHA256SUMS must match the fresh download.
 (cd "$work" && sha256sum -c "$here/SHA256SUMS")
@@ -40,6 +49,7 @@ cp "$work/leaflet/package/LICENSE" "$work/leaflet.LICENSE"
 if [ "${1:-}" = "--write" ]; then
     cp "$work/fflate.js" "$work/fflate.LICENSE" "$work/exifr.js" "$work/exifr.LICENSE" \
         "$work/leaflet.js" "$work/leaflet.css" "$work/leaflet.LICENSE" "$here/"
+    mkdir -p "$here/fluent-bundle" && cp "$work"/fluent-bundle/*.js "$here/fluent-bundle/"
     echo "vendored files replaced"
 fi
 # And the files here must match too.

@@ -30,8 +30,8 @@ pub use flow::{
     issue_api_token, issue_team_token, login, logout, prune, validate_label, validate_user_name,
 };
 pub use pairing::{
-    PAIRING_CODE_CHARS, PAIRING_LIFETIME_SECS, PairingRefusal, Redemption, display_code,
-    issue_pairing, normalize_code, redeem_pairing,
+    PAIRING_CODE_CHARS, PAIRING_LIFETIME_SECS, PairedBundle, PairingRefusal, Redemption,
+    TokenScope, display_code, issue_pairing, normalize_code, redeem_pairing, token_scope,
 };
 pub use password::{
     ARGON2_M_KIB, ARGON2_P, ARGON2_T, MAX_PASSWORD_CHARS, MIN_PASSWORD_CHARS,

@@ -92,6 +92,38 @@ pub enum Redemption {
     Refused(PairingRefusal),
 }
 
+/// The one bundle a phone's credential from pairing may touch: a request
+/// extension the auth layer sets for such a token. The phone may download
+/// that bundle and send and read returns for it, nothing else of its team.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct PairedBundle(pub String);
+
+/// What a team token is, as far as pairing goes.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum TokenScope {
+    /// A team token given by hand: the whole team's bundles.
+    Team,
+    /// A phone's token from pairing, its bundle live.
+    Bundle(PairedBundle),
+    /// A phone's token whose bundle was cancelled or has expired: dead.
+    Dead,
+}
+
+/// The scope of team token `token_id` at `now` (Unix seconds).
+pub fn token_scope(db: &Db, token_id: i64, now: i64) -> Result<TokenScope> {
+    let Some(bundle_id) = db.read(|r| r.paired_bundle_of_token(token_id))? else {
+        return Ok(TokenScope::Team);
+    };
+    let live = db
+        .read(|r| r.bundle(&bundle_id))?
+        .is_some_and(|b| b.cancelled_at.is_none() && !is_past(&b.expires_at, now));
+    Ok(if live {
+        TokenScope::Bundle(PairedBundle(bundle_id))
+    } else {
+        TokenScope::Dead
+    })
+}
+
 /// A new code, 10 characters of the alphabet.
 fn new_code() -> Result<String> {
     let bytes = random_bytes::<PAIRING_CODE_CHARS>()?;

@@ -22,6 +22,7 @@ mod alerts;
 mod auth;
 mod bundles;
 mod events;
+mod languages;
 mod pages;
 mod pairing;
 mod returns;

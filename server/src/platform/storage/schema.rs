@@ -134,6 +134,8 @@ const MIGRATIONS: &[&str] = &[
     crate::platform::storage::station::STATION_MIGRATION,
     // 10: the administration log (append-only) and disabled teams.
     crate::platform::storage::admin::ADMIN_MIGRATION,
+    // 11: each user's chosen language for the pages.
+    crate::platform::storage::languages::LANGUAGES_MIGRATION,
 ];
 
 /// The schema version this binary writes.

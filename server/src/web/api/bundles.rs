@@ -196,6 +196,14 @@ pub async fn preview(
     Ok(HttpResponse::Ok().json(json!({"plan": plan, "expect_order": expect})))
 }
 
+/// The one bundle a phone's credential from pairing may see, if it is one.
+pub(crate) fn paired_of(req: &actix_web::HttpRequest) -> Option<String> {
+    use actix_web::HttpMessage;
+    req.extensions()
+        .get::<crate::platform::auth::PairedBundle>()
+        .map(|p| p.0.clone())
+}
+
 /// The team a request speaks for, when it holds a team token.
 fn team_of(req: &actix_web::HttpRequest) -> Option<String> {
     use actix_web::HttpMessage;
@@ -215,6 +223,9 @@ pub async fn list(
     if let Some(team) = team_of(&req) {
         v.retain(|b| b.team == team && b.cancelled_at.is_none());
     }
+    if let Some(only) = paired_of(&req) {
+        v.retain(|b| b.id == only);
+    }
     Ok(HttpResponse::Ok().json(v))
 }
 
@@ -233,6 +244,9 @@ pub async fn one(
     path: web::Path<String>,
 ) -> Result<HttpResponse, ApiError> {
     let id = bundle_id(&path)?;
+    if paired_of(&req).is_some_and(|p| p != id) {
+        return Err(Error::NotFound(format!("no bundle {id}")).into());
+    }
     let team = team_of(&req);
     let db = state.db.clone();
     let (b, items) = web::block(move || {
@@ -258,6 +272,9 @@ pub async fn download(
 ) -> Result<HttpResponse, ApiError> {
     use actix_web::HttpMessage;
     let id = bundle_id(&path)?;
+    if paired_of(&req).is_some_and(|p| p != id) {
+        return Err(Error::NotFound(format!("no bundle {id}")).into());
+    }
     let team = team_of(&req);
     let identity = req
         .extensions()

@@ -31,6 +31,27 @@ fn sender(req: &HttpRequest) -> Result<Sender, IntakeError> {
         .ok_or_else(|| IntakeError::Refused("log in first (or send a bearer token)".into()))
 }
 
+/// A phone's credential from pairing reaches only the uploads (and their
+/// returns) of its one bundle: any other is unknown to it, as another
+/// team's is to a team.
+async fn in_paired_scope(
+    state: &AppState,
+    req: &HttpRequest,
+    upload_id: &str,
+) -> Result<(), IntakeError> {
+    let Some(only) = super::bundles::paired_of(req) else {
+        return Ok(());
+    };
+    let (db, id) = (state.db.clone(), upload_id.to_string());
+    let u = web::block(move || db.read(|r| r.upload(&id)))
+        .await
+        .map_err(|e| IntakeError::Internal(e.to_string()))??;
+    match u {
+        Some(u) if u.bundle_id == only => Ok(()),
+        _ => Err(IntakeError::NotFound(format!("no upload {upload_id}"))),
+    }
+}
+
 /// The body of `POST /api/v1/uploads`.
 #[derive(Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -54,6 +75,9 @@ pub async fn create(
     let who = sender(&req)?;
     let b = body.into_inner();
     let bid = bundle_id(&b.bundle_id)?;
+    if super::bundles::paired_of(&req).is_some_and(|p| p != bid) {
+        return Err(IntakeError::NotFound(format!("no bundle {bid}")).into());
+    }
     let st = state.into_inner();
     let c = web::block(move || {
         uploads::create(
@@ -88,6 +112,7 @@ pub async fn create(
 pub async fn head(state: web::Data<AppState>, req: HttpRequest, path: web::Path<String>) -> Reply {
     let who = sender(&req)?;
     let id = path.into_inner();
+    in_paired_scope(&state, &req, &id).await?;
     let db = state.db.clone();
     let u = web::block(move || uploads::get(&db, &who, &id)).await??;
     let offset = if u.state == "open" { u.offset } else { u.size };
@@ -118,6 +143,7 @@ pub async fn patch(
 ) -> Reply {
     let who = sender(&req)?;
     let id = path.into_inner();
+    in_paired_scope(&state, &req, &id).await?;
     let offset = header_u64(&req, "Upload-Offset")?;
     let ct = req
         .headers()
@@ -170,6 +196,7 @@ pub async fn complete(
 ) -> Reply {
     let who = sender(&req)?;
     let id = path.into_inner();
+    in_paired_scope(&state, &req, &id).await?;
     let st = state.into_inner();
     let doc = web::block(move || {
         uploads::complete(&st.db, &st.data_dir, &st.intake_options(), &who, &id)
@@ -182,6 +209,7 @@ pub async fn complete(
 pub async fn end(state: web::Data<AppState>, req: HttpRequest, path: web::Path<String>) -> Reply {
     let who = sender(&req)?;
     let id = path.into_inner();
+    in_paired_scope(&state, &req, &id).await?;
     let st = state.into_inner();
     web::block(move || uploads::end(&st.db, &st.data_dir, &who, &id)).await??;
     Ok(HttpResponse::NoContent().finish())
@@ -194,6 +222,9 @@ pub async fn get_return(
 ) -> Reply {
     let who = sender(&req)?;
     let key = path.into_inner();
+    if super::bundles::paired_of(&req).is_some() {
+        in_paired_scope(&state, &req, &key).await?;
+    }
     let db = state.db.clone();
     let doc = web::block(move || uploads::return_for(&db, &who, &key)).await??;
     Ok(HttpResponse::Ok().json(doc))

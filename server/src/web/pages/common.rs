@@ -11,6 +11,7 @@
 pub use crate::web::error::PageError;
 
 use crate::platform::auth::{Action, Identity, Principal, allowed};
+use crate::platform::i18n::Tr;
 use crate::platform::settings::Settings;
 use actix_web::http::StatusCode;
 use actix_web::{HttpMessage, HttpRequest, HttpResponse};
@@ -73,8 +74,16 @@ pub const NAV: [(&str, &str, Action); 7] = [
 /// One link of the navigation bar.
 pub struct NavItem {
     pub href: &'static str,
-    pub label: &'static str,
+    /// In the page's language: the message `menu-<path>` when the
+    /// catalogues have it, else the English label of [`NAV`].
+    pub label: String,
     pub current: bool,
+}
+
+/// The label of a navigation link in `tr`'s language.
+fn nav_label(tr: &Tr, href: &str, english: &str) -> String {
+    let id = format!("menu-{}", href.trim_start_matches('/').replace('/', "-"));
+    tr.get(&id).unwrap_or_else(|| english.to_string())
 }
 
 /// The fields `templates/base.html` reads.
@@ -88,10 +97,15 @@ pub struct Layout {
     /// `?csrf_token=…` for the action URL of multipart forms (the access
     /// layer reads the token of a multipart form from the query), or empty.
     pub csrf_query: String,
+    /// The translator of this page (`layout.tr.t("id")`: see `platform::i18n`).
+    pub tr: Tr,
+    /// This page's path and query, where the language switch comes back to.
+    pub here: String,
 }
 
 impl Layout {
     pub fn new(req: &HttpRequest, viewer: &Viewer, title: &str, current: &str) -> Layout {
+        let tr = crate::web::i18n::tr_of(req);
         Layout {
             title: title.to_string(),
             nav: NAV
@@ -99,7 +113,7 @@ impl Layout {
                 .filter(|(_, _, a)| viewer.may(*a))
                 .map(|(href, label, _)| NavItem {
                     href,
-                    label,
+                    label: nav_label(&tr, href, label),
                     current: *href == current,
                 })
                 .collect(),
@@ -107,7 +121,26 @@ impl Layout {
             role: viewer.principal.map(|p| p.as_str().to_string()),
             csrf: super::csrf_field(req),
             csrf_query: super::csrf_query(req),
+            tr,
+            here: match req.query_string() {
+                "" => req.path().to_string(),
+                q => format!("{}?{q}", req.path()),
+            },
         }
+    }
+
+    /// The languages of the switch: (code, name in its own language, chosen).
+    pub fn languages(&self) -> Vec<(&'static str, String, bool)> {
+        crate::platform::i18n::LANGUAGES
+            .iter()
+            .map(|l| {
+                (
+                    *l,
+                    self.tr.t(&format!("language-{l}")),
+                    *l == self.tr.lang(),
+                )
+            })
+            .collect()
     }
 }
 

@@ -49,7 +49,7 @@ mod trip_page;
 mod trips;
 mod views;
 
-pub use common::{PageError, Viewer};
+pub use common::{Layout, PageError, Viewer};
 
 use actix_web::{HttpMessage, HttpRequest, HttpResponse, web};
 
