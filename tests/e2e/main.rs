@@ -2,6 +2,7 @@
 
 mod access;
 mod alerts_api;
+mod backup;
 mod bundles;
 mod footprints;
 mod hardening;
@@ -10,6 +11,7 @@ mod pages;
 mod pairing;
 mod photo_times;
 mod robust_http;
+mod serving;
 mod stats_api;
 mod stats_cache;
 mod tls;

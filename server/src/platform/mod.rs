@@ -3,6 +3,7 @@
 //! step of the flow.
 
 pub mod auth;
+pub mod backup;
 pub mod durable;
 pub mod settings;
 pub mod storage;

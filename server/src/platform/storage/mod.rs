@@ -19,6 +19,7 @@
 
 mod alerts;
 mod auth;
+mod backup;
 mod bundles;
 mod events;
 mod pages;
@@ -30,6 +31,7 @@ pub(crate) mod stats;
 mod zones;
 
 pub use alerts::{NewAlert, StoredAlert, alerts_cells, e7};
+pub use backup::check_database;
 pub use auth::{ApiTokenRecord, LoginAttempt, SessionRecord, TeamTokenRecord, User};
 pub use bundles::{BundleItem, BundleRecord, NewBundle, Team};
 pub use events::{EventFilter, EventRecord, EventWrite};
