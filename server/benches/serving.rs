@@ -142,7 +142,9 @@ async fn connection(
     budget: Arc<std::sync::atomic::AtomicUsize>,
 ) -> Result<(usize, usize, Vec<u32>), String> {
     use std::sync::atomic::Ordering;
-    let mut s = tokio::net::TcpStream::connect(addr).await.map_err(|e| e.to_string())?;
+    let mut s = tokio::net::TcpStream::connect(addr)
+        .await
+        .map_err(|e| e.to_string())?;
     s.set_nodelay(true).map_err(|e| e.to_string())?;
     let (mut errors, mut bytes, mut micros) = (0, 0, Vec::new());
     let mut buf = vec![0u8; 64 * 1024];
@@ -187,9 +189,8 @@ async fn connection(
 /// Drive `path` on `addr` with `load`.
 fn drive(addr: SocketAddr, path: &str, token: Option<&str>, load: &Load) -> Outcome {
     let auth = token.map_or(String::new(), |t| format!("Authorization: Bearer {t}\r\n"));
-    let request = Arc::new(
-        format!("GET {path} HTTP/1.1\r\nHost: {addr}\r\n{auth}\r\n").into_bytes(),
-    );
+    let request =
+        Arc::new(format!("GET {path} HTTP/1.1\r\nHost: {addr}\r\n{auth}\r\n").into_bytes());
     let budget = Arc::new(std::sync::atomic::AtomicUsize::new(MAX_REQUESTS));
     let start = Instant::now();
     let deadline = start + Duration::from_secs_f64(load.seconds);
@@ -205,7 +206,12 @@ fn drive(addr: SocketAddr, path: &str, token: Option<&str>, load: &Load) -> Outc
                 rt.block_on(async move {
                     let tasks: Vec<_> = (0..per)
                         .map(|_| {
-                            let c = connection(addr, Arc::clone(&request), deadline, Arc::clone(&budget));
+                            let c = connection(
+                                addr,
+                                Arc::clone(&request),
+                                deadline,
+                                Arc::clone(&budget),
+                            );
                             tokio::spawn(c)
                         })
                         .collect();
@@ -248,13 +254,16 @@ fn demo_server(dir: &std::path::Path) -> (SocketAddr, String) {
     let work = tempfile::tempdir().expect("work dir");
     groundproof::demo::run_trips(&db, &summary, work.path(), &format!("http://{addr}"))
         .expect("demo returns");
-    let (_, token) = issue_api_token(&db, Role::Manager, "serving bench", now_unix())
-        .expect("manager token");
+    let (_, token) =
+        issue_api_token(&db, Role::Manager, "serving bench", now_unix()).expect("manager token");
     (addr, token)
 }
 
 fn main() {
-    let args: Vec<f64> = std::env::args().skip(1).filter_map(|a| a.parse().ok()).collect();
+    let args: Vec<f64> = std::env::args()
+        .skip(1)
+        .filter_map(|a| a.parse().ok())
+        .collect();
     let load = Load {
         seconds: args.first().copied().unwrap_or(5.0).clamp(0.5, 120.0),
         threads: args.get(1).copied().unwrap_or(2.0).clamp(1.0, 64.0) as usize,
@@ -265,11 +274,23 @@ fn main() {
     let (addr, token) = demo_server(dir.path());
     eprintln!("demo loaded in {:.1} s", t.elapsed().as_secs_f64());
     let ceiling = start_ceiling();
-    let mut rows = vec![("actix ceiling /json".to_string(), drive(ceiling, "/json", None, &load))];
+    let mut rows = vec![(
+        "actix ceiling /json".to_string(),
+        drive(ceiling, "/json", None, &load),
+    )];
     for (path, _, _) in TARGETS {
         // One request first: what the first reader after a change pays is
         // measured by the dashboard bench, not here.
-        drive(addr, path, Some(&token), &Load { seconds: 0.5, threads: 1, clients: 1 });
+        drive(
+            addr,
+            path,
+            Some(&token),
+            &Load {
+                seconds: 0.5,
+                threads: 1,
+                clients: 1,
+            },
+        );
         rows.push((path.to_string(), drive(addr, path, Some(&token), &load)));
     }
     let ceiling_rate = rows[0].1.rate();

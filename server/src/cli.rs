@@ -391,7 +391,11 @@ pub fn run() -> Result<ExitCode> {
 fn backup(data: &Path, out: &Path) -> Result<()> {
     let database = data.join(groundproof::platform::backup::DATABASE);
     if !database.is_file() {
-        bail!("{} holds no database ({} is missing)", data.display(), database.display());
+        bail!(
+            "{} holds no database ({} is missing)",
+            data.display(),
+            database.display()
+        );
     }
     let (db, _) = open(data)?;
     let s = groundproof::platform::backup::backup(&db, data, out)?;

@@ -24,7 +24,12 @@ fn fetch(url: &str, token: &str) -> (u16, Vec<u8>) {
         .call()
         .expect("request reaches the server");
     let status = r.status().as_u16();
-    let body = r.body_mut().with_config().limit(1 << 30).read_to_vec().expect("body");
+    let body = r
+        .body_mut()
+        .with_config()
+        .limit(1 << 30)
+        .read_to_vec()
+        .expect("body");
     (status, body)
 }
 
@@ -67,7 +72,10 @@ fn a_backup_of_a_running_server_restores_the_same_reports_and_photos() {
     groundproof::demo::run_trips(&s.db, &summary, work.path(), &s.url("")).unwrap();
     let before = reports(&s.db);
     let shas = s.db.read(|r| r.photo_shas()).unwrap();
-    assert!(!before.is_empty() && !shas.is_empty(), "the demo trips brought returns");
+    assert!(
+        !before.is_empty() && !shas.is_empty(),
+        "the demo trips brought returns"
+    );
 
     let place = tempfile::tempdir().unwrap();
     let out = place.path().join("backup");
@@ -130,18 +138,26 @@ fn walk(dir: &Path) -> Vec<std::path::PathBuf> {
 fn a_damaged_or_partial_backup_is_refused_and_nothing_is_placed() {
     let src = tempfile::tempdir().unwrap();
     let db = Db::open(src.path()).unwrap();
-    db.write(|tx| tx.add_source("optical-10m", 10.0, 5)).unwrap();
+    db.write(|tx| tx.add_source("optical-10m", 10.0, 5))
+        .unwrap();
     let photo = groundproof::intake::layout::photo_path(src.path(), &"ab".repeat(32));
     std::fs::create_dir_all(photo.parent().unwrap()).unwrap();
     std::fs::write(&photo, b"photo bytes stand-in").unwrap();
     let place = tempfile::tempdir().unwrap();
     let good = place.path().join("good");
     backup(&db, src.path(), &good).unwrap();
-    assert!(backup(&db, src.path(), &good).is_err(), "never into a used folder");
+    assert!(
+        backup(&db, src.path(), &good).is_err(),
+        "never into a used folder"
+    );
 
     type Damage = fn(&Path);
     let cases: [(&str, Damage, &str); 5] = [
-        ("no manifest", |b| std::fs::remove_file(b.join(MANIFEST)).unwrap(), "not a complete backup"),
+        (
+            "no manifest",
+            |b| std::fs::remove_file(b.join(MANIFEST)).unwrap(),
+            "not a complete backup",
+        ),
         (
             "a photo changed",
             |b| {
@@ -185,12 +201,16 @@ fn a_damaged_or_partial_backup_is_refused_and_nothing_is_placed() {
     }
     // A live data directory is never written into.
     let before = names(src.path());
-    let err = restore(&good, src.path()).expect_err("not into a used folder").to_string();
+    let err = restore(&good, src.path())
+        .expect_err("not into a used folder")
+        .to_string();
     assert!(err.contains("not empty"), "{err}");
     assert_eq!(names(src.path()), before);
     // No staging folder is left behind by the refusals.
     assert!(
-        names(place.path()).iter().all(|n| !n.starts_with(".groundproof-restore")),
+        names(place.path())
+            .iter()
+            .all(|n| !n.starts_with(".groundproof-restore")),
         "{:?}",
         names(place.path())
     );

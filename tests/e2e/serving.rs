@@ -119,10 +119,7 @@ fn the_events_list_is_one_ranking_cut_by_the_limit_and_tagged() {
     let all = get(&s.url("/api/v1/events")).json();
     let first = raw_get(&s, "/api/v1/events?limit=5", &[]);
     assert_eq!(first.status, 200);
-    assert_eq!(
-        first.header("content-type"),
-        Some("application/geo+json")
-    );
+    assert_eq!(first.header("content-type"), Some("application/geo+json"));
     let five: serde_json::Value = serde_json::from_slice(&first.body).expect("JSON");
     let features = all["features"].as_array().expect("features");
     assert!(features.len() > 5);
@@ -146,5 +143,8 @@ fn the_events_list_is_one_ranking_cut_by_the_limit_and_tagged() {
     let after = raw_get(&s, "/api/v1/events", &[("If-None-Match", &whole_tag)]);
     assert_eq!(after.status, 200, "after a write the list is made again");
     let grown: serde_json::Value = serde_json::from_slice(&after.body).expect("JSON");
-    assert_eq!(grown["features"].as_array().unwrap().len(), features.len() + 1);
+    assert_eq!(
+        grown["features"].as_array().unwrap().len(),
+        features.len() + 1
+    );
 }

@@ -61,18 +61,20 @@ pub struct Summary {
 
 /// Copy `src` to `dst` (new), hashing while copying; fsync `dst`.
 fn copy_hashed(src: &Path, dst: &Path, max: u64) -> Result<(String, u64)> {
-    let input = std::fs::File::open(src).map_err(|e| Error::io(format!("reading {}", src.display()), e))?;
+    let input =
+        std::fs::File::open(src).map_err(|e| Error::io(format!("reading {}", src.display()), e))?;
     if let Some(dir) = dst.parent() {
-        std::fs::create_dir_all(dir).map_err(|e| Error::io(format!("creating {}", dir.display()), e))?;
+        std::fs::create_dir_all(dir)
+            .map_err(|e| Error::io(format!("creating {}", dir.display()), e))?;
     }
     let mut out = std::fs::OpenOptions::new()
         .write(true)
         .create_new(true)
         .open(dst)
         .map_err(|e| Error::io(format!("creating {}", dst.display()), e))?;
-    let h = hash_read(input, max, |b| out.write_all(b))
-        .map_err(|e| hash_error(src, e))?;
-    out.sync_all().map_err(|e| Error::io(format!("syncing {}", dst.display()), e))?;
+    let h = hash_read(input, max, |b| out.write_all(b)).map_err(|e| hash_error(src, e))?;
+    out.sync_all()
+        .map_err(|e| Error::io(format!("syncing {}", dst.display()), e))?;
     Ok((h.sha256, h.size))
 }
 
@@ -97,7 +99,8 @@ fn walk(root: &Path, rel: &str, out: &mut Vec<String>) -> Result<()> {
     if meta.is_file() {
         out.push(rel.to_string());
     } else if meta.is_dir() {
-        let it = std::fs::read_dir(&path).map_err(|e| Error::io(format!("listing {}", path.display()), e))?;
+        let it = std::fs::read_dir(&path)
+            .map_err(|e| Error::io(format!("listing {}", path.display()), e))?;
         let mut names: Vec<String> = it
             .filter_map(|e| e.ok())
             .map(|e| e.file_name().to_string_lossy().into_owned())
@@ -113,23 +116,36 @@ fn walk(root: &Path, rel: &str, out: &mut Vec<String>) -> Result<()> {
 
 /// Back up the data directory of `db` (`data`) into the new folder `out`.
 pub fn backup(db: &Db, data: &Path, out: &Path) -> Result<Summary> {
-    if out.exists() && std::fs::read_dir(out).map(|mut d| d.next().is_some()).unwrap_or(true) {
+    if out.exists()
+        && std::fs::read_dir(out)
+            .map(|mut d| d.next().is_some())
+            .unwrap_or(true)
+    {
         return Err(Error::Invalid(format!(
             "{} exists and is not empty; a backup goes into a new folder",
             out.display()
         )));
     }
-    std::fs::create_dir_all(out).map_err(|e| Error::io(format!("creating {}", out.display()), e))?;
+    std::fs::create_dir_all(out)
+        .map_err(|e| Error::io(format!("creating {}", out.display()), e))?;
     db.backup_into(&out.join(DATABASE))?;
     let (sha256, bytes) = hash_file(&out.join(DATABASE))?;
-    let mut entries = vec![Entry { sha256, bytes, path: DATABASE.into() }];
+    let mut entries = vec![Entry {
+        sha256,
+        bytes,
+        path: DATABASE.into(),
+    }];
     let mut files = Vec::new();
     for k in KEPT {
         walk(data, k, &mut files)?;
     }
     for rel in files {
         match copy_hashed(&data.join(&rel), &out.join(&rel), u64::MAX) {
-            Ok((sha256, bytes)) => entries.push(Entry { sha256, bytes, path: rel }),
+            Ok((sha256, bytes)) => entries.push(Entry {
+                sha256,
+                bytes,
+                path: rel,
+            }),
             Err(Error::Io { source, .. }) if source.kind() == std::io::ErrorKind::NotFound => {}
             Err(e) => return Err(e),
         }
@@ -143,8 +159,7 @@ pub fn backup(db: &Db, data: &Path, out: &Path) -> Result<Summary> {
 
 fn hash_file(p: &Path) -> Result<(String, u64)> {
     let f = std::fs::File::open(p).map_err(|e| Error::io(format!("reading {}", p.display()), e))?;
-    let h = hash_read(f, u64::MAX, |_| Ok(()))
-        .map_err(|e| hash_error(p, e))?;
+    let h = hash_read(f, u64::MAX, |_| Ok(())).map_err(|e| hash_error(p, e))?;
     Ok((h.sha256, h.size))
 }
 
@@ -179,7 +194,11 @@ fn parse_line(line: &str, n: usize) -> Result<Entry> {
     let (Some(sha), Some(bytes), Some(path)) = (parts.next(), parts.next(), parts.next()) else {
         return Err(bad("expected '<sha256>  <bytes>  <path>'"));
     };
-    if sha.len() != 64 || !sha.bytes().all(|b| b.is_ascii_digit() || (b'a'..=b'f').contains(&b)) {
+    if sha.len() != 64
+        || !sha
+            .bytes()
+            .all(|b| b.is_ascii_digit() || (b'a'..=b'f').contains(&b))
+    {
         return Err(bad("the digest is not 64 lowercase hex digits"));
     }
     let bytes: u64 = bytes.parse().map_err(|_| bad("the size is not a number"))?;
@@ -189,7 +208,11 @@ fn parse_line(line: &str, n: usize) -> Result<Entry> {
     if !safe_path(path) {
         return Err(bad(&format!("'{path}' is not a path a backup holds")));
     }
-    Ok(Entry { sha256: sha.to_string(), bytes, path: path.to_string() })
+    Ok(Entry {
+        sha256: sha.to_string(),
+        bytes,
+        path: path.to_string(),
+    })
 }
 
 /// Read and check the manifest of the backup folder `from`.
@@ -204,18 +227,27 @@ pub fn read_manifest(from: &Path) -> Result<Vec<Entry>> {
     let mut lines = std::io::BufReader::new(f).take(1 << 30).lines();
     let first = lines.next().transpose().ok().flatten().unwrap_or_default();
     if first != HEADER {
-        return Err(Error::Invalid(format!("{MANIFEST}: the first line is not '{HEADER}'")));
+        return Err(Error::Invalid(format!(
+            "{MANIFEST}: the first line is not '{HEADER}'"
+        )));
     }
     let mut entries: Vec<Entry> = Vec::new();
     let mut seen = std::collections::HashSet::new();
     for (i, line) in lines.enumerate() {
         let line = line.map_err(|e| Error::Invalid(format!("{MANIFEST} line {}: {e}", i + 2)))?;
         if line.len() > MAX_LINE {
-            return Err(Error::Invalid(format!("{MANIFEST} line {}: too long", i + 2)));
+            return Err(Error::Invalid(format!(
+                "{MANIFEST} line {}: too long",
+                i + 2
+            )));
         }
         let e = parse_line(&line, i + 2)?;
         if !seen.insert(e.path.clone()) {
-            return Err(Error::Invalid(format!("{MANIFEST} line {}: '{}' twice", i + 2, e.path)));
+            return Err(Error::Invalid(format!(
+                "{MANIFEST} line {}: '{}' twice",
+                i + 2,
+                e.path
+            )));
         }
         entries.push(e);
     }
@@ -231,7 +263,9 @@ use std::io::Read as _;
 /// must not exist or be empty (see the module documentation).
 pub fn restore(from: &Path, data: &Path) -> Result<Summary> {
     let occupied = data.exists()
-        && std::fs::read_dir(data).map(|mut d| d.next().is_some()).unwrap_or(true);
+        && std::fs::read_dir(data)
+            .map(|mut d| d.next().is_some())
+            .unwrap_or(true);
     if occupied {
         return Err(Error::Invalid(format!(
             "{} exists and is not empty; restore into a new data directory (move the old one aside first)",
@@ -243,7 +277,8 @@ pub fn restore(from: &Path, data: &Path) -> Result<Summary> {
         .parent()
         .filter(|p| !p.as_os_str().is_empty())
         .unwrap_or(Path::new("."));
-    std::fs::create_dir_all(parent).map_err(|e| Error::io(format!("creating {}", parent.display()), e))?;
+    std::fs::create_dir_all(parent)
+        .map_err(|e| Error::io(format!("creating {}", parent.display()), e))?;
     let staging = tempfile::Builder::new()
         .prefix(".groundproof-restore-")
         .tempdir_in(parent)
@@ -261,7 +296,10 @@ fn copy_checked(from: &Path, to: &Path, entries: &[Entry]) -> Result<Summary> {
     for e in entries {
         let src = from.join(&e.path);
         let (sha, bytes) = copy_hashed(&src, &to.join(&e.path), e.bytes).map_err(|err| {
-            Error::Invalid(format!("the backup is damaged or partial: {}: {err}", e.path))
+            Error::Invalid(format!(
+                "the backup is damaged or partial: {}: {err}",
+                e.path
+            ))
         })?;
         if bytes != e.bytes || sha != e.sha256 {
             return Err(Error::Invalid(format!(
@@ -282,7 +320,13 @@ fn copy_checked(from: &Path, to: &Path, entries: &[Entry]) -> Result<Summary> {
 fn folders_of(root: &Path, entries: &[Entry]) -> Vec<PathBuf> {
     let mut dirs: Vec<PathBuf> = entries
         .iter()
-        .flat_map(|e| Path::new(&e.path).ancestors().skip(1).map(|a| root.join(a)).collect::<Vec<_>>())
+        .flat_map(|e| {
+            Path::new(&e.path)
+                .ancestors()
+                .skip(1)
+                .map(|a| root.join(a))
+                .collect::<Vec<_>>()
+        })
         .collect();
     dirs.sort_by_key(|d| std::cmp::Reverse(d.components().count()));
     dirs.dedup();
@@ -295,13 +339,19 @@ fn place(staging: tempfile::TempDir, data: &Path, parent: &Path) -> Result<()> {
         // Empty (checked before): rename(2) replaces an empty folder, but
         // only if nothing was put there meanwhile.
         std::fs::remove_dir(data).map_err(|e| {
-            Error::Invalid(format!("{} is no longer empty ({e}); nothing was restored", data.display()))
+            Error::Invalid(format!(
+                "{} is no longer empty ({e}); nothing was restored",
+                data.display()
+            ))
         })?;
     }
     let kept = staging.keep();
     std::fs::rename(&kept, data).map_err(|e| {
         let _ = std::fs::remove_dir_all(&kept);
-        Error::io(format!("moving the restored data into {}", data.display()), e)
+        Error::io(
+            format!("moving the restored data into {}", data.display()),
+            e,
+        )
     })?;
     sync_dir(parent)
 }

@@ -67,14 +67,20 @@ mod tests {
     fn a_backup_holds_what_was_committed_and_passes_the_check() {
         let dir = tempfile::tempdir().unwrap();
         let db = Db::open(dir.path()).unwrap();
-        db.write(|tx| tx.add_source("optical-10m", 10.0, 5)).unwrap();
+        db.write(|tx| tx.add_source("optical-10m", 10.0, 5))
+            .unwrap();
         let out = dir.path().join("copy.sqlite3");
         db.backup_into(&out).unwrap();
         check_database(&out).unwrap();
         let copy = tempfile::tempdir().unwrap();
         std::fs::copy(&out, copy.path().join("groundproof.sqlite3")).unwrap();
         let back = Db::open(copy.path()).unwrap();
-        let names: Vec<String> = back.read(|r| r.sources()).unwrap().into_iter().map(|s| s.name).collect();
+        let names: Vec<String> = back
+            .read(|r| r.sources())
+            .unwrap()
+            .into_iter()
+            .map(|s| s.name)
+            .collect();
         assert_eq!(names, ["optical-10m"]);
         assert!(db.backup_into(&out).is_err(), "never over an existing file");
         std::fs::write(&out, b"not a database at all, just text").unwrap();

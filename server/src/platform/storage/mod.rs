@@ -31,8 +31,8 @@ pub(crate) mod stats;
 mod zones;
 
 pub use alerts::{NewAlert, StoredAlert, alerts_cells, e7};
-pub use backup::check_database;
 pub use auth::{ApiTokenRecord, LoginAttempt, SessionRecord, TeamTokenRecord, User};
+pub use backup::check_database;
 pub use bundles::{BundleItem, BundleRecord, NewBundle, Team};
 pub use events::{EventFilter, EventRecord, EventWrite};
 pub use pairing::PairingRecord;

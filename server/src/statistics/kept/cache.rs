@@ -348,9 +348,16 @@ mod tests {
             within_days: 30.0,
             ..asked.clone()
         };
-        assert!(cache.served_kept(&db, &other).is_none(), "T is part of the question");
-        db.write(|tx| tx.add_source("optical-10m", 10.0, 5)).unwrap();
-        assert!(cache.served_kept(&db, &asked).is_none(), "a write drops the bytes");
+        assert!(
+            cache.served_kept(&db, &other).is_none(),
+            "T is part of the question"
+        );
+        db.write(|tx| tx.add_source("optical-10m", 10.0, 5))
+            .unwrap();
+        assert!(
+            cache.served_kept(&db, &asked).is_none(),
+            "a write drops the bytes"
+        );
         let now = FiguresAsked {
             as_of: None,
             ..asked

@@ -13,10 +13,10 @@ mod ranked;
 mod served;
 
 pub use cache::{FiguresAsked, NOW_FRESH_FOR, Prepared, REFRESH_TICK, StatsCache, keep_fresh};
-pub use ranked::RankedKept;
-pub use served::Served;
 pub use csv_tables::{TABLES, table};
 pub use load::{Facts, Loaded, StatsFilter, load, prepare, read_facts, read_facts_after};
+pub use ranked::RankedKept;
+pub use served::Served;
 
 use crate::error::{Error, Result};
 use crate::platform::storage::Db;

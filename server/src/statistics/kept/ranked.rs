@@ -142,8 +142,12 @@ mod tests {
         let s = kept.served(&db, &f, &w, day).unwrap();
         assert!(Arc::ptr_eq(&s, &kept.kept(&db, &f, day).unwrap()));
         assert!(kept.kept(&db, &limited, day).is_none());
-        db.write(|tx| tx.add_source("optical-10m", 10.0, 5)).unwrap();
-        assert!(kept.kept(&db, &f, day).is_none(), "a write drops the answer");
+        db.write(|tx| tx.add_source("optical-10m", 10.0, 5))
+            .unwrap();
+        assert!(
+            kept.kept(&db, &f, day).is_none(),
+            "a write drops the answer"
+        );
         let b = kept.ranked(&db, &f, &w, day).unwrap();
         assert!(!Arc::ptr_eq(&a, &b), "a write makes the ranking stale");
     }

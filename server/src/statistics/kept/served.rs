@@ -56,9 +56,10 @@ impl Served {
     /// comparison, RFC 9110 §13.1.2; `*` matches any).
     pub fn matches(&self, if_none_match: &str) -> bool {
         let ours = self.etag.trim_start_matches("W/");
-        if_none_match.split(',').map(str::trim).any(|tag| {
-            tag == "*" || tag.trim_start_matches("W/") == ours
-        })
+        if_none_match
+            .split(',')
+            .map(str::trim)
+            .any(|tag| tag == "*" || tag.trim_start_matches("W/") == ours)
     }
 }
 
@@ -144,7 +145,10 @@ mod tests {
         let mut other = json;
         other[3] = b'b';
         assert_ne!(Served::new(other).etag, s.etag);
-        assert!(Served::new(b"{}".to_vec()).gzip.is_none(), "too short to gain");
+        assert!(
+            Served::new(b"{}".to_vec()).gzip.is_none(),
+            "too short to gain"
+        );
     }
 
     #[test]

@@ -68,7 +68,10 @@ pub async fn list(
             }
         }
         let weights = &state.settings.priority;
-        state.stats.events.served(&state.db, &filter, weights, as_of)
+        state
+            .stats
+            .events
+            .served(&state.db, &filter, weights, as_of)
     })
     .await??;
     Ok(super::stats::kept_response(&req, &served, GEOJSON))

@@ -12,9 +12,9 @@ use crate::web::AppState;
 use crate::web::error::ApiError;
 use actix_web::http::{StatusCode, header};
 use actix_web::{HttpRequest, HttpResponse, web};
-use std::sync::Arc;
 use serde::Deserialize;
 use serde_json::{Value, json};
+use std::sync::Arc;
 
 #[derive(Deserialize, Default)]
 #[serde(deny_unknown_fields)]
