@@ -74,10 +74,13 @@ fn gzip(bytes: &[u8]) -> Option<Vec<u8>> {
     e.finish().ok()
 }
 
+/// The stamp the entries belong to, and the entries (key, value).
+type Entries<S, K, V> = (Option<S>, VecDeque<(K, V)>);
+
 /// Values kept for one stamp under keys, at most `capacity` of them, the
 /// most recently used last.
 pub(super) struct PerStamp<S, K, V> {
-    inner: Mutex<(Option<S>, VecDeque<(K, V)>)>,
+    inner: Mutex<Entries<S, K, V>>,
     capacity: usize,
 }
 
