@@ -94,6 +94,22 @@ enum Command {
         #[command(subcommand)]
         command: TokenCommand,
     },
+    /// Copy the database (online, while the server runs) and the data
+    /// directory's files into a new folder with a manifest of digests.
+    Backup {
+        /// The new folder (must not exist or be empty).
+        out: PathBuf,
+        #[command(flatten)]
+        data: DataArg,
+    },
+    /// Check a backup whole and put it into a new data directory (which must
+    /// not exist or be empty); a damaged or partial backup is refused.
+    Restore {
+        /// The backup folder.
+        from: PathBuf,
+        #[command(flatten)]
+        data: DataArg,
+    },
 }
 
 #[derive(Subcommand)]
@@ -403,8 +419,40 @@ pub fn run() -> Result<ExitCode> {
         Command::User { command } => user(command)?,
         Command::Token { command } => token(command)?,
         Command::Bundle { command } => bundle(command)?,
+        Command::Backup { out, data } => backup(&data.data, &out)?,
+        Command::Restore { from, data } => {
+            let s = groundproof::platform::backup::restore(&from, &data.data)?;
+            println!(
+                "restored {} files ({} bytes) from {} into {}",
+                s.files,
+                s.bytes,
+                from.display(),
+                data.data.display()
+            );
+        }
     }
     Ok(ExitCode::SUCCESS)
+}
+
+/// `groundproof backup`: refuses a folder that holds no database.
+fn backup(data: &Path, out: &Path) -> Result<()> {
+    let database = data.join(groundproof::platform::backup::DATABASE);
+    if !database.is_file() {
+        bail!(
+            "{} holds no database ({} is missing)",
+            data.display(),
+            database.display()
+        );
+    }
+    let (db, _) = open(data)?;
+    let s = groundproof::platform::backup::backup(&db, data, out)?;
+    println!(
+        "backed up {} files ({} bytes) into {}",
+        s.files,
+        s.bytes,
+        out.display()
+    );
+    Ok(())
 }
 
 /// `groundproof sources add|list`.

@@ -3,6 +3,7 @@
 mod access;
 mod admin;
 mod alerts_api;
+mod backup;
 mod bundles;
 mod footprints;
 mod hardening;
@@ -12,6 +13,7 @@ mod pages;
 mod pairing;
 mod photo_times;
 mod robust_http;
+mod serving;
 mod station_entry;
 mod stats_api;
 mod stats_cache;

@@ -5,6 +5,7 @@
 
 pub mod admin;
 pub mod auth;
+pub mod backup;
 pub mod durable;
 pub mod i18n;
 pub mod settings;

@@ -20,6 +20,7 @@
 mod admin;
 mod alerts;
 mod auth;
+mod backup;
 mod bundles;
 mod events;
 mod languages;
@@ -36,6 +37,7 @@ mod zones;
 pub use admin::{ADMIN_MIGRATION, AdminLogEntry, LOG_FIELD_MAX_CHARS, TeamState};
 pub use alerts::{NewAlert, StoredAlert, alerts_cells, e7};
 pub use auth::{ApiTokenRecord, LoginAttempt, SessionRecord, TeamTokenRecord, User};
+pub use backup::check_database;
 pub use bundles::{BundleItem, BundleRecord, NewBundle, Team};
 pub use events::{EventFilter, EventRecord, EventWrite};
 pub use pairing::PairingRecord;

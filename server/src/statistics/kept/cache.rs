@@ -16,6 +16,9 @@
 //! ([`Prepared::figures`]).
 
 use super::load::{Facts, Loaded, StatsFilter, prepare, read_facts_after};
+use super::ranked::RankedKept;
+use super::served::{PerStamp, Served};
+use crate::domain::Day;
 use crate::error::{Error, Result};
 use crate::platform::storage::{Db, FactStamp};
 use crate::statistics::figures::{FigureOptions, Figures, target_shares, time_to_visit};
@@ -77,13 +80,61 @@ impl Kept {
     }
 }
 
+/// Answers of every figure kept as bytes per stamp.
+const KEPT_ANSWERS: usize = 32;
+
+/// How long an answer made without a report date (`as_of` = the moment it
+/// was made) is served on the same facts: its censoring times are then at
+/// most this much behind the clock, a small fraction of the day steps of
+/// the time-to-visit curves.
+pub const NOW_FRESH_FOR: std::time::Duration = std::time::Duration::from_secs(60);
+
+/// What an answer of every figure is kept for, besides the facts.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FiguresAsked {
+    pub filter: StatsFilter,
+    /// The report date (end of that day, UTC); `None`: now.
+    pub as_of: Option<Day>,
+    /// T of "visited within T days".
+    pub within_days: f64,
+}
+
+impl FiguresAsked {
+    /// The figure options of this question, now.
+    pub fn options(&self) -> FigureOptions {
+        let as_of = self
+            .as_of
+            .and_then(|d| d.date().and_hms_opt(23, 59, 59))
+            .map(|t| t.and_utc())
+            .unwrap_or_else(chrono::Utc::now);
+        FigureOptions {
+            as_of,
+            within_days: self.within_days,
+        }
+    }
+}
+
 /// The statistics kept for the current facts (one per server).
-#[derive(Default)]
 pub struct StatsCache {
     kept: Mutex<Kept>,
     /// Held while computing, so that concurrent requests for facts that
     /// just changed compute once and the others wait for that result.
     computing: Mutex<()>,
+    /// Every figure as JSON bytes, per question.
+    answers: PerStamp<FactStamp, FiguresAsked, Arc<Served>>,
+    /// The events list, ranked once per stamp and day.
+    pub events: RankedKept,
+}
+
+impl Default for StatsCache {
+    fn default() -> Self {
+        StatsCache {
+            kept: Mutex::default(),
+            computing: Mutex::default(),
+            answers: PerStamp::new(KEPT_ANSWERS),
+            events: RankedKept::default(),
+        }
+    }
 }
 
 impl StatsCache {
@@ -151,6 +202,31 @@ impl StatsCache {
         options: &FigureOptions,
     ) -> Result<Figures> {
         self.prepared(db, filter)?.figures(options)
+    }
+
+    /// Every figure of `asked` as JSON bytes, if kept for the facts as they
+    /// stand (and, without a report date, made less than
+    /// [`NOW_FRESH_FOR`] ago); reads nothing but the stamp.
+    pub fn served_kept(&self, db: &Db, asked: &FiguresAsked) -> Option<Arc<Served>> {
+        self.answers
+            .get(db.fact_stamp(), asked)
+            .filter(|s| asked.as_of.is_some() || s.age() < NOW_FRESH_FOR)
+    }
+
+    /// Every figure of `asked` as JSON bytes, serialised once per stamp
+    /// and question (see [`StatsCache::served_kept`]).
+    pub fn served(&self, db: &Db, asked: &FiguresAsked) -> Result<Arc<Served>> {
+        if let Some(s) = self.served_kept(db, asked) {
+            return Ok(s);
+        }
+        // Taken before the figures: they are at least this new.
+        let stamp = db.fact_stamp();
+        let f = self.figures(db, &asked.filter, &asked.options())?;
+        let json = serde_json::to_vec(&f)
+            .map_err(|e| Error::Internal(format!("statistics as JSON: {e}")))?;
+        let s = Arc::new(Served::new(json));
+        self.answers.put(stamp, asked.clone(), Arc::clone(&s));
+        Ok(s)
     }
 
     /// Compute the unfiltered selection now if the facts changed since it
@@ -255,5 +331,42 @@ mod tests {
         assert_eq!(f1.as_of, t(20_000));
         assert_eq!(f2.as_of, t(20_100));
         assert_eq!(f2.time_to_visit.as_of, t(20_100));
+    }
+
+    #[test]
+    fn the_bytes_served_are_the_figures_and_are_kept_until_a_write() {
+        let dir = tempfile::tempdir().unwrap();
+        let db = Db::open(dir.path()).unwrap();
+        let cache = StatsCache::new();
+        let asked = FiguresAsked {
+            filter: StatsFilter::default(),
+            as_of: Some(Day::from_days(20_000)),
+            within_days: 14.0,
+        };
+        assert!(cache.served_kept(&db, &asked).is_none());
+        let s = cache.served(&db, &asked).unwrap();
+        let fresh = super::super::figures(&db, &asked.filter, &asked.options()).unwrap();
+        assert_eq!(&s.json[..], &serde_json::to_vec(&fresh).unwrap()[..]);
+        assert!(Arc::ptr_eq(&s, &cache.served_kept(&db, &asked).unwrap()));
+        let other = FiguresAsked {
+            within_days: 30.0,
+            ..asked.clone()
+        };
+        assert!(
+            cache.served_kept(&db, &other).is_none(),
+            "T is part of the question"
+        );
+        db.write(|tx| tx.add_source("optical-10m", 10.0, 5))
+            .unwrap();
+        assert!(
+            cache.served_kept(&db, &asked).is_none(),
+            "a write drops the bytes"
+        );
+        let now = FiguresAsked {
+            as_of: None,
+            ..asked
+        };
+        let made = cache.served(&db, &now).unwrap();
+        assert!(Arc::ptr_eq(&made, &cache.served_kept(&db, &now).unwrap()));
     }
 }

@@ -9,10 +9,14 @@
 mod cache;
 mod csv_tables;
 mod load;
+mod ranked;
+mod served;
 
-pub use cache::{Prepared, REFRESH_TICK, StatsCache, keep_fresh};
+pub use cache::{FiguresAsked, NOW_FRESH_FOR, Prepared, REFRESH_TICK, StatsCache, keep_fresh};
 pub use csv_tables::{TABLES, table};
 pub use load::{Facts, Loaded, StatsFilter, load, prepare, read_facts, read_facts_after};
+pub use ranked::RankedKept;
+pub use served::Served;
 
 use crate::error::{Error, Result};
 use crate::platform::storage::Db;

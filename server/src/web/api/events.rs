@@ -1,15 +1,13 @@
 //! `GET /api/v1/events` (GeoJSON FeatureCollection, filterable) and
 //! `GET /api/v1/events/{id}` (follows merges).
 
-use crate::alerts::events::{
-    RankedEvent, event_feature, events_collection, priority_of, ranked_events,
-};
+use crate::alerts::events::{RankedEvent, event_feature, priority_of};
 use crate::domain::{Day, SourceName, ZoneName};
 use crate::error::Error;
 use crate::platform::storage::EventFilter;
 use crate::web::AppState;
 use crate::web::error::ApiError;
-use actix_web::{HttpResponse, web};
+use actix_web::{HttpRequest, HttpResponse, web};
 use serde::Deserialize;
 
 #[derive(Deserialize)]
@@ -30,7 +28,10 @@ fn day(name: &str, v: &Option<String>) -> Result<Option<Day>, Error> {
         .transpose()
 }
 
+const GEOJSON: &str = "application/geo+json";
+
 pub async fn list(
+    req: HttpRequest,
     state: web::Data<AppState>,
     q: web::Query<EventQuery>,
 ) -> Result<HttpResponse, ApiError> {
@@ -54,20 +55,26 @@ pub async fn list(
         limit: q.limit,
     };
     let as_of = day("as_of", &q.as_of)?.unwrap_or_else(Day::today);
+    // Ranked once per fact change and day; each answer kept as bytes.
+    if let Some(s) = state.stats.events.kept(&state.db, &filter, as_of) {
+        return Ok(super::stats::kept_response(&req, &s, GEOJSON));
+    }
     let state = state.into_inner();
-    let events = web::block(move || {
+    let served = web::block(move || {
         if let Some(z) = &filter.zone {
             let known = state.db.read(|r| r.zones())?.iter().any(|k| &k.name == z);
             if !known {
                 return Err(Error::NotFound(format!("unknown zone '{z}'")));
             }
         }
-        ranked_events(&state.db, &filter, &state.settings.priority, as_of)
+        let weights = &state.settings.priority;
+        state
+            .stats
+            .events
+            .served(&state.db, &filter, weights, as_of)
     })
     .await??;
-    Ok(HttpResponse::Ok()
-        .content_type("application/geo+json")
-        .json(events_collection(&events)))
+    Ok(super::stats::kept_response(&req, &served, GEOJSON))
 }
 
 pub async fn one(
