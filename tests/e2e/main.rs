@@ -3,6 +3,7 @@
 mod access;
 mod alerts_api;
 mod bundles;
+mod control_outcomes;
 mod footprints;
 mod hardening;
 mod intake;

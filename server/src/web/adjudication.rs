@@ -36,6 +36,10 @@ impl Ruling {
     /// Check a ruling as sent (surrounding spaces are dropped first).
     pub fn check(outcome: &str, reason: &str, by: &str) -> Result<Ruling, BadField> {
         let outcome: Outcome = outcome.trim().parse().map_err(|_| BadField::Outcome)?;
+        if outcome.control_only() {
+            // A ruling settles an event; the control-point outcomes are not an event's.
+            return Err(BadField::Outcome);
+        }
         let reason = reason.trim();
         if reason.is_empty() || reason.chars().count() > MAX_REASON_CHARS {
             return Err(BadField::Reason);
@@ -73,6 +77,10 @@ mod tests {
             ("false_alarm", "standing forest", "Ana")
         );
         assert_eq!(Ruling::check("maybe", "x", "m"), Err(BadField::Outcome));
+        assert_eq!(
+            Ruling::check("clearing_found", "x", "m"),
+            Err(BadField::Outcome)
+        );
         assert_eq!(Ruling::check("confirmed", "  ", "m"), Err(BadField::Reason));
         let long = "x".repeat(MAX_REASON_CHARS + 1);
         assert_eq!(

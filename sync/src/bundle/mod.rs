@@ -61,7 +61,7 @@ pub use names::{
 };
 pub use read::{OpenedBundle, open_bundle, open_bundle_with_limits};
 pub use types::{
-    BundleEvent, BundleHeader, Checklist, ControlPoint, ExtraEntry, MAX_TEXT_CHARS,
-    MODE_ASSESSMENT, MODE_RESPONSE, StartPoint, is_valid_code, is_valid_date,
+    BundleEvent, BundleHeader, CHECKLIST_VERSION, Checklist, ControlPoint, ExtraEntry,
+    MAX_TEXT_CHARS, MODE_ASSESSMENT, MODE_RESPONSE, StartPoint, is_valid_code, is_valid_date,
 };
 pub use write::write_bundle;
