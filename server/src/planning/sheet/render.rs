@@ -105,6 +105,11 @@ struct ChecklistView {
     not_reached_reasons: Vec<String>,
     causes: Vec<String>,
     photos: String,
+    /// The outcomes of a control point's card: its own from checklist 2 on.
+    control_outcomes: Vec<String>,
+    /// The checklist gives control points their own outcomes (then the card
+    /// asks for the cause and the estimated area of a clearing found).
+    control_own: bool,
 }
 
 #[derive(Template)]
@@ -274,6 +279,12 @@ fn checklist_view(cl: &Checklist) -> ChecklistView {
         not_reached_reasons: cl.not_reached_reasons.iter().map(|s| humanise(s)).collect(),
         causes: cl.causes.iter().map(|s| humanise(s)).collect(),
         photos: format!("photos taken (min {})", cl.min_photos_confirmed),
+        control_outcomes: cl
+            .outcomes_for(groundproof_sync::TargetKind::Control)
+            .iter()
+            .map(|s| humanise(s))
+            .collect(),
+        control_own: !cl.control_outcomes.is_empty(),
     }
 }
 
