@@ -51,7 +51,7 @@ mod write;
 
 pub use self::geojson::{KIND_CONTROL, KIND_EVENT, KIND_START};
 pub use gpkg::{EVENTS_LAYER, GPKG_APPLICATION_ID, GPKG_USER_VERSION, POINTS_LAYER};
-pub use gpx::GPX_CREATOR;
+pub use gpx::{GPX_CREATOR, control_waypoint_name, short_bundle_code};
 pub use limits::BundleLimits;
 pub use manifest::{Manifest, ManifestCounts, ManifestEntry, UploadKey, sha256_hex};
 pub use names::{

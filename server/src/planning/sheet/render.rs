@@ -90,6 +90,9 @@ struct ControlCard {
     code: String,
     order: u32,
     pos: PositionText,
+    /// The waypoint's name in the bundle's GPX (the bundle's short code
+    /// first, so that a handheld unit keeps the control points of two trips apart).
+    gps_name: String,
 }
 
 struct RouteRow {
@@ -148,7 +151,7 @@ pub fn render_field_sheet(input: &SheetInput) -> Result<String, SheetError> {
         )));
     }
     let events = event_cards(input)?;
-    let controls = control_cards(&input.controls)?;
+    let controls = control_cards(&input.controls, &input.header.bundle_id)?;
     let (route, total) = route_rows(&input.legs)?;
     let h = &input.header;
     let when = |t: &chrono::DateTime<chrono::Utc>| t.format("%Y-%m-%d %H:%M UTC").to_string();
@@ -229,7 +232,10 @@ fn preview_uri(code: &str, png: &[u8]) -> Result<Option<String>, SheetError> {
 }
 
 /// The control cards in visit order.
-fn control_cards(controls: &[ControlPoint]) -> Result<Vec<ControlCard>, SheetError> {
+fn control_cards(
+    controls: &[ControlPoint],
+    bundle_id: &uuid::Uuid,
+) -> Result<Vec<ControlCard>, SheetError> {
     let mut controls: Vec<&ControlPoint> = controls.iter().collect();
     controls.sort_by_key(|c| c.visit_order);
     controls
@@ -245,6 +251,7 @@ fn control_cards(controls: &[ControlPoint]) -> Result<Vec<ControlCard>, SheetErr
                 code: c.code.clone(),
                 order: c.visit_order,
                 pos: position_text(c.point.y(), c.point.x()),
+                gps_name: groundproof_sync::bundle::control_waypoint_name(bundle_id, &c.code),
             })
         })
         .collect()

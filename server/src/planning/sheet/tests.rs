@@ -485,6 +485,10 @@ fn control_cards_ask_for_their_own_outcomes_from_checklist_2() {
             assert!(t.contains(word), "{word:?} missing from {t:?}");
         }
         assert!(!t.contains("false alarm"), "{t:?}");
+        // The name the bundle's GPX gives the control point's waypoint.
+        let code = card.value().attr("data-code").expect("code");
+        let want = groundproof_sync::bundle::control_waypoint_name(&i.header.bundle_id, code);
+        assert_eq!(text(*card, ".gps-name .mono"), want);
         // Tick boxes: 4 control outcomes + 9 causes (DESIGN.md) + 3 not-reached
         // reasons + photos + position.
         assert_eq!(card.select(&sel(".box")).count(), 4 + 9 + 3 + 2);
