@@ -645,7 +645,7 @@ fn run(
 ) -> Result<ReturnDocument, IntakeError> {
     let opened = open_checked(db, options, package, upload)?;
     let (bundle, items) = live_bundle(db, &opened.manifest.bundle_id.to_string())?;
-    let received = Utc::now();
+    let received = options.received_at.unwrap_or_else(Utc::now);
     let mut ctx = Context {
         db,
         data_dir,
