@@ -4,6 +4,7 @@ mod access;
 mod alerts_api;
 mod bundles;
 mod control_outcomes;
+mod demo_story;
 mod footprints;
 mod hardening;
 mod intake;
