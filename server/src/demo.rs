@@ -44,6 +44,91 @@ pub fn fresh_dir() -> Result<PathBuf> {
     Ok(dir)
 }
 
+/// One trip of the demo's year: when it is issued, to whom, and how the
+/// team does. The schedule tells a programme maturing: trips come more
+/// often (about every eight weeks at first, every two to three weeks at the
+/// end), teams leave sooner after the issue and bring the return back
+/// sooner, fewer events are left unvisited or not reached.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct DemoTrip {
+    /// Days before the last day of the alert year the trip is issued (08:00 UTC).
+    pub issued_days_before_end: i64,
+    /// Index into the scenario's teams.
+    pub team: usize,
+    /// `None`: the whole reserve.
+    pub zone: Option<&'static str>,
+    /// Assessment (a seeded sample with control points) instead of response.
+    pub assessment: bool,
+    /// Most events (response trips).
+    pub max: usize,
+    /// Whole days from the issue to the first field day.
+    pub first_day_after_issue: u32,
+    /// Days from the last visit to the return's arrival at the station.
+    pub return_lag_days: i64,
+    /// Events left unvisited and events not reached.
+    pub unvisited: usize,
+    pub not_reached: usize,
+}
+
+const fn trip(
+    issued_days_before_end: i64,
+    team: usize,
+    first_day_after_issue: u32,
+    return_lag_days: i64,
+    unvisited: usize,
+    not_reached: usize,
+) -> DemoTrip {
+    DemoTrip {
+        issued_days_before_end,
+        team,
+        zone: Some("Core"),
+        assessment: false,
+        max: 7,
+        first_day_after_issue,
+        return_lag_days,
+        unvisited,
+        not_reached,
+    }
+}
+
+/// The demo's trips, oldest first (the last one is pushed over HTTP).
+pub const DEMO_TRIPS: &[DemoTrip] = &[
+    trip(318, 0, 8, 9, 2, 2),
+    trip(262, 1, 7, 8, 2, 1),
+    DemoTrip {
+        zone: None,
+        ..trip(214, 0, 6, 6, 2, 1)
+    },
+    trip(172, 1, 5, 5, 1, 1),
+    DemoTrip {
+        zone: Some("Riverside Community Land"),
+        assessment: true,
+        ..trip(134, 2, 4, 4, 1, 1)
+    },
+    trip(100, 0, 3, 3, 1, 1),
+    DemoTrip {
+        zone: None,
+        ..trip(70, 1, 2, 2, 1, 0)
+    },
+    trip(44, 2, 2, 2, 0, 1),
+    trip(22, 0, 1, 1, 0, 0),
+    trip(3, 1, 1, 0, 0, 0),
+];
+
+/// The scenario of the demo: the invented reserve with its year of alerts
+/// ending the day before `today`, so the trips of [`DEMO_TRIPS`] fall in the
+/// past and the last one has just come back. The alerts are the same for
+/// every run (same seed), shifted with the date.
+pub fn demo_scenario(today: chrono::NaiveDate) -> mock_patrols::Scenario {
+    let end = today - chrono::Days::new(1);
+    let start = end - chrono::Days::new(364);
+    mock_patrols::Scenario {
+        start_date: start.format("%Y-%m-%d").to_string(),
+        end_date: end.format("%Y-%m-%d").to_string(),
+        ..mock_patrols::scenario()
+    }
+}
+
 /// What the demo loaded.
 #[derive(Debug, Clone, PartialEq)]
 pub struct DemoSummary {
@@ -52,8 +137,12 @@ pub struct DemoSummary {
     pub alerts: Vec<(String, usize)>,
     pub live_events: i64,
     pub merged_events: i64,
-    /// (team, mode, events, controls, file)
+    /// (team, mode, events, controls, file), in the order of [`DEMO_TRIPS`].
     pub bundles: Vec<(String, String, i64, i64, PathBuf)>,
+    /// The data directory (the past trips' returns are taken in there).
+    pub data_dir: PathBuf,
+    /// When each bundle was issued.
+    pub issued_at: Vec<chrono::DateTime<chrono::Utc>>,
 }
 
 impl fmt::Display for DemoSummary {
@@ -71,10 +160,11 @@ impl fmt::Display for DemoSummary {
         for (name, role, password) in DEMO_LOGINS {
             write!(f, "\n  demo login: {name} / {password} ({role})")?;
         }
-        for (team, mode, events, controls, path) in &self.bundles {
+        for ((team, mode, events, controls, path), at) in self.bundles.iter().zip(&self.issued_at) {
             write!(
                 f,
-                "\n  bundle for {team} ({mode}): {events} events, {controls} control points: {}",
+                "\n  bundle for {team} ({mode}, issued {}): {events} events, {controls} control points: {}",
+                at.format("%Y-%m-%d"),
                 path.display()
             )?;
         }
@@ -82,9 +172,9 @@ impl fmt::Display for DemoSummary {
     }
 }
 
-/// Load sources, zones, teams and a year of alerts, then issue trips.
+/// Load sources, zones, teams and a year of alerts, then issue the year's trips.
 pub fn load(db: &Db, data_dir: &Path, settings: &Settings) -> Result<DemoSummary> {
-    let scenario = mock_patrols::scenario();
+    let scenario = demo_scenario(chrono::Utc::now().date_naive());
     add_sources_and_zones(db, &scenario)?;
     let alerts = import_demo_alerts(db, settings, &scenario)?;
     add_teams_and_logins(db, &scenario)?;
@@ -108,9 +198,17 @@ pub fn load(db: &Db, data_dir: &Path, settings: &Settings) -> Result<DemoSummary
                 )
             })
             .collect(),
+        data_dir: data_dir.to_path_buf(),
+        issued_at: bundles
+            .iter()
+            .map(|b| {
+                chrono::DateTime::parse_from_rfc3339(&b.bundle.issued_at)
+                    .map(|t| t.with_timezone(&chrono::Utc))
+                    .map_err(|e| Error::Internal(format!("demo issue time: {e}")))
+            })
+            .collect::<Result<_>>()?,
     })
 }
-
 /// The scenario's alert sources, then its zones.
 fn add_sources_and_zones(db: &Db, scenario: &mock_patrols::Scenario) -> Result<()> {
     for s in &scenario.sources {
@@ -162,9 +260,8 @@ fn add_teams_and_logins(db: &Db, scenario: &mock_patrols::Scenario) -> Result<()
     Ok(())
 }
 
-/// Issues the demo's two trips from the field station: a response trip in
-/// the core zone for the first team, an assessment of the community land
-/// with control points for the second.
+/// Issues the trips of [`DEMO_TRIPS`] from the field station, each as of its
+/// issue day (events first detected since the previous trip, and by then).
 fn issue_demo_trips(
     db: &Db,
     data_dir: &Path,
@@ -172,39 +269,76 @@ fn issue_demo_trips(
     scenario: &mock_patrols::Scenario,
 ) -> Result<Vec<IssuedBundle>> {
     let start = LonLat::new(scenario.station.0, scenario.station.1).map_err(Error::Invalid)?;
-    let as_of = Day::parse(&scenario.end_date).map_err(Error::Invalid)?;
+    let end = Day::parse(&scenario.end_date).map_err(Error::Invalid)?;
+    let now = chrono::Utc::now();
     let mut bundles = Vec::new();
-    // The demo's trips were issued two weeks ago, so their visits are in
-    // the past and the statistics have something to show.
-    let issued_at = Some(chrono::Utc::now() - chrono::Duration::days(14));
-    let response = TripRequest {
-        issued_at,
-        zone: Some("Core".into()),
-        max: Some(8),
-        start_name: "field station".into(),
-        as_of,
-        ..TripRequest::response(&scenario.teams[0], start)
-    };
-    bundles.push(issue_bundle(db, data_dir, settings, &response)?);
-    let assessment = TripRequest {
-        issued_at,
-        mode: BundleMode::Assessment,
-        zone: Some("Riverside Community Land".into()),
-        margin: 0.3,
-        controls: 3,
-        seed: Some(DEMO_SEED),
-        start_name: "field station".into(),
-        as_of,
-        ..TripRequest::response(&scenario.teams[1], start)
-    };
-    bundles.push(issue_bundle(db, data_dir, settings, &assessment)?);
+    let mut previous: Option<Day> = None;
+    for t in DEMO_TRIPS {
+        let day = Day::from_days(end.days() - t.issued_days_before_end as i32);
+        let issued = day
+            .date()
+            .and_hms_opt(8, 0, 0)
+            .map(|d| d.and_utc())
+            .ok_or_else(|| Error::Internal("demo issue time".into()))?;
+        let team = scenario
+            .teams
+            .get(t.team)
+            .ok_or_else(|| Error::Internal(format!("demo team {}", t.team)))?;
+        let base = TripRequest {
+            issued_at: Some(issued),
+            zone: t.zone.map(str::to_string),
+            max: Some(t.max),
+            from: previous,
+            to: Some(day),
+            start_name: "field station".into(),
+            as_of: day,
+            // The field kit opens a bundle only before it expires: a past
+            // trip of the demo stays open until a month after the demo started.
+            expires_days: ((now - issued).num_days() + 30).max(30),
+            ..TripRequest::response(team, start)
+        };
+        let req = if t.assessment {
+            TripRequest {
+                mode: BundleMode::Assessment,
+                max: None,
+                from: None,
+                margin: 0.3,
+                controls: 3,
+                seed: Some(DEMO_SEED),
+                ..base
+            }
+        } else {
+            base
+        };
+        bundles.push(issue_bundle(db, data_dir, settings, &req)?);
+        previous = Some(day);
+    }
     Ok(bundles)
 }
 
-/// Play the demo's field teams: for each demo bundle, the field kit
-/// records the visits (with generated photos) and pushes the return to the
-/// server at `server_url` through the real resumable upload. Returns one
-/// line per pushed return.
+/// The mock team's plan for trip `i` of [`DEMO_TRIPS`].
+fn trip_plan(i: usize, t: &DemoTrip) -> mock_patrols::field::TripPlan {
+    mock_patrols::field::TripPlan {
+        unvisited: t.unvisited,
+        not_reached: t.not_reached,
+        first_day_after_issue: t.first_day_after_issue,
+        // One dispute, one far photo, one early photo and a few new
+        // clearings over the year, so that every page has something.
+        disputed_pair: i == 3,
+        far_photo: i == 2,
+        early_photo: i == 5,
+        new_clearing: i % 3 == 1,
+        amend: i == 6,
+        ..Default::default()
+    }
+}
+
+/// Play the demo's field teams: for each trip of [`DEMO_TRIPS`], the field
+/// kit records the visits (with generated photos) and packs the return.
+/// Every trip but the last is taken in through intake as received the day
+/// its team came back (`return_lag_days` after its last visit); the last
+/// one is pushed to the server at `server_url` through the real resumable
+/// upload. Returns one line per return.
 pub fn run_trips(
     db: &Db,
     summary: &DemoSummary,
@@ -212,32 +346,69 @@ pub fn run_trips(
     server_url: &str,
 ) -> Result<Vec<String>> {
     let mut lines = Vec::new();
-    for (i, (team, mode, _, _, bundle)) in summary.bundles.iter().enumerate() {
-        let (_, token) =
-            crate::platform::auth::issue_team_token(db, team, crate::platform::auth::now_unix())?;
-        let plan = mock_patrols::field::TripPlan {
-            disputed_pair: i == 0,
-            ..Default::default()
-        };
+    let last = summary.bundles.len().saturating_sub(1);
+    for (i, ((team, mode, _, _, bundle), t)) in summary.bundles.iter().zip(DEMO_TRIPS).enumerate() {
         let dir = work.join(format!("trip-{}", i + 1));
-        let outcome =
-            mock_patrols::field::make_trip_return(bundle, &dir, &plan, DEMO_SEED + i as u64)
-                .map_err(|e| Error::Internal(format!("demo trip {}: {e}", i + 1)))?;
+        let outcome = mock_patrols::field::make_trip_return(
+            bundle,
+            &dir,
+            &trip_plan(i, t),
+            DEMO_SEED + i as u64,
+        )
+        .map_err(|e| Error::Internal(format!("demo trip {}: {e}", i + 1)))?;
         for device in &outcome.returns {
-            let pushed = groundproof_sync::field::push(
-                &device.workspace,
-                server_url,
-                Some(&token),
-                &groundproof_sync::client::PushOptions::default(),
-            )
-            .map_err(|e| Error::Internal(format!("demo push of trip {}: {e}", i + 1)))?;
+            let (accepted, duplicate, rejected) = if i == last {
+                push_return(db, team, &device.workspace, server_url)?
+            } else {
+                let back = device.reports.iter().map(|r| r.observed_at).max();
+                let received = back.map(|b| {
+                    b + chrono::Duration::days(t.return_lag_days) + chrono::Duration::hours(2)
+                });
+                take_in_return(db, &summary.data_dir, &device.zip, received)?
+            };
             lines.push(format!(
-                "  return from {team} ({mode}): {} accepted, {} duplicate, {} rejected",
-                pushed.accepted,
-                pushed.duplicate,
-                pushed.rejected.len()
+                "  return from {team} ({mode}): {accepted} accepted, {duplicate} duplicate, {rejected} rejected"
             ));
         }
     }
     Ok(lines)
+}
+
+/// Pushes a workspace's return over HTTP with a fresh team token.
+fn push_return(
+    db: &Db,
+    team: &str,
+    workspace: &Path,
+    server_url: &str,
+) -> Result<(usize, usize, usize)> {
+    let (_, token) =
+        crate::platform::auth::issue_team_token(db, team, crate::platform::auth::now_unix())?;
+    let pushed = groundproof_sync::field::push(
+        workspace,
+        server_url,
+        Some(&token),
+        &groundproof_sync::client::PushOptions::default(),
+    )
+    .map_err(|e| Error::Internal(format!("demo push: {e}")))?;
+    Ok((pushed.accepted, pushed.duplicate, pushed.rejected.len()))
+}
+
+/// Takes a packed return in through intake, received at `received`.
+fn take_in_return(
+    db: &Db,
+    data_dir: &Path,
+    zip: &Path,
+    received: Option<chrono::DateTime<chrono::Utc>>,
+) -> Result<(usize, usize, usize)> {
+    let options = crate::intake::IntakeOptions {
+        received_at: received,
+        ..crate::intake::IntakeOptions::default()
+    };
+    let bytes =
+        std::fs::read(zip).map_err(|e| Error::io(format!("reading {}", zip.display()), e))?;
+    let mut file = crate::intake::uploads::IncomingFile::new(data_dir, bytes.len() as u64)?;
+    file.write(&bytes)?;
+    let doc = crate::intake::uploads::take_in_whole(db, data_dir, &options, file)?;
+    let count = |s: &str| doc.results.iter().filter(|r| r.status == s).count();
+    Ok((count("accepted"), count("duplicate"), count("rejected")))
 }

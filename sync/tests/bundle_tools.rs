@@ -254,6 +254,8 @@ fn ogrinfo_reads_the_gpx() {
     assert_eq!(find("waypoints"), Some(("Point", 7, true)));
     assert_eq!(find("routes"), Some(("Line String", 1, true)));
     assert_eq!(find("route_points"), Some(("Point", 7, true)));
+    // One track per event footprint, so the outlines show on a unit's map.
+    assert_eq!(find("tracks"), Some(("Multi Line String", 4, true)));
 }
 
 #[test]

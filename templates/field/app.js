@@ -5,7 +5,7 @@
 import * as store from './store.js';
 import { openBundle, BundleError } from './bundle.js';
 import { distanceBearing } from './geo.js';
-import { makeReport, validateReport, ReportProblem, MAX_PHOTO_BYTES } from './report.js';
+import { makeReport, validateReport, ReportProblem, MAX_PHOTO_BYTES, outcomesFor, takesCause, takesArea } from './report.js';
 import { packReturn } from './returnpkg.js';
 import { sha256Hex } from './crypto.js';
 import * as sending from './send.js';
@@ -384,7 +384,8 @@ function showGroups() {
   const show = (id, on) => { const el = document.getElementById(id); if (el) el.hidden = !on; };
   show('group-false_alarm_reason', f.outcome === 'false_alarm');
   show('group-not_reached_reason', f.outcome === 'not_reached');
-  show('group-cause', f.outcome === 'confirmed');
+  show('group-cause', takesCause(f.outcome));
+  show('group-area', takesArea(state.stop.kind, f.outcome));
 }
 
 function photoList() {
@@ -431,14 +432,13 @@ function viewForm() {
     h('form', { class: 'card', id: 'record-form', onsubmit: (e) => { e.preventDefault(); saveForm(); } },
       h('h2', {}, title),
       notice(),
-      clearing ? null : choiceGroup('outcome', t('form.outcome'), c.outcomes, 'outcome', f.outcome),
+      clearing ? null : choiceGroup('outcome', t('form.outcome'), outcomesFor(c, s.kind), 'outcome', f.outcome),
       choiceGroup('false_alarm_reason', t('form.reason'), c.false_alarm_reasons, 'reason', f.false_alarm_reason),
       choiceGroup('not_reached_reason', t('form.reason'), c.not_reached_reasons, 'reason', f.not_reached_reason),
       choiceGroup('cause', t('form.cause'), c.causes, 'cause', f.cause),
-      clearing ? [
-        h('label', { for: 'area' }, t('clearing.area')),
-        h('input', { id: 'area', type: 'text', inputmode: 'decimal', autocomplete: 'off', maxlength: '12', value: f.area_ha ?? '', oninput: (e) => { f.area_ha = e.target.value; } }),
-      ] : null,
+      clearing || s.kind === 'control' ? h('div', { id: 'group-area' },
+        h('label', { for: 'area' }, t(clearing ? 'clearing.area' : 'form.area_control')),
+        h('input', { id: 'area', type: 'text', inputmode: 'decimal', autocomplete: 'off', maxlength: '12', value: f.area_ha ?? '', oninput: (e) => { f.area_ha = e.target.value; } })) : null,
       h('label', { for: 'notes' }, t('form.notes')),
       h('textarea', { id: 'notes', rows: '4', maxlength: '4000', oninput: (e) => { f.notes = e.target.value; } }, f.notes),
       h('fieldset', { class: 'photos-box' },
@@ -678,13 +678,13 @@ async function saveForm() {
   // Typed with a decimal comma or point; anything else is not a number (NaN, refused by the check).
   const areaField = document.getElementById('area');
   if (areaField) f.area_ha = areaField.value;
-  const area = String(f.area_ha ?? '').trim().replace(',', '.');
+  const area = takesArea(state.stop.kind, f.outcome) ? String(f.area_ha ?? '').trim().replace(',', '.') : '';
   const ok = await storeReport({
     area_ha: area === '' ? null : (/^\d+(\.\d+)?$/.test(area) ? Number(area) : NaN),
     supersedes: f.supersedes,
     outcome: f.outcome,
     reason,
-    cause: f.outcome === 'confirmed' ? f.cause : null,
+    cause: takesCause(f.outcome) ? f.cause : null,
     notes: f.notes,
     photos,
   }, f.newPhotos).finally(() => { state.busy = false; });

@@ -135,6 +135,14 @@ function checkChecklist(c, manifest) {
       if (c[k].indexOf(item) !== i) throw bad(`${k} lists ${item} twice`);
     });
   }
+  // Checklist 2 and later: a control point's own outcomes (optional, as in checklist 1).
+  if (c.control_outcomes !== undefined) {
+    if (!Array.isArray(c.control_outcomes)) throw bad('control_outcomes is not a list');
+    c.control_outcomes.forEach((item, i) => {
+      if (!isToken(item)) throw bad(`control_outcomes[${i}] is not a lowercase token`);
+      if (c.control_outcomes.indexOf(item) !== i) throw bad(`control_outcomes lists ${item} twice`);
+    });
+  }
   if (c.outcomes.length === 0) throw bad('checklist has no outcomes');
   if (!Number.isInteger(c.version) || !Number.isInteger(c.min_photos_confirmed) || c.min_photos_confirmed < 0) throw bad('version');
   if (c.version !== manifest.checklist_version) {

@@ -37,6 +37,28 @@ export function makeReport(f) {
   };
 }
 
+/** Outcomes only a control point has (checklist 2 and later). */
+export const CONTROL_ONLY_OUTCOMES = ['no_clearing_found', 'clearing_found'];
+
+/**
+ * The outcomes offered at a stop of `kind` (Checklist::outcomes_for): a
+ * control point's own list from checklist 2 on, the event outcomes before.
+ */
+export function outcomesFor(checklist, kind) {
+  const own = Array.isArray(checklist.control_outcomes) && checklist.control_outcomes.length > 0;
+  return kind === 'control' && own ? checklist.control_outcomes : checklist.outcomes;
+}
+
+/** Outcomes that carry a cause: a confirmed clearing, a clearing found at a control point. */
+export function takesCause(outcome) {
+  return outcome === 'confirmed' || outcome === 'clearing_found';
+}
+
+/** Reports that carry an estimated area: a new clearing, a clearing found at a control point. */
+export function takesArea(kind, outcome) {
+  return kind === 'new_clearing' || outcome === 'clearing_found';
+}
+
 function okLatLon(lat, lon) {
   return Number.isFinite(lat) && lat >= -90 && lat <= 90 && Number.isFinite(lon) && lon >= -180 && lon <= 180;
 }
@@ -58,7 +80,8 @@ export function validateReport(r, checklist) {
     if (shas.has(p.sha256)) throw new ReportProblem('problem.photo_twice');
     shas.add(p.sha256);
   }
-  if (!checklist.outcomes.includes(r.outcome)) throw new ReportProblem('problem.pick_outcome');
+  if (!outcomesFor(checklist, r.target.kind).includes(r.outcome)) throw new ReportProblem('problem.pick_outcome');
+  if (CONTROL_ONLY_OUTCOMES.includes(r.outcome) && r.target.kind !== 'control') throw new ReportProblem('problem.pick_outcome');
   const needsReason = r.outcome === 'false_alarm' || r.outcome === 'not_reached';
   if (needsReason) {
     const allowed = r.outcome === 'false_alarm' ? checklist.false_alarm_reasons : checklist.not_reached_reasons;
@@ -68,9 +91,14 @@ export function validateReport(r, checklist) {
     throw new ReportProblem('problem.pick_reason');
   }
   if (r.cause !== null) {
-    if (r.outcome !== 'confirmed' || !checklist.causes.includes(r.cause)) throw new ReportProblem('problem.pick_cause');
+    if (!takesCause(r.outcome) || !checklist.causes.includes(r.cause)) throw new ReportProblem('problem.pick_cause');
   }
-  if (r.outcome === 'confirmed' && r.photos.length < checklist.min_photos_confirmed) {
+  // validate.rs: a clearing found at a control point carries its cause and estimated area.
+  if (r.outcome === 'clearing_found') {
+    if (r.cause === null) throw new ReportProblem('problem.required_cause');
+    if (r.area_ha === null) throw new ReportProblem('problem.required_area_ha');
+  }
+  if (takesCause(r.outcome) && r.photos.length < checklist.min_photos_confirmed) {
     throw new ReportProblem('problem.min_photos', { min: checklist.min_photos_confirmed, have: r.photos.length });
   }
   if (r.area_ha !== null && !(Number.isFinite(r.area_ha) && r.area_ha > 0 && r.area_ha <= MAX_AREA_HA)) {
@@ -79,7 +107,7 @@ export function validateReport(r, checklist) {
   for (const field of checklist.required_fields) {
     const missing = {
       position: r.position === null,
-      cause: r.outcome === 'confirmed' && r.cause === null,
+      cause: takesCause(r.outcome) && r.cause === null,
       reason: needsReason && r.reason === null,
       notes: r.notes.trim() === '',
       photos: r.photos.length === 0,

@@ -5,6 +5,8 @@ mod admin;
 mod alerts_api;
 mod backup;
 mod bundles;
+mod control_outcomes;
+mod demo_story;
 mod footprints;
 mod hardening;
 mod intake;

@@ -12,8 +12,9 @@
 //! one event left unvisited, one not reached (access or safety, no photos),
 //! one photo taken far (650-900 m) from its event, one photo whose EXIF time
 //! is before the event's first detection, one new clearing found on the way,
-//! the control points visited (a clearing found, or `false_alarm` with
-//! `no_change`), one amended report, and optionally a second device's return
+//! the control points visited (checklist 2: `clearing_found` with a cause and
+//! an area, or `no_clearing_found`; a checklist 1 bundle: `confirmed`, or
+//! `false_alarm` with `no_change`), one amended report, and optionally a second device's return
 //! that disagrees with the first on one event a few days later (a dispute).
 //!
 //! Times come from the bundle (issue and expiry in its manifest), never from
@@ -76,8 +77,9 @@ pub struct TripPlan {
     pub new_clearing: bool,
     /// One confirmed report is corrected afterwards (`amend ID --cause ...`).
     pub amend: bool,
-    /// Visit the control points: about one in three shows a clearing (`confirmed`),
-    /// the others `false_alarm` with reason `no_change`.
+    /// Visit the control points: about one in three shows a clearing
+    /// (`clearing_found`, or `confirmed` with a checklist 1 bundle), the others
+    /// none (`no_clearing_found`, or `false_alarm` with reason `no_change`).
     pub visit_controls: bool,
     /// Also make a second device's return for the same bundle whose report on one
     /// event disagrees with the first (confirmed against false_alarm, two days later).

@@ -1,6 +1,7 @@
 //! The visits: what the team does and writes down at each stop.
 
 use chrono::{DateTime, Days, Duration, NaiveDate, Utc};
+use groundproof_sync::Outcome;
 use groundproof_sync::field::FieldEvent;
 use groundproof_sync::returns::{
     OUTCOME_CONFIRMED, OUTCOME_FALSE_ALARM, OUTCOME_INCONCLUSIVE, OUTCOME_NOT_REACHED,
@@ -242,11 +243,18 @@ impl Device {
     ) -> Result<(), String> {
         let t = clock.visit(rng.random_range(80..=120i64))?;
         let min = (self.snap.checklist.min_photos_confirmed as usize).clamp(2, 20);
+        // Checklist 2 gives control points their own outcomes; a bundle of
+        // checklist 1 is answered with the event words, as teams did then.
+        let own = !self.snap.checklist.control_outcomes.is_empty();
         let entry = match visit {
             ControlVisit::NoClearing { reason } => Entry {
                 code: Some(code.to_owned()),
-                outcome: OUTCOME_FALSE_ALARM,
-                reason: Some(reason.clone()),
+                outcome: if own {
+                    Outcome::NoClearingFound.as_str()
+                } else {
+                    OUTCOME_FALSE_ALARM
+                },
+                reason: (!own).then(|| reason.clone()),
                 time: Some(t),
                 notes: "Control point: intact forest, no clearing.".into(),
                 shots: Self::near_shots(here, t, 1, rng),
@@ -254,7 +262,11 @@ impl Device {
             },
             ControlVisit::Clearing { cause, area_ha } => Entry {
                 code: Some(code.to_owned()),
-                outcome: OUTCOME_CONFIRMED,
+                outcome: if own {
+                    Outcome::ClearingFound.as_str()
+                } else {
+                    OUTCOME_CONFIRMED
+                },
                 cause: cause.clone(),
                 time: Some(t),
                 area_ha: Some(*area_ha),

@@ -40,6 +40,10 @@ pub struct IntakeOptions {
     pub photo_limits: PhotoLimits,
     /// Limits of a return package (the sync crate's defaults).
     pub return_limits: ReturnLimits,
+    /// When the return counts as received; `None` (always, but in the demo)
+    /// is the moment intake runs. The demo replays a year of trips and
+    /// gives each return the day its team came back.
+    pub received_at: Option<chrono::DateTime<chrono::Utc>>,
 }
 
 impl IntakeOptions {
@@ -58,6 +62,7 @@ impl Default for IntakeOptions {
             tolerance_m: DEFAULT_TOLERANCE_M,
             photo_limits: PhotoLimits::default(),
             return_limits: ReturnLimits::default(),
+            received_at: None,
         }
     }
 }

@@ -186,13 +186,15 @@ fn in_return_words(e: SyncError) -> String {
     }
 }
 
+/// The checklist a return was made with: every version this build knows is
+/// still read (a team may come back with a bundle issued before an upgrade).
 pub(crate) fn checklist_for(version: u32) -> Result<Checklist, IntakeError> {
-    match version {
-        1 => Ok(Checklist::default_v1()),
-        v => Err(IntakeError::Package(format!(
-            "checklist version {v} is not known to this server (it knows 1)"
-        ))),
-    }
+    Checklist::for_version(version).ok_or_else(|| {
+        IntakeError::Package(format!(
+            "checklist version {version} is not known to this server (it knows 1 to {})",
+            groundproof_sync::bundle::CHECKLIST_VERSION
+        ))
+    })
 }
 
 fn parse_time(s: &str, what: &str) -> Result<DateTime<Utc>, IntakeError> {
@@ -689,7 +691,7 @@ fn run(
     let (package, sha256, size) = (pkg.path, pkg.sha256, pkg.size);
     let opened = open_checked(db, options, package, upload)?;
     let (bundle, items) = live_bundle(db, &opened.manifest.bundle_id.to_string())?;
-    let received = Utc::now();
+    let received = options.received_at.unwrap_or_else(Utc::now);
     let mut ctx = Context {
         db,
         data_dir,
@@ -970,7 +972,8 @@ mod tests {
 
     #[test]
     fn checklist_versions() {
-        assert!(checklist_for(1).is_ok());
-        assert!(matches!(checklist_for(2), Err(IntakeError::Package(_))));
+        assert_eq!(checklist_for(1).unwrap().version, 1);
+        assert_eq!(checklist_for(2).unwrap().version, 2);
+        assert!(matches!(checklist_for(3), Err(IntakeError::Package(_))));
     }
 }

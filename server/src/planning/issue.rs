@@ -224,7 +224,7 @@ fn write_bundle_file(
         point: Point::new(req.start.lon(), req.start.lat()),
     };
     let route_codes = route_codes(&planned.events, &planned.controls);
-    let checklist = Checklist::default_v1();
+    let checklist = Checklist::current();
     let contents = ZipContents {
         header,
         events: &planned.events,

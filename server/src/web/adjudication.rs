@@ -165,6 +165,10 @@ mod tests {
             ("false_alarm", "standing forest", "Ana")
         );
         assert_eq!(Ruling::check("maybe", "x", "m"), Err(BadField::Outcome));
+        assert_eq!(
+            Ruling::check("clearing_found", "x", "m"),
+            Err(BadField::Outcome)
+        );
         assert_eq!(Ruling::check("confirmed", "  ", "m"), Err(BadField::Reason));
         let long = "x".repeat(MAX_REASON_CHARS + 1);
         assert_eq!(

@@ -51,7 +51,7 @@ mod write;
 
 pub use self::geojson::{KIND_CONTROL, KIND_EVENT, KIND_START};
 pub use gpkg::{EVENTS_LAYER, GPKG_APPLICATION_ID, GPKG_USER_VERSION, POINTS_LAYER};
-pub use gpx::GPX_CREATOR;
+pub use gpx::{GPX_CREATOR, control_waypoint_name, short_bundle_code};
 pub use limits::BundleLimits;
 pub use manifest::{Manifest, ManifestCounts, ManifestEntry, UploadKey, sha256_hex};
 pub use names::{
@@ -61,7 +61,7 @@ pub use names::{
 };
 pub use read::{OpenedBundle, open_bundle, open_bundle_with_limits};
 pub use types::{
-    BundleEvent, BundleHeader, Checklist, ControlPoint, ExtraEntry, MAX_TEXT_CHARS,
-    MODE_ASSESSMENT, MODE_RESPONSE, StartPoint, is_valid_code, is_valid_date,
+    BundleEvent, BundleHeader, CHECKLIST_VERSION, Checklist, ControlPoint, ExtraEntry,
+    MAX_TEXT_CHARS, MODE_ASSESSMENT, MODE_RESPONSE, StartPoint, is_valid_code, is_valid_date,
 };
 pub use write::write_bundle;

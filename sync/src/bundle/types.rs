@@ -93,9 +93,19 @@ pub struct Checklist {
     pub causes: Vec<String>,
     /// Report fields that must be filled in.
     pub required_fields: Vec<String>,
-    /// Fewest photos a `confirmed` report must carry.
+    /// Fewest photos a `confirmed` (or `clearing_found`) report must carry.
     pub min_photos_confirmed: u32,
+    /// Allowed outcomes at a control point (version 2 and later). Empty in
+    /// version 1, whose control points took the event outcomes of
+    /// `outcomes` (read with [`crate::vocab::Outcome::control_finding`]);
+    /// left out of the JSON when empty, so a version 1 checklist is written
+    /// as it always was.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub control_outcomes: Vec<String>,
 }
+
+/// The checklist version the office issues now.
+pub const CHECKLIST_VERSION: u32 = 2;
 
 impl Checklist {
     /// The default checklist, version 1: outcomes, reasons and causes as listed in DESIGN.md
@@ -106,7 +116,10 @@ impl Checklist {
         let reasons = |o: Outcome| Reason::of(o).map(|r| r.as_str().to_owned()).collect();
         Checklist {
             version: 1,
-            outcomes: list(Outcome::NAMES),
+            outcomes: Outcome::EVENT
+                .iter()
+                .map(|o| o.as_str().to_owned())
+                .collect(),
             false_alarm_reasons: reasons(Outcome::FalseAlarm),
             not_reached_reasons: reasons(Outcome::NotReached),
             causes: list(Cause::NAMES),
@@ -118,6 +131,47 @@ impl Checklist {
                 "position",
             ]),
             min_photos_confirmed: 2,
+            control_outcomes: Vec::new(),
+        }
+    }
+
+    /// The default checklist, version 2: version 1 with control points
+    /// answered by their own outcomes (`no_clearing_found`, `clearing_found`
+    /// with a cause and an estimated area, `inconclusive`, `not_reached`)
+    /// instead of the event outcomes; events keep theirs.
+    pub fn default_v2() -> Self {
+        let words = |o: &[Outcome]| o.iter().map(|w| w.as_str().to_owned()).collect();
+        Checklist {
+            version: 2,
+            outcomes: words(Outcome::EVENT),
+            control_outcomes: words(Outcome::CONTROL),
+            ..Checklist::default_v1()
+        }
+    }
+
+    /// The checklist the office issues now ([`CHECKLIST_VERSION`]).
+    pub fn current() -> Self {
+        Checklist::default_v2()
+    }
+
+    /// The default checklist of `version`, `None` for a version this build
+    /// does not know.
+    pub fn for_version(version: u32) -> Option<Self> {
+        match version {
+            1 => Some(Checklist::default_v1()),
+            2 => Some(Checklist::default_v2()),
+            _ => None,
+        }
+    }
+
+    /// The outcomes allowed for a report on `kind`: a control point's own
+    /// list when the checklist has one, else `outcomes`.
+    pub fn outcomes_for(&self, kind: crate::vocab::TargetKind) -> &[String] {
+        match kind {
+            crate::vocab::TargetKind::Control if !self.control_outcomes.is_empty() => {
+                &self.control_outcomes
+            }
+            _ => &self.outcomes,
         }
     }
 
@@ -133,6 +187,7 @@ impl Checklist {
             ("not_reached_reasons", &self.not_reached_reasons),
             ("causes", &self.causes),
             ("required_fields", &self.required_fields),
+            ("control_outcomes", &self.control_outcomes),
         ];
         for (label, items) in lists {
             for (i, item) in items.iter().enumerate() {
@@ -474,6 +529,31 @@ mod tests {
             ),
             (4, 5, 3, 9)
         );
+        // Version 1 is written as it was before version 2 existed: no
+        // control_outcomes key (bundles issued then still read the same).
+        let json = serde_json::to_string(&c).expect("json");
+        assert!(!json.contains("control_outcomes"), "{json}");
+        let back: Checklist = serde_json::from_str(&json).expect("back");
+        assert_eq!(back, c);
+        let v2 = Checklist::current();
+        assert_eq!((v2.version, CHECKLIST_VERSION), (2, 2));
+        assert_eq!(v2.validate(), Ok(()));
+        assert_eq!(
+            v2.outcomes_for(crate::vocab::TargetKind::Control),
+            [
+                "no_clearing_found",
+                "clearing_found",
+                "inconclusive",
+                "not_reached"
+            ]
+        );
+        assert_eq!(v2.outcomes_for(crate::vocab::TargetKind::Event), c.outcomes);
+        assert_eq!(
+            c.outcomes_for(crate::vocab::TargetKind::Control),
+            c.outcomes
+        );
+        assert_eq!(Checklist::for_version(1), Some(c.clone()));
+        assert_eq!(Checklist::for_version(3), None);
         let mut bad = c.clone();
         bad.causes.push("fire".into());
         assert!(bad.validate().is_err());

@@ -92,13 +92,14 @@ pub enum Command {
 /// The fields of a report.
 #[derive(Debug, Clone, Default, Args)]
 pub struct ReportArgs {
-    /// confirmed, false_alarm, inconclusive or not_reached.
+    /// confirmed, false_alarm, inconclusive or not_reached; at a control point
+    /// (checklist 2): no_clearing_found, clearing_found, inconclusive or not_reached.
     #[arg(long)]
     pub outcome: Option<String>,
     /// Reason (false_alarm or not_reached), from the checklist.
     #[arg(long)]
     pub reason: Option<String>,
-    /// Cause (confirmed), from the checklist.
+    /// Cause (confirmed, clearing_found), from the checklist.
     #[arg(long)]
     pub cause: Option<String>,
     /// Photo files (JPEG); repeat or list several.
@@ -110,7 +111,7 @@ pub struct ReportArgs {
     /// When you were there (RFC 3339); default: the earliest photo time, else now.
     #[arg(long)]
     pub time: Option<String>,
-    /// Estimated cleared area in hectares.
+    /// Estimated cleared area in hectares (needed with clearing_found).
     #[arg(long)]
     pub area_ha: Option<f64>,
     /// Free notes (at most 4000 characters).

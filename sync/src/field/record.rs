@@ -125,7 +125,7 @@ pub fn build_report(
         .map(|p| read_photo(p, camera_zone))
         .collect::<Result<_, _>>()?;
     let (photos, paths) = report_photos(&read, base, base_photo_paths);
-    let outcome = report_outcome(args, base, checklist)?;
+    let outcome = report_outcome(args, base, checklist, target.kind())?;
     let position = report_position(args, &read, base)?;
     let observed_at = match &args.time {
         Some(t) => parse_time(t)?,
@@ -190,11 +190,14 @@ fn report_photos(
     }
 }
 
-/// The outcome given, or the amended report's; required otherwise.
+/// The outcome given, or the amended report's; required otherwise (the
+/// message lists the outcomes of the target's kind: a control point has its
+/// own from checklist 2 on).
 fn report_outcome(
     args: &ReportArgs,
     base: Option<&Report>,
     checklist: &crate::bundle::Checklist,
+    kind: crate::vocab::TargetKind,
 ) -> Result<String, SyncError> {
     args.outcome
         .clone()
@@ -202,7 +205,7 @@ fn report_outcome(
         .ok_or_else(|| {
             SyncError::Usage(format!(
                 "--outcome is required (one of: {})",
-                checklist.outcomes.join(", ")
+                checklist.outcomes_for(kind).join(", ")
             ))
         })
 }
@@ -235,6 +238,8 @@ fn check_report(report: &Report, checklist: &crate::bundle::Checklist) -> Result
     validate_report(report, checklist).map_err(|reason| {
         let hint = if reason.contains("position") {
             " (give --at LAT,LON or photos with GPS tags)"
+        } else if reason.contains("control point") {
+            " (give --cause and --area-ha with clearing_found)"
         } else {
             ""
         };

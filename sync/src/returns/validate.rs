@@ -5,7 +5,7 @@
 use crate::bundle::{Checklist, is_valid_code};
 
 use super::report::{Position, Report, Target};
-use crate::vocab::{Outcome, Sha256Digest};
+use crate::vocab::{Outcome, Sha256Digest, TargetKind};
 
 /// Longest `notes` accepted, in characters (RETURN-SPEC).
 pub const MAX_NOTES_CHARS: usize = 4000;
@@ -114,52 +114,44 @@ fn one_of(label: &str, value: &str, allowed: &[String]) -> Result<(), String> {
     }
 }
 
-/// Checks `r` against `checklist`: the outcome is listed; `false_alarm` and
-/// `not_reached` carry a listed reason and other outcomes none; a cause is only
-/// given with `confirmed` and is listed; `confirmed` carries at least
-/// `min_photos_confirmed` photos; every field of `required_fields` is filled in
-/// (`report_id`, `outcome`, `observed_at` always are; `event_code` for events and
-/// control points; `position`, `cause` (for confirmed), `reason`, `notes`,
-/// `photos`, `area_ha`; unknown names are ignored); a new clearing is `confirmed`
-/// with a position and an area; plus every check of [`check_report_shape`].
+/// Checks `r` against `checklist`: the outcome is listed for its target
+/// ([`Checklist::outcomes_for`]: a control point's own outcomes from checklist 2
+/// on, the event outcomes before; a control-only outcome is never an event's);
+/// `false_alarm` and `not_reached` carry a listed reason and other outcomes
+/// none; a cause is only given with `confirmed` or `clearing_found` and is
+/// listed; `clearing_found` carries a cause and an estimated `area_ha`;
+/// `confirmed` and `clearing_found` carry at least `min_photos_confirmed`
+/// photos; every field of `required_fields` is filled in (`report_id`,
+/// `outcome`, `observed_at` always are; `event_code` for events and control
+/// points; `position`, `cause` (for confirmed), `reason`, `notes`, `photos`,
+/// `area_ha`; unknown names are ignored); a new clearing is `confirmed` with a
+/// position and an area; plus every check of [`check_report_shape`].
 pub fn validate_report(r: &Report, checklist: &Checklist) -> Result<(), String> {
     check_report_shape(r)?;
-    one_of("outcome", &r.outcome, &checklist.outcomes)?;
+    check_outcome(r, checklist)?;
     let outcome = r.outcome.as_str();
     // A checklist may list an outcome this build has no word for: it is
     // checked like `inconclusive` (no reason, no cause).
     let word = r.outcome.parse::<Outcome>().ok();
     let confirmed = word == Some(Outcome::Confirmed);
+    let with_cause = word.is_some_and(Outcome::has_cause);
     let needs_reason = word.is_some_and(Outcome::needs_reason);
-    match (word, &r.reason) {
-        (Some(Outcome::FalseAlarm), Some(reason)) => {
-            one_of("reason", reason, &checklist.false_alarm_reasons)?
-        }
-        (Some(Outcome::NotReached), Some(reason)) => {
-            one_of("reason", reason, &checklist.not_reached_reasons)?
-        }
-        (_, None) if needs_reason => {
-            return Err(format!("outcome {outcome} needs a reason"));
-        }
-        (_, Some(_)) => {
-            return Err(format!(
-                "a reason is only given with false_alarm or not_reached, not {outcome}"
-            ));
-        }
-        (_, None) => {}
-    }
+    check_reason(r, checklist, word)?;
     match &r.cause {
-        Some(cause) if confirmed => one_of("cause", cause, &checklist.causes)?,
+        Some(cause) if with_cause => one_of("cause", cause, &checklist.causes)?,
         Some(_) => {
             return Err(format!(
-                "a cause is only given with confirmed, not {outcome}"
+                "a cause is only given with confirmed or clearing_found, not {outcome}"
             ));
         }
         None => {}
     }
-    if confirmed && r.photos.len() < checklist.min_photos_confirmed as usize {
+    if word == Some(Outcome::ClearingFound) && (r.cause.is_none() || r.area_ha.is_none()) {
+        return Err("a clearing found at a control point needs a cause and area_ha".into());
+    }
+    if with_cause && r.photos.len() < checklist.min_photos_confirmed as usize {
         return Err(format!(
-            "a confirmed report needs at least {} photos, this one has {}",
+            "a {outcome} report needs at least {} photos, this one has {}",
             checklist.min_photos_confirmed,
             r.photos.len()
         ));
@@ -168,7 +160,7 @@ pub fn validate_report(r: &Report, checklist: &Checklist) -> Result<(), String> 
         let missing = match field.as_str() {
             "event_code" => false, // every event/control target has a code; new clearings have none
             "position" => r.position.is_none(),
-            "cause" => confirmed && r.cause.is_none(),
+            "cause" => with_cause && r.cause.is_none(),
             "reason" => needs_reason && r.reason.is_none(),
             "notes" => r.notes.trim().is_empty(),
             "photos" => r.photos.is_empty(),
@@ -188,6 +180,53 @@ pub fn validate_report(r: &Report, checklist: &Checklist) -> Result<(), String> 
         }
     }
     Ok(())
+}
+
+/// The outcome is one the checklist allows for the report's target.
+fn check_outcome(r: &Report, checklist: &Checklist) -> Result<(), String> {
+    let kind = r.target.kind();
+    let allowed = checklist.outcomes_for(kind);
+    let control_only = r
+        .outcome
+        .parse::<Outcome>()
+        .is_ok_and(Outcome::control_only);
+    if control_only && kind != TargetKind::Control {
+        return Err(format!(
+            "outcome {:?} is only for control points, this report is about {}",
+            r.outcome,
+            match kind {
+                TargetKind::NewClearing => "a new clearing",
+                _ => "an event",
+            }
+        ));
+    }
+    if kind == TargetKind::Control && !allowed.contains(&r.outcome) {
+        return Err(format!(
+            "outcome {:?} is not a control point's outcome in checklist {} (allowed: {})",
+            r.outcome,
+            checklist.version,
+            allowed.join(", ")
+        ));
+    }
+    one_of("outcome", &r.outcome, allowed)
+}
+
+/// `false_alarm` and `not_reached` carry a listed reason, other outcomes none.
+fn check_reason(r: &Report, checklist: &Checklist, word: Option<Outcome>) -> Result<(), String> {
+    let outcome = r.outcome.as_str();
+    match (word, &r.reason) {
+        (Some(Outcome::FalseAlarm), Some(reason)) => {
+            one_of("reason", reason, &checklist.false_alarm_reasons)
+        }
+        (Some(Outcome::NotReached), Some(reason)) => {
+            one_of("reason", reason, &checklist.not_reached_reasons)
+        }
+        (Some(o), None) if o.needs_reason() => Err(format!("outcome {outcome} needs a reason")),
+        (_, Some(_)) => Err(format!(
+            "a reason is only given with false_alarm or not_reached, not {outcome}"
+        )),
+        (_, None) => Ok(()),
+    }
 }
 
 #[cfg(test)]
@@ -298,5 +337,88 @@ mod tests {
         nc.target = Target::NewClearing;
         nc.area_ha = Some(2.5);
         assert_eq!(validate_report(&nc, &c), Ok(()));
+    }
+
+    fn control(outcome: &str) -> Report {
+        let mut r = good();
+        r.target = Target::Control {
+            code: "C0003".into(),
+        };
+        r.outcome = outcome.into();
+        r.cause = None;
+        r.photos.clear();
+        r
+    }
+
+    #[test]
+    fn control_points_have_their_own_outcomes_from_checklist_2() {
+        let v2 = Checklist::default_v2();
+        assert_eq!(validate_report(&control("no_clearing_found"), &v2), Ok(()));
+        let mut found = control("clearing_found");
+        found.cause = Some("smallholder_clearing".into());
+        found.area_ha = Some(0.6);
+        found.photos = vec![photo(1), photo(2)];
+        assert_eq!(validate_report(&found, &v2), Ok(()));
+        let mut nr = control("not_reached");
+        nr.reason = Some("terrain".into());
+        assert_eq!(validate_report(&nr, &v2), Ok(()));
+        assert_eq!(validate_report(&control("inconclusive"), &v2), Ok(()));
+
+        type Change = Box<dyn Fn(&mut Report)>;
+        let refused: Vec<(Change, &str)> = vec![
+            // The old answers are not a control point's outcome in checklist 2.
+            (
+                Box::new(|r| {
+                    r.outcome = "false_alarm".into();
+                    r.reason = Some("no_change".into());
+                }),
+                "not a control point's outcome in checklist 2",
+            ),
+            (Box::new(|r| r.cause = None), "needs a cause and area_ha"),
+            (Box::new(|r| r.area_ha = None), "needs a cause and area_ha"),
+            (Box::new(|r| r.photos.truncate(1)), "at least 2 photos"),
+            (
+                Box::new(|r| r.cause = Some("aliens".into())),
+                "cause \"aliens\"",
+            ),
+            (
+                Box::new(|r| r.reason = Some("no_change".into())),
+                "a reason is only given",
+            ),
+        ];
+        for (change, needle) in refused {
+            let mut r = found.clone();
+            change(&mut r);
+            let err = validate_report(&r, &v2).expect_err(needle);
+            assert!(err.contains(needle), "{err:?} should mention {needle:?}");
+        }
+        let mut no = control("no_clearing_found");
+        no.cause = Some("fire".into());
+        assert!(validate_report(&no, &v2).is_err());
+        // A control-only outcome is never an event's, in either version.
+        for c in [&v2, &Checklist::default_v1()] {
+            let mut ev = good();
+            ev.outcome = "no_clearing_found".into();
+            ev.cause = None;
+            let err = validate_report(&ev, c).expect_err("event");
+            assert!(err.contains("only for control points"), "{err}");
+        }
+    }
+
+    #[test]
+    fn checklist_1_control_answers_are_still_taken_in() {
+        // A return made with a bundle of checklist 1 answered control points
+        // with the event words; they stay valid against that checklist.
+        let v1 = Checklist::default_v1();
+        let mut fa = control("false_alarm");
+        fa.reason = Some("not_forest".into());
+        assert_eq!(validate_report(&fa, &v1), Ok(()));
+        let mut conf = control("confirmed");
+        conf.cause = Some("mining".into());
+        conf.photos = vec![photo(1), photo(2)];
+        assert_eq!(validate_report(&conf, &v1), Ok(()));
+        // ...but checklist 1 never had the new words.
+        let err = validate_report(&control("no_clearing_found"), &v1).expect_err("v1");
+        assert!(err.contains("checklist 1"), "{err}");
     }
 }

@@ -128,6 +128,11 @@ words! {
         Inconclusive = "inconclusive",
         /// The team did not get there (needs a [`Reason`]).
         NotReached = "not_reached",
+        /// Control points only (checklist 2): no clearing at the point.
+        NoClearingFound = "no_clearing_found",
+        /// Control points only (checklist 2): a clearing the alerts missed,
+        /// with a [`Cause`] and the team's estimate of its area.
+        ClearingFound = "clearing_found",
     }
 }
 
@@ -137,9 +142,55 @@ impl Outcome {
         self != Outcome::NotReached
     }
 
-    /// True for `confirmed` and `false_alarm`, the outcomes that decide.
+    /// True for `confirmed` and `false_alarm`, the outcomes that decide an
+    /// event (the control outcomes decide no event).
     pub fn decisive(self) -> bool {
         matches!(self, Outcome::Confirmed | Outcome::FalseAlarm)
+    }
+
+    /// The outcomes of a visit to an event (or a new clearing).
+    pub const EVENT: &'static [Outcome] = &[
+        Outcome::Confirmed,
+        Outcome::FalseAlarm,
+        Outcome::Inconclusive,
+        Outcome::NotReached,
+    ];
+
+    /// The outcomes of a visit to a control point (checklist 2 and later).
+    pub const CONTROL: &'static [Outcome] = &[
+        Outcome::NoClearingFound,
+        Outcome::ClearingFound,
+        Outcome::Inconclusive,
+        Outcome::NotReached,
+    ];
+
+    /// True for the two outcomes only a control point has.
+    pub fn control_only(self) -> bool {
+        matches!(self, Outcome::NoClearingFound | Outcome::ClearingFound)
+    }
+
+    /// True for the outcomes that carry a cause (`confirmed`, `clearing_found`).
+    pub fn has_cause(self) -> bool {
+        matches!(self, Outcome::Confirmed | Outcome::ClearingFound)
+    }
+
+    /// What a report on a control point says about clearing at the point:
+    /// `Some(true)` clearing, `Some(false)` none, `None` no finding
+    /// (inconclusive, not reached).
+    ///
+    /// Returns made with checklist 1 answered a control point with the event
+    /// words; they are read here, in this one place: `confirmed` (a clearing,
+    /// with its cause) is a clearing found, and `false_alarm` is no clearing
+    /// found whatever its reason, because every false-alarm reason (no change,
+    /// cloud or shadow, seasonal water, cleared before the alert window, not
+    /// forest) says there is no new clearing at the point in the period. The
+    /// stored report keeps the words the team used (invariant 1).
+    pub fn control_finding(self) -> Option<bool> {
+        match self {
+            Outcome::ClearingFound | Outcome::Confirmed => Some(true),
+            Outcome::NoClearingFound | Outcome::FalseAlarm => Some(false),
+            Outcome::Inconclusive | Outcome::NotReached => None,
+        }
     }
 
     /// True for the outcomes that carry a reason (`false_alarm`, `not_reached`).
@@ -273,7 +324,14 @@ mod tests {
     fn every_word_round_trips() {
         round_trips(
             Outcome::ALL,
-            &["confirmed", "false_alarm", "inconclusive", "not_reached"],
+            &[
+                "confirmed",
+                "false_alarm",
+                "inconclusive",
+                "not_reached",
+                "no_clearing_found",
+                "clearing_found",
+            ],
         );
         round_trips(
             Reason::ALL,
@@ -325,7 +383,36 @@ mod tests {
         let e = "maybe".parse::<Outcome>().expect_err("unknown");
         assert_eq!(
             e.to_string(),
-            "outcome 'maybe': expected confirmed, false_alarm, inconclusive or not_reached"
+            "outcome 'maybe': expected confirmed, false_alarm, inconclusive, not_reached, \
+             no_clearing_found or clearing_found"
         );
+    }
+
+    #[test]
+    fn control_findings_read_both_checklists() {
+        // Checklist 2's words and checklist 1's event words at a control point.
+        let found: Vec<(Outcome, Option<bool>)> = Outcome::ALL
+            .iter()
+            .map(|o| (*o, o.control_finding()))
+            .collect();
+        assert_eq!(
+            found,
+            [
+                (Outcome::Confirmed, Some(true)),
+                (Outcome::FalseAlarm, Some(false)),
+                (Outcome::Inconclusive, None),
+                (Outcome::NotReached, None),
+                (Outcome::NoClearingFound, Some(false)),
+                (Outcome::ClearingFound, Some(true)),
+            ]
+        );
+        assert!(
+            Outcome::CONTROL
+                .iter()
+                .all(|o| o.reached() == (*o != Outcome::NotReached))
+        );
+        assert!(Outcome::EVENT.iter().all(|o| !o.control_only()));
+        assert!(!Outcome::ClearingFound.decisive() && !Outcome::ClearingFound.needs_reason());
+        assert!(Outcome::ClearingFound.has_cause() && !Outcome::NoClearingFound.has_cause());
     }
 }

@@ -199,3 +199,6 @@ map-tiles_on = The map will show the tiles from this server.
 map-tiles_off = The map stays plain (no background).
 storage-low = The phone is almost full: { $free } left for this app. Send the reports that wait, or free some space, before you record more.
 problem-storage_no_room = This report and its photos need { $need }, and only { $free } is free on the phone: it was NOT saved. Reports saved before are safe. Send the reports that wait, or free some space, then save again.
+form-area_control = Area of the clearing, estimated (hectares)
+outcome-no_clearing_found = No clearing here
+outcome-clearing_found = Clearing found (no alert here)

@@ -199,3 +199,6 @@ map-tiles_on = El mapa mostrará las teselas de este servidor.
 map-tiles_off = El mapa queda simple (sin fondo).
 storage-low = El teléfono está casi lleno: quedan { $free } para esta aplicación. Envíe los informes pendientes o libere espacio antes de registrar más.
 problem-storage_no_room = Este informe y sus fotos necesitan { $need }, y solo quedan { $free } libres en el teléfono: NO se guardó. Los informes guardados antes están a salvo. Envíe los informes pendientes o libere espacio, y vuelva a guardar.
+form-area_control = Superficie del desmonte, estimada (hectáreas)
+outcome-no_clearing_found = Aquí no hay desmonte
+outcome-clearing_found = Desmonte encontrado (sin alerta aquí)

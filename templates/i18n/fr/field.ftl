@@ -199,3 +199,6 @@ map-tiles_on = La carte affichera les tuiles de ce serveur.
 map-tiles_off = La carte reste simple (sans fond).
 storage-low = Le téléphone est presque plein : il reste { $free } pour cette application. Envoyez les rapports en attente ou libérez de la place avant d'en enregistrer d'autres.
 problem-storage_no_room = Ce rapport et ses photos demandent { $need }, et il ne reste que { $free } sur le téléphone : il n'a PAS été enregistré. Les rapports enregistrés avant sont en sûreté. Envoyez les rapports en attente ou libérez de la place, puis enregistrez de nouveau.
+form-area_control = Surface du défrichement, estimée (hectares)
+outcome-no_clearing_found = Pas de défrichement ici
+outcome-clearing_found = Défrichement trouvé (aucune alerte ici)

@@ -199,3 +199,6 @@ map-tiles_on = Peta akan menampilkan ubin dari server ini.
 map-tiles_off = Peta tetap polos (tanpa latar).
 storage-low = Ponsel hampir penuh: tersisa { $free } untuk aplikasi ini. Kirim laporan yang menunggu, atau kosongkan ruang, sebelum mencatat lagi.
 problem-storage_no_room = Laporan ini beserta fotonya perlu { $need }, dan ruang kosong di ponsel hanya { $free }: laporan TIDAK disimpan. Laporan yang sudah disimpan tetap aman. Kirim laporan yang menunggu, atau kosongkan ruang, lalu simpan lagi.
+form-area_control = Luas pembukaan lahan, perkiraan (hektare)
+outcome-no_clearing_found = Tidak ada pembukaan lahan di sini
+outcome-clearing_found = Pembukaan lahan ditemukan (tanpa peringatan di sini)

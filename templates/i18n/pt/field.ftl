@@ -199,3 +199,6 @@ map-tiles_on = O mapa vai mostrar os blocos deste servidor.
 map-tiles_off = O mapa fica simples (sem fundo).
 storage-low = O celular está quase cheio: restam { $free } para este aplicativo. Envie os relatórios pendentes ou libere espaço antes de registrar mais.
 problem-storage_no_room = Este relatório e suas fotos precisam de { $need }, e só há { $free } livres no celular: ele NÃO foi salvo. Os relatórios salvos antes estão seguros. Envie os relatórios pendentes ou libere espaço, e salve de novo.
+form-area_control = Área do desmatamento, estimada (hectares)
+outcome-no_clearing_found = Nenhum desmatamento aqui
+outcome-clearing_found = Desmatamento encontrado (sem alerta aqui)

@@ -93,7 +93,7 @@ pub fn trip(db: &Db, bundle_id: &str) -> Result<Trip, IntakeError> {
 /// The checklist the station offers and checks against: the one
 /// `planning::issue` writes into every bundle.
 pub fn checklist() -> Checklist {
-    Checklist::default_v1()
+    Checklist::current()
 }
 
 /// The draft's local offset (`+03:00`); UTC when it cannot be read.

@@ -92,6 +92,9 @@ struct ControlCard {
     code: String,
     order: u32,
     pos: PositionText,
+    /// The waypoint's name in the bundle's GPX (the bundle's short code
+    /// first, so that a handheld unit keeps the control points of two trips apart).
+    gps_name: String,
 }
 
 struct RouteRow {
@@ -107,6 +110,11 @@ struct ChecklistView {
     not_reached_reasons: Vec<String>,
     causes: Vec<String>,
     photos: String,
+    /// The outcomes of a control point's card: its own from checklist 2 on.
+    control_outcomes: Vec<String>,
+    /// The checklist gives control points their own outcomes (then the card
+    /// asks for the cause and the estimated area of a clearing found).
+    control_own: bool,
 }
 
 #[derive(Template)]
@@ -147,7 +155,7 @@ pub fn render_field_sheet(input: &SheetInput) -> Result<String, SheetError> {
         )));
     }
     let events = event_cards(input)?;
-    let controls = control_cards(&input.controls)?;
+    let controls = control_cards(&input.controls, &input.header.bundle_id)?;
     let (route, total) = route_rows(&input.legs)?;
     let h = &input.header;
     let when = |t: &chrono::DateTime<chrono::Utc>| input.zone.show(*t);
@@ -229,7 +237,10 @@ fn preview_uri(code: &str, png: &[u8]) -> Result<Option<String>, SheetError> {
 }
 
 /// The control cards in visit order.
-fn control_cards(controls: &[ControlPoint]) -> Result<Vec<ControlCard>, SheetError> {
+fn control_cards(
+    controls: &[ControlPoint],
+    bundle_id: &uuid::Uuid,
+) -> Result<Vec<ControlCard>, SheetError> {
     let mut controls: Vec<&ControlPoint> = controls.iter().collect();
     controls.sort_by_key(|c| c.visit_order);
     controls
@@ -245,6 +256,7 @@ fn control_cards(controls: &[ControlPoint]) -> Result<Vec<ControlCard>, SheetErr
                 code: c.code.clone(),
                 order: c.visit_order,
                 pos: position_text(c.point.y(), c.point.x()),
+                gps_name: groundproof_sync::bundle::control_waypoint_name(bundle_id, &c.code),
             })
         })
         .collect()
@@ -279,6 +291,12 @@ fn checklist_view(cl: &Checklist) -> ChecklistView {
         not_reached_reasons: cl.not_reached_reasons.iter().map(|s| humanise(s)).collect(),
         causes: cl.causes.iter().map(|s| humanise(s)).collect(),
         photos: format!("photos taken (min {})", cl.min_photos_confirmed),
+        control_outcomes: cl
+            .outcomes_for(groundproof_sync::TargetKind::Control)
+            .iter()
+            .map(|s| humanise(s))
+            .collect(),
+        control_own: !cl.control_outcomes.is_empty(),
     }
 }
 

@@ -512,3 +512,48 @@ fn every_stop_card_has_room_for_the_station_entry() {
         assert_eq!(text(card, ".record-sheet"), id);
     }
 }
+
+#[test]
+fn control_cards_ask_for_their_own_outcomes_from_checklist_2() {
+    let mut i = input();
+    i.checklist = Checklist::default_v2();
+    let html = render_field_sheet(&i).expect("renders");
+    let doc = Html::parse_document(&html);
+    let cards: Vec<ElementRef<'_>> = doc.select(&sel("article.card.control")).collect();
+    assert_eq!(cards.len(), 2);
+    for card in &cards {
+        let t = text(*card, ".checklist");
+        for word in [
+            "no clearing found",
+            "clearing found",
+            "If clearing found, cause",
+            "estimated area",
+            "If not reached",
+        ] {
+            assert!(t.contains(word), "{word:?} missing from {t:?}");
+        }
+        assert!(!t.contains("false alarm"), "{t:?}");
+        // The name the bundle's GPX gives the control point's waypoint.
+        let code = card.value().attr("data-code").expect("code");
+        let want = groundproof_sync::bundle::control_waypoint_name(&i.header.bundle_id, code);
+        assert_eq!(text(*card, ".gps-name .mono"), want);
+        // Tick boxes: 4 control outcomes + 9 causes (DESIGN.md) + 3 not-reached
+        // reasons + photos + position.
+        assert_eq!(card.select(&sel(".box")).count(), 4 + 9 + 3 + 2);
+    }
+    // The event cards keep the event outcomes.
+    let ev = doc
+        .select(&sel("article.card.event"))
+        .next()
+        .expect("event");
+    assert!(text(ev, ".checklist").contains("false alarm"));
+    // A checklist 1 trip's control card is as it was: the event outcomes.
+    let v1 = render_field_sheet(&input()).expect("renders");
+    let doc = Html::parse_document(&v1);
+    let card = doc
+        .select(&sel("article.card.control"))
+        .next()
+        .expect("card");
+    assert!(text(card, ".checklist").contains("false alarm"));
+    assert_eq!(card.select(&sel(".box")).count(), 4 + 2);
+}

@@ -437,3 +437,75 @@ pub(crate) fn assessment_of(
         area,
     }))
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use groundproof_sync::Outcome;
+
+    /// Control points answered with `words`, each a 1 ha plot with π = 0.002.
+    fn controls(words: &[Outcome]) -> Vec<ControlFacts> {
+        words
+            .iter()
+            .map(|o| ControlFacts {
+                stratum: "control".into(),
+                found_clearing: o.control_finding(),
+                area_ha: 1.0,
+                inclusion_probability: 0.002,
+            })
+            .collect()
+    }
+
+    #[test]
+    fn control_outcomes_of_both_checklists_feed_the_error_matrix() {
+        // The worked matrix of figures/tests.rs `error_matrix_agrees_with_olofsson`
+        // (checked there against estimators::olofsson): alert stratum 8 confirmed,
+        // 2 false alarms, A = 110 ha; control stratum 1 clearing, 19 none, 1 not
+        // reached, A = 21/0.002 = 10 500 ha. By hand: clearing area
+        // 110·0.8 + 10 500·(1/20) = 613 ha, producer's accuracy 88/613.
+        let alert = AlertStratum {
+            stratum: "alert".into(),
+            population: 100,
+            selected: 11,
+            confirmed: 8,
+            false_alarm: 2,
+            non_response: NonResponse {
+                not_reached: 1,
+                ..NonResponse::default()
+            },
+            mapped_area_ha: 110.0,
+            users_accuracy: None,
+        };
+        // Checklist 2's words, checklist 1's words, and a mix of the two.
+        let mut v2 = vec![Outcome::ClearingFound];
+        v2.extend([Outcome::NoClearingFound; 19]);
+        v2.push(Outcome::NotReached);
+        let mut v1 = vec![Outcome::Confirmed];
+        v1.extend([Outcome::FalseAlarm; 19]);
+        v1.push(Outcome::Inconclusive);
+        let mixed: Vec<Outcome> = v2
+            .iter()
+            .zip(&v1)
+            .enumerate()
+            .map(|(i, (a, b))| if i % 2 == 0 { *a } else { *b })
+            .collect();
+        for words in [v2, v1, mixed] {
+            let strata = control_strata(&controls(&words)).expect("valid");
+            assert_eq!(
+                (
+                    strata[0].clearing,
+                    strata[0].no_clearing,
+                    strata[0].not_reached
+                ),
+                (1, 19, 1)
+            );
+            let area = area_assessment(std::slice::from_ref(&alert), &strata)
+                .expect("valid")
+                .expect("some");
+            assert!((area.total_area_ha - 10_610.0).abs() < 1e-9);
+            assert!((area.clearing_area_ha.estimate - 613.0).abs() < 1e-9);
+            let pa = area.producers_accuracy_clearing.expect("pa").estimate;
+            assert!((pa - 88.0 / 613.0).abs() < 1e-12, "{pa}");
+        }
+    }
+}

@@ -299,11 +299,9 @@ fn control_facts(
         if area <= 0.0 || *k <= 0 {
             continue;
         }
-        let found = latest_control_report(scan, c).and_then(|r| match r.outcome {
-            Outcome::Confirmed => Some(true),
-            Outcome::FalseAlarm => Some(false),
-            _ => None,
-        });
+        // Checklist 2's control outcomes and checklist 1's event words, read
+        // in one place.
+        let found = latest_control_report(scan, c).and_then(|r| r.outcome.control_finding());
         out_controls.push((
             zone.clone(),
             ControlFacts {

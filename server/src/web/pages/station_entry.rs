@@ -49,6 +49,8 @@ struct StopView {
     kind: String,
     e: StopEntry,
     photos: Vec<PhotoView>,
+    /// The outcomes the checklist allows on this stop (a control point has its own).
+    outcomes: Vec<Choice>,
 }
 
 struct Choice {
@@ -69,7 +71,6 @@ struct EntryPage {
     stops: Vec<StopView>,
     unplaced: Vec<PhotoView>,
     codes: Vec<String>,
-    outcomes: Vec<Choice>,
     reasons_false: Vec<Choice>,
     reasons_not_reached: Vec<Choice>,
     causes: Vec<Choice>,
@@ -173,6 +174,7 @@ fn page(
             kind: st.kind.as_str().replace('_', " "),
             e: d.stops.get(&st.code).cloned().unwrap_or_default(),
             photos: Vec::new(),
+            outcomes: choices(cl.outcomes_for(st.kind)),
         })
         .collect::<Vec<_>>();
     let (mut stops, mut unplaced) = (stops, Vec::new());
@@ -193,7 +195,6 @@ fn page(
         codes: trip.stops.iter().map(|s| s.code.clone()).collect(),
         stops,
         unplaced,
-        outcomes: choices(&cl.outcomes),
         reasons_false: choices(&cl.false_alarm_reasons),
         reasons_not_reached: choices(&cl.not_reached_reasons),
         causes: choices(&cl.causes),

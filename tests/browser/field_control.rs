@@ -1,0 +1,248 @@
+//! Browser test of the field app's control-point outcomes: the report
+//! module served at `/field/report.js`, run in headless Chromium, offers a
+//! control point its own outcomes from checklist 2 on (the event outcomes
+//! with a checklist 1 trip), and its checks give the same verdicts as the
+//! Rust validator (`groundproof_sync::returns::validate_report`) on the
+//! same reports, with the real checklist of an issued assessment bundle.
+//! Every catalogue holds the new words. Fails when `CI` is set and Chromium
+//! or ChromeDriver is missing; elsewhere it says SKIP on stderr.
+
+#[path = "webdriver.rs"]
+#[allow(dead_code)]
+mod webdriver;
+
+use groundproof_e2e::{TestServer, get, get_bytes, load_scenario, post_json};
+use groundproof_sync::bundle::{Checklist, open_bundle};
+use groundproof_sync::returns::{Report, validate_report};
+use serde_json::{Value, json};
+use std::time::{Duration, Instant};
+use webdriver::Browser;
+
+/// The JavaScript module's verdict on each case, run in the page.
+fn js_verdicts(b: &Browser, cases: &Value) -> Value {
+    b.script(&format!(
+        "window.__verdicts = null;\
+         import('/field/report.js').then((m) => {{\
+           const cases = {cases};\
+           window.__verdicts = cases.map(([r, c]) => {{\
+             try {{ m.validateReport(r, c); return 'ok'; }} catch (e) {{ return e.key || String(e); }}\
+           }});\
+           window.__offered = [m.outcomesFor(cases[0][1], 'control'), m.outcomesFor(cases[0][1], 'event'),\
+             m.outcomesFor(cases[cases.length - 1][1], 'control')];\
+         }});\
+         return true;"
+    ));
+    let start = Instant::now();
+    loop {
+        let v = b.script("return window.__verdicts;");
+        if !v.is_null() {
+            return v;
+        }
+        assert!(
+            start.elapsed() < Duration::from_secs(30),
+            "report.js did not answer: {:#?}",
+            b.console()
+        );
+        std::thread::sleep(Duration::from_millis(100));
+    }
+}
+
+fn report(bundle_id: &str, target: Value, outcome: &str, fields: Value) -> Value {
+    let mut r = json!({
+        "report_id": "6f1c2c3e-8d1b-4c55-9a57-0d3b0f1e2a11",
+        "bundle_id": bundle_id,
+        "target": target,
+        "supersedes": null,
+        "outcome": outcome,
+        "reason": null,
+        "cause": null,
+        "position": {"lat": -3.1, "lon": -60.2, "accuracy_m": 5.0, "source": "manual"},
+        "observed_at": "2026-11-02T10:00:00Z",
+        "recorded_at": "2026-11-02T10:05:00Z",
+        "area_ha": null,
+        "notes": "",
+        "photos": [],
+    });
+    for (k, v) in fields.as_object().expect("fields") {
+        r[k] = v.clone();
+    }
+    r
+}
+
+fn photos() -> Value {
+    json!([
+        {"sha256": "1".repeat(64), "original_name": "a.jpg", "taken_at": null, "lat": null, "lon": null, "direction_deg": null},
+        {"sha256": "2".repeat(64), "original_name": "b.jpg", "taken_at": null, "lat": null, "lon": null, "direction_deg": null},
+    ])
+}
+
+#[test]
+fn field_app_offers_control_points_their_own_outcomes() {
+    let b = match Browser::start() {
+        Ok(b) => b,
+        Err(e) => {
+            groundproof_e2e::missing(&e.to_string());
+            return;
+        }
+    };
+    let s = TestServer::start();
+    load_scenario(&s);
+    let station = mock_patrols::scenario().station;
+    let r = post_json(
+        &s.url("/api/v1/bundles"),
+        &json!({"team": "Team Basalt", "mode": "assessment", "zone": "Riverside Community Land",
+            "margin": 0.3, "controls": 2, "seed": 7,
+            "start": {"lat": station.1, "lon": station.0}}),
+    );
+    assert_eq!(r.status, 201, "{}", r.body);
+    let (status, zip) = get_bytes(&s.url(r.json()["download"].as_str().expect("download")));
+    assert_eq!(status, 200);
+    let dir = tempfile::tempdir().expect("dir");
+    let path = dir.path().join("bundle.zip");
+    std::fs::write(&path, &zip).expect("saved");
+    let bundle = open_bundle(&path, chrono::Utc::now()).expect("opens");
+    let v2 = bundle.checklist.clone();
+    assert_eq!(v2.version, 2);
+    let v1 = Checklist::default_v1();
+    let bid = bundle.manifest.bundle_id.to_string();
+    let control = json!({"kind": "control", "code": bundle.controls[0].code});
+    let event = json!({"kind": "event", "code": bundle.events[0].code, "event_id": bundle.events[0].event_id});
+    let found = json!({"cause": "fire", "area_ha": 0.7, "photos": photos()});
+    let cases: Vec<(Value, &Checklist, &str)> = vec![
+        (
+            report(&bid, control.clone(), "clearing_found", found.clone()),
+            &v2,
+            "ok",
+        ),
+        (
+            report(&bid, control.clone(), "no_clearing_found", json!({})),
+            &v2,
+            "ok",
+        ),
+        (
+            report(
+                &bid,
+                control.clone(),
+                "clearing_found",
+                json!({"cause": "fire", "photos": photos()}),
+            ),
+            &v2,
+            "problem.required_area_ha",
+        ),
+        (
+            report(
+                &bid,
+                control.clone(),
+                "clearing_found",
+                json!({"area_ha": 0.7, "photos": photos()}),
+            ),
+            &v2,
+            "problem.required_cause",
+        ),
+        (
+            report(
+                &bid,
+                control.clone(),
+                "clearing_found",
+                json!({"cause": "fire", "area_ha": 0.7}),
+            ),
+            &v2,
+            "problem.min_photos",
+        ),
+        (
+            report(
+                &bid,
+                control.clone(),
+                "false_alarm",
+                json!({"reason": "no_change"}),
+            ),
+            &v2,
+            "problem.pick_outcome",
+        ),
+        (
+            report(&bid, event.clone(), "no_clearing_found", json!({})),
+            &v2,
+            "problem.pick_outcome",
+        ),
+        (
+            report(
+                &bid,
+                control.clone(),
+                "no_clearing_found",
+                json!({"cause": "fire"}),
+            ),
+            &v2,
+            "problem.pick_cause",
+        ),
+        // A trip of checklist 1: the control point takes the event words.
+        (
+            report(
+                &bid,
+                control.clone(),
+                "false_alarm",
+                json!({"reason": "no_change"}),
+            ),
+            &v1,
+            "ok",
+        ),
+        (
+            report(&bid, control, "no_clearing_found", json!({})),
+            &v1,
+            "problem.pick_outcome",
+        ),
+    ];
+    let js_cases: Value = cases
+        .iter()
+        .map(|(r, c, _)| json!([r, serde_json::to_value(c).expect("checklist")]))
+        .collect();
+    b.goto(&s.url("/field/"));
+    let verdicts = js_verdicts(&b, &js_cases);
+    for (i, (r, c, want)) in cases.iter().enumerate() {
+        assert_eq!(verdicts[i], json!(want), "case {i}: {r}");
+        // The Rust validator agrees (accepts or refuses the same reports).
+        let typed: Report = serde_json::from_value(r.clone()).expect("a report");
+        assert_eq!(
+            validate_report(&typed, c).is_ok(),
+            *want == "ok",
+            "case {i}: Rust says {:?}",
+            validate_report(&typed, c)
+        );
+    }
+    let offered = b.script("return window.__offered;");
+    assert_eq!(
+        offered,
+        json!([
+            [
+                "no_clearing_found",
+                "clearing_found",
+                "inconclusive",
+                "not_reached"
+            ],
+            ["confirmed", "false_alarm", "inconclusive", "not_reached"],
+            ["confirmed", "false_alarm", "inconclusive", "not_reached"],
+        ])
+    );
+    let errors: Vec<_> = b
+        .console()
+        .into_iter()
+        .filter(|l| l.level == "SEVERE")
+        .collect();
+    assert!(errors.is_empty(), "{errors:#?}");
+    // Every catalogue (Fluent, shared with the pages) has the new words.
+    for lang in ["en", "es", "fr", "pt", "id"] {
+        let r = get(&s.url(&format!("/field/i18n/{lang}/field.ftl")));
+        assert_eq!(r.status, 200, "{lang}");
+        for id in [
+            "outcome-no_clearing_found",
+            "outcome-clearing_found",
+            "form-area_control",
+        ] {
+            let line = r
+                .body
+                .lines()
+                .find(|l| l.starts_with(&format!("{id} =")))
+                .unwrap_or_else(|| panic!("{lang}: {id} missing"));
+            assert!(line.len() > id.len() + 3, "{lang}: {id} empty");
+        }
+    }
+}
