@@ -106,11 +106,11 @@ fn every_stop_in_error_is_named_and_nothing_is_built() {
     let (t, mut d) = (trip(), draft());
     // C0001 has photos but (here) an outcome missing its reason; C0002 has
     // photos and no outcome.
-    apply_form(&t, &mut d, form(&[("C0001", "false_alarm", "")])).unwrap();
+    apply_form(&t, &mut d, form(&[("C0001", "not_reached", "")])).unwrap();
     let errs = build_reports(&t, &d, Path::new("/nowhere"), 100.0).unwrap_err();
     assert_eq!(errs.len(), 2, "{errs:?}");
     assert!(
-        errs[0].starts_with("stop C0001: outcome false_alarm needs a reason"),
+        errs[0].starts_with("stop C0001: outcome not_reached needs a reason"),
         "{errs:?}"
     );
     assert!(
@@ -123,7 +123,7 @@ fn every_stop_in_error_is_named_and_nothing_is_built() {
 fn reports_take_the_sheet_and_the_photos() {
     let (t, mut d) = (trip(), draft());
     let mut f = form(&[
-        ("C0001", "false_alarm", "no_change"),
+        ("C0001", "not_reached", "access"),
         ("C0002", "not_reached", "terrain"),
     ]);
     f.stops.get_mut("C0002").unwrap().time = "2026-08-29T08:30".into();
@@ -134,7 +134,7 @@ fn reports_take_the_sheet_and_the_photos() {
     assert_eq!(reports.len(), 2);
     assert_eq!(files.len(), 4);
     let r = &reports[0];
-    assert_eq!(r.reason.as_deref(), Some("no_change"));
+    assert_eq!(r.reason.as_deref(), Some("access"));
     assert_eq!(r.photos.len(), 3);
     // No time written: the earliest photo's time; no position written: the first photo's GPS.
     assert_eq!(r.observed_at, d.photos[0].exif_time.unwrap());
