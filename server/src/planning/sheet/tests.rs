@@ -162,6 +162,7 @@ fn input() -> SheetInput {
         checklist: Checklist::default_v1(),
         palette,
         zone: crate::domain::OrgZone::UTC,
+        tr: crate::platform::i18n::Tr::default(),
     }
 }
 
