@@ -3,8 +3,8 @@
 //! and checklist labels.
 
 use crate::planning::coords::format::as_written;
-use crate::platform::i18n::Tr;
 use crate::planning::coords::{Hemisphere, MgrsPrecision, format_dd, group_mgrs, to_mgrs, to_utm};
+use crate::platform::i18n::Tr;
 
 /// Shown instead of UTM or MGRS for a latitude outside the UTM band (the poles).
 pub const OUTSIDE_UTM: &str = "outside the UTM/MGRS band";

@@ -19,6 +19,7 @@ use crate::intake::IntakeError;
 use crate::intake::station::draft::{self, Draft, StopEntry};
 use crate::intake::station::propose::Basis;
 use crate::intake::station::{self as entry, EntryForm, Trip};
+use crate::platform::i18n::Tr;
 use crate::platform::settings::Settings;
 use crate::web::AppState;
 use crate::web::pages::common::MAX_TEXT_FIELD_BYTES;
@@ -83,12 +84,14 @@ struct EntryPage {
     received: Option<Received>,
 }
 
-fn choices(words: &[String]) -> Vec<Choice> {
+/// The choices of a select, labelled in `tr`'s language by the field
+/// app's words (`<prefix>-<token>`).
+fn choices(tr: Tr, prefix: &str, words: &[String]) -> Vec<Choice> {
     words
         .iter()
         .map(|w| Choice {
             value: w.clone(),
-            label: w.replace('_', " "),
+            label: super::views::word(tr, prefix, w),
         })
         .collect()
 }
@@ -163,6 +166,7 @@ fn page(
     s: Shown,
 ) -> EntryPage {
     let cl = entry::checklist();
+    let tr = crate::web::i18n::tr_of(req);
     let mut photos = photo_views(trip, d, tol, settings);
     photos.sort_by(|a, b| a.time.cmp(&b.time).then(a.name.cmp(&b.name)));
     let stops = trip
@@ -171,10 +175,10 @@ fn page(
         .map(|st| StopView {
             order: st.order,
             code: st.code.clone(),
-            kind: st.kind.as_str().replace('_', " "),
+            kind: super::views::word(tr, "report-kind", st.kind.as_str()),
             e: d.stops.get(&st.code).cloned().unwrap_or_default(),
             photos: Vec::new(),
-            outcomes: choices(cl.outcomes_for(st.kind)),
+            outcomes: choices(tr, "outcome", cl.outcomes_for(st.kind)),
         })
         .collect::<Vec<_>>();
     let (mut stops, mut unplaced) = (stops, Vec::new());
@@ -195,9 +199,9 @@ fn page(
         codes: trip.stops.iter().map(|s| s.code.clone()).collect(),
         stops,
         unplaced,
-        reasons_false: choices(&cl.false_alarm_reasons),
-        reasons_not_reached: choices(&cl.not_reached_reasons),
-        causes: choices(&cl.causes),
+        reasons_false: choices(tr, "reason", &cl.false_alarm_reasons),
+        reasons_not_reached: choices(tr, "reason", &cl.not_reached_reasons),
+        causes: choices(tr, "cause", &cl.causes),
         photo_count: d.photos.len(),
         photo_bytes: human_bytes(d.photo_bytes()),
         limits: format!(
