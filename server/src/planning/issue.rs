@@ -265,8 +265,7 @@ fn write_bundle_file(
         sheet_events,
         legs,
         palette,
-        planned.zone,
-        planned.tr,
+        (planned.zone, planned.tr),
     )?);
 
     let file_name = format!("{}.zip", header.bundle_id);
@@ -543,7 +542,8 @@ struct ZipContents<'a> {
     key: &'a [u8; 32],
 }
 
-/// The printable field sheet of the bundle, as a ZIP extra.
+/// The printable field sheet of the bundle, as a ZIP extra; its times in
+/// the organisation's zone and its words in the language of `tr`.
 fn field_sheet(
     c: &ZipContents<'_>,
     req: &TripRequest,
@@ -551,8 +551,7 @@ fn field_sheet(
     sheet_events: Vec<SheetEvent>,
     legs: Vec<RouteLeg>,
     palette: SourcePalette,
-    zone: crate::domain::OrgZone,
-    tr: Tr,
+    (zone, tr): (crate::domain::OrgZone, Tr),
 ) -> Result<ExtraEntry> {
     let sheet = render_field_sheet(&SheetInput {
         header: c.header.clone(),
