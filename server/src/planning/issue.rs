@@ -16,6 +16,7 @@ use crate::planning::sheet::{
     PreviewPixel, RouteLeg, SheetEvent, SheetInput, SourcePalette, render_field_sheet,
     render_preview_with_palette,
 };
+use crate::platform::i18n::Tr;
 use crate::platform::settings::Settings;
 use crate::platform::storage::{BundleItem, BundleRecord, Db, NewBundle, Team};
 use geo::Point;
@@ -44,16 +45,31 @@ pub struct IssuedBundle {
     pub strata: Vec<StratumPlan>,
 }
 
-/// Choose, route, write and record a bundle.
+/// Choose, route, write and record a bundle; its field sheet in the
+/// organisation's default language (the command line's).
 pub fn issue_bundle(
     db: &Db,
     data_dir: &std::path::Path,
     settings: &Settings,
     req: &TripRequest,
 ) -> Result<IssuedBundle> {
+    let tr = Tr::new(&settings.organisation.default_language);
+    issue_bundle_in(db, data_dir, settings, req, tr)
+}
+
+/// [`issue_bundle`] with the field sheet in the language of `tr` (the
+/// issuing coordinator's).
+pub fn issue_bundle_in(
+    db: &Db,
+    data_dir: &std::path::Path,
+    settings: &Settings,
+    req: &TripRequest,
+    tr: Tr,
+) -> Result<IssuedBundle> {
     let team = team_of(db, req)?;
     check_request(req)?;
-    let planned = plan_trip(db, settings, req)?;
+    let mut planned = plan_trip(db, settings, req)?;
+    planned.tr = tr;
     check_expected_order(req, &planned)?;
     let (header, key) = new_header(&team.name, req, planned.sel.seed);
     let file = write_bundle_file(db, data_dir, req, &team.name, &planned, &header, &key)?;
@@ -183,6 +199,8 @@ struct Planned {
     controls: Vec<ControlPoint>,
     /// The organisation's zone, for the times on the field sheet.
     zone: crate::domain::OrgZone,
+    /// The field sheet's language.
+    tr: Tr,
 }
 
 /// Chooses the trip's events and control points and routes them.
@@ -197,6 +215,7 @@ fn plan_trip(db: &Db, settings: &Settings, req: &TripRequest) -> Result<Planned>
         events,
         controls,
         zone: settings.zone(),
+        tr: Tr::new(&settings.organisation.default_language),
     })
 }
 
@@ -246,7 +265,7 @@ fn write_bundle_file(
         sheet_events,
         legs,
         palette,
-        planned.zone,
+        (planned.zone, planned.tr),
     )?);
 
     let file_name = format!("{}.zip", header.bundle_id);
@@ -523,7 +542,8 @@ struct ZipContents<'a> {
     key: &'a [u8; 32],
 }
 
-/// The printable field sheet of the bundle, as a ZIP extra.
+/// The printable field sheet of the bundle, as a ZIP extra; its times in
+/// the organisation's zone and its words in the language of `tr`.
 fn field_sheet(
     c: &ZipContents<'_>,
     req: &TripRequest,
@@ -531,7 +551,7 @@ fn field_sheet(
     sheet_events: Vec<SheetEvent>,
     legs: Vec<RouteLeg>,
     palette: SourcePalette,
-    zone: crate::domain::OrgZone,
+    (zone, tr): (crate::domain::OrgZone, Tr),
 ) -> Result<ExtraEntry> {
     let sheet = render_field_sheet(&SheetInput {
         header: c.header.clone(),
@@ -544,6 +564,7 @@ fn field_sheet(
         checklist: c.checklist.clone(),
         palette,
         zone,
+        tr,
     })
     .map_err(|e| Error::Internal(format!("field sheet: {e}")))?;
     Ok(ExtraEntry {

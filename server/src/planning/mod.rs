@@ -36,7 +36,9 @@ pub mod select;
 pub mod sheet;
 pub mod trip_state;
 
-pub use issue::{IssuedBundle, PlannedStop, TripPlan, cancel_bundle, issue_bundle, plan_preview};
+pub use issue::{
+    IssuedBundle, PlannedStop, TripPlan, cancel_bundle, issue_bundle, issue_bundle_in, plan_preview,
+};
 pub use select::TripRequest;
 pub use trip_state::{TripFacts, TripState, trip_state};
 

@@ -9,7 +9,8 @@ use groundproof_sync::bundle::{
 use super::SheetError;
 use super::base64::png_data_uri;
 use super::palette::SourcePalette;
-use super::view::{PositionText, area_text, humanise, km_text, position_text};
+use super::view::{PositionText, area_text, km_text, position_text, token_words};
+use crate::platform::i18n::Tr;
 
 /// Most event cards plus control cards on one sheet (our choice: a trip of a few hundred
 /// stops; the bundle holds at most 256 ZIP entries anyway).
@@ -65,6 +66,9 @@ pub struct SheetInput {
     pub palette: SourcePalette,
     /// The organisation's time zone: issue, due and expiry are shown in it.
     pub zone: crate::domain::OrgZone,
+    /// The sheet's language: the issuing coordinator's, or the
+    /// organisation's default when issued from the command line.
+    pub tr: Tr,
 }
 
 /// A source named with its legend swatch.
@@ -120,13 +124,15 @@ struct ChecklistView {
 #[derive(Template)]
 #[template(path = "field-sheet.html")]
 struct FieldSheetPage {
+    tr: Tr,
     bundle_id: String,
+    /// The trip's kind in the sheet's language.
+    mode_text: String,
     /// The identifier the station operator copies back (`domain::sheet`).
     sheet_id: String,
     team: String,
     team_label: String,
     reserve: String,
-    mode: String,
     assessment: bool,
     seed: Option<String>,
     issued: String,
@@ -160,13 +166,17 @@ pub fn render_field_sheet(input: &SheetInput) -> Result<String, SheetError> {
     let h = &input.header;
     let when = |t: &chrono::DateTime<chrono::Utc>| input.zone.show(*t);
     let all_sources = input.palette.sources().to_vec();
+    let tr = input.tr;
     let page = FieldSheetPage {
+        tr,
         bundle_id: h.bundle_id.to_string(),
+        mode_text: tr
+            .get(&format!("sheet-mode-{}", h.mode))
+            .unwrap_or_else(|| h.mode.clone()),
         sheet_id: crate::domain::sheet::sheet_id(&h.bundle_id.to_string()),
         team: h.team.clone(),
         team_label: input.team_label.clone(),
         reserve: input.reserve.clone(),
-        mode: h.mode.clone(),
         assessment: h.mode == MODE_ASSESSMENT,
         seed: h.seed.map(|s| s.to_string()),
         issued: when(&h.issued_at),
@@ -179,7 +189,7 @@ pub fn render_field_sheet(input: &SheetInput) -> Result<String, SheetError> {
         total: km_text(total),
         events,
         controls,
-        checklist: checklist_view(&input.checklist),
+        checklist: checklist_view(&input.checklist, &tr),
     };
     Ok(page.render()?)
 }
@@ -283,19 +293,21 @@ fn route_rows(legs: &[RouteLeg]) -> Result<(Vec<RouteRow>, f64), SheetError> {
     Ok((route, total))
 }
 
-fn checklist_view(cl: &Checklist) -> ChecklistView {
+fn checklist_view(cl: &Checklist, tr: &Tr) -> ChecklistView {
+    let words = |prefix: &str, tokens: &[String]| -> Vec<String> {
+        tokens.iter().map(|t| token_words(tr, prefix, t)).collect()
+    };
     ChecklistView {
         version: cl.version,
-        outcomes: cl.outcomes.iter().map(|s| humanise(s)).collect(),
-        false_alarm_reasons: cl.false_alarm_reasons.iter().map(|s| humanise(s)).collect(),
-        not_reached_reasons: cl.not_reached_reasons.iter().map(|s| humanise(s)).collect(),
-        causes: cl.causes.iter().map(|s| humanise(s)).collect(),
-        photos: format!("photos taken (min {})", cl.min_photos_confirmed),
-        control_outcomes: cl
-            .outcomes_for(groundproof_sync::TargetKind::Control)
-            .iter()
-            .map(|s| humanise(s))
-            .collect(),
+        outcomes: words("outcome", &cl.outcomes),
+        false_alarm_reasons: words("reason", &cl.false_alarm_reasons),
+        not_reached_reasons: words("reason", &cl.not_reached_reasons),
+        causes: words("cause", &cl.causes),
+        photos: tr.t1("sheet-photos-taken", "min", cl.min_photos_confirmed),
+        control_outcomes: words(
+            "outcome",
+            cl.outcomes_for(groundproof_sync::TargetKind::Control),
+        ),
         control_own: !cl.control_outcomes.is_empty(),
     }
 }

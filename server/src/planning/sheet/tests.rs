@@ -162,6 +162,7 @@ fn input() -> SheetInput {
         checklist: Checklist::default_v1(),
         palette,
         zone: crate::domain::OrgZone::UTC,
+        tr: crate::platform::i18n::Tr::default(),
     }
 }
 
@@ -523,16 +524,17 @@ fn control_cards_ask_for_their_own_outcomes_from_checklist_2() {
     assert_eq!(cards.len(), 2);
     for card in &cards {
         let t = text(*card, ".checklist");
+        // The outcomes in the field app's words (templates/i18n/en/field.ftl).
         for word in [
-            "no clearing found",
-            "clearing found",
+            "No clearing here",
+            "Clearing found (no alert here)",
             "If clearing found, cause",
             "estimated area",
             "If not reached",
         ] {
             assert!(t.contains(word), "{word:?} missing from {t:?}");
         }
-        assert!(!t.contains("false alarm"), "{t:?}");
+        assert!(!t.contains("False alarm"), "{t:?}");
         // The name the bundle's GPX gives the control point's waypoint.
         let code = card.value().attr("data-code").expect("code");
         let want = groundproof_sync::bundle::control_waypoint_name(&i.header.bundle_id, code);
@@ -546,7 +548,7 @@ fn control_cards_ask_for_their_own_outcomes_from_checklist_2() {
         .select(&sel("article.card.event"))
         .next()
         .expect("event");
-    assert!(text(ev, ".checklist").contains("false alarm"));
+    assert!(text(ev, ".checklist").contains("False alarm"));
     // A checklist 1 trip's control card is as it was: the event outcomes.
     let v1 = render_field_sheet(&input()).expect("renders");
     let doc = Html::parse_document(&v1);
@@ -554,6 +556,26 @@ fn control_cards_ask_for_their_own_outcomes_from_checklist_2() {
         .select(&sel("article.card.control"))
         .next()
         .expect("card");
-    assert!(text(card, ".checklist").contains("false alarm"));
+    assert!(text(card, ".checklist").contains("False alarm"));
     assert_eq!(card.select(&sel(".box")).count(), 4 + 2);
+}
+
+/// The sheet in the coordinator's language: Portuguese words from our own
+/// catalogue (templates/i18n/pt/*.ftl), the safety cautions first and
+/// translated, no English caution left.
+#[test]
+fn the_sheet_speaks_the_issuers_language() {
+    let mut i = input();
+    i.tr = crate::platform::i18n::Tr::new("pt");
+    let html = render_field_sheet(&i).expect("renders");
+    let doc = Html::parse_document(&html);
+    let cautions = text(doc.root_element(), "section.cautions");
+    assert!(
+        cautions.contains("Segurança em primeiro lugar"),
+        "{cautions}"
+    );
+    assert!(cautions.contains("Não se aproxime"), "{cautions}");
+    assert!(!html.contains("Safety first"));
+    assert!(html.contains("<html lang=\"pt\">"));
+    assert!(html.contains("Alarme falso"));
 }

@@ -4,6 +4,7 @@
 
 use crate::planning::coords::format::as_written;
 use crate::planning::coords::{Hemisphere, MgrsPrecision, format_dd, group_mgrs, to_mgrs, to_utm};
+use crate::platform::i18n::Tr;
 
 /// Shown instead of UTM or MGRS for a latitude outside the UTM band (the poles).
 pub const OUTSIDE_UTM: &str = "outside the UTM/MGRS band";
@@ -32,6 +33,25 @@ pub struct UtmText {
     pub easting: String,
     /// Northing in whole metres, truncated like the easting.
     pub northing: String,
+}
+
+impl UtmText {
+    /// The message id of the hemisphere's word on the sheet.
+    pub fn hemisphere_id(&self) -> &'static str {
+        if self.hemisphere == "south" {
+            "sheet-hemisphere-south"
+        } else {
+            "sheet-hemisphere-north"
+        }
+    }
+}
+
+/// A checklist token in the sheet's language: the field app's word
+/// (`<prefix>-<token>` of the catalogues, e.g. `outcome-false_alarm`), else
+/// the token for people ([`humanise`]).
+pub fn token_words(tr: &Tr, prefix: &str, token: &str) -> String {
+    tr.get(&format!("{prefix}-{token}"))
+        .unwrap_or_else(|| humanise(token))
 }
 
 /// The position (`lat`, `lon`) in decimal degrees, UTM and MGRS. UTM and MGRS are computed

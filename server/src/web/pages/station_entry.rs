@@ -19,6 +19,7 @@ use crate::intake::IntakeError;
 use crate::intake::station::draft::{self, Draft, StopEntry};
 use crate::intake::station::propose::Basis;
 use crate::intake::station::{self as entry, EntryForm, Trip};
+use crate::platform::i18n::Tr;
 use crate::platform::settings::Settings;
 use crate::web::AppState;
 use crate::web::pages::common::MAX_TEXT_FIELD_BYTES;
@@ -83,42 +84,54 @@ struct EntryPage {
     received: Option<Received>,
 }
 
-fn choices(words: &[String]) -> Vec<Choice> {
+/// The choices of a select, labelled in `tr`'s language by the field
+/// app's words (`<prefix>-<token>`).
+fn choices(tr: Tr, prefix: &str, words: &[String]) -> Vec<Choice> {
     words
         .iter()
         .map(|w| Choice {
             value: w.clone(),
-            label: w.replace('_', " "),
+            label: super::views::word(tr, prefix, w),
         })
         .collect()
 }
 
-fn basis_words(b: &Basis, d: &Draft, trip: &Trip) -> String {
+fn basis_words(tr: Tr, b: &Basis, d: &Draft, trip: &Trip) -> String {
     let code = |i: usize| trip.stops.get(i).map_or("?", |s| s.code.as_str());
     match b {
         Basis::Position { distance_m } => {
-            format!("its position is {distance_m:.0} m from the stop")
+            tr.t1("entry-why-position", "distance", format!("{distance_m:.0}"))
         }
-        Basis::Between { before, after } => format!(
-            "taken between {} and {}, both at this stop",
-            d.photos[*before].original_name, d.photos[*after].original_name
+        Basis::Between { before, after } => tr.t2(
+            "entry-why-between",
+            "before",
+            d.photos[*before].original_name.as_str(),
+            "after",
+            d.photos[*after].original_name.as_str(),
         ),
         Basis::Far {
             nearest,
             distance_m,
-        } => format!(
-            "its position is {distance_m:.0} m from the nearest stop {}, beyond the tolerance",
-            code(*nearest)
+        } => tr.t2(
+            "entry-why-far",
+            "distance",
+            format!("{distance_m:.0}"),
+            "code",
+            code(*nearest),
         ),
-        Basis::NoNeighbours => {
-            "no position, and its time is not between two photos of one stop".into()
-        }
-        Basis::NoPositionNoTime => "no position and no time".into(),
-        Basis::NoStops => "the trip has no stops".into(),
+        Basis::NoNeighbours => tr.t("entry-why-no-neighbours"),
+        Basis::NoPositionNoTime => tr.t("entry-why-no-position-no-time"),
+        Basis::NoStops => tr.t("entry-why-no-stops"),
     }
 }
 
-fn photo_views(trip: &Trip, d: &Draft, tolerance_m: f64, settings: &Settings) -> Vec<PhotoView> {
+fn photo_views(
+    tr: Tr,
+    trip: &Trip,
+    d: &Draft,
+    tolerance_m: f64,
+    settings: &Settings,
+) -> Vec<PhotoView> {
     let offset = entry::local_offset(d);
     entry::placements(trip, d, tolerance_m)
         .into_iter()
@@ -127,17 +140,18 @@ fn photo_views(trip: &Trip, d: &Draft, tolerance_m: f64, settings: &Settings) ->
             sha: p.sha256.clone(),
             name: p.original_name.clone(),
             time: entry::photo_time(p, offset)
-                .map_or_else(|| "no time".into(), |t| local_time(settings, t)),
+                .map_or_else(|| tr.t("entry-no-time"), |t| local_time(settings, t)),
             position: match (p.lat, p.lon) {
                 (Some(la), Some(lo)) => format!("{la:.6}, {lo:.6}"),
-                _ => "no position".into(),
+                _ => tr.t("report-no-position"),
             },
             why: match &p.moved_to {
-                Some(_) => format!(
-                    "moved by hand (proposed: {})",
-                    basis_words(&pl.basis, d, trip)
+                Some(_) => tr.t1(
+                    "entry-why-moved",
+                    "why",
+                    basis_words(tr, &pl.basis, d, trip),
                 ),
-                None => basis_words(&pl.basis, d, trip),
+                None => basis_words(tr, &pl.basis, d, trip),
             },
             at: now
                 .and_then(|i| trip.stops.get(i))
@@ -163,7 +177,8 @@ fn page(
     s: Shown,
 ) -> EntryPage {
     let cl = entry::checklist();
-    let mut photos = photo_views(trip, d, tol, settings);
+    let tr = crate::web::i18n::tr_of(req);
+    let mut photos = photo_views(tr, trip, d, tol, settings);
     photos.sort_by(|a, b| a.time.cmp(&b.time).then(a.name.cmp(&b.name)));
     let stops = trip
         .stops
@@ -171,10 +186,10 @@ fn page(
         .map(|st| StopView {
             order: st.order,
             code: st.code.clone(),
-            kind: st.kind.as_str().replace('_', " "),
+            kind: super::views::word(tr, "report-kind", st.kind.as_str()),
             e: d.stops.get(&st.code).cloned().unwrap_or_default(),
             photos: Vec::new(),
-            outcomes: choices(cl.outcomes_for(st.kind)),
+            outcomes: choices(tr, "outcome", cl.outcomes_for(st.kind)),
         })
         .collect::<Vec<_>>();
     let (mut stops, mut unplaced) = (stops, Vec::new());
@@ -195,9 +210,9 @@ fn page(
         codes: trip.stops.iter().map(|s| s.code.clone()).collect(),
         stops,
         unplaced,
-        reasons_false: choices(&cl.false_alarm_reasons),
-        reasons_not_reached: choices(&cl.not_reached_reasons),
-        causes: choices(&cl.causes),
+        reasons_false: choices(tr, "reason", &cl.false_alarm_reasons),
+        reasons_not_reached: choices(tr, "reason", &cl.not_reached_reasons),
+        causes: choices(tr, "cause", &cl.causes),
         photo_count: d.photos.len(),
         photo_bytes: human_bytes(d.photo_bytes()),
         limits: format!(

@@ -13,7 +13,7 @@ use super::trip_page::{
 };
 use crate::error::Error;
 use crate::planning::{
-    IssuedBundle, TripRequest, TripState, cancel_bundle, issue_bundle, trip_state,
+    IssuedBundle, TripRequest, TripState, cancel_bundle, issue_bundle_in, trip_state,
 };
 use crate::platform::auth::Action;
 use crate::platform::storage::{BundleRecord, Team, ZoneRecord};
@@ -286,12 +286,13 @@ pub(super) async fn issue_page(
 ) -> Result<HttpResponse, PageError> {
     let st = state.clone();
     let (by, link_of) = pairing::request_parts(req);
+    let tr = crate::web::i18n::tr_of(req);
     let (out, data, shown) = web::block(move || {
         let mut trip = trip;
         if !trip.statuses.is_empty() {
             trip.reconciled = Some(crate::statistics::kept::event_statuses(&st.db)?);
         }
-        let out: IssuedBundle = issue_bundle(&st.db, &st.data_dir, &st.settings, &trip)?;
+        let out: IssuedBundle = issue_bundle_in(&st.db, &st.data_dir, &st.settings, &trip, tr)?;
         // The bundle is issued whatever happens to its first code; the
         // trip page makes another.
         let shown = pairing::make(&st.db, &out.bundle.id, &by, link_of)

@@ -4,10 +4,12 @@
 
 use super::common::{fixed, local_text};
 use crate::alerts::events::{RankedEvent, parse_multipolygon};
+use crate::platform::i18n::Tr;
 use crate::platform::settings::Settings;
 use crate::platform::storage::{PhotoCheckRow, Reader, ReportPhotoRow, ReportRow, ZoneRecord};
 use crate::reconcile::StatusOutcome;
 use crate::web::charts::{EventStatus, MapEvent, MapInput, MapZone};
+use std::borrow::Borrow;
 use std::collections::BTreeMap;
 
 /// The map's status of an event (unvisited when no report counts).
@@ -84,8 +86,6 @@ pub struct PhotoView {
 pub struct ReportView {
     pub id: String,
     pub team: String,
-    pub kind: String,
-    pub outcome: String,
     /// The stored outcome word (a CSS class suffix).
     pub outcome_class: String,
     pub reason: String,
@@ -100,9 +100,62 @@ pub struct ReportView {
     pub supersedes: String,
     pub counted: bool,
     pub photos: Vec<PhotoView>,
-    /// How the report came in: a field tool's signed return, or entered at
-    /// the station (by whom, from which sheet).
-    pub provenance: String,
+    /// The stored words (outcome, reason, cause, kind), for the page's language.
+    pub tokens: ReportTokens,
+    /// How the report came in: entered at the station (by, sheet, when in
+    /// local time), or `None` for a field tool's signed return.
+    pub entered: Option<(String, String, String)>,
+}
+
+/// The stored vocabulary words of a report, translated by the page.
+#[derive(Debug, Clone, Default)]
+pub struct ReportTokens {
+    pub outcome: String,
+    pub reason: String,
+    pub cause: String,
+    pub kind: String,
+}
+
+/// A stored word in `tr`'s language: the catalogue's `<prefix>-<token>`
+/// (the field app's words), else the token with spaces.
+pub fn word(tr: Tr, prefix: &str, token: &str) -> String {
+    tr.get(&format!("{prefix}-{token}"))
+        .unwrap_or_else(|| token.replace('_', " "))
+}
+
+impl ReportView {
+    /// The outcome in the page's language.
+    pub fn outcome_in(&self, tr: impl Borrow<Tr>) -> String {
+        word(*tr.borrow(), "outcome", &self.tokens.outcome)
+    }
+    /// The reason in the page's language.
+    pub fn reason_in(&self, tr: impl Borrow<Tr>) -> String {
+        word(*tr.borrow(), "reason", &self.tokens.reason)
+    }
+    /// The cause in the page's language.
+    pub fn cause_in(&self, tr: impl Borrow<Tr>) -> String {
+        word(*tr.borrow(), "cause", &self.tokens.cause)
+    }
+    /// The target's kind in the page's language.
+    pub fn kind_in(&self, tr: impl Borrow<Tr>) -> String {
+        word(*tr.borrow(), "report-kind", &self.tokens.kind)
+    }
+    /// How the report came in, in the page's language.
+    pub fn provenance_in(&self, tr: impl Borrow<Tr>) -> String {
+        let tr = *tr.borrow();
+        match &self.entered {
+            Some((by, sheet, at)) => tr.t3(
+                "report-entered-at-station",
+                "by",
+                by.as_str(),
+                "sheet",
+                sheet.as_str(),
+                "at",
+                at.as_str(),
+            ),
+            None => tr.t("report-field-tool"),
+        }
+    }
 }
 
 /// One evidence flag as shown: its words, and the photo it is about (by
@@ -200,6 +253,13 @@ pub fn report_view(
             }
         })
         .collect();
+    let entered = r.station_entry(&row.report_id)?.map(|e| {
+        (
+            e.entered_by,
+            e.sheet,
+            super::common::local_text(settings, &e.entered_at),
+        )
+    });
     let position = match (row.lat, row.lon) {
         (Some(lat), Some(lon)) => {
             let acc = row
@@ -213,8 +273,6 @@ pub fn report_view(
     Ok(ReportView {
         id: row.report_id.clone(),
         team: row.team.clone(),
-        kind: row.kind.as_str().replace('_', " "),
-        outcome: row.outcome.as_str().replace('_', " "),
         outcome_class: row.outcome.to_string(),
         reason: row.reason.map_or("", |w| w.as_str()).replace('_', " "),
         cause: row.cause.map_or("", |w| w.as_str()).replace('_', " "),
@@ -231,15 +289,13 @@ pub fn report_view(
         supersedes: row.supersedes.clone().unwrap_or_default(),
         counted,
         photos,
-        provenance: match r.station_entry(&row.report_id)? {
-            Some(e) => format!(
-                "entered at the station by {} from paper sheet {}, {}",
-                e.entered_by,
-                e.sheet,
-                super::common::local_text(settings, &e.entered_at)
-            ),
-            None => "field tool (signed return)".to_string(),
+        tokens: ReportTokens {
+            outcome: row.outcome.as_str().to_string(),
+            reason: row.reason.map_or("", |w| w.as_str()).to_string(),
+            cause: row.cause.map_or("", |w| w.as_str()).to_string(),
+            kind: row.kind.as_str().to_string(),
         },
+        entered,
     })
 }
 
