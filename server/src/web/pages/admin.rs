@@ -12,10 +12,10 @@
 use super::common::{Layout, PageError, Viewer};
 use crate::platform::admin::Actor;
 use crate::platform::auth::Identity;
+use crate::platform::i18n::Tr;
 use crate::platform::storage::AdminLogEntry;
 use crate::web::AppState;
 use actix_web::{HttpMessage, HttpRequest, HttpResponse, web};
-use crate::platform::i18n::Tr;
 use askama::Template;
 use serde::Deserialize;
 

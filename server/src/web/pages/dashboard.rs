@@ -10,6 +10,7 @@ use super::common::{Layout, PageError, Viewer, fixed, non_empty, opt_day, page, 
 use super::events::{Choice, urlencode};
 use crate::domain::EventStatus;
 use crate::error::Error;
+use crate::platform::i18n::Tr;
 use crate::statistics::estimators::{DurationSummary, Estimate};
 use crate::statistics::figures::{
     EventFacts, FigureOptions, Figures, GroupKey, TargetShare, TrendPoint, VisitCurve, month_of,
@@ -23,7 +24,6 @@ use crate::web::charts::{
     render_step_curve,
 };
 use actix_web::{HttpRequest, HttpResponse, web};
-use crate::platform::i18n::Tr;
 use askama::Template;
 use serde::Deserialize;
 use std::collections::BTreeMap;

@@ -6,16 +6,16 @@
 
 use super::common::{Layout, PageError, Viewer, non_empty, opt_day, page, percent, respond};
 use super::dashboard::{
-    Numbers, translated_layout, Trends, km_chart, monthly_chart, numbers, team_rows, trend_charts,
+    Numbers, Trends, km_chart, monthly_chart, numbers, team_rows, translated_layout, trend_charts,
 };
 use super::events::Choice;
 use crate::error::Error;
+use crate::platform::i18n::Tr;
 use crate::statistics::figures::{FigureOptions, Figures, GroupKey};
 use crate::statistics::kept::StatsFilter;
 use crate::web::AppState;
 use crate::web::charts::render_grouped_bars;
 use actix_web::{HttpRequest, HttpResponse, web};
-use crate::platform::i18n::Tr;
 use askama::Template;
 use serde::Deserialize;
 
@@ -122,7 +122,10 @@ async fn summary_page(
         period: period_text(&tr, &from, &to),
         from,
         to,
-        zone: filter.zone.clone().unwrap_or_else(|| tr.t("dash-all-zones")),
+        zone: filter
+            .zone
+            .clone()
+            .unwrap_or_else(|| tr.t("dash-all-zones")),
         as_of: f.as_of.format("%Y-%m-%d %H:%M UTC").to_string(),
         numbers: numbers(&f),
         rate: overall_rate(&tr, &f),
