@@ -546,7 +546,9 @@ fn settings_change_at_once_and_a_bad_value_changes_nothing() {
     ] {
         let (r, _) = post(f);
         assert!(r.status == 400 || r.status == 409, "{}", r.body);
-        assert!(r.body.contains("Nothing was changed"));
+        // The organisation's default language is Portuguese now (set above):
+        // "Nothing was changed" of templates/i18n/pt/pages.ftl.
+        assert!(r.body.contains("Nada foi alterado"), "{}", r.body);
         assert!(r.body.contains(why), "expected {why:?}: {}", r.body);
     }
     assert_eq!(std::fs::read(&file).unwrap(), bytes);

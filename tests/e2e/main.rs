@@ -12,6 +12,7 @@ mod hardening;
 mod intake;
 mod languages;
 mod languages_station;
+mod languages_figures;
 mod pages;
 mod pairing;
 mod photo_times;

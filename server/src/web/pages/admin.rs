@@ -12,6 +12,7 @@
 use super::common::{Layout, PageError, Viewer};
 use crate::platform::admin::Actor;
 use crate::platform::auth::Identity;
+use crate::platform::i18n::Tr;
 use crate::platform::storage::AdminLogEntry;
 use crate::web::AppState;
 use actix_web::{HttpMessage, HttpRequest, HttpResponse, web};
@@ -44,16 +45,17 @@ pub struct LogRow {
 /// A link of the administration's own navigation.
 pub struct SectionLink {
     pub href: &'static str,
-    pub label: &'static str,
+    pub label: String,
     pub current: bool,
 }
 
-fn links(current: &str) -> Vec<SectionLink> {
+/// The sections, labelled in the user's language (`fig-users`, …).
+fn links(tr: &Tr, current: &str) -> Vec<SectionLink> {
     SECTIONS
         .iter()
         .map(|(href, label)| SectionLink {
             href,
-            label,
+            label: super::dashboard::label(tr, label),
             current: *href == current,
         })
         .collect()
@@ -62,7 +64,7 @@ fn links(current: &str) -> Vec<SectionLink> {
 /// What every admin page shows above its own content.
 pub struct Chrome {
     /// The current section's heading.
-    pub title: &'static str,
+    pub title: String,
     pub sections: Vec<SectionLink>,
     /// "Saved: …" after a change.
     pub notice: Option<String>,
@@ -114,6 +116,7 @@ pub async fn chrome(
     error: Option<PageError>,
 ) -> Result<(Layout, Chrome), PageError> {
     let viewer = Viewer::of(req);
+    let tr = crate::web::i18n::tr_of(req);
     let title = SECTIONS
         .iter()
         .find(|(p, _)| *p == section)
@@ -124,19 +127,21 @@ pub async fn chrome(
     let notice = done
         .then(|| rows.iter().find(|r| Some(&r.actor) == me.as_ref()))
         .flatten()
-        .map(|r| format!("Saved: {}: {}.", r.subject, r.detail));
+        .map(|r| tr.t2("adm-saved", "subject", &r.subject, "detail", &r.detail));
     let recent = rows
         .iter()
         .filter(|r| prefixes.iter().any(|p| r.action.starts_with(p)))
         .take(10)
         .map(|r| log_row(state, r))
         .collect();
-    let layout = Layout::new(req, &viewer, &format!("Administration: {title}"), "/admin");
+    let title = super::dashboard::label(&tr, title);
+    let mut layout = Layout::new(req, &viewer, &title, "/admin");
+    layout.title = tr.t1("adm-title-of", "section", &title);
     Ok((
         layout,
         Chrome {
             title,
-            sections: links(section),
+            sections: links(&tr, section),
             notice,
             error,
             recent,
@@ -168,8 +173,8 @@ struct IndexPage {
 pub async fn index(req: HttpRequest) -> HttpResponse {
     let viewer = Viewer::of(&req);
     let t = IndexPage {
-        layout: Layout::new(&req, &viewer, "Administration", "/admin"),
-        sections: links(""),
+        layout: super::dashboard::translated_layout(&req, &viewer, "adm-title", "/admin"),
+        sections: links(&crate::web::i18n::tr_of(&req), ""),
     };
     super::common::respond(&req, &viewer, super::common::page(&t))
 }

@@ -10,6 +10,7 @@ use super::common::{Layout, PageError, Viewer, fixed, non_empty, opt_day, page, 
 use super::events::{Choice, urlencode};
 use crate::domain::EventStatus;
 use crate::error::Error;
+use crate::platform::i18n::Tr;
 use crate::statistics::estimators::{DurationSummary, Estimate};
 use crate::statistics::figures::{
     EventFacts, FigureOptions, Figures, GroupKey, TargetShare, TrendPoint, VisitCurve, month_of,
@@ -203,6 +204,40 @@ pub fn km_series(c: &VisitCurve) -> StepSeries {
     }
 }
 
+/// A fixed English label of the figures in the user's language: its id is
+/// `fig-` and the label's words joined by `-` ("by zone" → `fig-by-zone`);
+/// a label without a message stays English.
+pub(super) fn label(tr: &Tr, english: &str) -> String {
+    let mut id = String::from("fig");
+    for word in english
+        .split(|c: char| !c.is_ascii_alphanumeric())
+        .filter(|w| !w.is_empty())
+    {
+        id.push('-');
+        id.push_str(&word.to_ascii_lowercase());
+    }
+    tr.get(&id).unwrap_or_else(|| english.to_string())
+}
+
+/// The layout of a figures page, its title in the user's language.
+pub(super) fn translated_layout(
+    req: &HttpRequest,
+    viewer: &Viewer,
+    title_id: &str,
+    current: &str,
+) -> Layout {
+    let mut layout = Layout::new(req, viewer, title_id, current);
+    layout.title = layout.tr.t(title_id);
+    layout
+}
+
+impl DashboardPage {
+    /// `label` for the template.
+    fn l(&self, english: &str) -> String {
+        label(&self.layout.tr, english)
+    }
+}
+
 fn key_label(k: GroupKey) -> &'static str {
     match k {
         GroupKey::All => "all events",
@@ -382,7 +417,7 @@ fn build(
     lists: &Lists,
 ) -> DashboardPage {
     DashboardPage {
-        layout: Layout::new(req, viewer, "Dashboard", "/dashboard"),
+        layout: translated_layout(req, viewer, "dash-title", "/dashboard"),
         zones: lists.choices(&lists.zones, &filter.zone),
         teams: lists.choices(&lists.teams, &filter.team),
         sources: lists.choices(&lists.sources, &filter.source),

@@ -43,6 +43,13 @@ struct DisputesPage {
     done: Option<i64>,
 }
 
+impl DisputesPage {
+    /// A fixed English label in the user's language (`dashboard::label`).
+    fn l(&self, english: &str) -> String {
+        super::dashboard::label(&self.layout.tr, english)
+    }
+}
+
 #[derive(Debug, Deserialize, Default)]
 pub struct DisputesQuery {
     pub done: Option<i64>,
@@ -128,7 +135,7 @@ async fn disputes_page(
         None => (0, None),
     };
     let t = DisputesPage {
-        layout: Layout::new(req, viewer, "Disputes", "/disputes"),
+        layout: super::dashboard::translated_layout(req, viewer, "disp-title", "/disputes"),
         disputes,
         outcomes: OUTCOMES.to_vec(),
         may_adjudicate: viewer.may(Action::Adjudicate),

@@ -6,10 +6,11 @@
 
 use super::common::{Layout, PageError, Viewer, non_empty, opt_day, page, percent, respond};
 use super::dashboard::{
-    Numbers, Trends, km_chart, monthly_chart, numbers, team_rows, trend_charts,
+    Numbers, Trends, km_chart, monthly_chart, numbers, team_rows, translated_layout, trend_charts,
 };
 use super::events::Choice;
 use crate::error::Error;
+use crate::platform::i18n::Tr;
 use crate::statistics::figures::{FigureOptions, Figures, GroupKey};
 use crate::statistics::kept::StatsFilter;
 use crate::web::AppState;
@@ -47,33 +48,36 @@ struct SummaryPage {
 }
 
 /// "72.0% (Wilson 95% CI 60.1%–81.4%; 36 of 50)" for all events.
-fn overall_rate(f: &Figures) -> String {
+fn overall_rate(tr: &Tr, f: &Figures) -> String {
     f.confirmation
         .iter()
         .find(|g| g.key == GroupKey::All)
         .and_then(|g| g.rows.first())
         .and_then(|r| r.rate.as_ref())
         .map_or_else(
-            || "no visit with a finding yet".to_string(),
+            || tr.t("dash-no-finding"),
             |p| {
-                format!(
-                    "{} (Wilson 95% CI {}–{}; {} of {})",
-                    percent(p.estimate),
-                    percent(p.ci95.lower),
-                    percent(p.ci95.upper),
+                let interval = format!("{}–{}", percent(p.ci95.lower), percent(p.ci95.upper));
+                let of = tr.t3(
+                    "sum-rate-of",
+                    "interval",
+                    interval,
+                    "k",
                     p.successes,
-                    p.trials
-                )
+                    "n",
+                    p.trials,
+                );
+                format!("{} ({of})", percent(p.estimate))
             },
         )
 }
 
-fn period_text(from: &str, to: &str) -> String {
+fn period_text(tr: &Tr, from: &str, to: &str) -> String {
     match (from.is_empty(), to.is_empty()) {
-        (true, true) => "all dates".to_string(),
-        (false, true) => format!("first detected from {from}"),
-        (true, false) => format!("first detected up to {to}"),
-        (false, false) => format!("first detected {from} to {to}"),
+        (true, true) => tr.t("sum-period-all"),
+        (false, true) => tr.t1("sum-period-from", "from", from),
+        (true, false) => tr.t1("sum-period-to", "to", to),
+        (false, false) => tr.t2("sum-period-between", "from", from, "to", to),
     }
 }
 
@@ -103,8 +107,10 @@ async fn summary_page(
     .await??;
     let (from, to) = (q.from.unwrap_or_default(), q.to.unwrap_or_default());
     let viewer = Viewer::of(req);
+    let layout = translated_layout(req, &viewer, "sum-title", "/dashboard");
+    let tr = layout.tr;
     page(&SummaryPage {
-        layout: Layout::new(req, &viewer, "Summary", "/dashboard"),
+        layout,
         zones: zone_names
             .into_iter()
             .map(|z| Choice {
@@ -113,13 +119,16 @@ async fn summary_page(
                 label: z,
             })
             .collect(),
-        period: period_text(&from, &to),
+        period: period_text(&tr, &from, &to),
         from,
         to,
-        zone: filter.zone.clone().unwrap_or_else(|| "all zones".into()),
+        zone: filter
+            .zone
+            .clone()
+            .unwrap_or_else(|| tr.t("dash-all-zones")),
         as_of: f.as_of.format("%Y-%m-%d %H:%M UTC").to_string(),
         numbers: numbers(&f),
-        rate: overall_rate(&f),
+        rate: overall_rate(&tr, &f),
         monthly,
         km_chart: km_chart(&f),
         trends: trend_charts(&trends),
@@ -148,14 +157,19 @@ mod tests {
 
     #[test]
     fn the_period_says_what_was_chosen() {
-        assert_eq!(period_text("", ""), "all dates");
+        let en = Tr::new("en");
+        assert_eq!(period_text(&en, "", ""), "all dates");
         assert_eq!(
-            period_text("2026-01-01", "2026-06-30"),
+            period_text(&en, "2026-01-01", "2026-06-30"),
             "first detected 2026-01-01 to 2026-06-30"
         );
         assert_eq!(
-            period_text("2026-01-01", ""),
+            period_text(&en, "2026-01-01", ""),
             "first detected from 2026-01-01"
+        );
+        assert_eq!(
+            period_text(&Tr::new("pt"), "", "2026-06-30"),
+            "detectados pela primeira vez até 2026-06-30"
         );
     }
 }
