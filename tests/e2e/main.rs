@@ -11,6 +11,7 @@ mod footprints;
 mod hardening;
 mod intake;
 mod languages;
+mod languages_trips;
 mod pages;
 mod pairing;
 mod photo_times;

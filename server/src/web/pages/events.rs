@@ -58,6 +58,12 @@ fn choices(
         .collect()
 }
 
+/// The catalogue id of an alert confidence level: "high" or "low" (alert)
+/// confidence, so that "confirmed" is only ever a visit's outcome (issue 14).
+fn confidence_id(c: crate::domain::Confidence) -> String {
+    format!("confidence-{}", c.level())
+}
+
 struct EventRow {
     rank: usize,
     id: i64,
@@ -100,7 +106,7 @@ fn row(rank: usize, e: &RankedEvent, status: EventStatus) -> EventRow {
         first: a.first.to_string(),
         last: a.last.to_string(),
         sources: a.per_source.keys().cloned().collect::<Vec<_>>().join(", "),
-        confidence: a.highest_confidence.to_string(),
+        confidence: confidence_id(a.highest_confidence),
         corroborated: a.corroborated,
         zones: e.record.zones.join(", "),
         priority: fixed(e.priority, 3),
@@ -339,7 +345,7 @@ async fn one_page(
             .map(|(k, v)| format!("{k} ({v})"))
             .collect::<Vec<_>>()
             .join(", "),
-        confidence: a.highest_confidence.to_string(),
+        confidence: confidence_id(a.highest_confidence),
         corroborated: a.corroborated,
         zones: ranked.record.zones.join(", "),
         priority: fixed(priority, 3),
@@ -452,7 +458,7 @@ fn alert_rows(alerts: &[StoredAlert], sources: &[Source]) -> Vec<AlertRow> {
         .map(|al| AlertRow {
             day: al.day.to_string(),
             source: source_name(al.source_id),
-            confidence: al.confidence.to_string(),
+            confidence: confidence_id(al.confidence),
             lon: fixed(al.lon, 6),
             lat: fixed(al.lat, 6),
         })
