@@ -1,4 +1,4 @@
-//! The trips list, a trip page and an event page in Portuguese
+//! The trips list, a trip page, the events list and an event page in Portuguese
 //! (`Accept-Language: pt`, issue 13), and the event page naming alert
 //! confidence "high"/"low", never "confirmed"/"tentative" (issue 14).
 //! The Portuguese words are this project's own catalogue
@@ -93,7 +93,23 @@ fn trips_trip_and_event_pages_speak_portuguese_and_name_confidence_high_or_low()
         .collect();
     let (status, pt) = page(&s, &format!("/events/{event}"), Some("pt"));
     assert_eq!(status, 200, "{pt}");
-    assert_has("event page (pt)", &pt, &["Maior confiança do alerta"]);
+    assert_has(
+        "event page (pt)",
+        &pt,
+        &["Maior confiança do alerta", "Dados", "Prioridade hoje"],
+    );
+
+    let (status, list) = page(&s, "/events", Some("pt"));
+    assert_eq!(status, 200, "{list}");
+    assert_has(
+        "events list (pt)",
+        &list,
+        &[
+            "Eventos em ordem de prioridade",
+            "Confiança do alerta",
+            "qualquer situação",
+        ],
+    );
 
     let (_, en) = page(&s, &format!("/events/{event}"), None);
     assert_has(

@@ -210,3 +210,37 @@ trip-col-probability = Inclusion probability
 ## Events and event pages: alert confidence is "high" or "low", never "confirmed"
 events-confidence = Alert confidence
 event-highest-confidence = Highest alert confidence
+## Events list
+events-title = Clearing events
+events-filter = Filter events
+events-any-status = any status
+events-filter-button = Filter
+events-in-order = Events in priority order
+events-count = { $n } event(s)
+events-first = the table shows the first { $n }
+events-as-geojson = As GeoJSON:
+events-col-event = Event
+events-col-area = Area (ha)
+events-col-first = First detected
+events-col-last = Last detected
+events-col-sources = Sources
+events-col-corroborated = Corroborated
+events-col-zones = Zones
+events-col-priority = Priority
+events-yes = yes
+events-no = no
+## Event page
+event-merged = Event #{ $old } was merged into this event; its alerts and reports are here.
+event-attributes = Attributes
+event-area = Area
+event-alerts = Alerts
+event-corroborated-yes = yes, by two or more sources
+event-no-zone = none
+event-centroid = Centroid (lat, lon)
+event-priority-today = Priority today
+event-origin = Origin
+event-as-geojson = As GeoJSON
+event-reports-title = Reports ({ $n })
+event-no-report = No report has been received for this event yet.
+event-alerts-title = Alerts ({ $n })
+event-col-detected = Detected

@@ -208,3 +208,37 @@ trip-col-probability = Probabilidad de inclusión
 ## Events and event pages: alert confidence is "high" or "low", never "confirmed"
 events-confidence = Confianza de la alerta
 event-highest-confidence = Mayor confianza de la alerta
+## Events list
+events-title = Eventos de desmonte
+events-filter = Filtrar eventos
+events-any-status = cualquier estado
+events-filter-button = Filtrar
+events-in-order = Eventos por orden de prioridad
+events-count = { $n } evento(s)
+events-first = la tabla muestra los primeros { $n }
+events-as-geojson = En GeoJSON:
+events-col-event = Evento
+events-col-area = Área (ha)
+events-col-first = Primera detección
+events-col-last = Última detección
+events-col-sources = Fuentes
+events-col-corroborated = Corroborado
+events-col-zones = Zonas
+events-col-priority = Prioridad
+events-yes = sí
+events-no = no
+## Event page
+event-merged = El evento #{ $old } se fusionó con este; sus alertas e informes están aquí.
+event-attributes = Datos
+event-area = Área
+event-alerts = Alertas
+event-corroborated-yes = sí, por dos o más fuentes
+event-no-zone = ninguna
+event-centroid = Centroide (lat, lon)
+event-priority-today = Prioridad hoy
+event-origin = Origen
+event-as-geojson = En GeoJSON
+event-reports-title = Informes ({ $n })
+event-no-report = Aún no se ha recibido ningún informe de este evento.
+event-alerts-title = Alertas ({ $n })
+event-col-detected = Detectada

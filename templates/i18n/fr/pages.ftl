@@ -208,3 +208,37 @@ trip-col-probability = Probabilité d'inclusion
 ## Events and event pages: alert confidence is "high" or "low", never "confirmed"
 events-confidence = Confiance de l'alerte
 event-highest-confidence = Confiance d'alerte la plus haute
+## Events list
+events-title = Événements de défrichement
+events-filter = Filtrer les événements
+events-any-status = tout état
+events-filter-button = Filtrer
+events-in-order = Événements par ordre de priorité
+events-count = { $n } événement(s)
+events-first = le tableau montre les { $n } premiers
+events-as-geojson = En GeoJSON :
+events-col-event = Événement
+events-col-area = Surface (ha)
+events-col-first = Première détection
+events-col-last = Dernière détection
+events-col-sources = Sources
+events-col-corroborated = Corroboré
+events-col-zones = Zones
+events-col-priority = Priorité
+events-yes = oui
+events-no = non
+## Event page
+event-merged = L'événement #{ $old } a été fusionné avec celui-ci ; ses alertes et rapports sont ici.
+event-attributes = Caractéristiques
+event-area = Surface
+event-alerts = Alertes
+event-corroborated-yes = oui, par deux sources ou plus
+event-no-zone = aucune
+event-centroid = Centroïde (lat, lon)
+event-priority-today = Priorité aujourd'hui
+event-origin = Origine
+event-as-geojson = En GeoJSON
+event-reports-title = Rapports ({ $n })
+event-no-report = Aucun rapport n'a encore été reçu pour cet événement.
+event-alerts-title = Alertes ({ $n })
+event-col-detected = Détectée

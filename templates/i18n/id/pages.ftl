@@ -208,3 +208,37 @@ trip-col-probability = Peluang terpilih
 ## Events and event pages: alert confidence is "high" or "low", never "confirmed"
 events-confidence = Keyakinan peringatan
 event-highest-confidence = Keyakinan peringatan tertinggi
+## Events list
+events-title = Kejadian pembukaan lahan
+events-filter = Saring kejadian
+events-any-status = status apa saja
+events-filter-button = Saring
+events-in-order = Kejadian menurut urutan prioritas
+events-count = { $n } kejadian
+events-first = tabel menampilkan { $n } yang pertama
+events-as-geojson = Sebagai GeoJSON:
+events-col-event = Kejadian
+events-col-area = Luas (ha)
+events-col-first = Pertama terdeteksi
+events-col-last = Terakhir terdeteksi
+events-col-sources = Sumber
+events-col-corroborated = Dikuatkan
+events-col-zones = Zona
+events-col-priority = Prioritas
+events-yes = ya
+events-no = tidak
+## Event page
+event-merged = Kejadian #{ $old } digabung ke kejadian ini; peringatan dan laporannya ada di sini.
+event-attributes = Keterangan
+event-area = Luas
+event-alerts = Peringatan
+event-corroborated-yes = ya, oleh dua sumber atau lebih
+event-no-zone = tidak ada
+event-centroid = Titik tengah (lat, lon)
+event-priority-today = Prioritas hari ini
+event-origin = Asal
+event-as-geojson = Sebagai GeoJSON
+event-reports-title = Laporan ({ $n })
+event-no-report = Belum ada laporan yang diterima untuk kejadian ini.
+event-alerts-title = Peringatan ({ $n })
+event-col-detected = Terdeteksi

@@ -208,3 +208,37 @@ trip-col-probability = Probabilidade de inclusão
 ## Events and event pages: alert confidence is "high" or "low", never "confirmed"
 events-confidence = Confiança do alerta
 event-highest-confidence = Maior confiança do alerta
+## Events list
+events-title = Eventos de desmatamento
+events-filter = Filtrar eventos
+events-any-status = qualquer situação
+events-filter-button = Filtrar
+events-in-order = Eventos em ordem de prioridade
+events-count = { $n } evento(s)
+events-first = a tabela mostra os primeiros { $n }
+events-as-geojson = Em GeoJSON:
+events-col-event = Evento
+events-col-area = Área (ha)
+events-col-first = Primeira detecção
+events-col-last = Última detecção
+events-col-sources = Fontes
+events-col-corroborated = Corroborado
+events-col-zones = Zonas
+events-col-priority = Prioridade
+events-yes = sim
+events-no = não
+## Event page
+event-merged = O evento #{ $old } foi juntado a este; os alertas e relatórios dele estão aqui.
+event-attributes = Dados
+event-area = Área
+event-alerts = Alertas
+event-corroborated-yes = sim, por duas ou mais fontes
+event-no-zone = nenhuma
+event-centroid = Centroide (lat, lon)
+event-priority-today = Prioridade hoje
+event-origin = Origem
+event-as-geojson = Em GeoJSON
+event-reports-title = Relatórios ({ $n })
+event-no-report = Nenhum relatório foi recebido para este evento ainda.
+event-alerts-title = Alertas ({ $n })
+event-col-detected = Detectado

@@ -73,6 +73,8 @@ struct EventRow {
     last: String,
     sources: String,
     confidence: String,
+    /// The catalogue id of the status words.
+    status_id: String,
     corroborated: bool,
     zones: String,
     priority: String,
@@ -107,6 +109,7 @@ fn row(rank: usize, e: &RankedEvent, status: EventStatus) -> EventRow {
         last: a.last.to_string(),
         sources: a.per_source.keys().cloned().collect::<Vec<_>>().join(", "),
         confidence: confidence_id(a.highest_confidence),
+        status_id: super::trips::status_id(status),
         corroborated: a.corroborated,
         zones: e.record.zones.join(", "),
         priority: fixed(e.priority, 3),
@@ -141,8 +144,9 @@ async fn list_page(
         .map(|(i, e)| row(i + 1, e, map_status(statuses.get(&e.record.id))))
         .collect();
     let viewer = Viewer::of(req);
+    let layout = Layout::new(req, &viewer, "Events", "/events");
+    let tr = &layout.tr;
     let t = EventsPage {
-        layout: Layout::new(req, &viewer, "Events", "/events"),
         zones: choices(
             zones.iter().map(|z| (z.name.clone(), z.name.clone())),
             &filter.zone,
@@ -154,7 +158,7 @@ async fn list_page(
         statuses: choices(
             EventStatus::ALL
                 .iter()
-                .map(|s| (s.as_str().to_string(), s.label().to_string())),
+                .map(|s| (s.as_str().to_string(), tr.t(&super::trips::status_id(*s)))),
             &status.map(|s| s.as_str().to_string()),
         ),
         from: q.from.clone().unwrap_or_default(),
@@ -165,6 +169,7 @@ async fn list_page(
         shown: rows.len(),
         rows,
         api_link: api_link(&filter),
+        layout,
     };
     page(&t)
 }
@@ -283,6 +288,8 @@ struct EventPage {
     priority: String,
     centroid: String,
     status: Badge,
+    /// The catalogue id of the status words.
+    status_id: String,
     status_note: String,
     map: LiveMap,
     alerts: Vec<AlertRow>,
@@ -350,6 +357,7 @@ async fn one_page(
         zones: ranked.record.zones.join(", "),
         priority: fixed(priority, 3),
         centroid: format!("{}, {}", fixed(a.centroid.1, 6), fixed(a.centroid.0, 6)),
+        status_id: super::trips::status_id(map_status(status.as_ref())),
         status: badge(map_status(status.as_ref())),
         status_note: status
             .as_ref()

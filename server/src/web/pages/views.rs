@@ -15,17 +15,14 @@ pub fn map_status(s: Option<&StatusOutcome>) -> EventStatus {
     s.map_or(EventStatus::Unvisited, |s| s.status)
 }
 
-/// A status badge: CSS class suffix and words.
+/// A status badge: its CSS class suffix. The words come from the catalogue
+/// (`status-<status>`, see `trips::status_id`).
 pub struct Badge {
     pub class: &'static str,
-    pub label: &'static str,
 }
 
 pub fn badge(s: EventStatus) -> Badge {
-    Badge {
-        class: s.as_str(),
-        label: s.label(),
-    }
+    Badge { class: s.as_str() }
 }
 
 /// The zones as map shapes (unparseable geometries are left out).
