@@ -109,7 +109,7 @@ fn row(rank: usize, e: &RankedEvent, status: EventStatus) -> EventRow {
         last: a.last.to_string(),
         sources: a.per_source.keys().cloned().collect::<Vec<_>>().join(", "),
         confidence: confidence_id(a.highest_confidence),
-        status_id: super::trips::status_id(status),
+        status_id: super::views::status_id(status),
         corroborated: a.corroborated,
         zones: e.record.zones.join(", "),
         priority: fixed(e.priority, 3),
@@ -158,7 +158,7 @@ async fn list_page(
         statuses: choices(
             EventStatus::ALL
                 .iter()
-                .map(|s| (s.as_str().to_string(), tr.t(&super::trips::status_id(*s)))),
+                .map(|s| (s.as_str().to_string(), tr.t(&super::views::status_id(*s)))),
             &status.map(|s| s.as_str().to_string()),
         ),
         from: q.from.clone().unwrap_or_default(),
@@ -357,7 +357,7 @@ async fn one_page(
         zones: ranked.record.zones.join(", "),
         priority: fixed(priority, 3),
         centroid: format!("{}, {}", fixed(a.centroid.1, 6), fixed(a.centroid.0, 6)),
-        status_id: super::trips::status_id(map_status(status.as_ref())),
+        status_id: super::views::status_id(map_status(status.as_ref())),
         status: badge(map_status(status.as_ref())),
         status_note: status
             .as_ref()

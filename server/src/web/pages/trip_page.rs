@@ -245,7 +245,7 @@ fn stop_rows(d: &TripData, settings: &Settings) -> Vec<StopRow> {
                 code: i.code.clone(),
                 kind: format!("trip-kind-{}", i.kind.to_string().replace('_', "-")),
                 status_id: live
-                    .map(|e| super::trips::status_id(map_status(d.statuses.get(&e.record.id))))
+                    .map(|e| super::views::status_id(map_status(d.statuses.get(&e.record.id))))
                     .unwrap_or_default(),
                 event_id: live.map(|e| e.record.id).or(i.event_id),
                 status: live.map(|e| badge(map_status(d.statuses.get(&e.record.id)))),
@@ -330,7 +330,7 @@ pub fn trip_page(
         id: b.id.clone(),
         team: b.team.clone(),
         mode_id: format!("mode-{}", b.mode),
-        state_id: super::trips::state_id(state),
+        state_id: super::views::state_id(state),
         state,
         issued: local_text(settings, &b.issued_at),
         due: local_text(settings, &b.due_at),

@@ -136,7 +136,7 @@ async fn trips_page(
             .iter()
             .map(|s| Choice {
                 value: s.as_str().into(),
-                label: tr.t(&state_id(*s)),
+                label: tr.t(&super::views::state_id(*s)),
                 selected: want_state == Some(*s),
             })
             .collect(),
@@ -163,7 +163,7 @@ async fn trips_page(
             .map(|x| Choice {
                 selected: form.all("status").iter().any(|v| v == x.as_str()),
                 value: x.as_str().into(),
-                label: tr.t(&status_id(*x)),
+                label: tr.t(&super::views::status_id(*x)),
             })
             .collect(),
         assessment: form.text("mode").as_deref() == Some("assessment"),
@@ -196,17 +196,6 @@ fn not_expired(expires_at: &str, now: chrono::DateTime<chrono::Utc>) -> bool {
 /// Per bundle id: (returns received, reports stored).
 type ReturnCounts = HashMap<String, (i64, i64)>;
 
-/// The catalogue id of a trip state's words (`trip-state-partly-returned`).
-pub(crate) fn state_id(s: TripState) -> String {
-    format!("trip-state-{}", s.as_str().replace('_', "-"))
-}
-
-/// The catalogue id of an event status's words, one per status on every
-/// page (`status-false-alarm`).
-pub(crate) fn status_id(s: crate::domain::EventStatus) -> String {
-    format!("status-{}", s.as_str().replace('_', "-"))
-}
-
 /// One table row per bundle, latest issued first; `may` is (may cancel,
 /// may pair a phone).
 fn bundle_rows(
@@ -233,7 +222,7 @@ fn bundle_rows(
                 controls: b.controls,
                 route_km: fixed(b.route_m / 1000.0, 1),
                 state,
-                state_id: state_id(state),
+                state_id: super::views::state_id(state),
                 returns,
                 reports,
                 cancellable: may_cancel && b.cancelled_at.is_none(),
