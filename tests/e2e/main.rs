@@ -13,6 +13,7 @@ mod intake;
 mod languages;
 mod languages_station;
 mod languages_figures;
+mod languages_trips;
 mod pages;
 mod pairing;
 mod photo_times;

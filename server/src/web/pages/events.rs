@@ -58,6 +58,12 @@ fn choices(
         .collect()
 }
 
+/// The catalogue id of an alert confidence level: "high" or "low" (alert)
+/// confidence, so that "confirmed" is only ever a visit's outcome (issue 14).
+fn confidence_id(c: crate::domain::Confidence) -> String {
+    format!("confidence-{}", c.level())
+}
+
 struct EventRow {
     rank: usize,
     id: i64,
@@ -67,6 +73,8 @@ struct EventRow {
     last: String,
     sources: String,
     confidence: String,
+    /// The catalogue id of the status words.
+    status_id: String,
     corroborated: bool,
     zones: String,
     priority: String,
@@ -100,7 +108,8 @@ fn row(rank: usize, e: &RankedEvent, status: EventStatus) -> EventRow {
         first: a.first.to_string(),
         last: a.last.to_string(),
         sources: a.per_source.keys().cloned().collect::<Vec<_>>().join(", "),
-        confidence: a.highest_confidence.to_string(),
+        confidence: confidence_id(a.highest_confidence),
+        status_id: super::views::status_id(status),
         corroborated: a.corroborated,
         zones: e.record.zones.join(", "),
         priority: fixed(e.priority, 3),
@@ -135,8 +144,9 @@ async fn list_page(
         .map(|(i, e)| row(i + 1, e, map_status(statuses.get(&e.record.id))))
         .collect();
     let viewer = Viewer::of(req);
+    let layout = Layout::new(req, &viewer, "Events", "/events");
+    let tr = &layout.tr;
     let t = EventsPage {
-        layout: Layout::new(req, &viewer, "Events", "/events"),
         zones: choices(
             zones.iter().map(|z| (z.name.clone(), z.name.clone())),
             &filter.zone,
@@ -148,7 +158,7 @@ async fn list_page(
         statuses: choices(
             EventStatus::ALL
                 .iter()
-                .map(|s| (s.as_str().to_string(), s.label().to_string())),
+                .map(|s| (s.as_str().to_string(), tr.t(&super::views::status_id(*s)))),
             &status.map(|s| s.as_str().to_string()),
         ),
         from: q.from.clone().unwrap_or_default(),
@@ -159,6 +169,7 @@ async fn list_page(
         shown: rows.len(),
         rows,
         api_link: api_link(&filter),
+        layout,
     };
     page(&t)
 }
@@ -277,6 +288,8 @@ struct EventPage {
     priority: String,
     centroid: String,
     status: Badge,
+    /// The catalogue id of the status words.
+    status_id: String,
     status_note: String,
     map: LiveMap,
     alerts: Vec<AlertRow>,
@@ -339,11 +352,12 @@ async fn one_page(
             .map(|(k, v)| format!("{k} ({v})"))
             .collect::<Vec<_>>()
             .join(", "),
-        confidence: a.highest_confidence.to_string(),
+        confidence: confidence_id(a.highest_confidence),
         corroborated: a.corroborated,
         zones: ranked.record.zones.join(", "),
         priority: fixed(priority, 3),
         centroid: format!("{}, {}", fixed(a.centroid.1, 6), fixed(a.centroid.0, 6)),
+        status_id: super::views::status_id(map_status(status.as_ref())),
         status: badge(map_status(status.as_ref())),
         status_note: status
             .as_ref()
@@ -452,7 +466,7 @@ fn alert_rows(alerts: &[StoredAlert], sources: &[Source]) -> Vec<AlertRow> {
         .map(|al| AlertRow {
             day: al.day.to_string(),
             source: source_name(al.source_id),
-            confidence: al.confidence.to_string(),
+            confidence: confidence_id(al.confidence),
             lon: fixed(al.lon, 6),
             lat: fixed(al.lat, 6),
         })

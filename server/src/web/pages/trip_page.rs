@@ -72,6 +72,7 @@ pub(super) fn facts_of(b: &BundleRecord, returns: i64, stops_reported: i64) -> T
 /// One report as the trip page lists it under its stop.
 pub struct StopReport {
     pub id: String,
+    /// The catalogue id of the outcome (the field app's words).
     pub outcome: String,
     pub outcome_class: String,
     pub detail: String,
@@ -83,7 +84,10 @@ pub struct StopReport {
 pub struct StopRow {
     pub order: u32,
     pub code: String,
+    /// The catalogue id of the stop's kind.
     pub kind: String,
+    /// The catalogue id of its event's status.
+    pub status_id: String,
     /// The live event (after merges) for an event stop.
     pub event_id: Option<i64>,
     pub status: Option<Badge>,
@@ -124,8 +128,10 @@ pub struct TripPage {
     layout: Layout,
     id: String,
     team: String,
-    mode: String,
     state: TripState,
+    /// Catalogue ids of the mode and the state.
+    mode_id: String,
+    state_id: String,
     issued: String,
     due: String,
     expires: String,
@@ -209,7 +215,7 @@ fn stop_report(r: &ReportRow, settings: &Settings) -> StopReport {
         .join(", ");
     StopReport {
         id: r.report_id.clone(),
-        outcome: r.outcome.as_str().replace('_', " "),
+        outcome: format!("outcome-{}", r.outcome.as_str()),
         outcome_class: r.outcome.to_string(),
         detail,
         observed: local_text(settings, &r.observed_at.to_string()),
@@ -237,7 +243,10 @@ fn stop_rows(d: &TripData, settings: &Settings) -> Vec<StopRow> {
             StopRow {
                 order: i.visit_order,
                 code: i.code.clone(),
-                kind: i.kind.to_string(),
+                kind: format!("trip-kind-{}", i.kind.to_string().replace('_', "-")),
+                status_id: live
+                    .map(|e| super::views::status_id(map_status(d.statuses.get(&e.record.id))))
+                    .unwrap_or_default(),
                 event_id: live.map(|e| e.record.id).or(i.event_id),
                 status: live.map(|e| badge(map_status(d.statuses.get(&e.record.id)))),
                 lat: fixed(i.lat, 6),
@@ -320,7 +329,8 @@ pub fn trip_page(
         layout: Layout::new(req, viewer, &title, "/trips"),
         id: b.id.clone(),
         team: b.team.clone(),
-        mode: b.mode.clone(),
+        mode_id: format!("mode-{}", b.mode),
+        state_id: super::views::state_id(state),
         state,
         issued: local_text(settings, &b.issued_at),
         due: local_text(settings, &b.due_at),

@@ -28,7 +28,6 @@ use std::collections::HashMap;
 struct BundleRow {
     id: String,
     team: String,
-    mode: String,
     issued: String,
     /// RFC 3339, for sorting (latest first).
     issued_at: String,
@@ -37,6 +36,9 @@ struct BundleRow {
     controls: i64,
     route_km: String,
     state: TripState,
+    /// The catalogue ids of the state and the mode.
+    state_id: String,
+    mode_id: String,
     returns: i64,
     reports: i64,
     cancellable: bool,
@@ -125,15 +127,16 @@ async fn trips_page(
         want_state.is_none_or(|s| r.state == s) && want_team.as_ref().is_none_or(|t| &r.team == t)
     });
     let status = error.as_ref().map_or(StatusCode::OK, |e| e.status);
+    let layout = Layout::new(req, viewer, "Trips", "/trips");
+    let tr = &layout.tr;
     let t = TripsPage {
-        layout: Layout::new(req, viewer, "Trips", "/trips"),
         bundles: rows,
         all,
         states: TripState::ALL
             .iter()
             .map(|s| Choice {
                 value: s.as_str().into(),
-                label: s.label().into(),
+                label: tr.t(&super::views::state_id(*s)),
                 selected: want_state == Some(*s),
             })
             .collect(),
@@ -160,7 +163,7 @@ async fn trips_page(
             .map(|x| Choice {
                 selected: form.all("status").iter().any(|v| v == x.as_str()),
                 value: x.as_str().into(),
-                label: x.label().into(),
+                label: tr.t(&super::views::status_id(*x)),
             })
             .collect(),
         assessment: form.text("mode").as_deref() == Some("assessment"),
@@ -168,6 +171,7 @@ async fn trips_page(
         may_issue: viewer.may(Action::IssueBundle),
         error,
         cancelled: q.cancelled,
+        layout,
     };
     Ok(html(status, t.render()?))
 }
@@ -210,7 +214,7 @@ fn bundle_rows(
             BundleRow {
                 id: b.id.clone(),
                 team: b.team.clone(),
-                mode: b.mode.clone(),
+                mode_id: format!("mode-{}", b.mode),
                 issued: local_text(settings, &b.issued_at),
                 issued_at: b.issued_at.clone(),
                 due: local_text(settings, &b.due_at),
@@ -218,6 +222,7 @@ fn bundle_rows(
                 controls: b.controls,
                 route_km: fixed(b.route_m / 1000.0, 1),
                 state,
+                state_id: super::views::state_id(state),
                 returns,
                 reports,
                 cancellable: may_cancel && b.cancelled_at.is_none(),

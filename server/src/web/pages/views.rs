@@ -17,17 +17,25 @@ pub fn map_status(s: Option<&StatusOutcome>) -> EventStatus {
     s.map_or(EventStatus::Unvisited, |s| s.status)
 }
 
-/// A status badge: CSS class suffix and words.
+/// The catalogue id of a trip state's words (`trip-state-partly-returned`).
+pub fn state_id(s: crate::planning::TripState) -> String {
+    format!("trip-state-{}", s.as_str().replace('_', "-"))
+}
+
+/// The catalogue id of an event status's words, one per status on every
+/// page (`status-false-alarm`).
+pub fn status_id(s: EventStatus) -> String {
+    format!("status-{}", s.as_str().replace('_', "-"))
+}
+
+/// A status badge: its CSS class suffix. The words come from the catalogue
+/// (`status-<status>`, see [`status_id`]).
 pub struct Badge {
     pub class: &'static str,
-    pub label: &'static str,
 }
 
 pub fn badge(s: EventStatus) -> Badge {
-    Badge {
-        class: s.as_str(),
-        label: s.label(),
-    }
+    Badge { class: s.as_str() }
 }
 
 /// The zones as map shapes (unparseable geometries are left out).
