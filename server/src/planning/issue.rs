@@ -55,7 +55,8 @@ pub fn issue_bundle(
     check_request(req)?;
     let planned = plan_trip(db, settings, req)?;
     check_expected_order(req, &planned)?;
-    let (header, key) = new_header(&team.name, req, planned.sel.seed);
+    let (mut header, key) = new_header(&team.name, req, planned.sel.seed);
+    header.camera_zone = Some(camera_zone(settings, header.issued_at));
     let file = write_bundle_file(db, data_dir, req, &team.name, &planned, &header, &key)?;
     let record = record_issued(db, req, &team, &planned, &header, &key, &file)?;
     tracing::info!(bundle = %header.bundle_id, team = %team.name, events = planned.events.len(), controls = planned.controls.len(), bytes = file.size, "bundle issued");
@@ -443,8 +444,24 @@ fn new_header(team: &str, req: &TripRequest, seed: Option<u64>) -> (BundleHeader
         expires_at: issued_at + chrono::Duration::days(req.expires_days),
         upload_key_id: key_id,
         seed,
+        camera_zone: None,
     };
     (header, key)
+}
+
+/// The trip's default camera zone: the organisation's zone with the offset in
+/// force at the issue instant (cameras are set to local time; issue 12 item 14).
+fn camera_zone(
+    settings: &Settings,
+    issued_at: chrono::DateTime<chrono::Utc>,
+) -> groundproof_sync::bundle::CameraZone {
+    use chrono::Offset;
+    let name = settings.zone().name();
+    let offset = name
+        .parse::<chrono_tz::Tz>()
+        .map(|tz| issued_at.with_timezone(&tz).offset().fix())
+        .unwrap_or_else(|_| chrono::Utc.fix());
+    groundproof_sync::bundle::CameraZone::new(offset, name)
 }
 
 /// Each event's preview image (its alert pixels over its footprint): as a ZIP
