@@ -680,3 +680,28 @@ fn record_bundle(db: &Db, new: &NewBundle<'_>, path: &std::path::Path) -> Result
 pub fn cancel_bundle(db: &Db, id: &str) -> Result<()> {
     db.write(|tx| tx.cancel_bundle(id))
 }
+
+#[cfg(test)]
+mod camera_zone_tests {
+    use super::*;
+    use chrono::TimeZone;
+
+    /// `Etc/GMT+4` is UTC−04:00 (POSIX sign, IANA tz database); UTC is the default.
+    #[test]
+    fn the_bundle_camera_zone_is_the_organisation_zone_on_the_issue_date() {
+        let at = chrono::Utc
+            .with_ymd_and_hms(2026, 12, 4, 12, 0, 0)
+            .single()
+            .expect("t");
+        let mut settings = Settings::default();
+        assert_eq!(camera_zone(&settings, at).offset, "+00:00");
+        settings.organisation.time_zone = "Etc/GMT+4".into();
+        let zone = camera_zone(&settings, at);
+        assert_eq!(
+            (zone.offset.as_str(), zone.name.as_str()),
+            ("-04:00", "Etc/GMT+4")
+        );
+        settings.organisation.time_zone = "Etc/GMT-5".into();
+        assert_eq!(camera_zone(&settings, at).offset, "+05:00");
+    }
+}
