@@ -88,6 +88,7 @@ fn header() -> ReturnHeader {
         team: "Team Kestrel".into(),
         checklist_version: 1,
         created_at: t(12),
+        camera_zone: None,
     }
 }
 
@@ -179,6 +180,7 @@ fn raw_package(
             .filter(|(n, _)| n.starts_with("photos/"))
             .count() as u32,
         entries: listed,
+        camera_zone: None,
     };
     tweak(&mut manifest);
     let mbytes = serde_json::to_vec(&manifest).expect("manifest");

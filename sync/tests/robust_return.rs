@@ -106,6 +106,7 @@ fn valid_return() -> Vec<u8> {
         team: "Team Kestrel".into(),
         checklist_version: 1,
         created_at: t(12),
+        camera_zone: None,
     };
     let key = UploadKey {
         key_id: KEY_ID.into(),

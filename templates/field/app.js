@@ -10,7 +10,7 @@ import { packReturn } from './returnpkg.js';
 import { sha256Hex } from './crypto.js';
 import * as sending from './send.js';
 import { toUtm, formatUtm, toMgrs, groupMgrs } from './coords.js';
-import { photoMeta } from './exif.js';
+import { cameraZone, offsetMinutes, photoMeta } from './exif.js';
 import { drawMap, dropMap, showPhone, tileUrlAllowed } from './map.js';
 import { LANGUAGES, pickLanguage, setLanguage, language, t, token, number, dateTime, date } from './i18n.js';
 
@@ -278,11 +278,29 @@ function tripHead() {
     h('p', {}, t('trip.due', { due: dateTime(m.due_at), expires: dateTime(m.expires_at) })),
     h('p', { id: 'fix', class: 'fix' }, fixText()),
     h('p', { id: 'storage', class: 'storage' }, ''),
+    zoneSetting(),
     h('div', { class: 'actions' },
       h('button', { class: 'button', id: 'to-trips', onclick: () => go('home') }, t('nav.trips')),
       state.view === 'send' ? h('button', { class: 'button', id: 'to-stops', onclick: () => go('trip') }, t('nav.stops')) : null,
       h('button', { class: 'button', onclick: () => go('cautions') }, t('nav.safety')),
       h('button', { class: 'button primary', id: 'go-send', onclick: () => go('send') }, t('nav.send'))));
+}
+
+/** The trip's camera zone, shown and changeable: the offset that places a photo
+ * time written with neither offset nor GPS time. */
+function zoneSetting() {
+  const z = cameraZone(state.trip);
+  const input = h('input', { id: 'camera-zone', value: z.offset, size: 6, 'aria-label': t('trip.camera_zone_label') });
+  const save = async () => {
+    if (offsetMinutes(input.value) === null) { say('error', t('trip.camera_zone_bad')); return; }
+    state.trip.camera_zone = { offset: input.value.trim(), name: '' };
+    await store.putTrip(state.trip);
+    say('ok', t('trip.camera_zone_saved', { offset: input.value.trim() }));
+  };
+  return h('p', { class: 'camera-zone' },
+    h('span', { id: 'camera-zone-shown' }, t('trip.camera_zone', { offset: z.offset, name: z.name })), ' ',
+    input, ' ',
+    h('button', { class: 'button small', id: 'camera-zone-save', onclick: save }, t('trip.camera_zone_save')));
 }
 
 /** A clearing found on the way: not a stop of the bundle. */
@@ -411,7 +429,7 @@ async function onPhotos(e) {
     if (!(bytes[0] === 0xff && bytes[1] === 0xd8 && bytes[2] === 0xff)) { say('error', t('problem.photo_not_jpeg', { name: file.name })); continue; }
     const sha256 = await sha256Hex(bytes);
     if ([...f.keptPhotos, ...f.newPhotos].some((p) => p.sha256 === sha256)) continue;
-    const meta = await photoMeta(bytes);
+    const meta = await photoMeta(bytes, offsetMinutes(cameraZone(state.trip).offset));
     f.newPhotos.push({ sha256, bytes, size: bytes.length, original_name: [...file.name].slice(0, 255).join(''), ...meta });
   }
   e.target.value = '';

@@ -96,6 +96,8 @@ function checkManifest(m) {
   const c = m.counts;
   if (!c || !['events', 'control_points', 'route_stops'].every((k) => Number.isInteger(c[k]) && c[k] >= 0)) throw bad('counts');
   if (!Array.isArray(m.entries)) throw bad('entries');
+  const z = m.camera_zone;
+  if (!(z === null || z === undefined || (typeof z === 'object' && /^[+-]\d{1,2}:\d{2}$/.test(z.offset) && (z.name === undefined || typeof z.name === 'string')))) throw bad('camera_zone');
 }
 
 // check_listing in read.rs.

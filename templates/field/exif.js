@@ -97,3 +97,22 @@ export async function photoMeta(bytes, zoneMinutes = 0) {
     direction_deg: finite(gps[TAG_GPS_IMG_DIRECTION], 0, 360),
   };
 }
+
+/** Minutes east of UTC of an offset written `+HH:MM`/`-HH:MM` within ±14:00, else null. */
+export function offsetMinutes(text) {
+  const m = /^([+-])(\d{1,2}):(\d{2})$/.exec(String(text ?? '').trim());
+  if (!m) return null;
+  const h = Number(m[2]);
+  const mi = Number(m[3]);
+  if (mi >= 60 || h * 60 + mi > 14 * 60) return null;
+  return (m[1] === '-' ? -1 : 1) * (h * 60 + mi);
+}
+
+/** The trip's camera zone {offset, name}: set on the phone, else the bundle's
+ * (the organisation's zone on the issue date), else UTC. */
+export function cameraZone(trip) {
+  for (const z of [trip && trip.camera_zone, trip && trip.manifest && trip.manifest.camera_zone]) {
+    if (z && offsetMinutes(z.offset) !== null) return { offset: z.offset, name: typeof z.name === 'string' ? z.name : '' };
+  }
+  return { offset: '+00:00', name: 'UTC' };
+}

@@ -8,6 +8,7 @@
 
 import { zipSync } from './vendor/fflate.js';
 import { hmacSha256Hex, sha256Hex } from './crypto.js';
+import { cameraZone } from './exif.js';
 
 export const RETURN_FORMAT = 'groundproof-return';
 export const RETURN_FORMAT_VERSION = 1;
@@ -61,6 +62,7 @@ export async function packReturn(trip, reports, photoBytes, createdAt = new Date
     report_count: sorted.length,
     photo_count: photos.size,
     entries,
+    camera_zone: cameraZone(trip),
   };
   const manifestJson = json(manifest);
   const signature = {

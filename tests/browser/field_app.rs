@@ -481,6 +481,25 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
         .map(|c| c.as_str().unwrap_or_default().to_string())
         .collect();
     assert_eq!(codes, bundle.route, "stops in visit order");
+    // The trip's camera zone defaults to the bundle's (the organisation's zone on the issue
+    // date), shown on the trip screen and ready to change.
+    let zone = bundle
+        .manifest
+        .camera_zone
+        .clone()
+        .expect("the bundle carries a camera zone");
+    let shown = b.script("return document.getElementById('camera-zone').value;");
+    assert_eq!(
+        shown.as_str(),
+        Some(zone.offset.as_str()),
+        "camera zone shown"
+    );
+    let line = b.script("return document.getElementById('camera-zone-shown').textContent;");
+    let line = line.as_str().unwrap_or_default();
+    assert!(
+        line.contains(&format!("UTC{}", zone.offset)) && line.contains(&zone.name),
+        "{line}"
+    );
     // The map: every footprint, the route from the start through every
     // stop, the phone with its accuracy; no base layer, so no tile.
     let drawn = wait_for(

@@ -87,6 +87,7 @@ fn packed(snap: &Snapshot, version: u32, reports: &[Report], photos: &[PathBuf])
         team: snap.team.clone(),
         checklist_version: version,
         created_at: chrono::Utc::now(),
+        camera_zone: None,
     };
     let key: UploadKey = snap.upload_key().unwrap();
     let mut out = std::io::Cursor::new(Vec::new());

@@ -561,6 +561,7 @@ fn bad_photos_bad_signatures_and_bad_archives_are_refused_with_reasons() {
         team: snap.team.clone(),
         checklist_version: 1,
         created_at: chrono::Utc::now(),
+        camera_zone: None,
     };
     let ob = groundproof_sync::outbox::Outbox::open(&ws).unwrap();
     let mut photos: Vec<PathBuf> = good

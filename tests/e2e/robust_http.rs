@@ -184,6 +184,7 @@ fn valid_return(s: &TestServer) -> (Vec<u8>, UploadKey, String) {
         team: bundle.manifest.team.clone(),
         checklist_version: 1,
         created_at: now,
+        camera_zone: None,
     };
     let mut out = Cursor::new(Vec::new());
     pack_return(

@@ -31,6 +31,7 @@ fn write_test_bundle(path: &Path) {
         expires_at: now + Duration::days(30),
         upload_key_id: "uk-test-1".into(),
         seed: None,
+        camera_zone: None,
     };
     let events: Vec<BundleEvent> = (0..10)
         .map(|i| {

@@ -21,10 +21,10 @@ use crate::platform::storage::{
     BundleItem, BundleRecord, Db, EventWrite, PhotoCheckRow, PhotoRow, ReportPhotoRow, ReportRow,
     ResultRow, ReturnRecord, StationEntry, UploadRecord,
 };
-use chrono::{DateTime, Utc};
+use chrono::{DateTime, FixedOffset, Utc};
 use groundproof_sync::SyncError;
 use groundproof_sync::bundle::Checklist;
-use groundproof_sync::photo::{TimeBasis, inspect_jpeg};
+use groundproof_sync::photo::{PhotoMeta, TimeBasis, inspect_jpeg};
 use groundproof_sync::returns::{OpenedReturn, Report, ReportPhoto, Target, open_return};
 use serde::Serialize;
 use sha2::{Digest, Sha256};
@@ -226,6 +226,19 @@ struct Context<'a> {
     photos: HashMap<String, Result<PhotoInfo, String>>,
 }
 
+/// When a photo was taken. EXIF read without a zone places a camera's local
+/// time (no offset, no GPS stamp) as if it were UTC: the return's camera zone
+/// moves it to its instant (local − offset); a return without one leaves the
+/// time out, and the report's own time stands.
+fn photo_instant(meta: &PhotoMeta, camera_zone: Option<FixedOffset>) -> Option<DateTime<Utc>> {
+    let t = meta.taken_at?;
+    if meta.time_basis != Some(TimeBasis::CameraZone) {
+        return Some(t);
+    }
+    let zone = camera_zone?;
+    Some(t - chrono::Duration::seconds(i64::from(zone.local_minus_utc())))
+}
+
 impl Context<'_> {
     fn photo(&mut self, sha: &str) -> Result<PhotoInfo, IntakeError> {
         if let Some(p) = self.photos.get(sha) {
@@ -253,13 +266,7 @@ impl Context<'_> {
                 sha256: sha.to_string(),
                 width: check.width,
                 height: check.height,
-                // A camera's local time with no offset and no GPS stamp is not an instant
-                // here: the report's time (placed in the trip's camera zone) stands.
-                taken_at: check
-                    .meta
-                    .taken_at
-                    .filter(|_| check.meta.time_basis != Some(TimeBasis::CameraZone))
-                    .map(|t| t.to_rfc3339()),
+                taken_at: photo_instant(&check.meta, self.camera_zone()).map(|t| t.to_rfc3339()),
                 lat: check.meta.lat,
                 lon: check.meta.lon,
                 // A magnetic direction is not stored as a bearing from true north.
@@ -270,6 +277,12 @@ impl Context<'_> {
             },
             thumb: Some(check.thumbnail_jpeg),
         })
+    }
+
+    /// The camera zone the return carries, if any (checked when it was opened).
+    fn camera_zone(&self) -> Option<FixedOffset> {
+        let zone = self.opened.manifest.camera_zone.as_ref()?;
+        zone.fixed_offset().ok()
     }
 
     fn item(&self, code: &str, kind: TargetKind) -> Option<&BundleItem> {

@@ -71,7 +71,8 @@ pub fn issue_bundle_in(
     let mut planned = plan_trip(db, settings, req)?;
     planned.tr = tr;
     check_expected_order(req, &planned)?;
-    let (header, key) = new_header(&team.name, req, planned.sel.seed);
+    let (mut header, key) = new_header(&team.name, req, planned.sel.seed);
+    header.camera_zone = Some(camera_zone(settings, header.issued_at));
     let file = write_bundle_file(db, data_dir, req, &team.name, &planned, &header, &key)?;
     let record = record_issued(db, req, &team, &planned, &header, &key, &file)?;
     tracing::info!(bundle = %header.bundle_id, team = %team.name, events = planned.events.len(), controls = planned.controls.len(), bytes = file.size, "bundle issued");
@@ -462,8 +463,24 @@ fn new_header(team: &str, req: &TripRequest, seed: Option<u64>) -> (BundleHeader
         expires_at: issued_at + chrono::Duration::days(req.expires_days),
         upload_key_id: key_id,
         seed,
+        camera_zone: None,
     };
     (header, key)
+}
+
+/// The trip's default camera zone: the organisation's zone with the offset in
+/// force at the issue instant (cameras are set to local time; issue 12 item 14).
+fn camera_zone(
+    settings: &Settings,
+    issued_at: chrono::DateTime<chrono::Utc>,
+) -> groundproof_sync::bundle::CameraZone {
+    use chrono::Offset;
+    let name = settings.zone().name();
+    let offset = name
+        .parse::<chrono_tz::Tz>()
+        .map(|tz| issued_at.with_timezone(&tz).offset().fix())
+        .unwrap_or_else(|_| chrono::Utc.fix());
+    groundproof_sync::bundle::CameraZone::new(offset, name)
 }
 
 /// Each event's preview image (its alert pixels over its footprint): as a ZIP
@@ -683,4 +700,29 @@ fn record_bundle(db: &Db, new: &NewBundle<'_>, path: &std::path::Path) -> Result
 /// Cancel a bundle; its upload key is refused from now on.
 pub fn cancel_bundle(db: &Db, id: &str) -> Result<()> {
     db.write(|tx| tx.cancel_bundle(id))
+}
+
+#[cfg(test)]
+mod camera_zone_tests {
+    use super::*;
+    use chrono::TimeZone;
+
+    /// `Etc/GMT+4` is UTC−04:00 (POSIX sign, IANA tz database); UTC is the default.
+    #[test]
+    fn the_bundle_camera_zone_is_the_organisation_zone_on_the_issue_date() {
+        let at = chrono::Utc
+            .with_ymd_and_hms(2026, 12, 4, 12, 0, 0)
+            .single()
+            .expect("t");
+        let mut settings = Settings::default();
+        assert_eq!(camera_zone(&settings, at).offset, "+00:00");
+        settings.organisation.time_zone = "Etc/GMT+4".into();
+        let zone = camera_zone(&settings, at);
+        assert_eq!(
+            (zone.offset.as_str(), zone.name.as_str()),
+            ("-04:00", "Etc/GMT+4")
+        );
+        settings.organisation.time_zone = "Etc/GMT-5".into();
+        assert_eq!(camera_zone(&settings, at).offset, "+05:00");
+    }
 }

@@ -283,6 +283,7 @@ mod tests {
             expires_at: t(20),
             upload_key_id: "k1".into(),
             seed: Some(7),
+            camera_zone: None,
         }
     }
 

@@ -7,7 +7,7 @@ use chrono::{DateTime, Utc};
 use serde::{Deserialize, Serialize};
 use sha2::{Digest, Sha256};
 
-use super::types::{BundleHeader, is_key_id};
+use super::types::{BundleHeader, CameraZone, is_key_id};
 use crate::{BUNDLE_FORMAT, BUNDLE_FORMAT_VERSION};
 
 /// Contents of `manifest.json`.
@@ -39,6 +39,10 @@ pub struct Manifest {
     pub counts: ManifestCounts,
     /// Every entry except `manifest.json` itself, sorted by name.
     pub entries: Vec<ManifestEntry>,
+    /// The trip's default camera zone (the organisation's zone on the issue
+    /// date); absent in bundles written before it existed.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub camera_zone: Option<CameraZone>,
 }
 
 /// Counts of what a bundle holds.
@@ -86,6 +90,7 @@ impl Manifest {
             checklist_version,
             counts,
             entries,
+            camera_zone: header.camera_zone.clone(),
         }
     }
 
@@ -100,6 +105,7 @@ impl Manifest {
             expires_at: self.expires_at,
             upload_key_id: self.upload_key_id.clone(),
             seed: self.seed,
+            camera_zone: self.camera_zone.clone(),
         }
     }
 
@@ -173,6 +179,66 @@ pub fn sha256_hex(bytes: &[u8]) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::bundle::read::parse_manifest;
+    use chrono::TimeZone;
+
+    fn manifest(zone: Option<CameraZone>) -> Manifest {
+        let t = |d| {
+            Utc.with_ymd_and_hms(2026, 11, d, 8, 0, 0)
+                .single()
+                .expect("t")
+        };
+        let header = BundleHeader {
+            bundle_id: uuid::Uuid::from_u128(9),
+            team: "Team Amber".into(),
+            mode: "response".into(),
+            issued_at: t(1),
+            due_at: t(5),
+            expires_at: t(9),
+            upload_key_id: "k1".into(),
+            seed: None,
+            camera_zone: zone,
+        };
+        let counts = ManifestCounts {
+            events: 0,
+            control_points: 0,
+            route_stops: 0,
+        };
+        Manifest::new(&header, 2, counts, Vec::new())
+    }
+
+    /// The camera zone survives a write and a read; a bundle written before it
+    /// existed (no key at all) still reads, with no zone; a bad offset is refused.
+    #[test]
+    fn camera_zone_round_trip_with_and_without() {
+        let west4 = chrono::FixedOffset::west_opt(4 * 3600).expect("offset");
+        let with = manifest(Some(CameraZone::new(west4, "Etc/GMT+4")));
+        let json = serde_json::to_vec(&with).expect("json");
+        assert!(String::from_utf8_lossy(&json).contains(r#""offset":"-04:00""#));
+        let back = parse_manifest(&json).expect("reads");
+        assert_eq!(back, with);
+        let zone = back.camera_zone.expect("zone");
+        assert_eq!(zone.fixed_offset(), Ok(west4));
+        assert_eq!(zone.name, "Etc/GMT+4");
+
+        let without = manifest(None);
+        let json = serde_json::to_string(&without).expect("json");
+        assert!(
+            !json.contains("camera_zone"),
+            "old bundles stay byte-identical"
+        );
+        assert_eq!(
+            parse_manifest(json.as_bytes())
+                .expect("old reads")
+                .camera_zone,
+            None
+        );
+
+        let mut bad = serde_json::to_value(&with).expect("value");
+        bad["camera_zone"]["offset"] = "-15:00".into();
+        let err = parse_manifest(bad.to_string().as_bytes()).expect_err("refused");
+        assert!(err.to_string().contains("camera zone"), "{err}");
+    }
 
     #[test]
     fn sha256_of_abc() {

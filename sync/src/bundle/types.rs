@@ -224,6 +224,61 @@ pub struct BundleHeader {
     pub upload_key_id: String,
     /// Seed of the assessment sample, if any.
     pub seed: Option<u64>,
+    /// The organisation's zone on the issue date, the trip's default camera zone.
+    pub camera_zone: Option<CameraZone>,
+}
+
+/// A camera zone carried by a bundle or a return: the UTC offset that places a
+/// photo time written with neither offset nor GPS stamp, and the zone's name
+/// for display (an IANA name such as `Etc/GMT+4`, or empty when set by hand).
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
+pub struct CameraZone {
+    /// Offset from UTC, `+HH:MM` or `-HH:MM`, within ±14:00.
+    pub offset: String,
+    /// Name of the zone the offset came from, for display; may be empty.
+    #[serde(default)]
+    pub name: String,
+}
+
+impl CameraZone {
+    /// The zone with `offset` formatted as `+HH:MM`.
+    pub fn new(offset: chrono::FixedOffset, name: &str) -> Self {
+        let secs = offset.local_minus_utc();
+        let sign = if secs < 0 { '-' } else { '+' };
+        let mins = secs.abs() / 60;
+        CameraZone {
+            offset: format!("{sign}{:02}:{:02}", mins / 60, mins % 60),
+            name: name.chars().take(MAX_TEXT_CHARS).collect(),
+        }
+    }
+
+    /// The offset, checked: `+HH:MM`/`-HH:MM` within ±14:00; the error says what is wrong.
+    pub fn fixed_offset(&self) -> Result<chrono::FixedOffset, String> {
+        parse_utc_offset(&self.offset)
+    }
+}
+
+/// An offset from UTC, `+HH:MM` or `-HH:MM`, within ±14:00 (the zones in use).
+pub fn parse_utc_offset(raw: &str) -> Result<chrono::FixedOffset, String> {
+    let bad = || {
+        format!(
+            "camera zone {raw:?} must be an offset from UTC such as +03:00 or -05:30, within ±14:00"
+        )
+    };
+    let (sign, rest) = match raw.as_bytes().first() {
+        Some(b'+') => (1, &raw[1..]),
+        Some(b'-') => (-1, &raw[1..]),
+        _ => return Err(bad()),
+    };
+    let (h, m) = rest.split_once(':').ok_or_else(bad)?;
+    if h.is_empty() || h.len() > 2 || m.len() != 2 {
+        return Err(bad());
+    }
+    let (h, m): (i32, i32) = (h.parse().map_err(|_| bad())?, m.parse().map_err(|_| bad())?);
+    if !(0..60).contains(&m) || h * 60 + m > 14 * 60 || h < 0 {
+        return Err(bad());
+    }
+    chrono::FixedOffset::east_opt(sign * (h * 3600 + m * 60)).ok_or_else(bad)
 }
 
 impl BundleHeader {
@@ -250,6 +305,14 @@ impl BundleHeader {
                 "times must satisfy issued_at <= due_at <= expires_at, issued_at < expires_at"
                     .into(),
             );
+        }
+        if let Some(zone) = &self.camera_zone {
+            zone.fixed_offset()?;
+            if zone.name.chars().count() > MAX_TEXT_CHARS {
+                return Err(format!(
+                    "camera zone name is over {MAX_TEXT_CHARS} characters"
+                ));
+            }
         }
         Ok(())
     }

@@ -14,7 +14,7 @@ use chrono::{DateTime, Utc};
 use serde::{Deserialize, Serialize};
 use uuid::Uuid;
 
-use super::workspace::{OUTGOING, Snapshot};
+use super::workspace::{OUTGOING, Snapshot, camera_zone_record};
 use crate::SyncError;
 use crate::client::{Package, PushOptions, ReportResult, send};
 use crate::outbox::{Outbox, PushState, write_atomic};
@@ -90,6 +90,7 @@ pub fn pack_workspace(
         team: snap.team.clone(),
         checklist_version: snap.checklist.version,
         created_at: now,
+        camera_zone: Some(camera_zone_record(ws)?),
     };
     let dir = match out.parent() {
         Some(p) if !p.as_os_str().is_empty() => p.to_owned(),

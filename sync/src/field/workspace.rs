@@ -12,7 +12,7 @@ use serde::{Deserialize, Serialize};
 use uuid::Uuid;
 
 use crate::SyncError;
-use crate::bundle::{Checklist, OpenedBundle, UploadKey};
+use crate::bundle::{CameraZone, Checklist, OpenedBundle, UploadKey, parse_utc_offset};
 use crate::outbox::write_atomic;
 
 /// Snapshot file name in the workspace.
@@ -26,33 +26,36 @@ pub const OUTGOING: &str = "outgoing";
 /// The trip's camera zone (an offset from UTC such as `+03:00`), set by `camera-zone`.
 pub const CAMERA_ZONE: &str = "camera-zone";
 
-/// The cameras' zone for this trip: what `camera-zone` set, else UTC.
+/// The cameras' zone for this trip: what `camera-zone` set, else the bundle's
+/// (the organisation's zone on the issue date), else UTC.
 pub fn camera_zone(workspace: &Path) -> Result<chrono::FixedOffset, SyncError> {
     match std::fs::read_to_string(workspace.join(CAMERA_ZONE)) {
         Ok(text) => parse_offset(text.trim()),
-        Err(e) if e.kind() == std::io::ErrorKind::NotFound => Ok(chrono::Utc.fix()),
+        Err(e) if e.kind() == std::io::ErrorKind::NotFound => {
+            match Snapshot::load(workspace)?.camera_zone {
+                Some(zone) => zone.fixed_offset().map_err(SyncError::Usage),
+                None => Ok(chrono::Utc.fix()),
+            }
+        }
         Err(e) => Err(SyncError::io("read the camera zone", e)),
     }
 }
 
+/// The camera zone a return carries: the trip's offset, named after the
+/// bundle's zone when the offset is the bundle's.
+pub fn camera_zone_record(workspace: &Path) -> Result<CameraZone, SyncError> {
+    let offset = camera_zone(workspace)?;
+    let bundle = Snapshot::load(workspace)?.camera_zone;
+    let name = bundle
+        .filter(|z| z.fixed_offset().ok() == Some(offset))
+        .map(|z| z.name)
+        .unwrap_or_default();
+    Ok(CameraZone::new(offset, &name))
+}
+
 /// An offset from UTC, `+HH:MM` or `-HH:MM`, within ±14:00 (the zones in use).
 pub fn parse_offset(raw: &str) -> Result<chrono::FixedOffset, SyncError> {
-    let bad = || {
-        SyncError::Usage(format!(
-            "camera zone {raw:?} must be an offset from UTC such as +03:00 or -05:30, within ±14:00"
-        ))
-    };
-    let (sign, rest) = match raw.as_bytes().first() {
-        Some(b'+') => (1, &raw[1..]),
-        Some(b'-') => (-1, &raw[1..]),
-        _ => return Err(bad()),
-    };
-    let (h, m) = rest.split_once(':').ok_or_else(bad)?;
-    let (h, m): (i32, i32) = (h.parse().map_err(|_| bad())?, m.parse().map_err(|_| bad())?);
-    if !(0..60).contains(&m) || h * 60 + m > 14 * 60 || h < 0 {
-        return Err(bad());
-    }
-    chrono::FixedOffset::east_opt(sign * (h * 3600 + m * 60)).ok_or_else(bad)
+    parse_utc_offset(raw).map_err(SyncError::Usage)
 }
 
 /// An event as the field commands see it.
@@ -99,6 +102,9 @@ pub struct Snapshot {
     pub controls: Vec<FieldControl>,
     /// Codes in visit order.
     pub route: Vec<String>,
+    /// The bundle's camera zone, if it carries one.
+    #[serde(default)]
+    pub camera_zone: Option<CameraZone>,
 }
 
 /// A stop of the route.
@@ -171,6 +177,7 @@ impl Snapshot {
                 })
                 .collect(),
             route: b.route.clone(),
+            camera_zone: m.camera_zone.clone(),
         }
     }
 

@@ -236,6 +236,12 @@ fn read_manifest(
             manifest.upload_key_id, signature.key_id
         )));
     }
+    if let Some(zone) = &manifest.camera_zone {
+        zone.fixed_offset().map_err(bad_manifest)?;
+        if zone.name.chars().count() > crate::bundle::MAX_TEXT_CHARS {
+            return Err(bad_manifest("camera_zone name is too long".into()));
+        }
+    }
     Ok(manifest)
 }
 

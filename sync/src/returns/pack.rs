@@ -105,6 +105,7 @@ pub fn pack_return<W: Write + Seek>(
         report_count: count(sorted.len())?,
         photo_count: count(photo_files.len())?,
         entries,
+        camera_zone: header.camera_zone.clone(),
     };
     let manifest_json =
         serde_json::to_vec_pretty(&manifest).map_err(|e| bad(format!("manifest: {e}")))?;

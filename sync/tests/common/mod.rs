@@ -29,6 +29,7 @@ pub fn header() -> BundleHeader {
         expires_at: t(2026, 9, 30, 0),
         upload_key_id: "uk-0001".into(),
         seed: Some(20_260_901),
+        camera_zone: None,
     }
 }
 

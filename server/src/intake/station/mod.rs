@@ -428,6 +428,7 @@ fn pack(
         team: b.team.clone(),
         checklist_version: checklist().version,
         created_at: d.created_at,
+        camera_zone: None,
     };
     let dir = data_dir.join(INCOMING_DIR);
     std::fs::create_dir_all(&dir)

@@ -110,6 +110,7 @@ fn input() -> SheetInput {
                 .expect("date"),
             upload_key_id: "key-1".into(),
             seed: Some(42),
+            camera_zone: None,
         },
         reserve: "Lower Verdant Reserve".into(),
         team_label: "East team 2 <field>".into(),
