@@ -20,6 +20,13 @@ fn events_by_zone_over_http() {
         let p = &f["properties"];
         assert!(p["zones"].as_array().unwrap().iter().any(|z| z == "Core"));
         assert_eq!(p["in_priority_zone"], true);
+        // Issue 14: the alert confidence by its level name beside the stored word.
+        let level = match p["highest_confidence"].as_str().unwrap() {
+            "confirmed" => "high",
+            "tentative" => "low",
+            other => panic!("confidence {other}"),
+        };
+        assert_eq!(p["confidence_level"], level);
         let prio = p["priority"].as_f64().unwrap();
         assert!(prio <= last + 1e-12, "ordered by priority");
         last = prio;

@@ -26,7 +26,7 @@
       (data.features || []).forEach(function (f) { kinds[f.properties.kind + (f.properties.priority ? '-p' : '')] = true; });
       if (kinds['zone-p']) { line(div, 'priority zone', ''); }
       if (kinds.zone) { line(div, 'zone', 'plain'); }
-      if (kinds.route) { line(div, 'route', ''); }
+      if (kinds.route) { line(div, 'route', 'route'); }
       if (kinds.candidate) { line(div, 'not in the trip (click to add)', ''); }
       return div;
     };

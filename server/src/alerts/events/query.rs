@@ -79,6 +79,7 @@ pub fn event_feature(e: &RankedEvent) -> Value {
             "alerts_per_source": a.per_source,
             "sources": a.per_source.keys().collect::<Vec<_>>(),
             "highest_confidence": a.highest_confidence,
+            "confidence_level": a.highest_confidence.level(),
             "corroborated": a.corroborated,
             "zones": e.record.zones,
             "in_priority_zone": e.record.in_priority_zone,
