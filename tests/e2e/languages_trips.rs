@@ -137,3 +137,53 @@ fn trips_trip_and_event_pages_speak_portuguese_and_name_confidence_high_or_low()
         assert!(!en.contains(word), "alert confidence shown as {word}");
     }
 }
+
+/// The preview page and its map's label in Portuguese (issue 13), from the
+/// project's own catalogue; English stays the default.
+#[test]
+fn the_preview_speaks_portuguese() {
+    let s = TestServer::start();
+    load_scenario(&s);
+    let (lon, lat) = mock_patrols::scenario().station;
+    let form = format!(
+        "team=Team+Amber&mode=response&zone=Core&max=3&start_lat={lat}&start_lon={lon}&walking_kmh=2.5&due_days=5"
+    );
+    let post = |lang: Option<&str>| {
+        let agent: ureq::Agent = ureq::Agent::config_builder()
+            .http_status_as_error(false)
+            .build()
+            .into();
+        let token = groundproof_e2e::admin_token(&s);
+        let mut r = agent
+            .post(&s.url("/trips/preview"))
+            .header("Authorization", format!("Bearer {token}"))
+            .header("Content-Type", "application/x-www-form-urlencoded");
+        if let Some(l) = lang {
+            r = r.header("Accept-Language", l);
+        }
+        let mut r = r.send(form.as_bytes()).expect("request reaches the server");
+        let status = r.status().as_u16();
+        (status, r.body_mut().read_to_string().unwrap_or_default())
+    };
+    let (status, pt) = post(Some("pt"));
+    assert_eq!(status, 200, "{pt}");
+    assert_has(
+        "preview (pt)",
+        &pt,
+        &[
+            "Prévia da viagem para Team Amber",
+            "Emitir esta viagem",
+            "Atualizar a prévia",
+            "km em linha reta",
+            "mapa para arrastar e aproximar",
+        ],
+    );
+    assert!(!pt.contains("Issue this trip"), "no English button left");
+    let (status, en) = post(None);
+    assert_eq!(status, 200, "{en}");
+    assert_has(
+        "preview (en)",
+        &en,
+        &["Trip preview for Team Amber", "Issue this trip"],
+    );
+}

@@ -542,3 +542,21 @@ event-reports-title = Reports ({ $n })
 event-no-report = No report has been received for this event yet.
 event-alerts-title = Alerts ({ $n })
 event-col-detected = Detected
+
+# --- preview, page maps ---
+preview-title = Trip preview for { $team }
+preview-nothing-issued = Nothing was issued
+preview-hint = Nothing is stored until you press “Issue this trip”. Issuing takes exactly the stops below in this order; if the facts changed in the meantime (an event merged or grew, the start or the ticks were changed without updating), nothing is issued and the new preview is shown.
+preview-stops = Stops
+preview-route-line = { $km } km straight-line, about { $hours } h walking ({ $method })
+preview-map-hint = Click the map to move the start, then update the preview.
+preview-map-hint-pick = Click the map to move the start; click an event to tick or untick it, then update the preview.
+preview-add = Add events by code
+preview-add-hint = (e.g. K0417, several with commas)
+preview-keep = Keep
+preview-keep-label = Keep { $code }
+preview-col-stop = Stop
+preview-col-leg = Leg (km)
+preview-issue = Issue this trip
+preview-update = Update the preview
+map-pan-zoom = { $label }: map to pan and zoom

@@ -540,3 +540,21 @@ event-reports-title = Informes ({ $n })
 event-no-report = Aún no se ha recibido ningún informe de este evento.
 event-alerts-title = Alertas ({ $n })
 event-col-detected = Detectada
+
+# --- preview, page maps ---
+preview-title = Vista previa del viaje de { $team }
+preview-nothing-issued = No se emitió nada
+preview-hint = No se guarda nada hasta que pulse “Emitir este viaje”. Al emitir se toman exactamente las paradas de abajo en este orden; si los datos cambiaron entretanto (un evento se fusionó o creció, o el inicio o las marcas cambiaron sin actualizar), no se emite nada y se muestra la nueva vista previa.
+preview-stops = Paradas
+preview-route-line = { $km } km en línea recta, unas { $hours } h a pie ({ $method })
+preview-map-hint = Haga clic en el mapa para mover el inicio y luego actualice la vista previa.
+preview-map-hint-pick = Haga clic en el mapa para mover el inicio; haga clic en un evento para marcarlo o desmarcarlo, y luego actualice la vista previa.
+preview-add = Añadir eventos por código
+preview-add-hint = (p. ej. K0417, varios separados por comas)
+preview-keep = Mantener
+preview-keep-label = Mantener { $code }
+preview-col-stop = Parada
+preview-col-leg = Tramo (km)
+preview-issue = Emitir este viaje
+preview-update = Actualizar la vista previa
+map-pan-zoom = { $label }: mapa para desplazar y acercar

@@ -540,3 +540,21 @@ event-reports-title = Rapports ({ $n })
 event-no-report = Aucun rapport n'a encore été reçu pour cet événement.
 event-alerts-title = Alertes ({ $n })
 event-col-detected = Détectée
+
+# --- preview, page maps ---
+preview-title = Aperçu de la mission pour { $team }
+preview-nothing-issued = Rien n’a été émis
+preview-hint = Rien n’est enregistré avant d’appuyer sur « Émettre cette mission ». L’émission reprend exactement les étapes ci-dessous dans cet ordre ; si les données ont changé entre-temps (un événement a fusionné ou grandi, le départ ou les cases ont changé sans mise à jour), rien n’est émis et le nouvel aperçu s’affiche.
+preview-stops = Étapes
+preview-route-line = { $km } km en ligne droite, environ { $hours } h de marche ({ $method })
+preview-map-hint = Cliquez sur la carte pour déplacer le départ, puis mettez l’aperçu à jour.
+preview-map-hint-pick = Cliquez sur la carte pour déplacer le départ ; cliquez sur un événement pour le cocher ou le décocher, puis mettez l’aperçu à jour.
+preview-add = Ajouter des événements par code
+preview-add-hint = (p. ex. K0417, plusieurs séparés par des virgules)
+preview-keep = Garder
+preview-keep-label = Garder { $code }
+preview-col-stop = Étape
+preview-col-leg = Tronçon (km)
+preview-issue = Émettre cette mission
+preview-update = Mettre l’aperçu à jour
+map-pan-zoom = { $label } : carte à déplacer et agrandir

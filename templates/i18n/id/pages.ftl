@@ -540,3 +540,21 @@ event-reports-title = Laporan ({ $n })
 event-no-report = Belum ada laporan yang diterima untuk kejadian ini.
 event-alerts-title = Peringatan ({ $n })
 event-col-detected = Terdeteksi
+
+# --- preview, page maps ---
+preview-title = Pratinjau perjalanan untuk { $team }
+preview-nothing-issued = Tidak ada yang diterbitkan
+preview-hint = Tidak ada yang disimpan sebelum Anda menekan “Terbitkan perjalanan ini”. Penerbitan mengambil tepat titik-titik di bawah dengan urutan ini; jika data berubah sementara itu (sebuah kejadian bergabung atau membesar, titik awal atau centang diubah tanpa diperbarui), tidak ada yang diterbitkan dan pratinjau baru ditampilkan.
+preview-stops = Titik
+preview-route-line = { $km } km garis lurus, sekitar { $hours } jam berjalan kaki ({ $method })
+preview-map-hint = Klik peta untuk memindahkan titik awal, lalu perbarui pratinjau.
+preview-map-hint-pick = Klik peta untuk memindahkan titik awal; klik sebuah kejadian untuk mencentang atau menghapus centangnya, lalu perbarui pratinjau.
+preview-add = Tambahkan kejadian dengan kode
+preview-add-hint = (mis. K0417, beberapa dipisah koma)
+preview-keep = Simpan
+preview-keep-label = Simpan { $code }
+preview-col-stop = Titik
+preview-col-leg = Ruas (km)
+preview-issue = Terbitkan perjalanan ini
+preview-update = Perbarui pratinjau
+map-pan-zoom = { $label }: peta untuk digeser dan diperbesar

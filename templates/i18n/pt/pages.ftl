@@ -540,3 +540,21 @@ event-reports-title = Relatórios ({ $n })
 event-no-report = Nenhum relatório foi recebido para este evento ainda.
 event-alerts-title = Alertas ({ $n })
 event-col-detected = Detectado
+
+# --- preview, page maps ---
+preview-title = Prévia da viagem para { $team }
+preview-nothing-issued = Nada foi emitido
+preview-hint = Nada é guardado até você clicar em “Emitir esta viagem”. A emissão leva exatamente as paradas abaixo, nesta ordem; se os dados mudaram nesse meio-tempo (um evento se fundiu ou cresceu, o início ou as marcações mudaram sem atualizar), nada é emitido e a nova prévia aparece.
+preview-stops = Paradas
+preview-route-line = { $km } km em linha reta, cerca de { $hours } h de caminhada ({ $method })
+preview-map-hint = Clique no mapa para mudar o início e depois atualize a prévia.
+preview-map-hint-pick = Clique no mapa para mudar o início; clique num evento para marcá-lo ou desmarcá-lo, e depois atualize a prévia.
+preview-add = Adicionar eventos pelo código
+preview-add-hint = (ex.: K0417, vários separados por vírgulas)
+preview-keep = Manter
+preview-keep-label = Manter { $code }
+preview-col-stop = Parada
+preview-col-leg = Trecho (km)
+preview-issue = Emitir esta viagem
+preview-update = Atualizar a prévia
+map-pan-zoom = { $label }: mapa para arrastar e aproximar
