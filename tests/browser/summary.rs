@@ -63,11 +63,11 @@ fn the_summary_prints_one_a4_page_per_section_with_the_figures() {
         "events",
         "from detection",
         "from issue",
-        "Wilson 95% CI",
+        "Wilson 95%",
     ] {
         assert!(text.contains(needle), "summary lacks {needle:?}: {text}");
     }
-    assert!(rate.contains("Wilson 95% CI"), "{rate}");
+    assert!(rate.contains("Wilson 95%"), "{rate}");
     let api = |path: &str| -> serde_json::Value {
         serde_json::from_slice(&super::download_with_session(&b, &s, path)).expect("JSON")
     };
