@@ -10,10 +10,32 @@ use std::net::{SocketAddr, TcpListener};
 use std::path::{Path, PathBuf};
 use std::sync::Arc;
 
+/// The engine the end-to-end tests run on: PostgreSQL when
+/// `GROUNDPROOF_TEST_ENGINE=postgres` (its server's URL in
+/// `GROUNDPROOF_TEST_POSTGRES`; each test server gets a new database of its
+/// own there), else the SQLite file in each test's data directory.
+pub fn test_database() -> Option<String> {
+    let engine = std::env::var("GROUNDPROOF_TEST_ENGINE").unwrap_or_default();
+    if engine.trim() != "postgres" {
+        return None;
+    }
+    let url = std::env::var("GROUNDPROOF_TEST_POSTGRES").unwrap_or_default();
+    assert!(
+        !url.trim().is_empty(),
+        "GROUNDPROOF_TEST_ENGINE=postgres needs GROUNDPROOF_TEST_POSTGRES=postgres://… (see .ci/run)"
+    );
+    Some(
+        groundproof::platform::storage::scratch_postgres(url.trim())
+            .expect("a new PostgreSQL database"),
+    )
+}
+
 /// A running server and its data directory (removed on drop).
 pub struct TestServer {
     pub addr: SocketAddr,
     pub db: Arc<Db>,
+    /// The PostgreSQL database's URL when the tests run on PostgreSQL.
+    pub database: Option<String>,
     handle: actix_web::dev::ServerHandle,
     thread: Option<std::thread::JoinHandle<()>>,
     dir: tempfile::TempDir,
@@ -23,7 +45,8 @@ impl TestServer {
     /// Start on a random loopback port with an empty data directory.
     pub fn start() -> TestServer {
         let dir = tempfile::tempdir().expect("temp dir");
-        let db = Arc::new(Db::open(dir.path()).expect("database opens"));
+        let database = test_database();
+        let db = Arc::new(Db::open_with(dir.path(), database.as_deref()).expect("database opens"));
         let listener = TcpListener::bind("127.0.0.1:0").expect("bind loopback");
         let addr = listener.local_addr().expect("address");
         let state = AppState::new(db.clone(), dir.path().to_path_buf(), Settings::default());
@@ -50,6 +73,7 @@ impl TestServer {
         TestServer {
             addr,
             db,
+            database,
             handle,
             thread: Some(thread),
             dir,
@@ -80,7 +104,7 @@ impl TestServer {
     /// [`stop`]: TestServer::stop
     pub fn restart(&mut self) {
         self.stop();
-        let db = Arc::new(Db::open(self.dir.path()).expect("database opens again"));
+        let db = Arc::new(self.open_db().expect("database opens again"));
         let listener = TcpListener::bind(self.addr).expect("bind the same port");
         let state = AppState::new(
             db.clone(),
@@ -97,6 +121,11 @@ impl TestServer {
         }));
         self.handle = rx.recv().expect("server started again");
         self.db = db;
+    }
+
+    /// Open this server's database once more (as another process would).
+    pub fn open_db(&self) -> groundproof::Result<Db> {
+        Db::open_with(self.dir.path(), self.database.as_deref())
     }
 
     pub fn data_dir(&self) -> &Path {

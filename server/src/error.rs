@@ -64,12 +64,27 @@ pub enum Error {
     Internal(String),
     #[error("database: {0}")]
     Db(#[from] rusqlite::Error),
+    /// PostgreSQL's error, when the database is PostgreSQL (`--database postgres://…`).
+    #[error("database (PostgreSQL): {}", postgres_message(.0))]
+    Postgres(#[from] postgres::Error),
     #[error("{context}: {source}")]
     Io {
         context: String,
         #[source]
         source: std::io::Error,
     },
+}
+
+/// PostgreSQL's own message when the server sent one (the client's
+/// `Display` says only "db error").
+fn postgres_message(e: &postgres::Error) -> String {
+    match e.as_db_error() {
+        Some(db) => match db.detail() {
+            Some(d) => format!("{}: {} ({d})", db.code().code(), db.message()),
+            None => format!("{}: {}", db.code().code(), db.message()),
+        },
+        None => e.to_string(),
+    }
 }
 
 impl Error {

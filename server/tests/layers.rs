@@ -73,7 +73,11 @@ const PURE: &[(&str, &[&str])] = &[
 /// Crates whose use marks a module as doing I/O of a kind only one layer may do.
 /// (`domain` may also convert its words to SQLite values: see
 /// [`beyond_value_conversion`].)
-const ONLY_IN: &[(&str, &str)] = &[("rusqlite", "platform::storage"), ("actix_web", "web")];
+const ONLY_IN: &[(&str, &str)] = &[
+    ("rusqlite", "platform::storage"),
+    ("postgres", "platform::storage"),
+    ("actix_web", "web"),
+];
 
 type Module = Vec<String>;
 

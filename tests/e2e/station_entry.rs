@@ -201,7 +201,7 @@ fn a_paper_trip_with_camera_photos_is_proposed_moved_saved_once_and_shows_its_pr
     assert!(text_of(&r.body, "#unplaced").contains("no position and no time"));
 
     // Nothing is a fact yet.
-    let db = Db::open(&s.data_path()).unwrap();
+    let db = s.open_db().unwrap();
     assert_eq!(count(&db, "reports"), 0);
 
     // The operator copies the sheet, moves the unplaced photo to the second stop, keeps.
@@ -302,7 +302,7 @@ fn bad_input_at_the_station_gets_a_clear_message_and_stores_nothing() {
         _tmp,
     } = setup();
     let e1 = &snap.events[0];
-    let db = Db::open(&s.data_path()).unwrap();
+    let db = s.open_db().unwrap();
 
     // A trip that does not exist.
     let r = get(&s.url("/station/trips/00000000-0000-4000-8000-000000000000"));

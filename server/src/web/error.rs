@@ -22,9 +22,11 @@ pub fn status(e: &Error) -> StatusCode {
         Error::TooLarge(_) => StatusCode::PAYLOAD_TOO_LARGE,
         Error::ImportRejected(_) | Error::Package(_) => StatusCode::UNPROCESSABLE_ENTITY,
         Error::Limit(_) => StatusCode::TOO_MANY_REQUESTS,
-        Error::SchemaTooNew { .. } | Error::Internal(_) | Error::Db(_) | Error::Io { .. } => {
-            StatusCode::INTERNAL_SERVER_ERROR
-        }
+        Error::SchemaTooNew { .. }
+        | Error::Internal(_)
+        | Error::Db(_)
+        | Error::Postgres(_)
+        | Error::Io { .. } => StatusCode::INTERNAL_SERVER_ERROR,
     }
 }
 

@@ -6,9 +6,10 @@
 //! (triggers), so a row once written stays as it was. Times are Unix
 //! seconds like the account tables.
 
+use super::engine::{OptionalExtension, Row};
 use super::{Reader, Source, Tx};
 use crate::error::{Error, Result};
-use rusqlite::{OptionalExtension, params};
+use rusqlite::params;
 use serde::Serialize;
 
 /// Schema for this module; appended to the migration list.
@@ -77,18 +78,19 @@ impl Tx<'_> {
         subject: &str,
         detail: &str,
     ) -> Result<i64> {
-        self.tx.execute(
-            "INSERT INTO admin_log (at, actor, action, subject, detail) VALUES (?1, ?2, ?3, ?4, ?5)",
+        let id: i64 = self.tx.query_row(
+            "INSERT INTO admin_log (at, actor, action, subject, detail) VALUES (?1, ?2, ?3, ?4, ?5) RETURNING id",
             params![at, clip(actor), clip(action), clip(subject), clip(detail)],
+            |r| r.get(0),
         )?;
-        Ok(self.tx.last_insert_rowid())
+        Ok(id)
     }
 
     /// Disable a team (at `now`) or enable it again (`None`); false when it
     /// already was in that state. Unknown ids are [`Error::NotFound`].
     pub fn set_team_disabled(&self, team_id: i64, disabled_at: Option<i64>) -> Result<bool> {
         let n = self.tx.execute(
-            "UPDATE teams SET disabled_at = ?1 WHERE id = ?2 AND (disabled_at IS NULL) = (?1 IS NOT NULL)",
+            "UPDATE teams SET disabled_at = ?1 WHERE id = ?2 AND (disabled_at IS NULL) = (CAST(?1 AS BIGINT) IS NOT NULL)",
             params![disabled_at, team_id],
         )?;
         if n == 0 && self.reader().team_state(team_id)?.is_none() {
@@ -111,7 +113,7 @@ impl Tx<'_> {
     }
 }
 
-fn log_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<AdminLogEntry> {
+fn log_row(r: &Row<'_>) -> Result<AdminLogEntry> {
     Ok(AdminLogEntry {
         id: r.get(0)?,
         at: r.get(1)?,
@@ -122,7 +124,7 @@ fn log_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<AdminLogEntry> {
     })
 }
 
-fn team_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<TeamState> {
+fn team_row(r: &Row<'_>) -> Result<TeamState> {
     Ok(TeamState {
         id: r.get(0)?,
         name: r.get(1)?,
@@ -140,7 +142,7 @@ impl Reader<'_> {
         )?;
         let v = st
             .query_map(params![before.unwrap_or(i64::MAX), limit as i64], log_row)?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+            .collect::<Result<Vec<_>>>()?;
         Ok(v)
     }
 
@@ -149,9 +151,7 @@ impl Reader<'_> {
         let mut st = self
             .conn
             .prepare("SELECT id, name, disabled_at FROM teams ORDER BY name")?;
-        let v = st
-            .query_map([], team_row)?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+        let v = st.query_map([], team_row)?.collect::<Result<Vec<_>>>()?;
         Ok(v)
     }
 
@@ -214,7 +214,7 @@ mod tests {
 
     fn db() -> (tempfile::TempDir, Db) {
         let dir = tempfile::tempdir().unwrap();
-        let db = Db::open(dir.path()).unwrap();
+        let db = crate::platform::storage::test_db(dir.path());
         (dir, db)
     }
 

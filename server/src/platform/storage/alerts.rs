@@ -1,6 +1,7 @@
 //! Alerts: insertion (batched; secondary indexes rebuilt after a bulk
 //! load) and the neighbourhood queries the event update needs.
 
+use super::engine::Row;
 use super::{Reader, Tx};
 use crate::domain::{Confidence, Day};
 use crate::error::Result;
@@ -51,7 +52,7 @@ pub fn cell_of(lon: f64, lat: f64) -> i64 {
     cy * 100_000 + cx
 }
 
-fn stored(r: &rusqlite::Row<'_>) -> rusqlite::Result<StoredAlert> {
+fn stored(r: &Row<'_>) -> Result<StoredAlert> {
     Ok(StoredAlert {
         id: r.get(0)?,
         source_id: r.get(1)?,
@@ -185,7 +186,7 @@ impl Reader<'_> {
             .query_map(params![bbox.0, bbox.1, bbox.2, bbox.3], |r| {
                 Ok((r.get(0)?, r.get(1)?))
             })?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+            .collect::<Result<Vec<_>>>()?;
         Ok(v)
     }
 }

@@ -5,10 +5,11 @@
 //! compare them in SQL. Disabling a user or changing a password deletes the
 //! user's sessions in the same transaction (ASVS 5.0 7.4.2, 7.4.3).
 
+use super::engine::{OptionalExtension, Row};
 use super::{Reader, Tx};
 use crate::domain::Role;
 use crate::error::{Error, Result};
-use rusqlite::{OptionalExtension, params};
+use rusqlite::params;
 use serde::Serialize;
 
 /// Schema for this module; appended to the migration list.
@@ -106,15 +107,16 @@ pub struct LoginAttempt {
     pub ok: bool,
 }
 
-fn role_of(text: &str) -> rusqlite::Result<Role> {
+fn role_of(text: &str) -> Result<Role> {
     text.parse::<Role>().map_err(|e| {
         rusqlite::Error::FromSqlConversionFailure(0, rusqlite::types::Type::Text, Box::new(e))
+            .into()
     })
 }
 
 const USER_COLS: &str = "u.id, u.name, u.role, u.created_at, u.disabled";
 
-fn user_row(r: &rusqlite::Row<'_>, at: usize) -> rusqlite::Result<User> {
+fn user_row(r: &Row<'_>, at: usize) -> Result<User> {
     Ok(User {
         id: r.get(at)?,
         name: r.get(at + 1)?,
@@ -124,7 +126,7 @@ fn user_row(r: &rusqlite::Row<'_>, at: usize) -> rusqlite::Result<User> {
     })
 }
 
-fn api_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<ApiTokenRecord> {
+fn api_row(r: &Row<'_>) -> Result<ApiTokenRecord> {
     Ok(ApiTokenRecord {
         id: r.get(0)?,
         role: role_of(&r.get::<_, String>(1)?)?,
@@ -134,7 +136,7 @@ fn api_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<ApiTokenRecord> {
     })
 }
 
-fn team_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<TeamTokenRecord> {
+fn team_row(r: &Row<'_>) -> Result<TeamTokenRecord> {
     Ok(TeamTokenRecord {
         id: r.get(0)?,
         team_name: r.get(1)?,
@@ -143,31 +145,43 @@ fn team_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<TeamTokenRecord> {
     })
 }
 
-fn is_unique_violation(e: &rusqlite::Error) -> bool {
-    matches!(
-        e,
-        rusqlite::Error::SqliteFailure(f, _)
-            if f.extended_code == rusqlite::ffi::SQLITE_CONSTRAINT_UNIQUE
+/// `u.name` equals `?1` in any letter case (SQLite: the column's NOCASE
+/// collation; PostgreSQL: `lower`, as its unique index on `lower(name)`).
+fn name_is(conn: super::engine::Conn<'_>) -> &'static str {
+    match conn.dialect() {
+        super::engine::Dialect::Sqlite => "u.name = ?1",
+        super::engine::Dialect::Postgres => "lower(u.name) = lower(?1)",
+    }
+}
+
+fn is_unique_violation(e: &Error) -> bool {
+    match e {
+        Error::Db(rusqlite::Error::SqliteFailure(f, _)) => {
+            f.extended_code == rusqlite::ffi::SQLITE_CONSTRAINT_UNIQUE
                 || f.extended_code == rusqlite::ffi::SQLITE_CONSTRAINT_PRIMARYKEY
-    )
+        }
+        Error::Postgres(p) => p.code() == Some(&postgres::error::SqlState::UNIQUE_VIOLATION),
+        _ => false,
+    }
 }
 
 impl Tx<'_> {
     /// Create a user; a name already taken (in any letter case) is a
     /// conflict. The caller has validated the name and hashed the password.
     pub fn add_user(&self, name: &str, role: Role, password_phc: &str, now: i64) -> Result<User> {
-        match self.tx.execute(
-            "INSERT INTO users (name, role, password_phc, created_at) VALUES (?1, ?2, ?3, ?4)",
+        let id: i64 = match self.tx.query_row(
+            "INSERT INTO users (name, role, password_phc, created_at) VALUES (?1, ?2, ?3, ?4) RETURNING id",
             params![name, role.as_str(), password_phc, now],
+            |r| r.get(0),
         ) {
-            Ok(_) => {}
+            Ok(id) => id,
             Err(e) if is_unique_violation(&e) => {
                 return Err(Error::Conflict(format!("user '{name}' already exists")));
             }
-            Err(e) => return Err(e.into()),
-        }
+            Err(e) => return Err(e),
+        };
         Ok(User {
-            id: self.tx.last_insert_rowid(),
+            id,
             name: name.to_string(),
             role,
             created_at: now,
@@ -282,12 +296,13 @@ impl Tx<'_> {
         label: &str,
         now: i64,
     ) -> Result<ApiTokenRecord> {
-        self.tx.execute(
-            "INSERT INTO api_tokens (token_sha256, role, label, created_at) VALUES (?1, ?2, ?3, ?4)",
+        let id: i64 = self.tx.query_row(
+            "INSERT INTO api_tokens (token_sha256, role, label, created_at) VALUES (?1, ?2, ?3, ?4) RETURNING id",
             params![token_sha256, role.as_str(), label, now],
+            |r| r.get(0),
         )?;
         Ok(ApiTokenRecord {
-            id: self.tx.last_insert_rowid(),
+            id,
             role,
             label: label.to_string(),
             created_at: now,
@@ -310,12 +325,13 @@ impl Tx<'_> {
         team_name: &str,
         now: i64,
     ) -> Result<TeamTokenRecord> {
-        self.tx.execute(
-            "INSERT INTO team_tokens (token_sha256, team_name, created_at) VALUES (?1, ?2, ?3)",
+        let id: i64 = self.tx.query_row(
+            "INSERT INTO team_tokens (token_sha256, team_name, created_at) VALUES (?1, ?2, ?3) RETURNING id",
             params![token_sha256, team_name, now],
+            |r| r.get(0),
         )?;
         Ok(TeamTokenRecord {
-            id: self.tx.last_insert_rowid(),
+            id,
             team_name: team_name.to_string(),
             created_at: now,
             revoked_at: None,
@@ -346,11 +362,12 @@ impl Tx<'_> {
         now: i64,
         ok: bool,
     ) -> Result<i64> {
-        self.tx.execute(
-            "INSERT INTO login_attempts (user_name, client, at, ok) VALUES (?1, ?2, ?3, ?4)",
+        let id: i64 = self.tx.query_row(
+            "INSERT INTO login_attempts (user_name, client, at, ok) VALUES (?1, ?2, ?3, ?4) RETURNING id",
             params![user_name, client, now, ok],
+            |r| r.get(0),
         )?;
-        Ok(self.tx.last_insert_rowid())
+        Ok(id)
     }
 
     /// Mark a recorded attempt as successful (login records every attempt
@@ -382,7 +399,7 @@ impl Reader<'_> {
             .prepare(&format!("SELECT {USER_COLS} FROM users u ORDER BY u.name"))?;
         let v = st
             .query_map([], |r| user_row(r, 0))?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+            .collect::<Result<Vec<_>>>()?;
         Ok(v)
     }
 
@@ -402,7 +419,10 @@ impl Reader<'_> {
         Ok(self
             .conn
             .query_row(
-                &format!("SELECT {USER_COLS} FROM users u WHERE u.name = ?1"),
+                &format!(
+                    "SELECT {USER_COLS} FROM users u WHERE {}",
+                    name_is(self.conn)
+                ),
                 [name],
                 |r| user_row(r, 0),
             )
@@ -414,7 +434,10 @@ impl Reader<'_> {
         Ok(self
             .conn
             .query_row(
-                &format!("SELECT {USER_COLS}, u.password_phc FROM users u WHERE u.name = ?1"),
+                &format!(
+                    "SELECT {USER_COLS}, u.password_phc FROM users u WHERE {}",
+                    name_is(self.conn)
+                ),
                 [name],
                 |r| Ok((user_row(r, 0)?, r.get(5)?)),
             )
@@ -470,9 +493,7 @@ impl Reader<'_> {
         let mut st = self.conn.prepare(
             "SELECT id, role, label, created_at, revoked_at FROM api_tokens ORDER BY id",
         )?;
-        let v = st
-            .query_map([], api_row)?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+        let v = st.query_map([], api_row)?.collect::<Result<Vec<_>>>()?;
         Ok(v)
     }
 
@@ -496,9 +517,7 @@ impl Reader<'_> {
         let mut st = self.conn.prepare(
             "SELECT id, team_name, created_at, revoked_at FROM team_tokens ORDER BY team_name, id",
         )?;
-        let v = st
-            .query_map([], team_row)?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+        let v = st.query_map([], team_row)?.collect::<Result<Vec<_>>>()?;
         Ok(v)
     }
 
@@ -511,7 +530,7 @@ impl Reader<'_> {
                     ok: r.get::<_, i64>(1)? != 0,
                 })
             })?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+            .collect::<Result<Vec<_>>>()?;
         Ok(v)
     }
 
@@ -547,7 +566,7 @@ impl Reader<'_> {
                     ok: r.get::<_, i64>(1)? != 0,
                 })
             })?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+            .collect::<Result<Vec<_>>>()?;
         Ok(v)
     }
 
@@ -572,7 +591,7 @@ mod tests {
 
     fn db() -> (tempfile::TempDir, Db) {
         let dir = tempfile::tempdir().unwrap();
-        let db = Db::open(dir.path()).unwrap();
+        let db = crate::platform::storage::test_db(dir.path());
         (dir, db)
     }
 

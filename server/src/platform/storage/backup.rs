@@ -23,8 +23,13 @@ impl Db {
                 dest.display()
             )));
         }
+        let Some(path) = self.sqlite_path() else {
+            return Err(Error::Invalid(
+                "groundproof backup copies the embedded SQLite database; for PostgreSQL use its own tools (pg_dump or pg_basebackup) together with the data directory".into(),
+            ));
+        };
         let src = Connection::open_with_flags(
-            &self.path,
+            path,
             OpenFlags::SQLITE_OPEN_READ_ONLY | OpenFlags::SQLITE_OPEN_NO_MUTEX,
         )?;
         src.busy_timeout(super::BUSY_TIMEOUT)?;

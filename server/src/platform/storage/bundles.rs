@@ -1,9 +1,10 @@
 //! Teams, bundles (one per trip) and what each bundle holds.
 
+use super::engine::{OptionalExtension, Row};
 use super::{Reader, Tx};
 use crate::domain::TargetKind;
 use crate::error::{Error, Result};
-use rusqlite::{OptionalExtension, params};
+use rusqlite::params;
 use serde::Serialize;
 
 /// A field team.
@@ -80,12 +81,13 @@ impl Tx<'_> {
         if self.reader().team_by_name(name)?.is_some() {
             return Err(Error::Conflict(format!("team '{name}' already exists")));
         }
-        self.tx.execute(
-            "INSERT INTO teams (name, created_at) VALUES (?1, ?2)",
+        let id: i64 = self.tx.query_row(
+            "INSERT INTO teams (name, created_at) VALUES (?1, ?2) RETURNING id",
             params![name, chrono::Utc::now().to_rfc3339()],
+            |r| r.get(0),
         )?;
         Ok(Team {
-            id: self.tx.last_insert_rowid(),
+            id,
             name: name.to_string(),
         })
     }
@@ -146,7 +148,7 @@ const BUNDLE_COLS: &str =
     (SELECT COUNT(*) FROM bundle_items i WHERE i.bundle_id = b.id AND i.kind = 'event'),
     (SELECT COUNT(*) FROM bundle_items i WHERE i.bundle_id = b.id AND i.kind = 'control')";
 
-fn bundle_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<BundleRecord> {
+fn bundle_row(r: &Row<'_>) -> Result<BundleRecord> {
     Ok(BundleRecord {
         id: r.get(0)?,
         team: r.get(1)?,
@@ -182,7 +184,7 @@ impl Reader<'_> {
                     name: r.get(1)?,
                 })
             })?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+            .collect::<Result<Vec<_>>>()?;
         Ok(v)
     }
 
@@ -202,9 +204,7 @@ impl Reader<'_> {
         let mut st = self.conn.prepare(&format!(
             "SELECT {BUNDLE_COLS} FROM bundles b JOIN teams t ON t.id = b.team_id ORDER BY b.issued_at DESC, b.id"
         ))?;
-        let v = st
-            .query_map([], bundle_row)?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+        let v = st.query_map([], bundle_row)?.collect::<Result<Vec<_>>>()?;
         Ok(v)
     }
 
@@ -238,7 +238,7 @@ impl Reader<'_> {
                     inclusion_probability: r.get(8)?,
                 })
             })?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+            .collect::<Result<Vec<_>>>()?;
         Ok(v)
     }
 
@@ -267,7 +267,7 @@ impl Reader<'_> {
         )?;
         let v = st
             .query_map([], |r| Ok((r.get(0)?, r.get(1)?)))?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+            .collect::<Result<Vec<_>>>()?;
         Ok(v)
     }
 }

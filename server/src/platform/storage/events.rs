@@ -1,9 +1,10 @@
 //! Clearing events: their derived attributes, merges, and queries.
 
+use super::engine::{Dialect, OptionalExtension, Row};
 use super::{Reader, Tx};
 use crate::domain::{Confidence, Day};
 use crate::error::Result;
-use rusqlite::{OptionalExtension, params};
+use rusqlite::params;
 use std::collections::BTreeMap;
 
 /// The attributes written for one event.
@@ -73,14 +74,14 @@ fn params_of(e: &EventWrite) -> Result<[rusqlite::types::Value; 15]> {
 impl Tx<'_> {
     pub fn insert_event(&self, e: &EventWrite) -> Result<i64> {
         let p = params_of(e)?;
-        self.tx.prepare_cached(
+        self.tx.query_row(
             "INSERT INTO events (footprint, area_ha, centroid_lon, centroid_lat, west, south, east, north,
                 first_day, last_day, alert_count, highest_confidence, corroborated, per_source,
                 created_at, updated_at)
-             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?15)",
-        )?
-        .execute(rusqlite::params_from_iter(p.iter()))?;
-        Ok(self.tx.last_insert_rowid())
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?15) RETURNING id",
+            super::engine::params_from_iter(p.iter()),
+            |r| r.get(0),
+        )
     }
 
     pub fn update_event(&self, id: i64, e: &EventWrite) -> Result<()> {
@@ -93,7 +94,7 @@ impl Tx<'_> {
         )?;
         let mut all: Vec<rusqlite::types::Value> = p.to_vec();
         all.push(rusqlite::types::Value::Integer(id));
-        st.execute(rusqlite::params_from_iter(all.iter()))?;
+        st.execute(super::engine::params_from_iter(all.iter()))?;
         Ok(())
     }
 
@@ -137,7 +138,7 @@ const EVENT_COLS: &str = "e.id, e.merged_into, e.origin, e.footprint, e.area_ha,
     EXISTS (SELECT 1 FROM event_zones ez JOIN zones z ON z.id = ez.zone_id
         WHERE ez.event_id = e.id AND z.priority = 1)";
 
-fn record(r: &rusqlite::Row<'_>) -> rusqlite::Result<EventRecord> {
+fn record(r: &Row<'_>) -> Result<EventRecord> {
     let per_source: String = r.get(16)?;
     let zones: Option<String> = r.get(17)?;
     let mut zones: Vec<String> = zones
@@ -189,10 +190,15 @@ impl Reader<'_> {
         }
         if let Some(s) = &f.source {
             args.push(V::Text(s.clone()));
-            sql += &format!(
-                " AND EXISTS (SELECT 1 FROM json_each(e.per_source) WHERE key = ?{})",
-                args.len()
-            );
+            sql += &match self.conn.dialect() {
+                Dialect::Sqlite => format!(
+                    " AND EXISTS (SELECT 1 FROM json_each(e.per_source) WHERE key = ?{})",
+                    args.len()
+                ),
+                Dialect::Postgres => {
+                    format!(" AND jsonb_exists(e.per_source::jsonb, ?{})", args.len())
+                }
+            };
         }
         if let Some(a) = f.min_area_ha {
             args.push(V::Real(a));
@@ -204,8 +210,8 @@ impl Reader<'_> {
         }
         let mut st = self.conn.prepare(&sql)?;
         let v = st
-            .query_map(rusqlite::params_from_iter(args.iter()), record)?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+            .query_map(super::engine::params_from_iter(args.iter()), record)?
+            .collect::<Result<Vec<_>>>()?;
         Ok(v)
     }
 
@@ -235,7 +241,7 @@ impl Reader<'_> {
             .prepare("SELECT id FROM events WHERE merged_into IS NULL ORDER BY id")?;
         let v = st
             .query_map([], |r| r.get(0))?
-            .collect::<rusqlite::Result<Vec<i64>>>()?;
+            .collect::<Result<Vec<i64>>>()?;
         Ok(v)
     }
 

@@ -2,9 +2,10 @@
 //! with no row has chosen none: the browser's `Accept-Language` decides,
 //! then the organisation's default (`web::i18n`).
 
+use super::engine::OptionalExtension;
 use super::{Reader, Tx};
 use crate::error::Result;
-use rusqlite::{OptionalExtension, params};
+use rusqlite::params;
 
 /// Schema for this module; appended to the migration list. The language
 /// codes are those of `templates/i18n/` (checked again when read).

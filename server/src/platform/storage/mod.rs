@@ -22,12 +22,15 @@ mod alerts;
 mod auth;
 mod backup;
 mod bundles;
+mod engine;
 mod events;
 mod languages;
 mod pages;
 mod pairing;
+mod pg_db;
 mod returns;
 mod schema;
+mod schema_pg;
 mod sources;
 mod station;
 pub(crate) mod stats;
@@ -41,6 +44,7 @@ pub use backup::check_database;
 pub use bundles::{BundleItem, BundleRecord, NewBundle, Team};
 pub use events::{EventFilter, EventRecord, EventWrite};
 pub use pairing::PairingRecord;
+pub use pg_db::scratch_postgres;
 pub use returns::{
     OpenUploads, PhotoCheckRow, PhotoRow, RETURNS_MIGRATION, ReportPhotoRow, ReportRow, ResultRow,
     ReturnRecord, UploadRecord,
@@ -52,6 +56,7 @@ pub use trips::ReturnSummary;
 pub use zones::ZoneRecord;
 
 use crate::error::{Error, Result};
+use engine::Conn;
 use rusqlite::{Connection, OpenFlags, TransactionBehavior};
 use std::path::{Path, PathBuf};
 use std::sync::atomic::{AtomicBool, AtomicU64, Ordering};
@@ -63,13 +68,24 @@ const BUSY_TIMEOUT: Duration = Duration::from_secs(5);
 /// Read connections kept open for reuse.
 const READ_POOL: usize = 4;
 
-/// The database of one data directory.
+/// The database: the SQLite file of one data directory (the default), or
+/// a PostgreSQL database chosen at start (`--database postgres://…`).
 pub struct Db {
+    engine: Engine,
+    /// Moves after every commit that may have changed a fact.
+    generation: Arc<AtomicU64>,
+}
+
+enum Engine {
+    Lite(Lite),
+    Pg(pg_db::PgDb),
+}
+
+/// The embedded SQLite file.
+struct Lite {
     path: PathBuf,
     writer: Mutex<Connection>,
     readers: Mutex<Vec<Connection>>,
-    /// Moves after every commit that may have changed a fact.
-    generation: AtomicU64,
     /// `PRAGMA data_version` of the writer when last looked at: it changes
     /// only when another connection (another process) commits.
     seen_data_version: AtomicU64,
@@ -93,15 +109,16 @@ const BOOKKEEPING_TABLES: [&str; 8] = [
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 pub struct FactStamp(u64);
 
-/// A write transaction (`BEGIN IMMEDIATE`); dropped without `commit` it
-/// rolls back.
+/// A write transaction (`BEGIN IMMEDIATE` on SQLite; on PostgreSQL one
+/// transaction under the database-wide write lock); dropped without
+/// `commit` it rolls back.
 pub struct Tx<'a> {
-    tx: rusqlite::Transaction<'a>,
+    tx: Conn<'a>,
 }
 
 /// A read-only view of the database.
 pub struct Reader<'a> {
-    conn: &'a Connection,
+    conn: Conn<'a>,
 }
 
 fn configure(conn: &Connection) -> Result<()> {
@@ -112,7 +129,7 @@ fn configure(conn: &Connection) -> Result<()> {
 }
 
 impl Db {
-    /// Open (creating if needed) the database in `data_dir`.
+    /// Open (creating if needed) the SQLite database in `data_dir`.
     pub fn open(data_dir: &Path) -> Result<Db> {
         std::fs::create_dir_all(data_dir)
             .map_err(|e| Error::io(format!("creating data directory {}", data_dir.display()), e))?;
@@ -133,48 +150,96 @@ impl Db {
         schema::migrate(&mut boot)?;
         let seen = data_version(&boot)?;
         Ok(Db {
-            path,
-            writer: Mutex::new(boot),
-            readers: Mutex::new(Vec::new()),
-            generation: AtomicU64::new(0),
-            seen_data_version: AtomicU64::new(seen),
+            engine: Engine::Lite(Lite {
+                path,
+                writer: Mutex::new(boot),
+                readers: Mutex::new(Vec::new()),
+                seen_data_version: AtomicU64::new(seen),
+            }),
+            generation: Arc::new(AtomicU64::new(0)),
         })
+    }
+
+    /// Open the database `database` names: a `postgres://` or
+    /// `postgresql://` URL, or nothing for the SQLite file in `data_dir`.
+    pub fn open_with(data_dir: &Path, database: Option<&str>) -> Result<Db> {
+        match database {
+            None => Db::open(data_dir),
+            Some(url) if url.starts_with("postgres://") || url.starts_with("postgresql://") => {
+                Db::open_postgres(url)
+            }
+            Some(other) => Err(Error::Invalid(format!(
+                "--database: '{}' is not a postgres:// URL (leave it out for the SQLite file in the data directory)",
+                pg_db::redacted(other)
+            ))),
+        }
+    }
+
+    /// Connect to the PostgreSQL database at `url` and bring its schema up
+    /// to date.
+    pub fn open_postgres(url: &str) -> Result<Db> {
+        let generation = Arc::new(AtomicU64::new(0));
+        let pg = pg_db::PgDb::open(url, Arc::clone(&generation))?;
+        Ok(Db {
+            engine: Engine::Pg(pg),
+            generation,
+        })
+    }
+
+    /// Which engine holds the data.
+    pub fn is_postgres(&self) -> bool {
+        matches!(self.engine, Engine::Pg(_))
     }
 
     /// Where the facts stand now. A stamp equal to one taken before means
     /// nothing that the statistics read has been committed since. Never
     /// blocks on a running write: that write moves the stamp when it commits.
+    /// On PostgreSQL another instance's commits are seen by a watcher
+    /// thread within [`pg_db::STAMP_POLL`].
     pub fn fact_stamp(&self) -> FactStamp {
-        match self.writer.try_lock() {
-            Ok(conn) => self.note_other_writers(&conn),
-            Err(std::sync::TryLockError::Poisoned(p)) => self.note_other_writers(&p.into_inner()),
-            // A write is running: it looks again once it holds SQLite's
-            // write lock, and moves the stamp when it commits.
-            Err(std::sync::TryLockError::WouldBlock) => {}
+        if let Engine::Lite(lite) = &self.engine {
+            match lite.writer.try_lock() {
+                Ok(conn) => self.note_other_writers(lite, &conn),
+                Err(std::sync::TryLockError::Poisoned(p)) => {
+                    self.note_other_writers(lite, &p.into_inner())
+                }
+                // A write is running: it looks again once it holds SQLite's
+                // write lock, and moves the stamp when it commits.
+                Err(std::sync::TryLockError::WouldBlock) => {}
+            }
         }
         FactStamp(self.generation.load(Ordering::Acquire))
     }
 
     /// Move the stamp if another process committed since we last looked.
-    fn note_other_writers(&self, conn: &Connection) {
+    fn note_other_writers(&self, lite: &Lite, conn: &Connection) {
         // If the pragma fails, assume a change: a needless recompute is
         // harmless, a missed one is not.
         let now = data_version(conn).unwrap_or(u64::MAX);
-        if self.seen_data_version.swap(now, Ordering::AcqRel) != now || now == u64::MAX {
+        if lite.seen_data_version.swap(now, Ordering::AcqRel) != now || now == u64::MAX {
             self.generation.fetch_add(1, Ordering::AcqRel);
         }
     }
 
-    pub fn path(&self) -> &Path {
-        &self.path
+    /// The SQLite file (`None` on PostgreSQL).
+    pub fn sqlite_path(&self) -> Option<&Path> {
+        match &self.engine {
+            Engine::Lite(l) => Some(&l.path),
+            Engine::Pg(_) => None,
+        }
     }
 
     /// Run `f` in one write transaction; commit when it returns `Ok`. The
     /// fact stamp moves after the commit (so a reader that sees the old
     /// stamp cannot have read the new facts under it).
     pub fn write<T>(&self, f: impl FnOnce(&Tx<'_>) -> Result<T>) -> Result<T> {
-        let mut conn = self.writer.lock().unwrap_or_else(|p| p.into_inner());
-        let out = self.transact(&mut conn, f)?;
+        let out = match &self.engine {
+            Engine::Lite(lite) => {
+                let mut conn = lite.writer.lock().unwrap_or_else(|p| p.into_inner());
+                self.transact(lite, &mut conn, f)?
+            }
+            Engine::Pg(pg) => pg.write(true, f)?.0,
+        };
         self.generation.fetch_add(1, Ordering::AcqRel);
         Ok(out)
     }
@@ -185,15 +250,17 @@ impl Db {
     /// waited for one).
     fn transact<T>(
         &self,
+        lite: &Lite,
         conn: &mut Connection,
         f: impl FnOnce(&Tx<'_>) -> Result<T>,
     ) -> Result<T> {
-        self.note_other_writers(conn);
+        self.note_other_writers(lite, conn);
         let tx = conn.transaction_with_behavior(TransactionBehavior::Immediate)?;
-        self.note_other_writers(&tx);
-        let wrapped = Tx { tx };
-        let out = f(&wrapped)?;
-        wrapped.tx.commit()?;
+        self.note_other_writers(lite, &tx);
+        let out = f(&Tx {
+            tx: Conn::Lite(&tx),
+        })?;
+        tx.commit()?;
         Ok(out)
     }
 
@@ -204,9 +271,20 @@ impl Db {
     /// moves as for [`Db::write`]. SQLite's update hook does not see WITHOUT
     /// ROWID tables (`event_zones`, `bundle_items`, `report_photos`,
     /// `photo_checks`, `report_results`): those are written only through
-    /// [`Db::write`].
+    /// [`Db::write`]. (PostgreSQL: the transaction's own table statistics
+    /// tell, for every table.)
     pub fn write_bookkeeping<T>(&self, f: impl FnOnce(&Tx<'_>) -> Result<T>) -> Result<T> {
-        let mut conn = self.writer.lock().unwrap_or_else(|p| p.into_inner());
+        let lite = match &self.engine {
+            Engine::Lite(lite) => lite,
+            Engine::Pg(pg) => {
+                let (out, strayed) = pg.write(false, f)?;
+                if strayed {
+                    self.generation.fetch_add(1, Ordering::AcqRel);
+                }
+                return Ok(out);
+            }
+        };
+        let mut conn = lite.writer.lock().unwrap_or_else(|p| p.into_inner());
         let strayed = Arc::new(AtomicBool::new(false));
         let flag = Arc::clone(&strayed);
         conn.update_hook(Some(
@@ -216,7 +294,7 @@ impl Db {
                 }
             },
         ))?;
-        let out = self.transact(&mut conn, f);
+        let out = self.transact(lite, &mut conn, f);
         conn.update_hook(None::<fn(rusqlite::hooks::Action, &str, &str, i64)>)?;
         if strayed.load(Ordering::Acquire) {
             self.generation.fetch_add(1, Ordering::AcqRel);
@@ -226,20 +304,26 @@ impl Db {
 
     /// Run `f` on a read connection.
     pub fn read<T>(&self, f: impl FnOnce(&Reader<'_>) -> Result<T>) -> Result<T> {
-        let pooled = self.readers.lock().unwrap_or_else(|p| p.into_inner()).pop();
+        let lite = match &self.engine {
+            Engine::Lite(lite) => lite,
+            Engine::Pg(pg) => return pg.read(f),
+        };
+        let pooled = lite.readers.lock().unwrap_or_else(|p| p.into_inner()).pop();
         let conn = match pooled {
             Some(c) => c,
             None => {
                 let c = Connection::open_with_flags(
-                    &self.path,
+                    &lite.path,
                     OpenFlags::SQLITE_OPEN_READ_ONLY | OpenFlags::SQLITE_OPEN_NO_MUTEX,
                 )?;
                 configure(&c)?;
                 c
             }
         };
-        let out = f(&Reader { conn: &conn });
-        let mut pool = self.readers.lock().unwrap_or_else(|p| p.into_inner());
+        let out = f(&Reader {
+            conn: Conn::Lite(&conn),
+        });
+        let mut pool = lite.readers.lock().unwrap_or_else(|p| p.into_inner());
         if pool.len() < READ_POOL {
             pool.push(conn);
         }
@@ -255,9 +339,26 @@ fn data_version(conn: &Connection) -> Result<u64> {
 impl<'a> Tx<'a> {
     /// Reads inside this transaction (they see its own writes).
     pub fn reader(&self) -> Reader<'_> {
-        Reader { conn: &self.tx }
+        Reader { conn: self.tx }
     }
 }
+
+/// The database a storage test runs on: PostgreSQL when
+/// `GROUNDPROOF_TEST_ENGINE=postgres` (a new database on the server at
+/// `GROUNDPROOF_TEST_POSTGRES`), else the SQLite file in `dir`.
+#[cfg(test)]
+pub(crate) fn test_db(dir: &Path) -> Db {
+    if std::env::var("GROUNDPROOF_TEST_ENGINE").is_ok_and(|e| e.trim() == "postgres") {
+        let url = std::env::var("GROUNDPROOF_TEST_POSTGRES").expect(
+            "GROUNDPROOF_TEST_ENGINE=postgres needs GROUNDPROOF_TEST_POSTGRES=postgres://…",
+        );
+        return Db::open_postgres(&scratch_postgres(url.trim()).unwrap()).unwrap();
+    }
+    Db::open(dir).unwrap()
+}
+
+#[cfg(test)]
+mod pg_tests;
 
 #[cfg(test)]
 mod tests {
@@ -321,7 +422,7 @@ mod tests {
         let s2 = db.fact_stamp();
         assert_ne!(s2, s1);
         // Another process committing moves it too.
-        let other = Connection::open(db.path()).unwrap();
+        let other = Connection::open(db.sqlite_path().unwrap()).unwrap();
         other
             .execute(
                 "INSERT INTO sources (name, pixel_size_m, revisit_days, created_at) \
@@ -339,7 +440,7 @@ mod tests {
     #[test]
     fn failed_write_leaves_nothing() {
         let dir = tempfile::tempdir().unwrap();
-        let db = Db::open(dir.path()).unwrap();
+        let db = test_db(dir.path());
         let r: Result<()> = db.write(|tx| {
             tx.add_source("optical-10m", 10.0, 5)?;
             Err(Error::Invalid("stop".into()))

@@ -29,12 +29,11 @@ impl Reader<'_> {
 
 #[cfg(test)]
 mod tests {
-    use crate::platform::storage::Db;
 
     #[test]
     fn a_fresh_database_has_no_returns() {
         let dir = tempfile::tempdir().unwrap();
-        let db = Db::open(dir.path()).unwrap();
+        let db = crate::platform::storage::test_db(dir.path());
         assert!(db.read(|r| r.bundle_return_counts()).unwrap().is_empty());
     }
 }

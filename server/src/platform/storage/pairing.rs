@@ -4,9 +4,10 @@
 //! team token made for the phone in the same transaction, so a code can
 //! never hand out two credentials. Times are Unix seconds.
 
+use super::engine::{OptionalExtension, Row};
 use super::{Reader, Tx};
 use crate::error::Result;
-use rusqlite::{OptionalExtension, params};
+use rusqlite::params;
 
 /// Schema for this module; appended to the migration list. `token_id` is
 /// the team token the redeeming phone received (a phone's token stops
@@ -38,7 +39,7 @@ pub struct PairingRecord {
     pub token_id: Option<i64>,
 }
 
-fn pairing_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<PairingRecord> {
+fn pairing_row(r: &Row<'_>) -> Result<PairingRecord> {
     Ok(PairingRecord {
         id: r.get(0)?,
         bundle_id: r.get(1)?,
@@ -60,13 +61,14 @@ impl Tx<'_> {
         now: i64,
         expires_at: i64,
     ) -> Result<PairingRecord> {
-        self.tx.execute(
+        let id: i64 = self.tx.query_row(
             "INSERT INTO pairings (code_sha256, bundle_id, created_by, created_at, expires_at)
-             VALUES (?1, ?2, ?3, ?4, ?5)",
+             VALUES (?1, ?2, ?3, ?4, ?5) RETURNING id",
             params![code_sha256, bundle_id, created_by, now, expires_at],
+            |r| r.get(0),
         )?;
         Ok(PairingRecord {
-            id: self.tx.last_insert_rowid(),
+            id,
             bundle_id: bundle_id.to_string(),
             created_by: created_by.to_string(),
             created_at: now,
@@ -122,7 +124,7 @@ impl Reader<'_> {
         )?;
         let v = st
             .query_map([bundle_id], pairing_row)?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+            .collect::<Result<Vec<_>>>()?;
         Ok(v)
     }
 }

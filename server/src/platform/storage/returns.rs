@@ -3,10 +3,11 @@
 //! photo and the per-report results sent back to the team. Reports are
 //! immutable: a report id is inserted once and never updated.
 
+use super::engine::{OptionalExtension, Row};
 use super::{Reader, Tx};
 use crate::domain::{Cause, Outcome, Reason, TargetKind, Timestamp};
 use crate::error::Result;
-use rusqlite::{OptionalExtension, params};
+use rusqlite::params;
 use serde::Serialize;
 
 /// Schema migration of the intake tables (appended to the migration list).
@@ -245,7 +246,7 @@ fn flags_of(text: &str) -> Vec<String> {
 
 const UPLOAD_COLS: &str = "id, bundle_id, sha256, size, offset_bytes, state, return_id, error, error_status, created_at, owner";
 
-fn upload_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<UploadRecord> {
+fn upload_row(r: &Row<'_>) -> Result<UploadRecord> {
     Ok(UploadRecord {
         id: r.get(0)?,
         bundle_id: r.get(1)?,
@@ -274,7 +275,7 @@ impl Tx<'_> {
     /// Record the durable offset of an open upload (never lower than before).
     pub fn set_upload_offset(&self, id: &str, offset: u64) -> Result<()> {
         self.tx.execute(
-            "UPDATE uploads SET offset_bytes = MAX(offset_bytes, ?2), updated_at = ?3
+            "UPDATE uploads SET offset_bytes = CASE WHEN offset_bytes > ?2 THEN offset_bytes ELSE ?2 END, updated_at = ?3
              WHERE id = ?1 AND state = 'open'",
             params![id, offset as i64, chrono::Utc::now().to_rfc3339()],
         )?;
@@ -328,7 +329,7 @@ impl Tx<'_> {
             .prepare("DELETE FROM uploads WHERE state = 'open' AND updated_at < ?1 RETURNING id")?;
         let v = st
             .query_map([before], |r| r.get(0))?
-            .collect::<rusqlite::Result<Vec<String>>>()?;
+            .collect::<Result<Vec<String>>>()?;
         Ok(v)
     }
 
@@ -336,9 +337,9 @@ impl Tx<'_> {
     /// operating system, through a v4 UUID), read with [`Reader::return_receipt`].
     pub fn insert_return(&self, r: &ReturnRecord) -> Result<i64> {
         let receipt = uuid::Uuid::new_v4().simple().to_string();
-        self.tx.execute(
+        let id: i64 = self.tx.query_row(
             "INSERT INTO returns (bundle_id, sha256, size, team, received_at, path, receipt)
-             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7)",
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7) RETURNING id",
             params![
                 r.bundle_id,
                 r.sha256,
@@ -348,8 +349,9 @@ impl Tx<'_> {
                 r.path,
                 receipt
             ],
+            |r| r.get(0),
         )?;
-        Ok(self.tx.last_insert_rowid())
+        Ok(id)
     }
 
     /// Insert a report with its body fingerprint; the caller has checked that the id is new.
@@ -373,9 +375,9 @@ impl Tx<'_> {
     /// Record a photo once (its file must already be durable).
     pub fn insert_photo(&self, p: &PhotoRow) -> Result<()> {
         self.tx.prepare_cached(
-            "INSERT OR IGNORE INTO photos (sha256, width, height, taken_at, lat, lon, direction_deg, bytes, stored_at,
+            "INSERT INTO photos (sha256, width, height, taken_at, lat, lon, direction_deg, bytes, stored_at,
                 data_matches_header)
-             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10)",
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10) ON CONFLICT DO NOTHING",
         )?
         .execute(params![
             p.sha256, p.width, p.height, p.taken_at, p.lat, p.lon, p.direction_deg, p.bytes as i64,
@@ -386,8 +388,8 @@ impl Tx<'_> {
 
     pub fn insert_report_photos(&self, report_id: &str, photos: &[ReportPhotoRow]) -> Result<()> {
         let mut st = self.tx.prepare_cached(
-            "INSERT OR IGNORE INTO report_photos (report_id, sha256, position, original_name)
-             VALUES (?1, ?2, ?3, ?4)",
+            "INSERT INTO report_photos (report_id, sha256, position, original_name)
+             VALUES (?1, ?2, ?3, ?4) ON CONFLICT DO NOTHING",
         )?;
         for (i, p) in photos.iter().enumerate() {
             st.execute(params![report_id, p.sha256, i as i64, p.original_name])?;
@@ -397,8 +399,8 @@ impl Tx<'_> {
 
     pub fn insert_photo_check(&self, c: &PhotoCheckRow) -> Result<()> {
         self.tx.prepare_cached(
-            "INSERT OR IGNORE INTO photo_checks (report_id, sha256, distance_m, after_detection, inside_window, reused_elsewhere)
-             VALUES (?1, ?2, ?3, ?4, ?5, ?6)",
+            "INSERT INTO photo_checks (report_id, sha256, distance_m, after_detection, inside_window, reused_elsewhere)
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6) ON CONFLICT DO NOTHING",
         )?
         .execute(params![
             c.report_id, c.sha256, c.distance_m, c.after_detection, c.inside_window,
@@ -440,7 +442,7 @@ pub(super) const REPORT_COLS: &str =
     reason, cause, lat, lon, accuracy_m, position_source, distance_m, observed_at, recorded_at,
     received_at, area_ha, notes, team, evidence_ok, flags, return_id";
 
-pub(super) fn report_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<ReportRow> {
+pub(super) fn report_row(r: &Row<'_>) -> Result<ReportRow> {
     let flags: String = r.get(21)?;
     Ok(ReportRow {
         report_id: r.get(0)?,
@@ -541,7 +543,7 @@ impl Reader<'_> {
         let mut st = self.conn.prepare("SELECT id, state FROM uploads")?;
         let v = st
             .query_map([], |r| Ok((r.get(0)?, r.get(1)?)))?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+            .collect::<Result<Vec<_>>>()?;
         Ok(v)
     }
 
@@ -590,7 +592,7 @@ impl Reader<'_> {
                     flags: flags_of(&flags),
                 })
             })?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+            .collect::<Result<Vec<_>>>()?;
         Ok(v)
     }
 
@@ -622,22 +624,20 @@ impl Reader<'_> {
         let mut st = self.conn.prepare(&format!(
             "SELECT {REPORT_COLS} FROM reports ORDER BY report_id"
         ))?;
-        let v = st
-            .query_map([], report_row)?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+        let v = st.query_map([], report_row)?.collect::<Result<Vec<_>>>()?;
         Ok(v)
     }
 
     /// Stored reports about `event_id` or any event merged into it.
     pub fn event_reports(&self, event_id: i64) -> Result<Vec<ReportRow>> {
         let mut st = self.conn.prepare(&format!(
-            "WITH RECURSIVE fam(id) AS (SELECT ?1 UNION SELECT e.id FROM events e JOIN fam ON e.merged_into = fam.id)
+            "WITH RECURSIVE fam(id) AS (SELECT CAST(?1 AS BIGINT) UNION SELECT e.id FROM events e JOIN fam ON e.merged_into = fam.id)
              SELECT {REPORT_COLS} FROM reports WHERE event_id IN (SELECT id FROM fam)
              ORDER BY observed_at, report_id"
         ))?;
         let v = st
             .query_map([event_id], report_row)?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+            .collect::<Result<Vec<_>>>()?;
         Ok(v)
     }
 
@@ -668,10 +668,13 @@ impl Reader<'_> {
     }
 
     /// `PRAGMA integrity_check` (`"ok"` when the file is sound).
+    /// PostgreSQL has no such check of its own: `"ok"`.
     pub fn integrity_check(&self) -> Result<String> {
-        Ok(self
-            .conn
-            .query_row("PRAGMA integrity_check", [], |r| r.get(0))?)
+        if self.conn.dialect() == super::engine::Dialect::Postgres {
+            return Ok("ok".into());
+        }
+        self.conn
+            .query_row("PRAGMA integrity_check", [], |r| r.get(0))
     }
 
     /// SHA-256 of every stored photo.
@@ -679,7 +682,7 @@ impl Reader<'_> {
         let mut st = self.conn.prepare("SELECT sha256 FROM photos")?;
         let v = st
             .query_map([], |r| r.get(0))?
-            .collect::<rusqlite::Result<Vec<String>>>()?;
+            .collect::<Result<Vec<String>>>()?;
         Ok(v)
     }
 
@@ -712,7 +715,7 @@ impl Reader<'_> {
                     original_name: r.get(1)?,
                 })
             })?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+            .collect::<Result<Vec<_>>>()?;
         Ok(v)
     }
 
@@ -732,7 +735,7 @@ impl Reader<'_> {
                     reused_elsewhere: r.get(5)?,
                 })
             })?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+            .collect::<Result<Vec<_>>>()?;
         Ok(v)
     }
 }

@@ -1,6 +1,7 @@
 //! Versioned schema migrations, applied in order at start. The version is
-//! SQLite's `user_version`; a database newer than the last migration here
-//! is refused.
+//! SQLite's `user_version` (PostgreSQL: the row of `gp_schema`); a database
+//! newer than the last migration here is refused. PostgreSQL's dialect of
+//! each migration is in `schema_pg.rs`, same version numbers.
 
 use crate::error::{Error, Result};
 use rusqlite::{Connection, TransactionBehavior};
@@ -138,6 +139,10 @@ const MIGRATIONS: &[&str] = &[
     crate::platform::storage::languages::LANGUAGES_MIGRATION,
 ];
 
+/// The advisory lock held while PostgreSQL's schema is brought up to date,
+/// so that instances starting at once apply each migration once ("gp-migrate").
+const MIGRATE_LOCK: i64 = 0x6770_2d6d_6967_7261;
+
 /// The schema version this binary writes.
 pub const LATEST: i64 = MIGRATIONS.len() as i64;
 
@@ -157,4 +162,56 @@ pub fn migrate(conn: &mut Connection) -> Result<()> {
     }
     tx.commit()?;
     Ok(())
+}
+
+/// Bring a PostgreSQL database up to date in one transaction under
+/// [`MIGRATE_LOCK`]; refuse one newer than this binary. Also makes the
+/// engine's own tables: the schema version and the fact stamp row.
+pub(super) fn migrate_pg(conn: &super::engine::pg::PgConn) -> Result<()> {
+    use super::schema_pg::PG_MIGRATIONS;
+    let c = super::engine::Conn::Pg(conn);
+    conn.batch(&format!(
+        "BEGIN; SELECT pg_advisory_xact_lock({MIGRATE_LOCK});
+         CREATE TABLE IF NOT EXISTS gp_schema (id BIGINT PRIMARY KEY CHECK (id = 1), version BIGINT NOT NULL);
+         INSERT INTO gp_schema (id, version) VALUES (1, 0) ON CONFLICT DO NOTHING;
+         CREATE TABLE IF NOT EXISTS gp_fact_stamp (id BIGINT PRIMARY KEY CHECK (id = 1), n BIGINT NOT NULL);
+         INSERT INTO gp_fact_stamp (id, n) VALUES (1, 0) ON CONFLICT DO NOTHING;"
+    ))?;
+    let out = (|| {
+        let current: i64 = c.query_row("SELECT version FROM gp_schema WHERE id = 1", [], |r| {
+            r.get(0)
+        })?;
+        if current > LATEST {
+            return Err(Error::SchemaTooNew {
+                found: current,
+                supported: LATEST,
+            });
+        }
+        for (i, sql) in PG_MIGRATIONS.iter().enumerate().skip(current as usize) {
+            conn.batch(sql)?;
+            c.execute(
+                "UPDATE gp_schema SET version = ?1 WHERE id = 1",
+                [(i + 1) as i64],
+            )?;
+            tracing::info!(version = i + 1, "applied schema migration (PostgreSQL)");
+        }
+        conn.batch("COMMIT")
+    })();
+    if out.is_err() {
+        let _ = conn.batch("ROLLBACK");
+    }
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn both_dialects_have_every_migration() {
+        assert_eq!(
+            super::super::schema_pg::PG_MIGRATIONS.len(),
+            MIGRATIONS.len()
+        );
+    }
 }

@@ -1,8 +1,9 @@
 //! Alert sources.
 
+use super::engine::{OptionalExtension, Row};
 use super::{Reader, Tx};
 use crate::error::{Error, Result};
-use rusqlite::{OptionalExtension, params};
+use rusqlite::params;
 use serde::Serialize;
 
 /// A registered alert source.
@@ -14,7 +15,7 @@ pub struct Source {
     pub revisit_days: i64,
 }
 
-fn row(r: &rusqlite::Row<'_>) -> rusqlite::Result<Source> {
+fn row(r: &Row<'_>) -> Result<Source> {
     Ok(Source {
         id: r.get(0)?,
         name: r.get(1)?,
@@ -29,12 +30,13 @@ impl Tx<'_> {
         if self.reader().source_by_name(name)?.is_some() {
             return Err(Error::Conflict(format!("source '{name}' already exists")));
         }
-        self.tx.execute(
-            "INSERT INTO sources (name, pixel_size_m, revisit_days, created_at) VALUES (?1, ?2, ?3, ?4)",
+        let id: i64 = self.tx.query_row(
+            "INSERT INTO sources (name, pixel_size_m, revisit_days, created_at) VALUES (?1, ?2, ?3, ?4) RETURNING id",
             params![name, pixel_size_m, revisit_days, chrono::Utc::now().to_rfc3339()],
+            |r| r.get(0),
         )?;
         Ok(Source {
-            id: self.tx.last_insert_rowid(),
+            id,
             name: name.to_string(),
             pixel_size_m,
             revisit_days,
@@ -44,12 +46,13 @@ impl Tx<'_> {
     /// Record one import and return its id.
     pub fn add_import(&self, source_id: i64, file_name: &str, counts: [usize; 4]) -> Result<i64> {
         let [read, imported, duplicates, skipped] = counts.map(|c| c as i64);
-        self.tx.execute(
+        let id: i64 = self.tx.query_row(
             "INSERT INTO imports (source_id, file_name, imported_at, rows_read, imported, duplicates, skipped)
-             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7)",
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7) RETURNING id",
             params![source_id, file_name, chrono::Utc::now().to_rfc3339(), read, imported, duplicates, skipped],
+            |r| r.get(0),
         )?;
-        Ok(self.tx.last_insert_rowid())
+        Ok(id)
     }
 }
 
@@ -58,9 +61,7 @@ impl Reader<'_> {
         let mut st = self
             .conn
             .prepare("SELECT id, name, pixel_size_m, revisit_days FROM sources ORDER BY name")?;
-        let v = st
-            .query_map([], row)?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+        let v = st.query_map([], row)?.collect::<Result<Vec<_>>>()?;
         Ok(v)
     }
 

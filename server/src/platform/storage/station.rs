@@ -4,9 +4,10 @@
 //! never exists without it. Reports without a row came from a field tool
 //! (field app or field kit: both sign the same return).
 
+use super::engine::{OptionalExtension, Row};
 use super::{Reader, Tx};
 use crate::error::Result;
-use rusqlite::{OptionalExtension, params};
+use rusqlite::params;
 use std::collections::BTreeMap;
 
 /// Schema for this module; appended to the migration list.
@@ -34,7 +35,7 @@ pub struct StationEntry {
     pub entered_at: String,
 }
 
-fn entry_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<StationEntry> {
+fn entry_row(r: &Row<'_>) -> Result<StationEntry> {
     Ok(StationEntry {
         report_id: r.get(0)?,
         bundle_id: r.get(1)?,
@@ -49,9 +50,15 @@ impl Tx<'_> {
     /// row for the same report is ignored, as the report itself is).
     pub fn insert_station_entry(&self, e: &StationEntry) -> Result<()> {
         self.tx.execute(
-            "INSERT OR IGNORE INTO station_entries (report_id, bundle_id, entered_by, sheet, entered_at)
-             VALUES (?1, ?2, ?3, ?4, ?5)",
-            params![e.report_id, e.bundle_id, e.entered_by, e.sheet, e.entered_at],
+            "INSERT INTO station_entries (report_id, bundle_id, entered_by, sheet, entered_at)
+             VALUES (?1, ?2, ?3, ?4, ?5) ON CONFLICT DO NOTHING",
+            params![
+                e.report_id,
+                e.bundle_id,
+                e.entered_by,
+                e.sheet,
+                e.entered_at
+            ],
         )?;
         Ok(())
     }
@@ -79,7 +86,7 @@ impl Reader<'_> {
         )?;
         let v = st
             .query_map([], |r| Ok((r.get::<_, String>(0)?, r.get::<_, i64>(1)?)))?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+            .collect::<Result<Vec<_>>>()?;
         Ok(v.into_iter().map(|(t, n)| (t, n.max(0) as u64)).collect())
     }
 }

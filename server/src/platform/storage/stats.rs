@@ -2,6 +2,7 @@
 //! stored counter, every figure comes from these rows), and the
 //! adjudication log.
 
+use super::engine::Row;
 use super::{Reader, Tx};
 use crate::domain::{Cause, Outcome, Reason, TargetKind, Timestamp};
 use crate::error::Result;
@@ -107,12 +108,13 @@ impl Tx<'_> {
         by: &str,
     ) -> Result<AdjudicationRow> {
         let at = Timestamp::now();
-        self.tx.execute(
-            "INSERT INTO adjudications (event_id, outcome, reason, decided_by, decided_at) VALUES (?1, ?2, ?3, ?4, ?5)",
+        let id: i64 = self.tx.query_row(
+            "INSERT INTO adjudications (event_id, outcome, reason, decided_by, decided_at) VALUES (?1, ?2, ?3, ?4, ?5) RETURNING id",
             params![event_id, outcome, reason, by, at],
+            |r| r.get(0),
         )?;
         Ok(AdjudicationRow {
-            id: self.tx.last_insert_rowid(),
+            id,
             event_id,
             outcome,
             reason: reason.into(),
@@ -123,17 +125,20 @@ impl Tx<'_> {
 }
 
 /// A TEXT column borrowed from the row.
-fn text<'r>(row: &'r rusqlite::Row<'_>, i: usize) -> rusqlite::Result<&'r str> {
-    row.get_ref(i)?
-        .as_str()
-        .map_err(|e| rusqlite::Error::FromSqlConversionFailure(i, Type::Text, Box::new(e)))
+fn text<'r>(row: &Row<'r>, i: usize) -> Result<&'r str> {
+    opt_text(row, i)?.ok_or_else(|| {
+        rusqlite::Error::FromSqlConversionFailure(
+            i,
+            Type::Null,
+            "a NULL where a text was expected".into(),
+        )
+        .into()
+    })
 }
 
 /// A nullable TEXT column borrowed from the row.
-fn opt_text<'r>(row: &'r rusqlite::Row<'_>, i: usize) -> rusqlite::Result<Option<&'r str>> {
-    row.get_ref(i)?
-        .as_str_or_null()
-        .map_err(|e| rusqlite::Error::FromSqlConversionFailure(i, Type::Text, Box::new(e)))
+fn opt_text<'r>(row: &Row<'r>, i: usize) -> Result<Option<&'r str>> {
+    row.text(i)
 }
 
 /// Adds the non-empty parts of `s` (split at the unit separator, which
@@ -162,12 +167,8 @@ struct Sample {
 /// Keeps the sample of the bundle item in row `r` (bundle id in column 3,
 /// joined value in column 5) in `slot` if its bundle was issued before the
 /// one kept (by issue time, then bundle id).
-fn keep_earlier_sample(
-    slot: &mut Option<Sample>,
-    issued_at: Timestamp,
-    r: &rusqlite::Row<'_>,
-) -> rusqlite::Result<()> {
-    let bundle_id = text(r, 3)?;
+fn keep_earlier_sample(slot: &mut Option<Sample>, issued_at: Timestamp, r: &Row<'_>) -> Result<()> {
+    let bundle_id = text(&r, 3)?;
     let earlier = slot
         .as_ref()
         .is_none_or(|s| (issued_at, bundle_id) < (s.issued_at, s.bundle_id.as_str()));
@@ -175,7 +176,7 @@ fn keep_earlier_sample(
         *slot = Some(Sample {
             issued_at,
             bundle_id: bundle_id.to_string(),
-            value: opt_text(r, 5)?.map(str::to_string),
+            value: opt_text(&r, 5)?.map(str::to_string),
         });
     }
     Ok(())
@@ -248,7 +249,7 @@ impl Reader<'_> {
                     sample: None,
                 })
             })?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+            .collect::<Result<Vec<_>>>()?;
         Ok(events)
     }
 
@@ -260,7 +261,7 @@ impl Reader<'_> {
         let mut rows = st.query([])?;
         while let Some(r) = rows.next()? {
             if let Some(k) = event_slot(events, r.get(0)?) {
-                push_split(&mut events[k].zones, text(r, 1)?);
+                push_split(&mut events[k].zones, text(&r, 1)?);
             }
         }
         Ok(())
@@ -293,14 +294,14 @@ impl Reader<'_> {
             if e.first_issued_at.is_none_or(|f| issued_at < f) {
                 e.first_issued_at = Some(issued_at);
             }
-            if let Some(team) = opt_text(r, 2)? {
+            if let Some(team) = opt_text(&r, 2)? {
                 push_split(&mut e.teams_issued, team);
             }
             if r.get::<_, i64>(4)? != 0 {
                 if samples.is_empty() {
                     samples.resize_with(events.len(), || None);
                 }
-                keep_earlier_sample(&mut samples[k], issued_at, r)?;
+                keep_earlier_sample(&mut samples[k], issued_at, &r)?;
             }
         }
         Ok(samples)
@@ -313,7 +314,7 @@ impl Reader<'_> {
             .prepare("SELECT id, merged_into FROM events WHERE merged_into IS NOT NULL")?;
         let direct: HashMap<i64, i64> = st
             .query_map([], |r| Ok((r.get(0)?, r.get(1)?)))?
-            .collect::<rusqlite::Result<_>>()?;
+            .collect::<Result<_>>()?;
         let mut out = HashMap::new();
         for (&id, &next) in &direct {
             let mut cur = next;
@@ -360,19 +361,19 @@ impl Reader<'_> {
         while let Some(r) = rows.next()? {
             f(StatsReportRef {
                 rowid: r.get(0)?,
-                report_id: text(r, 1)?,
-                bundle_id: text(r, 2)?,
+                report_id: text(&r, 1)?,
+                bundle_id: text(&r, 2)?,
                 event_id: r.get(3)?,
-                control_code: opt_text(r, 4)?,
+                control_code: opt_text(&r, 4)?,
                 kind: r.get(5)?,
-                supersedes: opt_text(r, 6)?,
+                supersedes: opt_text(&r, 6)?,
                 outcome: r.get(7)?,
                 reason: r.get(8)?,
                 cause: r.get(9)?,
                 observed_at: r.get(10)?,
                 received_at: r.get(11)?,
                 evidence_ok: r.get::<_, i64>(12)? != 0,
-                team: text(r, 13)?,
+                team: text(&r, 13)?,
             });
         }
         Ok(())
@@ -391,11 +392,15 @@ impl Reader<'_> {
     }
 
     fn has_reports_table(&self) -> Result<bool> {
-        let exists: i64 = self.conn.query_row(
-            "SELECT COUNT(*) FROM sqlite_master WHERE type = 'table' AND name = 'reports'",
-            [],
-            |r| r.get(0),
-        )?;
+        let sql = match self.conn.dialect() {
+            super::engine::Dialect::Sqlite => {
+                "SELECT COUNT(*) FROM sqlite_master WHERE type = 'table' AND name = 'reports'"
+            }
+            super::engine::Dialect::Postgres => {
+                "SELECT COUNT(*) FROM pg_tables WHERE schemaname = current_schema() AND tablename = 'reports'"
+            }
+        };
+        let exists: i64 = self.conn.query_row(sql, [], |r| r.get(0))?;
         Ok(exists > 0)
     }
 
@@ -414,7 +419,7 @@ impl Reader<'_> {
                     decided_at: r.get(5)?,
                 })
             })?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+            .collect::<Result<Vec<_>>>()?;
         Ok(v)
     }
 
@@ -433,7 +438,7 @@ impl Reader<'_> {
                     lat: r.get(3)?,
                 })
             })?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+            .collect::<Result<Vec<_>>>()?;
         Ok(v)
     }
 
@@ -444,7 +449,7 @@ impl Reader<'_> {
             .prepare("SELECT id, issued_at FROM bundles WHERE cancelled_at IS NULL")?;
         let v = st
             .query_map([], |r| Ok((r.get(0)?, r.get(1)?)))?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+            .collect::<Result<Vec<_>>>()?;
         Ok(v)
     }
 }

@@ -25,7 +25,7 @@ impl Reader<'_> {
         ))?;
         let v = st
             .query_map([id], report_row)?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+            .collect::<Result<Vec<_>>>()?;
         Ok(v)
     }
 
@@ -46,7 +46,7 @@ impl Reader<'_> {
                     reports: r.get(4)?,
                 })
             })?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+            .collect::<Result<Vec<_>>>()?;
         Ok(v)
     }
 
@@ -71,12 +71,11 @@ impl Reader<'_> {
 
 #[cfg(test)]
 mod tests {
-    use crate::platform::storage::Db;
 
     #[test]
     fn a_fresh_database_has_nothing_returned() {
         let dir = tempfile::tempdir().unwrap();
-        let db = Db::open(dir.path()).unwrap();
+        let db = crate::platform::storage::test_db(dir.path());
         assert!(db.read(|r| r.bundle_stops_reported()).unwrap().is_empty());
         assert!(db.read(|r| r.bundle_returns("x")).unwrap().is_empty());
         assert!(db.read(|r| r.bundle_reports("x")).unwrap().is_empty());

@@ -61,7 +61,7 @@ impl Reader<'_> {
                     geometry: r.get(3)?,
                 })
             })?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
+            .collect::<Result<Vec<_>>>()?;
         Ok(v)
     }
 }
