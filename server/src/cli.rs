@@ -35,6 +35,11 @@ struct DataArg {
     /// file in the data directory.
     #[arg(long, env = "GROUNDPROOF_DATABASE")]
     database: Option<String>,
+    /// Where photos, thumbnails, kept returns and bundles are stored: `local`
+    /// (the data directory) or `s3://bucket/prefix` (an S3-compatible store;
+    /// endpoint, region and credentials from the AWS_* variables).
+    #[arg(long, default_value = "local", env = "GROUNDPROOF_EVIDENCE")]
+    evidence: String,
 }
 
 #[derive(Subcommand)]
@@ -366,6 +371,17 @@ pub fn init_logging() {
         .init();
 }
 
+/// Opens the data directory with its database (`--database`) and evidence
+/// store (`--evidence`).
+fn open_data(data: &DataArg) -> Result<(Db, Settings)> {
+    let location = groundproof::platform::evidence::Location::parse(&data.evidence)?;
+    let out = open(data)?;
+    let store = groundproof::platform::evidence::configure(&data.data, &location)
+        .with_context(|| format!("opening the evidence store {}", data.evidence))?;
+    tracing::debug!(?store, "evidence store");
+    Ok(out)
+}
+
 fn open(arg: &DataArg) -> Result<(Db, Settings)> {
     let data = &arg.data;
     let settings = Settings::load(data)?;
@@ -387,7 +403,7 @@ pub fn run() -> Result<ExitCode> {
                 (Some(c), Some(k)) => Some(web::tls_config(&c, &k)?),
                 _ => None,
             };
-            let (db, settings) = open(&data)?;
+            let (db, settings) = open_data(&data)?;
             serve(db, settings, &data.data, &bind, tls)?;
         }
         Command::Demo {
@@ -411,7 +427,7 @@ pub fn run() -> Result<ExitCode> {
             ImportCommand::Zones { file, data } => {
                 let bytes =
                     std::fs::read(&file).with_context(|| format!("reading {}", file.display()))?;
-                let (db, _) = open(&data)?;
+                let (db, _) = open_data(&data)?;
                 let out = import_zones(&db, &file.display().to_string(), &bytes)?;
                 println!(
                     "zones imported: {} ({} events relinked)",
@@ -425,7 +441,17 @@ pub fn run() -> Result<ExitCode> {
         Command::User { command } => user(command)?,
         Command::Token { command } => token(command)?,
         Command::Bundle { command } => bundle(command)?,
-        Command::Backup { out, data } => backup(&data, &out)?,
+        Command::Backup { out, data } => {
+            backup(&data, &out)?;
+            if groundproof::platform::evidence::Location::parse(&data.evidence)?
+                != groundproof::platform::evidence::Location::Local
+            {
+                println!(
+                    "note: the evidence store {} is not in this backup; back it up with the store's own tools at the same time (README, Operations)",
+                    data.evidence
+                );
+            }
+        }
         Command::Restore { from, data } => {
             let s = groundproof::platform::backup::restore(&from, &data.data)?;
             println!(
@@ -478,7 +504,7 @@ fn sources(command: SourcesCommand) -> Result<()> {
             revisit_days,
             data,
         } => {
-            let (db, _) = open(&data)?;
+            let (db, _) = open_data(&data)?;
             let s = groundproof::alerts::sources::add_source(
                 &db,
                 &Actor::CommandLine,
@@ -493,7 +519,7 @@ fn sources(command: SourcesCommand) -> Result<()> {
             );
         }
         SourcesCommand::List { data } => {
-            let (db, _) = open(&data)?;
+            let (db, _) = open_data(&data)?;
             for s in db.read(|r| r.sources())? {
                 println!("{}\t{} m\t{} days", s.name, s.pixel_size_m, s.revisit_days);
             }
@@ -512,7 +538,7 @@ fn events(command: EventsCommand) -> Result<()> {
             limit,
             data,
         } => {
-            let (db, settings) = open(&data)?;
+            let (db, settings) = open_data(&data)?;
             let filter = EventFilter {
                 zone: zone
                     .map(|z| ZoneName::parse(&z).map(|n| n.to_string()))
@@ -542,13 +568,13 @@ fn events(command: EventsCommand) -> Result<()> {
 fn team(command: TeamCommand) -> Result<()> {
     match command {
         TeamCommand::Add { name, data } => {
-            let (db, _) = open(&data)?;
+            let (db, _) = open_data(&data)?;
             let now = groundproof::platform::auth::now_unix();
             let t = admin::add_team(&db, &Actor::CommandLine, &name, now)?;
             println!("team '{}' added", t.name);
         }
         TeamCommand::List { data } => {
-            let (db, _) = open(&data)?;
+            let (db, _) = open_data(&data)?;
             for t in db.read(|r| r.team_states())? {
                 let state = if t.disabled_at.is_some() {
                     "\tdisabled"
@@ -567,7 +593,7 @@ fn team(command: TeamCommand) -> Result<()> {
 /// `groundproof team disable|enable NAME`.
 fn team_disabled(name: &str, data: &DataArg, off: bool) -> Result<()> {
     let now = groundproof::platform::auth::now_unix();
-    let (db, _) = open(&data)?;
+    let (db, _) = open_data(&data)?;
     let Some(t) = db.read(|r| r.team_state_by_name(name))? else {
         bail!("no team '{name}'");
     };
@@ -612,19 +638,19 @@ fn user(command: UserCommand) -> Result<()> {
         UserCommand::Add { name, role, data } => {
             let role: groundproof::platform::auth::Role = role.parse()?;
             let password = password_for(&name)?;
-            let (db, _) = open(&data)?;
+            let (db, _) = open_data(&data)?;
             let u = admin::add_user(&db, &me, &name, role, &password, now)?;
             println!("user '{}' added with role {}", u.name, role);
         }
         UserCommand::Role { name, role, data } => {
             let role: groundproof::platform::auth::Role = role.parse()?;
-            let (db, _) = open(&data)?;
+            let (db, _) = open_data(&data)?;
             let u = admin::set_role(&db, &me, user_id(&db, &name)?, role, now)?;
             println!("user '{}' now has the role {}", u.name, u.role);
         }
         UserCommand::Password { name, data } => {
             let password = password_for(&name)?;
-            let (db, _) = open(&data)?;
+            let (db, _) = open_data(&data)?;
             let u = admin::reset_password(&db, &me, user_id(&db, &name)?, &password, now)?;
             println!("password of '{}' set; their sessions ended", u.name);
         }
@@ -637,7 +663,7 @@ fn user(command: UserCommand) -> Result<()> {
 /// `groundproof user disable|enable NAME`.
 fn set_disabled(name: &str, data: &DataArg, off: bool) -> Result<()> {
     let now = groundproof::platform::auth::now_unix();
-    let (db, _) = open(&data)?;
+    let (db, _) = open_data(&data)?;
     let u = admin::set_user_disabled(&db, &Actor::CommandLine, user_id(&db, name)?, off, now)?;
     let state = if u.disabled { "disabled" } else { "enabled" };
     println!("user '{}' {state}", u.name);
@@ -653,7 +679,7 @@ fn token(command: TokenCommand) -> Result<()> {
             label,
             data,
         } => {
-            let (db, _) = open(&data)?;
+            let (db, _) = open_data(&data)?;
             let now = groundproof::platform::auth::now_unix();
             let token = match (role, team) {
                 (Some(r), None) => {
@@ -685,7 +711,7 @@ fn bundle(command: BundleCommand) -> Result<()> {
     match command {
         BundleCommand::Issue(a) => issue(*a)?,
         BundleCommand::List { data } => {
-            let (db, _) = open(&data)?;
+            let (db, _) = open_data(&data)?;
             for b in db.read(|r| r.bundles())? {
                 let state = if b.cancelled_at.is_some() {
                     "cancelled"
@@ -699,7 +725,7 @@ fn bundle(command: BundleCommand) -> Result<()> {
             }
         }
         BundleCommand::Cancel { id, data } => {
-            let (db, _) = open(&data)?;
+            let (db, _) = open_data(&data)?;
             groundproof::planning::cancel_bundle(&db, id.trim())?;
             println!("bundle {id} cancelled; its upload key is revoked");
         }
@@ -727,7 +753,7 @@ fn issue(a: IssueArgs) -> Result<()> {
         },
     });
     let mut req = web::api::bundles::trip_request(serde_json::from_value(body)?)?;
-    let (db, settings) = open(&a.data)?;
+    let (db, settings) = open_data(&a.data)?;
     if !req.statuses.is_empty() {
         req.reconciled = Some(groundproof::statistics::kept::event_statuses(&db)?);
     }
@@ -737,7 +763,14 @@ fn issue(a: IssueArgs) -> Result<()> {
     }
     let out = groundproof::planning::issue_bundle(&db, &a.data.data, &settings, &req)?;
     if let Some(o) = &a.out {
-        std::fs::copy(&out.path, o)
+        let mut f =
+            std::fs::File::create(o).with_context(|| format!("creating {}", o.display()))?;
+        groundproof::platform::evidence::of(&a.data.data)?
+            .copy_to(
+                &groundproof::planning::issue::bundle_key(&out.bundle.file_name),
+                None,
+                &mut f,
+            )
             .with_context(|| format!("copying the bundle to {}", o.display()))?;
     }
     println!(
@@ -814,7 +847,7 @@ fn import_alert_file(a: AlertArgs) -> Result<ExitCode> {
         Some(f) => Format::parse(f).map_err(Error::Invalid)?,
         None => Format::detect(&file_name, &bytes),
     };
-    let (db, settings) = open(&a.data)?;
+    let (db, settings) = open_data(&a.data)?;
     let req = ImportRequest {
         source: &source,
         file_name: &file_name,
@@ -903,6 +936,24 @@ fn serve_demo(
     Ok(())
 }
 
+/// How old an object without a row must be before the start-up clean-up
+/// removes it: none for the data directory's own files (only this process
+/// writes there); for a shared store, `GROUNDPROOF_ORPHAN_GRACE_SECS`
+/// (default an hour), since another instance may be about to commit the
+/// row of an object it just stored.
+fn orphan_grace(data_dir: &Path) -> Result<std::time::Duration> {
+    if groundproof::platform::evidence::of(data_dir)?.is_local() {
+        return Ok(std::time::Duration::ZERO);
+    }
+    let secs = match std::env::var("GROUNDPROOF_ORPHAN_GRACE_SECS") {
+        Ok(v) => v.parse::<u64>().with_context(|| {
+            format!("GROUNDPROOF_ORPHAN_GRACE_SECS={v:?} is not a number of seconds")
+        })?,
+        Err(_) => 3600,
+    };
+    Ok(std::time::Duration::from_secs(secs))
+}
+
 fn serve(
     db: Db,
     settings: Settings,
@@ -915,7 +966,7 @@ fn serve(
         anyhow::anyhow!("message catalogues disagree:\n{}", problems.join("\n"))
     })?;
     // Files a crash left without a row (invariant 3) go before serving.
-    let cleaned = groundproof::intake::cleanup(&db, data_dir)
+    let cleaned = groundproof::intake::cleanup_after(&db, data_dir, orphan_grace(data_dir)?)
         .map_err(|e| anyhow::anyhow!("cleaning up after a crash: {e}"))?;
     tracing::info!(?cleaned, "start-up cleanup done");
     match groundproof::platform::auth::ensure_first_admin(

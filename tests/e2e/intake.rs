@@ -129,7 +129,7 @@ pub(crate) fn fast_push() -> PushOptions {
     }
 }
 
-fn facts(db: &Db) -> Vec<ReportRow> {
+pub(crate) fn facts(db: &Db) -> Vec<ReportRow> {
     db.read(|r| r.report_facts()).unwrap()
 }
 
@@ -177,14 +177,14 @@ pub(crate) fn pack(ws: &Path, out: &Path, all: bool) -> Vec<u8> {
 
 /// A loopback TCP proxy to `target` that drops the connection once the
 /// bytes sent upstream reach each of `cuts` (counted over all connections).
-struct CutProxy {
+pub(crate) struct CutProxy {
     addr: SocketAddr,
     cuts_done: Arc<AtomicUsize>,
-    target: Arc<Mutex<SocketAddr>>,
+    pub(crate) target: Arc<Mutex<SocketAddr>>,
 }
 
 impl CutProxy {
-    fn start(target: SocketAddr, cuts: Vec<u64>) -> CutProxy {
+    pub(crate) fn start(target: SocketAddr, cuts: Vec<u64>) -> CutProxy {
         let listener = TcpListener::bind("127.0.0.1:0").unwrap();
         let addr = listener.local_addr().unwrap();
         let sent = Arc::new(AtomicU64::new(0));
@@ -240,7 +240,7 @@ impl CutProxy {
         }
     }
 
-    fn url(&self) -> String {
+    pub(crate) fn url(&self) -> String {
         format!("http://{}", self.addr)
     }
 }
@@ -336,7 +336,7 @@ fn ten_reports_through_a_connection_cut_twice_and_whole_through_the_station() {
 
 // ---------- idempotency and order ----------
 
-fn copy_data(from: &Path, to: &Path) {
+pub(crate) fn copy_data(from: &Path, to: &Path) {
     std::fs::create_dir_all(to).unwrap();
     for name in ["groundproof.sqlite3", "groundproof.sqlite3-wal"] {
         let src = from.join(name);
@@ -412,7 +412,7 @@ fn the_same_package_three_times_and_packages_in_any_order_give_the_same_state() 
 }
 
 /// Like [`record_events`] for events `skip..skip + n`.
-fn record_events_from(ws: &Path, skip: usize, n: usize, seed: u64) {
+pub(crate) fn record_events_from(ws: &Path, skip: usize, n: usize, seed: u64) {
     let snap = Snapshot::load(ws).unwrap();
     let when = chrono::Utc::now() + chrono::Duration::minutes(1);
     for (i, e) in snap.events.iter().skip(skip).take(n).enumerate() {
@@ -862,6 +862,15 @@ fn binary() -> PathBuf {
 
 /// Starts `groundproof serve` on a random loopback port; returns the child and its address.
 fn spawn_server(data: &Path) -> (std::process::Child, SocketAddr) {
+    spawn_server_with(data, &[], &[])
+}
+
+/// [`spawn_server`] with more arguments after `serve` and more environment.
+pub(crate) fn spawn_server_with(
+    data: &Path,
+    args: &[&str],
+    envs: &[(&str, String)],
+) -> (std::process::Child, SocketAddr) {
     let mut child = std::process::Command::new(binary())
         .args([
             "serve",
@@ -870,6 +879,8 @@ fn spawn_server(data: &Path) -> (std::process::Child, SocketAddr) {
             "--bind",
             "127.0.0.1:0",
         ])
+        .args(args)
+        .envs(envs.iter().map(|(k, v)| (*k, v.as_str())))
         .stdout(std::process::Stdio::piped())
         .stderr(std::process::Stdio::null())
         .spawn()

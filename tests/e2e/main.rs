@@ -7,6 +7,7 @@ mod backup;
 mod bundles;
 mod control_outcomes;
 mod demo_story;
+mod evidence_s3;
 mod footprints;
 mod hardening;
 mod intake;

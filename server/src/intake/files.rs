@@ -1,24 +1,35 @@
-//! The clean-up run at start: what a crash can leave behind in the data
-//! directory (the folders are listed in [`super::layout`]).
+//! The clean-up run at start: what a crash can leave behind in the evidence
+//! store and the data directory (the keys are listed in [`super::layout`]).
 
 use super::IntakeError;
-use super::layout::{EVIDENCE_DIR, INCOMING_DIR, THUMBS_DIR, UPLOADS_DIR, intake_lock};
+use super::layout::{
+    EVIDENCE_DIR, INCOMING_DIR, UPLOADS_DIR, chunk_of, intake_lock, photo_key, thumb_key,
+};
 use crate::domain::Sha256Digest;
+use crate::platform::evidence::{Evidence, Listed};
 use crate::platform::storage::Db;
 use std::collections::HashSet;
 use std::path::{Path, PathBuf};
+use std::time::{Duration, SystemTime};
+
+/// Folder of issued bundles in the evidence store.
+const BUNDLES_DIR: &str = "bundles";
 
 /// What [`cleanup`] removed.
 #[derive(Debug, Clone, Default, PartialEq, Eq, serde::Serialize)]
 pub struct CleanupSummary {
-    /// Evidence files (photos and thumbnails) no photo row names.
+    /// Evidence objects (photos and thumbnails) no photo row names.
     pub evidence_files: usize,
-    /// Upload data files of uploads that are no longer open.
+    /// Upload chunks of uploads that are no longer open.
     pub upload_files: usize,
     /// Open uploads untouched for longer than the upload lifetime.
     pub expired_uploads: usize,
     /// Refused packages past the age or size budget of `returns/rejected/`.
     pub rejected_packages: usize,
+    /// Bundle files no bundle row names (an issue cut short).
+    pub bundle_files: usize,
+    /// Half-written files of a local store (staging and temp files).
+    pub staging_files: usize,
 }
 
 fn files_in(dir: &Path) -> Vec<PathBuf> {
@@ -40,48 +51,50 @@ fn remove(p: &Path) -> Result<(), IntakeError> {
     }
 }
 
-/// Removes what a crash can leave behind: evidence files and temp files that
-/// no committed photo row names, data of uploads that are finished or gone,
-/// and open uploads idle for more than [`super::layout::UPLOAD_IDLE_HOURS`].
-/// Call it at start, before serving (it holds the intake lock while it runs).
-/// Received packages in `returns/incoming/` are never removed; refused ones
-/// in `returns/rejected/` are kept within their budget
-/// ([`super::layout::prune_rejected`]).
+/// [`cleanup_after`] with no grace: for a store only this process writes.
 pub fn cleanup(db: &Db, data_dir: &Path) -> Result<CleanupSummary, IntakeError> {
+    cleanup_after(db, data_dir, Duration::ZERO)
+}
+
+/// Removes what a crash can leave behind: evidence objects no committed
+/// photo row names, bundle files no bundle row names, chunks of uploads
+/// that are finished or gone, and open uploads idle for more than
+/// [`super::layout::UPLOAD_IDLE_HOURS`]. Objects written less than `grace`
+/// ago are kept (another server instance on the same store may be about
+/// to commit the row that names them). Call it at start, before serving (it
+/// holds the intake lock while it runs). Received packages in
+/// `returns/incoming/` are never removed; refused ones in
+/// `returns/rejected/` are kept within their budget
+/// ([`super::layout::prune_rejected`]).
+pub fn cleanup_after(
+    db: &Db,
+    data_dir: &Path,
+    grace: Duration,
+) -> Result<CleanupSummary, IntakeError> {
     let _guard = intake_lock();
+    let store = crate::platform::evidence::of(data_dir)?;
+    let cutoff = SystemTime::now() - grace;
+    let old = |l: &Listed| l.modified <= cutoff;
     let mut out = CleanupSummary {
         expired_uploads: super::uploads::expire_idle(db, data_dir)?,
-        rejected_packages: super::layout::prune_rejected(data_dir)?,
+        rejected_packages: super::layout::prune_rejected(&store)?,
+        staging_files: store.sweep_staging(&[EVIDENCE_DIR, UPLOADS_DIR, BUNDLES_DIR, "returns"])?,
         ..CleanupSummary::default()
     };
 
     let known: HashSet<String> = db.read(|r| r.photo_shas())?.into_iter().collect();
-    let evidence = data_dir.join(EVIDENCE_DIR);
-    let mut dirs: Vec<PathBuf> = Vec::new();
-    for base in [evidence.clone(), evidence.join(THUMBS_DIR)] {
-        if let Ok(it) = std::fs::read_dir(&base) {
-            for e in it.filter_map(|e| e.ok()) {
-                let p = e.path();
-                let name = e.file_name().to_string_lossy().into_owned();
-                if p.is_dir() && name.len() == 2 {
-                    dirs.push(p);
-                }
-            }
-        }
-    }
-    for dir in dirs {
-        for f in files_in(&dir) {
-            let name = f
-                .file_name()
-                .map(|n| n.to_string_lossy().into_owned())
-                .unwrap_or_default();
-            let sha = name.strip_suffix(".jpg").unwrap_or("");
-            if !(Sha256Digest::is_valid(sha) && known.contains(sha)) {
-                remove(&f)?;
-                out.evidence_files += 1;
-            }
-        }
-    }
+    let named = |k: &str| {
+        let sha = k
+            .rsplit('/')
+            .next()
+            .and_then(|n| n.strip_suffix(".jpg"))
+            .unwrap_or("");
+        Sha256Digest::is_valid(sha)
+            && known.contains(sha)
+            && (k == photo_key(sha) || k == thumb_key(sha))
+    };
+    let orphans = store.list_where(&format!("{EVIDENCE_DIR}/"), |l| old(l) && !named(&l.key))?;
+    out.evidence_files = remove_all(&store, &orphans)?;
 
     let open: HashSet<String> = db
         .read(|r| r.upload_ids())?
@@ -89,20 +102,28 @@ pub fn cleanup(db: &Db, data_dir: &Path) -> Result<CleanupSummary, IntakeError> 
         .filter(|(_, state)| state == "open")
         .map(|(id, _)| id)
         .collect();
-    for f in files_in(&data_dir.join(UPLOADS_DIR)) {
-        let name = f
-            .file_name()
-            .map(|n| n.to_string_lossy().into_owned())
-            .unwrap_or_default();
-        let keep = name
-            .strip_suffix(".part")
-            .is_some_and(|id| open.contains(id));
-        if !keep {
-            remove(&f)?;
-            out.upload_files += 1;
+    let stale = store.list_where(&format!("{UPLOADS_DIR}/"), |l| {
+        !chunk_of(&l.key).is_some_and(|(id, _)| open.contains(id))
+    })?;
+    out.upload_files = remove_all(&store, &stale)?;
+    if let Some(dir) = store.local_path(UPLOADS_DIR) {
+        for e in std::fs::read_dir(dir).into_iter().flatten().flatten() {
+            let _ = std::fs::remove_dir(e.path()); // only when empty
         }
     }
-    // Temp files of an interrupted browser upload or durable write.
+
+    let bundles: HashSet<String> = db
+        .read(|r| r.bundles())?
+        .into_iter()
+        .map(|b| format!("{BUNDLES_DIR}/{}", b.file_name))
+        .collect();
+    let unnamed = store.list_where(&format!("{BUNDLES_DIR}/"), |l| {
+        old(l) && !bundles.contains(&l.key)
+    })?;
+    out.bundle_files = remove_all(&store, &unnamed)?;
+
+    // Temp files of an interrupted browser upload or durable write (this
+    // machine's spool of packages being parsed).
     for f in files_in(&data_dir.join(INCOMING_DIR)) {
         let name = f
             .file_name()
@@ -115,6 +136,13 @@ pub fn cleanup(db: &Db, data_dir: &Path) -> Result<CleanupSummary, IntakeError> 
     // Station entry drafts untouched past their lifetime.
     super::station::draft::remove_expired(data_dir, chrono::Utc::now())?;
     Ok(out)
+}
+
+fn remove_all(store: &Evidence, found: &[Listed]) -> Result<usize, IntakeError> {
+    for l in found {
+        store.delete(&l.key)?;
+    }
+    Ok(found.len())
 }
 
 #[cfg(test)]

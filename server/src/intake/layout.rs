@@ -3,9 +3,16 @@
 //! [`super::files`], [`super::pipeline`] and [`super::uploads`] and importing
 //! none of them.
 //!
-//! | path | what |
+//! Every one of them is a key of the evidence store
+//! ([`crate::platform::evidence`]): a path under the data directory for
+//! local files, a key under the prefix on S3. Only `returns/incoming/` is
+//! also a local folder in both cases: a package is parsed from a file on
+//! this machine (the spool), and on S3 kept in the store as well.
+//!
+//! | key | what |
 //! |---|---|
-//! | `uploads/<upload id>.part` | bytes of a resumable upload so far (fsynced before each acknowledgement) |
+//! | `uploads/<upload id>/<offset>` | one received chunk of a resumable upload, stored before its offset is (the offset, 20 digits, is where it starts; any instance can read them) |
+//! | `uploads/<upload id>.part` | bytes of a resumable upload made before chunks were kept apart (read as the chunk at 0) |
 //! | `returns/incoming/<sha256>.zip` | a return package, durable before it is parsed; kept as received |
 //! | `returns/rejected/<sha256>.zip` | a package refused as a whole, or whose every report was rejected (kept for inspection within [`REJECTED_MAX_BYTES`] and [`REJECTED_MAX_AGE_DAYS`]; why it was refused stays in the database) |
 //! | `evidence/<ab>/<sha256>.jpg` | a photo, named by the SHA-256 of its bytes, never modified |
@@ -16,6 +23,7 @@
 //! before any database row names it.
 
 use super::IntakeError;
+use crate::platform::evidence::{Evidence, Listed};
 use std::path::{Path, PathBuf};
 use std::sync::{Mutex, MutexGuard};
 
@@ -80,6 +88,55 @@ pub fn rejected_path(data_dir: &Path, sha: &str) -> PathBuf {
     data_dir.join(REJECTED_DIR).join(format!("{sha}.zip"))
 }
 
+/// `evidence/ab/<sha>.jpg`: the evidence store's key of a photo.
+pub fn photo_key(sha: &str) -> String {
+    format!("{EVIDENCE_DIR}/{}/{sha}.jpg", &sha[..2])
+}
+
+/// `evidence/thumbs/ab/<sha>.jpg`: the key of its thumbnail.
+pub fn thumb_key(sha: &str) -> String {
+    format!("{EVIDENCE_DIR}/{THUMBS_DIR}/{}/{sha}.jpg", &sha[..2])
+}
+
+/// `returns/incoming/<sha>.zip`: the key of a kept package.
+pub fn incoming_key(sha: &str) -> String {
+    format!("{INCOMING_DIR}/{sha}.zip")
+}
+
+/// `returns/rejected/<sha>.zip`: the key of a refused package.
+pub fn rejected_key(sha: &str) -> String {
+    format!("{REJECTED_DIR}/{sha}.zip")
+}
+
+/// `uploads/<id>/`: the keys of an upload's chunks start with this.
+pub fn upload_prefix(id: &str) -> String {
+    format!("{UPLOADS_DIR}/{id}/")
+}
+
+/// `uploads/<id>/<offset, 20 digits>`: the chunk that starts at `offset`.
+pub fn chunk_key(id: &str, offset: u64) -> String {
+    format!("{UPLOADS_DIR}/{id}/{offset:020}")
+}
+
+/// `uploads/<id>.part`: an upload's bytes as kept before chunks.
+pub fn legacy_part_key(id: &str) -> String {
+    format!("{UPLOADS_DIR}/{id}.part")
+}
+
+/// The upload a key under `uploads/` belongs to, and the offset its chunk
+/// starts at (`None` for anything else).
+pub fn chunk_of(key: &str) -> Option<(&str, u64)> {
+    let rest = key.strip_prefix(UPLOADS_DIR)?.strip_prefix('/')?;
+    if let Some(id) = rest.strip_suffix(".part").filter(|id| !id.contains('/')) {
+        return Some((id, 0));
+    }
+    let (id, off) = rest.split_once('/')?;
+    if off.len() != 20 || !off.bytes().all(|c| c.is_ascii_digit()) {
+        return None;
+    }
+    off.parse().ok().map(|o| (id, o))
+}
+
 /// Rename `from` to `to` durably (fsync of both folders).
 pub fn move_durably(from: &Path, to: &Path) -> Result<(), IntakeError> {
     let dir = to.parent().unwrap_or(Path::new("."));
@@ -97,53 +154,46 @@ pub fn move_durably(from: &Path, to: &Path) -> Result<(), IntakeError> {
     Ok(())
 }
 
-/// Keeps `returns/rejected/` within its budget: packages older than
-/// [`REJECTED_MAX_AGE_DAYS`] are removed, then the oldest until the rest
-/// take at most [`REJECTED_MAX_BYTES`]. Returns how many were removed.
-pub fn prune_rejected(data_dir: &Path) -> Result<usize, IntakeError> {
-    prune_dir(
-        &data_dir.join(REJECTED_DIR),
+/// Keeps `returns/rejected/` of the evidence store within its budget:
+/// packages older than [`REJECTED_MAX_AGE_DAYS`] are removed, then the
+/// oldest until the rest take at most [`REJECTED_MAX_BYTES`]. Returns how
+/// many were removed.
+pub fn prune_rejected(store: &Evidence) -> Result<usize, IntakeError> {
+    let listed = store.list(&format!("{REJECTED_DIR}/"))?;
+    let doomed = to_prune(
+        listed,
         REJECTED_MAX_BYTES,
         std::time::Duration::from_secs(REJECTED_MAX_AGE_DAYS * 86_400),
         std::time::SystemTime::now(),
-    )
+    );
+    for k in &doomed {
+        store.delete(k)?;
+    }
+    Ok(doomed.len())
 }
 
-/// Removes files of `dir` modified before `now - max_age`, then the oldest
-/// until the rest take at most `max_bytes`.
-fn prune_dir(
-    dir: &Path,
+/// The objects to remove: those modified before `now - max_age`, then the
+/// oldest until the rest take at most `max_bytes`.
+fn to_prune(
+    mut files: Vec<Listed>,
     max_bytes: u64,
     max_age: std::time::Duration,
     now: std::time::SystemTime,
-) -> Result<usize, IntakeError> {
-    let Ok(it) = std::fs::read_dir(dir) else {
-        return Ok(0);
-    };
-    let mut files: Vec<(std::time::SystemTime, u64, PathBuf)> = it
-        .filter_map(|e| e.ok())
-        .filter_map(|e| {
-            let m = e.metadata().ok().filter(|m| m.is_file())?;
-            Some((m.modified().ok()?, m.len(), e.path()))
-        })
-        .collect();
-    files.sort();
-    let mut total: u64 = files.iter().map(|f| f.1).sum();
-    let mut removed = 0;
-    for (modified, len, path) in files {
-        let old = now.duration_since(modified).is_ok_and(|age| age > max_age);
+) -> Vec<String> {
+    files.sort_by(|a, b| (a.modified, &a.key).cmp(&(b.modified, &b.key)));
+    let mut total: u64 = files.iter().map(|f| f.size).sum();
+    let mut out = Vec::new();
+    for f in files {
+        let old = now
+            .duration_since(f.modified)
+            .is_ok_and(|age| age > max_age);
         if !old && total <= max_bytes {
             continue;
         }
-        match std::fs::remove_file(&path) {
-            Ok(()) => {}
-            Err(e) if e.kind() == std::io::ErrorKind::NotFound => {}
-            Err(e) => return Err(crate::Error::io(format!("removing {}", path.display()), e)),
-        }
-        total = total.saturating_sub(len);
-        removed += 1;
+        total = total.saturating_sub(f.size);
+        out.push(f.key);
     }
-    Ok(removed)
+    out
 }
 
 #[cfg(test)]
@@ -153,31 +203,41 @@ mod tests {
 
     #[test]
     fn old_packages_go_then_the_oldest_until_the_rest_fit() {
-        let dir = tempfile::tempdir().unwrap();
         let now = SystemTime::now();
         let day = Duration::from_secs(86_400);
-        let put = |name: &str, len: usize, age_days: u32| {
-            let p = dir.path().join(name);
-            std::fs::write(&p, vec![0u8; len]).unwrap();
-            let f = std::fs::File::options().write(true).open(&p).unwrap();
-            f.set_modified(now - day * age_days).unwrap();
+        let put = |key: &str, size: u64, age_days: u32| Listed {
+            key: key.into(),
+            size,
+            modified: now - day * age_days,
         };
-        put("a-very-old.zip", 10, 30);
-        put("b-old.zip", 400, 5);
-        put("c-newer.zip", 400, 3);
-        put("d-new.zip", 400, 1);
-        let removed = prune_dir(dir.path(), 1000, day * 14, now).unwrap();
-        assert_eq!(removed, 2);
-        let mut left: Vec<String> = std::fs::read_dir(dir.path())
-            .unwrap()
-            .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
-            .collect();
-        left.sort();
-        assert_eq!(left, ["c-newer.zip", "d-new.zip"]);
+        let files = vec![
+            put("d-new.zip", 400, 1),
+            put("a-very-old.zip", 10, 30),
+            put("c-newer.zip", 400, 3),
+            put("b-old.zip", 400, 5),
+        ];
+        let gone = to_prune(files.clone(), 1000, day * 14, now);
+        assert_eq!(gone, ["a-very-old.zip", "b-old.zip"]);
         // One package over the whole budget is not kept either.
-        put("e-huge.zip", 2000, 0);
-        assert_eq!(prune_dir(dir.path(), 1000, day * 14, now).unwrap(), 3);
-        assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 0);
-        assert_eq!(prune_dir(&dir.path().join("none"), 1, day, now).unwrap(), 0);
+        let mut more = files;
+        more.push(put("e-huge.zip", 2000, 0));
+        assert_eq!(to_prune(more, 1000, day * 14, now).len(), 5);
+        assert!(to_prune(Vec::new(), 1, day, now).is_empty());
+    }
+
+    #[test]
+    fn chunk_keys_name_their_upload_and_offset() {
+        let id = "a".repeat(32);
+        assert_eq!(
+            chunk_key(&id, 42),
+            format!("uploads/{id}/00000000000000000042")
+        );
+        assert_eq!(chunk_of(&chunk_key(&id, 42)), Some((id.as_str(), 42)));
+        assert_eq!(chunk_of(&legacy_part_key(&id)), Some((id.as_str(), 0)));
+        assert_eq!(chunk_of(&format!("uploads/{id}/x")), None);
+        assert_eq!(chunk_of("evidence/ab/x.jpg"), None);
+        let sha = "ab".repeat(32);
+        assert_eq!(photo_key(&sha), format!("evidence/ab/{sha}.jpg"));
+        assert_eq!(thumb_key(&sha), format!("evidence/thumbs/ab/{sha}.jpg"));
     }
 }

@@ -25,7 +25,7 @@ pub mod uploads;
 
 pub use error::IntakeError;
 pub use evidence::DEFAULT_TOLERANCE_M;
-pub use files::{CleanupSummary, cleanup};
+pub use files::{CleanupSummary, cleanup, cleanup_after};
 pub use pipeline::{ReportResult, ReturnDocument, UnreadableItem, return_document, take_in};
 
 use groundproof_sync::photo::PhotoLimits;

@@ -13,10 +13,12 @@
 
 use super::evidence::{self, CheckContext, Footprint, PhotoFacts};
 use super::layout::{
-    incoming_path, intake_lock, move_durably, photo_path, prune_rejected, rejected_path, thumb_path,
+    incoming_key, incoming_path, intake_lock, move_durably, photo_key, prune_rejected,
+    rejected_key, rejected_path, thumb_key,
 };
 use super::{IntakeError, IntakeOptions};
 use crate::domain::{Cause, Confidence, Day, Outcome, Reason, TargetKind};
+use crate::platform::evidence::Evidence;
 use crate::platform::storage::{
     BundleItem, BundleRecord, Db, EventWrite, PhotoCheckRow, PhotoRow, ReportPhotoRow, ReportRow,
     ResultRow, ReturnRecord, StationEntry, UploadRecord,
@@ -214,7 +216,7 @@ fn footprint_json(mp: &geo::MultiPolygon<f64>) -> String {
 
 struct Context<'a> {
     db: &'a Db,
-    data_dir: &'a Path,
+    store: &'a Evidence,
     options: &'a IntakeOptions,
     opened: &'a OpenedReturn,
     bundle: &'a BundleRecord,
@@ -246,9 +248,7 @@ impl Context<'_> {
         }
         let stored = self.db.read(|r| r.photo(sha))?;
         let info = match stored {
-            Some(row) if photo_path(self.data_dir, sha).exists() => {
-                Ok(PhotoInfo { row, thumb: None })
-            }
+            Some(row) if self.store.exists(&photo_key(sha))? => Ok(PhotoInfo { row, thumb: None }),
             _ => self.inspect(sha),
         };
         self.photos.insert(sha.to_string(), info.clone());
@@ -666,22 +666,67 @@ fn take_in_with(
     upload: Option<&UploadRecord>,
     provenance: Option<&Provenance>,
 ) -> Result<ReturnDocument, IntakeError> {
-    let (package, sha256) = (pkg.path, pkg.sha256);
+    let package = pkg.path;
+    let store = crate::platform::evidence::of(data_dir)?;
     let _guard = intake_lock();
+    let out = take_in_locked(db, &store, options, pkg, upload, provenance);
+    if !store.is_local() && out.as_ref().err().is_none_or(|e| e.is_final()) {
+        // The store keeps the package (taken in or set aside); this
+        // machine's copy was for parsing. After any other failure (the
+        // store unreachable) the copy stays: nothing received is lost.
+        remove_spool(package)?;
+    }
+    out
+}
+
+fn remove_spool(package: &Path) -> Result<(), IntakeError> {
+    match std::fs::remove_file(package) {
+        Err(e) if e.kind() != std::io::ErrorKind::NotFound => Err(crate::Error::io(
+            format!("removing {}", package.display()),
+            e,
+        )),
+        _ => Ok(()),
+    }
+}
+
+/// A package refused whole, or of which nothing was kept, goes to
+/// `returns/rejected/` (within that folder's budget).
+fn set_aside(store: &Evidence, package: &Path, sha256: &str) -> Result<(), IntakeError> {
+    match store.local_path(&rejected_key(sha256)) {
+        Some(to) if package.exists() => move_durably(package, &to)?,
+        Some(_) => {}
+        None if store.exists(&incoming_key(sha256))? => {
+            store.rename(&incoming_key(sha256), &rejected_key(sha256))?
+        }
+        None => {}
+    }
+    prune_rejected(store)?;
+    Ok(())
+}
+
+fn take_in_locked(
+    db: &Db,
+    store: &Evidence,
+    options: &IntakeOptions,
+    pkg: &PackageFile,
+    upload: Option<&UploadRecord>,
+    provenance: Option<&Provenance>,
+) -> Result<ReturnDocument, IntakeError> {
+    let (package, sha256) = (pkg.path, pkg.sha256);
     if let Some(r) = db.read(|x| x.return_by_sha(sha256))? {
         if let Some(u) = upload.filter(|u| u.state == "open") {
             db.write(|tx| tx.finish_upload(&u.id, r.id))?;
         }
         return return_document(db, r.id);
     }
-    match run(db, data_dir, options, pkg, upload, provenance) {
+    // Kept in the store before anything parses it (a local store already
+    // holds it there).
+    store.put_file(&incoming_key(sha256), package)?;
+    match run(db, store, options, pkg, upload, provenance) {
         Ok(doc) => Ok(doc),
         Err(e) if e.is_final() => {
             tracing::warn!(sha256, error = %e, "return package refused");
-            if package.exists() {
-                move_durably(package, &rejected_path(data_dir, sha256))?;
-                prune_rejected(data_dir)?;
-            }
+            set_aside(store, package, sha256)?;
             if let Some(u) = upload {
                 db.write(|tx| {
                     tx.fail_upload(&u.id, super::error::refusal_code(&e), &e.to_string())
@@ -695,7 +740,7 @@ fn take_in_with(
 
 fn run(
     db: &Db,
-    data_dir: &Path,
+    store: &Evidence,
     options: &IntakeOptions,
     pkg: &PackageFile,
     upload: Option<&UploadRecord>,
@@ -707,7 +752,7 @@ fn run(
     let received = options.received_at.unwrap_or_else(Utc::now);
     let mut ctx = Context {
         db,
-        data_dir,
+        store,
         options,
         opened: &opened,
         bundle: &bundle,
@@ -725,7 +770,7 @@ fn run(
         verdicts.push((r.report_id, ctx.judge(r)?));
     }
     let photos = std::mem::take(&mut ctx.photos);
-    write_photo_files(data_dir, &opened, &verdicts, &photos)?;
+    write_photo_files(store, &opened, &verdicts, &photos)?;
     let stored = Stored {
         sha256,
         size,
@@ -738,11 +783,10 @@ fn run(
         .iter()
         .any(|(_, v)| !matches!(v, Verdict::Reject(_)));
     let return_id = commit_rows(db, &stored, &opened, &verdicts, &photos, kept)?;
-    if !kept && package.exists() {
+    if !kept {
         // Nothing of it was kept: the results say why; the package itself
         // is kept only as a refused one is, within that budget.
-        move_durably(package, &rejected_path(data_dir, sha256))?;
-        prune_rejected(data_dir)?;
+        set_aside(store, package, sha256)?;
     }
     return_document(db, return_id)
 }
@@ -810,7 +854,7 @@ fn photo_users(reports: &[Report]) -> BTreeMap<String, BTreeSet<Uuid>> {
 
 /// Step 5, files first: every photo (and thumbnail) of an accepted report.
 fn write_photo_files(
-    data_dir: &Path,
+    store: &Evidence,
     opened: &OpenedReturn,
     verdicts: &[(Uuid, Verdict)],
     photos: &HashMap<String, Result<PhotoInfo, String>>,
@@ -825,20 +869,17 @@ fn write_photo_files(
         let Some(Ok(info)) = photos.get(*sha) else {
             continue;
         };
-        let path = photo_path(data_dir, sha);
-        if info.thumb.is_some() || !path.exists() {
-            crate::platform::durable::write_durably(&path, |f| {
-                opened
-                    .copy_photo_to(sha, std::io::BufWriter::new(f))
-                    .map_err(|e| crate::Error::Internal(format!("copying photo {sha}: {e}")))
-            })?;
+        let key = photo_key(sha);
+        if info.thumb.is_some() || !store.exists(&key)? {
+            // One photo in memory at a time, within the photo limits (the
+            // inspection read it whole too).
+            let bytes = opened
+                .photo_bytes(sha)
+                .map_err(|e| crate::Error::Internal(format!("copying photo {sha}: {e}")))?;
+            store.put_bytes(&key, bytes)?;
         }
         if let Some(t) = &info.thumb {
-            crate::platform::durable::write_durably(&thumb_path(data_dir, sha), |f| {
-                use std::io::Write;
-                f.write_all(t)
-                    .map_err(|e| crate::Error::io(format!("writing thumbnail of {sha}"), e))
-            })?;
+            store.put_bytes(&thumb_key(sha), t.clone())?;
         }
     }
     Ok(())

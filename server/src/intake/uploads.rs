@@ -3,11 +3,14 @@
 //! ask the offset, append at the offset, complete, or end it (`DELETE`,
 //! the draft's upload cancellation).
 //!
-//! Bytes are appended to `uploads/<id>.part` and fsynced before the new
-//! offset is stored and acknowledged; before an append the file is cut back
-//! to the stored offset, so bytes written but never acknowledged (a crash
-//! between the write and the commit) are dropped and sent again. The offset
-//! never decreases. An interrupted append keeps the bytes that arrived.
+//! Each append is stored as its own object of the evidence store,
+//! `uploads/<id>/<offset>`, before the new offset is stored and
+//! acknowledged; so any server instance on the same database and store can
+//! take the next append or complete the upload. Bytes stored but never
+//! acknowledged (a crash between the put and the commit) are replaced by the
+//! next append at the stored offset, or cut off by the chunk after them when
+//! the chunks are put together ([`plan_chunks`]). The offset comes from the
+//! database row and never decreases.
 //!
 //! An upload belongs to the team of its bundle: a team token creates
 //! uploads only for its own team's bundles, and another team's token gets
@@ -28,16 +31,17 @@
 //! | an idle open upload | removed after 12 hours untouched | our choice (the draft leaves it to the server; reliability.md §3 said 7 days, which let a full budget block others for a week) |
 
 use super::layout::{
-    INCOMING_DIR, UPLOAD_IDLE_HOURS, UPLOADS_DIR, incoming_path, intake_lock, move_durably,
-    upload_path,
+    INCOMING_DIR, UPLOAD_IDLE_HOURS, UPLOADS_DIR, chunk_key, chunk_of, incoming_key, incoming_path,
+    intake_lock, legacy_part_key, upload_prefix,
 };
 use super::pipeline::{ReturnDocument, return_document, take_in};
 use super::{IntakeError, IntakeOptions};
 use crate::platform::auth::Identity;
+use crate::platform::evidence::Evidence;
 use crate::platform::storage::{BundleRecord, Db, UploadRecord};
 use sha2::{Digest, Sha256};
 use std::collections::HashSet;
-use std::io::{Read, Seek, SeekFrom, Write};
+use std::io::Write;
 use std::path::Path;
 use std::sync::Mutex;
 
@@ -205,7 +209,6 @@ pub fn create(
     let taken = db.read(|r| r.return_by_sha(sha256))?;
     if taken.is_none() {
         check_budgets(db, sender, bundle_id, size)?;
-        crate::platform::durable::write_durably(&upload_path(data_dir, &upload.id), |_| Ok(()))?;
     }
     db.write_bookkeeping(|tx| {
         tx.insert_upload(&upload)?;
@@ -271,19 +274,18 @@ fn check_budgets(db: &Db, sender: &Sender, bundle_id: &str, size: u64) -> Result
 pub(crate) fn expire_idle(db: &Db, data_dir: &Path) -> Result<usize, IntakeError> {
     let cutoff = chrono::Utc::now() - chrono::Duration::hours(UPLOAD_IDLE_HOURS);
     let expired = db.write_bookkeeping(|tx| tx.expire_uploads(&cutoff.to_rfc3339()))?;
+    let store = crate::platform::evidence::of(data_dir)?;
     for id in &expired {
-        remove_part(data_dir, id)?;
+        remove_chunks(&store, id)?;
     }
     Ok(expired.len())
 }
 
-fn remove_part(data_dir: &Path, id: &str) -> Result<(), IntakeError> {
-    let part = upload_path(data_dir, id);
-    match std::fs::remove_file(&part) {
-        Ok(()) => Ok(()),
-        Err(e) if e.kind() == std::io::ErrorKind::NotFound => Ok(()),
-        Err(e) => Err(crate::Error::io(format!("removing {}", part.display()), e)),
-    }
+/// Removes the stored chunks of upload `id`.
+pub(crate) fn remove_chunks(store: &Evidence, id: &str) -> Result<(), IntakeError> {
+    store.delete_prefix(&upload_prefix(id))?;
+    store.delete(&legacy_part_key(id))?;
+    Ok(())
 }
 
 /// The upload `id`, when `sender` may reach it (otherwise, as for an
@@ -316,7 +318,7 @@ pub fn end(db: &Db, data_dir: &Path, sender: &Sender, id: &str) -> Result<(), In
             "upload {id} is finished; there is nothing to end"
         )));
     }
-    remove_part(data_dir, id)
+    remove_chunks(&*crate::platform::evidence::of(data_dir)?, id)
 }
 
 /// Appends `bytes` at `offset` to upload `id`; returns the new offset.
@@ -366,40 +368,110 @@ pub fn append(
     if bytes.is_empty() {
         return Ok(offset);
     }
-    let path = upload_path(data_dir, id);
-    let io = |e| crate::Error::io(format!("appending to {}", path.display()), e);
-    let mut f = match std::fs::OpenOptions::new().write(true).open(&path) {
-        Ok(f) => f,
-        Err(e) if e.kind() == std::io::ErrorKind::NotFound => {
-            db.write_bookkeeping(|tx| tx.delete_upload(id))?;
-            return Err(IntakeError::Gone(format!(
-                "the data of upload {id} is lost; start a new upload"
-            )));
-        }
-        Err(e) => return Err(io(e)),
-    };
-    f.set_len(offset).map_err(io)?;
-    f.seek(SeekFrom::Start(offset)).map_err(io)?;
-    f.write_all(bytes).map_err(io)?;
-    f.sync_data().map_err(io)?;
+    // The chunk is stored (durably) before the offset moves.
+    let store = crate::platform::evidence::of(data_dir)?;
+    store.put_bytes(&chunk_key(id, offset), bytes.to_vec())?;
     db.write_bookkeeping(|tx| tx.set_upload_offset(id, end))?;
     Ok(end)
 }
 
-fn sha256_of(path: &Path, len: u64) -> Result<String, IntakeError> {
-    let io = |e| crate::Error::io(format!("reading {}", path.display()), e);
-    let f = std::fs::File::open(path).map_err(io)?;
-    let mut h = Sha256::new();
-    let mut r = f.take(len);
-    let mut buf = vec![0u8; 1 << 16];
-    loop {
-        let n = r.read(&mut buf).map_err(io)?;
-        if n == 0 {
-            break;
+/// How stored chunks make an upload of `size` bytes: `chunks` are (start,
+/// length) sorted by start; each chunk is read from its start up to the
+/// next chunk's start (bytes past it were never acknowledged). The answer
+/// is (start, bytes of that chunk to read) in order, or the first offset
+/// no chunk holds.
+pub fn plan_chunks(chunks: &[(u64, u64)], size: u64) -> Result<Vec<(u64, u64)>, u64> {
+    let mut pos = 0u64;
+    let mut out = Vec::new();
+    for (i, &(start, len)) in chunks.iter().enumerate() {
+        if start >= size || start < pos {
+            continue;
         }
-        h.update(&buf[..n]);
+        if start > pos {
+            return Err(pos);
+        }
+        let next = chunks.get(i + 1).map_or(size, |c| c.0.min(size));
+        let end = start.saturating_add(len).min(next);
+        if end > start {
+            out.push((start, end - start));
+            pos = end;
+        }
     }
-    Ok(hex::encode(h.finalize()))
+    if pos < size { Err(pos) } else { Ok(out) }
+}
+
+/// Puts the chunks of upload `u` together into `returns/incoming/` on this
+/// machine, checking the size and SHA-256 (`Gone`, and the upload removed,
+/// when bytes are missing or differ).
+fn assemble(
+    db: &Db,
+    store: &Evidence,
+    data_dir: &Path,
+    u: &UploadRecord,
+) -> Result<(), IntakeError> {
+    let id = &u.id;
+    let mut chunks: Vec<(u64, u64)> = store
+        .list(&upload_prefix(id))?
+        .into_iter()
+        .filter_map(|l| chunk_of(&l.key).map(|(_, start)| (start, l.size)))
+        .collect();
+    if let Some(len) = store.size(&legacy_part_key(id))?
+        && !chunks.iter().any(|c| c.0 == 0)
+    {
+        chunks.push((0, len));
+    }
+    chunks.sort_unstable();
+    let gone = |why: String| {
+        db.write_bookkeeping(|tx| tx.delete_upload(id))?;
+        remove_chunks(store, id)?;
+        Err(IntakeError::Gone(format!("{why}; start a new upload")))
+    };
+    let plan = match plan_chunks(&chunks, u.size) {
+        Ok(p) => p,
+        Err(at) => return gone(format!("the data of upload {id} is lost from byte {at}")),
+    };
+    let mut file = IncomingFile::new(data_dir, u.size)?;
+    for (start, len) in plan {
+        let k = if start == 0 && store.size(&chunk_key(id, 0))?.is_none() {
+            legacy_part_key(id)
+        } else {
+            chunk_key(id, start)
+        };
+        store.copy_to(&k, Some(0..len), &mut file)?;
+    }
+    let (sha, size) = (file.sha256(), file.size);
+    if sha != u.sha256 || size != u.size {
+        return gone(format!(
+            "the bytes received have SHA-256 {sha}, not the declared {}",
+            u.sha256
+        ));
+    }
+    file.finish(data_dir)?;
+    Ok(())
+}
+
+/// The package of upload `u` on this machine, for parsing: already there,
+/// fetched from the store (an instance that took it in before), or put
+/// together from its chunks.
+fn package_here(
+    db: &Db,
+    store: &Evidence,
+    data_dir: &Path,
+    u: &UploadRecord,
+) -> Result<std::path::PathBuf, IntakeError> {
+    let incoming = incoming_path(data_dir, &u.sha256);
+    if incoming.exists() {
+        return Ok(incoming);
+    }
+    if !store.is_local() && store.exists(&incoming_key(&u.sha256))? {
+        let mut file = IncomingFile::new(data_dir, u.size)?;
+        store.copy_to(&incoming_key(&u.sha256), None, &mut file)?;
+        if file.sha256() == u.sha256 {
+            return Ok(file.finish(data_dir)?.0);
+        }
+    }
+    assemble(db, store, data_dir, u)?;
+    Ok(incoming)
 }
 
 fn replay(u: &UploadRecord) -> IntakeError {
@@ -436,35 +508,9 @@ pub fn complete(
             u.offset, u.size
         )));
     }
-    let incoming = incoming_path(data_dir, &u.sha256);
-    if !incoming.exists() {
-        let part = upload_path(data_dir, id);
-        let len = std::fs::metadata(&part).map(|m| m.len()).unwrap_or(0);
-        if len < u.size {
-            db.write_bookkeeping(|tx| tx.delete_upload(id))?;
-            return Err(IntakeError::Gone(format!(
-                "the data of upload {id} is lost; start a new upload"
-            )));
-        }
-        let actual = sha256_of(&part, u.size)?;
-        if actual != u.sha256 {
-            db.write_bookkeeping(|tx| tx.delete_upload(id))?;
-            let _ = std::fs::remove_file(&part);
-            return Err(IntakeError::Gone(format!(
-                "the bytes received have SHA-256 {actual}, not the declared {}; start a new upload",
-                u.sha256
-            )));
-        }
-        if len > u.size {
-            let f = std::fs::OpenOptions::new()
-                .write(true)
-                .open(&part)
-                .and_then(|f| f.set_len(u.size).and_then(|_| f.sync_all()));
-            f.map_err(|e| crate::Error::io(format!("trimming {}", part.display()), e))?;
-        }
-        move_durably(&part, &incoming)?;
-    }
-    take_in(
+    let store = crate::platform::evidence::of(data_dir)?;
+    let incoming = package_here(db, &store, data_dir, &u)?;
+    let out = take_in(
         db,
         data_dir,
         options,
@@ -472,7 +518,12 @@ pub fn complete(
         &u.sha256,
         u.size,
         Some(&u),
-    )
+    );
+    // The package is kept now (or refused for good): its chunks can go.
+    if out.as_ref().err().is_none_or(|e| e.is_final()) {
+        remove_chunks(&store, id)?;
+    }
+    out
 }
 
 /// The results of a return, looked up by its receipt (32 hex digits) or,
@@ -549,6 +600,11 @@ impl IncomingFile {
         Ok(())
     }
 
+    /// The SHA-256 of the bytes so far.
+    pub fn sha256(&self) -> String {
+        hex::encode(self.hasher.clone().finalize())
+    }
+
     /// Makes the package durable at `returns/incoming/<sha256>.zip`; returns
     /// its path, SHA-256 and size.
     pub fn finish(self, data_dir: &Path) -> Result<(std::path::PathBuf, String, u64), IntakeError> {
@@ -571,6 +627,17 @@ impl IncomingFile {
             crate::platform::durable::sync_dir(dir)?;
         }
         Ok((path, sha, self.size))
+    }
+}
+
+impl Write for IncomingFile {
+    fn write(&mut self, buf: &[u8]) -> std::io::Result<usize> {
+        IncomingFile::write(self, buf).map_err(std::io::Error::other)?;
+        Ok(buf.len())
+    }
+
+    fn flush(&mut self) -> std::io::Result<()> {
+        Ok(())
     }
 }
 
@@ -610,7 +677,10 @@ mod tests {
             tx.touch_upload_at(id, &at)
         })
         .unwrap();
-        crate::platform::durable::write_durably(&upload_path(data_dir, id), |_| Ok(())).unwrap();
+        let store = crate::platform::evidence::of(data_dir).unwrap();
+        store
+            .put_bytes(&chunk_key(id, 0), b"12345".to_vec())
+            .unwrap();
     }
 
     // Issue 12 item 1: idle uploads held the budget for 7 days. An upload
@@ -624,9 +694,32 @@ mod tests {
         open_upload(&db, dir.path(), &recent, 11);
         assert_eq!(expire_idle(&db, dir.path()).unwrap(), 1);
         assert!(db.read(|r| r.upload(&old)).unwrap().is_none());
-        assert!(!upload_path(dir.path(), &old).exists());
+        let store = crate::platform::evidence::of(dir.path()).unwrap();
+        assert!(!store.exists(&chunk_key(&old, 0)).unwrap());
         assert!(db.read(|r| r.upload(&recent)).unwrap().is_some());
-        assert!(upload_path(dir.path(), &recent).exists());
+        assert!(store.exists(&chunk_key(&recent, 0)).unwrap());
+    }
+
+    #[test]
+    fn chunks_make_the_upload_up_to_the_next_chunk() {
+        // Acknowledged 0..100 and 100..180; a crash left 50 unacknowledged
+        // bytes after 180 and the client sent 180..200 again.
+        let chunks = [(0, 100), (100, 80), (180, 20)];
+        assert_eq!(
+            plan_chunks(&chunks, 200),
+            Ok(vec![(0, 100), (100, 80), (180, 20)])
+        );
+        // A chunk written longer than acknowledged is cut at the next one.
+        assert_eq!(
+            plan_chunks(&[(0, 150), (100, 100)], 200),
+            Ok(vec![(0, 100), (100, 100)])
+        );
+        // The last chunk is cut at the declared size.
+        assert_eq!(plan_chunks(&[(0, 250)], 200), Ok(vec![(0, 200)]));
+        // A gap or a short end: the first offset missing.
+        assert_eq!(plan_chunks(&[(0, 90), (100, 100)], 200), Err(90));
+        assert_eq!(plan_chunks(&[(0, 100)], 200), Err(100));
+        assert_eq!(plan_chunks(&[], 1), Err(0));
     }
 
     #[test]

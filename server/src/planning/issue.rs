@@ -74,7 +74,20 @@ pub fn issue_bundle_in(
     let (mut header, key) = new_header(&team.name, req, planned.sel.seed);
     header.camera_zone = Some(camera_zone(settings, header.issued_at));
     let file = write_bundle_file(db, data_dir, req, &team.name, &planned, &header, &key)?;
-    let record = record_issued(db, req, &team, &planned, &header, &key, &file)?;
+    // The bundle is in the evidence store before its row commits.
+    let store = crate::platform::evidence::of(data_dir)?;
+    store.put_file(&bundle_key(&file.file_name), &file.path)?;
+    let record = match record_issued(db, req, &team, &planned, &header, &key, &file) {
+        Ok(r) => r,
+        Err(e) => {
+            let _ = store.delete(&bundle_key(&file.file_name));
+            return Err(e);
+        }
+    };
+    if !store.is_local() {
+        // The store's copy is the one served; this machine's was for writing.
+        let _ = std::fs::remove_file(&file.path);
+    }
     tracing::info!(bundle = %header.bundle_id, team = %team.name, events = planned.events.len(), controls = planned.controls.len(), bytes = file.size, "bundle issued");
     Ok(IssuedBundle {
         bundle: record,
@@ -218,6 +231,13 @@ fn plan_trip(db: &Db, settings: &Settings, req: &TripRequest) -> Result<Planned>
         zone: settings.zone(),
         tr: Tr::new(&settings.organisation.default_language),
     })
+}
+
+/// The evidence store's key of an issued bundle's ZIP (`bundles/<bundle
+/// id>.zip`, as the bundle row's file name says: written once, never
+/// changed; its SHA-256 is in the row).
+pub fn bundle_key(file_name: &str) -> String {
+    format!("bundles/{file_name}")
 }
 
 /// The bundle's ZIP as written: where, and its SHA-256 and size.

@@ -7,6 +7,7 @@ pub mod admin;
 pub mod auth;
 pub mod backup;
 pub mod durable;
+pub mod evidence;
 pub mod i18n;
 pub mod settings;
 pub mod storage;

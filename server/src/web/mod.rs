@@ -29,6 +29,20 @@ pub const MAX_UPLOAD_BYTES: usize = 64 * 1024 * 1024;
 /// Largest JSON request body (bytes).
 pub const MAX_JSON_BYTES: usize = 256 * 1024;
 
+/// Opens object `key` of the data directory's evidence store for an answer
+/// body: its size and its bytes as a stream (never whole in memory). A key
+/// a row names but the store lacks is a server fault.
+pub(crate) async fn evidence_stream(
+    data_dir: &std::path::Path,
+    key: &str,
+) -> Result<(u64, crate::platform::evidence::ChunkStream), crate::Error> {
+    let store = crate::platform::evidence::of(data_dir)?;
+    store
+        .open_stream(key)
+        .await?
+        .ok_or_else(|| crate::Error::Internal(format!("the evidence store has no {key}")))
+}
+
 /// What every handler can reach.
 #[derive(Clone)]
 pub struct AppState {

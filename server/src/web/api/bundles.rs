@@ -282,7 +282,8 @@ pub async fn download(
         .cloned()
         .unwrap_or(crate::platform::auth::Identity::Anonymous);
     let state = state.into_inner();
-    let (name, bytes) = web::block(move || {
+    let data_dir = state.data_dir.clone();
+    let name = web::block(move || {
         let b = state
             .db
             .read(|r| r.bundle(&id))?
@@ -298,12 +299,11 @@ pub async fn download(
         if b.cancelled_at.is_some() {
             return Err(Error::Conflict(format!("bundle {id} was cancelled")));
         }
-        let p = state.data_dir.join("bundles").join(&b.file_name);
-        let bytes =
-            std::fs::read(&p).map_err(|e| Error::io(format!("reading {}", p.display()), e))?;
-        Ok((b.file_name, bytes))
+        Ok(b.file_name)
     })
     .await??;
+    let key = crate::planning::issue::bundle_key(&name);
+    let (size, body) = crate::web::evidence_stream(&data_dir, &key).await?;
     Ok(HttpResponse::Ok()
         .content_type("application/zip")
         .insert_header((
@@ -311,7 +311,8 @@ pub async fn download(
             format!("attachment; filename=\"{name}\""),
         ))
         .insert_header(("Cache-Control", "no-store"))
-        .body(bytes))
+        .no_chunking(size)
+        .streaming(body))
 }
 
 pub async fn cancel(

@@ -89,26 +89,27 @@ pub async fn redeem(
     let RedeemBody { code } = serde_json::from_slice(&body)
         .map_err(|e| Error::Invalid(format!("the body must be {{\"code\": \"…\"}}: {e}")))?;
     let st = state.into_inner();
+    let db = st.db.clone();
     let answer = web::block(move || {
-        let r = redeem_pairing(&st.db, &code, auth::now_unix())?;
+        let r = redeem_pairing(&db, &code, auth::now_unix())?;
         Ok::<_, Error>(match r {
-            Redemption::Paired { bundle, team_token } => {
-                let p = st.data_dir.join("bundles").join(&bundle.file_name);
-                let bytes = std::fs::read(&p)
-                    .map_err(|e| Error::io(format!("reading {}", p.display()), e))?;
-                Ok((bundle, team_token, bytes))
-            }
+            Redemption::Paired { bundle, team_token } => Ok((bundle, team_token)),
             Redemption::Refused(why) => Err(why),
         })
     })
     .await??;
     Ok(match answer {
-        Ok((bundle, token, bytes)) => HttpResponse::Ok()
-            .content_type("application/zip")
-            .insert_header((TEAM_TOKEN_HEADER, token))
-            .insert_header(("Groundproof-Bundle-Id", bundle.id))
-            .insert_header(("Cache-Control", "no-store"))
-            .body(bytes),
+        Ok((bundle, token)) => {
+            let key = crate::planning::issue::bundle_key(&bundle.file_name);
+            let (size, body) = crate::web::evidence_stream(&st.data_dir, &key).await?;
+            HttpResponse::Ok()
+                .content_type("application/zip")
+                .insert_header((TEAM_TOKEN_HEADER, token))
+                .insert_header(("Groundproof-Bundle-Id", bundle.id))
+                .insert_header(("Cache-Control", "no-store"))
+                .no_chunking(size)
+                .streaming(body)
+        }
         Err(why) => HttpResponse::build(refusal_status(why))
             .insert_header(("Cache-Control", "no-store"))
             .json(json!({"error": why.message(), "refusal": why.as_str()})),

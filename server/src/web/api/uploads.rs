@@ -307,18 +307,18 @@ async fn photo_file(state: web::Data<AppState>, sha: String, thumb: bool) -> Rep
     }
     let st = state.into_inner();
     let shac = sha.clone();
-    let bytes = web::block(move || {
-        if st.db.read(|r| r.photo(&shac))?.is_none() {
-            return Err(IntakeError::NotFound(format!("no photo {shac}")));
-        }
-        let p = if thumb {
-            layout::thumb_path(&st.data_dir, &shac)
-        } else {
-            layout::photo_path(&st.data_dir, &shac)
-        };
-        std::fs::read(&p).map_err(|e| crate::Error::io(format!("reading {}", p.display()), e))
+    let db = st.db.clone();
+    web::block(move || match db.read(|r| r.photo(&shac))? {
+        Some(_) => Ok(()),
+        None => Err(IntakeError::NotFound(format!("no photo {shac}"))),
     })
     .await??;
+    let key = if thumb {
+        layout::thumb_key(&sha)
+    } else {
+        layout::photo_key(&sha)
+    };
+    let (size, body) = crate::web::evidence_stream(&st.data_dir, &key).await?;
     let name = if thumb {
         format!("{sha}-thumbnail.jpg")
     } else {
@@ -332,7 +332,8 @@ async fn photo_file(state: web::Data<AppState>, sha: String, thumb: bool) -> Rep
             format!("inline; filename=\"{name}\""),
         ))
         .insert_header(("Cache-Control", "private, max-age=31536000, immutable"))
-        .body(bytes))
+        .no_chunking(size)
+        .streaming(body))
 }
 
 pub async fn thumbnail(state: web::Data<AppState>, path: web::Path<String>) -> Reply {
