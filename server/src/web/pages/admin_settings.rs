@@ -5,10 +5,9 @@
 //! used by the running server. Bad input changes nothing.
 
 use super::admin::{self, Chrome, DoneQuery};
-use super::common::{PageError, Viewer, respond, see_other};
+use super::common::{PageError, Viewer, respond};
 use crate::error::Error;
 use crate::platform::admin as ops;
-use crate::platform::auth::now_unix;
 use crate::platform::settings::{
     AREA_REF_MAX_HA, LANGUAGES, RECENCY_MAX_DAYS, Settings, TOLERANCE_MAX_M, WEIGHT_MAX,
 };
@@ -136,31 +135,16 @@ pub async fn save(
     state: web::Data<AppState>,
     form: Result<web::Form<SettingsForm>, actix_web::Error>,
 ) -> HttpResponse {
-    let viewer = Viewer::of(&req);
     let typed = form.as_ref().ok().map(|f| (**f).clone());
-    let r = async {
-        let f = form.map_err(admin::unreadable)?.into_inner();
-        let actor = admin::actor(&req)?;
-        let st = state.clone();
-        web::block(move || {
-            ops::change_settings(
-                &st.db,
-                &st.settings,
-                &st.data_dir,
-                &actor,
-                |s| f.apply(s),
-                now_unix(),
-            )
-        })
-        .await??;
-        Ok::<_, PageError>(see_other("/admin/settings?done=1"))
-    }
-    .await;
-    match r {
-        Ok(resp) => resp,
-        Err(e) => {
-            let r = settings_page(&req, &state, false, Some(e), typed).await;
-            respond(&req, &viewer, r)
-        }
-    }
+    let checked = form.map(|f| f.into_inner()).map_err(admin::unreadable);
+    let st = state.clone();
+    let change = move |a: &ops::Actor, f: SettingsForm, now| {
+        let (db, live, dir) = (&st.db, &st.settings, &st.data_dir);
+        ops::change_settings(db, live, dir, a, |s| f.apply(s), now).map(drop)
+    };
+    let page = |e| async {
+        let (req, state) = (&req, &state);
+        settings_page(req, state, false, Some(e), typed).await
+    };
+    admin::apply(&req, "/admin/settings", checked, change, page).await
 }

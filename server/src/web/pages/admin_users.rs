@@ -3,11 +3,10 @@
 //! `platform::admin` with its log row.
 
 use super::admin::{self, Chrome, DoneQuery};
-use super::common::{PageError, Viewer, local_unix, respond, see_other};
+use super::common::{PageError, Viewer, local_unix, respond};
 use crate::domain::Role;
-use crate::error::Error;
 use crate::platform::admin as ops;
-use crate::platform::auth::{MAX_PASSWORD_CHARS, MIN_PASSWORD_CHARS, now_unix};
+use crate::platform::auth::{MAX_PASSWORD_CHARS, MIN_PASSWORD_CHARS};
 use crate::web::AppState;
 use actix_web::{HttpRequest, HttpResponse, web};
 use askama::Template;
@@ -105,30 +104,20 @@ fn password_of(f: &UserForm) -> Result<String, PageError> {
     Ok(p)
 }
 
-/// Run `change` (a blocking call to `platform::admin`) and redirect to the
-/// users page, or show the page again with the refusal.
-async fn apply(
+/// [`admin::apply`] for this page: back to the users page, or the page
+/// again with the refusal and the add form as typed.
+async fn apply<T: Send + 'static>(
     req: HttpRequest,
     state: web::Data<AppState>,
-    form: &UserForm,
-    change: impl FnOnce(ops::Actor, i64) -> Result<(), Error> + Send + 'static,
-    checked: Result<(), PageError>,
+    typed: UserForm,
+    checked: Result<T, PageError>,
+    change: impl admin::Change<T>,
 ) -> HttpResponse {
-    let viewer = Viewer::of(&req);
-    let r = async {
-        checked?;
-        let actor = admin::actor(&req)?;
-        web::block(move || change(actor, now_unix())).await??;
-        Ok::<_, PageError>(see_other("/admin/users?done=1"))
-    }
-    .await;
-    match r {
-        Ok(resp) => resp,
-        Err(e) => {
-            let r = users_page(&req, &state, false, Some(e), form).await;
-            respond(&req, &viewer, r)
-        }
-    }
+    let page = |e| async {
+        let (req, state, typed) = (&req, &state, &typed);
+        users_page(req, state, false, Some(e), typed).await
+    };
+    admin::apply(&req, "/admin/users", checked, change, page).await
 }
 
 /// `POST /admin/users` (name, role, password twice).
@@ -152,12 +141,10 @@ pub async fn add(
         Ok((name, role_of(&f)?, password_of(&f)?))
     });
     let db = state.db.clone();
-    let (ok, args) = split(checked);
-    let change = move |actor: ops::Actor, now| match args {
-        Some((name, role, pw)) => ops::add_user(&db, &actor, &name, role, &pw, now).map(|_| ()),
-        None => Ok(()),
+    let change = move |a: &ops::Actor, (name, role, pw): (String, Role, String), now| {
+        ops::add_user(&db, a, &name, role, &pw, now).map(drop)
     };
-    apply(req, state, &typed, change, ok).await
+    apply(req, state, typed, checked, change).await
 }
 
 /// `POST /admin/users/{id}/role` (role).
@@ -167,17 +154,12 @@ pub async fn set_role(
     path: web::Path<String>,
     form: Result<web::Form<UserForm>, actix_web::Error>,
 ) -> HttpResponse {
-    let checked = admin::path_id(&path, "user").and_then(|id| {
-        let f = form.map_err(admin::unreadable)?;
-        Ok((id, role_of(&f)?))
-    });
+    let checked = admin::path_id(&path, "user")
+        .and_then(|id| Ok((id, role_of(&*form.map_err(admin::unreadable)?)?)));
     let db = state.db.clone();
-    let (ok, args) = split(checked);
-    let change = move |actor: ops::Actor, now| match args {
-        Some((id, role)) => ops::set_role(&db, &actor, id, role, now).map(|_| ()),
-        None => Ok(()),
-    };
-    apply(req, state, &UserForm::default(), change, ok).await
+    let change =
+        move |a: &ops::Actor, (id, role), now| ops::set_role(&db, a, id, role, now).map(drop);
+    apply(req, state, UserForm::default(), checked, change).await
 }
 
 /// `POST /admin/users/{id}/password` (password twice).
@@ -187,17 +169,13 @@ pub async fn reset_password(
     path: web::Path<String>,
     form: Result<web::Form<UserForm>, actix_web::Error>,
 ) -> HttpResponse {
-    let checked = admin::path_id(&path, "user").and_then(|id| {
-        let f = form.map_err(admin::unreadable)?;
-        Ok((id, password_of(&f)?))
-    });
+    let checked = admin::path_id(&path, "user")
+        .and_then(|id| Ok((id, password_of(&*form.map_err(admin::unreadable)?)?)));
     let db = state.db.clone();
-    let (ok, args) = split(checked);
-    let change = move |actor: ops::Actor, now| match args {
-        Some((id, pw)) => ops::reset_password(&db, &actor, id, &pw, now).map(|_| ()),
-        None => Ok(()),
+    let change = move |a: &ops::Actor, (id, pw): (i64, String), now| {
+        ops::reset_password(&db, a, id, &pw, now).map(drop)
     };
-    apply(req, state, &UserForm::default(), change, ok).await
+    apply(req, state, UserForm::default(), checked, change).await
 }
 
 /// `POST /admin/users/{id}/disable`.
@@ -224,20 +202,9 @@ async fn set_disabled(
     raw: &str,
     off: bool,
 ) -> HttpResponse {
-    let checked = admin::path_id(raw, "user");
     let db = state.db.clone();
-    let (ok, id) = split(checked);
-    let change = move |actor: ops::Actor, now| match id {
-        Some(id) => ops::set_user_disabled(&db, &actor, id, off, now).map(|_| ()),
-        None => Ok(()),
-    };
-    apply(req, state, &UserForm::default(), change, ok).await
-}
-
-/// A checked form as (outcome for [`apply`], values for the change).
-pub fn split<T>(checked: Result<T, PageError>) -> (Result<(), PageError>, Option<T>) {
-    match checked {
-        Ok(v) => (Ok(()), Some(v)),
-        Err(e) => (Err(e), None),
-    }
+    let change =
+        move |a: &ops::Actor, id, now| ops::set_user_disabled(&db, a, id, off, now).map(drop);
+    let checked = admin::path_id(raw, "user");
+    apply(req, state, UserForm::default(), checked, change).await
 }
