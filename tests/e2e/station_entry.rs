@@ -251,10 +251,10 @@ fn a_paper_trip_with_camera_photos_is_proposed_moved_saved_once_and_shows_its_pr
     for word in [
         e1.code.as_str(),
         e2.code.as_str(),
-        "confirmed",
-        "false alarm",
+        "Clearing is there",
+        "False alarm",
         "Team Amber",
-        "accepted",
+        "Accepted",
     ] {
         assert!(results.contains(word), "{word} in {results}");
     }
@@ -433,13 +433,16 @@ fn the_station_upload_results_name_code_outcome_team_and_flags() {
     assert_eq!(text_of(&r.body, "table.station-results td.code"), e.code);
     assert_eq!(
         text_of(&r.body, "table.station-results td.outcome"),
-        "false alarm (no change)"
+        "False alarm (No change on the ground)"
     );
     assert_eq!(
         text_of(&r.body, "table.station-results td.team"),
         "Team Amber"
     );
     let flags = text_of(&r.body, "table.station-results .flag");
-    assert!(flags.contains("photo no gps (NO_EXIF.JPG)"), "{flags}");
+    assert!(
+        flags.contains("photo without a position (NO_EXIF.JPG)"),
+        "{flags}"
+    );
     assert!(!flags.contains(&sha(&plain_jpeg())[..12]), "{flags}");
 }

@@ -9,7 +9,7 @@ use super::common::{PageError, Viewer, respond};
 use crate::error::Error;
 use crate::platform::admin as ops;
 use crate::platform::settings::{
-    AREA_REF_MAX_HA, LANGUAGES, RECENCY_MAX_DAYS, Settings, TOLERANCE_MAX_M, WEIGHT_MAX,
+    AREA_REF_MAX_HA, RECENCY_MAX_DAYS, Settings, TOLERANCE_MAX_M, WEIGHT_MAX,
 };
 use crate::web::AppState;
 use actix_web::{HttpRequest, HttpResponse, web};
@@ -82,7 +82,6 @@ struct SettingsPage {
     layout: super::common::Layout,
     chrome: Chrome,
     f: SettingsForm,
-    languages: Vec<&'static str>,
     zones: Vec<&'static str>,
     weight_max: f64,
     area_ref_max: f64,
@@ -104,7 +103,6 @@ async fn settings_page(
         layout,
         chrome,
         f: typed.unwrap_or_else(|| SettingsForm::of(&state.settings)),
-        languages: LANGUAGES.to_vec(),
         zones: chrono_tz::TZ_VARIANTS.iter().map(|z| z.name()).collect(),
         weight_max: WEIGHT_MAX,
         area_ref_max: AREA_REF_MAX_HA,

@@ -16,6 +16,8 @@ struct UserRow {
     id: i64,
     name: String,
     role: &'static str,
+    /// The role in the page's language.
+    role_label: String,
     disabled: bool,
     created: String,
 }
@@ -26,7 +28,8 @@ struct UsersPage {
     layout: super::common::Layout,
     chrome: Chrome,
     users: Vec<UserRow>,
-    roles: Vec<&'static str>,
+    /// (value, label in the page's language).
+    roles: Vec<(&'static str, String)>,
     min_chars: usize,
     max_chars: usize,
     /// The add form as typed, after a refusal (never the password).
@@ -54,6 +57,8 @@ async fn users_page(
     let users = web::block(move || db.read(|r| r.users())).await??;
     let (layout, chrome) =
         admin::chrome(req, state, "/admin/users", &["user."], done, error).await?;
+    let tr = crate::web::i18n::tr_of(req);
+    let role_label = |r: Role| tr.t(&format!("adm-role-{}", r.as_str()));
     let t = UsersPage {
         layout,
         chrome,
@@ -64,10 +69,14 @@ async fn users_page(
                 created: local_unix(&state.settings, u.created_at),
                 name: u.name,
                 role: u.role.as_str(),
+                role_label: role_label(u.role),
                 disabled: u.disabled,
             })
             .collect(),
-        roles: Role::ALL.iter().map(|r| r.as_str()).collect(),
+        roles: Role::ALL
+            .iter()
+            .map(|r| (r.as_str(), role_label(*r)))
+            .collect(),
         min_chars: MIN_PASSWORD_CHARS,
         max_chars: MAX_PASSWORD_CHARS,
         typed_name: typed.name.clone().unwrap_or_default(),
