@@ -83,6 +83,20 @@ pub struct DoneQuery {
     pub done: Option<u8>,
 }
 
+/// The query of an admin page's `GET`, as actix hands it over.
+pub type DoneArg = Result<web::Query<DoneQuery>, actix_web::Error>;
+
+/// The one shape of every admin page's `GET`: the page (`page(done)`), told
+/// whether a change was just saved (`?done=1`).
+pub async fn show<P, F>(req: &HttpRequest, q: DoneArg, page: P) -> HttpResponse
+where
+    P: FnOnce(bool) -> F,
+    F: std::future::Future<Output = Result<HttpResponse, PageError>>,
+{
+    let done = q.ok().and_then(|q| q.done).is_some();
+    respond(req, &Viewer::of(req), page(done).await)
+}
+
 /// A change of a form, run on the blocking pool: the actor, the checked
 /// form's values and the time.
 pub trait Change<T>: FnOnce(&Actor, T, i64) -> Result<(), Error> + Send + 'static {}

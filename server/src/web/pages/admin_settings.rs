@@ -4,8 +4,8 @@
 //! again, changed, checked as a whole, written durably, logged, and then
 //! used by the running server. Bad input changes nothing.
 
-use super::admin::{self, Chrome, DoneQuery};
-use super::common::{PageError, Viewer, respond};
+use super::admin::{self, Chrome};
+use super::common::PageError;
 use crate::error::Error;
 use crate::platform::admin as ops;
 use crate::platform::settings::{
@@ -116,15 +116,10 @@ async fn settings_page(
 }
 
 /// `GET /admin/settings`.
-pub async fn show(
-    req: HttpRequest,
-    state: web::Data<AppState>,
-    q: Result<web::Query<DoneQuery>, actix_web::Error>,
-) -> HttpResponse {
-    let viewer = Viewer::of(&req);
-    let done = q.ok().and_then(|q| q.done).is_some();
-    let r = settings_page(&req, &state, done, None, None).await;
-    respond(&req, &viewer, r)
+pub async fn show(req: HttpRequest, state: web::Data<AppState>, q: admin::DoneArg) -> HttpResponse {
+    let (req, state) = (&req, &state);
+    let page = move |done| async move { settings_page(req, state, done, None, None).await };
+    admin::show(req, q, page).await
 }
 
 /// `POST /admin/settings` (every field of the form).

@@ -2,8 +2,8 @@
 //! (while none of its alerts is stored) and revisit interval, through
 //! `alerts::sources` with its log row.
 
-use super::admin::{self, Chrome, DoneQuery};
-use super::common::{PageError, Viewer, respond};
+use super::admin::{self, Chrome};
+use super::common::PageError;
 use crate::alerts::sources as ops;
 use crate::error::Error;
 use crate::platform::admin::Actor;
@@ -88,15 +88,12 @@ async fn sources_page(
 }
 
 /// `GET /admin/sources`.
-pub async fn list(
-    req: HttpRequest,
-    state: web::Data<AppState>,
-    q: Result<web::Query<DoneQuery>, actix_web::Error>,
-) -> HttpResponse {
-    let viewer = Viewer::of(&req);
-    let done = q.ok().and_then(|q| q.done).is_some();
-    let r = sources_page(&req, &state, done, None, SourceForm::default()).await;
-    respond(&req, &viewer, r)
+pub async fn list(req: HttpRequest, state: web::Data<AppState>, q: admin::DoneArg) -> HttpResponse {
+    let (req, state) = (&req, &state);
+    let page = move |done| async move {
+        sources_page(req, state, done, None, SourceForm::default()).await
+    };
+    admin::show(req, q, page).await
 }
 
 /// [`admin::apply`] for this page: back to the sources page, or the page

@@ -3,7 +3,7 @@
 //! POST itself, never in an address) and revoke one; through
 //! `platform::admin` with its log row.
 
-use super::admin::{self, Chrome, DoneQuery};
+use super::admin::{self, Chrome};
 use super::common::{PageError, Viewer, local_unix, respond};
 use crate::error::Error;
 use crate::platform::admin as ops;
@@ -94,15 +94,11 @@ async fn teams_page(
 }
 
 /// `GET /admin/teams`.
-pub async fn list(
-    req: HttpRequest,
-    state: web::Data<AppState>,
-    q: Result<web::Query<DoneQuery>, actix_web::Error>,
-) -> HttpResponse {
-    let viewer = Viewer::of(&req);
-    let done = q.ok().and_then(|q| q.done).is_some();
-    let r = teams_page(&req, &state, done, None, None, String::new()).await;
-    respond(&req, &viewer, r)
+pub async fn list(req: HttpRequest, state: web::Data<AppState>, q: admin::DoneArg) -> HttpResponse {
+    let (req, state) = (&req, &state);
+    let page =
+        move |done| async move { teams_page(req, state, done, None, None, String::new()).await };
+    admin::show(req, q, page).await
 }
 
 /// [`admin::apply`] for this page: back to the teams page, or the page

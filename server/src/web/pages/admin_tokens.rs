@@ -4,7 +4,7 @@
 //! with its log row, the same functions as `groundproof token create --role`
 //! and `groundproof token revoke`.
 
-use super::admin::{self, Chrome, DoneQuery};
+use super::admin::{self, Chrome};
 use super::common::{PageError, Viewer, local_unix, respond};
 use crate::domain::Role;
 use crate::error::Error;
@@ -104,15 +104,12 @@ async fn tokens_page(
 }
 
 /// `GET /admin/api-tokens`.
-pub async fn list(
-    req: HttpRequest,
-    state: web::Data<AppState>,
-    q: Result<web::Query<DoneQuery>, actix_web::Error>,
-) -> HttpResponse {
-    let viewer = Viewer::of(&req);
-    let done = q.ok().and_then(|q| q.done).is_some();
-    let r = tokens_page(&req, &state, done, None, None, TokenForm::default()).await;
-    respond(&req, &viewer, r)
+pub async fn list(req: HttpRequest, state: web::Data<AppState>, q: admin::DoneArg) -> HttpResponse {
+    let (req, state) = (&req, &state);
+    let page = move |done| async move {
+        tokens_page(req, state, done, None, None, TokenForm::default()).await
+    };
+    admin::show(req, q, page).await
 }
 
 /// `POST /admin/api-tokens` (label, role): a new token, shown once on this

@@ -2,8 +2,8 @@
 //! enable (a disabled user cannot log in and their sessions end), through
 //! `platform::admin` with its log row.
 
-use super::admin::{self, Chrome, DoneQuery};
-use super::common::{PageError, Viewer, local_unix, respond};
+use super::admin::{self, Chrome};
+use super::common::{PageError, local_unix};
 use crate::domain::Role;
 use crate::platform::admin as ops;
 use crate::platform::auth::{MAX_PASSWORD_CHARS, MIN_PASSWORD_CHARS};
@@ -86,15 +86,11 @@ async fn users_page(
 }
 
 /// `GET /admin/users`.
-pub async fn list(
-    req: HttpRequest,
-    state: web::Data<AppState>,
-    q: Result<web::Query<DoneQuery>, actix_web::Error>,
-) -> HttpResponse {
-    let viewer = Viewer::of(&req);
-    let done = q.ok().and_then(|q| q.done).is_some();
-    let r = users_page(&req, &state, done, None, &UserForm::default()).await;
-    respond(&req, &viewer, r)
+pub async fn list(req: HttpRequest, state: web::Data<AppState>, q: admin::DoneArg) -> HttpResponse {
+    let (req, state) = (&req, &state);
+    let page =
+        move |done| async move { users_page(req, state, done, None, &UserForm::default()).await };
+    admin::show(req, q, page).await
 }
 
 fn role_of(f: &UserForm) -> Result<Role, PageError> {
