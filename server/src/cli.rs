@@ -177,6 +177,16 @@ enum TokenCommand {
         #[command(flatten)]
         data: DataArg,
     },
+    /// Revoke an API token by its id (or, with --team, a team token); it is
+    /// refused from then on (logged as the command line).
+    Revoke {
+        id: i64,
+        /// The id is a team token's, not an API token's.
+        #[arg(long)]
+        team: bool,
+        #[command(flatten)]
+        data: DataArg,
+    },
 }
 
 #[derive(Subcommand)]
@@ -683,7 +693,7 @@ fn token(command: TokenCommand) -> Result<()> {
             let now = groundproof::platform::auth::now_unix();
             let token = match (role, team) {
                 (Some(r), None) => {
-                    groundproof::platform::auth::issue_api_token(&db, r.parse()?, &label, now)?.1
+                    admin::create_api_token(&db, &Actor::CommandLine, r.parse()?, &label, now)?.1
                 }
                 (None, Some(t)) => {
                     admin::create_team_token(&db, &Actor::CommandLine, &t, now)
@@ -701,6 +711,17 @@ fn token(command: TokenCommand) -> Result<()> {
             };
             println!("{token}");
             eprintln!("keep it safe: it is shown only this once");
+        }
+        TokenCommand::Revoke { id, team, data } => {
+            let (db, _) = open(&data.data)?;
+            let now = groundproof::platform::auth::now_unix();
+            if team {
+                admin::revoke_team_token(&db, &Actor::CommandLine, id, now)?;
+                println!("team token {id} revoked");
+            } else {
+                let t = admin::revoke_api_token(&db, &Actor::CommandLine, id, now)?;
+                println!("API token {id} ({}) revoked", t.label);
+            }
         }
     }
     Ok(())

@@ -81,6 +81,34 @@ fn an_admin_works_through_the_administration_pages_in_chromium() {
     assert!(!b.source().contains(token.as_str().unwrap()), "shown once");
     assert_clean(&b, "teams");
 
+    // API tokens: make one for a script (shown once, works as a bearer
+    // token), then revoke it (refused from then on).
+    b.click_to_navigate(".admin-nav a[href=\"/admin/api-tokens\"]");
+    b.type_into("#k-label", "nightly export");
+    b.choose("#k-role", "manager");
+    b.click_to_navigate("#add-api-token button[type=submit]");
+    let api = b.script("return document.querySelector('#token-value').value;");
+    let api = api.as_str().unwrap_or_default().to_string();
+    assert!(api.starts_with("gp_"), "{api}");
+    assert!(b.text("#new-token").contains("shown only this once"));
+    assert_clean(&b, "API tokens with a new token");
+    shots.take(&b, "admin-api-token");
+    let bearer = |t: &str| groundproof_e2e::get_as(&s.url("/api/v1/events"), Some(t)).status;
+    assert_eq!(bearer(&api), 200);
+    let id = s.db.read(|r| r.api_tokens()).unwrap().last().unwrap().id;
+    b.click_to_navigate(&format!(
+        "form[action=\"/admin/api-tokens/{id}/revoke\"] button"
+    ));
+    assert!(
+        b.text("#admin-notice")
+            .contains(&format!("API token {id} (nightly export): revoked")),
+        "{}",
+        b.text("main")
+    );
+    assert!(!b.source().contains(&api), "shown once");
+    assert_eq!(bearer(&api), 401);
+    assert_clean(&b, "API tokens");
+
     // Sources: a bad pixel size is refused with its reason; then edit one.
     b.click_to_navigate(".admin-nav a[href=\"/admin/sources\"]");
     b.type_into("#s-name", "thermal-30m");
@@ -122,6 +150,8 @@ fn an_admin_works_through_the_administration_pages_in_chromium() {
         "team.add",
         "token.create",
         "token.revoke",
+        "apitoken.create",
+        "apitoken.revoke",
         "source.add",
         "settings.change",
         "(UTC-04:00)",

@@ -193,10 +193,10 @@ fn a_trip_is_entered_from_paper_with_photos_and_survives_a_reload() {
     for word in [
         e1.code.as_str(),
         e2.code.as_str(),
-        "confirmed",
-        "false alarm",
+        "Clearing is there",
+        "False alarm",
         "Team Amber",
-        "accepted",
+        "Accepted",
     ] {
         assert!(results.contains(word), "{word} in {results}");
     }

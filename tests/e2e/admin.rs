@@ -394,6 +394,177 @@ fn a_team_token_is_shown_once_and_revoking_it_makes_it_401() {
     );
 }
 
+/// The token on the answer to a make-token form.
+fn shown_token(body: &str) -> String {
+    let doc = scraper::Html::parse_document(body);
+    let sel = scraper::Selector::parse("#token-value").unwrap();
+    doc.select(&sel)
+        .next()
+        .and_then(|e| e.value().attr("value"))
+        .expect("the token is shown")
+        .to_string()
+}
+
+#[test]
+fn an_api_token_is_shown_once_works_as_a_bearer_and_revoking_it_makes_it_401() {
+    let s = TestServer::start();
+    let admin = Browser::admin(&s, "root-admin");
+    let n = log_len(&s);
+    let tokens = || s.db.read(|r| r.api_tokens()).unwrap();
+    let before = tokens().len();
+    // Bad input: a clear reason, nothing made, nothing logged.
+    admin.refused(
+        "/admin/api-tokens",
+        &[("label", "weekly export"), ("role", "boss")],
+        400,
+        "Role:",
+    );
+    admin.refused(
+        "/admin/api-tokens",
+        &[("label", "   "), ("role", "coordinator")],
+        400,
+        "name must be 1 to 100 characters",
+    );
+    assert_eq!(tokens().len(), before);
+    assert_eq!(log_len(&s), n);
+
+    // Made: on the answer to the POST only, never on the page again.
+    let (r, _) = admin.post(
+        "/admin/api-tokens",
+        &[("label", "weekly export"), ("role", "coordinator")],
+    );
+    assert_eq!(r.status, 200, "{}", r.body);
+    let token = shown_token(&r.body);
+    assert!(token.starts_with("gp_"), "{token}");
+    assert!(r.body.contains("shown only this once"), "{}", r.body);
+    let page = admin.get("/admin/api-tokens").0.body;
+    assert!(!page.contains(&token), "shown once");
+    assert!(page.contains("weekly export") && page.contains("coordinator"));
+    assert!(
+        !std::fs::read(s.data_dir().join("groundproof.sqlite3"))
+            .unwrap()
+            .windows(token.len())
+            .any(|w| w == token.as_bytes()),
+        "only the hash is stored"
+    );
+    // It works as a bearer token with its role's rights (a coordinator may
+    // list bundles but not administer).
+    assert_eq!(get_as(&s.url("/api/v1/bundles"), Some(&token)).status, 200);
+    assert_eq!(get_as(&s.url("/admin/users"), Some(&token)).status, 403);
+    let rec = tokens().pop().expect("the new token");
+    assert_eq!(
+        (rec.label.as_str(), tokens().len()),
+        ("weekly export", before + 1)
+    );
+    let last = s.db.read(|r| r.admin_log(None, 1)).unwrap().remove(0);
+    assert_eq!(
+        (
+            last.actor.as_str(),
+            last.action.as_str(),
+            last.subject.clone()
+        ),
+        (
+            "user root-admin",
+            "apitoken.create",
+            format!("API token {} (weekly export)", rec.id)
+        )
+    );
+
+    // Without the CSRF token the revoke form is refused and changes nothing.
+    let revoke = format!("/admin/api-tokens/{}/revoke", rec.id);
+    let (r, _) = admin.post_raw(&revoke, "");
+    assert_eq!(r.status, 403, "{}", r.body);
+    assert_eq!(get_as(&s.url("/api/v1/bundles"), Some(&token)).status, 200);
+    let (r, _) = admin.post_raw("/admin/api-tokens", "label=sneaky&role=admin");
+    assert_eq!(r.status, 403, "{}", r.body);
+    assert_eq!(tokens().len(), before + 1);
+
+    // Revoked: refused from then on (401); again, or unknown: a reason.
+    admin.saved(&revoke, &[], "/admin/api-tokens?done=1");
+    assert!(
+        admin
+            .get("/admin/api-tokens?done=1")
+            .0
+            .body
+            .contains(&format!("API token {} (weekly export): revoked", rec.id))
+    );
+    assert_eq!(get_as(&s.url("/api/v1/bundles"), Some(&token)).status, 401);
+    admin.refused(&revoke, &[], 409, "already revoked");
+    admin.refused(
+        "/admin/api-tokens/999/revoke",
+        &[],
+        404,
+        "no API token with id 999",
+    );
+    admin.refused("/admin/api-tokens/x/revoke", &[], 400, "is not a number");
+
+    // A signed-in coordinator is refused the page and its forms (403).
+    create_user(&s.db, "ana", Role::Coordinator, PASSWORD, now_unix()).unwrap();
+    let ana = Browser::login(&s, "ana", PASSWORD);
+    assert_eq!(ana.get("/admin/api-tokens").0.status, 403);
+}
+
+/// The admin pages' forms in Portuguese (`Accept-Language: pt`): the words
+/// of our catalogue `templates/i18n/pt/pages.ftl`.
+#[test]
+fn the_admin_pages_speak_portuguese() {
+    let s = TestServer::start();
+    let token = groundproof_e2e::admin_token(&s);
+    let page = |path: &str| -> String {
+        let mut r = agent()
+            .get(&s.url(path))
+            .header("Authorization", format!("Bearer {token}"))
+            .header("Accept-Language", "pt")
+            .call()
+            .expect("reaches the server");
+        assert_eq!(r.status().as_u16(), 200, "{path}");
+        r.body_mut().read_to_string().unwrap()
+    };
+    for (path, words) in [
+        (
+            "/admin/users",
+            &["Adicionar um usuário", "Redefinir a senha", "coordenador"][..],
+        ),
+        (
+            "/admin/teams",
+            &["Adicionar uma equipe", "Nome da equipe"][..],
+        ),
+        (
+            "/admin/api-tokens",
+            &[
+                "Chaves de API",
+                "Criar uma chave de API",
+                "Nome (para que serve",
+            ][..],
+        ),
+        (
+            "/admin/sources",
+            &["Registrar uma fonte", "Tamanho do pixel (m)"][..],
+        ),
+        (
+            "/admin/settings",
+            &[
+                "Prioridade dos eventos",
+                "Fuso horário",
+                "Salvar configurações",
+            ][..],
+        ),
+    ] {
+        let body = page(path);
+        for w in words {
+            assert!(body.contains(w), "{path} lacks {w:?}");
+        }
+        for english in [
+            "Add a user",
+            "Save settings",
+            "Register a source",
+            "Make an API token",
+        ] {
+            assert!(!body.contains(english), "{path} still says {english:?}");
+        }
+    }
+}
+
 #[test]
 fn sources_are_registered_and_edited_and_bad_numbers_change_nothing() {
     let s = TestServer::start();
@@ -776,6 +947,8 @@ fn damaged_admin_forms_get_4xx_never_5xx() {
         "/admin/teams",
         "/admin/sources",
         "/admin/sources/1",
+        "/admin/api-tokens",
+        "/admin/api-tokens/1/revoke",
     ];
     let fields = [
         "name",
@@ -788,6 +961,7 @@ fn damaged_admin_forms_get_4xx_never_5xx() {
         "tolerance_m",
         "time_zone",
         "default_language",
+        "label",
     ];
     let config = Config {
         cases: mock_patrols::damage::cases(96),

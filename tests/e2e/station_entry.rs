@@ -251,10 +251,10 @@ fn a_paper_trip_with_camera_photos_is_proposed_moved_saved_once_and_shows_its_pr
     for word in [
         e1.code.as_str(),
         e2.code.as_str(),
-        "confirmed",
-        "false alarm",
+        "Clearing is there",
+        "False alarm",
         "Team Amber",
-        "accepted",
+        "Accepted",
     ] {
         assert!(results.contains(word), "{word} in {results}");
     }
@@ -433,13 +433,50 @@ fn the_station_upload_results_name_code_outcome_team_and_flags() {
     assert_eq!(text_of(&r.body, "table.station-results td.code"), e.code);
     assert_eq!(
         text_of(&r.body, "table.station-results td.outcome"),
-        "false alarm (no change)"
+        "False alarm (No change on the ground)"
     );
     assert_eq!(
         text_of(&r.body, "table.station-results td.team"),
         "Team Amber"
     );
     let flags = text_of(&r.body, "table.station-results .flag");
-    assert!(flags.contains("photo no gps (NO_EXIF.JPG)"), "{flags}");
+    assert!(
+        flags.contains("photo without a position (NO_EXIF.JPG)"),
+        "{flags}"
+    );
     assert!(!flags.contains(&sha(&plain_jpeg())[..12]), "{flags}");
+
+    // The same package again, in Portuguese: the results in the words of
+    // our catalogues (templates/i18n/pt/field.ftl and pages.ftl).
+    let agent: ureq::Agent = ureq::Agent::config_builder()
+        .http_status_as_error(false)
+        .build()
+        .into();
+    let mut r = agent
+        .post(&s.url("/station"))
+        .header(
+            "Authorization",
+            format!("Bearer {}", groundproof_e2e::admin_token(&s)),
+        )
+        .header("Accept-Language", "pt")
+        .header(
+            "Content-Type",
+            format!("multipart/form-data; boundary={BOUNDARY}"),
+        )
+        .send(&body[..])
+        .expect("reaches the server");
+    assert_eq!(r.status().as_u16(), 200);
+    let pt = r.body_mut().read_to_string().unwrap();
+    assert_eq!(
+        text_of(&pt, "table.station-results td.outcome"),
+        "Alarme falso (Nenhuma mudança no local)"
+    );
+    let flags = text_of(&pt, "table.station-results .flag");
+    assert!(flags.contains("foto sem posição (NO_EXIF.JPG)"), "{flags}");
+    let head = text_of(&pt, "table.station-results thead");
+    assert!(
+        head.contains("Resultado") && head.contains("Parada"),
+        "{head}"
+    );
+    assert!(text_of(&pt, ".ok-box").contains("Retorno"), "{pt}");
 }

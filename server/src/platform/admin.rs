@@ -12,7 +12,7 @@ use crate::domain::{Role, TeamName};
 use crate::error::{Error, Result};
 use crate::platform::auth::{self, validate_user_name};
 use crate::platform::settings::{LiveSettings, Settings};
-use crate::platform::storage::{Db, TeamState, TeamTokenRecord, Tx, User};
+use crate::platform::storage::{ApiTokenRecord, Db, TeamState, TeamTokenRecord, Tx, User};
 use std::path::Path;
 
 /// Who made a change, as the log names them.
@@ -313,6 +313,59 @@ pub fn revoke_team_token(db: &Db, actor: &Actor, token_id: i64, now: i64) -> Res
     })
 }
 
+/// A new API token for scripts, with a role and a label that names it (or
+/// its owner): the record and the token, shown once (only its SHA-256 is
+/// stored). Logged as `apitoken.create`.
+pub fn create_api_token(
+    db: &Db,
+    actor: &Actor,
+    role: Role,
+    label: &str,
+    now: i64,
+) -> Result<(ApiTokenRecord, String)> {
+    let label = auth::validate_label(label, "an API token's name")?;
+    let token = auth::new_api_token()?;
+    let hash = auth::sha256_hex(&token);
+    let rec = db.write_bookkeeping(|tx| {
+        let rec = tx.insert_api_token(&hash, role, &label, now)?;
+        let subject = format!("API token {} ({label})", rec.id);
+        log(
+            tx,
+            actor,
+            now,
+            "apitoken.create",
+            &subject,
+            &format!("role {role}"),
+        )?;
+        Ok(rec)
+    })?;
+    Ok((rec, token))
+}
+
+/// Revoke an API token (refused with 401 from then on); a token unknown or
+/// already revoked is refused. Logged as `apitoken.revoke`.
+pub fn revoke_api_token(db: &Db, actor: &Actor, token_id: i64, now: i64) -> Result<ApiTokenRecord> {
+    db.write_bookkeeping(|tx| {
+        let rec = tx
+            .reader()
+            .api_tokens()?
+            .into_iter()
+            .find(|t| t.id == token_id)
+            .ok_or_else(|| Error::NotFound(format!("no API token with id {token_id}")))?;
+        if !tx.revoke_api_token(token_id, now)? {
+            return Err(Error::Conflict(format!(
+                "API token {token_id} is already revoked"
+            )));
+        }
+        let subject = format!("API token {token_id} ({})", rec.label);
+        log(tx, actor, now, "apitoken.revoke", &subject, "revoked")?;
+        Ok(ApiTokenRecord {
+            revoked_at: Some(now),
+            ..rec
+        })
+    })
+}
+
 /// Change the settings of `data_dir` through `live` (see
 /// [`LiveSettings::update`]): the log row lists each changed field with its
 /// old and new value, and commits only if the file was written. A change
@@ -441,6 +494,40 @@ mod tests {
         assert!(create_team_token(&db, &me, "South", 7).is_err());
         set_team_disabled(&db, &me, t.id, false, 8).unwrap();
         assert!(create_team_token(&db, &me, "North", 9).is_ok());
+    }
+
+    #[test]
+    fn api_tokens_are_made_and_revoked_with_their_log_rows() {
+        let (_d, db) = db();
+        let me = Actor::User("root".into());
+        let (rec, token) = create_api_token(&db, &me, Role::Manager, " weekly export ", 1).unwrap();
+        assert!(token.starts_with(auth::API_TOKEN_PREFIX), "{token}");
+        assert_eq!(rec.label, "weekly export");
+        assert_eq!(
+            last(&db),
+            (
+                "user root".into(),
+                "apitoken.create".into(),
+                format!("API token {} (weekly export)", rec.id),
+                "role manager".into()
+            )
+        );
+        let hash = auth::sha256_hex(&token);
+        assert!(db.read(|r| r.api_token_by_hash(&hash)).unwrap().is_some());
+        let gone = revoke_api_token(&db, &me, rec.id, 2).unwrap();
+        assert_eq!(gone.revoked_at, Some(2));
+        assert_eq!(last(&db).1, "apitoken.revoke");
+        assert!(db.read(|r| r.api_token_by_hash(&hash)).unwrap().is_none());
+        // Refusals change nothing and log nothing.
+        let n = db.read(|r| r.admin_log(None, 100)).unwrap().len();
+        let e = revoke_api_token(&db, &me, rec.id, 3)
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("already revoked"), "{e}");
+        assert!(revoke_api_token(&db, &me, 999, 3).is_err());
+        assert!(create_api_token(&db, &me, Role::Admin, "  ", 3).is_err());
+        assert_eq!(db.read(|r| r.admin_log(None, 100)).unwrap().len(), n);
+        assert_eq!(db.read(|r| r.api_tokens()).unwrap().len(), 1);
     }
 
     #[test]

@@ -9,9 +9,10 @@
 //! page with the reason and changes nothing; a saved one redirects (303) to
 //! its page with `?done=1`, which shows the newest log row of this admin.
 
-use super::common::{Layout, PageError, Viewer};
+use super::common::{Layout, PageError, Viewer, respond, see_other};
+use crate::error::Error;
 use crate::platform::admin::Actor;
-use crate::platform::auth::Identity;
+use crate::platform::auth::{Identity, now_unix};
 use crate::platform::i18n::Tr;
 use crate::platform::storage::AdminLogEntry;
 use crate::web::AppState;
@@ -25,9 +26,10 @@ pub const LOG_PAGE_ROWS: usize = 100;
 const RECENT_ROWS: usize = 200;
 
 /// The sections of the administration: (path, label).
-pub const SECTIONS: [(&str, &str); 5] = [
+pub const SECTIONS: [(&str, &str); 6] = [
     ("/admin/users", "Users"),
     ("/admin/teams", "Teams and tokens"),
+    ("/admin/api-tokens", "API tokens"),
     ("/admin/sources", "Sources"),
     ("/admin/settings", "Settings"),
     ("/admin/log", "Change log"),
@@ -79,6 +81,54 @@ pub struct Chrome {
 #[derive(Debug, Deserialize, Default)]
 pub struct DoneQuery {
     pub done: Option<u8>,
+}
+
+/// The query of an admin page's `GET`, as actix hands it over.
+pub type DoneArg = Result<web::Query<DoneQuery>, actix_web::Error>;
+
+/// The one shape of every admin page's `GET`: the page (`page(done)`), told
+/// whether a change was just saved (`?done=1`).
+pub async fn show<P, F>(req: &HttpRequest, q: DoneArg, page: P) -> HttpResponse
+where
+    P: FnOnce(bool) -> F,
+    F: std::future::Future<Output = Result<HttpResponse, PageError>>,
+{
+    let done = q.ok().and_then(|q| q.done).is_some();
+    respond(req, &Viewer::of(req), page(done).await)
+}
+
+/// A change of a form, run on the blocking pool: the actor, the checked
+/// form's values and the time.
+pub trait Change<T>: FnOnce(&Actor, T, i64) -> Result<(), Error> + Send + 'static {}
+impl<T, F: FnOnce(&Actor, T, i64) -> Result<(), Error> + Send + 'static> Change<T> for F {}
+
+/// The one shape of every admin form: when the form checked out, run
+/// `change` as this request's actor and redirect to `back?done=1`;
+/// otherwise show the page again (`page`) with the refusal, having changed
+/// nothing.
+pub async fn apply<T, P, F>(
+    req: &HttpRequest,
+    back: &str,
+    checked: Result<T, PageError>,
+    change: impl Change<T>,
+    page: P,
+) -> HttpResponse
+where
+    T: Send + 'static,
+    P: FnOnce(PageError) -> F,
+    F: std::future::Future<Output = Result<HttpResponse, PageError>>,
+{
+    let r = async {
+        let values = checked?;
+        let actor = actor(req)?;
+        web::block(move || change(&actor, values, now_unix())).await??;
+        Ok::<_, PageError>(see_other(&format!("{back}?done=1")))
+    }
+    .await;
+    match r {
+        Ok(done) => done,
+        Err(e) => respond(req, &Viewer::of(req), page(e).await),
+    }
 }
 
 /// The actor of the request (the access layer put its identity there).

@@ -4,13 +4,12 @@
 //! again, changed, checked as a whole, written durably, logged, and then
 //! used by the running server. Bad input changes nothing.
 
-use super::admin::{self, Chrome, DoneQuery};
-use super::common::{PageError, Viewer, respond, see_other};
+use super::admin::{self, Chrome};
+use super::common::PageError;
 use crate::error::Error;
 use crate::platform::admin as ops;
-use crate::platform::auth::now_unix;
 use crate::platform::settings::{
-    AREA_REF_MAX_HA, LANGUAGES, RECENCY_MAX_DAYS, Settings, TOLERANCE_MAX_M, WEIGHT_MAX,
+    AREA_REF_MAX_HA, RECENCY_MAX_DAYS, Settings, TOLERANCE_MAX_M, WEIGHT_MAX,
 };
 use crate::web::AppState;
 use actix_web::{HttpRequest, HttpResponse, web};
@@ -83,7 +82,6 @@ struct SettingsPage {
     layout: super::common::Layout,
     chrome: Chrome,
     f: SettingsForm,
-    languages: Vec<&'static str>,
     zones: Vec<&'static str>,
     weight_max: f64,
     area_ref_max: f64,
@@ -105,7 +103,6 @@ async fn settings_page(
         layout,
         chrome,
         f: typed.unwrap_or_else(|| SettingsForm::of(&state.settings)),
-        languages: LANGUAGES.to_vec(),
         zones: chrono_tz::TZ_VARIANTS.iter().map(|z| z.name()).collect(),
         weight_max: WEIGHT_MAX,
         area_ref_max: AREA_REF_MAX_HA,
@@ -119,15 +116,10 @@ async fn settings_page(
 }
 
 /// `GET /admin/settings`.
-pub async fn show(
-    req: HttpRequest,
-    state: web::Data<AppState>,
-    q: Result<web::Query<DoneQuery>, actix_web::Error>,
-) -> HttpResponse {
-    let viewer = Viewer::of(&req);
-    let done = q.ok().and_then(|q| q.done).is_some();
-    let r = settings_page(&req, &state, done, None, None).await;
-    respond(&req, &viewer, r)
+pub async fn show(req: HttpRequest, state: web::Data<AppState>, q: admin::DoneArg) -> HttpResponse {
+    let (req, state) = (&req, &state);
+    let page = move |done| async move { settings_page(req, state, done, None, None).await };
+    admin::show(req, q, page).await
 }
 
 /// `POST /admin/settings` (every field of the form).
@@ -136,31 +128,16 @@ pub async fn save(
     state: web::Data<AppState>,
     form: Result<web::Form<SettingsForm>, actix_web::Error>,
 ) -> HttpResponse {
-    let viewer = Viewer::of(&req);
     let typed = form.as_ref().ok().map(|f| (**f).clone());
-    let r = async {
-        let f = form.map_err(admin::unreadable)?.into_inner();
-        let actor = admin::actor(&req)?;
-        let st = state.clone();
-        web::block(move || {
-            ops::change_settings(
-                &st.db,
-                &st.settings,
-                &st.data_dir,
-                &actor,
-                |s| f.apply(s),
-                now_unix(),
-            )
-        })
-        .await??;
-        Ok::<_, PageError>(see_other("/admin/settings?done=1"))
-    }
-    .await;
-    match r {
-        Ok(resp) => resp,
-        Err(e) => {
-            let r = settings_page(&req, &state, false, Some(e), typed).await;
-            respond(&req, &viewer, r)
-        }
-    }
+    let checked = form.map(|f| f.into_inner()).map_err(admin::unreadable);
+    let st = state.clone();
+    let change = move |a: &ops::Actor, f: SettingsForm, now| {
+        let (db, live, dir) = (&st.db, &st.settings, &st.data_dir);
+        ops::change_settings(db, live, dir, a, |s| f.apply(s), now).map(drop)
+    };
+    let page = |e| async {
+        let (req, state) = (&req, &state);
+        settings_page(req, state, false, Some(e), typed).await
+    };
+    admin::apply(&req, "/admin/settings", checked, change, page).await
 }

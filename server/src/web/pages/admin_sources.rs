@@ -2,13 +2,11 @@
 //! (while none of its alerts is stored) and revisit interval, through
 //! `alerts::sources` with its log row.
 
-use super::admin::{self, Chrome, DoneQuery};
-use super::admin_users::split;
-use super::common::{PageError, Viewer, respond, see_other};
+use super::admin::{self, Chrome};
+use super::common::PageError;
 use crate::alerts::sources as ops;
 use crate::error::Error;
 use crate::platform::admin::Actor;
-use crate::platform::auth::now_unix;
 use crate::web::AppState;
 use actix_web::{HttpRequest, HttpResponse, web};
 use askama::Template;
@@ -90,39 +88,28 @@ async fn sources_page(
 }
 
 /// `GET /admin/sources`.
-pub async fn list(
-    req: HttpRequest,
-    state: web::Data<AppState>,
-    q: Result<web::Query<DoneQuery>, actix_web::Error>,
-) -> HttpResponse {
-    let viewer = Viewer::of(&req);
-    let done = q.ok().and_then(|q| q.done).is_some();
-    let r = sources_page(&req, &state, done, None, SourceForm::default()).await;
-    respond(&req, &viewer, r)
+pub async fn list(req: HttpRequest, state: web::Data<AppState>, q: admin::DoneArg) -> HttpResponse {
+    let (req, state) = (&req, &state);
+    let page = move |done| async move {
+        sources_page(req, state, done, None, SourceForm::default()).await
+    };
+    admin::show(req, q, page).await
 }
 
-async fn apply(
+/// [`admin::apply`] for this page: back to the sources page, or the page
+/// again with the refusal and the add form as typed.
+async fn apply<T: Send + 'static>(
     req: HttpRequest,
     state: web::Data<AppState>,
     typed: SourceForm,
-    change: impl FnOnce(Actor, i64) -> Result<(), Error> + Send + 'static,
-    checked: Result<(), PageError>,
+    checked: Result<T, PageError>,
+    change: impl admin::Change<T>,
 ) -> HttpResponse {
-    let viewer = Viewer::of(&req);
-    let r = async {
-        checked?;
-        let actor = admin::actor(&req)?;
-        web::block(move || change(actor, now_unix())).await??;
-        Ok::<_, PageError>(see_other("/admin/sources?done=1"))
-    }
-    .await;
-    match r {
-        Ok(resp) => resp,
-        Err(e) => {
-            let r = sources_page(&req, &state, false, Some(e), typed).await;
-            respond(&req, &viewer, r)
-        }
-    }
+    let page = |e| async {
+        let (req, state) = (&req, &state);
+        sources_page(req, state, false, Some(e), typed).await
+    };
+    admin::apply(&req, "/admin/sources", checked, change, page).await
 }
 
 /// `POST /admin/sources` (name, pixel size, revisit interval).
@@ -138,12 +125,10 @@ pub async fn add(
         Ok((f.name.unwrap_or_default(), p, r))
     });
     let db = state.db.clone();
-    let (ok, args) = split(checked);
-    let change = move |actor: Actor, now| match args {
-        Some((n, p, r)) => ops::add_source(&db, &actor, &n, p, r, now).map(|_| ()),
-        None => Ok(()),
+    let change = move |a: &Actor, (n, p, r): (String, f64, i64), now| {
+        ops::add_source(&db, a, &n, p, r, now).map(drop)
     };
-    apply(req, state, typed, change, ok).await
+    apply(req, state, typed, checked, change).await
 }
 
 /// `POST /admin/sources/{id}` (pixel size, revisit interval).
@@ -158,10 +143,7 @@ pub async fn edit(
         Ok((id, p, r))
     });
     let db = state.db.clone();
-    let (ok, args) = split(checked);
-    let change = move |actor: Actor, now| match args {
-        Some((id, p, r)) => ops::edit_source(&db, &actor, id, p, r, now).map(|_| ()),
-        None => Ok(()),
-    };
-    apply(req, state, SourceForm::default(), change, ok).await
+    let change =
+        move |a: &Actor, (id, p, r), now| ops::edit_source(&db, a, id, p, r, now).map(drop);
+    apply(req, state, SourceForm::default(), checked, change).await
 }

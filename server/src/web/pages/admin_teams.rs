@@ -3,9 +3,8 @@
 //! POST itself, never in an address) and revoke one; through
 //! `platform::admin` with its log row.
 
-use super::admin::{self, Chrome, DoneQuery};
-use super::admin_users::split;
-use super::common::{PageError, Viewer, local_unix, respond, see_other};
+use super::admin::{self, Chrome};
+use super::common::{PageError, Viewer, local_unix, respond};
 use crate::error::Error;
 use crate::platform::admin as ops;
 use crate::platform::auth::now_unix;
@@ -95,40 +94,27 @@ async fn teams_page(
 }
 
 /// `GET /admin/teams`.
-pub async fn list(
-    req: HttpRequest,
-    state: web::Data<AppState>,
-    q: Result<web::Query<DoneQuery>, actix_web::Error>,
-) -> HttpResponse {
-    let viewer = Viewer::of(&req);
-    let done = q.ok().and_then(|q| q.done).is_some();
-    let r = teams_page(&req, &state, done, None, None, String::new()).await;
-    respond(&req, &viewer, r)
+pub async fn list(req: HttpRequest, state: web::Data<AppState>, q: admin::DoneArg) -> HttpResponse {
+    let (req, state) = (&req, &state);
+    let page =
+        move |done| async move { teams_page(req, state, done, None, None, String::new()).await };
+    admin::show(req, q, page).await
 }
 
-/// Run `change` and redirect to the teams page, or show it with the refusal.
-async fn apply(
+/// [`admin::apply`] for this page: back to the teams page, or the page
+/// again with the refusal and the team name as typed.
+async fn apply<T: Send + 'static>(
     req: HttpRequest,
     state: web::Data<AppState>,
-    typed_name: String,
-    change: impl FnOnce(ops::Actor, i64) -> Result<(), Error> + Send + 'static,
-    checked: Result<(), PageError>,
+    typed: String,
+    checked: Result<T, PageError>,
+    change: impl admin::Change<T>,
 ) -> HttpResponse {
-    let viewer = Viewer::of(&req);
-    let r = async {
-        checked?;
-        let actor = admin::actor(&req)?;
-        web::block(move || change(actor, now_unix())).await??;
-        Ok::<_, PageError>(see_other("/admin/teams?done=1"))
-    }
-    .await;
-    match r {
-        Ok(resp) => resp,
-        Err(e) => {
-            let r = teams_page(&req, &state, false, Some(e), None, typed_name).await;
-            respond(&req, &viewer, r)
-        }
-    }
+    let page = |e| async {
+        let (req, state) = (&req, &state);
+        teams_page(req, state, false, Some(e), None, typed).await
+    };
+    admin::apply(&req, "/admin/teams", checked, change, page).await
 }
 
 /// `POST /admin/teams` (name).
@@ -142,12 +128,9 @@ pub async fn add(
         .map(|f| f.into_inner().name.unwrap_or_default());
     let typed = checked.as_ref().cloned().unwrap_or_default();
     let db = state.db.clone();
-    let (ok, name) = split(checked);
-    let change = move |actor: ops::Actor, now| match name {
-        Some(n) => ops::add_team(&db, &actor, &n, now).map(|_| ()),
-        None => Ok(()),
-    };
-    apply(req, state, typed, change, ok).await
+    let change =
+        move |a: &ops::Actor, name: String, now| ops::add_team(&db, a, &name, now).map(drop);
+    apply(req, state, typed, checked, change).await
 }
 
 async fn set_disabled(
@@ -157,12 +140,10 @@ async fn set_disabled(
     off: bool,
 ) -> HttpResponse {
     let db = state.db.clone();
-    let (ok, id) = split(admin::path_id(raw, "team"));
-    let change = move |actor: ops::Actor, now| match id {
-        Some(id) => ops::set_team_disabled(&db, &actor, id, off, now).map(|_| ()),
-        None => Ok(()),
-    };
-    apply(req, state, String::new(), change, ok).await
+    let change =
+        move |a: &ops::Actor, id, now| ops::set_team_disabled(&db, a, id, off, now).map(drop);
+    let checked = admin::path_id(raw, "team");
+    apply(req, state, String::new(), checked, change).await
 }
 
 /// `POST /admin/teams/{id}/disable`.
@@ -223,10 +204,7 @@ pub async fn revoke_token(
     path: web::Path<String>,
 ) -> HttpResponse {
     let db = state.db.clone();
-    let (ok, id) = split(admin::path_id(&path, "token"));
-    let change = move |actor: ops::Actor, now| match id {
-        Some(id) => ops::revoke_team_token(&db, &actor, id, now),
-        None => Ok(()),
-    };
-    apply(req, state, String::new(), change, ok).await
+    let change = move |a: &ops::Actor, id, now| ops::revoke_team_token(&db, a, id, now);
+    let checked = admin::path_id(&path, "token");
+    apply(req, state, String::new(), checked, change).await
 }

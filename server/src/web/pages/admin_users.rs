@@ -2,12 +2,11 @@
 //! enable (a disabled user cannot log in and their sessions end), through
 //! `platform::admin` with its log row.
 
-use super::admin::{self, Chrome, DoneQuery};
-use super::common::{PageError, Viewer, local_unix, respond, see_other};
+use super::admin::{self, Chrome};
+use super::common::{PageError, local_unix};
 use crate::domain::Role;
-use crate::error::Error;
 use crate::platform::admin as ops;
-use crate::platform::auth::{MAX_PASSWORD_CHARS, MIN_PASSWORD_CHARS, now_unix};
+use crate::platform::auth::{MAX_PASSWORD_CHARS, MIN_PASSWORD_CHARS};
 use crate::web::AppState;
 use actix_web::{HttpRequest, HttpResponse, web};
 use askama::Template;
@@ -17,6 +16,8 @@ struct UserRow {
     id: i64,
     name: String,
     role: &'static str,
+    /// The role in the page's language.
+    role_label: String,
     disabled: bool,
     created: String,
 }
@@ -27,7 +28,8 @@ struct UsersPage {
     layout: super::common::Layout,
     chrome: Chrome,
     users: Vec<UserRow>,
-    roles: Vec<&'static str>,
+    /// (value, label in the page's language).
+    roles: Vec<(&'static str, String)>,
     min_chars: usize,
     max_chars: usize,
     /// The add form as typed, after a refusal (never the password).
@@ -55,6 +57,8 @@ async fn users_page(
     let users = web::block(move || db.read(|r| r.users())).await??;
     let (layout, chrome) =
         admin::chrome(req, state, "/admin/users", &["user."], done, error).await?;
+    let tr = crate::web::i18n::tr_of(req);
+    let role_label = |r: Role| tr.t(&format!("adm-role-{}", r.as_str()));
     let t = UsersPage {
         layout,
         chrome,
@@ -65,10 +69,14 @@ async fn users_page(
                 created: local_unix(&state.settings, u.created_at),
                 name: u.name,
                 role: u.role.as_str(),
+                role_label: role_label(u.role),
                 disabled: u.disabled,
             })
             .collect(),
-        roles: Role::ALL.iter().map(|r| r.as_str()).collect(),
+        roles: Role::ALL
+            .iter()
+            .map(|r| (r.as_str(), role_label(*r)))
+            .collect(),
         min_chars: MIN_PASSWORD_CHARS,
         max_chars: MAX_PASSWORD_CHARS,
         typed_name: typed.name.clone().unwrap_or_default(),
@@ -78,15 +86,11 @@ async fn users_page(
 }
 
 /// `GET /admin/users`.
-pub async fn list(
-    req: HttpRequest,
-    state: web::Data<AppState>,
-    q: Result<web::Query<DoneQuery>, actix_web::Error>,
-) -> HttpResponse {
-    let viewer = Viewer::of(&req);
-    let done = q.ok().and_then(|q| q.done).is_some();
-    let r = users_page(&req, &state, done, None, &UserForm::default()).await;
-    respond(&req, &viewer, r)
+pub async fn list(req: HttpRequest, state: web::Data<AppState>, q: admin::DoneArg) -> HttpResponse {
+    let (req, state) = (&req, &state);
+    let page =
+        move |done| async move { users_page(req, state, done, None, &UserForm::default()).await };
+    admin::show(req, q, page).await
 }
 
 fn role_of(f: &UserForm) -> Result<Role, PageError> {
@@ -105,30 +109,20 @@ fn password_of(f: &UserForm) -> Result<String, PageError> {
     Ok(p)
 }
 
-/// Run `change` (a blocking call to `platform::admin`) and redirect to the
-/// users page, or show the page again with the refusal.
-async fn apply(
+/// [`admin::apply`] for this page: back to the users page, or the page
+/// again with the refusal and the add form as typed.
+async fn apply<T: Send + 'static>(
     req: HttpRequest,
     state: web::Data<AppState>,
-    form: &UserForm,
-    change: impl FnOnce(ops::Actor, i64) -> Result<(), Error> + Send + 'static,
-    checked: Result<(), PageError>,
+    typed: UserForm,
+    checked: Result<T, PageError>,
+    change: impl admin::Change<T>,
 ) -> HttpResponse {
-    let viewer = Viewer::of(&req);
-    let r = async {
-        checked?;
-        let actor = admin::actor(&req)?;
-        web::block(move || change(actor, now_unix())).await??;
-        Ok::<_, PageError>(see_other("/admin/users?done=1"))
-    }
-    .await;
-    match r {
-        Ok(resp) => resp,
-        Err(e) => {
-            let r = users_page(&req, &state, false, Some(e), form).await;
-            respond(&req, &viewer, r)
-        }
-    }
+    let page = |e| async {
+        let (req, state, typed) = (&req, &state, &typed);
+        users_page(req, state, false, Some(e), typed).await
+    };
+    admin::apply(&req, "/admin/users", checked, change, page).await
 }
 
 /// `POST /admin/users` (name, role, password twice).
@@ -152,12 +146,10 @@ pub async fn add(
         Ok((name, role_of(&f)?, password_of(&f)?))
     });
     let db = state.db.clone();
-    let (ok, args) = split(checked);
-    let change = move |actor: ops::Actor, now| match args {
-        Some((name, role, pw)) => ops::add_user(&db, &actor, &name, role, &pw, now).map(|_| ()),
-        None => Ok(()),
+    let change = move |a: &ops::Actor, (name, role, pw): (String, Role, String), now| {
+        ops::add_user(&db, a, &name, role, &pw, now).map(drop)
     };
-    apply(req, state, &typed, change, ok).await
+    apply(req, state, typed, checked, change).await
 }
 
 /// `POST /admin/users/{id}/role` (role).
@@ -167,17 +159,12 @@ pub async fn set_role(
     path: web::Path<String>,
     form: Result<web::Form<UserForm>, actix_web::Error>,
 ) -> HttpResponse {
-    let checked = admin::path_id(&path, "user").and_then(|id| {
-        let f = form.map_err(admin::unreadable)?;
-        Ok((id, role_of(&f)?))
-    });
+    let checked = admin::path_id(&path, "user")
+        .and_then(|id| Ok((id, role_of(&*form.map_err(admin::unreadable)?)?)));
     let db = state.db.clone();
-    let (ok, args) = split(checked);
-    let change = move |actor: ops::Actor, now| match args {
-        Some((id, role)) => ops::set_role(&db, &actor, id, role, now).map(|_| ()),
-        None => Ok(()),
-    };
-    apply(req, state, &UserForm::default(), change, ok).await
+    let change =
+        move |a: &ops::Actor, (id, role), now| ops::set_role(&db, a, id, role, now).map(drop);
+    apply(req, state, UserForm::default(), checked, change).await
 }
 
 /// `POST /admin/users/{id}/password` (password twice).
@@ -187,17 +174,13 @@ pub async fn reset_password(
     path: web::Path<String>,
     form: Result<web::Form<UserForm>, actix_web::Error>,
 ) -> HttpResponse {
-    let checked = admin::path_id(&path, "user").and_then(|id| {
-        let f = form.map_err(admin::unreadable)?;
-        Ok((id, password_of(&f)?))
-    });
+    let checked = admin::path_id(&path, "user")
+        .and_then(|id| Ok((id, password_of(&*form.map_err(admin::unreadable)?)?)));
     let db = state.db.clone();
-    let (ok, args) = split(checked);
-    let change = move |actor: ops::Actor, now| match args {
-        Some((id, pw)) => ops::reset_password(&db, &actor, id, &pw, now).map(|_| ()),
-        None => Ok(()),
+    let change = move |a: &ops::Actor, (id, pw): (i64, String), now| {
+        ops::reset_password(&db, a, id, &pw, now).map(drop)
     };
-    apply(req, state, &UserForm::default(), change, ok).await
+    apply(req, state, UserForm::default(), checked, change).await
 }
 
 /// `POST /admin/users/{id}/disable`.
@@ -224,20 +207,9 @@ async fn set_disabled(
     raw: &str,
     off: bool,
 ) -> HttpResponse {
-    let checked = admin::path_id(raw, "user");
     let db = state.db.clone();
-    let (ok, id) = split(checked);
-    let change = move |actor: ops::Actor, now| match id {
-        Some(id) => ops::set_user_disabled(&db, &actor, id, off, now).map(|_| ()),
-        None => Ok(()),
-    };
-    apply(req, state, &UserForm::default(), change, ok).await
-}
-
-/// A checked form as (outcome for [`apply`], values for the change).
-pub fn split<T>(checked: Result<T, PageError>) -> (Result<(), PageError>, Option<T>) {
-    match checked {
-        Ok(v) => (Ok(()), Some(v)),
-        Err(e) => (Err(e), None),
-    }
+    let change =
+        move |a: &ops::Actor, id, now| ops::set_user_disabled(&db, a, id, off, now).map(drop);
+    let checked = admin::path_id(raw, "user");
+    apply(req, state, UserForm::default(), checked, change).await
 }

@@ -17,6 +17,7 @@
 //! | `GET /admin`, `GET /admin/log` | administration (admins only): index, change log |
 //! | `GET/POST /admin/users`, `POST /admin/users/{id}/{role,password,disable,enable}` | users |
 //! | `GET/POST /admin/teams`, `POST /admin/teams/{id}/{disable,enable,tokens}`, `POST /admin/tokens/{id}/revoke` | teams and team tokens |
+//! | `GET/POST /admin/api-tokens`, `POST /admin/api-tokens/{id}/revoke` | API tokens for scripts |
 //! | `GET/POST /admin/sources`, `POST /admin/sources/{id}` | alert sources |
 //! | `GET/POST /admin/settings` | settings |
 //! | `GET /static/app.css` | the style sheet |
@@ -31,6 +32,7 @@ mod admin;
 mod admin_settings;
 mod admin_sources;
 mod admin_teams;
+mod admin_tokens;
 mod admin_users;
 mod assets;
 mod common;
@@ -225,6 +227,17 @@ fn configure_admin(cfg: &mut web::ServiceConfig) {
         cfg,
         "/admin/tokens/{id}/revoke",
         web::post().to(admin_teams::revoke_token),
+    );
+    add(cfg, "/admin/api-tokens", web::get().to(admin_tokens::list));
+    add(
+        cfg,
+        "/admin/api-tokens",
+        web::post().to(admin_tokens::create),
+    );
+    add(
+        cfg,
+        "/admin/api-tokens/{id}/revoke",
+        web::post().to(admin_tokens::revoke),
     );
     add(cfg, "/admin/sources", web::get().to(admin_sources::list));
     add(cfg, "/admin/sources", web::post().to(admin_sources::add));

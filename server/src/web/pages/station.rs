@@ -7,14 +7,17 @@
 
 use super::common::{Layout, PageError, Viewer, html, respond};
 use super::form::{field_name, human_bytes, next_chunk, next_field, read_bounded};
+use super::views::word;
 use crate::intake::IntakeOptions;
 use crate::intake::uploads::{IncomingFile, take_in_whole};
+use crate::platform::i18n::Tr;
 use crate::web::AppState;
 use crate::web::pages::common::MAX_TEXT_FIELD_BYTES;
 use actix_multipart::Multipart;
 use actix_web::http::StatusCode;
 use actix_web::{HttpRequest, HttpResponse, web};
 use askama::Template;
+use std::borrow::Borrow;
 
 /// Bytes gathered before each blocking write to the incoming file.
 const WRITE_CHUNK: usize = 1 << 20;
@@ -25,20 +28,70 @@ pub fn max_package_bytes() -> u64 {
 }
 
 /// One report of a return as the station shows it: what it is about, its
-/// outcome and team, not only its id.
+/// outcome and team, not only its id. The stored words (outcome, reason or
+/// cause, result, flags) are kept as tokens and put in the page's language
+/// by the template (`*_in`), with the catalogue's ids the other pages use.
 pub struct ResultRow {
     pub report_id: String,
-    /// The event or control point code, `new clearing`, or `–` when the
-    /// report was not stored.
+    /// The event or control point code, or `–` when the report was not
+    /// stored (`new_clearing` names a new clearing's event).
     pub target: String,
+    /// A new clearing's event id, when the report is one.
+    pub new_clearing: Option<i64>,
     /// The link to the event, when there is one.
     pub event_href: Option<String>,
+    /// The outcome token (`false_alarm`), empty when not stored.
     pub outcome: String,
-    pub detail: String,
+    /// (`reason` or `cause`, its token), when the report has one.
+    pub detail: Option<(&'static str, String)>,
     pub team: String,
+    /// `accepted`, `duplicate` or `rejected`.
     pub status: String,
     pub reason: String,
-    pub flags: Vec<String>,
+    /// Each flag's code and the photo it names (by file name), if any.
+    pub flags: Vec<(String, Option<String>)>,
+}
+
+impl ResultRow {
+    /// The outcome in the page's language, with its reason or cause.
+    pub fn outcome_in(&self, tr: impl Borrow<Tr>) -> String {
+        let tr = *tr.borrow();
+        if self.outcome.is_empty() {
+            return "–".into();
+        }
+        let outcome = word(tr, "outcome", &self.outcome);
+        match &self.detail {
+            Some((kind, token)) => format!("{outcome} ({})", word(tr, kind, token)),
+            None => outcome,
+        }
+    }
+
+    /// The stop: its code, or a new clearing in words.
+    pub fn target_in(&self, tr: impl Borrow<Tr>) -> String {
+        match self.new_clearing {
+            Some(id) => tr.borrow().t1("station-new-clearing", "id", id),
+            None => self.target.clone(),
+        }
+    }
+
+    /// The result (accepted, duplicate, rejected) in the page's language,
+    /// the field app's words.
+    pub fn status_in(&self, tr: impl Borrow<Tr>) -> String {
+        word(*tr.borrow(), "send_state", &self.status)
+    }
+
+    /// The flags in the page's language, each with its photo's file name.
+    pub fn flags_in(&self, tr: impl Borrow<Tr>) -> Vec<String> {
+        self.flags
+            .iter()
+            .map(|(code, photo)| {
+                let w = word(*tr.borrow(), "flag", code);
+                photo
+                    .as_ref()
+                    .map_or_else(|| w.clone(), |p| format!("{w} ({p})"))
+            })
+            .collect()
+    }
 }
 
 /// The station's rows for the results of a return: each stored report
@@ -57,31 +110,30 @@ pub fn result_rows(
         let mut row = ResultRow {
             report_id: id,
             target: "–".into(),
+            new_clearing: None,
             event_href: None,
-            outcome: "–".into(),
-            detail: String::new(),
+            outcome: String::new(),
+            detail: None,
             team: String::new(),
             status: x.status.clone(),
             reason: x.reason.clone().unwrap_or_default(),
-            flags: x.flags.iter().map(|f| flag_words(f, &photos)).collect(),
+            flags: x.flags.iter().map(|f| flag_parts(f, &photos)).collect(),
         };
         if let Some(s) = stored {
-            row.target = match (&s.control_code, s.event_id) {
-                (Some(c), _) => c.clone(),
-                (None, Some(eid)) => items
-                    .iter()
-                    .find(|i| i.event_id == Some(eid))
-                    .map_or_else(|| format!("new clearing #{eid}"), |i| i.code.clone()),
-                (None, None) => "–".into(),
-            };
+            match (&s.control_code, s.event_id) {
+                (Some(c), _) => row.target = c.clone(),
+                (None, Some(eid)) => match items.iter().find(|i| i.event_id == Some(eid)) {
+                    Some(i) => row.target = i.code.clone(),
+                    None => row.new_clearing = Some(eid),
+                },
+                (None, None) => {}
+            }
             row.event_href = s.event_id.map(|e| format!("/events/{e}"));
-            row.outcome = s.outcome.as_str().replace('_', " ");
+            row.outcome = s.outcome.as_str().to_string();
             row.detail = s
                 .reason
-                .map(|w| w.as_str())
-                .or(s.cause.map(|w| w.as_str()))
-                .unwrap_or_default()
-                .replace('_', " ");
+                .map(|w| ("reason", w.as_str().to_string()))
+                .or(s.cause.map(|w| ("cause", w.as_str().to_string())));
             row.team = s.team;
         }
         rows.push(row);
@@ -89,17 +141,21 @@ pub fn result_rows(
     Ok(rows)
 }
 
-/// A flag in words: `photo_no_gps:<sha>` names the photo's file.
-fn flag_words(flag: &str, photos: &[crate::platform::storage::ReportPhotoRow]) -> String {
+/// A flag's code and its photo: `photo_no_gps:<sha>` names the photo's file
+/// (or the digest's first 12 characters when the report does not hold it).
+fn flag_parts(
+    flag: &str,
+    photos: &[crate::platform::storage::ReportPhotoRow],
+) -> (String, Option<String>) {
     match flag.split_once(':') {
         Some((what, sha)) => {
             let name = photos.iter().find(|p| p.sha256 == sha).map_or_else(
                 || sha.chars().take(12).collect(),
                 |p| p.original_name.clone(),
             );
-            format!("{} ({name})", what.replace('_', " "))
+            (what.to_string(), Some(name))
         }
-        None => flag.replace('_', " "),
+        None => (flag.to_string(), None),
     }
 }
 
@@ -175,7 +231,11 @@ async fn render(
 ) -> HttpResponse {
     let status = error.as_ref().map_or(StatusCode::OK, |e| e.status);
     let t = StationPage {
-        layout: Layout::new(req, viewer, "Station upload", "/station"),
+        layout: {
+            let mut l = Layout::new(req, viewer, "Station upload", "/station");
+            l.title = l.tr.t("station-title");
+            l
+        },
         limit: human_bytes(max_package_bytes()),
         error,
         received,

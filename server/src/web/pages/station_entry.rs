@@ -200,7 +200,11 @@ fn page(
         }
     }
     EntryPage {
-        layout: Layout::new(req, viewer, "Enter a trip from paper", "/station"),
+        layout: {
+            let mut l = Layout::new(req, viewer, "Enter a trip from paper", "/station");
+            l.title = tr.t1("entry-title", "team", trip.bundle.team.as_str());
+            l
+        },
         trip_id: trip.bundle.id.clone(),
         team: trip.bundle.team.clone(),
         sheet_expected: trip.sheet.clone(),
@@ -215,11 +219,14 @@ fn page(
         causes: choices(tr, "cause", &cl.causes),
         photo_count: d.photos.len(),
         photo_bytes: human_bytes(d.photo_bytes()),
-        limits: format!(
-            "{} photos and {} per entry; each photo at most {}",
+        limits: tr.t3(
+            "entry-limits",
+            "photos",
             draft::MAX_DRAFT_PHOTOS,
+            "bytes",
             human_bytes(draft::MAX_DRAFT_BYTES),
-            human_bytes(max_photo_bytes() as u64)
+            "photo",
+            human_bytes(max_photo_bytes() as u64),
         ),
         tolerance: format!("{tol:.0} m"),
         errors: s.errors,
@@ -293,6 +300,7 @@ pub async fn show(
 /// operator, and whether any photo was refused.
 async fn take_photos(
     state: &AppState,
+    tr: crate::platform::i18n::Tr,
     id: &str,
     user: &str,
     mut mp: Multipart,
@@ -326,10 +334,8 @@ async fn take_photos(
             }
         }
         if too_big {
-            errors.push(format!(
-                "photo {name:?} was not taken: it is larger than {}",
-                human_bytes(max as u64)
-            ));
+            let limit = human_bytes(max as u64);
+            errors.push(tr.t2("entry-photo-too-big", "name", &name, "limit", limit));
             continue;
         }
         if bytes.is_empty() && name.is_empty() {
@@ -337,11 +343,11 @@ async fn take_photos(
         }
         match add_one(state, id, user, name.clone(), bytes).await {
             Ok(true) => taken += 1,
-            Ok(false) => notices.push(format!("photo {name:?} is already in this entry")),
+            Ok(false) => notices.push(tr.t1("entry-photo-already", "name", &name)),
             Err(e) => errors.push(e.message),
         }
     }
-    notices.insert(0, format!("{taken} photos added."));
+    notices.insert(0, tr.t1("entry-photos-added", "n", taken));
     Ok((notices, errors))
 }
 
@@ -382,7 +388,8 @@ pub async fn photos(
     let viewer = Viewer::of(&req);
     let r = async {
         let user = user_of(&viewer)?;
-        let (notices, errors) = take_photos(&state, &path, &user, mp).await?;
+        let tr = crate::web::i18n::tr_of(&req);
+        let (notices, errors) = take_photos(&state, tr, &path, &user, mp).await?;
         let status = if errors.is_empty() {
             StatusCode::OK
         } else {
@@ -484,7 +491,8 @@ pub async fn save(
             received,
         };
         if let Err(e) = kept {
-            let s = shown(vec![format!("Nothing was changed: {}", e.message)], None);
+            let why = crate::web::i18n::tr_of(&req).t1("entry-nothing-changed", "why", &e.message);
+            let s = shown(vec![why], None);
             return show_page(&req, &state, &viewer, &path, s, e.status).await;
         }
         if action != "save" {
