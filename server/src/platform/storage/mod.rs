@@ -26,6 +26,7 @@ mod events;
 mod languages;
 mod pages;
 mod pairing;
+mod r_speed_extra;
 mod returns;
 mod schema;
 mod sources;
@@ -41,6 +42,7 @@ pub use backup::check_database;
 pub use bundles::{BundleItem, BundleRecord, NewBundle, Team};
 pub use events::{EventFilter, EventRecord, EventWrite};
 pub use pairing::PairingRecord;
+pub use r_speed_extra::{CommitStamp, CommitWatch};
 pub use returns::{
     OpenUploads, PhotoCheckRow, PhotoRow, RETURNS_MIGRATION, ReportPhotoRow, ReportRow, ResultRow,
     ReturnRecord, UploadRecord,

@@ -104,7 +104,7 @@ async fn settings_page(
     let t = SettingsPage {
         layout,
         chrome,
-        f: typed.unwrap_or_else(|| SettingsForm::of(&state.settings)),
+        f: typed.unwrap_or_else(|| SettingsForm::of(&state.settings.get())),
         languages: LANGUAGES.to_vec(),
         zones: chrono_tz::TZ_VARIANTS.iter().map(|z| z.name()).collect(),
         weight_max: WEIGHT_MAX,

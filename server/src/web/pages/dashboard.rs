@@ -781,7 +781,7 @@ async fn dashboard_page(
         (&prepared.loaded.events, &trends),
         &lists,
     );
-    t.as_of = super::common::local_time(&state.settings, figs.as_of);
+    t.as_of = super::common::local_time(&state.settings.get(), figs.as_of);
     page(&t)
 }
 
