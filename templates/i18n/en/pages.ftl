@@ -560,3 +560,7 @@ preview-col-leg = Leg (km)
 preview-issue = Issue this trip
 preview-update = Update the preview
 map-pan-zoom = { $label }: map to pan and zoom
+
+# --- dashboard map ---
+dash-map-title = Clearing events by status
+dash-map-title-capped = Clearing events by status: the { $shown } largest of { $total }

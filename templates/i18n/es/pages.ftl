@@ -558,3 +558,7 @@ preview-col-leg = Tramo (km)
 preview-issue = Emitir este viaje
 preview-update = Actualizar la vista previa
 map-pan-zoom = { $label }: mapa para desplazar y acercar
+
+# --- dashboard map ---
+dash-map-title = Eventos de desmonte por estado
+dash-map-title-capped = Eventos de desmonte por estado: los { $shown } más grandes de { $total }

@@ -558,3 +558,7 @@ preview-col-leg = Tronçon (km)
 preview-issue = Émettre cette mission
 preview-update = Mettre l’aperçu à jour
 map-pan-zoom = { $label } : carte à déplacer et agrandir
+
+# --- dashboard map ---
+dash-map-title = Événements de défrichement par état
+dash-map-title-capped = Événements de défrichement par état : les { $shown } plus grands sur { $total }

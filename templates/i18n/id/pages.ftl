@@ -558,3 +558,7 @@ preview-col-leg = Ruas (km)
 preview-issue = Terbitkan perjalanan ini
 preview-update = Perbarui pratinjau
 map-pan-zoom = { $label }: peta untuk digeser dan diperbesar
+
+# --- dashboard map ---
+dash-map-title = Kejadian pembukaan lahan menurut status
+dash-map-title-capped = Kejadian pembukaan lahan menurut status: { $shown } terbesar dari { $total }

@@ -558,3 +558,7 @@ preview-col-leg = Trecho (km)
 preview-issue = Emitir esta viagem
 preview-update = Atualizar a prévia
 map-pan-zoom = { $label }: mapa para arrastar e aproximar
+
+# --- dashboard map ---
+dash-map-title = Eventos de desmatamento por situação
+dash-map-title-capped = Eventos de desmatamento por situação: os { $shown } maiores de { $total }
