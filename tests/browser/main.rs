@@ -394,6 +394,7 @@ fn coordinator_and_manager_work_through_the_pages_in_chromium() {
         "dashboard",
         &["<svg", "Kaplan", "descriptive (response visits)"],
     );
+    dashboard_map_is_drawn(&b);
     assert_clean(&b, "dashboard");
     shots.take(&b, "dashboard");
 
@@ -407,6 +408,36 @@ fn coordinator_and_manager_work_through_the_pages_in_chromium() {
         "a manager sees no issue form"
     );
     assert_eq!(s.db.read(|r| r.bundles()).expect("bundles").len(), before);
+}
+
+/// The dashboard's pan-and-zoom map: drawn by Leaflet with the events in
+/// their status colours and a legend, the printable SVG kept in the page
+/// (hidden on screen only).
+fn dashboard_map_is_drawn(b: &Browser) {
+    let start = std::time::Instant::now();
+    let drawn = "return !!(document.querySelector('#dashboard-map.leaflet-container') \
+                 && !document.getElementById('dashboard-map').hidden);";
+    while b.script(drawn).as_bool() != Some(true) {
+        assert!(
+            start.elapsed() < std::time::Duration::from_secs(10),
+            "waited 10 s for the dashboard's map"
+        );
+        std::thread::sleep(std::time::Duration::from_millis(50));
+    }
+    let paths = b
+        .find_all("#dashboard-map .leaflet-overlay-pane path")
+        .len();
+    assert!(paths > 1, "zones and events drawn: {paths} paths");
+    let legend = b.text("#dashboard-map .map-legend");
+    assert!(legend.contains("zone"), "a legend: {legend}");
+    let svg = b.script(
+        "return getComputedStyle(document.querySelector('.map-block .static-map')).display;",
+    );
+    assert_eq!(svg.as_str(), Some("none"), "the SVG gives way on screen");
+    assert!(
+        !b.find_all(".map-block .static-map svg").is_empty(),
+        "the printable SVG stays in the page"
+    );
 }
 
 fn assert_has_login(b: &Browser) {

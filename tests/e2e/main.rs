@@ -18,6 +18,7 @@ mod languages_trips;
 mod pages;
 mod pairing;
 mod photo_times;
+mod revoked_tokens;
 mod robust_http;
 mod serving;
 mod station_entry;

@@ -552,7 +552,7 @@ mod tests {
             last(&db).3,
             "evidence.tolerance_m 100.0 → 150.0; organisation.time_zone \"UTC\" → \"Etc/GMT+4\""
         );
-        assert_eq!(live.zone().name(), "Etc/GMT+4");
+        assert_eq!(live.get().zone().name(), "Etc/GMT+4");
         let e = change_settings(&db, &live, dir.path(), &me, |_| Ok(()), 2).unwrap_err();
         assert!(e.to_string().contains("nothing changed"));
         assert_eq!(db.read(|r| r.admin_log(None, 100)).unwrap().len(), 1);

@@ -18,7 +18,9 @@ pub use crate::domain::tuning::{
 use crate::error::{Error, Result};
 use serde::{Deserialize, Serialize};
 use std::path::{Path, PathBuf};
-use std::sync::{Mutex, RwLock};
+use std::sync::atomic::{AtomicU64, Ordering};
+use std::sync::{Arc, Mutex, RwLock};
+use std::time::{Duration, Instant};
 
 /// The languages pages can be shown in (the field app's catalogues).
 pub const LANGUAGES: [&str; 5] = ["en", "pt", "es", "fr", "id"];
@@ -157,28 +159,101 @@ pub fn settings_path(data_dir: &Path) -> PathBuf {
 
 /// The settings a running server uses, changeable while it runs.
 ///
-/// Readers get a plain `&Settings` (it derefs), so the request handlers read
-/// `state.settings.priority` as before. Each change keeps the earlier value
-/// alive for the rest of the process (it is leaked: a few hundred bytes per
-/// change, made only by an admin on the settings page), so a reference a
-/// handler holds never dangles and no lock is held while it is used.
+/// [`LiveSettings::get`] hands out the values in force as an `Arc`: a
+/// handler keeps the value it took for as long as it needs it, a save swaps
+/// in a new `Arc`, and the old value is freed when its last reader drops it.
+/// A server's settings ([`LiveSettings::watching`]) also follow the file:
+/// at most every [`RECHECK`] a reader looks at the file's modification time
+/// and size, and when they changed (a save by another server on the same
+/// data directory, a hand edit) the file is read and checked again; a file
+/// that does not read or check keeps the values in force (with a warning).
 pub struct LiveSettings {
-    current: RwLock<&'static Settings>,
-    /// Serialises changes (read file, check, write, swap).
+    current: RwLock<Arc<Settings>>,
+    /// Serialises changes (read file, check, write, swap) and reloads.
     writing: Mutex<()>,
+    file: Option<Watched>,
+}
+
+/// How often a server looks whether `settings.toml` changed under it.
+pub const RECHECK: Duration = Duration::from_secs(2);
+
+/// The watched file of [`LiveSettings::watching`].
+struct Watched {
+    data_dir: PathBuf,
+    start: Instant,
+    /// Milliseconds after `start` before which nobody looks again.
+    next_look_ms: AtomicU64,
+    /// The file as last read or written (`None`: there was none).
+    mark: Mutex<Option<FileMark>>,
+}
+
+/// What tells a changed file: modification time and length.
+#[derive(Debug, Clone, PartialEq, Eq)]
+struct FileMark(std::time::SystemTime, u64);
+
+fn file_mark(path: &Path) -> Option<FileMark> {
+    let m = std::fs::metadata(path).ok()?;
+    Some(FileMark(m.modified().ok()?, m.len()))
 }
 
 impl LiveSettings {
+    /// Values that no file stands behind (tests, tools).
     pub fn new(settings: Settings) -> LiveSettings {
         LiveSettings {
-            current: RwLock::new(Box::leak(Box::new(settings))),
+            current: RwLock::new(Arc::new(settings)),
             writing: Mutex::new(()),
+            file: None,
+        }
+    }
+
+    /// The settings of `data_dir` (read from its `settings.toml` by the
+    /// caller), following the file as it changes.
+    pub fn watching(settings: Settings, data_dir: PathBuf) -> LiveSettings {
+        let mark = file_mark(&settings_path(&data_dir));
+        LiveSettings {
+            file: Some(Watched {
+                data_dir,
+                start: Instant::now(),
+                next_look_ms: AtomicU64::new(RECHECK.as_millis() as u64),
+                mark: Mutex::new(mark),
+            }),
+            ..LiveSettings::new(settings)
         }
     }
 
     /// The settings in force now.
-    pub fn get(&self) -> &'static Settings {
-        *self.current.read().unwrap_or_else(|p| p.into_inner())
+    pub fn get(&self) -> Arc<Settings> {
+        self.follow_file();
+        Arc::clone(&self.current.read().unwrap_or_else(|p| p.into_inner()))
+    }
+
+    /// Read the file again if it changed and [`RECHECK`] has passed since
+    /// the last look. Never waits: a save or a look already running wins.
+    fn follow_file(&self) {
+        let Some(w) = &self.file else { return };
+        let now_ms = w.start.elapsed().as_millis() as u64;
+        if now_ms < w.next_look_ms.load(Ordering::Relaxed) {
+            return;
+        }
+        let (Ok(_guard), Ok(mut mark)) = (self.writing.try_lock(), w.mark.try_lock()) else {
+            return;
+        };
+        w.next_look_ms
+            .store(now_ms + RECHECK.as_millis() as u64, Ordering::Relaxed);
+        let now = file_mark(&settings_path(&w.data_dir));
+        if now == *mark {
+            return;
+        }
+        *mark = now;
+        match Settings::load(&w.data_dir) {
+            Ok(s) => {
+                tracing::info!("settings.toml changed: its values are now in force");
+                *self.current.write().unwrap_or_else(|p| p.into_inner()) = Arc::new(s);
+            }
+            Err(e) => tracing::warn!(
+                "settings.toml changed but is refused, the values in force stay: {e}"
+            ),
+        }
     }
 
     /// Change the settings of `data_dir`: read the file again (a hand edit
@@ -206,16 +281,11 @@ impl LiveSettings {
         let path = settings_path(data_dir);
         let write = || write_settings_file(&path, &text);
         let out = commit(&old, &new, &write)?;
-        *self.current.write().unwrap_or_else(|p| p.into_inner()) = Box::leak(Box::new(new.clone()));
+        *self.current.write().unwrap_or_else(|p| p.into_inner()) = Arc::new(new.clone());
+        if let Some(w) = self.file.as_ref().filter(|w| w.data_dir == data_dir) {
+            *w.mark.lock().unwrap_or_else(|p| p.into_inner()) = file_mark(&path);
+        }
         Ok((new, out))
-    }
-}
-
-impl std::ops::Deref for LiveSettings {
-    type Target = Settings;
-
-    fn deref(&self) -> &Settings {
-        self.get()
     }
 }
 
@@ -333,7 +403,7 @@ mod tests {
                 },
             )
             .unwrap();
-        assert_eq!(live.evidence.tolerance_m, 250.0);
+        assert_eq!(live.get().evidence.tolerance_m, 250.0);
         assert_eq!(Settings::load(dir.path()).unwrap(), new);
         assert_eq!(new.cluster.window_days, 45);
         // A bad value: nothing written, nothing in force changes.
@@ -351,7 +421,7 @@ mod tests {
             .to_string();
         assert!(e.contains("evidence.tolerance_m"), "{e}");
         assert_eq!(std::fs::read(settings_path(dir.path())).unwrap(), before);
-        assert_eq!(live.evidence.tolerance_m, 250.0);
+        assert_eq!(live.get().evidence.tolerance_m, 250.0);
         // A commit that fails (the log could not be written): nothing in force changes.
         let r = live.update(
             dir.path(),
@@ -362,8 +432,86 @@ mod tests {
             |_, _, _| Err::<(), _>(Error::Invalid("log refused".into())),
         );
         assert!(r.is_err());
-        assert_eq!(live.evidence.tolerance_m, 250.0);
+        assert_eq!(live.get().evidence.tolerance_m, 250.0);
         assert_eq!(std::fs::read(settings_path(dir.path())).unwrap(), before);
+    }
+
+    #[test]
+    fn a_save_frees_the_old_values_once_their_last_reader_is_done() {
+        let dir = tempfile::tempdir().unwrap();
+        let live = LiveSettings::new(Settings::default());
+        let held = live.get();
+        let old = Arc::downgrade(&held);
+        let save = |m: f64| {
+            live.update(
+                dir.path(),
+                |s| {
+                    s.evidence.tolerance_m = m;
+                    Ok(())
+                },
+                |_, _, write| write(),
+            )
+            .unwrap()
+        };
+        save(120.0);
+        // A reader that took the values before the save keeps them whole.
+        assert_eq!(held.evidence.tolerance_m, 100.0);
+        assert_eq!(live.get().evidence.tolerance_m, 120.0);
+        drop(held);
+        assert!(old.upgrade().is_none(), "the old values were freed");
+        // Many saves keep one value alive, not one per save.
+        let middle = Arc::downgrade(&live.get());
+        for i in 0..50 {
+            save(130.0 + f64::from(i));
+        }
+        assert!(middle.upgrade().is_none());
+        assert_eq!(
+            Arc::strong_count(&live.get()),
+            2,
+            "the one in force and ours"
+        );
+    }
+
+    #[test]
+    fn a_server_follows_a_save_made_elsewhere_within_the_recheck() {
+        let dir = tempfile::tempdir().unwrap();
+        let live = LiveSettings::watching(Settings::default(), dir.path().to_path_buf());
+        // Another server on the same data directory saves (here: another
+        // LiveSettings writing the same file).
+        let other = LiveSettings::new(Settings::default());
+        other
+            .update(
+                dir.path(),
+                |s| {
+                    s.evidence.tolerance_m = 175.0;
+                    Ok(())
+                },
+                |_, _, write| write(),
+            )
+            .unwrap();
+        assert_eq!(
+            live.get().evidence.tolerance_m,
+            100.0,
+            "not before the recheck"
+        );
+        std::thread::sleep(RECHECK + Duration::from_millis(50));
+        assert_eq!(live.get().evidence.tolerance_m, 175.0);
+        // A broken hand edit keeps the values in force.
+        std::fs::write(settings_path(dir.path()), "[evidence\n").unwrap();
+        std::thread::sleep(RECHECK + Duration::from_millis(50));
+        assert_eq!(live.get().evidence.tolerance_m, 175.0);
+        // Our own save is in force at once.
+        std::fs::write(settings_path(dir.path()), "").unwrap();
+        live.update(
+            dir.path(),
+            |s| {
+                s.evidence.tolerance_m = 190.0;
+                Ok(())
+            },
+            |_, _, write| write(),
+        )
+        .unwrap();
+        assert_eq!(live.get().evidence.tolerance_m, 190.0);
     }
 
     #[test]

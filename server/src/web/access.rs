@@ -137,29 +137,15 @@ pub async fn resolve(
     let bearer = header("authorization").and_then(|h| auth::bearer_token(&h).map(str::to_string));
     let cookie = header("cookie")
         .and_then(|c| auth::session_token_from_cookie_header(&c).map(str::to_string));
-    let db = state.db.clone();
-    let resolved = web::block(
-        move || -> crate::Result<(Identity, Option<auth::SessionIdentity>, Option<auth::PairedBundle>)> {
-            if let Some(t) = bearer {
-                let (identity, paired) = scoped(&db, auth::authenticate_bearer(&db, &t)?)?;
-                return Ok((identity, None, paired));
-            }
-            let session = match cookie {
-                Some(t) => auth::authenticate_session(
-                    &db,
-                    &t,
-                    auth::now_unix(),
-                    &auth::AuthConfig::default(),
-                )?,
-                None => None,
-            };
-            Ok(match session {
-                Some(s) => (s.identity(), Some(s), None),
-                None => (Identity::Anonymous, None, None),
-            })
-        },
-    )
-    .await;
+    // A bearer token verified since the last commit is known without a
+    // database read or a trip to the blocking pool (`auth::VerifiedTokens`).
+    let kept = bearer
+        .as_deref()
+        .and_then(|t| state.tokens.get(&state.db, t));
+    let resolved = match kept {
+        Some(identity) => Ok(Ok((identity, None, None))),
+        None => who(&state, bearer, cookie).await,
+    };
     let (identity, session, paired) = match resolved {
         Ok(Ok(v)) => v,
         _ => {
@@ -190,6 +176,45 @@ pub async fn resolve(
     req.extensions_mut().insert(principal);
     Ok(next.call(req).await?.map_into_boxed_body())
 }
+
+/// Who the caller is, from the database: a bearer token (kept for the next
+/// requests when it may be, `auth::VerifiedTokens`) or the session cookie.
+async fn who(
+    state: &AppState,
+    bearer: Option<String>,
+    cookie: Option<String>,
+) -> Result<crate::Result<Who>, actix_web::error::BlockingError> {
+    let (db, tokens) = (state.db.clone(), state.tokens.clone());
+    web::block(move || -> crate::Result<Who> {
+        if let Some(t) = bearer {
+            // Taken before the lookup: a commit during it moves the stamp.
+            let stamp = tokens.stamp(&db);
+            let (identity, paired) = scoped(&db, auth::authenticate_bearer(&db, &t)?)?;
+            if let (Some(stamp), None) = (stamp, &paired) {
+                tokens.keep(stamp, &t, &identity);
+            }
+            return Ok((identity, None, paired));
+        }
+        let session = match cookie {
+            Some(t) => {
+                auth::authenticate_session(&db, &t, auth::now_unix(), &auth::AuthConfig::default())?
+            }
+            None => None,
+        };
+        Ok(match session {
+            Some(s) => (s.identity(), Some(s), None),
+            None => (Identity::Anonymous, None, None),
+        })
+    })
+    .await
+}
+
+/// The caller, a session's details and a paired phone's bundle.
+type Who = (
+    Identity,
+    Option<auth::SessionIdentity>,
+    Option<auth::PairedBundle>,
+);
 
 /// A phone's team token from pairing speaks for its one bundle, and for
 /// nobody once that bundle is cancelled or expired (`auth::token_scope`).

@@ -37,7 +37,7 @@ pub fn tr_of(req: &HttpRequest) -> Tr {
         .and_then(|v| v.to_str().ok());
     let default = req
         .app_data::<web::Data<AppState>>()
-        .map(|s| s.settings.organisation.default_language.clone())
+        .map(|s| s.settings.get().organisation.default_language.clone())
         .unwrap_or_else(|| "en".to_string());
     negotiate(chosen.as_deref().or(cookie.as_deref()), accept, &default)
 }

@@ -50,25 +50,28 @@ pub struct AppState {
     /// The data directory (bundles, evidence).
     pub data_dir: std::path::PathBuf,
     /// The settings in force (an admin may change them while the server
-    /// runs; `state.settings.priority` reads the current value).
+    /// runs; `state.settings.get().priority` reads the current value).
     pub settings: Arc<LiveSettings>,
     /// The statistics of the current facts, shared by every handler.
     pub stats: Arc<crate::statistics::kept::StatsCache>,
+    /// Bearer tokens verified since the last commit (`web::access::resolve`).
+    pub tokens: Arc<crate::platform::auth::VerifiedTokens>,
 }
 
 impl AppState {
     pub fn new(db: Arc<Db>, data_dir: std::path::PathBuf, settings: Settings) -> AppState {
         AppState {
             db,
+            settings: Arc::new(LiveSettings::watching(settings, data_dir.clone())),
             data_dir,
-            settings: Arc::new(LiveSettings::new(settings)),
             stats: Arc::new(crate::statistics::kept::StatsCache::new()),
+            tokens: Arc::new(crate::platform::auth::VerifiedTokens::new()),
         }
     }
 
     /// Intake's knobs for this data directory (its evidence settings).
     pub fn intake_options(&self) -> crate::intake::IntakeOptions {
-        crate::intake::IntakeOptions::from_settings(&self.settings)
+        crate::intake::IntakeOptions::from_settings(&self.settings.get())
     }
 }
 

@@ -684,3 +684,6 @@ entry-photos-added = { $n } photos added.
 entry-photo-already = photo "{ $name }" is already in this entry
 entry-photo-too-big = photo "{ $name }" was not taken: it is larger than { $limit }
 entry-nothing-changed = Nothing was changed: { $why }
+# --- dashboard map ---
+dash-map-title = Clearing events by status
+dash-map-title-capped = Clearing events by status: the { $shown } largest of { $total }

@@ -682,3 +682,6 @@ entry-photos-added = { $n } foto(s) añadida(s).
 entry-photo-already = la foto "{ $name }" ya está en esta carga
 entry-photo-too-big = la foto "{ $name }" no se aceptó: pesa más de { $limit }
 entry-nothing-changed = No se cambió nada: { $why }
+# --- dashboard map ---
+dash-map-title = Eventos de desmonte por estado
+dash-map-title-capped = Eventos de desmonte por estado: los { $shown } más grandes de { $total }

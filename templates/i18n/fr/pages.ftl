@@ -682,3 +682,6 @@ entry-photos-added = { $n } photo(s) ajoutée(s).
 entry-photo-already = la photo « { $name } » est déjà dans cette saisie
 entry-photo-too-big = la photo « { $name } » n'a pas été prise : elle dépasse { $limit }
 entry-nothing-changed = Rien n'a été modifié : { $why }
+# --- dashboard map ---
+dash-map-title = Événements de défrichement par état
+dash-map-title-capped = Événements de défrichement par état : les { $shown } plus grands sur { $total }

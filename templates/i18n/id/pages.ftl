@@ -682,3 +682,6 @@ entry-photos-added = { $n } foto ditambahkan.
 entry-photo-already = foto "{ $name }" sudah ada di isian ini
 entry-photo-too-big = foto "{ $name }" tidak diterima: lebih besar dari { $limit }
 entry-nothing-changed = Tidak ada yang diubah: { $why }
+# --- dashboard map ---
+dash-map-title = Kejadian pembukaan lahan menurut status
+dash-map-title-capped = Kejadian pembukaan lahan menurut status: { $shown } terbesar dari { $total }

@@ -682,3 +682,6 @@ entry-photos-added = { $n } foto(s) adicionada(s).
 entry-photo-already = a foto "{ $name }" já está neste lançamento
 entry-photo-too-big = a foto "{ $name }" não foi aceita: tem mais de { $limit }
 entry-nothing-changed = Nada foi alterado: { $why }
+# --- dashboard map ---
+dash-map-title = Eventos de desmatamento por situação
+dash-map-title-capped = Eventos de desmatamento por situação: os { $shown } maiores de { $total }

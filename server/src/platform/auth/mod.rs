@@ -20,6 +20,7 @@ mod password;
 mod ratelimit;
 mod session;
 mod tokens;
+mod verified;
 
 pub use access::{Action, MATRIX, Principal, allowed, matrix_markdown, may_fetch_bundle};
 pub use csrf::{CSRF_FIELD, CSRF_HEADER, csrf_token, is_same_origin, new_csrf_secret, verify_csrf};
@@ -43,6 +44,7 @@ pub use session::{
     needs_touch, session_cookie, session_state, session_token_from_cookie_header,
 };
 pub use tokens::{API_TOKEN_PREFIX, new_api_token, new_session_token, new_team_token, sha256_hex};
+pub use verified::{KEEP_FOR, MAX_KEPT, VerifiedTokens};
 
 use crate::error::Error;
 use std::str::FromStr;

@@ -28,6 +28,7 @@ mod languages;
 mod pages;
 mod pairing;
 mod pg_db;
+mod r_speed_extra;
 mod returns;
 mod schema;
 mod schema_pg;
@@ -45,6 +46,7 @@ pub use bundles::{BundleItem, BundleRecord, NewBundle, Team};
 pub use events::{EventFilter, EventRecord, EventWrite};
 pub use pairing::PairingRecord;
 pub use pg_db::scratch_postgres;
+pub use r_speed_extra::{CommitStamp, CommitWatch};
 pub use returns::{
     OpenUploads, PhotoCheckRow, PhotoRow, RETURNS_MIGRATION, ReportPhotoRow, ReportRow, ResultRow,
     ReturnRecord, UploadRecord,

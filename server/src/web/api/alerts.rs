@@ -65,7 +65,7 @@ pub async fn import(
             read,
             skip_invalid,
         };
-        import_alerts(&state.db, &req, &state.settings.cluster)
+        import_alerts(&state.db, &req, &state.settings.get().cluster)
     })
     .await??;
     Ok(HttpResponse::Ok().json(outcome))

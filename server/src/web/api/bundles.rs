@@ -165,7 +165,7 @@ pub async fn issue(
         if !req.statuses.is_empty() {
             req.reconciled = Some(crate::statistics::kept::event_statuses(&state.db)?);
         }
-        issue_bundle(&state.db, &state.data_dir, &state.settings, &req)
+        issue_bundle(&state.db, &state.data_dir, &state.settings.get(), &req)
     })
     .await??;
     let id = out.bundle.id.clone();
@@ -189,7 +189,7 @@ pub async fn preview(
         if !req.statuses.is_empty() {
             req.reconciled = Some(crate::statistics::kept::event_statuses(&state.db)?);
         }
-        plan_preview(&state.db, &state.settings, &req)
+        plan_preview(&state.db, &state.settings.get(), &req)
     })
     .await??;
     let expect: Vec<&str> = plan.stops.iter().map(|s| s.code.as_str()).collect();

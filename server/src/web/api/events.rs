@@ -67,7 +67,7 @@ pub async fn list(
                 return Err(Error::NotFound(format!("unknown zone '{z}'")));
             }
         }
-        let weights = &state.settings.priority;
+        let weights = &state.settings.get().priority;
         state
             .stats
             .events
@@ -90,7 +90,7 @@ pub async fn one(
             .db
             .read(|r| r.event_resolved(id))?
             .ok_or_else(|| Error::NotFound(format!("no event {id}")))?;
-        let priority = priority_of(&rec, &state.settings.priority, Day::today());
+        let priority = priority_of(&rec, &state.settings.get().priority, Day::today());
         Ok::<_, Error>(RankedEvent {
             record: rec,
             priority,

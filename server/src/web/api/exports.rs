@@ -10,7 +10,11 @@ pub async fn events(state: web::Data<AppState>) -> Result<HttpResponse, ApiError
     let state = state.into_inner();
     let body = web::block(move || {
         let p = state.stats.prepared(&state.db, &StatsFilter::default())?;
-        crate::statistics::kept::events_with_status(&state.db, &p.loaded, &state.settings.priority)
+        crate::statistics::kept::events_with_status(
+            &state.db,
+            &p.loaded,
+            &state.settings.get().priority,
+        )
     })
     .await??;
     Ok(HttpResponse::Ok()

@@ -147,7 +147,7 @@ pub fn actor(req: &HttpRequest) -> Result<Actor, PageError> {
 /// A log row for people: the time in the organisation's zone.
 pub fn log_row(state: &AppState, e: &AdminLogEntry) -> LogRow {
     LogRow {
-        when: super::common::local_unix(&state.settings, e.at),
+        when: super::common::local_unix(&state.settings.get(), e.at),
         actor: e.actor.clone(),
         action: e.action.clone(),
         subject: e.subject.clone(),

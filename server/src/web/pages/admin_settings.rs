@@ -102,7 +102,7 @@ async fn settings_page(
     let t = SettingsPage {
         layout,
         chrome,
-        f: typed.unwrap_or_else(|| SettingsForm::of(&state.settings)),
+        f: typed.unwrap_or_else(|| SettingsForm::of(&state.settings.get())),
         zones: chrono_tz::TZ_VARIANTS.iter().map(|z| z.name()).collect(),
         weight_max: WEIGHT_MAX,
         area_ref_max: AREA_REF_MAX_HA,

@@ -60,7 +60,7 @@ async fn teams_page(
     let db = state.db.clone();
     let (teams, tokens) =
         web::block(move || db.read(|r| Ok((r.team_states()?, r.team_tokens()?)))).await??;
-    let when = |s| local_unix(&state.settings, s);
+    let when = |s| local_unix(&state.settings.get(), s);
     let rows = teams
         .into_iter()
         .map(|t| {

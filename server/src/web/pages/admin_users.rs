@@ -66,7 +66,7 @@ async fn users_page(
             .into_iter()
             .map(|u| UserRow {
                 id: u.id,
-                created: local_unix(&state.settings, u.created_at),
+                created: local_unix(&state.settings.get(), u.created_at),
                 name: u.name,
                 role: u.role.as_str(),
                 role_label: role_label(u.role),

@@ -325,6 +325,8 @@ struct DashboardPage {
     exports: Vec<(String, String)>,
     /// The printable summary of the same period and zone.
     summary_link: String,
+    /// The events of this selection on a map (`dashboard_map`).
+    map: Option<super::live_map::LiveMap>,
 }
 
 struct AssessmentView {
@@ -450,6 +452,7 @@ fn build(
         assessment: assessment_view(f),
         exports: export_links(q, filter),
         summary_link: summary_link(q, filter),
+        map: None,
     }
 }
 
@@ -781,7 +784,12 @@ async fn dashboard_page(
         (&prepared.loaded.events, &trends),
         &lists,
     );
-    t.as_of = super::common::local_time(&state.settings, figs.as_of);
+    t.as_of = super::common::local_time(&state.settings.get(), figs.as_of);
+    let selected = &prepared.loaded.events;
+    let zone_chosen = filter.zone.is_some();
+    t.map = Some(
+        super::dashboard_map::dashboard_map(state, selected, zone_chosen, &t.layout.tr).await?,
+    );
     page(&t)
 }
 

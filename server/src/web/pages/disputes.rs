@@ -92,7 +92,7 @@ async fn disputes_page(
 ) -> Result<HttpResponse, PageError> {
     let db = state.db.clone();
     let stats = state.stats.clone();
-    let settings = state.settings.clone();
+    let settings = state.settings.get().clone();
     let disputes = web::block(move || {
         let p = stats.prepared(&db, &StatsFilter::default())?;
         let mut out = Vec::new();

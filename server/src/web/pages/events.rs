@@ -217,7 +217,7 @@ async fn load_list(state: &AppState, filter: &EventFilter) -> Result<ListData, P
     let f2 = filter.clone();
     let data = web::block(move || {
         let (zones, sources) = st.db.read(|r| Ok((r.zones()?, r.sources()?)))?;
-        let events = ranked_events(&st.db, &f2, &st.settings.priority, Day::today())?;
+        let events = ranked_events(&st.db, &f2, &st.settings.get().priority, Day::today())?;
         let statuses = std::sync::Arc::clone(
             &st.stats
                 .prepared(&st.db, &StatsFilter::default())?
@@ -323,7 +323,7 @@ async fn one_page(
         reports,
         status,
     } = load_event(state, id).await?;
-    let priority = priority_of(&rec, &state.settings.priority, Day::today());
+    let priority = priority_of(&rec, &state.settings.get().priority, Day::today());
     let ranked = RankedEvent {
         record: rec,
         priority,
@@ -361,7 +361,7 @@ async fn one_page(
         status: badge(map_status(status.as_ref())),
         status_note: status
             .as_ref()
-            .map(|s| crate::web::adjudication::readable_note(&s.note, state.settings.zone()))
+            .map(|s| crate::web::adjudication::readable_note(&s.note, state.settings.get().zone()))
             .unwrap_or_default(),
         map,
         alerts: alert_rows(&alerts, &sources),
@@ -390,7 +390,7 @@ async fn load_event(state: &AppState, id: i64) -> Result<EventData, PageError> {
             .map(|s| s.counted_reports.clone())
             .unwrap_or_default();
         let (alerts, sources, zones, reports) = st.db.read(|r| {
-            let reports = report_views(r, rec.id, &counted, &st.settings)?;
+            let reports = report_views(r, rec.id, &counted, &st.settings.get())?;
             Ok((
                 r.alerts_of_events(&[rec.id])?,
                 r.sources()?,

@@ -222,7 +222,7 @@ async fn import_alert_file(state: &AppState, mut parts: Parts) -> Result<ImportO
             },
             skip_invalid,
         };
-        import_alerts(&state.db, &req, &state.settings.cluster)
+        import_alerts(&state.db, &req, &state.settings.get().cluster)
     })
     .await??;
     Ok(outcome)

@@ -37,6 +37,7 @@ mod admin_users;
 mod assets;
 mod common;
 mod dashboard;
+mod dashboard_map;
 mod disputes;
 mod events;
 mod form;

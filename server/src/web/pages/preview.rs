@@ -84,7 +84,7 @@ fn plan(st: &AppState, mut req: TripRequest, added: Vec<i64>) -> Result<Planned,
     }
     if !added.is_empty() {
         if req.events.is_none() {
-            req.events = Some(plan_preview(&st.db, &st.settings, &req)?.selected);
+            req.events = Some(plan_preview(&st.db, &st.settings.get(), &req)?.selected);
         }
         let kept = req.events.get_or_insert_with(Vec::new);
         for a in added {
@@ -93,11 +93,11 @@ fn plan(st: &AppState, mut req: TripRequest, added: Vec<i64>) -> Result<Planned,
             }
         }
     }
-    let plan = plan_preview(&st.db, &st.settings, &req)?;
+    let plan = plan_preview(&st.db, &st.settings.get(), &req)?;
     let mut events = Vec::new();
     for id in &plan.selected {
         if let Some(rec) = st.db.read(|r| r.event_resolved(*id))? {
-            let priority = priority_of(&rec, &st.settings.priority, req.as_of);
+            let priority = priority_of(&rec, &st.settings.get().priority, req.as_of);
             events.push(RankedEvent {
                 record: rec,
                 priority,
@@ -112,7 +112,7 @@ fn plan(st: &AppState, mut req: TripRequest, added: Vec<i64>) -> Result<Planned,
         min_area_ha: req.min_area_ha,
         limit: Some(MAX_CANDIDATES_SHOWN),
     };
-    let mut others = ranked_events(&st.db, &filter, &st.settings.priority, req.as_of)?;
+    let mut others = ranked_events(&st.db, &filter, &st.settings.get().priority, req.as_of)?;
     others.retain(|o| !events.iter().any(|e| e.record.id == o.record.id));
     let zones = st.db.read(|r| r.zones())?;
     let statuses = Arc::clone(

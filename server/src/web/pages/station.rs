@@ -271,7 +271,7 @@ pub async fn received(
         return_id: doc.return_id,
         bundle_id: doc.bundle_id.to_string(),
         sha256: doc.sha256.clone(),
-        received_at: super::common::local_text(&state.settings, &doc.received_at),
+        received_at: super::common::local_text(&state.settings.get(), &doc.received_at),
         accepted,
         duplicate,
         rejected,

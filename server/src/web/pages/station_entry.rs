@@ -275,7 +275,7 @@ async fn show_page(
     let user = user_of(viewer)?;
     let (trip, d) = load(state, id, &user).await?;
     let tol = state.intake_options().tolerance_m;
-    let body = page(req, viewer, &trip, &d, tol, &state.settings, shown).render()?;
+    let body = page(req, viewer, &trip, &d, tol, &state.settings.get(), shown).render()?;
     Ok(html(status, body))
 }
 

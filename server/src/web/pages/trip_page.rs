@@ -178,7 +178,7 @@ pub fn load_trip(st: &AppState, id: &str) -> Result<TripData, Error> {
     let mut events = BTreeMap::new();
     for eid in items.iter().filter_map(|i| i.event_id) {
         if let Some(rec) = st.db.read(|r| r.event_resolved(eid))? {
-            let priority = priority_of(&rec, &st.settings.priority, Day::today());
+            let priority = priority_of(&rec, &st.settings.get().priority, Day::today());
             events.insert(
                 eid,
                 RankedEvent {
@@ -382,7 +382,14 @@ pub async fn show(
         let id = bundle_id(&path)?;
         let st = state.clone();
         let d = web::block(move || load_trip(&st, &id)).await??;
-        let t = trip_page(&req, &viewer, d, chrono::Utc::now(), None, &state.settings);
+        let t = trip_page(
+            &req,
+            &viewer,
+            d,
+            chrono::Utc::now(),
+            None,
+            &state.settings.get(),
+        );
         page(&t)
     }
     .await;

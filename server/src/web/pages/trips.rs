@@ -120,7 +120,7 @@ async fn trips_page(
         (&counts, &reported),
         may,
         chrono::Utc::now(),
-        &state.settings,
+        &state.settings.get(),
     );
     let all = rows.len();
     rows.retain(|r| {
@@ -297,7 +297,8 @@ pub(super) async fn issue_page(
         if !trip.statuses.is_empty() {
             trip.reconciled = Some(crate::statistics::kept::event_statuses(&st.db)?);
         }
-        let out: IssuedBundle = issue_bundle_in(&st.db, &st.data_dir, &st.settings, &trip, tr)?;
+        let out: IssuedBundle =
+            issue_bundle_in(&st.db, &st.data_dir, &st.settings.get(), &trip, tr)?;
         // The bundle is issued whatever happens to its first code; the
         // trip page makes another.
         let shown = pairing::make(&st.db, &out.bundle.id, &by, link_of)
@@ -311,7 +312,7 @@ pub(super) async fn issue_page(
         walking_hours: fixed(out.walking_hours, 1),
         route_method: out.route_method.clone(),
         route_note: out.route_note.clone(),
-        pairing: shown.map(|p| PairingView::of(p, &state.settings)),
+        pairing: shown.map(|p| PairingView::of(p, &state.settings.get())),
     };
     let t = trip_page(
         req,
@@ -319,7 +320,7 @@ pub(super) async fn issue_page(
         data,
         chrono::Utc::now(),
         Some(just),
-        &state.settings,
+        &state.settings.get(),
     );
     issued_response(&t)
 }
@@ -396,8 +397,8 @@ pub async fn pair(
             layout: Layout::new(&req, &viewer, "Pair a phone", "/trips"),
             id: b.id,
             team: b.team,
-            due: local_text(&state.settings, &b.due_at),
-            p: PairingView::of(shown, &state.settings),
+            due: local_text(&state.settings.get(), &b.due_at),
+            p: PairingView::of(shown, &state.settings.get()),
         };
         let mut resp = page(&t)?;
         *resp.status_mut() = StatusCode::CREATED;
