@@ -26,6 +26,7 @@ mod events;
 mod languages;
 mod pages;
 mod pairing;
+mod r_control2_extra;
 mod returns;
 mod schema;
 mod sources;
