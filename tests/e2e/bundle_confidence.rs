@@ -69,6 +69,28 @@ fn bundles_say_high_or_low_confidence_and_older_bundles_still_work() {
         "{words:?}"
     );
 
+    // The GeoPackage's events layer, as GDAL reads it.
+    let gpkg = tempfile::tempdir().unwrap();
+    let file = gpkg.path().join("bundle.gpkg");
+    let mut z = zip::ZipArchive::new(std::io::Cursor::new(&zip)).unwrap();
+    let mut bytes = Vec::new();
+    z.by_name("bundle.gpkg")
+        .unwrap()
+        .read_to_end(&mut bytes)
+        .unwrap();
+    std::fs::write(&file, bytes).unwrap();
+    // `tool` says SKIP when GDAL is missing (and fails on CI).
+    if let Some(out) =
+        groundproof_e2e::tool("ogrinfo", &["-ro", "-al", file.to_str().unwrap(), "events"])
+    {
+        let text = String::from_utf8_lossy(&out.stdout);
+        let levels = text
+            .lines()
+            .filter(|l| l.trim_start().starts_with("confidence_level (String) = "))
+            .count();
+        assert_eq!(levels, props.len(), "{text}");
+    }
+
     // As a server wrote it before: the field kit opens it and reads the
     // level from the word.
     let old = without_confidence_level(&zip);
