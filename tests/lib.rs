@@ -345,3 +345,56 @@ pub fn missing(what: &str) {
 pub fn gpx_schema() -> std::path::PathBuf {
     std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("reference/bundle/gpx-1.1.xsd")
 }
+
+/// `bundle` as a server wrote it before `confidence_level` existed (issue
+/// 14): the property taken out of every event in `events.geojson`, whose
+/// SHA-256 and size the manifest then lists again. Every other entry is
+/// copied as it is, in the same order.
+pub fn without_confidence_level(bundle: &[u8]) -> Vec<u8> {
+    use std::io::{Read, Write};
+    let mut src = zip::ZipArchive::new(std::io::Cursor::new(bundle)).expect("bundle zip");
+    let mut entries: Vec<(String, Vec<u8>)> = Vec::new();
+    for i in 0..src.len() {
+        let mut e = src.by_index(i).expect("entry");
+        let name = e.name().expect("entry name").to_string();
+        let mut bytes = Vec::new();
+        e.read_to_end(&mut bytes).expect("entry bytes");
+        entries.push((name, bytes));
+    }
+    let events = entries
+        .iter_mut()
+        .find(|(n, _)| n == "events.geojson")
+        .expect("events.geojson");
+    let mut fc: serde_json::Value = serde_json::from_slice(&events.1).expect("GeoJSON");
+    for f in fc["features"].as_array_mut().expect("features") {
+        f["properties"]
+            .as_object_mut()
+            .expect("properties")
+            .remove("confidence_level")
+            .expect("a bundle of this release has confidence_level");
+    }
+    events.1 = serde_json::to_vec(&fc).expect("JSON");
+    let (sha, size) = (
+        groundproof_sync::bundle::sha256_hex(&events.1),
+        events.1.len(),
+    );
+    let manifest = entries
+        .iter_mut()
+        .find(|(n, _)| n == "manifest.json")
+        .expect("manifest.json");
+    let mut m: serde_json::Value = serde_json::from_slice(&manifest.1).expect("manifest");
+    for e in m["entries"].as_array_mut().expect("entries") {
+        if e["name"] == "events.geojson" {
+            e["sha256"] = sha.clone().into();
+            e["size"] = size.into();
+        }
+    }
+    manifest.1 = serde_json::to_vec_pretty(&m).expect("JSON");
+    let mut out = zip::ZipWriter::new(std::io::Cursor::new(Vec::new()));
+    for (name, bytes) in entries {
+        out.start_file(name, zip::write::SimpleFileOptions::default())
+            .expect("start");
+        out.write_all(&bytes).expect("write");
+    }
+    out.finish().expect("finish").into_inner()
+}

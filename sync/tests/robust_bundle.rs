@@ -78,6 +78,43 @@ fn the_seed_bundle_opens_and_matches_the_fixture() {
 }
 
 #[test]
+fn a_bundle_written_before_confidence_level_still_opens() {
+    // The seed committed before `confidence_level` was written (the old
+    // `valid-fixture.zip`): its events carry only the words
+    // confirmed/tentative, read as high/low.
+    let seeds = common::corpus("bundle");
+    let (_, old) = seeds
+        .iter()
+        .find(|(n, _)| n == "valid-before-confidence-level.zip")
+        .expect("the older seed in the corpus");
+    let entry = |zip: &[u8]| -> String {
+        let entries = common::zip_entries(zip).expect("a ZIP");
+        let (_, bytes) = entries
+            .into_iter()
+            .find(|(n, _)| n == "events.geojson")
+            .expect("events.geojson");
+        String::from_utf8(bytes).expect("UTF-8")
+    };
+    let events = entry(old);
+    assert!(!events.contains("confidence_level"));
+    let opened = open(old).expect("an older bundle opens");
+    let levels: Vec<(&str, Option<&str>)> = opened
+        .events
+        .iter()
+        .map(|e| (e.confidence.as_str(), e.confidence_level()))
+        .collect();
+    assert!(levels.iter().all(|(w, l)| match *w {
+        "confirmed" => *l == Some("high"),
+        "tentative" => *l == Some("low"),
+        _ => false,
+    }));
+    assert!(levels.iter().any(|(_, l)| *l == Some("low")), "{levels:?}");
+    // The new fixture writes the level beside the word.
+    let (bytes, _) = common::bundle_bytes();
+    assert!(entry(&bytes).contains("\"confidence_level\":\"low\""));
+}
+
+#[test]
 fn the_entry_helper_keeps_an_undamaged_bundle_valid() {
     let (bytes, _) = common::bundle_bytes();
     for k in 0..12 {

@@ -3,7 +3,7 @@
 // and the signed return (saved as a file or sent to the office).
 
 import * as store from './store.js';
-import { openBundle, BundleError } from './bundle.js';
+import { openBundle, BundleError, confidenceLevel } from './bundle.js';
 import { distanceBearing } from './geo.js';
 import { makeReport, validateReport, ReportProblem, MAX_PHOTO_BYTES, outcomesFor, takesCause, takesArea } from './report.js';
 import { packReturn } from './returnpkg.js';
@@ -344,6 +344,12 @@ function viewTrip() {
   ];
 }
 
+// "high"/"low" alert confidence ("confirmed" is only ever a visit's outcome).
+function confidenceText(s) {
+  const level = s.confidence_level ?? confidenceLevel(s.confidence);
+  return level ? t(`stop.confidence_${level}`) : s.confidence;
+}
+
 function viewStop() {
   const s = state.stop;
   const reps = reportsFor(s.code);
@@ -353,6 +359,8 @@ function viewStop() {
       [t('stop.last_detected'), date(s.last_detected)],
       [t('stop.area'), t('stop.area_value', { n: number(s.area_ha, 2) })],
       [t('stop.sources'), s.sources.join(', ')],
+      // A trip kept from an older app has only the word: its level is read here.
+      [t('stop.confidence'), h('span', { id: 'stop-confidence' }, confidenceText(s))],
     ]
     : [];
   facts.push([t('stop.target'), `${s.lat.toFixed(6)}, ${s.lon.toFixed(6)}`]);

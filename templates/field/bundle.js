@@ -165,6 +165,15 @@ function checkKey(k, manifest) {
 const lonLat = (c) => Array.isArray(c) && c.length >= 2 && Number.isFinite(c[0]) && Number.isFinite(c[1])
   && c[0] >= -180 && c[0] <= 180 && c[1] >= -90 && c[1] <= 90;
 
+// The alert confidence level, 'high' or 'low', of a confidence word (as the
+// sync crate's confidence_level): bundles written before `confidence_level`
+// carry only the words confirmed/tentative. null for another word.
+export function confidenceLevel(word) {
+  if (word === 'confirmed' || word === 'high') return 'high';
+  if (word === 'tentative' || word === 'low') return 'low';
+  return null;
+}
+
 // Events, control points and start from the two GeoJSON entries (parse_places).
 function parsePlaces(eventsFc, pointsFc) {
   const ev = (r) => new BundleError('bundle.bad_entry', { name: EVENTS_GEOJSON }, `${EVENTS_GEOJSON}: ${r}`);
@@ -180,6 +189,8 @@ function parsePlaces(eventsFc, pointsFc) {
     if (!(Number.isFinite(p.area_ha) && p.area_ha >= 0)) throw ev(`event ${p.code}: area_ha`);
     if (!Array.isArray(p.sources) || p.sources.length === 0) throw ev(`event ${p.code}: sources`);
     if (!Number.isInteger(p.visit_order) || p.visit_order < 0) throw ev(`event ${p.code}: visit_order`);
+    const level = confidenceLevel(p.confidence);
+    if (p.confidence_level !== undefined && (p.confidence_level !== level || level === null)) throw ev(`event ${p.code}: confidence_level`);
     if (g.type !== 'MultiPolygon' || !Array.isArray(g.coordinates) || g.coordinates.length === 0) throw ev(`event ${p.code}: footprint`);
     for (const poly of g.coordinates) for (const ring of poly) {
       if (!Array.isArray(ring) || ring.length < 4 || !ring.every(lonLat)) throw ev(`event ${p.code}: footprint ring`);
@@ -187,7 +198,7 @@ function parsePlaces(eventsFc, pointsFc) {
     return {
       code: p.code, event_id: p.event_id, area_ha: p.area_ha,
       first_detected: p.first_detected, last_detected: p.last_detected,
-      sources: p.sources, confidence: p.confidence, corroborated: !!p.corroborated,
+      sources: p.sources, confidence: p.confidence, confidence_level: level, corroborated: !!p.corroborated,
       visit_order: p.visit_order, stratum: p.stratum ?? null,
       footprint: g.coordinates, lat: null, lon: null,
     };

@@ -246,3 +246,111 @@ fn field_app_offers_control_points_their_own_outcomes() {
         }
     }
 }
+
+/// Waits until `expr` (a JavaScript expression) is truthy and returns it.
+fn wait_until(b: &Browser, expr: &str, what: &str) -> Value {
+    let start = Instant::now();
+    loop {
+        let v = b.script(&format!("return {expr};"));
+        if !(v.is_null() || v == json!(false) || v == json!("")) {
+            return v;
+        }
+        assert!(
+            start.elapsed() < Duration::from_secs(30),
+            "waiting for {what}: {:#?}",
+            b.console()
+        );
+        std::thread::sleep(Duration::from_millis(100));
+    }
+}
+
+/// Issue 14: the app shows an alert's confidence as "high" or "low", read
+/// from `confidence_level`, and from the word in a bundle written before
+/// that field, which still opens.
+#[test]
+fn field_app_shows_high_or_low_confidence_also_for_an_older_bundle() {
+    let b = match Browser::start() {
+        Ok(b) => b,
+        Err(e) => {
+            groundproof_e2e::missing(&e.to_string());
+            return;
+        }
+    };
+    let s = TestServer::start();
+    load_scenario(&s);
+    let station = mock_patrols::scenario().station;
+    let r = post_json(
+        &s.url("/api/v1/bundles"),
+        &json!({"team": "Team Basalt", "zone": "Core", "max": 10,
+                "start": {"lat": station.1, "lon": station.0}}),
+    );
+    assert_eq!(r.status, 201, "{}", r.body);
+    let (status, zip) = get_bytes(&s.url(r.json()["download"].as_str().expect("download")));
+    assert_eq!(status, 200);
+    let dir = tempfile::tempdir().expect("dir");
+    let path = dir.path().join("bundle.zip");
+    std::fs::write(&path, &zip).expect("saved");
+    let bundle = open_bundle(&path, chrono::Utc::now()).expect("opens");
+    let levels: Vec<&str> = bundle
+        .events
+        .iter()
+        .map(|e| e.confidence_level().expect("a level"))
+        .collect();
+    // The phone's position, so that the app asks no network for one.
+    b.goto(&s.url("/field/"));
+    b.cdp(
+        "Browser.grantPermissions",
+        json!({"origin": s.url(""), "permissions": ["geolocation"]}),
+    );
+    b.cdp(
+        "Emulation.setGeolocationOverride",
+        json!({"latitude": station.1, "longitude": station.0, "accuracy": 7}),
+    );
+    b.goto(&s.url("/field/"));
+    wait_until(&b, "document.body.dataset.ready === 'yes'", "the app");
+
+    // The new bundle through the app's reader: the level as written.
+    let b64 = base64::Engine::encode(&base64::engine::general_purpose::STANDARD, &zip);
+    b.script(&format!(
+        "window.__levels = null;\
+         import('/field/bundle.js').then(async (m) => {{\
+           const bytes = Uint8Array.from(atob('{b64}'), (c) => c.charCodeAt(0));\
+           const t = await m.openBundle(bytes);\
+           window.__levels = t.events.map((e) => e.confidence_level);\
+         }}).catch((e) => {{ window.__levels = String(e); }});\
+         return true;"
+    ));
+    let got = wait_until(&b, "window.__levels", "the new bundle read");
+    let mut want: Vec<(String, &str)> = bundle
+        .events
+        .iter()
+        .zip(&levels)
+        .map(|(e, l)| (e.code.clone(), *l))
+        .collect();
+    want.sort();
+    assert_eq!(got, json!(levels));
+
+    // The older bundle, opened as a team would: the stop page says it.
+    let old = dir.path().join("older.zip");
+    std::fs::write(&old, groundproof_e2e::without_confidence_level(&zip)).expect("saved");
+    b.choose_file("#bundle-file", &old);
+    wait_until(&b, "document.getElementById('cautions')", "the cautions");
+    b.click("#cautions-ok");
+    wait_until(&b, "document.getElementById('stops')", "the stops");
+    let (code, level) = &want[0];
+    b.click(&format!("#stops > li[data-code='{code}'] .row"));
+    let shown = wait_until(
+        &b,
+        "document.getElementById('stop-confidence') && document.getElementById('stop-confidence').textContent",
+        "the stop's confidence",
+    );
+    assert_eq!(shown, json!(level), "{code}");
+    assert!(b.text("main").contains("Alert confidence"));
+    let errors: Vec<String> = b
+        .console()
+        .into_iter()
+        .filter(|m| m.level == "SEVERE")
+        .map(|m| m.message)
+        .collect();
+    assert!(errors.is_empty(), "{errors:#?}");
+}

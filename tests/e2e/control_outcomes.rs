@@ -45,6 +45,48 @@ fn control_stratum(s: &TestServer) -> Value {
     strata[0].clone()
 }
 
+/// The area estimate after the field kit's return: of the control stratum's
+/// two respondents, one found a 0.8 ha clearing (0.8 of its 1 ha plot) and
+/// one none, and no sampled event has been visited, so the cleared area is
+/// A_control · (0.8 + 0)/2 (by hand; the whole plot would give 0.5 · A).
+/// The dashboard shows that figure, the recorded area and each kind of
+/// non-response; the CSV export has them in columns.
+fn cleared_area_uses_the_recorded_area(s: &TestServer, st: &Value) {
+    let a = get(&s.url("/api/v1/stats/assessment")).json();
+    let area = &a["assessment"]["area"];
+    let mapped = st["mapped_area_ha"].as_f64().unwrap();
+    assert!((area["area_covered_ha"].as_f64().unwrap() - mapped).abs() < 1e-6 * mapped);
+    let cleared = area["clearing_area_ha"]["estimate"].as_f64().unwrap();
+    assert!(
+        (cleared - 0.4 * mapped).abs() < 1e-9 * mapped,
+        "{cleared} of {mapped}: {area}"
+    );
+    let page = get(&s.url("/dashboard")).body;
+    let shown = format!("{cleared:.1} (SE");
+    assert!(page.contains(&shown), "{shown} not on the dashboard");
+    let doc = scraper::Html::parse_document(&page);
+    let row = scraper::Selector::parse("#control-points + table tbody tr td").unwrap();
+    let cells: Vec<String> = doc.select(&row).map(|c| c.text().collect()).collect();
+    assert_eq!(cells, ["control", "4", "1", "1", "1", "1", "0", "0.80"]);
+    assert!(page.contains("Inconclusive visits, points not reached and points not yet visited"));
+    let csv = get(&s.url("/api/v1/stats/control-points?format=csv")).body;
+    let mut lines = csv.lines();
+    assert!(
+        lines
+            .next()
+            .unwrap()
+            .starts_with("stratum,selected,clearing_found,no_clearing_found,inconclusive,not_reached,unvisited,clearing_area_recorded_ha"),
+        "{csv}"
+    );
+    assert!(
+        lines
+            .next()
+            .unwrap()
+            .starts_with("control,4,1,1,1,1,0,0.800000,"),
+        "{csv}"
+    );
+}
+
 /// A report on control point `code` as a checklist 1 field kit wrote it.
 fn v1_report(snap: &Snapshot, code: &str, outcome: &str, photos: &[PathBuf]) -> Report {
     let c = snap.controls.iter().find(|c| c.code == code).unwrap();
@@ -176,6 +218,31 @@ fn control_outcomes_go_through_a_return_into_the_assessment() {
         &at1,
     ];
     field(&none).unwrap();
+    // Visited without a finding, and not reached: two kinds, counted apart.
+    let unsure = [
+        "--workspace",
+        w,
+        "report",
+        &codes[2],
+        "--outcome",
+        "inconclusive",
+        "--at",
+        &at1,
+    ];
+    field(&unsure).unwrap();
+    let away = [
+        "--workspace",
+        w,
+        "report",
+        &codes[3],
+        "--outcome",
+        "not_reached",
+        "--reason",
+        "terrain",
+        "--at",
+        &at1,
+    ];
+    field(&away).unwrap();
     let old = [
         "--workspace",
         w,
@@ -193,18 +260,29 @@ fn control_outcomes_go_through_a_return_into_the_assessment() {
 
     let token = groundproof_e2e::admin_token(&s);
     let summary = push(&ws, &s.url(""), Some(&token), &fast_push()).unwrap();
-    assert_eq!((summary.accepted, summary.rejected.len()), (2, 0));
+    assert_eq!((summary.accepted, summary.rejected.len()), (4, 0));
     let st = control_stratum(&s);
     assert_eq!(
         (
             &st["selected"],
             &st["clearing"],
             &st["no_clearing"],
-            &st["not_reached"]
+            &st["inconclusive"],
+            &st["not_reached"],
+            &st["unvisited"]
         ),
-        (&json!(4), &json!(1), &json!(1), &json!(2)),
+        (
+            &json!(4),
+            &json!(1),
+            &json!(1),
+            &json!(1),
+            &json!(1),
+            &json!(0)
+        ),
         "{st}"
     );
+    assert_eq!(st["clearing_area_recorded_ha"], json!(0.8), "{st}");
+    cleared_area_uses_the_recorded_area(&s, &st);
     let rows = s.db.read(|r| r.report_facts()).unwrap();
     let found_row = rows
         .iter()
@@ -246,8 +324,19 @@ fn control_outcomes_go_through_a_return_into_the_assessment() {
     assert!(st1.iter().all(|(s, _)| s == "accepted"), "{st1:?}");
     let st = control_stratum(&s);
     assert_eq!(
-        (&st["clearing"], &st["no_clearing"], &st["not_reached"]),
-        (&json!(2), &json!(2), &json!(0)),
+        (
+            &st["clearing"],
+            &st["no_clearing"],
+            &st["inconclusive"],
+            &st["not_reached"]
+        ),
+        (&json!(2), &json!(2), &json!(0), &json!(0)),
+        "{st}"
+    );
+    // The checklist 1 clearing has no area: it counts as its whole plot.
+    assert_eq!(st["clearing_without_area"], json!(1), "{st}");
+    assert!(
+        (st["cleared_plots"].as_f64().unwrap() - 1.8).abs() < 1e-12,
         "{st}"
     );
     let rows = s.db.read(|r| r.report_facts()).unwrap();
@@ -259,7 +348,9 @@ fn control_outcomes_go_through_a_return_into_the_assessment() {
             "clearing_found",
             "confirmed",
             "false_alarm",
-            "no_clearing_found"
+            "inconclusive",
+            "no_clearing_found",
+            "not_reached"
         ]
     );
     // Every control point answered: the error matrix has its no-alert row.

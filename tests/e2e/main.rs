@@ -4,6 +4,7 @@ mod access;
 mod admin;
 mod alerts_api;
 mod backup;
+mod bundle_confidence;
 mod bundles;
 mod control_outcomes;
 mod demo_story;

@@ -58,6 +58,9 @@ fn event_properties(e: &BundleEvent) -> JsonObject {
     p.insert("last_detected".into(), e.last_detected.clone().into());
     p.insert("sources".into(), e.sources.clone().into());
     p.insert("confidence".into(), e.confidence.clone().into());
+    if let Some(level) = e.confidence_level() {
+        p.insert("confidence_level".into(), level.into());
+    }
     p.insert("corroborated".into(), e.corroborated.into());
     p.insert("priority".into(), e.priority.into());
     p.insert("visit_order".into(), e.visit_order.into());
@@ -274,6 +277,7 @@ pub fn parse_events(bytes: &[u8]) -> Result<Vec<BundleEvent>, String> {
             let p = Props::of(f, i)?;
             let footprint =
                 to_multipolygon(geometry_value(f, i)?).map_err(|e| format!("{}: {e}", p.at))?;
+            check_confidence_level(&p)?;
             Ok(BundleEvent {
                 code: p.str("code")?,
                 event_id: p.i64("event_id")?,
@@ -292,6 +296,26 @@ pub fn parse_events(bytes: &[u8]) -> Result<Vec<BundleEvent>, String> {
             })
         })
         .collect()
+}
+
+/// `confidence_level` is optional (bundles written before it have none and
+/// are read through [`super::confidence_level`]); when present it must be
+/// `high` or `low` and agree with `confidence`.
+fn check_confidence_level(p: &Props<'_>) -> Result<(), String> {
+    let Some(level) = p.opt_str("confidence_level")? else {
+        return Ok(());
+    };
+    let word = p.str("confidence")?;
+    match (
+        super::confidence_level(&level),
+        super::confidence_level(&word),
+    ) {
+        (Some(l), Some(w)) if l == level && l == w => Ok(()),
+        _ => Err(format!(
+            "{}: confidence_level {level:?} must be \"high\" or \"low\" and agree with confidence {word:?}",
+            p.at
+        )),
+    }
 }
 
 /// What `points.geojson` holds.
@@ -421,5 +445,29 @@ mod tests {
         let err = parse_points(wrong).expect_err("start without name");
         assert!(err.contains("\"name\""), "{err}");
         assert!(parse_points(b"[]").is_err());
+    }
+
+    #[test]
+    fn confidence_level_is_written_and_older_events_still_read() {
+        let e = event();
+        let text = String::from_utf8(events_geojson(std::slice::from_ref(&e))).expect("utf8");
+        assert!(text.contains("\"confidence_level\":\"high\""), "{text}");
+        // As a bundle written before the field: no confidence_level at all.
+        let old = text.replace(",\"confidence_level\":\"high\"", "");
+        assert!(!old.contains("confidence_level"));
+        let back = parse_events(old.as_bytes()).expect("an older bundle still reads");
+        assert_eq!(back[0].confidence_level(), Some("high"));
+        let low = old.replace("\"confirmed\"", "\"tentative\"");
+        let back = parse_events(low.as_bytes()).expect("tentative");
+        assert_eq!(back[0].confidence_level(), Some("low"));
+        // A level that contradicts the word, or a word of its own, is refused.
+        for bad in ["\"low\"", "\"confirmed\"", "3"] {
+            let t = text.replace(
+                "\"confidence_level\":\"high\"",
+                &format!("\"confidence_level\":{bad}"),
+            );
+            let err = parse_events(t.as_bytes()).expect_err(bad);
+            assert!(err.contains("confidence_level"), "{err}");
+        }
     }
 }

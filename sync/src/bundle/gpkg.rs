@@ -117,8 +117,11 @@ pub fn gpb_multipolygon(mp: &MultiPolygon<f64>, srs_id: i32) -> Vec<u8> {
 /// The property columns shared by both layers (GeoPackage column types, Req 5).
 const EVENT_COLUMNS: &str = "\"code\" TEXT, \"event_id\" INTEGER, \"area_ha\" DOUBLE, \
     \"first_detected\" DATE, \"last_detected\" DATE, \"sources\" TEXT, \"confidence\" TEXT, \
-    \"corroborated\" BOOLEAN, \"priority\" DOUBLE, \"visit_order\" INTEGER, \
+    \"confidence_level\" TEXT, \"corroborated\" BOOLEAN, \"priority\" DOUBLE, \"visit_order\" INTEGER, \
     \"inclusion_probability\" DOUBLE, \"stratum\" TEXT";
+
+/// How many columns [`EVENT_COLUMNS`] names.
+const EVENT_COLUMN_COUNT: usize = 13;
 
 const CORE_DDL: &str = "
 CREATE TABLE gpkg_spatial_ref_sys (
@@ -228,6 +231,7 @@ fn event_columns(
         opt(ev.map(|e| text(&e.last_detected))),
         opt(ev.map(|e| Value::Text(e.sources.join(",")))),
         opt(ev.map(|e| text(&e.confidence))),
+        opt(ev.and_then(|e| e.confidence_level()).map(text)),
         opt(ev.map(|e| Value::Integer(i64::from(e.corroborated)))),
         opt(ev.map(|e| Value::Real(e.priority))),
         Value::Integer(i64::from(visit_order)),
@@ -378,7 +382,7 @@ fn insert_point_features(
         start.point,
         "start",
         start.name.as_str(),
-        vec![Value::Null; 12],
+        vec![Value::Null; EVENT_COLUMN_COUNT],
     );
     for (i, (p, kind, name, cols)) in event_points
         .chain(control_points)
@@ -515,5 +519,14 @@ mod tests {
         gdal.sort_unstable();
         ours.sort_unstable();
         assert_eq!(ours, gdal);
+    }
+
+    #[test]
+    fn every_row_has_a_value_per_column() {
+        assert_eq!(EVENT_COLUMNS.matches('"').count() / 2, EVENT_COLUMN_COUNT);
+        assert_eq!(
+            event_columns(None, "C0001", 1, None).len(),
+            EVENT_COLUMN_COUNT
+        );
     }
 }

@@ -100,13 +100,13 @@ fn event_waypoint(e: &BundleEvent) -> Waypoint<'_> {
         name: e.code.clone(),
         cmt: Some(format!("{:.1} ha, last {}", e.area_ha, e.last_detected)),
         desc: format!(
-            "Clearing event {}: area {:.2} ha; detected {} to {}; sources {}; confidence {}{}; visit {}",
+            "Clearing event {}: area {:.2} ha; detected {} to {}; sources {}; {} alert confidence{}; visit {}",
             e.code,
             e.area_ha,
             e.first_detected,
             e.last_detected,
             e.sources.join(", "),
-            e.confidence,
+            e.confidence_level().unwrap_or(&e.confidence),
             corroborated,
             e.visit_order
         ),
@@ -382,6 +382,14 @@ mod tests {
             ),
             "{a}"
         );
+    }
+
+    #[test]
+    fn descriptions_say_high_or_low_alert_confidence() {
+        // "confirmed" is a visit's outcome: the description names the level.
+        let a = gpx_of(1);
+        assert!(a.contains("; high alert confidence;"), "{a}");
+        assert!(!a.contains("confidence confirmed"), "{a}");
     }
 
     #[test]

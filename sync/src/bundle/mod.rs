@@ -61,8 +61,8 @@ pub use names::{
 };
 pub use read::{OpenedBundle, open_bundle, open_bundle_with_limits};
 pub use types::{
-    BundleEvent, BundleHeader, CHECKLIST_VERSION, CameraZone, Checklist, ControlPoint, ExtraEntry,
-    MAX_TEXT_CHARS, MODE_ASSESSMENT, MODE_RESPONSE, StartPoint, is_valid_code, is_valid_date,
-    parse_utc_offset,
+    BundleEvent, BundleHeader, CHECKLIST_VERSION, CONFIDENCE_HIGH, CONFIDENCE_LOW, CameraZone,
+    Checklist, ControlPoint, ExtraEntry, MAX_TEXT_CHARS, MODE_ASSESSMENT, MODE_RESPONSE,
+    StartPoint, confidence_level, is_valid_code, is_valid_date, parse_utc_offset,
 };
 pub use write::write_bundle;

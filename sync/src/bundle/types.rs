@@ -42,7 +42,10 @@ pub struct BundleEvent {
     pub last_detected: String,
     /// Alert sources that saw it, e.g. `optical-10m`.
     pub sources: Vec<String>,
-    /// Confidence of the event, e.g. `confirmed` or `tentative`.
+    /// Confidence of the event as the server stores it, `confirmed` or
+    /// `tentative` (the alert files' words); people read it as "high" or
+    /// "low" confidence ([`BundleEvent::confidence_level`]), written beside it
+    /// as `confidence_level`, because "confirmed" is a visit's outcome.
     pub confidence: String,
     /// Whether two or more independent sources agree.
     pub corroborated: bool,
@@ -54,6 +57,30 @@ pub struct BundleEvent {
     pub inclusion_probability: Option<f64>,
     /// Stratum of an assessment sample.
     pub stratum: Option<String>,
+}
+
+/// The alert confidence level, `high` or `low`, of a confidence word:
+/// `confirmed` (or `high`) is high, `tentative` (or `low`) is low; `None`
+/// for any other word. A bundle written before `confidence_level` existed
+/// is read through this.
+pub fn confidence_level(word: &str) -> Option<&'static str> {
+    match word {
+        "confirmed" | "high" => Some(CONFIDENCE_HIGH),
+        "tentative" | "low" => Some(CONFIDENCE_LOW),
+        _ => None,
+    }
+}
+
+/// The word of a high alert confidence level.
+pub const CONFIDENCE_HIGH: &str = "high";
+/// The word of a low alert confidence level.
+pub const CONFIDENCE_LOW: &str = "low";
+
+impl BundleEvent {
+    /// "high" or "low" (see [`confidence_level`]).
+    pub fn confidence_level(&self) -> Option<&'static str> {
+        confidence_level(&self.confidence)
+    }
 }
 
 /// A random location with no alert, visited to measure what the alerts miss.

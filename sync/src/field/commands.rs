@@ -202,7 +202,10 @@ fn show(ws: &Path, code: &str, from: Option<&str>) -> Result<(), SyncError> {
             println!("  area         {:.2} ha", e.area_ha);
             println!("  detected     {} .. {}", e.first_detected, e.last_detected);
             println!("  sources      {}", e.sources.join(", "));
-            println!("  confidence   {}", e.confidence);
+            println!(
+                "  alert confidence {}",
+                crate::bundle::confidence_level(&e.confidence).unwrap_or(&e.confidence)
+            );
             println!(
                 "  corroborated {}",
                 if e.corroborated { "yes" } else { "no" }

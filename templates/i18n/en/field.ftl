@@ -207,3 +207,8 @@ problem-storage_no_room = This report and its photos need { $need }, and only { 
 form-area_control = Area of the clearing, estimated (hectares)
 outcome-no_clearing_found = No clearing here
 outcome-clearing_found = Clearing found (no alert here)
+
+# --- confidence words ---
+stop-confidence = Alert confidence
+stop-confidence_high = high
+stop-confidence_low = low

@@ -687,3 +687,8 @@ entry-nothing-changed = Nothing was changed: { $why }
 # --- dashboard map ---
 dash-map-title = Clearing events by status
 dash-map-title-capped = Clearing events by status: the { $shown } largest of { $total }
+# --- control points: outcomes and cleared area ---
+dash-controls = Control points (no alert)
+dash-col-clearing-area-recorded = Clearing area the teams estimated (ha)
+dash-controls-non-response = Only "Clearing found" and "No clearing here" are observations of a control stratum. Inconclusive visits, points not reached and points not yet visited are left out of the estimates; each is counted apart here.
+dash-controls-area = Each control point stands for a plot of { $plot } ha. In the cleared area and the accuracies, a clearing found at a point counts for the share of the plot its estimated area covers (a 0.3 ha clearing is 0.3 of a 1 ha plot); a clearing larger than the plot, or one with no area recorded (older checklist), counts as the whole plot.

@@ -207,3 +207,8 @@ problem-storage_no_room = Este informe y sus fotos necesitan { $need }, y solo q
 form-area_control = Superficie del desmonte, estimada (hectáreas)
 outcome-no_clearing_found = Aquí no hay desmonte
 outcome-clearing_found = Desmonte encontrado (sin alerta aquí)
+
+# --- confidence words ---
+stop-confidence = Confianza de la alerta
+stop-confidence_high = alta
+stop-confidence_low = baja

@@ -685,3 +685,8 @@ entry-nothing-changed = No se cambió nada: { $why }
 # --- dashboard map ---
 dash-map-title = Eventos de desmonte por estado
 dash-map-title-capped = Eventos de desmonte por estado: los { $shown } más grandes de { $total }
+# --- control points: outcomes and cleared area ---
+dash-controls = Puntos de control (sin alerta)
+dash-col-clearing-area-recorded = Área de desmonte estimada por los equipos (ha)
+dash-controls-non-response = Solo «Desmonte encontrado» y «Aquí no hay desmonte» son observaciones de un estrato de control. Las visitas sin conclusión, los puntos no alcanzados y los puntos aún sin visitar quedan fuera de las estimaciones; cada grupo se cuenta aquí por separado.
+dash-controls-area = Cada punto de control representa una parcela de { $plot } ha. En el área desmontada y en las exactitudes, un desmonte encontrado en un punto cuenta por la parte de la parcela que cubre su área estimada (un desmonte de 0,3 ha es 0,3 de una parcela de 1 ha); un desmonte mayor que la parcela, o sin área anotada (lista anterior), cuenta como la parcela entera.

@@ -207,3 +207,8 @@ problem-storage_no_room = Ce rapport et ses photos demandent { $need }, et il ne
 form-area_control = Surface du défrichement, estimée (hectares)
 outcome-no_clearing_found = Pas de défrichement ici
 outcome-clearing_found = Défrichement trouvé (aucune alerte ici)
+
+# --- confidence words ---
+stop-confidence = Confiance de l'alerte
+stop-confidence_high = haute
+stop-confidence_low = faible

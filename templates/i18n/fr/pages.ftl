@@ -685,3 +685,8 @@ entry-nothing-changed = Rien n'a été modifié : { $why }
 # --- dashboard map ---
 dash-map-title = Événements de défrichement par état
 dash-map-title-capped = Événements de défrichement par état : les { $shown } plus grands sur { $total }
+# --- control points: outcomes and cleared area ---
+dash-controls = Points de contrôle (sans alerte)
+dash-col-clearing-area-recorded = Surface défrichée estimée par les équipes (ha)
+dash-controls-non-response = Seuls « Défrichement trouvé » et « Pas de défrichement ici » sont des observations d'une strate de contrôle. Les visites sans conclusion, les points non atteints et les points pas encore visités restent hors des estimations ; chaque groupe est compté ici à part.
+dash-controls-area = Chaque point de contrôle représente une parcelle de { $plot } ha. Dans la surface défrichée et les précisions, un défrichement trouvé à un point compte pour la part de la parcelle que couvre sa surface estimée (un défrichement de 0,3 ha vaut 0,3 d'une parcelle de 1 ha) ; un défrichement plus grand que la parcelle, ou sans surface notée (ancienne liste), compte pour la parcelle entière.

@@ -207,3 +207,8 @@ problem-storage_no_room = Laporan ini beserta fotonya perlu { $need }, dan ruang
 form-area_control = Luas pembukaan lahan, perkiraan (hektare)
 outcome-no_clearing_found = Tidak ada pembukaan lahan di sini
 outcome-clearing_found = Pembukaan lahan ditemukan (tanpa peringatan di sini)
+
+# --- confidence words ---
+stop-confidence = Keyakinan peringatan
+stop-confidence_high = tinggi
+stop-confidence_low = rendah

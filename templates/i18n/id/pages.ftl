@@ -685,3 +685,8 @@ entry-nothing-changed = Tidak ada yang diubah: { $why }
 # --- dashboard map ---
 dash-map-title = Kejadian pembukaan lahan menurut status
 dash-map-title-capped = Kejadian pembukaan lahan menurut status: { $shown } terbesar dari { $total }
+# --- control points: outcomes and cleared area ---
+dash-controls = Titik kontrol (tanpa peringatan)
+dash-col-clearing-area-recorded = Luas pembukaan lahan menurut perkiraan tim (ha)
+dash-controls-non-response = Hanya "Pembukaan lahan ditemukan" dan "Tidak ada pembukaan lahan di sini" yang menjadi pengamatan strata kontrol. Kunjungan tanpa kesimpulan, titik yang tidak tercapai, dan titik yang belum dikunjungi tidak dipakai dalam perkiraan; masing-masing dihitung terpisah di sini.
+dash-controls-area = Setiap titik kontrol mewakili petak seluas { $plot } ha. Dalam luas pembukaan lahan dan akurasi, pembukaan lahan yang ditemukan di suatu titik dihitung sebesar bagian petak yang tertutup oleh luas perkiraannya (pembukaan 0,3 ha adalah 0,3 dari petak 1 ha); pembukaan yang lebih besar dari petak, atau tanpa luas tercatat (daftar periksa lama), dihitung sebagai seluruh petak.

@@ -207,3 +207,8 @@ problem-storage_no_room = Este relatório e suas fotos precisam de { $need }, e 
 form-area_control = Área do desmatamento, estimada (hectares)
 outcome-no_clearing_found = Nenhum desmatamento aqui
 outcome-clearing_found = Desmatamento encontrado (sem alerta aqui)
+
+# --- confidence words ---
+stop-confidence = Confiança do alerta
+stop-confidence_high = alta
+stop-confidence_low = baixa

@@ -685,3 +685,8 @@ entry-nothing-changed = Nada foi alterado: { $why }
 # --- dashboard map ---
 dash-map-title = Eventos de desmatamento por situação
 dash-map-title-capped = Eventos de desmatamento por situação: os { $shown } maiores de { $total }
+# --- control points: outcomes and cleared area ---
+dash-controls = Pontos de controle (sem alerta)
+dash-col-clearing-area-recorded = Área desmatada estimada pelas equipes (ha)
+dash-controls-non-response = Só "Desmatamento encontrado" e "Nenhum desmatamento aqui" são observações de um estrato de controle. Visitas sem conclusão, pontos não alcançados e pontos ainda não visitados ficam fora das estimativas; cada grupo é contado aqui à parte.
+dash-controls-area = Cada ponto de controle representa uma parcela de { $plot } ha. Na área desmatada e nas exatidões, um desmatamento encontrado num ponto conta pela parte da parcela que sua área estimada cobre (um desmatamento de 0,3 ha é 0,3 de uma parcela de 1 ha); um desmatamento maior que a parcela, ou sem área anotada (lista antiga), conta como a parcela inteira.

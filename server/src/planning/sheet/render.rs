@@ -3,7 +3,8 @@
 
 use askama::Template;
 use groundproof_sync::bundle::{
-    BundleEvent, BundleHeader, Checklist, ControlPoint, MODE_ASSESSMENT, StartPoint, is_valid_code,
+    BundleEvent, BundleHeader, CONFIDENCE_HIGH, Checklist, ControlPoint, MODE_ASSESSMENT,
+    StartPoint, confidence_level, is_valid_code,
 };
 
 use super::SheetError;
@@ -85,10 +86,14 @@ struct EventCard {
     area: String,
     first: String,
     last: String,
+    /// The stored confidence word, shown only when it has no level.
     confidence: String,
+    /// The message id of its level, `confidence-high` or `confidence-low`.
+    confidence_level: Option<&'static str>,
     corroborated: bool,
     sources: Vec<LegendEntry>,
-    stratum: Option<String>,
+    /// The stratum's sources and, apart, its confidence level's message id.
+    stratum: Option<(String, Option<&'static str>)>,
     preview: Option<String>,
 }
 
@@ -224,11 +229,30 @@ fn event_card(e: &SheetEvent, palette: &SourcePalette) -> Result<EventCard, Shee
         first: ev.first_detected.clone(),
         last: ev.last_detected.clone(),
         confidence: ev.confidence.clone(),
+        confidence_level: level_id(&ev.confidence),
         corroborated: ev.corroborated,
         sources: legend(palette, &ev.sources)?,
-        stratum: ev.stratum.clone(),
+        stratum: ev.stratum.as_deref().map(stratum_parts),
         preview: preview_uri(&ev.code, &e.preview_png)?,
     })
+}
+
+/// The message id of a confidence word's level ("high"/"low" confidence:
+/// "confirmed" is only ever a visit's outcome), `None` for another word.
+fn level_id(word: &str) -> Option<&'static str> {
+    match confidence_level(word)? {
+        CONFIDENCE_HIGH => Some("confidence-high"),
+        _ => Some("confidence-low"),
+    }
+}
+
+/// A stratum stored as "sources|confidence" split into its sources and its
+/// level's message id; another stratum is kept whole.
+fn stratum_parts(stratum: &str) -> (String, Option<&'static str>) {
+    match stratum.rsplit_once('|') {
+        Some((sources, word)) if level_id(word).is_some() => (sources.to_string(), level_id(word)),
+        _ => (stratum.to_string(), None),
+    }
 }
 
 /// The preview as a data URI; `None` when there is none.

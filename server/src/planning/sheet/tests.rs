@@ -48,7 +48,7 @@ fn event(code: &str, order: u32, lon: f64, lat: f64, sources: &[&str]) -> Bundle
         priority: 1.0,
         visit_order: order,
         inclusion_probability: Some(0.25),
-        stratum: Some("optical-10m/confirmed".into()),
+        stratum: Some("optical-10m|confirmed".into()),
     }
 }
 
@@ -579,4 +579,38 @@ fn the_sheet_speaks_the_issuers_language() {
     assert!(!html.contains("Safety first"));
     assert!(html.contains("<html lang=\"pt\">"));
     assert!(html.contains("Alarme falso"));
+}
+
+/// Alert confidence reads "high" or "low" on the sheet, in the card's header
+/// and in its stratum: "confirmed" is only ever a visit's outcome (issue 14).
+#[test]
+fn the_sheet_says_high_or_low_alert_confidence() {
+    let mut i = input();
+    i.events[1].event.confidence = "tentative".into();
+    i.events[1].event.stratum = Some("radar-10m|tentative".into());
+    let html = render_field_sheet(&i).expect("renders");
+    let doc = Html::parse_document(&html);
+    let levels: Vec<String> = doc
+        .select(&sel("article.card.event .confidence"))
+        .map(|c| c.text().collect())
+        .collect();
+    assert_eq!(levels.len(), 3);
+    assert!(
+        levels
+            .iter()
+            .all(|l| l == "Alert confidence: high" || l == "Alert confidence: low"),
+        "{levels:?}"
+    );
+    assert_eq!(levels.iter().filter(|l| l.ends_with("low")).count(), 1);
+    for card in doc.select(&sel("article.card.event")) {
+        let facts = text(card, ".facts-list");
+        assert!(facts.contains("· Alert confidence: "), "{facts}");
+        assert!(
+            !facts.contains("confirmed") && !facts.contains("tentative"),
+            "{facts}"
+        );
+    }
+    i.tr = crate::platform::i18n::Tr::new("pt");
+    let html = render_field_sheet(&i).expect("renders");
+    assert!(html.contains("Confiança do alerta: baixa"));
 }

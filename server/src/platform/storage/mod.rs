@@ -29,6 +29,7 @@ mod pages;
 mod pairing;
 mod pg_db;
 mod r_speed_extra;
+mod r_control2_extra;
 mod returns;
 mod schema;
 mod schema_pg;

@@ -29,6 +29,9 @@ pub enum StatsError {
     /// The error matrix is not square or does not match the list of mapped sizes.
     #[error("error matrix shape: {0}")]
     Shape(String),
+    /// Unit values of a stratum that cannot all lie in [0, 1].
+    #[error("stratum {stratum}: {what}")]
+    ValuesOutOfRange { stratum: usize, what: String },
     /// A map class with mapped size but no sampled unit: its stratum cannot be estimated.
     #[error("map class {class} has mapped size {mapped} but no sampled unit")]
     UnsampledStratum { class: usize, mapped: f64 },

@@ -4,7 +4,8 @@
 //! - [`proportion`]: Wilson score (and Clopper–Pearson) 95% intervals for a
 //!   rate x/n, such as the confirmation rate over convenience visits.
 //! - [`stratified`]: stratified proportion with finite-population correction,
-//!   for a stratified random sample of alerts.
+//!   for a stratified random sample of alerts; the stratified mean of a value
+//!   in [0, 1] per unit (the cleared share of a control plot).
 //! - [`olofsson`]: user's, producer's and overall accuracy and area per class
 //!   from an error matrix whose strata are the map classes (Olofsson et al. 2014).
 //! - [`survival`]: Kaplan–Meier time-to-visit curve with Greenwood SE, log-log
@@ -31,7 +32,8 @@ pub use olofsson::{AccuracyAssessment, ClassAccuracy, olofsson};
 pub use proportion::{ProportionEstimate, ProportionMethod, clopper_pearson, wilson};
 pub use quantiles::{DurationSummary, duration_summary, median, percentile_90, quantile};
 pub use stratified::{
-    Fpc, StratifiedProportion, StratumCount, StratumResult, StratumStatus, stratified_proportion,
+    Fpc, StratifiedProportion, StratumCount, StratumResult, StratumStatus, StratumValues,
+    stratified_mean, stratified_proportion,
 };
 pub(crate) use survival::kaplan_meier_sorted;
 pub use survival::{CurveStep, EventShare, KaplanMeier, SurvivalPoint, TimeBounds, kaplan_meier};

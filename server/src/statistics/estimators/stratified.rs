@@ -100,6 +100,87 @@ pub fn stratified_proportion(
     fpc: Fpc,
 ) -> Result<Option<StratifiedProportion>, StatsError> {
     check_strata(strata, fpc)?;
+    let parts: Vec<Part> = strata
+        .iter()
+        .map(|s| {
+            let mean = (s.sampled > 0).then(|| s.successes as f64 / s.sampled as f64);
+            // p̂(1 − p̂)/(n − 1): s²_h/n_h of a 0/1 variable.
+            let spread = mean.map_or(0.0, |p| p * (1.0 - p) / (s.sampled as f64 - 1.0));
+            Part {
+                label: &s.label,
+                population: s.population,
+                sampled: s.sampled,
+                successes: s.successes,
+                mean,
+                spread,
+            }
+        })
+        .collect();
+    Ok(combine(&parts, fpc))
+}
+
+/// One stratum of a sample whose unit values y_u are numbers in [0, 1]
+/// (for example the share of a plot that is cleared), given by their sums.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct StratumValues {
+    pub label: String,
+    /// N_h: units in the stratum, or its area when `Fpc::Ignore`.
+    pub population: f64,
+    /// n_h: units sampled and observed.
+    pub sampled: u64,
+    /// Units with y_u > 0 (reported as the stratum's `successes`).
+    pub positive: u64,
+    /// Σ y_u over the n_h units.
+    pub sum: f64,
+    /// Σ y_u² over the n_h units.
+    pub sum_sq: f64,
+}
+
+/// Stratified mean of a variable in [0, 1]: ȳ_st = Σ W_h ȳ_h and
+/// V̂ = Σ W_h² · fpc_h · s²_yh/n_h with s²_yh = (Σy² − n_h ȳ_h²)/(n_h − 1),
+/// the Stehman (2014) form of statistics.md §1.2(c) for an area proportion.
+/// With y_u ∈ {0, 1} it equals [`stratified_proportion`] (s²_yh/n_h =
+/// p̂_h(1 − p̂_h)/(n_h − 1)). Awkward strata are treated as there; the result
+/// has the same shape. Errors: N_h negative or not finite, a sum that is not
+/// finite or outside [0, n_h], n_h > N_h when the fpc is applied.
+pub fn stratified_mean(
+    strata: &[StratumValues],
+    fpc: Fpc,
+) -> Result<Option<StratifiedProportion>, StatsError> {
+    check_values(strata, fpc)?;
+    let parts: Vec<Part> = strata
+        .iter()
+        .map(|s| {
+            let n = s.sampled as f64;
+            let mean = (s.sampled > 0).then(|| s.sum / n);
+            let spread = mean.map_or(0.0, |m| ((s.sum_sq - s.sum * m) / (n - 1.0)).max(0.0) / n);
+            Part {
+                label: &s.label,
+                population: s.population,
+                sampled: s.sampled,
+                successes: s.positive,
+                mean,
+                spread,
+            }
+        })
+        .collect();
+    Ok(combine(&parts, fpc))
+}
+
+/// A checked stratum as both estimators hand it to [`combine`].
+struct Part<'a> {
+    label: &'a str,
+    population: f64,
+    sampled: u64,
+    successes: u64,
+    /// ȳ_h (p̂_h), `None` when unsampled.
+    mean: Option<f64>,
+    /// s²_yh/n_h, used only when n_h ≥ 2.
+    spread: f64,
+}
+
+/// The weighted estimate over checked strata; `None` without data.
+fn combine(strata: &[Part<'_>], fpc: Fpc) -> Option<StratifiedProportion> {
     let population: f64 = strata.iter().map(|s| s.population).sum();
     let covered: f64 = strata
         .iter()
@@ -107,7 +188,7 @@ pub fn stratified_proportion(
         .map(|s| s.population)
         .sum();
     if covered <= 0.0 {
-        return Ok(None);
+        return None;
     }
     let mut estimate = 0.0;
     let mut variance = Some(0.0);
@@ -122,14 +203,38 @@ pub fn stratified_proportion(
     }
     let se = variance.map(|v| v.max(0.0).sqrt());
     let proportion = Estimate::normal(estimate, se, 0.0, 1.0);
-    Ok(Some(StratifiedProportion {
+    Some(StratifiedProportion {
         proportion,
         total: proportion.scaled(covered),
         population,
         population_covered: covered,
         fpc,
         strata: results,
-    }))
+    })
+}
+
+/// The errors of [`stratified_mean`], stratum by stratum.
+fn check_values(strata: &[StratumValues], fpc: Fpc) -> Result<(), StatsError> {
+    for (index, s) in strata.iter().enumerate() {
+        let n = s.sampled as f64;
+        if !(s.sum.is_finite() && s.sum_sq.is_finite()) {
+            return Err(StatsError::NotFinite {
+                what: "stratum sum of values",
+            });
+        }
+        if s.sum < 0.0 || s.sum_sq < 0.0 || s.sum > n || s.sum_sq > s.sum || s.positive > s.sampled
+        {
+            return Err(StatsError::ValuesOutOfRange {
+                stratum: index,
+                what: format!(
+                    "sum {} and sum of squares {} of {} values (and {} positive) cannot all be in [0, 1]",
+                    s.sum, s.sum_sq, s.sampled, s.positive
+                ),
+            });
+        }
+        check_population(index, s.population, s.sampled, fpc)?;
+    }
+    Ok(())
 }
 
 /// The errors of [`stratified_proportion`], stratum by stratum.
@@ -141,28 +246,39 @@ fn check_strata(strata: &[StratumCount], fpc: Fpc) -> Result<(), StatsError> {
                 trials: s.sampled,
             });
         }
-        if !s.population.is_finite() {
-            return Err(StatsError::NotFinite {
-                what: "stratum population",
-            });
-        }
-        if s.population < 0.0 {
-            return Err(StatsError::Negative {
-                what: "stratum population",
-            });
-        }
-        if fpc == Fpc::Apply && s.sampled as f64 > s.population {
-            return Err(StatsError::SampleExceedsPopulation {
-                stratum: index,
-                sampled: s.sampled,
-                population: s.population,
-            });
-        }
+        check_population(index, s.population, s.sampled, fpc)?;
     }
     Ok(())
 }
 
-fn status_of(s: &StratumCount, fpc: Fpc) -> StratumStatus {
+/// N_h finite and not negative; n_h ≤ N_h when the fpc is applied.
+fn check_population(
+    index: usize,
+    population: f64,
+    sampled: u64,
+    fpc: Fpc,
+) -> Result<(), StatsError> {
+    if !population.is_finite() {
+        return Err(StatsError::NotFinite {
+            what: "stratum population",
+        });
+    }
+    if population < 0.0 {
+        return Err(StatsError::Negative {
+            what: "stratum population",
+        });
+    }
+    if fpc == Fpc::Apply && sampled as f64 > population {
+        return Err(StatsError::SampleExceedsPopulation {
+            stratum: index,
+            sampled,
+            population,
+        });
+    }
+    Ok(())
+}
+
+fn status_of(s: &Part<'_>, fpc: Fpc) -> StratumStatus {
     if s.population == 0.0 {
         StratumStatus::Empty
     } else if s.sampled == 0 {
@@ -183,33 +299,31 @@ fn in_estimate(status: StratumStatus) -> bool {
 
 /// Stratum `s`'s weight, proportion and variance contribution, given the
 /// population `covered` by the sampled strata.
-fn stratum_result(s: &StratumCount, fpc: Fpc, covered: f64) -> StratumResult {
+fn stratum_result(s: &Part<'_>, fpc: Fpc, covered: f64) -> StratumResult {
     let status = status_of(s, fpc);
     let weight = if in_estimate(status) {
         s.population / covered
     } else {
         0.0
     };
-    let proportion = (s.sampled > 0).then(|| s.successes as f64 / s.sampled as f64);
-    let contribution = match (status, proportion) {
-        (StratumStatus::Estimated, Some(p)) => {
-            let n = s.sampled as f64;
+    let contribution = match (status, s.mean) {
+        (StratumStatus::Estimated, Some(_)) => {
             let correction = match fpc {
-                Fpc::Apply => 1.0 - n / s.population,
+                Fpc::Apply => 1.0 - s.sampled as f64 / s.population,
                 Fpc::Ignore => 1.0,
             };
-            Some(weight * weight * correction * p * (1.0 - p) / (n - 1.0))
+            Some(weight * weight * correction * s.spread)
         }
         (StratumStatus::SingleUnit, _) => None,
         _ => Some(0.0),
     };
     StratumResult {
-        label: s.label.clone(),
+        label: s.label.to_string(),
         population: s.population,
         weight,
         sampled: s.sampled,
         successes: s.successes,
-        proportion,
+        proportion: s.mean,
         variance_contribution: contribution,
         status,
     }
@@ -322,5 +436,53 @@ mod tests {
         assert!(stratified_proportion(&[stratum("a", 2.0, 3, 1)], Fpc::Ignore).is_ok());
         assert!(stratified_proportion(&[stratum("a", f64::NAN, 3, 1)], Fpc::Ignore).is_err());
         assert!(stratified_proportion(&[stratum("a", -1.0, 0, 0)], Fpc::Ignore).is_err());
+    }
+
+    #[test]
+    fn mean_of_zero_one_values_is_the_proportion() {
+        // §2.4's strata as 0/1 values: the same estimate and SE (statistics.md §2.4 [C]).
+        let values: Vec<StratumValues> = alert_example()
+            .iter()
+            .map(|s| StratumValues {
+                label: s.label.clone(),
+                population: s.population,
+                sampled: s.sampled,
+                positive: s.successes,
+                sum: s.successes as f64,
+                sum_sq: s.successes as f64,
+            })
+            .collect();
+        let m = stratified_mean(&values, Fpc::Apply)
+            .expect("valid")
+            .expect("data");
+        assert!((m.proportion.estimate - 0.56).abs() < 1e-12);
+        assert!((m.proportion.se.expect("se") - 0.0435901).abs() < 5e-8);
+    }
+
+    #[test]
+    fn mean_of_fractions_by_hand() {
+        // Worked by hand: one stratum without fpc, values 0.25, 0, 0, 0:
+        // ȳ = 0.0625, s² = (0.0625 − 4·0.0625²)/3 = 0.015625, SE = √(s²/4) = 0.0625.
+        let v = StratumValues {
+            label: "control".into(),
+            population: 1000.0,
+            sampled: 4,
+            positive: 1,
+            sum: 0.25,
+            sum_sq: 0.0625,
+        };
+        let m = stratified_mean(std::slice::from_ref(&v), Fpc::Ignore)
+            .expect("valid")
+            .expect("data");
+        assert!((m.proportion.estimate - 0.0625).abs() < 1e-15);
+        assert!((m.proportion.se.expect("se") - 0.0625).abs() < 1e-15);
+        assert!((m.total.estimate - 62.5).abs() < 1e-12);
+        let bad = StratumValues {
+            sum: 5.0,
+            ..v.clone()
+        };
+        assert!(stratified_mean(&[bad], Fpc::Ignore).is_err());
+        let bad = StratumValues { sum_sq: 0.5, ..v };
+        assert!(stratified_mean(&[bad], Fpc::Ignore).is_err());
     }
 }

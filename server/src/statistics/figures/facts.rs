@@ -8,7 +8,7 @@ use std::fmt;
 use chrono::{DateTime, Datelike, NaiveDate, NaiveTime, Utc};
 use serde::Serialize;
 
-use crate::domain::EventStatus;
+use crate::domain::{EventStatus, Outcome};
 use crate::reconcile::StatusOutcome;
 
 /// How a sampled event was drawn for an assessment trip.
@@ -73,11 +73,64 @@ impl EventFacts {
 pub struct ControlFacts {
     /// The no-alert stratum, normally "control".
     pub stratum: String,
-    /// `Some(found)` when the point was reached; `None` when not (non-response).
-    pub found_clearing: Option<bool>,
+    /// What the latest counted report says about the point.
+    pub finding: ControlFinding,
     /// The area the point stands for (its plot), in ha.
     pub area_ha: f64,
     pub inclusion_probability: f64,
+}
+
+/// What was found at a control point. Only `Clearing` and `NoClearing` are
+/// observations of its stratum; the other three are non-response, each
+/// counted apart.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum ControlFinding {
+    /// A clearing at the point, with the area the team estimated for it
+    /// (checklist 2's `clearing_found`); `None` when no area was recorded
+    /// (checklist 1's `confirmed`).
+    Clearing {
+        area_ha: Option<f64>,
+    },
+    NoClearing,
+    /// The team was there but could not tell.
+    Inconclusive,
+    /// The team reported that it could not reach the point.
+    NotReached,
+    /// No report on the point yet.
+    Unvisited,
+}
+
+impl ControlFinding {
+    /// The finding of a report with `outcome` (either checklist's words, read
+    /// through [`Outcome::control_finding`]) and estimated `area_ha`;
+    /// [`ControlFinding::Unvisited`] without a report.
+    pub fn of_report(report: Option<(Outcome, Option<f64>)>) -> Self {
+        let Some((outcome, area_ha)) = report else {
+            return ControlFinding::Unvisited;
+        };
+        match (outcome.control_finding(), outcome) {
+            (Some(true), _) => ControlFinding::Clearing { area_ha },
+            (Some(false), _) => ControlFinding::NoClearing,
+            (None, Outcome::NotReached) => ControlFinding::NotReached,
+            (None, _) => ControlFinding::Inconclusive,
+        }
+    }
+
+    /// y_u of the area estimate: the share of a plot of `plot_ha` that is
+    /// cleared, min(area, plot)/plot; a clearing without a recorded area
+    /// counts as the whole plot, no clearing as 0; `None` when the point is
+    /// not an observation.
+    pub fn cleared_share(self, plot_ha: f64) -> Option<f64> {
+        match self {
+            ControlFinding::Clearing { area_ha: Some(a) } if plot_ha > 0.0 => {
+                Some((a / plot_ha).clamp(0.0, 1.0))
+            }
+            ControlFinding::Clearing { .. } => Some(1.0),
+            ControlFinding::NoClearing => Some(0.0),
+            _ => None,
+        }
+    }
 }
 
 /// Label of the group of events with no value for a key.

@@ -79,7 +79,10 @@ pub use assessment::{
 };
 pub use causes::{CAUSE_NOT_RECORDED, CauseRow, CauseTable, causes};
 pub use coverage::{CoverageRow, coverage, coverage_by};
-pub use facts::{ControlFacts, EventFacts, GroupKey, NO_VALUE, SampleInfo, days_between, month_of};
+pub use facts::{
+    ControlFacts, ControlFinding, EventFacts, GroupKey, NO_VALUE, SampleInfo, days_between,
+    month_of,
+};
 pub use rates::{Basis, RateRow, confirmation_rates};
 pub use target::{GroundFinds, TargetFrom, TargetShare, target_shares};
 pub use teams::{TeamRow, team_table, team_table_counted};

@@ -500,7 +500,11 @@ fn error_matrix_agrees_with_olofsson() {
     let controls: Vec<ControlFacts> = (0..21)
         .map(|i| ControlFacts {
             stratum: "control".into(),
-            found_clearing: (i < 20).then_some(i == 0),
+            finding: match i {
+                0 => ControlFinding::Clearing { area_ha: None },
+                20 => ControlFinding::NotReached,
+                _ => ControlFinding::NoClearing,
+            },
             area_ha: 1.0,
             inclusion_probability: 0.002,
         })
@@ -592,14 +596,14 @@ fn figures_for(reports: &[ReportFact]) -> Figures {
     }
     let controls = [ControlFacts {
         stratum: "control".into(),
-        found_clearing: Some(false),
+        finding: ControlFinding::NoClearing,
         area_ha: 1.0,
         inclusion_probability: 0.01,
     }; 1];
     let controls = [
         controls[0].clone(),
         ControlFacts {
-            found_clearing: Some(true),
+            finding: ControlFinding::Clearing { area_ha: None },
             ..controls[0].clone()
         },
         controls[0].clone(),

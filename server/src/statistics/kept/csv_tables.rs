@@ -40,6 +40,7 @@ pub fn table(f: &Figures, name: &str) -> Result<Option<String>> {
         "time-to-visit" => time_to_visit(f)?,
         "causes" => causes(f)?,
         "teams" => teams(f)?,
+        "control-points" => control_points(f)?,
         _ => return Ok(None),
     };
     Ok(Some(out))
@@ -231,6 +232,45 @@ fn teams(f: &Figures) -> Result<String> {
     )
 }
 
+/// The assessment's control strata: each kind of non-response in its own
+/// column (none of them an observation of the stratum), the areas the teams
+/// recorded and the cleared plots' worth the estimates use.
+fn control_points(f: &Figures) -> Result<String> {
+    let strata = f.assessment.iter().flat_map(|a| &a.control_strata);
+    write(
+        &[
+            "stratum",
+            "selected",
+            "clearing_found",
+            "no_clearing_found",
+            "inconclusive",
+            "not_reached",
+            "unvisited",
+            "clearing_area_recorded_ha",
+            "clearing_without_area",
+            "cleared_plots",
+            "mapped_area_ha",
+        ],
+        strata
+            .map(|c| {
+                vec![
+                    c.stratum.clone(),
+                    c.selected.to_string(),
+                    c.clearing.to_string(),
+                    c.no_clearing.to_string(),
+                    c.inconclusive.to_string(),
+                    c.not_reached.to_string(),
+                    c.unvisited.to_string(),
+                    num(c.clearing_area_recorded_ha),
+                    c.clearing_without_area.to_string(),
+                    num(c.cleared_plots),
+                    num(c.mapped_area_ha),
+                ]
+            })
+            .collect(),
+    )
+}
+
 /// Names of the CSV tables.
 pub const TABLES: &[&str] = &[
     "coverage",
@@ -239,4 +279,5 @@ pub const TABLES: &[&str] = &[
     "time-to-visit",
     "causes",
     "teams",
+    "control-points",
 ];

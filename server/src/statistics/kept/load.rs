@@ -8,7 +8,7 @@ use crate::platform::storage::{
 use crate::reconcile::{
     Adjudication, CountedIndex, Outcome, ReportFact, StatusOutcome, event_statuses_counted,
 };
-use crate::statistics::figures::{ControlFacts, EventFacts, SampleInfo};
+use crate::statistics::figures::{ControlFacts, ControlFinding, EventFacts, SampleInfo};
 use chrono::{DateTime, Utc};
 use geo::GeodesicArea;
 use std::collections::{BTreeMap, HashMap, HashSet};
@@ -169,6 +169,7 @@ pub fn read_facts_after(db: &Db, window_days: u32, previous: Option<Facts>) -> R
         adjudications,
         issue_times,
         controls,
+        control_areas,
         zones,
         bundles,
     } = db.read(|r| read_stored(r, earlier))?;
@@ -176,7 +177,7 @@ pub fn read_facts_after(db: &Db, window_days: u32, previous: Option<Facts>) -> R
     let reports = std::mem::take(&mut scan.facts);
     let counted = CountedIndex::of(&reports);
     let statuses = event_statuses_counted(&reports, &counted, &adjudications, window_days);
-    let out_controls = control_facts(&controls, &zones, &bundles, &scan);
+    let out_controls = control_facts(&controls, &control_areas, &zones, &bundles, &scan);
     Ok(Facts {
         events,
         reports: Arc::new(reports),
@@ -197,6 +198,8 @@ struct Stored {
     adjudications: Vec<Adjudication>,
     issue_times: Vec<(String, Timestamp)>,
     controls: Vec<ControlRow>,
+    /// The area recorded on each control report that has one, by report id.
+    control_areas: HashMap<String, f64>,
     zones: Vec<ZoneRecord>,
     bundles: Vec<BundleRecord>,
 }
@@ -220,6 +223,7 @@ fn read_stored(r: &Reader<'_>, earlier: Option<ReportScan>) -> Result<Stored> {
         adjudications,
         issue_times: r.bundle_issue_times()?,
         controls: r.controls()?,
+        control_areas: r.control_report_areas()?,
         zones: r.zones()?,
         bundles: r.bundles()?,
     })
@@ -280,6 +284,7 @@ fn issued_at_by_bundle(issue_times: &[(String, Timestamp)]) -> BTreeMap<Uuid, Da
 /// Control points: reached or not, clearing found or not, with their zone.
 fn control_facts(
     controls: &[ControlRow],
+    areas: &HashMap<String, f64>,
     zones: &[ZoneRecord],
     bundles: &[BundleRecord],
     scan: &ReportScan,
@@ -300,13 +305,15 @@ fn control_facts(
             continue;
         }
         // Checklist 2's control outcomes and checklist 1's event words, read
-        // in one place.
-        let found = latest_control_report(scan, c).and_then(|r| r.outcome.control_finding());
+        // in one place, with the area the team estimated for a clearing.
+        let found = ControlFinding::of_report(
+            latest_control_report(scan, c).map(|r| (r.outcome, areas.get(&r.report_id).copied())),
+        );
         out_controls.push((
             zone.clone(),
             ControlFacts {
                 stratum: "control".into(),
-                found_clearing: found,
+                finding: found,
                 area_ha: CONTROL_PLOT_HA,
                 inclusion_probability: (*k as f64 * CONTROL_PLOT_HA / area).min(1.0),
             },
@@ -763,8 +770,8 @@ mod tests {
         );
         assert_eq!(on.controls.len(), 1);
         assert_eq!(
-            on.controls[0].1.found_clearing,
-            Some(true),
+            on.controls[0].1.finding,
+            ControlFinding::Clearing { area_ha: None },
             "equal times: the larger report id is the latest, in either reading"
         );
         assert_eq!(figures_json(&on), figures_json(&fresh));

@@ -14,7 +14,9 @@ mod served;
 
 pub use cache::{FiguresAsked, NOW_FRESH_FOR, Prepared, REFRESH_TICK, StatsCache, keep_fresh};
 pub use csv_tables::{TABLES, table};
-pub use load::{Facts, Loaded, StatsFilter, load, prepare, read_facts, read_facts_after};
+pub use load::{
+    CONTROL_PLOT_HA, Facts, Loaded, StatsFilter, load, prepare, read_facts, read_facts_after,
+};
 pub use ranked::RankedKept;
 pub use served::Served;
 

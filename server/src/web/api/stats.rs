@@ -1,6 +1,6 @@
 //! Statistics: `GET /api/v1/stats` (all figures) and `GET /api/v1/stats/{table}`
 //! (`coverage`, `confirmation`, `response-times`, `time-to-visit`,
-//! `target`, `found-on-ground`, `causes`, `teams`, `assessment`;
+//! `target`, `found-on-ground`, `causes`, `teams`, `control-points`, `assessment`;
 //! `format=csv` for the tables), filtered
 //! by `from`, `to` (detection dates), `zone`, `team`, `source`; `as_of`
 //! (report date) and `within_days`.

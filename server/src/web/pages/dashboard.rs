@@ -13,10 +13,10 @@ use crate::error::Error;
 use crate::platform::i18n::Tr;
 use crate::statistics::estimators::{DurationSummary, Estimate};
 use crate::statistics::figures::{
-    EventFacts, FigureOptions, Figures, GroupKey, TargetShare, TrendPoint, VisitCurve, month_of,
-    monthly_trends, team_trends,
+    Assessment, EventFacts, FigureOptions, Figures, GroupKey, TargetShare, TrendPoint, VisitCurve,
+    month_of, monthly_trends, team_trends,
 };
-use crate::statistics::kept::{StatsFilter, TABLES};
+use crate::statistics::kept::{CONTROL_PLOT_HA, StatsFilter, TABLES};
 use crate::web::AppState;
 use crate::web::charts::{
     BarChart, BarSeries, HBar, HBarChart, IntervalChart, IntervalPoint, IntervalSeries, Step,
@@ -334,6 +334,30 @@ struct AssessmentView {
     users_accuracy: String,
     strata: Vec<[String; 7]>,
     area: Vec<(String, String)>,
+    /// Control strata: stratum, selected, clearing found, no clearing found,
+    /// inconclusive, not reached, not yet visited, clearing area recorded (ha).
+    controls: Vec<[String; 8]>,
+    /// The plot a control point stands for, in ha.
+    plot_ha: String,
+}
+
+/// The control strata's counts, each kind of non-response in its own column.
+fn control_rows(a: &Assessment) -> Vec<[String; 8]> {
+    a.control_strata
+        .iter()
+        .map(|c| {
+            [
+                c.stratum.clone(),
+                c.selected.to_string(),
+                c.clearing.to_string(),
+                c.no_clearing.to_string(),
+                c.inconclusive.to_string(),
+                c.not_reached.to_string(),
+                c.unvisited.to_string(),
+                fixed(c.clearing_area_recorded_ha, 2),
+            ]
+        })
+        .collect()
 }
 
 fn assessment_view(f: &Figures) -> Option<AssessmentView> {
@@ -389,6 +413,8 @@ fn assessment_view(f: &Figures) -> Option<AssessmentView> {
             })
             .collect(),
         area,
+        controls: control_rows(a),
+        plot_ha: fixed(CONTROL_PLOT_HA, 0),
     })
 }
 
