@@ -37,6 +37,7 @@ mod common;
 mod dashboard;
 mod disputes;
 mod events;
+mod figure_words;
 mod form;
 mod import;
 mod live_map;

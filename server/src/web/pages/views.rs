@@ -79,6 +79,7 @@ pub fn map_input(title: &str, zones: Vec<MapZone>, events: Vec<MapEvent>) -> Map
         events,
         start: None,
         route: Vec::new(),
+        words: Default::default(),
     }
 }
 
