@@ -240,13 +240,16 @@ fn zone_label(out: &mut String, f: &Frame, name: &str, shape: &MultiPolygon<f64>
     )
 }
 
+/// A footprint's drawn extent: centre x, centre y, width, height (px).
+type Extent = (f64, f64, f64, f64);
+
 /// One event: a link holding a tooltip and one shape, a path or, when the
 /// footprint is under 3 px both ways, a marker.
 fn event(
     out: &mut String,
     f: &Frame,
     e: &MapEvent,
-    ((cx, cy, w, h), rings): ((f64, f64, f64, f64), &[Vec<(f64, f64)>]),
+    ((cx, cy, w, h), rings): (Extent, &[Vec<(f64, f64)>]),
     words: &ChartWords,
 ) -> fmt::Result {
     let area = if e.area_ha.is_finite() {

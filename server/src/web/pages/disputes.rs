@@ -37,7 +37,8 @@ struct Dispute {
 struct DisputesPage {
     layout: Layout,
     disputes: Vec<Dispute>,
-    outcomes: Vec<(&'static str, &'static str)>,
+    /// (stored word, the status it settles on in the page's language).
+    outcomes: Vec<(&'static str, String)>,
     may_adjudicate: bool,
     /// Ask for the decider's name when no user is logged in.
     ask_name: bool,
@@ -46,11 +47,13 @@ struct DisputesPage {
     done: Option<i64>,
 }
 
-impl DisputesPage {
-    /// A fixed English label in the user's language (`dashboard::label`).
-    fn l(&self, english: &str) -> String {
-        super::dashboard::label(&self.layout.tr, english)
-    }
+/// A settling outcome as the status word it gives (`status-*`, the word
+/// the event pages use), else its English label.
+fn outcome_label(tr: &Tr, word: &str, english: &str) -> String {
+    word.parse::<EventStatus>().map_or_else(
+        |_| english.to_string(),
+        |s| tr.t(&super::views::status_id(s)),
+    )
 }
 
 #[derive(Debug, Deserialize, Default)]
@@ -91,10 +94,10 @@ async fn disputes_page(
     error: Option<(i64, PageError)>,
     done: Option<i64>,
 ) -> Result<HttpResponse, PageError> {
+    let tr = tr_of(req);
     let db = state.db.clone();
     let stats = state.stats.clone();
     let settings = state.settings.clone();
-    let tr = tr_of(req);
     let disputes = web::block(move || {
         let p = stats.prepared(&db, &StatsFilter::default())?;
         let mut out = Vec::new();
@@ -139,7 +142,10 @@ async fn disputes_page(
     let t = DisputesPage {
         layout: super::dashboard::translated_layout(req, viewer, "disp-title", "/disputes"),
         disputes,
-        outcomes: OUTCOMES.to_vec(),
+        outcomes: OUTCOMES
+            .iter()
+            .map(|(word, english)| (*word, outcome_label(&tr, word, english)))
+            .collect(),
         may_adjudicate: viewer.may(Action::Adjudicate),
         ask_name: viewer.name.is_none(),
         error,
