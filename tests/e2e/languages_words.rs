@@ -1,7 +1,8 @@
 //! The sentences the figures pages build from numbers, and the words inside
 //! their SVG charts, in Portuguese (`Accept-Language: pt`): the targets,
 //! the time-to-visit notes, the charts' titles, axes, legends, notes and
-//! tooltips, the causes, and a dispute's status note. The words are those
+//! tooltips, the causes, a dispute's status note and report cards, and the
+//! events map's title and legend. The words are those
 //! of `templates/i18n/pt/pages.ftl`, block "figures' sentences and chart
 //! words". English stays as the other tests expect.
 
@@ -144,6 +145,21 @@ fn figures_sentences_and_chart_words_speak_portuguese() {
         ],
         ENGLISH,
     );
+    let events = page(&s, "/events", Some("pt"));
+    has(
+        "/events",
+        &events,
+        &[
+            "Eventos de desmatamento por estado",
+            "equirretangular, latitude central ",
+            ">ainda não visitado</text>",
+        ],
+        &[
+            "Clearing events by status",
+            "equirectangular",
+            ">not yet visited</text>",
+        ],
+    );
     let disputes = page(&s, "/disputes", Some("pt"));
     has(
         "/disputes",
@@ -183,6 +199,17 @@ fn figures_sentences_stay_english_without_a_language() {
             "events with status (GeoJSON)",
         ],
         &[">fig-", ">chart-", ">note-"],
+    );
+    let events = page(&s, "/events", None);
+    has(
+        "/events",
+        &events,
+        &[
+            "Clearing events by status",
+            "equirectangular, centre latitude ",
+            ">not yet visited</text>",
+        ],
+        &[">chart-", ">status-"],
     );
     let disputes = page(&s, "/disputes", None);
     has(

@@ -645,3 +645,7 @@ photo-check-no-time = no photo time
 photo-check-outside-window = outside the trip window
 photo-check-reused = also used by another report
 photo-check-not-checked = not checked
+map-title-trip = Trip { $id } of { $team }
+map-title-preview = Preview of a trip for { $team }
+map-title-events = Clearing events by status
+map-title-event = Event { $code }

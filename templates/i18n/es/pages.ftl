@@ -652,3 +652,7 @@ photo-check-no-time = foto sin hora
 photo-check-outside-window = fuera del periodo del viaje
 photo-check-reused = también usada por otro informe
 photo-check-not-checked = no verificada
+map-title-trip = Viaje { $id } de { $team }
+map-title-preview = Vista previa de un viaje para { $team }
+map-title-events = Eventos de desmonte por estado
+map-title-event = Evento { $code }

@@ -652,3 +652,7 @@ photo-check-no-time = photo sans heure
 photo-check-outside-window = hors de la période de la mission
 photo-check-reused = aussi utilisée par un autre rapport
 photo-check-not-checked = non vérifiée
+map-title-trip = Mission { $id } de { $team }
+map-title-preview = Aperçu d’une mission pour { $team }
+map-title-events = Événements de défrichement par état
+map-title-event = Événement { $code }

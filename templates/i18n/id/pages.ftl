@@ -643,3 +643,7 @@ photo-check-no-time = foto tanpa waktu
 photo-check-outside-window = di luar masa perjalanan
 photo-check-reused = juga dipakai laporan lain
 photo-check-not-checked = belum diperiksa
+map-title-trip = Perjalanan { $id } oleh { $team }
+map-title-preview = Pratinjau perjalanan untuk { $team }
+map-title-events = Kejadian pembukaan lahan menurut status
+map-title-event = Kejadian { $code }

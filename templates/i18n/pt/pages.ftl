@@ -652,3 +652,7 @@ photo-check-no-time = foto sem hora
 photo-check-outside-window = fora do período da viagem
 photo-check-reused = também usada por outro relatório
 photo-check-not-checked = não verificada
+map-title-trip = Viagem { $id } de { $team }
+map-title-preview = Prévia de uma viagem para { $team }
+map-title-events = Eventos de desmatamento por estado
+map-title-event = Evento { $code }
