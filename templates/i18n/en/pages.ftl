@@ -259,7 +259,10 @@ dash-n-visited = visited
 dash-n-not-reached = not reached
 dash-n-unvisited = not yet visited
 dash-the-interval = (the interval)
-dash-ground = Alert events only. Clearings the teams found on the ground that no alert flagged (what the alerts miss) are counted apart: { $clearings } clearings, { $hectares } ha.
+dash-ground = Alert events only. Clearings the teams found on the ground that no alert flagged (what the alerts miss) are counted apart: { $clearings ->
+        [one] 1 clearing
+       *[other] { $clearings } clearings
+    }, { $hectares } ha.
 dash-curve-note = The curve counts events not yet visited as
 dash-censored = censored
 dash-curve-note-2 = and the figures describe the visits made:

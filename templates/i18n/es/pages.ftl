@@ -257,7 +257,10 @@ dash-n-visited = visitados
 dash-n-not-reached = no alcanzados
 dash-n-unvisited = aún no visitados
 dash-the-interval = (el intervalo)
-dash-ground = Solo eventos de alerta. Los desmontes que los equipos encontraron en el terreno sin ninguna alerta (lo que las alertas no ven) se cuentan aparte: { $clearings } desmontes, { $hectares } ha.
+dash-ground = Solo eventos de alerta. Los desmontes que los equipos encontraron en el terreno sin ninguna alerta (lo que las alertas no ven) se cuentan aparte: { $clearings ->
+        [one] 1 desmonte
+       *[other] { $clearings } desmontes
+    }, { $hectares } ha.
 dash-curve-note = La curva cuenta los eventos aún no visitados como
 dash-censored = censurados
 dash-curve-note-2 = y las cifras describen las visitas hechas:
@@ -627,20 +630,20 @@ disp-bad-reason = Motivo: diga por qué, en 1 a { $max } caracteres.
 disp-bad-by = Decidido por: su nombre, de 1 a { $max } caracteres.
 note-no-report = ningún informe contado
 note-none-reached = { $n ->
-    [one] 1 informe, que no alcanzó el evento
-   *[other] { $n } informes, ninguno alcanzó el evento
-}
+        [one] 1 informe, que no alcanzó el evento
+       *[other] { $n } informes, ninguno alcanzó el evento
+    }
 note-all-inconclusive = { $n ->
-    [one] 1 visita, sin conclusión
-   *[other] { $n } visitas, todas sin conclusión
-}
+        [one] 1 visita, sin conclusión
+       *[other] { $n } visitas, todas sin conclusión
+    }
 note-confirmed = confirmado
 note-new-clearing = confirmado más de { $days } días después de una falsa alarma: nuevo desmonte
 note-later-false-alarm = una falsa alarma posterior no deshace el desmonte confirmado
 note-settled = { $n ->
-    [one] 1 desacuerdo resuelto por evidencias aprobadas
-   *[other] { $n } desacuerdos resueltos por evidencias aprobadas
-}
+        [one] 1 desacuerdo resuelto por evidencias aprobadas
+       *[other] { $n } desacuerdos resueltos por evidencias aprobadas
+    }
 note-disputed = confirmado y falsa alarma en menos de { $days } días; las evidencias no lo resuelven
 note-false-alarm = falsa alarma
 note-decided = Decidido: { $outcome }, por { $by } el { $when }: { $reason } (los informes daban { $status }: { $note })

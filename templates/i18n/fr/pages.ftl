@@ -257,7 +257,10 @@ dash-n-visited = visités
 dash-n-not-reached = non atteints
 dash-n-unvisited = pas encore visités
 dash-the-interval = (l’intervalle)
-dash-ground = Événements d’alerte seulement. Les défrichements trouvés sur le terrain par les équipes sans aucune alerte (ce que les alertes manquent) sont comptés à part : { $clearings } défrichements, { $hectares } ha.
+dash-ground = Événements d’alerte seulement. Les défrichements trouvés sur le terrain par les équipes sans aucune alerte (ce que les alertes manquent) sont comptés à part : { $clearings ->
+        [one] 1 défrichement
+       *[other] { $clearings } défrichements
+    }, { $hectares } ha.
 dash-curve-note = La courbe compte les événements pas encore visités comme
 dash-censored = censurés
 dash-curve-note-2 = et les chiffres décrivent les visites faites :
@@ -627,20 +630,20 @@ disp-bad-reason = Motif : dites pourquoi, en 1 à { $max } caractères.
 disp-bad-by = Décidé par : votre nom, de 1 à { $max } caractères.
 note-no-report = aucun rapport compté
 note-none-reached = { $n ->
-    [one] 1 rapport, qui n’a pas atteint l’événement
-   *[other] { $n } rapports, aucun n’a atteint l’événement
-}
+        [one] 1 rapport, qui n’a pas atteint l’événement
+       *[other] { $n } rapports, aucun n’a atteint l’événement
+    }
 note-all-inconclusive = { $n ->
-    [one] 1 visite, sans conclusion
-   *[other] { $n } visites, toutes sans conclusion
-}
+        [one] 1 visite, sans conclusion
+       *[other] { $n } visites, toutes sans conclusion
+    }
 note-confirmed = confirmé
 note-new-clearing = confirmé plus de { $days } jours après une fausse alerte : nouveau défrichement
 note-later-false-alarm = une fausse alerte plus tardive n’annule pas le défrichement confirmé
 note-settled = { $n ->
-    [one] 1 désaccord réglé par des preuves acceptées
-   *[other] { $n } désaccords réglés par des preuves acceptées
-}
+        [one] 1 désaccord réglé par des preuves acceptées
+       *[other] { $n } désaccords réglés par des preuves acceptées
+    }
 note-disputed = confirmé et fausse alerte à moins de { $days } jours d’écart ; les preuves ne tranchent pas
 note-false-alarm = fausse alerte
 note-decided = Décidé : { $outcome }, par { $by } le { $when } : { $reason } (les rapports donnaient { $status } : { $note })

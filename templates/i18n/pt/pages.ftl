@@ -257,7 +257,10 @@ dash-n-visited = visitados
 dash-n-not-reached = não alcançados
 dash-n-unvisited = ainda não visitados
 dash-the-interval = (o intervalo)
-dash-ground = Só eventos de alerta. Os desmatamentos que as equipes acharam em campo sem nenhum alerta (o que os alertas não pegam) são contados à parte: { $clearings } desmatamentos, { $hectares } ha.
+dash-ground = Só eventos de alerta. Os desmatamentos que as equipes acharam em campo sem nenhum alerta (o que os alertas não pegam) são contados à parte: { $clearings ->
+        [one] 1 desmatamento
+       *[other] { $clearings } desmatamentos
+    }, { $hectares } ha.
 dash-curve-note = A curva conta os eventos ainda não visitados como
 dash-censored = censurados
 dash-curve-note-2 = e os números descrevem as visitas feitas:
@@ -627,20 +630,20 @@ disp-bad-reason = Motivo: diga por quê, em 1 a { $max } caracteres.
 disp-bad-by = Decidido por: seu nome, de 1 a { $max } caracteres.
 note-no-report = nenhum relatório contado
 note-none-reached = { $n ->
-    [one] 1 relatório, que não alcançou o evento
-   *[other] { $n } relatórios, nenhum alcançou o evento
-}
+        [one] 1 relatório, que não alcançou o evento
+       *[other] { $n } relatórios, nenhum alcançou o evento
+    }
 note-all-inconclusive = { $n ->
-    [one] 1 visita, sem conclusão
-   *[other] { $n } visitas, todas sem conclusão
-}
+        [one] 1 visita, sem conclusão
+       *[other] { $n } visitas, todas sem conclusão
+    }
 note-confirmed = confirmado
 note-new-clearing = confirmado mais de { $days } dias depois de um alarme falso: novo desmatamento
 note-later-false-alarm = um alarme falso posterior não desfaz o desmatamento confirmado
 note-settled = { $n ->
-    [one] 1 desacordo resolvido por evidências aprovadas
-   *[other] { $n } desacordos resolvidos por evidências aprovadas
-}
+        [one] 1 desacordo resolvido por evidências aprovadas
+       *[other] { $n } desacordos resolvidos por evidências aprovadas
+    }
 note-disputed = confirmado e alarme falso em menos de { $days } dias; as evidências não resolvem
 note-false-alarm = alarme falso
 note-decided = Decidido: { $outcome }, por { $by } em { $when }: { $reason } (os relatórios davam { $status }: { $note })

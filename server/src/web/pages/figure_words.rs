@@ -221,6 +221,20 @@ mod tests {
         assert!(d.contains(&local_time(zone, at)), "{d}");
         assert!(d.contains(&pt.t("status-false-alarm")), "{d}");
         assert!(!d.contains("reports gave") && !d.contains("Decided"), "{d}");
+        // Counts choose their plural form (CLDR rules of the language).
+        assert_eq!(
+            status_note(&pt, "1 report(s), none reached the event", zone),
+            "1 relatório, que não alcançou o evento"
+        );
+        assert_eq!(
+            status_note(&pt, "3 report(s), none reached the event", zone),
+            "3 relatórios, nenhum alcançou o evento"
+        );
+        let en = Tr::new("en");
+        let ground = en.t2("dash-ground", "clearings", 1u64, "hectares", "0.5");
+        assert!(ground.ends_with(": 1 clearing, 0.5 ha."), "{ground}");
+        let ground = pt.t2("dash-ground", "clearings", 2u64, "hectares", "0.5");
+        assert!(ground.ends_with(": 2 desmatamentos, 0.5 ha."), "{ground}");
         // A form not known here stays readable English, never lost.
         assert_eq!(status_note(&pt, "something new", zone), "something new");
     }
