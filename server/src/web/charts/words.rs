@@ -8,7 +8,7 @@
 //! `{lower}`, `{upper}`, `{lat}`) that the chart replaces with the number
 //! as it formats it, so numbers keep their formatting in every language.
 
-use super::types::EventStatus;
+use crate::domain::EventStatus;
 
 /// Every fixed word a chart draws.
 #[derive(Debug, Clone, PartialEq)]

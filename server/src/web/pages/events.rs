@@ -5,10 +5,9 @@
 use super::common::{
     Layout, PageError, Viewer, fixed, non_empty, opt_day, opt_number, page, respond,
 };
+use super::figure_words::map_input_in;
 use super::live_map::LiveMap;
-use super::views::{
-    Badge, ReportView, badge, map_events, map_input_in, map_status, map_zones, report_view,
-};
+use super::views::{Badge, ReportView, badge, map_events, map_status, map_zones, report_view};
 use crate::alerts::events::{RankedEvent, priority_of, ranked_events};
 use crate::domain::Day;
 use crate::error::Error;

@@ -11,7 +11,7 @@ use crate::domain::localtime::OrgZone;
 use crate::platform::i18n::Tr;
 use crate::statistics::figures::GroupKey;
 use crate::web::adjudication::{decision_parts, local_time, readable_note};
-use crate::web::charts::ChartWords;
+use crate::web::charts::{ChartWords, MapEvent, MapInput, MapZone};
 
 /// The charts' own words in `tr`'s language. The placeholders the charts
 /// fill themselves go through the catalogue as literal `{name}` text.
@@ -34,6 +34,19 @@ pub fn chart_words(tr: &Tr) -> ChartWords {
             .map(|s| tr.t(&super::views::status_id(*s)))
             .collect(),
     }
+}
+
+/// A map with a title, zones and events, its legend and notes in `tr`'s
+/// language.
+pub fn map_input_in(
+    tr: &Tr,
+    title: String,
+    zones: Vec<MapZone>,
+    events: Vec<MapEvent>,
+) -> MapInput {
+    let mut m = super::views::map_input(&title, zones, events);
+    m.words = chart_words(tr);
+    m
 }
 
 /// A stored cause word ("selective_logging") as the field app names it.

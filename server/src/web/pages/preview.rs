@@ -10,9 +10,10 @@
 //! then differs.
 
 use super::common::{Layout, PageError, Viewer, fixed, html, respond};
+use super::figure_words::map_input_in;
 use super::live_map::{LiveMap, embed, map_geojson, with_candidates};
 use super::trip_form::{IssueForm, added_events, trip_request};
-use super::views::{map_events, map_input_in, map_zones};
+use super::views::{map_events, map_zones};
 use crate::alerts::events::{RankedEvent, priority_of, ranked_events};
 use crate::domain::{BundleMode, Day};
 use crate::error::Error;

@@ -5,8 +5,9 @@
 //! shown right after issuing is this page with the first pairing code.
 
 use super::common::{Layout, PageError, Viewer, fixed, local_text, local_unix, page, respond};
+use super::figure_words::map_input_in;
 use super::live_map::LiveMap;
-use super::views::{Badge, badge, map_events, map_input_in, map_status, map_zones};
+use super::views::{Badge, badge, map_events, map_status, map_zones};
 use crate::alerts::events::{RankedEvent, priority_of};
 use crate::domain::{Day, TargetKind};
 use crate::error::Error;

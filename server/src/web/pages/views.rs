@@ -83,19 +83,6 @@ pub fn map_input(title: &str, zones: Vec<MapZone>, events: Vec<MapEvent>) -> Map
     }
 }
 
-/// A map with a title, zones and events, its legend and notes in `tr`'s
-/// language.
-pub fn map_input_in(
-    tr: &Tr,
-    title: String,
-    zones: Vec<MapZone>,
-    events: Vec<MapEvent>,
-) -> MapInput {
-    let mut m = map_input(&title, zones, events);
-    m.words = super::figure_words::chart_words(tr);
-    m
-}
-
 /// One photo of a report with what its checks said.
 pub struct PhotoView {
     pub sha: String,
