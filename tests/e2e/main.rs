@@ -16,6 +16,7 @@ mod languages;
 mod languages_figures;
 mod languages_station;
 mod languages_trips;
+mod languages_words;
 mod pages;
 mod pairing;
 mod photo_times;

@@ -289,6 +289,15 @@ impl Tr {
         a.set(n3.to_string(), v3.value());
         self.format(id, Some(&a))
     }
+
+    /// The message `id` with any number of variables (name, value).
+    pub fn tn(&self, id: &str, vars: &[(&str, &dyn Arg)]) -> String {
+        let mut a = FluentArgs::new();
+        for (name, value) in vars {
+            a.set(name.to_string(), value.value());
+        }
+        self.format(id, Some(&a))
+    }
 }
 
 /// The language of a page: the user's own choice, else the first language of

@@ -110,7 +110,7 @@ pub fn readable_note(note: &str, zone: OrgZone) -> String {
 }
 
 /// (outcome, by, time, the rest) of "{outcome} by {by} at {RFC 3339}: {rest}".
-fn decision_parts(s: &str) -> Option<(&str, &str, DateTime<Utc>, &str)> {
+pub(crate) fn decision_parts(s: &str) -> Option<(&str, &str, DateTime<Utc>, &str)> {
     let (outcome, after) = s.split_once(" by ")?;
     // The decider's name may hold " at ": the time is the first RFC 3339
     // word after one.

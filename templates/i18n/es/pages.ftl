@@ -257,7 +257,10 @@ dash-n-visited = visitados
 dash-n-not-reached = no alcanzados
 dash-n-unvisited = aún no visitados
 dash-the-interval = (el intervalo)
-dash-ground = Solo eventos de alerta. Los desmontes que los equipos encontraron en el terreno sin ninguna alerta (lo que las alertas no ven) se cuentan aparte: { $clearings } desmontes, { $hectares } ha.
+dash-ground = Solo eventos de alerta. Los desmontes que los equipos encontraron en el terreno sin ninguna alerta (lo que las alertas no ven) se cuentan aparte: { $clearings ->
+        [one] 1 desmonte
+       *[other] { $clearings } desmontes
+    }, { $hectares } ha.
 dash-curve-note = La curva cuenta los eventos aún no visitados como
 dash-censored = censurados
 dash-curve-note-2 = y las cifras describen las visitas hechas:
@@ -690,3 +693,100 @@ dash-controls = Puntos de control (sin alerta)
 dash-col-clearing-area-recorded = Área de desmonte estimada por los equipos (ha)
 dash-controls-non-response = Solo «Desmonte encontrado» y «Aquí no hay desmonte» son observaciones de un estrato de control. Las visitas sin conclusión, los puntos no alcanzados y los puntos aún sin visitar quedan fuera de las estimaciones; cada grupo se cuenta aquí por separado.
 dash-controls-area = Cada punto de control representa una parcela de { $plot } ha. En el área desmontada y en las exactitudes, un desmonte encontrado en un punto cuenta por la parte de la parcela que cubre su área estimada (un desmonte de 0,3 ha es 0,3 de una parcela de 1 ha); un desmonte mayor que la parcela, o sin área anotada (lista anterior), cuenta como la parcela entera.
+# --- figures' sentences and chart words (dashboard, summary, disputes, chart SVGs) ---
+chart-no-data = sin datos
+chart-censored = + censurado (aún no visitado)
+chart-band = sombreado: banda de confianza
+chart-interval-key = marcador: estimación; línea vertical: intervalo del 95% (hasta el borde cuando no se alcanza un límite)
+chart-interval-tip = intervalo del 95% de { $lower } a { $upper }
+chart-open = abierto
+chart-zone = zona
+chart-priority-zone = zona prioritaria
+chart-route = ruta
+chart-start = inicio
+chart-north = N
+chart-projection = equirrectangular, latitud central { $lat }°
+fig-monthly-title = Eventos entregados, visitados y confirmados, por mes de primera detección
+fig-month-axis = mes de primera detección
+fig-events-count-axis = eventos (cantidad)
+fig-series-issued = entregados
+fig-series-visited = visitados
+fig-series-confirmed = confirmados
+fig-trend-rate-title = Tasa de confirmación por mes (intervalo de Wilson 95%)
+fig-trend-rate-axis = confirmados / (confirmados + falsas alarmas) (0–1)
+fig-trend-median-title = Mediana de días desde la detección hasta la primera visita, por mes (Kaplan–Meier, intervalo del 95%)
+fig-trend-median-axis = mediana del tiempo hasta la visita (días)
+fig-trend-teams-title = Equipos en el tiempo: mediana de días desde la entrega hasta la primera visita (Kaplan–Meier, intervalo del 95%)
+fig-km-title = Tiempo desde la detección hasta la primera visita (Kaplan–Meier; eventos no visitados censurados)
+fig-km-x-axis = días desde la detección (días)
+fig-km-y-axis = parte aún no visitada (0–1)
+fig-km-target = meta: { $days } días
+fig-curve-n = { $label } (n = { $n })
+fig-issued-events = eventos entregados
+fig-causes-value = eventos confirmados
+fig-causes-unit = eventos
+fig-wilson-figure = { $estimate } (IC de Wilson 95% { $lower }–{ $upper })
+fig-target-detection = de los eventos entregados, visitados en { $days } días o menos desde la detección: { $visited } de { $closed } cuyos { $days } días ya pasaron ({ $open } más aún dentro del plazo, dejados fuera)
+fig-target-issue = de los eventos entregados, visitados en { $days } días o menos desde la entrega: { $visited } de { $closed } cuyos { $days } días ya pasaron ({ $open } más aún dentro del plazo, dejados fuera)
+fig-curve-n-note = Las curvas cuentan { $n } de los { $events } eventos: { $after } detectados por primera vez después de { $when } aún no están en ellas.
+fig-km-note = { $curve }: mediana del tiempo hasta la visita { $median }; visitados en { $days } días o menos: { $share }
+fig-median-days = { $days } días
+fig-median-not-reached = no alcanzada
+fig-estimate-se-ci = { $estimate } (EE { $se }; IC 95% { $lower }–{ $upper })
+fig-estimate-se = { $estimate } (EE { $se })
+fig-estimate-no-se = { $estimate } (sin error estándar: muy pocas visitas)
+fig-overall-accuracy = exactitud global
+fig-users-accuracy-area = exactitud del usuario de las alertas (ponderada por área)
+fig-producers-accuracy-clearing = exactitud del productor para el desmonte
+fig-share-area-cleared = parte del área desmontada
+fig-cleared-area-ha = área desmontada (ha)
+fig-no-respondents = aún sin respuestas
+fig-stratum = { $sources }, { $level }
+fig-high-confidence = confianza alta
+fig-low-confidence = confianza baja
+fig-group-all = todos
+fig-group-none = (ninguna)
+fig-group-not-sampled = (fuera de la muestra)
+fig-group-corroborated = corroborado por otra fuente
+fig-group-single-source = una sola fuente
+fig-export-csv = { $table } (CSV)
+fig-table-coverage = cobertura
+fig-table-confirmation = confirmación
+fig-table-response-times = tiempos de respuesta
+fig-table-time-to-visit = tiempo hasta la visita
+fig-table-causes = causas
+fig-table-teams = equipos
+disp-bad-outcome = Resultado: elija desmonte confirmado, falsa alarma o no se puede saber (una decisión dice lo que muestra el terreno; no alcanzado no resuelve nada).
+disp-bad-reason = Motivo: diga por qué, en 1 a { $max } caracteres.
+disp-bad-by = Decidido por: su nombre, de 1 a { $max } caracteres.
+note-no-report = ningún informe contado
+note-none-reached = { $n ->
+        [one] 1 informe, que no alcanzó el evento
+       *[other] { $n } informes, ninguno alcanzó el evento
+    }
+note-all-inconclusive = { $n ->
+        [one] 1 visita, sin conclusión
+       *[other] { $n } visitas, todas sin conclusión
+    }
+note-confirmed = confirmado
+note-new-clearing = confirmado más de { $days } días después de una falsa alarma: nuevo desmonte
+note-later-false-alarm = una falsa alarma posterior no deshace el desmonte confirmado
+note-settled = { $n ->
+        [one] 1 desacuerdo resuelto por evidencias aprobadas
+       *[other] { $n } desacuerdos resueltos por evidencias aprobadas
+    }
+note-disputed = confirmado y falsa alarma en menos de { $days } días; las evidencias no lo resuelven
+note-false-alarm = falsa alarma
+note-decided = Decidido: { $outcome }, por { $by } el { $when }: { $reason } (los informes daban { $status }: { $note })
+photo-check-distance = a { $metres } m del área
+photo-check-no-position = foto sin posición
+photo-check-after-detection = tomada después de la detección
+photo-check-before-detection = tomada antes de la detección
+photo-check-no-time = foto sin hora
+photo-check-outside-window = fuera del periodo del viaje
+photo-check-reused = también usada por otro informe
+photo-check-not-checked = no verificada
+map-title-trip = Viaje { $id } de { $team }
+map-title-preview = Vista previa de un viaje para { $team }
+map-title-events = Eventos de desmonte por estado
+map-title-event = Evento { $code }

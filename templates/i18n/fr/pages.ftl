@@ -257,7 +257,10 @@ dash-n-visited = visités
 dash-n-not-reached = non atteints
 dash-n-unvisited = pas encore visités
 dash-the-interval = (l’intervalle)
-dash-ground = Événements d’alerte seulement. Les défrichements trouvés sur le terrain par les équipes sans aucune alerte (ce que les alertes manquent) sont comptés à part : { $clearings } défrichements, { $hectares } ha.
+dash-ground = Événements d’alerte seulement. Les défrichements trouvés sur le terrain par les équipes sans aucune alerte (ce que les alertes manquent) sont comptés à part : { $clearings ->
+        [one] 1 défrichement
+       *[other] { $clearings } défrichements
+    }, { $hectares } ha.
 dash-curve-note = La courbe compte les événements pas encore visités comme
 dash-censored = censurés
 dash-curve-note-2 = et les chiffres décrivent les visites faites :
@@ -690,3 +693,100 @@ dash-controls = Points de contrôle (sans alerte)
 dash-col-clearing-area-recorded = Surface défrichée estimée par les équipes (ha)
 dash-controls-non-response = Seuls « Défrichement trouvé » et « Pas de défrichement ici » sont des observations d'une strate de contrôle. Les visites sans conclusion, les points non atteints et les points pas encore visités restent hors des estimations ; chaque groupe est compté ici à part.
 dash-controls-area = Chaque point de contrôle représente une parcelle de { $plot } ha. Dans la surface défrichée et les précisions, un défrichement trouvé à un point compte pour la part de la parcelle que couvre sa surface estimée (un défrichement de 0,3 ha vaut 0,3 d'une parcelle de 1 ha) ; un défrichement plus grand que la parcelle, ou sans surface notée (ancienne liste), compte pour la parcelle entière.
+# --- figures' sentences and chart words (dashboard, summary, disputes, chart SVGs) ---
+chart-no-data = aucune donnée
+chart-censored = + censuré (pas encore visité)
+chart-band = zone ombrée : bande de confiance
+chart-interval-key = marque : estimation ; trait vertical : intervalle à 95 % (jusqu’au bord quand une borne n’est pas atteinte)
+chart-interval-tip = intervalle à 95 % de { $lower } à { $upper }
+chart-open = ouvert
+chart-zone = zone
+chart-priority-zone = zone prioritaire
+chart-route = itinéraire
+chart-start = départ
+chart-north = N
+chart-projection = équirectangulaire, latitude centrale { $lat }°
+fig-monthly-title = Événements remis, visités et confirmés, par mois de première détection
+fig-month-axis = mois de première détection
+fig-events-count-axis = événements (nombre)
+fig-series-issued = remis
+fig-series-visited = visités
+fig-series-confirmed = confirmés
+fig-trend-rate-title = Taux de confirmation par mois (intervalle de Wilson à 95 %)
+fig-trend-rate-axis = confirmés / (confirmés + fausses alertes) (0–1)
+fig-trend-median-title = Nombre médian de jours de la détection à la première visite, par mois (Kaplan–Meier, intervalle à 95 %)
+fig-trend-median-axis = délai médian jusqu’à la visite (jours)
+fig-trend-teams-title = Les équipes dans le temps : nombre médian de jours de la remise à la première visite (Kaplan–Meier, intervalle à 95 %)
+fig-km-title = Délai de la détection à la première visite (Kaplan–Meier ; événements non visités censurés)
+fig-km-x-axis = jours depuis la détection (jours)
+fig-km-y-axis = part pas encore visitée (0–1)
+fig-km-target = objectif : { $days } jours
+fig-curve-n = { $label } (n = { $n })
+fig-issued-events = événements remis
+fig-causes-value = événements confirmés
+fig-causes-unit = événements
+fig-wilson-figure = { $estimate } (IC de Wilson à 95 % { $lower }–{ $upper })
+fig-target-detection = des événements remis, visités dans les { $days } jours suivant la détection : { $visited } sur { $closed } dont les { $days } jours sont écoulés ({ $open } autres encore dans le délai, laissés de côté)
+fig-target-issue = des événements remis, visités dans les { $days } jours suivant la remise : { $visited } sur { $closed } dont les { $days } jours sont écoulés ({ $open } autres encore dans le délai, laissés de côté)
+fig-curve-n-note = Les courbes comptent { $n } des { $events } événements : { $after } détectés pour la première fois après { $when } n’y sont pas encore.
+fig-km-note = { $curve } : délai médian jusqu’à la visite { $median } ; visités dans les { $days } jours : { $share }
+fig-median-days = { $days } jours
+fig-median-not-reached = non atteint
+fig-estimate-se-ci = { $estimate } (ET { $se } ; IC à 95 % { $lower }–{ $upper })
+fig-estimate-se = { $estimate } (ET { $se })
+fig-estimate-no-se = { $estimate } (pas d’erreur type : trop peu de visites)
+fig-overall-accuracy = précision globale
+fig-users-accuracy-area = précision pour l’utilisateur des alertes (pondérée par la surface)
+fig-producers-accuracy-clearing = précision pour le producteur du défrichement
+fig-share-area-cleared = part de la surface défrichée
+fig-cleared-area-ha = surface défrichée (ha)
+fig-no-respondents = pas encore de réponse
+fig-stratum = { $sources }, { $level }
+fig-high-confidence = confiance haute
+fig-low-confidence = confiance faible
+fig-group-all = tous
+fig-group-none = (aucune)
+fig-group-not-sampled = (hors échantillon)
+fig-group-corroborated = corroboré par une autre source
+fig-group-single-source = une seule source
+fig-export-csv = { $table } (CSV)
+fig-table-coverage = couverture
+fig-table-confirmation = confirmation
+fig-table-response-times = délais de réponse
+fig-table-time-to-visit = délai jusqu’à la visite
+fig-table-causes = causes
+fig-table-teams = équipes
+disp-bad-outcome = Résultat : choisissez défrichement confirmé, fausse alerte ou impossible à dire (une décision dit ce que montre le terrain ; non atteint ne règle rien).
+disp-bad-reason = Motif : dites pourquoi, en 1 à { $max } caractères.
+disp-bad-by = Décidé par : votre nom, de 1 à { $max } caractères.
+note-no-report = aucun rapport compté
+note-none-reached = { $n ->
+        [one] 1 rapport, qui n’a pas atteint l’événement
+       *[other] { $n } rapports, aucun n’a atteint l’événement
+    }
+note-all-inconclusive = { $n ->
+        [one] 1 visite, sans conclusion
+       *[other] { $n } visites, toutes sans conclusion
+    }
+note-confirmed = confirmé
+note-new-clearing = confirmé plus de { $days } jours après une fausse alerte : nouveau défrichement
+note-later-false-alarm = une fausse alerte plus tardive n’annule pas le défrichement confirmé
+note-settled = { $n ->
+        [one] 1 désaccord réglé par des preuves acceptées
+       *[other] { $n } désaccords réglés par des preuves acceptées
+    }
+note-disputed = confirmé et fausse alerte à moins de { $days } jours d’écart ; les preuves ne tranchent pas
+note-false-alarm = fausse alerte
+note-decided = Décidé : { $outcome }, par { $by } le { $when } : { $reason } (les rapports donnaient { $status } : { $note })
+photo-check-distance = à { $metres } m de l’emprise
+photo-check-no-position = photo sans position
+photo-check-after-detection = prise après la détection
+photo-check-before-detection = prise avant la détection
+photo-check-no-time = photo sans heure
+photo-check-outside-window = hors de la période de la mission
+photo-check-reused = aussi utilisée par un autre rapport
+photo-check-not-checked = non vérifiée
+map-title-trip = Mission { $id } de { $team }
+map-title-preview = Aperçu d’une mission pour { $team }
+map-title-events = Événements de défrichement par état
+map-title-event = Événement { $code }

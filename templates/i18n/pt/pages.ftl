@@ -257,7 +257,10 @@ dash-n-visited = visitados
 dash-n-not-reached = não alcançados
 dash-n-unvisited = ainda não visitados
 dash-the-interval = (o intervalo)
-dash-ground = Só eventos de alerta. Os desmatamentos que as equipes acharam em campo sem nenhum alerta (o que os alertas não pegam) são contados à parte: { $clearings } desmatamentos, { $hectares } ha.
+dash-ground = Só eventos de alerta. Os desmatamentos que as equipes acharam em campo sem nenhum alerta (o que os alertas não pegam) são contados à parte: { $clearings ->
+        [one] 1 desmatamento
+       *[other] { $clearings } desmatamentos
+    }, { $hectares } ha.
 dash-curve-note = A curva conta os eventos ainda não visitados como
 dash-censored = censurados
 dash-curve-note-2 = e os números descrevem as visitas feitas:
@@ -690,3 +693,100 @@ dash-controls = Pontos de controle (sem alerta)
 dash-col-clearing-area-recorded = Área desmatada estimada pelas equipes (ha)
 dash-controls-non-response = Só "Desmatamento encontrado" e "Nenhum desmatamento aqui" são observações de um estrato de controle. Visitas sem conclusão, pontos não alcançados e pontos ainda não visitados ficam fora das estimativas; cada grupo é contado aqui à parte.
 dash-controls-area = Cada ponto de controle representa uma parcela de { $plot } ha. Na área desmatada e nas exatidões, um desmatamento encontrado num ponto conta pela parte da parcela que sua área estimada cobre (um desmatamento de 0,3 ha é 0,3 de uma parcela de 1 ha); um desmatamento maior que a parcela, ou sem área anotada (lista antiga), conta como a parcela inteira.
+# --- figures' sentences and chart words (dashboard, summary, disputes, chart SVGs) ---
+chart-no-data = sem dados
+chart-censored = + censurado (ainda não visitado)
+chart-band = sombreado: faixa de confiança
+chart-interval-key = marcador: estimativa; linha vertical: intervalo de 95% (até a borda quando um limite não é alcançado)
+chart-interval-tip = intervalo de 95% de { $lower } a { $upper }
+chart-open = aberto
+chart-zone = zona
+chart-priority-zone = zona prioritária
+chart-route = rota
+chart-start = início
+chart-north = N
+chart-projection = equirretangular, latitude central { $lat }°
+fig-monthly-title = Eventos entregues, visitados e confirmados, por mês da primeira detecção
+fig-month-axis = mês da primeira detecção
+fig-events-count-axis = eventos (contagem)
+fig-series-issued = entregues
+fig-series-visited = visitados
+fig-series-confirmed = confirmados
+fig-trend-rate-title = Taxa de confirmação por mês (intervalo de Wilson 95%)
+fig-trend-rate-axis = confirmados / (confirmados + alarmes falsos) (0–1)
+fig-trend-median-title = Mediana de dias da detecção à primeira visita, por mês (Kaplan–Meier, intervalo de 95%)
+fig-trend-median-axis = mediana do tempo até a visita (dias)
+fig-trend-teams-title = Equipes ao longo do tempo: mediana de dias da entrega à primeira visita (Kaplan–Meier, intervalo de 95%)
+fig-km-title = Tempo da detecção à primeira visita (Kaplan–Meier; eventos não visitados censurados)
+fig-km-x-axis = dias desde a detecção (dias)
+fig-km-y-axis = parcela ainda não visitada (0–1)
+fig-km-target = meta: { $days } dias
+fig-curve-n = { $label } (n = { $n })
+fig-issued-events = eventos entregues
+fig-causes-value = eventos confirmados
+fig-causes-unit = eventos
+fig-wilson-figure = { $estimate } (IC de Wilson 95% { $lower }–{ $upper })
+fig-target-detection = dos eventos entregues, visitados em até { $days } dias desde a detecção: { $visited } de { $closed } cujos { $days } dias já passaram ({ $open } ainda dentro do prazo, deixados de fora)
+fig-target-issue = dos eventos entregues, visitados em até { $days } dias desde a entrega: { $visited } de { $closed } cujos { $days } dias já passaram ({ $open } ainda dentro do prazo, deixados de fora)
+fig-curve-n-note = As curvas contam { $n } dos { $events } eventos: { $after } detectados pela primeira vez depois de { $when } ainda não entram nelas.
+fig-km-note = { $curve }: mediana do tempo até a visita { $median }; visitados em até { $days } dias: { $share }
+fig-median-days = { $days } dias
+fig-median-not-reached = não alcançada
+fig-estimate-se-ci = { $estimate } (EP { $se }; IC 95% { $lower }–{ $upper })
+fig-estimate-se = { $estimate } (EP { $se })
+fig-estimate-no-se = { $estimate } (sem erro padrão: poucas visitas)
+fig-overall-accuracy = exatidão global
+fig-users-accuracy-area = exatidão do usuário dos alertas (ponderada pela área)
+fig-producers-accuracy-clearing = exatidão do produtor para o desmatamento
+fig-share-area-cleared = parcela da área desmatada
+fig-cleared-area-ha = área desmatada (ha)
+fig-no-respondents = ainda sem respostas
+fig-stratum = { $sources }, { $level }
+fig-high-confidence = confiança alta
+fig-low-confidence = confiança baixa
+fig-group-all = todos
+fig-group-none = (nenhuma)
+fig-group-not-sampled = (fora da amostra)
+fig-group-corroborated = corroborado por outra fonte
+fig-group-single-source = uma só fonte
+fig-export-csv = { $table } (CSV)
+fig-table-coverage = cobertura
+fig-table-confirmation = confirmação
+fig-table-response-times = tempos de resposta
+fig-table-time-to-visit = tempo até a visita
+fig-table-causes = causas
+fig-table-teams = equipes
+disp-bad-outcome = Resultado: escolha desmatamento confirmado, alarme falso ou não dá para saber (uma decisão diz o que o terreno mostra; não alcançado não resolve nada).
+disp-bad-reason = Motivo: diga por quê, em 1 a { $max } caracteres.
+disp-bad-by = Decidido por: seu nome, de 1 a { $max } caracteres.
+note-no-report = nenhum relatório contado
+note-none-reached = { $n ->
+        [one] 1 relatório, que não alcançou o evento
+       *[other] { $n } relatórios, nenhum alcançou o evento
+    }
+note-all-inconclusive = { $n ->
+        [one] 1 visita, sem conclusão
+       *[other] { $n } visitas, todas sem conclusão
+    }
+note-confirmed = confirmado
+note-new-clearing = confirmado mais de { $days } dias depois de um alarme falso: novo desmatamento
+note-later-false-alarm = um alarme falso posterior não desfaz o desmatamento confirmado
+note-settled = { $n ->
+        [one] 1 desacordo resolvido por evidências aprovadas
+       *[other] { $n } desacordos resolvidos por evidências aprovadas
+    }
+note-disputed = confirmado e alarme falso em menos de { $days } dias; as evidências não resolvem
+note-false-alarm = alarme falso
+note-decided = Decidido: { $outcome }, por { $by } em { $when }: { $reason } (os relatórios davam { $status }: { $note })
+photo-check-distance = a { $metres } m da área
+photo-check-no-position = foto sem posição
+photo-check-after-detection = tirada depois da detecção
+photo-check-before-detection = tirada antes da detecção
+photo-check-no-time = foto sem hora
+photo-check-outside-window = fora do período da viagem
+photo-check-reused = também usada por outro relatório
+photo-check-not-checked = não verificada
+map-title-trip = Viagem { $id } de { $team }
+map-title-preview = Prévia de uma viagem para { $team }
+map-title-events = Eventos de desmatamento por estado
+map-title-event = Evento { $code }

@@ -44,7 +44,7 @@ fn axis_ticks(max: f64, all_whole: bool) -> Vec<f64> {
 pub fn render_grouped_bars(input: &BarChart) -> String {
     let values = drawable_values(input);
     if values.is_empty() {
-        return svg::no_data(&input.title);
+        return svg::no_data(&input.title, &input.words.no_data);
     }
     let l = GroupedLayout::of(input, &values);
     svg::render_with(&input.title, |out| {
@@ -299,7 +299,7 @@ pub fn render_horizontal_bars(input: &HBarChart) -> String {
         .filter_map(|b| usable(b.value).map(|v| (b.label.as_str(), v)))
         .collect();
     if bars.is_empty() {
-        return svg::no_data(&input.title);
+        return svg::no_data(&input.title, &input.words.no_data);
     }
     let longest = bars.iter().map(|b| b.0.chars().count()).max().unwrap_or(0) as f64;
     let left = (longest * CHAR_W + 20.0).clamp(80.0, 280.0);

@@ -43,6 +43,8 @@ pub struct IntervalChart {
     /// Top of the value axis (1 for a share); `None`: from the data.
     pub y_max: Option<f64>,
     pub series: Vec<IntervalSeries>,
+    /// The key, tooltips and "no data", in the page's language.
+    pub words: super::words::ChartWords,
 }
 
 /// The estimates that can be drawn: (series, category, point).
@@ -77,7 +79,7 @@ fn drawable(c: &IntervalChart) -> Vec<(usize, usize, IntervalPoint)> {
 pub fn render_interval_chart(c: &IntervalChart) -> String {
     let points = drawable(c);
     if points.is_empty() {
-        return svg::no_data(&c.title);
+        return svg::no_data(&c.title, &c.words.no_data);
     }
     let data_max = points
         .iter()
@@ -169,16 +171,19 @@ fn one_point(
     let lo = y.map(p.lower.unwrap_or(0.0));
     let hi = y.map(p.upper.unwrap_or(y.d1));
     let bounds =
-        |v: Option<f64>| v.map_or_else(|| "open".to_string(), |v| axis::format_number(v, 0.001));
+        |v: Option<f64>| v.map_or_else(|| c.words.open.clone(), |v| axis::format_number(v, 0.001));
+    let interval = super::words::fill(
+        &c.words.interval_tip,
+        &[("lower", &bounds(p.lower)), ("upper", &bounds(p.upper))],
+    );
     write!(
         out,
-        "<g class=\"estimate\"><title>{}, {}: {} (95% interval {} to {})</title>\
+        "<g class=\"estimate\"><title>{}, {}: {} ({})</title>\
          <line class=\"whisker\" x1=\"{x}\" y1=\"{}\" x2=\"{x}\" y2=\"{}\" stroke=\"{colour}\" stroke-width=\"1.5\"/>",
         escape(&c.series[s].label),
         escape(&c.categories[k]),
         axis::format_number(p.estimate, 0.001),
-        bounds(p.lower),
-        bounds(p.upper),
+        escape(&interval),
         px(lo),
         px(hi),
         x = px(x)
@@ -245,9 +250,7 @@ fn legend(out: &mut String, c: &IntervalChart, top: f64) -> fmt::Result {
         px(LEFT),
         px(ny),
         TEXT_MUTED.hex(),
-        escape(
-            "marker: estimate; vertical line: 95% interval (to the edge when a bound is not reached)"
-        )
+        escape(&c.words.interval_key)
     )
 }
 
@@ -266,6 +269,7 @@ mod tests {
         };
         IntervalChart {
             title: "Confirmation rate by month".into(),
+            words: Default::default(),
             categories: vec!["2025-01".into(), "2025-02".into(), "2025-03".into()],
             x_label: "month of first detection".into(),
             y_label: "confirmation rate (0–1)".into(),

@@ -51,7 +51,7 @@ type Series<'a> = (usize, &'a str, Vec<Step>, Vec<f64>);
 pub fn render_step_curve(input: &StepChart) -> String {
     let series = drawable_series(input);
     if series.is_empty() {
-        return svg::no_data(&input.title);
+        return svg::no_data(&input.title, &input.words.no_data);
     }
     let target = input.target_day.filter(|d| d.is_finite() && *d >= 0.0);
     let x_ticks = nice_ticks(0.0, last_day(&series, target), 8);
@@ -88,7 +88,7 @@ pub fn render_step_curve(input: &StepChart) -> String {
         if let Some(d) = target {
             marker(out, x.map(d), &input.target_label)?;
         }
-        legend(out, &series, legend_top)?;
+        legend(out, &series, legend_top, &input.words)?;
         svg::close(out)
     })
 }
@@ -250,7 +250,12 @@ fn marker(out: &mut String, mx: f64, label: &str) -> fmt::Result {
 }
 
 /// One legend entry per series, then a note on the marks.
-fn legend(out: &mut String, series: &[Series<'_>], top: f64) -> fmt::Result {
+fn legend(
+    out: &mut String,
+    series: &[Series<'_>],
+    top: f64,
+    words: &super::words::ChartWords,
+) -> fmt::Result {
     let col_w = (RIGHT - LEFT) / LEGEND_COLS as f64;
     for (n, (i, label, _, _)) in series.iter().enumerate() {
         let lx = LEFT + (n % LEGEND_COLS) as f64 * col_w;
@@ -273,9 +278,9 @@ fn legend(out: &mut String, series: &[Series<'_>], top: f64) -> fmt::Result {
         .any(|s| s.2.iter().any(|st| st.band.is_some()));
     let any_cens = series.iter().any(|s| !s.3.is_empty());
     let note = match (any_cens, any_band) {
-        (true, true) => "+ censored (not yet visited); shaded: confidence band",
-        (true, false) => "+ censored (not yet visited)",
-        (false, true) => "shaded: confidence band",
+        (true, true) => format!("{}; {}", words.censored, words.band),
+        (true, false) => words.censored.clone(),
+        (false, true) => words.band.clone(),
         (false, false) => return Ok(()),
     };
     let ny = top + series.len().div_ceil(LEGEND_COLS) as f64 * LEGEND_ROW;
@@ -285,7 +290,7 @@ fn legend(out: &mut String, series: &[Series<'_>], top: f64) -> fmt::Result {
         px(LEFT),
         px(ny),
         TEXT_MUTED.hex(),
-        escape(note)
+        escape(&note)
     )
 }
 

@@ -9,7 +9,7 @@ use super::map_parts::{LEGEND_COLS, legend, north_arrow, scale_bar, status_colou
 use super::palette::{AXIS, BLACK, ORANGE, TEXT, ZONE_FILL};
 use super::projection::{Frame, MAP_W, MAP_X0, MAP_Y0, usable};
 use super::svg::{self, escape, px};
-use super::types::{EventStatus, MapEvent, MapInput, MapZone};
+use super::types::{ChartWords, EventStatus, MapEvent, MapInput, MapZone};
 use geo::{Coord, InteriorPoint, LineString, MultiPolygon, Polygon};
 use std::fmt::{self, Write};
 
@@ -53,7 +53,7 @@ fn rings(mp: &MultiPolygon<f64>) -> Vec<Vec<(f64, f64)>> {
 pub fn render_map(input: &MapInput) -> String {
     let d = Drawable::of(input);
     let Some(f) = Frame::fit(&d.all_points()) else {
-        return svg::no_data(&input.title);
+        return svg::no_data(&input.title, &input.words.no_data);
     };
     let priorities: Vec<bool> = d.zones.iter().map(|z| z.0.priority).collect();
     let has_route = d.route.len() >= 2;
@@ -67,7 +67,7 @@ pub fn render_map(input: &MapInput) -> String {
         for (z, shape) in &d.zones {
             zone(out, &f, z, shape)?;
         }
-        footprints(out, &f, &d.events)?;
+        footprints(out, &f, &d.events, &input.words)?;
         if has_route {
             route_line(out, &f, &d.route)?;
         }
@@ -77,9 +77,10 @@ pub fn render_map(input: &MapInput) -> String {
         for (z, shape) in &d.zones {
             zone_label(out, &f, &z.name, shape)?;
         }
-        north_arrow(out, MAP_X0 + MAP_W - 22.0, MAP_Y0 + 12.0)?;
-        legend(out, legend_top, &priorities, has_route, d.start.is_some())?;
-        scale_bar(out, &f, footer)?;
+        north_arrow(out, MAP_X0 + MAP_W - 22.0, MAP_Y0 + 12.0, &input.words)?;
+        let drawn = (has_route, d.start.is_some());
+        legend(out, legend_top, &priorities, drawn, &input.words)?;
+        scale_bar(out, &f, footer, &input.words)?;
         svg::close(out)
     })
 }
@@ -156,6 +157,7 @@ fn footprints(
     out: &mut String,
     f: &Frame,
     events: &[(&MapEvent, MultiPolygon<f64>)],
+    words: &ChartWords,
 ) -> fmt::Result {
     let mut drawn: Vec<_> = events
         .iter()
@@ -164,7 +166,7 @@ fn footprints(
         .collect();
     drawn.sort_by(|a, b| (b.1.2 * b.1.3).total_cmp(&(a.1.2 * a.1.3)));
     for (e, ext, r) in &drawn {
-        event(out, f, e, *ext, r)?;
+        event(out, f, e, (*ext, r), words)?;
     }
     Ok(())
 }
@@ -238,14 +240,17 @@ fn zone_label(out: &mut String, f: &Frame, name: &str, shape: &MultiPolygon<f64>
     )
 }
 
+/// A footprint's drawn extent: centre x, centre y, width, height (px).
+type Extent = (f64, f64, f64, f64);
+
 /// One event: a link holding a tooltip and one shape, a path or, when the
 /// footprint is under 3 px both ways, a marker.
 fn event(
     out: &mut String,
     f: &Frame,
     e: &MapEvent,
-    (cx, cy, w, h): (f64, f64, f64, f64),
-    rings: &[Vec<(f64, f64)>],
+    ((cx, cy, w, h), rings): (Extent, &[Vec<(f64, f64)>]),
+    words: &ChartWords,
 ) -> fmt::Result {
     let area = if e.area_ha.is_finite() {
         format_number(e.area_ha, if e.area_ha.abs() < 1.0 { 0.01 } else { 0.1 })
@@ -257,7 +262,7 @@ fn event(
         "<a class=\"event\" href=\"/events/{}\"><title>{}, {area} ha, {}</title>",
         e.id,
         escape(&e.code),
-        e.status.label()
+        escape(&words.status(e.status))
     )?;
     let (fill, status, edge) = (status_colour(e.status).hex(), e.status.as_str(), TEXT.hex());
     if w < MIN_PX && h < MIN_PX {

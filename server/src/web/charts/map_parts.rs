@@ -7,12 +7,12 @@ pub use super::palette::status_colour;
 use super::palette::{AXIS, BLACK, ORANGE, Rgb, TEXT, TEXT_MUTED, ZONE_FILL};
 use super::projection::{Frame, MAP_W, MAP_X0, scale_label, scale_length_m};
 use super::svg::{escape, px, text};
-use super::types::EventStatus;
+use super::types::{ChartWords, EventStatus};
 use std::fmt::{self, Write};
 
 pub(crate) const LEGEND_COLS: usize = 4;
 
-pub(crate) fn north_arrow(out: &mut String, x: f64, y: f64) -> fmt::Result {
+pub(crate) fn north_arrow(out: &mut String, x: f64, y: f64, words: &ChartWords) -> fmt::Result {
     write!(
         out,
         "<g class=\"north-arrow\"><path d=\"M {} {} L {} {} L {} {} L {} {} Z\" fill=\"{}\" stroke=\"#ffffff\" stroke-width=\"1\"/>",
@@ -26,7 +26,7 @@ pub(crate) fn north_arrow(out: &mut String, x: f64, y: f64) -> fmt::Result {
         px(y + 22.0),
         BLACK.hex()
     )?;
-    text(out, x, y + 36.0, "middle", "north-label", "N")?;
+    text(out, x, y + 36.0, "middle", "north-label", &words.north)?;
     out.write_str("</g>")
 }
 
@@ -35,8 +35,8 @@ pub(crate) fn legend(
     out: &mut String,
     top: f64,
     zone_priority: &[bool],
-    route: bool,
-    start: bool,
+    (route, start): (bool, bool),
+    words: &ChartWords,
 ) -> fmt::Result {
     let mut slots = LegendSlots {
         top,
@@ -49,22 +49,22 @@ pub(crate) fn legend(
             out,
             "legend-status",
             |x, y| status_swatch(s, c, x, y),
-            s.label(),
+            &words.status(s),
         )?;
     }
     if zone_priority.iter().any(|p| !p) {
         let sw = |x, y| zone_swatch("none", 1.0, AXIS, x, y);
-        slots.entry(out, "legend-zone", sw, "zone")?;
+        slots.entry(out, "legend-zone", sw, &words.zone)?;
     }
     if zone_priority.iter().any(|p| *p) {
         let sw = |x, y| zone_swatch("7 4", 2.5, BLACK, x, y);
-        slots.entry(out, "legend-zone", sw, "priority zone")?;
+        slots.entry(out, "legend-zone", sw, &words.priority_zone)?;
     }
     if route {
-        slots.entry(out, "legend-route", route_swatch, "route")?;
+        slots.entry(out, "legend-route", route_swatch, &words.route)?;
     }
     if start {
-        slots.entry(out, "legend-start", start_swatch, "start")?;
+        slots.entry(out, "legend-start", start_swatch, &words.start)?;
     }
     Ok(())
 }
@@ -143,7 +143,7 @@ fn start_swatch(x: f64, y: f64) -> String {
 
 /// A round-length scale bar at most 30% of the map width, and a note on
 /// the projection.
-pub(crate) fn scale_bar(out: &mut String, f: &Frame, y: f64) -> fmt::Result {
+pub(crate) fn scale_bar(out: &mut String, f: &Frame, y: f64, words: &ChartWords) -> fmt::Result {
     let m_per_px = f.metres_per_px();
     let len_m = scale_length_m(0.3 * MAP_W * m_per_px);
     if len_m > 0.0 && m_per_px > 0.0 {
@@ -178,10 +178,8 @@ pub(crate) fn scale_bar(out: &mut String, f: &Frame, y: f64) -> fmt::Result {
         )?;
         out.write_str("</g>")?;
     }
-    let note = format!(
-        "equirectangular, centre latitude {}°",
-        format_number(f.lat0, 0.01)
-    );
+    let lat = format_number(f.lat0, 0.01);
+    let note = super::words::fill(&words.projection, &[("lat", &lat)]);
     write!(
         out,
         "<text class=\"projection-note\" x=\"{}\" y=\"{}\" text-anchor=\"end\" font-size=\"10\" fill=\"{}\">{}</text>",

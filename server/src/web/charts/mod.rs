@@ -20,6 +20,7 @@ pub mod palette;
 pub mod projection;
 pub mod svg;
 pub mod types;
+pub mod words;
 
 #[cfg(test)]
 mod testutil;
@@ -36,3 +37,4 @@ pub use types::{
     BarChart, BarSeries, EventStatus, HBar, HBarChart, MapEvent, MapInput, MapZone, Step,
     StepChart, StepSeries,
 };
+pub use words::ChartWords;

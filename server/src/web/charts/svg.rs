@@ -74,7 +74,8 @@ pub(crate) fn heading(out: &mut String, title: &str) -> fmt::Result {
 }
 
 /// A complete SVG that says there is nothing to draw.
-pub fn no_data(title: &str) -> String {
+/// `body` is the words "no data" in the page's language.
+pub fn no_data(title: &str, body: &str) -> String {
     let (w, h) = (600.0, 160.0);
     let mut out = String::new();
     let written = open(&mut out, w, h, title)
@@ -83,8 +84,9 @@ pub fn no_data(title: &str) -> String {
             write!(
                 out,
                 "<text class=\"no-data\" x=\"300\" y=\"95\" text-anchor=\"middle\" \
-                 font-size=\"14\" fill=\"{}\">no data</text>",
-                TEXT_MUTED.hex()
+                 font-size=\"14\" fill=\"{}\">{}</text>",
+                TEXT_MUTED.hex(),
+                escape(body)
             )
         })
         .and_then(|_| close(&mut out));
@@ -100,7 +102,7 @@ pub(crate) fn render_with(title: &str, draw: impl FnOnce(&mut String) -> fmt::Re
     let mut out = String::new();
     match draw(&mut out) {
         Ok(()) => out,
-        Err(_) => no_data(title),
+        Err(_) => no_data(title, "no data"),
     }
 }
 
@@ -118,7 +120,7 @@ mod tests {
 
     #[test]
     fn no_data_is_valid_xml_with_message() {
-        let svg = no_data("Empty <chart>");
+        let svg = no_data("Empty <chart>", "no data");
         let doc = roxmltree::Document::parse(&svg).expect("valid XML");
         let root = doc.root_element();
         assert_eq!(root.attribute("role"), Some("img"));

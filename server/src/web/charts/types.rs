@@ -3,6 +3,8 @@
 
 use geo::MultiPolygon;
 
+pub use super::words::ChartWords;
+
 pub use crate::domain::EventStatus;
 
 /// A named zone polygon.
@@ -36,6 +38,8 @@ pub struct MapInput {
     pub start: Option<(f64, f64)>,
     /// Route as (lon, lat) vertices in order; fewer than two draws nothing.
     pub route: Vec<(f64, f64)>,
+    /// The legend's and notes' words, in the page's language.
+    pub words: ChartWords,
 }
 
 /// One step of a step curve: from `x_days` on, the curve is at `y`
@@ -68,6 +72,8 @@ pub struct StepChart {
     /// A vertical marker (e.g. 14 days) with its label.
     pub target_day: Option<f64>,
     pub target_label: String,
+    /// The notes' words, in the page's language.
+    pub words: ChartWords,
 }
 
 impl StepChart {
@@ -84,6 +90,7 @@ impl StepChart {
             series,
             target_day,
             target_label,
+            words: ChartWords::default(),
         }
     }
 }
@@ -108,6 +115,8 @@ pub struct BarChart {
     pub series: Vec<BarSeries>,
     /// Value axis title with its unit, e.g. "events (count)".
     pub y_label: String,
+    /// The chart's own words ("no data"), in the page's language.
+    pub words: ChartWords,
 }
 
 /// One horizontal bar.
@@ -126,4 +135,6 @@ pub struct HBarChart {
     /// Unit shown on the axis and after each value, e.g. "ha" or "events".
     pub unit: String,
     pub bars: Vec<HBar>,
+    /// The chart's own words ("no data"), in the page's language.
+    pub words: ChartWords,
 }

@@ -8,20 +8,22 @@
 
 use super::common::{Layout, PageError, Viewer, fixed, non_empty, opt_day, page, percent, respond};
 use super::events::{Choice, urlencode};
+use super::figure_words::{cause_name, chart_words, group_name, stratum_label};
 use crate::domain::EventStatus;
 use crate::error::Error;
 use crate::platform::i18n::Tr;
 use crate::statistics::estimators::{DurationSummary, Estimate};
 use crate::statistics::figures::{
-    Assessment, EventFacts, FigureOptions, Figures, GroupKey, TargetShare, TrendPoint, VisitCurve,
+    Assessment, EventFacts, FigureOptions, Figures, GroupKey, TargetFrom, TargetShare, TrendPoint,
+    VisitCurve,
     month_of, monthly_trends, team_trends,
 };
 use crate::statistics::kept::{CONTROL_PLOT_HA, StatsFilter, TABLES};
 use crate::web::AppState;
 use crate::web::charts::{
     BarChart, BarSeries, HBar, HBarChart, IntervalChart, IntervalPoint, IntervalSeries, Step,
-    StepChart, StepSeries, render_grouped_bars, render_horizontal_bars, render_interval_chart,
-    render_step_curve,
+    StepChart, StepSeries, format_number, render_grouped_bars, render_horizontal_bars,
+    render_interval_chart, render_step_curve,
 };
 use actix_web::{HttpRequest, HttpResponse, web};
 use askama::Template;
@@ -41,7 +43,7 @@ pub struct DashboardQuery {
 /// "Visited" is an event a counted report reached (any status but
 /// unvisited and not reached). Clearings found on the ground are not
 /// alerts and are left out.
-pub fn monthly_chart(events: &[EventFacts]) -> BarChart {
+pub fn monthly_chart(tr: &Tr, events: &[EventFacts]) -> BarChart {
     let mut counts: BTreeMap<String, [f64; 3]> = BTreeMap::new();
     for e in events.iter().filter(|e| !e.found_on_ground) {
         let c = counts.entry(month_of(e.first_detected)).or_default();
@@ -56,24 +58,25 @@ pub fn monthly_chart(events: &[EventFacts]) -> BarChart {
         }
     }
     let series = [
-        ("issued", None),
-        ("visited", None),
-        ("confirmed", Some(EventStatus::Confirmed)),
+        ("fig-series-issued", None),
+        ("fig-series-visited", None),
+        ("fig-series-confirmed", Some(EventStatus::Confirmed)),
     ]
     .iter()
     .enumerate()
-    .map(|(i, (label, status))| BarSeries {
-        label: label.to_string(),
+    .map(|(i, (id, status))| BarSeries {
+        label: tr.t(id),
         values: counts.values().map(|c| c[i]).collect(),
         status: *status,
     })
     .collect();
     BarChart {
-        title: "Events issued, visited and confirmed, by month of first detection".into(),
+        title: tr.t("fig-monthly-title"),
         categories: counts.keys().cloned().collect(),
-        x_label: "month of first detection".into(),
+        x_label: tr.t("fig-month-axis"),
         series,
-        y_label: "events (count)".into(),
+        y_label: tr.t("fig-events-count-axis"),
+        words: chart_words(tr),
     }
 }
 
@@ -96,6 +99,7 @@ impl Trends {
 
 /// Interval series of `points`, one per group, over the sorted months.
 fn trend_series(
+    tr: &Tr,
     points: &[TrendPoint],
     value: impl Fn(&TrendPoint) -> Option<IntervalPoint>,
 ) -> (Vec<String>, Vec<IntervalSeries>) {
@@ -117,7 +121,7 @@ fn trend_series(
     let series = groups
         .into_iter()
         .map(|(label, points)| IntervalSeries {
-            label: label.to_string(),
+            label: group_name(tr, GroupKey::Team, label),
             points,
         })
         .collect();
@@ -142,42 +146,43 @@ fn median_point(p: &TrendPoint) -> Option<IntervalPoint> {
 
 /// The three trend charts: the confirmation rate and the median time to
 /// visit by month, and the teams' median time from issue by month.
-pub fn trend_charts(t: &Trends) -> [String; 3] {
+pub fn trend_charts(tr: &Tr, t: &Trends) -> [String; 3] {
     let chart = |title: &str, y_label: &str, y_max, (categories, series)| {
         render_interval_chart(&IntervalChart {
-            title: title.into(),
+            title: tr.t(title),
             categories,
-            x_label: "month of first detection".into(),
-            y_label: y_label.into(),
+            x_label: tr.t("fig-month-axis"),
+            y_label: tr.t(y_label),
             y_max,
             series,
+            words: chart_words(tr),
         })
     };
     [
         chart(
-            "Confirmation rate by month (Wilson 95% interval)",
-            "confirmed / (confirmed + false alarm) (0–1)",
+            "fig-trend-rate-title",
+            "fig-trend-rate-axis",
             Some(1.0),
-            trend_series(&t.monthly, rate_point),
+            trend_series(tr, &t.monthly, rate_point),
         ),
         chart(
-            "Median days from detection to first visit, by month (Kaplan–Meier, 95% interval)",
-            "median time to visit (days)",
+            "fig-trend-median-title",
+            "fig-trend-median-axis",
             None,
-            trend_series(&t.monthly, median_point),
+            trend_series(tr, &t.monthly, median_point),
         ),
         chart(
-            "Teams over time: median days from issue to first visit (Kaplan–Meier, 95% interval)",
-            "median time to visit (days)",
+            "fig-trend-teams-title",
+            "fig-trend-median-axis",
             None,
-            trend_series(&t.teams, median_point),
+            trend_series(tr, &t.teams, median_point),
         ),
     ]
 }
 
 /// A Kaplan–Meier curve as a labelled step series: it starts at (0, 1),
 /// steps at each observed time, and marks censored times.
-pub fn km_series(c: &VisitCurve) -> StepSeries {
+pub fn km_series(tr: &Tr, c: &VisitCurve) -> StepSeries {
     let mut steps = vec![Step {
         x_days: 0.0,
         y: 1.0,
@@ -198,7 +203,7 @@ pub fn km_series(c: &VisitCurve) -> StepSeries {
     }
     let n = c.curve.as_ref().map_or(0, |k| k.subjects);
     StepSeries {
-        label: format!("{} (n = {n})", c.label),
+        label: tr.t2("fig-curve-n", "label", label(tr, &c.label), "n", n),
         steps,
         censored,
     }
@@ -253,19 +258,21 @@ fn key_label(k: GroupKey) -> &'static str {
 }
 
 /// "0.812 (SE 0.031; 95% CI 0.751–0.873)".
-pub fn estimate_text(e: &Estimate, decimals: usize) -> String {
-    let mut s = fixed(e.estimate, decimals);
+pub fn estimate_text(tr: &Tr, e: &Estimate, decimals: usize) -> String {
+    let (est, n) = (fixed(e.estimate, decimals), |v| fixed(v, decimals));
     match (e.se, e.ci95) {
-        (Some(se), Some(ci)) => s.push_str(&format!(
-            " (SE {}; 95% CI {}–{})",
-            fixed(se, decimals),
-            fixed(ci.lower, decimals),
-            fixed(ci.upper, decimals)
-        )),
-        (Some(se), None) => s.push_str(&format!(" (SE {})", fixed(se, decimals))),
-        _ => s.push_str(" (no standard error: too few visits)"),
+        (Some(se), Some(ci)) => tr.tn(
+            "fig-estimate-se-ci",
+            &[
+                ("estimate", &est),
+                ("se", &n(se)),
+                ("lower", &n(ci.lower)),
+                ("upper", &n(ci.upper)),
+            ],
+        ),
+        (Some(se), None) => tr.t2("fig-estimate-se", "estimate", est, "se", n(se)),
+        _ => tr.t1("fig-estimate-no-se", "estimate", est),
     }
-    s
 }
 
 fn duration_text(d: &Option<DurationSummary>) -> (String, String, String) {
@@ -360,47 +367,35 @@ fn control_rows(a: &Assessment) -> Vec<[String; 8]> {
         .collect()
 }
 
-fn assessment_view(f: &Figures) -> Option<AssessmentView> {
+fn assessment_view(tr: &Tr, f: &Figures) -> Option<AssessmentView> {
     let a = f.assessment.as_ref()?;
     let mut area = Vec::new();
     if let Some(ar) = &a.area {
-        area.push((
-            "overall accuracy".to_string(),
-            estimate_text(&ar.overall_accuracy, 3),
-        ));
+        let mut row = |id: &str, e: &Estimate, decimals| {
+            area.push((tr.t(id), estimate_text(tr, e, decimals)));
+        };
+        row("fig-overall-accuracy", &ar.overall_accuracy, 3);
         if let Some(e) = &ar.users_accuracy_alert {
-            area.push((
-                "user's accuracy of the alerts (area weighted)".into(),
-                estimate_text(e, 3),
-            ));
+            row("fig-users-accuracy-area", e, 3);
         }
         if let Some(e) = &ar.producers_accuracy_clearing {
-            area.push((
-                "producer's accuracy for clearing".into(),
-                estimate_text(e, 3),
-            ));
+            row("fig-producers-accuracy-clearing", e, 3);
         }
-        area.push((
-            "share of the area cleared".into(),
-            estimate_text(&ar.clearing_proportion, 4),
-        ));
-        area.push((
-            "cleared area (ha)".into(),
-            estimate_text(&ar.clearing_area_ha, 1),
-        ));
+        row("fig-share-area-cleared", &ar.clearing_proportion, 4);
+        row("fig-cleared-area-ha", &ar.clearing_area_ha, 1);
     }
     Some(AssessmentView {
         basis: a.basis.label(),
         users_accuracy: a.users_accuracy_of_alerts.as_ref().map_or_else(
-            || "no respondents yet".to_string(),
-            |p| estimate_text(&p.proportion, 3),
+            || tr.t("fig-no-respondents"),
+            |p| estimate_text(tr, &p.proportion, 3),
         ),
         strata: a
             .alert_strata
             .iter()
             .map(|s| {
                 [
-                    stratum_label(&s.stratum),
+                    stratum_label(tr, &s.stratum),
                     s.population.to_string(),
                     s.selected.to_string(),
                     s.confirmed.to_string(),
@@ -408,7 +403,7 @@ fn assessment_view(f: &Figures) -> Option<AssessmentView> {
                     s.non_response.total().to_string(),
                     s.users_accuracy
                         .as_ref()
-                        .map_or_else(|| "–".into(), |e| estimate_text(e, 3)),
+                        .map_or_else(|| "–".into(), |e| estimate_text(tr, e, 3)),
                 ]
             })
             .collect(),
@@ -416,23 +411,6 @@ fn assessment_view(f: &Figures) -> Option<AssessmentView> {
         controls: control_rows(a),
         plot_ha: fixed(CONTROL_PLOT_HA, 0),
     })
-}
-
-/// A sample stratum as the page names it: strata are stored as
-/// "sources|confidence" with the stored confidence word; the page says
-/// "high" or "low confidence" so that "confirmed" is only an outcome.
-pub fn stratum_label(stratum: &str) -> String {
-    match stratum.rsplit_once('|') {
-        Some((sources, conf)) => {
-            let level = match conf {
-                "confirmed" | "high" => "high confidence",
-                "tentative" | "low" => "low confidence",
-                other => other,
-            };
-            format!("{sources}, {level}")
-        }
-        None => stratum.to_string(),
-    }
 }
 
 fn build(
@@ -444,8 +422,10 @@ fn build(
     (events, trends): (&[EventFacts], &Trends),
     lists: &Lists,
 ) -> DashboardPage {
+    let layout = translated_layout(req, viewer, "dash-title", "/dashboard");
+    let tr = &layout.tr.clone();
     DashboardPage {
-        layout: translated_layout(req, viewer, "dash-title", "/dashboard"),
+        layout,
         zones: lists.choices(&lists.zones, &filter.zone),
         teams: lists.choices(&lists.teams, &filter.team),
         sources: lists.choices(&lists.sources, &filter.source),
@@ -453,21 +433,21 @@ fn build(
         to: q.to.clone().unwrap_or_default(),
         // In the organisation's zone: set by `dashboard_page`, which has the settings.
         as_of: String::new(),
-        numbers: numbers(f),
-        coverage: coverage_tables(f),
-        rates: rate_tables(f),
-        km_chart: km_chart(f),
-        km_notes: km_notes(f),
-        monthly: render_grouped_bars(&monthly_chart(events)),
-        trends: trend_charts(trends),
-        causes_chart: causes_chart(f),
+        numbers: numbers(tr, f),
+        coverage: coverage_tables(tr, f),
+        rates: rate_tables(tr, f),
+        km_chart: km_chart(tr, f),
+        km_notes: km_notes(tr, f),
+        monthly: render_grouped_bars(&monthly_chart(tr, events)),
+        trends: trend_charts(tr, trends),
+        causes_chart: causes_chart(tr, f),
         causes: f
             .causes
             .by_cause
             .iter()
             .map(|c| {
                 [
-                    c.cause.replace('_', " "),
+                    cause_name(tr, &c.cause),
                     c.events.to_string(),
                     fixed(c.area_ha, 2),
                 ]
@@ -475,20 +455,30 @@ fn build(
             .collect(),
         times: response_time_rows(f),
         team_rows: with_station_entries(team_rows(f), &lists.station),
-        assessment: assessment_view(f),
-        exports: export_links(q, filter),
+        assessment: assessment_view(tr, f),
+        exports: export_links(tr, q, filter),
         summary_link: summary_link(q, filter),
         map: None,
     }
 }
 
 /// The Kaplan–Meier time-to-visit chart with the target marked.
-pub(super) fn km_chart(f: &Figures) -> String {
-    render_step_curve(&StepChart::time_to_visit(
-        "Time from detection to first visit (Kaplan–Meier; unvisited events censored)",
-        f.time_to_visit.curves.iter().map(km_series).collect(),
-        Some(f.time_to_visit.within_days),
-    ))
+pub(super) fn km_chart(tr: &Tr, f: &Figures) -> String {
+    let within = f.time_to_visit.within_days;
+    let mut chart = StepChart::time_to_visit(
+        &tr.t("fig-km-title"),
+        f.time_to_visit
+            .curves
+            .iter()
+            .map(|c| km_series(tr, c))
+            .collect(),
+        Some(within),
+    );
+    chart.x_label = tr.t("fig-km-x-axis");
+    chart.y_label = tr.t("fig-km-y-axis");
+    chart.target_label = tr.t1("fig-km-target", "days", format_number(within, 1.0));
+    chart.words = chart_words(tr);
+    render_step_curve(&chart)
 }
 
 /// The team table's rows.
@@ -525,7 +515,7 @@ fn with_station_entries(
 }
 
 /// The headline numbers: coverage of all events and the share visited in time.
-pub(super) fn numbers(f: &Figures) -> Numbers {
+pub(super) fn numbers(tr: &Tr, f: &Figures) -> Numbers {
     let all_cov = f
         .coverage
         .iter()
@@ -538,53 +528,67 @@ pub(super) fn numbers(f: &Figures) -> Numbers {
         visited: all_cov.map_or(0, |r| r.visited),
         not_reached: all_cov.map_or(0, |r| r.not_reached),
         unvisited: all_cov.map_or(0, |r| r.unvisited),
-        targets: f.target.iter().map(target_text).collect(),
+        targets: f.target.iter().map(|t| target_text(tr, t)).collect(),
         ground: (
             f.found_on_ground.clearings,
             fixed(f.found_on_ground.area_ha, 1),
         ),
-        curve_n_note: curve_n_note(f, events),
+        curve_n_note: curve_n_note(tr, f, events),
     }
 }
 
 /// The headline of one target: "40.0% (Wilson 95% CI 19.8%–64.3%)" and
 /// what it counts.
-pub fn target_text(t: &TargetShare) -> (String, String) {
+pub fn target_text(tr: &Tr, t: &TargetShare) -> (String, String) {
     let days = fixed(t.within_days, 0);
     let figure = match &t.share {
-        Some(s) => format!(
-            "{} (Wilson 95% CI {}–{})",
+        Some(s) => tr.t3(
+            "fig-wilson-figure",
+            "estimate",
             percent(s.estimate),
+            "lower",
             percent(s.ci95.lower),
-            percent(s.ci95.upper)
+            "upper",
+            percent(s.ci95.upper),
         ),
-        None => "no data".to_string(),
+        None => tr.t("chart-no-data"),
     };
-    let what = format!(
-        "of issued events visited within {days} days {}: {} of {} whose {days} days are over ({} more still within them, left out)",
-        t.from.label(),
-        t.visited_within,
-        t.window_closed,
-        t.window_open
+    let id = match t.from {
+        TargetFrom::Detection => "fig-target-detection",
+        TargetFrom::Issue => "fig-target-issue",
+    };
+    let what = tr.tn(
+        id,
+        &[
+            ("days", &days),
+            ("visited", &t.visited_within),
+            ("closed", &t.window_closed),
+            ("open", &t.window_open),
+        ],
     );
     (figure, what)
 }
 
 /// Why the time-to-visit curve counts fewer events than the page, if it does.
-fn curve_n_note(f: &Figures, events: u64) -> Option<String> {
+fn curve_n_note(tr: &Tr, f: &Figures, events: u64) -> Option<String> {
     let c = f.time_to_visit.curves.first()?;
     let n = c.curve.as_ref().map_or(0, |k| k.subjects) as u64;
+    let when = f.as_of.format("%Y-%m-%d %H:%M UTC").to_string();
     (n != events).then(|| {
-        format!(
-            "The curves count {n} of the {events} events: {} first detected after {} are not yet in them.",
-            c.detected_after_as_of,
-            f.as_of.format("%Y-%m-%d %H:%M UTC")
+        tr.tn(
+            "fig-curve-n-note",
+            &[
+                ("n", &n),
+                ("events", &events),
+                ("after", &c.detected_after_as_of),
+                ("when", &when),
+            ],
         )
     })
 }
 
 /// Coverage by zone, team, month and the other groupings (all events apart).
-fn coverage_tables(f: &Figures) -> Vec<CoverageTable> {
+fn coverage_tables(tr: &Tr, f: &Figures) -> Vec<CoverageTable> {
     f.coverage
         .iter()
         .filter(|g| g.key != GroupKey::All)
@@ -595,7 +599,7 @@ fn coverage_tables(f: &Figures) -> Vec<CoverageTable> {
                 .iter()
                 .map(|r| {
                     [
-                        r.group.clone(),
+                        group_name(tr, g.key, &r.group),
                         r.events.to_string(),
                         r.issued.to_string(),
                         r.visited.to_string(),
@@ -609,7 +613,7 @@ fn coverage_tables(f: &Figures) -> Vec<CoverageTable> {
 }
 
 /// The confirmation rate tables, one per grouping.
-fn rate_tables(f: &Figures) -> Vec<RateTable> {
+fn rate_tables(tr: &Tr, f: &Figures) -> Vec<RateTable> {
     f.confirmation
         .iter()
         .map(|g| RateTable {
@@ -630,7 +634,7 @@ fn rate_tables(f: &Figures) -> Vec<RateTable> {
                         None => ("–".into(), "–".into()),
                     };
                     [
-                        r.group.clone(),
+                        group_name(tr, g.key, &r.group),
                         r.confirmed.to_string(),
                         r.false_alarm.to_string(),
                         r.inconclusive.to_string(),
@@ -645,45 +649,49 @@ fn rate_tables(f: &Figures) -> Vec<RateTable> {
 }
 
 /// One line per time-to-visit curve: its median and the share visited in time.
-fn km_notes(f: &Figures) -> Vec<String> {
-    let within = f.time_to_visit.within_days;
+fn km_notes(tr: &Tr, f: &Figures) -> Vec<String> {
+    let within = fixed(f.time_to_visit.within_days, 0);
     f.time_to_visit
         .curves
         .iter()
         .map(|c| {
-            let median = c
-                .curve
-                .as_ref()
-                .and_then(|k| k.median)
-                .map_or_else(|| "not reached".into(), |m| format!("{} days", fixed(m, 1)));
+            let median = c.curve.as_ref().and_then(|k| k.median).map_or_else(
+                || tr.t("fig-median-not-reached"),
+                |m| tr.t1("fig-median-days", "days", fixed(m, 1)),
+            );
             let share = c
                 .visited_within
                 .as_ref()
                 .map_or_else(|| "–".into(), |s| percent(s.share));
-            format!(
-                "{}: median time to visit {median}; visited within {} days: {share}",
-                c.label,
-                fixed(within, 0)
+            tr.tn(
+                "fig-km-note",
+                &[
+                    ("curve", &label(tr, &c.label)),
+                    ("median", &median),
+                    ("days", &within),
+                    ("share", &share),
+                ],
             )
         })
         .collect()
 }
 
 /// The bar chart of the causes of confirmed clearing.
-fn causes_chart(f: &Figures) -> String {
+fn causes_chart(tr: &Tr, f: &Figures) -> String {
     render_horizontal_bars(&HBarChart {
-        title: "Causes of confirmed clearing".into(),
-        value_label: "confirmed events".into(),
-        unit: "events".into(),
+        title: tr.t("dash-causes"),
+        value_label: tr.t("fig-causes-value"),
+        unit: tr.t("fig-causes-unit"),
         bars: f
             .causes
             .by_cause
             .iter()
             .map(|c| HBar {
-                label: c.cause.replace('_', " "),
+                label: cause_name(tr, &c.cause),
                 value: c.events as f64,
             })
             .collect(),
+        words: chart_words(tr),
     })
 }
 
@@ -718,7 +726,7 @@ fn summary_link(q: &DashboardQuery, filter: &StatsFilter) -> String {
 }
 
 /// The CSV export links, carrying the page's filter, and the GeoJSON export.
-fn export_links(q: &DashboardQuery, filter: &StatsFilter) -> Vec<(String, String)> {
+fn export_links(tr: &Tr, q: &DashboardQuery, filter: &StatsFilter) -> Vec<(String, String)> {
     let mut params = Vec::new();
     for (k, v) in [
         ("from", &q.from),
@@ -737,13 +745,13 @@ fn export_links(q: &DashboardQuery, filter: &StatsFilter) -> Vec<(String, String
         .map(|t| {
             (
                 format!("/api/v1/stats/{t}?format=csv{suffix}"),
-                format!("{t} (CSV)"),
+                tr.t1("fig-export-csv", "table", tr.t(&format!("fig-table-{t}"))),
             )
         })
         .collect();
     exports.push((
         "/api/v1/exports/events.geojson".into(),
-        "events with status (GeoJSON)".into(),
+        tr.t("fig-events-with-status-geojson"),
     ));
     exports
 }
@@ -871,7 +879,7 @@ mod tests {
             event(4, 2, true, true, EventStatus::FalseAlarm),
             event(5, 2, true, true, EventStatus::Confirmed),
         ];
-        let c = monthly_chart(&events);
+        let c = monthly_chart(&Tr::new("en"), &events);
         assert_eq!(c.categories, vec!["2026-01", "2026-02"]);
         let v: Vec<Vec<f64>> = c.series.iter().map(|s| s.values.clone()).collect();
         assert_eq!(v, vec![vec![2.0, 2.0], vec![1.0, 2.0], vec![1.0, 1.0]]);
@@ -893,7 +901,7 @@ mod tests {
             detected_after_as_of: 0,
             visit_before_detection: 0,
         };
-        let s = km_series(&c);
+        let s = km_series(&Tr::new("en"), &c);
         assert_eq!(s.label, "issued events (n = 3)");
         assert_eq!((s.steps[0].x_days, s.steps[0].y), (0.0, 1.0));
         assert!((s.steps[1].y - 2.0 / 3.0).abs() < 1e-12);
@@ -913,7 +921,7 @@ mod tests {
             window_open: 3,
             share: crate::statistics::estimators::wilson(0, 20).unwrap(),
         };
-        let (figure, what) = target_text(&t);
+        let (figure, what) = target_text(&Tr::new("en"), &t);
         assert_eq!(figure, "0.0% (Wilson 95% CI 0.0%–16.1%)");
         assert!(
             what.contains("within 14 days from issue: 0 of 20"),
@@ -929,15 +937,7 @@ mod tests {
             key_label(GroupKey::Confidence),
             "by alert confidence (high or low)"
         );
-        assert_eq!(
-            stratum_label("optical-10m|confirmed"),
-            "optical-10m, high confidence"
-        );
-        assert_eq!(
-            stratum_label("optical-10m+radar-10m|tentative"),
-            "optical-10m+radar-10m, low confidence"
-        );
-        assert_eq!(stratum_label("control"), "control");
+        // The stratum's words: `figure_words::tests`.
         assert_eq!(crate::domain::Confidence::Confirmed.level(), "high");
         assert_eq!(crate::domain::Confidence::Tentative.level(), "low");
     }
@@ -946,6 +946,9 @@ mod tests {
     fn estimates_read_with_their_uncertainty() {
         let e = Estimate::normal(0.8, Some(0.05), 0.0, 1.0);
         // 0.8 ± 1.96 × 0.05 = 0.702 to 0.898 (normal interval, z = 1.959964).
-        assert_eq!(estimate_text(&e, 3), "0.800 (SE 0.050; 95% CI 0.702–0.898)");
+        assert_eq!(
+            estimate_text(&Tr::new("en"), &e, 3),
+            "0.800 (SE 0.050; 95% CI 0.702–0.898)"
+        );
     }
 }

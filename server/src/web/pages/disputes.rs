@@ -4,14 +4,17 @@
 //! by = the logged-in user) and redirects back.
 
 use super::common::{Layout, PageError, Viewer, fixed, html, respond, see_other};
+use super::figure_words::status_note;
 use super::views::{ReportView, report_view};
 use crate::domain::EventStatus;
 use crate::error::Error;
 use crate::planning::codes::event_code;
 use crate::platform::auth::Action;
+use crate::platform::i18n::Tr;
 use crate::statistics::kept::StatsFilter;
 use crate::web::AppState;
 use crate::web::adjudication::{self, BadField, MAX_BY_CHARS, MAX_REASON_CHARS, Ruling};
+use crate::web::i18n::tr_of;
 use actix_web::http::StatusCode;
 use actix_web::{HttpRequest, HttpResponse, web};
 use askama::Template;
@@ -34,7 +37,8 @@ struct Dispute {
 struct DisputesPage {
     layout: Layout,
     disputes: Vec<Dispute>,
-    outcomes: Vec<(&'static str, &'static str)>,
+    /// (stored word, the status it settles on in the page's language).
+    outcomes: Vec<(&'static str, String)>,
     may_adjudicate: bool,
     /// Ask for the decider's name when no user is logged in.
     ask_name: bool,
@@ -43,11 +47,13 @@ struct DisputesPage {
     done: Option<i64>,
 }
 
-impl DisputesPage {
-    /// A fixed English label in the user's language (`dashboard::label`).
-    fn l(&self, english: &str) -> String {
-        super::dashboard::label(&self.layout.tr, english)
-    }
+/// A settling outcome as the status word it gives (`status-*`, the word
+/// the event pages use), else its English label.
+fn outcome_label(tr: &Tr, word: &str, english: &str) -> String {
+    word.parse::<EventStatus>().map_or_else(
+        |_| english.to_string(),
+        |s| tr.t(&super::views::status_id(s)),
+    )
 }
 
 #[derive(Debug, Deserialize, Default)]
@@ -65,7 +71,7 @@ pub struct AdjudicationForm {
 
 /// Check the form ([`Ruling::check`]); `by` comes from the logged-in user
 /// when known. A refusal names the form's label.
-pub fn validate(f: &AdjudicationForm, user: Option<&str>) -> Result<Ruling, PageError> {
+pub fn validate(tr: &Tr, f: &AdjudicationForm, user: Option<&str>) -> Result<Ruling, PageError> {
     let by = user.or(f.by.as_deref()).unwrap_or_default();
     Ruling::check(
         f.outcome.as_deref().unwrap_or_default(),
@@ -74,11 +80,9 @@ pub fn validate(f: &AdjudicationForm, user: Option<&str>) -> Result<Ruling, Page
     )
     .map_err(|field| {
         PageError::bad_request(match field {
-            BadField::Outcome => {
-                "Outcome: choose confirmed loss, false alarm or inconclusive (a decision says what the ground shows; not reached settles nothing).".to_string()
-            }
-            BadField::Reason => format!("Reason: say why, in 1 to {MAX_REASON_CHARS} characters."),
-            BadField::By => format!("Decided by: your name, 1 to {MAX_BY_CHARS} characters."),
+            BadField::Outcome => tr.t("disp-bad-outcome"),
+            BadField::Reason => tr.t1("disp-bad-reason", "max", MAX_REASON_CHARS),
+            BadField::By => tr.t1("disp-bad-by", "max", MAX_BY_CHARS),
         })
     })
 }
@@ -90,6 +94,7 @@ async fn disputes_page(
     error: Option<(i64, PageError)>,
     done: Option<i64>,
 ) -> Result<HttpResponse, PageError> {
+    let tr = tr_of(req);
     let db = state.db.clone();
     let stats = state.stats.clone();
     let settings = state.settings.get().clone();
@@ -119,7 +124,7 @@ async fn disputes_page(
                     id: *id,
                     code: event_code(*id),
                     area: fixed(area, 2),
-                    note: adjudication::readable_note(&s.note, settings.zone()),
+                    note: status_note(&tr, &s.note, settings.zone()),
                     teams: s.teams.join(", "),
                     reports,
                 })
@@ -137,7 +142,10 @@ async fn disputes_page(
     let t = DisputesPage {
         layout: super::dashboard::translated_layout(req, viewer, "disp-title", "/disputes"),
         disputes,
-        outcomes: OUTCOMES.to_vec(),
+        outcomes: OUTCOMES
+            .iter()
+            .map(|(word, english)| (*word, outcome_label(&tr, word, english)))
+            .collect(),
         may_adjudicate: viewer.may(Action::Adjudicate),
         ask_name: viewer.name.is_none(),
         error,
@@ -180,7 +188,7 @@ pub async fn adjudicate(
     let r = async {
         let f =
             form.map_err(|e| PageError::bad_request(format!("The form could not be read: {e}")))?;
-        let ruling = validate(&f, viewer.name.as_deref())?;
+        let ruling = validate(&tr_of(&req), &f, viewer.name.as_deref())?;
         let db = state.db.clone();
         let live = web::block(move || adjudication::record(&db, id, &ruling))
             .await??
@@ -212,6 +220,7 @@ mod tests {
     #[test]
     fn the_logged_in_user_decides() {
         let r = validate(
+            &Tr::new("en"),
             &form("false_alarm", " standing forest ", "typed"),
             Some("mgr one"),
         )
@@ -220,31 +229,36 @@ mod tests {
             (r.outcome.as_str(), r.reason.as_str(), r.by.as_str()),
             ("false_alarm", "standing forest", "mgr one")
         );
-        let r = validate(&form("confirmed", "fresh stumps", " Ana "), None).unwrap();
+        let r = validate(
+            &Tr::new("en"),
+            &form("confirmed", "fresh stumps", " Ana "),
+            None,
+        )
+        .unwrap();
         assert_eq!(r.by, "Ana");
     }
 
     #[test]
     fn missing_fields_are_refused_with_their_name() {
         assert!(
-            validate(&form("maybe", "x", "m"), None)
+            validate(&Tr::new("en"), &form("maybe", "x", "m"), None)
                 .unwrap_err()
                 .message
                 .starts_with("Outcome")
         );
         assert!(
-            validate(&form("confirmed", "  ", "m"), None)
+            validate(&Tr::new("en"), &form("confirmed", "  ", "m"), None)
                 .unwrap_err()
                 .message
                 .starts_with("Reason")
         );
         assert!(
-            validate(&form("confirmed", "ok", ""), None)
+            validate(&Tr::new("en"), &form("confirmed", "ok", ""), None)
                 .unwrap_err()
                 .message
                 .starts_with("Decided by")
         );
         let long = "x".repeat(MAX_REASON_CHARS + 1);
-        assert!(validate(&form("confirmed", &long, "m"), None).is_err());
+        assert!(validate(&Tr::new("en"), &form("confirmed", &long, "m"), None).is_err());
     }
 }

@@ -5,10 +5,9 @@
 use super::common::{
     Layout, PageError, Viewer, fixed, non_empty, opt_day, opt_number, page, respond,
 };
+use super::figure_words::map_input_in;
 use super::live_map::LiveMap;
-use super::views::{
-    Badge, ReportView, badge, map_events, map_input, map_status, map_zones, report_view,
-};
+use super::views::{Badge, ReportView, badge, map_events, map_status, map_zones, report_view};
 use crate::alerts::events::{RankedEvent, priority_of, ranked_events};
 use crate::domain::Day;
 use crate::error::Error;
@@ -128,10 +127,12 @@ async fn list_page(
         .into_iter()
         .filter(|e| status.is_none_or(|s| map_status(statuses.get(&e.record.id)) == s))
         .collect();
+    let tr = crate::web::i18n::tr_of(req);
     let map = LiveMap::new(
         "events-map",
-        &map_input(
-            "Clearing events by status",
+        &map_input_in(
+            &tr,
+            tr.t("map-title-events"),
             map_zones(&zones),
             map_events(&events, &statuses),
         ),
@@ -328,7 +329,12 @@ async fn one_page(
         record: rec,
         priority,
     };
-    let map = event_map(&ranked, status.as_ref(), zones);
+    let map = event_map(
+        &crate::web::i18n::tr_of(req),
+        &ranked,
+        status.as_ref(),
+        zones,
+    );
     let a = &ranked.record.attrs;
     let viewer = Viewer::of(req);
     let t = EventPage {
@@ -430,6 +436,7 @@ fn report_views(
 /// The map of one event, coloured by its status, over the zones it lies in;
 /// the pan-and-zoom map opens framed on its footprint.
 fn event_map(
+    tr: &crate::platform::i18n::Tr,
     ranked: &RankedEvent,
     status: Option<&StatusOutcome>,
     zones: Vec<ZoneRecord>,
@@ -444,8 +451,9 @@ fn event_map(
         .collect();
     LiveMap::new(
         "event-map",
-        &map_input(
-            &format!("Event {}", event_code(ranked.record.id)),
+        &map_input_in(
+            tr,
+            tr.t1("map-title-event", "code", event_code(ranked.record.id)),
             map_zones(&in_zones),
             map_events(std::slice::from_ref(ranked), &statuses),
         ),

@@ -159,6 +159,7 @@ mod tests {
     fn input() -> MapInput {
         MapInput {
             title: "t</script>".into(),
+            words: Default::default(),
             zones: vec![
                 MapZone {
                     name: "small".into(),

@@ -40,6 +40,7 @@ mod dashboard;
 mod dashboard_map;
 mod disputes;
 mod events;
+mod figure_words;
 mod form;
 mod import;
 mod live_map;

@@ -10,9 +10,10 @@
 //! then differs.
 
 use super::common::{Layout, PageError, Viewer, fixed, html, respond};
+use super::figure_words::map_input_in;
 use super::live_map::{LiveMap, embed, map_geojson, with_candidates};
 use super::trip_form::{IssueForm, added_events, trip_request};
-use super::views::{map_events, map_input, map_zones};
+use super::views::{map_events, map_zones};
 use crate::alerts::events::{RankedEvent, priority_of, ranked_events};
 use crate::domain::{BundleMode, Day};
 use crate::error::Error;
@@ -136,7 +137,7 @@ fn plan(st: &AppState, mut req: TripRequest, added: Vec<i64>) -> Result<Planned,
 const MAX_CANDIDATES_SHOWN: usize = 300;
 
 /// The preview's map: the chosen events, the zones they lie in, the route.
-fn preview_map(p: &Planned) -> LiveMap {
+fn preview_map(tr: &crate::platform::i18n::Tr, p: &Planned) -> LiveMap {
     let names: Vec<&String> = p.events.iter().flat_map(|e| &e.record.zones).collect();
     let zones: Vec<ZoneRecord> = p
         .zones
@@ -144,8 +145,9 @@ fn preview_map(p: &Planned) -> LiveMap {
         .filter(|z| names.contains(&&z.name))
         .cloned()
         .collect();
-    let mut m = map_input(
-        &format!("Preview of a trip for {}", p.req.team),
+    let mut m = map_input_in(
+        tr,
+        tr.t1("map-title-preview", "team", p.req.team.as_str()),
         map_zones(&zones),
         map_events(&p.events, &p.statuses),
     );
@@ -222,7 +224,7 @@ pub async fn preview_page(
             .map(|s| s.code.as_str())
             .collect::<Vec<_>>()
             .join(" "),
-        map: preview_map(&p),
+        map: preview_map(&crate::web::i18n::tr_of(req), &p),
     };
     Ok(html(status, t.render()?))
 }

@@ -95,11 +95,12 @@ async fn summary_page(
     };
     let opts = FigureOptions::new(chrono::Utc::now());
     let (db, stats, fl) = (state.db.clone(), state.stats.clone(), filter.clone());
+    let tr = crate::web::i18n::tr_of(req);
     let (f, monthly, trends, zone_names) = web::block(move || {
         let p = stats.prepared(&db, &fl)?;
         let f = p.figures(&opts)?;
         let trends = Trends::of(&p.loaded.events, opts.as_of)?;
-        let monthly = render_grouped_bars(&monthly_chart(&p.loaded.events));
+        let monthly = render_grouped_bars(&monthly_chart(&tr, &p.loaded.events));
         let zones: Vec<String> =
             db.read(|r| Ok(r.zones()?.into_iter().map(|z| z.name).collect()))?;
         Ok::<_, Error>((f, monthly, trends, zones))
@@ -108,7 +109,6 @@ async fn summary_page(
     let (from, to) = (q.from.unwrap_or_default(), q.to.unwrap_or_default());
     let viewer = Viewer::of(req);
     let layout = translated_layout(req, &viewer, "sum-title", "/dashboard");
-    let tr = layout.tr;
     page(&SummaryPage {
         layout,
         zones: zone_names
@@ -127,11 +127,11 @@ async fn summary_page(
             .clone()
             .unwrap_or_else(|| tr.t("dash-all-zones")),
         as_of: f.as_of.format("%Y-%m-%d %H:%M UTC").to_string(),
-        numbers: numbers(&f),
+        numbers: numbers(&tr, &f),
         rate: overall_rate(&tr, &f),
         monthly,
-        km_chart: km_chart(&f),
-        trends: trend_charts(&trends),
+        km_chart: km_chart(&tr, &f),
+        trends: trend_charts(&tr, &trends),
         team_rows: team_rows(&f),
     })
 }

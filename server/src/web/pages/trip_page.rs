@@ -5,8 +5,9 @@
 //! shown right after issuing is this page with the first pairing code.
 
 use super::common::{Layout, PageError, Viewer, fixed, local_text, local_unix, page, respond};
+use super::figure_words::map_input_in;
 use super::live_map::LiveMap;
-use super::views::{Badge, badge, map_events, map_input, map_status, map_zones};
+use super::views::{Badge, badge, map_events, map_status, map_zones};
 use crate::alerts::events::{RankedEvent, priority_of};
 use crate::domain::{Day, TargetKind};
 use crate::error::Error;
@@ -278,7 +279,7 @@ fn strata(selection: &str) -> Vec<StratumRow> {
 
 /// The trip's map: its events in their status colours, the route from the
 /// start, the zones they lie in.
-fn trip_map(d: &TripData) -> LiveMap {
+fn trip_map(tr: &crate::platform::i18n::Tr, d: &TripData) -> LiveMap {
     let b = &d.b;
     let events: Vec<RankedEvent> = d.events.values().cloned().collect();
     let names: Vec<&String> = events.iter().flat_map(|e| &e.record.zones).collect();
@@ -288,8 +289,15 @@ fn trip_map(d: &TripData) -> LiveMap {
         .filter(|z| names.contains(&&z.name))
         .cloned()
         .collect();
-    let mut map = map_input(
-        &format!("Trip {} of {}", &b.id[..8.min(b.id.len())], b.team),
+    let mut map = map_input_in(
+        tr,
+        tr.t2(
+            "map-title-trip",
+            "id",
+            &b.id[..8.min(b.id.len())],
+            "team",
+            b.team.as_str(),
+        ),
         map_zones(&zones),
         map_events(&events, &d.statuses),
     );
@@ -341,7 +349,7 @@ pub fn trip_page(
             .map(|t| local_text(settings, t))
             .unwrap_or_default(),
         route_km: fixed(b.route_m / 1000.0, 2),
-        map: trip_map(&d),
+        map: trip_map(&crate::web::i18n::tr_of(req), &d),
         reported,
         new_clearings: d
             .reports

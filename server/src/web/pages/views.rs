@@ -79,6 +79,7 @@ pub fn map_input(title: &str, zones: Vec<MapZone>, events: Vec<MapEvent>) -> Map
         events,
         start: None,
         route: Vec::new(),
+        words: Default::default(),
     }
 }
 
@@ -86,8 +87,20 @@ pub fn map_input(title: &str, zones: Vec<MapZone>, events: Vec<MapEvent>) -> Map
 pub struct PhotoView {
     pub sha: String,
     pub name: String,
-    pub checks: String,
+    /// The photo passed its checks (or was not checked).
     pub ok: bool,
+    /// Its evidence check, read by [`PhotoView::checks_in`].
+    pub check: Option<PhotoCheckRow>,
+}
+
+impl PhotoView {
+    /// What the photo's checks said, in the page's language.
+    pub fn checks_in(&self, tr: impl Borrow<Tr>) -> String {
+        match &self.check {
+            Some(c) => check_text_in(*tr.borrow(), c).0,
+            None => tr.borrow().t("photo-check-not-checked"),
+        }
+    }
 }
 
 /// A stored report as shown.
@@ -171,8 +184,19 @@ impl ReportView {
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct FlagView {
     pub text: String,
+    /// The stored flag code (`photo_no_gps`), for [`FlagView::text_in`].
+    pub code: String,
     /// (digest for the thumbnail's address, file name) of the photo.
     pub photo: Option<(String, String)>,
+}
+
+impl FlagView {
+    /// The flag's words in the page's language (`flag-<code>`), else `text`.
+    pub fn text_in(&self, tr: impl Borrow<Tr>) -> String {
+        tr.borrow()
+            .get(&format!("flag-{}", self.code))
+            .unwrap_or_else(|| self.text.clone())
+    }
 }
 
 /// The words of a stored flag code ("photo_no_gps" and the like).
@@ -205,33 +229,40 @@ pub fn flag_view(flag: &str, photos: &[PhotoView]) -> FlagView {
     });
     FlagView {
         text: flag_words(code),
+        code: code.to_string(),
         photo,
     }
 }
 
-/// The words of one photo's evidence check.
+/// The words of one photo's evidence check (English).
 pub fn check_text(c: &PhotoCheckRow) -> (String, bool) {
+    check_text_in(Tr::new("en"), c)
+}
+
+/// The words of one photo's evidence check in `tr`'s language
+/// (`photo-check-*`), and whether it passed.
+pub fn check_text_in(tr: Tr, c: &PhotoCheckRow) -> (String, bool) {
     let mut parts = Vec::new();
     let mut ok = true;
     match c.distance_m {
-        Some(d) => parts.push(format!("{} m from the footprint", fixed(d, 0))),
-        None => parts.push("no photo position".to_string()),
+        Some(d) => parts.push(tr.t1("photo-check-distance", "metres", fixed(d, 0))),
+        None => parts.push(tr.t("photo-check-no-position")),
     }
     match c.after_detection {
-        Some(true) => parts.push("taken after detection".to_string()),
+        Some(true) => parts.push(tr.t("photo-check-after-detection")),
         Some(false) => {
             ok = false;
-            parts.push("taken before detection".to_string())
+            parts.push(tr.t("photo-check-before-detection"))
         }
-        None => parts.push("no photo time".to_string()),
+        None => parts.push(tr.t("photo-check-no-time")),
     }
     if c.inside_window == Some(false) {
         ok = false;
-        parts.push("outside the trip window".to_string());
+        parts.push(tr.t("photo-check-outside-window"));
     }
     if c.reused_elsewhere {
         ok = false;
-        parts.push("also used by another report".to_string());
+        parts.push(tr.t("photo-check-reused"));
     }
     (parts.join("; "), ok)
 }
@@ -249,15 +280,13 @@ pub fn report_view(
     let photos: Vec<PhotoView> = photos
         .into_iter()
         .map(|p| {
-            let (checks, ok) = checks
-                .iter()
-                .find(|c| c.sha256 == p.sha256)
-                .map_or(("not checked".to_string(), true), check_text);
+            let check = checks.iter().find(|c| c.sha256 == p.sha256).cloned();
+            let ok = check.as_ref().is_none_or(|c| check_text(c).1);
             PhotoView {
                 sha: p.sha256,
                 name: p.original_name,
-                checks,
                 ok,
+                check,
             }
         })
         .collect();
@@ -330,9 +359,11 @@ mod tests {
         let fine = PhotoCheckRow {
             after_detection: Some(true),
             reused_elsewhere: false,
-            ..c
+            ..c.clone()
         };
         assert!(check_text(&fine).1);
+        let (pt, _) = check_text_in(Tr::new("pt"), &c);
+        assert!(pt.contains("42 m") && !pt.contains("footprint"), "{pt}");
     }
 
     #[test]
@@ -343,8 +374,8 @@ mod tests {
         let photos = vec![PhotoView {
             sha: sha.clone(),
             name: "IMG_0042.jpg".into(),
-            checks: String::new(),
             ok: false,
+            check: None,
         }];
         let f = flag_view(&format!("photo_no_gps:{sha}"), &photos);
         assert_eq!(f.text, "photo without a position");

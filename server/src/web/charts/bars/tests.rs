@@ -19,6 +19,7 @@ fn months() -> BarChart {
     let confirmed: Vec<f64> = visited.iter().map(|v| (v * 0.5).round()).take(10).collect();
     BarChart {
         title: "Coverage by month".into(),
+        words: Default::default(),
         categories,
         x_label: "month of detection".into(),
         y_label: "events (count)".into(),
@@ -109,6 +110,7 @@ fn many_long_categories_rotate_and_stay_inside() {
 fn grouped_empty_and_hostile() {
     let empty = BarChart {
         title: "none".into(),
+        words: Default::default(),
         ..Default::default()
     };
     let doc_svg = render_grouped_bars(&empty);
@@ -133,6 +135,7 @@ fn grouped_empty_and_hostile() {
 fn causes() -> HBarChart {
     HBarChart {
         title: "Causes of confirmed clearing".into(),
+        words: Default::default(),
         value_label: "cleared area".into(),
         unit: "ha".into(),
         bars: vec![

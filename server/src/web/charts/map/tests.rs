@@ -36,6 +36,7 @@ fn scene(lat: f64) -> MapInput {
     let (w, s) = (20.0, lat - 0.05);
     MapInput {
         title: "Trip map".into(),
+        words: Default::default(),
         zones: vec![
             MapZone {
                 name: "north block".into(),
@@ -201,6 +202,7 @@ fn scale_bar_matches_geodesic_length() {
 fn empty_and_unusable_inputs_give_no_data() {
     let svg = render_map(&MapInput {
         title: "none".into(),
+        words: Default::default(),
         ..Default::default()
     });
     assert!(
@@ -210,6 +212,7 @@ fn empty_and_unusable_inputs_give_no_data() {
     );
     let bad = MapInput {
         title: "bad".into(),
+        words: Default::default(),
         events: vec![event(
             9,
             EventStatus::Confirmed,
@@ -229,6 +232,7 @@ fn empty_and_unusable_inputs_give_no_data() {
 fn single_point_gives_a_map() {
     let one = MapInput {
         title: "one".into(),
+        words: Default::default(),
         start: Some((10.0, 10.0)),
         ..Default::default()
     };
@@ -245,6 +249,7 @@ fn degenerate_shapes_do_not_panic() {
     let half_bad = rect(1.0, 1.0, f64::NAN, 1.01);
     let m = MapInput {
         title: "odd".into(),
+        words: Default::default(),
         zones: vec![MapZone {
             name: "flat".into(),
             shape: flat.clone(),
