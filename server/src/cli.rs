@@ -713,7 +713,7 @@ fn token(command: TokenCommand) -> Result<()> {
             eprintln!("keep it safe: it is shown only this once");
         }
         TokenCommand::Revoke { id, team, data } => {
-            let (db, _) = open(&data.data)?;
+            let (db, _) = open_data(&data)?;
             let now = groundproof::platform::auth::now_unix();
             if team {
                 admin::revoke_team_token(&db, &Actor::CommandLine, id, now)?;
@@ -857,6 +857,7 @@ fn open_fresh(dir: &Path) -> Result<(Db, Settings)> {
     open(&DataArg {
         data: dir.to_path_buf(),
         database: None,
+        evidence: "local".into(),
     })
 }
 

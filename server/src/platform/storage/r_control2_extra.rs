@@ -9,21 +9,13 @@ use std::collections::HashMap;
 impl Reader<'_> {
     /// `area_ha` of every report on a control point that has one, by report id.
     pub fn control_report_areas(&self) -> Result<HashMap<String, f64>> {
-        let tables: i64 = self.conn.query_row(
-            "SELECT COUNT(*) FROM sqlite_master WHERE type = 'table' AND name = 'reports'",
-            [],
-            |r| r.get(0),
-        )?;
-        if tables == 0 {
-            return Ok(HashMap::new());
-        }
         let mut st = self.conn.prepare_cached(
             "SELECT report_id, area_ha FROM reports
              WHERE control_code IS NOT NULL AND area_ha IS NOT NULL",
         )?;
         let v = st
             .query_map([], |r| Ok((r.get(0)?, r.get(1)?)))?
-            .collect::<rusqlite::Result<HashMap<String, f64>>>()?;
+            .collect::<Result<HashMap<String, f64>>>()?;
         Ok(v)
     }
 }

@@ -26,8 +26,15 @@ pub struct CommitWatch {
 impl Db {
     /// A new watch on this database's commits.
     pub fn commit_watch(&self) -> Result<CommitWatch> {
+        // On PostgreSQL there is no watch yet: the tokens are then checked
+        // on every request (DEVELOPERS.md, "Not yet").
+        let Some(path) = self.sqlite_path() else {
+            return Err(crate::error::Error::Invalid(
+                "no commit watch on PostgreSQL yet".into(),
+            ));
+        };
         let conn = Connection::open_with_flags(
-            self.path(),
+            path,
             OpenFlags::SQLITE_OPEN_READ_ONLY | OpenFlags::SQLITE_OPEN_NO_MUTEX,
         )?;
         configure(&conn)?;

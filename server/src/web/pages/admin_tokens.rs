@@ -73,7 +73,7 @@ async fn tokens_page(
     let records = web::block(move || db.read(|r| r.api_tokens())).await??;
     let tr = crate::web::i18n::tr_of(req);
     let role_label = |r: Role| tr.t(&format!("adm-role-{}", r.as_str()));
-    let when = |s| local_unix(&state.settings, s);
+    let when = |s| local_unix(&state.settings.get(), s);
     let mut tokens: Vec<TokenRow> = records
         .into_iter()
         .map(|t| TokenRow {
