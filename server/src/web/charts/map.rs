@@ -72,7 +72,7 @@ pub fn render_map(input: &MapInput) -> String {
             route_line(out, &f, &d.route)?;
         }
         if let Some(p) = d.start {
-            start_marker(out, &f, p)?;
+            start_marker(out, &f, p, &input.words.start)?;
         }
         for (z, shape) in &d.zones {
             zone_label(out, &f, &z.name, shape)?;
@@ -188,16 +188,17 @@ fn route_line(out: &mut String, f: &Frame, route: &[(f64, f64)]) -> fmt::Result 
 }
 
 /// The trip's start.
-fn start_marker(out: &mut String, f: &Frame, p: (f64, f64)) -> fmt::Result {
+fn start_marker(out: &mut String, f: &Frame, p: (f64, f64), label: &str) -> fmt::Result {
     let (x, y) = f.project(p);
     write!(
         out,
         "<circle class=\"start\" cx=\"{}\" cy=\"{}\" r=\"6\" fill=\"{}\" stroke=\"{}\" \
-         stroke-width=\"1.5\"><title>start</title></circle>",
+         stroke-width=\"1.5\"><title>{}</title></circle>",
         px(x),
         px(y),
         ORANGE.hex(),
-        BLACK.hex()
+        BLACK.hex(),
+        escape(label)
     )
 }
 
