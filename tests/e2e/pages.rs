@@ -267,12 +267,13 @@ fn every_page_renders_with_its_key_elements() {
             "from issue",
             "/api/v1/stats/coverage?format=csv",
             "/api/v1/exports/events.geojson",
+            "id=\"dashboard-map\"",
         ],
     );
     assert_eq!(
         dash.body.matches("<svg").count(),
-        6,
-        "monthly, time-to-visit, three trends and causes charts"
+        7,
+        "the events map, monthly, time-to-visit, three trends and causes charts"
     );
     let summary = get(&s.url("/summary?zone=Core&from=2026-01-01"));
     assert_page(
