@@ -157,32 +157,29 @@ impl Reader<'_> {
 
     /// One team with its state.
     pub fn team_state(&self, id: i64) -> Result<Option<TeamState>> {
-        Ok(self
-            .conn
+        self.conn
             .query_row(
                 "SELECT id, name, disabled_at FROM teams WHERE id = ?1",
                 [id],
                 team_row,
             )
-            .optional()?)
+            .optional()
     }
 
     /// A team with its state, by its exact name.
     pub fn team_state_by_name(&self, name: &str) -> Result<Option<TeamState>> {
-        Ok(self
-            .conn
+        self.conn
             .query_row(
                 "SELECT id, name, disabled_at FROM teams WHERE name = ?1",
                 [name],
                 team_row,
             )
-            .optional()?)
+            .optional()
     }
 
     /// A source by id.
     pub fn source_by_id(&self, id: i64) -> Result<Option<Source>> {
-        Ok(self
-            .conn
+        self.conn
             .query_row(
                 "SELECT id, name, pixel_size_m, revisit_days FROM sources WHERE id = ?1",
                 [id],
@@ -195,16 +192,16 @@ impl Reader<'_> {
                     })
                 },
             )
-            .optional()?)
+            .optional()
     }
 
     /// Whether any alert of the source is stored.
     pub fn source_has_alerts(&self, id: i64) -> Result<bool> {
-        Ok(self.conn.query_row(
+        self.conn.query_row(
             "SELECT EXISTS (SELECT 1 FROM alerts WHERE source_id = ?1)",
             [id],
             |r| r.get(0),
-        )?)
+        )
     }
 }
 
@@ -242,7 +239,7 @@ mod tests {
             "DELETE FROM admin_log",
         ] {
             let e = db
-                .write(|tx| Ok(tx.tx.execute(sql, [])?))
+                .write(|tx| tx.tx.execute(sql, []))
                 .unwrap_err()
                 .to_string();
             assert!(e.contains("append-only"), "{e}");

@@ -150,9 +150,8 @@ impl Reader<'_> {
     }
 
     pub fn alert_count(&self) -> Result<i64> {
-        Ok(self
-            .conn
-            .query_row("SELECT COUNT(*) FROM alerts", [], |r| r.get(0))?)
+        self.conn
+            .query_row("SELECT COUNT(*) FROM alerts", [], |r| r.get(0))
     }
 }
 

@@ -274,18 +274,17 @@ impl Tx<'_> {
 
     /// Delete every session of a user; returns how many.
     pub fn delete_user_sessions(&self, user_id: i64) -> Result<usize> {
-        Ok(self
-            .tx
-            .execute("DELETE FROM sessions WHERE user_id = ?1", [user_id])?)
+        self.tx
+            .execute("DELETE FROM sessions WHERE user_id = ?1", [user_id])
     }
 
     /// Delete sessions idle since before `idle_before` or made before
     /// `created_before`; returns how many.
     pub fn delete_expired_sessions(&self, idle_before: i64, created_before: i64) -> Result<usize> {
-        Ok(self.tx.execute(
+        self.tx.execute(
             "DELETE FROM sessions WHERE last_seen_at <= ?1 OR created_at <= ?2",
             params![idle_before, created_before],
-        )?)
+        )
     }
 
     /// Store a new API token.
@@ -348,10 +347,10 @@ impl Tx<'_> {
 
     /// Revoke every live token of a team; returns how many.
     pub fn revoke_team_tokens_of(&self, team_name: &str, now: i64) -> Result<usize> {
-        Ok(self.tx.execute(
+        self.tx.execute(
             "UPDATE team_tokens SET revoked_at = ?1 WHERE team_name = ?2 AND revoked_at IS NULL",
             params![now, team_name],
-        )?)
+        )
     }
 
     /// Record one login attempt; returns its id.
@@ -380,17 +379,15 @@ impl Tx<'_> {
 
     /// Delete attempts older than `before`; returns how many.
     pub fn prune_login_attempts(&self, before: i64) -> Result<usize> {
-        Ok(self
-            .tx
-            .execute("DELETE FROM login_attempts WHERE at < ?1", [before])?)
+        self.tx
+            .execute("DELETE FROM login_attempts WHERE at < ?1", [before])
     }
 }
 
 impl Reader<'_> {
     pub fn user_count(&self) -> Result<i64> {
-        Ok(self
-            .conn
-            .query_row("SELECT COUNT(*) FROM users", [], |r| r.get(0))?)
+        self.conn
+            .query_row("SELECT COUNT(*) FROM users", [], |r| r.get(0))
     }
 
     pub fn users(&self) -> Result<Vec<User>> {
@@ -404,20 +401,18 @@ impl Reader<'_> {
     }
 
     pub fn user_by_id(&self, id: i64) -> Result<Option<User>> {
-        Ok(self
-            .conn
+        self.conn
             .query_row(
                 &format!("SELECT {USER_COLS} FROM users u WHERE u.id = ?1"),
                 [id],
                 |r| user_row(r, 0),
             )
-            .optional()?)
+            .optional()
     }
 
     /// A user by name (any letter case).
     pub fn user_by_name(&self, name: &str) -> Result<Option<User>> {
-        Ok(self
-            .conn
+        self.conn
             .query_row(
                 &format!(
                     "SELECT {USER_COLS} FROM users u WHERE {}",
@@ -426,13 +421,12 @@ impl Reader<'_> {
                 [name],
                 |r| user_row(r, 0),
             )
-            .optional()?)
+            .optional()
     }
 
     /// A user and the stored PHC string, for checking a password.
     pub fn user_credentials(&self, name: &str) -> Result<Option<(User, String)>> {
-        Ok(self
-            .conn
+        self.conn
             .query_row(
                 &format!(
                     "SELECT {USER_COLS}, u.password_phc FROM users u WHERE {}",
@@ -441,13 +435,12 @@ impl Reader<'_> {
                 [name],
                 |r| Ok((user_row(r, 0)?, r.get(5)?)),
             )
-            .optional()?)
+            .optional()
     }
 
     /// A session by the SHA-256 of its token, with its user as stored now.
     pub fn session_by_hash(&self, token_sha256: &str) -> Result<Option<SessionRecord>> {
-        Ok(self
-            .conn
+        self.conn
             .query_row(
                 &format!(
                     "SELECT s.token_sha256, s.csrf_secret, s.created_at, s.last_seen_at, {USER_COLS}
@@ -464,29 +457,28 @@ impl Reader<'_> {
                     })
                 },
             )
-            .optional()?)
+            .optional()
     }
 
     /// How many sessions a user has.
     pub fn session_count(&self, user_id: i64) -> Result<i64> {
-        Ok(self.conn.query_row(
+        self.conn.query_row(
             "SELECT COUNT(*) FROM sessions WHERE user_id = ?1",
             [user_id],
             |r| r.get(0),
-        )?)
+        )
     }
 
     /// A live (not revoked) API token by hash.
     pub fn api_token_by_hash(&self, token_sha256: &str) -> Result<Option<ApiTokenRecord>> {
-        Ok(self
-            .conn
+        self.conn
             .query_row(
                 "SELECT id, role, label, created_at, revoked_at FROM api_tokens
                  WHERE token_sha256 = ?1 AND revoked_at IS NULL",
                 [token_sha256],
                 api_row,
             )
-            .optional()?)
+            .optional()
     }
 
     pub fn api_tokens(&self) -> Result<Vec<ApiTokenRecord>> {
@@ -500,8 +492,7 @@ impl Reader<'_> {
     /// A live team token by hash: not revoked, and, for a token a phone got
     /// by pairing, its bundle not cancelled.
     pub fn team_token_by_hash(&self, token_sha256: &str) -> Result<Option<TeamTokenRecord>> {
-        Ok(self
-            .conn
+        self.conn
             .query_row(
                 "SELECT id, team_name, created_at, revoked_at FROM team_tokens t
                  WHERE token_sha256 = ?1 AND revoked_at IS NULL
@@ -510,7 +501,7 @@ impl Reader<'_> {
                 [token_sha256],
                 team_row,
             )
-            .optional()?)
+            .optional()
     }
 
     pub fn team_tokens(&self) -> Result<Vec<TeamTokenRecord>> {

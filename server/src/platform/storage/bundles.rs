@@ -189,15 +189,14 @@ impl Reader<'_> {
     }
 
     pub fn team_by_name(&self, name: &str) -> Result<Option<Team>> {
-        Ok(self
-            .conn
+        self.conn
             .query_row("SELECT id, name FROM teams WHERE name = ?1", [name], |r| {
                 Ok(Team {
                     id: r.get(0)?,
                     name: r.get(1)?,
                 })
             })
-            .optional()?)
+            .optional()
     }
 
     pub fn bundles(&self) -> Result<Vec<BundleRecord>> {
@@ -209,14 +208,14 @@ impl Reader<'_> {
     }
 
     pub fn bundle(&self, id: &str) -> Result<Option<BundleRecord>> {
-        Ok(self
+        self
             .conn
             .query_row(
                 &format!("SELECT {BUNDLE_COLS} FROM bundles b JOIN teams t ON t.id = b.team_id WHERE b.id = ?1"),
                 [id],
                 bundle_row,
             )
-            .optional()?)
+            .optional()
     }
 
     pub fn bundle_items(&self, id: &str) -> Result<Vec<BundleItem>> {

@@ -247,10 +247,10 @@ impl Reader<'_> {
 
     /// Counts of live and merged events.
     pub fn event_counts(&self) -> Result<(i64, i64)> {
-        Ok(self.conn.query_row(
+        self.conn.query_row(
             "SELECT COUNT(*) FILTER (WHERE merged_into IS NULL), COUNT(*) FILTER (WHERE merged_into IS NOT NULL) FROM events",
             [],
             |r| Ok((r.get(0)?, r.get(1)?)),
-        )?)
+        )
     }
 }

@@ -36,13 +36,12 @@ impl Tx<'_> {
 impl Reader<'_> {
     /// `user_id`'s chosen language, if any.
     pub fn user_language(&self, user_id: i64) -> Result<Option<String>> {
-        Ok(self
-            .conn
+        self.conn
             .query_row(
                 "SELECT language FROM user_languages WHERE user_id = ?1",
                 [user_id],
                 |r| r.get(0),
             )
-            .optional()?)
+            .optional()
     }
 }

@@ -93,27 +93,25 @@ impl Reader<'_> {
     /// The bundle whose pairing gave the phone team token `token_id`, if
     /// the token came from a pairing.
     pub fn paired_bundle_of_token(&self, token_id: i64) -> Result<Option<String>> {
-        Ok(self
-            .conn
+        self.conn
             .query_row(
                 "SELECT bundle_id FROM pairings WHERE token_id = ?1",
                 [token_id],
                 |r| r.get(0),
             )
-            .optional()?)
+            .optional()
     }
 
     /// A pairing by the hash of its code.
     pub fn pairing_by_hash(&self, code_sha256: &str) -> Result<Option<PairingRecord>> {
-        Ok(self
-            .conn
+        self.conn
             .query_row(
                 "SELECT id, bundle_id, created_by, created_at, expires_at, used_at, token_id
                  FROM pairings WHERE code_sha256 = ?1",
                 [code_sha256],
                 pairing_row,
             )
-            .optional()?)
+            .optional()
     }
 
     /// Every pairing of one bundle, oldest first.

@@ -168,6 +168,21 @@ impl PgDb {
     }
 }
 
+impl Drop for PgDb {
+    /// The sync client closes its connection by blocking on its own
+    /// runtime, which panics on an async executor thread (where the last
+    /// handle of the server's state may be dropped): close them on a
+    /// thread of their own.
+    fn drop(&mut self) {
+        let conns = std::mem::take(&mut *self.pool.lock().unwrap_or_else(|p| p.into_inner()));
+        if !conns.is_empty() {
+            let _ = std::thread::Builder::new()
+                .name("gp-pg-close".into())
+                .spawn(move || drop(conns));
+        }
+    }
+}
+
 /// The transaction of [`PgDb::write`]: its value, the stamp it set (fact
 /// writes) and whether a bookkeeping write touched another table.
 fn transact<T>(

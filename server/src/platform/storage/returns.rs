@@ -473,31 +473,29 @@ pub(super) fn report_row(r: &Row<'_>) -> Result<ReportRow> {
 
 impl Reader<'_> {
     pub fn upload(&self, id: &str) -> Result<Option<UploadRecord>> {
-        Ok(self
-            .conn
+        self.conn
             .query_row(
                 &format!("SELECT {UPLOAD_COLS} FROM uploads WHERE id = ?1"),
                 [id],
                 upload_row,
             )
-            .optional()?)
+            .optional()
     }
 
     pub fn upload_by_sha(&self, bundle_id: &str, sha256: &str) -> Result<Option<UploadRecord>> {
-        Ok(self
-            .conn
+        self.conn
             .query_row(
                 &format!("SELECT {UPLOAD_COLS} FROM uploads WHERE bundle_id = ?1 AND sha256 = ?2"),
                 [bundle_id, sha256],
                 upload_row,
             )
-            .optional()?)
+            .optional()
     }
 
     /// What the open uploads hold: over the server, for `bundle_id`, and
     /// for `owner`.
     pub fn open_uploads(&self, bundle_id: &str, owner: &str) -> Result<OpenUploads> {
-        Ok(self.conn.query_row(
+        self.conn.query_row(
             "SELECT COUNT(*), COALESCE(SUM(size), 0), COUNT(*) FILTER (WHERE bundle_id = ?1),
                 COUNT(*) FILTER (WHERE owner = ?2), COALESCE(SUM(size) FILTER (WHERE owner = ?2), 0)
              FROM uploads WHERE state = 'open'",
@@ -512,7 +510,7 @@ impl Reader<'_> {
                     owner_bytes: n(4)?,
                 })
             },
-        )?)
+        )
     }
 
     /// The receipt of return `id`.
@@ -528,14 +526,13 @@ impl Reader<'_> {
 
     /// The id of the return with receipt `receipt`.
     pub fn return_by_receipt(&self, receipt: &str) -> Result<Option<i64>> {
-        Ok(self
-            .conn
+        self.conn
             .query_row(
                 "SELECT id FROM returns WHERE receipt = ?1",
                 [receipt],
                 |r| r.get(0),
             )
-            .optional()?)
+            .optional()
     }
 
     /// Ids of every upload (open or not), for cleaning up their files.
@@ -556,7 +553,7 @@ impl Reader<'_> {
     }
 
     fn return_where(&self, cond: &str, arg: &dyn rusqlite::ToSql) -> Result<Option<ReturnRecord>> {
-        Ok(self
+        self
             .conn
             .query_row(
                 &format!(
@@ -575,7 +572,7 @@ impl Reader<'_> {
                     })
                 },
             )
-            .optional()?)
+            .optional()
     }
 
     pub fn return_results(&self, return_id: i64) -> Result<Vec<ResultRow>> {
@@ -598,25 +595,23 @@ impl Reader<'_> {
 
     /// The body fingerprint and flags of a stored report, if it exists.
     pub fn report_fingerprint(&self, report_id: &str) -> Result<Option<(String, Vec<String>)>> {
-        Ok(self
-            .conn
+        self.conn
             .query_row(
                 "SELECT body_sha256, flags FROM reports WHERE report_id = ?1",
                 [report_id],
                 |r| Ok((r.get::<_, String>(0)?, flags_of(&r.get::<_, String>(1)?))),
             )
-            .optional()?)
+            .optional()
     }
 
     pub fn report(&self, report_id: &str) -> Result<Option<ReportRow>> {
-        Ok(self
-            .conn
+        self.conn
             .query_row(
                 &format!("SELECT {REPORT_COLS} FROM reports WHERE report_id = ?1"),
                 [report_id],
                 report_row,
             )
-            .optional()?)
+            .optional()
     }
 
     /// Every stored report, by report id (the facts statistics are built from).
@@ -642,8 +637,7 @@ impl Reader<'_> {
     }
 
     pub fn photo(&self, sha256: &str) -> Result<Option<PhotoRow>> {
-        Ok(self
-            .conn
+        self.conn
             .query_row(
                 "SELECT sha256, width, height, taken_at, lat, lon, direction_deg, bytes, stored_at,
                     data_matches_header
@@ -664,7 +658,7 @@ impl Reader<'_> {
                     })
                 },
             )
-            .optional()?)
+            .optional()
     }
 
     /// `PRAGMA integrity_check` (`"ok"` when the file is sound).

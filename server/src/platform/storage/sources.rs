@@ -66,13 +66,12 @@ impl Reader<'_> {
     }
 
     pub fn source_by_name(&self, name: &str) -> Result<Option<Source>> {
-        Ok(self
-            .conn
+        self.conn
             .query_row(
                 "SELECT id, name, pixel_size_m, revisit_days FROM sources WHERE name = ?1",
                 [name],
                 row,
             )
-            .optional()?)
+            .optional()
     }
 }

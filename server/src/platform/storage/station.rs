@@ -67,15 +67,14 @@ impl Tx<'_> {
 impl Reader<'_> {
     /// The station provenance of `report_id`, if it was entered at the station.
     pub fn station_entry(&self, report_id: &str) -> Result<Option<StationEntry>> {
-        Ok(self
-            .conn
+        self.conn
             .query_row(
                 "SELECT report_id, bundle_id, entered_by, sheet, entered_at
                  FROM station_entries WHERE report_id = ?1",
                 [report_id],
                 entry_row,
             )
-            .optional()?)
+            .optional()
     }
 
     /// Reports entered at the station, per team (the team of each report).

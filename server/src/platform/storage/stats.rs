@@ -168,7 +168,7 @@ struct Sample {
 /// joined value in column 5) in `slot` if its bundle was issued before the
 /// one kept (by issue time, then bundle id).
 fn keep_earlier_sample(slot: &mut Option<Sample>, issued_at: Timestamp, r: &Row<'_>) -> Result<()> {
-    let bundle_id = text(&r, 3)?;
+    let bundle_id = text(r, 3)?;
     let earlier = slot
         .as_ref()
         .is_none_or(|s| (issued_at, bundle_id) < (s.issued_at, s.bundle_id.as_str()));
@@ -176,7 +176,7 @@ fn keep_earlier_sample(slot: &mut Option<Sample>, issued_at: Timestamp, r: &Row<
         *slot = Some(Sample {
             issued_at,
             bundle_id: bundle_id.to_string(),
-            value: opt_text(&r, 5)?.map(str::to_string),
+            value: opt_text(r, 5)?.map(str::to_string),
         });
     }
     Ok(())
@@ -384,11 +384,11 @@ impl Reader<'_> {
         if !self.has_reports_table()? {
             return Ok((0, 0));
         }
-        Ok(self.conn.query_row(
+        self.conn.query_row(
             "SELECT COUNT(*), COALESCE(MAX(rowid), 0) FROM reports",
             [],
             |r| Ok((r.get(0)?, r.get(1)?)),
-        )?)
+        )
     }
 
     fn has_reports_table(&self) -> Result<bool> {

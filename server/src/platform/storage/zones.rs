@@ -41,9 +41,8 @@ impl Tx<'_> {
                 chrono::Utc::now().to_rfc3339()
             ],
         )?;
-        Ok(self
-            .tx
-            .query_row("SELECT id FROM zones WHERE name = ?1", [name], |r| r.get(0))?)
+        self.tx
+            .query_row("SELECT id FROM zones WHERE name = ?1", [name], |r| r.get(0))
     }
 }
 
