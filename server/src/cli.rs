@@ -603,7 +603,7 @@ fn team(command: TeamCommand) -> Result<()> {
 /// `groundproof team disable|enable NAME`.
 fn team_disabled(name: &str, data: &DataArg, off: bool) -> Result<()> {
     let now = groundproof::platform::auth::now_unix();
-    let (db, _) = open_data(&data)?;
+    let (db, _) = open_data(data)?;
     let Some(t) = db.read(|r| r.team_state_by_name(name))? else {
         bail!("no team '{name}'");
     };
@@ -673,7 +673,7 @@ fn user(command: UserCommand) -> Result<()> {
 /// `groundproof user disable|enable NAME`.
 fn set_disabled(name: &str, data: &DataArg, off: bool) -> Result<()> {
     let now = groundproof::platform::auth::now_unix();
-    let (db, _) = open_data(&data)?;
+    let (db, _) = open_data(data)?;
     let u = admin::set_user_disabled(&db, &Actor::CommandLine, user_id(&db, name)?, off, now)?;
     let state = if u.disabled { "disabled" } else { "enabled" };
     println!("user '{}' {state}", u.name);
