@@ -758,6 +758,7 @@ fig-table-response-times = response-times
 fig-table-time-to-visit = time-to-visit
 fig-table-causes = causes
 fig-table-teams = teams
+fig-table-control-points = control points
 disp-bad-outcome = Outcome: choose confirmed loss, false alarm or inconclusive (a decision says what the ground shows; not reached settles nothing).
 disp-bad-reason = Reason: say why, in 1 to { $max } characters.
 disp-bad-by = Decided by: your name, 1 to { $max } characters.
@@ -783,3 +784,6 @@ map-title-trip = Trip { $id } of { $team }
 map-title-preview = Preview of a trip for { $team }
 map-title-events = Clearing events by status
 map-title-event = Event { $code }
+
+# --- page titles ---
+trip-page-title = Trip { $id }

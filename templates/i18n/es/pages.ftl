@@ -756,6 +756,7 @@ fig-table-response-times = tiempos de respuesta
 fig-table-time-to-visit = tiempo hasta la visita
 fig-table-causes = causas
 fig-table-teams = equipos
+fig-table-control-points = puntos de control
 disp-bad-outcome = Resultado: elija desmonte confirmado, falsa alarma o no se puede saber (una decisión dice lo que muestra el terreno; no alcanzado no resuelve nada).
 disp-bad-reason = Motivo: diga por qué, en 1 a { $max } caracteres.
 disp-bad-by = Decidido por: su nombre, de 1 a { $max } caracteres.
@@ -790,3 +791,6 @@ map-title-trip = Viaje { $id } de { $team }
 map-title-preview = Vista previa de un viaje para { $team }
 map-title-events = Eventos de desmonte por estado
 map-title-event = Evento { $code }
+
+# --- page titles ---
+trip-page-title = Viaje { $id }

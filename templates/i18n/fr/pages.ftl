@@ -756,6 +756,7 @@ fig-table-response-times = délais de réponse
 fig-table-time-to-visit = délai jusqu’à la visite
 fig-table-causes = causes
 fig-table-teams = équipes
+fig-table-control-points = points témoins
 disp-bad-outcome = Résultat : choisissez défrichement confirmé, fausse alerte ou impossible à dire (une décision dit ce que montre le terrain ; non atteint ne règle rien).
 disp-bad-reason = Motif : dites pourquoi, en 1 à { $max } caractères.
 disp-bad-by = Décidé par : votre nom, de 1 à { $max } caractères.
@@ -790,3 +791,6 @@ map-title-trip = Mission { $id } de { $team }
 map-title-preview = Aperçu d’une mission pour { $team }
 map-title-events = Événements de défrichement par état
 map-title-event = Événement { $code }
+
+# --- page titles ---
+trip-page-title = Mission { $id }

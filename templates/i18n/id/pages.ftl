@@ -753,6 +753,7 @@ fig-table-response-times = waktu tanggapan
 fig-table-time-to-visit = waktu sampai kunjungan
 fig-table-causes = penyebab
 fig-table-teams = tim
+fig-table-control-points = titik kontrol
 disp-bad-outcome = Hasil: pilih pembukaan lahan terbukti, peringatan palsu atau tidak bisa dipastikan (keputusan menyatakan apa yang terlihat di lapangan; tidak tercapai tidak memutuskan apa pun).
 disp-bad-reason = Alasan: jelaskan mengapa, dalam 1 sampai { $max } karakter.
 disp-bad-by = Diputuskan oleh: nama Anda, 1 sampai { $max } karakter.
@@ -778,3 +779,6 @@ map-title-trip = Perjalanan { $id } oleh { $team }
 map-title-preview = Pratinjau perjalanan untuk { $team }
 map-title-events = Kejadian pembukaan lahan menurut status
 map-title-event = Kejadian { $code }
+
+# --- page titles ---
+trip-page-title = Perjalanan { $id }

@@ -756,6 +756,7 @@ fig-table-response-times = tempos de resposta
 fig-table-time-to-visit = tempo até a visita
 fig-table-causes = causas
 fig-table-teams = equipes
+fig-table-control-points = pontos de controle
 disp-bad-outcome = Resultado: escolha desmatamento confirmado, alarme falso ou não dá para saber (uma decisão diz o que o terreno mostra; não alcançado não resolve nada).
 disp-bad-reason = Motivo: diga por quê, em 1 a { $max } caracteres.
 disp-bad-by = Decidido por: seu nome, de 1 a { $max } caracteres.
@@ -790,3 +791,6 @@ map-title-trip = Viagem { $id } de { $team }
 map-title-preview = Prévia de uma viagem para { $team }
 map-title-events = Eventos de desmatamento por estado
 map-title-event = Evento { $code }
+
+# --- page titles ---
+trip-page-title = Viagem { $id }

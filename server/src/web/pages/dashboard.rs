@@ -15,8 +15,7 @@ use crate::platform::i18n::Tr;
 use crate::statistics::estimators::{DurationSummary, Estimate};
 use crate::statistics::figures::{
     Assessment, EventFacts, FigureOptions, Figures, GroupKey, TargetFrom, TargetShare, TrendPoint,
-    VisitCurve,
-    month_of, monthly_trends, team_trends,
+    VisitCurve, month_of, monthly_trends, team_trends,
 };
 use crate::statistics::kept::{CONTROL_PLOT_HA, StatsFilter, TABLES};
 use crate::web::AppState;

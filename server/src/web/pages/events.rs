@@ -145,7 +145,8 @@ async fn list_page(
         .map(|(i, e)| row(i + 1, e, map_status(statuses.get(&e.record.id))))
         .collect();
     let viewer = Viewer::of(req);
-    let layout = Layout::new(req, &viewer, "Events", "/events");
+    let title = crate::web::i18n::tr_of(req).t("menu-events");
+    let layout = Layout::new(req, &viewer, &title, "/events");
     let tr = &layout.tr;
     let t = EventsPage {
         zones: choices(
@@ -341,7 +342,7 @@ async fn one_page(
         layout: Layout::new(
             req,
             &viewer,
-            &format!("Event {}", event_code(ranked.record.id)),
+            &crate::web::i18n::tr_of(req).t1("disp-event", "code", event_code(ranked.record.id)),
             "/events",
         ),
         id: ranked.record.id,
@@ -367,7 +368,13 @@ async fn one_page(
         status: badge(map_status(status.as_ref())),
         status_note: status
             .as_ref()
-            .map(|s| crate::web::adjudication::readable_note(&s.note, state.settings.get().zone()))
+            .map(|s| {
+                super::figure_words::status_note(
+                    &crate::web::i18n::tr_of(req),
+                    &s.note,
+                    state.settings.get().zone(),
+                )
+            })
             .unwrap_or_default(),
         map,
         alerts: alert_rows(&alerts, &sources),

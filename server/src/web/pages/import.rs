@@ -97,7 +97,12 @@ async fn render(
         .collect::<Vec<_>>()
         .join("; ");
     let mut page = ImportPage {
-        layout: Layout::new(req, viewer, "Import", "/import"),
+        layout: Layout::new(
+            req,
+            viewer,
+            &crate::web::i18n::tr_of(req).t("import-title"),
+            "/import",
+        ),
         sources: sources
             .iter()
             .map(|s| SourceOption {

@@ -181,7 +181,12 @@ pub async fn preview_page(
     let p = web::block(move || plan(&st, trip, added)).await??;
     let status = error.as_ref().map_or(StatusCode::OK, |e| e.status);
     let t = PreviewPage {
-        layout: Layout::new(req, viewer, "Trip preview", "/trips"),
+        layout: Layout::new(
+            req,
+            viewer,
+            &crate::web::i18n::tr_of(req).t1("preview-title", "team", p.req.team.as_str()),
+            "/trips",
+        ),
         error,
         team: p.req.team.clone(),
         mode: p.req.mode.as_str().to_string(),

@@ -232,7 +232,12 @@ async fn render(
     let status = error.as_ref().map_or(StatusCode::OK, |e| e.status);
     let t = StationPage {
         layout: {
-            let mut l = Layout::new(req, viewer, "Station upload", "/station");
+            let mut l = Layout::new(
+                req,
+                viewer,
+                &crate::web::i18n::tr_of(req).t("station-title"),
+                "/station",
+            );
             l.title = l.tr.t("station-title");
             l
         },

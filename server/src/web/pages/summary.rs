@@ -126,7 +126,7 @@ async fn summary_page(
             .zone
             .clone()
             .unwrap_or_else(|| tr.t("dash-all-zones")),
-        as_of: f.as_of.format("%Y-%m-%d %H:%M UTC").to_string(),
+        as_of: super::common::local_time(&state.settings.get(), f.as_of),
         numbers: numbers(&tr, &f),
         rate: overall_rate(&tr, &f),
         monthly,

@@ -326,10 +326,11 @@ pub fn trip_page(
         now,
     );
     let b = &d.b;
+    let tr = crate::web::i18n::tr_of(req);
     let title = if just.is_some() {
-        "Bundle issued".to_string()
+        tr.t("trip-issued-title")
     } else {
-        format!("Trip {}", &b.id[..8.min(b.id.len())])
+        tr.t1("trip-page-title", "id", &b.id[..8.min(b.id.len())])
     };
     let open = b.cancelled_at.is_none();
     let not_expired = chrono::DateTime::parse_from_rfc3339(&b.expires_at).is_ok_and(|t| t > now);

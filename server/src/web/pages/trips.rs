@@ -127,7 +127,12 @@ async fn trips_page(
         want_state.is_none_or(|s| r.state == s) && want_team.as_ref().is_none_or(|t| &r.team == t)
     });
     let status = error.as_ref().map_or(StatusCode::OK, |e| e.status);
-    let layout = Layout::new(req, viewer, "Trips", "/trips");
+    let layout = Layout::new(
+        req,
+        viewer,
+        &crate::web::i18n::tr_of(req).t("trips-title"),
+        "/trips",
+    );
     let tr = &layout.tr;
     let t = TripsPage {
         bundles: rows,
@@ -394,7 +399,12 @@ pub async fn pair(
         })
         .await??;
         let t = PairPage {
-            layout: Layout::new(&req, &viewer, "Pair a phone", "/trips"),
+            layout: Layout::new(
+                &req,
+                &viewer,
+                &crate::web::i18n::tr_of(&req).t("pair-page-title"),
+                "/trips",
+            ),
             id: b.id,
             team: b.team,
             due: local_text(&state.settings.get(), &b.due_at),
