@@ -253,4 +253,20 @@ impl Reader<'_> {
             |r| Ok((r.get(0)?, r.get(1)?)),
         )
     }
+
+    /// The stored footprint (GeoJSON) of each live event of `ids` that
+    /// exists, in the order asked (the dashboard's map).
+    pub fn event_footprints(&self, ids: &[i64]) -> Result<Vec<(i64, String)>> {
+        let mut st = self
+            .conn
+            .prepare_cached("SELECT footprint FROM events WHERE id = ?1 AND merged_into IS NULL")?;
+        let mut out = Vec::with_capacity(ids.len());
+        for &id in ids {
+            let mut rows = st.query([id])?;
+            if let Some(row) = rows.next()? {
+                out.push((id, row.get(0)?));
+            }
+        }
+        Ok(out)
+    }
 }

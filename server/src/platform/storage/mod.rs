@@ -22,14 +22,13 @@ mod alerts;
 mod auth;
 mod backup;
 mod bundles;
+mod commit_watch;
 mod engine;
 mod events;
 mod languages;
 mod pages;
 mod pairing;
 mod pg_db;
-mod r_control2_extra;
-mod r_speed_extra;
 mod returns;
 mod schema;
 mod schema_pg;
@@ -47,7 +46,7 @@ pub use bundles::{BundleItem, BundleRecord, NewBundle, Team};
 pub use events::{EventFilter, EventRecord, EventWrite};
 pub use pairing::PairingRecord;
 pub use pg_db::scratch_postgres;
-pub use r_speed_extra::{CommitStamp, CommitWatch};
+pub use commit_watch::{CommitStamp, CommitWatch};
 pub use returns::{
     OpenUploads, PhotoCheckRow, PhotoRow, RETURNS_MIGRATION, ReportPhotoRow, ReportRow, ResultRow,
     ReturnRecord, UploadRecord,

@@ -1,5 +1,3 @@
-//! (Branch r-speed; the lead folds this into the engine layer at merge.)
-//!
 //! A commit watch: one read-only connection of its own whose
 //! `PRAGMA data_version` changes whenever any other connection commits to
 //! the database file — this process's writer (facts and bookkeeping alike:
@@ -9,7 +7,7 @@
 //! verified bearer tokens of `platform::auth::VerifiedTokens`) can trust an
 //! equal stamp.
 
-use super::{Db, Reader, configure};
+use super::{Db, configure};
 use crate::error::Result;
 use rusqlite::{Connection, OpenFlags};
 use std::sync::Mutex;
@@ -53,24 +51,6 @@ impl CommitWatch {
             .prepare_cached("PRAGMA data_version")?
             .query_row([], |r| r.get(0))?;
         Ok(CommitStamp(v as u64))
-    }
-}
-
-impl Reader<'_> {
-    /// The stored footprint (GeoJSON) of each live event of `ids` that
-    /// exists, in the order asked (the dashboard's map).
-    pub fn event_footprints(&self, ids: &[i64]) -> Result<Vec<(i64, String)>> {
-        let mut st = self
-            .conn
-            .prepare_cached("SELECT footprint FROM events WHERE id = ?1 AND merged_into IS NULL")?;
-        let mut out = Vec::with_capacity(ids.len());
-        for &id in ids {
-            let mut rows = st.query([id])?;
-            if let Some(row) = rows.next()? {
-                out.push((id, row.get(0)?));
-            }
-        }
-        Ok(out)
     }
 }
 
