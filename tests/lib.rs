@@ -36,6 +36,8 @@ pub struct TestServer {
     pub db: Arc<Db>,
     /// The PostgreSQL database's URL when the tests run on PostgreSQL.
     pub database: Option<String>,
+    /// The bearer tokens the server keeps between requests.
+    pub tokens: Arc<groundproof::platform::auth::VerifiedTokens>,
     handle: actix_web::dev::ServerHandle,
     thread: Option<std::thread::JoinHandle<()>>,
     dir: tempfile::TempDir,
@@ -50,6 +52,7 @@ impl TestServer {
         let listener = TcpListener::bind("127.0.0.1:0").expect("bind loopback");
         let addr = listener.local_addr().expect("address");
         let state = AppState::new(db.clone(), dir.path().to_path_buf(), Settings::default());
+        let kept = state.tokens.clone();
         let (tx, rx) = std::sync::mpsc::channel();
         let thread = std::thread::spawn(move || {
             actix_web::rt::System::new().block_on(async move {
@@ -74,6 +77,7 @@ impl TestServer {
             addr,
             db,
             database,
+            tokens: kept,
             handle,
             thread: Some(thread),
             dir,
@@ -111,6 +115,7 @@ impl TestServer {
             self.dir.path().to_path_buf(),
             Settings::default(),
         );
+        self.tokens = state.tokens.clone();
         let (tx, rx) = std::sync::mpsc::channel();
         self.thread = Some(std::thread::spawn(move || {
             actix_web::rt::System::new().block_on(async move {
@@ -132,6 +137,44 @@ impl TestServer {
         self.dir.path()
     }
 
+    /// The arguments that give the `groundproof` binary this server's
+    /// database: `--database URL` on PostgreSQL, none for the SQLite file
+    /// in the data directory.
+    pub fn database_args(&self) -> Vec<String> {
+        match &self.database {
+            Some(url) => vec!["--database".into(), url.clone()],
+            None => Vec::new(),
+        }
+    }
+
+    /// Freeze a copy of the stored state into `to` (the SQLite files, or a
+    /// new PostgreSQL database made from this one), from which
+    /// [`DbSnapshot::open_copy`] opens separate stores. On PostgreSQL the
+    /// server is stopped for the copy (a database is copied only while no
+    /// one is connected to it) and started again.
+    pub fn snapshot_db(&mut self, to: &Path) -> DbSnapshot {
+        let Some(url) = self.database.clone() else {
+            copy_sqlite(self.dir.path(), to);
+            return DbSnapshot {
+                dir: to.to_path_buf(),
+                database: None,
+            };
+        };
+        self.stop();
+        // The server's state went with it; this handle goes too (an empty
+        // SQLite store stands in until the restart opens the database again).
+        let stand_in = tempfile::tempdir().expect("temp dir");
+        self.db = Arc::new(Db::open(stand_in.path()).expect("a stand-in store"));
+        self.tokens = Arc::default();
+        let copy = groundproof::platform::storage::copy_postgres(&url)
+            .expect("a copy of the PostgreSQL database");
+        self.restart();
+        DbSnapshot {
+            dir: to.to_path_buf(),
+            database: Some(copy),
+        }
+    }
+
     pub fn data_path(&self) -> PathBuf {
         self.dir.path().to_path_buf()
     }
@@ -148,6 +191,56 @@ impl Drop for TestServer {
             let _ = t.join();
         }
     }
+}
+
+/// A frozen copy of a test server's database ([`TestServer::snapshot_db`]).
+pub struct DbSnapshot {
+    dir: PathBuf,
+    database: Option<String>,
+}
+
+impl DbSnapshot {
+    /// A new store with the snapshot's data: its database files copied into
+    /// `dir` (SQLite), or a new PostgreSQL database copied from it.
+    pub fn open_copy(&self, dir: &Path) -> Db {
+        match &self.database {
+            None => {
+                copy_sqlite(&self.dir, dir);
+                Db::open(dir).expect("the copy opens")
+            }
+            Some(url) => {
+                std::fs::create_dir_all(dir).expect("data dir");
+                let copy = groundproof::platform::storage::copy_postgres(url)
+                    .expect("a copy of the PostgreSQL database");
+                Db::open_postgres(&copy).expect("the copy opens")
+            }
+        }
+    }
+}
+
+/// The SQLite database files of data directory `from`, copied into `to`.
+pub fn copy_sqlite(from: &Path, to: &Path) {
+    std::fs::create_dir_all(to).expect("data dir");
+    for name in ["groundproof.sqlite3", "groundproof.sqlite3-wal"] {
+        let src = from.join(name);
+        if src.exists() {
+            std::fs::copy(&src, to.join(name)).expect("database file copied");
+        }
+    }
+}
+
+/// Whether `needle` is stored anywhere in the server's database: in the
+/// bytes of the SQLite files (free pages and the write-ahead log too), and
+/// in any value of any table (either engine).
+pub fn stored_anywhere(s: &TestServer, needle: &str) -> bool {
+    let in_files = ["groundproof.sqlite3", "groundproof.sqlite3-wal"]
+        .iter()
+        .filter_map(|f| std::fs::read(s.data_dir().join(f)).ok())
+        .any(|b| b.windows(needle.len()).any(|w| w == needle.as_bytes()));
+    in_files
+        || s.db
+            .read(|r| r.holds_text(needle))
+            .expect("tables searched")
 }
 
 /// A response: status and body text.

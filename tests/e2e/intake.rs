@@ -336,14 +336,9 @@ fn ten_reports_through_a_connection_cut_twice_and_whole_through_the_station() {
 
 // ---------- idempotency and order ----------
 
+/// The SQLite files of one data directory copied into another.
 pub(crate) fn copy_data(from: &Path, to: &Path) {
-    std::fs::create_dir_all(to).unwrap();
-    for name in ["groundproof.sqlite3", "groundproof.sqlite3-wal"] {
-        let src = from.join(name);
-        if src.exists() {
-            std::fs::copy(&src, to.join(name)).unwrap();
-        }
-    }
+    groundproof_e2e::copy_sqlite(from, to);
 }
 
 fn take_in_bytes(db: &Db, data: &Path, zip: &[u8]) -> groundproof::intake::ReturnDocument {
@@ -355,12 +350,11 @@ fn take_in_bytes(db: &Db, data: &Path, zip: &[u8]) -> groundproof::intake::Retur
 
 #[test]
 fn the_same_package_three_times_and_packages_in_any_order_give_the_same_state() {
-    let s = TestServer::start();
+    let mut s = TestServer::start();
     load_scenario(&s);
     let (_, bundle) = issue_bundle(&s.url(""), "Team Amber");
     let tmp = tempfile::tempdir().unwrap();
-    let snapshot_dir = tmp.path().join("pristine");
-    copy_data(s.data_dir(), &snapshot_dir);
+    let pristine = s.snapshot_db(&tmp.path().join("pristine"));
 
     let ws = open_workspace(tmp.path(), "ws", &bundle);
     record_events(&ws, 3, 1);
@@ -396,8 +390,7 @@ fn the_same_package_three_times_and_packages_in_any_order_give_the_same_state() 
     let mut states = Vec::new();
     for (k, order) in orders.iter().enumerate() {
         let dir = tmp.path().join(format!("order-{k}"));
-        copy_data(&snapshot_dir, &dir);
-        let db = Db::open(&dir).unwrap();
+        let db = pristine.open_copy(&dir);
         for &i in order {
             take_in_bytes(&db, &dir, packages[i]);
         }
@@ -860,12 +853,9 @@ fn binary() -> PathBuf {
     bin
 }
 
-/// Starts `groundproof serve` on a random loopback port; returns the child and its address.
-fn spawn_server(data: &Path) -> (std::process::Child, SocketAddr) {
-    spawn_server_with(data, &[], &[])
-}
-
-/// [`spawn_server`] with more arguments after `serve` and more environment.
+/// Starts `groundproof serve` on a random loopback port with more
+/// arguments after `serve` and more environment; returns the child and its
+/// address.
 pub(crate) fn spawn_server_with(
     data: &Path,
     args: &[&str],
@@ -920,18 +910,20 @@ fn kill_9_during_intake_loses_no_acknowledged_report_and_leaves_no_half_rows() {
     // Prepare a data directory with a bundle through the in-process server.
     let tmp = tempfile::tempdir().unwrap();
     let data = tmp.path().join("data");
-    let (bundle, token) = {
+    let (bundle, token, database) = {
         let s = TestServer::start();
         load_scenario(&s);
         let (_, bundle) = issue_bundle(&s.url(""), "Team Amber");
-        copy_data(s.data_dir(), &data);
-        // The admin token is in the copied database too.
-        (bundle, groundproof_e2e::admin_token(&s))
+        // The SQLite files are copied; a PostgreSQL database stays where it is.
+        groundproof_e2e::copy_sqlite(s.data_dir(), &data);
+        // The admin token is in the database too.
+        (bundle, groundproof_e2e::admin_token(&s), s.database_args())
     };
+    let database: Vec<&str> = database.iter().map(String::as_str).collect();
     let ws = open_workspace(tmp.path(), "ws", &bundle);
     record_events(&ws, 10, 1);
 
-    let (mut child, addr) = spawn_server(&data);
+    let (mut child, addr) = spawn_server_with(&data, &database, &[]);
     let proxy = CutProxy::start(addr, vec![]);
     let url = proxy.url();
     let ws2 = ws.clone();
@@ -946,7 +938,7 @@ fn kill_9_during_intake_loses_no_acknowledged_report_and_leaves_no_half_rows() {
         std::thread::sleep(Duration::from_millis(150 + 100 * k));
         child.kill().unwrap(); // SIGKILL
         child.wait().unwrap();
-        let (c, a) = spawn_server(&data);
+        let (c, a) = spawn_server_with(&data, &database, &[]);
         child = c;
         *proxy.target.lock().unwrap() = a;
     }
@@ -970,7 +962,10 @@ fn kill_9_during_intake_loses_no_acknowledged_report_and_leaves_no_half_rows() {
         "every report acknowledged in the end"
     );
 
-    let db = Db::open(&data).unwrap();
+    let db = match database.as_slice() {
+        ["--database", url] => Db::open_postgres(url).unwrap(),
+        _ => Db::open(&data).unwrap(),
+    };
     assert_eq!(db.read(|r| r.integrity_check()).unwrap(), "ok");
     let cleaned = groundproof::intake::cleanup(&db, &data).unwrap();
     println!("clean-up after the kills: {cleaned:?}");

@@ -138,9 +138,11 @@ pub async fn resolve(
     let cookie = header("cookie")
         .and_then(|c| auth::session_token_from_cookie_header(&c).map(str::to_string));
     // A bearer token verified since the last commit is known without a
-    // database read or a trip to the blocking pool (`auth::VerifiedTokens`).
+    // database read or a trip to the blocking pool (`auth::VerifiedTokens`;
+    // on PostgreSQL its stamp is a round trip, taken in `who`).
     let kept = bearer
         .as_deref()
+        .filter(|_| state.tokens.is_instant(&state.db))
         .and_then(|t| state.tokens.get(&state.db, t));
     let resolved = match kept {
         Some(identity) => Ok(Ok((identity, None, None))),
@@ -189,6 +191,9 @@ async fn who(
         if let Some(t) = bearer {
             // Taken before the lookup: a commit during it moves the stamp.
             let stamp = tokens.stamp(&db);
+            if let Some(identity) = stamp.and_then(|s| tokens.find(s, &t)) {
+                return Ok((identity, None, None));
+            }
             let (identity, paired) = scoped(&db, auth::authenticate_bearer(&db, &t)?)?;
             if let (Some(stamp), None) = (stamp, &paired) {
                 tokens.keep(stamp, &t, &identity);

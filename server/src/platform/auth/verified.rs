@@ -8,7 +8,7 @@
 //! lookup — revoking a token, disabling a team, cancelling a bundle, and also
 //! every unrelated write — drops every entry at once: a revocation takes
 //! effect at the next request, on this instance and in any other process on
-//! the same database file. On top of that no entry is used for longer than
+//! the same database (the SQLite file, or PostgreSQL's `gp_commit_stamp`). On top of that no entry is used for longer than
 //! [`KEEP_FOR`], which bounds the lag wherever a commit could not be seen.
 //!
 //! Only identities that depend on nothing but stored rows are kept (API
@@ -64,10 +64,21 @@ impl VerifiedTokens {
         watch.as_ref()?.stamp().ok()
     }
 
+    /// Whether [`VerifiedTokens::get`] answers without waiting on a
+    /// database server (SQLite's watch), so that it may run on the async
+    /// executor; on PostgreSQL the stamp is a round trip, taken off it.
+    pub fn is_instant(&self, db: &Db) -> bool {
+        !db.is_postgres()
+    }
+
     /// The identity `token` was verified to have, when no commit happened
     /// since and it was verified less than [`KEEP_FOR`] ago.
     pub fn get(&self, db: &Db, token: &str) -> Option<Identity> {
-        let stamp = self.stamp(db)?;
+        self.find(self.stamp(db)?, token)
+    }
+
+    /// [`VerifiedTokens::get`] with the stamp already taken.
+    pub fn find(&self, stamp: CommitStamp, token: &str) -> Option<Identity> {
         let key = digest(token);
         let mut kept = self.kept.lock().unwrap_or_else(|p| p.into_inner());
         if kept.stamp != Some(stamp) {
@@ -137,7 +148,7 @@ mod tests {
     #[test]
     fn a_kept_token_is_dropped_by_the_next_commit() {
         let dir = tempfile::tempdir().unwrap();
-        let db = Db::open(dir.path()).unwrap();
+        let db = crate::platform::storage::test_db(dir.path());
         let v = VerifiedTokens::new();
         let (rec, token) = issue_api_token(&db, Role::Manager, "script", 1).unwrap();
         let first = lookup(&v, &db, &token);
@@ -153,7 +164,7 @@ mod tests {
     #[test]
     fn a_lookup_that_raced_a_commit_is_not_kept() {
         let dir = tempfile::tempdir().unwrap();
-        let db = Db::open(dir.path()).unwrap();
+        let db = crate::platform::storage::test_db(dir.path());
         let v = VerifiedTokens::new();
         let (_, token) = issue_team_token(&db, "north", 1).unwrap();
         let before = v.stamp(&db).unwrap();

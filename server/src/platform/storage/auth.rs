@@ -5,7 +5,7 @@
 //! compare them in SQL. Disabling a user or changing a password deletes the
 //! user's sessions in the same transaction (ASVS 5.0 7.4.2, 7.4.3).
 
-use super::engine::{OptionalExtension, Row};
+use super::engine::{Dialect, OptionalExtension, Row};
 use super::{Reader, Tx};
 use crate::domain::Role;
 use crate::error::{Error, Result};
@@ -568,6 +568,57 @@ impl Reader<'_> {
             client,
             since,
         )
+    }
+
+    /// Whether `needle` appears in any stored value of any table (the
+    /// check that a secret is stored only as its hash). Reads every row.
+    pub fn holds_text(&self, needle: &str) -> Result<bool> {
+        let tables: Vec<String> = {
+            let sql = match self.conn.dialect() {
+                Dialect::Sqlite => "SELECT name FROM sqlite_master WHERE type = 'table'",
+                Dialect::Postgres => {
+                    "SELECT tablename FROM pg_tables WHERE schemaname = current_schema()"
+                }
+            };
+            let mut st = self.conn.prepare(sql)?;
+            st.query_map([], |r| r.get(0))?
+                .collect::<Result<Vec<_>>>()?
+        };
+        for t in tables {
+            let t = t.replace('"', "\"\"");
+            let hit = match self.conn.dialect() {
+                // Every column of the row, as text, side by side.
+                Dialect::Sqlite => {
+                    let cols: Vec<String> = {
+                        let mut st = self.conn.prepare(&format!("PRAGMA table_info(\"{t}\")"))?;
+                        st.query_map([], |r| r.get::<_, String>(1))?
+                            .collect::<Result<Vec<_>>>()?
+                    };
+                    let any = cols
+                        .iter()
+                        .map(|c| {
+                            format!(
+                                "instr(CAST(\"{}\" AS TEXT), ?1) > 0",
+                                c.replace('"', "\"\"")
+                            )
+                        })
+                        .collect::<Vec<_>>()
+                        .join(" OR ");
+                    format!("SELECT EXISTS (SELECT 1 FROM \"{t}\" WHERE {any})")
+                }
+                // The whole row as text.
+                Dialect::Postgres => {
+                    format!(
+                        "SELECT EXISTS (SELECT 1 FROM \"{t}\" x WHERE strpos(CAST(x AS TEXT), ?1) > 0)"
+                    )
+                }
+            };
+            let found: i64 = self.conn.query_row(&hit, [needle], |r| r.get(0))?;
+            if found != 0 {
+                return Ok(true);
+            }
+        }
+        Ok(false)
     }
 }
 

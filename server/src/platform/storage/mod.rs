@@ -43,10 +43,10 @@ pub use alerts::{NewAlert, StoredAlert, alerts_cells, e7};
 pub use auth::{ApiTokenRecord, LoginAttempt, SessionRecord, TeamTokenRecord, User};
 pub use backup::check_database;
 pub use bundles::{BundleItem, BundleRecord, NewBundle, Team};
+pub use commit_watch::{CommitStamp, CommitWatch};
 pub use events::{EventFilter, EventRecord, EventWrite};
 pub use pairing::PairingRecord;
-pub use pg_db::scratch_postgres;
-pub use commit_watch::{CommitStamp, CommitWatch};
+pub use pg_db::{copy_postgres, scratch_postgres};
 pub use returns::{
     OpenUploads, PhotoCheckRow, PhotoRow, RETURNS_MIGRATION, ReportPhotoRow, ReportRow, ResultRow,
     ReturnRecord, UploadRecord,

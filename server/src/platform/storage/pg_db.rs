@@ -16,6 +16,8 @@
 //! - The fact stamp: every fact write bumps the row of `gp_fact_stamp` in
 //!   its own transaction; a watcher thread reads it every [`STAMP_POLL`] and
 //!   moves the local stamp when another instance has written facts.
+//! - The commit stamp: every write (facts and bookkeeping) bumps the row of
+//!   `gp_commit_stamp` in its own transaction; `commit_watch` reads it.
 
 use super::engine::Conn;
 use super::engine::pg::PgConn;
@@ -111,6 +113,11 @@ impl PgDb {
         Ok(())
     }
 
+    /// The URL this database was opened with.
+    pub(crate) fn url(&self) -> &str {
+        &self.url
+    }
+
     fn take(&self) -> Result<PgConn> {
         let pooled = self.pool.lock().unwrap_or_else(|p| p.into_inner()).pop();
         match pooled {
@@ -198,14 +205,18 @@ fn transact<T>(
     let value = f(&Tx { tx: c })?;
     let mut stamp = None;
     let mut strayed = false;
+    // Every write moves the commit stamp (`commit_watch`); a fact write the
+    // fact stamp too, in the same round trip.
     if fact {
         stamp = Some(c.query_row(
-            "UPDATE gp_fact_stamp SET n = n + 1 WHERE id = 1 RETURNING n",
+            "WITH c AS (UPDATE gp_commit_stamp SET n = n + 1 WHERE id = 1)
+             UPDATE gp_fact_stamp SET n = n + 1 WHERE id = 1 RETURNING n",
             [],
             |r| r.get(0),
         )?);
     } else {
         strayed = rows_changed_elsewhere(c)? != before;
+        c.execute("UPDATE gp_commit_stamp SET n = n + 1 WHERE id = 1", [])?;
     }
     conn.batch("COMMIT")?;
     Ok((value, stamp, strayed))
@@ -272,6 +283,28 @@ pub fn scratch_postgres(url: &str) -> Result<String> {
     Ok(with_database(url, &name))
 }
 
+/// The database name of `url` (its path).
+fn database_name(url: &str) -> Option<&str> {
+    let base = url.split('?').next()?;
+    let after_scheme = base.find("://")? + 3;
+    let slash = base[after_scheme..].find('/')? + after_scheme;
+    Some(&base[slash + 1..]).filter(|n| !n.is_empty())
+}
+
+/// Make a new database on the same server as a copy of the one at `url`
+/// (`CREATE DATABASE … TEMPLATE`: nobody may be connected to it; PostgreSQL
+/// waits a few seconds for the last sessions to end) and return its URL.
+/// The tests' way to freeze a state and start from it several times.
+pub fn copy_postgres(url: &str) -> Result<String> {
+    let from = database_name(url)
+        .filter(|n| n.bytes().all(|b| b.is_ascii_alphanumeric() || b == b'_'))
+        .ok_or_else(|| Error::Invalid(format!("no plain database name in {}", redacted(url))))?;
+    let name = format!("gp_t_{}", uuid::Uuid::new_v4().simple());
+    let conn = PgConn::connect(&with_database(url, "postgres"))?;
+    conn.batch(&format!("CREATE DATABASE {name} TEMPLATE {from}"))?;
+    Ok(with_database(url, &name))
+}
+
 #[cfg(test)]
 mod url_tests {
     use super::*;
@@ -290,5 +323,10 @@ mod url_tests {
             with_database("postgresql://gp@localhost/postgres?host=/tmp/s", "x"),
             "postgresql://gp@localhost/x?host=/tmp/s"
         );
+        assert_eq!(
+            database_name("postgresql://gp@localhost/gp_t_1?host=/tmp/s"),
+            Some("gp_t_1")
+        );
+        assert_eq!(database_name("postgres://gp@127.0.0.1:5433"), None);
     }
 }

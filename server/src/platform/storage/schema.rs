@@ -175,7 +175,9 @@ pub(super) fn migrate_pg(conn: &super::engine::pg::PgConn) -> Result<()> {
          CREATE TABLE IF NOT EXISTS gp_schema (id BIGINT PRIMARY KEY CHECK (id = 1), version BIGINT NOT NULL);
          INSERT INTO gp_schema (id, version) VALUES (1, 0) ON CONFLICT DO NOTHING;
          CREATE TABLE IF NOT EXISTS gp_fact_stamp (id BIGINT PRIMARY KEY CHECK (id = 1), n BIGINT NOT NULL);
-         INSERT INTO gp_fact_stamp (id, n) VALUES (1, 0) ON CONFLICT DO NOTHING;"
+         INSERT INTO gp_fact_stamp (id, n) VALUES (1, 0) ON CONFLICT DO NOTHING;
+         CREATE TABLE IF NOT EXISTS gp_commit_stamp (id BIGINT PRIMARY KEY CHECK (id = 1), n BIGINT NOT NULL);
+         INSERT INTO gp_commit_stamp (id, n) VALUES (1, 0) ON CONFLICT DO NOTHING;"
     ))?;
     let out = (|| {
         let current: i64 = c.query_row("SELECT version FROM gp_schema WHERE id = 1", [], |r| {
