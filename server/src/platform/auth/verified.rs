@@ -8,7 +8,8 @@
 //! lookup — revoking a token, disabling a team, cancelling a bundle, and also
 //! every unrelated write — drops every entry at once: a revocation takes
 //! effect at the next request, on this instance and in any other process on
-//! the same database (the SQLite file, or PostgreSQL's `gp_commit_stamp`). On top of that no entry is used for longer than
+//! the same database (the SQLite file, or PostgreSQL's `gp_commit_stamp`).
+//! On top of that no entry is used for longer than
 //! [`KEEP_FOR`], which bounds the lag wherever a commit could not be seen.
 //!
 //! Only identities that depend on nothing but stored rows are kept (API
@@ -173,6 +174,38 @@ mod tests {
         v.get(&db, &token); // sees the new stamp
         v.keep(before, &token, &identity);
         assert!(v.is_empty());
+    }
+
+    /// What keeping saves per bearer request, on the engine of the tests
+    /// (`GROUNDPROOF_TEST_ENGINE`): the kept path (stamp and find) against
+    /// the lookup (stamp and the token's row). By hand, with `--ignored
+    /// --nocapture`: a timing, so not part of the normal run.
+    #[test]
+    #[ignore]
+    fn a_kept_token_costs_less_than_a_lookup() {
+        let dir = tempfile::tempdir().unwrap();
+        let db = crate::platform::storage::test_db(dir.path());
+        let v = VerifiedTokens::new();
+        let (_, token) = issue_api_token(&db, Role::Manager, "script", 1).unwrap();
+        let n = 2000u32;
+        let t = Instant::now();
+        for _ in 0..n {
+            let stamp = v.stamp(&db).unwrap();
+            authenticate_bearer(&db, &token).unwrap();
+            std::hint::black_box(stamp);
+        }
+        let looked_up = t.elapsed() / n;
+        lookup(&v, &db, &token);
+        let t = Instant::now();
+        for _ in 0..n {
+            assert!(v.get(&db, &token).is_some());
+        }
+        let kept = t.elapsed() / n;
+        println!(
+            "postgres={}: kept {kept:?} per request, looked up {looked_up:?}",
+            db.is_postgres()
+        );
+        assert!(kept < looked_up);
     }
 
     #[test]
