@@ -42,7 +42,7 @@ enum Watch {
     /// Connected at first use, and again after a failed read.
     Pg {
         url: String,
-        conn: Mutex<Option<PgConn>>,
+        conn: Box<Mutex<Option<PgConn>>>,
     },
 }
 
@@ -59,7 +59,7 @@ impl Db {
                 return Ok(CommitWatch {
                     inner: Watch::Pg {
                         url: pg.url().to_string(),
-                        conn: Mutex::new(None),
+                        conn: Box::new(Mutex::new(None)),
                     },
                 });
             }
