@@ -274,8 +274,9 @@ fn sessions_throttling_and_revocation(t: &Twins) {
     );
 
     // Logged out on B: the session is gone on A too.
-    let (r, _) = form(&b, "/logout", Some(&cookie), "");
-    assert_eq!(r.status, 303);
+    let body = format!("csrf_token={}", csrf(&b, &cookie));
+    let (r, _) = form(&b, "/logout", Some(&cookie), &body);
+    assert_eq!(r.status, 303, "{}", r.body);
     let after = page(&a, "/dashboard", &cookie);
     assert_ne!(after.status, 200, "a session ended on B still works on A");
 
@@ -341,7 +342,29 @@ fn stats_follow_the_other_instance(t: &Twins) {
 
     let ws = t.workspace("ws-stats");
     record_events(&ws, 2, 41);
+    // B keeps answering statistics (and ranking events) while A takes the
+    // return in.
+    let busy = std::sync::Arc::new(std::sync::atomic::AtomicBool::new(true));
+    let (flag, url, events) = (
+        busy.clone(),
+        stats.clone(),
+        format!("{b}/api/v1/events?limit=100"),
+    );
+    let load = std::thread::spawn(move || {
+        let mut n = 0u32;
+        while flag.load(std::sync::atomic::Ordering::Acquire) {
+            assert_eq!(get(&url).status, 200);
+            assert_eq!(get(&events).status, 200);
+            n += 1;
+        }
+        n
+    });
     push(&ws, &a, Some(&t.token), &fast_push()).expect("pushed to A");
+    busy.store(false, std::sync::atomic::Ordering::Release);
+    println!(
+        "B answered {} rounds of statistics during A's intake",
+        load.join().unwrap()
+    );
 
     let started = Instant::now();
     let mut now = get(&stats);
@@ -364,6 +387,8 @@ fn stats_follow_the_other_instance(t: &Twins) {
         without_csrf(&get(&format!("{a}/dashboard")).body),
         "B's dashboard is A's"
     );
+    let ranked = |base: &str| get(&format!("{base}/api/v1/events?limit=100")).body;
+    assert_eq!(ranked(&b), ranked(&a), "B ranks the events as A does");
 }
 
 /// The entries `photos/<sha>.jpg` of a return package, by SHA-256.
@@ -457,36 +482,61 @@ fn upload_begun_on_a_finished_on_b(t: &Twins) {
     }
 }
 
+/// When to kill A during a push: once its upload holds some bytes but not
+/// all (chunks still coming), or all (the kit asks for `complete` at once,
+/// so A is parsing the package and storing photos and rows).
+#[derive(Debug, Clone, Copy)]
+enum KillWhen {
+    Chunks,
+    Complete,
+}
+
 /// (b) `kill -9` of A while it takes in a return; the field kit carries on
 /// against B: every report pushed is stored once, as pushed, with all its
-/// photos in the store.
-fn kill_9_of_a_during_intake_the_kit_carries_on_against_b(t: &mut Twins) {
-    let ws = t.workspace("ws-kill");
-    record_events_from(&ws, 4, 6, 5);
-    let open_before: BTreeSet<String> = open_uploads(&t.db);
+/// photos in the store. A is started again afterwards.
+fn kill_9_of_a_during_intake(t: &mut Twins, ws: &Path, when: KillWhen) {
+    let open_before = open_uploads(&t.db);
     let proxy = CutProxy::start(t.a_addr(), vec![]);
-    let (ws2, url, token) = (ws.clone(), proxy.url(), t.token.clone());
+    let (ws2, url, token) = (ws.to_path_buf(), proxy.url(), t.token.clone());
     let pusher = std::thread::spawn(move || {
         let mut o = fast_push();
         o.chunk_bytes = 16 << 10;
         push(&ws2, &url, Some(&token), &o)
     });
-    // Kill A once its upload is under way.
     let started = Instant::now();
-    while open_uploads(&t.db).len() <= open_before.len()
-        && started.elapsed() < Duration::from_secs(20)
-    {
-        std::thread::sleep(Duration::from_millis(20));
-    }
-    std::thread::sleep(Duration::from_millis(100));
+    let at = loop {
+        let now = open_uploads(&t.db);
+        let new = now.into_iter().find(|u| !open_before.contains(u));
+        let u = new.and_then(|id| t.db.read(|r| r.upload(&id)).unwrap());
+        let due = u.as_ref().is_some_and(|u| match when {
+            KillWhen::Chunks => u.offset > 0 && u.offset < u.size,
+            KillWhen::Complete => u.offset == u.size,
+        });
+        if due || started.elapsed() > Duration::from_secs(30) {
+            break u;
+        }
+        std::thread::sleep(Duration::from_millis(5));
+    };
     t.kill_a();
     *proxy.target.lock().unwrap() = t.b.1;
+    let at = at.map(|u| (u.offset, u.size, u.state));
+    println!("kill -9 of A ({when:?}) with the upload at {at:?}");
+    assert!(at.is_some(), "the push never opened an upload on A");
     let first = pusher.join().unwrap();
-    let again = push(&ws, &proxy.url(), Some(&t.token), &fast_push());
+    let again = push(ws, &proxy.url(), Some(&t.token), &fast_push());
     assert!(first.is_ok() || again.is_ok(), "{first:?} / {again:?}");
+    println!(
+        "the kit's first push after the kill: {:?}",
+        first.map(|_| ())
+    );
+    t.start_a();
+}
 
-    let pushed = reports_of(&ws);
-    assert_eq!(pushed.len(), 6);
+/// Every report of the workspaces is acknowledged and stored once, as
+/// pushed: its event, outcome, cause and exactly its photos, each in the
+/// store (hashing to its name) with its thumbnail.
+fn stored_as_pushed(t: &Twins, workspaces: &[&Path]) {
+    let pushed: Vec<StoredReport> = workspaces.iter().flat_map(|ws| reports_of(ws)).collect();
     for r in &pushed {
         assert_eq!(r.state, PushState::Acknowledged, "{}", r.report.report_id);
         let id = r.report.report_id.to_string();
@@ -504,22 +554,34 @@ fn kill_9_of_a_during_intake_the_kit_carries_on_against_b(t: &mut Twins) {
             assert!(t.store.exists(&thumb_key(sha)).unwrap());
         }
     }
+}
+
+/// (b) twice: A killed while chunks come in, then (started again) killed
+/// as it takes the package in; then A serves what B took in (its start-up
+/// clean-up on the shared store kept B's objects).
+fn kill_9_of_a_the_kit_carries_on_against_b(t: &mut Twins) {
+    let chunks = t.workspace("ws-kill-chunks");
+    record_events_from(&chunks, 4, 3, 5);
+    kill_9_of_a_during_intake(t, &chunks, KillWhen::Chunks);
+    let complete = t.workspace("ws-kill-complete");
+    record_events_from(&complete, 7, 3, 15);
+    kill_9_of_a_during_intake(t, &complete, KillWhen::Complete);
+    stored_as_pushed(t, &[&chunks, &complete]);
     // 2 + 2 reports of the steps before and these 6: none stored twice.
     let all = t.db.read(|r| r.report_facts()).unwrap();
     assert_eq!(all.len(), 10, "no report stored twice");
 
-    // A again (its start-up clean-up on the shared store must keep what B
-    // took in): it serves a photo B stored.
-    t.start_a();
-    let sha = &pushed[5].report.photos[0].sha256;
-    let (st, photo, _) = call(
-        "GET",
-        &format!("{}/api/v1/photos/{sha}/original", t.base_a()),
-        &t.token,
-        &[],
-        b"",
-    );
-    assert_eq!((st, hex_sha(&photo)), (200, sha.clone()));
+    for ws in [&chunks, &complete] {
+        let sha = &reports_of(ws)[0].report.photos[0].sha256;
+        let (st, photo, _) = call(
+            "GET",
+            &format!("{}/api/v1/photos/{sha}/original", t.base_a()),
+            &t.token,
+            &[],
+            b"",
+        );
+        assert_eq!((st, hex_sha(&photo)), (200, sha.clone()));
+    }
 }
 
 fn open_uploads(db: &Db) -> BTreeSet<String> {
@@ -540,5 +602,5 @@ fn two_instances_on_one_database_and_one_store() {
     sessions_throttling_and_revocation(&t);
     stats_follow_the_other_instance(&t);
     upload_begun_on_a_finished_on_b(&t);
-    kill_9_of_a_during_intake_the_kit_carries_on_against_b(&mut t);
+    kill_9_of_a_the_kit_carries_on_against_b(&mut t);
 }
