@@ -87,11 +87,12 @@ fn evidence_on_s3_round_trip_resumable_across_processes_and_orphans() {
 
     // The bundle is in the store (the row's SHA-256), not in the data directory.
     let (bundle, bytes) = issue(&base, &token);
-    let kept = read(&store, &format!("bundles/{bundle}.zip"));
-    assert_eq!(kept, bytes);
     let db = Db::open(&data).unwrap();
     let row = db.read(|r| r.bundle(&bundle)).unwrap().unwrap();
+    let kept = read(&store, &format!("bundles/{}.zip", row.file_sha256));
+    assert_eq!(kept, bytes);
     assert_eq!(hex_sha(&kept), row.file_sha256);
+    assert_eq!(row.file_name, format!("{}.zip", row.file_sha256));
     assert_eq!(files_under(&data.join("bundles")), 0);
 
     // A return of two reports with two photos each, pushed whole.

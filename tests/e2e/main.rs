@@ -5,6 +5,7 @@ mod admin;
 mod alerts_api;
 mod backup;
 mod bundle_confidence;
+mod bundle_keys;
 mod bundles;
 mod control_outcomes;
 mod demo_story;

@@ -337,6 +337,15 @@ fn stats_follow_the_other_instance(t: &Twins) {
     let before = get(&stats);
     assert_eq!(before.status, 200, "{}", before.body);
     assert_eq!(get(&stats).body, before.body, "kept and asked again");
+    let fresh = || {
+        let f = figures(&t.db, &StatsFilter::default(), &FigureOptions::new(end)).unwrap();
+        serde_json::to_string(&f).unwrap()
+    };
+    assert_eq!(
+        before.body,
+        fresh(),
+        "B's kept figures are those of the facts A wrote (the scenario)"
+    );
     let visited_before = visited(&b, &day);
     let dash_before = without_csrf(&get(&format!("{b}/dashboard")).body);
 
@@ -377,8 +386,7 @@ fn stats_follow_the_other_instance(t: &Twins) {
         now.body, before.body,
         "B still serves the figures from before A's return after {SEEN_WITHIN:?}"
     );
-    let fresh = figures(&t.db, &StatsFilter::default(), &FigureOptions::new(end)).unwrap();
-    assert_eq!(now.body, serde_json::to_string(&fresh).unwrap());
+    assert_eq!(now.body, fresh(), "B's figures after A's return");
     assert_eq!(visited(&b, &day), visited_before + 2);
     let dash_b = without_csrf(&get(&format!("{b}/dashboard")).body);
     assert_ne!(dash_b, dash_before, "B's dashboard moved");
