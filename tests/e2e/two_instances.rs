@@ -490,6 +490,59 @@ fn upload_begun_on_a_finished_on_b(t: &Twins) {
     }
 }
 
+/// (e) The same upload completed on A and on B at the same moment (a kit
+/// whose `complete` on A timed out asks B while A still works): both answer
+/// 200 with the same results, and the return and its reports are stored
+/// once.
+fn one_upload_completed_on_both_at_once(t: &Twins) {
+    let (a, b) = (t.base_a(), t.base_b());
+    let (bundle_id, bundle) = issue_bundle(&a, "Team Cedar");
+    let ws = open_workspace(t.tmp.path(), "ws-twice", &bundle);
+    record_events(&ws, 3, 91);
+    let zip = pack(&ws, &t.tmp.path().join("twice.zip"), false);
+    let sha = hex_sha(&zip);
+    let r = post_json(
+        &format!("{a}/api/v1/uploads"),
+        &json!({"bundle_id": bundle_id, "size": zip.len(), "sha256": sha}),
+    );
+    assert_eq!(r.status, 201, "{}", r.body);
+    let id = r.json()["upload_id"].as_str().unwrap().to_string();
+    assert_eq!(patch(&a, &t.token, &id, 0, &zip), 204);
+    let before = t.db.read(|r| r.report_facts()).unwrap().len();
+
+    let gate = std::sync::Arc::new(std::sync::Barrier::new(2));
+    let answers: Vec<(u16, Value)> = [a, b]
+        .map(|base| {
+            let (gate, token) = (gate.clone(), t.token.clone());
+            let url = format!("{base}/api/v1/uploads/{id}/complete");
+            std::thread::spawn(move || {
+                gate.wait();
+                let (st, body, _) = call("POST", &url, &token, &[], b"");
+                (st, serde_json::from_slice(&body).unwrap_or(Value::Null))
+            })
+        })
+        .into_iter()
+        .map(|h| h.join().unwrap())
+        .collect();
+    for (st, doc) in &answers {
+        assert_eq!(*st, 200, "both instances answer the results: {doc}");
+    }
+    assert_eq!(
+        answers[0].1["results"], answers[1].1["results"],
+        "the same results"
+    );
+    let statuses: Vec<&str> = answers[0].1["results"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|x| x["status"].as_str().unwrap())
+        .collect();
+    assert_eq!(statuses, ["accepted"; 3]);
+    let after = t.db.read(|r| r.report_facts()).unwrap().len();
+    assert_eq!(after, before + 3, "stored once");
+    assert!(t.db.read(|r| r.return_by_sha(&sha)).unwrap().is_some());
+}
+
 /// When to kill A during a push: once its upload holds some bytes but not
 /// all (chunks still coming), or all (the kit asks for `complete` at once,
 /// so A is parsing the package and storing photos and rows).
@@ -575,9 +628,9 @@ fn kill_9_of_a_the_kit_carries_on_against_b(t: &mut Twins) {
     record_events_from(&complete, 7, 3, 15);
     kill_9_of_a_during_intake(t, &complete, KillWhen::Complete);
     stored_as_pushed(t, &[&chunks, &complete]);
-    // 2 + 2 reports of the steps before and these 6: none stored twice.
+    // 2 + 2 + 3 reports of the steps before and these 6: none stored twice.
     let all = t.db.read(|r| r.report_facts()).unwrap();
-    assert_eq!(all.len(), 10, "no report stored twice");
+    assert_eq!(all.len(), 13, "no report stored twice");
 
     for ws in [&chunks, &complete] {
         let sha = &reports_of(ws)[0].report.photos[0].sha256;
@@ -610,5 +663,6 @@ fn two_instances_on_one_database_and_one_store() {
     sessions_throttling_and_revocation(&t);
     stats_follow_the_other_instance(&t);
     upload_begun_on_a_finished_on_b(&t);
+    one_upload_completed_on_both_at_once(&t);
     kill_9_of_a_the_kit_carries_on_against_b(&mut t);
 }
