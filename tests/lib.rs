@@ -273,6 +273,15 @@ fn token_for(url: &str) -> Option<String> {
         .cloned()
 }
 
+/// Let the request helpers send `token` to the server at `addr` (a server
+/// process a test started itself, as `TestServer::start` does for its own).
+pub fn remember_token(addr: SocketAddr, token: &str) {
+    tokens()
+        .lock()
+        .unwrap_or_else(|p| p.into_inner())
+        .insert(addr.to_string(), token.to_string());
+}
+
 /// The admin token the helpers send to this server.
 pub fn admin_token(s: &TestServer) -> String {
     token_for(&s.url("/")).unwrap_or_default()
@@ -357,23 +366,29 @@ pub fn post_json(url: &str, body: &serde_json::Value) -> Reply {
 
 /// Register the demo scenario's sources, zones, teams and alerts over HTTP.
 pub fn load_scenario(s: &TestServer) {
+    load_scenario_at(&s.url(""));
+}
+
+/// [`load_scenario`] through the server at `base` (`http://host:port`).
+pub fn load_scenario_at(base: &str) {
     use serde_json::json;
+    let url = |path: &str| format!("{base}{path}");
     let scenario = mock_patrols::scenario();
     for src in &scenario.sources {
         let r = post_json(
-            &s.url("/api/v1/sources"),
+            &url("/api/v1/sources"),
             &json!({"name": src.name, "pixel_size_m": src.pixel_size_m, "revisit_days": src.revisit_days}),
         );
         assert_eq!(r.status, 201, "{}", r.body);
     }
     let z = post_bytes(
-        &s.url("/api/v1/zones"),
+        &url("/api/v1/zones"),
         "application/geo+json",
         mock_patrols::zones_geojson(&scenario).as_bytes(),
     );
     assert_eq!(z.status, 200, "{}", z.body);
     for t in &scenario.teams {
-        let r = post_json(&s.url("/api/v1/teams"), &json!({"name": t}));
+        let r = post_json(&url("/api/v1/teams"), &json!({"name": t}));
         assert_eq!(r.status, 201, "{}", r.body);
     }
     for (source, rows) in mock_patrols::generate_alerts(&scenario, 42) {
@@ -383,7 +398,7 @@ pub fn load_scenario(s: &TestServer) {
             mock_patrols::alerts_csv(&rows)
         };
         let r = post_bytes(
-            &s.url(&format!("/api/v1/alerts?source={source}")),
+            &url(&format!("/api/v1/alerts?source={source}")),
             "text/plain",
             body.as_bytes(),
         );

@@ -6,95 +6,17 @@
 
 use super::intake::{
     CutProxy, copy_data, facts, open_workspace, pack, record_events, record_events_from,
-    spawn_server_with,
 };
+use super::s3::{S3, call, read};
 use groundproof::intake::layout::{chunk_key, incoming_key, photo_key, thumb_key, upload_prefix};
-use groundproof::platform::evidence::Evidence;
 use groundproof::platform::storage::Db;
 use groundproof_e2e::{TestServer, load_scenario, post_json_as};
 use groundproof_sync::field::push;
 use serde_json::{Value, json};
 use sha2::{Digest, Sha256};
-use std::net::SocketAddr;
 use std::path::{Path, PathBuf};
 use std::process::Child;
 use std::time::Duration;
-
-const BUCKET: &str = "gp-test";
-
-/// The S3 test server's endpoint and keys.
-struct S3 {
-    endpoint: String,
-    key: String,
-    secret: String,
-    prefix: String,
-}
-
-impl S3 {
-    /// The test server from the environment, under a new prefix; `None`
-    /// (after `missing`, which fails under CI) when there is none.
-    fn from_env() -> Option<S3> {
-        let Ok(endpoint) = std::env::var("GROUNDPROOF_TEST_S3") else {
-            groundproof_e2e::missing(
-                "GROUNDPROOF_TEST_S3 is not set (an S3-compatible test server; .ci/run starts s3s-fs)",
-            );
-            return None;
-        };
-        let endpoint = if endpoint.starts_with("http") {
-            endpoint
-        } else {
-            format!("http://{endpoint}")
-        };
-        let var = |k: &str, d: &str| std::env::var(k).unwrap_or_else(|_| d.to_string());
-        Some(S3 {
-            endpoint,
-            key: var("GROUNDPROOF_TEST_S3_KEY", "gp-test-key"),
-            secret: var("GROUNDPROOF_TEST_S3_SECRET", "gp-test-secret"),
-            prefix: format!("e2e-{}", uuid::Uuid::new_v4().simple()),
-        })
-    }
-
-    fn location(&self) -> String {
-        format!("s3://{BUCKET}/{}", self.prefix)
-    }
-
-    /// What a server process needs to reach the store (and no grace for
-    /// orphans, so the start-up clean-up is seen at once).
-    fn envs(&self) -> Vec<(&'static str, String)> {
-        vec![
-            ("AWS_ENDPOINT_URL", self.endpoint.clone()),
-            ("AWS_ACCESS_KEY_ID", self.key.clone()),
-            ("AWS_SECRET_ACCESS_KEY", self.secret.clone()),
-            ("AWS_REGION", "us-east-1".into()),
-            ("GROUNDPROOF_ORPHAN_GRACE_SECS", "0".into()),
-        ]
-    }
-
-    /// The same store, read from this test process.
-    fn store(&self) -> Evidence {
-        Evidence::s3_with(
-            BUCKET,
-            &self.prefix,
-            &[
-                ("aws_endpoint", &self.endpoint),
-                ("aws_access_key_id", &self.key),
-                ("aws_secret_access_key", &self.secret),
-                ("aws_region", "us-east-1"),
-            ],
-        )
-        .expect("the S3 test server answers")
-    }
-
-    fn spawn(&self, data: &Path) -> (Child, SocketAddr) {
-        spawn_server_with(data, &["--evidence", &self.location()], &self.envs())
-    }
-}
-
-fn read(store: &Evidence, key: &str) -> Vec<u8> {
-    let mut out = Vec::new();
-    store.copy_to(key, None, &mut out).unwrap();
-    out
-}
 
 fn hex_sha(b: &[u8]) -> String {
     hex::encode(Sha256::digest(b))
@@ -108,34 +30,6 @@ fn prepared(root: &Path) -> (PathBuf, String) {
     load_scenario(&s);
     copy_data(s.data_dir(), &data);
     (data, groundproof_e2e::admin_token(&s))
-}
-
-fn call(
-    method: &str,
-    url: &str,
-    token: &str,
-    headers: &[(&str, &str)],
-    body: &[u8],
-) -> (u16, Vec<u8>, Option<String>) {
-    let agent: ureq::Agent = ureq::Agent::config_builder()
-        .http_status_as_error(false)
-        .build()
-        .into();
-    let req = ureq::http::Request::builder()
-        .method(method)
-        .uri(url)
-        .header("Authorization", format!("Bearer {token}"));
-    let req = headers.iter().fold(req, |r, (k, v)| r.header(*k, *v));
-    let mut resp = agent
-        .run(req.body(body.to_vec()).unwrap())
-        .expect("request reaches the server");
-    let offset = resp
-        .headers()
-        .get("upload-offset")
-        .and_then(|v| v.to_str().ok())
-        .map(str::to_string);
-    let bytes = resp.body_mut().read_to_vec().unwrap_or_default();
-    (resp.status().as_u16(), bytes, offset)
 }
 
 /// Issues a bundle for Team Amber through the server at `base`; its id and bytes.
@@ -193,11 +87,12 @@ fn evidence_on_s3_round_trip_resumable_across_processes_and_orphans() {
 
     // The bundle is in the store (the row's SHA-256), not in the data directory.
     let (bundle, bytes) = issue(&base, &token);
-    let kept = read(&store, &format!("bundles/{bundle}.zip"));
-    assert_eq!(kept, bytes);
     let db = Db::open(&data).unwrap();
     let row = db.read(|r| r.bundle(&bundle)).unwrap().unwrap();
+    let kept = read(&store, &format!("bundles/{}.zip", row.file_sha256));
+    assert_eq!(kept, bytes);
     assert_eq!(hex_sha(&kept), row.file_sha256);
+    assert_eq!(row.file_name, format!("{}.zip", row.file_sha256));
     assert_eq!(files_under(&data.join("bundles")), 0);
 
     // A return of two reports with two photos each, pushed whole.
@@ -257,21 +152,7 @@ fn evidence_on_s3_round_trip_resumable_across_processes_and_orphans() {
     assert_eq!(r.status, 201, "{}", r.body);
     let id = r.json()["upload_id"].as_str().unwrap().to_string();
     let half = zip.len() / 2;
-    let patch = |base: &str, at: usize, body: &[u8]| {
-        let off = at.to_string();
-        let h = [
-            ("Upload-Offset", off.as_str()),
-            ("Content-Type", "application/partial-upload"),
-        ];
-        call(
-            "PATCH",
-            &format!("{base}/api/v1/uploads/{id}"),
-            &token,
-            &h,
-            body,
-        )
-        .0
-    };
+    let patch = |base: &str, at: usize, body: &[u8]| super::s3::patch(base, &token, &id, at, body);
     assert_eq!(patch(&base, 0, &zip[..half]), 204);
     assert_eq!(read(&store, &chunk_key(&id, 0)), &zip[..half]);
     assert_eq!(

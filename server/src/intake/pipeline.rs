@@ -912,6 +912,16 @@ fn commit_rows(
         rejected_path(Path::new(""), stored.sha256)
     };
     let return_id = db.write(|tx| {
+        // Another instance on the same database may have committed this
+        // package since the check before parsing (the intake lock holds
+        // only within this process): its return stands, and names this
+        // upload's results too.
+        if let Some(r) = tx.reader().return_by_sha(stored.sha256)? {
+            if let Some(u) = stored.upload {
+                tx.finish_upload(&u.id, r.id)?;
+            }
+            return Ok(r.id);
+        }
         let return_id = tx.insert_return(&ReturnRecord {
             id: 0,
             bundle_id: stored.bundle.id.clone(),

@@ -233,11 +233,17 @@ fn plan_trip(db: &Db, settings: &Settings, req: &TripRequest) -> Result<Planned>
     })
 }
 
-/// The evidence store's key of an issued bundle's ZIP (`bundles/<bundle
-/// id>.zip`, as the bundle row's file name says: written once, never
-/// changed; its SHA-256 is in the row).
+/// The evidence store's key of an issued bundle's ZIP, from the bundle
+/// row's file name: `bundles/<sha256>.zip` (content-addressed, written once,
+/// never changed; the SHA-256 is also in the row), or `bundles/<bundle
+/// id>.zip` for a bundle issued before bundles were content-addressed.
 pub fn bundle_key(file_name: &str) -> String {
     format!("bundles/{file_name}")
+}
+
+/// The file name of an issued bundle's ZIP whose SHA-256 is `sha256`.
+pub fn bundle_file_name(sha256: &str) -> String {
+    format!("{sha256}.zip")
 }
 
 /// The bundle's ZIP as written: where, and its SHA-256 and size.
@@ -289,12 +295,10 @@ fn write_bundle_file(
         (planned.zone, planned.tr),
     )?);
 
-    let file_name = format!("{}.zip", header.bundle_id);
-    let path = data_dir.join("bundles").join(&file_name);
-    let (sha, size) = write_zip(&path, &contents, extras)?;
+    let ((sha, size), path) = write_zip(&data_dir.join("bundles"), &contents, extras)?;
     Ok(WrittenFile {
         path,
-        file_name,
+        file_name: bundle_file_name(&sha),
         sha,
         size,
     })
@@ -612,11 +616,11 @@ fn field_sheet(
 
 /// Writes the bundle's ZIP durably at `path`; returns its SHA-256 and size.
 fn write_zip(
-    path: &std::path::Path,
+    dir: &std::path::Path,
     c: &ZipContents<'_>,
     extras: Vec<ExtraEntry>,
-) -> Result<(String, u64)> {
-    crate::platform::durable::write_durably(path, |f| {
+) -> Result<((String, u64), PathBuf)> {
+    crate::platform::durable::write_durably_named(dir, |f| {
         write_bundle(
             &mut *f,
             c.header,
@@ -629,7 +633,9 @@ fn write_zip(
             extras,
         )
         .map_err(|e| Error::Internal(format!("writing the bundle: {e}")))?;
-        sha256_and_size(f)
+        let (sha, size) = sha256_and_size(f)?;
+        let name = bundle_file_name(&sha).into();
+        Ok(((sha, size), name))
     })
 }
 

@@ -22,17 +22,33 @@ pub fn write_durably<T>(
     let dir = path
         .parent()
         .ok_or_else(|| Error::Invalid(format!("{} has no folder", path.display())))?;
+    let name = path
+        .file_name()
+        .ok_or_else(|| Error::Invalid(format!("{} has no file name", path.display())))?
+        .to_owned();
+    let (out, _) = write_durably_named(dir, |f| Ok((fill(f)?, name)))?;
+    Ok(out)
+}
+
+/// [`write_durably`] into folder `dir` under the file name `fill` gives
+/// after writing (a content address: the name is known only once the
+/// bytes are); the value of `fill` and the file's path.
+pub fn write_durably_named<T>(
+    dir: &Path,
+    fill: impl FnOnce(&mut std::fs::File) -> Result<(T, std::ffi::OsString)>,
+) -> Result<(T, std::path::PathBuf)> {
     std::fs::create_dir_all(dir)
         .map_err(|e| Error::io(format!("creating {}", dir.display()), e))?;
     let mut tmp = tempfile::NamedTempFile::new_in(dir)
         .map_err(|e| Error::io(format!("creating a temp file in {}", dir.display()), e))?;
-    let out = fill(tmp.as_file_mut())?;
+    let (out, name) = fill(tmp.as_file_mut())?;
+    let path = dir.join(name);
     tmp.as_file_mut()
         .flush()
         .and_then(|_| tmp.as_file().sync_all())
         .map_err(|e| Error::io(format!("syncing {}", path.display()), e))?;
-    tmp.persist(path)
+    tmp.persist(&path)
         .map_err(|e| Error::io(format!("renaming into {}", path.display()), e.error))?;
     sync_dir(dir)?;
-    Ok(out)
+    Ok((out, path))
 }

@@ -283,6 +283,7 @@ pub async fn download(
         .unwrap_or(crate::platform::auth::Identity::Anonymous);
     let state = state.into_inner();
     let data_dir = state.data_dir.clone();
+    let saved_as = format!("{id}.zip");
     let name = web::block(move || {
         let b = state
             .db
@@ -304,11 +305,12 @@ pub async fn download(
     .await??;
     let key = crate::planning::issue::bundle_key(&name);
     let (size, body) = crate::web::evidence_stream(&data_dir, &key).await?;
+    // Stored under its SHA-256; saved under the bundle's id.
     Ok(HttpResponse::Ok()
         .content_type("application/zip")
         .insert_header((
             "Content-Disposition",
-            format!("attachment; filename=\"{name}\""),
+            format!("attachment; filename=\"{saved_as}\""),
         ))
         .insert_header(("Cache-Control", "no-store"))
         .no_chunking(size)
