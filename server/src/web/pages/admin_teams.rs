@@ -5,7 +5,7 @@
 
 use super::admin::{self, Chrome};
 use super::common::{PageError, Viewer, local_unix, respond};
-use crate::error::Error;
+use crate::error::{Error, Fault};
 use crate::platform::admin as ops;
 use crate::platform::auth::now_unix;
 use crate::web::AppState;
@@ -178,7 +178,10 @@ pub async fn new_token(
         let out = web::block(move || {
             let team = db
                 .read(|r| r.team_state(id))?
-                .ok_or_else(|| Error::NotFound(format!("no team with id {id}")))?;
+                .ok_or_else(|| {
+                    let english = format!("no team with id {id}");
+                    Error::said(Fault::NotFound, "why-no-team", &[("id", &id)], english)
+                })?;
             let (rec, token) = ops::create_team_token(&db, &actor, &team.name, now_unix())?;
             Ok::<_, Error>(NewToken {
                 team: team.name,

@@ -55,8 +55,7 @@ pub struct TokenForm {
 impl TokenForm {
     /// The role and the name; a message names the field.
     fn checked(&self) -> Result<(Role, String), PageError> {
-        let role = Role::parse(self.role.as_deref().unwrap_or_default())
-            .map_err(|m| PageError::bad_request(format!("Role: {m}.")))?;
+        let role = admin::role(self.role.as_deref())?;
         Ok((role, self.label.clone().unwrap_or_default()))
     }
 }

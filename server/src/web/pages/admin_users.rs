@@ -94,17 +94,15 @@ pub async fn list(req: HttpRequest, state: web::Data<AppState>, q: admin::DoneAr
 }
 
 fn role_of(f: &UserForm) -> Result<Role, PageError> {
-    Role::parse(f.role.as_deref().unwrap_or_default())
-        .map_err(|m| PageError::bad_request(format!("Role: {m}.")))
+    admin::role(f.role.as_deref())
 }
 
 /// The new password, typed twice alike.
 fn password_of(f: &UserForm) -> Result<String, PageError> {
     let p = f.password.clone().unwrap_or_default();
     if f.password_again.as_deref() != Some(p.as_str()) {
-        return Err(PageError::bad_request(
-            "Password: the two passwords differ; type the same password twice.",
-        ));
+        let english = "Password: the two passwords differ; type the same password twice.";
+        return Err(PageError::said("why-passwords-differ", &[], english));
     }
     Ok(p)
 }
