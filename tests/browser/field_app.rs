@@ -36,9 +36,7 @@
 #[allow(dead_code)]
 mod webdriver;
 
-use groundproof_e2e::{
-    TestServer, issue_from_station, load_scenario, open_bundle_at, post_json,
-};
+use groundproof_e2e::{TestServer, issue_from_station, load_scenario, open_bundle_at, post_json};
 use groundproof_sync::field::distance_bearing;
 use mock_patrols::photos::{PhotoMetaIn, make_photo};
 use serde_json::{Value, json};
@@ -950,7 +948,8 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
 
     // Several trips stay apart: a second team's trip opens with its own
     // stops, none visited, and the first keeps its reports.
-    let (_, zip2) = issue_from_station(&s, json!({"team": "Team Basalt", "zone": "Core", "max": 3}));
+    let (_, zip2) =
+        issue_from_station(&s, json!({"team": "Team Basalt", "zone": "Core", "max": 3}));
     let bundle2 = open_bundle_at(&work.path().join("bundle2.zip"), &zip2);
     // This one by typing its pairing code (as read off the coordinator's
     // screen, in lower case).

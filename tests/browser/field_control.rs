@@ -263,7 +263,10 @@ fn field_app_shows_high_or_low_confidence_also_for_an_older_bundle() {
     };
     let s = TestServer::start();
     load_scenario(&s);
-    let (_, zip) = issue_from_station(&s, json!({"team": "Team Basalt", "zone": "Core", "max": 10}));
+    let (_, zip) = issue_from_station(
+        &s,
+        json!({"team": "Team Basalt", "zone": "Core", "max": 10}),
+    );
     let dir = tempfile::tempdir().expect("dir");
     let bundle = open_bundle_at(&dir.path().join("bundle.zip"), &zip);
     let station = mock_patrols::scenario().station;

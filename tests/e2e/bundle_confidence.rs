@@ -26,7 +26,10 @@ fn entry(zip: &[u8], name: &str) -> String {
 fn bundles_say_high_or_low_confidence_and_older_bundles_still_work() {
     let s = TestServer::start();
     load_scenario(&s);
-    let (_, zip) = issue_from_station(&s, json!({"team": "Team Basalt", "zone": "Core", "max": 10}));
+    let (_, zip) = issue_from_station(
+        &s,
+        json!({"team": "Team Basalt", "zone": "Core", "max": 10}),
+    );
 
     // The level beside the word, for every event.
     let fc: Value = serde_json::from_str(&entry(&zip, "events.geojson")).unwrap();

@@ -9,9 +9,7 @@ use crate::intake::{
     fast_push, issue_bundle, open_workspace, pack, post_zip, record_events, rfc, signed_zip,
 };
 use groundproof::platform::auth::{Role, issue_api_token, issue_team_token, now_unix};
-use groundproof_e2e::{
-    TestServer, bearer, get, get_as, load_scenario, post_json_as, request,
-};
+use groundproof_e2e::{TestServer, bearer, get, get_as, load_scenario, post_json_as, request};
 use groundproof_sync::field::push;
 use serde_json::{Value, json};
 use std::io::Read;

@@ -230,7 +230,6 @@ fn a_refused_form_and_a_bad_filter_speak_portuguese() {
         &[
             "Nada foi alterado",
             "root-admin é o único administrador ativo",
-            "Em conflito",
         ],
         &[
             "Nothing was changed",
@@ -245,24 +244,50 @@ fn a_refused_form_and_a_bad_filter_speak_portuguese() {
         post_form_pt(
             &s,
             "/admin/users",
-            &[("name", name), ("role", "manager"), ("password", p1), ("password_again", p2)],
+            &[
+                ("name", name),
+                ("role", "manager"),
+                ("password", p1),
+                ("password_again", p2),
+            ],
         )
     };
     let pw = "the field lead's password";
     for ((status, body), want, english) in [
-        (add("root-admin", pw, pw), "já existe um usuário", "already exists"),
-        (add("lead", "short", "short"), "a senha é curta demais: 5 caracteres", "too short"),
-        (add("lead", pw, "other"), "as duas senhas não são iguais", "passwords differ"),
+        (
+            add("root-admin", pw, pw),
+            "já existe um usuário",
+            "already exists",
+        ),
+        (
+            add("lead", "short", "short"),
+            "a senha é curta demais: 5 caracteres",
+            "too short",
+        ),
+        (
+            add("lead", pw, "other"),
+            "as duas senhas não são iguais",
+            "passwords differ",
+        ),
     ] {
         assert!(status == 400 || status == 409, "{status}: {body}");
-        has("/admin/users", &body, &[want, "Nada foi alterado"], &[english, "Nothing was changed"]);
+        has(
+            "/admin/users",
+            &body,
+            &[want, "Nada foi alterado"],
+            &[english, "Nothing was changed"],
+        );
     }
     // A source form with a word for a number, and one with a pixel size out
     // of range (alerts::sources), each names its field in Portuguese.
     let (status, body) = post_form_pt(
         &s,
         "/admin/sources",
-        &[("name", "optical-10m"), ("pixel_size_m", "ten"), ("revisit_days", "5")],
+        &[
+            ("name", "optical-10m"),
+            ("pixel_size_m", "ten"),
+            ("revisit_days", "5"),
+        ],
     );
     assert_eq!(status, 400, "{body}");
     has(
@@ -274,7 +299,11 @@ fn a_refused_form_and_a_bad_filter_speak_portuguese() {
     let (status, body) = post_form_pt(
         &s,
         "/admin/sources",
-        &[("name", "optical-10m"), ("pixel_size_m", "0"), ("revisit_days", "5")],
+        &[
+            ("name", "optical-10m"),
+            ("pixel_size_m", "0"),
+            ("revisit_days", "5"),
+        ],
     );
     assert_eq!(status, 400, "{body}");
     has(
@@ -303,8 +332,16 @@ fn a_refused_form_and_a_bad_filter_speak_portuguese() {
             "&#39;lots&#39; não é um número válido",
             "is not a valid number",
         ),
-        ("/events?status=lost", "&#39;lost&#39; não é uma situação de evento", "is not a status"),
-        ("/trips?state=lost", "&#39;lost&#39; não é uma situação de viagem", "is not a trip state"),
+        (
+            "/events?status=lost",
+            "&#39;lost&#39; não é uma situação de evento",
+            "is not a status",
+        ),
+        (
+            "/trips?state=lost",
+            "&#39;lost&#39; não é uma situação de viagem",
+            "is not a trip state",
+        ),
         (
             "/dashboard?to=soon",
             "&#39;soon&#39; não é uma data",
@@ -313,6 +350,11 @@ fn a_refused_form_and_a_bad_filter_speak_portuguese() {
     ] {
         let r = page_in(&s, path, Some("pt"));
         assert_eq!(r.status, 400, "{path}: {}", r.body);
-        has(path, &r.body, &[want, "Pedido inválido"], &[english, "Bad Request"]);
+        has(
+            path,
+            &r.body,
+            &[want, "Pedido inválido"],
+            &[english, "Bad Request"],
+        );
     }
 }

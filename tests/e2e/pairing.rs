@@ -5,8 +5,7 @@
 //! bundle.
 
 use groundproof_e2e::{
-    TestServer, bearer, get_as, issue_from_station, load_scenario, post_json, post_json_as,
-    request,
+    TestServer, bearer, get_as, issue_from_station, load_scenario, post_json, post_json_as, request,
 };
 use serde_json::{Value, json};
 
@@ -20,7 +19,12 @@ struct Redeemed {
 fn redeem(s: &TestServer, code: &str) -> Redeemed {
     let body = json!({ "code": code }).to_string();
     let headers = [("Content-Type", "application/json")];
-    let a = request("POST", &s.url("/api/v1/pairings/redeem"), &headers, body.as_bytes());
+    let a = request(
+        "POST",
+        &s.url("/api/v1/pairings/redeem"),
+        &headers,
+        body.as_bytes(),
+    );
     Redeemed {
         status: a.status,
         token: a.header("groundproof-team-token").map(str::to_string),
@@ -212,6 +216,11 @@ fn a_phones_credential_reaches_only_its_bundle() {
 /// GET with a bearer token: (status, body bytes).
 fn get_bytes_as(s: &TestServer, path: &str, token: &str) -> (u16, Vec<u8>) {
     let auth = bearer(token);
-    let a = request("GET", &s.url(path), &[("Authorization", auth.as_str())], b"");
+    let a = request(
+        "GET",
+        &s.url(path),
+        &[("Authorization", auth.as_str())],
+        b"",
+    );
     (a.status, a.body)
 }

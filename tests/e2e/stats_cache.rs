@@ -91,12 +91,16 @@ fn kept_statistics_follow_every_kind_of_write() {
     // Asked twice on the same facts: the same answer.
     served_equals_fresh(&s, "asked again");
 
-    let (_, bytes) = issue_from_station(&s, json!({"team": "Team Amber", "zone": "Core", "max": 8}));
+    let (_, bytes) =
+        issue_from_station(&s, json!({"team": "Team Amber", "zone": "Core", "max": 8}));
     served_equals_fresh(&s, "after a trip was issued");
 
     let work = tempfile::tempdir().expect("temp dir");
     let before = visited(&s);
-    for (i, zip) in disputed_trip_returns(&bytes, work.path()).iter().enumerate() {
+    for (i, zip) in disputed_trip_returns(&bytes, work.path())
+        .iter()
+        .enumerate()
+    {
         let r = post_bytes(&s.url("/api/v1/returns"), "application/zip", zip);
         assert!(r.status == 200 || r.status == 201, "{}", r.body);
         served_equals_fresh(&s, &format!("after return {}", i + 1));

@@ -42,7 +42,8 @@ fn push_sends_a_return_over_https_to_a_station_ca() {
     let handle = rx.recv().expect("server started");
 
     // A trip with one report, recorded with the command-line kit.
-    let (_, bundle) = issue_from_station(&s, json!({"team": "Team Amber", "zone": "Core", "max": 2}));
+    let (_, bundle) =
+        issue_from_station(&s, json!({"team": "Team Amber", "zone": "Core", "max": 2}));
     let ws = crate::intake::open_workspace(tmp.path(), "ws", &bundle);
     let w = ws.to_str().expect("path");
     let e = Snapshot::load(&ws).expect("snapshot").events[0].clone();

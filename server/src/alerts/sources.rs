@@ -23,7 +23,12 @@ pub fn add_source(
     now: i64,
 ) -> Result<Source> {
     let name = SourceName::parse(name).map_err(|m| {
-        Error::said(Fault::Invalid, "why-source-name", &[("name", &name.trim())], m)
+        Error::said(
+            Fault::Invalid,
+            "why-source-name",
+            &[("name", &name.trim())],
+            m,
+        )
     })?;
     super::events::validate_source(pixel_size_m, revisit_days)?;
     db.write(|tx| {

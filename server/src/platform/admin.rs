@@ -89,12 +89,10 @@ pub fn add_user(
 }
 
 fn user(tx: &Tx<'_>, user_id: i64) -> Result<User> {
-    tx.reader()
-        .user_by_id(user_id)?
-        .ok_or_else(|| {
-            let english = format!("no user with id {user_id}");
-            Error::said(Fault::NotFound, "why-no-user", &[("id", &user_id)], english)
-        })
+    tx.reader().user_by_id(user_id)?.ok_or_else(|| {
+        let english = format!("no user with id {user_id}");
+        Error::said(Fault::NotFound, "why-no-user", &[("id", &user_id)], english)
+    })
 }
 
 /// Refuse when `u` is the only enabled admin (our lock-out guard); `disabling`
@@ -119,7 +117,12 @@ fn keep_one_admin(tx: &Tx<'_>, u: &User, disabling: bool) -> Result<()> {
             "{} is the only enabled admin: {what} would leave nobody to manage users; make another admin first",
             u.name
         );
-        return Err(Error::said(Fault::Conflict, id, &[("name", &u.name)], english));
+        return Err(Error::said(
+            Fault::Conflict,
+            id,
+            &[("name", &u.name)],
+            english,
+        ));
     }
     Ok(())
 }
@@ -131,7 +134,12 @@ pub fn set_role(db: &Db, actor: &Actor, user_id: i64, role: Role, now: i64) -> R
         if u.role == role {
             let english = format!("{} already has the role {role}", u.name);
             let args: [(&str, &dyn std::fmt::Display); 2] = [("name", &u.name), ("role", &role)];
-            return Err(Error::said(Fault::Conflict, "why-same-role", &args, english));
+            return Err(Error::said(
+                Fault::Conflict,
+                "why-same-role",
+                &args,
+                english,
+            ));
         }
         if role != Role::Admin {
             keep_one_admin(tx, &u, false)?;
@@ -192,7 +200,12 @@ pub fn set_user_disabled(
                 ("why-user-already-enabled", "enabled")
             };
             let english = format!("{} is already {state}", u.name);
-            return Err(Error::said(Fault::Conflict, id, &[("name", &u.name)], english));
+            return Err(Error::said(
+                Fault::Conflict,
+                id,
+                &[("name", &u.name)],
+                english,
+            ));
         }
         if disabled {
             keep_one_admin(tx, &u, true)?;
@@ -210,8 +223,14 @@ pub fn set_user_disabled(
 
 /// Add a field team.
 pub fn add_team(db: &Db, actor: &Actor, name: &str, now: i64) -> Result<TeamState> {
-    let name = TeamName::parse(name)
-        .map_err(|m| Error::said(Fault::Invalid, "why-team-name", &[("name", &name.trim())], m))?;
+    let name = TeamName::parse(name).map_err(|m| {
+        Error::said(
+            Fault::Invalid,
+            "why-team-name",
+            &[("name", &name.trim())],
+            m,
+        )
+    })?;
     db.write(|tx| {
         let t = tx
             .add_team(name.as_str())
@@ -242,13 +261,10 @@ pub fn set_team_disabled(
     now: i64,
 ) -> Result<TeamState> {
     db.write(|tx| {
-        let t = tx
-            .reader()
-            .team_state(team_id)?
-            .ok_or_else(|| {
-                let english = format!("no team with id {team_id}");
-                Error::said(Fault::NotFound, "why-no-team", &[("id", &team_id)], english)
-            })?;
+        let t = tx.reader().team_state(team_id)?.ok_or_else(|| {
+            let english = format!("no team with id {team_id}");
+            Error::said(Fault::NotFound, "why-no-team", &[("id", &team_id)], english)
+        })?;
         if !tx.set_team_disabled(team_id, disabled.then_some(now))? {
             let (id, state) = if disabled {
                 ("why-team-already-disabled", "disabled")
@@ -256,7 +272,12 @@ pub fn set_team_disabled(
                 ("why-team-already-active", "active")
             };
             let english = format!("team {} is already {state}", t.name);
-            return Err(Error::said(Fault::Conflict, id, &[("name", &t.name)], english));
+            return Err(Error::said(
+                Fault::Conflict,
+                id,
+                &[("name", &t.name)],
+                english,
+            ));
         }
         let subject = format!("team {}", t.name);
         if disabled {
@@ -284,20 +305,27 @@ pub fn create_team_token(
     let token = auth::new_team_token()?;
     let hash = auth::sha256_hex(&token);
     let rec = db.write_bookkeeping(|tx| {
-        let t = tx
-            .reader()
-            .team_state_by_name(team_name)?
-            .ok_or_else(|| {
-                let english = format!("unknown team '{team_name}': add it first");
-                Error::said(Fault::NotFound, "why-unknown-team", &[("name", &team_name)], english)
-            })?;
+        let t = tx.reader().team_state_by_name(team_name)?.ok_or_else(|| {
+            let english = format!("unknown team '{team_name}': add it first");
+            Error::said(
+                Fault::NotFound,
+                "why-unknown-team",
+                &[("name", &team_name)],
+                english,
+            )
+        })?;
         if t.disabled_at.is_some() {
             let english = format!(
                 "team {} is disabled: enable it before giving it a token",
                 t.name
             );
             let args: [(&str, &dyn std::fmt::Display); 1] = [("name", &t.name)];
-            return Err(Error::said(Fault::Conflict, "why-team-disabled", &args, english));
+            return Err(Error::said(
+                Fault::Conflict,
+                "why-team-disabled",
+                &args,
+                english,
+            ));
         }
         let rec = tx.insert_team_token(&hash, &t.name, now)?;
         let detail = format!("token {} created", rec.id);
@@ -324,13 +352,23 @@ pub fn revoke_team_token(db: &Db, actor: &Actor, token_id: i64, now: i64) -> Res
             .find(|t| t.id == token_id)
             .ok_or_else(|| {
                 let english = format!("no team token with id {token_id}");
-                Error::said(Fault::NotFound, "why-no-team-token", &[("id", &token_id)], english)
+                Error::said(
+                    Fault::NotFound,
+                    "why-no-team-token",
+                    &[("id", &token_id)],
+                    english,
+                )
             })?
             .team_name;
         if !tx.revoke_team_token(token_id, now)? {
             let english = format!("token {token_id} is already revoked");
             let args: [(&str, &dyn std::fmt::Display); 1] = [("id", &token_id)];
-            return Err(Error::said(Fault::Conflict, "why-token-revoked", &args, english));
+            return Err(Error::said(
+                Fault::Conflict,
+                "why-token-revoked",
+                &args,
+                english,
+            ));
         }
         let detail = format!("token {token_id} revoked");
         log(
@@ -388,12 +426,22 @@ pub fn revoke_api_token(db: &Db, actor: &Actor, token_id: i64, now: i64) -> Resu
             .find(|t| t.id == token_id)
             .ok_or_else(|| {
                 let english = format!("no API token with id {token_id}");
-                Error::said(Fault::NotFound, "why-no-api-token", &[("id", &token_id)], english)
+                Error::said(
+                    Fault::NotFound,
+                    "why-no-api-token",
+                    &[("id", &token_id)],
+                    english,
+                )
             })?;
         if !tx.revoke_api_token(token_id, now)? {
             let english = format!("API token {token_id} is already revoked");
             let args: [(&str, &dyn std::fmt::Display); 1] = [("id", &token_id)];
-            return Err(Error::said(Fault::Conflict, "why-api-token-revoked", &args, english));
+            return Err(Error::said(
+                Fault::Conflict,
+                "why-api-token-revoked",
+                &args,
+                english,
+            ));
         }
         let subject = format!("API token {token_id} ({})", rec.label);
         log(tx, actor, now, "apitoken.revoke", &subject, "revoked")?;
@@ -420,7 +468,12 @@ pub fn change_settings(
         let lines = settings_diff(old, new)?;
         if lines.is_empty() {
             let english = "nothing changed: every value is the one in force";
-            return Err(Error::said(Fault::Conflict, "why-settings-same", &[], english));
+            return Err(Error::said(
+                Fault::Conflict,
+                "why-settings-same",
+                &[],
+                english,
+            ));
         }
         db.write_bookkeeping(|tx| {
             log(
@@ -628,7 +681,11 @@ mod tests {
                 said.args.iter().map(|(k, v)| (*k, v as &dyn Arg)).collect();
             assert_eq!(en.tn(said.id, &vars), e.to_string(), "{}", said.id);
             let words = pt.tn(said.id, &vars);
-            assert!(words != said.id && words != e.to_string(), "{}: {words}", said.id);
+            assert!(
+                words != said.id && words != e.to_string(),
+                "{}: {words}",
+                said.id
+            );
         }
     }
 }

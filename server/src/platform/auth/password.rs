@@ -49,14 +49,24 @@ pub fn check_password_policy(password: &str) -> Result<()> {
             "the password is too short: {n} characters, at least {MIN_PASSWORD_CHARS} are needed"
         );
         let args: [(&str, &dyn std::fmt::Display); 2] = [("n", &n), ("min", &MIN_PASSWORD_CHARS)];
-        return Err(Error::said(Fault::Invalid, "why-password-short", &args, english));
+        return Err(Error::said(
+            Fault::Invalid,
+            "why-password-short",
+            &args,
+            english,
+        ));
     }
     if n > MAX_PASSWORD_CHARS {
         let english = format!(
             "the password is too long: {n} characters, at most {MAX_PASSWORD_CHARS} are allowed"
         );
         let args: [(&str, &dyn std::fmt::Display); 2] = [("n", &n), ("max", &MAX_PASSWORD_CHARS)];
-        return Err(Error::said(Fault::Invalid, "why-password-long", &args, english));
+        return Err(Error::said(
+            Fault::Invalid,
+            "why-password-long",
+            &args,
+            english,
+        ));
     }
     Ok(())
 }

@@ -9,7 +9,7 @@
 //! page with the reason and changes nothing; a saved one redirects (303) to
 //! its page with `?done=1`, which shows the newest log row of this admin.
 
-use super::common::{Layout, PageError, Viewer, respond, see_other};
+use super::common::{Field, Layout, PageError, Viewer, respond, see_other};
 use crate::error::Error;
 use crate::platform::admin::Actor;
 use crate::platform::auth::{Identity, now_unix};
@@ -275,11 +275,37 @@ pub async fn log(
     super::common::respond(&req, &viewer, r)
 }
 
+/// What a path id names, for [`path_id`]'s message.
+pub const USER: Field<'static> = Field {
+    id: "why-what-user",
+    english: "user",
+};
+pub const TEAM: Field<'static> = Field {
+    id: "why-what-team",
+    english: "team",
+};
+pub const TEAM_TOKEN: Field<'static> = Field {
+    id: "why-what-token",
+    english: "token",
+};
+pub const API_TOKEN: Field<'static> = Field {
+    id: "why-what-api-token",
+    english: "API token",
+};
+pub const SOURCE: Field<'static> = Field {
+    id: "why-what-source",
+    english: "source",
+};
+
 /// A path id that must be a number; the message names what it is.
-pub fn path_id(raw: &str, what: &str) -> Result<i64, PageError> {
+pub fn path_id(raw: &str, what: Field<'_>) -> Result<i64, PageError> {
     raw.parse().map_err(|_| {
-        PageError::bad_request(format!("{what} id '{raw}' is not a number"))
-            .worded("why-bad-id", &[("value", &raw)])
+        let english = format!("{} id '{raw}' is not a number", what.english);
+        PageError::said(
+            "why-bad-id",
+            &[("field", &what.id), ("value", &raw)],
+            english,
+        )
     })
 }
 

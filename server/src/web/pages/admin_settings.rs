@@ -57,21 +57,30 @@ impl SettingsForm {
         // (label's message id, English label), value.
         let num = |(id, label): (&str, &str), v: &str| -> Result<f64, Error> {
             let t = v.trim();
-            t.parse::<f64>().ok().filter(|x| x.is_finite()).ok_or_else(|| {
-                let english = format!("{label}: '{t}' is not a number");
-                let args: [(&str, &dyn std::fmt::Display); 2] = [("field", &id), ("value", &t)];
-                Error::said(Fault::Invalid, "why-not-number", &args, english)
-            })
+            t.parse::<f64>()
+                .ok()
+                .filter(|x| x.is_finite())
+                .ok_or_else(|| {
+                    let english = format!("{label}: '{t}' is not a number");
+                    let args: [(&str, &dyn std::fmt::Display); 2] = [("field", &id), ("value", &t)];
+                    Error::said(Fault::Invalid, "why-not-number", &args, english)
+                })
         };
         let p = &mut s.priority;
         p.area = num(("adm-w-area", "Weight of area"), &self.area)?;
         p.recency = num(("adm-w-recency", "Weight of recency"), &self.recency)?;
         let corroboration = ("adm-w-corroboration", "Weight of corroboration");
         p.corroboration = num(corroboration, &self.corroboration)?;
-        p.confidence = num(("adm-w-confidence", "Weight of confidence"), &self.confidence)?;
+        p.confidence = num(
+            ("adm-w-confidence", "Weight of confidence"),
+            &self.confidence,
+        )?;
         p.zone = num(("adm-w-zone", "Weight of priority zone"), &self.zone)?;
         p.area_ref_ha = num(("adm-area-ref", "Reference area (ha)"), &self.area_ref_ha)?;
-        p.recency_days = num(("adm-recency-days", "Recency time (days)"), &self.recency_days)?;
+        p.recency_days = num(
+            ("adm-recency-days", "Recency time (days)"),
+            &self.recency_days,
+        )?;
         let tolerance = ("adm-tolerance", "Evidence tolerance (m)");
         s.evidence.tolerance_m = num(tolerance, &self.tolerance_m)?;
         s.organisation.time_zone = self.time_zone.trim().to_string();

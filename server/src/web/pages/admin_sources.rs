@@ -40,7 +40,10 @@ pub struct SourceForm {
 impl SourceForm {
     /// The two numbers; a message names the field and the value.
     fn numbers(&self) -> Result<(f64, i64), PageError> {
-        let pixel = number::<f64>(field("adm-pixel-size", "Pixel size (m)"), &self.pixel_size_m)?;
+        let pixel = number::<f64>(
+            field("adm-pixel-size", "Pixel size (m)"),
+            &self.pixel_size_m,
+        )?;
         let revisit = number::<i64>(
             field("adm-revisit", "Revisit interval (days)"),
             &self.revisit_days,
@@ -147,7 +150,7 @@ pub async fn edit(
     path: web::Path<String>,
     form: Result<web::Form<SourceForm>, actix_web::Error>,
 ) -> HttpResponse {
-    let checked = admin::path_id(&path, "source").and_then(|id| {
+    let checked = admin::path_id(&path, admin::SOURCE).and_then(|id| {
         let (p, r) = form.map_err(admin::unreadable)?.numbers()?;
         Ok((id, p, r))
     });

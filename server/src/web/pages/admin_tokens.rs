@@ -151,7 +151,7 @@ pub async fn revoke(
     let change = move |a: &ops::Actor, id, now| -> Result<(), Error> {
         ops::revoke_api_token(&db, a, id, now).map(drop)
     };
-    let checked = admin::path_id(&path, "API token");
+    let checked = admin::path_id(&path, admin::API_TOKEN);
     let page = |e| async {
         let (req, state) = (&req, &state);
         tokens_page(req, state, false, Some(e), None, TokenForm::default()).await

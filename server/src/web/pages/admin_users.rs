@@ -157,7 +157,7 @@ pub async fn set_role(
     path: web::Path<String>,
     form: Result<web::Form<UserForm>, actix_web::Error>,
 ) -> HttpResponse {
-    let checked = admin::path_id(&path, "user")
+    let checked = admin::path_id(&path, admin::USER)
         .and_then(|id| Ok((id, role_of(&*form.map_err(admin::unreadable)?)?)));
     let db = state.db.clone();
     let change =
@@ -172,7 +172,7 @@ pub async fn reset_password(
     path: web::Path<String>,
     form: Result<web::Form<UserForm>, actix_web::Error>,
 ) -> HttpResponse {
-    let checked = admin::path_id(&path, "user")
+    let checked = admin::path_id(&path, admin::USER)
         .and_then(|id| Ok((id, password_of(&*form.map_err(admin::unreadable)?)?)));
     let db = state.db.clone();
     let change = move |a: &ops::Actor, (id, pw): (i64, String), now| {
@@ -208,6 +208,6 @@ async fn set_disabled(
     let db = state.db.clone();
     let change =
         move |a: &ops::Actor, id, now| ops::set_user_disabled(&db, a, id, off, now).map(drop);
-    let checked = admin::path_id(raw, "user");
+    let checked = admin::path_id(raw, admin::USER);
     apply(req, state, UserForm::default(), checked, change).await
 }

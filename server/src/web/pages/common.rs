@@ -222,7 +222,10 @@ pub struct Field<'a> {
 impl<'a> From<&'a str> for Field<'a> {
     /// A field known only by its English label.
     fn from(english: &'a str) -> Field<'a> {
-        Field { id: english, english }
+        Field {
+            id: english,
+            english,
+        }
     }
 }
 
@@ -236,7 +239,11 @@ pub fn opt_number<'a, T: std::str::FromStr>(
         None => Ok(None),
         Some(s) => s.parse::<T>().map(Some).map_err(|_| {
             let english = format!("{}: '{s}' is not a valid number", f.english);
-            PageError::said("why-not-number", &[("field", &f.id), ("value", &s)], english)
+            PageError::said(
+                "why-not-number",
+                &[("field", &f.id), ("value", &s)],
+                english,
+            )
         }),
     }
 }

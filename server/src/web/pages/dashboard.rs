@@ -785,8 +785,20 @@ async fn dashboard_page(
     q: DashboardQuery,
 ) -> Result<HttpResponse, PageError> {
     let filter = StatsFilter {
-        from: opt_day(Field { id: "dash-from", english: "From" }, &q.from)?,
-        to: opt_day(Field { id: "dash-to", english: "To" }, &q.to)?,
+        from: opt_day(
+            Field {
+                id: "dash-from",
+                english: "From",
+            },
+            &q.from,
+        )?,
+        to: opt_day(
+            Field {
+                id: "dash-to",
+                english: "To",
+            },
+            &q.to,
+        )?,
         zone: non_empty(&q.zone),
         team: non_empty(&q.team),
         source: non_empty(&q.source),

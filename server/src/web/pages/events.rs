@@ -187,8 +187,20 @@ const MIN_AREA: Field<'static> = Field {
 fn list_filter(q: &EventsQuery) -> Result<(EventFilter, Option<EventStatus>), PageError> {
     let filter = EventFilter {
         zone: non_empty(&q.zone),
-        from: opt_day(Field { id: "trips-from", english: "From" }, &q.from)?,
-        to: opt_day(Field { id: "trips-to", english: "To" }, &q.to)?,
+        from: opt_day(
+            Field {
+                id: "trips-from",
+                english: "From",
+            },
+            &q.from,
+        )?,
+        to: opt_day(
+            Field {
+                id: "trips-to",
+                english: "To",
+            },
+            &q.to,
+        )?,
         source: non_empty(&q.source),
         min_area_ha: opt_number::<f64>(MIN_AREA, &q.min_area_ha)?,
         limit: None,
@@ -203,13 +215,10 @@ fn list_filter(q: &EventsQuery) -> Result<(EventFilter, Option<EventStatus>), Pa
     }
     let status = match non_empty(&q.status) {
         None => None,
-        Some(s) => Some(
-            EventStatus::parse(&s)
-                .ok_or_else(|| {
-                    let e = PageError::bad_request(format!("Status: '{s}' is not a status"));
-                    e.worded("why-status", &[("value", &s)])
-                })?,
-        ),
+        Some(s) => Some(EventStatus::parse(&s).ok_or_else(|| {
+            let e = PageError::bad_request(format!("Status: '{s}' is not a status"));
+            e.worded("why-status", &[("value", &s)])
+        })?),
     };
     Ok((filter, status))
 }

@@ -4,9 +4,7 @@
 //! (`templates/pages/summary.html` holds the print CSS). The same figures
 //! as the dashboard ([`super::dashboard`]), computed the same way.
 
-use super::common::{
-    Field, Layout, PageError, Viewer, non_empty, opt_day, page, percent, respond,
-};
+use super::common::{Field, Layout, PageError, Viewer, non_empty, opt_day, page, percent, respond};
 use super::dashboard::{
     Numbers, Trends, km_chart, monthly_chart, numbers, team_rows, translated_layout, trend_charts,
 };
@@ -89,8 +87,20 @@ async fn summary_page(
     q: SummaryQuery,
 ) -> Result<HttpResponse, PageError> {
     let filter = StatsFilter {
-        from: opt_day(Field { id: "dash-from", english: "From" }, &q.from)?,
-        to: opt_day(Field { id: "dash-to", english: "To" }, &q.to)?,
+        from: opt_day(
+            Field {
+                id: "dash-from",
+                english: "From",
+            },
+            &q.from,
+        )?,
+        to: opt_day(
+            Field {
+                id: "dash-to",
+                english: "To",
+            },
+            &q.to,
+        )?,
         zone: non_empty(&q.zone),
         team: None,
         source: None,

@@ -279,9 +279,7 @@ pub async fn list(
 ) -> HttpResponse {
     let viewer = Viewer::of(&req);
     let r = async {
-        let q = q
-            .map_err(super::common::bad_filter)?
-            .into_inner();
+        let q = q.map_err(super::common::bad_filter)?.into_inner();
         trips_page(&req, &state, &viewer, IssueForm::default(), None, q).await
     }
     .await;
