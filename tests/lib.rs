@@ -506,3 +506,141 @@ pub fn without_confidence_level(bundle: &[u8]) -> Vec<u8> {
     }
     out.finish().expect("finish").into_inner()
 }
+
+/// A whole answer to [`request`]: status, headers and body bytes.
+pub struct Answer {
+    pub status: u16,
+    pub headers: ureq::http::HeaderMap,
+    pub body: Vec<u8>,
+}
+
+impl Answer {
+    /// A header's value, when it is there and is text.
+    pub fn header(&self, name: &str) -> Option<&str> {
+        self.headers.get(name).and_then(|v| v.to_str().ok())
+    }
+
+    /// The body as text (lossy).
+    pub fn text(&self) -> String {
+        String::from_utf8_lossy(&self.body).into_owned()
+    }
+}
+
+/// One request with exactly the headers given (no credentials unless one of
+/// them is), its body read whole (up to 1 GiB); redirects are not followed.
+pub fn request(method: &str, url: &str, headers: &[(&str, &str)], body: &[u8]) -> Answer {
+    let agent: ureq::Agent = ureq::Agent::config_builder()
+        .http_status_as_error(false)
+        .max_redirects(0)
+        .timeout_global(Some(std::time::Duration::from_secs(30)))
+        .build()
+        .into();
+    let req = ureq::http::Request::builder().method(method).uri(url);
+    let req = headers.iter().fold(req, |r, (k, v)| r.header(*k, *v));
+    let mut resp = agent
+        .run(req.body(body.to_vec()).expect("a request"))
+        .expect("request reaches the server");
+    let bytes = resp
+        .body_mut()
+        .with_config()
+        .limit(1 << 30)
+        .read_to_vec()
+        .unwrap_or_default();
+    Answer {
+        status: resp.status().as_u16(),
+        headers: resp.headers().clone(),
+        body: bytes,
+    }
+}
+
+/// `Bearer TOKEN`, for an `Authorization` header.
+pub fn bearer(token: &str) -> String {
+    format!("Bearer {token}")
+}
+
+/// A page of `s` as its admin token, in `lang` (`None`: no
+/// `Accept-Language`): status and body text.
+pub fn page_in(s: &TestServer, path: &str, lang: Option<&str>) -> Reply {
+    let auth = bearer(&admin_token(s));
+    let mut headers = vec![("Authorization", auth.as_str())];
+    if let Some(l) = lang {
+        headers.push(("Accept-Language", l));
+    }
+    let a = request("GET", &s.url(path), &headers, b"");
+    Reply {
+        status: a.status,
+        body: a.text(),
+    }
+}
+
+/// An `application/x-www-form-urlencoded` body of these fields (given
+/// unencoded; RFC 3986 unreserved characters stay as they are).
+pub fn form_body<K: AsRef<str>, V: AsRef<str>>(fields: &[(K, V)]) -> String {
+    let enc = |s: &str| -> String {
+        s.bytes()
+            .map(|b| match b {
+                b'A'..=b'Z' | b'a'..=b'z' | b'0'..=b'9' | b'-' | b'.' | b'_' | b'~' => {
+                    (b as char).to_string()
+                }
+                _ => format!("%{b:02X}"),
+            })
+            .collect()
+    };
+    fields
+        .iter()
+        .map(|(k, v)| format!("{}={}", enc(k.as_ref()), enc(v.as_ref())))
+        .collect::<Vec<_>>()
+        .join("&")
+}
+
+/// A trip issued through `POST /api/v1/bundles` as the admin, starting at
+/// the scenario's station: `fields` are the request's other fields (team,
+/// zone, max, mode, …). The bundle's id and the ZIP as downloaded.
+pub fn issue_from_station(s: &TestServer, fields: serde_json::Value) -> (String, Vec<u8>) {
+    let station = mock_patrols::scenario().station;
+    let mut body = fields;
+    body["start"] = serde_json::json!({"lat": station.1, "lon": station.0});
+    let r = post_json(&s.url("/api/v1/bundles"), &body);
+    assert_eq!(r.status, 201, "{}", r.body);
+    let j = r.json();
+    let id = j["bundle"]["bundle"]["id"]
+        .as_str()
+        .expect("a bundle id")
+        .to_string();
+    let (status, zip) = get_bytes(&s.url(j["download"].as_str().expect("a download link")));
+    assert_eq!(status, 200);
+    (id, zip)
+}
+
+/// `zip` saved at `path` and opened as the field kit opens it.
+pub fn open_bundle_at(path: &Path, zip: &[u8]) -> groundproof_sync::bundle::OpenedBundle {
+    std::fs::write(path, zip).expect("bundle saved");
+    groundproof_sync::bundle::open_bundle(path, chrono::Utc::now()).expect("the bundle opens")
+}
+
+/// Run a `groundproof-field` command (the words after the program name);
+/// it must succeed.
+pub fn field_kit(args: &[&str]) {
+    let mut all = vec!["groundproof-field"];
+    all.extend_from_slice(args);
+    let code = groundproof_sync::field::run(all.clone()).expect("field command runs");
+    assert_eq!(code, std::process::ExitCode::SUCCESS, "{all:?}");
+}
+
+/// The field kit plays the trip of bundle `zip` in `dir` (seed 11), two of
+/// whose reports disagree on one event (a dispute): the returns' ZIPs, in
+/// the order they are sent.
+pub fn disputed_trip_returns(zip: &[u8], dir: &Path) -> Vec<Vec<u8>> {
+    let bundle = dir.join("bundle.zip");
+    std::fs::write(&bundle, zip).expect("bundle written");
+    let plan = mock_patrols::field::TripPlan {
+        disputed_pair: true,
+        ..Default::default()
+    };
+    let trip = mock_patrols::field::make_trip_return(&bundle, &dir.join("field"), &plan, 11)
+        .expect("the field kit records the trip");
+    trip.returns
+        .iter()
+        .map(|r| std::fs::read(&r.zip).expect("return read"))
+        .collect()
+}

@@ -698,7 +698,8 @@ fn token(command: TokenCommand) -> Result<()> {
                 (None, Some(t)) => {
                     admin::create_team_token(&db, &Actor::CommandLine, &t, now)
                         .map_err(|e| match e {
-                            Error::NotFound(_) => {
+                            Error::NotFound(_)
+                            | Error::Said(groundproof::error::Fault::NotFound, _) => {
                                 anyhow::anyhow!(
                                     "unknown team '{t}': add it first (groundproof team add)"
                                 )

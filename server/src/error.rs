@@ -67,6 +67,12 @@ pub enum Error {
     /// PostgreSQL's error, when the database is PostgreSQL (`--database postgres://…`).
     #[error("database (PostgreSQL): {}", postgres_message(.0))]
     Postgres(#[from] postgres::Error),
+    /// A client fault whose sentence the pages translate: `Fault` says
+    /// whose fault it is (and so its status), [`Said`] carries the message
+    /// id and its variables beside the English text, which is what the
+    /// command line and the JSON API show.
+    #[error("{}", .1.english)]
+    Said(Fault, Box<Said>),
     #[error("{context}: {source}")]
     Io {
         context: String,
@@ -87,7 +93,67 @@ fn postgres_message(e: &postgres::Error) -> String {
     }
 }
 
+/// The kind of client fault an [`Error::Said`] is (the same statuses as
+/// [`Error::Invalid`], [`Error::NotFound`] and [`Error::Conflict`]).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Fault {
+    Invalid,
+    NotFound,
+    Conflict,
+}
+
+/// A refusal's sentence as a message of the page catalogues
+/// (`templates/i18n/<lang>/pages.ftl`, ids `why-*`): a stable id and its
+/// variables (as text), beside the same sentence in English. The English
+/// catalogue says what `english` says.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Said {
+    pub id: &'static str,
+    pub args: Vec<(&'static str, String)>,
+    pub english: String,
+}
+
 impl Error {
+    /// A client fault with its message id: `args` are the id's variables,
+    /// `english` the sentence the command line and the API show.
+    pub fn said(
+        fault: Fault,
+        id: &'static str,
+        args: &[(&'static str, &dyn fmt::Display)],
+        english: impl Into<String>,
+    ) -> Error {
+        let args = args.iter().map(|(k, v)| (*k, v.to_string())).collect();
+        Error::Said(
+            fault,
+            Box::new(Said {
+                id,
+                args,
+                english: english.into(),
+            }),
+        )
+    }
+
+    /// This error with a message id when it is a client fault of the three
+    /// kinds without one (its English text kept as it is); any other error
+    /// unchanged. For messages made below `platform` (storage, `domain`).
+    pub fn worded(self, id: &'static str, args: &[(&'static str, &dyn fmt::Display)]) -> Error {
+        let (fault, english) = match self {
+            Error::Invalid(m) => (Fault::Invalid, m),
+            Error::NotFound(m) => (Fault::NotFound, m),
+            Error::Conflict(m) => (Fault::Conflict, m),
+            other => return other,
+        };
+        Error::said(fault, id, args, english)
+    }
+
+    /// The message id of a refusal that has one.
+    pub fn words(&self) -> Option<&Said> {
+        match self {
+            Error::Said(_, s) => Some(s),
+            _ => None,
+        }
+    }
+
     /// A refusal of a return package that is replayed to a later `complete`
     /// of the same upload (the package itself is bad, so it stays bad).
     pub fn is_final(&self) -> bool {

@@ -14,12 +14,8 @@ use groundproof_e2e::TestServer;
 
 #[test]
 fn an_admin_works_through_the_administration_pages_in_chromium() {
-    let b = match Browser::start() {
-        Ok(b) => b,
-        Err(e) => {
-            groundproof_e2e::missing(&e.to_string());
-            return;
-        }
+    let Some(b) = Browser::start_or_skip() else {
+        return;
     };
     let s = TestServer::start();
     load(&s.db, s.data_dir(), &Settings::default()).expect("demo loads");

@@ -36,8 +36,7 @@
 #[allow(dead_code)]
 mod webdriver;
 
-use groundproof_e2e::{TestServer, get_bytes, load_scenario, post_json};
-use groundproof_sync::bundle::open_bundle;
+use groundproof_e2e::{TestServer, issue_from_station, load_scenario, open_bundle_at, post_json};
 use groundproof_sync::field::distance_bearing;
 use mock_patrols::photos::{PhotoMetaIn, make_photo};
 use serde_json::{Value, json};
@@ -332,28 +331,14 @@ fn sha256(bytes: &[u8]) -> String {
 
 #[test]
 fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
-    let b = match Browser::start() {
-        Ok(b) => b,
-        Err(e) => {
-            groundproof_e2e::missing(&e.to_string());
-            return;
-        }
+    let Some(b) = Browser::start_or_skip() else {
+        return;
     };
     let mut s = TestServer::start();
     load_scenario(&s);
     let work = tempfile::tempdir().expect("work folder");
-    let station = mock_patrols::scenario().station;
-    let r = post_json(
-        &s.url("/api/v1/bundles"),
-        &json!({"team": "Team Amber", "zone": "Core", "max": 4,
-                "start": {"lat": station.1, "lon": station.0}}),
-    );
-    assert_eq!(r.status, 201, "{}", r.body);
-    let (status, zip) = get_bytes(&s.url(r.json()["download"].as_str().expect("download")));
-    assert_eq!(status, 200);
-    let bundle_path = work.path().join("bundle.zip");
-    std::fs::write(&bundle_path, &zip).expect("bundle saved");
-    let bundle = open_bundle(&bundle_path, chrono::Utc::now()).expect("the bundle opens in Rust");
+    let (_, zip) = issue_from_station(&s, json!({"team": "Team Amber", "zone": "Core", "max": 4}));
+    let bundle = open_bundle_at(&work.path().join("bundle.zip"), &zip);
     assert!(bundle.route.len() >= 2, "at least two stops");
     let tampered_path = work.path().join("tampered.zip");
     std::fs::write(&tampered_path, tamper(&zip)).expect("tampered saved");
@@ -963,17 +948,9 @@ fn field_app_opens_a_trip_records_visits_and_sends_them_back() {
 
     // Several trips stay apart: a second team's trip opens with its own
     // stops, none visited, and the first keeps its reports.
-    let r2 = post_json(
-        &s.url("/api/v1/bundles"),
-        &json!({"team": "Team Basalt", "zone": "Core", "max": 3,
-                "start": {"lat": station.1, "lon": station.0}}),
-    );
-    assert_eq!(r2.status, 201, "{}", r2.body);
-    let (status, zip2) = get_bytes(&s.url(r2.json()["download"].as_str().expect("download")));
-    assert_eq!(status, 200);
-    let bundle2_path = work.path().join("bundle2.zip");
-    std::fs::write(&bundle2_path, &zip2).expect("second bundle saved");
-    let bundle2 = open_bundle(&bundle2_path, chrono::Utc::now()).expect("second bundle");
+    let (_, zip2) =
+        issue_from_station(&s, json!({"team": "Team Basalt", "zone": "Core", "max": 3}));
+    let bundle2 = open_bundle_at(&work.path().join("bundle2.zip"), &zip2);
     // This one by typing its pairing code (as read off the coordinator's
     // screen, in lower case).
     let r = post_json(

@@ -11,8 +11,8 @@
 #[allow(dead_code)]
 mod webdriver;
 
-use groundproof_e2e::{TestServer, get, get_bytes, load_scenario, post_json};
-use groundproof_sync::bundle::{Checklist, open_bundle};
+use groundproof_e2e::{TestServer, get, issue_from_station, load_scenario, open_bundle_at};
+use groundproof_sync::bundle::Checklist;
 use groundproof_sync::returns::{Report, validate_report};
 use serde_json::{Value, json};
 use std::time::{Duration, Instant};
@@ -78,29 +78,18 @@ fn photos() -> Value {
 
 #[test]
 fn field_app_offers_control_points_their_own_outcomes() {
-    let b = match Browser::start() {
-        Ok(b) => b,
-        Err(e) => {
-            groundproof_e2e::missing(&e.to_string());
-            return;
-        }
+    let Some(b) = Browser::start_or_skip() else {
+        return;
     };
     let s = TestServer::start();
     load_scenario(&s);
-    let station = mock_patrols::scenario().station;
-    let r = post_json(
-        &s.url("/api/v1/bundles"),
-        &json!({"team": "Team Basalt", "mode": "assessment", "zone": "Riverside Community Land",
-            "margin": 0.3, "controls": 2, "seed": 7,
-            "start": {"lat": station.1, "lon": station.0}}),
+    let (_, zip) = issue_from_station(
+        &s,
+        json!({"team": "Team Basalt", "mode": "assessment", "zone": "Riverside Community Land",
+            "margin": 0.3, "controls": 2, "seed": 7}),
     );
-    assert_eq!(r.status, 201, "{}", r.body);
-    let (status, zip) = get_bytes(&s.url(r.json()["download"].as_str().expect("download")));
-    assert_eq!(status, 200);
     let dir = tempfile::tempdir().expect("dir");
-    let path = dir.path().join("bundle.zip");
-    std::fs::write(&path, &zip).expect("saved");
-    let bundle = open_bundle(&path, chrono::Utc::now()).expect("opens");
+    let bundle = open_bundle_at(&dir.path().join("bundle.zip"), &zip);
     let v2 = bundle.checklist.clone();
     assert_eq!(v2.version, 2);
     let v1 = Checklist::default_v1();
@@ -269,28 +258,18 @@ fn wait_until(b: &Browser, expr: &str, what: &str) -> Value {
 /// that field, which still opens.
 #[test]
 fn field_app_shows_high_or_low_confidence_also_for_an_older_bundle() {
-    let b = match Browser::start() {
-        Ok(b) => b,
-        Err(e) => {
-            groundproof_e2e::missing(&e.to_string());
-            return;
-        }
+    let Some(b) = Browser::start_or_skip() else {
+        return;
     };
     let s = TestServer::start();
     load_scenario(&s);
-    let station = mock_patrols::scenario().station;
-    let r = post_json(
-        &s.url("/api/v1/bundles"),
-        &json!({"team": "Team Basalt", "zone": "Core", "max": 10,
-                "start": {"lat": station.1, "lon": station.0}}),
+    let (_, zip) = issue_from_station(
+        &s,
+        json!({"team": "Team Basalt", "zone": "Core", "max": 10}),
     );
-    assert_eq!(r.status, 201, "{}", r.body);
-    let (status, zip) = get_bytes(&s.url(r.json()["download"].as_str().expect("download")));
-    assert_eq!(status, 200);
     let dir = tempfile::tempdir().expect("dir");
-    let path = dir.path().join("bundle.zip");
-    std::fs::write(&path, &zip).expect("saved");
-    let bundle = open_bundle(&path, chrono::Utc::now()).expect("opens");
+    let bundle = open_bundle_at(&dir.path().join("bundle.zip"), &zip);
+    let station = mock_patrols::scenario().station;
     let levels: Vec<&str> = bundle
         .events
         .iter()

@@ -176,12 +176,8 @@ fn download_with_session(b: &Browser, s: &TestServer, href: &str) -> Vec<u8> {
 
 #[test]
 fn coordinator_and_manager_work_through_the_pages_in_chromium() {
-    let b = match Browser::start() {
-        Ok(b) => b,
-        Err(e) => {
-            groundproof_e2e::missing(&e.to_string());
-            return;
-        }
+    let Some(b) = Browser::start_or_skip() else {
+        return;
     };
     // The server holds what `cargo run --release -- demo` shows: the
     // scenario, the demo's logins, and its trips pushed back by the field kit.

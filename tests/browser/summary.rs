@@ -29,12 +29,8 @@ fn pdf_pages(pdf: &[u8]) -> (usize, Option<String>) {
 
 #[test]
 fn the_summary_prints_one_a4_page_per_section_with_the_figures() {
-    let b = match Browser::start() {
-        Ok(b) => b,
-        Err(e) => {
-            groundproof_e2e::missing(&e.to_string());
-            return;
-        }
+    let Some(b) = Browser::start_or_skip() else {
+        return;
     };
     let s = TestServer::start();
     let work = tempfile::tempdir().expect("work folder");

@@ -60,6 +60,15 @@ fn free_port() -> std::io::Result<u16> {
 }
 
 impl Browser {
+    /// [`Browser::start`] for a test: `None` when Chromium or ChromeDriver
+    /// is missing, after `groundproof_e2e::missing` (which fails on CI and
+    /// says SKIP elsewhere); the test then returns.
+    pub fn start_or_skip() -> Option<Browser> {
+        Browser::start()
+            .map_err(|e| groundproof_e2e::missing(&e))
+            .ok()
+    }
+
     /// Start chromedriver and a headless Chromium session. `Err` says what
     /// is missing (the caller prints a SKIP line) or what failed.
     pub fn start() -> Result<Browser, String> {

@@ -701,13 +701,18 @@ fn settings_change_at_once_and_a_bad_value_changes_nothing() {
         ),
         (
             form("lots", "0.3", "Etc/GMT+4"),
-            "Evidence tolerance (m): &#39;lots&#39; is not a number",
+            // The page's own check and `platform::admin`'s refusal are in
+            // the page's language; `Settings::check`'s bounds stay English.
+            "Tolerância das provas (m): &#39;lots&#39; não é um número válido",
         ),
         (
             form("250", "0.3", "Mars/Olympus"),
             "time zone &#39;Mars/Olympus&#39; is not in the IANA tz database",
         ),
-        (form("250", "0.3", "Etc/GMT+4"), "nothing changed"),
+        (
+            form("250", "0.3", "Etc/GMT+4"),
+            "nada mudou: todos os valores já são os que estão em vigor",
+        ),
     ] {
         let (r, _) = post(f);
         assert!(r.status == 400 || r.status == 409, "{}", r.body);

@@ -5,7 +5,7 @@
 
 use crate::intake::{fast_push, open_workspace};
 use groundproof_e2e::{
-    TestServer, admin_token, get_bytes, load_scenario, post_json, without_confidence_level,
+    TestServer, admin_token, issue_from_station, load_scenario, without_confidence_level,
 };
 use groundproof_sync::bundle::confidence_level;
 use groundproof_sync::field::{Snapshot, push};
@@ -26,15 +26,10 @@ fn entry(zip: &[u8], name: &str) -> String {
 fn bundles_say_high_or_low_confidence_and_older_bundles_still_work() {
     let s = TestServer::start();
     load_scenario(&s);
-    let station = mock_patrols::scenario().station;
-    let r = post_json(
-        &s.url("/api/v1/bundles"),
-        &json!({"team": "Team Basalt", "zone": "Core", "max": 10,
-                "start": {"lat": station.1, "lon": station.0}}),
+    let (_, zip) = issue_from_station(
+        &s,
+        json!({"team": "Team Basalt", "zone": "Core", "max": 10}),
     );
-    assert_eq!(r.status, 201, "{}", r.body);
-    let (status, zip) = get_bytes(&s.url(r.json()["download"].as_str().unwrap()));
-    assert_eq!(status, 200);
 
     // The level beside the word, for every event.
     let fc: Value = serde_json::from_str(&entry(&zip, "events.geojson")).unwrap();

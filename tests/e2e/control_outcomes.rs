@@ -6,7 +6,7 @@
 
 use crate::intake::{fast_push, open_workspace, post_zip, rfc};
 use groundproof::domain::Outcome;
-use groundproof_e2e::{TestServer, get, get_bytes, load_scenario, post_json};
+use groundproof_e2e::{TestServer, get, issue_from_station, load_scenario};
 use groundproof_sync::bundle::UploadKey;
 use groundproof_sync::field::{Snapshot, push};
 use groundproof_sync::returns::{
@@ -155,17 +155,11 @@ fn statuses(reply: &Value) -> Vec<(String, String)> {
 fn control_outcomes_go_through_a_return_into_the_assessment() {
     let s = TestServer::start();
     load_scenario(&s);
-    let station = mock_patrols::scenario().station;
-    let r = post_json(
-        &s.url("/api/v1/bundles"),
-        &json!({"team": "Team Basalt", "mode": "assessment", "zone": "Riverside Community Land",
-            "margin": 0.3, "controls": 4, "seed": 7,
-            "start": {"lat": station.1, "lon": station.0}}),
+    let (_, bundle) = issue_from_station(
+        &s,
+        json!({"team": "Team Basalt", "mode": "assessment", "zone": "Riverside Community Land",
+            "margin": 0.3, "controls": 4, "seed": 7}),
     );
-    assert_eq!(r.status, 201, "{}", r.body);
-    let j = r.json();
-    let (status, bundle) = get_bytes(&s.url(j["download"].as_str().unwrap()));
-    assert_eq!(status, 200);
     let tmp = tempfile::tempdir().unwrap();
     let ws = open_workspace(tmp.path(), "ws", &bundle);
     let snap = Snapshot::load(&ws).unwrap();

@@ -9,7 +9,7 @@ use crate::intake::{
     fast_push, issue_bundle, open_workspace, pack, post_zip, record_events, rfc, signed_zip,
 };
 use groundproof::platform::auth::{Role, issue_api_token, issue_team_token, now_unix};
-use groundproof_e2e::{TestServer, get, get_as, load_scenario, post_json_as};
+use groundproof_e2e::{TestServer, bearer, get, get_as, load_scenario, post_json_as, request};
 use groundproof_sync::field::push;
 use serde_json::{Value, json};
 use std::io::Read;
@@ -23,26 +23,12 @@ fn call(
     headers: &[(&str, &str)],
     body: &[u8],
 ) -> (u16, String, String) {
-    let agent: ureq::Agent = ureq::Agent::config_builder()
-        .http_status_as_error(false)
-        .build()
-        .into();
-    let req = ureq::http::Request::builder()
-        .method(method)
-        .uri(url)
-        .header("Authorization", format!("Bearer {token}"));
-    let req = headers.iter().fold(req, |r, (k, v)| r.header(*k, *v));
-    let mut resp = agent
-        .run(req.body(body.to_vec()).unwrap())
-        .expect("request reaches the server");
-    let ct = resp
-        .headers()
-        .get("content-type")
-        .and_then(|v| v.to_str().ok())
-        .unwrap_or("")
-        .to_string();
-    let text = resp.body_mut().read_to_string().unwrap_or_default();
-    (resp.status().as_u16(), ct, text)
+    let auth = bearer(token);
+    let mut all = vec![("Authorization", auth.as_str())];
+    all.extend_from_slice(headers);
+    let a = request(method, url, &all, body);
+    let ct = a.header("content-type").unwrap_or("").to_string();
+    (a.status, ct, a.text())
 }
 
 fn create(s: &TestServer, token: &str, bundle: &str, size: u64, seed: u8) -> (u16, Value) {

@@ -7,23 +7,13 @@
 use groundproof::domain::LonLat;
 use groundproof::planning::{TripRequest, issue_bundle};
 use groundproof::platform::settings::Settings;
-use groundproof_e2e::{TestServer, admin_token, load_scenario};
+use groundproof_e2e::{TestServer, load_scenario, page_in};
 use std::io::Read;
 
 /// GET with the admin token and `Accept-Language: pt`: (status, body).
 fn page_pt(s: &TestServer, path: &str) -> (u16, String) {
-    let agent: ureq::Agent = ureq::Agent::config_builder()
-        .http_status_as_error(false)
-        .build()
-        .into();
-    let mut r = agent
-        .get(&s.url(path))
-        .header("Authorization", format!("Bearer {}", admin_token(s)))
-        .header("Accept-Language", "pt")
-        .call()
-        .expect("request reaches the server");
-    let status = r.status().as_u16();
-    (status, r.body_mut().read_to_string().unwrap_or_default())
+    let r = page_in(s, path, Some("pt"));
+    (r.status, r.body)
 }
 
 /// The field sheet inside the bundle's ZIP.

@@ -7,58 +7,25 @@
 //! words". English stays as the other tests expect.
 
 use groundproof_e2e::{
-    TestServer, admin_token, get, get_bytes, load_scenario, post_bytes, post_json,
+    TestServer, admin_token, bearer, disputed_trip_returns, form_body, get, issue_from_station,
+    load_scenario, page_in, post_bytes, request,
 };
 use serde_json::json;
 
 /// A page as the admin, in `lang` (None: no Accept-Language): the body of a 200.
 fn page(s: &TestServer, path: &str, lang: Option<&str>) -> String {
-    let agent: ureq::Agent = ureq::Agent::config_builder()
-        .http_status_as_error(false)
-        .build()
-        .into();
-    let mut r = agent
-        .get(&s.url(path))
-        .header("Authorization", format!("Bearer {}", admin_token(s)));
-    if let Some(l) = lang {
-        r = r.header("Accept-Language", l);
-    }
-    let mut r = r.call().expect("request reaches the server");
-    let status = r.status().as_u16();
-    let body = r.body_mut().read_to_string().unwrap_or_default();
-    assert_eq!(status, 200, "{path}: {body}");
-    body
+    let r = page_in(s, path, lang);
+    assert_eq!(r.status, 200, "{path}: {}", r.body);
+    r.body
 }
 
 /// Alerts, one trip to the core zone and its returns, two of whose
 /// reports disagree on one event (a dispute).
 fn with_visits_and_a_dispute(s: &TestServer) {
     load_scenario(s);
-    let station = mock_patrols::scenario().station;
-    let r = post_json(
-        &s.url("/api/v1/bundles"),
-        &json!({"team": "Team Amber", "zone": "Core", "max": 8,
-                "start": {"lat": station.1, "lon": station.0}}),
-    );
-    assert_eq!(r.status, 201, "{}", r.body);
-    let link = r.json()["download"]
-        .as_str()
-        .expect("a download link")
-        .to_string();
-    let (status, bytes) = get_bytes(&s.url(&link));
-    assert_eq!(status, 200);
+    let (_, bytes) = issue_from_station(s, json!({"team": "Team Amber", "zone": "Core", "max": 8}));
     let work = tempfile::tempdir().expect("temp dir");
-    let bundle = work.path().join("bundle.zip");
-    std::fs::write(&bundle, &bytes).expect("bundle written");
-    let plan = mock_patrols::field::TripPlan {
-        disputed_pair: true,
-        ..Default::default()
-    };
-    let trip =
-        mock_patrols::field::make_trip_return(&bundle, &work.path().join("field"), &plan, 11)
-            .expect("the field kit records the trip");
-    for ret in &trip.returns {
-        let zip = std::fs::read(&ret.zip).expect("return read");
+    for zip in disputed_trip_returns(&bytes, work.path()) {
         let r = post_bytes(&s.url("/api/v1/returns"), "application/zip", &zip);
         assert!(r.status == 200 || r.status == 201, "{}", r.body);
     }
@@ -222,4 +189,172 @@ fn figures_sentences_stay_english_without_a_language() {
         ],
         &[">note-", ">photo-check-"],
     );
+}
+
+/// A form POSTed as the admin's API token in Portuguese (fields unencoded).
+fn post_form_pt(s: &TestServer, path: &str, fields: &[(&str, &str)]) -> (u16, String) {
+    let auth = bearer(&admin_token(s));
+    let headers = [
+        ("Authorization", auth.as_str()),
+        ("Accept-Language", "pt"),
+        ("Content-Type", "application/x-www-form-urlencoded"),
+    ];
+    let a = request("POST", &s.url(path), &headers, form_body(fields).as_bytes());
+    (a.status, a.text())
+}
+
+/// The reason a refused admin form gives (from `platform::admin`,
+/// `platform::auth` and `alerts::sources`, which the command line and the
+/// API share) and a bad filter's message, in Portuguese: the words of
+/// `templates/i18n/pt/pages.ftl`, block "refusals of forms and filters".
+/// The API keeps the English sentence.
+#[test]
+fn a_refused_form_and_a_bad_filter_speak_portuguese() {
+    let s = TestServer::start();
+    let now = groundproof::platform::auth::now_unix();
+    let root = groundproof::platform::auth::create_user(
+        &s.db,
+        "root-admin",
+        groundproof::platform::auth::Role::Admin,
+        "a long admin password 2026",
+        now,
+    )
+    .expect("an admin");
+
+    // The only enabled admin cannot be disabled (platform::admin's guard).
+    let (status, body) = post_form_pt(&s, &format!("/admin/users/{}/disable", root.id), &[]);
+    assert_eq!(status, 409, "{body}");
+    has(
+        "disable the last admin",
+        &body,
+        &[
+            "Nada foi alterado",
+            "root-admin é o único administrador ativo",
+        ],
+        &[
+            "Nothing was changed",
+            "is the only enabled admin",
+            "would leave nobody",
+            "make another admin first",
+        ],
+    );
+    // A name that is taken (storage's refusal, worded by platform::admin),
+    // a password too short (platform::auth) and two that differ (the page).
+    let add = |name: &'static str, p1: &'static str, p2: &'static str| {
+        post_form_pt(
+            &s,
+            "/admin/users",
+            &[
+                ("name", name),
+                ("role", "manager"),
+                ("password", p1),
+                ("password_again", p2),
+            ],
+        )
+    };
+    let pw = "the field lead's password";
+    for ((status, body), want, english) in [
+        (
+            add("root-admin", pw, pw),
+            "já existe um usuário",
+            "already exists",
+        ),
+        (
+            add("lead", "short", "short"),
+            "a senha é curta demais: 5 caracteres",
+            "too short",
+        ),
+        (
+            add("lead", pw, "other"),
+            "as duas senhas não são iguais",
+            "passwords differ",
+        ),
+    ] {
+        assert!(status == 400 || status == 409, "{status}: {body}");
+        has(
+            "/admin/users",
+            &body,
+            &[want, "Nada foi alterado"],
+            &[english, "Nothing was changed"],
+        );
+    }
+    // A source form with a word for a number, and one with a pixel size out
+    // of range (alerts::sources), each names its field in Portuguese.
+    let (status, body) = post_form_pt(
+        &s,
+        "/admin/sources",
+        &[
+            ("name", "optical-10m"),
+            ("pixel_size_m", "ten"),
+            ("revisit_days", "5"),
+        ],
+    );
+    assert_eq!(status, 400, "{body}");
+    has(
+        "/admin/sources",
+        &body,
+        &["Tamanho do pixel (m): &#39;ten&#39; não é um número válido"],
+        &["is not a valid number", "Pixel size (m)"],
+    );
+    let (status, body) = post_form_pt(
+        &s,
+        "/admin/sources",
+        &[
+            ("name", "optical-10m"),
+            ("pixel_size_m", "0"),
+            ("revisit_days", "5"),
+        ],
+    );
+    assert_eq!(status, 400, "{body}");
+    has(
+        "/admin/sources",
+        &body,
+        &["tamanho do pixel 0 m: é preciso um número de metros"],
+        &["expected a number of metres"],
+    );
+    // The API keeps the English sentence for scripts.
+    let r = groundproof_e2e::post_json(
+        &s.url("/api/v1/sources"),
+        &json!({"name": "optical-10m", "pixel_size_m": 0, "revisit_days": 5}),
+    );
+    assert_eq!(r.status, 400, "{}", r.body);
+    assert!(r.body.contains("expected a number of metres"), "{}", r.body);
+
+    // Bad filters: the error page in Portuguese, heading and message.
+    for (path, want, english) in [
+        (
+            "/events?from=2026-13-01",
+            "Detectado desde: &#39;2026-13-01&#39; não é uma data",
+            "expected an ISO 8601 date",
+        ),
+        (
+            "/events?min_area_ha=lots",
+            "&#39;lots&#39; não é um número válido",
+            "is not a valid number",
+        ),
+        (
+            "/events?status=lost",
+            "&#39;lost&#39; não é uma situação de evento",
+            "is not a status",
+        ),
+        (
+            "/trips?state=lost",
+            "&#39;lost&#39; não é uma situação de viagem",
+            "is not a trip state",
+        ),
+        (
+            "/dashboard?to=soon",
+            "&#39;soon&#39; não é uma data",
+            "expected an ISO 8601 date",
+        ),
+    ] {
+        let r = page_in(&s, path, Some("pt"));
+        assert_eq!(r.status, 400, "{path}: {}", r.body);
+        has(
+            path,
+            &r.body,
+            &[want, "Pedido inválido"],
+            &[english, "Bad Request"],
+        );
+    }
 }

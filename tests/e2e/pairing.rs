@@ -4,7 +4,9 @@
 //! are refused with their own word, and the phone's token dies with its
 //! bundle.
 
-use groundproof_e2e::{TestServer, get_as, get_bytes, load_scenario, post_json, post_json_as};
+use groundproof_e2e::{
+    TestServer, bearer, get_as, issue_from_station, load_scenario, post_json, post_json_as, request,
+};
 use serde_json::{Value, json};
 
 struct Redeemed {
@@ -15,24 +17,18 @@ struct Redeemed {
 
 /// `POST /api/v1/pairings/redeem` with no credentials.
 fn redeem(s: &TestServer, code: &str) -> Redeemed {
-    let agent: ureq::Agent = ureq::Agent::config_builder()
-        .http_status_as_error(false)
-        .build()
-        .into();
-    let mut r = agent
-        .post(&s.url("/api/v1/pairings/redeem"))
-        .send_json(json!({ "code": code }))
-        .expect("request reaches the server");
-    let token = r
-        .headers()
-        .get("groundproof-team-token")
-        .and_then(|v| v.to_str().ok())
-        .map(str::to_string);
-    let body = r.body_mut().read_to_vec().expect("body");
+    let body = json!({ "code": code }).to_string();
+    let headers = [("Content-Type", "application/json")];
+    let a = request(
+        "POST",
+        &s.url("/api/v1/pairings/redeem"),
+        &headers,
+        body.as_bytes(),
+    );
     Redeemed {
-        status: r.status().as_u16(),
-        token,
-        body,
+        status: a.status,
+        token: a.header("groundproof-team-token").map(str::to_string),
+        body: a.body,
     }
 }
 
@@ -43,21 +39,7 @@ fn refusal(r: &Redeemed) -> String {
 }
 
 fn issue(s: &TestServer, team: &str) -> (String, Vec<u8>) {
-    let station = mock_patrols::scenario().station;
-    let r = post_json(
-        &s.url("/api/v1/bundles"),
-        &json!({"team": team, "zone": "Core", "max": 2,
-                "start": {"lat": station.1, "lon": station.0}}),
-    );
-    assert_eq!(r.status, 201, "{}", r.body);
-    let j = r.json();
-    let id = j["bundle"]["bundle"]["id"]
-        .as_str()
-        .expect("id")
-        .to_string();
-    let (status, zip) = get_bytes(&s.url(j["download"].as_str().expect("download")));
-    assert_eq!(status, 200);
-    (id, zip)
+    issue_from_station(s, json!({"team": team, "zone": "Core", "max": 2}))
 }
 
 #[test]
@@ -233,17 +215,12 @@ fn a_phones_credential_reaches_only_its_bundle() {
 
 /// GET with a bearer token: (status, body bytes).
 fn get_bytes_as(s: &TestServer, path: &str, token: &str) -> (u16, Vec<u8>) {
-    let agent: ureq::Agent = ureq::Agent::config_builder()
-        .http_status_as_error(false)
-        .build()
-        .into();
-    let mut r = agent
-        .get(&s.url(path))
-        .header("Authorization", &format!("Bearer {token}"))
-        .call()
-        .expect("request reaches the server");
-    (
-        r.status().as_u16(),
-        r.body_mut().read_to_vec().unwrap_or_default(),
-    )
+    let auth = bearer(token);
+    let a = request(
+        "GET",
+        &s.url(path),
+        &[("Authorization", auth.as_str())],
+        b"",
+    );
+    (a.status, a.body)
 }

@@ -2,19 +2,21 @@
 //! neither OffsetTimeOriginal nor a GPS time stamp, on a trip whose camera zone is set in the
 //! field kit. The server must not read that local time as UTC.
 
-use groundproof_e2e::{TestServer, get_bytes, load_scenario, post_json};
-use groundproof_sync::client::PushOptions;
+use crate::intake::{fast_push, open_workspace};
+use groundproof_e2e::{
+    TestServer, admin_token, bearer, field_kit as field, form_body, issue_from_station,
+    load_scenario, request,
+};
 use groundproof_sync::field::{Snapshot, push};
 use serde_json::json;
 use std::io::Cursor;
 use std::path::Path;
-use std::time::Duration;
 
-fn field(args: &[&str]) {
-    let mut all = vec!["groundproof-field"];
-    all.extend_from_slice(args);
-    let code = groundproof_sync::field::run(all.clone()).expect("field command runs");
-    assert_eq!(code, std::process::ExitCode::SUCCESS, "{all:?}");
+/// A trip of Team Amber (3 events in the core zone) opened in the field
+/// kit's workspace `root/ws`.
+fn trip_workspace(s: &TestServer, root: &Path) -> std::path::PathBuf {
+    let (_, zip) = issue_from_station(s, json!({"team": "Team Amber", "zone": "Core", "max": 3}));
+    open_workspace(root, "ws", &zip)
 }
 
 /// A real JPEG with EXIF DateTimeOriginal `local` (no offset) and a GPS position (no GPS time).
@@ -80,21 +82,9 @@ fn local_time_photo(path: &Path, local: &str, lat: f64, lon: f64) {
 fn a_local_photo_time_is_placed_in_the_trip_camera_zone() {
     let s = TestServer::start();
     load_scenario(&s);
-    let station = mock_patrols::scenario().station;
-    let r = post_json(
-        &s.url("/api/v1/bundles"),
-        &json!({"team": "Team Amber", "zone": "Core", "max": 3,
-                "start": {"lat": station.1, "lon": station.0}}),
-    );
-    assert_eq!(r.status, 201, "{}", r.body);
-    let (status, bundle) = get_bytes(&s.url(r.json()["download"].as_str().unwrap()));
-    assert_eq!(status, 200);
     let tmp = tempfile::tempdir().unwrap();
-    let ws = tmp.path().join("ws");
-    let zip = tmp.path().join("bundle.zip");
-    std::fs::write(&zip, bundle).unwrap();
+    let ws = trip_workspace(&s, tmp.path());
     let w = ws.to_str().unwrap();
-    field(&["--workspace", w, "open", zip.to_str().unwrap()]);
     field(&["--workspace", w, "camera-zone", "-10:00"]);
     let snap = Snapshot::load(&ws).unwrap();
     let e = &snap.events[0];
@@ -120,23 +110,7 @@ fn a_local_photo_time_is_placed_in_the_trip_camera_zone() {
         "--photo",
         photo.to_str().unwrap(),
     ]);
-    let options = PushOptions {
-        chunk_bytes: 64 << 10,
-        max_failures: 10,
-        initial_backoff: Duration::from_millis(20),
-        max_backoff: Duration::from_millis(200),
-        max_total: Duration::from_secs(60),
-        call_timeout: Duration::from_secs(30),
-        progress: false,
-        ca_file: None,
-    };
-    let summary = push(
-        &ws,
-        &s.url(""),
-        Some(&groundproof_e2e::admin_token(&s)),
-        &options,
-    )
-    .unwrap();
+    let summary = push(&ws, &s.url(""), Some(&admin_token(&s)), &fast_push()).unwrap();
     assert_eq!(summary.accepted, 1);
     let rows = s.db.read(|x| x.report_facts()).unwrap();
     assert_eq!(rows.len(), 1);
@@ -150,61 +124,11 @@ fn a_local_photo_time_is_placed_in_the_trip_camera_zone() {
     );
 }
 
-/// The organisation's zone as an admin saves it on the settings page (session cookie, CSRF
-/// token of the page); the form's other values are the defaults.
+/// The organisation's zone as an admin saves it on the settings page (the
+/// page's own form, sent with the admin's API token); the form's other
+/// values are the defaults.
 fn set_organisation_zone(s: &TestServer, zone: &str) {
-    use groundproof::platform::auth::{Role, create_user, now_unix};
-    let password = "a long admin password 2026";
-    create_user(&s.db, "zone-admin", Role::Admin, password, now_unix()).expect("admin");
-    let agent: ureq::Agent = ureq::Agent::config_builder()
-        .http_status_as_error(false)
-        .max_redirects(0)
-        .build()
-        .into();
-    let form = |pairs: &[(&str, &str)]| {
-        pairs
-            .iter()
-            .map(|(k, v)| format!("{k}={}", v.replace('+', "%2B").replace('/', "%2F")))
-            .collect::<Vec<_>>()
-            .join("&")
-    };
-    let login = agent
-        .post(&s.url("/login"))
-        .header("Origin", &s.url(""))
-        .header("Content-Type", "application/x-www-form-urlencoded")
-        .send(
-            form(&[
-                ("name", "zone-admin"),
-                ("password", password),
-                ("next", "/"),
-            ])
-            .replace(' ', "+"),
-        )
-        .expect("login");
-    let cookie = login
-        .headers()
-        .get_all("set-cookie")
-        .iter()
-        .filter_map(|v| v.to_str().ok())
-        .find(|c| c.starts_with("gp_session="))
-        .map(|c| c.split(';').next().unwrap_or_default().to_string())
-        .expect("session");
-    let mut page = agent
-        .get(&s.url("/admin/settings"))
-        .header("Cookie", &cookie)
-        .call()
-        .expect("settings page");
-    let body = page.body_mut().read_to_string().expect("page");
-    let doc = scraper::Html::parse_document(&body);
-    let sel = scraper::Selector::parse("input[type=hidden][name=csrf_token]").unwrap();
-    let csrf = doc
-        .select(&sel)
-        .next()
-        .and_then(|e| e.value().attr("value"))
-        .expect("CSRF token")
-        .to_string();
     let fields = [
-        ("csrf_token", csrf.as_str()),
         ("area", "0.3"),
         ("recency", "0.25"),
         ("corroboration", "0.2"),
@@ -216,14 +140,14 @@ fn set_organisation_zone(s: &TestServer, zone: &str) {
         ("time_zone", zone),
         ("default_language", "en"),
     ];
-    let r = agent
-        .post(&s.url("/admin/settings"))
-        .header("Cookie", &cookie)
-        .header("Origin", &s.url(""))
-        .header("Content-Type", "application/x-www-form-urlencoded")
-        .send(form(&fields))
-        .expect("settings saved");
-    assert_eq!(r.status().as_u16(), 303, "settings saved");
+    let auth = bearer(&admin_token(s));
+    let headers = [
+        ("Authorization", auth.as_str()),
+        ("Content-Type", "application/x-www-form-urlencoded"),
+    ];
+    let body = form_body(&fields);
+    let r = request("POST", &s.url("/admin/settings"), &headers, body.as_bytes());
+    assert_eq!(r.status, 303, "settings saved: {}", r.text());
 }
 
 /// The organisation's zone is `Etc/GMT+4` (UTC−04:00; POSIX sign, IANA tz database). The team
@@ -235,21 +159,9 @@ fn the_organisation_zone_is_the_default_camera_zone() {
     let s = TestServer::start();
     load_scenario(&s);
     set_organisation_zone(&s, "Etc/GMT+4");
-    let station = mock_patrols::scenario().station;
-    let r = post_json(
-        &s.url("/api/v1/bundles"),
-        &json!({"team": "Team Amber", "zone": "Core", "max": 3,
-                "start": {"lat": station.1, "lon": station.0}}),
-    );
-    assert_eq!(r.status, 201, "{}", r.body);
-    let (status, bundle) = get_bytes(&s.url(r.json()["download"].as_str().unwrap()));
-    assert_eq!(status, 200);
     let tmp = tempfile::tempdir().unwrap();
-    let ws = tmp.path().join("ws");
-    let zip = tmp.path().join("bundle.zip");
-    std::fs::write(&zip, bundle).unwrap();
+    let ws = trip_workspace(&s, tmp.path());
     let w = ws.to_str().unwrap();
-    field(&["--workspace", w, "open", zip.to_str().unwrap()]);
     let snap = Snapshot::load(&ws).unwrap();
     let zone = snap
         .camera_zone
@@ -280,18 +192,7 @@ fn the_organisation_zone_is_the_default_camera_zone() {
         "--photo",
         p,
     ]);
-    let options = PushOptions {
-        chunk_bytes: 64 << 10,
-        max_failures: 10,
-        initial_backoff: Duration::from_millis(20),
-        max_backoff: Duration::from_millis(200),
-        max_total: Duration::from_secs(60),
-        call_timeout: Duration::from_secs(30),
-        progress: false,
-        ca_file: None,
-    };
-    let token = groundproof_e2e::admin_token(&s);
-    let summary = push(&ws, &s.url(""), Some(&token), &options).unwrap();
+    let summary = push(&ws, &s.url(""), Some(&admin_token(&s)), &fast_push()).unwrap();
     assert_eq!(summary.accepted, 1);
     let row = s.db.read(|x| x.photo(&sha)).unwrap().expect("photo stored");
     let stored = chrono::DateTime::parse_from_rfc3339(row.taken_at.as_deref().expect("a time"))

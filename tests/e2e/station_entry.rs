@@ -38,24 +38,11 @@ fn upload(s: &TestServer, trip: &str, files: &[(&str, &[u8])]) -> Reply {
     )
 }
 
-fn enc(v: &str) -> String {
-    v.bytes()
-        .map(|b| match b {
-            b'A'..=b'Z' | b'a'..=b'z' | b'0'..=b'9' | b'-' | b'_' | b'.' => (b as char).to_string(),
-            _ => format!("%{b:02X}"),
-        })
-        .collect()
-}
-
 fn form(s: &TestServer, trip: &str, fields: &[(String, String)]) -> Reply {
-    let body: Vec<String> = fields
-        .iter()
-        .map(|(k, v)| format!("{}={}", enc(k), enc(v)))
-        .collect();
     post_bytes(
         &s.url(&format!("/station/trips/{trip}")),
         "application/x-www-form-urlencoded",
-        body.join("&").as_bytes(),
+        groundproof_e2e::form_body(fields).as_bytes(),
     )
 }
 

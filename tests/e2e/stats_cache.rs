@@ -7,7 +7,10 @@
 use groundproof::domain::Day;
 use groundproof::statistics::figures::FigureOptions;
 use groundproof::statistics::kept::{StatsFilter, figures};
-use groundproof_e2e::{TestServer, get, get_bytes, load_scenario, post_bytes, post_json};
+use groundproof_e2e::{
+    TestServer, disputed_trip_returns, get, issue_from_station, load_scenario, post_bytes,
+    post_json,
+};
 use serde_json::json;
 
 /// The report date of every request here (`as_of`), end of that day.
@@ -88,32 +91,17 @@ fn kept_statistics_follow_every_kind_of_write() {
     // Asked twice on the same facts: the same answer.
     served_equals_fresh(&s, "asked again");
 
-    let station = mock_patrols::scenario().station;
-    let r = post_json(
-        &s.url("/api/v1/bundles"),
-        &json!({"team": "Team Amber", "zone": "Core", "max": 8,
-                "start": {"lat": station.1, "lon": station.0}}),
-    );
-    assert_eq!(r.status, 201, "{}", r.body);
+    let (_, bytes) =
+        issue_from_station(&s, json!({"team": "Team Amber", "zone": "Core", "max": 8}));
     served_equals_fresh(&s, "after a trip was issued");
 
-    let j = r.json();
-    let (status, bytes) = get_bytes(&s.url(j["download"].as_str().expect("a download link")));
-    assert_eq!(status, 200);
     let work = tempfile::tempdir().expect("temp dir");
-    let bundle = work.path().join("bundle.zip");
-    std::fs::write(&bundle, &bytes).expect("bundle written");
-    let plan = mock_patrols::field::TripPlan {
-        disputed_pair: true,
-        ..Default::default()
-    };
-    let trip =
-        mock_patrols::field::make_trip_return(&bundle, &work.path().join("field"), &plan, 11)
-            .expect("the field kit records the trip");
     let before = visited(&s);
-    for (i, ret) in trip.returns.iter().enumerate() {
-        let zip = std::fs::read(&ret.zip).expect("return read");
-        let r = post_bytes(&s.url("/api/v1/returns"), "application/zip", &zip);
+    for (i, zip) in disputed_trip_returns(&bytes, work.path())
+        .iter()
+        .enumerate()
+    {
+        let r = post_bytes(&s.url("/api/v1/returns"), "application/zip", zip);
         assert!(r.status == 200 || r.status == 201, "{}", r.body);
         served_equals_fresh(&s, &format!("after return {}", i + 1));
     }

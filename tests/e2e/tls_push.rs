@@ -4,19 +4,12 @@
 
 use groundproof::platform::settings::Settings;
 use groundproof::web::{self, AppState};
-use groundproof_e2e::{TestServer, get_bytes, load_scenario, post_json};
+use groundproof_e2e::{TestServer, field_kit as field, issue_from_station, load_scenario};
 use groundproof_sync::client::PushOptions;
 use groundproof_sync::field::{Snapshot, push};
 use serde_json::json;
 use std::net::TcpListener;
 use std::time::Duration;
-
-fn field(args: &[&str]) {
-    let mut all = vec!["groundproof-field"];
-    all.extend_from_slice(args);
-    let code = groundproof_sync::field::run(all.clone()).expect("field command runs");
-    assert_eq!(code, std::process::ExitCode::SUCCESS, "{all:?}");
-}
 
 #[test]
 fn push_sends_a_return_over_https_to_a_station_ca() {
@@ -49,20 +42,10 @@ fn push_sends_a_return_over_https_to_a_station_ca() {
     let handle = rx.recv().expect("server started");
 
     // A trip with one report, recorded with the command-line kit.
-    let station = mock_patrols::scenario().station;
-    let r = post_json(
-        &s.url("/api/v1/bundles"),
-        &json!({"team": "Team Amber", "zone": "Core", "max": 2,
-                "start": {"lat": station.1, "lon": station.0}}),
-    );
-    assert_eq!(r.status, 201, "{}", r.body);
-    let (status, bundle) = get_bytes(&s.url(r.json()["download"].as_str().expect("download")));
-    assert_eq!(status, 200);
-    let ws = tmp.path().join("ws");
-    let zip = tmp.path().join("bundle.zip");
-    std::fs::write(&zip, bundle).expect("bundle");
+    let (_, bundle) =
+        issue_from_station(&s, json!({"team": "Team Amber", "zone": "Core", "max": 2}));
+    let ws = crate::intake::open_workspace(tmp.path(), "ws", &bundle);
     let w = ws.to_str().expect("path");
-    field(&["--workspace", w, "open", zip.to_str().expect("path")]);
     let e = Snapshot::load(&ws).expect("snapshot").events[0].clone();
     let at = format!("{},{}", e.lat, e.lon);
     field(&[

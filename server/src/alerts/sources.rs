@@ -9,7 +9,7 @@
 //! different squares (our choice; register a new source instead).
 
 use crate::domain::SourceName;
-use crate::error::{Error, Result};
+use crate::error::{Error, Fault, Result};
 use crate::platform::admin::{Actor, log};
 use crate::platform::storage::{Db, Source};
 
@@ -22,10 +22,19 @@ pub fn add_source(
     revisit_days: i64,
     now: i64,
 ) -> Result<Source> {
-    let name = SourceName::parse(name).map_err(Error::Invalid)?;
+    let name = SourceName::parse(name).map_err(|m| {
+        Error::said(
+            Fault::Invalid,
+            "why-source-name",
+            &[("name", &name.trim())],
+            m,
+        )
+    })?;
     super::events::validate_source(pixel_size_m, revisit_days)?;
     db.write(|tx| {
-        let s = tx.add_source(name.as_str(), pixel_size_m, revisit_days)?;
+        let s = tx
+            .add_source(name.as_str(), pixel_size_m, revisit_days)
+            .map_err(|e| e.worded("why-source-exists", &[("name", &name)]))?;
         let detail = format!("{pixel_size_m} m pixels, {revisit_days} day revisit");
         log(
             tx,
@@ -54,14 +63,20 @@ pub fn edit_source(
         let r = tx.reader();
         let old = r
             .source_by_id(id)?
-            .ok_or_else(|| Error::NotFound(format!("no source with id {id}")))?;
+            .ok_or_else(|| {
+                let english = format!("no source with id {id}");
+                Error::said(Fault::NotFound, "why-no-source", &[("id", &id)], english)
+            })?;
         let mut changes = Vec::new();
         if old.pixel_size_m != pixel_size_m {
             if r.source_has_alerts(id)? {
-                return Err(Error::Conflict(format!(
+                let english = format!(
                     "source {}: the pixel size cannot change once alerts are imported (their footprints were drawn with {} m); register a new source instead",
                     old.name, old.pixel_size_m
-                )));
+                );
+                let args: [(&str, &dyn std::fmt::Display); 2] =
+                    [("name", &old.name), ("size", &old.pixel_size_m)];
+                return Err(Error::said(Fault::Conflict, "why-pixel-fixed", &args, english));
             }
             changes.push(format!("pixel size {} m → {pixel_size_m} m", old.pixel_size_m));
         }
@@ -72,10 +87,9 @@ pub fn edit_source(
             ));
         }
         if changes.is_empty() {
-            return Err(Error::Conflict(format!(
-                "source {}: nothing changed",
-                old.name
-            )));
+            let english = format!("source {}: nothing changed", old.name);
+            let args: [(&str, &dyn std::fmt::Display); 1] = [("name", &old.name)];
+            return Err(Error::said(Fault::Conflict, "why-source-same", &args, english));
         }
         tx.update_source(id, pixel_size_m, revisit_days)?;
         let subject = format!("source {}", old.name);

@@ -9,7 +9,7 @@
 //! disabled team's tokens are revoked and it gets no new token.
 
 use crate::domain::{Role, TeamName};
-use crate::error::{Error, Result};
+use crate::error::{Error, Fault, Result};
 use crate::platform::auth::{self, validate_user_name};
 use crate::platform::settings::{LiveSettings, Settings};
 use crate::platform::storage::{ApiTokenRecord, Db, TeamState, TeamTokenRecord, Tx, User};
@@ -73,7 +73,9 @@ pub fn add_user(
     validate_user_name(name)?;
     let phc = auth::hash_password(password)?;
     db.write_bookkeeping(|tx| {
-        let u = tx.add_user(name, role, &phc, now)?;
+        let u = tx
+            .add_user(name, role, &phc, now)
+            .map_err(|e| e.worded("why-user-exists", &[("name", &name)]))?;
         log(
             tx,
             actor,
@@ -87,13 +89,15 @@ pub fn add_user(
 }
 
 fn user(tx: &Tx<'_>, user_id: i64) -> Result<User> {
-    tx.reader()
-        .user_by_id(user_id)?
-        .ok_or_else(|| Error::NotFound(format!("no user with id {user_id}")))
+    tx.reader().user_by_id(user_id)?.ok_or_else(|| {
+        let english = format!("no user with id {user_id}");
+        Error::said(Fault::NotFound, "why-no-user", &[("id", &user_id)], english)
+    })
 }
 
-/// Refuse when `u` is the only enabled admin (our lock-out guard).
-fn keep_one_admin(tx: &Tx<'_>, u: &User, what: &str) -> Result<()> {
+/// Refuse when `u` is the only enabled admin (our lock-out guard); `disabling`
+/// says whether the change disables them (else it gives another role).
+fn keep_one_admin(tx: &Tx<'_>, u: &User, disabling: bool) -> Result<()> {
     if u.role != Role::Admin || u.disabled {
         return Ok(());
     }
@@ -104,10 +108,21 @@ fn keep_one_admin(tx: &Tx<'_>, u: &User, what: &str) -> Result<()> {
         .filter(|x| x.role == Role::Admin && !x.disabled)
         .count();
     if admins <= 1 {
-        return Err(Error::Conflict(format!(
+        let (id, what) = if disabling {
+            ("why-last-admin-disable", "disabling them")
+        } else {
+            ("why-last-admin-role", "another role")
+        };
+        let english = format!(
             "{} is the only enabled admin: {what} would leave nobody to manage users; make another admin first",
             u.name
-        )));
+        );
+        return Err(Error::said(
+            Fault::Conflict,
+            id,
+            &[("name", &u.name)],
+            english,
+        ));
     }
     Ok(())
 }
@@ -117,13 +132,17 @@ pub fn set_role(db: &Db, actor: &Actor, user_id: i64, role: Role, now: i64) -> R
     db.write_bookkeeping(|tx| {
         let u = user(tx, user_id)?;
         if u.role == role {
-            return Err(Error::Conflict(format!(
-                "{} already has the role {role}",
-                u.name
-            )));
+            let english = format!("{} already has the role {role}", u.name);
+            let args: [(&str, &dyn std::fmt::Display); 2] = [("name", &u.name), ("role", &role)];
+            return Err(Error::said(
+                Fault::Conflict,
+                "why-same-role",
+                &args,
+                english,
+            ));
         }
         if role != Role::Admin {
-            keep_one_admin(tx, &u, "another role")?;
+            keep_one_admin(tx, &u, false)?;
         }
         tx.set_user_role(user_id, role)?;
         let detail = format!("role {} → {role}", u.role);
@@ -175,11 +194,21 @@ pub fn set_user_disabled(
     db.write_bookkeeping(|tx| {
         let u = user(tx, user_id)?;
         if u.disabled == disabled {
-            let state = if disabled { "disabled" } else { "enabled" };
-            return Err(Error::Conflict(format!("{} is already {state}", u.name)));
+            let (id, state) = if disabled {
+                ("why-user-already-disabled", "disabled")
+            } else {
+                ("why-user-already-enabled", "enabled")
+            };
+            let english = format!("{} is already {state}", u.name);
+            return Err(Error::said(
+                Fault::Conflict,
+                id,
+                &[("name", &u.name)],
+                english,
+            ));
         }
         if disabled {
-            keep_one_admin(tx, &u, "disabling them")?;
+            keep_one_admin(tx, &u, true)?;
         }
         tx.set_user_disabled(user_id, disabled)?;
         let (action, detail) = if disabled {
@@ -194,9 +223,18 @@ pub fn set_user_disabled(
 
 /// Add a field team.
 pub fn add_team(db: &Db, actor: &Actor, name: &str, now: i64) -> Result<TeamState> {
-    let name = TeamName::parse(name).map_err(Error::Invalid)?;
+    let name = TeamName::parse(name).map_err(|m| {
+        Error::said(
+            Fault::Invalid,
+            "why-team-name",
+            &[("name", &name.trim())],
+            m,
+        )
+    })?;
     db.write(|tx| {
-        let t = tx.add_team(name.as_str())?;
+        let t = tx
+            .add_team(name.as_str())
+            .map_err(|e| e.worded("why-team-exists", &[("name", &name)]))?;
         log(
             tx,
             actor,
@@ -223,16 +261,23 @@ pub fn set_team_disabled(
     now: i64,
 ) -> Result<TeamState> {
     db.write(|tx| {
-        let t = tx
-            .reader()
-            .team_state(team_id)?
-            .ok_or_else(|| Error::NotFound(format!("no team with id {team_id}")))?;
+        let t = tx.reader().team_state(team_id)?.ok_or_else(|| {
+            let english = format!("no team with id {team_id}");
+            Error::said(Fault::NotFound, "why-no-team", &[("id", &team_id)], english)
+        })?;
         if !tx.set_team_disabled(team_id, disabled.then_some(now))? {
-            let state = if disabled { "disabled" } else { "active" };
-            return Err(Error::Conflict(format!(
-                "team {} is already {state}",
-                t.name
-            )));
+            let (id, state) = if disabled {
+                ("why-team-already-disabled", "disabled")
+            } else {
+                ("why-team-already-active", "active")
+            };
+            let english = format!("team {} is already {state}", t.name);
+            return Err(Error::said(
+                Fault::Conflict,
+                id,
+                &[("name", &t.name)],
+                english,
+            ));
         }
         let subject = format!("team {}", t.name);
         if disabled {
@@ -260,15 +305,27 @@ pub fn create_team_token(
     let token = auth::new_team_token()?;
     let hash = auth::sha256_hex(&token);
     let rec = db.write_bookkeeping(|tx| {
-        let t = tx
-            .reader()
-            .team_state_by_name(team_name)?
-            .ok_or_else(|| Error::NotFound(format!("unknown team '{team_name}': add it first")))?;
+        let t = tx.reader().team_state_by_name(team_name)?.ok_or_else(|| {
+            let english = format!("unknown team '{team_name}': add it first");
+            Error::said(
+                Fault::NotFound,
+                "why-unknown-team",
+                &[("name", &team_name)],
+                english,
+            )
+        })?;
         if t.disabled_at.is_some() {
-            return Err(Error::Conflict(format!(
+            let english = format!(
                 "team {} is disabled: enable it before giving it a token",
                 t.name
-            )));
+            );
+            let args: [(&str, &dyn std::fmt::Display); 1] = [("name", &t.name)];
+            return Err(Error::said(
+                Fault::Conflict,
+                "why-team-disabled",
+                &args,
+                english,
+            ));
         }
         let rec = tx.insert_team_token(&hash, &t.name, now)?;
         let detail = format!("token {} created", rec.id);
@@ -293,12 +350,25 @@ pub fn revoke_team_token(db: &Db, actor: &Actor, token_id: i64, now: i64) -> Res
             .team_tokens()?
             .into_iter()
             .find(|t| t.id == token_id)
-            .ok_or_else(|| Error::NotFound(format!("no team token with id {token_id}")))?
+            .ok_or_else(|| {
+                let english = format!("no team token with id {token_id}");
+                Error::said(
+                    Fault::NotFound,
+                    "why-no-team-token",
+                    &[("id", &token_id)],
+                    english,
+                )
+            })?
             .team_name;
         if !tx.revoke_team_token(token_id, now)? {
-            return Err(Error::Conflict(format!(
-                "token {token_id} is already revoked"
-            )));
+            let english = format!("token {token_id} is already revoked");
+            let args: [(&str, &dyn std::fmt::Display); 1] = [("id", &token_id)];
+            return Err(Error::said(
+                Fault::Conflict,
+                "why-token-revoked",
+                &args,
+                english,
+            ));
         }
         let detail = format!("token {token_id} revoked");
         log(
@@ -323,7 +393,10 @@ pub fn create_api_token(
     label: &str,
     now: i64,
 ) -> Result<(ApiTokenRecord, String)> {
-    let label = auth::validate_label(label, "an API token's name")?;
+    let label = auth::validate_label(label, "an API token's name").map_err(|e| {
+        let max: &dyn std::fmt::Display = &auth::MAX_LABEL_CHARS;
+        e.worded("why-api-token-name", &[("max", max)])
+    })?;
     let token = auth::new_api_token()?;
     let hash = auth::sha256_hex(&token);
     let rec = db.write_bookkeeping(|tx| {
@@ -351,11 +424,24 @@ pub fn revoke_api_token(db: &Db, actor: &Actor, token_id: i64, now: i64) -> Resu
             .api_tokens()?
             .into_iter()
             .find(|t| t.id == token_id)
-            .ok_or_else(|| Error::NotFound(format!("no API token with id {token_id}")))?;
+            .ok_or_else(|| {
+                let english = format!("no API token with id {token_id}");
+                Error::said(
+                    Fault::NotFound,
+                    "why-no-api-token",
+                    &[("id", &token_id)],
+                    english,
+                )
+            })?;
         if !tx.revoke_api_token(token_id, now)? {
-            return Err(Error::Conflict(format!(
-                "API token {token_id} is already revoked"
-            )));
+            let english = format!("API token {token_id} is already revoked");
+            let args: [(&str, &dyn std::fmt::Display); 1] = [("id", &token_id)];
+            return Err(Error::said(
+                Fault::Conflict,
+                "why-api-token-revoked",
+                &args,
+                english,
+            ));
         }
         let subject = format!("API token {token_id} ({})", rec.label);
         log(tx, actor, now, "apitoken.revoke", &subject, "revoked")?;
@@ -381,8 +467,12 @@ pub fn change_settings(
     let (new, ()) = live.update(data_dir, change, |old, new, write| {
         let lines = settings_diff(old, new)?;
         if lines.is_empty() {
-            return Err(Error::Conflict(
-                "nothing changed: every value is the one in force".into(),
+            let english = "nothing changed: every value is the one in force";
+            return Err(Error::said(
+                Fault::Conflict,
+                "why-settings-same",
+                &[],
+                english,
             ));
         }
         db.write_bookkeeping(|tx| {
@@ -556,5 +646,46 @@ mod tests {
         let e = change_settings(&db, &live, dir.path(), &me, |_| Ok(()), 2).unwrap_err();
         assert!(e.to_string().contains("nothing changed"));
         assert_eq!(db.read(|r| r.admin_log(None, 100)).unwrap().len(), 1);
+    }
+
+    /// Each refusal carries its message id; the English catalogue says the
+    /// English sentence word for word (so an English page reads as the
+    /// command line), and Portuguese says it in its own words.
+    #[test]
+    fn refusals_have_ids_whose_english_is_the_sentence() {
+        use crate::platform::i18n::{Arg, Tr};
+        let (_d, db) = db();
+        let me = Actor::CommandLine;
+        let root = add_user(&db, &me, "root", Role::Admin, PW, 1).unwrap();
+        let team = add_team(&db, &me, "Team Delta", 1).unwrap();
+        let refusals = [
+            set_user_disabled(&db, &me, root.id, true, 2).unwrap_err(),
+            set_role(&db, &me, root.id, Role::Manager, 2).unwrap_err(),
+            set_role(&db, &me, root.id, Role::Admin, 2).unwrap_err(),
+            set_user_disabled(&db, &me, root.id, false, 2).unwrap_err(),
+            add_user(&db, &me, "root", Role::Manager, PW, 2).unwrap_err(),
+            add_user(&db, &me, "no spaces", Role::Manager, PW, 2).unwrap_err(),
+            add_user(&db, &me, "lead", Role::Manager, "short", 2).unwrap_err(),
+            add_team(&db, &me, "Team Delta", 2).unwrap_err(),
+            set_team_disabled(&db, &me, team.id, false, 2).unwrap_err(),
+            set_team_disabled(&db, &me, 999, true, 2).unwrap_err(),
+            create_team_token(&db, &me, "Team Nobody", 2).unwrap_err(),
+            revoke_team_token(&db, &me, 999, 2).unwrap_err(),
+            revoke_api_token(&db, &me, 999, 2).unwrap_err(),
+            create_api_token(&db, &me, Role::Manager, "  ", 2).unwrap_err(),
+        ];
+        let (en, pt) = (Tr::new("en"), Tr::new("pt"));
+        for e in &refusals {
+            let said = e.words().unwrap_or_else(|| panic!("no message id: {e}"));
+            let vars: Vec<(&str, &dyn Arg)> =
+                said.args.iter().map(|(k, v)| (*k, v as &dyn Arg)).collect();
+            assert_eq!(en.tn(said.id, &vars), e.to_string(), "{}", said.id);
+            let words = pt.tn(said.id, &vars);
+            assert!(
+                words != said.id && words != e.to_string(),
+                "{}: {words}",
+                said.id
+            );
+        }
     }
 }

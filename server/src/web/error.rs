@@ -5,7 +5,8 @@
 //! A server fault is logged once, here, when its response is made; the
 //! caller sees only "internal error; see the server log".
 
-use crate::error::Error;
+use crate::error::{Error, Fault, Said};
+use crate::platform::i18n::Tr;
 use actix_web::{HttpResponse, ResponseError, http::StatusCode};
 use serde_json::json;
 
@@ -18,6 +19,11 @@ pub fn status(e: &Error) -> StatusCode {
         Error::Conflict(_) | Error::OffsetMismatch { .. } | Error::Busy { .. } => {
             StatusCode::CONFLICT
         }
+        Error::Said(fault, _) => match fault {
+            Fault::Invalid => StatusCode::BAD_REQUEST,
+            Fault::NotFound => StatusCode::NOT_FOUND,
+            Fault::Conflict => StatusCode::CONFLICT,
+        },
         Error::Gone(_) => StatusCode::GONE,
         Error::TooLarge(_) => StatusCode::PAYLOAD_TOO_LARGE,
         Error::ImportRejected(_) | Error::Package(_) => StatusCode::UNPROCESSABLE_ENTITY,
@@ -156,9 +162,12 @@ pub fn query_error(
 #[error("{message}")]
 pub struct PageError {
     pub status: StatusCode,
+    /// The English text (what logs and English pages show).
     pub message: String,
     /// More lines (for example the errors of a file, with line numbers).
     pub details: Vec<String>,
+    /// The message's id and variables, when the pages translate it.
+    pub said: Option<Said>,
 }
 
 impl PageError {
@@ -168,7 +177,60 @@ impl PageError {
             status,
             message: message.into(),
             details: Vec::new(),
+            said: None,
         }
+    }
+
+    /// A page's own refusal (400) in words the pages translate: the message
+    /// `id` with `args`, and the same sentence in English.
+    pub fn said(
+        id: &'static str,
+        args: &[(&'static str, &dyn std::fmt::Display)],
+        english: impl Into<String>,
+    ) -> PageError {
+        PageError::from(Error::said(Fault::Invalid, id, args, english))
+    }
+
+    /// This refusal with a message id (its status and English kept).
+    pub fn worded(
+        mut self,
+        id: &'static str,
+        args: &[(&'static str, &dyn std::fmt::Display)],
+    ) -> PageError {
+        let args = args.iter().map(|(k, v)| (*k, v.to_string())).collect();
+        let english = self.message.clone();
+        self.said = Some(Said { id, args, english });
+        self
+    }
+
+    /// The message in the reader's language: the catalogue's sentence when
+    /// it has an id, else the English text.
+    pub fn text(&self, tr: impl std::borrow::Borrow<Tr>) -> String {
+        let tr = tr.borrow();
+        match &self.said {
+            Some(s) => {
+                // A variable named `field` holds the message id of a form
+                // label, said in the same language.
+                let args: Vec<(&str, String)> = s
+                    .args
+                    .iter()
+                    .map(|(k, v)| (*k, if *k == "field" { tr.t(v) } else { v.clone() }))
+                    .collect();
+                let vars: Vec<(&str, &dyn crate::platform::i18n::Arg)> = args
+                    .iter()
+                    .map(|(k, v)| (*k, v as &dyn crate::platform::i18n::Arg))
+                    .collect();
+                tr.tn(s.id, &vars)
+            }
+            None => self.message.clone(),
+        }
+    }
+
+    /// The heading of an error page: the status in the reader's language
+    /// (`http-<code>`), else its English reason.
+    pub fn reason(&self, tr: &Tr) -> String {
+        tr.get(&format!("http-{}", self.status.as_u16()))
+            .unwrap_or_else(|| self.status.canonical_reason().unwrap_or("Error").into())
     }
 
     pub fn bad_request(message: impl Into<String>) -> PageError {
@@ -184,7 +246,8 @@ impl From<Error> for PageError {
     fn from(e: Error) -> Self {
         let status = status_logged(&e);
         if status.is_server_error() {
-            return PageError::new(status, "Internal error; see the server log.");
+            return PageError::new(status, "Internal error; see the server log.")
+                .worded("why-internal", &[]);
         }
         match e {
             Error::ImportRejected(f) => PageError {
@@ -194,6 +257,13 @@ impl From<Error> for PageError {
                     f.file, f.error_count, f.rows_read
                 ),
                 details: f.errors.iter().map(|r| r.to_string()).collect(),
+                said: None,
+            },
+            Error::Said(_, said) => PageError {
+                status,
+                message: said.english.clone(),
+                details: Vec::new(),
+                said: Some(*said),
             },
             other => PageError::new(status, other.to_string()),
         }

@@ -794,3 +794,67 @@ map-title-event = Evento { $code }
 
 # --- page titles ---
 trip-page-title = Viaje { $id }
+
+# --- refusals of forms and filters (r-tidy): why-* is the reason a form or a filter was refused,
+# http-* the heading of an error page.
+why-user-exists = ya existe un usuario '{ $name }'
+why-no-user = no hay ningún usuario con el número { $id }
+why-last-admin-role = { $name } es el único administrador activo: con otro papel nadie podría gestionar los usuarios; nombre antes a otro administrador
+why-last-admin-disable = { $name } es el único administrador activo: desactivarlo dejaría a nadie para gestionar los usuarios; nombre antes a otro administrador
+why-same-role = { $name } ya tiene el papel de { $role ->
+        [admin] administrador
+        [coordinator] coordinador
+       *[other] responsable
+    }
+why-user-already-disabled = { $name } ya está desactivado
+why-user-already-enabled = { $name } ya está activo
+why-user-name = el nombre de usuario '{ $name }' no se admite: use de 1 a { $max } letras, cifras, '.', '_' o '-', empezando por una letra o una cifra
+why-password-short = la contraseña es demasiado corta: { $n } caracteres, hacen falta al menos { $min }
+why-password-long = la contraseña es demasiado larga: { $n } caracteres, se admiten como mucho { $max }
+why-passwords-differ = Contraseña: las dos contraseñas no coinciden; escriba la misma contraseña dos veces.
+why-role = Papel: '{ $value }' no es un papel; elija administrador, coordinador o responsable.
+why-team-name = el nombre de equipo '{ $name }' no se admite: use de 1 a 64 letras, cifras, espacios, '-', '_' o '.'
+why-team-exists = ya existe un equipo '{ $name }'
+why-no-team = no hay ningún equipo con el número { $id }
+why-team-already-disabled = el equipo { $name } ya está desactivado
+why-team-already-active = el equipo { $name } ya está activo
+why-unknown-team = el equipo '{ $name }' no existe: añádalo primero
+why-team-disabled = el equipo { $name } está desactivado: actívelo antes de darle una clave
+why-no-team-token = no hay ninguna clave de equipo con el número { $id }
+why-token-revoked = la clave { $id } ya está revocada
+why-api-token-name = el nombre de una clave de API debe tener de 1 a { $max } caracteres, sin caracteres de control
+why-no-api-token = no hay ninguna clave de API con el número { $id }
+why-api-token-revoked = la clave de API { $id } ya está revocada
+why-source-name = el nombre de fuente '{ $name }' no se admite: use de 1 a 64 letras, cifras, '-', '_' o '.'
+why-source-exists = ya existe una fuente '{ $name }'
+why-no-source = no hay ninguna fuente con el número { $id }
+why-pixel-fixed = fuente { $name }: el tamaño de píxel no puede cambiar una vez importadas sus alertas (sus áreas se dibujaron con { $size } m); registre una fuente nueva
+why-source-same = fuente { $name }: no cambió nada
+why-pixel-size = tamaño de píxel { $size } m: hace falta un número de metros mayor que 0 y de hasta 1000
+why-revisit = intervalo de revisita de { $days } días: hace falta de 1 a 366
+why-settings-same = no cambió nada: todos los valores ya son los vigentes
+why-number-needed = { $field }: hace falta un número.
+why-not-number = { $field }: '{ $value }' no es un número válido
+why-not-date = { $field }: '{ $value }' no es una fecha; escríbala como AAAA-MM-DD
+why-min-area = { $field }: hace falta un número de hectáreas, 0 o más
+why-status = Estado: '{ $value }' no es un estado de evento
+why-trip-state = Estado: '{ $value }' no es un estado de viaje (uno de { $states })
+why-bad-filter = No se pudo leer el filtro; elíjalo de nuevo en la página.
+why-bad-id = { $field }: el identificador '{ $value }' de la dirección no es un número
+why-what-user = usuario
+why-what-team = equipo
+why-what-token = clave
+why-what-api-token = clave de API
+why-what-source = fuente
+why-form-unreadable = No se pudo leer el formulario; envíelo de nuevo desde la página.
+why-admin-only = Solo un administrador con sesión iniciada puede cambiar esto.
+why-internal = Error interno; vea el registro del servidor.
+http-400 = Solicitud no válida
+http-403 = No permitido
+http-404 = No encontrado
+http-409 = En conflicto
+http-410 = Ya no existe
+http-413 = Demasiado grande
+http-422 = No procesable
+http-429 = Demasiadas solicitudes
+http-500 = Error interno del servidor

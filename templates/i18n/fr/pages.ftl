@@ -794,3 +794,67 @@ map-title-event = Événement { $code }
 
 # --- page titles ---
 trip-page-title = Mission { $id }
+
+# --- refusals of forms and filters (r-tidy): why-* is the reason a form or a filter was refused,
+# http-* the heading of an error page.
+why-user-exists = un utilisateur '{ $name }' existe déjà
+why-no-user = aucun utilisateur ne porte le numéro { $id }
+why-last-admin-role = { $name } est le seul administrateur actif : avec un autre rôle, plus personne ne pourrait gérer les utilisateurs ; nommez d'abord un autre administrateur
+why-last-admin-disable = { $name } est le seul administrateur actif : le désactiver ne laisserait personne pour gérer les utilisateurs ; nommez d'abord un autre administrateur
+why-same-role = { $name } a déjà le rôle { $role ->
+        [admin] administrateur
+        [coordinator] coordinateur
+       *[other] responsable
+    }
+why-user-already-disabled = { $name } est déjà désactivé
+why-user-already-enabled = { $name } est déjà actif
+why-user-name = le nom d'utilisateur '{ $name }' n'est pas admis : utilisez de 1 à { $max } lettres, chiffres, '.', '_' ou '-', en commençant par une lettre ou un chiffre
+why-password-short = le mot de passe est trop court : { $n } caractères, il en faut au moins { $min }
+why-password-long = le mot de passe est trop long : { $n } caractères, { $max } au plus sont admis
+why-passwords-differ = Mot de passe : les deux mots de passe diffèrent ; tapez deux fois le même.
+why-role = Rôle : '{ $value }' n'est pas un rôle ; choisissez administrateur, coordinateur ou responsable.
+why-team-name = le nom d'équipe '{ $name }' n'est pas admis : utilisez de 1 à 64 lettres, chiffres, espaces, '-', '_' ou '.'
+why-team-exists = une équipe '{ $name }' existe déjà
+why-no-team = aucune équipe ne porte le numéro { $id }
+why-team-already-disabled = l'équipe { $name } est déjà désactivée
+why-team-already-active = l'équipe { $name } est déjà active
+why-unknown-team = l'équipe '{ $name }' n'existe pas : ajoutez-la d'abord
+why-team-disabled = l'équipe { $name } est désactivée : activez-la avant de lui donner un jeton
+why-no-team-token = aucun jeton d'équipe ne porte le numéro { $id }
+why-token-revoked = le jeton { $id } est déjà révoqué
+why-api-token-name = le nom d'un jeton d'API doit compter de 1 à { $max } caractères, sans caractère de contrôle
+why-no-api-token = aucun jeton d'API ne porte le numéro { $id }
+why-api-token-revoked = le jeton d'API { $id } est déjà révoqué
+why-source-name = le nom de source '{ $name }' n'est pas admis : utilisez de 1 à 64 lettres, chiffres, '-', '_' ou '.'
+why-source-exists = une source '{ $name }' existe déjà
+why-no-source = aucune source ne porte le numéro { $id }
+why-pixel-fixed = source { $name } : la taille de pixel ne peut plus changer une fois des alertes importées (leurs surfaces ont été tracées avec { $size } m) ; enregistrez une nouvelle source
+why-source-same = source { $name } : rien n'a changé
+why-pixel-size = taille de pixel { $size } m : il faut un nombre de mètres supérieur à 0 et jusqu'à 1000
+why-revisit = intervalle de revisite de { $days } jours : il faut de 1 à 366
+why-settings-same = rien n'a changé : chaque valeur est déjà celle en vigueur
+why-number-needed = { $field } : il faut un nombre.
+why-not-number = { $field } : '{ $value }' n'est pas un nombre valable
+why-not-date = { $field } : '{ $value }' n'est pas une date ; écrivez-la AAAA-MM-JJ
+why-min-area = { $field } : il faut un nombre d'hectares, 0 ou plus
+why-status = État : '{ $value }' n'est pas un état d'événement
+why-trip-state = État : '{ $value }' n'est pas un état de mission (l'un de { $states })
+why-bad-filter = Le filtre n'a pas pu être lu ; choisissez-le à nouveau sur la page.
+why-bad-id = { $field } : l'identifiant '{ $value }' de l'adresse n'est pas un nombre
+why-what-user = utilisateur
+why-what-team = équipe
+why-what-token = jeton
+why-what-api-token = jeton d'API
+why-what-source = source
+why-form-unreadable = Le formulaire n'a pas pu être lu ; renvoyez-le depuis la page.
+why-admin-only = Seul un administrateur connecté peut changer ceci.
+why-internal = Erreur interne ; voyez le journal du serveur.
+http-400 = Requête non valable
+http-403 = Non autorisé
+http-404 = Introuvable
+http-409 = En conflit
+http-410 = N'existe plus
+http-413 = Trop volumineux
+http-422 = Impossible à traiter
+http-429 = Trop de requêtes
+http-500 = Erreur interne du serveur

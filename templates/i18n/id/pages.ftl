@@ -782,3 +782,67 @@ map-title-event = Kejadian { $code }
 
 # --- page titles ---
 trip-page-title = Perjalanan { $id }
+
+# --- refusals of forms and filters (r-tidy): why-* is the reason a form or a filter was refused,
+# http-* the heading of an error page.
+why-user-exists = pengguna '{ $name }' sudah ada
+why-no-user = tidak ada pengguna bernomor { $id }
+why-last-admin-role = { $name } adalah satu-satunya admin aktif: dengan peran lain tidak ada lagi yang dapat mengelola pengguna; jadikan orang lain admin dahulu
+why-last-admin-disable = { $name } adalah satu-satunya admin aktif: menonaktifkannya membuat tidak ada yang dapat mengelola pengguna; jadikan orang lain admin dahulu
+why-same-role = { $name } sudah berperan sebagai { $role ->
+        [admin] admin
+        [coordinator] koordinator
+       *[other] manajer
+    }
+why-user-already-disabled = { $name } sudah dinonaktifkan
+why-user-already-enabled = { $name } sudah aktif
+why-user-name = nama pengguna '{ $name }' tidak diterima: pakai 1 sampai { $max } huruf, angka, '.', '_' atau '-', diawali huruf atau angka
+why-password-short = kata sandi terlalu pendek: { $n } karakter, paling sedikit { $min }
+why-password-long = kata sandi terlalu panjang: { $n } karakter, paling banyak { $max }
+why-passwords-differ = Kata sandi: kedua kata sandi tidak sama; ketik kata sandi yang sama dua kali.
+why-role = Peran: '{ $value }' bukan peran; pilih admin, koordinator atau manajer.
+why-team-name = nama tim '{ $name }' tidak diterima: pakai 1 sampai 64 huruf, angka, spasi, '-', '_' atau '.'
+why-team-exists = tim '{ $name }' sudah ada
+why-no-team = tidak ada tim bernomor { $id }
+why-team-already-disabled = tim { $name } sudah dinonaktifkan
+why-team-already-active = tim { $name } sudah aktif
+why-unknown-team = tim '{ $name }' tidak ada: tambahkan dahulu
+why-team-disabled = tim { $name } dinonaktifkan: aktifkan dahulu sebelum memberinya token
+why-no-team-token = tidak ada token tim bernomor { $id }
+why-token-revoked = token { $id } sudah dicabut
+why-api-token-name = nama token API harus 1 sampai { $max } karakter, tanpa karakter kendali
+why-no-api-token = tidak ada token API bernomor { $id }
+why-api-token-revoked = token API { $id } sudah dicabut
+why-source-name = nama sumber '{ $name }' tidak diterima: pakai 1 sampai 64 huruf, angka, '-', '_' atau '.'
+why-source-exists = sumber '{ $name }' sudah ada
+why-no-source = tidak ada sumber bernomor { $id }
+why-pixel-fixed = sumber { $name }: ukuran piksel tidak dapat diubah setelah peringatannya diimpor (luasannya digambar dengan { $size } m); daftarkan sumber baru
+why-source-same = sumber { $name }: tidak ada yang berubah
+why-pixel-size = ukuran piksel { $size } m: perlu jumlah meter lebih dari 0 sampai 1000
+why-revisit = selang kunjungan ulang { $days } hari: perlu 1 sampai 366
+why-settings-same = tidak ada yang berubah: setiap nilai sudah yang berlaku
+why-number-needed = { $field }: perlu sebuah angka.
+why-not-number = { $field }: '{ $value }' bukan angka yang sah
+why-not-date = { $field }: '{ $value }' bukan tanggal; tulis sebagai TTTT-BB-HH
+why-min-area = { $field }: perlu jumlah hektare, 0 atau lebih
+why-status = Status: '{ $value }' bukan status kejadian
+why-trip-state = Keadaan: '{ $value }' bukan keadaan perjalanan (salah satu dari { $states })
+why-bad-filter = Saringan tidak dapat dibaca; pilih lagi di halaman.
+why-bad-id = { $field }: nomor pengenal '{ $value }' di alamat bukan angka
+why-what-user = pengguna
+why-what-team = tim
+why-what-token = token
+why-what-api-token = token API
+why-what-source = sumber
+why-form-unreadable = Formulir tidak dapat dibaca; kirim lagi dari halaman.
+why-admin-only = Hanya admin yang masuk yang dapat mengubah ini.
+why-internal = Galat internal; lihat log server.
+http-400 = Permintaan tidak sah
+http-403 = Tidak diizinkan
+http-404 = Tidak ditemukan
+http-409 = Bertentangan
+http-410 = Sudah tidak ada
+http-413 = Terlalu besar
+http-422 = Tidak dapat diproses
+http-429 = Terlalu banyak permintaan
+http-500 = Galat internal server

@@ -794,3 +794,67 @@ map-title-event = Evento { $code }
 
 # --- page titles ---
 trip-page-title = Viagem { $id }
+
+# --- refusals of forms and filters (r-tidy): why-* is the reason a form or a filter was refused,
+# http-* the heading of an error page.
+why-user-exists = já existe um usuário '{ $name }'
+why-no-user = não há usuário com o número { $id }
+why-last-admin-role = { $name } é o único administrador ativo: com outro papel, ninguém mais poderia gerir os usuários; faça antes outro administrador
+why-last-admin-disable = { $name } é o único administrador ativo: desativá-lo deixaria ninguém para gerir os usuários; faça antes outro administrador
+why-same-role = { $name } já tem o papel de { $role ->
+        [admin] administrador
+        [coordinator] coordenador
+       *[other] gestor
+    }
+why-user-already-disabled = { $name } já está desativado
+why-user-already-enabled = { $name } já está ativo
+why-user-name = o nome de usuário '{ $name }' não é aceito: use de 1 a { $max } letras, algarismos, '.', '_' ou '-', começando por letra ou algarismo
+why-password-short = a senha é curta demais: { $n } caracteres, são precisos pelo menos { $min }
+why-password-long = a senha é longa demais: { $n } caracteres, são aceitos no máximo { $max }
+why-passwords-differ = Senha: as duas senhas não são iguais; digite a mesma senha duas vezes.
+why-role = Papel: '{ $value }' não é um papel; escolha administrador, coordenador ou gestor.
+why-team-name = o nome de equipe '{ $name }' não é aceito: use de 1 a 64 letras, algarismos, espaços, '-', '_' ou '.'
+why-team-exists = já existe uma equipe '{ $name }'
+why-no-team = não há equipe com o número { $id }
+why-team-already-disabled = a equipe { $name } já está desativada
+why-team-already-active = a equipe { $name } já está ativa
+why-unknown-team = a equipe '{ $name }' não existe: adicione-a primeiro
+why-team-disabled = a equipe { $name } está desativada: ative-a antes de lhe dar uma chave
+why-no-team-token = não há chave de equipe com o número { $id }
+why-token-revoked = a chave { $id } já foi revogada
+why-api-token-name = o nome de uma chave de API deve ter de 1 a { $max } caracteres, sem caracteres de controle
+why-no-api-token = não há chave de API com o número { $id }
+why-api-token-revoked = a chave de API { $id } já foi revogada
+why-source-name = o nome de fonte '{ $name }' não é aceito: use de 1 a 64 letras, algarismos, '-', '_' ou '.'
+why-source-exists = já existe uma fonte '{ $name }'
+why-no-source = não há fonte com o número { $id }
+why-pixel-fixed = fonte { $name }: o tamanho do pixel não pode mudar depois que há alertas importados (as áreas deles foram desenhadas com { $size } m); cadastre uma nova fonte
+why-source-same = fonte { $name }: nada mudou
+why-pixel-size = tamanho do pixel { $size } m: é preciso um número de metros maior que 0 e até 1000
+why-revisit = intervalo de revisita de { $days } dias: é preciso de 1 a 366
+why-settings-same = nada mudou: todos os valores já são os que estão em vigor
+why-number-needed = { $field }: é preciso um número.
+why-not-number = { $field }: '{ $value }' não é um número válido
+why-not-date = { $field }: '{ $value }' não é uma data; escreva-a como AAAA-MM-DD
+why-min-area = { $field }: é preciso um número de hectares, 0 ou mais
+why-status = Situação: '{ $value }' não é uma situação de evento
+why-trip-state = Situação: '{ $value }' não é uma situação de viagem (uma de { $states })
+why-bad-filter = Não foi possível ler o filtro; escolha-o de novo na página.
+why-bad-id = { $field }: o identificador '{ $value }' no endereço não é um número
+why-what-user = usuário
+why-what-team = equipe
+why-what-token = chave
+why-what-api-token = chave de API
+why-what-source = fonte
+why-form-unreadable = Não foi possível ler o formulário; envie-o de novo pela página.
+why-admin-only = Só um administrador conectado pode mudar isto.
+why-internal = Erro interno; veja o registro do servidor.
+http-400 = Pedido inválido
+http-403 = Não permitido
+http-404 = Não encontrado
+http-409 = Em conflito
+http-410 = Não existe mais
+http-413 = Grande demais
+http-422 = Não processável
+http-429 = Pedidos demais
+http-500 = Erro interno do servidor

@@ -34,15 +34,22 @@ impl ClusterSettings {
 
 /// Check a source's pixel size and revisit interval.
 pub fn validate_source(pixel_size_m: f64, revisit_days: i64) -> crate::Result<()> {
+    use crate::error::{Error, Fault};
     if !(pixel_size_m.is_finite() && pixel_size_m > 0.0 && pixel_size_m <= 1000.0) {
-        return Err(crate::Error::Invalid(format!(
-            "pixel size {pixel_size_m} m: expected a number of metres in (0, 1000]"
-        )));
+        let english =
+            format!("pixel size {pixel_size_m} m: expected a number of metres in (0, 1000]");
+        let args: [(&str, &dyn std::fmt::Display); 1] = [("size", &pixel_size_m)];
+        return Err(Error::said(
+            Fault::Invalid,
+            "why-pixel-size",
+            &args,
+            english,
+        ));
     }
     if !(1..=366).contains(&revisit_days) {
-        return Err(crate::Error::Invalid(format!(
-            "revisit interval {revisit_days} days: expected 1 to 366"
-        )));
+        let english = format!("revisit interval {revisit_days} days: expected 1 to 366");
+        let args: [(&str, &dyn std::fmt::Display); 1] = [("days", &revisit_days)];
+        return Err(Error::said(Fault::Invalid, "why-revisit", &args, english));
     }
     Ok(())
 }

@@ -18,7 +18,7 @@ use super::tokens::{
     new_team_token, sha256_hex,
 };
 use super::{Identity, Role, generate_password};
-use crate::error::{Error, Result};
+use crate::error::{Error, Fault, Result};
 use crate::platform::storage::{ApiTokenRecord, Db, TeamTokenRecord, User};
 
 /// Environment variable that sets the first admin's password.
@@ -30,7 +30,8 @@ const MAX_NAME_CHARS: usize = 64;
 /// Longest client address stored with an attempt.
 const MAX_CLIENT_CHARS: usize = 64;
 /// Longest token label or team name, in characters.
-const MAX_LABEL_CHARS: usize = 100;
+/// The longest label or team name (characters).
+pub const MAX_LABEL_CHARS: usize = 100;
 
 /// Session lifetimes and login throttling.
 #[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
@@ -136,10 +137,13 @@ pub fn validate_user_name(name: &str) -> Result<()> {
         .all(|c| c.is_ascii_alphanumeric() || matches!(c, '.' | '_' | '-'));
     let n = name.chars().count();
     if !ok_start || !ok_chars || n > MAX_NAME_CHARS {
-        return Err(Error::Invalid(format!(
-            "user name '{}' is not allowed: use 1 to {MAX_NAME_CHARS} letters, digits, '.', '_' or '-', starting with a letter or digit",
-            clip(name, MAX_NAME_CHARS)
-        )));
+        let shown = clip(name, MAX_NAME_CHARS);
+        let english = format!(
+            "user name '{shown}' is not allowed: use 1 to {MAX_NAME_CHARS} letters, digits, '.', '_' or '-', starting with a letter or digit"
+        );
+        let args: [(&str, &dyn std::fmt::Display); 2] =
+            [("name", &shown), ("max", &MAX_NAME_CHARS)];
+        return Err(Error::said(Fault::Invalid, "why-user-name", &args, english));
     }
     Ok(())
 }

@@ -26,7 +26,7 @@ pub use access::{Action, MATRIX, Principal, allowed, matrix_markdown, may_fetch_
 pub use csrf::{CSRF_FIELD, CSRF_HEADER, csrf_token, is_same_origin, new_csrf_secret, verify_csrf};
 pub use flow::{
     ADMIN_PASSWORD_ENV, AuthConfig, FIRST_ADMIN_NAME, FirstAdmin, LoginOutcome, LoginRequest,
-    NewSession, SessionIdentity, admin_password_from_env, authenticate_bearer,
+    MAX_LABEL_CHARS, NewSession, SessionIdentity, admin_password_from_env, authenticate_bearer,
     authenticate_session, bearer_token, change_password, create_user, ensure_first_admin,
     issue_api_token, issue_team_token, login, logout, prune, validate_label, validate_user_name,
 };

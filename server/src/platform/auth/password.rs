@@ -15,7 +15,7 @@
 //! bound keeps one login request from costing much more than another.
 
 use super::tokens::random_bytes;
-use crate::error::{Error, Result};
+use crate::error::{Error, Fault, Result};
 use argon2::password_hash::phc::PasswordHash;
 use argon2::{Algorithm, Argon2, Params, PasswordHasher, PasswordVerifier, Version};
 use std::sync::OnceLock;
@@ -45,14 +45,28 @@ fn hasher() -> Result<Argon2<'static>> {
 pub fn check_password_policy(password: &str) -> Result<()> {
     let n = password.chars().count();
     if n < MIN_PASSWORD_CHARS {
-        return Err(Error::Invalid(format!(
+        let english = format!(
             "the password is too short: {n} characters, at least {MIN_PASSWORD_CHARS} are needed"
-        )));
+        );
+        let args: [(&str, &dyn std::fmt::Display); 2] = [("n", &n), ("min", &MIN_PASSWORD_CHARS)];
+        return Err(Error::said(
+            Fault::Invalid,
+            "why-password-short",
+            &args,
+            english,
+        ));
     }
     if n > MAX_PASSWORD_CHARS {
-        return Err(Error::Invalid(format!(
+        let english = format!(
             "the password is too long: {n} characters, at most {MAX_PASSWORD_CHARS} are allowed"
-        )));
+        );
+        let args: [(&str, &dyn std::fmt::Display); 2] = [("n", &n), ("max", &MAX_PASSWORD_CHARS)];
+        return Err(Error::said(
+            Fault::Invalid,
+            "why-password-long",
+            &args,
+            english,
+        ));
     }
     Ok(())
 }

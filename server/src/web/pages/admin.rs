@@ -9,7 +9,7 @@
 //! page with the reason and changes nothing; a saved one redirects (303) to
 //! its page with `?done=1`, which shows the newest log row of this admin.
 
-use super::common::{Layout, PageError, Viewer, respond, see_other};
+use super::common::{Field, Layout, PageError, Viewer, respond, see_other};
 use crate::error::Error;
 use crate::platform::admin::Actor;
 use crate::platform::auth::{Identity, now_unix};
@@ -137,10 +137,9 @@ pub fn actor(req: &HttpRequest) -> Result<Actor, PageError> {
         .get::<Identity>()
         .and_then(Actor::of)
         .ok_or_else(|| {
-            PageError::new(
-                actix_web::http::StatusCode::FORBIDDEN,
-                "Only a signed-in admin may change this.",
-            )
+            let english = "Only a signed-in admin may change this.";
+            PageError::new(actix_web::http::StatusCode::FORBIDDEN, english)
+                .worded("why-admin-only", &[])
         })
 }
 
@@ -253,9 +252,7 @@ pub async fn log(
 ) -> HttpResponse {
     let viewer = Viewer::of(&req);
     let r = async {
-        let before = q
-            .map_err(|e| PageError::bad_request(format!("The page address is not valid: {e}")))?
-            .before;
+        let before = q.map_err(super::common::bad_filter)?.before;
         let db = state.db.clone();
         let entries =
             web::block(move || db.read(|r| r.admin_log(before, LOG_PAGE_ROWS + 1))).await??;
@@ -278,13 +275,51 @@ pub async fn log(
     super::common::respond(&req, &viewer, r)
 }
 
+/// What a path id names, for [`path_id`]'s message.
+pub const USER: Field<'static> = Field {
+    id: "why-what-user",
+    english: "user",
+};
+pub const TEAM: Field<'static> = Field {
+    id: "why-what-team",
+    english: "team",
+};
+pub const TEAM_TOKEN: Field<'static> = Field {
+    id: "why-what-token",
+    english: "token",
+};
+pub const API_TOKEN: Field<'static> = Field {
+    id: "why-what-api-token",
+    english: "API token",
+};
+pub const SOURCE: Field<'static> = Field {
+    id: "why-what-source",
+    english: "source",
+};
+
 /// A path id that must be a number; the message names what it is.
-pub fn path_id(raw: &str, what: &str) -> Result<i64, PageError> {
-    raw.parse()
-        .map_err(|_| PageError::bad_request(format!("{what} id '{raw}' is not a number")))
+pub fn path_id(raw: &str, what: Field<'_>) -> Result<i64, PageError> {
+    raw.parse().map_err(|_| {
+        let english = format!("{} id '{raw}' is not a number", what.english);
+        PageError::said(
+            "why-bad-id",
+            &[("field", &what.id), ("value", &raw)],
+            english,
+        )
+    })
+}
+
+/// The role a form names.
+pub fn role(raw: Option<&str>) -> Result<crate::platform::auth::Role, PageError> {
+    let raw = raw.unwrap_or_default();
+    crate::platform::auth::Role::parse(raw).map_err(|m| {
+        let value: String = raw.trim().chars().take(40).collect();
+        PageError::said("why-role", &[("value", &value)], format!("Role: {m}."))
+    })
 }
 
 /// A form that could not be read at all.
 pub fn unreadable(e: actix_web::Error) -> PageError {
     PageError::bad_request(format!("The form could not be read: {e}"))
+        .worded("why-form-unreadable", &[])
 }

@@ -6,7 +6,7 @@
 
 use super::admin::{self, Chrome};
 use super::common::PageError;
-use crate::error::Error;
+use crate::error::{Error, Fault};
 use crate::platform::admin as ops;
 use crate::platform::settings::{
     AREA_REF_MAX_HA, RECENCY_MAX_DAYS, Settings, TOLERANCE_MAX_M, WEIGHT_MAX,
@@ -54,22 +54,35 @@ impl SettingsForm {
     /// Apply the form to `s`; a message names the field that is not a
     /// number (bounds are checked on the whole by `Settings::check`).
     fn apply(&self, s: &mut Settings) -> Result<(), Error> {
-        let num = |label: &str, v: &str| -> Result<f64, Error> {
+        // (label's message id, English label), value.
+        let num = |(id, label): (&str, &str), v: &str| -> Result<f64, Error> {
             let t = v.trim();
             t.parse::<f64>()
                 .ok()
                 .filter(|x| x.is_finite())
-                .ok_or_else(|| Error::Invalid(format!("{label}: '{t}' is not a number")))
+                .ok_or_else(|| {
+                    let english = format!("{label}: '{t}' is not a number");
+                    let args: [(&str, &dyn std::fmt::Display); 2] = [("field", &id), ("value", &t)];
+                    Error::said(Fault::Invalid, "why-not-number", &args, english)
+                })
         };
         let p = &mut s.priority;
-        p.area = num("Weight of area", &self.area)?;
-        p.recency = num("Weight of recency", &self.recency)?;
-        p.corroboration = num("Weight of corroboration", &self.corroboration)?;
-        p.confidence = num("Weight of confidence", &self.confidence)?;
-        p.zone = num("Weight of priority zone", &self.zone)?;
-        p.area_ref_ha = num("Reference area (ha)", &self.area_ref_ha)?;
-        p.recency_days = num("Recency time (days)", &self.recency_days)?;
-        s.evidence.tolerance_m = num("Evidence tolerance (m)", &self.tolerance_m)?;
+        p.area = num(("adm-w-area", "Weight of area"), &self.area)?;
+        p.recency = num(("adm-w-recency", "Weight of recency"), &self.recency)?;
+        let corroboration = ("adm-w-corroboration", "Weight of corroboration");
+        p.corroboration = num(corroboration, &self.corroboration)?;
+        p.confidence = num(
+            ("adm-w-confidence", "Weight of confidence"),
+            &self.confidence,
+        )?;
+        p.zone = num(("adm-w-zone", "Weight of priority zone"), &self.zone)?;
+        p.area_ref_ha = num(("adm-area-ref", "Reference area (ha)"), &self.area_ref_ha)?;
+        p.recency_days = num(
+            ("adm-recency-days", "Recency time (days)"),
+            &self.recency_days,
+        )?;
+        let tolerance = ("adm-tolerance", "Evidence tolerance (m)");
+        s.evidence.tolerance_m = num(tolerance, &self.tolerance_m)?;
         s.organisation.time_zone = self.time_zone.trim().to_string();
         s.organisation.default_language = self.default_language.trim().to_string();
         Ok(())

@@ -3,7 +3,7 @@
 //! `alerts::sources` with its log row.
 
 use super::admin::{self, Chrome};
-use super::common::PageError;
+use super::common::{Field, PageError};
 use crate::alerts::sources as ops;
 use crate::error::Error;
 use crate::platform::admin::Actor;
@@ -40,15 +40,27 @@ pub struct SourceForm {
 impl SourceForm {
     /// The two numbers; a message names the field and the value.
     fn numbers(&self) -> Result<(f64, i64), PageError> {
-        let pixel = number::<f64>("Pixel size (m)", &self.pixel_size_m)?;
-        let revisit = number::<i64>("Revisit interval (days)", &self.revisit_days)?;
+        let pixel = number::<f64>(
+            field("adm-pixel-size", "Pixel size (m)"),
+            &self.pixel_size_m,
+        )?;
+        let revisit = number::<i64>(
+            field("adm-revisit", "Revisit interval (days)"),
+            &self.revisit_days,
+        )?;
         Ok((pixel, revisit))
     }
 }
 
-fn number<T: std::str::FromStr>(label: &str, v: &Option<String>) -> Result<T, PageError> {
-    super::common::opt_number::<T>(label, v)?
-        .ok_or_else(|| PageError::bad_request(format!("{label}: a number is needed.")))
+fn field(id: &'static str, english: &'static str) -> Field<'static> {
+    Field { id, english }
+}
+
+fn number<T: std::str::FromStr>(f: Field<'_>, v: &Option<String>) -> Result<T, PageError> {
+    super::common::opt_number::<T>(f, v)?.ok_or_else(|| {
+        let english = format!("{}: a number is needed.", f.english);
+        PageError::said("why-number-needed", &[("field", &f.id)], english)
+    })
 }
 
 async fn sources_page(
@@ -138,7 +150,7 @@ pub async fn edit(
     path: web::Path<String>,
     form: Result<web::Form<SourceForm>, actix_web::Error>,
 ) -> HttpResponse {
-    let checked = admin::path_id(&path, "source").and_then(|id| {
+    let checked = admin::path_id(&path, admin::SOURCE).and_then(|id| {
         let (p, r) = form.map_err(admin::unreadable)?.numbers()?;
         Ok((id, p, r))
     });

@@ -5,7 +5,7 @@
 
 use super::admin::{self, Chrome};
 use super::common::{PageError, Viewer, local_unix, respond};
-use crate::error::Error;
+use crate::error::{Error, Fault};
 use crate::platform::admin as ops;
 use crate::platform::auth::now_unix;
 use crate::web::AppState;
@@ -142,7 +142,7 @@ async fn set_disabled(
     let db = state.db.clone();
     let change =
         move |a: &ops::Actor, id, now| ops::set_team_disabled(&db, a, id, off, now).map(drop);
-    let checked = admin::path_id(raw, "team");
+    let checked = admin::path_id(raw, admin::TEAM);
     apply(req, state, String::new(), checked, change).await
 }
 
@@ -172,13 +172,14 @@ pub async fn new_token(
 ) -> HttpResponse {
     let viewer = Viewer::of(&req);
     let made = async {
-        let id = admin::path_id(&path, "team")?;
+        let id = admin::path_id(&path, admin::TEAM)?;
         let actor = admin::actor(&req)?;
         let db = state.db.clone();
         let out = web::block(move || {
-            let team = db
-                .read(|r| r.team_state(id))?
-                .ok_or_else(|| Error::NotFound(format!("no team with id {id}")))?;
+            let team = db.read(|r| r.team_state(id))?.ok_or_else(|| {
+                let english = format!("no team with id {id}");
+                Error::said(Fault::NotFound, "why-no-team", &[("id", &id)], english)
+            })?;
             let (rec, token) = ops::create_team_token(&db, &actor, &team.name, now_unix())?;
             Ok::<_, Error>(NewToken {
                 team: team.name,
@@ -205,6 +206,6 @@ pub async fn revoke_token(
 ) -> HttpResponse {
     let db = state.db.clone();
     let change = move |a: &ops::Actor, id, now| ops::revoke_team_token(&db, a, id, now);
-    let checked = admin::path_id(&path, "token");
+    let checked = admin::path_id(&path, admin::TEAM_TOKEN);
     apply(req, state, String::new(), checked, change).await
 }

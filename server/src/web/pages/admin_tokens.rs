@@ -55,8 +55,7 @@ pub struct TokenForm {
 impl TokenForm {
     /// The role and the name; a message names the field.
     fn checked(&self) -> Result<(Role, String), PageError> {
-        let role = Role::parse(self.role.as_deref().unwrap_or_default())
-            .map_err(|m| PageError::bad_request(format!("Role: {m}.")))?;
+        let role = admin::role(self.role.as_deref())?;
         Ok((role, self.label.clone().unwrap_or_default()))
     }
 }
@@ -152,7 +151,7 @@ pub async fn revoke(
     let change = move |a: &ops::Actor, id, now| -> Result<(), Error> {
         ops::revoke_api_token(&db, a, id, now).map(drop)
     };
-    let checked = admin::path_id(&path, "API token");
+    let checked = admin::path_id(&path, admin::API_TOKEN);
     let page = |e| async {
         let (req, state) = (&req, &state);
         tokens_page(req, state, false, Some(e), None, TokenForm::default()).await

@@ -94,17 +94,15 @@ pub async fn list(req: HttpRequest, state: web::Data<AppState>, q: admin::DoneAr
 }
 
 fn role_of(f: &UserForm) -> Result<Role, PageError> {
-    Role::parse(f.role.as_deref().unwrap_or_default())
-        .map_err(|m| PageError::bad_request(format!("Role: {m}.")))
+    admin::role(f.role.as_deref())
 }
 
 /// The new password, typed twice alike.
 fn password_of(f: &UserForm) -> Result<String, PageError> {
     let p = f.password.clone().unwrap_or_default();
     if f.password_again.as_deref() != Some(p.as_str()) {
-        return Err(PageError::bad_request(
-            "Password: the two passwords differ; type the same password twice.",
-        ));
+        let english = "Password: the two passwords differ; type the same password twice.";
+        return Err(PageError::said("why-passwords-differ", &[], english));
     }
     Ok(p)
 }
@@ -159,7 +157,7 @@ pub async fn set_role(
     path: web::Path<String>,
     form: Result<web::Form<UserForm>, actix_web::Error>,
 ) -> HttpResponse {
-    let checked = admin::path_id(&path, "user")
+    let checked = admin::path_id(&path, admin::USER)
         .and_then(|id| Ok((id, role_of(&*form.map_err(admin::unreadable)?)?)));
     let db = state.db.clone();
     let change =
@@ -174,7 +172,7 @@ pub async fn reset_password(
     path: web::Path<String>,
     form: Result<web::Form<UserForm>, actix_web::Error>,
 ) -> HttpResponse {
-    let checked = admin::path_id(&path, "user")
+    let checked = admin::path_id(&path, admin::USER)
         .and_then(|id| Ok((id, password_of(&*form.map_err(admin::unreadable)?)?)));
     let db = state.db.clone();
     let change = move |a: &ops::Actor, (id, pw): (i64, String), now| {
@@ -210,6 +208,6 @@ async fn set_disabled(
     let db = state.db.clone();
     let change =
         move |a: &ops::Actor, id, now| ops::set_user_disabled(&db, a, id, off, now).map(drop);
-    let checked = admin::path_id(raw, "user");
+    let checked = admin::path_id(raw, admin::USER);
     apply(req, state, UserForm::default(), checked, change).await
 }

@@ -169,12 +169,13 @@ pub fn page(t: &impl Template) -> Result<HttpResponse, PageError> {
 
 /// The error page for `e`.
 pub fn error_page(req: &HttpRequest, viewer: &Viewer, e: &PageError) -> HttpResponse {
-    let reason = e.status.canonical_reason().unwrap_or("Error");
+    let tr = crate::web::i18n::tr_of(req);
+    let (reason, message) = (e.reason(&tr), e.text(&tr));
     let t = ErrorPage {
-        layout: Layout::new(req, viewer, reason, ""),
+        layout: Layout::new(req, viewer, &reason, ""),
         status: e.status.as_u16(),
-        reason,
-        message: &e.message,
+        reason: &reason,
+        message: &message,
         details: &e.details,
     };
     match t.render() {
@@ -209,28 +210,64 @@ pub fn non_empty(v: &Option<String>) -> Option<String> {
         .map(str::to_string)
 }
 
+/// A form field as a refusal names it: the message id of its label (looked
+/// up in the reader's language; an id the catalogues lack shows as it is)
+/// and its English label.
+#[derive(Debug, Clone, Copy)]
+pub struct Field<'a> {
+    pub id: &'a str,
+    pub english: &'a str,
+}
+
+impl<'a> From<&'a str> for Field<'a> {
+    /// A field known only by its English label.
+    fn from(english: &'a str) -> Field<'a> {
+        Field {
+            id: english,
+            english,
+        }
+    }
+}
+
 /// Parse an optional form number; a clear message names the field.
-pub fn opt_number<T: std::str::FromStr>(
-    label: &str,
+pub fn opt_number<'a, T: std::str::FromStr>(
+    label: impl Into<Field<'a>>,
     v: &Option<String>,
 ) -> Result<Option<T>, PageError> {
+    let f = label.into();
     match non_empty(v) {
         None => Ok(None),
-        Some(s) => s
-            .parse::<T>()
-            .map(Some)
-            .map_err(|_| PageError::bad_request(format!("{label}: '{s}' is not a valid number"))),
+        Some(s) => s.parse::<T>().map(Some).map_err(|_| {
+            let english = format!("{}: '{s}' is not a valid number", f.english);
+            PageError::said(
+                "why-not-number",
+                &[("field", &f.id), ("value", &s)],
+                english,
+            )
+        }),
     }
 }
 
 /// Parse an optional form date (YYYY-MM-DD).
-pub fn opt_day(label: &str, v: &Option<String>) -> Result<Option<crate::domain::Day>, PageError> {
+pub fn opt_day<'a>(
+    label: impl Into<Field<'a>>,
+    v: &Option<String>,
+) -> Result<Option<crate::domain::Day>, PageError> {
+    let f = label.into();
     non_empty(v)
         .map(|s| {
-            crate::domain::Day::parse(&s)
-                .map_err(|m| PageError::bad_request(format!("{label}: {m}")))
+            crate::domain::Day::parse(&s).map_err(|m| {
+                let english = format!("{}: {m}", f.english);
+                PageError::said("why-not-date", &[("field", &f.id), ("value", &s)], english)
+            })
         })
         .transpose()
+}
+
+/// A filter's query string that could not be read at all (the English
+/// text keeps the parser's detail; the pages say it plainly).
+pub fn bad_filter(e: impl std::fmt::Display) -> PageError {
+    PageError::said("why-bad-filter", &[], format!("bad filter: {e}"))
 }
 
 /// A number with `decimals` decimals, or "–" when not finite.

@@ -6,7 +6,9 @@
 //! export links. Everything is computed from the stored facts on each
 //! request ([`crate::statistics::kept`]).
 
-use super::common::{Layout, PageError, Viewer, fixed, non_empty, opt_day, page, percent, respond};
+use super::common::{
+    Field, Layout, PageError, Viewer, fixed, non_empty, opt_day, page, percent, respond,
+};
 use super::events::{Choice, urlencode};
 use super::figure_words::{cause_name, chart_words, group_name, stratum_label};
 use crate::domain::EventStatus;
@@ -783,8 +785,20 @@ async fn dashboard_page(
     q: DashboardQuery,
 ) -> Result<HttpResponse, PageError> {
     let filter = StatsFilter {
-        from: opt_day("From", &q.from)?,
-        to: opt_day("To", &q.to)?,
+        from: opt_day(
+            Field {
+                id: "dash-from",
+                english: "From",
+            },
+            &q.from,
+        )?,
+        to: opt_day(
+            Field {
+                id: "dash-to",
+                english: "To",
+            },
+            &q.to,
+        )?,
         zone: non_empty(&q.zone),
         team: non_empty(&q.team),
         source: non_empty(&q.source),
@@ -834,7 +848,7 @@ pub async fn show(
 ) -> HttpResponse {
     let viewer = Viewer::of(&req);
     let r = async {
-        let q = q.map_err(|e| PageError::bad_request(format!("bad filter: {e}")))?;
+        let q = q.map_err(super::common::bad_filter)?;
         dashboard_page(&req, &state, &viewer, q.into_inner()).await
     }
     .await;

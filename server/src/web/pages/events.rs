@@ -3,7 +3,8 @@
 //! thumbnails and their evidence checks).
 
 use super::common::{
-    Layout, PageError, Viewer, fixed, non_empty, opt_day, opt_number, page, respond,
+    Field, Layout, PageError, Viewer, bad_filter, fixed, non_empty, opt_day, opt_number, page,
+    respond,
 };
 use super::figure_words::map_input_in;
 use super::live_map::LiveMap;
@@ -176,30 +177,48 @@ async fn list_page(
     page(&t)
 }
 
+/// The minimum area field of the filter.
+const MIN_AREA: Field<'static> = Field {
+    id: "trips-min-area",
+    english: "Minimum area",
+};
+
 /// The storage filter and the status asked for, checked as typed.
 fn list_filter(q: &EventsQuery) -> Result<(EventFilter, Option<EventStatus>), PageError> {
     let filter = EventFilter {
         zone: non_empty(&q.zone),
-        from: opt_day("From", &q.from)?,
-        to: opt_day("To", &q.to)?,
+        from: opt_day(
+            Field {
+                id: "trips-from",
+                english: "From",
+            },
+            &q.from,
+        )?,
+        to: opt_day(
+            Field {
+                id: "trips-to",
+                english: "To",
+            },
+            &q.to,
+        )?,
         source: non_empty(&q.source),
-        min_area_ha: opt_number::<f64>("Minimum area", &q.min_area_ha)?,
+        min_area_ha: opt_number::<f64>(MIN_AREA, &q.min_area_ha)?,
         limit: None,
     };
     if filter
         .min_area_ha
         .is_some_and(|a| !(a.is_finite() && a >= 0.0))
     {
-        return Err(PageError::bad_request(
-            "Minimum area: expected a number of hectares, 0 or more",
-        ));
+        let english = "Minimum area: expected a number of hectares, 0 or more";
+        let e = PageError::bad_request(english);
+        return Err(e.worded("why-min-area", &[("field", &MIN_AREA.id)]));
     }
     let status = match non_empty(&q.status) {
         None => None,
-        Some(s) => Some(
-            EventStatus::parse(&s)
-                .ok_or_else(|| PageError::bad_request(format!("Status: '{s}' is not a status")))?,
-        ),
+        Some(s) => Some(EventStatus::parse(&s).ok_or_else(|| {
+            let e = PageError::bad_request(format!("Status: '{s}' is not a status"));
+            e.worded("why-status", &[("value", &s)])
+        })?),
     };
     Ok((filter, status))
 }
@@ -256,7 +275,7 @@ pub async fn list(
 ) -> HttpResponse {
     let viewer = Viewer::of(&req);
     let r = async {
-        let q = q.map_err(|e| PageError::bad_request(format!("bad filter: {e}")))?;
+        let q = q.map_err(bad_filter)?;
         list_page(&req, &state, q.into_inner()).await
     }
     .await;

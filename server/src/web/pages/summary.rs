@@ -4,7 +4,7 @@
 //! (`templates/pages/summary.html` holds the print CSS). The same figures
 //! as the dashboard ([`super::dashboard`]), computed the same way.
 
-use super::common::{Layout, PageError, Viewer, non_empty, opt_day, page, percent, respond};
+use super::common::{Field, Layout, PageError, Viewer, non_empty, opt_day, page, percent, respond};
 use super::dashboard::{
     Numbers, Trends, km_chart, monthly_chart, numbers, team_rows, translated_layout, trend_charts,
 };
@@ -87,8 +87,20 @@ async fn summary_page(
     q: SummaryQuery,
 ) -> Result<HttpResponse, PageError> {
     let filter = StatsFilter {
-        from: opt_day("From", &q.from)?,
-        to: opt_day("To", &q.to)?,
+        from: opt_day(
+            Field {
+                id: "dash-from",
+                english: "From",
+            },
+            &q.from,
+        )?,
+        to: opt_day(
+            Field {
+                id: "dash-to",
+                english: "To",
+            },
+            &q.to,
+        )?,
         zone: non_empty(&q.zone),
         team: None,
         source: None,
@@ -144,7 +156,7 @@ pub async fn show(
 ) -> HttpResponse {
     let viewer = Viewer::of(&req);
     let r = async {
-        let q = q.map_err(|e| PageError::bad_request(format!("bad filter: {e}")))?;
+        let q = q.map_err(super::common::bad_filter)?;
         summary_page(&req, &state, q.into_inner()).await
     }
     .await;

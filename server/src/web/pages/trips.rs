@@ -80,10 +80,11 @@ fn list_filters(q: &TripsQuery) -> Result<(Option<TripState>, Option<String>), P
     let state = match non_empty(&q.state) {
         None => None,
         Some(s) => Some(TripState::parse(&s).ok_or_else(|| {
-            PageError::bad_request(format!(
-                "State: '{s}' is not a trip state (one of {})",
-                TripState::ALL.map(TripState::as_str).join(", ")
-            ))
+            let one_of = TripState::ALL.map(TripState::as_str).join(", ");
+            let e = PageError::bad_request(format!(
+                "State: '{s}' is not a trip state (one of {one_of})"
+            ));
+            e.worded("why-trip-state", &[("value", &s), ("states", &one_of)])
         })?),
     };
     Ok((state, non_empty(&q.team)))
@@ -278,9 +279,7 @@ pub async fn list(
 ) -> HttpResponse {
     let viewer = Viewer::of(&req);
     let r = async {
-        let q = q
-            .map_err(|e| PageError::bad_request(format!("bad filter: {e}")))?
-            .into_inner();
+        let q = q.map_err(super::common::bad_filter)?.into_inner();
         trips_page(&req, &state, &viewer, IssueForm::default(), None, q).await
     }
     .await;
