@@ -264,23 +264,40 @@ pub fn post_json(url: &str, body: &serde_json::Value) -> Reply {
 
 /// Register the demo scenario's sources, zones, teams and alerts over HTTP.
 pub fn load_scenario(s: &TestServer) {
+    load_scenario_at(&s.url(""));
+}
+
+/// Makes the request helpers send `token` to the server at `base`
+/// (`http://host:port`), as they send the admin token of a [`TestServer`]:
+/// for servers the test started as processes of their own.
+pub fn use_token(base: &str, token: &str) {
+    let host = base.trim_start_matches("http://").trim_end_matches('/');
+    tokens()
+        .lock()
+        .unwrap_or_else(|p| p.into_inner())
+        .insert(host.to_string(), token.to_string());
+}
+
+/// [`load_scenario`] through the server at `base` (`http://host:port`).
+pub fn load_scenario_at(base: &str) {
     use serde_json::json;
+    let url = |path: &str| format!("{}{path}", base.trim_end_matches('/'));
     let scenario = mock_patrols::scenario();
     for src in &scenario.sources {
         let r = post_json(
-            &s.url("/api/v1/sources"),
+            &url("/api/v1/sources"),
             &json!({"name": src.name, "pixel_size_m": src.pixel_size_m, "revisit_days": src.revisit_days}),
         );
         assert_eq!(r.status, 201, "{}", r.body);
     }
     let z = post_bytes(
-        &s.url("/api/v1/zones"),
+        &url("/api/v1/zones"),
         "application/geo+json",
         mock_patrols::zones_geojson(&scenario).as_bytes(),
     );
     assert_eq!(z.status, 200, "{}", z.body);
     for t in &scenario.teams {
-        let r = post_json(&s.url("/api/v1/teams"), &json!({"name": t}));
+        let r = post_json(&url("/api/v1/teams"), &json!({"name": t}));
         assert_eq!(r.status, 201, "{}", r.body);
     }
     for (source, rows) in mock_patrols::generate_alerts(&scenario, 42) {
@@ -290,7 +307,7 @@ pub fn load_scenario(s: &TestServer) {
             mock_patrols::alerts_csv(&rows)
         };
         let r = post_bytes(
-            &s.url(&format!("/api/v1/alerts?source={source}")),
+            &url(&format!("/api/v1/alerts?source={source}")),
             "text/plain",
             body.as_bytes(),
         );

@@ -29,3 +29,4 @@ mod stats_cache;
 mod tls;
 mod tls_push;
 mod trips;
+mod shared_state;

@@ -782,3 +782,6 @@ map-title-event = Kejadian { $code }
 
 # --- page titles ---
 trip-page-title = Perjalanan { $id }
+
+# --- shared settings (issue 15, r-shared) ---
+adm-settings-intro-shared = Pengaturan ini milik organisasi, disimpan di basis data dan dipakai bersama oleh semua server stasiun ini. Saat disimpan, nilai yang tersimpan dibaca lagi, nilai di bawah diubah, semuanya diperiksa lalu disimpan dengan satu baris di log perubahan; server ini langsung memakainya dan server lain dalam beberapa detik. Jika ada nilai yang ditolak, tidak ada yang diubah. { $file } adalah salinan server ini: mengubahnya juga mengubah pengaturan (perubahannya diperiksa dan dicatat dengan cara yang sama), termasuk yang tidak ada di sini (cara peringatan digabung menjadi kejadian).

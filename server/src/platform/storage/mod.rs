@@ -33,6 +33,7 @@ mod r_speed_extra;
 mod returns;
 mod schema;
 mod schema_pg;
+mod shared;
 mod sources;
 mod station;
 pub(crate) mod stats;
@@ -52,6 +53,7 @@ pub use returns::{
     OpenUploads, PhotoCheckRow, PhotoRow, RETURNS_MIGRATION, ReportPhotoRow, ReportRow, ResultRow,
     ReturnRecord, UploadRecord,
 };
+pub use shared::{SHARED_MIGRATION, StoredDraft, StoredSettings};
 pub use sources::Source;
 pub use station::StationEntry;
 pub use stats::{AdjudicationRow, ControlRow, StatsEventRow, StatsReportRef};
@@ -96,7 +98,7 @@ struct Lite {
 
 /// Tables that hold no fact the statistics read: accounts, sessions,
 /// tokens, login attempts and upload progress.
-const BOOKKEEPING_TABLES: [&str; 8] = [
+const BOOKKEEPING_TABLES: [&str; 10] = [
     "users",
     "sessions",
     "api_tokens",
@@ -105,6 +107,8 @@ const BOOKKEEPING_TABLES: [&str; 8] = [
     "uploads",
     "pairings",
     "admin_log",
+    "org_settings",
+    "station_drafts",
 ];
 
 /// Which data the stored facts are: equal stamps mean no fact changed in
