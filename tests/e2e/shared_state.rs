@@ -181,11 +181,13 @@ fn a_settings_change_on_one_instance_is_in_force_on_the_other_within_seconds() {
         &format!("{}/admin/settings", a.base),
         &settings_form("250", "Etc/GMT+4"),
     );
+    // (The agent follows the 303 without the token: the login page.)
     assert_eq!(saved.status, 200, "{}", saved.body);
+    let page = get(&format!("{}/admin/settings", a.base));
     assert!(
-        saved.body.contains("evidence.tolerance_m 120.0 → 250.0"),
+        page.body.contains("evidence.tolerance_m 120.0 → 250.0"),
         "{}",
-        saved.body
+        page.body
     );
     let took = until_tolerance(&b, "250", Duration::from_secs(5))
         .expect("B uses the change saved through A within 5 s");
