@@ -38,11 +38,19 @@ fn database() -> Option<String> {
     }
 }
 
-/// The S3 test server: `--evidence` for a new prefix, the environment a
+/// The S3 test server under a new prefix: `--evidence`, the environment a
 /// server needs, and the store as this test reads it.
-fn s3() -> Option<(String, Vec<(&'static str, String)>, Evidence)> {
+struct SharedStore {
+    location: String,
+    envs: Vec<(&'static str, String)>,
+    store: Evidence,
+}
+
+fn s3() -> Option<SharedStore> {
     let Ok(endpoint) = std::env::var("GROUNDPROOF_TEST_S3") else {
-        missing("GROUNDPROOF_TEST_S3 is not set (an S3-compatible test server; .ci/run starts s3s-fs)");
+        missing(
+            "GROUNDPROOF_TEST_S3 is not set (an S3-compatible test server; .ci/run starts s3s-fs)",
+        );
         return None;
     };
     let endpoint = if endpoint.starts_with("http") {
@@ -73,7 +81,11 @@ fn s3() -> Option<(String, Vec<(&'static str, String)>, Evidence)> {
         ("AWS_SECRET_ACCESS_KEY", secret),
         ("AWS_REGION", "us-east-1".to_string()),
     ];
-    Some((format!("s3://{BUCKET}/{prefix}"), envs, store))
+    Some(SharedStore {
+        location: format!("s3://{BUCKET}/{prefix}"),
+        envs,
+        store,
+    })
 }
 
 /// A server process, killed when dropped.
@@ -169,7 +181,10 @@ fn a_settings_change_on_one_instance_is_in_force_on_the_other_within_seconds() {
     let b = start(&data_b, &database, "local", &[]);
     admin_token_for(&database, &[&a, &b]);
     let took = until_tolerance(&b, "120", Duration::from_secs(10));
-    assert!(took.is_some(), "B uses the settings A took in from its file");
+    assert!(
+        took.is_some(),
+        "B uses the settings A took in from its file"
+    );
     let copy = std::fs::read_to_string(data_a.join("settings.toml")).unwrap();
     assert!(
         copy.starts_with("# Groundproof settings, version 1"),
@@ -220,7 +235,12 @@ fn a_settings_change_on_one_instance_is_in_force_on_the_other_within_seconds() {
 #[test]
 fn a_station_entry_started_on_one_instance_continues_and_is_saved_on_the_other() {
     let Some(database) = database() else { return };
-    let Some((evidence, envs, store)) = s3() else {
+    let Some(SharedStore {
+        location: evidence,
+        envs,
+        store,
+    }) = s3()
+    else {
         return;
     };
     let tmp = tempfile::tempdir().unwrap();
@@ -249,15 +269,26 @@ fn a_station_entry_started_on_one_instance_continues_and_is_saved_on_the_other()
         kv("local_offset", "+00:00"),
         kv(&format!("outcome.{}", e1.code), "confirmed"),
         kv(&format!("detail.{}", e1.code), &cl.causes[0]),
-        kv(&format!("notes.{}", e1.code), "entered through the first server"),
+        kv(
+            &format!("notes.{}", e1.code),
+            "entered through the first server",
+        ),
         kv("action", "keep"),
     ];
     let kept = post_form(&format!("{}/station/trips/{trip}", a.base), &fields);
     assert_eq!(kept.status, 200, "{}", kept.body);
-    assert!(text_of(&kept.body, "[role=alert]").is_empty(), "{}", kept.body);
+    assert!(
+        text_of(&kept.body, "[role=alert]").is_empty(),
+        "{}",
+        kept.body
+    );
     // The photos are in the shared store, under drafts/.
     let objects = store.list("drafts/").unwrap();
-    assert_eq!(objects.len(), 4, "two photos and two thumbnails: {objects:?}");
+    assert_eq!(
+        objects.len(),
+        4,
+        "two photos and two thumbnails: {objects:?}"
+    );
 
     // Through B: the same entry, its photos at the stop, their thumbnails.
     let page = get(&format!("{}/station/trips/{trip}", b.base));

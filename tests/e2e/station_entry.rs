@@ -64,7 +64,12 @@ pub(crate) fn kv(k: &str, v: &str) -> (String, String) {
 }
 
 /// A camera photo with EXIF time and GPS position (mock-patrols' generator).
-pub(crate) fn camera_photo(seed: u64, lat: f64, lon: f64, when: chrono::DateTime<chrono::Utc>) -> Vec<u8> {
+pub(crate) fn camera_photo(
+    seed: u64,
+    lat: f64,
+    lon: f64,
+    when: chrono::DateTime<chrono::Utc>,
+) -> Vec<u8> {
     make_photo(
         seed,
         320,

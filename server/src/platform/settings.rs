@@ -226,10 +226,16 @@ fn stored(r: &Reader<'_>) -> Result<Option<(i64, Settings)>> {
         return Ok(None);
     };
     let s: Settings = toml::from_str(&row.text).map_err(|e| {
-        Error::Internal(format!("the stored settings (version {}): {e}", row.version))
+        Error::Internal(format!(
+            "the stored settings (version {}): {e}",
+            row.version
+        ))
     })?;
     s.check().map_err(|m| {
-        Error::Internal(format!("the stored settings (version {}): {m}", row.version))
+        Error::Internal(format!(
+            "the stored settings (version {}): {m}",
+            row.version
+        ))
     })?;
     Ok(Some((row.version, s)))
 }
@@ -305,7 +311,7 @@ pub fn take_in_file(db: &Db, data_dir: &Path, now: i64) -> Result<FileOutcome> {
 /// and the values.
 pub fn open_shared(db: &Db, data_dir: &Path, now: i64) -> Result<(i64, Settings)> {
     let outcome = take_in_file(db, data_dir, now)?;
-    let current = db.read(|r| stored(r))?;
+    let current = db.read(stored)?;
     if let (FileOutcome::Refused(m), None) = (&outcome, &current) {
         return Err(Error::Invalid(m.clone()));
     }
@@ -420,7 +426,7 @@ impl LiveSettings {
     /// caller read at start, or the defaults), followed by a thread of their
     /// own until the last `Arc` is dropped. Call off the async executor.
     pub fn shared(db: Arc<Db>, data_dir: PathBuf, fallback: Settings) -> Arc<LiveSettings> {
-        let found = db.read(|r| stored(r)).unwrap_or_else(|e| {
+        let found = db.read(stored).unwrap_or_else(|e| {
             tracing::warn!("the stored settings cannot be read, the values handed in stay: {e}");
             None
         });
@@ -494,7 +500,7 @@ impl LiveSettings {
         if moved.as_ref().is_ok_and(|v| *v == self.version()) {
             return;
         }
-        match sh.db.read(|r| stored(r)) {
+        match sh.db.read(stored) {
             Ok(Some((v, s))) => {
                 if let Err(e) = write_copy(&sh.data_dir, v, &s) {
                     tracing::warn!("the copy of the settings could not be written: {e}");
@@ -504,7 +510,9 @@ impl LiveSettings {
                 self.set(v, s);
             }
             Ok(None) => {}
-            Err(e) => tracing::warn!("the stored settings cannot be read, the values in force stay: {e}"),
+            Err(e) => {
+                tracing::warn!("the stored settings cannot be read, the values in force stay: {e}")
+            }
         }
     }
 
@@ -672,7 +680,10 @@ mod tests {
         assert!(e.contains("evidence.tolerance_m"), "{e}");
         assert_eq!(db.read(|r| r.settings_version()).unwrap(), 1);
         assert_eq!(log(&db), n);
-        assert_eq!(std::fs::read_to_string(settings_path(dir.path())).unwrap(), text);
+        assert_eq!(
+            std::fs::read_to_string(settings_path(dir.path())).unwrap(),
+            text
+        );
         // A commit that fails (the log could not be written): nothing stored.
         let r = live.update(
             |s| {
@@ -709,7 +720,10 @@ mod tests {
         }
         assert!(middle.upgrade().is_none());
         let now = live.get();
-        assert!(Arc::strong_count(&now) <= 3, "the one in force, ours, and at most the follower's");
+        assert!(
+            Arc::strong_count(&now) <= 3,
+            "the one in force, ours, and at most the follower's"
+        );
     }
 
     #[test]
@@ -718,7 +732,11 @@ mod tests {
         let other_dir = tempfile::tempdir().unwrap();
         let (db, live) = shared(dir.path());
         // A second instance: the same database, a data directory of its own.
-        let other = LiveSettings::shared(db.clone(), other_dir.path().to_path_buf(), Settings::default());
+        let other = LiveSettings::shared(
+            db.clone(),
+            other_dir.path().to_path_buf(),
+            Settings::default(),
+        );
         set_tolerance(&live, 175.0).unwrap();
         let deadline = std::time::Instant::now() + POLL * 8;
         while other.get().evidence.tolerance_m != 175.0 && std::time::Instant::now() < deadline {
@@ -750,7 +768,10 @@ mod tests {
         assert_eq!(take_in_file(&db, dir.path(), 3).unwrap(), FileOutcome::Same);
         // An edit of the copy of version 1: taken in as version 2, logged.
         std::fs::write(&file, copy.replace("window_days = 45", "window_days = 60")).unwrap();
-        assert_eq!(take_in_file(&db, dir.path(), 4).unwrap(), FileOutcome::TakenIn(2));
+        assert_eq!(
+            take_in_file(&db, dir.path(), 4).unwrap(),
+            FileOutcome::TakenIn(2)
+        );
         let log = db.read(|r| r.admin_log(None, 1)).unwrap();
         assert_eq!(log[0].detail, "cluster.window_days 45 → 60");
         // A copy of version 1 with other values (another server saved since): not taken in.
@@ -790,7 +811,8 @@ mod tests {
         std::fs::write(settings_path(dir.path()), "[cluster\n").unwrap();
         let e = open_shared(&db, dir.path(), 1).unwrap_err().to_string();
         assert!(e.contains("settings.toml"), "{e}");
-        let live = LiveSettings::shared(Arc::new(db), dir.path().to_path_buf(), Settings::default());
+        let live =
+            LiveSettings::shared(Arc::new(db), dir.path().to_path_buf(), Settings::default());
         set_tolerance(&live, 150.0).unwrap();
         assert_eq!(
             std::fs::read_to_string(settings_path(dir.path())).unwrap(),

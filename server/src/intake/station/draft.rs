@@ -271,7 +271,10 @@ pub fn take_in_local(db: &Db, data_dir: &Path, store: &Evidence) -> Result<usize
     }
     let _ = std::fs::remove_dir(&root);
     if taken > 0 {
-        tracing::info!("{taken} station drafts taken from {} into the database", root.display());
+        tracing::info!(
+            "{taken} station drafts taken from {} into the database",
+            root.display()
+        );
     }
     Ok(taken)
 }
@@ -295,8 +298,10 @@ mod tests {
         assert_ne!(key, draft_key("bo", "b1"));
         assert_eq!(load(&db, &key).unwrap(), None);
         let sha = "ab".repeat(32);
-        ev.put_bytes(&photo_key(&key, &sha), b"photo".to_vec()).unwrap();
-        ev.put_bytes(&thumb_key(&key, &sha), b"thumb".to_vec()).unwrap();
+        ev.put_bytes(&photo_key(&key, &sha), b"photo".to_vec())
+            .unwrap();
+        ev.put_bytes(&thumb_key(&key, &sha), b"thumb".to_vec())
+            .unwrap();
         let stop = StopEntry {
             outcome: "confirmed".into(),
             ..StopEntry::default()
@@ -332,19 +337,43 @@ mod tests {
         let now = Utc::now();
         for i in 0..MAX_DRAFTS {
             let b = format!("b{i}");
-            change(&db, &draft_key("ana", &b), || Draft::new(&b, "ana", now), now, |_| Ok(())).unwrap();
+            change(
+                &db,
+                &draft_key("ana", &b),
+                || Draft::new(&b, "ana", now),
+                now,
+                |_| Ok(()),
+            )
+            .unwrap();
         }
-        let e = change(&db, &draft_key("ana", "one-more"), || Draft::new("x", "ana", now), now, |_| Ok(()))
-            .unwrap_err();
+        let e = change(
+            &db,
+            &draft_key("ana", "one-more"),
+            || Draft::new("x", "ana", now),
+            now,
+            |_| Ok(()),
+        )
+        .unwrap_err();
         assert!(e.to_string().contains("unfinished entries"), "{e}");
         // A stored draft still changes.
-        change(&db, &draft_key("ana", "b0"), || Draft::new("b0", "ana", now), now, |_| Ok(())).unwrap();
+        change(
+            &db,
+            &draft_key("ana", "b0"),
+            || Draft::new("b0", "ana", now),
+            now,
+            |_| Ok(()),
+        )
+        .unwrap();
         // Photos of a draft that is gone are swept; those of a stored one stay.
         let kept = photo_key(&draft_key("ana", "b0"), &"cd".repeat(32));
         let orphan = photo_key(&draft_key("ana", "gone"), &"cd".repeat(32));
         ev.put_bytes(&kept, b"a".to_vec()).unwrap();
         ev.put_bytes(&orphan, b"b".to_vec()).unwrap();
-        assert_eq!(sweep(&db, &ev, std::time::Duration::from_secs(3600)).unwrap(), 0, "within the grace");
+        assert_eq!(
+            sweep(&db, &ev, std::time::Duration::from_secs(3600)).unwrap(),
+            0,
+            "within the grace"
+        );
         assert_eq!(sweep(&db, &ev, std::time::Duration::ZERO).unwrap(), 1);
         assert!(ev.exists(&kept).unwrap());
         assert!(!ev.exists(&orphan).unwrap());
@@ -379,7 +408,8 @@ mod tests {
         let key = draft_key("ana", "b1");
         assert_eq!(load(&db, &key).unwrap(), Some(d));
         let mut photo = Vec::new();
-        ev.copy_to(&photo_key(&key, &sha), None, &mut photo).unwrap();
+        ev.copy_to(&photo_key(&key, &sha), None, &mut photo)
+            .unwrap();
         assert_eq!(photo, b"photos");
         assert!(!old.exists());
         assert_eq!(take_in_local(&db, tmp.path(), &ev).unwrap(), 0);

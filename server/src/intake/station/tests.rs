@@ -194,7 +194,9 @@ fn a_photo_is_admitted_once_and_within_the_draft_bounds() {
         q.sha256 = format!("{:064x}", 1000 + d.photos.len());
         d.photos.push(q);
     }
-    let e = admit_photo(&mut d, &photo("9", 43, None)).unwrap_err().to_string();
+    let e = admit_photo(&mut d, &photo("9", 43, None))
+        .unwrap_err()
+        .to_string();
     assert!(e.contains("at most 200 photos"), "{e}");
     assert_eq!(d.photos.len(), draft::MAX_DRAFT_PHOTOS);
 }

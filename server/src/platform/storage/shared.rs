@@ -143,11 +143,9 @@ impl Reader<'_> {
 
     /// Keys of the drafts last changed before `before` (Unix seconds).
     pub fn station_drafts_before(&self, before: i64) -> Result<Vec<String>> {
-        let mut st = self
-            .conn
-            .prepare(
-                "SELECT draft_key FROM station_drafts WHERE updated_at < ?1 ORDER BY draft_key",
-            )?;
+        let mut st = self.conn.prepare(
+            "SELECT draft_key FROM station_drafts WHERE updated_at < ?1 ORDER BY draft_key",
+        )?;
         let v = st
             .query_map([before], |r| r.get(0))?
             .collect::<Result<Vec<String>>>()?;
@@ -243,8 +241,14 @@ mod tests {
         let mut mine = db.read(|r| r.station_draft_bundles("ana")).unwrap();
         mine.sort();
         assert_eq!(mine, vec!["b-k1".to_string(), "b-k2".to_string()]);
-        assert!(db.write_bookkeeping(|tx| tx.delete_station_draft("k2")).unwrap());
-        assert!(!db.write_bookkeeping(|tx| tx.delete_station_draft("k2")).unwrap());
+        assert!(
+            db.write_bookkeeping(|tx| tx.delete_station_draft("k2"))
+                .unwrap()
+        );
+        assert!(
+            !db.write_bookkeeping(|tx| tx.delete_station_draft("k2"))
+                .unwrap()
+        );
         assert_eq!(db.read(|r| r.station_draft("k2")).unwrap(), None);
         let mut keys = db.read(|r| r.station_draft_keys()).unwrap();
         keys.sort();

@@ -201,8 +201,10 @@ async fn trip_links(state: &AppState, viewer: &Viewer) -> Vec<TripLink> {
     let user = viewer.name.clone().unwrap_or_default();
     let found = web::block(move || {
         let bundles = db.read(|r| r.bundles())?;
-        let drafts: std::collections::HashSet<String> =
-            db.read(|r| r.station_draft_bundles(&user))?.into_iter().collect();
+        let drafts: std::collections::HashSet<String> = db
+            .read(|r| r.station_draft_bundles(&user))?
+            .into_iter()
+            .collect();
         Ok::<_, crate::Error>(
             bundles
                 .into_iter()
