@@ -369,10 +369,20 @@ pub fn load_scenario(s: &TestServer) {
     load_scenario_at(&s.url(""));
 }
 
+/// Makes the request helpers send `token` to the server at `base`
+/// (`http://host:port`): [`remember_token`] by the base address.
+pub fn use_token(base: &str, token: &str) {
+    let host = base.trim_start_matches("http://").trim_end_matches('/');
+    let addr: SocketAddr = host
+        .parse()
+        .unwrap_or_else(|e| panic!("{host} is not a socket address: {e}"));
+    remember_token(addr, token);
+}
+
 /// [`load_scenario`] through the server at `base` (`http://host:port`).
 pub fn load_scenario_at(base: &str) {
     use serde_json::json;
-    let url = |path: &str| format!("{base}{path}");
+    let url = |path: &str| format!("{}{path}", base.trim_end_matches('/'));
     let scenario = mock_patrols::scenario();
     for src in &scenario.sources {
         let r = post_json(

@@ -392,11 +392,18 @@ fn open_data(data: &DataArg) -> Result<(Db, Settings)> {
     Ok(out)
 }
 
+/// The database and the organisation's settings (stored in it; on the first
+/// start of a data directory from before, its `settings.toml` is taken in).
 fn open(arg: &DataArg) -> Result<(Db, Settings)> {
     let data = &arg.data;
-    let settings = Settings::load(data)?;
     let db = Db::open_with(data, arg.database.as_deref())
         .with_context(|| format!("opening the data directory {}", data.display()))?;
+    let (_, settings) = groundproof::platform::settings::open_shared(
+        &db,
+        data,
+        groundproof::platform::auth::now_unix(),
+    )
+    .with_context(|| format!("reading the settings of {}", data.display()))?;
     Ok((db, settings))
 }
 

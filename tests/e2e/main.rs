@@ -25,6 +25,7 @@ mod revoked_tokens;
 mod robust_http;
 mod s3;
 mod serving;
+mod shared_state;
 mod station_entry;
 mod stats_api;
 mod stats_cache;

@@ -14,7 +14,7 @@ use std::io::Cursor;
 
 const BOUNDARY: &str = "station-entry-boundary";
 
-fn multipart(files: &[(&str, &[u8])]) -> Vec<u8> {
+pub(crate) fn multipart(files: &[(&str, &[u8])]) -> Vec<u8> {
     let mut b = Vec::new();
     for (file_name, bytes) in files {
         b.extend_from_slice(
@@ -46,12 +46,17 @@ fn form(s: &TestServer, trip: &str, fields: &[(String, String)]) -> Reply {
     )
 }
 
-fn kv(k: &str, v: &str) -> (String, String) {
+pub(crate) fn kv(k: &str, v: &str) -> (String, String) {
     (k.to_string(), v.to_string())
 }
 
 /// A camera photo with EXIF time and GPS position (mock-patrols' generator).
-fn camera_photo(seed: u64, lat: f64, lon: f64, when: chrono::DateTime<chrono::Utc>) -> Vec<u8> {
+pub(crate) fn camera_photo(
+    seed: u64,
+    lat: f64,
+    lon: f64,
+    when: chrono::DateTime<chrono::Utc>,
+) -> Vec<u8> {
     make_photo(
         seed,
         320,
@@ -78,12 +83,12 @@ fn plain_jpeg() -> Vec<u8> {
     out.into_inner()
 }
 
-fn sha(b: &[u8]) -> String {
+pub(crate) fn sha(b: &[u8]) -> String {
     groundproof_sync::bundle::sha256_hex(b)
 }
 
 /// The text of the element matching `css` (all of it, joined).
-fn text_of(html: &str, css: &str) -> String {
+pub(crate) fn text_of(html: &str, css: &str) -> String {
     let doc = scraper::Html::parse_document(html);
     let sel = scraper::Selector::parse(css).unwrap();
     doc.select(&sel)
@@ -93,7 +98,7 @@ fn text_of(html: &str, css: &str) -> String {
 }
 
 /// Photo SHA-256s shown in the fieldset of stop `code` (or `#unplaced`).
-fn photos_in(html: &str, css: &str) -> Vec<String> {
+pub(crate) fn photos_in(html: &str, css: &str) -> Vec<String> {
     let doc = scraper::Html::parse_document(html);
     let sel = scraper::Selector::parse(&format!("{css} figure.draft-photo")).unwrap();
     let mut v: Vec<String> = doc

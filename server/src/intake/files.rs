@@ -30,6 +30,8 @@ pub struct CleanupSummary {
     pub bundle_files: usize,
     /// Half-written files of a local store (staging and temp files).
     pub staging_files: usize,
+    /// Station draft photos no stored draft names (a discard cut short).
+    pub draft_files: usize,
 }
 
 fn files_in(dir: &Path) -> Vec<PathBuf> {
@@ -133,9 +135,25 @@ pub fn cleanup_after(
             remove(&f)?;
         }
     }
-    // Station entry drafts untouched past their lifetime.
-    super::station::draft::remove_expired(data_dir, chrono::Utc::now())?;
+    // Photos a station entry was packing when the process stopped.
+    remove_station_copies(&data_dir.join(INCOMING_DIR));
+    // Station entry drafts: those of the old local folder taken in, those
+    // untouched past their lifetime removed, photos of no draft swept.
+    super::station::draft::take_in_local(db, data_dir, &store)?;
+    super::station::draft::remove_expired(db, &store, chrono::Utc::now())?;
+    out.draft_files = super::station::draft::sweep(db, &store, grace)?;
     Ok(out)
+}
+
+/// Removes the temp folders (`.station-photos-*`) a station entry copies
+/// its photos into while packing, left by a stop mid-save.
+fn remove_station_copies(incoming: &Path) {
+    for e in std::fs::read_dir(incoming).into_iter().flatten().flatten() {
+        let name = e.file_name().to_string_lossy().into_owned();
+        if name.starts_with(".station-photos-") && e.path().is_dir() {
+            let _ = std::fs::remove_dir_all(e.path());
+        }
+    }
 }
 
 fn remove_all(store: &Evidence, found: &[Listed]) -> Result<usize, IntakeError> {

@@ -13,7 +13,6 @@ use crate::error::{Error, Fault, Result};
 use crate::platform::auth::{self, validate_user_name};
 use crate::platform::settings::{LiveSettings, Settings};
 use crate::platform::storage::{ApiTokenRecord, Db, TeamState, TeamTokenRecord, Tx, User};
-use std::path::Path;
 
 /// Who made a change, as the log names them.
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -452,30 +451,30 @@ pub fn revoke_api_token(db: &Db, actor: &Actor, token_id: i64, now: i64) -> Resu
     })
 }
 
-/// Change the settings of `data_dir` through `live` (see
+/// Change the organisation's settings through `live` (see
 /// [`LiveSettings::update`]): the log row lists each changed field with its
-/// old and new value, and commits only if the file was written. A change
-/// that changes nothing is refused, so the log holds only real changes.
+/// old and new value, in the transaction that stores the new version. A
+/// change that changes nothing is refused, so the log holds only real
+/// changes.
 pub fn change_settings(
-    db: &Db,
     live: &LiveSettings,
-    data_dir: &Path,
     actor: &Actor,
     change: impl FnOnce(&mut Settings) -> Result<()>,
     now: i64,
 ) -> Result<Settings> {
-    let (new, ()) = live.update(data_dir, change, |old, new, write| {
-        let lines = settings_diff(old, new)?;
-        if lines.is_empty() {
-            let english = "nothing changed: every value is the one in force";
-            return Err(Error::said(
-                Fault::Conflict,
-                "why-settings-same",
-                &[],
-                english,
-            ));
-        }
-        db.write_bookkeeping(|tx| {
+    let (new, _) = live.update(
+        change,
+        |tx, old, new| {
+            let lines = crate::platform::settings::changes(old, new)?;
+            if lines.is_empty() {
+                let english = "nothing changed: every value is the one in force";
+                return Err(Error::said(
+                    Fault::Conflict,
+                    "why-settings-same",
+                    &[],
+                    english,
+                ));
+            }
             log(
                 tx,
                 actor,
@@ -483,33 +482,11 @@ pub fn change_settings(
                 "settings.change",
                 "settings",
                 &lines.join("; "),
-            )?;
-            write()
-        })
-    })?;
+            )
+        },
+        now,
+    )?;
     Ok(new)
-}
-
-/// `section.field old → new` for each value that differs.
-fn settings_diff(old: &Settings, new: &Settings) -> Result<Vec<String>> {
-    let flat = |s: &Settings| -> Result<Vec<(String, String)>> {
-        let v = toml::Value::try_from(s)
-            .map_err(|e| Error::Invalid(format!("reading the settings: {e}")))?;
-        let mut out = Vec::new();
-        for (section, table) in v.as_table().into_iter().flatten() {
-            for (k, val) in table.as_table().into_iter().flatten() {
-                out.push((format!("{section}.{k}"), val.to_string()));
-            }
-        }
-        Ok(out)
-    };
-    let (a, b) = (flat(old)?, flat(new)?);
-    Ok(b.iter()
-        .filter_map(|(k, nv)| {
-            let ov = a.iter().find(|(ka, _)| ka == k).map(|(_, v)| v.as_str());
-            (ov != Some(nv.as_str())).then(|| format!("{k} {} → {nv}", ov.unwrap_or("none")))
-        })
-        .collect())
 }
 
 #[cfg(test)]
@@ -623,12 +600,11 @@ mod tests {
     #[test]
     fn settings_changes_list_each_field() {
         let (dir, db) = db();
-        let live = LiveSettings::new(Settings::default());
+        let db = std::sync::Arc::new(db);
+        let live = LiveSettings::shared(db.clone(), dir.path().to_path_buf(), Settings::default());
         let me = Actor::User("root".into());
         change_settings(
-            &db,
             &live,
-            dir.path(),
             &me,
             |s| {
                 s.evidence.tolerance_m = 150.0;
@@ -643,9 +619,10 @@ mod tests {
             "evidence.tolerance_m 100.0 → 150.0; organisation.time_zone \"UTC\" → \"Etc/GMT+4\""
         );
         assert_eq!(live.get().zone().name(), "Etc/GMT+4");
-        let e = change_settings(&db, &live, dir.path(), &me, |_| Ok(()), 2).unwrap_err();
+        let e = change_settings(&live, &me, |_| Ok(()), 2).unwrap_err();
         assert!(e.to_string().contains("nothing changed"));
         assert_eq!(db.read(|r| r.admin_log(None, 100)).unwrap().len(), 1);
+        assert_eq!(db.read(|r| r.settings_version()).unwrap(), 1);
     }
 
     /// Each refusal carries its message id; the English catalogue says the

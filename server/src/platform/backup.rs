@@ -4,7 +4,9 @@
 //!
 //! A backup folder holds `groundproof.sqlite3`, copies of [`KEPT`] (the
 //! evidence photos and thumbnails, kept and refused returns, issued
-//! bundles, open uploads' data and `settings.toml`) and, written last,
+//! bundles, open uploads' data, draft photos of the station entry and the
+//! copy of the settings, `settings.toml`; the settings themselves are rows
+//! of the database) and, written last,
 //! `manifest.txt`: a first line `groundproof-backup 1`, then one line per
 //! file, `<sha256 hex>  <bytes>  <relative path>`. Without the manifest a
 //! folder is not a (complete) backup.
@@ -31,7 +33,16 @@ use std::path::{Component, Path, PathBuf};
 
 /// What a backup copies from the data directory besides the database:
 /// folders (walked) and single files.
-pub const KEPT: [&str; 5] = ["evidence", "returns", "bundles", "uploads", "settings.toml"];
+/// (`drafts`: the station entry's draft photos, whose draft documents are
+/// rows of the database.)
+pub const KEPT: [&str; 6] = [
+    "evidence",
+    "returns",
+    "bundles",
+    "uploads",
+    "drafts",
+    "settings.toml",
+];
 /// The database file in a data directory and in a backup.
 pub const DATABASE: &str = "groundproof.sqlite3";
 /// The manifest, written last.

@@ -50,7 +50,8 @@ pub struct AppState {
     /// The data directory (bundles, evidence).
     pub data_dir: std::path::PathBuf,
     /// The settings in force (an admin may change them while the server
-    /// runs; `state.settings.get().priority` reads the current value).
+    /// runs, here or on another instance of the same database;
+    /// `state.settings.get().priority` reads the current value).
     pub settings: Arc<LiveSettings>,
     /// The statistics of the current facts, shared by every handler.
     pub stats: Arc<crate::statistics::kept::StatsCache>,
@@ -59,10 +60,13 @@ pub struct AppState {
 }
 
 impl AppState {
+    /// The state of one server on `db`: `settings` are in force while the
+    /// database stores none (the stored ones win, and are followed). Call
+    /// off the async executor (it reads the database).
     pub fn new(db: Arc<Db>, data_dir: std::path::PathBuf, settings: Settings) -> AppState {
         AppState {
+            settings: LiveSettings::shared(db.clone(), data_dir.clone(), settings),
             db,
-            settings: Arc::new(LiveSettings::watching(settings, data_dir.clone())),
             data_dir,
             stats: Arc::new(crate::statistics::kept::StatsCache::new()),
             tokens: Arc::new(crate::platform::auth::VerifiedTokens::new()),

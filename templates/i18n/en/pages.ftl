@@ -847,3 +847,5 @@ http-413 = Payload Too Large
 http-422 = Unprocessable Entity
 http-429 = Too Many Requests
 http-500 = Internal Server Error
+# --- shared settings (issue 15, r-shared) ---
+adm-settings-intro-shared = These settings are the organisation's, kept in the database and shared by every server of this station. Saving reads the stored values again, changes the values below, checks them all and stores them with a line in the change log; this server uses them at once and the others within seconds. If any value is refused, nothing is changed. { $file } is this server's copy: editing it changes the settings too (its edit is checked and logged the same way), including the ones not shown here (how alerts are joined into events).

@@ -858,3 +858,5 @@ http-413 = Trop volumineux
 http-422 = Impossible à traiter
 http-429 = Trop de requêtes
 http-500 = Erreur interne du serveur
+# --- shared settings (issue 15, r-shared) ---
+adm-settings-intro-shared = Ces réglages sont ceux de l'organisation : ils sont conservés dans la base de données et partagés par tous les serveurs de cette station. L'enregistrement relit les valeurs conservées, change les valeurs ci-dessous, les vérifie toutes et les conserve avec une ligne dans le journal des modifications ; ce serveur les utilise aussitôt et les autres en quelques secondes. Si une valeur est refusée, rien n'est modifié. { $file } est la copie de ce serveur : la modifier change aussi les réglages (la modification est vérifiée et journalisée de la même façon), y compris ceux absents d'ici (comment les alertes sont regroupées en événements).

@@ -846,3 +846,5 @@ http-413 = Terlalu besar
 http-422 = Tidak dapat diproses
 http-429 = Terlalu banyak permintaan
 http-500 = Galat internal server
+# --- shared settings (issue 15, r-shared) ---
+adm-settings-intro-shared = Pengaturan ini milik organisasi, disimpan di basis data dan dipakai bersama oleh semua server stasiun ini. Saat disimpan, nilai yang tersimpan dibaca lagi, nilai di bawah diubah, semuanya diperiksa lalu disimpan dengan satu baris di log perubahan; server ini langsung memakainya dan server lain dalam beberapa detik. Jika ada nilai yang ditolak, tidak ada yang diubah. { $file } adalah salinan server ini: mengubahnya juga mengubah pengaturan (perubahannya diperiksa dan dicatat dengan cara yang sama), termasuk yang tidak ada di sini (cara peringatan digabung menjadi kejadian).

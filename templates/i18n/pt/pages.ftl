@@ -858,3 +858,5 @@ http-413 = Grande demais
 http-422 = Não processável
 http-429 = Pedidos demais
 http-500 = Erro interno do servidor
+# --- shared settings (issue 15, r-shared) ---
+adm-settings-intro-shared = Estas configurações são da organização: ficam no banco de dados e valem para todos os servidores desta estação. Ao salvar, os valores guardados são lidos de novo, os valores abaixo são trocados, todos são conferidos e guardados com uma linha no registro de alterações; este servidor passa a usá-los na hora e os outros em poucos segundos. Se algum valor for recusado, nada muda. { $file } é a cópia deste servidor: editá-la também muda as configurações (a edição é conferida e registrada do mesmo jeito), inclusive as que não aparecem aqui (como os alertas são juntados em eventos).

@@ -147,20 +147,43 @@ pub fn placements(trip: &Trip, d: &Draft, tolerance_m: f64) -> Vec<(Placement, O
         .collect()
 }
 
-/// Reads one uploaded photo into the draft in `dir`: refused unless it is a
-/// JPEG within `limits` and the draft's bounds; a photo already in the
-/// draft is kept once. `Ok(false)` for such a repeat.
-pub fn add_photo(
-    dir: &Path,
-    d: &mut Draft,
+/// A checked camera photo and its thumbnail, not yet in a draft.
+pub struct CheckedPhoto {
+    pub photo: DraftPhoto,
+    pub thumbnail: Vec<u8>,
+}
+
+/// Reads one uploaded photo: refused unless it is a JPEG within `limits`.
+pub fn check_photo(
     name: &str,
     bytes: &[u8],
     limits: &PhotoLimits,
-) -> Result<bool, IntakeError> {
+) -> Result<CheckedPhoto, IntakeError> {
     let name: String = name.chars().take(120).collect();
     let check = inspect_jpeg(bytes, limits)
         .map_err(|e| IntakeError::Invalid(format!("photo {name:?} was not taken: {e}")))?;
-    if d.photos.iter().any(|p| p.sha256 == check.sha256) {
+    let m = &check.meta;
+    Ok(CheckedPhoto {
+        photo: DraftPhoto {
+            sha256: check.sha256.clone(),
+            original_name: name,
+            bytes: bytes.len() as u64,
+            exif_time: m.taken_at,
+            camera_local: m.time_basis == Some(TimeBasis::CameraZone),
+            lat: m.lat,
+            lon: m.lon,
+            direction_deg: m.true_direction_deg(),
+            moved_to: None,
+        },
+        thumbnail: check.thumbnail_jpeg,
+    })
+}
+
+/// Puts `p` into `d` within the draft's bounds; a photo already in the
+/// draft is kept once (`Ok(false)`).
+pub fn admit_photo(d: &mut Draft, p: &DraftPhoto) -> Result<bool, IntakeError> {
+    let name = &p.original_name;
+    if d.photos.iter().any(|q| q.sha256 == p.sha256) {
         return Ok(false);
     }
     if d.photos.len() >= draft::MAX_DRAFT_PHOTOS {
@@ -169,40 +192,52 @@ pub fn add_photo(
             draft::MAX_DRAFT_PHOTOS
         )));
     }
-    if d.photo_bytes() + bytes.len() as u64 > draft::MAX_DRAFT_BYTES {
+    if d.photo_bytes() + p.bytes > draft::MAX_DRAFT_BYTES {
         return Err(IntakeError::Limit(format!(
             "photo {name:?} was not taken: an entry holds at most {} MiB of photos",
             draft::MAX_DRAFT_BYTES >> 20
         )));
     }
-    draft::store_file(&draft::photo_file(dir, &check.sha256), bytes)?;
-    draft::store_file(
-        &draft::thumb_file(dir, &check.sha256),
-        &check.thumbnail_jpeg,
-    )?;
-    let m = &check.meta;
-    d.photos.push(DraftPhoto {
-        sha256: check.sha256.clone(),
-        original_name: name,
-        bytes: bytes.len() as u64,
-        exif_time: m.taken_at,
-        camera_local: m.time_basis == Some(TimeBasis::CameraZone),
-        lat: m.lat,
-        lon: m.lon,
-        direction_deg: m.true_direction_deg(),
-        moved_to: None,
-    });
+    d.photos.push(p.clone());
     Ok(true)
 }
 
-/// The reports of a draft, with the photo files they name; `Err` lists
-/// every stop in error (nothing is stored then).
+/// Adds one uploaded photo to `user`'s draft for `trip` (see
+/// [`check_photo`], [`admit_photo`]): the photo and its thumbnail are
+/// stored in the evidence store first, then the draft row that names them.
+/// `Ok(false)` for a photo the draft already holds.
+pub fn add_photo(
+    db: &Db,
+    data_dir: &Path,
+    trip: &Trip,
+    user: &str,
+    upload: (&str, &[u8]),
+    limits: &PhotoLimits,
+    now: DateTime<Utc>,
+) -> Result<bool, IntakeError> {
+    let (name, bytes) = upload;
+    let c = check_photo(name, bytes, limits)?;
+    // Checked once before storing anything (a full draft stores nothing),
+    // and again in the transaction that writes the draft.
+    let mut before = open_draft(db, data_dir, trip, user, now)?;
+    if !admit_photo(&mut before, &c.photo)? {
+        return Ok(false);
+    }
+    let key = draft::draft_key(user, &trip.bundle.id);
+    let store = crate::platform::evidence::of(data_dir)?;
+    store.put_bytes(&draft::photo_key(&key, &c.photo.sha256), bytes.to_vec())?;
+    store.put_bytes(&draft::thumb_key(&key, &c.photo.sha256), c.thumbnail)?;
+    let fresh = || new_draft(trip, user, now);
+    draft::change(db, &key, fresh, now, |d| admit_photo(d, &c.photo))
+}
+
+/// The reports of a draft, with the SHA-256 of each photo they name; `Err`
+/// lists every stop in error (nothing is stored then).
 pub fn build_reports(
     trip: &Trip,
     d: &Draft,
-    dir: &Path,
     tolerance_m: f64,
-) -> Result<(Vec<Report>, Vec<PathBuf>), Vec<String>> {
+) -> Result<(Vec<Report>, Vec<String>), Vec<String>> {
     let cl = checklist();
     let at = placements(trip, d, tolerance_m);
     let offset = local_offset(d);
@@ -232,7 +267,7 @@ pub fn build_reports(
             .and_then(|r| validate_report(&r, &cl).map(|()| r))
         {
             Ok(r) => {
-                files.extend(photos.iter().map(|p| draft::photo_file(dir, &p.sha256)));
+                files.extend(photos.iter().map(|p| p.sha256.clone()));
                 reports.push(r);
             }
             Err(why) => errors.push(format!("stop {}: {why}", stop.code)),
@@ -363,9 +398,8 @@ pub fn save(
     trip: &Trip,
     user: &str,
 ) -> Result<ReturnDocument, IntakeError> {
-    let _guard = draft::draft_lock();
-    let dir = draft::draft_dir(data_dir, user, &trip.bundle.id);
-    let mut d = draft::load(&dir)?.ok_or_else(|| {
+    let key = draft::draft_key(user, &trip.bundle.id);
+    let d = draft::load(db, &key)?.ok_or_else(|| {
         IntakeError::Invalid(
             "there is no entry for this trip to save: upload photos or fill in a stop first".into(),
         )
@@ -376,13 +410,14 @@ pub fn save(
             d.sheet, trip.sheet
         )));
     }
-    let (reports, files) = build_reports(trip, &d, &dir, options.tolerance_m)
+    let (reports, shas) = build_reports(trip, &d, options.tolerance_m)
         .map_err(|e| IntakeError::Invalid(format!("nothing was stored: {}", e.join("; "))))?;
     if reports.is_empty() {
         return Err(IntakeError::Invalid(
             "no stop has an outcome: nothing to save".into(),
         ));
     }
+    let (_copies, files) = photo_files(data_dir, &key, &shas)?;
     let (path, sha256, size) = pack(db, data_dir, trip, &d, &reports, &files)?;
     let provenance = Provenance {
         entered_by: user.to_string(),
@@ -394,9 +429,48 @@ pub fn save(
         size,
     };
     let doc = take_in_entered(db, data_dir, options, &pkg, &provenance)?;
-    d.saved_return = Some(doc.return_id);
-    draft::store(&dir, &d)?;
+    let fresh = || d.clone();
+    draft::change(db, &key, fresh, Utc::now(), |saved| {
+        saved.saved_return = Some(doc.return_id);
+        Ok(())
+    })?;
     Ok(doc)
+}
+
+/// The draft photos `shas` of draft `key` as files on this machine, for
+/// packing: a local store's own files, else copies read from the store
+/// into a temp folder under `returns/incoming/` (removed when the returned
+/// guard drops; a crash leaves a dot-folder the clean-up removes).
+fn photo_files(
+    data_dir: &Path,
+    key: &str,
+    shas: &[String],
+) -> Result<(Option<tempfile::TempDir>, Vec<PathBuf>), IntakeError> {
+    let store = crate::platform::evidence::of(data_dir)?;
+    let keys: Vec<String> = shas.iter().map(|s| draft::photo_key(key, s)).collect();
+    if let Some(files) = keys
+        .iter()
+        .map(|k| store.local_path(k))
+        .collect::<Option<Vec<PathBuf>>>()
+    {
+        return Ok((None, files));
+    }
+    let dir = data_dir.join(INCOMING_DIR);
+    std::fs::create_dir_all(&dir)
+        .map_err(|e| crate::Error::io(format!("creating {}", dir.display()), e))?;
+    let tmp = tempfile::Builder::new()
+        .prefix(".station-photos-")
+        .tempdir_in(&dir)
+        .map_err(|e| crate::Error::io("creating a temp folder for station photos", e))?;
+    let mut files = Vec::new();
+    for (k, sha) in keys.iter().zip(shas) {
+        let path = tmp.path().join(format!("{sha}.jpg"));
+        let mut f = std::fs::File::create(&path)
+            .map_err(|e| crate::Error::io(format!("creating {}", path.display()), e))?;
+        store.copy_to(k, None, &mut f)?;
+        files.push(path);
+    }
+    Ok((Some(tmp), files))
 }
 
 /// Packs `reports` into a return signed with the trip's upload key, durable
@@ -464,27 +538,51 @@ pub struct EntryForm {
     pub moves: Vec<(String, String)>,
 }
 
-/// `user`'s draft for `trip`, made empty when there is none; expired drafts
-/// are removed first, and a new draft is refused past [`draft::MAX_DRAFTS`].
+/// An empty draft of `user` for `trip` (not stored).
+fn new_draft(trip: &Trip, user: &str, now: DateTime<Utc>) -> Draft {
+    let mut d = Draft::new(&trip.bundle.id, user, now);
+    d.sheet = trip.sheet.clone();
+    d
+}
+
+/// `user`'s draft for `trip`, made empty (not stored) when there is none;
+/// expired drafts are removed first, and a new draft is refused past
+/// [`draft::MAX_DRAFTS`].
 pub fn open_draft(
+    db: &Db,
     data_dir: &Path,
     trip: &Trip,
     user: &str,
     now: DateTime<Utc>,
-) -> Result<(PathBuf, Draft), IntakeError> {
-    let dir = draft::draft_dir(data_dir, user, &trip.bundle.id);
-    if let Some(d) = draft::load(&dir)? {
-        return Ok((dir, d));
+) -> Result<Draft, IntakeError> {
+    let key = draft::draft_key(user, &trip.bundle.id);
+    if let Some(d) = draft::load(db, &key)? {
+        return Ok(d);
     }
-    if draft::remove_expired(data_dir, now)? >= draft::MAX_DRAFTS {
+    let store = crate::platform::evidence::of(data_dir)?;
+    if draft::remove_expired(db, &store, now)? >= draft::MAX_DRAFTS {
         return Err(IntakeError::Limit(format!(
             "the station holds {} unfinished entries already: save or discard one first",
             draft::MAX_DRAFTS
         )));
     }
-    let mut d = Draft::new(&trip.bundle.id, user, now);
-    d.sheet = trip.sheet.clone();
-    Ok((dir, d))
+    Ok(new_draft(trip, user, now))
+}
+
+/// Applies the entry form to `user`'s draft for `trip` and stores it (one
+/// transaction: a refused field changes nothing).
+pub fn keep_form(
+    db: &Db,
+    data_dir: &Path,
+    trip: &Trip,
+    user: &str,
+    form: EntryForm,
+    now: DateTime<Utc>,
+) -> Result<(), IntakeError> {
+    open_draft(db, data_dir, trip, user, now)?;
+    let key = draft::draft_key(user, &trip.bundle.id);
+    let fresh = || new_draft(trip, user, now);
+    draft::change(db, &key, fresh, now, |d| apply_form(trip, d, form))
 }
 
 /// Applies the form to the draft (checked first: nothing changes when a

@@ -107,7 +107,7 @@ fn every_stop_in_error_is_named_and_nothing_is_built() {
     // C0001 has photos but (here) an outcome missing its reason; C0002 has
     // photos and no outcome.
     apply_form(&t, &mut d, form(&[("C0001", "not_reached", "")])).unwrap();
-    let errs = build_reports(&t, &d, Path::new("/nowhere"), 100.0).unwrap_err();
+    let errs = build_reports(&t, &d, 100.0).unwrap_err();
     assert_eq!(errs.len(), 2, "{errs:?}");
     assert!(
         errs[0].starts_with("stop C0001: outcome not_reached needs a reason"),
@@ -130,7 +130,7 @@ fn reports_take_the_sheet_and_the_photos() {
     f.stops.get_mut("C0002").unwrap().position = "-3.05, -60.01".into();
     apply_form(&t, &mut d, f).unwrap();
     let ids: Vec<_> = d.stops.values().map(|s| s.report_id).collect();
-    let (reports, files) = build_reports(&t, &d, Path::new("/d"), 100.0).unwrap();
+    let (reports, files) = build_reports(&t, &d, 100.0).unwrap();
     assert_eq!(reports.len(), 2);
     assert_eq!(files.len(), 4);
     let r = &reports[0];
@@ -175,4 +175,28 @@ fn a_camera_local_time_takes_the_trip_offset() {
     assert_eq!(photo_time(&p, west), Some(t));
     p.camera_local = true;
     assert_eq!(photo_time(&p, west), Some(t + chrono::Duration::hours(4)));
+}
+
+#[test]
+fn a_photo_is_admitted_once_and_within_the_draft_bounds() {
+    let mut d = draft();
+    let p = photo("7", 40, None);
+    assert!(admit_photo(&mut d, &p).unwrap());
+    assert!(!admit_photo(&mut d, &p).unwrap(), "kept once");
+    let big = DraftPhoto {
+        bytes: draft::MAX_DRAFT_BYTES,
+        ..photo("f", 41, None)
+    };
+    let e = admit_photo(&mut d, &big).unwrap_err().to_string();
+    assert!(e.contains("MiB of photos"), "{e}");
+    while d.photos.len() < draft::MAX_DRAFT_PHOTOS {
+        let mut q = photo("0", 42, None);
+        q.sha256 = format!("{:064x}", 1000 + d.photos.len());
+        d.photos.push(q);
+    }
+    let e = admit_photo(&mut d, &photo("9", 43, None))
+        .unwrap_err()
+        .to_string();
+    assert!(e.contains("at most 200 photos"), "{e}");
+    assert_eq!(d.photos.len(), draft::MAX_DRAFT_PHOTOS);
 }

@@ -32,6 +32,7 @@ mod pg_db;
 mod returns;
 mod schema;
 mod schema_pg;
+mod shared;
 mod sources;
 mod station;
 pub(crate) mod stats;
@@ -51,6 +52,7 @@ pub use returns::{
     OpenUploads, PhotoCheckRow, PhotoRow, RETURNS_MIGRATION, ReportPhotoRow, ReportRow, ResultRow,
     ReturnRecord, UploadRecord,
 };
+pub use shared::{SHARED_MIGRATION, StoredDraft, StoredSettings};
 pub use sources::Source;
 pub use station::StationEntry;
 pub use stats::{AdjudicationRow, ControlRow, StatsEventRow, StatsReportRef};
@@ -95,7 +97,7 @@ struct Lite {
 
 /// Tables that hold no fact the statistics read: accounts, sessions,
 /// tokens, login attempts and upload progress.
-const BOOKKEEPING_TABLES: [&str; 8] = [
+const BOOKKEEPING_TABLES: [&str; 10] = [
     "users",
     "sessions",
     "api_tokens",
@@ -104,6 +106,8 @@ const BOOKKEEPING_TABLES: [&str; 8] = [
     "uploads",
     "pairings",
     "admin_log",
+    "org_settings",
+    "station_drafts",
 ];
 
 /// Which data the stored facts are: equal stamps mean no fact changed in

@@ -137,6 +137,8 @@ const MIGRATIONS: &[&str] = &[
     crate::platform::storage::admin::ADMIN_MIGRATION,
     // 11: each user's chosen language for the pages.
     crate::platform::storage::languages::LANGUAGES_MIGRATION,
+    // 12: the organisation's settings and the station entry's drafts, shared by instances.
+    crate::platform::storage::shared::SHARED_MIGRATION,
 ];
 
 /// The advisory lock held while PostgreSQL's schema is brought up to date,

@@ -351,4 +351,22 @@ pub(super) const PG_MIGRATIONS: &[&str] = &[
         language TEXT NOT NULL CHECK (language IN ('en', 'es', 'fr', 'id', 'pt'))
     );
 "#,
+    // 12: the organisation's settings and the station entry's drafts, shared by instances.
+    r#"
+    CREATE TABLE org_settings (
+        id BIGINT PRIMARY KEY CHECK (id = 1),
+        version BIGINT NOT NULL CHECK (version > 0),
+        settings TEXT NOT NULL,
+        changed_at BIGINT NOT NULL
+    );
+    CREATE TABLE station_drafts (
+        draft_key TEXT PRIMARY KEY,
+        user_name TEXT NOT NULL,
+        bundle_id TEXT NOT NULL,
+        doc TEXT NOT NULL,
+        updated_at BIGINT NOT NULL
+    );
+    CREATE INDEX station_drafts_updated ON station_drafts(updated_at);
+    CREATE INDEX station_drafts_user ON station_drafts(user_name);
+"#,
 ];

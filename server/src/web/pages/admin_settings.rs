@@ -1,8 +1,11 @@
 //! `/admin/settings`: the priority weights, the evidence tolerance, the
 //! organisation's time zone and default language. Saving goes through
-//! `platform::admin::change_settings`: the file `DATA/settings.toml` is read
-//! again, changed, checked as a whole, written durably, logged, and then
-//! used by the running server. Bad input changes nothing.
+//! `platform::admin::change_settings`: the stored settings (the database's,
+//! shared by every server instance) are read again, changed, checked as a
+//! whole, stored with their log row in one transaction, and then used by
+//! this server at once and by the others within seconds; the data
+//! directory's `settings.toml` is rewritten as their copy. Bad input
+//! changes nothing.
 
 use super::admin::{self, Chrome};
 use super::common::PageError;
@@ -145,8 +148,7 @@ pub async fn save(
     let checked = form.map(|f| f.into_inner()).map_err(admin::unreadable);
     let st = state.clone();
     let change = move |a: &ops::Actor, f: SettingsForm, now| {
-        let (db, live, dir) = (&st.db, &st.settings, &st.data_dir);
-        ops::change_settings(db, live, dir, a, |s| f.apply(s), now).map(drop)
+        ops::change_settings(&st.settings, a, |s| f.apply(s), now).map(drop)
     };
     let page = |e| async {
         let (req, state) = (&req, &state);

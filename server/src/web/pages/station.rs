@@ -196,17 +196,21 @@ async fn trip_links(state: &AppState, viewer: &Viewer) -> Vec<TripLink> {
     if !viewer.may(crate::platform::auth::Action::EnterFromPaper) {
         return Vec::new();
     }
-    let (db, dir) = (state.db.clone(), state.data_dir.clone());
+    let db = state.db.clone();
     let settings = state.settings.get().clone();
     let user = viewer.name.clone().unwrap_or_default();
     let found = web::block(move || {
         let bundles = db.read(|r| r.bundles())?;
+        let drafts: std::collections::HashSet<String> = db
+            .read(|r| r.station_draft_bundles(&user))?
+            .into_iter()
+            .collect();
         Ok::<_, crate::Error>(
             bundles
                 .into_iter()
                 .filter(|b| b.cancelled_at.is_none())
                 .map(|b| TripLink {
-                    draft: crate::intake::station::draft::draft_dir(&dir, &user, &b.id).exists(),
+                    draft: drafts.contains(&b.id),
                     issued: super::common::local_text(&settings, &b.issued_at),
                     stops: b.events + b.controls,
                     team: b.team,

@@ -257,7 +257,7 @@ async fn load(state: &AppState, id: &str, user: &str) -> Result<(Trip, Draft), P
     );
     let r = web::block(move || {
         let trip = entry::trip(&db, &id)?;
-        let (_, d) = entry::open_draft(&dir, &trip, &user, chrono::Utc::now())?;
+        let d = entry::open_draft(&db, &dir, &trip, &user, chrono::Utc::now())?;
         Ok::<_, IntakeError>((trip, d))
     })
     .await??;
@@ -366,13 +366,10 @@ async fn add_one(
     );
     let limits = state.intake_options().photo_limits;
     let added = web::block(move || {
-        let _g = draft::draft_lock();
         let trip = entry::trip(&db, &id)?;
-        let (ddir, mut d) = entry::open_draft(&dir, &trip, &user, chrono::Utc::now())?;
-        let added = entry::add_photo(&ddir, &mut d, &name, &bytes, &limits)?;
-        d.updated_at = chrono::Utc::now();
-        draft::store(&ddir, &d)?;
-        Ok::<_, IntakeError>(added)
+        let upload = (name.as_str(), bytes.as_slice());
+        let now = chrono::Utc::now();
+        entry::add_photo(&db, &dir, &trip, &user, upload, &limits, now)
     })
     .await??;
     Ok(added)
@@ -448,13 +445,8 @@ async fn keep(state: &AppState, id: &str, user: &str, form: EntryForm) -> Result
         user.to_string(),
     );
     web::block(move || {
-        let _g = draft::draft_lock();
         let trip = entry::trip(&db, &id)?;
-        let (ddir, mut d) = entry::open_draft(&dir, &trip, &user, chrono::Utc::now())?;
-        entry::apply_form(&trip, &mut d, form)?;
-        d.updated_at = chrono::Utc::now();
-        draft::store(&ddir, &d)?;
-        Ok::<_, IntakeError>(())
+        entry::keep_form(&db, &dir, &trip, &user, form, chrono::Utc::now())
     })
     .await??;
     Ok(())
@@ -536,10 +528,10 @@ pub async fn discard(
     let viewer = Viewer::of(&req);
     let r = async {
         let user = user_of(&viewer)?;
-        let (dir, id) = (state.data_dir.clone(), path.to_string());
+        let (db, dir, id) = (state.db.clone(), state.data_dir.clone(), path.to_string());
         web::block(move || {
-            let _g = draft::draft_lock();
-            draft::discard(&draft::draft_dir(&dir, &user, &id))
+            let store = crate::platform::evidence::of(&dir)?;
+            draft::discard(&db, &store, &draft::draft_key(&user, &id))
         })
         .await??;
         Ok::<_, PageError>(see_other("/station"))
@@ -567,13 +559,22 @@ pub async fn thumb(
                 "a photo is named by its SHA-256 (64 lowercase hex digits)",
             ));
         }
-        let dir = draft::draft_dir(&state.data_dir, &user, &id);
-        let bytes = web::block(move || std::fs::read(draft::thumb_file(&dir, &sha))).await?;
+        let key = draft::thumb_key(&draft::draft_key(&user, &id), &sha);
+        let dir = state.data_dir.clone();
+        // A thumbnail is small (a 1/8-scale JPEG): read whole.
+        let bytes = web::block(move || {
+            let mut b = Vec::new();
+            crate::platform::evidence::of(&dir)?
+                .copy_to(&key, None, &mut b)
+                .map(|_| b)
+        })
+        .await?;
         match bytes {
             Ok(b) => Ok(HttpResponse::Ok().content_type("image/jpeg").body(b)),
-            Err(_) => Err(PageError::from(crate::Error::NotFound(
+            Err(crate::Error::NotFound(_)) => Err(PageError::from(crate::Error::NotFound(
                 "no such photo in this entry".into(),
             ))),
+            Err(e) => Err(PageError::from(e)),
         }
     }
     .await;
