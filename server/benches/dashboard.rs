@@ -3,7 +3,13 @@
 //!
 //! ```text
 //! cargo bench -p groundproof-server --bench dashboard -- [EVENTS] [REPORTS] [RUNS]
+//!     [--engine sqlite|postgres|both]
 //! ```
+//! With `--engine both` the same data is generated on SQLite and on
+//! PostgreSQL (from `GROUNDPROOF_BENCH_POSTGRES` or
+//! `GROUNDPROOF_TEST_POSTGRES`; `source .ci/postgres.sh` starts a throwaway
+//! cluster) and every measurement alternates between them run by run; the
+//! load average is printed beside each engine's figures.
 //! Fills a temp data directory, through the storage module's own insert
 //! functions in one transaction, with EVENTS (default 200,000) seeded
 //! invented events in four zones and REPORTS (default 1,000,000) reports,
@@ -24,12 +30,12 @@
 
 mod common;
 use chrono::{DateTime, Duration, TimeZone, Utc};
-use common::peak_rss_mb;
+use common::{Engine, engines, is_engine_arg, load_average, peak_rss_mb, reset_peak_rss};
 use groundproof::domain::{Confidence, Day, Outcome, Reason, TargetKind};
 use groundproof::platform::storage::{
     BundleItem, Db, EventWrite, NewBundle, ReportRow, ReturnRecord, Tx,
 };
-use groundproof::statistics::figures::FigureOptions;
+use groundproof::statistics::figures::{FigureOptions, Figures};
 use groundproof::statistics::kept::{
     DISPUTE_WINDOW_DAYS, StatsCache, StatsFilter, figures_of, load,
 };
@@ -473,99 +479,161 @@ fn over_http(
     out
 }
 
-fn main() {
-    let args: Vec<usize> = std::env::args()
-        .skip(1)
-        .filter_map(|a| a.parse().ok())
-        .collect();
-    let n_events = args.first().copied().unwrap_or(200_000);
-    let n_reports = args.get(1).copied().unwrap_or(1_000_000);
-    let runs = args.get(2).copied().unwrap_or(20).max(1);
-    let dir = tempfile::tempdir().expect("temp dir");
-    let db = std::sync::Arc::new(Db::open(dir.path()).expect("db"));
-    let t = Instant::now();
-    let made = generate(&db, n_events, n_reports).expect("generated data");
-    let fill_s = t.elapsed().as_secs_f64();
-    let rss_after_fill = peak_rss_mb();
+/// One engine's database and what was measured on it.
+struct OnEngine {
+    engine: Engine,
+    dir: tempfile::TempDir,
+    db: std::sync::Arc<Db>,
+    made: Made,
+    fill_s: f64,
+    fill_peak_mb: f64,
+    /// Full recompute: total, load + reconcile, figures (ms).
+    totals: Vec<f64>,
+    loads: Vec<f64>,
+    figs: Vec<f64>,
+    last: Option<Figures>,
+    cache: StatsCache,
+    kept_first: Option<Figures>,
+    first_ms: f64,
+    served: Vec<f64>,
+    json_ms: Vec<f64>,
+    json_bytes: usize,
+    new_selection_ms: f64,
+    written: usize,
+    write_ms: f64,
+    after_return_ms: f64,
+    http: Vec<(&'static str, Vec<f64>, usize)>,
+    loads_seen: Vec<String>,
+}
 
-    let as_of = Utc
-        .with_ymd_and_hms(2026, 11, 30, 0, 0, 0)
-        .single()
-        .unwrap_or_default();
-    let options = FigureOptions::new(as_of);
-    let filter = StatsFilter::default();
-    // 1. The full recompute: what the first request after a change pays
-    //    when the background refresh has not run yet.
-    let run = || {
+impl OnEngine {
+    /// A fresh database on `engine`, filled by [`generate`].
+    fn fill(engine: Engine, n_events: usize, n_reports: usize) -> OnEngine {
+        let dir = tempfile::tempdir().expect("temp dir");
+        let db = std::sync::Arc::new(engine.open(dir.path()));
+        let load = load_average();
+        reset_peak_rss();
+        let t = Instant::now();
+        let made = generate(&db, n_events, n_reports).expect("generated data");
+        let fill_s = t.elapsed().as_secs_f64();
+        OnEngine {
+            engine,
+            dir,
+            db,
+            made,
+            fill_s,
+            fill_peak_mb: peak_rss_mb(),
+            totals: Vec::new(),
+            loads: Vec::new(),
+            figs: Vec::new(),
+            last: None,
+            cache: StatsCache::new(),
+            kept_first: None,
+            first_ms: 0.0,
+            served: Vec::new(),
+            json_ms: Vec::new(),
+            json_bytes: 0,
+            new_selection_ms: 0.0,
+            written: 0,
+            write_ms: 0.0,
+            after_return_ms: 0.0,
+            http: Vec::new(),
+            loads_seen: vec![load],
+        }
+    }
+
+    /// One full recompute from storage (what the first request after a
+    /// change pays when the background refresh has not run yet); kept
+    /// unless it is a warm-up run.
+    fn recompute(&mut self, options: &FigureOptions, keep: bool) {
+        let filter = StatsFilter::default();
         let t0 = Instant::now();
-        let l = load(&db, &filter, DISPUTE_WINDOW_DAYS).expect("load");
+        let l = load(&self.db, &filter, DISPUTE_WINDOW_DAYS).expect("load");
         let t1 = Instant::now();
-        let f = figures_of(&l, &options).expect("figures");
+        let f = figures_of(&l, options).expect("figures");
         let t2 = Instant::now();
         let ms = |a: Instant, b: Instant| (b - a).as_secs_f64() * 1000.0;
-        (ms(t0, t2), ms(t0, t1), ms(t1, t2), f)
-    };
-    let mut totals = Vec::new();
-    let mut loads = Vec::new();
-    let mut figs = Vec::new();
-    let mut last = None;
-    for i in 0..runs + 2 {
-        let (total, load_ms, fig_ms, f) = run();
-        if i >= 2 {
-            totals.push(total);
-            loads.push(load_ms);
-            figs.push(fig_ms);
+        if keep {
+            self.totals.push(ms(t0, t2));
+            self.loads.push(ms(t0, t1));
+            self.figs.push(ms(t1, t2));
         }
-        last = Some(f);
-    }
-    for v in [&mut totals, &mut loads, &mut figs] {
-        v.sort_by(f64::total_cmp);
+        self.last = Some(f);
     }
 
-    // 2. What the server answers: the statistics kept for the current facts
-    //    (`StatsCache`), as JSON, the way `/api/v1/stats` does. Each request
-    //    checks the fact stamp, applies its report date and serialises.
-    let cache = StatsCache::new();
-    let first = Instant::now();
-    let kept_first = cache.figures(&db, &filter, &options).expect("figures");
-    let first_ms = first.elapsed().as_secs_f64() * 1000.0;
-    let mut served = Vec::new();
-    let mut json_ms = Vec::new();
-    let mut json_bytes = 0;
-    for i in 0..runs {
-        let o = FigureOptions::new(as_of + Duration::minutes(i as i64));
+    /// The first request on these facts through the kept statistics.
+    fn first_kept(&mut self, options: &FigureOptions) {
         let t = Instant::now();
-        let f = cache.figures(&db, &filter, &o).expect("figures");
+        let f = self
+            .cache
+            .figures(&self.db, &StatsFilter::default(), options)
+            .expect("figures");
+        self.first_ms = t.elapsed().as_secs_f64() * 1000.0;
+        self.kept_first = Some(f);
+    }
+
+    /// What the server answers from the kept statistics: the fact stamp,
+    /// the report date applied, JSON (as `/api/v1/stats` does).
+    fn served_once(&mut self, options: &FigureOptions) {
+        let t = Instant::now();
+        let f = self
+            .cache
+            .figures(&self.db, &StatsFilter::default(), options)
+            .expect("figures");
         let tj = Instant::now();
         let body = serde_json::to_vec(&f).expect("json");
-        json_bytes = body.len();
+        self.json_bytes = body.len();
         std::hint::black_box(body);
-        served.push(t.elapsed().as_secs_f64() * 1000.0);
-        json_ms.push(tj.elapsed().as_secs_f64() * 1000.0);
+        self.served.push(t.elapsed().as_secs_f64() * 1000.0);
+        self.json_ms.push(tj.elapsed().as_secs_f64() * 1000.0);
     }
-    served.sort_by(f64::total_cmp);
-    json_ms.sort_by(f64::total_cmp);
-    // A selection not asked before, on facts already read: prepare + figures.
-    let zone = StatsFilter {
-        zone: Some(ZONES[0].0.into()),
-        ..Default::default()
-    };
-    let t = Instant::now();
-    cache.figures(&db, &zone, &options).expect("figures");
-    let new_selection_ms = t.elapsed().as_secs_f64() * 1000.0;
-    // After a new return: one trip of 100 events written, then the next request.
-    let t = Instant::now();
-    let written = add_one_return(&db).expect("a return written");
-    let write_ms = t.elapsed().as_secs_f64() * 1000.0;
-    let t = Instant::now();
-    cache.figures(&db, &filter, &options).expect("figures");
-    let after_return_ms = t.elapsed().as_secs_f64() * 1000.0;
-    // 3. Over HTTP: the real server on a loopback port, a manager's token.
-    let http = over_http(&db, dir.path(), runs);
-    let f = last.expect("one run");
+
+    /// A selection not asked before, then one new return and the next
+    /// request.
+    fn selection_and_return(&mut self, options: &FigureOptions) {
+        let zone = StatsFilter {
+            zone: Some(ZONES[0].0.into()),
+            ..Default::default()
+        };
+        let t = Instant::now();
+        self.cache
+            .figures(&self.db, &zone, options)
+            .expect("figures");
+        self.new_selection_ms = t.elapsed().as_secs_f64() * 1000.0;
+        let t = Instant::now();
+        self.written = add_one_return(&self.db).expect("a return written");
+        self.write_ms = t.elapsed().as_secs_f64() * 1000.0;
+        let t = Instant::now();
+        self.cache
+            .figures(&self.db, &StatsFilter::default(), options)
+            .expect("figures");
+        self.after_return_ms = t.elapsed().as_secs_f64() * 1000.0;
+    }
+
+    /// A fingerprint of every figure of the last full recompute, to check
+    /// that a speed-up (or another engine) changed no result.
+    fn digest(&self) -> String {
+        use sha2::Digest;
+        let json = serde_json::to_string(&self.last).unwrap_or_default();
+        hex::encode(&sha2::Sha256::digest(json.as_bytes())[..8])
+    }
+}
+
+/// Print what was measured on one engine.
+fn report(b: &mut OnEngine, runs: usize) {
+    for v in [
+        &mut b.totals,
+        &mut b.loads,
+        &mut b.figs,
+        &mut b.served,
+        &mut b.json_ms,
+    ] {
+        v.sort_by(f64::total_cmp);
+    }
+    let f = b.last.as_ref().expect("one run");
     assert_eq!(
-        serde_json::to_string(&kept_first).ok(),
-        serde_json::to_string(&f).ok(),
+        serde_json::to_string(&b.kept_first).ok(),
+        serde_json::to_string(&Some(f)).ok(),
         "the kept statistics equal a full recompute"
     );
     let visited = f
@@ -573,25 +641,27 @@ fn main() {
         .first()
         .and_then(|g| g.rows.first())
         .map_or(0, |r| r.visited);
-    // A fingerprint of every figure, to check that a speed-up changed no result.
-    let digest = {
-        use sha2::Digest;
-        let json = serde_json::to_string(&f).unwrap_or_default();
-        hex::encode(&sha2::Sha256::digest(json.as_bytes())[..8])
-    };
-    let p95 = quantile(&totals, 0.95);
+    let name = b.engine.name();
+    let m = &b.made;
     println!(
-        "data: {} events ({} merged), {} reports, {} bundles, {} adjudications; filled in {fill_s:.1} s",
-        made.events, made.merged, made.reports, made.bundles, made.adjudications
+        "[{name}] data: {} events ({} merged), {} reports, {} bundles, {} adjudications; filled in {:.1} s (peak {:.0} MB); load averages seen {}",
+        m.events,
+        m.merged,
+        m.reports,
+        m.bundles,
+        m.adjudications,
+        b.fill_s,
+        b.fill_peak_mb,
+        b.loads_seen.join(" | ")
     );
-    let served_p95 = quantile(&served, 0.95);
+    let served_p95 = quantile(&b.served, 0.95);
     println!(
-        "requests answered from the kept statistics, {runs} runs (fact stamp, report date, JSON):"
+        "[{name}] requests answered from the kept statistics, {runs} runs (fact stamp, report date, JSON):"
     );
     println!(
         "  served  median {:.1} ms  p95 {served_p95:.1} ms  max {:.1} ms  (target p95 < {TARGET_P95_MS:.0} ms: {})",
-        quantile(&served, 0.5),
-        quantile(&served, 1.0),
+        quantile(&b.served, 0.5),
+        quantile(&b.served, 1.0),
         if served_p95 < TARGET_P95_MS {
             "met"
         } else {
@@ -600,16 +670,18 @@ fn main() {
     );
     println!(
         "  of which JSON median {:.1} ms ({} kB)",
-        quantile(&json_ms, 0.5),
-        json_bytes / 1000
+        quantile(&b.json_ms, 0.5),
+        b.json_bytes / 1000
     );
     println!(
-        "  first request on these facts {first_ms:.0} ms; a new selection (zone) {new_selection_ms:.0} ms"
+        "  first request on these facts {:.0} ms; a new selection (zone) {:.0} ms",
+        b.first_ms, b.new_selection_ms
     );
     println!(
-        "  after a new return ({written} reports written in {write_ms:.0} ms) the next request took {after_return_ms:.0} ms (the server's background refresh usually pays this first)"
+        "  after a new return ({} reports written in {:.0} ms) the next request took {:.0} ms (the server's background refresh usually pays this first)",
+        b.written, b.write_ms, b.after_return_ms
     );
-    for (what, times, bytes) in &http {
+    for (what, times, bytes) in &b.http {
         println!(
             "  over HTTP {what}: median {:.1} ms  p95 {:.1} ms  ({} kB)",
             quantile(times, 0.5),
@@ -617,32 +689,110 @@ fn main() {
             bytes / 1000
         );
     }
-    println!("full recompute from storage over {runs} runs (after 2 warm-up runs):");
+    let p95 = quantile(&b.totals, 0.95);
+    println!("[{name}] full recompute from storage over {runs} runs (after 2 warm-up runs):");
     println!(
         "  total  median {:.0} ms  p95 {p95:.0} ms  max {:.0} ms",
-        quantile(&totals, 0.5),
-        quantile(&totals, 1.0),
+        quantile(&b.totals, 0.5),
+        quantile(&b.totals, 1.0),
     );
     println!(
         "  load + reconcile  median {:.0} ms  p95 {:.0} ms",
-        quantile(&loads, 0.5),
-        quantile(&loads, 0.95)
+        quantile(&b.loads, 0.5),
+        quantile(&b.loads, 0.95)
     );
     println!(
         "  figures           median {:.0} ms  p95 {:.0} ms",
-        quantile(&figs, 0.5),
-        quantile(&figs, 0.95)
+        quantile(&b.figs, 0.5),
+        quantile(&b.figs, 0.95)
     );
     println!(
-        "  peak memory (VmHWM) {:.0} MB (after filling {rss_after_fill:.0} MB); events visited {visited}; figures digest {digest}",
-        peak_rss_mb()
+        "  peak memory (VmHWM) of the process {:.0} MB; events visited {visited}; figures digest {}",
+        peak_rss_mb(),
+        b.digest()
     );
+    let http_p95 = |i: usize| b.http.get(i).map_or(f64::NAN, |h| quantile(&h.1, 0.95));
     println!(
-        "{{\"events\":{},\"reports\":{},\"runs\":{runs},\"served_median_ms\":{:.2},\"served_p95_ms\":{served_p95:.2},\"target_p95_ms\":{TARGET_P95_MS:.0},\"first_request_ms\":{first_ms:.0},\"new_selection_ms\":{new_selection_ms:.0},\"after_return_ms\":{after_return_ms:.0},\"recompute_median_ms\":{:.0},\"recompute_p95_ms\":{p95:.0},\"peak_rss_mb\":{:.0}}}",
-        made.events,
-        made.reports,
-        quantile(&served, 0.5),
-        quantile(&totals, 0.5),
+        "{{\"engine\":\"{name}\",\"events\":{},\"reports\":{},\"runs\":{runs},\"fill_seconds\":{:.1},\"served_median_ms\":{:.2},\"served_p95_ms\":{served_p95:.2},\"target_p95_ms\":{TARGET_P95_MS:.0},\"http_stats_p95_ms\":{:.1},\"http_dashboard_p95_ms\":{:.1},\"first_request_ms\":{:.0},\"new_selection_ms\":{:.0},\"after_return_ms\":{:.0},\"recompute_median_ms\":{:.0},\"recompute_p95_ms\":{p95:.0},\"load_median_ms\":{:.0},\"peak_rss_mb\":{:.0}}}",
+        m.events,
+        m.reports,
+        b.fill_s,
+        quantile(&b.served, 0.5),
+        http_p95(0),
+        http_p95(1),
+        b.first_ms,
+        b.new_selection_ms,
+        b.after_return_ms,
+        quantile(&b.totals, 0.5),
+        quantile(&b.loads, 0.5),
         peak_rss_mb()
     );
+}
+
+fn main() {
+    let args: Vec<String> = std::env::args().skip(1).collect();
+    let numbers: Vec<usize> = (0..args.len())
+        .filter(|&i| !is_engine_arg(&args, i))
+        .filter_map(|i| args[i].parse().ok())
+        .collect();
+    let n_events = numbers.first().copied().unwrap_or(200_000);
+    let n_reports = numbers.get(1).copied().unwrap_or(1_000_000);
+    let runs = numbers.get(2).copied().unwrap_or(20).max(1);
+    let mut benches: Vec<OnEngine> = engines(&args)
+        .into_iter()
+        .map(|e| OnEngine::fill(e, n_events, n_reports))
+        .collect();
+
+    let as_of = Utc
+        .with_ymd_and_hms(2026, 11, 30, 0, 0, 0)
+        .single()
+        .unwrap_or_default();
+    let options = FigureOptions::new(as_of);
+    // Each phase alternates between the engines, run by run, so that a
+    // change of the machine's load falls on both.
+    // 1. The full recompute, after 2 warm-up runs.
+    for i in 0..runs + 2 {
+        for b in &mut benches {
+            b.recompute(&options, i >= 2);
+        }
+    }
+    // 2. What the server answers: the statistics kept for the current
+    //    facts (`StatsCache`), as JSON, the way `/api/v1/stats` does.
+    for b in &mut benches {
+        b.first_kept(&options);
+        b.loads_seen.push(load_average());
+    }
+    for i in 0..runs {
+        let o = FigureOptions::new(as_of + Duration::minutes(i as i64));
+        for b in &mut benches {
+            b.served_once(&o);
+        }
+    }
+    for b in &mut benches {
+        b.selection_and_return(&options);
+    }
+    // 3. Over HTTP: the real server on a loopback port, a manager's token.
+    for b in &mut benches {
+        b.http = over_http(&b.db, b.dir.path(), runs);
+        b.loads_seen.push(load_average());
+    }
+    for b in &mut benches {
+        report(b, runs);
+    }
+    if let [a, b] = &benches[..] {
+        let (ra, rb) = (quantile(&a.totals, 0.5), quantile(&b.totals, 0.5));
+        println!(
+            "{} / {}: fill {:.2}x, full recompute (median) {:.2}x, served (median) {:.2}x; same figures on both engines: {}",
+            b.engine.name(),
+            a.engine.name(),
+            b.fill_s / a.fill_s,
+            rb / ra,
+            quantile(&b.served, 0.5) / quantile(&a.served, 0.5),
+            if a.digest() == b.digest() {
+                "yes"
+            } else {
+                "NO"
+            }
+        );
+    }
 }

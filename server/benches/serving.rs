@@ -5,7 +5,17 @@
 //!
 //! ```text
 //! cargo bench -p groundproof-server --bench serving -- [SECONDS] [THREADS] [CLIENTS]
+//!     [--engine sqlite|postgres|both]
 //! ```
+//! The statistics are driven twice: without `Accept-Encoding` and with
+//! `Accept-Encoding: gzip` (the kept compressed copy). With `--engine
+//! both` the demo is loaded on SQLite and on PostgreSQL (from
+//! `GROUNDPROOF_BENCH_POSTGRES` or `GROUNDPROOF_TEST_POSTGRES`), and each
+//! target is driven on one after the other; the load average is printed
+//! beside each row. `--variants nodelay,buffer-128k,…` starts one more
+//! server per named set-up ([`HttpTuning`]) on the same data (first engine)
+//! and drives them in turn with the default one; `--rounds R` repeats the
+//! whole sequence R times (each round with its own ceiling).
 //! Defaults: 5 seconds per target, 2 client threads, 16 connections (the
 //! setup of issue 15, which used wrk). The server runs 2 workers, as
 //! `groundproof serve` does; client and server share the machine's cores,
@@ -18,8 +28,7 @@
 mod common;
 use groundproof::platform::auth::{Role, issue_api_token, now_unix};
 use groundproof::platform::settings::Settings;
-use groundproof::platform::storage::Db;
-use groundproof::web::{self, AppState};
+use groundproof::web::{self, AppState, HttpTuning};
 use std::net::{SocketAddr, TcpListener};
 use std::sync::Arc;
 use std::time::{Duration, Instant};
@@ -29,10 +38,13 @@ use tokio::io::{AsyncReadExt, AsyncWriteExt};
 const MAX_REQUESTS: usize = 5_000_000;
 /// Largest response the client reads (bytes).
 const MAX_RESPONSE: usize = 64 * 1024 * 1024;
-/// Targets of issue 15: (path, least requests/s, largest p99 in ms).
-const TARGETS: [(&str, f64, Option<f64>); 2] = [
-    ("/api/v1/stats", 20_000.0, None),
-    ("/api/v1/events?limit=100", 2_000.0, Some(20.0)),
+/// Targets of issue 15: (path, whether the client takes gzip, least
+/// requests/s, largest p99 in ms). The statistics are measured both ways:
+/// without `Accept-Encoding` (as wrk sends) and with `gzip`.
+const TARGETS: [(&str, bool, f64, Option<f64>); 3] = [
+    ("/api/v1/stats", false, 20_000.0, None),
+    ("/api/v1/stats", true, 20_000.0, None),
+    ("/api/v1/events?limit=100", false, 2_000.0, Some(20.0)),
 ];
 
 struct Load {
@@ -66,13 +78,13 @@ impl Outcome {
 }
 
 /// Start `state` on a loopback port in its own thread.
-fn start(state: AppState) -> SocketAddr {
+fn start(state: AppState, tuning: HttpTuning) -> SocketAddr {
     let listener = TcpListener::bind("127.0.0.1:0").expect("bind loopback");
     let addr = listener.local_addr().expect("address");
     let (tx, rx) = std::sync::mpsc::channel();
     std::thread::spawn(move || {
         actix_web::rt::System::new().block_on(async move {
-            let server = web::run(listener, state).expect("server builds");
+            let server = web::run_tuned(listener, state, tuning).expect("server builds");
             tx.send(()).expect("started");
             let _ = server.await;
         });
@@ -186,11 +198,17 @@ async fn connection(
     Ok((errors, bytes, micros))
 }
 
-/// Drive `path` on `addr` with `load`.
-fn drive(addr: SocketAddr, path: &str, token: Option<&str>, load: &Load) -> Outcome {
+/// Drive `path` on `addr` with `load`, with `Accept-Encoding: gzip` when
+/// `gzip`.
+fn drive(addr: SocketAddr, path: &str, gzip: bool, token: Option<&str>, load: &Load) -> Outcome {
     let auth = token.map_or(String::new(), |t| format!("Authorization: Bearer {t}\r\n"));
+    let accept = if gzip {
+        "Accept-Encoding: gzip\r\n"
+    } else {
+        ""
+    };
     let request =
-        Arc::new(format!("GET {path} HTTP/1.1\r\nHost: {addr}\r\n{auth}\r\n").into_bytes());
+        Arc::new(format!("GET {path} HTTP/1.1\r\nHost: {addr}\r\n{auth}{accept}\r\n").into_bytes());
     let budget = Arc::new(std::sync::atomic::AtomicUsize::new(MAX_REQUESTS));
     let start = Instant::now();
     let deadline = start + Duration::from_secs_f64(load.seconds);
@@ -244,70 +262,196 @@ fn drive(addr: SocketAddr, path: &str, token: Option<&str>, load: &Load) -> Outc
     o
 }
 
-/// The demo's data in a fresh data directory, with the teams' returns
-/// pushed through the real upload; the address and a manager's token.
-fn demo_server(dir: &std::path::Path) -> (SocketAddr, String) {
+/// The demo's data in a fresh data directory on `engine`, with the teams'
+/// returns pushed through the real upload; the server's state, its
+/// address (set up as `groundproof serve` is) and a manager's token.
+fn demo_server(engine: &common::Engine, dir: &std::path::Path) -> (AppState, SocketAddr, String) {
     let settings = Settings::default();
-    let db = Arc::new(Db::open(dir).expect("database"));
+    let db = Arc::new(engine.open(dir));
     let summary = groundproof::demo::load(&db, dir, &settings).expect("demo data");
-    let addr = start(AppState::new(db.clone(), dir.to_path_buf(), settings));
+    let state = AppState::new(db.clone(), dir.to_path_buf(), settings);
+    let addr = start(state.clone(), HttpTuning::default());
     let work = tempfile::tempdir().expect("work dir");
     groundproof::demo::run_trips(&db, &summary, work.path(), &format!("http://{addr}"))
         .expect("demo returns");
     let (_, token) =
         issue_api_token(&db, Role::Manager, "serving bench", now_unix()).expect("manager token");
-    (addr, token)
+    (state, addr, token)
+}
+
+/// Server set-ups the bench can compare (`--variants a,b,…`), each a
+/// second server on the same state: (name, set-up).
+fn variant(name: &str) -> Option<HttpTuning> {
+    let d = HttpTuning::default();
+    Some(match name {
+        "default" => d,
+        "nodelay" => HttpTuning {
+            tcp_nodelay: Some(true),
+            ..d
+        },
+        "buffer-128k" => HttpTuning {
+            h1_write_buffer: Some(128 * 1024),
+            ..d
+        },
+        "buffer-8k" => HttpTuning {
+            h1_write_buffer: Some(8 * 1024),
+            ..d
+        },
+        "workers-1" => HttpTuning { workers: 1, ..d },
+        "workers-4" => HttpTuning { workers: 4, ..d },
+        _ => return None,
+    })
+}
+
+/// Flags that take a value (the value is not a positional number).
+const VALUE_FLAGS: [&str; 3] = ["--engine", "--variants", "--rounds"];
+
+/// The value after flag `name` among `words`.
+fn flag_value<'a>(words: &'a [String], name: &str) -> Option<&'a str> {
+    let i = words.iter().position(|a| a == name)?;
+    words.get(i + 1).map(String::as_str)
+}
+
+/// One server to drive: its engine, set-up, address and token.
+struct Served {
+    engine: &'static str,
+    variant: String,
+    addr: SocketAddr,
+    token: String,
+}
+
+/// One row of the printed results.
+struct Row {
+    engine: &'static str,
+    variant: String,
+    target: String,
+    gzip: bool,
+    round: usize,
+    outcome: Outcome,
+    load_average: String,
+}
+
+/// The servers to drive: the demo on each engine (set up as `serve` is),
+/// and on the first engine one more server per variant named.
+fn servers(words: &[String]) -> (Vec<tempfile::TempDir>, Vec<Served>) {
+    let engines = common::engines(words);
+    let names: Vec<String> = flag_value(words, "--variants")
+        .map(|v| v.split(',').map(str::to_string).collect())
+        .unwrap_or_default();
+    let mut dirs = Vec::new();
+    let mut out = Vec::new();
+    for (k, e) in engines.iter().enumerate() {
+        let dir = tempfile::tempdir().expect("temp dir");
+        let t = Instant::now();
+        let (state, addr, token) = demo_server(e, dir.path());
+        eprintln!(
+            "demo loaded on {} in {:.1} s",
+            e.name(),
+            t.elapsed().as_secs_f64()
+        );
+        let first = Served {
+            engine: e.name(),
+            variant: "default".into(),
+            addr,
+            token: token.clone(),
+        };
+        out.push(first);
+        for name in names.iter().filter(|n| k == 0 && *n != "default") {
+            let Some(tuning) = variant(name) else {
+                eprintln!(
+                    "--variants: '{name}' is not one of default, nodelay, buffer-128k, buffer-8k, workers-1, workers-4"
+                );
+                std::process::exit(2)
+            };
+            out.push(Served {
+                engine: e.name(),
+                variant: name.clone(),
+                addr: start(state.clone(), tuning),
+                token: token.clone(),
+            });
+        }
+        dirs.push(dir);
+    }
+    (dirs, out)
 }
 
 fn main() {
-    let args: Vec<f64> = std::env::args()
-        .skip(1)
-        .filter_map(|a| a.parse().ok())
+    let words: Vec<String> = std::env::args().skip(1).collect();
+    let args: Vec<f64> = (0..words.len())
+        .filter(|&i| i == 0 || !VALUE_FLAGS.contains(&words[i - 1].as_str()))
+        .filter_map(|i| words[i].parse().ok())
         .collect();
     let load = Load {
         seconds: args.first().copied().unwrap_or(5.0).clamp(0.5, 120.0),
         threads: args.get(1).copied().unwrap_or(2.0).clamp(1.0, 64.0) as usize,
         clients: args.get(2).copied().unwrap_or(16.0).clamp(1.0, 1024.0) as usize,
     };
-    let dir = tempfile::tempdir().expect("temp dir");
-    let t = Instant::now();
-    let (addr, token) = demo_server(dir.path());
-    eprintln!("demo loaded in {:.1} s", t.elapsed().as_secs_f64());
+    let rounds: usize = flag_value(&words, "--rounds")
+        .and_then(|r| r.parse().ok())
+        .unwrap_or(1)
+        .clamp(1, 20);
+    let (_dirs, servers) = servers(&words);
     let ceiling = start_ceiling();
-    let mut rows = vec![(
-        "actix ceiling /json".to_string(),
-        drive(ceiling, "/json", None, &load),
-    )];
-    for (path, _, _) in TARGETS {
-        // One request first: what the first reader after a change pays is
-        // measured by the dashboard bench, not here.
-        drive(
-            addr,
-            path,
-            Some(&token),
-            &Load {
-                seconds: 0.5,
-                threads: 1,
-                clients: 1,
-            },
-        );
-        rows.push((path.to_string(), drive(addr, path, Some(&token), &load)));
+    let mut rows = Vec::new();
+    for round in 1..=rounds {
+        rows.push(Row {
+            engine: "-",
+            variant: "-".into(),
+            target: "actix ceiling /json".into(),
+            gzip: false,
+            round,
+            load_average: common::load_average(),
+            outcome: drive(ceiling, "/json", false, None, &load),
+        });
+        // Target by target, the servers one after the other.
+        for (path, gzip, _, _) in TARGETS {
+            for s in &servers {
+                // One request first: what the first reader after a change
+                // pays is measured by the dashboard bench, not here.
+                let warm = Load {
+                    seconds: 0.5,
+                    threads: 1,
+                    clients: 1,
+                };
+                drive(s.addr, path, gzip, Some(&s.token), &warm);
+                rows.push(Row {
+                    engine: s.engine,
+                    variant: s.variant.clone(),
+                    target: path.to_string(),
+                    gzip,
+                    round,
+                    load_average: common::load_average(),
+                    outcome: drive(s.addr, path, gzip, Some(&s.token), &load),
+                });
+            }
+        }
     }
-    let ceiling_rate = rows[0].1.rate();
-    for (name, o) in &rows {
-        let target = TARGETS.iter().find(|t| t.0 == name);
+    print_rows(&rows, &load);
+}
+
+/// One JSON line per row; shares are of the ceiling of the same round.
+fn print_rows(rows: &[Row], load: &Load) {
+    for r in rows {
+        let ceiling_rate = rows
+            .iter()
+            .find(|c| c.engine == "-" && c.round == r.round)
+            .map_or(f64::NAN, |c| c.outcome.rate());
+        let o = &r.outcome;
+        let target = TARGETS.iter().find(|t| t.0 == r.target && t.1 == r.gzip);
         println!(
             "{}",
             serde_json::json!({
-                "target": name,
+                "target": r.target, "engine": r.engine, "variant": r.variant,
+                "accept_gzip": r.gzip, "round": r.round,
                 "seconds": load.seconds, "threads": load.threads, "clients": load.clients,
                 "requests": o.requests, "errors": o.errors,
                 "requests_per_s": o.rate().round(),
                 "p50_ms": o.quantile_ms(0.5), "p99_ms": o.quantile_ms(0.99),
                 "bytes_per_answer": o.bytes.checked_div(o.requests).unwrap_or(0),
                 "share_of_ceiling": o.rate() / ceiling_rate,
-                "goal_requests_per_s": target.map(|t| t.1),
-                "goal_p99_ms": target.and_then(|t| t.2),
+                "goal_requests_per_s": target.map(|t| t.2),
+                "goal_p99_ms": target.and_then(|t| t.3),
+                "load_average": r.load_average,
                 "peak_rss_mb": common::peak_rss_mb(),
             })
         );

@@ -113,9 +113,42 @@ pub fn configure(cfg: &mut web::ServiceConfig) {
         );
 }
 
+/// How the HTTP server is set up. [`HttpTuning::default`] is what
+/// `groundproof serve` uses; the serving bench compares others with it
+/// ([`run_tuned`]).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct HttpTuning {
+    /// Worker threads (each runs its own executor).
+    pub workers: usize,
+    /// `TCP_NODELAY` on accepted connections; `None`: the system's default.
+    pub tcp_nodelay: Option<bool>,
+    /// actix's HTTP/1 write buffer: answers are flushed once this much is
+    /// buffered; `None`: actix's default (32 KiB).
+    pub h1_write_buffer: Option<usize>,
+}
+
+impl Default for HttpTuning {
+    fn default() -> Self {
+        HttpTuning {
+            workers: 2,
+            tcp_nodelay: None,
+            h1_write_buffer: None,
+        }
+    }
+}
+
 /// Start serving on an already bound listener (port 0 in tests).
 pub fn run(listener: TcpListener, state: AppState) -> std::io::Result<Server> {
-    run_with(listener, state, None)
+    run_with(listener, state, None, HttpTuning::default())
+}
+
+/// [`run`] with another set-up (for the serving bench).
+pub fn run_tuned(
+    listener: TcpListener,
+    state: AppState,
+    tuning: HttpTuning,
+) -> std::io::Result<Server> {
+    run_with(listener, state, None, tuning)
 }
 
 /// [`run`] over HTTPS with `tls` (see [`tls_config`]).
@@ -124,13 +157,14 @@ pub fn run_tls(
     state: AppState,
     tls: rustls::ServerConfig,
 ) -> std::io::Result<Server> {
-    run_with(listener, state, Some(tls))
+    run_with(listener, state, Some(tls), HttpTuning::default())
 }
 
 fn run_with(
     listener: TcpListener,
     state: AppState,
     tls: Option<rustls::ServerConfig>,
+    tuning: HttpTuning,
 ) -> std::io::Result<Server> {
     crate::statistics::kept::keep_fresh(Arc::downgrade(&state.db), Arc::downgrade(&state.stats));
     let data = web::Data::new(state);
@@ -141,7 +175,15 @@ fn run_with(
             .wrap(actix_web::middleware::Logger::new("%r %s %b %Dms"))
             .configure(configure)
     })
-    .workers(2);
+    .workers(tuning.workers.max(1));
+    let server = match tuning.tcp_nodelay {
+        Some(on) => server.tcp_nodelay(on),
+        None => server,
+    };
+    let server = match tuning.h1_write_buffer {
+        Some(size) => server.h1_write_buffer_size(size.max(1)),
+        None => server,
+    };
     let server = match tls {
         Some(config) => server.listen_rustls_0_23(listener, config)?,
         None => server.listen(listener)?,
