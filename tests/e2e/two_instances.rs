@@ -510,20 +510,8 @@ fn one_upload_completed_on_both_at_once(t: &Twins) {
     assert_eq!(patch(&a, &t.token, &id, 0, &zip), 204);
     let before = t.db.read(|r| r.report_facts()).unwrap().len();
 
-    let gate = std::sync::Arc::new(std::sync::Barrier::new(2));
-    let answers: Vec<(u16, Value)> = [a, b]
-        .map(|base| {
-            let (gate, token) = (gate.clone(), t.token.clone());
-            let url = format!("{base}/api/v1/uploads/{id}/complete");
-            std::thread::spawn(move || {
-                gate.wait();
-                let (st, body, _) = call("POST", &url, &token, &[], b"");
-                (st, serde_json::from_slice(&body).unwrap_or(Value::Null))
-            })
-        })
-        .into_iter()
-        .map(|h| h.join().unwrap())
-        .collect();
+    let complete = |base: &str| format!("{base}/api/v1/uploads/{id}/complete");
+    let answers = at_once(&t.token, vec![complete(&a), complete(&b)]);
     for (st, doc) in &answers {
         assert_eq!(*st, 200, "both instances answer the results: {doc}");
     }
@@ -541,6 +529,64 @@ fn one_upload_completed_on_both_at_once(t: &Twins) {
     let after = t.db.read(|r| r.report_facts()).unwrap().len();
     assert_eq!(after, before + 3, "stored once");
     assert!(t.db.read(|r| r.return_by_sha(&sha)).unwrap().is_some());
+}
+
+/// (f) Two packages that share reports (the first three reports, then
+/// the same three and a fourth) completed on A and on B at the same
+/// moment: both answer 200, each shared report is accepted once and a
+/// duplicate once, and every report is stored once.
+fn packages_sharing_reports_completed_on_both_at_once(t: &Twins) {
+    let (a, b) = (t.base_a(), t.base_b());
+    let (bundle_id, bundle) = issue_bundle(&a, "Team Basalt");
+    let ws = open_workspace(t.tmp.path(), "ws-shared", &bundle);
+    record_events(&ws, 3, 131);
+    let first = pack(&ws, &t.tmp.path().join("shared-1.zip"), false);
+    record_events_from(&ws, 3, 1, 141);
+    let second = pack(&ws, &t.tmp.path().join("shared-2.zip"), true);
+    let before = t.db.read(|r| r.report_facts()).unwrap().len();
+    let mut urls = Vec::new();
+    for (base, zip) in [(&a, &first), (&b, &second)] {
+        let r = post_json(
+            &format!("{base}/api/v1/uploads"),
+            &json!({"bundle_id": bundle_id, "size": zip.len(), "sha256": hex_sha(zip)}),
+        );
+        assert_eq!(r.status, 201, "{}", r.body);
+        let id = r.json()["upload_id"].as_str().unwrap().to_string();
+        assert_eq!(patch(base, &t.token, &id, 0, zip), 204);
+        urls.push(format!("{base}/api/v1/uploads/{id}/complete"));
+    }
+    let answers = at_once(&t.token, urls);
+    let mut accepted = 0;
+    for (st, doc) in &answers {
+        assert_eq!(*st, 200, "both instances answer the results: {doc}");
+        for r in doc["results"].as_array().unwrap() {
+            match r["status"].as_str().unwrap() {
+                "accepted" => accepted += 1,
+                "duplicate" => {}
+                other => panic!("{other}: {r}"),
+            }
+        }
+    }
+    assert_eq!(accepted, 4, "each report accepted once: {answers:?}");
+    let after = t.db.read(|r| r.report_facts()).unwrap().len();
+    assert_eq!(after, before + 4, "stored once");
+}
+
+/// POST to each of `urls` at the same moment; the statuses and JSON bodies.
+fn at_once(token: &str, urls: Vec<String>) -> Vec<(u16, Value)> {
+    let gate = std::sync::Arc::new(std::sync::Barrier::new(urls.len()));
+    let threads: Vec<_> = urls
+        .into_iter()
+        .map(|url| {
+            let (gate, token) = (gate.clone(), token.to_string());
+            std::thread::spawn(move || {
+                gate.wait();
+                let (st, body, _) = call("POST", &url, &token, &[], b"");
+                (st, serde_json::from_slice(&body).unwrap_or(Value::Null))
+            })
+        })
+        .collect();
+    threads.into_iter().map(|h| h.join().unwrap()).collect()
 }
 
 /// When to kill A during a push: once its upload holds some bytes but not
@@ -628,9 +674,9 @@ fn kill_9_of_a_the_kit_carries_on_against_b(t: &mut Twins) {
     record_events_from(&complete, 7, 3, 15);
     kill_9_of_a_during_intake(t, &complete, KillWhen::Complete);
     stored_as_pushed(t, &[&chunks, &complete]);
-    // 2 + 2 + 3 reports of the steps before and these 6: none stored twice.
+    // 2 + 2 + 3 + 4 reports of the steps before and these 6: none stored twice.
     let all = t.db.read(|r| r.report_facts()).unwrap();
-    assert_eq!(all.len(), 13, "no report stored twice");
+    assert_eq!(all.len(), 17, "no report stored twice");
 
     for ws in [&chunks, &complete] {
         let sha = &reports_of(ws)[0].report.photos[0].sha256;
@@ -664,5 +710,6 @@ fn two_instances_on_one_database_and_one_store() {
     stats_follow_the_other_instance(&t);
     upload_begun_on_a_finished_on_b(&t);
     one_upload_completed_on_both_at_once(&t);
+    packages_sharing_reports_completed_on_both_at_once(&t);
     kill_9_of_a_the_kit_carries_on_against_b(&mut t);
 }

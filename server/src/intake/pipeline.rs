@@ -295,13 +295,7 @@ impl Context<'_> {
         let id = r.report_id.to_string();
         let body = body_sha256(r);
         if let Some((stored, flags)) = self.db.read(|x| x.report_fingerprint(&id))? {
-            return Ok(if stored == body {
-                Verdict::Duplicate(flags)
-            } else {
-                Verdict::Reject(format!(
-                    "report {id} was already received with other content; a correction is a new report that supersedes it"
-                ))
-            });
+            return Ok(already_stored(&id, &stored, &body, flags));
         }
         let mut target = match self.resolve(r)? {
             Ok(t) => t,
@@ -967,6 +961,19 @@ fn commit_rows(
     Ok(return_id)
 }
 
+/// The verdict on report `id` arriving with body fingerprint `body` when one
+/// with fingerprint `stored` (and `flags`) is already stored: a duplicate,
+/// or a refusal of other content under the same id.
+fn already_stored(id: &str, stored: &str, body: &str, flags: Vec<String>) -> Verdict {
+    if stored == body {
+        Verdict::Duplicate(flags)
+    } else {
+        Verdict::Reject(format!(
+            "report {id} was already received with other content; a correction is a new report that supersedes it"
+        ))
+    }
+}
+
 /// One report's verdict written inside the package's transaction; its
 /// result row.
 fn store_verdict(
@@ -991,6 +998,13 @@ fn store_verdict(
             flags: Vec::new(),
         },
         Verdict::Accept(p) => {
+            // Stored meanwhile by another instance (judged before this
+            // transaction, and the intake lock holds only within this
+            // process): what the judge would say now.
+            if let Some((stored, flags)) = tx.reader().report_fingerprint(&rid)? {
+                let v = already_stored(&rid, &stored, &p.body_sha256, flags);
+                return store_verdict(tx, return_id, id, &v, photos);
+            }
             let mut row = p.row.clone();
             row.return_id = return_id;
             if let Some(ev) = &p.new_event {
