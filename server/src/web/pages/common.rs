@@ -170,7 +170,7 @@ pub fn page(t: &impl Template) -> Result<HttpResponse, PageError> {
 /// The error page for `e`.
 pub fn error_page(req: &HttpRequest, viewer: &Viewer, e: &PageError) -> HttpResponse {
     let tr = crate::web::i18n::tr_of(req);
-    let (reason, message) = (e.reason(&tr), e.text(&tr));
+    let (reason, message) = (e.reason(&tr), e.text(tr));
     let t = ErrorPage {
         layout: Layout::new(req, viewer, &reason, ""),
         status: e.status.as_u16(),
