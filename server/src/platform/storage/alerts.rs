@@ -1,16 +1,43 @@
 //! Alerts: insertion (batched; secondary indexes rebuilt after a bulk
 //! load) and the neighbourhood queries the event update needs.
 
-use super::engine::Row;
+use super::engine::{Dialect, Row, params_from_iter};
 use super::{Reader, Tx};
 use crate::domain::{Confidence, Day};
 use crate::error::Result;
 use rusqlite::params;
+use rusqlite::types::Value;
 
 /// Above this many new rows an import drops the alert indexes, loads, and
 /// builds them again: building once is far cheaper than keeping a random
 /// key index up to date row by row (measured in the benchmark).
 const BULK_ROWS: usize = 100_000;
+
+/// Alert rows per multi-row `INSERT` on PostgreSQL: 5,000 parameters, well
+/// under its limit of 65,535 bind parameters per statement.
+const PG_ROWS_PER_INSERT: usize = 500;
+
+/// Columns [`INSERT`] fills per alert.
+const ALERT_COLUMNS: usize = 10;
+
+const INSERT: &str = "INSERT INTO alerts (source_id, import_id, lon, lat, lon_e7, lat_e7, day, confidence, cell, event_id)
+     VALUES";
+
+/// The [`ALERT_COLUMNS`] values of one alert, in [`INSERT`]'s order.
+fn alert_values(import_id: i64, a: &NewAlert) -> [Value; ALERT_COLUMNS] {
+    [
+        Value::Integer(a.source_id),
+        Value::Integer(import_id),
+        Value::Real(a.lon),
+        Value::Real(a.lat),
+        Value::Integer(e7(a.lon)),
+        Value::Integer(e7(a.lat)),
+        Value::Integer(i64::from(a.day.days())),
+        Value::Integer(a.confidence.as_i64()),
+        Value::Integer(cell_of(a.lon, a.lat)),
+        Value::Integer(a.event_id),
+    ]
+}
 
 /// A validated alert ready to store, with the event it joins.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -78,24 +105,12 @@ impl Tx<'_> {
                 "DROP INDEX alerts_pixel; DROP INDEX alerts_cell; DROP INDEX alerts_event;",
             )?;
         }
-        {
-            let mut st = self.tx.prepare_cached(
-                "INSERT INTO alerts (source_id, import_id, lon, lat, lon_e7, lat_e7, day, confidence, cell, event_id)
-                 VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10)",
-            )?;
-            for a in alerts {
-                st.execute(params![
-                    a.source_id,
-                    import_id,
-                    a.lon,
-                    a.lat,
-                    e7(a.lon),
-                    e7(a.lat),
-                    a.day.days(),
-                    a.confidence.as_i64(),
-                    cell_of(a.lon, a.lat),
-                    a.event_id
-                ])?;
+        match self.tx.dialect() {
+            Dialect::Sqlite => self.insert_alert_rows(import_id, alerts)?,
+            Dialect::Postgres => {
+                for chunk in alerts.chunks(PG_ROWS_PER_INSERT) {
+                    self.insert_alert_chunk(import_id, chunk)?;
+                }
             }
         }
         if bulk {
@@ -105,6 +120,46 @@ impl Tx<'_> {
                  CREATE INDEX alerts_event ON alerts(event_id);",
             )?;
         }
+        Ok(())
+    }
+
+    /// One prepared statement per row: SQLite appends in its own process,
+    /// so a row costs no round trip.
+    fn insert_alert_rows(&self, import_id: i64, alerts: &[NewAlert]) -> Result<()> {
+        let mut st = self.tx.prepare_cached(&format!(
+            "{INSERT} (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10)"
+        ))?;
+        for a in alerts {
+            st.execute(alert_values(import_id, a))?;
+        }
+        Ok(())
+    }
+
+    /// Up to [`PG_ROWS_PER_INSERT`] rows in one multi-row `INSERT`: one
+    /// round trip to PostgreSQL for the lot. The rows of a `VALUES` list are
+    /// inserted in list order, so ids still follow the caller's order.
+    fn insert_alert_chunk(&self, import_id: i64, chunk: &[NewAlert]) -> Result<()> {
+        let rows: Vec<String> = (0..chunk.len())
+            .map(|r| {
+                let b = r * ALERT_COLUMNS;
+                let cols: Vec<String> =
+                    (1..=ALERT_COLUMNS).map(|c| format!("?{}", b + c)).collect();
+                format!("({})", cols.join(", "))
+            })
+            .collect();
+        let sql = format!("{INSERT} {}", rows.join(", "));
+        let values: Vec<Value> = chunk
+            .iter()
+            .flat_map(|a| alert_values(import_id, a))
+            .collect();
+        // A full chunk repeats, so its statement is kept; the last, shorter
+        // one is prepared once.
+        let mut st = if chunk.len() == PG_ROWS_PER_INSERT {
+            self.tx.prepare_cached(&sql)?
+        } else {
+            self.tx.prepare(&sql)?
+        };
+        st.execute(params_from_iter(values.iter()))?;
         Ok(())
     }
 
@@ -187,5 +242,70 @@ impl Reader<'_> {
             })?
             .collect::<Result<Vec<_>>>()?;
         Ok(v)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::super::events::EventWrite;
+    use super::*;
+
+    fn event() -> EventWrite {
+        EventWrite {
+            footprint: r#"{"type":"Point","coordinates":[0,0]}"#.into(),
+            area_ha: 0.0,
+            centroid: (0.0, 0.0),
+            bbox: (0.0, 0.0, 0.0, 0.0),
+            first: Day::from_days(20_000),
+            last: Day::from_days(20_000),
+            alert_count: 0,
+            highest_confidence: Confidence::Tentative,
+            corroborated: false,
+            per_source: Default::default(),
+        }
+    }
+
+    /// More rows than one PostgreSQL statement takes (two full batches and
+    /// a short one) come back whole, each value in place, ids in the
+    /// caller's order; on SQLite the same through the per-row statement.
+    #[test]
+    fn many_alerts_are_stored_whole_and_in_order() {
+        let dir = tempfile::tempdir().unwrap();
+        let db = super::super::test_db(dir.path());
+        let n = 2 * PG_ROWS_PER_INSERT + 201;
+        let (event_id, new) = db
+            .write(|tx| {
+                let source = tx.add_source("optical-10m", 10.0, 5)?.id;
+                let import = tx.add_import(source, "a.csv", [n, n, 0, 0])?;
+                let event_id = tx.insert_event(&event())?;
+                let new: Vec<NewAlert> = (0..n)
+                    .map(|i| NewAlert {
+                        source_id: source,
+                        lon: 10.0 + i as f64 * 1e-4,
+                        lat: -3.0 - i as f64 * 1e-5,
+                        day: Day::from_days(20_000 + (i % 7) as i32),
+                        confidence: if i % 3 == 0 {
+                            Confidence::Confirmed
+                        } else {
+                            Confidence::Tentative
+                        },
+                        event_id,
+                    })
+                    .collect();
+                tx.insert_alerts(import, &new)?;
+                Ok((event_id, new))
+            })
+            .unwrap();
+        let back = db.read(|r| r.alerts_of_events(&[event_id])).unwrap();
+        assert_eq!(back.len(), n);
+        assert!(back.windows(2).all(|w| w[0].id < w[1].id));
+        for (a, b) in new.iter().zip(&back) {
+            let got = (b.source_id, b.lon, b.lat, b.day, b.confidence, b.event_id);
+            assert_eq!(
+                got,
+                (a.source_id, a.lon, a.lat, a.day, a.confidence, a.event_id)
+            );
+            assert_eq!(b.pixel_m, 10.0);
+        }
     }
 }
