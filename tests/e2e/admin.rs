@@ -5,7 +5,6 @@
 
 use groundproof::platform::auth::{Role, create_user, now_unix};
 use groundproof_e2e::{Reply, TestServer, get_as};
-use std::path::PathBuf;
 
 const PASSWORD: &str = "a long admin password 2026";
 
@@ -727,28 +726,6 @@ fn settings_change_at_once_and_a_bad_value_changes_nothing() {
     assert!(page.body.contains("value=\"250\""), "{}", page.body);
 }
 
-/// `target/<profile>/groundproof`, brought up to date by cargo first (cargo
-/// builds a dependency's binaries only for that package's own tests, and a
-/// stale one would refuse the newer schema).
-fn binary() -> PathBuf {
-    let exe = std::env::current_exe().unwrap();
-    let dir = exe.parent().unwrap().parent().unwrap();
-    let bin = dir.join("groundproof");
-    {
-        let cargo = std::env::var("CARGO").unwrap_or_else(|_| "cargo".into());
-        let mut args = vec!["build", "-p", "groundproof-server", "--bin", "groundproof"];
-        if dir.ends_with("release") {
-            args.push("--release");
-        }
-        let st = std::process::Command::new(cargo)
-            .args(&args)
-            .status()
-            .unwrap();
-        assert!(st.success(), "building the groundproof binary");
-    }
-    bin
-}
-
 #[test]
 fn the_change_log_lists_each_change_with_who_and_when_including_the_command_line() {
     let s = TestServer::start();
@@ -770,7 +747,7 @@ fn the_change_log_lists_each_change_with_who_and_when_including_the_command_line
         "/admin/sources?done=1",
     );
     // The command line on the same data directory, while the server runs.
-    let out = std::process::Command::new(binary())
+    let out = std::process::Command::new(crate::intake::binary())
         .args(["team", "add", "Team Echo", "--data"])
         .arg(s.data_dir())
         .args(s.database_args())
@@ -781,7 +758,7 @@ fn the_change_log_lists_each_change_with_who_and_when_including_the_command_line
         "{}",
         String::from_utf8_lossy(&out.stderr)
     );
-    let out = std::process::Command::new(binary())
+    let out = std::process::Command::new(crate::intake::binary())
         .args(["user", "add", "night-shift", "--role", "manager", "--data"])
         .arg(s.data_dir())
         .args(s.database_args())

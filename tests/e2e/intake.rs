@@ -834,7 +834,13 @@ fn a_far_photo_and_a_photo_from_before_the_detection_are_flagged_not_rejected() 
 /// `target/<profile>/groundproof`, next to the test executable's folder;
 /// built with the `cargo` that runs the tests when it is not there yet
 /// (cargo builds a dependency's binaries only for that package's own tests).
-fn binary() -> PathBuf {
+/// `cargo test --workspace` builds it afresh (the server package has
+/// integration tests); after `cargo test -p groundproof-e2e` alone, run
+/// `cargo build --workspace --tests` first so that it is not stale. It is
+/// not built here each time: `cargo build -p groundproof-server` unifies
+/// features differently from the workspace's test build and recompiled the
+/// TLS dependencies in the middle of the suite.
+pub(crate) fn binary() -> PathBuf {
     let exe = std::env::current_exe().unwrap();
     let dir = exe.parent().unwrap().parent().unwrap();
     let bin = dir.join("groundproof");

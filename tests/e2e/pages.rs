@@ -211,7 +211,11 @@ fn every_page_renders_with_its_key_elements() {
         &["no event 99999999"],
     );
     assert_page(&get(&s.url("/events/abc")), 400, &["is not a number"]);
-    assert_page(&get(&s.url("/events?from=2026-99-01")), 400, &["From:"]);
+    assert_page(
+        &get(&s.url("/events?from=2026-99-01")),
+        400,
+        &["is not a date; write it as YYYY-MM-DD"],
+    );
     let core = get(&s.url("/events?zone=Core&status=unvisited"));
     assert_page(&core, 200, &["<option value=\"Core\" selected>"]);
 
