@@ -20,8 +20,6 @@ use std::path::Path;
 use std::process::Child;
 use std::time::{Duration, Instant};
 
-const BUCKET: &str = "gp-test";
-
 /// A new database on the test PostgreSQL server; `None` (after `missing`,
 /// which fails under CI) when there is none.
 fn database() -> Option<String> {
@@ -39,7 +37,8 @@ fn database() -> Option<String> {
 }
 
 /// The S3 test server under a new prefix: `--evidence`, the environment a
-/// server needs, and the store as this test reads it.
+/// server needs (the store's default grace for orphans: two instances), and
+/// the store as this test reads it.
 struct SharedStore {
     location: String,
     envs: Vec<(&'static str, String)>,
@@ -47,44 +46,11 @@ struct SharedStore {
 }
 
 fn s3() -> Option<SharedStore> {
-    let Ok(endpoint) = std::env::var("GROUNDPROOF_TEST_S3") else {
-        missing(
-            "GROUNDPROOF_TEST_S3 is not set (an S3-compatible test server; .ci/run starts s3s-fs)",
-        );
-        return None;
-    };
-    let endpoint = if endpoint.starts_with("http") {
-        endpoint
-    } else {
-        format!("http://{endpoint}")
-    };
-    let var = |k: &str, d: &str| std::env::var(k).unwrap_or_else(|_| d.to_string());
-    let (key, secret) = (
-        var("GROUNDPROOF_TEST_S3_KEY", "gp-test-key"),
-        var("GROUNDPROOF_TEST_S3_SECRET", "gp-test-secret"),
-    );
-    let prefix = format!("shared-{}", uuid::Uuid::new_v4().simple());
-    let store = Evidence::s3_with(
-        BUCKET,
-        &prefix,
-        &[
-            ("aws_endpoint", &endpoint),
-            ("aws_access_key_id", &key),
-            ("aws_secret_access_key", &secret),
-            ("aws_region", "us-east-1"),
-        ],
-    )
-    .expect("the S3 test server answers");
-    let envs = vec![
-        ("AWS_ENDPOINT_URL", endpoint),
-        ("AWS_ACCESS_KEY_ID", key),
-        ("AWS_SECRET_ACCESS_KEY", secret),
-        ("AWS_REGION", "us-east-1".to_string()),
-    ];
+    let s3 = crate::s3::S3::from_env()?;
     Some(SharedStore {
-        location: format!("s3://{BUCKET}/{prefix}"),
-        envs,
-        store,
+        location: s3.location(),
+        envs: s3.store_envs(),
+        store: s3.store(),
     })
 }
 

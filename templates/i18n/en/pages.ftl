@@ -788,7 +788,7 @@ map-title-event = Event { $code }
 # --- page titles ---
 trip-page-title = Trip { $id }
 
-# --- refusals of forms and filters (r-tidy): why-* is the reason a form or a filter was refused,
+# --- refusals of forms and filters: why-* is the reason a form or a filter was refused,
 # http-* the heading of an error page. The English says what the command line and the API say.
 why-user-exists = user '{ $name }' already exists
 why-no-user = no user with id { $id }
@@ -847,5 +847,5 @@ http-413 = Payload Too Large
 http-422 = Unprocessable Entity
 http-429 = Too Many Requests
 http-500 = Internal Server Error
-# --- shared settings (issue 15, r-shared) ---
+# --- shared settings (issue 15) ---
 adm-settings-intro-shared = These settings are the organisation's, kept in the database and shared by every server of this station. Saving reads the stored values again, changes the values below, checks them all and stores them with a line in the change log; this server uses them at once and the others within seconds. If any value is refused, nothing is changed. { $file } is this server's copy: editing it changes the settings too (its edit is checked and logged the same way), including the ones not shown here (how alerts are joined into events).

@@ -795,7 +795,7 @@ map-title-event = Evento { $code }
 # --- page titles ---
 trip-page-title = Viaje { $id }
 
-# --- refusals of forms and filters (r-tidy): why-* is the reason a form or a filter was refused,
+# --- refusals of forms and filters: why-* is the reason a form or a filter was refused,
 # http-* the heading of an error page.
 why-user-exists = ya existe un usuario '{ $name }'
 why-no-user = no hay ningún usuario con el número { $id }
@@ -858,5 +858,5 @@ http-413 = Demasiado grande
 http-422 = No procesable
 http-429 = Demasiadas solicitudes
 http-500 = Error interno del servidor
-# --- shared settings (issue 15, r-shared) ---
+# --- shared settings (issue 15) ---
 adm-settings-intro-shared = Estos ajustes son de la organización: se guardan en la base de datos y los comparten todos los servidores de esta estación. Al guardar se vuelven a leer los valores guardados, se cambian los valores de abajo, se comprueban todos y se guardan con una línea en el registro de cambios; este servidor los usa en el acto y los demás en pocos segundos. Si se rechaza algún valor, no cambia nada. { $file } es la copia de este servidor: editarla también cambia los ajustes (la edición se comprueba y se registra igual), incluidos los que no aparecen aquí (cómo se juntan las alertas en eventos).

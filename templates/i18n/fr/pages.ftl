@@ -795,7 +795,7 @@ map-title-event = Événement { $code }
 # --- page titles ---
 trip-page-title = Mission { $id }
 
-# --- refusals of forms and filters (r-tidy): why-* is the reason a form or a filter was refused,
+# --- refusals of forms and filters: why-* is the reason a form or a filter was refused,
 # http-* the heading of an error page.
 why-user-exists = un utilisateur '{ $name }' existe déjà
 why-no-user = aucun utilisateur ne porte le numéro { $id }
@@ -858,5 +858,5 @@ http-413 = Trop volumineux
 http-422 = Impossible à traiter
 http-429 = Trop de requêtes
 http-500 = Erreur interne du serveur
-# --- shared settings (issue 15, r-shared) ---
+# --- shared settings (issue 15) ---
 adm-settings-intro-shared = Ces réglages sont ceux de l'organisation : ils sont conservés dans la base de données et partagés par tous les serveurs de cette station. L'enregistrement relit les valeurs conservées, change les valeurs ci-dessous, les vérifie toutes et les conserve avec une ligne dans le journal des modifications ; ce serveur les utilise aussitôt et les autres en quelques secondes. Si une valeur est refusée, rien n'est modifié. { $file } est la copie de ce serveur : la modifier change aussi les réglages (la modification est vérifiée et journalisée de la même façon), y compris ceux absents d'ici (comment les alertes sont regroupées en événements).

@@ -783,7 +783,7 @@ map-title-event = Kejadian { $code }
 # --- page titles ---
 trip-page-title = Perjalanan { $id }
 
-# --- refusals of forms and filters (r-tidy): why-* is the reason a form or a filter was refused,
+# --- refusals of forms and filters: why-* is the reason a form or a filter was refused,
 # http-* the heading of an error page.
 why-user-exists = pengguna '{ $name }' sudah ada
 why-no-user = tidak ada pengguna bernomor { $id }
@@ -846,5 +846,5 @@ http-413 = Terlalu besar
 http-422 = Tidak dapat diproses
 http-429 = Terlalu banyak permintaan
 http-500 = Galat internal server
-# --- shared settings (issue 15, r-shared) ---
+# --- shared settings (issue 15) ---
 adm-settings-intro-shared = Pengaturan ini milik organisasi, disimpan di basis data dan dipakai bersama oleh semua server stasiun ini. Saat disimpan, nilai yang tersimpan dibaca lagi, nilai di bawah diubah, semuanya diperiksa lalu disimpan dengan satu baris di log perubahan; server ini langsung memakainya dan server lain dalam beberapa detik. Jika ada nilai yang ditolak, tidak ada yang diubah. { $file } adalah salinan server ini: mengubahnya juga mengubah pengaturan (perubahannya diperiksa dan dicatat dengan cara yang sama), termasuk yang tidak ada di sini (cara peringatan digabung menjadi kejadian).

@@ -795,7 +795,7 @@ map-title-event = Evento { $code }
 # --- page titles ---
 trip-page-title = Viagem { $id }
 
-# --- refusals of forms and filters (r-tidy): why-* is the reason a form or a filter was refused,
+# --- refusals of forms and filters: why-* is the reason a form or a filter was refused,
 # http-* the heading of an error page.
 why-user-exists = já existe um usuário '{ $name }'
 why-no-user = não há usuário com o número { $id }
@@ -858,5 +858,5 @@ http-413 = Grande demais
 http-422 = Não processável
 http-429 = Pedidos demais
 http-500 = Erro interno do servidor
-# --- shared settings (issue 15, r-shared) ---
+# --- shared settings (issue 15) ---
 adm-settings-intro-shared = Estas configurações são da organização: ficam no banco de dados e valem para todos os servidores desta estação. Ao salvar, os valores guardados são lidos de novo, os valores abaixo são trocados, todos são conferidos e guardados com uma linha no registro de alterações; este servidor passa a usá-los na hora e os outros em poucos segundos. Se algum valor for recusado, nada muda. { $file } é a cópia deste servidor: editá-la também muda as configurações (a edição é conferida e registrada do mesmo jeito), inclusive as que não aparecem aqui (como os alertas são juntados em eventos).

@@ -371,6 +371,9 @@ pub fn ensure_first_admin(db: &Db, password: Option<&str>, now: i64) -> Result<F
     };
     let phc = hash_password(&password).map_err(|e| match e {
         Error::Invalid(m) => Error::Invalid(format!("{ADMIN_PASSWORD_ENV}: {m}")),
+        // The password check's refusal carries a message id for pages; the
+        // operator reading this at start needs the variable's name.
+        Error::Said(_, s) => Error::Invalid(format!("{ADMIN_PASSWORD_ENV}: {}", s.english)),
         other => other,
     })?;
     let created = db.write_bookkeeping(|tx| {

@@ -40,6 +40,16 @@ pub struct DashboardQuery {
     pub source: Option<String>,
 }
 
+/// The period of the dashboard's and the summary's filter forms: the first
+/// and last day of detection, each optional, refused in the reader's words.
+pub(super) fn period(
+    from: &Option<String>,
+    to: &Option<String>,
+) -> Result<(Option<crate::domain::Day>, Option<crate::domain::Day>), PageError> {
+    let day = |id, english, v| opt_day(Field { id, english }, v);
+    Ok((day("dash-from", "From", from)?, day("dash-to", "To", to)?))
+}
+
 /// Issued, visited and confirmed events per month of first detection.
 /// "Visited" is an event a counted report reached (any status but
 /// unvisited and not reached). Clearings found on the ground are not
@@ -784,21 +794,10 @@ async fn dashboard_page(
     viewer: &Viewer,
     q: DashboardQuery,
 ) -> Result<HttpResponse, PageError> {
+    let (from, to) = super::dashboard::period(&q.from, &q.to)?;
     let filter = StatsFilter {
-        from: opt_day(
-            Field {
-                id: "dash-from",
-                english: "From",
-            },
-            &q.from,
-        )?,
-        to: opt_day(
-            Field {
-                id: "dash-to",
-                english: "To",
-            },
-            &q.to,
-        )?,
+        from,
+        to,
         zone: non_empty(&q.zone),
         team: non_empty(&q.team),
         source: non_empty(&q.source),

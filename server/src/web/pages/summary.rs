@@ -4,7 +4,7 @@
 //! (`templates/pages/summary.html` holds the print CSS). The same figures
 //! as the dashboard ([`super::dashboard`]), computed the same way.
 
-use super::common::{Field, Layout, PageError, Viewer, non_empty, opt_day, page, percent, respond};
+use super::common::{Layout, PageError, Viewer, non_empty, page, percent, respond};
 use super::dashboard::{
     Numbers, Trends, km_chart, monthly_chart, numbers, team_rows, translated_layout, trend_charts,
 };
@@ -86,21 +86,10 @@ async fn summary_page(
     state: &AppState,
     q: SummaryQuery,
 ) -> Result<HttpResponse, PageError> {
+    let (from, to) = super::dashboard::period(&q.from, &q.to)?;
     let filter = StatsFilter {
-        from: opt_day(
-            Field {
-                id: "dash-from",
-                english: "From",
-            },
-            &q.from,
-        )?,
-        to: opt_day(
-            Field {
-                id: "dash-to",
-                english: "To",
-            },
-            &q.to,
-        )?,
+        from,
+        to,
         zone: non_empty(&q.zone),
         team: None,
         source: None,
