@@ -7,12 +7,12 @@
 use super::intake::{
     CutProxy, copy_data, facts, open_workspace, pack, record_events, record_events_from,
 };
-use super::s3::{S3, call, read};
+use super::s3::{S3, call, complete, read};
 use groundproof::intake::layout::{chunk_key, incoming_key, photo_key, thumb_key, upload_prefix};
 use groundproof::platform::storage::Db;
 use groundproof_e2e::{TestServer, load_scenario, post_json_as};
 use groundproof_sync::field::push;
-use serde_json::{Value, json};
+use serde_json::json;
 use sha2::{Digest, Sha256};
 use std::path::{Path, PathBuf};
 use std::process::Child;
@@ -184,16 +184,7 @@ fn evidence_on_s3_round_trip_resumable_across_processes_and_orphans() {
     let (st, _, offset) = call("HEAD", &url, &token, &[], b"");
     assert_eq!((st, offset), (204, Some(half.to_string())));
     assert_eq!(patch(&base, half, &zip[half..]), 204);
-    let (st, body, _) = call("POST", &format!("{url}/complete"), &token, &[], b"");
-    let doc: Value = serde_json::from_slice(&body).unwrap();
-    assert_eq!(st, 200, "{doc}");
-    let statuses: Vec<&str> = doc["results"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|x| x["status"].as_str().unwrap())
-        .collect();
-    assert_eq!(statuses, ["accepted", "accepted"]);
+    assert_eq!(complete(&url, &token), ["accepted", "accepted"]);
     assert!(
         store.list(&upload_prefix(&id)).unwrap().is_empty(),
         "chunks go once kept"

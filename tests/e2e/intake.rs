@@ -831,32 +831,32 @@ fn a_far_photo_and_a_photo_from_before_the_detection_are_flagged_not_rejected() 
 
 // ---------- kill -9 during intake ----------
 
-/// `target/<profile>/groundproof`, next to the test executable's folder;
-/// built with the `cargo` that runs the tests when it is not there yet
-/// (cargo builds a dependency's binaries only for that package's own tests).
-/// `cargo test --workspace` builds it afresh (the server package has
-/// integration tests); after `cargo test -p groundproof-e2e` alone, run
-/// `cargo build --workspace --tests` first so that it is not stale. It is
-/// not built here each time: `cargo build -p groundproof-server` unifies
-/// features differently from the workspace's test build and recompiled the
-/// TLS dependencies in the middle of the suite.
+/// `target/<profile>/groundproof`, next to the test executable's folder,
+/// brought up to date once per test process by `cargo build --workspace
+/// --tests` (cargo builds a dependency's binaries only for that package's
+/// own tests, and a stale one would refuse the newer schema). The whole
+/// workspace's test build, not `-p groundproof-server`: that one unifies
+/// features differently and recompiled the TLS dependencies in the middle
+/// of the suite, where after `cargo test --workspace` this is a no-op.
 pub(crate) fn binary() -> PathBuf {
-    let exe = std::env::current_exe().unwrap();
-    let dir = exe.parent().unwrap().parent().unwrap();
-    let bin = dir.join("groundproof");
-    if !bin.exists() {
-        let cargo = std::env::var("CARGO").unwrap_or_else(|_| "cargo".into());
-        let mut args = vec!["build", "-p", "groundproof-server", "--bin", "groundproof"];
-        if dir.ends_with("release") {
-            args.push("--release");
-        }
-        let st = std::process::Command::new(cargo)
-            .args(&args)
-            .status()
-            .unwrap();
-        assert!(st.success(), "building the groundproof binary");
-    }
-    bin
+    static BUILT: std::sync::OnceLock<PathBuf> = std::sync::OnceLock::new();
+    BUILT
+        .get_or_init(|| {
+            let exe = std::env::current_exe().unwrap();
+            let dir = exe.parent().unwrap().parent().unwrap();
+            let cargo = std::env::var("CARGO").unwrap_or_else(|_| "cargo".into());
+            let mut args = vec!["build", "--workspace", "--tests"];
+            if dir.ends_with("release") {
+                args.push("--release");
+            }
+            let st = std::process::Command::new(cargo)
+                .args(&args)
+                .status()
+                .unwrap();
+            assert!(st.success(), "building the groundproof binary");
+            dir.join("groundproof")
+        })
+        .clone()
 }
 
 /// Starts `groundproof serve` on a random loopback port with more

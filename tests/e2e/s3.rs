@@ -139,3 +139,17 @@ pub(crate) fn patch(base: &str, token: &str, id: &str, at: usize, body: &[u8]) -
     )
     .0
 }
+
+/// `POST …/complete` of the upload at `url` (`…/api/v1/uploads/{id}`),
+/// asserted 200; the status of each report in the answer.
+pub(crate) fn complete(url: &str, token: &str) -> Vec<String> {
+    let (st, body, _) = call("POST", &format!("{url}/complete"), token, &[], b"");
+    let doc: serde_json::Value = serde_json::from_slice(&body).unwrap();
+    assert_eq!(st, 200, "{doc}");
+    doc["results"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|x| x["status"].as_str().unwrap().to_string())
+        .collect()
+}

@@ -15,7 +15,7 @@ use super::intake::{
     CutProxy, fast_push, issue_bundle, open_workspace, pack, record_events, record_events_from,
     spawn_server_with,
 };
-use super::s3::{S3, call, patch, read};
+use super::s3::{S3, call, complete, patch, read};
 use groundproof::domain::Day;
 use groundproof::intake::layout::{photo_key, thumb_key};
 use groundproof::platform::auth::{Role, create_user, issue_api_token, now_unix};
@@ -455,16 +455,7 @@ fn upload_begun_on_a_finished_on_b(t: &Twins) {
         "B knows A's offset"
     );
     assert_eq!(patch(&b, &t.token, &id, two, &zip[two..]), 204);
-    let (st, body, _) = call("POST", &format!("{url}/complete"), &t.token, &[], b"");
-    let doc: Value = serde_json::from_slice(&body).unwrap();
-    assert_eq!(st, 200, "{doc}");
-    let statuses: Vec<&str> = doc["results"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|x| x["status"].as_str().unwrap())
-        .collect();
-    assert_eq!(statuses, ["accepted", "accepted"]);
+    assert_eq!(complete(&url, &t.token), ["accepted", "accepted"]);
 
     for r in reports_of(&ws) {
         for base in [&a, &b] {
